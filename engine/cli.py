@@ -1,0 +1,67 @@
+"""Command line: ``wheelwork COMMAND ...``; ``main(argv) -> int`` (0 ok, 1 input error, 2 usage).
+
+Each subcommand lives in its own module under :mod:`engine.commands` and provides ``NAME``,
+``HELP``, ``add_arguments(parser)`` and ``run(args, console) -> int``. Errors meant for the user
+are :class:`engine.errors.WheelworkError`; they are printed as one line, never a traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from rich.console import Console
+
+from engine.errors import WheelworkError
+
+# Order is the order shown in --help.
+COMMANDS = ("crank", "ratios", "drift", "search", "check", "sky")
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message: str):  # usage errors: one line, exit 2
+        self.exit(2, f"{self.prog}: usage error: {message}\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(
+        prog="wheelwork",
+        description="Test a geared astronomical train against the real sky. "
+        "With no command, opens the interface on the bundled demo train.",
+    )
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name in COMMANDS:
+        try:
+            mod = importlib.import_module(f"engine.commands.{name}")
+        except ModuleNotFoundError as exc:  # a command still being written is simply absent
+            if exc.name == f"engine.commands.{name}":
+                continue
+            raise
+        p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP)
+        mod.add_arguments(p)
+        p.set_defaults(_run=mod.run)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else list(argv)
+    parser = build_parser()
+    if not argv:
+        argv = ["crank"]
+    args = parser.parse_args(argv)
+    if not getattr(args, "_run", None):
+        parser.print_help()
+        return 2
+    console = Console(highlight=False, soft_wrap=True)
+    err = Console(stderr=True, highlight=False, soft_wrap=True)
+    try:
+        return int(args._run(args, console) or 0)
+    except WheelworkError as exc:
+        err.print(f"wheelwork: error: {exc}", markup=False)
+        return 1
+    except KeyboardInterrupt:
+        err.print("wheelwork: stopped", markup=False)
+        return 130
+    except BrokenPipeError:
+        return 0

@@ -1,0 +1,27 @@
+"""The errors wheelwork reports to a user: one line, naming the file, the item and the fault."""
+
+from __future__ import annotations
+
+
+class WheelworkError(Exception):
+    """Base of every error meant for the user (the CLI prints it as one line, exit code 1)."""
+
+
+class TrainError(WheelworkError):
+    """A train file that cannot be read, or describes a train that cannot work."""
+
+    def __init__(self, where: str, item: str, problem: str):
+        self.where, self.item, self.problem = where, item, problem
+        super().__init__(f"{where}: {item}: {problem}" if item else f"{where}: {problem}")
+
+
+class DateError(WheelworkError):
+    """A date that cannot be parsed or lies outside what can be computed."""
+
+
+class SkyError(WheelworkError):
+    """A sky computation that cannot be done (date outside the ephemeris, impossible site...)."""
+
+
+class SearchError(WheelworkError):
+    """A tooth-count search with a bad target or impossible constraints."""

@@ -1,0 +1,1 @@
+"""wheelwork's terminal interface: a thin Textual layer over :mod:`engine`."""
