@@ -1,0 +1,247 @@
+"""Dates: parsing, Julian and Gregorian calendars, Julian Day numbers (UT).
+
+Pure Python and numpy; no astronomy library. Every date the engine handles is a Julian Date
+on the UT scale (``jd_ut``); the sky module turns it into TT with its own ΔT.
+
+Calendars: ``"auto"`` uses the proleptic Julian calendar before 1582-10-15 and the Gregorian
+calendar from then on (so 1582-10-04 is followed by 1582-10-15, and the ten days between do
+not exist); ``"julian"`` and ``"gregorian"`` force one calendar for every date.
+
+Years are astronomical (year 0 = 1 BC, year -100 = 101 BC) unless a ``BC``/``AD`` marker says
+otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
+
+* ISO 8601: ``2025-03-20``, ``2025-03-20 09:30``, ``2025-03-20T09:30:15``, seconds may have a
+  fraction; an optional trailing ``Z``, ``UT`` or ``UTC``; a leading sign for astronomical
+  years, ``-0100-03-01`` (= 101 BC); years need not have four digits (``333-01-27``).
+* ISO with an era: ``44-03-15 BC``, ``44-03-15 12:00 BC``, ``1066-10-14 AD`` (also BCE/CE).
+* Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``.
+* A raw Julian Date: ``JD 2451545.0`` (taken as UT).
+
+Source of the Julian Day algorithm: J. Meeus, *Astronomical Algorithms*, 2nd ed. (1998),
+ch. 7, written here in exact integer arithmetic so it also holds for negative years and
+negative Julian Days.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+
+from engine.errors import DateError
+
+CALENDARS = ("auto", "julian", "gregorian")
+GREGORIAN_START_JD = 2299160.5  # 1582-10-15 00:00, first day of the Gregorian calendar
+_GREGORIAN_START = (1582, 10, 15)
+_JULIAN_LAST = (1582, 10, 4)
+
+FORMS_HINT = ("use e.g. 2025-03-20, 2025-03-20 09:30, -0100-03-01, 44-03-15 BC, "
+              "15 March 44 BC or JD 2451545.0")
+
+_MONTHS = {
+    name: i + 1
+    for i, names in enumerate((
+        ("january", "jan"), ("february", "feb"), ("march", "mar"), ("april", "apr"),
+        ("may",), ("june", "jun"), ("july", "jul"), ("august", "aug"),
+        ("september", "sep", "sept"), ("october", "oct"), ("november", "nov"),
+        ("december", "dec"),
+    ))
+    for name in names
+}
+
+_TIME = r"(?:[ T](?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?"
+_ZONE = r"(?:\s*(?:Z|UT|UTC))?"
+_ERA = r"(?:\s+(?P<era>BC|BCE|AD|CE))?"
+_ISO = re.compile(
+    rf"(?P<y>[+-]?\d{{1,6}})-(?P<m>\d{{1,2}})-(?P<d>\d{{1,2}}){_TIME}{_ZONE}{_ERA}{_ZONE}",
+    re.IGNORECASE,
+)
+_NAMED = re.compile(
+    r"(?P<d>\d{1,2})\s+(?P<mname>[A-Za-z]+)\.?\s+(?P<y>\d{1,6})" + _ERA
+    + r"(?:\s+(?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?" + _ZONE,
+    re.IGNORECASE,
+)
+_JD = re.compile(r"JD\s*(?P<jd>[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)", re.IGNORECASE)
+
+
+def _check_calendar(calendar: str) -> str:
+    cal = str(calendar).strip().lower()
+    if cal not in CALENDARS:
+        raise DateError(f"unknown calendar {calendar!r}; use one of: {', '.join(CALENDARS)}")
+    return cal
+
+
+def is_leap_year(year: int, calendar: str) -> bool:
+    """Leap-year rule of the Julian or Gregorian calendar, astronomical year numbers."""
+    if calendar == "julian":
+        return year % 4 == 0
+    return year % 4 == 0 and (year % 100 != 0 or year % 400 == 0)
+
+
+def days_in_month(year: int, month: int, calendar: str) -> int:
+    """Number of days in a month of the given calendar (``"julian"`` or ``"gregorian"``)."""
+    if month == 2:
+        return 29 if is_leap_year(year, calendar) else 28
+    return 30 if month in (4, 6, 9, 11) else 31
+
+
+def calendar_for(year: int, month: int, day: int, calendar: str = "auto") -> str:
+    """Which calendar a civil date belongs to: ``"julian"`` or ``"gregorian"``."""
+    cal = _check_calendar(calendar)
+    if cal != "auto":
+        return cal
+    return "gregorian" if (year, month, day) >= _GREGORIAN_START else "julian"
+
+
+def jd_from_calendar(year, month, day, calendar: str = "auto"):
+    """Julian Day of a calendar date; ``day`` may carry a fraction (``4.81`` = 19:26:24).
+
+    Takes scalars or numpy arrays (broadcast together); returns a float or an array.
+    Meeus, *Astronomical Algorithms*, ch. 7, eq. 7.1, in integer arithmetic (exact floors), so
+    it holds for negative years. No range checks here: use :func:`parse_date` for text.
+    """
+    cal = _check_calendar(calendar)
+    y = np.asarray(year, dtype=np.int64)
+    m = np.asarray(month, dtype=np.int64)
+    d = np.asarray(day, dtype=float)
+    early = m <= 2
+    y = np.where(early, y - 1, y)
+    m = np.where(early, m + 12, m)
+    a = np.floor_divide(y, 100)
+    b_greg = 2 - a + np.floor_divide(a, 4)
+    if cal == "gregorian":
+        b = b_greg
+    elif cal == "julian":
+        b = np.zeros_like(b_greg)
+    else:
+        key = (np.asarray(year, dtype=np.int64) * 10000 + np.asarray(month, dtype=np.int64) * 100
+               + np.floor(d).astype(np.int64))
+        b = np.where(key >= 15821015, b_greg, 0)
+    whole = (np.floor_divide(1461 * (y + 4716), 4) + np.floor_divide(306001 * (m + 1), 10000)
+             + b)
+    jd = whole.astype(float) + d - 1524.5
+    return float(jd) if jd.ndim == 0 else jd
+
+
+def _civil_from_jd(jd: float, calendar: str) -> tuple[int, int, float, str]:
+    """Inverse of :func:`jd_from_calendar` for one date: (year, month, day with fraction, cal)."""
+    cal = calendar
+    if cal == "auto":
+        cal = "gregorian" if jd >= GREGORIAN_START_JD else "julian"
+    # Meeus' inverse needs JD >= 0; shift by whole cycles of the calendar to get there.
+    cycle_days, cycle_years = (146097, 400) if cal == "gregorian" else (1461, 4)
+    shift = 0
+    if jd < 0:
+        shift = int(-jd // cycle_days) + 1
+    jd_s = jd + shift * cycle_days
+    z = math.floor(jd_s + 0.5)
+    f = jd_s + 0.5 - z
+    if cal == "gregorian":
+        alpha = (4 * z - 7468865) // 146097  # floor((Z - 1867216.25) / 36524.25), exact
+        a = z + 1 + alpha - alpha // 4
+    else:
+        a = z
+    b = a + 1524
+    c = (20 * b - 2442) // 7305  # floor((B - 122.1) / 365.25)
+    dd = (1461 * c) // 4
+    e = (10000 * (b - dd)) // 306001
+    day = b - dd - (306001 * e) // 10000 + f
+    month = e - 1 if e < 14 else e - 13
+    year = c - 4716 if month > 2 else c - 4715
+    return year - shift * cycle_years, month, day, cal
+
+
+def calendar_date(jd: float, calendar: str = "auto") -> tuple[int, int, int, int, int, float, str]:
+    """(year, month, day, hour, minute, second, calendar name) of a Julian Date.
+
+    The year is astronomical (0 = 1 BC); the calendar name is ``"Julian"`` or ``"Gregorian"``.
+    Seconds are rounded to the millisecond (so 23:59:59.9996 becomes the next day).
+    """
+    cal = _check_calendar(calendar)
+    jd = float(jd)
+    if not math.isfinite(jd):
+        raise DateError(f"Julian Date {jd!r} is not a finite number")
+    ms = round((jd + 0.5) * 86_400_000)
+    whole_days, ms_of_day = divmod(ms, 86_400_000)
+    year, month, day, cal = _civil_from_jd(whole_days - 0.5, cal)
+    hour, rest = divmod(ms_of_day, 3_600_000)
+    minute, rest = divmod(rest, 60_000)
+    return year, month, int(round(day)), int(hour), int(minute), rest / 1000.0, cal.capitalize()
+
+
+def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> str:
+    """``2025-03-20 09:30 UT (Gregorian)``; years before 1 AD add ``= 101 BC``.
+
+    Rounded to the minute, or to the second with ``seconds=True``.
+    """
+    cal = _check_calendar(calendar)
+    step = 86400.0 if seconds else 1440.0
+    jd_r = (round((float(jd) + 0.5) * step)) / step - 0.5
+    year, month, day, hour, minute, second, name = calendar_date(jd_r, cal)
+    ystr = f"-{-year:04d}" if year < 0 else f"{year:04d}"
+    clock = f"{hour:02d}:{minute:02d}" + (f":{int(round(second)):02d}" if seconds else "")
+    text = f"{ystr}-{month:02d}-{day:02d} {clock} UT ({name})"
+    if year <= 0:
+        text += f" = {1 - year} BC"
+    return text
+
+
+def _fail(text: str, problem: str) -> DateError:
+    return DateError(f"cannot read date {text!r}: {problem}; {FORMS_HINT}")
+
+
+def parse_date(text: str, *, calendar: str = "auto") -> float:
+    """Julian Date (UT) of a date written in one of the forms listed in the module docstring.
+
+    Raises :class:`engine.errors.DateError` (one line: the text, the fault, the forms accepted).
+    """
+    cal = _check_calendar(calendar)
+    if not isinstance(text, str):
+        raise _fail(str(text), "a date must be text")
+    s = " ".join(text.strip().split())
+    if not s:
+        raise _fail(text, "it is empty")
+    m = _JD.fullmatch(s)
+    if m:
+        jd = float(m["jd"])
+        if not math.isfinite(jd):
+            raise _fail(text, "the Julian Date is not a finite number")
+        return jd
+    m = _ISO.fullmatch(s)
+    if m:
+        month = int(m["m"])
+    else:
+        m = _NAMED.fullmatch(s)
+        if not m:
+            raise _fail(text, "not a date form I know")
+        month = _MONTHS.get(m["mname"].lower())
+        if month is None:
+            raise _fail(text, f"unknown month name {m['mname']!r}")
+    year_text = m["y"]
+    year = int(year_text)
+    era = (m["era"] or "").upper()
+    if era:
+        if year_text.startswith(("+", "-")):
+            raise _fail(text, "use either a signed year or BC/AD, not both")
+        if year < 1:
+            raise _fail(text, f"there is no year 0 {era}; 1 BC is followed by AD 1")
+        if era in ("BC", "BCE"):
+            year = 1 - year  # astronomical numbering: 1 BC = year 0
+    day = int(m["d"])
+    hour = int(m["h"]) if m["h"] else 0
+    minute = int(m["mi"]) if m["mi"] else 0
+    second = float(m["s"]) if m["s"] else 0.0
+    if not 1 <= month <= 12:
+        raise _fail(text, f"month {month} is not 1-12")
+    if not (hour <= 23 and minute <= 59 and second < 60):
+        raise _fail(text, f"time {hour:02d}:{minute:02d}:{second:02.0f} is not a time of day")
+    which = calendar_for(year, month, day if day >= 1 else 1, cal)
+    if cal == "auto" and _JULIAN_LAST < (year, month, day) < _GREGORIAN_START:
+        raise _fail(text, "1582-10-05..14 do not exist: the Gregorian calendar began on "
+                    "1582-10-15, the day after 1582-10-04 (or pass calendar='julian')")
+    dim = days_in_month(year, month, which)
+    if not 1 <= day <= dim:
+        raise _fail(text, f"day {day} is not in 1-{dim} for that month ({which.capitalize()})")
+    frac = (hour * 3600 + minute * 60 + second) / 86400.0
+    return jd_from_calendar(year, month, day + frac, which)
