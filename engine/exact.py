@@ -1,0 +1,111 @@
+"""Exact numbers: fractions parsed from text, and crank turns kept as whole + fraction.
+
+A long run multiplies a ratio by millions of turns; done in floats, the angle of a slow arbor
+would lose its last digits. Here whole turns stay integers, and ``rate * whole`` is reduced
+modulo one turn with integer arithmetic, so only the fractional part of a turn is ever a float.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+
+import numpy as np
+
+_FRACTION = re.compile(r"^\s*([+-]?\d+)\s*/\s*(\d+)\s*$")
+_DECIMAL = re.compile(r"^\s*[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*$")
+
+
+def parse_fraction(value: object) -> Fraction:
+    """Read an exact number from a TOML value: an integer, a decimal, or a string "p/q".
+
+    Decimals are taken at their written value (``29.53`` is 2953/100, not the nearest binary
+    float). Raises ``ValueError`` with a short reason; callers add the file and item.
+
+    >>> parse_fraction("6940/235")
+    Fraction(1388, 47)
+    """
+    if isinstance(value, bool):
+        raise ValueError(f"expected a number or a fraction like \"6940/235\", got {value!r}")
+    if isinstance(value, int):
+        return Fraction(value)
+    if isinstance(value, float):
+        if not np.isfinite(value):
+            raise ValueError(f"expected a finite number, got {value!r}")
+        return Fraction(repr(value))
+    if isinstance(value, str):
+        m = _FRACTION.match(value)
+        if m:
+            num, den = int(m.group(1)), int(m.group(2))
+            if den == 0:
+                raise ValueError(f"fraction {value!r} divides by zero")
+            return Fraction(num, den)
+        if _DECIMAL.match(value):
+            return Fraction(value.strip())
+    raise ValueError(f"expected a number or a fraction like \"6940/235\", got {value!r}")
+
+
+@dataclass(frozen=True)
+class Turns:
+    """Crank turns as an exact whole part (int64) and a fraction in [0, 1), both arrays.
+
+    Shapes broadcast like numpy; a scalar input gives 0-d arrays.
+    """
+
+    whole: np.ndarray
+    frac: np.ndarray
+
+    @staticmethod
+    def of(value: Turns | float | int | np.ndarray | Fraction) -> Turns:
+        """Turns from a float/int/array (split exactly) or a ``Fraction`` (scalar)."""
+        if isinstance(value, Turns):
+            return value
+        if isinstance(value, Fraction):
+            whole = value.numerator // value.denominator
+            return Turns(np.asarray(whole, dtype=np.int64),
+                         np.asarray(float(value - whole)))
+        arr = np.asarray(value)
+        if arr.dtype.kind in "iu":
+            return Turns(arr.astype(np.int64), np.zeros(arr.shape))
+        arr = arr.astype(float)
+        whole = np.floor(arr)
+        return Turns(whole.astype(np.int64), arr - whole)
+
+    @staticmethod
+    def from_days(days: float | np.ndarray, days_per_turn: Fraction) -> Turns:
+        """Crank turns that cover ``days`` (float array) at an exact ``days_per_turn``."""
+        return Turns.of(np.asarray(days, dtype=float) / float(days_per_turn))
+
+    def to_float(self) -> np.ndarray:
+        return self.whole.astype(float) + self.frac
+
+    def __add__(self, other: Turns | int) -> Turns:
+        other = Turns.of(other)
+        frac = self.frac + other.frac
+        carry = np.floor(frac)
+        return Turns(self.whole + other.whole + carry.astype(np.int64), frac - carry)
+
+    def __neg__(self) -> Turns:
+        carry = (self.frac > 0).astype(np.int64)
+        return Turns(-self.whole - carry, np.where(self.frac > 0, 1.0 - self.frac, 0.0))
+
+    def __sub__(self, other: Turns | int) -> Turns:
+        return self + (-Turns.of(other))
+
+
+def turns_mod1(rate: Fraction, turns: Turns) -> np.ndarray:
+    """``rate * turns`` modulo one, in [0, 1), exact in the whole turns.
+
+    ``(p * whole mod q) / q`` is computed in integers (Python ints when the numbers are too
+    big for int64), then the fractional crank turn adds ``rate * frac`` as a float.
+    """
+    p, q = rate.numerator, rate.denominator
+    whole = turns.whole
+    if q < 3_000_000_000:
+        w = np.mod(whole, q)
+        part = np.mod((p % q) * w, q) / q if p % q else np.zeros(w.shape)
+    else:  # denominators this large would overflow int64 products
+        w = np.vectorize(lambda n: (p * int(n)) % q, otypes=[object])(whole)
+        part = np.asarray(w, dtype=float) / q
+    return np.mod(part + float(rate) * turns.frac, 1.0)

@@ -1,0 +1,161 @@
+"""Pointers: what each one reads at any crank turn, once set at the epoch.
+
+A pointer reads ``offset + sense * per_turn * (angle(arbor) - angle(relative_to))`` turns,
+times 360°. ``sense`` is -1 when the dial is engraved against the arbor's turning
+(``reversed = true``). The offset is chosen so that at the epoch each pointer shows the value
+it was set to: the true sky, the mean longitudes, or explicit angles (``[epoch] set``).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from fractions import Fraction
+
+import numpy as np
+
+from engine.exact import Turns
+from engine.kinematics import Kinematics, LinearAngle
+from engine.periods import (
+    J2000_JD,
+    JULIAN_CENTURY_DAYS,
+    PERIODS,
+    POINTER_PERIOD,
+    PRECESSION_DEG_PER_CY,
+    mean_elements,
+)
+from engine.train import Pointer, Train
+
+
+@dataclass(frozen=True)
+class PointerMotion:
+    """A pointer's exact motion: its angle (turns) as a linear function of the inputs."""
+
+    pointer: Pointer
+    lin: LinearAngle  # already scaled by per_turn and the dial's sense
+    offset_turns: float
+
+    @property
+    def cycles_per_turn(self) -> Fraction:
+        """Mean cycles of what it shows per crank turn (signed: negative runs backwards)."""
+        return self.lin.crank
+
+
+def pointer_linear(kin: Kinematics, p: Pointer) -> LinearAngle:
+    lin = kin.linear_of(p.arbor)
+    if p.relative_to:
+        lin = lin - kin.linear_of(p.relative_to)
+    return lin.scaled(p.per_turn * (-1 if p.reversed else 1))
+
+
+def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
+    """Pointers whose arbor turns against the sense of what they show, with the fix."""
+    out = []
+    for p in train.pointers.values():
+        rate = pointer_linear(kin, p).crank
+        want = PERIODS[POINTER_PERIOD[p.shows][train.dial]].sense
+        if rate == 0:
+            out.append(f"{train.source}: [pointers.{p.name}]: arbor '{p.arbor}' does not turn "
+                       f"relative to {p.relative_to or 'the frame'}, so the pointer stands still")
+        elif (rate > 0) != (want > 0):
+            what = "regresses" if want < 0 else "advances"
+            out.append(f"{train.source}: [pointers.{p.name}]: turns backwards — the {p.shows} "
+                       f"{what}, but this pointer runs the other way; set reversed = "
+                       f"{'false' if p.reversed else 'true'} (engrave the dial the other way) "
+                       "or add an idler to reverse its arbor")
+    return out
+
+
+def epoch_values(train: Train, sky=None, frame: str | None = None) -> dict[str, float]:
+    """What each pointer showed at the epoch, in degrees, by the train's ``[epoch] set``.
+
+    ``sky`` (an :class:`engine.sky.Sky`) is needed for ``set = "sky"`` and gives ΔT for
+    ``set = "mean"``; without it, mean elements are taken at UT (ΔT ignored).
+    """
+    frame = frame or train.dial
+    mode = train.epoch.set
+    jd = train.epoch.jd_ut
+    if mode == "angles":
+        return {n: float(p.set_deg) for n, p in train.pointers.items()}
+    if mode == "sky":
+        if sky is None:
+            raise ValueError("set = \"sky\" needs a Sky to read the true sky at the epoch")
+        state = sky.at(np.array([jd]), frame=frame)
+        return {n: float(state.kind(p.shows)[0]) for n, p in train.pointers.items()}
+    jd_tt = jd
+    if sky is not None:
+        jd_tt = jd + float(sky.at(np.array([jd]), frame=frame).delta_t_s[0]) / 86400.0
+    mean = mean_elements(jd_tt)
+    shift = 0.0
+    if frame == "stars":  # mean elements are of date; a star dial reads from the J2000 equinox
+        shift = (jd_tt - J2000_JD) / JULIAN_CENTURY_DAYS * PRECESSION_DEG_PER_CY
+    out = {}
+    for n, p in train.pointers.items():
+        v = float(mean[p.shows])
+        if p.shows in ("sun", "moon", "node", "apsis"):
+            v = (v - shift) % 360.0
+        out[n] = v
+    return out
+
+
+class Readout:
+    """A set train: pointer readings at crank turns or dates. Immutable; re-setting gives a
+    new one (so an interface can undo)."""
+
+    def __init__(self, kin: Kinematics, values_at_epoch: dict[str, float],
+                 motions: dict[str, PointerMotion] | None = None):
+        self.kin = kin
+        self.train = kin.train
+        if motions is None:
+            motions = {}
+            zero = Turns.of(0)
+            for name, p in self.train.pointers.items():
+                lin = pointer_linear(kin, p)
+                start = float(kin.evaluate(lin, zero))
+                motions[name] = PointerMotion(p, lin, values_at_epoch[name] / 360.0 - start)
+        self.motions = motions
+
+    # time <-> turns -------------------------------------------------------------------
+    def turns_at(self, jd_ut: float | np.ndarray) -> Turns:
+        """Crank turns since the epoch that bring the train to these UT Julian dates."""
+        days = np.asarray(jd_ut, dtype=float) - self.train.epoch.jd_ut
+        return Turns.from_days(days, self.train.crank.days_per_turn)
+
+    def jd_at(self, turns: Turns | float | np.ndarray) -> np.ndarray:
+        """UT Julian date that the train shows after these crank turns since the epoch."""
+        t = Turns.of(turns)
+        dpt = self.train.crank.days_per_turn
+        return (self.train.epoch.jd_ut + t.whole.astype(float) * float(dpt)
+                + t.frac * float(dpt))
+
+    # readings -------------------------------------------------------------------------
+    def read_deg(self, turns: Turns | float | np.ndarray) -> dict[str, np.ndarray]:
+        """Every pointer's reading in degrees [0, 360) at crank turns since the epoch."""
+        turns = Turns.of(turns)
+        lags = self.kin.slot_lags_turns(turns) if self.kin.slot_names else {}
+        out = {}
+        for name, m in self.motions.items():
+            v = self.kin.evaluate(m.lin, turns, lags) + m.offset_turns
+            out[name] = np.mod(v, 1.0) * 360.0
+        return out
+
+    def period_days(self, name: str) -> float:
+        """Mean days per cycle of what the pointer shows (inf if it stands still)."""
+        rate = self.motions[name].cycles_per_turn
+        return float(self.train.crank.days_per_turn / abs(rate)) if rate else float("inf")
+
+    def deg_per_day(self, name: str) -> float:
+        return float(self.motions[name].cycles_per_turn / self.train.crank.days_per_turn) * 360
+
+    # re-setting -----------------------------------------------------------------------
+    def reset_to(self, turns: Turns | float, values_deg: dict[str, float]) -> Readout:
+        """A copy with pointers turned (as by hand) to show ``values_deg`` at ``turns``."""
+        now = self.read_deg(turns)
+        motions = dict(self.motions)
+        for name, value in values_deg.items():
+            m = motions[name]
+            delta = (value - float(np.asarray(now[name]).reshape(-1)[0])) / 360.0
+            motions[name] = replace(m, offset_turns=m.offset_turns + delta)
+        return Readout(self.kin, {}, motions)
+
+    def offsets_deg(self) -> dict[str, float]:
+        return {n: (m.offset_turns * 360.0) % 360.0 for n, m in self.motions.items()}
