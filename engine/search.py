@@ -602,12 +602,12 @@ def split_ratio(ratio: Fraction, target: Target, constraints: Constraints
     """
     drv, dvn = constraints.sides(target)
     p, q = ratio.numerator, ratio.denominator
-    for value, vals, role in ((p, drv, "drivers"), (q, dvn, "driven wheels")):
+    for value, vals, role in ((p, drv, "driver"), (q, dvn, "driven")):
         for prime in sympy.factorint(value):
             if constraints.max_prime is not None and prime > constraints.max_prime:
-                return None, f"prime {prime} exceeds the prime limit {constraints.max_prime}"
+                return None, f"prime {prime} is above the limit {constraints.max_prime}"
             if not any(c % prime == 0 for c in vals):
-                return None, f"prime {prime} divides none of the allowed {role}"
+                return None, f"no allowed {role} count has the prime {prime}"
     best: tuple[int, int, tuple] | None = None
     largest = 0
     for k in constraints.stages:

@@ -1,0 +1,175 @@
+"""``wheelwork search``: which tooth counts give a period, with wheels you can cut."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+from pathlib import Path
+
+from rich import box
+from rich.console import Console
+from rich.table import Table
+
+from engine.errors import SearchError
+from engine.search import (
+    Convergent,
+    SearchReport,
+    TrainResult,
+    emit_fragment,
+    make_constraints,
+    make_target,
+    result_to_dict,
+    search,
+)
+
+NAME = "search"
+HELP = "Find tooth counts whose ratio realises a period or ratio (exhaustive within bounds)."
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    want = parser.add_argument_group("target (exactly one)")
+    one = want.add_mutually_exclusive_group(required=True)
+    one.add_argument("--period", metavar="DAYS",
+                     help="days per output turn: a decimal or a fraction, e.g. 6940/235")
+    one.add_argument("--ratio", metavar="P/Q", help="output turns per crank turn, e.g. 19/235")
+    one.add_argument("--cycle", metavar="NAME",
+                     help="a mean period by name, e.g. 'synodic month', 'tropical year'")
+    parser.add_argument("--crank-days", default="1", metavar="DAYS",
+                        help="days per crank turn (default 1)")
+    bounds = parser.add_argument_group("bounds")
+    bounds.add_argument("--stages", default="1-3", metavar="N|MIN-MAX",
+                        help="number of stages, 1-4 (default 1-3)")
+    bounds.add_argument("--wheels", default="8-150", metavar="MIN-MAX",
+                        help="teeth of the wheels, the larger member of a stage (default 8-150)")
+    bounds.add_argument("--pinions", default="8-150", metavar="MIN-MAX",
+                        help="teeth of the pinions, the smaller, faster member (default 8-150)")
+    bounds.add_argument("--allowed", metavar="LIST",
+                        help="only these counts, e.g. 12,15,20-30 (your cutters or plate)")
+    bounds.add_argument("--max-prime", type=int, metavar="P",
+                        help="no count may have a prime factor above P")
+    bounds.add_argument("--no-repeat", action="store_true",
+                        help="no tooth count appears twice in a train")
+    sense = bounds.add_mutually_exclusive_group()
+    sense.add_argument("--keep-direction", action="store_true",
+                       help="output turns with the crank (even number of stages)")
+    sense.add_argument("--reverse-direction", action="store_true",
+                       help="output turns against the crank (odd number of stages)")
+    bounds.add_argument("--exact-only", action="store_true", help="only exact trains")
+    out = parser.add_argument_group("output")
+    out.add_argument("--top", type=int, default=10, metavar="N",
+                     help="how many trains to list (default 10)")
+    out.add_argument("--json", action="store_true", help="print machine-readable JSON only")
+    out.add_argument("--emit", metavar="FILE", help="write the chosen train as a TOML fragment")
+    out.add_argument("--pick", type=int, default=1, metavar="K",
+                     help="which result --emit writes (default 1, the best)")
+    out.add_argument("--prefix", default="search", metavar="NAME",
+                     help="prefix of arbor and wheel names in the fragment (default 'search')")
+    out.add_argument("--force", action="store_true", help="overwrite the --emit file")
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    target = make_target(period=args.period, ratio=args.ratio, cycle=args.cycle,
+                         crank_days=args.crank_days)
+    direction = "same" if args.keep_direction else "reverse" if args.reverse_direction else "any"
+    cons = make_constraints(stages=args.stages, wheels=args.wheels, pinions=args.pinions,
+                            allowed=args.allowed, max_prime=args.max_prime,
+                            no_repeat=args.no_repeat, direction=direction,
+                            exact_only=args.exact_only)
+    if args.emit and Path(args.emit).exists() and not args.force:
+        raise SearchError(f"{args.emit}: file exists; use --force to overwrite it")
+    report = search(target, cons, top=args.top)
+    written = _emit(report, args) if args.emit else None
+    if args.json:
+        console.print(json.dumps(_to_json(report, written), indent=2), markup=False,
+                      highlight=False)
+        return 0
+    _print(report, console)
+    if written:
+        console.print(f"wrote train {args.pick} as a fragment to {written}")
+    return 0
+
+
+def _emit(report: SearchReport, args: argparse.Namespace) -> Path:
+    if not report.results:
+        raise SearchError("--emit: no train within these bounds to write")
+    if not 1 <= args.pick <= len(report.results):
+        raise SearchError(f"--pick: {args.pick} is not between 1 and {len(report.results)}")
+    path = Path(args.emit)
+    if path.exists() and not args.force:
+        raise SearchError(f"{path}: file exists; use --force to overwrite it")
+    text = emit_fragment(report.results[args.pick - 1], report.target, prefix=args.prefix)
+    try:
+        path.write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise SearchError(f"{path}: cannot write ({exc.strerror})") from None
+    return path
+
+
+def _frac(x) -> str:
+    return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
+
+
+def _to_json(report: SearchReport, written: Path | None) -> dict:
+    t, c = report.target, report.constraints
+    return {
+        "target": {"label": t.label, "ratio": _frac(t.ratio), "ratio_float": float(t.ratio),
+                   "period_days": t.period_days, "crank_days": _frac(t.crank_days)},
+        "constraints": {"stages": list(c.stages), "wheels": list(c.wheels),
+                        "pinions": list(c.pinions),
+                        "allowed": list(c.allowed) if c.allowed else None,
+                        "max_prime": c.max_prime, "no_repeat": c.no_repeat,
+                        "direction": c.direction, "exact_only": c.exact_only},
+        "results": [result_to_dict(r) for r in report.results],
+        "convergents": [_conv_dict(v) for v in report.convergents],
+        "fragment_file": str(written) if written else None,
+    }
+
+
+def _conv_dict(v: Convergent) -> dict:
+    return {"ratio": _frac(v.ratio), "period_days": _frac(v.period_days),
+            "error_ppm": v.error_ppm, "admitted": v.admitted,
+            "train": result_to_dict(v.train) if v.train else None, "reason": v.reason or None}
+
+
+def _stages_text(r: TrainResult, sep: str = "  ") -> str:
+    return sep.join(f"{s.driver}→{s.driven}" for s in r.stages)
+
+
+def _years(y: float) -> str:
+    if math.isinf(y):
+        return "never (exact)"
+    return f"{y:.3g}"
+
+
+def _print(report: SearchReport, console: Console) -> None:
+    t = report.target
+    console.print(f"[bold]target[/]: {t.label} — {float(t.ratio):.12g} turns per crank turn, "
+                  f"{t.period_days:.10g} days per turn (crank {_frac(t.crank_days)} days/turn)")
+    if not report.results:
+        console.print("no train within these bounds")
+    else:
+        table = Table(title="trains, best first", box=box.SIMPLE_HEAD, collapse_padding=True,
+                      pad_edge=False,
+                      caption="stages: driver→driven; ppm: error of the ratio; °/cy: drift of "
+                      "the output pointer per century; 1 day off: years until it is a day out")
+        for col, just in (("#", "right"), ("stages", "left"), ("ratio", "right"),
+                          ("days/turn", "right"), ("ppm", "right"), ("°/cy", "right"),
+                          ("1 day off", "right"), ("teeth", "right")):
+            table.add_column(col, justify=just, no_wrap=True)
+        for i, r in enumerate(report.results, start=1):
+            table.add_row(str(i), _stages_text(r, "\n"), _frac(r.ratio), f"{r.period_days:.9g}",
+                          f"{r.error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
+                          _years(r.one_day_off_years), str(r.total_teeth))
+        console.print(table)
+    if report.convergents:
+        table = Table(title="continued-fraction convergents of the target", box=box.SIMPLE_HEAD,
+                      collapse_padding=True, pad_edge=False)
+        for col, just in (("ratio", "right"), ("days/turn", "right"), ("ppm", "right"),
+                          ("admitted", "left"), ("train or reason", "left")):
+            table.add_column(col, justify=just, no_wrap=col != "train or reason")
+        for v in report.convergents:
+            table.add_row(_frac(v.ratio), _frac(v.period_days), f"{v.error_ppm:+.4g}",
+                          "yes" if v.admitted else "no",
+                          _stages_text(v.train) if v.train else v.reason)
+        console.print(table)
