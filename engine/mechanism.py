@@ -1,0 +1,44 @@
+"""A mechanism: a train file loaded, solved and set at its epoch — ready to turn and read."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from engine.kinematics import Kinematics, solve
+from engine.loader import load_train
+from engine.readout import Readout, backward_warnings, epoch_values
+from engine.train import Train
+
+TRAINS_DIR = Path(__file__).resolve().parent.parent / "trains"
+DEFAULT_TRAIN = TRAINS_DIR / "tide_office.toml"
+
+
+@dataclass(frozen=True)
+class Mechanism:
+    """A set train: ``train`` (as read), ``kin`` (solved), ``readout`` (pointers set at the
+    epoch) and ``warnings`` (one line each, already naming file and item)."""
+
+    train: Train
+    kin: Kinematics
+    readout: Readout
+    warnings: tuple[str, ...]
+
+
+def build(train: Train, sky=None) -> Mechanism:
+    """Solve ``train`` and set its pointers as its ``[epoch] set`` says.
+
+    ``sky`` is an :class:`engine.sky.Sky`; one is made (DE421) when the epoch needs the sky.
+    """
+    kin = solve(train)
+    if sky is None and train.epoch.set != "angles":
+        from engine.sky import Sky  # only the sky module touches skyfield
+
+        sky = Sky()
+    values = epoch_values(train, sky)
+    return Mechanism(train, kin, Readout(kin, values), tuple(backward_warnings(train, kin)))
+
+
+def open_train(path: str | Path | None = None, sky=None) -> Mechanism:
+    """Load, solve and set a train file (the bundled tide office dial when ``path`` is None)."""
+    return build(load_train(path or DEFAULT_TRAIN), sky)
