@@ -1,0 +1,358 @@
+"""Tests of the tooth-count search (engine/search.py) and the ``search`` command."""
+
+from __future__ import annotations
+
+import itertools
+import json
+import math
+import tomllib
+from fractions import Fraction
+
+import pytest
+import sympy
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from engine.cli import main
+from engine.errors import SearchError
+from engine.search import (
+    convergents,
+    emit_fragment,
+    make_constraints,
+    make_target,
+    parse_counts,
+    parse_fraction,
+    search,
+    split_ratio,
+)
+
+YEAR_DAYS = 365.25
+SYNODIC_DAYS = 29.530588853  # mean synodic month in days, from memory (every almanac rounds to this)
+
+
+def brute_force(target, counts_drv, counts_dvn, stages, no_repeat=False, top=5):
+    """Nested loops over every ordered choice of counts: (|error|, teeth) of the best ratios."""
+    best: dict[Fraction, int] = {}
+    for k in stages:
+        for drivers in itertools.product(counts_drv, repeat=k):
+            num = math.prod(drivers)
+            for driven in itertools.product(counts_dvn, repeat=k):
+                if no_repeat and len(set(drivers + driven)) < 2 * k:
+                    continue
+                r = Fraction(num, math.prod(driven))
+                teeth = sum(drivers) + sum(driven)
+                if teeth < best.get(r, 10**9):
+                    best[r] = teeth
+    ranked = sorted((abs(r / target - 1), teeth) for r, teeth in best.items())
+    return ranked[:top]
+
+
+def ranked(report, target_ratio):
+    return [(abs(r.ratio / target_ratio - 1), r.total_teeth) for r in report.results]
+
+
+def all_counts(result):
+    return [c for s in result.stages for c in (s.driver, s.driven)]
+
+
+# --- exhaustiveness against brute force ------------------------------------------------------
+
+
+@pytest.mark.parametrize(("k", "lo", "hi"), [(1, 8, 60), (2, 8, 22), (3, 8, 13)])
+@pytest.mark.parametrize("period", ["29.530588853", "27.321661", "365.2422", "6940/235"])
+def test_search_matches_brute_force(k, lo, hi, period):
+    target = make_target(period=period)
+    cons = make_constraints(stages=k, wheels=(lo, hi), pinions=(lo, hi))
+    counts = range(lo, hi + 1)
+    want = brute_force(target.ratio, counts, counts, [k])
+    got = ranked(search(target, cons, top=5, with_convergents=False), target.ratio)
+    assert got == want
+
+
+@settings(max_examples=25, deadline=None)
+@given(
+    num=st.integers(1, 400), den=st.integers(1, 400),
+    k=st.integers(1, 3), lo=st.integers(2, 20), width=st.integers(0, 6),
+    no_repeat=st.booleans(),
+)
+def test_search_matches_brute_force_random(num, den, k, lo, width, no_repeat):
+    target = make_target(ratio=f"{num}/{den}")
+    hi = lo + width + (10 if k == 1 else 0)
+    cons = make_constraints(stages=k, wheels=(lo, hi), pinions=(lo, hi), no_repeat=no_repeat)
+    counts = range(lo, hi + 1)
+    want = brute_force(target.ratio, counts, counts, [k], no_repeat=no_repeat)
+    got = ranked(search(target, cons, top=5, with_convergents=False), target.ratio)
+    assert got == want
+
+
+def test_stage_range_merges_counts_and_matches_brute_force():
+    target = make_target(cycle="synodic month")
+    cons = make_constraints(stages="1-2", wheels=(8, 30), pinions=(8, 30))
+    want = brute_force(target.ratio, range(8, 31), range(8, 31), [1, 2], top=8)
+    assert ranked(search(target, cons, top=8, with_convergents=False), target.ratio) == want
+
+
+def test_each_ratio_reported_once():
+    report = search(make_target(ratio="1/4"), make_constraints(stages=2, wheels=(8, 40),
+                                                               pinions=(8, 40)), top=10)
+    ratios = [r.ratio for r in report.results]
+    assert len(set(ratios)) == len(ratios)
+    assert report.results[0].ratio == Fraction(1, 4)
+    assert report.results[0].total_teeth == 8 + 8 + 16 + 16  # fewest teeth of all 1/4 trains
+
+
+# --- exact trains -----------------------------------------------------------------------------
+
+
+def test_exact_235_over_19_first():
+    # 19 years = 235 synodic months (common practice, no source); 235 = 5 x 47
+    for target in (make_target(ratio="19/235"), make_target(period="235/19"),
+                   make_target(ratio="235/19")):
+        best = search(target, make_constraints(stages="1-3"), top=3).results[0]
+        assert best.exact and best.ratio == target.ratio
+        assert best.error_ppm == 0.0 and math.isinf(best.one_day_off_years)
+
+
+def test_exact_254_over_19_needs_127():
+    # 19 years = 254 sidereal months (common practice, no source); 254 = 2 x 127
+    target = make_target(ratio="19/254")
+    best = search(target, make_constraints(stages="1-2", wheels=(8, 130)), top=3).results[0]
+    assert best.exact and 127 in all_counts(best)
+    without = make_constraints(stages="1-2", wheels=(8, 120))
+    assert not search(target, without, top=3, with_convergents=False).results[0].exact
+    train, reason = split_ratio(Fraction(19, 254), target, without)
+    assert train is None and "127" in reason
+
+
+def test_step_up_train_lets_wheels_drive():
+    target = make_target(ratio="7")
+    best = search(target, make_constraints(stages=1, wheels=(60, 100), pinions=(8, 12)),
+                  top=1).results[0]
+    assert best.exact and best.stages[0].driver >= 60 and best.stages[0].driven <= 12
+
+
+def test_exact_only():
+    report = search(make_target(ratio="19/235"),
+                    make_constraints(stages="1-3", exact_only=True), top=5)
+    assert report.results and all(r.exact for r in report.results)
+    report = search(make_target(cycle="synodic month"),
+                    make_constraints(stages=2, exact_only=True), top=5)
+    assert report.results == ()
+
+
+# --- constraints ------------------------------------------------------------------------------
+
+
+def test_allowed_list_limits_every_count():
+    allowed = parse_counts("10, 12,15,20-24, 30,40,48,60")
+    report = search(make_target(cycle="tropical year"),
+                    make_constraints(stages="1-3", allowed=allowed), top=10)
+    assert report.results
+    for r in report.results:
+        assert set(all_counts(r)) <= set(allowed)
+
+
+def test_max_prime_limits_every_factor():
+    target = make_target(cycle="synodic month")
+    free = search(target, make_constraints(stages=2), top=5, with_convergents=False)
+    assert any(max(sympy.factorint(c)) > 7 for r in free.results for c in all_counts(r))
+    smooth = search(target, make_constraints(stages=2, max_prime=7), top=5)
+    for r in smooth.results:
+        for c in all_counts(r):
+            assert max(sympy.factorint(c)) <= 7
+    assert abs(smooth.results[0].error_ppm) > abs(free.results[0].error_ppm)
+
+
+def test_no_repeat_changes_best():
+    # the only exact 2-stage 1/4 train with counts 10-20 is 10/20 twice
+    target = make_target(ratio="1/4")
+    cons = {"stages": 2, "wheels": (10, 20), "pinions": (10, 20)}
+    rep = search(target, make_constraints(**cons), top=3).results[0]
+    assert rep.exact and all_counts(rep).count(10) == 2
+    norep = search(target, make_constraints(**cons, no_repeat=True), top=3).results[0]
+    assert not norep.exact
+    assert len(set(all_counts(norep))) == 4
+
+
+def test_no_repeat_can_leave_nothing():
+    cons = make_constraints(stages=2, allowed="10,12", no_repeat=True)
+    assert search(make_target(ratio="1/2"), cons).results == ()
+
+
+def test_keep_direction_even_stages():
+    target = make_target(cycle="synodic month")
+    report = search(target, make_constraints(stages="1-3", direction="same"), top=5)
+    assert {len(r.stages) for r in report.results} == {2}
+    assert not any(r.reverses for r in report.results)
+    report = search(target, make_constraints(stages="1-3", direction="reverse"), top=5)
+    assert {len(r.stages) for r in report.results} <= {1, 3}
+    with pytest.raises(SearchError, match="idler"):
+        make_constraints(stages=1, direction="same")
+
+
+# --- lunar-phase disc and convergents ---------------------------------------------------------
+
+
+def test_moon_disc_59_teeth():
+    # A 59-tooth moon disc advanced as 2/59 turn of phase a day is one day off after about
+    # 2.6 years (common practice, no source).
+    target = make_target(cycle="synodic month")
+    assert target.is_lunar_phase
+    best = search(target, make_constraints(stages=1, wheels=(59, 59), pinions=(1, 4)),
+                  top=1).results[0]
+    assert best.ratio == Fraction(2, 59)
+    expected_years = 1 / (SYNODIC_DAYS / 29.5 - 1) / YEAR_DAYS
+    assert best.one_day_off_years == pytest.approx(expected_years, rel=1e-4)
+    assert best.one_day_off_years == pytest.approx(2.6, abs=0.05)
+    assert best.error_ppm == pytest.approx((SYNODIC_DAYS / 29.5 - 1) * 1e6, rel=1e-4)
+    # drift: error x 360 deg x turns per century
+    turns_per_century = 36525 / SYNODIC_DAYS
+    assert best.drift_deg_per_century == pytest.approx(
+        (SYNODIC_DAYS / 29.5 - 1) * 360 * turns_per_century, rel=1e-4)
+
+
+def test_convergents_of_synodic_month():
+    # 29, 30, 59/2, 443/15, 502/17 ... are convergents of the month in days (from memory)
+    target = make_target(cycle="synodic month")
+    convs = convergents(target, make_constraints(stages="1-3"))
+    periods = [c.period_days for c in convs]
+    assert periods[:6] == [29, 30, Fraction(59, 2), Fraction(443, 15), Fraction(502, 17),
+                           Fraction(1447, 49)]
+    by_period = {c.period_days: c for c in convs}
+    assert by_period[Fraction(59, 2)].admitted
+    assert by_period[Fraction(59, 2)].train.ratio == Fraction(2, 59)
+    assert not by_period[Fraction(443, 15)].admitted  # 443 is prime, above 150
+    assert "443" in by_period[Fraction(443, 15)].reason
+    errs = [abs(c.error_ppm) for c in convs]
+    assert errs[2] > errs[3] > errs[4]  # convergents close in on the target
+
+
+def test_convergents_of_a_decimal_period_match_sympy():
+    target = make_target(period="29.530588853")
+    got = [c.period_days for c in convergents(target, make_constraints(stages=2))]
+    x = sympy.Rational(29530588853, 10**9)
+    want = list(sympy.continued_fraction_convergents(sympy.continued_fraction_iterator(x)))
+    assert got == [Fraction(int(w.p), int(w.q)) for w in want[:len(got)]]
+
+
+# --- fragment ---------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("ratio", ["19/235", "235/19"])
+def test_fragment_is_valid_toml(ratio):
+    target = make_target(ratio=ratio)
+    best = search(target, make_constraints(stages=3), top=1).results[0]
+    text = emit_fragment(best, target, prefix="lunar")
+    doc = tomllib.loads(text)
+    arbors, meshes = doc["arbors"], doc["meshes"]
+    assert list(arbors) == ["lunar_crank", "lunar_a1", "lunar_a2", "lunar_out"]
+    assert len(meshes) == 3
+    teeth = {w: t for a in arbors.values() for w, t in a["wheels"].items()}
+    r = Fraction(1)
+    for m in meshes:
+        drv, dvn = m["wheels"]
+        r *= Fraction(teeth[drv], teeth[dvn])
+    assert r == Fraction(ratio)
+    assert text.startswith("#") and ratio in text
+
+
+def test_fragment_rejects_bad_prefix():
+    best = search(make_target(ratio="1/2"), make_constraints(stages=1), top=1).results[0]
+    with pytest.raises(SearchError, match="prefix"):
+        emit_fragment(best, prefix="a b")
+
+
+# --- errors -----------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(("kwargs", "message"), [
+    ({"period": "0"}, "must be positive"),
+    ({"period": "-29.5"}, "must be positive"),
+    ({"period": 0.0}, "must be positive"),
+    ({"period": "abc"}, "cannot read 'abc'"),
+    ({"period": "1/0"}, "divides by zero"),
+    ({"period": "__import__('os')"}, "cannot read"),
+    ({"ratio": "3/-4"}, "cannot read"),
+    ({"period": float("nan")}, "not a finite number"),
+    ({"cycle": "blue moon"}, "known periods: tropical year"),
+    ({}, "exactly one target"),
+    ({"period": "29.5", "ratio": "1/2"}, "exactly one target"),
+    ({"period": "29.5", "crank_days": "0"}, "crank days per turn: must be positive"),
+])
+def test_bad_targets(kwargs, message):
+    with pytest.raises(SearchError, match=message.replace("(", r"\(").replace(")", r"\)")):
+        make_target(**kwargs)
+
+
+@pytest.mark.parametrize(("kwargs", "message"), [
+    ({"wheels": "150-8"}, "wheels: range 150-8 is empty"),
+    ({"pinions": (0, 10)}, "pinions: tooth counts start at 1"),
+    ({"wheels": "lots"}, "wheels: cannot read 'lots'"),
+    ({"stages": 5}, "stages: 5 is outside 1-4"),
+    ({"stages": "3-1"}, "stages: range 3-1 is empty"),
+    ({"allowed": "59,61", "max_prime": 7}, "free of primes above 7"),
+    ({"allowed": "200-210"}, "no allowed tooth count lies in 8-150"),
+    ({"allowed": "12,x"}, "cannot read 'x'"),
+    ({"allowed": " "}, "the list is empty"),
+    ({"max_prime": 1}, "at least 2"),
+    ({"stages": 3, "direction": "same"}, "even number of stages"),
+    ({"stages": 2, "direction": "reverse"}, "odd number of stages"),
+    ({"stages": 4, "wheels": (2, 2000)}, "narrow the tooth ranges"),
+])
+def test_impossible_constraints(kwargs, message):
+    with pytest.raises(SearchError, match=message):
+        cons = make_constraints(**kwargs)
+        search(make_target(ratio="1/3"), cons)
+
+
+def test_parse_fraction_exact():
+    assert parse_fraction("6940/235") == Fraction(6940, 235)
+    assert parse_fraction(" 29.530588853 ") == Fraction(29530588853, 10**9)
+    assert parse_fraction("1.5e1/3") == 5
+
+
+# --- command line -----------------------------------------------------------------------------
+
+
+def test_cli_error_one_line(capsys):
+    assert main(["search", "--cycle", "blue moon"]) == 1
+    err = capsys.readouterr().err.strip()
+    assert err.startswith("wheelwork: error: unknown period") and "\n" not in err
+
+
+def test_cli_table(capsys):
+    assert main(["search", "--cycle", "synodic month", "--stages", "1", "--pinions", "1-4",
+                 "--wheels", "59"]) == 0
+    out = capsys.readouterr().out
+    assert "2/59" in out and "convergents" in out
+
+
+def test_cli_nothing_found(capsys):
+    assert main(["search", "--ratio", "1/2", "--stages", "2", "--allowed", "10,12",
+                 "--no-repeat"]) == 0
+    assert "no train within these bounds" in capsys.readouterr().out
+
+
+def test_cli_json(capsys):
+    assert main(["search", "--ratio", "19/235", "--stages", "2", "--top", "3", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["results"][0]["ratio"] == "19/235" and data["results"][0]["exact"]
+    assert data["results"][0]["one_day_off_years"] is None
+    assert data["target"]["ratio"] == "19/235"
+    assert len(data["results"]) == 3 and data["convergents"]
+
+
+def test_cli_emit_refuses_overwrite(tmp_path, capsys):
+    path = tmp_path / "frag.toml"
+    args = ["search", "--ratio", "19/235", "--stages", "2", "--emit", str(path)]
+    assert main(args) == 0
+    assert "wrote" in capsys.readouterr().out and str(path) in path.as_posix()
+    first = path.read_text()
+    tomllib.loads(first)
+    assert main([*args, "--pick", "2"]) == 1
+    assert "use --force" in capsys.readouterr().err
+    assert path.read_text() == first
+    assert main([*args, "--pick", "2", "--force"]) == 0
+    assert path.read_text() != first
+    assert main([*args, "--pick", "99", "--force"]) == 1
+    assert "--pick" in capsys.readouterr().err
