@@ -79,6 +79,7 @@ _SEGMENTS = {  # (center, target) -> what it is, for messages
     (3, 301): "Moon (3->301)",
     (0, 10): "Sun (0->10)",
 }
+_BATCH = 4096  # dates per batch in the fast pipeline
 _EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, light time)
 
 
@@ -182,7 +183,25 @@ class _ChebGroup:
 class _Loaded:
     kernel: SpiceKernel
     groups: tuple | None  # None: no fast path for this file's layout
+    earth_ratio: float | None  # Earth = -ratio * Moon about their barycentre, when so stored
     span_tdb: tuple[float, float]
+
+
+def _mass_ratio(moon_seg, earth_seg) -> float | None:
+    """Earth/Moon offset ratio when the file stores the Earth as a scaled copy of the Moon.
+
+    JPL's planetary ephemerides integrate the geocentric Moon and split it about the
+    Earth-Moon barycentre, so the two series differ only by the factor -1/EMRAT; evaluating
+    one series then gives both. Returns None when the file does not have that property.
+    """
+    m_init, m_len, m = moon_seg._data
+    e_init, e_len, e = earth_seg._data
+    if (m_init, m_len, m.shape) != (e_init, e_len, e.shape):
+        return None
+    ratio = -float(np.vdot(e, m) / np.vdot(m, m))
+    if np.max(np.abs(e + ratio * m)) > 1e-12 * np.max(np.abs(m)) + 1e-9:
+        return None
+    return ratio
 
 
 @functools.lru_cache(maxsize=4)
@@ -200,15 +219,19 @@ def _load(path: str) -> _Loaded:
                        f"Sun, the Earth-Moon barycentre, the Earth and the Moon")
     start = max(min(s.start_jd for s in by_pair[p]) for p in _SEGMENTS)
     end = min(max(s.end_jd for s in by_pair[p]) for p in _SEGMENTS)
-    groups = None
+    groups, ratio = None, None
     if all(len(by_pair[p]) == 1 and by_pair[p][0].data_type == 2 for p in _SEGMENTS):
+        pairs = list(_SEGMENTS)
+        ratio = _mass_ratio(by_pair[(3, 301)][0], by_pair[(3, 399)][0])
+        if ratio is not None:
+            pairs.remove((3, 399))
         layouts: dict = {}
-        for p in _SEGMENTS:
+        for p in pairs:
             seg = by_pair[p][0]
             init, intlen, coef = seg._data
             layouts.setdefault((init, intlen, coef.shape[2]), []).append((p, seg))
         groups = tuple(_ChebGroup(v) for v in layouts.values())
-    return _Loaded(kernel, groups, (start, end))
+    return _Loaded(kernel, groups, ratio, (start, end))
 
 
 # --- nutation (fast) -------------------------------------------------------------------------
@@ -371,20 +394,22 @@ class Sky:
         if flat.size == 0:
             empty = np.zeros(shape)
             return SkyState(*[empty] * (len(fields(SkyState)) - 1), frame=frame)
-        t = _timescale().ut1_jd(flat)
         if fast and self._loaded.groups is not None:
-            out = self._fast(t, frame, site)
+            # Batches small enough to stay in cache: fresh multi-megabyte temporaries cost
+            # more in page faults than the arithmetic done on them.
+            parts = [self._fast(_timescale().ut1_jd(flat[i:i + _BATCH]), frame, site)
+                     for i in range(0, flat.size, _BATCH)]
+            out = [np.concatenate(col) for col in zip(*parts, strict=True)]
         else:
-            out = self._slow(t, frame, site)
-        jd_tt = t.tt
+            out = self._slow(_timescale().ut1_jd(flat), frame, site)
+        sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum, jd_tt, delta_t = out
         mean = mean_elements(jd_tt)
         node, perigee = mean["node"], mean["apsis"]
         if frame == "stars":
             shift = PRECESSION_DEG_PER_CY * (jd_tt - T0) / JULIAN_CENTURY_DAYS
             node, perigee = np.mod(node - shift, 360.0), np.mod(perigee - shift, 360.0)
-        sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum = out
         values = dict(
-            jd_ut=flat, delta_t_s=np.asarray(t.delta_t, dtype=float) * np.ones_like(flat),
+            jd_ut=flat, delta_t_s=delta_t,
             sun_lon_deg=sun_lon, sun_lat_deg=sun_lat, moon_lon_deg=moon_lon,
             moon_lat_deg=moon_lat, elongation_deg=np.mod(moon_lon - sun_lon, 360.0),
             illuminated=illum, moon_km=moon_km, node_deg=node, perigee_deg=perigee,
@@ -411,7 +436,11 @@ class Sky:
             pv.update(group.evaluate(whole, frac))
         to_au = 1.0 / AU_KM
         emb, v_emb = pv[(0, 3)]
-        e_rel, v_e_rel = pv[(3, 399)]
+        m_rel, v_m_rel = pv[(3, 301)]
+        if self._loaded.earth_ratio is not None:
+            e_rel, v_e_rel = -self._loaded.earth_ratio * m_rel, -self._loaded.earth_ratio * v_m_rel
+        else:
+            e_rel, v_e_rel = pv[(3, 399)]
         obs = (emb + e_rel) * to_au
         v_obs = (v_emb + v_e_rel) * to_au
         if site is not None:
@@ -420,7 +449,6 @@ class Sky:
             obs = obs + here.xyz.au
             v_obs = v_obs + here.velocity.au_per_d
         sun_p, sun_v = pv[(0, 10)]
-        m_rel, v_m_rel = pv[(3, 301)]
         sun, sun_lt = _light_time(sun_p * to_au, sun_v * to_au, obs)
         moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
         illum = _illuminated(sun, moon)
@@ -444,7 +472,8 @@ class Sky:
             sun_e, moon_e = to_ecliptic(sun), to_ecliptic(moon)
         sun_lon, sun_lat, _ = _lon_lat(sun_e, dpsi)
         moon_lon, moon_lat, moon_au = _lon_lat(moon_e, dpsi)
-        return sun_lon, sun_lat, moon_lon, moon_lat, moon_au * AU_KM, illum
+        return (sun_lon, sun_lat, moon_lon, moon_lat, moon_au * AU_KM, illum, t.tt,
+                _delta_t(t))
 
     def _slow(self, t, frame, site):
         observer = self._earth
@@ -459,7 +488,11 @@ class Sky:
         slat, slon, _ = sun_astro.apparent().frame_latlon(f)
         mlat, mlon, mdist = moon_astro.apparent().frame_latlon(f)
         return (slon.degrees % 360.0, slat.degrees, mlon.degrees % 360.0, mlat.degrees,
-                mdist.km, illum)
+                mdist.km, illum, t.tt, _delta_t(t))
+
+
+def _delta_t(t) -> np.ndarray:
+    return np.asarray(t.delta_t, dtype=float) * np.ones(np.shape(t.tt))
 
 
 def _light_time(target_au, target_au_per_d, observer_au):
