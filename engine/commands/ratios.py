@@ -1,0 +1,88 @@
+"""``wheelwork ratios TRAIN``: what each pointer's gearing realises, exactly, and how far off."""
+
+from __future__ import annotations
+
+import argparse
+import json
+
+from rich import box
+from rich.console import Console
+from rich.table import Table
+
+from engine.kinematics import solve
+from engine.loader import load_train
+from engine.ratios import pointer_ratios
+from engine.readout import backward_warnings
+
+NAME = "ratios"
+HELP = "exact ratio, realised period and error of every pointer of a train"
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("train", help="train file (TOML)")
+    parser.add_argument("--json", action="store_true", help="print JSON only")
+
+
+def _years(y: float | None) -> str:
+    if y is None:
+        return ""
+    if y == float("inf"):
+        return "never"
+    return f"{y:,.1f} y"
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    train = load_train(args.train)
+    kin = solve(train)
+    rows = pointer_ratios(train, kin)
+    warnings = backward_warnings(train, kin)
+    if args.json:
+        console.print_json(json.dumps({
+            "train": train.name, "file": train.source, "dial": train.dial,
+            "crank": {"arbor": train.crank.arbor,
+                      "days_per_turn": str(train.crank.days_per_turn)},
+            "pointers": [r.as_json() for r in rows], "warnings": warnings,
+        }))
+        return 0
+    console.print(f"[bold]{train.name}[/]  ({train.source}; crank on '{train.crank.arbor}', "
+                  f"{train.crank.days_per_turn} day(s) per turn; {train.dial} dial)")
+    table = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
+    for col, just in (("pointer", "left"), ("period (d)", "right"), ("mean (d)", "right"),
+                      ("ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
+        table.add_column(col, justify=just, no_wrap=True)
+    for r in rows:
+        table.add_row(r.pointer, f"{r.period_days:.10g}", f"{r.target_days:.10g}", f"{r.error_ppm:+.3f}",
+                      f"{r.drift_deg_per_century:+.4f}", _years(r.years_to_one_day))
+    console.print(table)
+    for r in rows:
+        sense = ", dial reversed" if train.pointers[r.pointer].reversed else ""
+        what = f"'{r.arbor}'" + (f" against '{r.relative_to}'" if r.relative_to else "")
+        console.print(f"[bold]{r.pointer}[/] shows {r.shows} from arbor {what}{sense}; "
+                      f"stands for the {r.target_name}")
+        console.print(f"   ratio {r.ratio.numerator}/{r.ratio.denominator} cycles per crank "
+                      f"turn = {float(r.ratio):.10g}", markup=False)
+        stages = " × ".join(s.text() for s in r.stages) or "(the crank arbor itself)"
+        console.print(f"   stages {stages}", markup=False)
+        if r.relative_to:
+            rel = " × ".join(s.text() for s in r.relative_stages) or "(the crank arbor itself)"
+            console.print(f"   minus  {rel}", markup=False)
+        if not r.stages_multiply_out:
+            console.print("   [dim]epicyclic or differential: the ratio is solved from the "
+                          "whole train, not from this product alone[/]")
+        factors = ", ".join(f"{t.teeth}={t.factors}" for t in r.teeth)
+        if factors:
+            console.print(f"   teeth  {factors}", markup=False)
+        primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
+        if primes:
+            console.print(f"   prime counts, each needing its own cutter or dividing-plate "
+                          f"row: {', '.join(primes)}", markup=False)
+    sources: dict[str, list[str]] = {}
+    for r in rows:
+        names = sources.setdefault(r.target_source, [])
+        if r.target_name not in names:
+            names.append(r.target_name)
+    for src, names in sources.items():
+        console.print(f"[dim]{', '.join(names)}: {src}[/]")
+    for w in warnings:
+        console.print(f"[yellow]warning:[/] {w}", markup=True)
+    return 0

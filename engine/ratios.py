@@ -1,0 +1,183 @@
+"""The ratio report: for each pointer, the exact ratio, the stages that make it, the period it
+realises against the mean astronomical period it stands for, and the error that follows."""
+
+from __future__ import annotations
+
+from collections import deque
+from dataclasses import asdict, dataclass, field
+from fractions import Fraction
+
+import sympy
+
+from engine.kinematics import Kinematics
+from engine.periods import JULIAN_CENTURY_DAYS, PERIODS, POINTER_PERIOD
+from engine.readout import pointer_linear
+from engine.train import FRAME, Train
+
+DAYS_PER_YEAR = 365.25  # Julian year, the unit of "years" in reports
+
+
+@dataclass(frozen=True)
+class Stage:
+    """One step on the way from the crank to a pointer's arbor."""
+
+    kind: str  # "mesh", "pin_slot", "fixed"
+    driver: str  # wheel (or arbor for pin_slot)
+    driven: str
+    driver_teeth: int | None = None
+    driven_teeth: int | None = None
+    internal: bool = False
+    reference: str = FRAME  # the arbor that holds both axes (a carrier for epicyclic stages)
+
+    @property
+    def ratio(self) -> Fraction:
+        if self.kind != "mesh":
+            return Fraction(1)
+        sign = 1 if self.internal else -1
+        return sign * Fraction(self.driver_teeth, self.driven_teeth)
+
+    def text(self) -> str:
+        if self.kind == "pin_slot":
+            return f"pin-and-slot {self.driver}→{self.driven} (1:1 mean)"
+        t = f"{self.driver_teeth}/{self.driven_teeth}"
+        if self.internal:
+            t += " internal"
+        if self.reference != FRAME:
+            t += f" on {self.reference}"
+        return t
+
+
+@dataclass(frozen=True)
+class ToothNote:
+    wheel: str
+    teeth: int
+    factors: str
+    prime: bool
+
+
+@dataclass(frozen=True)
+class PointerRatio:
+    pointer: str
+    shows: str
+    arbor: str
+    relative_to: str | None
+    ratio: Fraction  # cycles per crank turn, signed as the dial reads
+    stages: tuple[Stage, ...]
+    relative_stages: tuple[Stage, ...]
+    stages_multiply_out: bool  # True when the product of the stage ratios is the ratio
+    period_days: float
+    target_key: str
+    target_name: str
+    target_days: float
+    target_source: str
+    error_ppm: float  # (realised period - mean period) / mean period
+    drift_deg_per_century: float  # pointer minus sky, mean rate
+    years_to_one_day: float | None  # phase pointers: when the display is a day out
+    direction_ok: bool
+    teeth: tuple[ToothNote, ...] = field(default=())
+
+    def as_json(self) -> dict:
+        d = asdict(self)
+        d["ratio"] = f"{self.ratio.numerator}/{self.ratio.denominator}"
+        d["stages"] = [s.text() for s in self.stages]
+        d["relative_stages"] = [s.text() for s in self.relative_stages]
+        return d
+
+
+def factor_text(n: int) -> str:
+    """``96 -> "2^5·3"`` (sympy's factorisation)."""
+    parts = sympy.factorint(n)
+    return "·".join(f"{p}^{e}" if e > 1 else f"{p}" for p, e in sorted(parts.items())) or "1"
+
+
+def stage_path(train: Train, kin: Kinematics, target: str) -> tuple[list[Stage], bool] | None:
+    """Stages from the crank arbor to ``target``, by breadth-first search over meshes,
+    pin-and-slot couplings and fixed arbors. Returns (stages, all stages on the frame)."""
+    start = train.crank.arbor
+    frames = {f.mesh_index: f for f in kin.mesh_frames}
+    edges: dict[str, list[tuple[str, Stage]]] = {a: [] for a in train.arbors}
+    for m in train.meshes:
+        w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+        ref = frames[m.index].reference
+        for a, b, x, y in ((w1, w2, m.driver, m.driven), (w2, w1, m.driven, m.driver)):
+            edges[a.arbor].append((b.arbor, Stage("mesh", x, y, a.teeth, b.teeth,
+                                                  m.internal, ref)))
+    for ps in train.pin_slots.values():
+        edges[ps.pin_arbor].append((ps.slot_arbor, Stage("pin_slot", ps.pin_arbor,
+                                                         ps.slot_arbor)))
+        edges[ps.slot_arbor].append((ps.pin_arbor, Stage("pin_slot", ps.slot_arbor,
+                                                         ps.pin_arbor)))
+    prev: dict[str, tuple[str, Stage] | None] = {start: None}
+    queue = deque([start])
+    while queue:
+        a = queue.popleft()
+        if a == target:
+            break
+        for b, st in edges[a]:
+            if b not in prev:
+                prev[b] = (a, st)
+                queue.append(b)
+    if target not in prev:
+        return None
+    path: list[Stage] = []
+    node = target
+    while prev[node] is not None:
+        a, st = prev[node]
+        path.append(st)
+        node = a
+    path.reverse()
+    return path, all(s.reference == FRAME for s in path)
+
+
+def pointer_ratios(train: Train, kin: Kinematics) -> list[PointerRatio]:
+    """The ratio report's rows, one per pointer."""
+    rows = []
+    dpt = train.crank.days_per_turn
+    for p in train.pointers.values():
+        lin = pointer_linear(kin, p)
+        ratio = lin.crank
+        target = PERIODS[POINTER_PERIOD[p.shows][train.dial]]
+        period = float(dpt / abs(ratio)) if ratio else float("inf")
+        found = stage_path(train, kin, p.arbor)
+        stages, simple = found if found else ([], False)
+        rel_stages: list[Stage] = []
+        if p.relative_to:
+            found_rel = stage_path(train, kin, p.relative_to)
+            rel_stages, simple_rel = found_rel if found_rel else ([], False)
+            simple = simple and simple_rel
+        if simple:
+            prod = Fraction(1)
+            for s in stages:
+                prod *= s.ratio
+            if p.relative_to:
+                rel = Fraction(1)
+                for s in rel_stages:
+                    rel *= s.ratio
+                prod -= rel
+            simple = prod * p.per_turn * (-1 if p.reversed else 1) == ratio
+        train_deg_per_day = float(ratio / dpt) * 360.0
+        true_deg_per_day = target.deg_per_day
+        err_ppm = (period - target.days) / target.days * 1e6 if ratio else float("inf")
+        years = None
+        if p.shows == "phase" and ratio:
+            gain = abs(target.days / period - 1.0)
+            years = (1.0 / gain / DAYS_PER_YEAR) if gain else float("inf")
+        wheels_seen: dict[str, ToothNote] = {}
+        for s in [*stages, *rel_stages]:
+            if s.kind != "mesh":
+                continue
+            for w, z in ((s.driver, s.driver_teeth), (s.driven, s.driven_teeth)):
+                if w not in wheels_seen:
+                    wheels_seen[w] = ToothNote(w, z, factor_text(z), bool(sympy.isprime(z)))
+        rows.append(PointerRatio(
+            pointer=p.name, shows=p.shows, arbor=p.arbor, relative_to=p.relative_to,
+            ratio=ratio, stages=tuple(stages), relative_stages=tuple(rel_stages),
+            stages_multiply_out=simple, period_days=period, target_key=target.key,
+            target_name=target.name, target_days=target.days, target_source=target.source,
+            error_ppm=err_ppm,
+            drift_deg_per_century=(train_deg_per_day - true_deg_per_day) * JULIAN_CENTURY_DAYS,
+            years_to_one_day=years,
+            direction_ok=(ratio > 0) == (target.sense > 0) if ratio else False,
+            teeth=tuple(wheels_seen.values()),
+        ))
+    return rows
