@@ -248,8 +248,13 @@ def _nutation_2000b(jd_tt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     linear fundamental arguments and a fixed planetary offset, as in skyfield's ``iau2000b``.
     Arguments are reduced in double precision, their sines taken in single precision."""
     t = (jd_tt - T0) / JULIAN_CENTURY_DAYS
-    a = np.fmod(_FA0[:, None] + _FA1[:, None] * t, ASEC360) * ASEC2RAD
-    arg = _NUT_MULT @ a.astype(np.float32)
+    turns = (_FA0[:, None] + _FA1[:, None] * t) / ASEC360
+    a = ((turns - np.floor(turns)) * (2 * np.pi)).astype(np.float32)
+    # Five multiply-adds rather than a (77x5)@(5xN) product: tiny inner dimensions make the
+    # BLAS call slow and its threads fight over a busy machine.
+    arg = _NUT_MULT[:, 0, None] * a[0]
+    for j in range(1, 5):
+        arg += _NUT_MULT[:, j, None] * a[j]
     s, c = np.sin(arg), np.cos(arg)
     ps, pc = _NUT_PSI @ s, _NUT_PSI @ c
     es, ec = _NUT_EPS @ s, _NUT_EPS @ c
