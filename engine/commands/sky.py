@@ -1,0 +1,89 @@
+"""``wheelwork sky DATE``: the true Sun and Moon at one date, as a dial maker would read them."""
+
+from __future__ import annotations
+
+import argparse
+import json
+
+from rich import box
+from rich.console import Console
+from rich.table import Table
+
+from engine.dates import calendar_date, format_jd, parse_date
+from engine.sky import Site, Sky
+
+NAME = "sky"
+HELP = "true Sun and Moon at a date: longitudes, phase, distance, node and perigee"
+
+SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("date", help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
+                        "'44-03-15 BC', '15 March 44 BC' or 'JD 2451545.0'")
+    parser.add_argument("--calendar", default="auto", choices=("auto", "julian", "gregorian"),
+                        help="calendar of DATE (auto: Julian before 1582-10-15, then Gregorian)")
+    parser.add_argument("--stars", action="store_true",
+                        help="longitudes on the fixed J2000 ecliptic instead of the equinox of date")
+    parser.add_argument("--site", metavar="LAT,LON[,HEIGHT_M]",
+                        help="observe from this place (degrees, east positive) instead of the "
+                        "Earth's centre")
+    parser.add_argument("--ephemeris", metavar="FILE|de440",
+                        help="JPL SPK file, or de440 (default: the bundled DE421, 1900-2050)")
+    parser.add_argument("--json", action="store_true", help="print JSON only")
+
+
+def _dms(deg: float) -> str:
+    sign = "-" if deg < 0 else ""
+    a = round(abs(deg) * 3600.0, 1)
+    d, rest = divmod(a, 3600.0)
+    m, s = divmod(rest, 60.0)
+    return f"{sign}{int(d)}°{int(m):02d}′{s:04.1f}″"
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    jd = parse_date(args.date, calendar=args.calendar)
+    site = Site.parse(args.site) if args.site else None
+    sky = Sky(args.ephemeris)
+    frame = "stars" if args.stars else "equinox"
+    st = sky.at(jd, frame=frame, site=site)
+    cal = calendar_date(jd, args.calendar)[-1]
+    v = {k: float(getattr(st, k)) for k in (
+        "delta_t_s", "sun_lon_deg", "sun_lat_deg", "moon_lon_deg", "moon_lat_deg",
+        "elongation_deg", "illuminated", "moon_km", "node_deg", "perigee_deg",
+        "moon_mean_anomaly_deg")}
+    phase = st.phase_names()[0]
+    if args.json:
+        console.print_json(json.dumps({
+            "date": format_jd(jd, args.calendar, seconds=True), "jd_ut": jd, "calendar": cal,
+            "frame": frame, "site": None if site is None else
+            {"lat_deg": site.lat_deg, "lon_deg": site.lon_deg, "height_m": site.height_m},
+            "ephemeris": sky.name, "span": sky.span_text, "phase": phase, **v,
+            "caution": SUN_CAUTION,
+        }))
+        return 0
+    where = ("the Earth's centre" if site is None else
+             f"{site.lat_deg:+.4f}°, {site.lon_deg:+.4f}° E, {site.height_m:g} m")
+    frame_text = "fixed J2000 ecliptic (stars)" if args.stars else "true ecliptic and equinox of date"
+    console.print(f"[bold]{format_jd(jd, args.calendar, seconds=True)}[/]  JD {jd:.6f} UT")
+    console.print(f"ΔT {v['delta_t_s']:.1f} s · {sky.name} ({sky.span_text}) · {frame_text} · "
+                  f"seen from {where}")
+    table = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
+    for col, just in (("", "left"), ("degrees", "right"), ("", "right")):
+        table.add_column(col, justify=just, no_wrap=True)
+    rows = (
+        ("Sun longitude", v["sun_lon_deg"], _dms(v["sun_lon_deg"])),
+        ("Sun latitude", v["sun_lat_deg"], _dms(v["sun_lat_deg"])),
+        ("Moon longitude", v["moon_lon_deg"], _dms(v["moon_lon_deg"])),
+        ("Moon latitude", v["moon_lat_deg"], _dms(v["moon_lat_deg"])),
+        ("elongation (phase)", v["elongation_deg"], phase),
+        ("mean node", v["node_deg"], ""),
+        ("mean perigee", v["perigee_deg"], ""),
+        ("Moon's mean anomaly", v["moon_mean_anomaly_deg"], ""),
+    )
+    for label, deg, note in rows:
+        table.add_row(label, f"{deg:.5f}", note)
+    console.print(table)
+    console.print(f"Moon {v['illuminated'] * 100:.1f}% lit, {v['moon_km']:,.0f} km away.")
+    console.print(f"[yellow]{SUN_CAUTION}[/]")
+    return 0
