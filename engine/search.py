@@ -568,16 +568,20 @@ def search(target: Target, constraints: Constraints | None = None, top: int = 10
 
     Exhaustive within the bounds: no train of the allowed stage counts and tooth counts comes
     closer to the target than the first result. Ties are broken by total teeth, then stages.
+    With ``exact_only`` the results are instead the different trains of exactly the target
+    ratio, fewest teeth first (see :func:`exact_trains`).
     """
     cons = constraints or make_constraints()
     if top < 1:
         raise SearchError(f"top: must be at least 1, got {top}")
+    if cons.exact_only:
+        results = tuple(exact_trains(target.ratio, target, cons, top))
+        convs = tuple(convergents(target, cons)) if with_convergents else ()
+        return SearchReport(target, cons, results, convs)
     best: dict[Fraction, tuple[Fraction, int, int, tuple]] = {}
     for k in cons.stages:
         side = _Side(cons, target, k)
-        for aerr, teeth, stages in _search_k(side, target, 1 if cons.exact_only else top):
-            if cons.exact_only and aerr != 0:
-                continue
+        for aerr, teeth, stages in _search_k(side, target, top):
             ratio = math.prod((s.ratio for s in stages), start=Fraction(1))
             entry = (aerr, teeth, k, stages)
             if ratio not in best or entry[:3] < best[ratio][:3]:
@@ -592,46 +596,68 @@ def search(target: Target, constraints: Constraints | None = None, top: int = 10
 # Convergents and splitting an exact ratio into stages
 
 
-def split_ratio(ratio: Fraction, target: Target, constraints: Constraints
-                ) -> tuple[TrainResult | None, str]:
-    """Fewest-teeth train of exactly ``ratio`` within the bounds, or None and the reason.
-
-    Prime factors (sympy ``factorint``) rule out most impossible ratios at once; otherwise
-    every common multiplier ``m`` with ``p*m`` a driver product and ``q*m`` a driven product
-    is tried.
-    """
+def _prime_obstacle(ratio: Fraction, target: Target, constraints: Constraints) -> str:
+    """Why the prime factors of ``ratio`` rule it out at once ("" if they do not)."""
     drv, dvn = constraints.sides(target)
-    p, q = ratio.numerator, ratio.denominator
-    for value, vals, role in ((p, drv, "driver"), (q, dvn, "driven")):
+    for value, vals, role in ((ratio.numerator, drv, "driver"),
+                              (ratio.denominator, dvn, "driven")):
         for prime in sympy.factorint(value):
             if constraints.max_prime is not None and prime > constraints.max_prime:
-                return None, f"prime {prime} is above the limit {constraints.max_prime}"
+                return f"prime {prime} is above the limit {constraints.max_prime}"
             if not any(c % prime == 0 for c in vals):
-                return None, f"no allowed {role} count has the prime {prime}"
-    best: tuple[int, int, tuple] | None = None
-    largest = 0
+                return f"no allowed {role} count has the prime {prime}"
+    return ""
+
+
+def exact_trains(ratio: Fraction, target: Target, constraints: Constraints, top: int = 10
+                 ) -> list[TrainResult]:
+    """The different trains of exactly ``ratio`` within the bounds, fewest teeth first.
+
+    Each multiset of drivers with its multiset of driven wheels is listed once. Prime factors
+    (sympy ``factorint``) rule out most impossible ratios at once; otherwise every multiplier
+    ``m`` with ``p*m`` a product of drivers and ``q*m`` a product of driven wheels is tried.
+    """
+    if _prime_obstacle(ratio, target, constraints):
+        return []
+    p, q = ratio.numerator, ratio.denominator
+    found: dict[tuple, tuple[int, int]] = {}
     for k in constraints.stages:
         side = _Side(constraints, target, k)
         if len(side.num) == 0 or len(side.den) == 0:
             continue
-        largest = max(largest, int(side.num[-1]), int(side.den[-1]))
         ni = np.nonzero(side.num % p == 0)[0]
         want = (side.num[ni] // p) * q
         j = np.clip(np.searchsorted(side.den, want), 0, len(side.den) - 1)
         ok = side.den[j] == want
-        if not ok.any():
-            continue
-        stages = side.best_train(ni[ok], j[ok])
-        if stages is None:
-            continue
-        entry = (sum(s.driver + s.driven for s in stages), k, stages)
-        if best is None or entry[:2] < best[:2]:
-            best = entry
-    if best is None:
-        if max(p, q) > largest:
-            return None, "larger than any product of the allowed counts"
-        return None, "no split into the allowed stages"
-    return _make_result(best[2], target), ""
+        ni, j = ni[ok], j[ok]
+        lower = side.num_sum[ni] + side.den_sum[j]
+        for o in np.argsort(lower, kind="stable"):
+            if len(found) >= top and lower[o] > sorted(found.values())[top - 1][0]:
+                break  # no later pair can beat the trains kept
+            n, d = int(side.num[ni[o]]), int(side.den[j[o]])
+            for a in _factorisations(n, k, side.drv_vals, side.distinct):
+                for b in _factorisations(d, k, side.dvn_vals, side.distinct):
+                    if side.distinct and not set(a).isdisjoint(b):
+                        continue
+                    found.setdefault((a, b), (sum(a) + sum(b), k))
+    ranked = sorted(found.items(), key=lambda item: (item[1], item[0]))[:top]
+    return [_make_result(_pair_stages(a, b), target) for (a, b), _ in ranked]
+
+
+def split_ratio(ratio: Fraction, target: Target, constraints: Constraints
+                ) -> tuple[TrainResult | None, str]:
+    """Fewest-teeth train of exactly ``ratio`` within the bounds, or None and the reason."""
+    reason = _prime_obstacle(ratio, target, constraints)
+    if reason:
+        return None, reason
+    trains = exact_trains(ratio, target, constraints, top=1)
+    if trains:
+        return trains[0], ""
+    drv, dvn = constraints.sides(target)
+    kmax = max(constraints.stages)
+    if ratio.numerator > max(drv) ** kmax or ratio.denominator > max(dvn) ** kmax:
+        return None, "larger than any product of the allowed counts"
+    return None, "no split into the allowed stages"
 
 
 def convergents(target: Target, constraints: Constraints | None = None) -> list[Convergent]:

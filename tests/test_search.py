@@ -18,6 +18,7 @@ from engine.errors import SearchError
 from engine.search import (
     convergents,
     emit_fragment,
+    exact_trains,
     make_constraints,
     make_target,
     parse_counts,
@@ -131,10 +132,29 @@ def test_step_up_train_lets_wheels_drive():
     assert best.exact and best.stages[0].driver >= 60 and best.stages[0].driven <= 12
 
 
-def test_exact_only():
+def test_exact_only_lists_the_different_trains():
     report = search(make_target(ratio="19/235"),
                     make_constraints(stages="1-3", exact_only=True), top=5)
-    assert report.results and all(r.exact for r in report.results)
+    assert len(report.results) == 5 and all(r.exact for r in report.results)
+    teeth = [r.total_teeth for r in report.results]
+    assert teeth == sorted(teeth)
+    assert len({r.stages for r in report.results}) == 5
+
+
+@pytest.mark.parametrize("no_repeat", [False, True])
+def test_exact_trains_match_brute_force(no_repeat):
+    target = make_target(ratio="1/4")
+    cons = make_constraints(stages=2, wheels=(8, 40), pinions=(8, 40), no_repeat=no_repeat)
+    want = set()
+    for drivers in itertools.combinations_with_replacement(range(8, 41), 2):
+        for driven in itertools.combinations_with_replacement(range(8, 41), 2):
+            if no_repeat and len(set(drivers + driven)) < 4:
+                continue
+            if Fraction(math.prod(drivers), math.prod(driven)) == Fraction(1, 4):
+                want.add((sum(drivers) + sum(driven), drivers, driven))
+    got = exact_trains(Fraction(1, 4), target, cons, top=1000)
+    assert sorted((r.total_teeth, tuple(s.driver for s in r.stages),
+                   tuple(s.driven for s in r.stages)) for r in got) == sorted(want)
     report = search(make_target(cycle="synodic month"),
                     make_constraints(stages=2, exact_only=True), top=5)
     assert report.results == ()
