@@ -1,0 +1,77 @@
+"""The ratio report: exact ratios, stages, errors and the figures that follow from them."""
+
+import json
+from fractions import Fraction
+from pathlib import Path
+
+import pytest
+
+from engine.cli import main
+from engine.kinematics import solve
+from engine.loader import load_train
+from engine.ratios import factor_text, pointer_ratios
+
+TRAINS = Path(__file__).resolve().parent.parent / "trains"
+
+
+def report(name):
+    train = load_train(TRAINS / name)
+    return {r.pointer: r for r in pointer_ratios(train, solve(train))}
+
+
+def test_moon_disc_is_a_day_off_after_about_two_and_a_half_years():
+    """Common practice, no source: a 59-tooth two-moon disc gains a day on the sky in about
+    2.6 years (29.5 d against 29.530589 d)."""
+    r = report("moon_disc_59.toml")["phase"]
+    assert r.ratio == Fraction(2, 59)
+    assert r.period_days == 29.5
+    assert r.error_ppm == pytest.approx((29.5 / 29.530589 - 1) * 1e6, rel=1e-5)
+    assert r.years_to_one_day == pytest.approx(1 / (29.530589 / 29.5 - 1) / 365.25, rel=1e-4)
+    assert 2.5 < r.years_to_one_day < 2.7
+    # runs fast: 360°/29.5 d - 360°/29.530589 d, per Julian century
+    assert r.drift_deg_per_century == pytest.approx(
+        (360 / 29.5 - 360 / 29.530588861) * 36525, rel=1e-6)
+
+
+def test_drum_stages_multiply_out():
+    rows = report("nineteen_year_drum.toml")
+    moon = rows["moon"]
+    assert moon.ratio == Fraction(254, 19)
+    assert [s.text() for s in moon.stages] == ["127/38", "132/33"]
+    assert moon.stages_multiply_out
+    assert rows["phase"].ratio == Fraction(235, 19) and rows["phase"].stages_multiply_out
+    notes = {t.teeth: t for t in moon.teeth}
+    assert notes[127].prime and not notes[132].prime
+
+
+def test_epicyclic_path_is_flagged():
+    moon = report("tide_office.toml")["moon"]
+    assert not moon.stages_multiply_out
+    assert any(s.reference == "perigee_carrier" for s in moon.stages)
+    assert any(s.kind == "pin_slot" for s in moon.stages)
+
+
+def test_drift_is_the_rate_difference():
+    for r in report("tide_office.toml").values():
+        sense = 1 if r.shows != "node" else -1
+        want = (360 / r.period_days - 360 / r.target_days) * 36525 * sense
+        assert r.drift_deg_per_century == pytest.approx(want, rel=1e-6, abs=1e-9)
+        assert r.direction_ok
+
+
+def test_factor_text():
+    assert factor_text(96) == "2^5·3"
+    assert factor_text(127) == "127"
+
+
+def test_json_output(capsys):
+    assert main(["ratios", str(TRAINS / "nineteen_year_drum.toml"), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    moon = next(p for p in data["pointers"] if p["pointer"] == "moon")
+    assert moon["ratio"] == "254/19" and moon["stages"] == ["127/38", "132/33"]
+
+
+def test_text_output_names_stages_and_primes(capsys):
+    assert main(["ratios", str(TRAINS / "nineteen_year_drum.toml")]) == 0
+    out = capsys.readouterr().out
+    assert "127/38 × 132/33" in out and "year_wheel (127)" in out
