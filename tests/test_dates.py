@@ -1,0 +1,124 @@
+"""Dates against published Julian Day examples and the calendar rules."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from engine.dates import calendar_date, format_jd, jd_from_calendar, parse_date
+from engine.errors import DateError
+
+SECOND_DAYS = 1 / 86400
+
+
+# Meeus, Astronomical Algorithms 2nd ed., ch. 7, examples 7.a, 7.b and the table that
+# follows them (from memory).
+@pytest.mark.parametrize("year, month, day, calendar, jd", [
+    (1957, 10, 4.81, "auto", 2436116.31),     # example 7.a, Sputnik 1 launch
+    (333, 1, 27.5, "auto", 1842713.0),        # example 7.b, Julian calendar
+    (2000, 1, 1.5, "auto", 2451545.0),
+    (1582, 10, 15.0, "auto", 2299160.5),      # first Gregorian day
+    (1582, 10, 4.0, "auto", 2299159.5),       # last Julian day
+    (-1000, 7, 12.5, "auto", 1356001.0),      # BC date, Julian calendar
+    (-1000, 2, 29.0, "auto", 1355866.5),      # Julian leap day in 1001 BC
+    (-4712, 1, 1.5, "auto", 0.0),             # the Julian Day epoch
+    (1600, 12, 31.0, "auto", 2305812.5),
+    (1988, 6, 19.5, "auto", 2447332.0),
+])
+def test_meeus_julian_days(year, month, day, calendar, jd):
+    assert jd_from_calendar(year, month, day, calendar) == pytest.approx(jd, abs=1e-9)
+    y, m, d, h, mi, s, _ = calendar_date(jd, calendar)
+    assert (y, m) == (year, month)
+    assert d + (h * 3600 + mi * 60 + s) / 86400 == pytest.approx(day, abs=1e-6)
+
+
+def test_vectorised_matches_scalar():
+    years = np.array([1957, 333, -1000, 2000])
+    months = np.array([10, 1, 7, 1])
+    days = np.array([4.81, 27.5, 12.5, 1.5])
+    got = jd_from_calendar(years, months, days)
+    want = [jd_from_calendar(int(y), int(m), float(d)) for y, m, d in
+            zip(years, months, days, strict=True)]
+    np.testing.assert_array_equal(got, want)
+
+
+@pytest.mark.parametrize("text, jd", [
+    ("2000-01-01 12:00", 2451545.0),
+    ("2000-01-01T12:00:00Z", 2451545.0),
+    ("2000-01-01 12:00 UT", 2451545.0),
+    ("2000-01-01T12:00:00.000 UTC", 2451545.0),
+    ("1957-10-04 19:26:24", 2436116.31),
+    ("4 Oct 1957 19:26:24 UT", 2436116.31),
+    ("333-01-27 12:00", 1842713.0),
+    ("-1000-07-12 12:00", 1356001.0),
+    ("1001-07-12 12:00 BC", 1356001.0),       # 1001 BC = astronomical -1000
+    ("12 July 1001 BC 12:00", 1356001.0),
+    ("JD 2451545.0", 2451545.0),
+    ("jd2299160.5", 2299160.5),
+    ("1582-10-15", 2299160.5),
+    ("1582-10-04", 2299159.5),
+    ("1066-10-14 AD", jd_from_calendar(1066, 10, 14, "julian")),
+])
+def test_parse_forms(text, jd):
+    assert parse_date(text) == pytest.approx(jd, abs=1e-3 * SECOND_DAYS)
+
+
+def test_bc_numbering():
+    # 1 BC is astronomical year 0; 101 BC is -100 (common practice, no source)
+    assert parse_date("-0100-03-01") == parse_date("101-03-01 BC") == parse_date("1 March 101 BC")
+    assert parse_date("0000-06-01") == parse_date("1-06-01 BC")
+    assert format_jd(parse_date("-0100-03-01 12:00")) == "-0100-03-01 12:00 UT (Julian) = 101 BC"
+
+
+def test_calendar_choice():
+    # 1582-10-05 Julian is 1582-10-15 Gregorian (the reform dropped ten days)
+    assert parse_date("1582-10-05", calendar="julian") == parse_date("1582-10-15")
+    assert parse_date("1582-10-10", calendar="gregorian") == parse_date("1582-10-10",
+                                                                        calendar="gregorian")
+    # 1700 is a leap year only in the Julian calendar
+    assert parse_date("1700-02-29", calendar="julian") > 0
+    with pytest.raises(DateError, match="day 29 is not in 1-28"):
+        parse_date("1700-02-29")
+
+
+def test_format_shows_calendar():
+    assert format_jd(2460754.8958333) == "2025-03-20 09:30 UT (Gregorian)"
+    assert format_jd(1842713.0) == "0333-01-27 12:00 UT (Julian)"
+    assert format_jd(1842713.0, "gregorian").endswith("(Gregorian)")
+    assert format_jd(2451545.0, seconds=True) == "2000-01-01 12:00:00 UT (Gregorian)"
+    assert format_jd(2451544.99999999) == "2000-01-01 12:00 UT (Gregorian)"  # rounds up
+
+
+@pytest.mark.parametrize("text, fragment", [
+    ("hello", "not a date form"),
+    ("", "empty"),
+    ("2025-13-01", "month 13"),
+    ("2025-02-30", "day 30"),
+    ("2025-03-20 24:00", "not a time of day"),
+    ("1582-10-10", "1582-10-05..14 do not exist"),
+    ("0-01-01 BC", "no year 0"),
+    ("-44-03-15 BC", "either a signed year or BC/AD"),
+    ("15 Smarch 44 BC", "unknown month name"),
+    ("JD nan", "not a date form"),
+])
+def test_malformed_dates(text, fragment):
+    with pytest.raises(DateError) as err:
+        parse_date(text)
+    msg = str(err.value)
+    assert fragment in msg and repr(text) in msg and "JD 2451545.0" in msg
+    assert "\n" not in msg
+
+
+def test_unknown_calendar():
+    with pytest.raises(DateError, match="unknown calendar"):
+        parse_date("2025-01-01", calendar="mayan")
+
+
+@given(st.floats(min_value=-2e6, max_value=6e6, allow_nan=False))
+def test_round_trip(jd):
+    for cal in ("auto", "julian", "gregorian"):
+        y, m, d, h, mi, s, name = calendar_date(jd, cal)
+        back = jd_from_calendar(y, m, d + (h * 3600 + mi * 60 + s) / 86400, name.lower())
+        assert back == pytest.approx(jd, abs=2e-3 * SECOND_DAYS)
