@@ -383,17 +383,17 @@ def _products(values: tuple[int, ...], k: int, distinct: bool) -> tuple[np.ndarr
     """
     v = np.asarray(values, dtype=np.int64)
     m = len(v)
-    prod, last, tot = v.copy(), np.arange(m), v.copy()
+    prod, last, tot = v.copy(), np.arange(m, dtype=np.int32), v.astype(np.int32)
     for _ in range(k - 1):
         # entries are kept in order of their largest index, so "may extend with j" is a prefix
-        ends = np.searchsorted(last, np.arange(m), side="left" if distinct else "right")
+        ends = np.searchsorted(last, np.arange(m, dtype=np.int32), side="left" if distinct else "right")
         pieces_p, pieces_l, pieces_t = [], [], []
         for j in range(m):
             n = ends[j]
             if n:
                 pieces_p.append(prod[:n] * v[j])
-                pieces_t.append(tot[:n] + v[j])
-                pieces_l.append(np.full(n, j))
+                pieces_t.append(tot[:n] + np.int32(v[j]))
+                pieces_l.append(np.full(n, j, dtype=np.int32))
         if not pieces_p:
             return np.zeros(0, np.int64), np.zeros(0, np.int64)
         prod = np.concatenate(pieces_p)
@@ -410,7 +410,7 @@ def _products(values: tuple[int, ...], k: int, distinct: bool) -> tuple[np.ndarr
         p, t = prod[order], tot[order]
     first = np.ones(len(p), bool)
     first[1:] = p[1:] != p[:-1]
-    return p[first], t[first]
+    return p[first], t[first].astype(np.int32)
 
 
 @functools.lru_cache(maxsize=64)
