@@ -36,7 +36,7 @@ from sympy.ntheory.continued_fraction import (
 )
 
 from engine.errors import SearchError
-from engine.periods import JULIAN_CENTURY_DAYS, MeanPeriod, find_period
+from engine.periods import JULIAN_CENTURY_DAYS, POINTER_PERIOD, MeanPeriod, find_period
 
 JULIAN_YEAR_DAYS = 365.25
 MAX_STAGES = 4
@@ -730,7 +730,24 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
         lines.append("")
         lines.append(f"[[meshes]]  # stage {i}: {st.driver} drives {st.driven}")
         lines.append(f'wheels = ["{drv}", "{dvn}"]')
+    kind = _pointer_kind(target)
+    if kind:
+        lines += ["", "# a pointer for it (uncomment and merge with your [pointers]):",
+                  f"# [pointers.{prefix}_{kind}]", f'# shows = "{kind}"',
+                  f'# arbor = "{arbors[-1]}"']
+        if result.reverses:
+            lines.append("# reversed = true  # odd stages: the output turns against the crank")
     return "\n".join(lines) + "\n"
+
+
+def _pointer_kind(target: Target | None) -> str | None:
+    """The pointer kind that shows the target's cycle, if the target is a named cycle."""
+    if target is None or target.cycle is None:
+        return None
+    for kind, frames in POINTER_PERIOD.items():
+        if target.cycle.key in frames.values():
+            return kind
+    return None
 
 
 def result_to_dict(res: TrainResult) -> dict:

@@ -276,6 +276,18 @@ def test_fragment_is_valid_toml(ratio):
     assert text.startswith("#") and ratio in text
 
 
+def test_fragment_suggests_a_pointer_for_a_cycle():
+    target = make_target(cycle="synodic month")
+    best = search(target, make_constraints(stages=1), top=1).results[0]
+    text = emit_fragment(best, target, prefix="moon")
+    uncommented = "\n".join(line[2:] if line.startswith("# ") and "=" in line or
+                            line.startswith("# [") else line for line in text.splitlines())
+    doc = tomllib.loads(uncommented)
+    pointer = doc["pointers"]["moon_phase"]
+    assert pointer["shows"] == "phase" and pointer["arbor"] == "moon_out"
+    assert pointer["reversed"] is True  # one stage turns the output against the crank
+
+
 def test_fragment_rejects_bad_prefix():
     best = search(make_target(ratio="1/2"), make_constraints(stages=1), top=1).results[0]
     with pytest.raises(SearchError, match="prefix"):
