@@ -238,8 +238,8 @@ def _load(path: str) -> _Loaded:
 
 _TENTH_UAS = ASEC2RAD / 1e7
 _NUT_MULT = np.ascontiguousarray(nals_t[:77], dtype=np.float32)
-_NUT_PSI = np.ascontiguousarray(lunisolar_longitude_coefficients[:77].T, dtype=np.float32)
-_NUT_EPS = np.ascontiguousarray(lunisolar_obliquity_coefficients[:77].T, dtype=np.float32)
+_NUT_PSI = np.ascontiguousarray(lunisolar_longitude_coefficients[:77].T)
+_NUT_EPS = np.ascontiguousarray(lunisolar_obliquity_coefficients[:77].T)
 _FA0, _FA1 = fa0[:, 0], fa1[:, 0]
 
 
@@ -255,7 +255,9 @@ def _nutation_2000b(jd_tt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     arg = _NUT_MULT[:, 0, None] * a[0]
     for j in range(1, 5):
         arg += _NUT_MULT[:, j, None] * a[j]
-    s, c = np.sin(arg), np.cos(arg)
+    # Sum in double precision: a single-precision product would round differently for
+    # different array lengths, and scalar and array inputs must give the same numbers.
+    s, c = np.sin(arg).astype(float), np.cos(arg).astype(float)
     ps, pc = _NUT_PSI @ s, _NUT_PSI @ c
     es, ec = _NUT_EPS @ s, _NUT_EPS @ c
     dpsi = ps[0] + ps[1] * t + pc[2] - 0.000135e7
