@@ -1,0 +1,153 @@
+"""``wheelwork check``: can the train be built — centre distances, positions, speeds, loads."""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import json
+from fractions import Fraction
+
+from rich import box
+from rich.console import Console
+from rich.table import Table
+
+from engine.kinematics import solve
+from engine.loader import load_train
+from engine.mechanics import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
+
+NAME = "check"
+HELP = ("Check that a train can be built: centre distances, positions, overlaps, arbor speeds "
+        "and loads, tooth-count rules of thumb, pin-and-slot slots.")
+
+_STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan"}
+
+
+def _rpm(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+    if not value > 0 or value == float("inf"):
+        raise argparse.ArgumentTypeError(f"must be a positive number, got {text}")
+    return value
+
+
+def _efficiency(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+    if not 0 < value <= 1:
+        raise argparse.ArgumentTypeError(f"must be above 0 and at most 1, got {text}")
+    return value
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("train", metavar="TRAIN", help="train file (TOML)")
+    parser.add_argument("--crank-rpm", type=_rpm, default=None, metavar="N",
+                        help=f"highest crank speed to evaluate, turns per minute (default "
+                        f"{DEFAULT_CRANK_RPM:g}: one turn a second by hand)")
+    parser.add_argument("--efficiency", type=_efficiency, default=None, metavar="E",
+                        help=f"efficiency of each mesh, 0-1 (default {DEFAULT_EFFICIENCY:g}, a "
+                        "common rule for cut spur gears)")
+    parser.add_argument("--strict", action="store_true",
+                        help="exit 1 when any error is found (default: exit 0 and list them)")
+    parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    train = load_train(args.train)
+    report = check(train, solve(train), crank_rpm=args.crank_rpm, efficiency=args.efficiency)
+    if args.json:
+        console.print(json.dumps(report_to_dict(report), indent=2, ensure_ascii=False),
+                      markup=False, highlight=False)
+    else:
+        _print(report, console)
+    return 1 if args.strict and report.has_errors else 0
+
+
+def _jsonable(value):
+    if isinstance(value, Fraction):
+        return f"{value.numerator}/{value.denominator}" if value.denominator != 1 \
+            else str(value.numerator)
+    if isinstance(value, dict):
+        return {k: _jsonable(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [_jsonable(v) for v in value]
+    return value
+
+
+def report_to_dict(report: CheckReport) -> dict:
+    """The report as JSON-ready data; exact fractions as "p/q" strings."""
+    out = _jsonable(dataclasses.asdict(report))
+    for a, row in zip(report.arbors, out["arbors"], strict=True):
+        row["turns_per_crank_float"] = float(a.turns_per_crank)
+    out["counts"] = {lv: report.count(lv) for lv in ("error", "warning", "note")}
+    return out
+
+
+def _opt(x: float | None, spec: str = ".3g") -> str:
+    return "—" if x is None else format(x, spec)
+
+
+def _num(x: float | None) -> str:
+    if x is None:
+        return "—"
+    return f"{x:.4g}" if abs(x) < 10000 else f"{x:,.0f}"
+
+
+def _frac(x: Fraction) -> str:
+    return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
+
+
+def _print(report: CheckReport, console: Console) -> None:
+    console.print(f"[bold]{report.train}[/] — mechanical check at up to {report.crank_rpm:g} "
+                  f"rpm on '{report.crank_arbor}', {report.efficiency:g} per stage")
+    meshes = Table(title="meshes", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
+                   caption="d: pitch diameters m·z; a: centre distance; held by: the frame or "
+                   "carrier holding both axes; force: tangential tooth force per N·m at the "
+                   "crank")
+    for col, just in (("#", "right"), ("wheels", "left"), ("teeth", "right"), ("m", "right"),
+                      ("d mm", "right"), ("a mm", "right"), ("held by", "left"),
+                      ("ratio", "right"), ("m/s", "right"), ("force N", "right")):
+        meshes.add_column(col, justify=just, no_wrap=col not in ("wheels", "held by"),
+                          overflow="fold")
+    for m in report.meshes:
+        kind = " int" if m.internal else ""
+        d = "—" if m.driver_pitch_mm is None else f"{m.driver_pitch_mm:g}\n{m.driven_pitch_mm:g}"
+        meshes.add_row(str(m.index), f"{m.driver}\n{m.driven}{kind}",
+                       f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
+                       _opt(m.centre_mm, ".4g"), m.reference,
+                       _frac(m.ratio) + (" up" if m.step_up else ""),
+                       _opt(m.pitch_speed_m_s), _num(m.tooth_force_n))
+    console.print(meshes)
+    arbors = Table(title="arbors", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
+                   caption="turns per crank turn (exact) and per year, relative to the frame; "
+                   "torque: times the crank torque when this arbor is the only load, ideal and "
+                   "with losses over its stages; sense: + with the crank, − against it, 0 still, ↑ driven by a "
+                   "step-up stage")
+    for col, just in (("arbor", "left"), ("turns/crank", "right"), ("turns/yr", "right"),
+                      ("sense", "left"), ("rpm max", "right"), ("torque ideal", "right"),
+                      ("torque", "right")):
+        arbors.add_column(col, justify=just, no_wrap=col not in ("arbor", "sense"),
+                          overflow="fold")
+    for a in report.arbors:
+        sense = {"with the crank": "+", "against the crank": "−"}.get(a.direction, "0")
+        arbors.add_row(a.name, _frac(a.turns_per_crank), f"{a.turns_per_year:.6g}",
+                       sense + (" ↑" if a.step_up else ""), _num(a.rpm_max),
+                       _num(a.torque_ideal), _num(a.torque))
+    console.print(arbors)
+    for p in report.pin_slots:
+        console.print(f"pin-and-slot [bold]{p.name}[/]: slot {p.slot_length_mm:.3g} mm long "
+                      f"({p.slot_inner_mm:.3g}–{p.slot_outer_mm:.3g} mm from the slot axis, pin "
+                      f"Ø {p.pin_diameter_mm:g} mm assumed); lead up to ±{p.max_lead_deg:.3g}°; "
+                      f"speed ×{p.speed_factor_min:.4g} to ×{p.speed_factor_max:.4g}",
+                      markup=True)
+    counts = ", ".join(f"{report.count(lv)} {lv}{'s' if report.count(lv) != 1 else ''}"
+                       for lv in ("error", "warning", "note"))
+    console.print(f"[bold]findings[/]: {counts}")
+    for f in report.findings:
+        console.print(f"[{_STYLE[f.level]}]{f.level}[/] ", end="")
+        console.print(f"{f.item}: {f.message}", markup=False)
+        console.print(f"    → {f.fix}", markup=False)
+    console.print(f"[dim]{report.caveat}[/]")

@@ -1,0 +1,789 @@
+"""Mechanical checks of a train: centre distances, positions, speeds, loads and tooth counts.
+
+:func:`check` takes a loaded train and its solved kinematics and returns a :class:`CheckReport`
+of plain dataclasses: one row per mesh, one per arbor, one per pin-and-slot stage, and a list of
+:class:`Finding` (one line each, with what to change). It does no time series work and is cheap
+enough to run on every edit. The rules are described, with their sources, in ``docs/checks.md``.
+
+Geometry is standard spur-gear geometry (ISO 21771 notation): pitch diameter ``d = m z``, centre
+distance ``a = m (z1 + z2) / 2`` for an external pair and ``m (z_ring - z_pinion) / 2`` for an
+internal one, tip diameter ``d + 2 m`` (external, addendum 1 m). Speeds, torques and loads are
+design estimates (see :data:`CAVEAT`).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+from engine.kinematics import Kinematics, slot_follower_turns
+from engine.periods import PERIODS
+from engine.train import FRAME, Train
+
+# --- defaults and rules of thumb (each with where it comes from) -----------------------------
+
+DEFAULT_CRANK_RPM = 60.0
+"""Highest crank speed evaluated: one turn a second, a brisk hand crank (common practice, no
+source). A clock-driven train never gets near it; it is the speed of someone setting by hand."""
+
+DEFAULT_EFFICIENCY = 0.98
+"""Efficiency of one mesh of cut spur gears, a common rule (common practice, no source)."""
+
+DEFAULT_PIN_DIAMETER_MM = 1.0
+"""Pin diameter assumed for pin-and-slot stages: the train file has no key for it (yet)."""
+
+PRESSURE_ANGLE_DEG = 20.0
+UNDERCUT_TEETH = 2.0 / math.sin(math.radians(PRESSURE_ANGLE_DEG)) ** 2
+"""Fewest involute teeth cut without undercut at 20° and addendum 1 m: z_min = 2 / sin²α ≈ 17.1
+(standard gear geometry). The usual rule rounds it to 17 teeth."""
+
+UNDERCUT_RULE_TEETH = 17
+
+MIN_LEAVES = 6
+PREFERRED_LEAVES = 8
+"""Clock pinions: 6 leaves is the least that runs at all smoothly, 8 or more is preferred
+(rule of thumb, common practice, no source)."""
+
+MAX_TEETH = 300
+"""Largest practical tooth count on one blank (our rule): beyond it indexing needs compound
+division and spacing errors pile up (common practice, no source)."""
+
+FINE_MODULE_MM = 0.5
+FINE_WHEEL_MAX_PITCH_MM = 120.0
+"""A fine-toothed wheel (module 0.5 mm or less) larger than 120 mm across must be kept so flat
+and true that its runout stays within a small part of its 2.25 m tooth depth (our rule, common
+practice, no source)."""
+
+FAST_ARBOR_X_CRANK = 10.0
+"""A hand-cranked train that makes an arbor turn more than 10 times as fast as the crank is
+heavy to turn and wears that arbor's pinions (rule of thumb, common practice, no source)."""
+
+PITCH_SPEED_LIMIT_M_S = 1.0
+"""Pitch-line speed above which small, unhardened instrument gears want lubrication and
+accurate teeth (our rule of thumb, common practice, no source)."""
+
+TOLERANCE_MM = 0.02
+"""Centre distances and positions that agree within 0.02 mm are taken as equal (about the
+backlash of fine clock wheels; common practice, no source)."""
+
+CAVEAT = ("Speeds, torques and tooth loads are design estimates from ideal geometry and rules "
+          "of thumb; for anything that bears load or is shown to the public, size and check "
+          "the parts by proper engineering practice and local rules.")
+
+LEVELS = ("error", "warning", "note")
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One thing to look at: ``level`` (error|warning|note), the ``item`` it concerns (as the
+    file names it), a one-line ``message`` and a one-line ``fix``."""
+
+    level: str
+    item: str
+    message: str
+    fix: str
+
+    def line(self) -> str:
+        return f"{self.level}: {self.item}: {self.message} — {self.fix}"
+
+
+@dataclass(frozen=True)
+class MeshCheck:
+    """Geometry and load of one mesh. Lengths in mm; ``None`` where the module is not given.
+
+    ``upstream`` is the wheel the power comes from (as the solver reaches the train from the
+    crank); ``ratio`` is downstream turns per upstream turn relative to ``reference`` (the frame
+    or the carrier holding both axes), signed. ``tooth_force_n`` is the tangential tooth force
+    per N·m of torque at the crank, and ``load_index`` that force per mm² of module squared
+    (faces taken proportional to the module) — for ranking the stages only.
+    """
+
+    index: int
+    label: str
+    driver: str
+    driven: str
+    driver_teeth: int
+    driven_teeth: int
+    internal: bool
+    reference: str
+    upstream: str
+    downstream: str
+    ratio: Fraction
+    step_up: bool
+    module_mm: float | None
+    driver_pitch_mm: float | None
+    driven_pitch_mm: float | None
+    centre_mm: float | None
+    pitch_speed_m_s: float | None
+    tooth_force_n: float | None
+    load_index: float | None
+
+
+@dataclass(frozen=True)
+class ArborCheck:
+    """Speed and load of one arbor, relative to the frame.
+
+    ``turns_per_crank`` is exact (mean, for arbors behind a pin-and-slot); ``speed_range`` the
+    least and greatest turns per crank turn including pin-and-slot variation; ``rpm_max`` the
+    highest speed at the report's crank rpm. Torques are relative to the crank's torque, when
+    this arbor is the only load: ``torque_ideal = 1 / |turns_per_crank|`` (virtual work), and
+    ``torque = efficiency / |turns_per_crank|`` with ``efficiency`` = (per-stage efficiency) to
+    the power of ``stages``, the number of meshes and pin-and-slot stages its motion depends on.
+    ``None`` for arbors that stand still (their torque is a reaction the train cannot give).
+    """
+
+    name: str
+    mount: str
+    turns_per_crank: Fraction
+    turns_per_year: float
+    direction: str
+    speed_range: tuple[float, float]
+    rpm_max: float
+    stages: int
+    efficiency: float
+    torque_ideal: float | None
+    torque: float | None
+    step_up: bool
+
+
+@dataclass(frozen=True)
+class PinSlotCheck:
+    """A pin-and-slot stage: the slot it needs and the speed variation it makes.
+
+    The slot spans ``slot_inner_mm`` to ``slot_outer_mm`` from the slot arbor's axis
+    (``r - e - d/2`` to ``r + e + d/2``), ``slot_length_mm = 2 e + d``. The slot arbor turns,
+    relative to the mount, between ``speed_factor_min = r / (r + e)`` and
+    ``speed_factor_max = r / (r - e)`` times the pin arbor's speed, and leads or lags it by up to
+    ``max_lead_deg = asin(e / r)``.
+    """
+
+    name: str
+    pin_arbor: str
+    slot_arbor: str
+    pin_radius_mm: float
+    offset_mm: float
+    pin_diameter_mm: float
+    slot_length_mm: float
+    slot_inner_mm: float
+    slot_outer_mm: float
+    max_lead_deg: float
+    speed_factor_min: float
+    speed_factor_max: float
+
+
+@dataclass
+class CheckReport:
+    """Everything :func:`check` found. ``caveat`` is the estimates line to show with it."""
+
+    train: str
+    source: str
+    crank_arbor: str
+    crank_rpm: float
+    efficiency: float
+    pin_diameter_mm: float
+    meshes: list[MeshCheck] = field(default_factory=list)
+    arbors: list[ArborCheck] = field(default_factory=list)
+    pin_slots: list[PinSlotCheck] = field(default_factory=list)
+    findings: list[Finding] = field(default_factory=list)
+    caveat: str = CAVEAT
+
+    def count(self, level: str) -> int:
+        return sum(f.level == level for f in self.findings)
+
+    @property
+    def has_errors(self) -> bool:
+        return any(f.level == "error" for f in self.findings)
+
+
+# --- small geometry helpers ----------------------------------------------------------------
+
+def pitch_diameter_mm(module_mm: float, teeth: int) -> float:
+    """d = m z (standard spur-gear geometry)."""
+    return module_mm * teeth
+
+
+def centre_distance_mm(module_mm: float, z1: int, z2: int, internal: bool = False) -> float:
+    """a = m (z1 + z2) / 2 external, m |z2 - z1| / 2 internal (standard spur-gear geometry)."""
+    return module_mm * (abs(z2 - z1) if internal else z1 + z2) / 2.0
+
+
+def undercut_shift(teeth: int) -> float:
+    """Least profile shift coefficient avoiding undercut: x = 1 - z sin²α / 2 (standard)."""
+    return 1.0 - teeth * math.sin(math.radians(PRESSURE_ANGLE_DEG)) ** 2 / 2.0
+
+
+def slot_speed_factors(pin_radius_mm: float, offset_mm: float) -> tuple[float, float]:
+    """Least and greatest slot-arbor speed over pin-arbor speed: r/(r+e), r/(r-e).
+
+    From the follower angle φ = atan2(r sin t, r cos t - e): dφ/dt = r (r - e cos t) /
+    (r² + e² - 2 r e cos t), which rises monotonically with cos t, so its extremes are at the
+    pin nearest the slot axis (t = 0: r/(r-e)) and farthest from it (t = π: r/(r+e)).
+    """
+    r, e = pin_radius_mm, offset_mm
+    return r / (r + e), r / (r - e)
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.3g}" if abs(x) < 1000 else f"{x:,.0f}"
+
+
+def _mm(x: float) -> str:
+    return f"{x:.3f}".rstrip("0").rstrip(".") + " mm"
+
+
+def _frac(x: Fraction) -> str:
+    return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
+
+
+# --- power flow ----------------------------------------------------------------------------
+
+def _power_flow(train: Train, kin: Kinematics):
+    """Reach the train from the crank: each arbor's upstream stages, each mesh's driving arbor.
+
+    A mesh passes motion on when one of its arbors and its reference (frame or carrier) are
+    reached; a pin-and-slot passes it from pin to slot; a fixed arbor follows its mount. Where
+    nothing can pass alone (a differential adding two inputs), the unreached arbors joined by
+    meshes are taken together, depending on every stage that touches them.
+    """
+    deps: dict[str, frozenset] = {FRAME: frozenset(), train.crank.arbor: frozenset()}
+    upstream: dict[int, str] = {}
+    frames = {f.mesh_index: f for f in kin.mesh_frames}
+    while len(deps) < len(train.arbors) + 1:
+        progress = True
+        while progress:
+            progress = False
+            for a in train.arbors.values():
+                if a.name not in deps and a.fixed and a.mount in deps:
+                    deps[a.name] = deps[a.mount]
+                    progress = True
+            for f in frames.values():
+                if f.reference not in deps:
+                    continue
+                have1, have2 = f.arbor1 in deps, f.arbor2 in deps
+                if have1 != have2:
+                    src, dst = (f.arbor1, f.arbor2) if have1 else (f.arbor2, f.arbor1)
+                    deps[dst] = deps[src] | deps[f.reference] | {("mesh", f.mesh_index)}
+                    upstream[f.mesh_index] = src
+                    progress = True
+            for ps in train.pin_slots.values():
+                mount = train.arbors[ps.pin_arbor].mount
+                if ps.slot_arbor not in deps and ps.pin_arbor in deps and mount in deps:
+                    deps[ps.slot_arbor] = (deps[ps.pin_arbor] | deps[mount]
+                                           | {("slot", ps.name)})
+                    progress = True
+        missing = [n for n in train.arbors if n not in deps]
+        if not missing:
+            break
+        # Differential: group the unreached arbors linked by meshes (or by a carrier).
+        parent = {n: n for n in missing}
+
+        def find(n):
+            while parent[n] != n:
+                parent[n] = parent[parent[n]]
+                n = parent[n]
+            return n
+
+        for f in frames.values():
+            ends = [x for x in (f.arbor1, f.arbor2, f.reference) if x in parent]
+            for x in ends[1:]:
+                parent[find(x)] = find(ends[0])
+        for a in missing:
+            if train.arbors[a].mount in parent:
+                parent[find(a)] = find(train.arbors[a].mount)
+        groups: dict[str, set[str]] = {}
+        for n in missing:
+            groups.setdefault(find(n), set()).add(n)
+        for members in groups.values():
+            got = frozenset()
+            for f in frames.values():
+                ends = {f.arbor1, f.arbor2, f.reference}
+                if ends & members:
+                    got |= {("mesh", f.mesh_index)}
+                    for x in ends - members:
+                        got |= deps.get(x, frozenset())
+                    for x in (f.arbor1, f.arbor2):
+                        if x not in members and f.mesh_index not in upstream:
+                            upstream[f.mesh_index] = x
+            for n in members:
+                deps[n] = got
+    return deps, upstream
+
+
+# --- the check -----------------------------------------------------------------------------
+
+def check(train: Train, kin: Kinematics, *, crank_rpm: float | None = None,
+          efficiency: float | None = None,
+          pin_diameter_mm: float = DEFAULT_PIN_DIAMETER_MM) -> CheckReport:
+    """Check a solved train's geometry, speeds and loads; see the module docstring.
+
+    ``crank_rpm`` is the highest crank speed to evaluate (default :data:`DEFAULT_CRANK_RPM`),
+    ``efficiency`` the efficiency of each mesh and pin-and-slot stage (default
+    :data:`DEFAULT_EFFICIENCY`).
+    """
+    crank_rpm = DEFAULT_CRANK_RPM if crank_rpm is None else float(crank_rpm)
+    efficiency = DEFAULT_EFFICIENCY if efficiency is None else float(efficiency)
+    if not (math.isfinite(crank_rpm) and crank_rpm > 0):
+        raise ValueError(f"crank rpm must be a positive number, got {crank_rpm}")
+    if not (math.isfinite(efficiency) and 0 < efficiency <= 1):
+        raise ValueError(f"efficiency must be above 0 and at most 1, got {efficiency}")
+    report = CheckReport(train.name, train.source, train.crank.arbor, crank_rpm, efficiency,
+                         pin_diameter_mm)
+    findings = report.findings
+    deps, upstream = _power_flow(train, kin)
+    pin_checks = _pin_slots(train, pin_diameter_mm, findings)
+    report.pin_slots = pin_checks
+    report.arbors = _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, efficiency,
+                            findings)
+    report.meshes = _meshes(train, kin, upstream, report.arbors, crank_rpm, findings)
+    modules = _wheel_modules(train, findings)
+    groups = _axis_groups(train, kin)
+    _shared_axes(train, groups, findings)
+    _positions(train, groups, modules, findings)
+    _teeth_rules(train, modules, findings)
+    _load_rules(report, findings)
+    missing = [m.index for m in train.meshes if m.module_mm is None]
+    if missing:
+        nums = ", ".join(str(i) for i in missing)
+        findings.append(Finding(
+            "note", "meshes", f"mesh{'es' if len(missing) > 1 else ''} {nums} "
+            f"{'have' if len(missing) > 1 else 'has'} no module_mm, so centre distances, "
+            "positions, overlaps and tooth loads there are not checked",
+            "add module_mm to each [[meshes]] table to check its geometry"))
+    order = {lv: i for i, lv in enumerate(LEVELS)}
+    findings.sort(key=lambda f: order[f.level])
+    return report
+
+
+def _pin_slots(train: Train, pin_d: float, findings: list[Finding]) -> list[PinSlotCheck]:
+    out = []
+    for ps in train.pin_slots.values():
+        r, e = ps.pin_radius_mm, ps.offset_mm
+        lo, hi = slot_speed_factors(r, e)
+        c = PinSlotCheck(ps.name, ps.pin_arbor, ps.slot_arbor, r, e, pin_d, 2 * e + pin_d,
+                         r - e - pin_d / 2, r + e + pin_d / 2, math.degrees(math.asin(e / r)),
+                         lo, hi)
+        out.append(c)
+        item = f"[pin_slots.{ps.name}]"
+        findings.append(Finding(
+            "note", item, f"the slot must let the pin travel {_mm(c.slot_length_mm)} "
+            f"(2 × {_mm(e)} offset + {_mm(pin_d)} pin, diameter assumed), from "
+            f"{_mm(c.slot_inner_mm)} to {_mm(c.slot_outer_mm)} from the slot arbor's axis",
+            f"cut the slot at least {_mm(c.slot_length_mm)} long plus running clearance; "
+            f"for another pin diameter d use 2 × {_mm(e)} + d"))
+        findings.append(Finding(
+            "note", item, f"'{ps.slot_arbor}' leads or lags '{ps.pin_arbor}' by up to "
+            f"{c.max_lead_deg:.3g}° and turns between {lo:.4g} and {hi:.4g} times its speed "
+            "(relative to their mount); every arbor it drives varies the same way",
+            f"change offset_mm to tune it: lead asin(e/r), speed r/(r+e) to r/(r-e)"))
+        if c.slot_inner_mm <= 0:
+            findings.append(Finding(
+                "warning", item, f"the slot would reach the slot arbor's axis (inner end "
+                f"{_mm(c.slot_inner_mm)}): the pin passes over the arbor",
+                f"make pin_radius_mm at least {_mm(e + pin_d / 2 + 0.5)} or use a slot "
+                "plate clear of the arbor end"))
+    return out
+
+
+def _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, eff, findings):
+    year_turns = PERIODS["tropical_year"].days / float(train.crank.days_per_turn)
+    pins = {p.name: p for p in pin_checks}
+    stepped = set()
+    for f in kin.mesh_frames:
+        src = upstream.get(f.mesh_index)
+        if src is None:
+            continue
+        up, down = _ends(train, f.mesh_index, src)
+        if up.teeth > down.teeth:
+            stepped.add(down.arbor)
+    out = []
+    for name, a in train.arbors.items():
+        lin = kin.linear_of(name)
+        rate = lin.crank
+        lo = hi = float(rate)
+        for k, sname in enumerate(kin.slot_names):
+            w = lin.slots[k]
+            if not w:
+                continue
+            ps = train.pin_slots[sname]
+            pin_rel = float(kin.rate(ps.pin_arbor, train.arbors[ps.pin_arbor].mount
+                                     if train.arbors[ps.pin_arbor].mount != FRAME else None))
+            ends = [float(w) * (fac - 1.0) * pin_rel for fac in
+                    (pins[sname].speed_factor_min, pins[sname].speed_factor_max)]
+            lo += min(ends)
+            hi += max(ends)
+        n = len(deps.get(name, ()))
+        e = eff ** n
+        still = rate == 0
+        direction = ("still" if still else "with the crank" if rate > 0 else
+                     "against the crank")
+        out.append(ArborCheck(
+            name, a.mount, rate, float(rate) * year_turns, direction, (lo, hi),
+            max(abs(lo), abs(hi)) * crank_rpm, n, e,
+            None if still else float(1 / abs(rate)), None if still else e / abs(float(rate)),
+            name in stepped))
+        if abs(rate) > FAST_ARBOR_X_CRANK:
+            findings.append(Finding(
+                "warning", f"[arbors.{name}]", f"turns {_fmt(abs(float(rate)))} times as fast "
+                f"as the crank ({_fmt(max(abs(lo), abs(hi)) * crank_rpm)} rpm at "
+                f"{_fmt(crank_rpm)} rpm): a step-up of more than {FAST_ARBOR_X_CRANK:g}:1 "
+                "is heavy to crank by hand and wears its pinions (rule of thumb)",
+                "move the crank to a faster arbor, or drive this arbor from a slower one"))
+    return out
+
+
+def _ends(train: Train, mesh_index: int, src_arbor: str):
+    m = train.meshes[mesh_index - 1]
+    w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+    return (w1, w2) if w1.arbor == src_arbor else (w2, w1)
+
+
+def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
+    by_name = {a.name: a for a in arbors}
+    frames = {f.mesh_index: f for f in kin.mesh_frames}
+    out = []
+    for m in train.meshes:
+        f = frames[m.index]
+        src = upstream.get(m.index, train.wheels[m.driver].arbor)
+        up, down = _ends(train, m.index, src)
+        ratio = Fraction(up.teeth, down.teeth) * f.sign
+        step_up = up.teeth > down.teeth
+        mod = m.module_mm
+        d1 = d2 = a = v = force = load = None
+        if mod is not None:
+            d1 = pitch_diameter_mm(mod, train.wheels[m.driver].teeth)
+            d2 = pitch_diameter_mm(mod, train.wheels[m.driven].teeth)
+            a = centre_distance_mm(mod, train.wheels[m.driver].teeth,
+                                   train.wheels[m.driven].teeth, m.internal)
+            rel = abs(float(kin.rate(up.arbor, f.reference if f.reference != FRAME else None)))
+            d_up = pitch_diameter_mm(mod, up.teeth)
+            v = math.pi * d_up / 1000.0 * rel * crank_rpm / 60.0
+            t_up = by_name[up.arbor].torque
+            if t_up is not None:
+                force = 2.0 * t_up / (d_up / 1000.0)
+                load = force / mod ** 2
+        out.append(MeshCheck(m.index, m.label, m.driver, m.driven, train.wheels[m.driver].teeth,
+                             train.wheels[m.driven].teeth, m.internal, f.reference, up.name,
+                             down.name, ratio, step_up, mod, d1, d2, a, v, force, load))
+        if step_up:
+            findings.append(Finding(
+                "note", m.label, f"step-up stage: '{up.name}' ({up.teeth}) drives "
+                f"'{down.name}' ({down.teeth}) {_fmt(up.teeth / down.teeth)} times faster; "
+                "step-up stages multiply the friction felt at the crank",
+                "fine if intended; otherwise drive the train from the faster side"))
+        if v is not None and v > PITCH_SPEED_LIMIT_M_S:
+            findings.append(Finding(
+                "warning", m.label, f"pitch-line speed {_fmt(v)} m/s at {_fmt(crank_rpm)} rpm "
+                f"crank, above {PITCH_SPEED_LIMIT_M_S:g} m/s for small unhardened gears "
+                "(rule of thumb)", "lubricate and cut accurate teeth, use smaller wheels on the "
+                "fast arbor, or crank more slowly"))
+    return out
+
+
+def _wheel_modules(train: Train, findings: list[Finding]) -> dict[str, float]:
+    """The module of every wheel in a mesh with module_mm; a wheel with two modules is an error."""
+    modules: dict[str, tuple[float, int]] = {}
+    for m in train.meshes:
+        if m.module_mm is None:
+            continue
+        for w in (m.driver, m.driven):
+            if w in modules and abs(modules[w][0] - m.module_mm) > 1e-9:
+                first, at = modules[w]
+                findings.append(Finding(
+                    "error", m.label, f"wheel '{w}' is cut at module {first:g} mm for mesh "
+                    f"{at} but meshes here at module {m.module_mm:g} mm: one wheel has one "
+                    "module", f"make this mesh's module_mm {first:g}, or give the two meshes "
+                    "separate wheels"))
+            else:
+                modules.setdefault(w, (m.module_mm, m.index))
+    return {w: v[0] for w, v in modules.items()}
+
+
+def _axis_groups(train: Train, kin: Kinematics) -> dict[str, str]:
+    """Arbors sharing one axis: ``axis_with``, and an arbor meshing with a wheel on a carrier
+    while sitting on the carrier's own mount (a sun wheel on the carrier's axis)."""
+    parent = {n: n for n in train.arbors}
+
+    def find(n):
+        while parent[n] != n:
+            parent[n] = parent[parent[n]]
+            n = parent[n]
+        return n
+
+    for a in train.arbors.values():
+        if a.axis_with:
+            parent[find(a.name)] = find(a.axis_with)
+    for f in kin.mesh_frames:
+        if f.reference == FRAME:
+            continue
+        for x in (f.arbor1, f.arbor2):
+            if x != f.reference and train.arbors[x].mount == train.arbors[f.reference].mount:
+                parent[find(x)] = find(f.reference)
+    return {n: find(n) for n in train.arbors}
+
+
+def _axis_names(train: Train, groups: dict[str, str], root: str) -> str:
+    names = [n for n in train.arbors if groups[n] == root]
+    return "/".join(names)
+
+
+def _shared_axes(train: Train, groups: dict[str, str], findings: list[Finding]) -> None:
+    """Every pair of axes has one distance: meshes (and pin offsets) between them must agree."""
+    pairs: dict[frozenset, list[tuple[str, float, object]]] = {}
+    for m in train.meshes:
+        if m.module_mm is None:
+            continue
+        w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+        g1, g2 = groups[w1.arbor], groups[w2.arbor]
+        a = centre_distance_mm(m.module_mm, w1.teeth, w2.teeth, m.internal)
+        if g1 == g2:
+            findings.append(Finding(
+                "error", m.label, f"'{w1.arbor}' and '{w2.arbor}' share one axis, yet this mesh "
+                f"needs their axes {_mm(a)} apart", "remove the axis_with that puts them on one "
+                "axis, or mesh the wheel with an arbor on another axis"))
+            continue
+        pairs.setdefault(frozenset((g1, g2)), []).append((m.label, a, m))
+    for ps in train.pin_slots.values():
+        g1, g2 = groups[ps.pin_arbor], groups[ps.slot_arbor]
+        if g1 == g2:
+            if ps.offset_mm > TOLERANCE_MM:
+                findings.append(Finding(
+                    "error", f"[pin_slots.{ps.name}]", f"pin and slot arbors share one axis, "
+                    f"yet their axes must be {_mm(ps.offset_mm)} apart",
+                    "put the slot arbor on an axis of its own"))
+            continue
+        pairs.setdefault(frozenset((g1, g2)), []).append(
+            (f"[pin_slots.{ps.name}]", ps.offset_mm, ps))
+    for key, items in pairs.items():
+        if len(items) < 2:
+            continue
+        first_label, a0, _ = items[0]
+        axes = " and ".join(_axis_names(train, groups, g) for g in sorted(key))
+        for label, a, obj in items[1:]:
+            gap = a - a0
+            if abs(gap) <= TOLERANCE_MM:
+                continue
+            findings.append(Finding(
+                "error", label, f"the axes of {axes} are {_mm(a0)} apart for {first_label} but "
+                f"{_mm(a)} apart here: {_mm(abs(gap))} {'too far' if gap > 0 else 'too close'}",
+                _distance_fix(train, obj, a0)))
+
+
+def _distance_fix(train: Train, obj, want_mm: float) -> str:
+    """What to change in a mesh (or pin offset) to make its centre distance ``want_mm``."""
+    if not hasattr(obj, "module_mm"):
+        return f"set offset_mm to {want_mm:g}, or change the meshes to suit this offset"
+    m = obj
+    w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+    need = 2.0 * want_mm / m.module_mm
+    fixes = []
+    if abs(need - round(need)) < 1e-6:
+        s = round(need)
+        if m.internal:
+            ring, other = (w1, w2) if m.ring == w1.name else (w2, w1)
+            z = s + other.teeth
+            if z > other.teeth:
+                fixes.append(f"make '{ring.name}' {z} teeth (ring minus pinion = {s})")
+        else:
+            z = s - w1.teeth
+            if z > 0:
+                fixes.append(f"make '{w2.name}' {z} teeth (tooth sum {s})")
+    span = abs(w1.teeth - w2.teeth) if m.internal else w1.teeth + w2.teeth
+    fixes.append(f"{'or ' if fixes else ''}cut this mesh at module "
+                 f"{2.0 * want_mm / span:.4g} mm, which keeps the ratio")
+    return ", ".join(fixes) + (" (a tooth change alters the ratio: check it with ratios)"
+                               if len(fixes) > 1 else "")
+
+
+def _positions(train: Train, groups, modules, findings: list[Finding]) -> None:
+    """Compare given ``at_mm`` positions with the centre distances, and look for fouling."""
+    pos: dict[str, tuple[float, float]] = {}
+    for a in train.arbors.values():
+        if a.at_mm is not None:
+            pos[a.name] = a.at_mm
+    for a in train.arbors.values():  # coaxial arbors without a position take their partner's
+        if a.name not in pos and a.axis_with in pos and \
+                train.arbors[a.axis_with].mount == a.mount:
+            pos[a.name] = pos[a.axis_with]
+    if not pos:
+        return
+    for a in train.arbors.values():
+        b = a.axis_with
+        if b and a.at_mm is not None and train.arbors[b].at_mm is not None and \
+                train.arbors[b].mount == a.mount:
+            gap = math.dist(a.at_mm, train.arbors[b].at_mm)
+            if gap > TOLERANCE_MM:
+                findings.append(Finding(
+                    "error", f"[arbors.{a.name}]", f"is on the axis of '{b}' but placed "
+                    f"{_mm(gap)} from it", f"set at_mm to {list(train.arbors[b].at_mm)} or "
+                    "drop one of the two positions"))
+
+    def placed(x: str, y: str) -> bool:
+        return x in pos and y in pos and train.arbors[x].mount == train.arbors[y].mount
+
+    for m in train.meshes:
+        w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+        if m.module_mm is None or not placed(w1.arbor, w2.arbor):
+            continue
+        a = centre_distance_mm(m.module_mm, w1.teeth, w2.teeth, m.internal)
+        p1, p2 = pos[w1.arbor], pos[w2.arbor]
+        dist = math.dist(p1, p2)
+        gap = dist - a
+        if abs(gap) <= TOLERANCE_MM:
+            continue
+        if dist > 0:
+            k = a / dist
+            at = [round(p1[0] + (p2[0] - p1[0]) * k, 3), round(p1[1] + (p2[1] - p1[1]) * k, 3)]
+            fix = f"move '{w2.arbor}' to at_mm = {at}"
+        else:
+            fix = f"move '{w2.arbor}' {_mm(a)} away from '{w1.arbor}'"
+        dz = 2.0 * gap / m.module_mm
+        if abs(dz - round(dz)) < 0.05 and round(dz) != 0:
+            z = w2.teeth + round(dz) * (-1 if m.internal and m.ring == w2.name else 1)
+            if z > 0:
+                fix += f", or make '{w2.name}' {z} teeth to close the {_mm(abs(gap))} " \
+                       f"{'gap' if gap > 0 else 'overlap'}"
+        findings.append(Finding(
+            "error", m.label, f"the axes are placed {_mm(dist)} apart but the wheels need "
+            f"{_mm(a)}: {_mm(abs(gap))} {'too far' if gap > 0 else 'too close'}", fix))
+    for ps in train.pin_slots.values():
+        if placed(ps.pin_arbor, ps.slot_arbor):
+            dist = math.dist(pos[ps.pin_arbor], pos[ps.slot_arbor])
+            if abs(dist - ps.offset_mm) > TOLERANCE_MM:
+                findings.append(Finding(
+                    "error", f"[pin_slots.{ps.name}]", f"the axes are placed {_mm(dist)} apart "
+                    f"but offset_mm is {ps.offset_mm:g}", "make offset_mm match the positions, "
+                    "or move the slot arbor"))
+    _overlaps(train, groups, modules, pos, findings)
+
+
+def _overlaps(train, groups, modules, pos, findings) -> None:
+    """Tip circles over another arbor's axis, and tip circles of wheels that may share a plane.
+
+    Simplification (no planes in the file): wheels on two arbors that mesh with each other are
+    taken to be stacked in separate planes (a wheel and a pinion on one arbor never share one);
+    any other two wheels whose tip circles overlap would foul if they were in the same plane.
+    Internal (ring) wheels enclose their pinions and are left out.
+    """
+    rings = {m.ring for m in train.meshes if m.ring}
+    partners = set()
+    for m in train.meshes:
+        a1, a2 = groups[train.wheels[m.driver].arbor], groups[train.wheels[m.driven].arbor]
+        partners.add(frozenset((a1, a2)))
+    tips = {}
+    for w, mod in modules.items():
+        wheel = train.wheels[w]
+        if w in rings or wheel.arbor not in pos:
+            continue
+        tips[w] = (pitch_diameter_mm(mod, wheel.teeth) + 2 * mod) / 2.0
+    mount = {n: train.arbors[n].mount for n in train.arbors}
+    for w, tip in tips.items():
+        wa = train.wheels[w].arbor
+        for other, p in pos.items():
+            if groups[other] == groups[wa] or mount[other] != mount[wa]:
+                continue
+            dist = math.dist(pos[wa], p)
+            if dist < tip - TOLERANCE_MM:
+                mod = modules[w]
+                zmax = math.floor(2 * dist / mod - 2)
+                findings.append(Finding(
+                    "warning", f"wheel '{w}'", f"its tip circle (radius {_mm(tip)}) reaches "
+                    f"over the axis of '{other}', {_mm(dist)} from its own",
+                    f"move '{other}' at least {_mm(tip - dist)} further away, make '{w}' at most "
+                    f"{zmax} teeth, or end '{other}' short of this wheel's plane"))
+    names = sorted(tips)
+    meshing = {frozenset((m.driver, m.driven)) for m in train.meshes}
+    for i, w1 in enumerate(names):
+        a1 = train.wheels[w1].arbor
+        for w2 in names[i + 1:]:
+            a2 = train.wheels[w2].arbor
+            if groups[a1] == groups[a2] or mount[a1] != mount[a2]:
+                continue
+            if frozenset((w1, w2)) in meshing or frozenset((groups[a1], groups[a2])) in partners:
+                continue
+            over = tips[w1] + tips[w2] - math.dist(pos[a1], pos[a2])
+            if over > TOLERANCE_MM:
+                findings.append(Finding(
+                    "warning", f"wheel '{w1}'", f"its tip circle overlaps that of '{w2}' (on "
+                    f"'{a2}') by {_mm(over)}: they foul if they run in the same plane",
+                    f"put them in different planes, or move '{a2}' {_mm(over)} further from "
+                    f"'{a1}'"))
+
+
+def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding]) -> None:
+    rings = {m.ring for m in train.meshes if m.ring}
+    mates: dict[str, str] = {}
+    for m in train.meshes:
+        mates.setdefault(m.driver, m.driven)
+        mates.setdefault(m.driven, m.driver)
+    for w, wheel in train.wheels.items():
+        if w not in mates:
+            continue
+        z = wheel.teeth
+        item = f"wheel '{w}'"
+        mate = train.wheels[mates[w]]
+        if z < PREFERRED_LEAVES and w not in rings:
+            k = -(-PREFERRED_LEAVES // z)
+            keep = f"'{w}' {k * z} and '{mate.name}' {k * mate.teeth} keep the ratio"
+            if z < MIN_LEAVES:
+                pin = (" (if it is a pin or finger that advances the wheel a tooth at a time, "
+                       "this rule does not apply)" if z <= 2 else "")
+                findings.append(Finding(
+                    "warning", item, f"{z} leaves: fewer than {MIN_LEAVES}, the least a "
+                    f"pinion should have to run smoothly (rule of thumb, common practice, no "
+                    f"source){pin}", f"give it {PREFERRED_LEAVES} leaves or more: {keep}"))
+            else:
+                findings.append(Finding(
+                    "note", item, f"{z} leaves: it runs, but {PREFERRED_LEAVES} or more run "
+                    "smoother (rule of thumb, common practice, no source)",
+                    f"if there is room, {keep}"))
+        if MIN_LEAVES <= z < UNDERCUT_RULE_TEETH and w not in rings:
+            x = undercut_shift(z)
+            mod = modules.get(w)
+            shift = f" ({x * mod:.3g} mm at module {mod:g})" if mod else ""
+            findings.append(Finding(
+                "note", item, f"{z} teeth: involute teeth at {PRESSURE_ANGLE_DEG:g}° are "
+                f"undercut below {UNDERCUT_RULE_TEETH} (z_min = 2/sin²α ≈ "
+                f"{UNDERCUT_TEETH:.1f}, standard gear geometry); cycloidal clock teeth are not",
+                f"cut it with a profile shift of at least x = {x:.2f}{shift}, use a cycloidal "
+                f"clock profile, or give it {UNDERCUT_RULE_TEETH} teeth"))
+        if z > MAX_TEETH:
+            findings.append(Finding(
+                "warning", item, f"{z} teeth: more than {MAX_TEETH}, the most that is practical "
+                "on one blank (our rule: indexing errors pile up and need compound division)",
+                f"split the stage in two, e.g. {_split_hint(z)}"))
+        mod = modules.get(w)
+        if mod is not None and mod <= FINE_MODULE_MM:
+            d = pitch_diameter_mm(mod, z)
+            if d > FINE_WHEEL_MAX_PITCH_MM:
+                zmax = math.floor(FINE_WHEEL_MAX_PITCH_MM / mod)
+                findings.append(Finding(
+                    "warning", item, f"{_mm(d)} across at module {mod:g}: a fine-toothed wheel "
+                    f"over {FINE_WHEEL_MAX_PITCH_MM:g} mm must be very flat and true to keep "
+                    "its shallow teeth in mesh (our rule)", f"use module "
+                    f"{FINE_MODULE_MM * 1.2:g} mm or more, or keep it to {zmax} teeth at "
+                    f"module {mod:g}"))
+
+
+def _split_hint(z: int) -> str:
+    for f in range(math.isqrt(z), 1, -1):
+        if z % f == 0:
+            return f"{z} = {f} × {z // f}, two stages whose ratios multiply to the same"
+    return f"{z} is prime: choose a nearby ratio that factors, or a larger module and blank"
+
+
+def _load_rules(report: CheckReport, findings: list[Finding]) -> None:
+    """Point at the stage where the highest torque meets the smallest teeth."""
+    loaded = [m for m in report.meshes if m.load_index is not None]
+    if len(loaded) < 2:
+        return
+    worst = max(loaded, key=lambda m: m.load_index)
+    least = min(loaded, key=lambda m: m.load_index)
+    up = worst.upstream if worst.upstream == worst.driver else worst.driven
+    teeth = worst.driver_teeth if up == worst.driver else worst.driven_teeth
+    findings.append(Finding(
+        "note", worst.label, f"the heaviest-loaded teeth in the train: about "
+        f"{_fmt(worst.tooth_force_n)} N on the teeth of '{up}' ({teeth}) per N·m at the crank, "
+        f"at module {worst.module_mm:g} mm — {_fmt(worst.load_index / least.load_index)} times "
+        f"the lightest stage (estimate)", "give this stage the largest module or the widest "
+        "faces, and size it by gear rating if it bears load"))
