@@ -17,7 +17,7 @@ import math
 from dataclasses import dataclass, field
 from fractions import Fraction
 
-from engine.kinematics import Kinematics, slot_follower_turns
+from engine.kinematics import Kinematics
 from engine.periods import PERIODS
 from engine.train import FRAME, Train
 
@@ -236,6 +236,18 @@ def _frac(x: Fraction) -> str:
     return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
 
 
+def _finder(parent: dict[str, str]):
+    """Union-find lookup over ``parent`` (which the caller links)."""
+
+    def find(n: str) -> str:
+        while parent[n] != n:
+            parent[n] = parent[parent[n]]
+            n = parent[n]
+        return n
+
+    return find
+
+
 # --- power flow ----------------------------------------------------------------------------
 
 def _power_flow(train: Train, kin: Kinematics):
@@ -277,13 +289,7 @@ def _power_flow(train: Train, kin: Kinematics):
             break
         # Differential: group the unreached arbors linked by meshes (or by a carrier).
         parent = {n: n for n in missing}
-
-        def find(n):
-            while parent[n] != n:
-                parent[n] = parent[parent[n]]
-                n = parent[n]
-            return n
-
+        find = _finder(parent)
         for f in frames.values():
             ends = [x for x in (f.arbor1, f.arbor2, f.reference) if x in parent]
             for x in ends[1:]:
@@ -375,7 +381,7 @@ def _pin_slots(train: Train, pin_d: float, findings: list[Finding]) -> list[PinS
             "note", item, f"'{ps.slot_arbor}' leads or lags '{ps.pin_arbor}' by up to "
             f"{c.max_lead_deg:.3g}° and turns between {lo:.4g} and {hi:.4g} times its speed "
             "(relative to their mount); every arbor it drives varies the same way",
-            f"change offset_mm to tune it: lead asin(e/r), speed r/(r+e) to r/(r-e)"))
+            "change offset_mm to tune it: lead asin(e/r), speed r/(r+e) to r/(r-e)"))
         if c.slot_inner_mm <= 0:
             findings.append(Finding(
                 "warning", item, f"the slot would reach the slot arbor's axis (inner end "
@@ -503,13 +509,7 @@ def _axis_groups(train: Train, kin: Kinematics) -> dict[str, str]:
     """Arbors sharing one axis: ``axis_with``, and an arbor meshing with a wheel on a carrier
     while sitting on the carrier's own mount (a sun wheel on the carrier's axis)."""
     parent = {n: n for n in train.arbors}
-
-    def find(n):
-        while parent[n] != n:
-            parent[n] = parent[parent[n]]
-            n = parent[n]
-        return n
-
+    find = _finder(parent)
     for a in train.arbors.values():
         if a.axis_with:
             parent[find(a.name)] = find(a.axis_with)
