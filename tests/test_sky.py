@@ -243,3 +243,19 @@ def test_bad_ephemeris(tmp_path):
         Sky(junk)
     with pytest.raises(SkyError, match="unknown frame"):
         Sky().at(2451545.0, frame="galactic")
+
+
+def test_sky_command(capsys):
+    import json
+
+    from engine.cli import main
+
+    assert main(["sky", "2025-03-20 09:30", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["calendar"] == "Gregorian" and out["ephemeris"] == "JPL DE421"
+    assert 0 <= out["sun_lon_deg"] < 360 and "solar filter" in out["caution"]
+    assert main(["sky", "1850-01-01"]) == 1
+    assert "outside JPL DE421" in capsys.readouterr().err
+    assert main(["sky", "2025-02-30"]) == 1
+    assert main(["sky", "2025-03-20", "--site", "95,0"]) == 1
+    assert main(["sky", "15 March 44 BC", "--calendar", "julian", "--stars"]) == 1  # out of span
