@@ -13,8 +13,9 @@ from fractions import Fraction
 
 import numpy as np
 
-_FRACTION = re.compile(r"^\s*([+-]?\d+)\s*/\s*(\d+)\s*$")
-_DECIMAL = re.compile(r"^\s*[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*$")
+_NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"  # a plain decimal, exponent allowed
+_FRACTION = re.compile(rf"^\s*([+-]?{_NUM})\s*/\s*({_NUM})\s*$")
+_DECIMAL = re.compile(rf"^\s*[+-]?{_NUM}\s*$")
 
 
 def parse_fraction(value: object) -> Fraction:
@@ -37,10 +38,10 @@ def parse_fraction(value: object) -> Fraction:
     if isinstance(value, str):
         m = _FRACTION.match(value)
         if m:
-            num, den = int(m.group(1)), int(m.group(2))
+            num, den = Fraction(m.group(1)), Fraction(m.group(2))
             if den == 0:
                 raise ValueError(f"fraction {value!r} divides by zero")
-            return Fraction(num, den)
+            return num / den
         if _DECIMAL.match(value):
             return Fraction(value.strip())
     raise ValueError(f"expected a number or a fraction like \"6940/235\", got {value!r}")

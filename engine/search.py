@@ -36,6 +36,7 @@ from sympy.ntheory.continued_fraction import (
 )
 
 from engine.errors import SearchError
+from engine.exact import parse_fraction as _exact_fraction
 from engine.periods import JULIAN_CENTURY_DAYS, POINTER_PERIOD, MeanPeriod, find_period
 
 JULIAN_YEAR_DAYS = 365.25
@@ -46,9 +47,6 @@ DEFAULT_STAGES = (1, 2, 3)
 DIRECTIONS = ("any", "same", "reverse")
 MAX_CONVERGENTS = 20
 
-# A plain decimal (optionally with exponent) or a fraction of two of them; no signs inside.
-_NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
-_FRACTION_RE = re.compile(rf"^\s*([+-]?)\s*({_NUM})\s*(?:/\s*({_NUM})\s*)?$")
 _BARE_KEY_RE = re.compile(r"^[A-Za-z0-9_-]+$")
 
 
@@ -59,33 +57,16 @@ _BARE_KEY_RE = re.compile(r"^[A-Za-z0-9_-]+$")
 def parse_fraction(text: str | int | float | Fraction, what: str = "value") -> Fraction:
     """Read ``"29.53"``, ``"6940/235"``, an int, a float or a Fraction as an exact Fraction.
 
-    Strings are parsed by a regular expression and :class:`Fraction`, never evaluated. The
-    value must be finite and positive; the error names ``what``.
+    The shared reader :func:`engine.exact.parse_fraction` does the parsing (never evaluating
+    anything); here the value must also be positive, and the error names ``what``.
     """
-    if isinstance(text, bool):
-        raise SearchError(f"{what}: expected a number, got {text!r}")
-    if isinstance(text, Fraction | int):
-        value = Fraction(text)
-    elif isinstance(text, float):
-        if not math.isfinite(text):
-            raise SearchError(f"{what}: {text!r} is not a finite number")
-        value = Fraction(text)
-    elif isinstance(text, str):
-        m = _FRACTION_RE.match(text)
-        if not m:
-            raise SearchError(
-                f"{what}: cannot read {text!r} as a number (use e.g. 29.53 or 6940/235)")
-        sign, num, den = m.groups()
-        value = Fraction(num)
-        if den is not None:
-            d = Fraction(den)
-            if d == 0:
-                raise SearchError(f"{what}: {text!r} divides by zero")
-            value /= d
-        if sign == "-":
-            value = -value
+    if isinstance(text, Fraction):
+        value = text
     else:
-        raise SearchError(f"{what}: expected a number, got {text!r}")
+        try:
+            value = _exact_fraction(text)
+        except ValueError as exc:
+            raise SearchError(f"{what}: {exc}") from None
     if value <= 0:
         raise SearchError(f"{what}: must be positive, got {text}")
     return value
