@@ -63,6 +63,9 @@ PITCH_SPEED_LIMIT_M_S = 1.0
 """Pitch-line speed above which small, unhardened instrument gears want lubrication and
 accurate teeth (our rule of thumb, common practice, no source)."""
 
+LOAD_SPREAD = 2.0
+"""The heaviest-loaded stage is pointed out when its load index is at least twice the lightest."""
+
 TOLERANCE_MM = 0.02
 """Centre distances and positions that agree within 0.02 mm are taken as equal (about the
 backlash of fine clock wheels; common practice, no source)."""
@@ -779,6 +782,8 @@ def _load_rules(report: CheckReport, findings: list[Finding]) -> None:
         return
     worst = max(loaded, key=lambda m: m.load_index)
     least = min(loaded, key=lambda m: m.load_index)
+    if worst.load_index < LOAD_SPREAD * least.load_index:
+        return  # the stages are loaded alike: nothing stands out
     up = worst.upstream if worst.upstream == worst.driver else worst.driven
     teeth = worst.driver_teeth if up == worst.driver else worst.driven_teeth
     findings.append(Finding(

@@ -1,0 +1,327 @@
+"""Mechanical checks: geometry against handbook formulas, loads, rules of thumb, the CLI."""
+
+from __future__ import annotations
+
+import json
+import math
+from fractions import Fraction
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from engine.cli import main
+from engine.kinematics import slot_follower_turns, solve
+from engine.loader import load_train, parse_train
+from engine.mechanics import (
+    DEFAULT_EFFICIENCY,
+    UNDERCUT_TEETH,
+    centre_distance_mm,
+    check,
+    pitch_diameter_mm,
+    slot_speed_factors,
+    undercut_shift,
+)
+
+HERE = Path(__file__).resolve().parent
+TRAINS = HERE / "trains"
+DEMO = HERE.parent / "trains"
+MM = 1e-9  # geometry is exact arithmetic on floats: agree to a nanometre
+REL = 1e-12
+
+
+def run_check(path, **kw):
+    train = load_train(path)
+    return check(train, solve(train), **kw)
+
+
+def levels(report, level, item=None):
+    return [f for f in report.findings if f.level == level and (item is None or f.item == item)]
+
+
+def header(crank: str) -> str:
+    return (f'[crank]\narbor = "{crank}"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+            'set = "angles"\n')
+
+
+# --- handbook geometry ---------------------------------------------------------------------
+
+def test_pitch_and_centre_distance_handbook_examples():
+    # Standard spur-gear formulas d = m z, a = m (z1 + z2) / 2 (ISO 21771 notation, any
+    # machinery handbook); worked examples from memory.
+    assert pitch_diameter_mm(3, 20) == pytest.approx(60, abs=MM)
+    assert pitch_diameter_mm(3, 40) == pytest.approx(120, abs=MM)
+    assert centre_distance_mm(3, 20, 40) == pytest.approx(90, abs=MM)
+    # Internal pair: a = m (z_ring - z_pinion) / 2; m = 2, ring 60, pinion 20 -> 40 mm.
+    assert centre_distance_mm(2, 60, 20, internal=True) == pytest.approx(40, abs=MM)
+    assert centre_distance_mm(2, 20, 60, internal=True) == pytest.approx(40, abs=MM)
+
+
+def test_report_rows_carry_the_handbook_numbers():
+    text = header("drive") + """
+[arbors.drive]
+wheels = { small = 20 }
+[arbors.big]
+wheels = { large = 40 }
+[arbors.ring]
+wheels = { ring_teeth = 60, ring_pinion = 20 }
+[arbors.inner]
+wheels = { inner = 20 }
+[[meshes]]
+wheels = ["small", "large"]
+module_mm = 3
+[[meshes]]
+wheels = ["large", "ring_pinion"]
+module_mm = 3
+[[meshes]]
+wheels = ["ring_teeth", "inner"]
+ring = "ring_teeth"
+module_mm = 2
+[pointers.hand]
+shows = "sun"
+arbor = "inner"
+set_deg = 0
+"""
+    train = parse_train(text, "handbook.toml")
+    report = check(train, solve(train))
+    m1, _, m3 = report.meshes
+    assert (m1.driver_pitch_mm, m1.driven_pitch_mm) == pytest.approx((60, 120), abs=MM)
+    assert m1.centre_mm == pytest.approx(90, abs=MM)
+    assert m3.internal and m3.centre_mm == pytest.approx(40, abs=MM)
+    assert m3.reference == "frame"
+
+
+def test_undercut_limit_standard_geometry():
+    # z_min = 2 / sin²(20°) = 17.097... (standard involute geometry, addendum 1 m).
+    assert UNDERCUT_TEETH == pytest.approx(17.097, abs=1e-3)
+    # Least profile shift x = 1 - z sin²α / 2: zero at z_min, 0.12 or so at 15 teeth.
+    assert undercut_shift(17) == pytest.approx(1 - 17 / UNDERCUT_TEETH, abs=REL)
+    assert undercut_shift(round(UNDERCUT_TEETH)) == pytest.approx(0.0, abs=0.01)
+
+
+# --- shared axes ---------------------------------------------------------------------------
+
+def test_nineteen_year_drum_returns_to_its_axis():
+    # 127 + 38 = 132 + 33 = 165 at module 0.8: both meshes 66 mm between the same two axes.
+    report = run_check(DEMO / "nineteen_year_drum.toml")
+    assert not levels(report, "error")
+    assert [m.centre_mm for m in report.meshes] == pytest.approx([66, 66], abs=MM)
+
+
+def test_coaxial_mismatch_reports_mm_and_the_tooth_fix():
+    report = run_check(TRAINS / "coaxial_mismatch.toml")
+    (err,) = levels(report, "error")
+    assert err.item.startswith("mesh 2")
+    assert "mesh 1" in err.message and "0.4 mm" in err.message
+    assert "'moon_pinion' 34 teeth" in err.fix  # 131 + 34 = 165 = 127 + 38
+    assert "0.8049 mm" in err.fix               # or a module keeping the ratio: 2·66/164
+
+
+def test_all_demo_trains_have_no_geometry_errors():
+    for path in sorted(DEMO.glob("*.toml")):
+        assert not levels(run_check(path), "error"), path.name
+
+
+def test_wheel_at_two_modules_is_an_error():
+    report = run_check(TRAINS / "two_modules.toml")
+    (err,) = levels(report, "error")
+    assert "'idler'" in err.message and "module 1" in err.message
+
+
+# --- positions and overlaps ----------------------------------------------------------------
+
+def test_position_mismatch():
+    report = run_check(TRAINS / "position_mismatch.toml")
+    (err,) = levels(report, "error")
+    assert "30.5 mm" in err.message and "0.5 mm too far" in err.message
+    assert "[30.0, 0.0]" in err.fix and "'forty' 41 teeth" in err.fix
+
+
+def test_overlaps_axis_and_wheel():
+    report = run_check(TRAINS / "overlap.toml")
+    warns = levels(report, "warning", "wheel 'sixty'")
+    texts = " | ".join(f.message for f in warns)
+    assert "reaches over the axis of 'small', 11 mm" in texts
+    assert "overlaps that of 'ten'" in texts and "26 mm" in texts  # 31 + 6 - 11
+    # Wheels on arbors that mesh with each other are taken to be in separate planes.
+    assert not any("'forty'" in f.message for f in warns)
+
+
+# --- speeds, torques, step-up --------------------------------------------------------------
+
+CHAIN = header("a") + """
+[arbors.a]
+wheels = { pa = 10 }
+[arbors.b]
+wheels = { wb = 50, pb = 10 }
+[arbors.c]
+wheels = { wc = 40 }
+[[meshes]]
+wheels = ["pa", "wb"]
+module_mm = 0.5
+[[meshes]]
+wheels = ["pb", "wc"]
+module_mm = 0.5
+[pointers.hand]
+shows = "sun"
+arbor = "c"
+set_deg = 0
+"""
+
+
+@pytest.mark.parametrize("eff", [None, 0.9])
+def test_torque_is_inverse_speed_ratio_times_efficiencies(eff):
+    train = parse_train(CHAIN, "chain.toml")
+    report = check(train, solve(train), efficiency=eff, crank_rpm=30)
+    e = DEFAULT_EFFICIENCY if eff is None else eff
+    arb = {a.name: a for a in report.arbors}
+    # Virtual work: 1/|speed ratio|; losses: the product of the stage efficiencies.
+    assert arb["b"].turns_per_crank == Fraction(-1, 5)
+    assert arb["c"].turns_per_crank == Fraction(1, 20)
+    assert arb["b"].torque_ideal == pytest.approx(5, rel=REL)
+    assert arb["c"].torque_ideal == pytest.approx(20, rel=REL)
+    assert arb["b"].torque == pytest.approx(5 * e, rel=REL)
+    assert arb["c"].torque == pytest.approx(20 * e * e, rel=REL)
+    assert arb["c"].rpm_max == pytest.approx(30 / 20, rel=REL)
+    assert arb["c"].turns_per_year == pytest.approx(365.242189 / 20, rel=1e-8)
+    assert arb["b"].direction == "against the crank" and arb["c"].direction == "with the crank"
+    assert not any(a.step_up for a in report.arbors)
+    # Tooth force on pa: 2 T / d = 2 · 1 N·m / 5 mm = 400 N per N·m at the crank.
+    assert report.meshes[0].tooth_force_n == pytest.approx(400, rel=REL)
+
+
+def test_step_up_flags():
+    report = run_check(TRAINS / "step_up.toml")
+    arb = {a.name: a for a in report.arbors}
+    assert arb["middle"].step_up and arb["fast"].step_up and not arb["drive"].step_up
+    assert arb["fast"].turns_per_crank == 36
+    assert all(m.step_up for m in report.meshes)
+    assert len([f for f in levels(report, "note") if "step-up stage" in f.message]) == 2
+    (fast,) = levels(report, "warning", "[arbors.fast]")
+    assert "36 times" in fast.message
+
+
+# --- rules of thumb ------------------------------------------------------------------------
+
+def test_small_pinion_rule():
+    report = run_check(TRAINS / "small_pinion.toml")
+    (warn,) = levels(report, "warning", "wheel 'five'")
+    assert "rule of thumb" in warn.message and "'five' 10 and 'forty' 80" in warn.fix
+    notes = levels(report, "note", "wheel 'seven'")
+    assert any("8 or more" in f.message for f in notes)
+    # The heaviest-loaded teeth: the slow stage's 7-leaf pinion.
+    assert any("heaviest-loaded" in f.message and "'seven'" in f.message
+               for f in levels(report, "note"))
+
+
+def test_undercut_rule():
+    report = run_check(TRAINS / "undercut.toml")
+    (note,) = levels(report, "note", "wheel 'twelve'")
+    assert "undercut below 17" in note.message and "x = 0.30" in note.fix
+    assert not levels(report, "note", "wheel 'thirty_six'")
+
+
+def test_big_tooth_count_rules():
+    report = run_check(TRAINS / "big_wheels.toml")
+    (count,) = levels(report, "warning", "wheel 'w1'")
+    assert "320 teeth" in count.message and "our rule" in count.message
+    (size,) = levels(report, "warning", "wheel 'w2'")
+    assert "125 mm across at module 0.5" in size.message and "240 teeth" in size.fix
+
+
+def test_missing_module_is_one_note():
+    report = run_check(TRAINS / "no_module.toml")
+    notes = [f for f in report.findings if "module_mm" in f.message]
+    assert len(notes) == 1 and notes[0].level == "note" and "1, 2" in notes[0].message
+    assert all(m.centre_mm is None for m in report.meshes)
+
+
+# --- pin-and-slot --------------------------------------------------------------------------
+
+def test_pin_slot_slot_length_and_lead():
+    report = run_check(TRAINS / "pin_slot.toml", pin_diameter_mm=1.0)
+    (ps,) = report.pin_slots
+    assert ps.slot_length_mm == pytest.approx(2 * 1 + 1, abs=MM)
+    assert (ps.slot_inner_mm, ps.slot_outer_mm) == pytest.approx((8.5, 11.5), abs=MM)
+    assert ps.max_lead_deg == pytest.approx(math.degrees(math.asin(0.1)), abs=1e-12)
+    assert any("3 mm" in f.message for f in levels(report, "note", "[pin_slots.unequal]"))
+
+
+def test_slot_speed_factors_match_differentiated_geometry():
+    r, e = 10.0, 1.0
+    lo, hi = slot_speed_factors(r, e)
+    assert (lo, hi) == pytest.approx((r / (r + e), r / (r - e)), rel=REL)
+    t = np.linspace(0, 1, 20001)
+    h = 1e-6
+    rate = 1 + (slot_follower_turns(t + h, e / r) - slot_follower_turns(t - h, e / r)) / (2 * h)
+    assert rate.max() == pytest.approx(hi, rel=1e-7)
+    assert rate.min() == pytest.approx(lo, rel=1e-7)
+
+
+def test_speed_range_downstream_matches_numerical_differentiation():
+    for path in (TRAINS / "pin_slot.toml", DEMO / "tide_office.toml"):
+        train = load_train(path)
+        kin = solve(train)
+        report = check(train, kin)
+        name = "out" if "pin_slot" in path.name else "moon"
+        row = next(a for a in report.arbors if a.name == name)
+        ps = next(iter(train.pin_slots.values()))
+        mount = train.arbors[ps.pin_arbor].mount
+        pin_rel = kin.rate(ps.pin_arbor, None if mount == "frame" else mount)
+        period = 1.05 / abs(float(pin_rel))  # a little over one turn of the pin on its mount
+        turns = np.linspace(0, period, 40001)
+        angle = np.unwrap(2 * np.pi * kin.angle_turns(name, turns)) / (2 * np.pi)
+        speed = np.gradient(angle, turns)
+        lo, hi = row.speed_range
+        tol = 1e-4 * max(abs(lo), abs(hi))
+        assert speed.min() == pytest.approx(lo, abs=tol), path.name
+        assert speed.max() == pytest.approx(hi, abs=tol), path.name
+
+
+# --- command line --------------------------------------------------------------------------
+
+def test_cli_json_parses(capsys):
+    assert main(["check", str(DEMO / "tide_office.toml"), "--json", "--crank-rpm", "30"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["crank_rpm"] == 30 and data["efficiency"] == DEFAULT_EFFICIENCY
+    assert {"meshes", "arbors", "pin_slots", "findings", "caveat", "counts"} <= set(data)
+    assert data["arbors"][0]["turns_per_crank"] == "1"
+    assert all(set(f) == {"level", "item", "message", "fix"} for f in data["findings"])
+
+
+def test_cli_tables_and_caveat(capsys):
+    assert main(["check", str(TRAINS / "coaxial_mismatch.toml")]) == 0
+    out = capsys.readouterr().out
+    assert "meshes" in out and "arbors" in out and "design estimates" in out
+    assert "0.4 mm too close" in out
+
+
+def test_cli_strict_exits_1_on_errors(capsys):
+    assert main(["check", str(TRAINS / "coaxial_mismatch.toml"), "--strict"]) == 1
+    assert main(["check", str(DEMO / "nineteen_year_drum.toml"), "--strict"]) == 0
+    capsys.readouterr()
+
+
+def test_cli_bad_file_is_one_line(capsys, tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[train\n", encoding="utf-8")
+    assert main(["check", str(bad)]) == 1
+    err = capsys.readouterr().err
+    assert err.startswith("wheelwork: error:") and len(err.strip().splitlines()) == 1
+    assert main(["check", str(tmp_path / "missing.toml")]) == 1
+
+
+def test_cli_bad_efficiency_is_usage_error(capsys):
+    with pytest.raises(SystemExit) as exc:
+        main(["check", str(DEMO / "tide_office.toml"), "--efficiency", "1.5"])
+    assert exc.value.code == 2
+    capsys.readouterr()
+
+
+def test_engine_rejects_bad_parameters():
+    train = load_train(DEMO / "nineteen_year_drum.toml")
+    kin = solve(train)
+    with pytest.raises(ValueError):
+        check(train, kin, efficiency=0)
+    with pytest.raises(ValueError):
+        check(train, kin, crank_rpm=-1)
