@@ -557,6 +557,7 @@ def _shared_axes(train: Train, groups: dict[str, str], findings: list[Finding]) 
             continue
         pairs.setdefault(frozenset((g1, g2)), []).append(
             (f"[pin_slots.{ps.name}]", ps.offset_mm, ps))
+    _triangles(train, groups, {k: v[0] for k, v in pairs.items()}, findings)
     for key, items in pairs.items():
         if len(items) < 2:
             continue
@@ -570,6 +571,28 @@ def _shared_axes(train: Train, groups: dict[str, str], findings: list[Finding]) 
                 "error", label, f"the axes of {axes} are {_mm(a0)} apart for {first_label} but "
                 f"{_mm(a)} apart here: {_mm(abs(gap))} {'too far' if gap > 0 else 'too close'}",
                 _distance_fix(train, obj, a0)))
+
+
+def _triangles(train: Train, groups, first: dict, findings: list[Finding]) -> None:
+    """Three axes whose three distances are all fixed must form a triangle: c ≤ a + b."""
+    roots = sorted({g for key in first for g in key})
+    for i, g1 in enumerate(roots):
+        for j in range(i + 1, len(roots)):
+            g2 = roots[j]
+            for g3 in roots[j + 1:]:
+                sides = [first.get(frozenset(p)) for p in ((g1, g2), (g2, g3), (g1, g3))]
+                if any(x is None for x in sides):
+                    continue
+                longest = max(sides, key=lambda x: x[1])
+                rest = sum(x[1] for x in sides) - longest[1]
+                if longest[1] > rest + TOLERANCE_MM:
+                    names = ", ".join(_axis_names(train, groups, g) for g in (g1, g2, g3))
+                    findings.append(Finding(
+                        "error", longest[0], f"the axes of {names} cannot be placed: this "
+                        f"distance ({_mm(longest[1])}) exceeds the other two together "
+                        f"({_mm(rest)}) by {_mm(longest[1] - rest)}",
+                        f"shorten it by at least {_mm(longest[1] - rest)} (fewer teeth or a "
+                        "smaller module), or lengthen one of the other two"))
 
 
 def _distance_fix(train: Train, obj, want_mm: float) -> str:

@@ -325,3 +325,12 @@ def test_engine_rejects_bad_parameters():
         check(train, kin, efficiency=0)
     with pytest.raises(ValueError):
         check(train, kin, crank_rpm=-1)
+
+
+def test_three_axes_must_form_a_triangle():
+    report = run_check(TRAINS / "triangle.toml")
+    (err,) = levels(report, "error")
+    assert err.item.startswith("mesh 1") and "exceeds the other two" in err.message
+    assert "2 mm" in err.message  # 30 - (20 + 8)
+    # The demo trains' axes all close.
+    assert not levels(run_check(DEMO / "tide_office.toml"), "error")
