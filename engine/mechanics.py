@@ -755,7 +755,7 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
                 pin = (" (if it is a pin or finger that advances the wheel a tooth at a time, "
                        "this rule does not apply)" if z <= 2 else "")
                 findings.append(Finding(
-                    "warning", item, f"{z} leaves: fewer than {MIN_LEAVES}, the least a "
+                    "warning", item, f"{z} {'leaf' if z == 1 else 'leaves'}: fewer than {MIN_LEAVES}, the least a "
                     f"pinion should have to run smoothly (rule of thumb, common practice, no "
                     f"source){pin}", f"give it {PREFERRED_LEAVES} leaves or more: {keep}"))
             else:
