@@ -129,7 +129,7 @@ def _print(report: CheckReport, console: Console) -> None:
     for col, just in (("arbor", "left"), ("turns/crank", "right"), ("turns/yr", "right"),
                       ("sense", "left"), ("rpm max", "right"), ("torque ideal", "right"),
                       ("torque", "right")):
-        arbors.add_column(col, justify=just, no_wrap=col not in ("arbor", "sense"),
+        arbors.add_column(col, justify=just, no_wrap=col not in ("turns/crank", "sense"),
                           overflow="fold")
     for a in report.arbors:
         sense = {"with the crank": "+", "against the crank": "−"}.get(a.direction, "0")
