@@ -1,0 +1,140 @@
+"""Pure helpers for drawing a train and its displays: a layout of arbors, lit-disc shading,
+arbor turn counts. No UI imports; the interface (``tui/``) draws what these return.
+"""
+
+from __future__ import annotations
+
+from collections import deque
+from dataclasses import dataclass
+from fractions import Fraction
+
+import numpy as np
+
+from engine.exact import Turns
+from engine.train import FRAME, Train
+
+#: An arbor turning more than this (turns per frame) cannot be followed by eye: show a count.
+TOO_FAST_TURNS_PER_FRAME = 1 / 8
+
+
+@dataclass(frozen=True)
+class ArborSpot:
+    """Where an arbor sits in the drawing: a column (stages from the crank) and a row."""
+
+    name: str
+    col: int
+    row: int
+    teeth: int  # largest wheel on it (0 for an arbor with no wheels)
+    mount: str
+
+
+@dataclass(frozen=True)
+class TrainLayout:
+    """A grid layout of a train: spots by arbor, meshes and carrier links between arbors."""
+
+    spots: dict[str, ArborSpot]
+    meshes: tuple[tuple[str, str, bool], ...]  # (arbor1, arbor2, internal)
+    carried: tuple[tuple[str, str], ...]  # (carrier, arbor on it)
+    slots: tuple[tuple[str, str], ...]  # (pin arbor, slot arbor)
+    ncols: int
+    nrows: int
+    max_teeth: int
+
+
+def train_layout(train: Train) -> TrainLayout:
+    """Lay arbors out in columns by their distance (in stages) from the crank arbor.
+
+    Distance is counted over meshes, pin-and-slot couplings and carrier mounts by breadth-first
+    search; arbors the search cannot reach go in a last column. Rows follow file order.
+    """
+    edges: dict[str, list[str]] = {a: [] for a in train.arbors}
+    meshes = []
+    for m in train.meshes:
+        a1, a2 = train.wheels[m.driver].arbor, train.wheels[m.driven].arbor
+        edges[a1].append(a2)
+        edges[a2].append(a1)
+        meshes.append((a1, a2, m.internal))
+    slots = []
+    for ps in train.pin_slots.values():
+        edges[ps.pin_arbor].append(ps.slot_arbor)
+        edges[ps.slot_arbor].append(ps.pin_arbor)
+        slots.append((ps.pin_arbor, ps.slot_arbor))
+    carried = []
+    for a in train.arbors.values():
+        if a.mount != FRAME:
+            edges[a.mount].append(a.name)
+            edges[a.name].append(a.mount)
+            carried.append((a.mount, a.name))
+    depth = {train.crank.arbor: 0}
+    queue = deque([train.crank.arbor])
+    while queue:
+        a = queue.popleft()
+        for b in edges[a]:
+            if b not in depth:
+                depth[b] = depth[a] + 1
+                queue.append(b)
+    last = max(depth.values(), default=-1) + 1
+    rows: dict[int, int] = {}
+    spots = {}
+    for name, arbor in train.arbors.items():
+        col = depth.get(name, last)
+        row = rows.get(col, 0)
+        rows[col] = row + 1
+        teeth = max((train.wheels[w].teeth for w in arbor.wheels), default=0)
+        spots[name] = ArborSpot(name, col, row, teeth, arbor.mount)
+    ncols = max((s.col for s in spots.values()), default=-1) + 1
+    nrows = max(rows.values(), default=0)
+    max_teeth = max((s.teeth for s in spots.values()), default=0)
+    return TrainLayout(spots, tuple(meshes), tuple(carried), tuple(slots), ncols, nrows,
+                       max_teeth)
+
+
+def arbor_turns(rates: dict[str, Fraction], turns: Turns) -> dict[str, float]:
+    """Turns each arbor has made since the epoch (signed), from exact rates and crank turns."""
+    whole = int(np.asarray(turns.whole).reshape(-1)[0])
+    frac = float(np.asarray(turns.frac).reshape(-1)[0])
+    return {name: float(rate * whole) + float(rate) * frac for name, rate in rates.items()}
+
+
+def too_fast(rate: Fraction, crank_turns_per_frame: float) -> bool:
+    """True when an arbor moves more than ``TOO_FAST_TURNS_PER_FRAME`` in one frame."""
+    return abs(float(rate) * crank_turns_per_frame) > TOO_FAST_TURNS_PER_FRAME
+
+
+def ball_lit_fraction(elongation_deg: float) -> float:
+    """Lit fraction a half-silvered phase ball shows at this elongation: (1 − cos E) / 2."""
+    return float((1.0 - np.cos(np.radians(elongation_deg))) / 2.0)
+
+
+def hands_elongation_deg(moon_deg: float, sun_deg: float) -> float:
+    """Elongation shown by a Moon hand and a Sun hand (Moon minus Sun), 0–360°."""
+    return float((moon_deg - sun_deg) % 360.0)
+
+
+def decimal_year(jd_ut):
+    """Year with fraction (Julian years of 365.25 days from J2000.0), for chart axes."""
+    return 2000.0 + (np.asarray(jd_ut, dtype=float) - 2451545.0) / 365.25
+
+
+def lit_disc(lit_fraction: float, waxing: bool, cols: int, rows: int,
+             samples: int = 4) -> tuple[np.ndarray, np.ndarray]:
+    """Coverage of a lit disc on a ``rows`` × ``cols`` grid of picture elements spanning the
+    disc's bounding box: ``(disc, lit)``, each ``(rows, cols)``, the fraction 0–1 of each
+    element inside the disc, and inside its lit part (``samples``² points per element).
+
+    The terminator is the half-ellipse ``x = k·sqrt(1 − y²)`` with ``k = 1 − 2·lit_fraction``;
+    the lit side is on the right while waxing, on the left while waning (as seen from the north).
+    """
+    k = 1.0 - 2.0 * float(np.clip(lit_fraction, 0.0, 1.0))
+    # sample points at cell sub-positions, mapped to the unit disc (y up)
+    sx = (np.arange(cols * samples) + 0.5) / (cols * samples) * 2.0 - 1.0
+    sy = 1.0 - (np.arange(rows * samples) + 0.5) / (rows * samples) * 2.0
+    x, y = np.meshgrid(sx, sy)
+    inside = x * x + y * y <= 1.0
+    half = np.sqrt(np.clip(1.0 - y * y, 0.0, 1.0))
+    lit = inside & ((x > k * half) if waxing else (x < -k * half))
+    shape = (rows, samples, cols, samples)
+    disc_cov = inside.reshape(shape).mean(axis=(1, 3))
+    lit_cov = lit.reshape(shape).mean(axis=(1, 3))
+    return disc_cov, lit_cov
+

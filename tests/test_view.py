@@ -1,0 +1,68 @@
+"""Drawing helpers: train layout, lit discs, arbor turn counts."""
+
+from fractions import Fraction
+
+import numpy as np
+import pytest
+
+from engine.exact import Turns
+from engine.loader import load_train
+from engine.mechanism import DEFAULT_TRAIN
+from engine.view import (
+    arbor_turns,
+    ball_lit_fraction,
+    decimal_year,
+    hands_elongation_deg,
+    lit_disc,
+    too_fast,
+    train_layout,
+)
+
+AREA = 0.02  # coverage tolerance of a 4 × 4-sampled disc (common practice, no source)
+
+
+def test_layout_puts_crank_first_and_every_arbor_somewhere():
+    train = load_train(DEFAULT_TRAIN)
+    lay = train_layout(train)
+    assert set(lay.spots) == set(train.arbors)
+    assert lay.spots[train.crank.arbor].col == 0
+    # a mesh joins arbors in neighbouring columns or the same column
+    for a, b, _ in lay.meshes:
+        assert abs(lay.spots[a].col - lay.spots[b].col) <= 1
+    # no two arbors share a spot
+    assert len({(s.col, s.row) for s in lay.spots.values()}) == len(lay.spots)
+    assert ("perigee_carrier", "pin_arbor") in lay.carried
+    assert lay.max_teeth == 133
+
+
+def test_lit_disc_areas_follow_the_lit_fraction():
+    # the lit share of the disc's area equals the lit fraction (terminator is a half-ellipse)
+    for f in (0.0, 0.25, 0.5, 0.9, 1.0):
+        disc, lit = lit_disc(f, True, 40, 40)
+        assert lit.sum() / disc.sum() == pytest.approx(f, abs=AREA)
+    disc, lit = lit_disc(0.5, True, 40, 40)
+    assert lit[:, 20:].sum() > 0 and lit[:, :20].sum() == 0  # waxing: lit on the right
+    disc, lit = lit_disc(0.5, False, 40, 40)
+    assert lit[:, :20].sum() > 0 and lit[:, 20:].sum() == 0
+
+
+def test_ball_lit_fraction():
+    # a half-silvered ball: new 0, quarter 1/2, full 1 (geometry, common practice)
+    assert ball_lit_fraction(0.0) == pytest.approx(0.0)
+    assert ball_lit_fraction(90.0) == pytest.approx(0.5)
+    assert ball_lit_fraction(180.0) == pytest.approx(1.0)
+    assert hands_elongation_deg(10.0, 350.0) == pytest.approx(20.0)
+
+
+def test_arbor_turns_are_exact_rate_times_turns():
+    rates = {"a": Fraction(10, 59), "b": Fraction(-3, 7)}
+    got = arbor_turns(rates, Turns.of(Fraction(59 * 1000 + 1, 2)))
+    assert got["a"] == pytest.approx(10 / 59 * (59 * 1000 + 1) / 2, rel=1e-15)
+    assert got["b"] == pytest.approx(-3 / 7 * (59 * 1000 + 1) / 2, rel=1e-15)
+    assert too_fast(Fraction(1), 0.2) and not too_fast(Fraction(1, 100), 10)
+
+
+def test_decimal_year():
+    # J2000.0 is JD 2451545.0 (IAU definition)
+    assert decimal_year(2451545.0) == pytest.approx(2000.0)
+    assert np.allclose(decimal_year(np.array([2451545.0 + 365.25])), [2001.0])

@@ -1,0 +1,495 @@
+"""Screens: the bench (main screen), the drift chart, and the small dialogs."""
+
+from __future__ import annotations
+
+from fractions import Fraction
+from pathlib import Path
+
+import numpy as np
+from rich.table import Table
+from rich.text import Text
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import ModalScreen, Screen
+from textual.widgets import Button, Footer, Input, Label, ProgressBar, Static
+from textual.worker import get_current_worker
+from textual_hires_canvas import HiResMode
+from textual_plot import PlotWidget
+
+from engine.dates import format_jd, parse_date
+from engine.errors import WheelworkError
+from engine.exact import parse_fraction
+from engine.view import decimal_year, train_layout
+from tui.session import FRAME_NAMES, SPEEDS, Session
+from tui.widgets import (
+    CAUTION,
+    MOON_HUE,
+    SUN_HUE,
+    Findings,
+    PhaseDiscs,
+    Readings,
+    SkyDial,
+    Status,
+    TrainView,
+)
+
+FPS = 25
+
+_G1 = Binding.Group("±1", compact=True)
+_G10 = Binding.Group("±10", compact=True)
+_G100 = Binding.Group("±100")
+_G1000 = Binding.Group("±1000", compact=True)
+_GSTEP = Binding.Group("±step", compact=True)
+_GSPEED = Binding.Group("speed", compact=True)
+
+
+class BenchScreen(Screen):
+    """The main screen: sky dial, readings, phase, the train, warnings."""
+
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
+    VERTICAL_BREAKPOINTS = [(0, "-short"), (30, "-mid"), (42, "-tall")]
+
+    BINDINGS = [
+        Binding("right", "crank(1)", "crank +1", group=_G1),
+        Binding("left", "crank(-1)", "crank −1", group=_G1),
+        Binding("up", "crank(10)", "crank +10", group=_G10),
+        Binding("down", "crank(-10)", "crank −10", group=_G10),
+        Binding("pageup", "crank(100)", "crank +100", group=_G100),
+        Binding("pagedown", "crank(-100)", "crank −100", group=_G100),
+        Binding("right_square_bracket", "crank(1000)", "crank +1000", group=_G1000),
+        Binding("left_square_bracket", "crank(-1000)", "crank −1000", group=_G1000),
+        Binding("plus,equals_sign", "crank_step(1)", "crank +step", group=_GSTEP),
+        Binding("minus", "crank_step(-1)", "crank −step", group=_GSTEP),
+        Binding("s", "choose_step", "step…"),
+        Binding("space", "run", "run"),
+        Binding("full_stop", "speed(1)", "faster", group=_GSPEED),
+        Binding("comma", "speed(-1)", "slower", group=_GSPEED),
+        Binding("g", "go_to_date", "date…"),
+        Binding("e", "epoch", "epoch"),
+        Binding("r", "reset_pointers", "re-set"),
+        Binding("u", "undo_reset", "undo"),
+        Binding("t", "toggle_frame", "frame"),
+        Binding("o", "toggle_observer", "observer"),
+        Binding("d", "drift", "drift"),
+        Binding("question_mark,f1", "help", "help"),
+        Binding("q", "quit", "quit"),
+    ]
+
+    def __init__(self, session: Session):
+        super().__init__()
+        self.session = session
+        self.running = False
+        self._layout = train_layout(session.mech.train)
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        train = s.mech.train
+        yield Static(Text.assemble(("wheelwork ", "bold #e5c07b"), (train.name, "bold"),
+                                   (f"  {Path(train.source).name}", "dim"),
+                                   ("   ", ""), ("? help", "dim")), id="title")
+        with Horizontal(id="top"):
+            with Vertical(id="dial-pane"):
+                yield SkyDial(s, id="dial")
+                yield Static(Text.assemble(("━ ", f"bold {SUN_HUE}"), ("━ ", f"bold {MOON_HUE}"),
+                                           "train hands   ", ("☉", f"#101418 on {SUN_HUE}"),
+                                           " ", ("☾", f"#101418 on {MOON_HUE}"), " true sky"),
+                             id="dial-key")
+                yield Static(CAUTION, id="caution")
+            with Vertical(id="side"):
+                with Vertical(id="info"):
+                    yield Status(s, id="status")
+                    yield Readings(id="readings")
+                yield PhaseDiscs(s, id="phase")
+                with VerticalScroll(id="findings-pane", can_focus=False):
+                    yield Findings(id="findings")
+        yield TrainView(s, self._layout, id="train")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#dial-pane").border_title = "sky dial"
+        self.query_one("#info").border_title = "readings"
+        self.query_one("#phase").border_title = "phase: train │ sky"
+        self.query_one("#findings-pane").border_title = "warnings"
+        self.query_one("#train").border_title = "train"
+        self.query_one(Findings).show_findings(self.session.findings)
+        self._timer = self.set_interval(1 / FPS, self._tick, pause=True)
+        self.refresh_view()
+
+    # --- drawing -------------------------------------------------------------------------
+    def refresh_view(self) -> None:
+        try:
+            now = self.session.now()
+        except WheelworkError as exc:
+            self._stop()
+            self.notify(str(exc), title="cannot read the sky", severity="error")
+            return
+        self.query_one(SkyDial).show(now)
+        self.query_one(TrainView).show(now)
+        self.query_one(PhaseDiscs).show(now)
+        self.query_one(Readings).show(now)
+        self.query_one(Status).show(now, self.running)
+        self.sub_title = now.date_text
+
+    def _tick(self) -> None:
+        try:
+            self.session.crank(self.session.speed_turns_per_s / FPS)
+        except WheelworkError as exc:
+            self._stop()
+            self.notify(f"stopped: {exc}", severity="warning")
+        self.refresh_view()
+
+    def _stop(self) -> None:
+        if self.running:
+            self.running = False
+            self._timer.pause()
+
+    def _guard(self, fn, *args) -> bool:
+        try:
+            fn(*args)
+        except (WheelworkError, ValueError, ZeroDivisionError) as exc:
+            self.notify(str(exc), severity="error")
+            return False
+        return True
+
+    # --- actions -------------------------------------------------------------------------
+    def action_crank(self, turns: int) -> None:
+        if self._guard(self.session.crank, int(turns)):
+            self.refresh_view()
+
+    def action_crank_step(self, sign: int) -> None:
+        if self._guard(self.session.crank, self.session.step * int(sign)):
+            self.refresh_view()
+
+    def action_choose_step(self) -> None:
+        def done(step: Fraction | None) -> None:
+            if step is not None and self._guard(self.session.set_step, step):
+                self.refresh_view()
+
+        self.app.push_screen(StepDialog(self.session.step), done)
+
+    def action_run(self) -> None:
+        self.running = not self.running
+        if self.running:
+            self._timer.resume()
+        else:
+            self._timer.pause()
+        self.refresh_view()
+
+    def action_speed(self, direction: int) -> None:
+        if int(direction) > 0:
+            self.session.faster()
+        else:
+            self.session.slower()
+        self.refresh_view()
+
+    def action_go_to_date(self) -> None:
+        def done(jd: float | None) -> None:
+            if jd is not None and self._guard(self.session.go_to, jd):
+                self.refresh_view()
+
+        self.app.push_screen(DateDialog(self.session), done)
+
+    def action_epoch(self) -> None:
+        self.session.to_epoch()
+        self.refresh_view()
+
+    def action_reset_pointers(self) -> None:
+        if self._guard(self.session.reset_pointers):
+            self.notify("pointers re-set to the sky at this date (u undoes)", timeout=3)
+            self.refresh_view()
+
+    def action_undo_reset(self) -> None:
+        if self.session.undo_reset():
+            self.notify("pointer setting restored", timeout=3)
+            self.refresh_view()
+        else:
+            self.notify("nothing to undo: the pointers are as set at the epoch", timeout=3)
+
+    def action_toggle_frame(self) -> None:
+        self.session.toggle_frame()
+        self.refresh_view()
+
+    def action_toggle_observer(self) -> None:
+        self.session.toggle_observer()
+        self.refresh_view()
+
+    def action_drift(self) -> None:
+        self._stop()
+        self.app.push_screen(DriftScreen(self.session))
+
+    def action_help(self) -> None:
+        self.app.push_screen(HelpScreen(self.BINDINGS))
+
+
+class DateDialog(ModalScreen[float | None]):
+    """Ask for a date; a bad or out-of-range date is reported here and the dialog stays."""
+
+    BINDINGS = [Binding("escape", "cancel", "cancel")]
+
+    def __init__(self, session: Session):
+        super().__init__()
+        self.session = session
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="dialog"):
+            yield Label("Turn the crank to the date (UT):", classes="dialog-title")
+            yield Input(placeholder="2040-06-21 12:00 · 12 March 1910 · 44 BC-03-15 · JD 2451545",
+                        id="date-input")
+            yield Label(f"ephemeris {self.session.sky.name}: {self.session.sky.span_text}",
+                        id="date-hint")
+            yield Label("", id="date-error")
+            with Horizontal(classes="dialog-buttons"):
+                yield Button("Go", variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
+    @on(Input.Submitted)
+    @on(Button.Pressed, "#ok")
+    def submit(self) -> None:
+        text = self.query_one("#date-input", Input).value
+        error = self.query_one("#date-error", Label)
+        try:
+            jd = parse_date(text)
+            self.session._check_jd(jd)
+        except WheelworkError as exc:
+            error.update(str(exc))
+            error.add_class("-shown")
+            return
+        self.dismiss(jd)
+
+    @on(Button.Pressed, "#cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class StepDialog(ModalScreen[Fraction | None]):
+    """Ask for the crank step used by +/−: a whole number, a decimal or a fraction p/q."""
+
+    BINDINGS = [Binding("escape", "cancel", "cancel")]
+
+    def __init__(self, step: Fraction):
+        super().__init__()
+        self.step = step
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="dialog"):
+            yield Label("Crank step for + and − (turns):", classes="dialog-title")
+            yield Input(value=str(self.step), id="step-input")
+            yield Label("a whole number, a decimal, or a fraction like 1/24", id="step-hint")
+            yield Label("", id="step-error")
+            with Horizontal(classes="dialog-buttons"):
+                yield Button("Set", variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
+    @on(Input.Submitted)
+    @on(Button.Pressed, "#ok")
+    def submit(self) -> None:
+        text = self.query_one("#step-input", Input).value
+        error = self.query_one("#step-error", Label)
+        try:
+            step = parse_fraction(text.strip())
+            if step <= 0:
+                raise ValueError("the step must be more than 0 turns")
+            if step > 10**9:
+                raise ValueError("the step must be at most 1,000,000,000 turns")
+        except ValueError as exc:
+            error.update(str(exc))
+            error.add_class("-shown")
+            return
+        self.dismiss(step)
+
+    @on(Button.Pressed, "#cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class HelpScreen(ModalScreen[None]):
+    """The keys, and the solar caution."""
+
+    BINDINGS = [Binding("escape,q,question_mark,f1", "close", "close")]
+
+    def __init__(self, bindings: list[Binding]):
+        super().__init__()
+        self.bindings_list = bindings
+
+    def compose(self) -> ComposeResult:
+        t = Table(box=None, padding=(0, 2), show_header=False)
+        t.add_column(style="bold #e5c07b", no_wrap=True)
+        t.add_column()
+        for b in self.bindings_list:
+            keys = " / ".join(_key_name(k) for k in b.key.split(","))
+            t.add_row(keys, b.description)
+        with Vertical(id="help"):
+            yield Static(Text("wheelwork — keys", style="bold"))
+            yield Static(t)
+            yield Static(Text.assemble(
+                "\nThe hands are the train; the badges on the ring are the true Sun and Moon "
+                "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°.\n"))
+            yield Static(CAUTION, classes="caution")
+            yield Static(Text("escape closes", style="dim"))
+
+    def action_close(self) -> None:
+        self.dismiss(None)
+
+
+_KEY_NAMES = {"right": "→", "left": "←", "up": "↑", "down": "↓", "pageup": "PgUp",
+              "pagedown": "PgDn", "right_square_bracket": "]", "left_square_bracket": "[",
+              "plus": "+", "equals_sign": "=", "minus": "−", "space": "space",
+              "full_stop": ".", "comma": ",", "question_mark": "?", "f1": "F1"}
+
+
+def _key_name(key: str) -> str:
+    return _KEY_NAMES.get(key.strip(), key.strip())
+
+
+PLOT_STYLES = ("#f2b632", "#7fd4ff", "#c678dd", "#98c379", "#e06c75", "#56b6c2", "#d19a66")
+THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
+
+
+class DriftScreen(Screen):
+    """Each pointer's error over the coming decades, computed in a background worker."""
+
+    BINDINGS = [
+        Binding("escape,d", "back", "back"),
+        Binding("c", "cancel", "cancel"),
+        Binding("plus,equals_sign", "decades(1)", "+decade"),
+        Binding("minus", "decades(-1)", "−decade"),
+        Binding("right_square_bracket", "threshold(1)", "threshold↑"),
+        Binding("left_square_bracket", "threshold(-1)", "threshold↓"),
+        Binding("question_mark,f1", "help", "help"),
+        Binding("q", "quit", "quit"),
+    ]
+
+    def __init__(self, session: Session, decades: int = 5, threshold_index: int = 2):
+        super().__init__()
+        self.session = session
+        self.decades = decades
+        self.threshold_index = threshold_index
+        self.result = None
+
+    def compose(self) -> ComposeResult:
+        yield Static("", id="drift-title")
+        yield PlotWidget(id="drift-plot", allow_pan_and_zoom=False)
+        with Horizontal(id="drift-progress-row"):
+            yield ProgressBar(total=100, show_eta=False, id="drift-progress")
+            yield Static("", id="drift-status")
+        yield Static("", id="drift-summary")
+        yield Static(CAUTION, id="drift-caution")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.start()
+
+    @property
+    def threshold_deg(self) -> float:
+        return THRESHOLDS_DEG[self.threshold_index]
+
+    def span(self) -> tuple[float, float]:
+        start = self.session.jd_now()
+        end = min(start + self.decades * 3652.5, self.session.sky.span_jd[1])
+        return start, end
+
+    def start(self) -> None:
+        start, end = self.span()
+        title = self.query_one("#drift-title", Static)
+        title.update(Text.assemble(
+            ("drift  ", "bold #e5c07b"), f"{format_jd(start)[:10]} → {format_jd(end)[:10]}  ",
+            (f"({(end - start) / 365.25:.1f} years", "dim"),
+            (f", {FRAME_NAMES.get(self.session.frame)}, threshold ±{self.threshold_deg:g}°)",
+             "dim")))
+        if end - start < 30:
+            self.query_one("#drift-status", Static).update(
+                f"the ephemeris ends {format_jd(self.session.sky.span_jd[1])[:10]}: "
+                "go back in time (g) for a drift chart")
+            return
+        self.query_one("#drift-progress", ProgressBar).update(progress=0)
+        self.query_one("#drift-status", Static).update("computing…")
+        self.compute(start, end, self.threshold_deg)
+
+    @work(thread=True, exclusive=True, group="drift")
+    def compute(self, start: float, end: float, threshold_deg: float) -> None:
+        from engine.drift import DriftCancelled, drift_series
+
+        worker = get_current_worker()
+        s = self.session
+        step_days = max((end - start) / 3000.0, 0.25)
+
+        def progress(fraction: float) -> None:
+            if not worker.is_cancelled:
+                self.app.call_from_thread(self._progress, fraction)
+
+        try:
+            result = drift_series(s.mech, s.sky, start, end, step_days, frame=s.frame,
+                                  site=s.observer, threshold_deg=threshold_deg,
+                                  progress=progress, cancel=lambda: worker.is_cancelled)
+        except DriftCancelled:
+            self.app.call_from_thread(self._status, "cancelled")
+            return
+        except WheelworkError as exc:
+            self.app.call_from_thread(self._status, f"cannot compute: {exc}")
+            return
+        if not worker.is_cancelled:
+            self.app.call_from_thread(self.show_result, result)
+
+    def _progress(self, fraction: float) -> None:
+        self.query_one("#drift-progress", ProgressBar).update(progress=100 * fraction)
+
+    def _status(self, text: str) -> None:
+        self.query_one("#drift-status", Static).update(text)
+
+    def show_result(self, result) -> None:
+        self.result = result
+        self._progress(1.0)
+        self._status("done")
+        plot = self.query_one(PlotWidget)
+        plot.clear()
+        years = decimal_year(np.asarray(result.jd))
+        thr = result.summaries[next(iter(result.summaries))].threshold_deg if result.summaries \
+            else self.threshold_deg
+        for k, (name, err) in enumerate(result.error_deg.items()):
+            plot.plot(years, np.asarray(err), line_style=PLOT_STYLES[k % len(PLOT_STYLES)],
+                      hires_mode=HiResMode.BRAILLE, label=name)
+        ends = [float(years[0]), float(years[-1])]
+        plot.plot(ends, [thr, thr], line_style="#e06c75", label=f"±{thr:g}°")
+        plot.plot(ends, [-thr, -thr], line_style="#e06c75")
+        for k, (name, sm) in enumerate(result.summaries.items()):
+            if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd):
+                plot.add_v_line(float(decimal_year(sm.first_crossing_jd)),
+                                PLOT_STYLES[k % len(PLOT_STYLES)], f"{name} crosses")
+        plot.set_xlabel("year")
+        plot.set_ylabel("error ° (train − sky)")
+        plot.show_legend()
+        t = Table(box=None, padding=(0, 1), header_style="bold #9aa5b1")
+        for col in ("pointer", "max |err|°", "at", "rms°", "drift °/cy", f"first past ±{thr:g}°"):
+            t.add_column(col, justify="right" if "°" in col else "left")
+        for name, sm in result.summaries.items():
+            cross = (format_jd(sm.first_crossing_jd)[:10]
+                     if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd)
+                     else "not in span")
+            t.add_row(name, f"{sm.max_abs_deg:.2f}", format_jd(sm.max_at_jd)[:10],
+                      f"{sm.rms_deg:.2f}", f"{sm.drift_deg_per_century:+.2f}", cross)
+        self.query_one("#drift-summary", Static).update(t)
+
+    def action_back(self) -> None:
+        self.workers.cancel_group(self, "drift")
+        self.app.pop_screen()
+
+    def action_cancel(self) -> None:
+        self.workers.cancel_group(self, "drift")
+        self._status("cancelled")
+
+    def action_decades(self, step: int) -> None:
+        self.decades = int(np.clip(self.decades + int(step), 1, 60))
+        self.start()
+
+    def action_threshold(self, step: int) -> None:
+        self.threshold_index = int(np.clip(self.threshold_index + int(step), 0,
+                                           len(THRESHOLDS_DEG) - 1))
+        self.start()
+
+    def action_help(self) -> None:
+        self.app.push_screen(HelpScreen(self.BINDINGS))
+
+
+__all__ = ["BenchScreen", "DateDialog", "DriftScreen", "HelpScreen", "StepDialog", "SPEEDS"]

@@ -1,0 +1,235 @@
+"""The interface's state: a mechanism, the sky, the crank position and the viewing choices.
+
+Plain Python (no Textual), so tests and benchmarks can drive it directly. Every number shown
+comes from the engine: readings and errors from :func:`engine.drift.pointer_errors`, the sky
+from :meth:`engine.sky.Sky.at`, arbor angles from the kinematics.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from fractions import Fraction
+
+import numpy as np
+
+from engine.dates import format_jd
+from engine.drift import pointer_errors
+from engine.errors import SkyError, WheelworkError
+from engine.exact import Turns
+from engine.mechanism import Mechanism
+from engine.readout import Readout
+from engine.sky import Site, Sky, SkyState
+from engine.view import arbor_turns
+
+#: Observer used when the command line names none (shown on screen as such).
+DEFAULT_SITE = Site(51.48, -0.01, 45.0)
+DEFAULT_SITE_NAME = "default site"
+
+#: Continuous cranking speeds, crank turns per second.
+SPEEDS = (0.25, 1.0, 3.0, 10.0, 30.0, 100.0, 300.0, 1000.0, 3000.0)
+DEFAULT_SPEED = 3
+
+FRAME_NAMES = {"equinox": "equinox of date", "stars": "fixed stars (J2000)"}
+MAX_STEP_TURNS = 10**9
+
+
+@dataclass(frozen=True)
+class PointerNow:
+    """One pointer at the current crank position (degrees; ``error_deg`` wrapped ±180)."""
+
+    name: str
+    shows: str
+    train_deg: float
+    sky_deg: float
+    error_deg: float
+    error_days: float | None
+    worst_deg: float
+    drift_deg_per_century: float | None
+
+
+@dataclass(frozen=True)
+class Now:
+    """Everything the screen shows for one crank position."""
+
+    turns: Turns
+    jd_ut: float
+    date_text: str
+    sky: SkyState  # one-element arrays
+    pointers: dict[str, PointerNow]
+    angles_turns: dict[str, float]  # every arbor's angle, 0..1
+    arbor_turns: dict[str, float]  # every arbor's turns since the epoch
+    moved_turns: float  # crank turns since the previous frame (for "too fast" arbors)
+    frame: str
+    site: Site | None
+
+    @property
+    def delta_t_s(self) -> float:
+        return float(self.sky.delta_t_s.reshape(-1)[0])
+
+    @property
+    def turns_text(self) -> str:
+        whole = int(np.asarray(self.turns.whole).reshape(-1)[0])
+        frac = float(np.asarray(self.turns.frac).reshape(-1)[0])
+        if frac < 5e-7 or frac > 1 - 5e-7:
+            return f"{whole + round(frac):+,d}"
+        return f"{whole + frac:+,.3f}"
+
+
+def _one(a) -> float:
+    return float(np.asarray(a).reshape(-1)[0])
+
+
+class _LastSky:
+    """The sky, remembering its last answer: one frame asks the ephemeris once, even though
+    both the readout comparison and the phase/ΔT display need that date's sky."""
+
+    def __init__(self, sky: Sky):
+        self._sky = sky
+        self._key = None
+        self._state = None
+
+    def at(self, jd_ut, frame: str = "equinox", site: Site | None = None, **kw) -> SkyState:
+        jd = np.asarray(jd_ut, dtype=float)
+        key = (jd.shape, jd.tobytes(), frame, site, tuple(sorted(kw.items())))
+        if key != self._key:
+            self._state = self._sky.at(jd, frame=frame, site=site, **kw)
+            self._key = key
+        return self._state
+
+    def __getattr__(self, name):
+        return getattr(self._sky, name)
+
+
+@dataclass
+class Session:
+    """A train on the bench: crank it, jump, re-set its pointers, change frame and observer."""
+
+    mech: Mechanism
+    sky: Sky
+    site: Site = DEFAULT_SITE
+    site_name: str = DEFAULT_SITE_NAME
+    turns: Turns = field(default_factory=lambda: Turns.of(0))
+    step: Fraction = Fraction(1)
+    frame: str = ""
+    topocentric: bool = False
+    speed_index: int = DEFAULT_SPEED
+    findings: list = field(default_factory=list)
+    drift_per_century: dict[str, float] = field(default_factory=dict)
+    worst_deg: dict[str, float] = field(default_factory=dict)
+    _undo: list[tuple[Readout, dict[str, float]]] = field(default_factory=list)
+    _moved: float = 0.0
+
+    def __post_init__(self):
+        self.frame = self.frame or self.mech.train.dial
+        self._last_sky = _LastSky(self.sky)
+
+    # --- what the crank and dials do -------------------------------------------------------
+    @property
+    def readout(self) -> Readout:
+        return self.mech.readout
+
+    @property
+    def observer(self) -> Site | None:
+        return self.site if self.topocentric else None
+
+    @property
+    def speed_turns_per_s(self) -> float:
+        return SPEEDS[self.speed_index]
+
+    def jd_now(self) -> float:
+        return float(np.asarray(self.readout.jd_at(self.turns)).reshape(-1)[0])
+
+    def _check_jd(self, jd: float) -> None:
+        lo, hi = self.sky.span_jd
+        if not (np.isfinite(jd) and lo <= jd <= hi):
+            raise SkyError(f"{format_jd(jd) if np.isfinite(jd) else jd} is outside the "
+                           f"ephemeris {self.sky.name} ({self.sky.span_text})")
+
+    def crank(self, n: Fraction | int | float) -> None:
+        """Turn the crank ``n`` turns (negative: backwards). Refuses to leave the ephemeris."""
+        new = self.turns + Turns.of(n)
+        self._check_jd(float(np.asarray(self.readout.jd_at(new)).reshape(-1)[0]))
+        self.turns = new
+        self._moved = float(n)
+
+    def go_to(self, jd_ut: float) -> None:
+        """Turn the crank to the position that shows this UT Julian date."""
+        self._check_jd(jd_ut)
+        new = self.readout.turns_at(jd_ut)
+        self._moved = float((new - self.turns).to_float())
+        self.turns = new
+
+    def to_epoch(self) -> None:
+        self._moved = float(self.turns.to_float())
+        self.turns = Turns.of(0)
+
+    def set_step(self, step: Fraction | int) -> None:
+        step = Fraction(step)
+        if step <= 0 or step > MAX_STEP_TURNS:
+            raise WheelworkError(f"step {step} turns: choose more than 0 and at most "
+                                 f"{MAX_STEP_TURNS:,} turns")
+        self.step = step
+
+    def faster(self) -> None:
+        self.speed_index = min(self.speed_index + 1, len(SPEEDS) - 1)
+
+    def slower(self) -> None:
+        self.speed_index = max(self.speed_index - 1, 0)
+
+    def toggle_frame(self) -> None:
+        self.frame = "stars" if self.frame == "equinox" else "equinox"
+
+    def toggle_observer(self) -> None:
+        self.topocentric = not self.topocentric
+
+    def reset_pointers(self) -> None:
+        """Turn every pointer by hand to the sky at the current date (undoable)."""
+        errors = self._errors()
+        values = {n: _one(e.sky_deg) for n, e in errors.items()}
+        self._undo.append((self.mech.readout, dict(self.worst_deg)))
+        self.mech = replace(self.mech, readout=self.readout.reset_to(self.turns, values))
+        self.worst_deg = {}
+
+    def undo_reset(self) -> bool:
+        """Put the pointers back as they were before the last re-set; False if none."""
+        if not self._undo:
+            return False
+        readout, worst = self._undo.pop()
+        self.mech = replace(self.mech, readout=readout)
+        self.worst_deg = worst
+        return True
+
+    @property
+    def can_undo(self) -> bool:
+        return bool(self._undo)
+
+    # --- reading ---------------------------------------------------------------------------
+    def _errors(self, jd: float | None = None) -> dict:
+        jd = self.jd_now() if jd is None else jd
+        return pointer_errors(self.mech, self._last_sky, np.array([jd]), frame=self.frame,
+                              site=self.observer)
+
+    def now(self) -> Now:
+        """Read the train and the sky at the current crank position (updates the worst errors)."""
+        jd = self.jd_now()
+        self._check_jd(jd)
+        errors = self._errors(jd)
+        state = self._last_sky.at(np.array([jd]), frame=self.frame, site=self.observer)
+        pointers = {}
+        for name, e in errors.items():
+            err = _one(e.error_deg)
+            worst = max(self.worst_deg.get(name, 0.0), abs(err))
+            self.worst_deg[name] = worst
+            days = e.error_days
+            pointers[name] = PointerNow(
+                name=name, shows=self.mech.train.pointers[name].shows,
+                train_deg=_one(e.train_deg), sky_deg=_one(e.sky_deg),
+                error_deg=err,
+                error_days=None if days is None else _one(days),
+                worst_deg=worst, drift_deg_per_century=self.drift_per_century.get(name))
+        angles = {n: float(np.asarray(v).reshape(-1)[0])
+                  for n, v in self.mech.kin.angles_turns(self.turns).items()}
+        moved, self._moved = self._moved, 0.0
+        return Now(self.turns, jd, format_jd(jd), state, pointers, angles,
+                   arbor_turns(self.mech.kin.rates, self.turns), moved, self.frame,
+                   self.observer)

@@ -1,0 +1,434 @@
+"""Widgets of the main screen. Each draws a :class:`tui.session.Now` it is given; none computes
+astronomy or kinematics."""
+
+from __future__ import annotations
+
+import math
+
+from rich.table import Table
+from rich.text import Text
+from textual.geometry import Size
+from textual.widgets import Static
+from textual_hires_canvas import Canvas, HiResMode
+
+from engine.view import TrainLayout, ball_lit_fraction, hands_elongation_deg, lit_disc, too_fast
+from tui.session import FRAME_NAMES, Now, Session
+
+# Colours: a train hand and the true body it chases share a hue; the hand is a thin line,
+# the body a solid badge on the ring.
+SUN_HUE = "#f2b632"
+MOON_HUE = "#7fd4ff"
+RING = "#6a7b8c"
+RING_BRIGHT = "#b9c6d3"
+SIGN_TEXT = "#8fa3b8"
+HUB = "#e8e8e8"
+LIT = "#f4efd2"
+UNLIT = "#2b3140"
+
+SIGNS = ("ARI", "TAU", "GEM", "CNC", "LEO", "VIR", "LIB", "SCO", "SGR", "CAP", "AQR", "PSC")
+
+CAUTION = "⚠ Never look at the Sun without a proper solar filter."
+
+
+# braille dot bits by (row 0-3, column 0-1) inside a cell
+_BRAILLE_BITS = ((0x01, 0x08), (0x02, 0x10), (0x04, 0x20), (0x40, 0x80))
+
+
+def _scalar(a) -> float:
+    return float(a.reshape(-1)[0]) if hasattr(a, "reshape") else float(a)
+
+
+class LayeredCanvas(Canvas):
+    """A hi-res canvas that keeps a static layer (drawn once per size) under a moving one."""
+
+    DEFAULT_CSS = "LayeredCanvas { width: 1fr; height: 1fr; }"
+
+    def __init__(self, **kwargs):
+        super().__init__(1, 1, default_hires_mode=HiResMode.BRAILLE, **kwargs)
+        self._static: tuple[list[list[str]], list[list[str]]] | None = None
+        self._now: Now | None = None
+
+    def on_canvas_resize(self, event: Canvas.Resize) -> None:
+        event.stop()
+        size = event.size
+        if size.width < 2 or size.height < 2:
+            return
+        with self.batch_refresh():
+            self.reset(size=Size(size.width, size.height), refresh=False)
+            self.draw_static()
+            self._static = ([row[:] for row in self._buffer], [row[:] for row in self._styles])
+            if self._now is not None:
+                self._draw_now()
+
+    def show(self, now: Now) -> None:
+        self._now = now
+        if self._static is not None:
+            self._draw_now()
+
+    def _draw_now(self) -> None:
+        buf, sty = self._static
+        with self.batch_refresh():
+            self._buffer = [row[:] for row in buf]
+            self._styles = [row[:] for row in sty]
+            self.draw_moving(self._now)
+
+    def dots(self, points, style: str) -> None:
+        """Set braille dots at cell coordinates (x right, y down; 2 × 4 dots a cell), merging
+        with dots already in each cell; the cell takes the newest style."""
+        w, h = self._canvas_size.width, self._canvas_size.height
+        buf, sty = self._buffer, self._styles
+        for x, y in points:
+            hx, hy = math.floor(x * 2.0), math.floor(y * 4.0)
+            cx, cy = hx >> 1, hy >> 2
+            if not (0 <= cx < w and 0 <= cy < h):
+                continue
+            ch = buf[cy][cx]
+            code = ord(ch) - 0x2800 if "\u2800" <= ch <= "\u28ff" else 0
+            buf[cy][cx] = chr(0x2800 | code | _BRAILLE_BITS[hy & 3][hx & 1])
+            sty[cy][cx] = style
+        self.refresh()
+
+    def line(self, x0: float, y0: float, x1: float, y1: float, style: str) -> None:
+        """A braille line between two points in cell coordinates."""
+        n = int(max(abs(x1 - x0) * 2.0, abs(y1 - y0) * 4.0)) + 1
+        self.dots([(x0 + (x1 - x0) * k / n, y0 + (y1 - y0) * k / n) for k in range(n + 1)],
+                  style)
+
+    def put(self, x: float, y: float, text: str, style: str) -> None:
+        """Write plain text starting at cell (x, y) with one style, clipped to the canvas."""
+        yi, xi = int(round(y)), int(round(x))
+        if not 0 <= yi < self._canvas_size.height:
+            return
+        for i, ch in enumerate(text):
+            if 0 <= xi + i < self._canvas_size.width:
+                self._buffer[yi][xi + i] = ch
+                self._styles[yi][xi + i] = style
+        self.refresh()
+
+    def draw_static(self) -> None:  # pragma: no cover - overridden
+        pass
+
+    def draw_moving(self, now: Now) -> None:  # pragma: no cover - overridden
+        pass
+
+
+class SkyDial(LayeredCanvas):
+    """The ecliptic as a graduated ring; the train's Sun and Moon hands from the centre, the
+    true Sun and Moon as badges on the ring. Longitude 0° at the top, increasing anticlockwise.
+    """
+
+    def __init__(self, session: Session, **kwargs):
+        super().__init__(**kwargs)
+        self.session = session
+        self._geom = (0.0, 0.0, 1.0)
+
+    def _xy(self, lon_deg: float, r: float) -> tuple[float, float]:
+        cx, cy, _ = self._geom
+        t = math.radians(90.0 + lon_deg)
+        return cx + r * math.cos(t), cy - 0.5 * r * math.sin(t)
+
+    def draw_static(self) -> None:
+        w, h = self._canvas_size.width, self._canvas_size.height
+        cx, cy = w / 2.0, h / 2.0
+        r = max(min(w / 2.0 - 4.5, (h / 2.0 - 1.2) * 2.0), 2.0)
+        self._geom = (cx, cy, r)
+        ring = [self._xy(a / 4.0, r) for a in range(0, 1440)]
+        self.dots(ring, style=RING)
+        fine = []
+        coarse = []
+        dots_per_deg = r * math.pi / 180.0 * 2.0
+        for deg in range(360):
+            if deg % 30 == 0:
+                coarse += [self._xy(deg, r - k * 0.25) for k in range(0, 13)]
+                coarse += [self._xy(deg, r + k * 0.25) for k in range(1, 4)]
+            elif deg % 10 == 0:
+                fine += [self._xy(deg, r - k * 0.25) for k in range(0, 7)]
+            elif deg % 5 == 0:
+                fine += [self._xy(deg, r - k * 0.25) for k in range(0, 4)]
+            elif dots_per_deg >= 0.9:
+                fine.append(self._xy(deg, r - 0.5))
+        self.dots(fine, style=RING)
+        self.dots(coarse, style=RING_BRIGHT)
+        for k, name in enumerate(SIGNS):
+            x, y = self._xy(30 * k + 15, r + 3.2)
+            self.put(x - 1, y, name if r >= 8 else name[:2], SIGN_TEXT)
+        for deg in (0, 90, 180, 270):
+            x, y = self._xy(deg, r - 5.0)
+            if r >= 16:
+                self.put(x - len(str(deg)) / 2, y, f"{deg}°", RING)
+
+    def draw_moving(self, now: Now) -> None:
+        cx, cy, r = self._geom
+        ptrs = now.pointers
+        by_kind = {}
+        for p in ptrs.values():
+            by_kind.setdefault(p.shows, p)
+        for kind, hue, length in (("moon", MOON_HUE, 0.78), ("sun", SUN_HUE, 0.92)):
+            p = by_kind.get(kind)
+            if p is None:
+                continue
+            x, y = self._xy(p.train_deg, r * length)
+            self.line(cx, cy, x, y, style=f"bold {hue}")
+        self.put(cx - 0.5, cy - 0.25, "●", HUB)
+        sun = _scalar(now.sky.sun_lon_deg)
+        moon = _scalar(now.sky.moon_lon_deg)
+        for lon, glyph, hue in ((moon, "☾", MOON_HUE), (sun, "☉", SUN_HUE)):
+            x, y = self._xy(lon, r)
+            self.put(x - 0.5, y - 0.25, glyph, f"bold #101418 on {hue}")
+
+
+class TrainView(LayeredCanvas):
+    """The train: each arbor a wheel sized by its largest tooth count, meshes as lines, carrier
+    links dotted; a radius marker turns at the arbor's true rate, or its turn count shows when
+    it moves too fast to follow."""
+
+    def __init__(self, session: Session, layout: TrainLayout, **kwargs):
+        super().__init__(**kwargs)
+        self.session = session
+        self.train_layout = layout
+        self._spots: dict[str, tuple[float, float, float]] = {}
+        self._hands = {p.arbor for p in session.mech.train.pointers.values()}
+
+    def draw_static(self) -> None:
+        w, h = self._canvas_size.width, self._canvas_size.height
+        lay = self.train_layout
+        if not lay.ncols:
+            return
+        cw = w / lay.ncols
+        rh = h / max(lay.nrows, 1)
+        rmax = max(min(cw / 2.0 - 1.0, rh - 1.6), 1.0)
+        self._spots = {}
+        for name, s in lay.spots.items():
+            x = (s.col + 0.5) * cw
+            y = s.row * rh + (rh - 1) / 2.0
+            frac = s.teeth / lay.max_teeth if lay.max_teeth else 0.5
+            r = max(rmax * (0.35 + 0.65 * frac), 1.0)
+            self._spots[name] = (x, y, r)
+        for a, b, internal in lay.meshes:
+            (x1, y1, _), (x2, y2, _) = self._spots[a], self._spots[b]
+            self.line(x1, y1, x2, y2, style="#4d5a66" if not internal else "#8a6d3b")
+        for carrier, arbor in lay.carried:
+            (x1, y1, _), (x2, y2, _) = self._spots[carrier], self._spots[arbor]
+            n = max(int(math.hypot(x2 - x1, (y2 - y1) * 2) * 1.5), 2)
+            pts = [(x1 + (x2 - x1) * k / n, y1 + (y2 - y1) * k / n) for k in range(0, n + 1, 2)]
+            self.dots(pts, style="#c678dd")
+        for a, b in lay.slots:
+            (x1, y1, _), (x2, y2, _) = self._spots[a], self._spots[b]
+            self.line(x1, y1, x2, y2, style="#c678dd")
+        crank = self.session.mech.train.crank.arbor
+        for name, (x, y, r) in self._spots.items():
+            pts = [(x + r * math.cos(t / 40 * math.tau), y + 0.5 * r * math.sin(t / 40 * math.tau))
+                   for t in range(40)]
+            style = "#e5c07b" if name == crank else ("#98c379" if name in self._hands else "#7f8c99")
+            self.dots(pts, style=style)
+        for name, (x, y, r) in self._spots.items():
+            spot = lay.spots[name]
+            label = f"{name} {spot.teeth}" if spot.teeth else name
+            if len(label) > cw - 1:
+                label = label[: max(int(cw) - 1, 1)]
+            self.put(x - len(label) / 2.0, y + 0.5 * r + 0.6, label, "#9aa5b1")
+
+    def draw_moving(self, now: Now) -> None:
+        rates = self.session.mech.kin.rates
+        for name, (x, y, r) in self._spots.items():
+            if too_fast(rates[name], now.moved_turns):
+                n = now.arbor_turns[name]
+                count = f"{n:+.1f}" if abs(n) < 100 else f"{n:+,.0f}"
+                self.put(x - len(count) / 2.0 + 0.5, y, count, "bold #e06c75")
+                continue
+            a = now.angles_turns[name] * math.tau
+            # angle 0 up, positive turning anticlockwise as seen from the dial side
+            ex, ey = x - 0.9 * r * math.sin(a), y - 0.45 * r * math.cos(a)
+            self.line(x, y, ex, ey, style="bold #e6e6e6")
+
+
+def _mix(a: tuple[int, int, int], b: tuple[int, int, int], t: float) -> str:
+    r, g, bl = (round(x + (y - x) * t) for x, y in zip(a, b, strict=True))
+    return f"#{r:02x}{g:02x}{bl:02x}"
+
+
+_LIT_RGB = (0xF4, 0xEF, 0xD2)
+_UNLIT_RGB = (0x2B, 0x31, 0x40)
+
+
+def _disc_text(lit_fraction: float, waxing: bool, rows: int, width: int) -> list[Text]:
+    """A shaded disc ``rows`` cells tall and ``2 * rows`` wide, in half-block cells (two
+    picture elements a cell), centred in ``width`` columns."""
+    cols = rows * 2
+    disc, lit = lit_disc(lit_fraction, waxing, cols, rows * 2)
+
+    def colour(i: int, j: int) -> str | None:
+        d = disc[i, j]
+        if d < 0.5:
+            return None
+        return _mix(_UNLIT_RGB, _LIT_RGB, float(lit[i, j] / d))
+
+    pad = " " * max((width - cols) // 2, 0)
+    lines = []
+    for i in range(rows):
+        t = Text(pad)
+        for j in range(cols):
+            top, bottom = colour(2 * i, j), colour(2 * i + 1, j)
+            if top and bottom:
+                t.append("▀", style=f"{top} on {bottom}")
+            elif top:
+                t.append("▀", style=top)
+            elif bottom:
+                t.append("▄", style=bottom)
+            else:
+                t.append(" ")
+        t.append(" " * max(width - cols - len(pad), 0))
+        lines.append(t)
+    return lines
+
+
+class PhaseDiscs(Static):
+    """The train's phase display beside the true Moon, each a shaded disc."""
+
+    def __init__(self, session: Session, **kwargs):
+        super().__init__(**kwargs)
+        self.session = session
+        self._now: Now | None = None
+
+    def show(self, now: Now) -> None:
+        self._now = now
+        self.refresh()
+
+    def on_resize(self) -> None:
+        self.refresh()
+
+    def render(self):
+        now = self._now
+        if now is None:
+            return ""
+        width = max((self.size.width - 3) // 2, 8)
+        rows = max(min(self.size.height - 3, width // 2), 2)
+        ptrs = list(now.pointers.values())
+        p = next((p for p in ptrs if p.shows == "phase"), None)
+        sun = next((p for p in ptrs if p.shows == "sun"), None)
+        moon = next((p for p in ptrs if p.shows == "moon"), None)
+        if p is not None:
+            e_train, label = p.train_deg, f"train: {p.name}"
+        elif sun is not None and moon is not None:
+            e_train, label = hands_elongation_deg(moon.train_deg, sun.train_deg), "train hands"
+        else:
+            e_train, label = None, "train"
+        e_sky = _scalar(now.sky.elongation_deg)
+        lit_sky = _scalar(now.sky.illuminated)
+        if e_train is not None:
+            left = _disc_text(ball_lit_fraction(e_train), e_train < 180.0, rows, width)
+            t1 = f"E {e_train:5.1f}°  lit {ball_lit_fraction(e_train) * 100:3.0f}%"
+        else:
+            left = [Text(" " * width)] * rows
+            t1 = "no phase display"
+        right = _disc_text(lit_sky, e_sky < 180.0, rows, width)
+        t2 = f"E {e_sky:5.1f}°  lit {lit_sky * 100:3.0f}%"
+        gap = "   "
+        out = Text(no_wrap=True, overflow="crop")
+        for a, b in zip(left, right, strict=True):
+            out.append_text(a)
+            out.append(gap)
+            out.append_text(b)
+            out.append("\n")
+        out.append(f"{label:^{width}.{width}}{gap}{'true Moon':^{width}.{width}}\n", style="bold")
+        out.append(f"{t1:^{width}.{width}}{gap}{t2:^{width}.{width}}\n")
+        out.append(f"{'':^{width}}{gap}{now.sky.phase_names()[0]:^{width}.{width}}", style="dim")
+        return out
+
+
+def _err_style(err: float) -> str:
+    a = abs(err)
+    return "green" if a < 1.0 else ("yellow" if a < 5.0 else "bold red")
+
+
+class Readings(Static):
+    """Per pointer: train, sky, error now, worst error this session, drift per century."""
+
+    def show(self, now: Now) -> None:
+        narrow = bool(self.size.width) and self.size.width < 52
+        t = Table(box=None, padding=(0, 1), expand=False, show_edge=False,
+                  header_style="bold #9aa5b1", pad_edge=False)
+        t.add_column("pointer", no_wrap=True, max_width=8 if narrow else 12)
+        t.add_column("train°", justify="right", no_wrap=True)
+        t.add_column("sky°", justify="right", no_wrap=True)
+        t.add_column("err°", justify="right", no_wrap=True)
+        t.add_column("max°" if narrow else "worst°", justify="right", no_wrap=True)
+        t.add_column("°/cy" if narrow else "drift °/cy", justify="right", no_wrap=True)
+        if not narrow:
+            t.add_column("err days", justify="right", no_wrap=True)
+        deg = "{:.1f}" if narrow else "{:.2f}"
+        for p in now.pointers.values():
+            d = p.drift_deg_per_century
+            if d is None:
+                drift = ""
+            elif narrow:
+                drift = f"{d:+.2f}" if abs(d) >= 0.005 else f"{d:+.0e}".replace("e-0", "e-")
+            else:
+                drift = f"{d:+.2f}" if abs(d) >= 0.01 else f"{d:+.4f}"
+            row = [p.name, deg.format(p.train_deg), deg.format(p.sky_deg),
+                   Text(f"{p.error_deg:+.2f}", style=_err_style(p.error_deg)),
+                   Text(f"{p.worst_deg:.2f}", style=_err_style(p.worst_deg)), drift]
+            if not narrow:
+                row.append("" if p.error_days is None else f"{p.error_days:+.2f}")
+            t.add_row(*row)
+        self.update(t)
+
+
+class Status(Static):
+    """Date, crank turns, ΔT, ephemeris and span, frame and observer, step and speed."""
+
+    def __init__(self, session: Session, **kwargs):
+        super().__init__(**kwargs)
+        self.session = session
+
+    def show(self, now: Now, running: bool) -> None:
+        s = self.session
+        t = Text()
+        t.append("date     ", style="dim")
+        t.append(now.date_text + "\n", style="bold")
+        t.append("crank    ", style="dim")
+        step = s.step if s.step.denominator == 1 else f"{s.step}"
+        t.append(f"{now.turns_text} turns since epoch  ")
+        t.append(f"step {step}\n", style="#e5c07b")
+        t.append("run      ", style="dim")
+        t.append("▶ running" if running else "■ paused", style="bold green" if running else "")
+        t.append(f"  {s.speed_turns_per_s:g} turns/s\n")
+        t.append("ΔT       ", style="dim")
+        t.append(f"{now.delta_t_s:.1f} s\n")
+        t.append("sky      ", style="dim")
+        span = s.sky.span_text
+        if self.size.width and self.size.width < 46:  # years only
+            span = f"{span[:4]}–{span[-10:-6]}"
+        t.append(f"{s.sky.name}, {span}\n")
+        t.append("frame    ", style="dim")
+        t.append(FRAME_NAMES.get(now.frame, now.frame) + "\n")
+        t.append("observer ", style="dim")
+        if now.site is None:
+            t.append("geocentric (Earth's centre)")
+        else:
+            ns = "N" if now.site.lat_deg >= 0 else "S"
+            ew = "E" if now.site.lon_deg >= 0 else "W"
+            t.append(f"{s.site_name} {abs(now.site.lat_deg):.2f}°{ns} "
+                     f"{abs(now.site.lon_deg):.2f}°{ew} {now.site.height_m:.0f} m")
+        self.update(t)
+
+
+class Findings(Static):
+    """Warnings from the engine: backwards pointers and mechanical findings."""
+
+    LEVELS = {"error": ("✖", "bold red"), "warning": ("▲", "yellow"), "note": ("·", "#7f8c99")}
+
+    def show_findings(self, items: list[tuple[str, str, str, str]]) -> None:
+        t = Text()
+        if not items:
+            t.append("no warnings from the engine", style="dim")
+        for level, item, message, fix in items:
+            glyph, style = self.LEVELS.get(level, ("·", ""))
+            t.append(f"{glyph} ", style=style)
+            if item:
+                t.append(f"{item}: ", style="bold")
+            t.append(message)
+            if fix:
+                t.append(f" → {fix}", style="italic #98c379")
+            t.append("\n")
+        self.update(t)
