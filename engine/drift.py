@@ -623,7 +623,9 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
         if progress is not None:
             progress(min(1.0, (i0 + len(k)) / n))
         outside_s += time.perf_counter() - t
+    t = time.perf_counter()
     summaries = {name: runs[name].summary(name, p.shows) for name, p in pointers.items()}
+    summaries_s = time.perf_counter() - t
     total = time.perf_counter() - t_start
     error = {name: r.error for name, r in runs.items()}
     days = {name: error[name] / np.float32(PHASE_DEG_PER_DAY) for name, p in pointers.items()
@@ -632,4 +634,5 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
                        error_deg=error, error_days=days, summaries=summaries, frame=frame,
                        step_days=step, sky_name=getattr(sky, "name", ""),
                        timings={"sky_s": sky_s, "engine_s": total - sky_s - outside_s,
-                                "callbacks_s": outside_s, "total_s": total})
+                                "summaries_s": summaries_s, "callbacks_s": outside_s,
+                                "total_s": total})
