@@ -52,7 +52,7 @@ class WheelworkApp(App):
     def get_system_commands(self, screen: Screen):
         yield from super().get_system_commands(screen)
         for b in getattr(screen, "BINDINGS", []):
-            if b.action in ("quit",):
+            if b.action in ("app.quit",):
                 continue
             yield SystemCommand(b.description, f"key {b.key.split(',')[0]} · {b.action}",
                                 partial(screen.run_action, b.action))

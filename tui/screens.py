@@ -74,7 +74,7 @@ class BenchScreen(Screen):
         Binding("o", "toggle_observer", "observer"),
         Binding("d", "drift", "drift"),
         Binding("question_mark,f1", "help", "help"),
-        Binding("q", "quit", "quit"),
+        Binding("q", "app.quit", "quit"),
     ]
 
     def __init__(self, session: Session):
@@ -235,7 +235,7 @@ class DateDialog(ModalScreen[float | None]):
     def compose(self) -> ComposeResult:
         with Vertical(id="dialog"):
             yield Label("Turn the crank to the date (UT):", classes="dialog-title")
-            yield Input(placeholder="2040-06-21 12:00 · 12 March 1910 · 44 BC-03-15 · JD 2451545",
+            yield Input(placeholder="2040-06-21 12:00 · 15 March 1910 · 44-03-15 BC · JD 2451545.0",
                         id="date-input")
             yield Label(f"ephemeris {self.session.sky.name}: {self.session.sky.span_text}",
                         id="date-hint")
@@ -350,6 +350,8 @@ THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
 class DriftScreen(Screen):
     """Each pointer's error over the coming decades, computed in a background worker."""
 
+    AUTO_FOCUS = None
+
     BINDINGS = [
         Binding("escape,d", "back", "back"),
         Binding("c", "cancel", "cancel"),
@@ -358,7 +360,7 @@ class DriftScreen(Screen):
         Binding("right_square_bracket", "threshold(1)", "threshold↑"),
         Binding("left_square_bracket", "threshold(-1)", "threshold↓"),
         Binding("question_mark,f1", "help", "help"),
-        Binding("q", "quit", "quit"),
+        Binding("q", "app.quit", "quit"),
     ]
 
     def __init__(self, session: Session, decades: int = 5, threshold_index: int = 2):
@@ -370,7 +372,9 @@ class DriftScreen(Screen):
 
     def compose(self) -> ComposeResult:
         yield Static("", id="drift-title")
-        yield PlotWidget(id="drift-plot", allow_pan_and_zoom=False)
+        plot = PlotWidget(id="drift-plot", allow_pan_and_zoom=False)
+        plot.can_focus = False  # the screen's keys, not the plot's pan and zoom
+        yield plot
         with Horizontal(id="drift-progress-row"):
             yield ProgressBar(total=100, show_eta=False, id="drift-progress")
             yield Static("", id="drift-status")
@@ -447,18 +451,23 @@ class DriftScreen(Screen):
         years = decimal_year(np.asarray(result.jd))
         thr = result.summaries[next(iter(result.summaries))].threshold_deg if result.summaries \
             else self.threshold_deg
-        for k, (name, err) in enumerate(result.error_deg.items()):
-            plot.plot(years, np.asarray(err), line_style=PLOT_STYLES[k % len(PLOT_STYLES)],
+        # widest swings first, so the steadier pointers stay visible on top
+        order = sorted(result.error_deg, key=lambda n: -result.summaries[n].max_abs_deg)
+        colour = {n: PLOT_STYLES[k % len(PLOT_STYLES)] for k, n in enumerate(result.error_deg)}
+        for name in order:
+            err = result.error_deg[name]
+            plot.plot(years, np.asarray(err), line_style=colour[name],
                       hires_mode=HiResMode.BRAILLE, label=name)
         ends = [float(years[0]), float(years[-1])]
-        plot.plot(ends, [thr, thr], line_style="#e06c75", label=f"±{thr:g}°")
-        plot.plot(ends, [-thr, -thr], line_style="#e06c75")
-        for k, (name, sm) in enumerate(result.summaries.items()):
+        plot.plot(ends, [thr, thr], line_style="bold #e06c75", hires_mode=HiResMode.BRAILLE,
+                  label=f"±{thr:g}° threshold")
+        plot.plot(ends, [-thr, -thr], line_style="bold #e06c75", hires_mode=HiResMode.BRAILLE)
+        for name, sm in result.summaries.items():
             if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd):
-                plot.add_v_line(float(decimal_year(sm.first_crossing_jd)),
-                                PLOT_STYLES[k % len(PLOT_STYLES)], f"{name} crosses")
+                plot.add_v_line(float(decimal_year(sm.first_crossing_jd)), colour[name],
+                                f"{name} first past ±{thr:g}°")
         plot.set_xlabel("year")
-        plot.set_ylabel("error ° (train − sky)")
+        plot.set_ylabel("error °")
         plot.show_legend()
         t = Table(box=None, padding=(0, 1), header_style="bold #9aa5b1")
         for col in ("pointer", "max |err|°", "at", "rms°", "drift °/cy", f"first past ±{thr:g}°"):

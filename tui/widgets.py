@@ -196,11 +196,11 @@ class TrainView(LayeredCanvas):
             return
         cw = w / lay.ncols
         rh = h / max(lay.nrows, 1)
-        rmax = max(min(cw / 2.0 - 1.0, rh - 1.6), 1.0)
+        rmax = max(min(cw / 2.0 - 1.0, rh - 1.8), 1.0)
         self._spots = {}
         for name, s in lay.spots.items():
             x = (s.col + 0.5) * cw
-            y = s.row * rh + (rh - 1) / 2.0
+            y = s.row * rh + (rh - 1.2) / 2.0
             frac = s.teeth / lay.max_teeth if lay.max_teeth else 0.5
             r = max(rmax * (0.35 + 0.65 * frac), 1.0)
             self._spots[name] = (x, y, r)
@@ -344,10 +344,17 @@ def _err_style(err: float) -> str:
 class Readings(Static):
     """Per pointer: train, sky, error now, worst error this session, drift per century."""
 
+    _now: Now | None = None
+
+    def on_resize(self) -> None:
+        if self._now is not None:
+            self.show(self._now)
+
     def show(self, now: Now) -> None:
+        self._now = now
         narrow = bool(self.size.width) and self.size.width < 52
-        t = Table(box=None, padding=(0, 1), expand=False, show_edge=False,
-                  header_style="bold #9aa5b1", pad_edge=False)
+        t = Table(box=None, padding=(0, 0, 0, 1 if narrow else 2), expand=False,
+                  show_edge=False, header_style="bold #9aa5b1", pad_edge=False)
         t.add_column("pointer", no_wrap=True, max_width=8 if narrow else 12)
         t.add_column("train°", justify="right", no_wrap=True)
         t.add_column("sky°", justify="right", no_wrap=True)
@@ -381,7 +388,14 @@ class Status(Static):
         super().__init__(**kwargs)
         self.session = session
 
+    _last: tuple[Now, bool] | None = None
+
+    def on_resize(self) -> None:
+        if self._last is not None:
+            self.show(*self._last)
+
     def show(self, now: Now, running: bool) -> None:
+        self._last = (now, running)
         s = self.session
         t = Text()
         t.append("date     ", style="dim")
