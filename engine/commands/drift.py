@@ -192,6 +192,8 @@ def _summary_table(s, start_jd: float) -> Table:
                  if days else ""))
     if s.periodic_period_days is None:
         t.add_row("swing about the drift", "none found (span too short)")
+    elif s.periodic_amplitude_deg < 5e-5:  # below the last printed digit: no period to speak of
+        t.add_row("swing about the drift", "none (under 0.0001°)")
     else:
         t.add_row("swing about the drift", f"±{s.periodic_amplitude_deg:.4f}° every "
                   f"{s.periodic_period_days:.2f} days")
