@@ -36,7 +36,8 @@ _KEYS = {
     "epoch": {"date", "set", "calendar"},
     "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "note"},
     "mesh": {"wheels", "ring", "module_mm", "note"},
-    "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg", "note"},
+    "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
+                 "pin_diameter_mm", "note"},
     "pointer": {"shows", "arbor", "relative_to", "per_turn", "reversed", "set_deg", "note"},
 }
 
@@ -272,9 +273,12 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
             raise r.fail(f"{item} offset_mm", f"the axis offset ({offset:g} mm) must be smaller "
                          f"than the pin radius ({radius:g} mm), or the pin would not go round "
                          "the slot arbor's axis")
+        pin_d = tbl.get("pin_diameter_mm")
+        if pin_d is not None:
+            pin_d = r.number(pin_d, f"{item} pin_diameter_mm", positive=True)
         out[name] = PinSlot(name, pin, slot, radius, offset,
                             r.number(tbl.get("offset_deg", 0.0), f"{item} offset_deg"),
-                            r.number(tbl.get("pin_deg", 0.0), f"{item} pin_deg"))
+                            r.number(tbl.get("pin_deg", 0.0), f"{item} pin_deg"), pin_d)
     return out
 
 

@@ -366,8 +366,11 @@ def check(train: Train, kin: Kinematics, *, crank_rpm: float | None = None,
 
 def _pin_slots(train: Train, pin_d: float, findings: list[Finding]) -> list[PinSlotCheck]:
     out = []
+    default_d = pin_d
     for ps in train.pin_slots.values():
         r, e = ps.pin_radius_mm, ps.offset_mm
+        pin_d = ps.pin_diameter_mm or default_d
+        assumed = ", diameter assumed" if ps.pin_diameter_mm is None else ""
         lo, hi = slot_speed_factors(r, e)
         c = PinSlotCheck(ps.name, ps.pin_arbor, ps.slot_arbor, r, e, pin_d, 2 * e + pin_d,
                          r - e - pin_d / 2, r + e + pin_d / 2, math.degrees(math.asin(e / r)),
@@ -376,7 +379,7 @@ def _pin_slots(train: Train, pin_d: float, findings: list[Finding]) -> list[PinS
         item = f"[pin_slots.{ps.name}]"
         findings.append(Finding(
             "note", item, f"the slot must let the pin travel {_mm(c.slot_length_mm)} "
-            f"(2 × {_mm(e)} offset + {_mm(pin_d)} pin, diameter assumed), from "
+            f"(2 × {_mm(e)} offset + {_mm(pin_d)} pin{assumed}), from "
             f"{_mm(c.slot_inner_mm)} to {_mm(c.slot_outer_mm)} from the slot arbor's axis",
             f"cut the slot at least {_mm(c.slot_length_mm)} long plus running clearance; "
             f"for another pin diameter d use 2 × {_mm(e)} + d"))

@@ -75,6 +75,7 @@ class PinSlot:
     offset_mm: float
     offset_deg: float = 0.0
     pin_deg: float = 0.0
+    pin_diameter_mm: float | None = None  # only the mechanical checks use it
 
 
 @dataclass(frozen=True)

@@ -334,3 +334,14 @@ def test_three_axes_must_form_a_triangle():
     assert "2 mm" in err.message  # 30 - (20 + 8)
     # The demo trains' axes all close.
     assert not levels(run_check(DEMO / "tide_office.toml"), "error")
+
+
+def test_pin_diameter_from_the_file_sets_the_slot_length():
+    """Slot length = 2 × offset + pin diameter (plane geometry of the pin's travel)."""
+    root = Path(__file__).resolve().parent.parent
+    text = (root / "trains" / "tide_office.toml").read_text()
+    assert "pin_diameter_mm = 1.2" in text
+    train = parse_train(text.replace("pin_diameter_mm = 1.2", "pin_diameter_mm = 2.0"), "t")
+    (ps,) = check(train, solve(train)).pin_slots
+    assert ps.slot_length_mm == pytest.approx(2 * 0.985 + 2.0)
+    assert ps.pin_diameter_mm == 2.0
