@@ -16,8 +16,8 @@ from engine.loader import load_train
 from engine.mechanics import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
 
 NAME = "check"
-HELP = ("Check that a train can be built: centre distances, positions, overlaps, arbor speeds "
-        "and loads, tooth-count rules of thumb, pin-and-slot slots.")
+HELP = ("whether a train can be built: centre distances, positions, overlaps, arbor speeds "
+        "and loads, tooth-count rules of thumb, pin-and-slot slots")
 
 _STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan"}
 

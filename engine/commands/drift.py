@@ -25,7 +25,7 @@ from engine.drift import (
 )
 
 NAME = "drift"
-HELP = "Compare a train's pointers with the true Sun and Moon over years or centuries."
+HELP = "how far a train's pointers wander from the true Sun and Moon over years or centuries"
 SAFETY = ("Checking a pointer against the real sky? Never look at the Sun, even briefly, "
           "without a proper solar filter.")
 CHARTS_HINT = ("--png needs matplotlib: pip install 'wheelwork[charts]' "

@@ -24,7 +24,7 @@ from engine.search import (
 )
 
 NAME = "search"
-HELP = "Find tooth counts whose ratio realises a period or ratio (exhaustive within bounds)."
+HELP = "tooth counts whose ratio realises a period or ratio (exhaustive within bounds)"
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
