@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import asyncio
+import time
 from fractions import Fraction
 from pathlib import Path
 
@@ -114,7 +116,6 @@ class BenchScreen(Screen):
         self.query_one("#findings-pane").border_title = "warnings"
         self.query_one("#train").border_title = "train"
         self.query_one(Findings).show_findings(self.session.findings)
-        self._timer = self.set_interval(1 / FPS, self._tick, pause=True)
         self.refresh_view()
 
     # --- drawing -------------------------------------------------------------------------
@@ -130,7 +131,18 @@ class BenchScreen(Screen):
         self.query_one(PhaseDiscs).show(now)
         self.query_one(Readings).show(now)
         self.query_one(Status).show(now, self.running)
-        self.sub_title = now.date_text
+
+    async def _frames(self) -> None:
+        """Crank continuously at FPS frames a second. A late frame runs at once and the
+        schedule restarts from it, so a slow terminal drops frames instead of queueing them."""
+        next_t = time.monotonic()
+        while self.running:
+            self._tick()
+            next_t += 1.0 / FPS
+            delay = next_t - time.monotonic()
+            if delay < 0:
+                next_t, delay = time.monotonic(), 0.0
+            await asyncio.sleep(delay)
 
     def _tick(self) -> None:
         try:
@@ -141,9 +153,8 @@ class BenchScreen(Screen):
         self.refresh_view()
 
     def _stop(self) -> None:
-        if self.running:
-            self.running = False
-            self._timer.pause()
+        self.running = False
+        self.workers.cancel_group(self, "crank")
 
     def _guard(self, fn, *args) -> bool:
         try:
@@ -170,11 +181,11 @@ class BenchScreen(Screen):
         self.app.push_screen(StepDialog(self.session.step), done)
 
     def action_run(self) -> None:
-        self.running = not self.running
         if self.running:
-            self._timer.resume()
+            self._stop()
         else:
-            self._timer.pause()
+            self.running = True
+            self.run_worker(self._frames(), group="crank", exclusive=True)
         self.refresh_view()
 
     def action_speed(self, direction: int) -> None:

@@ -5,9 +5,13 @@ from __future__ import annotations
 
 import math
 
-from rich.table import Table
+import numpy as np
+from rich.segment import Segment
+from rich.style import Style as RichStyle
 from rich.text import Text
-from textual.geometry import Size
+from textual.geometry import Region, Size
+from textual.strip import Strip
+from textual.widget import Widget
 from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
 
@@ -50,27 +54,53 @@ class LayeredCanvas(Canvas):
 
     def on_canvas_resize(self, event: Canvas.Resize) -> None:
         event.stop()
-        size = event.size
+        size = self.size  # the content area (the event carries the outer size, with border)
         if size.width < 2 or size.height < 2:
             return
+        self._lines: dict[int, tuple[tuple[str, str], Strip]] = {}
         with self.batch_refresh():
             self.reset(size=Size(size.width, size.height), refresh=False)
             self.draw_static()
             self._static = ([row[:] for row in self._buffer], [row[:] for row in self._styles])
             if self._now is not None:
-                self._draw_now()
+                self._draw_now(full=True)
 
     def show(self, now: Now) -> None:
         self._now = now
         if self._static is not None:
             self._draw_now()
 
-    def _draw_now(self) -> None:
+    def _draw_now(self, full: bool = False) -> None:
+        """Redraw the moving layer over the static one; repaint only the rows that changed."""
+        before = self._buffer, self._styles
         buf, sty = self._static
-        with self.batch_refresh():
+        self._refreshes_pending += 1  # hold the canvas's own whole-widget refreshes
+        try:
             self._buffer = [row[:] for row in buf]
             self._styles = [row[:] for row in sty]
             self.draw_moving(self._now)
+        finally:
+            self._refreshes_pending -= 1
+        w = self._canvas_size.width
+        if full or len(before[0]) != len(self._buffer):
+            self.refresh()
+            return
+        rows = [Region(0, y, w, 1) for y in range(len(self._buffer))
+                if self._buffer[y] != before[0][y] or self._styles[y] != before[1][y]]
+        if rows:
+            super().refresh(*rows)
+
+    def render_line(self, y: int) -> Strip:
+        if y >= len(self._buffer):
+            return super().render_line(y)
+        key = ("".join(self._buffer[y]), "\0".join(self._styles[y]))
+        cached = getattr(self, "_lines", {}).get(y)
+        if cached is not None and cached[0] == key:
+            return cached[1]
+        strip = super().render_line(y)
+        if hasattr(self, "_lines"):
+            self._lines[y] = (key, strip)
+        return strip
 
     def dots(self, points, style: str) -> None:
         """Set braille dots at cell coordinates (x right, y down; 2 × 4 dots a cell), merging
@@ -205,16 +235,14 @@ class TrainView(LayeredCanvas):
             r = max(rmax * (0.35 + 0.65 * frac), 1.0)
             self._spots[name] = (x, y, r)
         for a, b, internal in lay.meshes:
-            (x1, y1, _), (x2, y2, _) = self._spots[a], self._spots[b]
-            self.line(x1, y1, x2, y2, style="#4d5a66" if not internal else "#8a6d3b")
+            self.line(*self._between(a, b), style="#4d5a66" if not internal else "#8a6d3b")
         for carrier, arbor in lay.carried:
-            (x1, y1, _), (x2, y2, _) = self._spots[carrier], self._spots[arbor]
+            x1, y1, x2, y2 = self._between(carrier, arbor)
             n = max(int(math.hypot(x2 - x1, (y2 - y1) * 2) * 1.5), 2)
             pts = [(x1 + (x2 - x1) * k / n, y1 + (y2 - y1) * k / n) for k in range(0, n + 1, 2)]
             self.dots(pts, style="#c678dd")
         for a, b in lay.slots:
-            (x1, y1, _), (x2, y2, _) = self._spots[a], self._spots[b]
-            self.line(x1, y1, x2, y2, style="#c678dd")
+            self.line(*self._between(a, b), style="#c678dd")
         crank = self.session.mech.train.crank.arbor
         for name, (x, y, r) in self._spots.items():
             pts = [(x + r * math.cos(t / 40 * math.tau), y + 0.5 * r * math.sin(t / 40 * math.tau))
@@ -227,6 +255,15 @@ class TrainView(LayeredCanvas):
             if len(label) > cw - 1:
                 label = label[: max(int(cw) - 1, 1)]
             self.put(x - len(label) / 2.0, y + 0.5 * r + 0.6, label, "#9aa5b1")
+
+    def _between(self, a: str, b: str) -> tuple[float, float, float, float]:
+        """End points of a link between two wheels, from rim to rim (cells are 1:2)."""
+        (x1, y1, r1), (x2, y2, r2) = self._spots[a], self._spots[b]
+        dx, dy = x2 - x1, (y2 - y1) * 2.0
+        d = math.hypot(dx, dy)
+        if d <= r1 + r2:
+            return x1, y1, x2, y2
+        return (x1 + dx * r1 / d, y1 + dy * r1 / d / 2.0, x2 - dx * r2 / d, y2 - dy * r2 / d / 2.0)
 
     def draw_moving(self, now: Now) -> None:
         rates = self.session.mech.kin.rates
@@ -242,65 +279,75 @@ class TrainView(LayeredCanvas):
             self.line(x, y, ex, ey, style="bold #e6e6e6")
 
 
-def _mix(a: tuple[int, int, int], b: tuple[int, int, int], t: float) -> str:
-    r, g, bl = (round(x + (y - x) * t) for x, y in zip(a, b, strict=True))
-    return f"#{r:02x}{g:02x}{bl:02x}"
-
-
 _LIT_RGB = (0xF4, 0xEF, 0xD2)
 _UNLIT_RGB = (0x2B, 0x31, 0x40)
+_SHADES = 16  # shading levels across a cell's lit share
 
 
-def _disc_text(lit_fraction: float, waxing: bool, rows: int, width: int) -> list[Text]:
-    """A shaded disc ``rows`` cells tall and ``2 * rows`` wide, in half-block cells (two
-    picture elements a cell), centred in ``width`` columns."""
+def _shade(t: float) -> str:
+    k = round(t * _SHADES) / _SHADES
+    r, g, b = (round(x + (y - x) * k) for x, y in zip(_UNLIT_RGB, _LIT_RGB, strict=True))
+    return f"#{r:02x}{g:02x}{b:02x}"
+
+
+def _disc_cells(lit_fraction: float, waxing: bool, rows: int) -> list[list[tuple[str, str | None,
+                                                                              str | None]]]:
+    """A shaded disc ``rows`` cells tall and ``2 * rows`` wide in half-block cells (two picture
+    elements a cell): per cell (glyph, foreground, background)."""
     cols = rows * 2
     disc, lit = lit_disc(lit_fraction, waxing, cols, rows * 2)
-
-    def colour(i: int, j: int) -> str | None:
-        d = disc[i, j]
-        if d < 0.5:
-            return None
-        return _mix(_UNLIT_RGB, _LIT_RGB, float(lit[i, j] / d))
-
-    pad = " " * max((width - cols) // 2, 0)
-    lines = []
+    share = np.where(disc > 0, lit / np.maximum(disc, 1e-9), 0.0)
+    out = []
     for i in range(rows):
-        t = Text(pad)
+        line = []
         for j in range(cols):
-            top, bottom = colour(2 * i, j), colour(2 * i + 1, j)
+            top = _shade(share[2 * i, j]) if disc[2 * i, j] >= 0.5 else None
+            bottom = _shade(share[2 * i + 1, j]) if disc[2 * i + 1, j] >= 0.5 else None
             if top and bottom:
-                t.append("▀", style=f"{top} on {bottom}")
+                line.append(("▀", top, bottom))
             elif top:
-                t.append("▀", style=top)
+                line.append(("▀", top, None))
             elif bottom:
-                t.append("▄", style=bottom)
+                line.append(("▄", bottom, None))
             else:
-                t.append(" ")
-        t.append(" " * max(width - cols - len(pad), 0))
-        lines.append(t)
-    return lines
+                line.append((" ", None, None))
+        out.append(line)
+    return out
 
 
-class PhaseDiscs(Static):
-    """The train's phase display beside the true Moon, each a shaded disc."""
+class PhaseDiscs(Widget):
+    """The train's phase display beside the true Moon, each a shaded disc with its elongation
+    and lit fraction. Drawn line by line; rebuilt only when what it shows changes."""
 
     def __init__(self, session: Session, **kwargs):
         super().__init__(**kwargs)
         self.session = session
         self._now: Now | None = None
+        self._key = None
+        self._strips: list[Strip] = []
+        self._styles: dict[tuple, RichStyle] = {}
 
     def show(self, now: Now) -> None:
         self._now = now
-        self.refresh()
+        self._build()
 
     def on_resize(self) -> None:
-        self.refresh()
+        self._key = None
+        self._styles = {}
+        self._build()
 
-    def render(self):
+    def _style(self, fg: str | None, bg: str | None, bold: bool = False) -> RichStyle:
+        key = (fg, bg, bold)
+        st = self._styles.get(key)
+        if st is None:
+            st = self.rich_style + RichStyle(color=fg, bgcolor=bg, bold=bold or None)
+            self._styles[key] = st
+        return st
+
+    def _build(self) -> None:
         now = self._now
-        if now is None:
-            return ""
+        if now is None or not self.size.width:
+            return
         width = max((self.size.width - 3) // 2, 8)
         rows = max(min(self.size.height - 3, width // 2), 2)
         ptrs = list(now.pointers.values())
@@ -316,24 +363,44 @@ class PhaseDiscs(Static):
         e_sky = _scalar(now.sky.elongation_deg)
         lit_sky = _scalar(now.sky.illuminated)
         if e_train is not None:
-            left = _disc_text(ball_lit_fraction(e_train), e_train < 180.0, rows, width)
-            t1 = f"E {e_train:5.1f}°  lit {ball_lit_fraction(e_train) * 100:3.0f}%"
+            lit_train = ball_lit_fraction(e_train)
+            t1 = f"E {e_train:5.1f}°  lit {lit_train * 100:3.0f}%"
         else:
-            left = [Text(" " * width)] * rows
-            t1 = "no phase display"
-        right = _disc_text(lit_sky, e_sky < 180.0, rows, width)
+            lit_train, t1 = None, "no phase display"
         t2 = f"E {e_sky:5.1f}°  lit {lit_sky * 100:3.0f}%"
-        gap = "   "
-        out = Text(no_wrap=True, overflow="crop")
+        name = now.sky.phase_names()[0]
+        key = (width, rows, None if lit_train is None else round(lit_train * 400),
+               e_train is not None and e_train < 180.0, round(lit_sky * 400), e_sky < 180.0,
+               t1, t2, name, label)
+        if key == self._key:
+            return
+        self._key = key
+        left = (_disc_cells(lit_train, e_train < 180.0, rows) if lit_train is not None
+                else [[(" ", None, None)] * (rows * 2)] * rows)
+        right = _disc_cells(lit_sky, e_sky < 180.0, rows)
+        pad = (width - rows * 2) // 2
+        plain = self._style(None, None)
+        strips = []
         for a, b in zip(left, right, strict=True):
-            out.append_text(a)
-            out.append(gap)
-            out.append_text(b)
-            out.append("\n")
-        out.append(f"{label:^{width}.{width}}{gap}{'true Moon':^{width}.{width}}\n", style="bold")
-        out.append(f"{t1:^{width}.{width}}{gap}{t2:^{width}.{width}}\n")
-        out.append(f"{'':^{width}}{gap}{now.sky.phase_names()[0]:^{width}.{width}}", style="dim")
-        return out
+            segs = [Segment(" " * pad, plain)]
+            for half, tail in ((a, width - rows * 2 - pad + 3), (b, 0)):
+                segs += [Segment(ch, self._style(fg, bg)) for ch, fg, bg in half]
+                if tail:
+                    segs.append(Segment(" " * tail, plain))
+            strips.append(Strip(segs).simplify())
+        bold = self._style(None, None, True)
+        dim = self._style("#7f8c99", None)
+        for text, st in ((f"{label:^{width}.{width}}   {'true Moon':^{width}.{width}}", bold),
+                         (f"{t1:^{width}.{width}}   {t2:^{width}.{width}}", plain),
+                         (f"{'':^{width}}   {name:^{width}.{width}}", dim)):
+            strips.append(Strip([Segment(text, st)]))
+        self._strips = strips
+        self.refresh()
+
+    def render_line(self, y: int) -> Strip:
+        if y < len(self._strips):
+            return self._strips[y]
+        return Strip.blank(self.size.width, self.rich_style)
 
 
 def _err_style(err: float) -> str:
@@ -345,26 +412,27 @@ class Readings(Static):
     """Per pointer: train, sky, error now, worst error this session, drift per century."""
 
     _now: Now | None = None
+    _laid_out = False
 
     def on_resize(self) -> None:
+        self._laid_out = False
         if self._now is not None:
             self.show(self._now)
 
     def show(self, now: Now) -> None:
         self._now = now
         narrow = bool(self.size.width) and self.size.width < 52
-        t = Table(box=None, padding=(0, 0, 0, 1 if narrow else 2), expand=False,
-                  show_edge=False, header_style="bold #9aa5b1", pad_edge=False)
-        t.add_column("pointer", no_wrap=True, max_width=8 if narrow else 12)
-        t.add_column("train°", justify="right", no_wrap=True)
-        t.add_column("sky°", justify="right", no_wrap=True)
-        t.add_column("err°", justify="right", no_wrap=True)
-        t.add_column("max°" if narrow else "worst°", justify="right", no_wrap=True)
-        t.add_column("°/cy" if narrow else "drift °/cy", justify="right", no_wrap=True)
-        if not narrow:
-            t.add_column("err days", justify="right", no_wrap=True)
+        # (header, width) per column; plain fixed-width text is cheaper than a table per frame
+        cols = ((("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 6), ("max°", 5),
+                 ("°/cy", 6)) if narrow else
+                (("pointer", -9), ("train°", 8), ("sky°", 8), ("err°", 8), ("worst°", 8),
+                 ("drift °/cy", 12), ("err days", 10)))
+        t = Text(no_wrap=True, overflow="crop")
+        for head, w in cols:
+            t.append(f"{head:<{-w}}" if w < 0 else f"{head:>{w}}", style="bold #9aa5b1")
         deg = "{:.1f}" if narrow else "{:.2f}"
         for p in now.pointers.values():
+            t.append("\n")
             d = p.drift_deg_per_century
             if d is None:
                 drift = ""
@@ -372,13 +440,17 @@ class Readings(Static):
                 drift = f"{d:+.2f}" if abs(d) >= 0.005 else f"{d:+.0e}".replace("e-0", "e-")
             else:
                 drift = f"{d:+.2f}" if abs(d) >= 0.01 else f"{d:+.4f}"
-            row = [p.name, deg.format(p.train_deg), deg.format(p.sky_deg),
-                   Text(f"{p.error_deg:+.2f}", style=_err_style(p.error_deg)),
-                   Text(f"{p.worst_deg:.2f}", style=_err_style(p.worst_deg)), drift]
+            w = [c[1] for c in cols]
+            t.append(f"{p.name[: -w[0]]:<{-w[0]}}")
+            t.append(f"{deg.format(p.train_deg):>{w[1]}}{deg.format(p.sky_deg):>{w[2]}}")
+            t.append(f"{p.error_deg:>+{w[3]}.2f}", style=_err_style(p.error_deg))
+            t.append(f"{p.worst_deg:>{w[4]}.2f}", style=_err_style(p.worst_deg))
+            t.append(f"{drift:>{w[5]}}")
             if not narrow:
-                row.append("" if p.error_days is None else f"{p.error_days:+.2f}")
-            t.add_row(*row)
-        self.update(t)
+                t.append("" if p.error_days is None else f"{p.error_days:>+{w[6]}.2f}")
+        # same rows every frame: lay out again only after a resize
+        self.update(t, layout=not self._laid_out)
+        self._laid_out = bool(self.size.width)
 
 
 class Status(Static):
@@ -389,8 +461,10 @@ class Status(Static):
         self.session = session
 
     _last: tuple[Now, bool] | None = None
+    _laid_out = False
 
     def on_resize(self) -> None:
+        self._laid_out = False
         if self._last is not None:
             self.show(*self._last)
 
@@ -424,7 +498,10 @@ class Status(Static):
             ew = "E" if now.site.lon_deg >= 0 else "W"
             t.append(f"{s.site_name} {abs(now.site.lat_deg):.2f}°{ns} "
                      f"{abs(now.site.lon_deg):.2f}°{ew} {now.site.height_m:.0f} m")
-        self.update(t)
+        t.no_wrap = True
+        t.overflow = "ellipsis"
+        self.update(t, layout=not self._laid_out)
+        self._laid_out = bool(self.size.width)
 
 
 class Findings(Static):
