@@ -12,7 +12,7 @@ from engine.errors import WheelworkError
 from engine.mechanism import open_train
 from engine.ratios import pointer_ratios
 from engine.sky import Site, Sky
-from tui.screens import BenchScreen
+from tui.screens import BenchScreen, long_help
 from tui.session import DEFAULT_SITE, DEFAULT_SITE_NAME, Session
 
 
@@ -54,7 +54,7 @@ class WheelworkApp(App):
         for b in getattr(screen, "BINDINGS", []):
             if b.action in ("app.quit",):
                 continue
-            yield SystemCommand(b.description, f"key {b.key.split(',')[0]} · {b.action}",
+            yield SystemCommand(long_help(b), f"key {b.key.split(',')[0]}",
                                 partial(screen.run_action, b.action))
 
 

@@ -47,6 +47,34 @@ _GSTEP = Binding.Group("±step", compact=True)
 _GSPEED = Binding.Group("speed", compact=True)
 
 
+# What each action does, for help and the command palette (the footer keeps short labels).
+LONG_HELP = {
+    "crank(1)": "crank one turn forward", "crank(-1)": "crank one turn back",
+    "crank(10)": "crank 10 turns forward", "crank(-10)": "crank 10 turns back",
+    "crank(100)": "crank 100 turns forward", "crank(-100)": "crank 100 turns back",
+    "crank(1000)": "crank 1000 turns forward", "crank(-1000)": "crank 1000 turns back",
+    "crank_step(1)": "crank forward by the chosen step",
+    "crank_step(-1)": "crank back by the chosen step",
+    "choose_step": "choose the step for + and − (whole, decimal or p/q turns)",
+    "run": "run / pause continuous cranking", "speed(1)": "crank faster when running",
+    "speed(-1)": "crank slower when running",
+    "go_to_date": "go to a date: turn the crank to it",
+    "epoch": "back to the epoch (crank turn 0)",
+    "reset_pointers": "re-set the pointers to the sky at this date, by hand",
+    "undo_reset": "undo the last re-set of the pointers",
+    "toggle_frame": "switch frame: equinox of date ↔ fixed stars",
+    "toggle_observer": "switch observer: geocentric ↔ site",
+    "drift": "open the drift chart", "help": "help: keys and caution", "app.quit": "quit",
+    "back": "back to the bench", "cancel": "cancel the drift computation",
+    "decades(1)": "one decade more", "decades(-1)": "one decade less",
+    "threshold(1)": "raise the threshold", "threshold(-1)": "lower the threshold",
+}
+
+
+def long_help(b: Binding) -> str:
+    return LONG_HELP.get(b.action, b.description)
+
+
 class BenchScreen(Screen):
     """The main screen: sky dial, readings, phase, the train, warnings."""
 
@@ -330,15 +358,16 @@ class HelpScreen(ModalScreen[None]):
         t.add_column()
         for b in self.bindings_list:
             keys = " / ".join(_key_name(k) for k in b.key.split(","))
-            t.add_row(keys, b.description)
+            t.add_row(keys, long_help(b))
         with Vertical(id="help"):
             yield Static(Text("wheelwork — keys", style="bold"))
+            yield Static(CAUTION, classes="caution")
             yield Static(t)
             yield Static(Text.assemble(
                 "\nThe hands are the train; the badges on the ring are the true Sun and Moon "
-                "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°.\n"))
-            yield Static(CAUTION, classes="caution")
-            yield Static(Text("escape closes", style="dim"))
+                "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°. "
+                "Every key is also in the command palette (ctrl+p). Escape closes.",
+                style="#9aa5b1"))
 
     def action_close(self) -> None:
         self.dismiss(None)
@@ -411,12 +440,15 @@ class DriftScreen(Screen):
         title.update(Text.assemble(
             ("drift  ", "bold #e5c07b"), f"{format_jd(start)[:10]} → {format_jd(end)[:10]}  ",
             (f"({(end - start) / 365.25:.1f} years", "dim"),
-            (f", {FRAME_NAMES.get(self.session.frame)}, threshold ±{self.threshold_deg:g}°)",
-             "dim")))
+            (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
+            (f", {'geocentric' if self.session.observer is None else self.session.site_name})",
+             "dim"),
+            ("   train − sky;  ", "#9aa5b1"), ("━━", "bold #ffffff"),
+            (f" ±{self.threshold_deg:g}° threshold", "#9aa5b1")))
         if end - start < 30:
             self.query_one("#drift-status", Static).update(
                 f"the ephemeris ends {format_jd(self.session.sky.span_jd[1])[:10]}: "
-                "go back in time (g) for a drift chart")
+                "go back in time (g on the bench) for a drift chart")
             return
         self.query_one("#drift-progress", ProgressBar).update(progress=0)
         self.query_one("#drift-status", Static).update("computing…")
@@ -470,24 +502,31 @@ class DriftScreen(Screen):
             plot.plot(years, np.asarray(err), line_style=colour[name],
                       hires_mode=HiResMode.BRAILLE, label=name)
         ends = [float(years[0]), float(years[-1])]
-        plot.plot(ends, [thr, thr], line_style="bold #e06c75", hires_mode=HiResMode.BRAILLE,
-                  label=f"±{thr:g}° threshold")
-        plot.plot(ends, [-thr, -thr], line_style="bold #e06c75", hires_mode=HiResMode.BRAILLE)
+        plot.plot(ends, [thr, thr], line_style="bold #ffffff", hires_mode=HiResMode.BRAILLE)
+        plot.plot(ends, [-thr, -thr], line_style="bold #ffffff", hires_mode=HiResMode.BRAILLE)
         for name, sm in result.summaries.items():
             if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd):
                 plot.add_v_line(float(decimal_year(sm.first_crossing_jd)), colour[name],
                                 f"{name} first past ±{thr:g}°")
+        lo = min([float(np.nanmin(e)) for e in result.error_deg.values()] + [-thr])
+        hi = max([float(np.nanmax(e)) for e in result.error_deg.values()] + [thr])
+        pad = 0.05 * (hi - lo) or 1.0
+        plot.set_xlimits(float(years[0]), float(years[-1]))
+        plot.set_ylimits(lo - pad, hi + pad)
         plot.set_xlabel("year")
         plot.set_ylabel("error °")
-        plot.show_legend()
+        # the key to the colours is the summary table below, so the curves stay uncovered
+        plot.show_legend(is_visible=False)
         t = Table(box=None, padding=(0, 1), header_style="bold #9aa5b1")
-        for col in ("pointer", "max |err|°", "at", "rms°", "drift °/cy", f"first past ±{thr:g}°"):
+        for col in ("pointer", "max |err|°", "at", "rms°", "drift °/cy",
+                    f"first past ±{thr:g}° (vertical line)"):
             t.add_column(col, justify="right" if "°" in col else "left")
         for name, sm in result.summaries.items():
             cross = (format_jd(sm.first_crossing_jd)[:10]
                      if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd)
                      else "not in span")
-            t.add_row(name, f"{sm.max_abs_deg:.2f}", format_jd(sm.max_at_jd)[:10],
+            t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
+                      f"{sm.max_abs_deg:.2f}", format_jd(sm.max_at_jd)[:10],
                       f"{sm.rms_deg:.2f}", f"{sm.drift_deg_per_century:+.2f}", cross)
         self.query_one("#drift-summary", Static).update(t)
 

@@ -426,7 +426,7 @@ class Readings(Static):
         cols = ((("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 6), ("max°", 5),
                  ("°/cy", 6)) if narrow else
                 (("pointer", -9), ("train°", 8), ("sky°", 8), ("err°", 8), ("worst°", 8),
-                 ("drift °/cy", 12), ("err days", 10)))
+                 ("drift °/cy", 11), ("err days", 9)))
         t = Text(no_wrap=True, overflow="crop")
         for head, w in cols:
             t.append(f"{head:<{-w}}" if w < 0 else f"{head:>{w}}", style="bold #9aa5b1")
