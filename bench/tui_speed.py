@@ -177,7 +177,8 @@ def main():
               f" p95 gap {pct(gaps, 95):5.1f} ms, key while running {key_ms:5.1f} ms, "
               f"backlog: {'YES' if backlog else 'none'} ({frames} frames, {ticks:.0f} frames of "
               f"turns)   target ≥ 20 frames/s  {'ok' if fps >= 20 and not backlog else 'SLOW'}")
-    print("\nparts of one frame at 160x50 (ms):")
+    print("\nparts of one frame at 160x50 (ms; widgets: drawing into their buffers, before the "
+          "screen is composed):")
     for name, ms in asyncio.run(parts((160, 50))).items():
         print(f"  {name:<34} {ms:6.2f}")
 

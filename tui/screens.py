@@ -154,6 +154,10 @@ class BenchScreen(Screen):
             self._stop()
             self.notify(str(exc), title="cannot read the sky", severity="error")
             return
+        except Exception as exc:  # noqa: BLE001 - an engine fault must not take the screen down
+            self._stop()
+            self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error")
+            return
         self.query_one(SkyDial).show(now)
         self.query_one(TrainView).show(now)
         self.query_one(PhaseDiscs).show(now)
@@ -189,6 +193,9 @@ class BenchScreen(Screen):
             fn(*args)
         except (WheelworkError, ValueError, ZeroDivisionError) as exc:
             self.notify(str(exc), severity="error")
+            return False
+        except Exception as exc:  # noqa: BLE001 - report, keep the bench open
+            self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error")
             return False
         return True
 
@@ -454,7 +461,7 @@ class DriftScreen(Screen):
         self.query_one("#drift-status", Static).update("computing…")
         self.compute(start, end, self.threshold_deg)
 
-    @work(thread=True, exclusive=True, group="drift")
+    @work(thread=True, exclusive=True, group="drift", exit_on_error=False)
     def compute(self, start: float, end: float, threshold_deg: float) -> None:
         from engine.drift import DriftCancelled, drift_series
 
@@ -473,7 +480,7 @@ class DriftScreen(Screen):
         except DriftCancelled:
             self.app.call_from_thread(self._status, "cancelled")
             return
-        except WheelworkError as exc:
+        except Exception as exc:  # noqa: BLE001 - a WheelworkError, or a fault to report
             self.app.call_from_thread(self._status, f"cannot compute: {exc}")
             return
         if not worker.is_cancelled:

@@ -491,13 +491,17 @@ class Status(Static):
         t.append("frame    ", style="dim")
         t.append(FRAME_NAMES.get(now.frame, now.frame) + "\n")
         t.append("observer ", style="dim")
+        site = s.site
+        ns = "N" if site.lat_deg >= 0 else "S"
+        ew = "E" if site.lon_deg >= 0 else "W"
+        where = f"{abs(site.lat_deg):.2f}°{ns} {abs(site.lon_deg):.2f}°{ew}"
         if now.site is None:
-            t.append("geocentric (Earth's centre)")
+            t.append("geocentric")
+            wide = self.size.width >= 60
+            t.append(f"  (o: {s.site_name + ' ' if wide else ''}{where}"
+                     f"{f' {site.height_m:.0f} m' if wide else ''})", style="dim")
         else:
-            ns = "N" if now.site.lat_deg >= 0 else "S"
-            ew = "E" if now.site.lon_deg >= 0 else "W"
-            t.append(f"{s.site_name} {abs(now.site.lat_deg):.2f}°{ns} "
-                     f"{abs(now.site.lon_deg):.2f}°{ew} {now.site.height_m:.0f} m")
+            t.append(f"{s.site_name} {where} {site.height_m:.0f} m")
         t.no_wrap = True
         t.overflow = "ellipsis"
         self.update(t, layout=not self._laid_out)
