@@ -443,11 +443,15 @@ class Readings(Static):
             w = [c[1] for c in cols]
             t.append(f"{p.name[: -w[0]]:<{-w[0]}}")
             t.append(f"{deg.format(p.train_deg):>{w[1]}}{deg.format(p.sky_deg):>{w[2]}}")
-            t.append(f"{p.error_deg:>+{w[3]}.2f}", style=_err_style(p.error_deg))
+            err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
+            t.append(f"{err:>+{w[3]}.2f}", style=_err_style(err))
             t.append(f"{p.worst_deg:>{w[4]}.2f}", style=_err_style(p.worst_deg))
             t.append(f"{drift:>{w[5]}}")
             if not narrow:
-                t.append("" if p.error_days is None else f"{p.error_days:>+{w[6]}.2f}")
+                days = p.error_days
+                if days is not None and abs(days) < 0.005:
+                    days = 0.0
+                t.append("" if days is None else f"{days:>+{w[6]}.2f}")
         # same rows every frame: lay out again only after a resize
         self.update(t, layout=not self._laid_out)
         self._laid_out = bool(self.size.width)
