@@ -399,3 +399,13 @@ def test_snapshot_drift_chart(snap_compare):
 
 def test_caution_text():
     assert "solar filter" in CAUTION
+
+
+def test_engine_does_not_import_the_interface():
+    import subprocess
+    import sys
+
+    code = ("import sys, engine.cli, engine.commands.crank; "
+            "engine.cli.build_parser(); "
+            "assert 'textual' not in sys.modules and 'tui' not in sys.modules, 'UI imported'")
+    subprocess.run([sys.executable, "-c", code], check=True)

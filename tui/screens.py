@@ -78,7 +78,7 @@ def long_help(b: Binding) -> str:
 class BenchScreen(Screen):
     """The main screen: sky dial, readings, phase, the train, warnings."""
 
-    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (100, "-medium"), (120, "-wide")]
     VERTICAL_BREAKPOINTS = [(0, "-short"), (30, "-mid"), (42, "-tall")]
 
     BINDINGS = [

@@ -421,7 +421,7 @@ class Readings(Static):
 
     def show(self, now: Now) -> None:
         self._now = now
-        narrow = bool(self.size.width) and self.size.width < 52
+        narrow = bool(self.size.width) and self.size.width < 61  # the wide columns need 61
         # (header, width) per column; plain fixed-width text is cheaper than a table per frame
         cols = ((("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 6), ("max°", 5),
                  ("°/cy", 6)) if narrow else
