@@ -117,6 +117,22 @@ POINTER_PERIOD: dict[str, dict[str, str]] = {
 }
 POINTER_KINDS = tuple(POINTER_PERIOD)
 
+# Longitudes that a star-fixed dial reads lower than an equinox dial by the precession.
+PRECESSING_KINDS = ("sun", "moon", "node", "apsis")
+
+
+def mean_rate_deg_per_day(kind: str, frame: str = "equinox") -> float:
+    """Signed mean motion of what a pointer of ``kind`` shows, in degrees per day, as read on
+    a dial of ``frame`` ("equinox": from the equinox of date; "stars": from a fixed star).
+
+    On a star dial the Sun, Moon, node and perigee move slower by the general precession
+    (differences of two longitudes — phase, anomaly, draconic — do not change).
+    """
+    rate = PERIODS[POINTER_PERIOD[kind]["equinox"]].deg_per_day
+    if frame == "stars" and kind in PRECESSING_KINDS:
+        rate -= PRECESSION_DEG_PER_CY / JULIAN_CENTURY_DAYS
+    return rate
+
 
 def _poly(t: np.ndarray, coeffs: tuple[float, ...]) -> np.ndarray:
     out = np.zeros_like(t)

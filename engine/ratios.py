@@ -10,7 +10,12 @@ from fractions import Fraction
 import sympy
 
 from engine.kinematics import Kinematics
-from engine.periods import JULIAN_CENTURY_DAYS, PERIODS, POINTER_PERIOD
+from engine.periods import (
+    JULIAN_CENTURY_DAYS,
+    PERIODS,
+    POINTER_PERIOD,
+    mean_rate_deg_per_day,
+)
 from engine.readout import pointer_linear
 from engine.train import FRAME, Train
 
@@ -129,14 +134,19 @@ def stage_path(train: Train, kin: Kinematics, target: str) -> tuple[list[Stage],
     return path, all(s.reference == FRAME for s in path)
 
 
-def pointer_ratios(train: Train, kin: Kinematics) -> list[PointerRatio]:
-    """The ratio report's rows, one per pointer."""
+def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
+                   ) -> list[PointerRatio]:
+    """The ratio report's rows, one per pointer, judged on a dial of ``frame`` (default: the
+    train's own dial; "equinox" or "stars")."""
+    frame = frame or train.dial
     rows = []
     dpt = train.crank.days_per_turn
     for p in train.pointers.values():
         lin = pointer_linear(kin, p)
         ratio = lin.crank
-        target = PERIODS[POINTER_PERIOD[p.shows][train.dial]]
+        target = PERIODS[POINTER_PERIOD[p.shows][frame]]
+        true_deg_per_day = mean_rate_deg_per_day(p.shows, frame)
+        target_days = 360.0 / abs(true_deg_per_day)
         period = float(dpt / abs(ratio)) if ratio else float("inf")
         found = stage_path(train, kin, p.arbor)
         stages, simple = found if found else ([], False)
@@ -156,11 +166,10 @@ def pointer_ratios(train: Train, kin: Kinematics) -> list[PointerRatio]:
                 prod -= rel
             simple = prod * p.per_turn * (-1 if p.reversed else 1) == ratio
         train_deg_per_day = float(ratio / dpt) * 360.0
-        true_deg_per_day = target.deg_per_day
-        err_ppm = (period - target.days) / target.days * 1e6 if ratio else float("inf")
+        err_ppm = (period - target_days) / target_days * 1e6 if ratio else float("inf")
         years = None
         if p.shows == "phase" and ratio:
-            gain = abs(target.days / period - 1.0)
+            gain = abs(target_days / period - 1.0)
             years = (1.0 / gain / DAYS_PER_YEAR) if gain else float("inf")
         wheels_seen: dict[str, ToothNote] = {}
         for s in [*stages, *rel_stages]:
@@ -173,7 +182,7 @@ def pointer_ratios(train: Train, kin: Kinematics) -> list[PointerRatio]:
             pointer=p.name, shows=p.shows, arbor=p.arbor, relative_to=p.relative_to,
             ratio=ratio, stages=tuple(stages), relative_stages=tuple(rel_stages),
             stages_multiply_out=simple, period_days=period, target_key=target.key,
-            target_name=target.name, target_days=target.days, target_source=target.source,
+            target_name=target.name, target_days=target_days, target_source=target.source,
             error_ppm=err_ppm,
             drift_deg_per_century=(train_deg_per_day - true_deg_per_day) * JULIAN_CENTURY_DAYS,
             years_to_one_day=years,

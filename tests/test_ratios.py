@@ -75,3 +75,22 @@ def test_text_output_names_stages_and_primes(capsys):
     assert main(["ratios", str(TRAINS / "nineteen_year_drum.toml")]) == 0
     out = capsys.readouterr().out
     assert "127/38 × 132/33" in out and "year_wheel (127)" in out
+
+
+def test_star_dial_adds_the_precession():
+    """Against the stars the Sun, Moon, node and perigee move slower by the general
+    precession, 5029.0966"/century (IAU 1976, Meeus ch. 21, from memory); phase does not."""
+    train = load_train(TRAINS / "tide_office.toml")
+    kin = solve(train)
+    eq = {r.pointer: r for r in pointer_ratios(train, kin)}
+    st = {r.pointer: r for r in pointer_ratios(train, kin, frame="stars")}
+    prec = 5029.0966 / 3600
+    for name in ("sun", "moon", "perigee"):
+        assert st[name].drift_deg_per_century - eq[name].drift_deg_per_century == \
+            pytest.approx(prec, rel=1e-9)
+    # the node regresses, and against the stars it regresses faster by the same amount, so
+    # the same train's drift (train minus sky) grows by the precession here too
+    assert st["node"].drift_deg_per_century - eq["node"].drift_deg_per_century == \
+        pytest.approx(prec, rel=1e-9)
+    assert st["phase"].drift_deg_per_century == eq["phase"].drift_deg_per_century
+    assert st["sun"].target_days == pytest.approx(365.25636, rel=1e-7)  # sidereal year
