@@ -64,6 +64,8 @@ from engine.periods import JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY, mean_elem
 
 LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
                "(1550-2650), or --ephemeris FILE with any JPL SPK file")
+LONGEST_HINT = ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
+                "have downloaded")
 FRAMES = ("equinox", "stars")
 KINDS = ("sun", "moon", "phase", "node", "apsis", "anomaly", "draconic")
 
@@ -432,8 +434,30 @@ class Sky:
         bad = (flat < lo) | (flat > hi)
         if bad.any():
             first = flat[bad][0]
-            raise SkyError(f"{int(bad.sum())} date(s) outside {self.name}, which covers "
-                           f"{self.span_text} (first: {format_jd(first)}); {LONGER_HINT}")
+            what = (f"{format_jd(first)} is" if bad.sum() == 1 else
+                    f"{int(bad.sum())} dates are (first: {format_jd(first)})")
+            raise SkyError(f"{what} outside {self.name}, which covers {self.span_text}; "
+                           f"{self.longer_hint}")
+
+    @property
+    def longer_hint(self) -> str:
+        """How to get a longer span than this ephemeris gives."""
+        return LONGER_HINT if (self.span_jd[1] - self.span_jd[0]) < 300 * 365.25 else \
+            LONGEST_HINT
+
+    def check_span(self, jd_start: float, jd_end: float) -> None:
+        """Raise :class:`SkyError` unless [jd_start, jd_end] lies inside the ephemeris, saying
+        how much of the span falls outside."""
+        lo, hi = self.span_jd
+        start, end = min(jd_start, jd_end), max(jd_start, jd_end)
+        if start >= lo and end <= hi:
+            return
+        outside = max(0.0, min(end, lo) - start) + max(0.0, end - max(start, hi))
+        first = start if start < lo else hi
+        raise SkyError(f"{outside / 365.25:.1f} years of the span {format_jd(start)[:10]} to "
+                       f"{format_jd(end)[:10]} lie outside {self.name}, which covers "
+                       f"{self.span_text} (first date outside: {format_jd(first)[:16]}); "
+                       f"{self.longer_hint}")
 
     # The batched pipeline; see the module docstring for each approximation and its size.
     def _fast(self, t, frame, site):

@@ -211,10 +211,23 @@ def test_out_of_span(sky):
     with pytest.raises(SkyError) as err:
         sky.at(np.array([2451545.0, parse_date("1850-01-01")]))
     msg = str(err.value)
-    assert "1 date(s) outside JPL DE421" in msg and "1899-07-30" in msg and "2053" in msg
+    assert "1850-01-01 00:00 UT (Gregorian) is outside JPL DE421" in msg
+    assert "1899-07-30" in msg and "2053" in msg
     assert "wheelwork[de440]" in msg and "--ephemeris FILE" in msg and "1850-01-01" in msg
     with pytest.raises(SkyError, match="not finite"):
         sky.at(float("nan"))
+    with pytest.raises(SkyError, match=r"3 dates are \(first: 1850-01-01"):
+        sky.at(parse_date("1850-01-01") + np.arange(3.0))
+
+
+def test_span_check_says_how_much_is_outside(sky):
+    start = parse_date("2026-01-01")
+    sky.check_span(start, start + 20 * 365.25)  # inside: no error
+    with pytest.raises(SkyError) as err:
+        sky.check_span(start, start + 50 * 365.25)
+    msg = str(err.value)
+    assert "22.2 years of the span 2026-01-01 to 2076-01-01" in msg
+    assert "first date outside: 2053-10-08" in msg and "wheelwork[de440]" in msg
 
 
 @pytest.mark.parametrize("args, fragment", [
