@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
+import re
 import sys
 
 from rich.console import Console
@@ -19,7 +21,16 @@ from engine.errors import WheelworkError
 COMMANDS = ("crank", "ratios", "drift", "search", "check", "sky")
 
 
+# Besides negative numbers, dates with a negative (astronomical) year such as -0100-03-01 are
+# values, not options: argparse consults this pattern to tell them apart.
+_NEGATIVE_VALUE = re.compile(r"^-\d+$|^-\d*\.\d+$|^-\d+-\d")
+
+
 class _Parser(argparse.ArgumentParser):
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self._negative_number_matcher = _NEGATIVE_VALUE
+
     def error(self, message: str):  # usage errors: one line, exit 2
         self.exit(2, f"{self.prog}: usage error: {message}\n")
 
@@ -53,7 +64,7 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "_run", None):
         parser.print_help()
         return 2
-    console = Console(highlight=False, soft_wrap=True)
+    console = _Console(highlight=False)
     err = Console(stderr=True, highlight=False, soft_wrap=True)
     try:
         return int(args._run(args, console) or 0)
@@ -63,5 +74,21 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         err.print("wheelwork: stopped", markup=False)
         return 130
-    except BrokenPipeError:
+    except BrokenPipeError:  # output piped into e.g. `head`: stop quietly
+        _silence_stdout()
         return 0
+
+
+class _Console(Console):
+    def on_broken_pipe(self) -> None:  # rich's own handler exits 1; a closed pipe is no error
+        _silence_stdout()
+        raise SystemExit(0)
+
+
+def _silence_stdout() -> None:
+    """After a broken pipe, point stdout at /dev/null so the exit flush cannot fail."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):
+        pass

@@ -47,6 +47,31 @@ def parse_fraction(value: object) -> Fraction:
     raise ValueError(f"expected a number or a fraction like \"6940/235\", got {value!r}")
 
 
+def fraction_text(value: Fraction) -> str:
+    """An exact number as people write it: ``365.2422`` for a terminating decimal, else "p/q".
+
+    >>> fraction_text(Fraction(1826211, 5000)), fraction_text(Fraction(1388, 47))
+    ('365.2422', '1388/47')
+    """
+    q = value.denominator
+    twos = fives = 0
+    while q % 2 == 0:
+        q //= 2
+        twos += 1
+    while q % 5 == 0:
+        q //= 5
+        fives += 1
+    if q != 1:
+        return f"{value.numerator}/{value.denominator}"
+    digits = max(twos, fives)
+    if digits == 0:
+        return str(value.numerator)
+    scaled = abs(value.numerator) * 10**digits // value.denominator
+    sign = "-" if value < 0 else ""
+    whole, frac = divmod(scaled, 10**digits)
+    return f"{sign}{whole}.{frac:0{digits}d}".rstrip("0").rstrip(".")
+
+
 @dataclass(frozen=True)
 class Turns:
     """Crank turns as an exact whole part (int64) and a fraction in [0, 1), both arrays.

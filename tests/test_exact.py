@@ -52,3 +52,12 @@ def test_turns_arithmetic_and_shapes():
     assert (-Turns.of(2.25)).to_float() == -2.25
     assert Turns.of(Fraction(9, 4)).to_float() == 2.25
     assert Turns.of(5).frac.shape == ()
+
+
+def test_fraction_text():
+    from engine.exact import fraction_text
+
+    assert fraction_text(Fraction(1826211, 5000)) == "365.2422"
+    assert fraction_text(Fraction(1388, 47)) == "1388/47"
+    assert fraction_text(Fraction(-3, 4)) == "-0.75"
+    assert fraction_text(Fraction(7)) == "7"

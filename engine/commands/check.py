@@ -60,7 +60,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     report = check(train, solve(train), crank_rpm=args.crank_rpm, efficiency=args.efficiency)
     if args.json:
         console.print(json.dumps(report_to_dict(report), indent=2, ensure_ascii=False),
-                      markup=False, highlight=False)
+                      markup=False, highlight=False, soft_wrap=True)
     else:
         _print(report, console)
     return 1 if args.strict and report.has_errors else 0

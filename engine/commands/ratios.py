@@ -7,8 +7,10 @@ import json
 
 from rich import box
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
+from engine.exact import fraction_text
 from engine.kinematics import solve
 from engine.loader import load_train
 from engine.ratios import pointer_ratios
@@ -44,11 +46,13 @@ def run(args: argparse.Namespace, console: Console) -> int:
             "pointers": [r.as_json() for r in rows], "warnings": warnings,
         }))
         return 0
-    console.print(f"[bold]{train.name}[/]  ({train.source}; crank on '{train.crank.arbor}', "
-                  f"{train.crank.days_per_turn} day(s) per turn; {train.dial} dial)")
+    dpt = train.crank.days_per_turn
+    console.print(f"[bold]{escape(train.name)}[/]  ({escape(train.source)}; crank on "
+                  f"'{escape(train.crank.arbor)}', {fraction_text(dpt)} "
+                  f"day{'' if dpt == 1 else 's'} per turn; {train.dial} dial)")
     table = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
     for col, just in (("pointer", "left"), ("period (d)", "right"), ("mean (d)", "right"),
-                      ("ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
+                      ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
     for r in rows:
         table.add_row(r.pointer, f"{r.period_days:.10g}", f"{r.target_days:.10g}", f"{r.error_ppm:+.3f}",
@@ -57,7 +61,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     for r in rows:
         sense = ", dial reversed" if train.pointers[r.pointer].reversed else ""
         what = f"'{r.arbor}'" + (f" against '{r.relative_to}'" if r.relative_to else "")
-        console.print(f"[bold]{r.pointer}[/] shows {r.shows} from arbor {what}{sense}; "
+        console.print(f"[bold]{escape(r.pointer)}[/] shows {r.shows} from arbor "
+                      f"{escape(what)}{sense}; "
                       f"stands for the {r.target_name}")
         console.print(f"   ratio {r.ratio.numerator}/{r.ratio.denominator} cycles per crank "
                       f"turn = {float(r.ratio):.10g}", markup=False)
@@ -82,7 +87,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
         if r.target_name not in names:
             names.append(r.target_name)
     for src, names in sources.items():
-        console.print(f"[dim]{', '.join(names)}: {src}[/]")
+        console.print(f"[dim]{', '.join(names)}: {escape(src)}[/]")
     for w in warnings:
-        console.print(f"[yellow]warning:[/] {w}", markup=True)
+        console.print(f"[yellow]warning:[/] {escape(w)}")
     return 0

@@ -82,7 +82,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     written = _emit(report, args) if args.emit else None
     if args.json:
         console.print(json.dumps(_to_json(report, written), indent=2), markup=False,
-                      highlight=False)
+                      highlight=False, soft_wrap=True)
         return 0
     _print(report, console)
     if written:

@@ -1,0 +1,63 @@
+"""The command line as a whole: dispatch, negative-year dates, closed pipes, markup safety."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+from engine.cli import main
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def test_negative_year_dates_are_values_not_options(capsys):
+    """-0100-03-01 is 101 BC in astronomical numbering; argparse must not take it for an
+    option. DE421 does not reach it, so the answer is the out-of-span error (exit 1)."""
+    assert main(["sky", "-0100-03-01"]) == 1
+    err = capsys.readouterr().err
+    assert "101 BC" in err and "outside JPL DE421" in err and "usage" not in err
+
+
+def test_help_lists_every_command(capsys):
+    try:
+        main(["--help"])
+    except SystemExit as exc:
+        assert exc.code == 0
+    out = capsys.readouterr().out
+    for name in ("crank", "ratios", "drift", "search", "check", "sky"):
+        assert name in out
+
+
+def test_closed_pipe_is_not_an_error():
+    cmd = (f"{sys.executable} -m engine ratios {ROOT / 'trains' / 'tide_office.toml'} "
+           "| head -1")
+    done = subprocess.run(["bash", "-o", "pipefail", "-c", cmd], capture_output=True,
+                          text=True, timeout=120)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.startswith("Tide office dial") and done.stderr == ""
+
+
+def test_item_names_in_brackets_survive_the_console(tmp_path, capsys):
+    train = tmp_path / "wrongway.toml"
+    train.write_text("""
+[crank]
+arbor = "a"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+set = "angles"
+[arbors.a]
+wheels = { a1 = 20 }
+[arbors.b]
+wheels = { b1 = 40 }
+[[meshes]]
+wheels = ["a1", "b1"]
+[pointers.moon]
+shows = "moon"
+arbor = "b"
+set_deg = 0
+""")
+    assert main(["ratios", str(train)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "[pointers.moon]: turns backwards" in out
