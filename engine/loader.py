@@ -243,6 +243,10 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
         module = tbl.get("module_mm")
         if module is not None:
             module = r.number(module, f"{item} module_mm", positive=True)
+        for earlier in meshes:
+            if {earlier.driver, earlier.driven} == {a, b}:
+                raise r.fail(item, f"repeats {earlier.label}: the same two wheels are "
+                             "listed in mesh twice; remove one")
         meshes.append(Mesh(i, a, b, ring, module))
     return tuple(meshes)
 

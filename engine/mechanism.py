@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+from engine.errors import SkyError, TrainError
 from engine.kinematics import Kinematics, solve
 from engine.loader import load_train
 from engine.readout import Readout, backward_warnings, epoch_values
@@ -35,7 +36,11 @@ def build(train: Train, sky=None) -> Mechanism:
         from engine.sky import Sky  # only the sky module touches skyfield
 
         sky = Sky()
-    values = epoch_values(train, sky)
+    try:
+        values = epoch_values(train, sky)
+    except SkyError as exc:  # the epoch itself cannot be looked up: say which file says so
+        raise TrainError(train.source, "[epoch] date", f"the pointers were set at a date the "
+                         f"sky cannot be computed for: {exc}") from None
     return Mechanism(train, kin, Readout(kin, values), tuple(backward_warnings(train, kin)))
 
 

@@ -204,3 +204,20 @@ def test_cli_usage_error_exits_2(capsys):
     with pytest.raises(SystemExit) as info:
         main(["ratios"])
     assert info.value.code == 2
+
+
+def test_mesh_listed_twice():
+    msg = error_of(GOOD + '[[meshes]]\nwheels = ["b1", "a1"]\n')
+    assert "mesh 2 (b1–a1)" in msg and "repeats mesh 1 (a1–b1)" in msg
+
+
+def test_epoch_outside_the_ephemeris_names_the_file(tmp_path):
+    from engine.mechanism import open_train
+
+    path = tmp_path / "old.toml"
+    path.write_text(GOOD.replace('set = "angles"', 'set = "sky"')
+                    .replace("2026-01-01 00:00", "1700-01-01"))
+    with pytest.raises(TrainError) as info:
+        open_train(path)
+    msg = str(info.value)
+    assert msg.startswith(f"{path}: [epoch] date: ") and "outside JPL DE421" in msg
