@@ -36,6 +36,7 @@ from J2000), the first-order correction that ignores the slow tilt of the eclipt
 
 from __future__ import annotations
 
+import atexit
 import functools
 import math
 import os
@@ -206,8 +207,24 @@ def _mass_ratio(moon_seg, earth_seg) -> float | None:
     return ratio
 
 
-@functools.lru_cache(maxsize=4)
+_LOADED: dict[str, _Loaded] = {}
+
+
+@atexit.register
+def _close_all() -> None:
+    """Close cached ephemeris files at exit, so none is left for the garbage collector."""
+    while _LOADED:
+        _LOADED.popitem()[1].kernel.close()
+
+
 def _load(path: str) -> _Loaded:
+    """Open an SPK file once per process and keep it (files are memory-mapped, cheap to hold)."""
+    if path not in _LOADED:
+        _LOADED[path] = _open(path)
+    return _LOADED[path]
+
+
+def _open(path: str) -> _Loaded:
     try:
         kernel = SpiceKernel(path)
     except Exception as exc:  # jplephem raises assorted errors on a file that is not SPK
