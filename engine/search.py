@@ -36,6 +36,7 @@ from sympy.ntheory.continued_fraction import (
 )
 
 from engine.errors import SearchError
+from engine.exact import fraction_text
 from engine.exact import parse_fraction as _exact_fraction
 from engine.periods import JULIAN_CENTURY_DAYS, POINTER_PERIOD, MeanPeriod, find_period
 
@@ -140,12 +141,14 @@ def make_target(period=None, ratio=None, cycle: str | None = None,
         return Target(crank / days, crank, f"period {period} days")
     if ratio is not None:
         r = parse_fraction(ratio, "ratio")
-        return Target(r, crank, f"ratio {ratio} turns per crank turn")
+        return Target(r, crank, f"ratio {ratio}")
     try:
         mp = find_period(str(cycle))
     except KeyError as exc:
         raise SearchError(str(exc.args[0])) from None
-    return Target(crank / Fraction(mp.days), crank, mp.name, mp)
+    # the period as the published rate gives it (a decimal), not the float's binary expansion
+    days = Fraction(360) * Fraction(36525) / Fraction(repr(abs(mp.deg_per_century)))
+    return Target(crank / days, crank, mp.name, mp)
 
 
 @dataclass(frozen=True)
@@ -689,7 +692,8 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
     lines = [f"# {n}-stage train from wheelwork search: ratio {r.numerator}/{r.denominator} "
              "output turns per crank turn"]
     if target is not None:
-        lines.append(f"# target: {target.label} (crank {target.crank_days} days per turn); "
+        lines.append(f"# target: {target.label} (crank {fraction_text(target.crank_days)} "
+                     "days per turn); "
                      f"error {result.error_ppm:+.4g} ppm, "
                      f"{result.drift_deg_per_century:+.4g} deg per century")
     lines.append(f"# period {result.period_days:.9g} days per output turn; output turns "

@@ -388,3 +388,26 @@ def test_cli_emit_refuses_overwrite(tmp_path, capsys):
     assert path.read_text() != first
     assert main([*args, "--pick", "99", "--force"]) == 1
     assert "--pick" in capsys.readouterr().err
+
+
+def test_cli_emit_checks_and_far_off_note(tmp_path, capsys):
+    from engine.cli import main
+
+    assert main(["search", "--period", "29.530589", "--pick", "2"]) == 1
+    assert "give --emit FILE too" in capsys.readouterr().err
+    assert main(["search", "--period", "29.530589", "--emit", str(tmp_path)]) == 1
+    assert "is a folder" in capsys.readouterr().err
+    assert main(["search", "--period", "29.530589", "--emit",
+                 str(tmp_path / "no" / "x.toml")]) == 1
+    assert "does not exist" in capsys.readouterr().err
+    # one stage of at most 150 teeth cannot come near a 29.5-day period from a daily crank
+    assert main(["search", "--period", "29.530589", "--stages", "1", "--top", "1"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "closest train within these bounds is 57.5% off" in out
+
+
+def test_cycle_target_is_the_published_rate_as_a_decimal():
+    from engine.search import make_target
+
+    t = make_target(cycle="synodic month")
+    assert t.ratio == Fraction(4452671114034, 10**7) / (360 * 36525)

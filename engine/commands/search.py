@@ -9,9 +9,11 @@ from pathlib import Path
 
 from rich import box
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from engine.errors import SearchError
+from engine.exact import fraction_text
 from engine.search import (
     Convergent,
     SearchReport,
@@ -22,6 +24,8 @@ from engine.search import (
     result_to_dict,
     search,
 )
+
+FAR_PPM = 1e4  # a best train more than 1% off is worth a word: the bounds are too tight
 
 NAME = "search"
 HELP = "tooth counts whose ratio realises a period or ratio (exhaustive within bounds)"
@@ -76,8 +80,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
                             allowed=args.allowed, max_prime=args.max_prime,
                             no_repeat=args.no_repeat, direction=direction,
                             exact_only=args.exact_only)
-    if args.emit and Path(args.emit).exists() and not args.force:
-        raise SearchError(f"{args.emit}: file exists; use --force to overwrite it")
+    if args.pick != 1 and not args.emit:
+        raise SearchError("--pick chooses which result --emit writes; give --emit FILE too")
+    if args.emit:
+        _check_writable(Path(args.emit), args.force)
     report = search(target, cons, top=args.top)
     written = _emit(report, args) if args.emit else None
     if args.json:
@@ -96,14 +102,22 @@ def _emit(report: SearchReport, args: argparse.Namespace) -> Path:
     if not 1 <= args.pick <= len(report.results):
         raise SearchError(f"--pick: {args.pick} is not between 1 and {len(report.results)}")
     path = Path(args.emit)
-    if path.exists() and not args.force:
-        raise SearchError(f"{path}: file exists; use --force to overwrite it")
+    _check_writable(path, args.force)
     text = emit_fragment(report.results[args.pick - 1], report.target, prefix=args.prefix)
     try:
         path.write_text(text, encoding="utf-8")
     except OSError as exc:
         raise SearchError(f"{path}: cannot write ({exc.strerror})") from None
     return path
+
+
+def _check_writable(path: Path, force: bool) -> None:
+    if path.is_dir():
+        raise SearchError(f"{path}: is a folder; give a file name for --emit")
+    if not path.parent.is_dir():
+        raise SearchError(f"{path}: folder '{path.parent}' does not exist")
+    if path.exists() and not force:
+        raise SearchError(f"{path}: file exists; use --force to overwrite it")
 
 
 def _frac(x) -> str:
@@ -144,17 +158,23 @@ def _years(y: float) -> str:
 
 def _print(report: SearchReport, console: Console) -> None:
     t = report.target
-    console.print(f"[bold]target[/]: {t.label} — {float(t.ratio):.12g} turns per crank turn, "
-                  f"{t.period_days:.10g} days per turn (crank {_frac(t.crank_days)} days/turn)")
+    days = fraction_text(t.crank_days)
+    console.print(f"[bold]target[/]: {escape(t.label)} — {float(t.ratio):.12g} turns per crank "
+                  f"turn, {t.period_days:.10g} days per turn (crank: {days} "
+                  f"day{'' if t.crank_days == 1 else 's'} per turn)")
     if not report.results:
         console.print("no train within these bounds")
+    elif abs(report.results[0].error_ppm) > FAR_PPM:
+        console.print(f"[yellow]the closest train within these bounds is "
+                      f"{abs(report.results[0].error_ppm) / 1e4:.3g}% off the target:[/] widen "
+                      "the tooth ranges or allow more stages")
     else:
         table = Table(title="trains, best first", box=box.SIMPLE_HEAD, collapse_padding=True,
                       pad_edge=False,
-                      caption="stages: driver→driven; ppm: error of the ratio; °/cy: drift of "
+                      caption="stages: driver→driven; speed ppm: error of the ratio (+ runs fast); °/cy: drift of "
                       "the output pointer per century; 1 day off: years until it is a day out")
         for col, just in (("#", "right"), ("stages", "left"), ("ratio", "right"),
-                          ("days/turn", "right"), ("ppm", "right"), ("°/cy", "right"),
+                          ("days/turn", "right"), ("speed ppm", "right"), ("°/cy", "right"),
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
         for i, r in enumerate(report.results, start=1):
@@ -165,7 +185,7 @@ def _print(report: SearchReport, console: Console) -> None:
     if report.convergents:
         table = Table(title="continued-fraction convergents of the target", box=box.SIMPLE_HEAD,
                       collapse_padding=True, pad_edge=False)
-        for col, just in (("ratio", "right"), ("days/turn", "right"), ("ppm", "right"),
+        for col, just in (("ratio", "right"), ("days/turn", "right"), ("speed ppm", "right"),
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
         for v in report.convergents:
