@@ -107,35 +107,41 @@ def _print(report: CheckReport, console: Console) -> None:
                    caption="d: pitch diameters m·z; a: centre distance; held by: the frame or "
                    "carrier holding both axes; force: tangential tooth force per N·m at the "
                    "crank")
-    for col, just in (("#", "right"), ("wheels", "left"), ("teeth", "right"), ("m", "right"),
-                      ("d mm", "right"), ("a mm", "right"), ("held by", "left"),
-                      ("ratio", "right"), ("m/s", "right"), ("force N", "right")):
-        meshes.add_column(col, justify=just, no_wrap=col not in ("wheels", "held by"),
-                          overflow="fold")
+    # On a narrow terminal the speed and force columns give way (they stay in --json).
+    wide = console.width >= 110
+    cols = [("#", "right"), ("wheels", "left"), ("teeth", "right"), ("m", "right"),
+            ("d mm", "right"), ("a mm", "right"), ("held by", "left"), ("ratio", "right")]
+    if wide:
+        cols += [("m/s", "right"), ("force N", "right")]
+    for col, just in cols:
+        meshes.add_column(col, justify=just, no_wrap=col != "held by", overflow="fold")
     for m in report.meshes:
         kind = " int" if m.internal else ""
         d = "—" if m.driver_pitch_mm is None else f"{m.driver_pitch_mm:g}\n{m.driven_pitch_mm:g}"
-        meshes.add_row(str(m.index), f"{m.driver}\n{m.driven}{kind}",
-                       f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
-                       _opt(m.centre_mm, ".4g"), m.reference,
-                       _frac(m.ratio) + (" up" if m.step_up else ""),
-                       _opt(m.pitch_speed_m_s), _num(m.tooth_force_n))
+        row = [str(m.index), f"{m.driver}\n{m.driven}{kind}",
+               f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
+               _opt(m.centre_mm, ".4g"), m.reference,
+               _frac(m.ratio) + (" up" if m.step_up else "")]
+        if wide:
+            row += [_opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
+        meshes.add_row(*row)
     console.print(meshes)
     arbors = Table(title="arbors", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
                    caption="turns per crank turn (exact) and per year, relative to the frame; "
                    "torque: times the crank torque when this arbor is the only load, ideal and "
                    "with losses over its stages; sense: + with the crank, − against it, 0 still, ↑ driven by a "
                    "step-up stage")
-    for col, just in (("arbor", "left"), ("turns/crank", "right"), ("turns/yr", "right"),
-                      ("sense", "left"), ("rpm max", "right"), ("torque ideal", "right"),
-                      ("torque", "right")):
-        arbors.add_column(col, justify=just, no_wrap=col not in ("turns/crank", "sense"),
-                          overflow="fold")
+    cols = [("arbor", "left")] + ([("turns/crank", "right")] if wide else []) + [
+        ("turns/yr", "right"), ("sense", "left"), ("rpm max", "right"),
+        ("torque ideal", "right"), ("torque", "right")]
+    for col, just in cols:
+        arbors.add_column(col, justify=just, no_wrap=col != "sense", overflow="fold")
     for a in report.arbors:
         sense = {"with the crank": "+", "against the crank": "−"}.get(a.direction, "0")
-        arbors.add_row(a.name, _frac(a.turns_per_crank), f"{a.turns_per_year:.6g}",
-                       sense + (" ↑" if a.step_up else ""), _num(a.rpm_max),
-                       _num(a.torque_ideal), _num(a.torque))
+        row = [a.name] + ([_frac(a.turns_per_crank)] if wide else []) + [
+            f"{a.turns_per_year:.6g}", sense + (" ↑" if a.step_up else ""), _num(a.rpm_max),
+            _num(a.torque_ideal), _num(a.torque)]
+        arbors.add_row(*row)
     console.print(arbors)
     for p in report.pin_slots:
         console.print(f"pin-and-slot [bold]{p.name}[/]: slot {p.slot_length_mm:.3g} mm long "
