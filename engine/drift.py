@@ -15,17 +15,24 @@ Method (all angles in degrees):
 
 * error = train - sky, wrapped to [-180, 180); phase error in days = error / (360° / mean
   synodic month), the elongation's mean daily gain (``engine.periods``).
-* Secular drift: a straight line fitted by least squares to the unwrapped error. The error is
-  unwrapped about the line expected from the mean rates (train rate minus the mean motion of
-  what it shows): the difference from that line is the true sky's own irregularity plus the
-  setting, a few degrees, so it is taken the short way round from its first value. This is
-  ``np.unwrap`` whenever the grid is fine enough for it, and stays right for coarse steps
-  (a year) too. The stored residual is small in magnitude, so float32 keeps it well.
+* Secular drift: a straight line fitted by least squares to the unwrapped error, jointly with
+  sinusoids at the periods the sky is known to put into such errors (``SKY_TERMS``: for the
+  Sun its equation of centre; for the Moon its equation of centre, evection, variation and
+  the annual equation; the nutation on an equinox dial), each once the span holds a whole
+  period of it. Over a short span a partial swing would otherwise tilt the line: two years of
+  a Sun hand that lacks the 1.9° equation of centre read +91° a century. The slope's standard
+  error comes with it (:func:`fit_drift`), and the summary says when the span is too short
+  for the drift to mean much. The error is unwrapped about the line expected from the mean
+  rates (train rate minus the mean motion of what it shows): the difference from that line is
+  the true sky's own irregularity plus the setting, a few degrees, so it is taken the short
+  way round from its first value. This is ``np.unwrap`` whenever the grid is fine enough for
+  it, and stays right for coarse steps (a year) too. The stored residual is small in
+  magnitude, so float32 keeps it well.
 * Periodic part: the residual about the fitted line, on the uniform grid, is Hann-windowed and
   Fourier transformed (averaged in bins first when longer than ``FFT_MAX_POINTS``); the
-  strongest bin (periods up to half the span) is refined by parabolic interpolation of the log
-  magnitude, and the amplitude is the least-squares sinusoid at that frequency over the full
-  series (so it does not depend on where the peak falls between bins).
+  strongest bin (periods up to two thirds of the span) starts a local search for the
+  frequency whose least-squares sinusoid leaves the least residual, and the amplitude is the
+  least-squares sinusoid at that frequency over the full series.
 * First crossing: the first grid date where |error| reaches the threshold, refined by linear
   interpolation from the date before (the span's start if the first date is already past).
 * Best re-setting: the constant ``c`` minimising the RMS of wrap(error - c): started from the
@@ -66,6 +73,52 @@ from engine.periods import JULIAN_CENTURY_DAYS, PERIODS, POINTER_PERIOD
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
 YEAR_DAYS = 365.25  # the Julian year, for steps and spans written in years
 MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, name a step
+
+# The sky's own periodic inequalities, fitted together with the drift line so that a short
+# span's partial swing is not mistaken for drift. Periods from the mean motions in
+# engine.periods; which inequalities matter, and evection's argument 2D - M (so its period is
+# 1 / (2 / synodic - 1 / anomalistic month), about 31.81 d), are standard lunar theory, from
+# memory. The Sun's equation of centre runs with the anomalistic year (and its half); the
+# Moon's with the anomalistic month (and its half); variation with half the synodic month;
+# the annual equation with the anomalistic year. The elongation (phase) carries both sets.
+_ANOM_YEAR = PERIODS["anomalistic_year"].days
+_ANOM_MONTH = PERIODS["anomalistic_month"].days
+_SYNODIC = PERIODS["synodic_month"].days
+EVECTION_DAYS = 1.0 / (2.0 / _SYNODIC - 1.0 / _ANOM_MONTH)
+SUN_TERMS = (("equation of centre (anomalistic year)", _ANOM_YEAR),
+             ("equation of centre, second harmonic", _ANOM_YEAR / 2))
+MOON_TERMS = (("equation of centre (anomalistic month)", _ANOM_MONTH),
+              ("equation of centre, second harmonic", _ANOM_MONTH / 2),
+              ("evection", EVECTION_DAYS),
+              ("variation (half the synodic month)", _SYNODIC / 2),
+              ("annual equation (anomalistic year)", _ANOM_YEAR))
+SKY_TERMS: dict[str, tuple[tuple[str, float], ...]] = {
+    "sun": SUN_TERMS,
+    "moon": MOON_TERMS,
+    "anomaly": MOON_TERMS,  # true Moon less the mean perigee
+    "draconic": MOON_TERMS,  # true Moon less the mean node
+    "phase": MOON_TERMS + (("Sun's equation of centre, second harmonic", _ANOM_YEAR / 2),),
+    "node": (),  # the sky's node and perigee are the mean elements: nothing periodic
+    "apsis": (),
+}
+# On an equinox dial the true longitudes carry the nutation (about ±17", with the node's 18.6
+# years; from memory). The elongation does not (a difference of two longitudes), nor do the
+# mean node and perigee, nor anything on a star dial. It is fitted when the span allows, but
+# being small it does not make a drift "uncertain" when left out: as a slope it is at most
+# 17" x 2 pi / 18.6 years, 0.16° a century.
+NUTATION = ("nutation (the node's 18.6 years)", PERIODS["nodal_period"].days)
+NUTATING_KINDS = ("sun", "moon", "anomaly", "draconic")
+MINOR_TERMS = frozenset({NUTATION[0]})
+TERM_MIN_CYCLES = 1.0  # a term is fitted once the span holds this many of its periods
+
+
+def sky_terms(shows: str, frame: str = "equinox") -> tuple[tuple[str, float], ...]:
+    """The ``(name, period_days)`` inequalities fitted with the drift of a pointer of kind
+    ``shows`` on a dial of ``frame``."""
+    terms = SKY_TERMS.get(shows, ())
+    if frame == "equinox" and shows in NUTATING_KINDS:
+        terms = (*terms, NUTATION)
+    return terms
 
 
 class DriftError(WheelworkError):
@@ -258,9 +311,15 @@ class _GridReader:
 class PointerSummary:
     """What a drift run found for one pointer. Degrees unless the name says days.
 
-    ``drift_deg_per_century``: slope of the least-squares line through the unwrapped error.
+    ``drift_deg_per_century``: slope of the least-squares line through the unwrapped error,
+    fitted jointly with sinusoids at the sky's known periods (``SKY_TERMS``).
     ``periodic_amplitude_deg`` / ``periodic_period_days``: the strongest sinusoid left once that
     line is removed (``None`` period when the span is too short to show one).
+    ``drift_sigma_deg_per_century``: standard error of that slope (see :func:`fit_drift`);
+    ``drift_uncertain``: the span is too short for the drift to mean much — shorter than two
+    periods of the strongest swing, or a known sky inequality (``drift_terms_left_out``) has a
+    period longer than the span, so it could not be separated from the drift. ``drift_terms``
+    names the sky inequalities fitted together with the line.
     ``first_crossing_jd``: first date |error| reaches ``threshold_deg`` (``None``: never, or no
     threshold). ``best_offset_deg``: the constant error that re-setting should take out (turn
     the pointer back by it); ``rms_after_reset_deg`` is what remains. ``max_abs_days``,
@@ -282,9 +341,14 @@ class PointerSummary:
     max_abs_days: float | None = None
     rms_days: float | None = None
     threshold_days: float | None = None
+    drift_sigma_deg_per_century: float = float("nan")
+    drift_uncertain: bool = False
+    drift_terms: tuple[str, ...] = ()
+    drift_terms_left_out: tuple[str, ...] = ()
 
     def to_dict(self) -> dict:
-        return {k: (None if isinstance(v, float) and not math.isfinite(v) else v)
+        return {k: (None if isinstance(v, float) and not math.isfinite(v) else
+                    list(v) if isinstance(v, tuple) else v)
                 for k, v in self.__dict__.items()}
 
 
@@ -330,7 +394,6 @@ class _Running:
         self.threshold = threshold_deg
         self.max_abs, self.max_at = -1.0, jd0
         self.sum_sq = 0.0
-        self.s_r = self.s_kr = 0.0  # sums for the straight-line fit against the grid index
         self.prev_abs = None
         self.crossing = None
 
@@ -341,8 +404,6 @@ class _Running:
         if ae[i] > self.max_abs:
             self.max_abs, self.max_at = float(ae[i]), self.jd0 + (i0 + i) * self.step
         self.sum_sq += float(np.dot(err, err))
-        self.s_r += float(resid.sum())
-        self.s_kr += float(np.dot(k, resid))
         self.error[i0:i0 + n] = err
         self.resid[i0:i0 + n] = resid
         if self.threshold is not None and self.crossing is None:
@@ -358,16 +419,18 @@ class _Running:
                     self.crossing = at - (1.0 - f) * self.step
         self.prev_abs = float(ae[-1])
 
-    def summary(self, name: str, shows: str) -> PointerSummary:
+    def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
+                ) -> PointerSummary:
         n = self.n
-        # least squares resid = a + b k over k = 0..n-1 (closed-form sums of the grid index)
-        sk = n * (n - 1) / 2.0
-        skk = (n - 1) * n * (2 * n - 1) / 6.0
-        den = n * skk - sk * sk
-        b = (n * self.s_kr - sk * self.s_r) / den if den > 0 else 0.0
-        a = (self.s_r - b * sk) / n
-        drift = (self.expected_per_step + b) / self.step * JULIAN_CENTURY_DAYS
-        amp, period = periodic_part(self.resid, self.step, line=(a, b))
+        terms = sky_terms(shows) if terms is None else tuple(terms)
+        fit = fit_drift(self.resid, self.step, terms, cache=cache,
+                        all_terms=() if cache is None else cache.get("terms", ()))
+        drift = (self.expected_per_step + fit.slope_per_step) / self.step * JULIAN_CENTURY_DAYS
+        sigma = fit.sigma_per_step / self.step * JULIAN_CENTURY_DAYS
+        amp, period = periodic_part(self.resid, self.step, line=fit.line, binned=fit.binned)
+        span = (n - 1) * self.step
+        uncertain = (period is None or span < 2.0 * period
+                     or any(t not in MINOR_TERMS for t in fit.left_out))
         offset, rms_after = best_offset(self.error)
         thr = self.threshold
         extra = {}
@@ -380,15 +443,20 @@ class _Running:
             rms_deg=math.sqrt(self.sum_sq / n), drift_deg_per_century=drift,
             periodic_amplitude_deg=amp, periodic_period_days=period,
             first_crossing_jd=self.crossing, threshold_deg=thr, best_offset_deg=offset,
-            rms_after_reset_deg=rms_after, **extra)
+            rms_after_reset_deg=rms_after, drift_sigma_deg_per_century=sigma,
+            drift_uncertain=uncertain, drift_terms=fit.used, drift_terms_left_out=fit.left_out,
+            **extra)
 
 
 def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | None = None,
-              name: str = "series", shows: str = "series") -> PointerSummary:
+              name: str = "series", shows: str = "series",
+              terms: tuple[tuple[str, float], ...] | None = None) -> PointerSummary:
     """The summary figures of any error series on a uniform grid (degrees; ``np.unwrap``).
 
     The same arithmetic as :func:`drift_series` applies to each pointer, for series made
-    elsewhere (and for tests on synthetic series)."""
+    elsewhere (and for tests on synthetic series). ``terms``: ``(name, period_days)`` pairs
+    fitted with the drift line; default :func:`sky_terms` of ``shows`` on an equinox dial
+    (none for a plain series)."""
     jd = np.asarray(jd, dtype=float)
     err = wrap_deg(np.asarray(error_deg, dtype=float))
     if jd.ndim != 1 or jd.shape != err.shape or len(jd) < 2:
@@ -397,10 +465,10 @@ def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | N
     step = float(jd[1] - jd[0])
     run = _Running(len(jd), float(jd[0]), step, 0.0, threshold_deg)
     run.add(0, np.arange(len(jd), dtype=float), err, unwrap_deg(err))
-    return run.summary(name, shows)
+    return run.summary(name, shows, terms)
 
 
-FFT_MAX_POINTS = 32_768  # longer residuals are averaged in bins of m dates before the FFT
+FFT_MAX_POINTS = 32_768  # longer residuals are averaged in bins of m dates before fit and FFT
 
 
 @functools.lru_cache(maxsize=4)
@@ -424,53 +492,230 @@ def _next_fast_len(n: int) -> int:
     return best
 
 
+@dataclass(frozen=True)
+class _Binned:
+    """A series averaged in bins of ``m`` grid steps: the means ``y`` (float64) and the grid
+    index of each bin's centre ``c`` (a bin's mean of a line or of a sinusoid is the line, or
+    the sinusoid times a constant, at the bin's centre: fits on the bins are exact for both)."""
+
+    y: np.ndarray
+    c: np.ndarray
+    m: int
+
+
+def _binned(resid: np.ndarray) -> _Binned:
+    y = np.asarray(resid, dtype=np.float32)
+    n = len(y)
+    m = max(1, -(-n // FFT_MAX_POINTS))
+    nd = n // m
+    yd = y[:nd * m].reshape(nd, m).astype(float) @ np.full(m, 1.0 / m)
+    return _Binned(yd, np.arange(nd) * float(m) + (m - 1) / 2.0, m)
+
+
+@dataclass(frozen=True)
+class DriftFit:
+    """The joint least-squares fit of :func:`fit_drift`. ``line = (a, b)``: the fitted line
+    ``a + b k`` in the grid index k; ``slope_per_step`` is ``b``, ``sigma_per_step`` its
+    standard error; ``used`` / ``left_out`` name the periodic terms fitted and those whose
+    period is longer than the span allows."""
+
+    line: tuple[float, float]
+    slope_per_step: float
+    sigma_per_step: float
+    used: tuple[str, ...]
+    left_out: tuple[str, ...]
+    binned: _Binned
+
+
+def _phasor(c: np.ndarray, w: float, block: int = 1024) -> np.ndarray:
+    """``exp(i w c)`` on an evenly spaced ``c``: one table of ``block`` phases turned by each
+    block's start phase (a complex multiply a point instead of a cosine and a sine)."""
+    n = len(c)
+    dc = float(c[1] - c[0]) if n > 1 else 1.0
+    nb = -(-n // block)
+    tab = np.exp(1j * w * (c[0] + dc * np.arange(block)))
+    start = np.exp(1j * w * dc * block * np.arange(nb))
+    return (start[:, None] * tab[None, :]).reshape(-1)[:n]
+
+
+def _design(b: _Binned, ws: tuple[float, ...], all_ws: tuple[float, ...], cache: dict | None):
+    """The design [1, u, cos(w c), sin(w c)...] on the bins (u the centred, scaled index) for
+    the frequencies ``all_ws`` and its normal matrix, built once a run (``cache``) for every
+    pointer; then the columns of ``ws`` among them and the inverse of their normal matrix."""
+    key = (len(b.y), b.m, all_ws)
+    if cache is not None and key in cache:
+        x, g, mid, half = cache[key]
+    else:
+        mid, half = (b.c[0] + b.c[-1]) / 2.0, max((b.c[-1] - b.c[0]) / 2.0, 1.0)
+        x = np.empty((len(b.c), 2 + 2 * len(all_ws)))
+        x[:, 0] = 1.0
+        x[:, 1] = (b.c - mid) / half
+        for i, w in enumerate(all_ws):
+            z = _phasor(b.c, w)
+            x[:, 2 + 2 * i], x[:, 3 + 2 * i] = z.real, z.imag
+        g = x.T @ x  # columns of order one: a well-conditioned normal matrix
+        if cache is not None:
+            cache[key] = (x, g, mid, half)
+    idx = [0, 1]
+    for w in ws:
+        i = all_ws.index(w)
+        idx += [2 + 2 * i, 3 + 2 * i]
+    return x, idx, np.linalg.inv(g[np.ix_(idx, idx)]), mid, half
+
+
+def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | None = None,
+              all_terms=()) -> DriftFit:
+    """Straight line plus sinusoids at known periods, fitted jointly by least squares to a
+    series on a uniform grid (``terms``: ``(name, period_days)`` pairs).
+
+    A term is fitted when the span holds at least ``TERM_MIN_CYCLES`` of its periods (a line
+    and a sinusoid separate cleanly once a whole cycle is seen; over less they trade places);
+    the others are returned in ``left_out``. The fit is made on the bins of
+    ``FFT_MAX_POINTS`` (exact for these functions, see :class:`_Binned`). ``cache`` and
+    ``all_terms`` (the terms of every pointer of a run) let the design be built once a run.
+
+    The slope's standard error is the least-squares one with the residual's degrees of
+    freedom counted from its sign changes (one independent value per change, plus one):
+    the residual of a real series is smooth, not independent from date to date, and this
+    counts a leftover swing of period P as one value per half period. It is a guide to the
+    size of the uncertainty, not a bound: a sky variation slower than the span (e.g. the
+    18.6-year nutation in an equinox frame) is indistinguishable from drift and not in it.
+    """
+    b = _binned(resid)
+    nd = len(b.y)
+    span = (len(resid) - 1) * step_days
+
+    def fits(period):
+        return span >= TERM_MIN_CYCLES * period and 2 * b.m * step_days < period
+
+    used = [name for name, period in terms if fits(period)]
+    left = [name for name, period in terms if not fits(period)]
+    ws = [2 * np.pi * step_days / p for _, p in terms if fits(p)]  # radians per grid step
+    ncol = 2 + 2 * len(ws)
+    if nd < ncol + 2:  # too few bins for the terms: the line alone
+        used, left, ws, ncol = [], [*used, *left], [], 2
+    if nd < 2:
+        return DriftFit((float(b.y[0]) if nd else 0.0, 0.0), 0.0, float("nan"), (), tuple(left),
+                        b)
+    all_ws = sorted({*ws, *(2 * np.pi * step_days / p for _, p in all_terms if fits(p))})
+    x, idx, g_inv, mid, half = _design(b, tuple(ws), tuple(all_ws), cache)
+    coef = np.zeros(x.shape[1])
+    coef[idx] = g_inv @ (x.T @ b.y)[idx]
+    res = b.y - x @ coef
+    coef = coef[idx]
+    rss = float(res @ res)
+    changes = int(np.count_nonzero(np.signbit(res[1:]) != np.signbit(res[:-1])))
+    dof = max(min(changes + 1, nd) - ncol, 1)
+    var_u = float(g_inv[1, 1])
+    slope = float(coef[1]) / half
+    sigma = math.sqrt(rss * var_u / dof) / half
+    a = float(coef[0]) - slope * mid
+    return DriftFit((a, slope), slope, sigma, tuple(used), tuple(left), b)
+
+
 def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, float] | None = None,
-                  ) -> tuple[float, float | None]:
+                  binned: _Binned | None = None) -> tuple[float, float | None]:
     """Amplitude (units of ``resid``) and period (days) of the strongest sinusoid in a series on
     a uniform grid, after removing ``line = (a, b)``, i.e. ``a + b k`` (default: its own
     least-squares line). ``(0.0, None)`` when the series is too short or flat.
 
-    Periods from twice the analysis step to half the span are searched: the analysis step is
-    the grid step, or ``m`` steps averaged when the series is longer than ``FFT_MAX_POINTS``
-    (so a run of 219,000 six-hour dates looks for periods of 3.5 days and more). The amplitude
-    is then fitted at the full resolution.
+    Periods from twice the analysis step to two thirds of the span are searched: the
+    analysis step is the grid step, or ``m`` steps averaged when the series is longer than
+    ``FFT_MAX_POINTS`` (so a run of 219,000 six-hour dates looks for periods of 3.5 days and
+    more). The strongest bin of a Hann-windowed transform is refined by a local search for
+    the frequency whose least-squares sinusoid leaves the least residual (within a bin either side, periods
+    at most the span); the amplitude is then fitted at the full resolution.
     """
     y = np.asarray(resid, dtype=np.float32)
     n = len(y)
     if n < 16:
         return 0.0, None
-    k = np.arange(n, dtype=np.float32)
     if line is None:
-        b, a = np.polyfit(np.arange(n, dtype=float), y.astype(float), 1)
-    else:
-        a, b = line
-    y = y - (np.float32(a) + np.float32(b) * k)
-    if not np.any(y):
+        bb, aa = np.polyfit(np.arange(n, dtype=float), y.astype(float), 1)
+        line = (float(aa), float(bb))
+    a, b = line
+    bins = binned if binned is not None else _binned(y)
+    m = bins.m
+    yd = (bins.y - (a + b * bins.c)).astype(np.float32)
+    nd = len(yd)
+    if not np.any(yd):
         return 0.0, None
-    m = max(1, -(-n // FFT_MAX_POINTS))
-    nd = n // m
-    yd = y[:nd * m].reshape(nd, m).mean(axis=1, dtype=float).astype(np.float32)
-    yd -= np.float32(yd.mean(dtype=float))
     nfft = _next_fast_len(nd)
-    mag = np.abs(np.fft.rfft(yd * _hann(nd), nfft))
-    lo = max(2, int(math.ceil(2.0 * nfft / nd)))  # periods shorter than half the span
+    # the transform sees the series less its mean; the local search does not (over a part
+    # cycle a sinusoid's mean is not zero, and the given line already holds the constant)
+    mag = np.abs(np.fft.rfft((yd - np.float32(yd.mean(dtype=float))) * _hann(nd), nfft))
+    lo = max(2, int(math.ceil(1.5 * nfft / nd)))  # at least 1.5 cycles in the span
     if lo >= len(mag) - 1:
         return 0.0, None
     j = lo + int(np.argmax(mag[lo:]))
-    shift = 0.0
+    shift = 0.0  # parabola through the log magnitudes: the starting point of the search
     if j + 1 < len(mag):
         la, lb, lc = np.log(mag[j - 1:j + 2].astype(float) + 1e-300)
         den = la - 2 * lb + lc
         shift = 0.5 * (la - lc) / den if den < 0 else 0.0
-    cycles_per_step = (j + shift) / (nfft * m)
+    # local search in cycles per bin: the least-squares sinusoid takes most out at the true
+    # frequency; within one bin either side (and at least one cycle a span)
+    f_lo = max((j - 1) / nfft, 1.0 / nd)
+    f_hi = min((j + 1) / nfft, 0.5)
+    f = _refine_frequency(yd, min(max((j + shift) / nfft, f_lo), f_hi), 0.25 / nfft, f_lo, f_hi)
+    cycles_per_step = f / m
     if not 0 < cycles_per_step < 0.5:
         return 0.0, None
-    amp = _sinusoid_amplitude(y, 2 * np.pi * cycles_per_step)
+    k = np.arange(n, dtype=np.float32)
+    full = y - (np.float32(a) + np.float32(b) * k)
+    amp = _sinusoid_amplitude(full, 2 * np.pi * cycles_per_step)
     return amp, step_days / cycles_per_step
 
 
-def _sinusoid_amplitude(y: np.ndarray, w: float, block: int = 4096) -> float:
-    """Amplitude of the least-squares ``p cos(w k) + q sin(w k)`` through ``y`` (k = 0..n-1).
+def _refine_frequency(y: np.ndarray, f0: float, h: float, f_lo: float, f_hi: float,
+                      rel: float = 1e-5) -> float:
+    """The frequency (cycles per step) near ``f0`` whose least-squares sinusoid takes the most
+    out of ``y`` (least residual), within [f_lo, f_hi]: successive parabolas through three
+    points ``h`` apart at first, moving the three outwards while an end one is best; stops
+    when a step is below ``rel`` of the frequency (a period good to about 1e-5 of itself)."""
+    def power(f):
+        return _sinusoid_amplitude(y, 2 * np.pi * f, block=1024, explained=True)
+
+    x0, x1, x2 = max(f0 - h, f_lo), f0, min(f0 + h, f_hi)
+    if not x0 < x1 < x2:
+        return f0
+    v0, v1, v2 = power(x0), power(x1), power(x2)
+    for _ in range(40):
+        if v0 > v1 or v2 > v1:  # the peak is outside: step the triple towards it
+            if v0 > v2:
+                x_new = max(x0 - (x1 - x0), f_lo)
+                if x_new >= x0:
+                    return x0
+                x0, x1, x2, v1, v2 = x_new, x0, x1, v0, v1
+                v0 = power(x0)
+            else:
+                x_new = min(x2 + (x2 - x1), f_hi)
+                if x_new <= x2:
+                    return x2
+                x0, x1, x2, v0, v1 = x1, x2, x_new, v1, v2
+                v2 = power(x2)
+            continue
+        den = (x1 - x0) * (v1 - v2) - (x1 - x2) * (v1 - v0)
+        if den == 0:
+            return x1
+        xv = x1 - 0.5 * ((x1 - x0) ** 2 * (v1 - v2) - (x1 - x2) ** 2 * (v1 - v0)) / den
+        if not x0 < xv < x2 or abs(xv - x1) < rel * x1:
+            return x1 if not x0 < xv < x2 else xv
+        vv = power(xv)
+        if xv < x1:
+            (x0, x1, x2, v0, v1, v2) = ((x0, xv, x1, v0, vv, v1) if vv > v1 else
+                                        (xv, x1, x2, vv, v1, v2))
+        else:
+            (x0, x1, x2, v0, v1, v2) = ((x1, xv, x2, v1, vv, v2) if vv > v1 else
+                                        (x0, x1, xv, v0, v1, vv))
+    return x1
+
+
+def _sinusoid_amplitude(y: np.ndarray, w: float, block: int = 4096, *,
+                        explained: bool = False) -> float:
+    """Amplitude of the least-squares ``p cos(w k) + q sin(w k)`` through ``y`` (k = 0..n-1);
+    with ``explained``, the sum of squares it takes out of ``y`` instead (largest at the best
+    frequency, where the amplitude itself need not be).
 
     The sums against cos and sin are taken block by block (one table of ``block`` phases, each
     block turned by its start phase), and the normal matrix in closed form (geometric sums of
@@ -499,6 +744,8 @@ def _sinusoid_amplitude(y: np.ndarray, w: float, block: int = 4096) -> float:
         return 0.0
     p = (snn * sc - cn * sn) / det
     q = (cc * sn - cn * sc) / det
+    if explained:
+        return float(p * sc + q * sn)
     return float(math.hypot(p, q))
 
 
@@ -522,15 +769,18 @@ def best_offset(error_deg: np.ndarray) -> tuple[float, float]:
 
 # --- the run -------------------------------------------------------------------------------
 
-def grid(jd_start: float, jd_end: float, step_days: float) -> int:
-    """How many dates ``jd_start + k * step_days`` lie in [jd_start, jd_end]."""
+def grid(jd_start: float, jd_end: float, step_days: float, *, include_end: bool = False) -> int:
+    """How many dates ``jd_start + k * step_days`` lie in [jd_start, jd_end] — or, with
+    ``include_end``, up to the first grid date at or after ``jd_end`` (so the span covers
+    the end date; the last date passes it by less than a step)."""
     if not (math.isfinite(jd_start) and math.isfinite(jd_end)):
         raise DriftError("the span's dates must be finite")
     if jd_end <= jd_start:
         raise DriftError("the span ends before it starts: the end date must be after the "
                          "start date")
     step = parse_step(step_days)
-    n = int(math.floor((jd_end - jd_start) / step + 1e-9)) + 1
+    steps = (jd_end - jd_start) / step
+    n = int(math.ceil(steps - 1e-9) if include_end else math.floor(steps + 1e-9)) + 1
     if n < 2:
         raise DriftError(f"step {step:g} d is longer than the span "
                          f"({jd_end - jd_start:g} d): use a shorter step")
@@ -547,7 +797,7 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
                  cancel: Callable[[], bool] | None = None, chunk: int = 20_000,
                  keep_series: bool = True, readout=None,
                  on_chunk: Callable[[np.ndarray, dict[str, ErrorNow]], None] | None = None,
-                 ) -> DriftResult:
+                 include_end: bool = False) -> DriftResult:
     """Every pointer's error on the grid ``jd_start + k * step_days`` up to ``jd_end`` (UT).
 
     ``step_days``: days, or text for :func:`parse_step`. ``threshold_deg``: one value for every
@@ -555,6 +805,8 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
     fraction done; ``cancel()`` is asked before each chunk, and a true answer raises
     :class:`DriftCancelled`. ``on_chunk(jd, errors)`` receives each chunk's dates and
     :class:`ErrorNow` values (float64) as they are made, e.g. to stream them to a file.
+    ``include_end``: run on to the first grid date at or after ``jd_end`` (see :func:`grid`)
+    when the ephemeris reaches it, else stop at the last grid date before ``jd_end``.
     """
     readout = readout or mech.readout
     frame = frame or mech.train.dial
@@ -564,6 +816,14 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
     chunk = max(2, int(chunk))
     jd0 = float(jd_start)
     sky.at(np.array([jd0, jd0 + (n - 1) * step]), frame=frame, site=site)  # span check first
+    if include_end:
+        n_end = grid(jd0, float(jd_end), step, include_end=True)
+        if n_end > n:
+            try:
+                sky.at(np.array([jd0 + (n_end - 1) * step]), frame=frame, site=site)
+                n = n_end
+            except WheelworkError:  # past the ephemeris' end: keep the date before jd_end
+                pass
     pointers = dict(mech.train.pointers)
     if not isinstance(threshold_deg, dict):
         threshold_deg = {name: threshold_deg for name in pointers}
@@ -624,7 +884,10 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
             progress(min(1.0, (i0 + len(k)) / n))
         outside_s += time.perf_counter() - t
     t = time.perf_counter()
-    summaries = {name: runs[name].summary(name, p.shows) for name, p in pointers.items()}
+    terms = {name: sky_terms(p.shows, frame) for name, p in pointers.items()}
+    cache: dict = {"terms": tuple({t for ts in terms.values() for t in ts})}  # one design a run
+    summaries = {name: runs[name].summary(name, p.shows, terms[name], cache)
+                 for name, p in pointers.items()}
     summaries_s = time.perf_counter() - t
     total = time.perf_counter() - t_start
     error = {name: r.error for name, r in runs.items()}

@@ -384,3 +384,91 @@ def test_cli_ctrl_c_stops_cleanly(tmp_path, monkeypatch, capsys):
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "stopped" in err
     assert not list(tmp_path.iterdir())
+
+
+# --- drift over short spans: the sky's known swings fitted with the line ---------------------
+
+def _nutation_slope_bound_deg_per_century(years: float) -> float:
+    """Largest slope that the nutation in longitude (17.2" with the node's 18.6 years, from
+    memory) can put into a least-squares line over ``years``, over all its phases."""
+    t = np.arange(0.0, years * YEAR_DAYS, 1.0)
+    period = PERIODS["nodal_period"].days
+    amp = 17.2 * ARCSEC
+    return max(abs(np.polyfit(t, amp * np.sin(2 * np.pi * t / period + ph), 1)[0])
+               for ph in np.linspace(0, np.pi, 91)) * JULIAN_CENTURY_DAYS
+
+
+@pytest.mark.parametrize("years, tol", [
+    # Two years: the nutation may tilt the line by up to 0.16°/century, and the Sun's
+    # planetary perturbations (a few arcseconds at periods near a year and longer — Venus,
+    # Jupiter; from memory) as much again; the old straight line gave +91. Allow 0.4.
+    (2, 0.4),
+    # Ten years: nutation left out (less than one 18.6-year cycle) — its worst case over ten
+    # years (0.12°/century) — plus 0.01 for the planetary terms, now well averaged.
+    (10, _nutation_slope_bound_deg_per_century(10) + 0.01),
+    # Nineteen years: the nutation is fitted; what is left are arcsecond planetary terms,
+    # each tilting the line by at most ~2 A P / T² (a few thousandths). The old fit gave 1.06.
+    (19, 0.02),
+])
+def test_sun_drift_over_short_spans_is_the_mean_rate_drift(sky, years, tol):
+    """The tide office Sun hand (ratio 1375/502208, +0.0008°/century from the mean rates): the
+    joint fit of line and the Sun's equation of centre gives the mean-rate drift, within
+    the tolerance the sky's remaining, unfitted variations allow."""
+    from engine.ratios import pointer_ratios
+
+    mech = open_train(TRAINS / "tide_office.toml", sky)
+    mean_rate = {r.pointer: r.drift_deg_per_century
+                 for r in pointer_ratios(mech.train, mech.kin)}["sun"]
+    assert abs(mean_rate) < 0.001
+    j0 = mech.train.epoch.jd_ut
+    s = drift_series(mech, sky, j0, j0 + years * YEAR_DAYS, "6h",
+                     keep_series=False).summaries["sun"]
+    assert s.drift_deg_per_century == pytest.approx(mean_rate, abs=tol)
+    assert "equation of centre (anomalistic year)" in s.drift_terms
+    assert 0 < s.drift_sigma_deg_per_century < 0.2
+    # the swing's period is the anomalistic year (365.2596 d), not a bin of the transform
+    assert s.periodic_period_days == pytest.approx(PERIODS["anomalistic_year"].days, rel=2e-3)
+    assert 1.85 < s.periodic_amplitude_deg < 1.95
+    # two years hold barely two periods of that swing: said to be uncertain
+    assert s.drift_uncertain == (years < 2.01)
+
+
+def test_moon_disc_drift_over_five_years(sky):
+    """The 59-tooth disc gains 461.70°/century on the mean synodic month (see above); five
+    years of the true elongation, its Moon and Sun inequalities fitted, give it within 1%."""
+    mech = open_train(TRAINS / "moon_disc_59.toml", sky)
+    j0 = mech.train.epoch.jd_ut
+    mean_gain = (360 / 29.5 - PHASE_DEG_PER_DAY) * JULIAN_CENTURY_DAYS
+    assert mean_gain == pytest.approx(461.70, abs=0.01)
+    s = drift_series(mech, sky, j0, j0 + 5 * YEAR_DAYS, "6h",
+                     keep_series=False).summaries["phase"]
+    assert s.drift_deg_per_century == pytest.approx(mean_gain, rel=0.01)
+    assert abs(s.drift_deg_per_century - mean_gain) < 3 * s.drift_sigma_deg_per_century + 0.5
+    assert not s.drift_uncertain
+    assert set(s.drift_terms) >= {"evection", "variation (half the synodic month)",
+                                  "annual equation (anomalistic year)"}
+
+
+def test_drift_fit_separates_a_known_swing_from_the_line():
+    """Synthetic: 1.5 years of 3°/century plus a 2° sinusoid at a known 365.26-day period. A
+    line alone is tilted by the partial swing; fitted jointly, the slope comes back."""
+    jd = 2451545.0 + np.arange(0, 1.5 * YEAR_DAYS, 0.25)
+    t = jd - jd[0]
+    series = 3.0 * t / JULIAN_CENTURY_DAYS + 2.0 * np.sin(2 * np.pi * t / 365.26 + 1.1)
+    alone = summarise(jd, series)
+    assert abs(alone.drift_deg_per_century - 3.0) > 20
+    s = summarise(jd, series, terms=(("year", 365.26),))
+    assert s.drift_deg_per_century == pytest.approx(3.0, abs=1e-3)
+    assert s.drift_terms == ("year",) and s.drift_uncertain  # 1.5 y < two periods
+    assert s.periodic_period_days == pytest.approx(365.26, rel=1e-3)
+    # a period longer than the span is left out, and the drift said to be uncertain
+    short = summarise(jd[:1000], series[:1000], terms=(("year", 365.26),))
+    assert short.drift_terms_left_out == ("year",) and short.drift_uncertain
+
+
+def test_evection_period_from_the_mean_motions():
+    """Evection's argument is 2D - M (standard lunar theory, from memory): its period from
+    the mean synodic and anomalistic months is 31.81 days (from memory)."""
+    from engine.drift import EVECTION_DAYS
+
+    assert EVECTION_DAYS == pytest.approx(31.812, abs=0.001)
