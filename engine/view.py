@@ -101,6 +101,24 @@ def too_fast(rate: Fraction, crank_turns_per_frame: float) -> bool:
     return abs(float(rate) * crank_turns_per_frame) > TOO_FAST_TURNS_PER_FRAME
 
 
+def turns_label(turns: float, width: int) -> str | None:
+    """A signed turn count in at most ``width`` characters: one decimal below 100 turns, then
+    whole turns with thousands separators, then shorter forms (``+12k``, ``+3.4M``); None when
+    not even the shortest form fits."""
+    n = float(turns)
+    forms = [f"{n:+.1f}"] if abs(n) < 100 else []
+    forms += [f"{n:+,.0f}", f"{n:+.0f}"]
+    for div, unit in ((1e3, "k"), (1e6, "M"), (1e9, "G"), (1e12, "T")):
+        if div * 0.95 <= abs(n) < div * 999.5:
+            forms += [f"{n / div:+.1f}{unit}", f"{n / div:+.0f}{unit}"]
+    for text in forms:
+        if text in ("+0", "-0", "+0.0", "-0.0"):
+            text = "0"
+        if len(text) <= width:
+            return text
+    return None
+
+
 def ball_lit_fraction(elongation_deg: float) -> float:
     """Lit fraction a half-silvered phase ball shows at this elongation: (1 − cos E) / 2."""
     return float((1.0 - np.cos(np.radians(elongation_deg))) / 2.0)

@@ -66,3 +66,20 @@ def test_decimal_year():
     # J2000.0 is JD 2451545.0 (IAU definition)
     assert decimal_year(2451545.0) == pytest.approx(2000.0)
     assert np.allclose(decimal_year(np.array([2451545.0 + 365.25])), [2001.0])
+
+
+def test_turns_label_fits_the_width():
+    from engine.view import turns_label
+
+    assert turns_label(98.5, 5) == "+98.5"
+    assert turns_label(98.5, 3) == "+98"
+    assert turns_label(-16.7, 4) == "-17"
+    assert turns_label(-0.04, 5) == "0"  # no signed zero
+    assert turns_label(-123456, 8) == "-123,456"
+    assert turns_label(-123456, 5) == "-123k"
+    assert turns_label(12345678, 6) == "+12.3M"
+    assert turns_label(12345678, 2) is None
+    for n in (0.3, 98.5, -1234.5, 5e7):
+        for w in range(1, 10):
+            got = turns_label(n, w)
+            assert got is None or len(got) <= w
