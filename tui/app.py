@@ -10,10 +10,9 @@ from textual.screen import Screen
 
 from engine.errors import WheelworkError
 from engine.mechanism import open_train
-from engine.ratios import pointer_ratios
 from engine.sky import Site, Sky
 from tui.screens import BenchScreen, long_help
-from tui.session import DEFAULT_SITE, DEFAULT_SITE_NAME, Session
+from tui.session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
 
 
 def engine_findings(mech) -> list[tuple[str, str, str, str]]:
@@ -69,7 +68,7 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
     else:
         where = site if isinstance(site, Site) else Site.parse(site)
         name = "site"
-    drift = {r.pointer: r.drift_deg_per_century for r in pointer_ratios(mech.train, mech.kin)}
-    session = Session(mech, sky, site=where, site_name=name, findings=engine_findings(mech),
-                      drift_per_century=drift)
+    session = Session(mech, sky, site=where, site_name=name, findings=engine_findings(mech))
+    for frame in FRAME_NAMES:  # both frames now, so a frame switch costs no ratio report
+        session.drift_per_century(frame)
     return WheelworkApp(session)

@@ -17,6 +17,7 @@ from engine.drift import pointer_errors
 from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
 from engine.mechanism import Mechanism
+from engine.ratios import pointer_ratios
 from engine.readout import Readout
 from engine.sky import Site, Sky, SkyState
 from engine.view import arbor_turns
@@ -114,14 +115,26 @@ class Session:
     topocentric: bool = False
     speed_index: int = DEFAULT_SPEED
     findings: list = field(default_factory=list)
-    drift_per_century: dict[str, float] = field(default_factory=dict)
+    #: the ratio report's mean drift (°/cy) per pointer, by frame; filled on first use
+    drift_by_frame: dict[str, dict[str, float]] = field(default_factory=dict)
+    #: largest |error| per pointer since the start or the last change of frame, observer or
+    #: pointer setting (re-set or undo): what it is measured against has changed then
     worst_deg: dict[str, float] = field(default_factory=dict)
-    _undo: list[tuple[Readout, dict[str, float]]] = field(default_factory=list)
+    _undo: list[Readout] = field(default_factory=list)
     _moved: float = 0.0
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
         self._last_sky = _LastSky(self.sky)
+
+    def drift_per_century(self, frame: str | None = None) -> dict[str, float]:
+        """Mean drift per pointer (degrees per Julian century) judged in ``frame`` (default:
+        the current one), from :func:`engine.ratios.pointer_ratios`; computed once per frame."""
+        frame = frame or self.frame
+        if frame not in self.drift_by_frame:
+            rows = pointer_ratios(self.mech.train, self.mech.kin, frame=frame)
+            self.drift_by_frame[frame] = {r.pointer: r.drift_deg_per_century for r in rows}
+        return self.drift_by_frame[frame]
 
     # --- what the crank and dials do -------------------------------------------------------
     @property
@@ -178,25 +191,28 @@ class Session:
 
     def toggle_frame(self) -> None:
         self.frame = "stars" if self.frame == "equinox" else "equinox"
+        self.worst_deg = {}
 
     def toggle_observer(self) -> None:
         self.topocentric = not self.topocentric
+        self.worst_deg = {}
 
     def reset_pointers(self) -> None:
         """Turn every pointer by hand to the sky at the current date (undoable)."""
         errors = self._errors()
         values = {n: _one(e.sky_deg) for n, e in errors.items()}
-        self._undo.append((self.mech.readout, dict(self.worst_deg)))
+        self._undo.append(self.mech.readout)
         self.mech = replace(self.mech, readout=self.readout.reset_to(self.turns, values))
         self.worst_deg = {}
 
     def undo_reset(self) -> bool:
-        """Put the pointers back as they were before the last re-set; False if none."""
+        """Put the pointers back as they were before the last re-set; False if none. The
+        worst errors start again: those seen before the re-set were for dates since visited
+        with another setting, so they no longer describe this one."""
         if not self._undo:
             return False
-        readout, worst = self._undo.pop()
-        self.mech = replace(self.mech, readout=readout)
-        self.worst_deg = worst
+        self.mech = replace(self.mech, readout=self._undo.pop())
+        self.worst_deg = {}
         return True
 
     @property
@@ -215,6 +231,7 @@ class Session:
         self._check_jd(jd)
         errors = self._errors(jd)
         state = self._last_sky.at(np.array([jd]), frame=self.frame, site=self.observer)
+        drift = self.drift_per_century()
         pointers = {}
         for name, e in errors.items():
             err = _one(e.error_deg)
@@ -226,7 +243,7 @@ class Session:
                 train_deg=_one(e.train_deg), sky_deg=_one(e.sky_deg),
                 error_deg=err,
                 error_days=None if days is None else _one(days),
-                worst_deg=worst, drift_deg_per_century=self.drift_per_century.get(name))
+                worst_deg=worst, drift_deg_per_century=drift.get(name))
         angles = {n: float(np.asarray(v).reshape(-1)[0])
                   for n, v in self.mech.kin.angles_turns(self.turns).items()}
         moved, self._moved = self._moved, 0.0
