@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import asyncio
+import math
 import time
 from fractions import Fraction
 from pathlib import Path
@@ -45,6 +46,8 @@ _G100 = Binding.Group("±100")
 _G1000 = Binding.Group("±1000", compact=True)
 _GSTEP = Binding.Group("±step", compact=True)
 _GSPEED = Binding.Group("speed", compact=True)
+_GDECADE = Binding.Group("decades", compact=True)
+_GTHRESHOLD = Binding.Group("threshold", compact=True)
 
 
 # What each action does, for help and the command palette (the footer keeps short labels).
@@ -73,6 +76,20 @@ LONG_HELP = {
 
 def long_help(b: Binding) -> str:
     return LONG_HELP.get(b.action, b.description)
+
+
+#: the key to the red numbers in the train drawing
+TRAIN_KEY = "[bold #e06c75]+98.5[/] = turns since epoch, for arbors too fast to draw"
+
+#: Bench keys the footer drops on narrower screens, by the width they need (they stay in
+#: help and the command palette). What is left at 80 columns: crank ±1/±10, run, date,
+#: frame, drift, help, quit (and the palette).
+FOOTER_FROM_WIDTH = {
+    "crank(100)": 150, "crank(-100)": 150, "crank(1000)": 150, "crank(-1000)": 150,
+    "speed(1)": 150, "speed(-1)": 150, "epoch": 170, "undo_reset": 170,
+    "crank_step(1)": 120, "crank_step(-1)": 120, "choose_step": 120,
+    "reset_pointers": 100, "toggle_observer": 100,
+}
 
 
 class BenchScreen(Screen):
@@ -112,6 +129,22 @@ class BenchScreen(Screen):
         self.session = session
         self.running = False
         self._layout = train_layout(session.mech.train)
+        self._footer_tier = 0
+
+    @property
+    def active_bindings(self):
+        """The keys the footer shows: less used ones drop out on narrow screens (every key
+        still works, and is in help and the palette; key dispatch does not use this)."""
+        active = super().active_bindings
+        width = self.size.width or self.app.size.width
+        return {k: a for k, a in active.items()
+                if width >= FOOTER_FROM_WIDTH.get(a.binding.action, 0)}
+
+    def on_resize(self) -> None:
+        tier = sum(self.size.width >= w for w in set(FOOTER_FROM_WIDTH.values()))
+        if tier != self._footer_tier:
+            self._footer_tier = tier
+            self.refresh_bindings()
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -141,8 +174,9 @@ class BenchScreen(Screen):
         self.query_one("#dial-pane").border_title = "sky dial"
         self.query_one("#info").border_title = "readings"
         self.query_one("#phase").border_title = "phase: train │ sky"
-        self.query_one("#findings-pane").border_title = "warnings"
+        self.query_one("#findings-pane").border_title = Findings.title(self.session.findings)
         self.query_one("#train").border_title = "train"
+        self.query_one("#train").border_subtitle = TRAIN_KEY
         self.query_one(Findings).show_findings(self.session.findings)
         self.refresh_view()
 
@@ -373,6 +407,11 @@ class HelpScreen(ModalScreen[None]):
             yield Static(Text.assemble(
                 "\nThe hands are the train; the badges on the ring are the true Sun and Moon "
                 "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°. "
+                "worst° (max° when narrow) is the largest |err| seen since the start or the "
+                "last change of frame (t), observer (o) or pointer setting (r, u); drift °/cy "
+                "is the ratio report's mean drift in the current frame. In the train drawing, "
+                "a red number is an arbor's turns since the epoch, shown when it turns too fast "
+                "to draw. Keys missing from a narrow footer still work. "
                 "Every key is also in the command palette (ctrl+p). Escape closes.",
                 style="#9aa5b1"))
 
@@ -390,6 +429,8 @@ def _key_name(key: str) -> str:
     return _KEY_NAMES.get(key.strip(), key.strip())
 
 
+DECADE_DAYS = 3652.5
+MAX_DECADES = 60
 PLOT_STYLES = ("#f2b632", "#7fd4ff", "#c678dd", "#98c379", "#e06c75", "#56b6c2", "#d19a66")
 THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
 
@@ -402,10 +443,10 @@ class DriftScreen(Screen):
     BINDINGS = [
         Binding("escape,d", "back", "back"),
         Binding("c", "cancel", "cancel"),
-        Binding("plus,equals_sign", "decades(1)", "+decade"),
-        Binding("minus", "decades(-1)", "−decade"),
-        Binding("right_square_bracket", "threshold(1)", "threshold↑"),
-        Binding("left_square_bracket", "threshold(-1)", "threshold↓"),
+        Binding("plus,equals_sign", "decades(1)", "+decade", group=_GDECADE),
+        Binding("minus", "decades(-1)", "−decade", group=_GDECADE),
+        Binding("right_square_bracket", "threshold(1)", "threshold↑", group=_GTHRESHOLD),
+        Binding("left_square_bracket", "threshold(-1)", "threshold↓", group=_GTHRESHOLD),
         Binding("question_mark,f1", "help", "help"),
         Binding("q", "app.quit", "quit"),
     ]
@@ -416,6 +457,9 @@ class DriftScreen(Screen):
         self.decades = decades
         self.threshold_index = threshold_index
         self.result = None
+        self.computing = False
+        self._run = 0  # which computation the screen is waiting for; older ones are ignored
+        self._percent = 0.0
 
     def compose(self) -> ComposeResult:
         yield Static("", id="drift-title")
@@ -436,33 +480,52 @@ class DriftScreen(Screen):
     def threshold_deg(self) -> float:
         return THRESHOLDS_DEG[self.threshold_index]
 
+    def max_decades(self) -> int:
+        """The most decades worth asking for: the first that reaches the ephemeris' end."""
+        avail = (self.session.sky.span_jd[1] - self.session.jd_now()) / DECADE_DAYS
+        return int(np.clip(math.ceil(avail - 1e-9), 1, MAX_DECADES))
+
+    def capped(self) -> bool:
+        """True when the span is cut short by the end of the ephemeris."""
+        return self.session.jd_now() + self.decades * DECADE_DAYS > self.session.sky.span_jd[1]
+
     def span(self) -> tuple[float, float]:
         start = self.session.jd_now()
-        end = min(start + self.decades * 3652.5, self.session.sky.span_jd[1])
+        end = min(start + self.decades * DECADE_DAYS, self.session.sky.span_jd[1])
         return start, end
 
     def start(self) -> None:
+        self.decades = min(self.decades, self.max_decades())
         start, end = self.span()
+        sky = self.session.sky
         title = self.query_one("#drift-title", Static)
         title.update(Text.assemble(
             ("drift  ", "bold #e5c07b"), f"{format_jd(start)[:10]} → {format_jd(end)[:10]}  ",
             (f"({(end - start) / 365.25:.1f} years", "dim"),
+            (", capped" if self.capped() else "", "dim"),
             (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
             (f", {'geocentric' if self.session.observer is None else self.session.site_name})",
              "dim"),
-            ("   train − sky;  ", "#9aa5b1"), ("━━", "bold #ffffff"),
+            ("  train − sky; ", "#9aa5b1"), ("━━", "bold #ffffff"),
             (f" ±{self.threshold_deg:g}° threshold", "#9aa5b1")))
+        self._run += 1
+        self.result = None
+        self.query_one(PlotWidget).clear()
         if end - start < 30:
-            self.query_one("#drift-status", Static).update(
-                f"the ephemeris ends {format_jd(self.session.sky.span_jd[1])[:10]}: "
-                "go back in time (g on the bench) for a drift chart")
+            self.computing = False
+            self._summary(Text(""))
+            self._status(f"the ephemeris ends {format_jd(sky.span_jd[1])[:10]}: "
+                         "go back in time (g on the bench) for a drift chart")
             return
+        self._percent = 0.0
         self.query_one("#drift-progress", ProgressBar).update(progress=0)
-        self.query_one("#drift-status", Static).update("computing…")
-        self.compute(start, end, self.threshold_deg)
+        self._status("computing…")
+        self._summary(Text("computing…", style="dim"))
+        self.computing = True
+        self.compute(start, end, self.threshold_deg, self._run)
 
     @work(thread=True, exclusive=True, group="drift", exit_on_error=False)
-    def compute(self, start: float, end: float, threshold_deg: float) -> None:
+    def compute(self, start: float, end: float, threshold_deg: float, run: int) -> None:
         from engine.drift import DriftCancelled, drift_series
 
         worker = get_current_worker()
@@ -471,31 +534,47 @@ class DriftScreen(Screen):
 
         def progress(fraction: float) -> None:
             if not worker.is_cancelled:
-                self.app.call_from_thread(self._progress, fraction)
+                self.app.call_from_thread(self._progress, fraction, run)
 
         try:
             result = drift_series(s.mech, s.sky, start, end, step_days, frame=s.frame,
                                   site=s.observer, threshold_deg=threshold_deg,
                                   progress=progress, cancel=lambda: worker.is_cancelled)
         except DriftCancelled:
-            self.app.call_from_thread(self._status, "cancelled")
-            return
+            return  # the screen said so when it cancelled (or started another run)
         except Exception as exc:  # noqa: BLE001 - a WheelworkError, or a fault to report
-            self.app.call_from_thread(self._status, f"cannot compute: {exc}")
+            self.app.call_from_thread(self._failed, f"cannot compute: {exc}", run)
             return
         if not worker.is_cancelled:
-            self.app.call_from_thread(self.show_result, result)
+            self.app.call_from_thread(self.show_result, result, run)
 
-    def _progress(self, fraction: float) -> None:
-        self.query_one("#drift-progress", ProgressBar).update(progress=100 * fraction)
+    def _progress(self, fraction: float, run: int | None = None) -> None:
+        if run is not None and run != self._run:
+            return
+        self._percent = 100 * fraction
+        self.query_one("#drift-progress", ProgressBar).update(progress=self._percent)
 
     def _status(self, text: str) -> None:
         self.query_one("#drift-status", Static).update(text)
 
-    def show_result(self, result) -> None:
+    def _summary(self, content) -> None:
+        self.query_one("#drift-summary", Static).update(content)
+
+    def _failed(self, text: str, run: int) -> None:
+        if run == self._run:
+            self.computing = False
+            self._status(text)
+            self._summary(Text(""))
+
+    def show_result(self, result, run: int | None = None) -> None:
+        if run is not None and run != self._run:
+            return
+        self.computing = False
         self.result = result
         self._progress(1.0)
-        self._status("done")
+        sky = self.session.sky
+        self._status("done" + (f" · capped by the end of {sky.name} "
+                               f"({format_jd(sky.span_jd[1])[:10]})" if self.capped() else ""))
         plot = self.query_one(PlotWidget)
         plot.clear()
         years = decimal_year(np.asarray(result.jd))
@@ -511,8 +590,16 @@ class DriftScreen(Screen):
         ends = [float(years[0]), float(years[-1])]
         plot.plot(ends, [thr, thr], line_style="bold #ffffff", hires_mode=HiResMode.BRAILLE)
         plot.plot(ends, [-thr, -thr], line_style="bold #ffffff", hires_mode=HiResMode.BRAILLE)
+        first_jd = float(result.jd[0])
+
+        def crossing(sm) -> str:
+            jd = sm.first_crossing_jd
+            if jd is None or not np.isfinite(jd):
+                return "not in span"
+            return "at start" if jd <= first_jd else format_jd(jd)[:10]
+
         for name, sm in result.summaries.items():
-            if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd):
+            if crossing(sm) not in ("not in span", "at start"):  # no line at the left edge
                 plot.add_v_line(float(decimal_year(sm.first_crossing_jd)), colour[name],
                                 f"{name} first past ±{thr:g}°")
         lo = min([float(np.nanmin(e)) for e in result.error_deg.values()] + [-thr])
@@ -529,24 +616,43 @@ class DriftScreen(Screen):
                     f"first past ±{thr:g}° (vertical line)"):
             t.add_column(col, justify="right" if "°" in col else "left")
         for name, sm in result.summaries.items():
-            cross = (format_jd(sm.first_crossing_jd)[:10]
-                     if sm.first_crossing_jd is not None and np.isfinite(sm.first_crossing_jd)
-                     else "not in span")
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       f"{sm.max_abs_deg:.2f}", format_jd(sm.max_at_jd)[:10],
-                      f"{sm.rms_deg:.2f}", f"{sm.drift_deg_per_century:+.2f}", cross)
-        self.query_one("#drift-summary", Static).update(t)
+                      f"{sm.rms_deg:.2f}", f"{sm.drift_deg_per_century:+.2f}", crossing(sm))
+        self._summary(t)
 
     def action_back(self) -> None:
+        self._run += 1
         self.workers.cancel_group(self, "drift")
         self.app.pop_screen()
 
     def action_cancel(self) -> None:
+        if not self.computing:
+            self.notify("nothing to cancel: the chart is complete" if self.result is not None
+                        else "nothing to cancel", timeout=3)
+            return
+        self._run += 1  # whatever the cancelled run still sends is ignored
         self.workers.cancel_group(self, "drift")
-        self._status("cancelled")
+        self.computing = False
+        pct = f"{self._percent:.0f}%"
+        self._status(f"cancelled at {pct}")
+        self._summary(Text(f"cancelled at {pct}: no summary for a partial span "
+                           "(+ − ] [ compute again)", style="#e5c07b"))
 
     def action_decades(self, step: int) -> None:
-        self.decades = int(np.clip(self.decades + int(step), 1, 60))
+        step = int(step)
+        if step > 0 and self.capped() or self.decades + step > self.max_decades():
+            end = self.session.sky.span_jd[1]
+            sky = self.session.sky
+            how = ("" if "440" in sky.name else
+                   "; for a longer one, start wheelwork with --ephemeris de440 (1550–2650)")
+            self.notify(f"the span is capped by the end of the ephemeris {sky.name} on "
+                        f"{format_jd(end)[:10]}{how}", title="no more decades", timeout=6)
+            return
+        if self.decades + step < 1:
+            self.notify("one decade is the shortest span", timeout=3)
+            return
+        self.decades += step
         self.start()
 
     def action_threshold(self, step: int) -> None:

@@ -15,7 +15,14 @@ from textual.widget import Widget
 from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
 
-from engine.view import TrainLayout, ball_lit_fraction, hands_elongation_deg, lit_disc, too_fast
+from engine.view import (
+    TrainLayout,
+    ball_lit_fraction,
+    hands_elongation_deg,
+    lit_disc,
+    too_fast,
+    turns_label,
+)
 from tui.session import FRAME_NAMES, Now, Session
 
 # Colours: a train hand and the true body it chases share a hue; the hand is a thin line,
@@ -30,6 +37,11 @@ LIT = "#f4efd2"
 UNLIT = "#2b3140"
 
 SIGNS = ("ARI", "TAU", "GEM", "CNC", "LEO", "VIR", "LIB", "SCO", "SGR", "CAP", "AQR", "PSC")
+
+COUNT = "bold #e06c75"  # an arbor's turn count, shown when it is too fast to draw
+WHEEL_CRANK, WHEEL_HAND, WHEEL = "#e5c07b", "#98c379", "#7f8c99"  # rims in the train drawing
+LABEL = "#9aa5b1"
+DRAWN = (WHEEL_CRANK, WHEEL_HAND, WHEEL, LABEL)  # what a turn count must not cover
 
 CAUTION = "⚠ Never look at the Sun without a proper solar filter."
 
@@ -217,6 +229,8 @@ class TrainView(LayeredCanvas):
         self.session = session
         self.train_layout = layout
         self._spots: dict[str, tuple[float, float, float]] = {}
+        # per arbor: its name label's first and last cell + 1, its row, its column's edges
+        self._labels: dict[str, tuple[int, int, float, float, float]] = {}
         self._hands = {p.arbor for p in session.mech.train.pointers.values()}
 
     def draw_static(self) -> None:
@@ -247,14 +261,56 @@ class TrainView(LayeredCanvas):
         for name, (x, y, r) in self._spots.items():
             pts = [(x + r * math.cos(t / 40 * math.tau), y + 0.5 * r * math.sin(t / 40 * math.tau))
                    for t in range(40)]
-            style = "#e5c07b" if name == crank else ("#98c379" if name in self._hands else "#7f8c99")
+            style = WHEEL_CRANK if name == crank else (WHEEL_HAND if name in self._hands
+                                                       else WHEEL)
             self.dots(pts, style=style)
+        self._labels = {}
         for name, (x, y, r) in self._spots.items():
             spot = lay.spots[name]
             label = f"{name} {spot.teeth}" if spot.teeth else name
             if len(label) > cw - 1:
                 label = label[: max(int(cw) - 1, 1)]
-            self.put(x - len(label) / 2.0, y + 0.5 * r + 0.6, label, "#9aa5b1")
+            x0 = x - len(label) / 2.0
+            self.put(x0, y + 0.5 * r + 0.6, label, LABEL)
+            self._labels[name] = (round(x0), round(x0) + len(label), y + 0.5 * r + 0.6,
+                                  spot.col * cw + 0.5, (spot.col + 1) * cw - 1.0)
+
+    def _free(self, x0: int, row: int, width: int, blank: bool) -> bool:
+        """True when these cells of the static layer hold no wheel rim and no label (and,
+        with ``blank``, nothing at all)."""
+        if not (0 <= row < len(self._static[0]) and 0 <= x0
+                and x0 + width <= len(self._static[0][row])):
+            return False
+        chars, styles = self._static[0][row], self._static[1][row]
+        for x in range(x0, x0 + width):
+            if styles[x] in DRAWN or (blank and chars[x] != " "):
+                return False
+        return True
+
+    def _put_count(self, name: str, turns: float) -> None:
+        """An arbor's turn count where it covers no wheel and no label: inside the wheel when
+        it fits between the rims, else beside its name label, above the wheel or below the
+        label; if nothing is free, over the wheel."""
+        x, y, r = self._spots[name]
+        row = math.floor(y)  # the row through the centre: its rim cells are at the two ends
+        begin, end, y_label, left, right = self._labels.get(name, (0, 0, 0.0, 0.0, 0.0))
+        lrow = round(y_label)
+        width = max(int(right - left), 3)
+        spots = [  # (first cell for a count of n characters, row, widest count)
+            (lambda n: math.floor(x - n / 2.0 + 0.5), row, int(2.0 * r - 1.5)),
+            (lambda n: end + 1, lrow, int(right - end)),
+            (lambda n: begin - 1 - n, lrow, int(begin - left) - 1),
+            (lambda n: math.floor(x - n / 2.0 + 0.5), math.floor(y - 0.5 * r) - 1, width),
+            (lambda n: math.floor(x - n / 2.0 + 0.5), lrow + 1, width),
+        ]
+        for blank in (True, False):
+            for first, at, most in spots:
+                count = turns_label(turns, most) if most >= 1 else None
+                if count is not None and self._free(first(len(count)), at, len(count), blank):
+                    self.put(first(len(count)), at, count, COUNT)
+                    return
+        count = turns_label(turns, 12) or "fast"
+        self.put(math.floor(x - len(count) / 2.0 + 0.5), row, count, COUNT)
 
     def _between(self, a: str, b: str) -> tuple[float, float, float, float]:
         """End points of a link between two wheels, from rim to rim (cells are 1:2)."""
@@ -269,9 +325,7 @@ class TrainView(LayeredCanvas):
         rates = self.session.mech.kin.rates
         for name, (x, y, r) in self._spots.items():
             if too_fast(rates[name], now.moved_turns):
-                n = now.arbor_turns[name]
-                count = f"{n:+.1f}" if abs(n) < 100 else f"{n:+,.0f}"
-                self.put(x - len(count) / 2.0 + 0.5, y, count, "bold #e06c75")
+                self._put_count(name, now.arbor_turns[name])
                 continue
             a = now.angles_turns[name] * math.tau
             # angle 0 up, positive turning anticlockwise as seen from the dial side
@@ -409,15 +463,30 @@ def _err_style(err: float) -> str:
 
 
 class Readings(Static):
-    """Per pointer: train, sky, error now, worst error this session, drift per century."""
+    """Per pointer: train, sky, error now, worst error since the start or the last change of
+    frame, observer or pointer setting, and the mean drift per century in the current frame."""
 
     _now: Now | None = None
     _laid_out = False
+
+    #: what the worst column covers, longest first; the panel's subtitle takes one that fits
+    WORST_KEYS = ("{col}: largest |err| since start or last frame, observer or re-set",
+                  "{col}: since start or last frame/observer/re-set",
+                  "{col} since start or last t/o/r/u",
+                  "{col} since t/o/r/u")
 
     def on_resize(self) -> None:
         self._laid_out = False
         if self._now is not None:
             self.show(self._now)
+
+    def worst_key(self, narrow: bool, width: int) -> str:
+        col = "max°" if narrow else "worst°"
+        for form in self.WORST_KEYS:
+            text = form.format(col=col)
+            if len(text) <= width - 6:
+                return text
+        return ""
 
     def show(self, now: Now) -> None:
         self._now = now
@@ -453,6 +522,8 @@ class Readings(Static):
                     days = 0.0
                 t.append("" if days is None else f"{days:>+{w[6]}.2f}")
         # same rows every frame: lay out again only after a resize
+        if not self._laid_out and self.parent is not None and self.size.width:
+            self.parent.border_subtitle = self.worst_key(narrow, self.parent.size.width)
         self.update(t, layout=not self._laid_out)
         self._laid_out = bool(self.size.width)
 
@@ -479,9 +550,12 @@ class Status(Static):
         t.append("date     ", style="dim")
         t.append(now.date_text + "\n", style="bold")
         t.append("crank    ", style="dim")
-        step = s.step if s.step.denominator == 1 else f"{s.step}"
-        t.append(f"{now.turns_text} turns since epoch  ")
-        t.append(f"step {step}\n", style="#e5c07b")
+        turns = f"{now.turns_text} turns since epoch  "
+        step = f"step {s.step}"
+        if self.size.width and 9 + len(turns) + len(step) > self.size.width:
+            turns = f"{now.turns_text} turns  "  # keep the step on the line
+        t.append(turns)
+        t.append(f"{step}\n", style="#e5c07b")
         t.append("run      ", style="dim")
         t.append("▶ running" if running else "■ paused", style="bold green" if running else "")
         t.append(f"  {s.speed_turns_per_s:g} turns/s\n")
@@ -513,17 +587,38 @@ class Status(Static):
 
 
 class Findings(Static):
-    """Warnings from the engine: backwards pointers and mechanical findings."""
+    """What the engine reports: errors and warnings first, then notes, each line with its
+    level in its own colour."""
 
-    LEVELS = {"error": ("✖", "bold red"), "warning": ("▲", "yellow"), "note": ("·", "#7f8c99")}
+    LEVELS = {"error": ("✖ error", "bold #e06c75"), "warning": ("▲ warning", "bold #e5c07b"),
+              "note": ("· note", "#56b6c2")}
+    ORDER = {"error": 0, "warning": 1, "note": 2}
+
+    @classmethod
+    def ordered(cls, items: list[tuple[str, str, str, str]]) -> list[tuple[str, str, str, str]]:
+        return sorted(items, key=lambda f: cls.ORDER.get(f[0], 3))  # stable: engine order kept
+
+    @staticmethod
+    def title(items: list[tuple[str, str, str, str]]) -> str:
+        """The panel's title: what it holds, with counts ("warnings & notes: 1 warning, 6
+        notes")."""
+        parts = []
+        for level in ("error", "warning", "note"):
+            n = sum(f[0] == level for f in items)
+            if n:
+                parts.append(f"{n} {level}{'s' if n != 1 else ''}")
+        other = sum(f[0] not in ("error", "warning", "note") for f in items)
+        if other:
+            parts.append(f"{other} other")
+        return "warnings & notes" + (f": {', '.join(parts)}" if parts else "")
 
     def show_findings(self, items: list[tuple[str, str, str, str]]) -> None:
         t = Text()
         if not items:
-            t.append("no warnings from the engine", style="dim")
-        for level, item, message, fix in items:
-            glyph, style = self.LEVELS.get(level, ("·", ""))
-            t.append(f"{glyph} ", style=style)
+            t.append("no warnings or notes from the engine", style="dim")
+        for level, item, message, fix in self.ordered(items):
+            tag, style = self.LEVELS.get(level, (f"· {level}", ""))
+            t.append(f"{tag} ", style=style)
             if item:
                 t.append(f"{item}: ", style="bold")
             t.append(message)
