@@ -108,7 +108,9 @@ SKY_TERMS: dict[str, tuple[tuple[str, float], ...]] = {
 # 17" x 2 pi / 18.6 years, 0.16° a century.
 NUTATION = ("nutation (the node's 18.6 years)", PERIODS["nodal_period"].days)
 NUTATING_KINDS = ("sun", "moon", "anomaly", "draconic")
-MINOR_TERMS = frozenset({NUTATION[0]})
+# terms small enough not to make a drift "uncertain" when left out, with their amplitude:
+# their largest possible tilt of the line is added to the slope's standard error instead
+MINOR_TERMS: dict[str, float] = {NUTATION[0]: 17.2 / 3600}
 TERM_MIN_CYCLES = 1.0  # a term is fitted once the span holds this many of its periods
 
 
@@ -429,7 +431,9 @@ class _Running:
         sigma = fit.sigma_per_step / self.step * JULIAN_CENTURY_DAYS
         amp, period = periodic_part(self.resid, self.step, line=fit.line, binned=fit.binned)
         span = (n - 1) * self.step
-        uncertain = (period is None or span < 2.0 * period
+        # a swing too small to print cannot tilt the line by much
+        short = period is not None and span < 2.0 * period and amp >= 5e-5
+        uncertain = (period is None or short
                      or any(t not in MINOR_TERMS for t in fit.left_out))
         offset, rms_after = best_offset(self.error)
         thr = self.threshold
@@ -570,23 +574,35 @@ def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | No
 
     A term is fitted when the span holds at least ``TERM_MIN_CYCLES`` of its periods (a line
     and a sinusoid separate cleanly once a whole cycle is seen; over less they trade places);
-    the others are returned in ``left_out``. The fit is made on the bins of
+    the others are returned in ``left_out`` (also those the grid cannot show, see ``fits``). The fit is made on the bins of
     ``FFT_MAX_POINTS`` (exact for these functions, see :class:`_Binned`). ``cache`` and
     ``all_terms`` (the terms of every pointer of a run) let the design be built once a run.
 
     The slope's standard error is the least-squares one with the residual's degrees of
     freedom counted from its sign changes (one independent value per change, plus one):
     the residual of a real series is smooth, not independent from date to date, and this
-    counts a leftover swing of period P as one value per half period. It is a guide to the
-    size of the uncertainty, not a bound: a sky variation slower than the span (e.g. the
-    18.6-year nutation in an equinox frame) is indistinguishable from drift and not in it.
+    counts a leftover swing of period P as one value per half period. A left-out term of
+    ``MINOR_TERMS`` adds its largest possible tilt of the line. It is a guide to the size of
+    the uncertainty, not a bound: other sky variations slower than the span are
+    indistinguishable from drift and not in it.
     """
     b = _binned(resid)
     nd = len(b.y)
     span = (len(resid) - 1) * step_days
 
     def fits(period):
-        return span >= TERM_MIN_CYCLES * period and 2 * b.m * step_days < period
+        """A whole period in the span, and on the bins a usable column: its frequency,
+        aliased by the step if need be (the columns are the true sinusoid at the grid dates,
+        so an aliased term is still fitted exactly), neither slower than a cycle a span nor
+        within a cycle a span of the bins' Nyquist frequency; not averaged away by the bins."""
+        if span < TERM_MIN_CYCLES * period:
+            return False
+        w = 2 * np.pi * step_days / period
+        wb = (w * b.m) % (2 * np.pi)
+        wb = min(wb, 2 * np.pi - wb)
+        per_span = nd / (2 * np.pi)
+        gain = 1.0 if b.m == 1 else abs(math.sin(b.m * w / 2) / (b.m * math.sin(w / 2)))
+        return wb * per_span >= 1 and (np.pi - wb) * per_span >= 1 and gain > 0.05
 
     used = [name for name, period in terms if fits(period)]
     left = [name for name, period in terms if not fits(period)]
@@ -609,8 +625,21 @@ def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | No
     var_u = float(g_inv[1, 1])
     slope = float(coef[1]) / half
     sigma = math.sqrt(rss * var_u / dof) / half
+    for name, period in terms:
+        if name in left and name in MINOR_TERMS:
+            sigma = math.hypot(sigma, MINOR_TERMS[name] * _worst_tilt(len(resid), step_days,
+                                                                     period))
     a = float(coef[0]) - slope * mid
     return DriftFit((a, slope), slope, sigma, tuple(used), tuple(left), b)
+
+
+def _worst_tilt(n: int, step_days: float, period_days: float) -> float:
+    """Largest slope (per grid step) that a unit sinusoid of ``period_days``, at its worst
+    phase, gives a least-squares line over ``n`` grid dates."""
+    t = np.linspace(-0.5, 0.5, 257) * (n - 1)  # grid steps about the middle
+    w = 2 * np.pi * step_days / period_days
+    suu = float(t @ t)
+    return math.hypot(float(t @ np.cos(w * t)), float(t @ np.sin(w * t))) / suu
 
 
 def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, float] | None = None,
@@ -779,6 +808,9 @@ def grid(jd_start: float, jd_end: float, step_days: float, *, include_end: bool 
         raise DriftError("the span ends before it starts: the end date must be after the "
                          "start date")
     step = parse_step(step_days)
+    if step > (jd_end - jd_start) * (1 + 1e-12):
+        raise DriftError(f"step {step:g} d is longer than the span "
+                         f"({jd_end - jd_start:g} d): use a shorter step")
     steps = (jd_end - jd_start) / step
     n = int(math.ceil(steps - 1e-9) if include_end else math.floor(steps + 1e-9)) + 1
     if n < 2:

@@ -290,7 +290,7 @@ def test_cli_json(capsys):
                  "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     s = doc["pointers"]["phase"]
-    assert doc["dates"] == 2192 and doc["frame"] == "equinox"
+    assert doc["dates"] == 2193 and doc["frame"] == "equinox"  # 1095.75 d: on to 1096 d
     assert s["threshold_days"] == pytest.approx(1.0)
     assert s["first_crossing_jd"] > doc["from_jd"]
     assert s["max_abs_days"] == pytest.approx(s["max_abs_deg"] / PHASE_DEG_PER_DAY)
@@ -309,7 +309,7 @@ def test_cli_csv_and_no_overwrite(tmp_path, capsys):
     lines = path.read_text().splitlines()
     assert lines[0].split(",") == ["date", "jd", "phase_train_deg", "phase_sky_deg",
                                    "phase_error_deg", "phase_error_days"]
-    assert len(lines) == 1 + 366
+    assert len(lines) == 1 + 367  # 365.25 days: the grid runs on to day 366 to cover the end
     assert re.match(r"2026-01-18 19:52,", lines[1])
     capsys.readouterr()
     before = path.read_text()
@@ -318,20 +318,40 @@ def test_cli_csv_and_no_overwrite(tmp_path, capsys):
     assert str(path) in err and "--force" in err and "\n" not in err
     assert path.read_text() == before
     assert main(["drift", DISC, "--years", "2", "--csv", str(path), "--force"]) == 0
-    assert len(path.read_text().splitlines()) == 1 + 731
+    assert len(path.read_text().splitlines()) == 1 + 732
 
 
 @pytest.mark.parametrize("argv, words", [
     (["--from", "2026-13-45", "--years", "1"], "cannot read date"),
     (["--years", "1", "--step", "fortnight"], "step"),
-    (["--years", "500"], "outside"),
     (["--years", "-2"], "positive"),
+    (["--years", "-5"], "positive number of years"),
+    (["--years", "nan"], "positive"),
+    (["--years", "1", "--threshold", "-1"], "positive number of degrees"),
+    (["--years", "1", "--threshold-days", "0"], "positive number of days"),
+    (["--from", "2030-01-01", "--to", "2029-01-01"], "is not after --from"),
+    (["--to", "2020-01-01"], "the train's epoch"),
+    (["--years", "1", "--step", "2y"], "longer than the span"),
+    (["--years", "1", "--png", "chart.txt"], ".png, .svg or .pdf"),
+    (["--years", "1", "--png", "chart"], ".png, .svg or .pdf"),
 ])
-def test_cli_bad_input_one_line(argv, words, capsys):
-    assert main(["drift", DISC, *argv]) == 1
+def test_cli_usage_errors_exit_2_one_line(argv, words, capsys, tmp_path, monkeypatch):
+    """Option values that are malformed, out of range or contradict each other: usage errors
+    (argparse's exit 2), one line, before any work or file."""
+    monkeypatch.chdir(tmp_path)
+    with pytest.raises(SystemExit) as stop:
+        main(["drift", DISC, *argv])
+    assert stop.value.code == 2
     err = capsys.readouterr().err
-    assert err.startswith("wheelwork: error:") and words in err
+    assert "usage error" in err and words in err
     assert err.count("\n") == 1 and "Traceback" not in err
+    assert not list(tmp_path.iterdir())
+
+
+def test_cli_span_outside_the_ephemeris_is_an_error(capsys):
+    assert main(["drift", DISC, "--years", "500"]) == 1
+    err = capsys.readouterr().err
+    assert err.startswith("wheelwork: error:") and "outside" in err and err.count("\n") == 1
 
 
 def test_cli_missing_train_file(capsys):
@@ -472,3 +492,154 @@ def test_evection_period_from_the_mean_motions():
     from engine.drift import EVECTION_DAYS
 
     assert EVECTION_DAYS == pytest.approx(31.812, abs=0.001)
+
+
+# --- the command line: output files, span end, wording, width, Ctrl-C ----------------------
+
+def _one_line_error(capsys, *words):
+    err = capsys.readouterr().err
+    assert err.startswith("wheelwork: error:") and err.count("\n") == 1, err
+    assert "Traceback" not in err
+    for w in words:
+        assert w in err, err
+    return err
+
+
+@pytest.mark.skipif(not Path("/proc/self").exists(), reason="needs Linux /proc")
+def test_cli_unwritable_outputs_one_line(capsys):
+    """/proc takes no new files: the OS refuses, and the message names the file and why."""
+    pytest.importorskip("matplotlib")
+    assert main(["drift", DISC, "--years", "1", "--csv", "/proc/x.csv"]) == 1
+    _one_line_error(capsys, "/proc/x.csv", "cannot write", "No such file or directory")
+    assert main(["drift", DISC, "--years", "1", "--png", "/proc/x.png"]) == 1
+    _one_line_error(capsys, "/proc/x.png", "cannot write")
+
+
+def test_cli_chart_formats_and_no_overwrite(tmp_path, capsys):
+    pytest.importorskip("matplotlib")
+    svg = tmp_path / "chart.SVG"
+    assert main(["drift", DISC, "--years", "1", "--png", str(svg)]) == 0
+    assert f"wrote {svg}" in capsys.readouterr().out
+    assert svg.read_bytes().lstrip()[:5] in (b"<?xml", b"<svg ")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["chart.SVG"]  # nothing else made
+    before = svg.read_bytes()
+    assert main(["drift", DISC, "--years", "2", "--png", str(svg)]) == 1
+    _one_line_error(capsys, str(svg), "--force")
+    assert svg.read_bytes() == before
+
+
+def test_cli_span_covers_the_end_date(capsys):
+    """The grid runs on to the first step at or after the end asked, and says how far."""
+    assert main(["drift", DISC, "--from", "2030-01-01", "--to", "2040-01-01", "--step", "7d",
+                 "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert 0 <= doc["to_jd"] - doc["asked_to_jd"] < 7
+    assert doc["to"].startswith("2040-01-03")  # 522 weeks and 2 days after 2030-01-01
+    assert main(["drift", DISC, "--years", "3", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["to_jd"] >= doc["from_jd"] + 3 * YEAR_DAYS > doc["to_jd"] - 1
+    assert main(["drift", DISC, "--from", "2030-01-01", "--to", "2040-01-01", "--step",
+                 "7d"]) == 0
+    assert "2040-01-03 00:00 UT (Gregorian), 2 days past the end asked" in \
+        capsys.readouterr().out
+
+
+def test_cli_report_wording(capsys):
+    assert main(["drift", DISC, "--years", "5", "--threshold-days", "1"]) == 0
+    out = capsys.readouterr().out
+    assert re.search(r"first 1 day \(12\.19°\) off +\d{4}-\d\d-\d\d \d\d:\d\d UT \(Gregorian\)"
+                     r"  \(after (\d+ days|\d\.\d\d years)\)", out)
+    assert re.search(r"best re-setting +turn (back|forward) by \d+\.\d\d°", out)
+    assert "by -" not in out and "0.0820294" not in out
+    assert re.search(r"steady drift +\+46\d(\.\d+)?° ± \d\.\d+° per century", out)
+    # a phase pointer with a threshold in degrees shows it in hours; a crossing within the
+    # first day in hours too
+    assert main(["drift", DISC, "--years", "1", "--threshold", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "first 1° (2 hours) off" in out
+    assert re.search(r"\(after \d+(\.\d)? (hours|days)\)", out) and "0.00 years" not in out
+
+
+def test_cli_drift_uncertain_over_a_short_span(capsys):
+    """Half a year of the tide office: the Sun's yearly swing cannot be told from its drift."""
+    assert main(["drift", str(TRAINS / "tide_office.toml"), "--years", "0.5", "--json"]) == 0
+    sun = json.loads(capsys.readouterr().out)["pointers"]["sun"]
+    assert sun["drift_uncertain"] is True
+    assert "equation of centre (anomalistic year)" in sun["drift_terms_left_out"]
+    assert sun["drift_sigma_deg_per_century"] > 10
+    assert main(["drift", str(TRAINS / "tide_office.toml"), "--years", "0.5"]) == 0
+    out = capsys.readouterr().out
+    assert "drift uncertain" in out and "cannot tell it from" in out
+
+
+def _lines_fit(text: str, width: int = 80) -> None:
+    long = [ln for ln in text.splitlines() if len(ln.rstrip()) > width]
+    assert not long, long
+
+
+@pytest.mark.parametrize("soft_wrap", [True, False])
+def test_cli_report_fits_80_columns(soft_wrap):
+    """Every printed line within 80 columns, whether the console soft-wraps text or not."""
+    import io
+
+    from rich.console import Console
+
+    import engine.commands.drift as cmd
+    from engine.cli import build_parser
+
+    for argv in (["drift", str(TRAINS / "tide_office.toml"), "--from", "2030-01-01", "--to",
+                  "2040-01-01", "--step", "7d", "--threshold", "1"],
+                 ["drift", DISC, "--years", "1", "--threshold-days", "1"]):
+        args = build_parser().parse_args(argv)
+        buf = io.StringIO()
+        console = Console(file=buf, width=80, soft_wrap=soft_wrap, highlight=False)
+        assert cmd.run(args, console) == 0
+        _lines_fit(buf.getvalue())
+        assert "solar filter" in buf.getvalue()
+
+
+def test_cli_report_fits_80_columns_from_main(capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["drift", str(TRAINS / "tide_office.toml"), "--years", "2", "--threshold",
+                 "1"]) == 0
+    _lines_fit(capsys.readouterr().out)
+
+
+def test_cli_ctrl_c_stops_a_real_run_promptly(tmp_path):
+    """A real long run (20 years at one-minute steps into a CSV file) sent SIGINT at several
+    moments once it has begun: each time it stops within seconds, exit 130, one line, and
+    no file. (Numpy's string formatting used to swallow the interrupt: the run went on.)
+
+    The child resets SIGINT to Python's default first, as in a terminal's foreground (a test
+    runner started in the background may hand it down ignored)."""
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    repo = Path(__file__).resolve().parent.parent
+    out = tmp_path / "int.csv"
+    code = ("import signal, sys; signal.signal(signal.SIGINT, signal.default_int_handler); "
+            "from engine.cli import main; sys.exit(main(sys.argv[1:]))")
+    argv = [sys.executable, "-c", code, "drift", str(TRAINS / "tide_office.toml"), "--years",
+            "20", "--step", "1m", "--csv", str(out)]
+    part = tmp_path / ".int.csv.part"
+    for delay in (0.0, 0.4, 1.2, 2.5):  # after the run has begun writing
+        proc = subprocess.Popen(argv, cwd=repo, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                                text=True)
+        deadline = time.monotonic() + 30
+        while not part.exists() and proc.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.02)
+        assert part.exists(), "the run never began"
+        time.sleep(delay)
+        proc.send_signal(signal.SIGINT)
+        try:
+            _, err = proc.communicate(timeout=10)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+            proc.communicate()
+            pytest.fail(f"still running 10 s after SIGINT at {delay} s")
+        assert proc.returncode == 130, (delay, err)
+        assert err.strip().count("\n") == 0 and "Traceback" not in err, err
+        assert "stopped" in err
+        assert not list(tmp_path.iterdir()), (delay, list(tmp_path.iterdir()))

@@ -1,28 +1,41 @@
-"""``wheelwork drift``: how far a train's pointers stray from the true sky over a span."""
+"""``wheelwork drift``: how far a train's pointers stray from the true sky over a span.
+
+Option values that are malformed or out of range (a date that cannot be read, a step, a
+negative span or threshold, a chart name without a known extension, an end before the start)
+are usage errors: one line, exit 2. Faults found while working (train file, ephemeris span,
+an output file that exists or cannot be written) are ``WheelworkError``: one line, exit 1.
+Ctrl-C stops a run at once: one line, exit 130, no output file left behind.
+"""
 
 from __future__ import annotations
 
 import argparse
 import csv
 import json
+import math
 import os
+import signal
+import threading
 from pathlib import Path
 
 import numpy as np
 from rich import box
 from rich.console import Console
 from rich.table import Table
+from rich.text import Text
 
 from engine.dates import format_jd, parse_date
 from engine.drift import (
     PHASE_DEG_PER_DAY,
     YEAR_DAYS,
+    DriftCancelled,
     DriftError,
     DriftResult,
     drift_series,
     grid,
     parse_step,
 )
+from engine.errors import WheelworkError
 
 NAME = "drift"
 HELP = "how far a train's pointers wander from the true Sun and Moon over years or centuries"
@@ -30,23 +43,64 @@ SAFETY = ("Checking a pointer against the real sky? Never look at the Sun, even 
           "without a proper solar filter.")
 CHARTS_HINT = ("--png needs matplotlib: pip install 'wheelwork[charts]' "
                "(or pip install matplotlib)")
+CHART_FORMATS = (".png", ".svg", ".pdf")
 PROGRESS_MIN_DATES = 50_000  # shorter runs finish before a bar is worth drawing
+STOPPED = "wheelwork: drift stopped; no file written"
+
+
+# --- option values: malformed or out of range is a usage error (exit 2) ---------------------
+
+def _date(text: str) -> float:
+    try:
+        return parse_date(text)
+    except WheelworkError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+
+
+def _step(text: str) -> str:
+    try:
+        parse_step(text)
+    except WheelworkError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+    return text
+
+
+def _positive(what: str):
+    def check(text: str) -> float:
+        try:
+            v = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+        if not (math.isfinite(v) and v > 0):
+            raise argparse.ArgumentTypeError(f"{text}: it must be a positive number of {what}")
+        return v
+    return check
+
+
+def _chart_name(text: str) -> str:
+    if Path(text).suffix.lower() not in CHART_FORMATS:
+        raise argparse.ArgumentTypeError(
+            f"{text}: a chart file's name must end in .png, .svg or .pdf")
+    return text
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.set_defaults(_drift_parser=parser)  # for usage errors found after parsing
     parser.add_argument("train", metavar="TRAIN", help="train file (TOML)")
     span = parser.add_argument_group("span")
-    span.add_argument("--from", dest="start", metavar="DATE",
+    span.add_argument("--from", dest="start", metavar="DATE", type=_date,
                       help="first date (default: the train's epoch)")
     end = span.add_mutually_exclusive_group(required=True)
-    end.add_argument("--to", dest="end", metavar="DATE", help="last date")
-    end.add_argument("--years", type=float, metavar="N", help="span length in years of 365.25 d")
-    span.add_argument("--step", default="1d", metavar="STEP",
+    end.add_argument("--to", dest="end", metavar="DATE", type=_date,
+                     help="last date: the run goes on to the first step at or after it")
+    end.add_argument("--years", type=_positive("years"), metavar="N",
+                     help="span length in years of 365.25 d")
+    span.add_argument("--step", default="1d", metavar="STEP", type=_step,
                       help="time between dates: 30m, 6h, 1d, 2.5d, 1y... (default 1d)")
     cmp_ = parser.add_argument_group("comparison")
-    cmp_.add_argument("--threshold", type=float, metavar="DEG",
+    cmp_.add_argument("--threshold", type=_positive("degrees"), metavar="DEG",
                       help="report the first date each pointer is this many degrees off")
-    cmp_.add_argument("--threshold-days", type=float, metavar="DAYS",
+    cmp_.add_argument("--threshold-days", type=_positive("days"), metavar="DAYS",
                       help="for phase pointers: the first date they are this many days off "
                            "(others use --threshold)")
     cmp_.add_argument("--frame", choices=("equinox", "stars"),
@@ -61,11 +115,21 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out = parser.add_argument_group("output")
     out.add_argument("--csv", metavar="FILE",
                      help="write every date: date, jd, and each pointer's train/sky/error")
-    out.add_argument("--png", metavar="FILE",
-                     help="draw each pointer's error against date (needs wheelwork[charts])")
+    out.add_argument("--png", metavar="FILE", type=_chart_name,
+                     help="draw each pointer's error against date; the name must end in "
+                          ".png, .svg or .pdf, which sets the format (needs wheelwork[charts])")
     out.add_argument("--json", action="store_true", help="print the summaries as JSON only")
     out.add_argument("--force", action="store_true", help="overwrite existing output files")
 
+
+def _usage_error(args: argparse.Namespace, message: str):
+    parser = getattr(args, "_drift_parser", None)
+    if parser is None:
+        raise DriftError(message)
+    parser.error(message)  # one line, exit 2
+
+
+# --- output files --------------------------------------------------------------------------
 
 def _check_output(path: str | None, force: bool) -> Path | None:
     if not path:
@@ -78,6 +142,15 @@ def _check_output(path: str | None, force: bool) -> Path | None:
     if not p.parent.exists():
         raise DriftError(f"{path}: folder {str(p.parent)!r} does not exist")
     return p
+
+
+def _cannot_write(path: Path, exc: OSError) -> DriftError:
+    return DriftError(f"{path}: cannot write it: {exc.strerror or exc}")
+
+
+def _part(path: Path) -> Path:
+    """The hidden file beside ``path`` that is written first and renamed when complete."""
+    return path.with_name(f".{path.name}.part")
 
 
 def _load_pyplot():
@@ -93,13 +166,18 @@ def _load_pyplot():
 
 
 class _CsvSink:
-    """Streams each chunk into a temporary file beside the target; renamed when complete."""
+    """Streams each chunk into a temporary file beside the target; renamed when complete.
+
+    Rows are formatted in Python (``%`` on lists), not by numpy's string functions, which can
+    swallow a Ctrl-C arriving while they run."""
 
     def __init__(self, path: Path, mech):
         self.path = path
-        self.tmp = path.with_name(f".{path.name}.part")
-        self.fh = open(self.tmp, "w", newline="", encoding="utf-8")  # noqa: SIM115
-        self.writer = csv.writer(self.fh)
+        self.tmp = _part(path)
+        try:
+            self.fh = open(self.tmp, "w", newline="", encoding="utf-8")  # noqa: SIM115
+        except OSError as exc:
+            raise _cannot_write(path, exc) from None
         self.names = list(mech.train.pointers)
         self.phase = {n for n, p in mech.train.pointers.items() if p.shows == "phase"}
         head = ["date", "jd"]
@@ -107,34 +185,92 @@ class _CsvSink:
             head += [f"{n}_train_deg", f"{n}_sky_deg", f"{n}_error_deg"]
             if n in self.phase:
                 head.append(f"{n}_error_days")
-        self.writer.writerow(head)
+        self.row = "%s," + ",".join(["%.6f"] * (len(head) - 1)) + "\r\n"
+        self._write(lambda: csv.writer(self.fh).writerow(head))
+
+    def _write(self, do):
+        try:
+            do()
+        except OSError as exc:
+            self.discard()
+            raise _cannot_write(self.path, exc) from None
 
     def __call__(self, jd, errors):
-        cols = [np.char.mod("%.6f", jd)]
+        cols = [jd.tolist()]
         for n in self.names:
             e = errors[n]
-            cols += [np.char.mod("%.6f", e.train_deg), np.char.mod("%.6f", e.sky_deg),
-                     np.char.mod("%.6f", e.error_deg)]
+            cols += [e.train_deg.tolist(), e.sky_deg.tolist(), e.error_deg.tolist()]
             if n in self.phase:
-                cols.append(np.char.mod("%.6f", e.error_days))
-        for i, row in enumerate(zip(*cols, strict=True)):
-            self.writer.writerow([format_jd(jd[i]).split(" UT")[0], *row])
+                cols.append(e.error_days.tolist())
+        fmt = self.row
+        text = "".join([fmt % (format_jd(row[0]).split(" UT")[0], *row)
+                        for row in zip(*cols, strict=True)])
+        self._write(lambda: self.fh.write(text))
 
     def finish(self):
-        self.fh.close()
-        os.replace(self.tmp, self.path)
+        try:
+            self.fh.close()
+            os.replace(self.tmp, self.path)
+        except OSError as exc:
+            self.discard()
+            raise _cannot_write(self.path, exc) from None
 
     def discard(self):
-        self.fh.close()
+        try:
+            self.fh.close()
+        except OSError:
+            pass
         self.tmp.unlink(missing_ok=True)
 
 
-def _year(jd: np.ndarray) -> np.ndarray:
+class _CtrlC:
+    """Ctrl-C during a run: raises ``KeyboardInterrupt`` at once, and also keeps a flag that
+    the run asks between chunks (``cancelled``), so a stop is honoured even when some library
+    call swallows the interrupt. ``quiet()`` keeps only the flag while files are cleaned up.
+
+    Installed only in the main thread, and not when Ctrl-C was ignored when we started (a
+    background job, ``nohup``)."""
+
+    def __init__(self):
+        self.asked = False
+        self.old = None
+
+    def __enter__(self):
+        if (threading.current_thread() is threading.main_thread()
+                and signal.getsignal(signal.SIGINT) not in (signal.SIG_IGN, None)):
+            self.old = signal.signal(signal.SIGINT, self._raise)
+        return self
+
+    def _raise(self, signum, frame):
+        self.asked = True
+        raise KeyboardInterrupt
+
+    def _flag(self, signum, frame):
+        self.asked = True
+
+    def cancelled(self) -> bool:
+        return self.asked
+
+    def quiet(self):
+        if self.old is not None:
+            signal.signal(signal.SIGINT, self._flag)
+
+    def __exit__(self, *exc):
+        if self.old is not None:
+            signal.signal(signal.SIGINT, self.old)
+        return False
+
+
+# --- chart ---------------------------------------------------------------------------------
+
+def _year(jd):
     """Decimal years (Julian years from J2000; fine for a chart's axis)."""
     return 2000.0 + (np.asarray(jd, dtype=float) - 2451545.0) / YEAR_DAYS
 
 
 def write_chart(result: DriftResult, path: Path, title: str) -> None:
+    """Draw the chart into a hidden file beside ``path`` (format from the name's extension),
+    then rename it; a fault on writing is one line naming the file."""
     plt = _load_pyplot()
     names = list(result.summaries)
     fig, axes = plt.subplots(len(names), 1, figsize=(10, 2.4 * len(names) + 0.8), sharex=True,
@@ -163,19 +299,66 @@ def write_chart(result: DriftResult, path: Path, title: str) -> None:
     axes[-1, 0].set_xlabel("year")
     fig.suptitle(title, fontsize=10)
     fig.tight_layout()
-    fig.savefig(path, dpi=110)
-    plt.close(fig)
+    tmp = _part(path)
+    try:
+        fig.savefig(tmp, dpi=110, format=path.suffix.lower().lstrip("."))
+        os.replace(tmp, path)
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)
+        raise _cannot_write(path, exc) from None
+    finally:
+        plt.close(fig)
 
 
-def _deg(x: float) -> str:
-    return f"{x:+.4f}°" if abs(x) < 100 else f"{x:+.2f}°"
+# --- the report ----------------------------------------------------------------------------
+
+def _count(x: float, unit: str) -> str:
+    """``2.5 days``, ``1 day``, ``12 days``: one decimal under ten, none above."""
+    text = f"{x:.1f}" if x < 9.95 else f"{x:.0f}"
+    text = text.removesuffix(".0")
+    return f"{text} {unit}" + ("" if text == "1" else "s")
 
 
-def _date(jd: float | None) -> str:
+def _duration(days: float) -> str:
+    """Hours under a day, days under a year, years beyond."""
+    if days < 1:
+        return _count(days * 24, "hour")
+    if days < YEAR_DAYS:
+        return _count(days, "day")
+    return f"{days / YEAR_DAYS:.2f} years"
+
+
+def _angle(x: float) -> str:
+    return f"{x:.2f}°" if abs(x) >= 1 else f"{x:.2g}°"
+
+
+def _with_sigma(x: float, sigma: float, unit: str = "°") -> str:
+    """``-0.224° ± 0.079°``: the standard error to two figures, the value to match."""
+    if not (math.isfinite(sigma) and sigma > 0):
+        return f"{x:+.4f}{unit}"
+    dec = min(4, max(0, 1 - math.floor(math.log10(sigma))))
+    pm = f"{sigma:.{dec}f}"
+    if float(pm) == 0:
+        return f"{x:+.{dec}f}{unit} ± under 0.0001{unit}"
+    return f"{x:+.{dec}f}{unit} ± {pm}{unit}"
+
+
+def _when(jd: float | None) -> str:
     return "never" if jd is None else format_jd(jd)
 
 
-def _summary_table(s, start_jd: float) -> Table:
+def _uncertain_why(s) -> str:
+    from engine.drift import MINOR_TERMS
+
+    left = [t for t in s.drift_terms_left_out if t not in MINOR_TERMS]
+    if left:
+        return "this span and step cannot tell it from: " + "; ".join(left)
+    if s.periodic_period_days is None:
+        return "the span is too short to show the swing"
+    return f"the span holds under two of its {s.periodic_period_days:.1f}-day swings"
+
+
+def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     t = Table(title=f"{s.pointer} — shows {s.shows}", title_justify="left", box=box.SIMPLE,
               show_header=False, pad_edge=False)
     t.add_column("figure", style="bold")
@@ -185,11 +368,16 @@ def _summary_table(s, start_jd: float) -> Table:
     def both(deg, d):
         return f"{deg:.4f}°" + (f"  ({d:.3f} days)" if days and d is not None else "")
 
-    t.add_row("largest error", both(s.max_abs_deg, s.max_abs_days) + f"  on {_date(s.max_at_jd)}")
+    t.add_row("largest error", both(s.max_abs_deg, s.max_abs_days) + f"  on {_when(s.max_at_jd)}")
     t.add_row("root-mean-square error", both(s.rms_deg, s.rms_days))
-    t.add_row("steady drift", f"{_deg(s.drift_deg_per_century)} per century"
-              + (f"  ({s.drift_deg_per_century / PHASE_DEG_PER_DAY:+.3f} days per century)"
-                 if days else ""))
+    sigma = s.drift_sigma_deg_per_century
+    t.add_row("steady drift", _with_sigma(s.drift_deg_per_century, sigma) + " per century")
+    if days:
+        g = PHASE_DEG_PER_DAY
+        t.add_row("", _with_sigma(s.drift_deg_per_century / g, sigma / g, " days")
+                  .replace(" days ±", " ±") + " per century")
+    if s.drift_uncertain:
+        t.add_row("drift uncertain", _uncertain_why(s))
     if s.periodic_period_days is None:
         t.add_row("swing about the drift", "none found (span too short)")
     elif s.periodic_amplitude_deg < 5e-5:  # below the last printed digit: no period to speak of
@@ -198,16 +386,45 @@ def _summary_table(s, start_jd: float) -> Table:
         t.add_row("swing about the drift", f"±{s.periodic_amplitude_deg:.4f}° every "
                   f"{s.periodic_period_days:.2f} days")
     if s.threshold_deg is not None:
-        lim = f"{s.threshold_deg:g}°" + (f" ({s.threshold_days:g} days)" if days else "")
-        when = _date(s.first_crossing_jd)
-        t.add_row(f"first {lim} off", when if s.first_crossing_jd is None else
-                  f"{when}  (after {(s.first_crossing_jd - start_jd) / YEAR_DAYS:.2f} years)")
-    t.add_row("best re-setting", f"turn back by {_deg(s.best_offset_deg)}; error then "
-              f"{s.rms_after_reset_deg:.4f}° RMS")
+        if days and threshold_days_given:
+            lim = f"{_count(s.threshold_days, 'day')} ({s.threshold_deg:.2f}°)"
+        elif days:
+            lim = f"{s.threshold_deg:g}° ({_duration(s.threshold_days)})"
+        else:
+            lim = f"{s.threshold_deg:g}°"
+        if s.first_crossing_jd is None:
+            when = "never"
+        elif s.first_crossing_jd <= start_jd:
+            when = f"{_when(s.first_crossing_jd)}  (at the start)"
+        else:
+            when = (f"{_when(s.first_crossing_jd)}  "
+                    f"(after {_duration(s.first_crossing_jd - start_jd)})")
+        t.add_row(f"first {lim} off", when)
+    off = s.best_offset_deg
+    if abs(off) < 5e-5:
+        move = "none needed"
+    else:
+        move = f"turn {'back' if off > 0 else 'forward'} by {_angle(abs(off))}"
+    t.add_row("best re-setting", f"{move}; error then {s.rms_after_reset_deg:.4f}° RMS")
     return t
 
 
+# --- the command ---------------------------------------------------------------------------
+
 def run(args: argparse.Namespace, console: Console) -> int:
+    err = Console(stderr=True, highlight=False, soft_wrap=True)
+    with _CtrlC() as ctrl_c:
+        try:
+            done = _compute(args, err, ctrl_c)
+        except (KeyboardInterrupt, DriftCancelled):
+            ctrl_c.quiet()
+            err.print(STOPPED, markup=False)
+            return 130
+    return _report(args, console, err, *done)
+
+
+def _compute(args, err: Console, ctrl_c: _CtrlC):
+    """Everything that can take long or write files, under the Ctrl-C guard."""
     from engine.mechanism import open_train
     from engine.sky import Site, Sky
 
@@ -215,20 +432,22 @@ def run(args: argparse.Namespace, console: Console) -> int:
     csv_path = _check_output(args.csv, args.force)
     png_path = _check_output(args.png, args.force)
     if csv_path and png_path and csv_path.resolve() == png_path.resolve():
-        raise DriftError(f"{args.csv}: --csv and --png name the same file")
+        _usage_error(args, f"--csv and --png both name {args.csv}")
     if png_path:
         _load_pyplot()  # say how to install it before any work is done
-    for flag, v in (("--threshold", args.threshold), ("--threshold-days", args.threshold_days)):
-        if v is not None and not (np.isfinite(v) and v > 0):
-            raise DriftError(f"{flag} {v:g}: it must be a positive number")
-    if args.years is not None and not (np.isfinite(args.years) and args.years > 0):
-        raise DriftError(f"--years {args.years:g}: it must be a positive number of years")
     site = Site.parse(args.site) if args.site else None
     sky = Sky(args.ephemeris)
     mech = open_train(args.train, sky)
-    start = parse_date(args.start) if args.start else mech.train.epoch.jd_ut
-    end = parse_date(args.end) if args.end else start + args.years * YEAR_DAYS
-    n = grid(start, end, step)
+    start = args.start if args.start is not None else mech.train.epoch.jd_ut
+    end = args.end if args.end is not None else start + args.years * YEAR_DAYS
+    if end <= start:
+        _usage_error(args, f"--to {format_jd(end)} is not after "
+                     + (f"--from {format_jd(start)}" if args.start is not None else
+                        f"the train's epoch, {format_jd(start)}; give --from"))
+    try:
+        grid(start, end, step, include_end=True)
+    except DriftError as exc:  # step longer than the span, too many dates
+        _usage_error(args, str(exc))
     thresholds = {}
     for name, p in mech.train.pointers.items():
         if p.shows == "phase" and args.threshold_days is not None:
@@ -236,11 +455,12 @@ def run(args: argparse.Namespace, console: Console) -> int:
         else:
             thresholds[name] = args.threshold
 
-    err = Console(stderr=True, highlight=False, soft_wrap=True)
     sink = _CsvSink(csv_path, mech) if csv_path else None
     bar = None
+    png_done = False
     try:
         progress = None
+        n = grid(start, end, step, include_end=True)
         if not args.json and n >= PROGRESS_MIN_DATES and err.is_terminal:
             from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
 
@@ -254,49 +474,71 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
         result = drift_series(mech, sky, start, end, step, frame=args.frame, site=site,
                               threshold_deg=thresholds, progress=progress, on_chunk=sink,
-                              keep_series=png_path is not None)
-    except KeyboardInterrupt:
-        if sink:
-            sink.discard()
-        err.print("wheelwork: drift stopped; no file written", markup=False)
-        return 130
-    except BaseException:
-        if sink:
-            sink.discard()
-        raise
-    finally:
+                              keep_series=png_path is not None, cancel=ctrl_c.cancelled,
+                              include_end=True)
         if bar:
             bar.stop()
-    if sink:
-        sink.finish()
-    title = (f"{mech.train.name}: pointer error against {sky.name}, "
-             f"{format_jd(start)[:10]} to {format_jd(result.jd[-1])[:10]}")
-    if png_path:
-        write_chart(result, png_path, title)
+            bar = None
+        if ctrl_c.cancelled():
+            raise KeyboardInterrupt
+        title = (f"{mech.train.name}: pointer error against {sky.name}, "
+                 f"{format_jd(start)[:10]} to {format_jd(result.jd[-1])[:10]}")
+        if png_path:
+            write_chart(result, png_path, title)
+            png_done = True
+        if sink:
+            sink.finish()
+    except BaseException:
+        ctrl_c.quiet()
+        if bar:
+            bar.stop()
+        if sink:
+            sink.discard()
+        if png_path:
+            _part(png_path).unlink(missing_ok=True)
+            if png_done:  # stopped after the chart was made: take it back ("no file written")
+                png_path.unlink(missing_ok=True)
+        raise
+    return mech, sky, result, start, end, step, csv_path, png_path
 
+
+def _report(args, console: Console, err: Console, mech, sky, result, start, end, step,
+            csv_path, png_path) -> int:
+    last = float(result.jd[-1])
+    n = len(result.jd)
     if args.json:
         doc = {
             "train": mech.train.name, "file": str(args.train), "ephemeris": sky.name,
             "frame": result.frame, "site": args.site, "from_jd": float(start),
-            "to_jd": float(result.jd[-1]), "step_days": step, "dates": int(n),
-            "from": format_jd(start), "to": format_jd(result.jd[-1]),
+            "to_jd": last, "asked_to_jd": float(end), "step_days": step, "dates": int(n),
+            "from": format_jd(start), "to": format_jd(last),
             "pointers": result.summaries_dict(),
         }
         console.print_json(json.dumps(doc))
         return 0
 
+    def line(text, style=None):  # wrapped at the console's width whatever its soft_wrap
+        console.print(Text(text, style=style or ""), soft_wrap=False)
+
     for w in mech.warnings:
-        err.print(f"wheelwork: note: {w}", markup=False)
-    console.print(f"[bold]{mech.train.name}[/] against {sky.name}, {result.frame} frame"
-                  + (f", seen from {args.site}" if args.site else ", from the Earth's centre"))
-    console.print(f"{format_jd(start)} to {format_jd(result.jd[-1])}: {n:,} dates, "
-                  f"every {args.step} ({(result.jd[-1] - start) / YEAR_DAYS:.2f} years)")
-    console.print("error = what the train shows minus the true sky (positive: ahead)\n")
+        err.print(f"wheelwork: note: {w}", markup=False, soft_wrap=False)
+    line(f"{mech.train.name} against {sky.name}, {result.frame} frame, "
+         + (f"seen from {args.site}" if args.site else "from the Earth's centre"))
+    line(f"from {format_jd(start)}")
+    to = f"  to {format_jd(last)}"
+    if last - end > 0.5 / 1440:  # the grid runs on to the first step at or after the end
+        to += f", {_duration(last - end)} past the end asked"
+    elif end - last > 0.5 / 1440:
+        to += f", {_duration(end - last)} short of the end asked (the ephemeris ends)"
+    line(to)
+    line(f"{n:,} dates, every {args.step} ({(last - start) / YEAR_DAYS:.2f} years)")
+    line("error = what the train shows minus the true sky (positive: ahead)")
+    line("")
     for s in result.summaries.values():
-        console.print(_summary_table(s, start))
+        console.print(_summary_table(s, start, args.threshold_days is not None))
     if csv_path:
-        console.print(f"wrote {csv_path}")
+        line(f"wrote {csv_path}")
     if png_path:
-        console.print(f"wrote {png_path}")
-    console.print(f"[yellow]{SAFETY}[/]")
+        line(f"wrote {png_path}")
+    line(SAFETY, "yellow")
     return 0
