@@ -57,7 +57,11 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
-    parser = build_parser()
+    try:
+        parser = build_parser()  # imports the command modules: a Ctrl-C may land here
+    except KeyboardInterrupt:
+        print("wheelwork: stopped", file=sys.stderr)
+        return 130
     if not argv:
         argv = ["crank"]
     args = parser.parse_args(argv)

@@ -847,7 +847,9 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
     n = grid(float(jd_start), float(jd_end), step)
     chunk = max(2, int(chunk))
     jd0 = float(jd_start)
-    sky.at(np.array([jd0, jd0 + (n - 1) * step]), frame=frame, site=site)  # span check first
+    if hasattr(sky, "check_span"):  # span check first, saying how much lies outside
+        sky.check_span(jd0, jd0 + (n - 1) * step)
+    sky.at(np.array([jd0, jd0 + (n - 1) * step]), frame=frame, site=site)  # and the site
     if include_end:
         n_end = grid(jd0, float(jd_end), step, include_end=True)
         if n_end > n:

@@ -61,3 +61,11 @@ set_deg = 0
     assert main(["ratios", str(train)]) == 0
     out = " ".join(capsys.readouterr().out.split())
     assert "[pointers.moon]: turns backwards" in out
+
+
+def test_drift_past_the_ephemeris_says_how_much(capsys):
+    train = str(ROOT / "trains" / "tide_office.toml")
+    assert main(["drift", train, "--years", "50", "--step", "6h"]) == 1
+    err = capsys.readouterr().err
+    assert "22.2 years of the span 2026-01-01 to 2076-01-01 lie outside JPL DE421" in err
+    assert err.count("\n") == 1
