@@ -104,9 +104,12 @@ def _emit(report: SearchReport, args: argparse.Namespace) -> Path:
     path = Path(args.emit)
     _check_writable(path, args.force)
     text = emit_fragment(report.results[args.pick - 1], report.target, prefix=args.prefix)
+    part = path.with_name(f".{path.name}.part")  # written whole, then put in place
     try:
-        path.write_text(text, encoding="utf-8")
+        part.write_text(text, encoding="utf-8")
+        part.replace(path)
     except OSError as exc:
+        part.unlink(missing_ok=True)
         raise SearchError(f"{path}: cannot write ({exc.strerror})") from None
     return path
 
