@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 
 from engine.cli import main
+from tests.test_loader import GOOD
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -40,27 +41,10 @@ def test_closed_pipe_is_not_an_error():
 
 def test_item_names_in_brackets_survive_the_console(tmp_path, capsys):
     train = tmp_path / "wrongway.toml"
-    train.write_text("""
-[crank]
-arbor = "a"
-days_per_turn = 1
-[epoch]
-date = "2026-01-01"
-set = "angles"
-[arbors.a]
-wheels = { a1 = 20 }
-[arbors.b]
-wheels = { b1 = 40 }
-[[meshes]]
-wheels = ["a1", "b1"]
-[pointers.moon]
-shows = "moon"
-arbor = "b"
-set_deg = 0
-""")
+    train.write_text(GOOD.replace("reversed = true\n", ""))  # a Moon hand turning backwards
     assert main(["ratios", str(train)]) == 0
     out = " ".join(capsys.readouterr().out.split())
-    assert "[pointers.moon]: turns backwards" in out
+    assert "[pointers.p]: turns backwards" in out
 
 
 def test_drift_past_the_ephemeris_says_how_much(capsys):
