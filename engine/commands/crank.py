@@ -7,6 +7,7 @@ HELP = "open the interactive bench: turn a train's crank and watch it against th
 
 
 def add_arguments(parser) -> None:
+    parser.set_defaults(_crank_parser=parser)
     parser.add_argument("train", nargs="?", default=None,
                         help="train file (TOML); default: the bundled tide office dial")
     parser.add_argument("--site", metavar="LAT,LON[,H]", default=None,
@@ -17,6 +18,14 @@ def add_arguments(parser) -> None:
 
 
 def run(args, console) -> int:
+    if args.site:  # an impossible site is a value out of range: a usage error, as elsewhere
+        from engine.errors import WheelworkError
+        from engine.sky import Site
+
+        try:
+            Site.parse(args.site)
+        except WheelworkError as exc:
+            args._crank_parser.error(str(exc))
     from tui.app import make_app  # the engine never imports the interface at module level
 
     app = make_app(args.train, site=args.site, ephemeris=args.ephemeris)

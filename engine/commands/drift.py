@@ -435,7 +435,10 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         _usage_error(args, f"--csv and --png both name {args.csv}")
     if png_path:
         _load_pyplot()  # say how to install it before any work is done
-    site = Site.parse(args.site) if args.site else None
+    try:
+        site = Site.parse(args.site) if args.site else None
+    except WheelworkError as exc:  # an impossible site is a value out of range
+        _usage_error(args, str(exc))
     sky = Sky(args.ephemeris)
     mech = open_train(args.train, sky)
     start = args.start if args.start is not None else mech.train.epoch.jd_ut

@@ -21,6 +21,7 @@ from engine.search import (
     emit_fragment,
     make_constraints,
     make_target,
+    parse_fraction,
     result_to_dict,
     search,
 )
@@ -31,15 +32,28 @@ NAME = "search"
 HELP = "tooth counts whose ratio realises a period or ratio (exhaustive within bounds)"
 
 
+def _number(what: str):
+    """An argparse type: a positive decimal or fraction (a value that cannot be read or is out
+    of range is a usage error, exit 2); the text itself is passed on, to be read exactly."""
+    def check(text: str) -> str:
+        try:
+            parse_fraction(text, what)
+        except SearchError as exc:
+            raise argparse.ArgumentTypeError(str(exc)) from None
+        return text
+    return check
+
+
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     want = parser.add_argument_group("target (exactly one)")
     one = want.add_mutually_exclusive_group(required=True)
-    one.add_argument("--period", metavar="DAYS",
+    one.add_argument("--period", metavar="DAYS", type=_number("period"),
                      help="days per output turn: a decimal or a fraction, e.g. 6940/235")
-    one.add_argument("--ratio", metavar="P/Q", help="output turns per crank turn, e.g. 19/235")
+    one.add_argument("--ratio", metavar="P/Q", type=_number("ratio"), help="output turns per crank turn, e.g. 19/235")
     one.add_argument("--cycle", metavar="NAME",
                      help="a mean period by name, e.g. 'synodic month', 'tropical year'")
     parser.add_argument("--crank-days", default="1", metavar="DAYS",
+                        type=_number("crank days per turn"),
                         help="days per crank turn (default 1)")
     bounds = parser.add_argument_group("bounds")
     bounds.add_argument("--stages", default="1-3", metavar="N|MIN-MAX",

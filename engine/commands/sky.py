@@ -10,6 +10,7 @@ from rich.console import Console
 from rich.table import Table
 
 from engine.dates import calendar_date, format_jd, parse_date
+from engine.errors import DateError, SkyError
 from engine.sky import Site, Sky
 
 NAME = "sky"
@@ -19,6 +20,7 @@ SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filte
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.set_defaults(_sky_parser=parser)  # a date that cannot be read is a usage error
     parser.add_argument("date", help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
                         "'44-03-15 BC', '15 March 44 BC' or 'JD 2451545.0'")
     parser.add_argument("--calendar", default="auto", choices=("auto", "julian", "gregorian"),
@@ -42,8 +44,14 @@ def _dms(deg: float) -> str:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
-    jd = parse_date(args.date, calendar=args.calendar)
-    site = Site.parse(args.site) if args.site else None
+    try:
+        jd = parse_date(args.date, calendar=args.calendar)
+    except DateError as exc:  # read after --calendar is known, so not an argparse type
+        args._sky_parser.error(str(exc))
+    try:
+        site = Site.parse(args.site) if args.site else None
+    except SkyError as exc:  # an impossible site is a value out of range: usage error
+        args._sky_parser.error(str(exc))
     sky = Sky(args.ephemeris)
     frame = "stars" if args.stars else "equinox"
     st = sky.at(jd, frame=frame, site=site)
