@@ -6,6 +6,8 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
+
 from engine.cli import main
 from tests.test_loader import GOOD
 
@@ -53,3 +55,9 @@ def test_drift_past_the_ephemeris_says_how_much(capsys):
     err = capsys.readouterr().err
     assert "22.2 years of the span 2026-01-01 to 2076-01-01 lie outside JPL DE421" in err
     assert err.count("\n") == 1
+
+
+def test_impossible_site_is_a_usage_error_before_the_interface_opens(capsys):
+    with pytest.raises(SystemExit) as stop:
+        main(["crank", "--site", "95,0"])
+    assert stop.value.code == 2 and "impossible" in capsys.readouterr().err
