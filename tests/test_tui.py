@@ -8,6 +8,7 @@ import asyncio
 import functools
 import io
 from fractions import Fraction
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -25,7 +26,7 @@ from tui.screens import (
     long_help,
 )
 from tui.session import SPEEDS
-from tui.widgets import CAUTION, Readings, Status
+from tui.widgets import CAUTION, Readings, SkyDial, Status
 
 SIZE = (120, 40)
 
@@ -710,3 +711,32 @@ async def test_train_counts_have_a_key_and_leave_wheels_and_labels_alone(size, k
                 # not over a wheel's rim (crank, pointer or plain arbor) nor a name label
                 assert under not in DRAWN, (x, y)
         assert counts > 0
+
+
+@sync
+async def test_dial_shows_node_and_perigee_as_the_readings_give_them():
+    """The demo's node and perigee pointers are hands on the dial at the readings' train°, with
+    the true mean node and perigee (sky°) as marks; the key names them. A train without them
+    (and its phase pointer, not a longitude) puts nothing more on the dial."""
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("up", "up")
+        await pilot.pause()
+        now = app.session.now()
+        dial = app.screen.query_one(SkyDial)
+        assert set(dial.elements) == {"node", "apsis"}
+        for name, kind in (("node", "node"), ("perigee", "apsis")):
+            p = now.pointers[name]
+            assert p.shows == kind
+            hand, mark = dial.elements[kind]
+            assert hand == pytest.approx(p.train_deg, abs=ARCSEC)
+            assert mark == pytest.approx(p.sky_deg, abs=ARCSEC)
+        key = text_of(app.screen.query_one("#dial-key"))
+        assert "☊ node" in key and "perigee" in key
+    app = make_app(Path(__file__).parents[1] / "trains" / "nineteen_year_drum.toml")
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("up")
+        await pilot.pause()
+        assert app.screen.query_one(SkyDial).elements == {}
+        key = text_of(app.screen.query_one("#dial-key"))
+        assert "node" not in key and "perigee" not in key

@@ -28,8 +28,6 @@ from engine.view import decimal_year, train_layout
 from tui.session import FRAME_NAMES, SPEEDS, Session
 from tui.widgets import (
     CAUTION,
-    MOON_HUE,
-    SUN_HUE,
     Findings,
     PhaseDiscs,
     Readings,
@@ -155,10 +153,8 @@ class BenchScreen(Screen):
         with Horizontal(id="top"):
             with Vertical(id="dial-pane"):
                 yield SkyDial(s, id="dial")
-                yield Static(Text.assemble(("━ ", f"bold {SUN_HUE}"), ("━ ", f"bold {MOON_HUE}"),
-                                           "train hands   ", ("☉", f"#101418 on {SUN_HUE}"),
-                                           " ", ("☾", f"#101418 on {MOON_HUE}"), " true sky"),
-                             id="dial-key")
+                kinds = {p.shows for p in train.pointers.values()}
+                yield Static(SkyDial.key_text(kinds), id="dial-key")
                 yield Static(CAUTION, id="caution")
             with Vertical(id="side"):
                 with Vertical(id="info"):

@@ -29,6 +29,16 @@ from tui.session import FRAME_NAMES, Now, Session
 # the body a solid badge on the ring.
 SUN_HUE = "#f2b632"
 MOON_HUE = "#7fd4ff"
+# The Moon's node and perigee: short hands in their own hue and line style (dashed, dotted),
+# the true mean node and perigee as small marks just inside the ring.
+NODE_HUE = "#c792ea"
+APSIS_HUE = "#5fd7a7"
+#: kind -> (hue, hand length as a fraction of the radius, dash pattern (on, off) in dot steps,
+#: mark inside the ring, name in the key). Only ecliptic longitudes go on the dial.
+ELEMENT_HANDS = {
+    "node": (NODE_HUE, 0.46, (3, 2), "☊", "node"),
+    "apsis": (APSIS_HUE, 0.56, (1, 2), "◆", "perigee"),
+}
 RING = "#6a7b8c"
 RING_BRIGHT = "#b9c6d3"
 SIGN_TEXT = "#8fa3b8"
@@ -130,11 +140,16 @@ class LayeredCanvas(Canvas):
             sty[cy][cx] = style
         self.refresh()
 
-    def line(self, x0: float, y0: float, x1: float, y1: float, style: str) -> None:
-        """A braille line between two points in cell coordinates."""
+    def line(self, x0: float, y0: float, x1: float, y1: float, style: str,
+             dash: tuple[int, int] | None = None) -> None:
+        """A braille line between two points in cell coordinates; ``dash`` = (on, off) dot
+        steps for a dashed or dotted line."""
         n = int(max(abs(x1 - x0) * 2.0, abs(y1 - y0) * 4.0)) + 1
-        self.dots([(x0 + (x1 - x0) * k / n, y0 + (y1 - y0) * k / n) for k in range(n + 1)],
-                  style)
+        steps = range(n + 1)
+        if dash is not None:
+            on, off = dash
+            steps = [k for k in steps if k % (on + off) < on]
+        self.dots([(x0 + (x1 - x0) * k / n, y0 + (y1 - y0) * k / n) for k in steps], style)
 
     def put(self, x: float, y: float, text: str, style: str) -> None:
         """Write plain text starting at cell (x, y) with one style, clipped to the canvas."""
@@ -156,13 +171,32 @@ class LayeredCanvas(Canvas):
 
 class SkyDial(LayeredCanvas):
     """The ecliptic as a graduated ring; the train's Sun and Moon hands from the centre, the
-    true Sun and Moon as badges on the ring. Longitude 0° at the top, increasing anticlockwise.
+    true Sun and Moon as badges on the ring; a train's node and perigee pointers as short
+    hands, the true mean node and perigee as marks inside the ring. Longitude 0° at the top,
+    increasing anticlockwise.
     """
 
     def __init__(self, session: Session, **kwargs):
         super().__init__(**kwargs)
         self.session = session
         self._geom = (0.0, 0.0, 1.0)
+        #: what the last frame drew for the node and perigee: kind -> (hand°, mark°)
+        self.elements: dict[str, tuple[float, float]] = {}
+
+    @staticmethod
+    def key_text(kinds) -> Text:
+        """The key under the dial; a second line for the node and perigee the train shows."""
+        key = Text.assemble(("━ ", f"bold {SUN_HUE}"), ("━ ", f"bold {MOON_HUE}"),
+                            "train hands   ", ("☉", f"#101418 on {SUN_HUE}"), " ",
+                            ("☾", f"#101418 on {MOON_HUE}"), " true sky")
+        extra = [k for k in ELEMENT_HANDS if k in kinds]
+        if extra:
+            key.append("\n")
+            for i, k in enumerate(extra):
+                hue, _, dash, mark, name = ELEMENT_HANDS[k]
+                key.append_text(Text.assemble("   " if i else "", ("╍ " if dash[0] > 1 else "┈ ",
+                                f"bold {hue}"), (mark, f"bold {hue}"), f" {name}"))
+        return key
 
     def _xy(self, lon_deg: float, r: float) -> tuple[float, float]:
         cx, cy, _ = self._geom
@@ -205,12 +239,26 @@ class SkyDial(LayeredCanvas):
         by_kind = {}
         for p in ptrs.values():
             by_kind.setdefault(p.shows, p)
+        # node and perigee first, so the Sun and Moon hands keep their colour where they cross
+        drawn = {}
+        for kind, (hue, length, dash, _, _) in ELEMENT_HANDS.items():
+            p = by_kind.get(kind)
+            if p is None:
+                continue
+            x, y = self._xy(p.train_deg, r * length)
+            self.line(cx, cy, x, y, style=f"bold {hue}", dash=dash)
+            drawn[kind] = (p.train_deg, _scalar(now.sky.kind(kind)))
+        self.elements = drawn
         for kind, hue, length in (("moon", MOON_HUE, 0.78), ("sun", SUN_HUE, 0.92)):
             p = by_kind.get(kind)
             if p is None:
                 continue
             x, y = self._xy(p.train_deg, r * length)
             self.line(cx, cy, x, y, style=f"bold {hue}")
+        for kind, (_, sky) in drawn.items():  # the true mean node and perigee, inside the ring
+            hue, _, _, mark, _ = ELEMENT_HANDS[kind]
+            x, y = self._xy(sky, r - 2.0)
+            self.put(x - 0.5, y - 0.25, mark, f"bold {hue}")
         self.put(cx - 0.5, cy - 0.25, "●", HUB)
         sun = _scalar(now.sky.sun_lon_deg)
         moon = _scalar(now.sky.moon_lon_deg)
