@@ -286,7 +286,7 @@ def write_chart(result: DriftResult, path: Path, title: str) -> None:
             if s.first_crossing_jd is not None:
                 xc = float(_year(s.first_crossing_jd))
                 ax.axvline(xc, color="tab:red", lw=0.8)
-                ax.annotate(f"first past {s.threshold_deg:g}°: "
+                ax.annotate(f"first past {s.threshold_deg:.4g}°: "
                             f"{format_jd(s.first_crossing_jd)[:10]}", (xc, s.threshold_deg),
                             xytext=(4, 4), textcoords="offset points", fontsize=8,
                             color="tab:red")
