@@ -16,7 +16,7 @@ from engine.errors import DateError, SearchError, SkyError, TrainError, Wheelwor
 from engine.exact import Turns, parse_fraction
 from engine.kinematics import Kinematics, LinearAngle, slot_follower_turns, solve
 from engine.loader import load_train, parse_train
-from engine.mechanics import check
+from engine.checks import check
 from engine.mechanism import DEFAULT_TRAIN, Mechanism, build, open_train
 from engine.periods import PERIODS, POINTER_KINDS, MeanPeriod, find_period, mean_elements
 from engine.ratios import PointerRatio, pointer_ratios

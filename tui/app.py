@@ -21,7 +21,7 @@ def engine_findings(mech) -> list[tuple[str, str, str, str]]:
     items = [("warning", "", w, "") for w in mech.warnings]
     items += [("warning", "", w, "") for w in mech.train.warnings]
     try:
-        from engine.mechanics import check
+        from engine.checks import check
     except ImportError:
         return items
     try:

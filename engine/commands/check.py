@@ -13,7 +13,7 @@ from rich.table import Table
 
 from engine.kinematics import solve
 from engine.loader import load_train
-from engine.mechanics import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
+from engine.checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
 
 NAME = "check"
 HELP = ("whether a train can be built: centre distances, positions, overlaps, arbor speeds "

@@ -13,7 +13,7 @@ import pytest
 from engine.cli import main
 from engine.kinematics import slot_follower_turns, solve
 from engine.loader import load_train, parse_train
-from engine.mechanics import (
+from engine.checks import (
     DEFAULT_EFFICIENCY,
     UNDERCUT_TEETH,
     centre_distance_mm,
