@@ -1,7 +1,7 @@
 """wheelwork's public face: everything a script or notebook needs, in one import.
 
 >>> from engine.api import open_train, Sky
->>> mech = open_train("trains/nineteen_year_drum.toml")    # load, solve, set at the epoch
+>>> mech = open_train("engine/trains/nineteen_year_drum.toml")    # load, solve, set at the epoch
 >>> mech.kin.rate("moon")
 Fraction(254, 19)
 

@@ -11,7 +11,7 @@ from engine.loader import load_train
 from engine.readout import Readout, backward_warnings, epoch_values
 from engine.train import Train
 
-TRAINS_DIR = Path(__file__).resolve().parent.parent / "trains"
+TRAINS_DIR = Path(__file__).resolve().parent / "trains"
 DEFAULT_TRAIN = TRAINS_DIR / "tide_office.toml"
 
 

@@ -25,7 +25,7 @@ from engine.checks import (
 
 HERE = Path(__file__).resolve().parent
 TRAINS = HERE / "trains"
-DEMO = HERE.parent / "trains"
+DEMO = HERE.parent / "engine" / "trains"
 MM = 1e-9  # geometry is exact arithmetic on floats: agree to a nanometre
 REL = 1e-12
 
@@ -339,7 +339,7 @@ def test_three_axes_must_form_a_triangle():
 def test_pin_diameter_from_the_file_sets_the_slot_length():
     """Slot length = 2 × offset + pin diameter (plane geometry of the pin's travel)."""
     root = Path(__file__).resolve().parent.parent
-    text = (root / "trains" / "tide_office.toml").read_text()
+    text = (root / "engine" / "trains" / "tide_office.toml").read_text()
     assert "pin_diameter_mm = 1.2" in text
     train = parse_train(text.replace("pin_diameter_mm = 1.2", "pin_diameter_mm = 2.0"), "t")
     (ps,) = check(train, solve(train)).pin_slots

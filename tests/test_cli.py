@@ -33,7 +33,7 @@ def test_help_lists_every_command(capsys):
 
 
 def test_closed_pipe_is_not_an_error():
-    cmd = (f"{sys.executable} -m engine ratios {ROOT / 'trains' / 'tide_office.toml'} "
+    cmd = (f"{sys.executable} -m engine ratios {ROOT / 'engine' / 'trains' / 'tide_office.toml'} "
            "| head -1")
     done = subprocess.run(["bash", "-o", "pipefail", "-c", cmd], capture_output=True,
                           text=True, timeout=120)
@@ -50,7 +50,7 @@ def test_item_names_in_brackets_survive_the_console(tmp_path, capsys):
 
 
 def test_drift_past_the_ephemeris_says_how_much(capsys):
-    train = str(ROOT / "trains" / "tide_office.toml")
+    train = str(ROOT / "engine" / "trains" / "tide_office.toml")
     assert main(["drift", train, "--years", "50", "--step", "6h"]) == 1
     err = capsys.readouterr().err
     assert "22.2 years of the span 2026-01-01 to 2076-01-01 lie outside JPL DE421" in err

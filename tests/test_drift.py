@@ -30,7 +30,7 @@ from engine.loader import parse_train
 from engine.mechanism import build, open_train
 from engine.periods import JULIAN_CENTURY_DAYS, PERIODS
 
-TRAINS = Path(__file__).resolve().parent.parent / "trains"
+TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 DEG = 1.0
 ARCSEC = 1 / 3600
 MINUTE = 1 / 1440  # day

@@ -16,7 +16,7 @@ from engine.exact import Turns
 from engine.kinematics import slot_follower_turns, solve
 from engine.loader import load_train, parse_train
 
-TRAINS = Path(__file__).resolve().parent.parent / "trains"
+TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 TURN_TOL = 1e-9  # the issue's long-run exactness bound, in turns
 
 HEAD = """

@@ -12,7 +12,7 @@ from engine.kinematics import solve
 from engine.loader import load_train, parse_train
 from engine.readout import backward_warnings
 
-TRAINS = Path(__file__).resolve().parent.parent / "trains"
+TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 
 GOOD = """
 [train]

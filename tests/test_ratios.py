@@ -11,7 +11,7 @@ from engine.kinematics import solve
 from engine.loader import load_train
 from engine.ratios import factor_text, pointer_ratios
 
-TRAINS = Path(__file__).resolve().parent.parent / "trains"
+TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 
 
 def report(name):

@@ -15,7 +15,7 @@ from engine.periods import J2000_JD, JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY,
 from engine.readout import Readout, epoch_values
 from engine.sky import Sky
 
-TRAINS = Path(__file__).resolve().parent.parent / "trains"
+TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 ARCSEC = 1 / 3600
 
 

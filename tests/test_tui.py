@@ -733,7 +733,7 @@ async def test_dial_shows_node_and_perigee_as_the_readings_give_them():
             assert mark == pytest.approx(p.sky_deg, abs=ARCSEC)
         key = text_of(app.screen.query_one("#dial-key"))
         assert "☊ node" in key and "perigee" in key
-    app = make_app(Path(__file__).parents[1] / "trains" / "nineteen_year_drum.toml")
+    app = make_app(Path(__file__).parents[1] / "engine" / "trains" / "nineteen_year_drum.toml")
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("up")
         await pilot.pause()
