@@ -10,26 +10,26 @@ See ``docs/api.md`` for worked examples.
 
 from __future__ import annotations
 
-from engine.dates import calendar_date, format_jd, parse_date
-from engine.drift import DriftResult, PointerSummary, drift_series, parse_step, pointer_errors
-from engine.errors import DateError, SearchError, SkyError, TrainError, WheelworkError
-from engine.exact import Turns, parse_fraction
-from engine.kinematics import Kinematics, LinearAngle, slot_follower_turns, solve
-from engine.loader import load_train, parse_train
-from engine.checks import check
-from engine.mechanism import DEFAULT_TRAIN, Mechanism, build, open_train
-from engine.periods import PERIODS, POINTER_KINDS, MeanPeriod, find_period, mean_elements
-from engine.ratios import PointerRatio, pointer_ratios
-from engine.readout import Readout, backward_warnings, epoch_values
-from engine.search import (
+from .checks import check
+from .dates import calendar_date, format_jd, parse_date
+from .drift import DriftResult, PointerSummary, drift_series, parse_step, pointer_errors
+from .errors import DateError, SearchError, SkyError, TrainError, WheelworkError
+from .exact import Turns, parse_fraction
+from .kinematics import Kinematics, LinearAngle, slot_follower_turns, solve
+from .loader import load_train, parse_train
+from .mechanism import DEFAULT_TRAIN, Mechanism, build, open_train
+from .periods import PERIODS, POINTER_KINDS, MeanPeriod, find_period, mean_elements
+from .ratios import PointerRatio, pointer_ratios
+from .readout import Readout, backward_warnings, epoch_values
+from .search import (
     convergents,
     emit_fragment,
     make_constraints,
     make_target,
     search,
 )
-from engine.sky import Site, Sky, SkyState
-from engine.train import Train
+from .sky import Site, Sky, SkyState
+from .train import Train
 
 __all__ = [
     # trains: load, solve, set

@@ -17,9 +17,9 @@ import math
 from dataclasses import dataclass, field
 from fractions import Fraction
 
-from engine.kinematics import Kinematics
-from engine.periods import PERIODS
-from engine.train import FRAME, Train
+from .kinematics import Kinematics
+from .periods import PERIODS
+from .train import FRAME, Train
 
 # --- defaults and rules of thumb (each with where it comes from) -----------------------------
 

@@ -15,7 +15,7 @@ import sys
 
 from rich.console import Console
 
-from engine.errors import WheelworkError
+from .errors import WheelworkError
 
 # Order is the order shown in --help.
 COMMANDS = ("crank", "ratios", "drift", "search", "check", "sky")
@@ -44,9 +44,9 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name in COMMANDS:
         try:
-            mod = importlib.import_module(f"engine.commands.{name}")
+            mod = importlib.import_module(f".commands.{name}", __package__)
         except ModuleNotFoundError as exc:  # a command still being written is simply absent
-            if exc.name == f"engine.commands.{name}":
+            if exc.name == f"{__package__}.commands.{name}":
                 continue
             raise
         p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP)

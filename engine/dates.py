@@ -29,7 +29,7 @@ import re
 
 import numpy as np
 
-from engine.errors import DateError
+from .errors import DateError
 
 CALENDARS = ("auto", "julian", "gregorian")
 GREGORIAN_START_JD = 2299160.5  # 1582-10-15 00:00, first day of the Gregorian calendar

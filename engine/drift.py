@@ -66,9 +66,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from engine.errors import WheelworkError
-from engine.exact import turns_mod1
-from engine.periods import JULIAN_CENTURY_DAYS, PERIODS, POINTER_PERIOD
+from .errors import WheelworkError
+from .exact import turns_mod1
+from .periods import JULIAN_CENTURY_DAYS, PERIODS, POINTER_PERIOD
 
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
 YEAR_DAYS = 365.25  # the Julian year, for steps and spans written in years
@@ -188,7 +188,7 @@ def _expected_deg_per_day(readout, name: str, frame: str) -> float:
 def _site(site):
     if site is None or not isinstance(site, str):
         return site
-    from engine.sky import Site
+    from .sky import Site
 
     return Site.parse(site)
 

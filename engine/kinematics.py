@@ -26,9 +26,9 @@ from fractions import Fraction
 import numpy as np
 import sympy
 
-from engine.errors import TrainError
-from engine.exact import Turns, turns_mod1
-from engine.train import FRAME, Train
+from .errors import TrainError
+from .exact import Turns, turns_mod1
+from .train import FRAME, Train
 
 
 @dataclass(frozen=True)

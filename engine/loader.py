@@ -12,10 +12,10 @@ import tomllib
 from fractions import Fraction
 from pathlib import Path
 
-from engine.errors import DateError, TrainError
-from engine.exact import parse_fraction
-from engine.periods import POINTER_KINDS
-from engine.train import (
+from .errors import DateError, TrainError
+from .exact import parse_fraction
+from .periods import POINTER_KINDS
+from .train import (
     DIAL_FRAMES,
     FRAME,
     SET_MODES,
@@ -310,7 +310,7 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
         # TOML's own date values are accepted too; they are read as UT.
         text = str(text)
     calendar = tbl.get("calendar", "auto")
-    from engine.dates import parse_date  # local import keeps the loader light to import
+    from .dates import parse_date  # local import keeps the loader light to import
 
     try:
         jd = parse_date(text, calendar=calendar)

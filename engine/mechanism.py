@@ -5,11 +5,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from engine.errors import SkyError, TrainError
-from engine.kinematics import Kinematics, solve
-from engine.loader import load_train
-from engine.readout import Readout, backward_warnings, epoch_values
-from engine.train import Train
+from .errors import SkyError, TrainError
+from .kinematics import Kinematics, solve
+from .loader import load_train
+from .readout import Readout, backward_warnings, epoch_values
+from .train import Train
 
 TRAINS_DIR = Path(__file__).resolve().parent / "trains"
 DEFAULT_TRAIN = TRAINS_DIR / "tide_office.toml"
@@ -33,7 +33,7 @@ def build(train: Train, sky=None) -> Mechanism:
     """
     kin = solve(train)
     if sky is None and train.epoch.set != "angles":
-        from engine.sky import Sky  # only the sky module touches skyfield
+        from .sky import Sky  # only the sky module touches skyfield
 
         sky = Sky()
     try:

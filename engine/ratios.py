@@ -9,15 +9,15 @@ from fractions import Fraction
 
 import sympy
 
-from engine.kinematics import Kinematics
-from engine.periods import (
+from .kinematics import Kinematics
+from .periods import (
     JULIAN_CENTURY_DAYS,
     PERIODS,
     POINTER_PERIOD,
     mean_rate_deg_per_day,
 )
-from engine.readout import pointer_linear
-from engine.train import FRAME, Train
+from .readout import pointer_linear
+from .train import FRAME, Train
 
 DAYS_PER_YEAR = 365.25  # Julian year, the unit of "years" in reports
 

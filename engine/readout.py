@@ -13,9 +13,9 @@ from fractions import Fraction
 
 import numpy as np
 
-from engine.exact import Turns
-from engine.kinematics import Kinematics, LinearAngle
-from engine.periods import (
+from .exact import Turns
+from .kinematics import Kinematics, LinearAngle
+from .periods import (
     J2000_JD,
     JULIAN_CENTURY_DAYS,
     PERIODS,
@@ -23,7 +23,7 @@ from engine.periods import (
     PRECESSION_DEG_PER_CY,
     mean_elements,
 )
-from engine.train import Pointer, Train
+from .train import Pointer, Train
 
 
 @dataclass(frozen=True)

@@ -35,10 +35,10 @@ from sympy.ntheory.continued_fraction import (
     continued_fraction_iterator,
 )
 
-from engine.errors import SearchError
-from engine.exact import fraction_text
-from engine.exact import parse_fraction as _exact_fraction
-from engine.periods import JULIAN_CENTURY_DAYS, POINTER_PERIOD, MeanPeriod, find_period
+from .errors import SearchError
+from .exact import fraction_text
+from .exact import parse_fraction as _exact_fraction
+from .periods import JULIAN_CENTURY_DAYS, POINTER_PERIOD, MeanPeriod, find_period
 
 JULIAN_YEAR_DAYS = 365.25
 MAX_STAGES = 4

@@ -59,9 +59,9 @@ from skyfield.nutationlib import (
 from skyfield.precessionlib import compute_precession
 from skyfield.relativity import add_aberration
 
-from engine.dates import format_jd
-from engine.errors import SkyError
-from engine.periods import JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY, mean_elements
+from .dates import format_jd
+from .errors import SkyError
+from .periods import JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY, mean_elements
 
 LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
                "(1550-2650), or --ephemeris FILE with any JPL SPK file")

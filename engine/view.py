@@ -10,8 +10,8 @@ from fractions import Fraction
 
 import numpy as np
 
-from engine.exact import Turns
-from engine.train import FRAME, Train
+from .exact import Turns
+from .train import FRAME, Train
 
 #: An arbor turning more than this (turns per frame) cannot be followed by eye: show a count.
 TOO_FAST_TURNS_PER_FRAME = 1 / 8

@@ -10,9 +10,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from engine.cli import main
-from engine.kinematics import slot_follower_turns, solve
-from engine.loader import load_train, parse_train
 from engine.checks import (
     DEFAULT_EFFICIENCY,
     UNDERCUT_TEETH,
@@ -22,6 +19,9 @@ from engine.checks import (
     slot_speed_factors,
     undercut_shift,
 )
+from engine.cli import main
+from engine.kinematics import slot_follower_turns, solve
+from engine.loader import load_train, parse_train
 
 HERE = Path(__file__).resolve().parent
 TRAINS = HERE / "trains"

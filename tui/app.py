@@ -11,8 +11,9 @@ from textual.screen import Screen
 from engine.errors import WheelworkError
 from engine.mechanism import open_train
 from engine.sky import Site, Sky
-from tui.screens import BenchScreen, long_help
-from tui.session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
+
+from .screens import BenchScreen, long_help
+from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
 
 
 def engine_findings(mech) -> list[tuple[str, str, str, str]]:

@@ -25,8 +25,9 @@ from engine.dates import format_jd, parse_date
 from engine.errors import WheelworkError
 from engine.exact import parse_fraction
 from engine.view import decimal_year, train_layout
-from tui.session import FRAME_NAMES, SPEEDS, Session
-from tui.widgets import (
+
+from .session import FRAME_NAMES, SPEEDS, Session
+from .widgets import (
     CAUTION,
     Findings,
     PhaseDiscs,

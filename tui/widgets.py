@@ -23,7 +23,8 @@ from engine.view import (
     too_fast,
     turns_label,
 )
-from tui.session import FRAME_NAMES, Now, Session
+
+from .session import FRAME_NAMES, Now, Session
 
 # Colours: a train hand and the true body it chases share a hue; the hand is a thin line,
 # the body a solid badge on the ring.

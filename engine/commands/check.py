@@ -11,9 +11,9 @@ from rich import box
 from rich.console import Console
 from rich.table import Table
 
-from engine.kinematics import solve
-from engine.loader import load_train
-from engine.checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
+from ..checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
+from ..kinematics import solve
+from ..loader import load_train
 
 NAME = "check"
 HELP = ("whether a train can be built: centre distances, positions, overlaps, arbor speeds "

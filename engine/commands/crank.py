@@ -19,8 +19,8 @@ def add_arguments(parser) -> None:
 
 def run(args, console) -> int:
     if args.site:  # an impossible site is a value out of range: a usage error, as elsewhere
-        from engine.errors import WheelworkError
-        from engine.sky import Site
+        from ..errors import WheelworkError
+        from ..sky import Site
 
         try:
             Site.parse(args.site)

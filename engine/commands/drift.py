@@ -24,8 +24,8 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from engine.dates import format_jd, parse_date
-from engine.drift import (
+from ..dates import format_jd, parse_date
+from ..drift import (
     PHASE_DEG_PER_DAY,
     YEAR_DAYS,
     DriftCancelled,
@@ -35,7 +35,7 @@ from engine.drift import (
     grid,
     parse_step,
 )
-from engine.errors import WheelworkError
+from ..errors import WheelworkError
 
 NAME = "drift"
 HELP = "how far a train's pointers wander from the true Sun and Moon over years or centuries"
@@ -348,7 +348,7 @@ def _when(jd: float | None) -> str:
 
 
 def _uncertain_why(s) -> str:
-    from engine.drift import MINOR_TERMS
+    from ..drift import MINOR_TERMS
 
     left = [t for t in s.drift_terms_left_out if t not in MINOR_TERMS]
     if left:
@@ -425,8 +425,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from engine.mechanism import open_train
-    from engine.sky import Site, Sky
+    from ..mechanism import open_train
+    from ..sky import Site, Sky
 
     step = parse_step(args.step)
     csv_path = _check_output(args.csv, args.force)

@@ -10,11 +10,11 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
-from engine.exact import fraction_text
-from engine.kinematics import solve
-from engine.loader import load_train
-from engine.ratios import pointer_ratios
-from engine.readout import backward_warnings
+from ..exact import fraction_text
+from ..kinematics import solve
+from ..loader import load_train
+from ..ratios import pointer_ratios
+from ..readout import backward_warnings
 
 NAME = "ratios"
 HELP = "exact ratio, realised period and error of every pointer of a train"

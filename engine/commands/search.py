@@ -12,9 +12,9 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
-from engine.errors import SearchError
-from engine.exact import fraction_text
-from engine.search import (
+from ..errors import SearchError
+from ..exact import fraction_text
+from ..search import (
     Convergent,
     SearchReport,
     TrainResult,

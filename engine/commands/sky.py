@@ -9,9 +9,9 @@ from rich import box
 from rich.console import Console
 from rich.table import Table
 
-from engine.dates import calendar_date, format_jd, parse_date
-from engine.errors import DateError, SkyError
-from engine.sky import Site, Sky
+from ..dates import calendar_date, format_jd, parse_date
+from ..errors import DateError, SkyError
+from ..sky import Site, Sky
 
 NAME = "sky"
 HELP = "true Sun and Moon at a date: longitudes, phase, distance, node and perigee"
