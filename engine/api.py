@@ -15,10 +15,11 @@ from .dates import calendar_date, format_jd, parse_date
 from .drift import DriftResult, PointerSummary, drift_series, parse_step, pointer_errors
 from .errors import DateError, SearchError, SkyError, TrainError, WheelworkError
 from .exact import Turns, parse_fraction
+from .kinds import FRAMES, KINDS, POINTER_KINDS, PointerKind
 from .kinematics import Kinematics, LinearAngle, slot_follower_turns, solve
 from .loader import load_train, parse_train
 from .mechanism import DEFAULT_TRAIN, Mechanism, build, open_train
-from .periods import PERIODS, POINTER_KINDS, MeanPeriod, find_period, mean_elements
+from .periods import PERIODS, MeanPeriod, find_period, mean_elements
 from .ratios import PointerRatio, pointer_ratios
 from .readout import Readout, backward_warnings, epoch_values
 from .search import (
@@ -40,7 +41,7 @@ __all__ = [
     "parse_fraction",
     # ratios and periods
     "pointer_ratios", "PointerRatio", "PERIODS", "POINTER_KINDS", "MeanPeriod", "find_period",
-    "mean_elements",
+    "mean_elements", "KINDS", "PointerKind", "FRAMES",
     # sky truth and dates
     "Sky", "SkyState", "Site", "parse_date", "format_jd", "calendar_date",
     # drift

@@ -68,59 +68,27 @@ import numpy as np
 
 from .errors import WheelworkError
 from .exact import turns_mod1
-from .periods import JULIAN_CENTURY_DAYS, PERIODS, POINTER_PERIOD
+from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, sky_at, true_value
+from .periods import JULIAN_CENTURY_DAYS, PERIODS
 
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
 YEAR_DAYS = 365.25  # the Julian year, for steps and spans written in years
 MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, name a step
 
-# The sky's own periodic inequalities, fitted together with the drift line so that a short
-# span's partial swing is not mistaken for drift. Periods from the mean motions in
-# engine.periods; which inequalities matter, and evection's argument 2D - M (so its period is
-# 1 / (2 / synodic - 1 / anomalistic month), about 31.81 d), are standard lunar theory, from
-# memory. The Sun's equation of centre runs with the anomalistic year (and its half); the
-# Moon's with the anomalistic month (and its half); variation with half the synodic month;
-# the annual equation with the anomalistic year. The elongation (phase) carries both sets.
-_ANOM_YEAR = PERIODS["anomalistic_year"].days
-_ANOM_MONTH = PERIODS["anomalistic_month"].days
-_SYNODIC = PERIODS["synodic_month"].days
-EVECTION_DAYS = 1.0 / (2.0 / _SYNODIC - 1.0 / _ANOM_MONTH)
-SUN_TERMS = (("equation of centre (anomalistic year)", _ANOM_YEAR),
-             ("equation of centre, second harmonic", _ANOM_YEAR / 2))
-MOON_TERMS = (("equation of centre (anomalistic month)", _ANOM_MONTH),
-              ("equation of centre, second harmonic", _ANOM_MONTH / 2),
-              ("evection", EVECTION_DAYS),
-              ("variation (half the synodic month)", _SYNODIC / 2),
-              ("annual equation (anomalistic year)", _ANOM_YEAR))
-SKY_TERMS: dict[str, tuple[tuple[str, float], ...]] = {
-    "sun": SUN_TERMS,
-    "moon": MOON_TERMS,
-    "anomaly": MOON_TERMS,  # true Moon less the mean perigee
-    "draconic": MOON_TERMS,  # true Moon less the mean node
-    "phase": MOON_TERMS + (("Sun's equation of centre, second harmonic", _ANOM_YEAR / 2),),
-    "node": (),  # the sky's node and perigee are the mean elements: nothing periodic
-    "apsis": (),
-}
-# On an equinox dial the true longitudes carry the nutation (about ±17", with the node's 18.6
-# years; from memory). The elongation does not (a difference of two longitudes), nor do the
-# mean node and perigee, nor anything on a star dial. It is fitted when the span allows, but
-# being small it does not make a drift "uncertain" when left out: as a slope it is at most
-# 17" x 2 pi / 18.6 years, 0.16° a century.
-NUTATION = ("nutation (the node's 18.6 years)", PERIODS["nodal_period"].days)
-NUTATING_KINDS = ("sun", "moon", "anomaly", "draconic")
-# terms small enough not to make a drift "uncertain" when left out, with their amplitude:
+# The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
+# together with the drift line so that a short span's partial swing is not mistaken for drift.
+# The nutation is fitted when the span allows, but being small it does not make a drift
+# "uncertain" when left out: as a slope it is at most 17" x 2 pi / 18.6 years, 0.16° a century.
+# Terms small enough not to make a drift "uncertain" when left out, with their amplitude:
 # their largest possible tilt of the line is added to the slope's standard error instead
-MINOR_TERMS: dict[str, float] = {NUTATION[0]: 17.2 / 3600}
+MINOR_TERMS: dict[str, float] = {NUTATION[0]: NUTATION_AMPLITUDE_DEG}
 TERM_MIN_CYCLES = 1.0  # a term is fitted once the span holds this many of its periods
 
 
 def sky_terms(shows: str, frame: str = "equinox") -> tuple[tuple[str, float], ...]:
     """The ``(name, period_days)`` inequalities fitted with the drift of a pointer of kind
-    ``shows`` on a dial of ``frame``."""
-    terms = SKY_TERMS.get(shows, ())
-    if frame == "equinox" and shows in NUTATING_KINDS:
-        terms = (*terms, NUTATION)
-    return terms
+    ``shows`` on a dial of ``frame`` (none for a series of no known kind)."""
+    return KINDS[shows].swings_in(frame) if shows in KINDS else ()
 
 
 class DriftError(WheelworkError):
@@ -182,7 +150,7 @@ def unwrap_deg(x: np.ndarray) -> np.ndarray:
 def _expected_deg_per_day(readout, name: str, frame: str) -> float:
     """Mean rate of the pointer's error from the mean motions: train rate minus sky rate."""
     p = readout.train.pointers[name]
-    return readout.deg_per_day(name) - PERIODS[POINTER_PERIOD[p.shows][frame]].deg_per_day
+    return readout.deg_per_day(name) - KINDS[p.shows].mean_period(frame).deg_per_day
 
 
 def _site(site):
@@ -222,12 +190,13 @@ def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None, site=None,
     readout = readout or mech.readout
     frame = frame or mech.train.dial
     jd = np.asarray(jd_ut, dtype=float)
-    state = sky.at(jd, frame=frame, site=_site(site))
+    shows = [p.shows for p in mech.train.pointers.values()]
+    state = sky_at(sky, jd, shows, frame=frame, site=_site(site))
     reading = readout.read_deg(readout.turns_at(jd))
     out = {}
     for name, p in mech.train.pointers.items():
         train = np.reshape(reading[name], jd.shape)
-        true = np.reshape(state.kind(p.shows), jd.shape)
+        true = np.reshape(true_value(p.shows, state), jd.shape)
         err = wrap_deg(train - true)
         days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
         out[name] = ErrorNow(name, p.shows, train, true, err, days)
@@ -859,6 +828,7 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
             except WheelworkError:  # past the ephemeris' end: keep the date before jd_end
                 pass
     pointers = dict(mech.train.pointers)
+    shows = [p.shows for p in pointers.values()]
     if not isinstance(threshold_deg, dict):
         threshold_deg = {name: threshold_deg for name in pointers}
     runs, expected = {}, {}
@@ -884,14 +854,14 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
         k = j + i0
         jd = jd0 + k * step
         t = time.perf_counter()
-        state = sky.at(jd, frame=frame, site=site)
+        state = sky_at(sky, jd, shows, frame=frame, site=site)
         sky_s += time.perf_counter() - t
         since = j * turns_per_step
         a, base = reader.anchor(jd[0])
         lags = reader.lags_turns(a, since)
         errors = {}
         for name, p in pointers.items():
-            true = state.kind(p.shows)
+            true = true_value(p.shows, state)
             # the error less the line expected from the mean rates, then taken the short way
             # round from the first date's value: its unwrapped form (see module docstring)
             cont = reader.continuous_deg(name, base, since, lags)

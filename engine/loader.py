@@ -14,9 +14,8 @@ from pathlib import Path
 
 from .errors import DateError, TrainError
 from .exact import parse_fraction
-from .periods import POINTER_KINDS
+from .kinds import DIAL_FRAMES, KINDS
 from .train import (
-    DIAL_FRAMES,
     FRAME,
     SET_MODES,
     Arbor,
@@ -332,9 +331,9 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
         item = f"[pointers.{name}]"
         tbl = r.table(tbl, item, "pointer")
         shows = r.need(tbl, "shows", item)
-        if shows not in POINTER_KINDS:
+        if shows not in KINDS:
             raise r.fail(f"{item} shows", f"unknown pointer kind {_show(shows)} (known: "
-                         + ", ".join(POINTER_KINDS) + ")")
+                         + ", ".join(KINDS) + ")")
         arbor = r.text(r.need(tbl, "arbor", item), f"{item} arbor")
         if arbor not in arbors:
             raise r.fail(f"{item} arbor", f"unknown arbor '{arbor}'")

@@ -104,36 +104,6 @@ def find_period(text: str) -> MeanPeriod:
     raise KeyError(f"unknown period {text!r}; known periods: {known}")
 
 
-# What each pointer kind indicates: the period it should realise, in each dial frame.
-# "equinox" dials read longitude from the moving equinox (tropical), "stars" from a fixed star.
-POINTER_PERIOD: dict[str, dict[str, str]] = {
-    "sun": {"equinox": "tropical_year", "stars": "sidereal_year"},
-    "moon": {"equinox": "tropical_month", "stars": "sidereal_month"},
-    "phase": {"equinox": "synodic_month", "stars": "synodic_month"},
-    "anomaly": {"equinox": "anomalistic_month", "stars": "anomalistic_month"},
-    "draconic": {"equinox": "draconic_month", "stars": "draconic_month"},
-    "node": {"equinox": "nodal_period", "stars": "nodal_period"},
-    "apsis": {"equinox": "apsidal_period", "stars": "apsidal_period"},
-}
-POINTER_KINDS = tuple(POINTER_PERIOD)
-
-# Longitudes that a star-fixed dial reads lower than an equinox dial by the precession.
-PRECESSING_KINDS = ("sun", "moon", "node", "apsis")
-
-
-def mean_rate_deg_per_day(kind: str, frame: str = "equinox") -> float:
-    """Signed mean motion of what a pointer of ``kind`` shows, in degrees per day, as read on
-    a dial of ``frame`` ("equinox": from the equinox of date; "stars": from a fixed star).
-
-    On a star dial the Sun, Moon, node and perigee move slower by the general precession
-    (differences of two longitudes — phase, anomaly, draconic — do not change).
-    """
-    rate = PERIODS[POINTER_PERIOD[kind]["equinox"]].deg_per_day
-    if frame == "stars" and kind in PRECESSING_KINDS:
-        rate -= PRECESSION_DEG_PER_CY / JULIAN_CENTURY_DAYS
-    return rate
-
-
 def _poly(t: np.ndarray, coeffs: tuple[float, ...]) -> np.ndarray:
     out = np.zeros_like(t)
     for c in reversed(coeffs):

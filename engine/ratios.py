@@ -9,13 +9,9 @@ from fractions import Fraction
 
 import sympy
 
+from .kinds import KINDS, mean_rate_deg_per_day
 from .kinematics import Kinematics
-from .periods import (
-    JULIAN_CENTURY_DAYS,
-    PERIODS,
-    POINTER_PERIOD,
-    mean_rate_deg_per_day,
-)
+from .periods import JULIAN_CENTURY_DAYS
 from .readout import pointer_linear
 from .train import FRAME, Train
 
@@ -144,7 +140,7 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
     for p in train.pointers.values():
         lin = pointer_linear(kin, p)
         ratio = lin.crank
-        target = PERIODS[POINTER_PERIOD[p.shows][frame]]
+        target = KINDS[p.shows].mean_period(frame)
         true_deg_per_day = mean_rate_deg_per_day(p.shows, frame)
         target_days = 360.0 / abs(true_deg_per_day)
         period = float(dpt / abs(ratio)) if ratio else float("inf")

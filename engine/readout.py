@@ -14,15 +14,9 @@ from fractions import Fraction
 import numpy as np
 
 from .exact import Turns
+from .kinds import KINDS, mean_value, sky_at, true_value
 from .kinematics import Kinematics, LinearAngle
-from .periods import (
-    J2000_JD,
-    JULIAN_CENTURY_DAYS,
-    PERIODS,
-    POINTER_PERIOD,
-    PRECESSION_DEG_PER_CY,
-    mean_elements,
-)
+from .periods import mean_elements
 from .train import Pointer, Train
 
 
@@ -52,7 +46,7 @@ def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
     out = []
     for p in train.pointers.values():
         rate = pointer_linear(kin, p).crank
-        want = PERIODS[POINTER_PERIOD[p.shows][train.dial]].sense
+        want = KINDS[p.shows].mean_period(train.dial).sense
         if rate == 0:
             out.append(f"{train.source}: [pointers.{p.name}]: arbor '{p.arbor}' does not turn "
                        f"relative to {p.relative_to or 'the frame'}, so the pointer stands still")
@@ -79,22 +73,15 @@ def epoch_values(train: Train, sky=None, frame: str | None = None) -> dict[str, 
     if mode == "sky":
         if sky is None:
             raise ValueError("set = \"sky\" needs a Sky to read the true sky at the epoch")
-        state = sky.at(np.array([jd]), frame=frame)
-        return {n: float(state.kind(p.shows)[0]) for n, p in train.pointers.items()}
+        shows = [p.shows for p in train.pointers.values()]
+        state = sky_at(sky, np.array([jd]), shows, frame=frame)
+        return {n: float(true_value(p.shows, state)[0]) for n, p in train.pointers.items()}
     jd_tt = jd
     if sky is not None:
         jd_tt = jd + float(sky.at(np.array([jd]), frame=frame).delta_t_s[0]) / 86400.0
-    mean = mean_elements(jd_tt)
-    shift = 0.0
-    if frame == "stars":  # mean elements are of date; a star dial reads from the J2000 equinox
-        shift = (jd_tt - J2000_JD) / JULIAN_CENTURY_DAYS * PRECESSION_DEG_PER_CY
-    out = {}
-    for n, p in train.pointers.items():
-        v = float(mean[p.shows])
-        if p.shows in ("sun", "moon", "node", "apsis"):
-            v = (v - shift) % 360.0
-        out[n] = v
-    return out
+    mean = mean_elements(jd_tt)  # of date; a star dial reads from the J2000 equinox
+    return {n: float(mean_value(p.shows, mean, jd_tt, frame))
+            for n, p in train.pointers.items()}
 
 
 class Readout:

@@ -38,7 +38,8 @@ from sympy.ntheory.continued_fraction import (
 from .errors import SearchError
 from .exact import fraction_text
 from .exact import parse_fraction as _exact_fraction
-from .periods import JULIAN_CENTURY_DAYS, POINTER_PERIOD, MeanPeriod, find_period
+from .kinds import KINDS
+from .periods import JULIAN_CENTURY_DAYS, MeanPeriod, find_period
 
 JULIAN_YEAR_DAYS = 365.25
 MAX_STAGES = 4
@@ -729,9 +730,9 @@ def _pointer_kind(target: Target | None) -> str | None:
     """The pointer kind that shows the target's cycle, if the target is a named cycle."""
     if target is None or target.cycle is None:
         return None
-    for kind, frames in POINTER_PERIOD.items():
-        if target.cycle.key in frames.values():
-            return kind
+    for kind in KINDS.values():
+        if target.cycle.key in kind.period.values():
+            return kind.key
     return None
 
 

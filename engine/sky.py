@@ -61,14 +61,15 @@ from skyfield.relativity import add_aberration
 
 from .dates import format_jd
 from .errors import SkyError
-from .periods import JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY, mean_elements
+from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
+from .periods import JULIAN_CENTURY_DAYS, mean_elements
 
 LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
                "(1550-2650), or --ephemeris FILE with any JPL SPK file")
 LONGEST_HINT = ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
                 "have downloaded")
-FRAMES = ("equinox", "stars")
-KINDS = ("sun", "moon", "phase", "node", "apsis", "anomaly", "draconic")
+FRAMES = DIAL_FRAMES  # the tables of frames and pointer kinds live in engine.kinds
+KINDS = POINTER_KINDS
 
 # Eight phase names on equal 45° bands of elongation, each centred on its phase:
 # new is 337.5°-22.5°, first quarter 67.5°-112.5°, full 157.5°-202.5°, and so on
@@ -347,28 +348,13 @@ class SkyState:
     frame: str = "equinox"
 
     def kind(self, name: str) -> np.ndarray:
-        """True value (degrees, 0-360) that a pointer of kind ``name`` should show.
-
-        ``sun``, ``moon`` (longitudes), ``phase`` (elongation), ``node`` (mean node), ``apsis``
-        (mean perigee), ``anomaly`` (Moon longitude − mean perigee), ``draconic`` (Moon
-        longitude − mean node). All in this state's frame.
-        """
-        key = str(name).strip().lower()
-        if key == "sun":
-            return self.sun_lon_deg
-        if key == "moon":
-            return self.moon_lon_deg
-        if key == "phase":
-            return self.elongation_deg
-        if key == "node":
-            return self.node_deg
-        if key == "apsis":
-            return self.perigee_deg
-        if key == "anomaly":
-            return np.mod(self.moon_lon_deg - self.perigee_deg, 360.0)
-        if key == "draconic":
-            return np.mod(self.moon_lon_deg - self.node_deg, 360.0)
-        raise SkyError(f"unknown pointer kind {name!r}; known kinds: {', '.join(KINDS)}")
+        """True value (degrees, 0-360, this state's frame) that a pointer of kind ``name``
+        should show: the ``true`` of its row in :data:`engine.kinds.KINDS`."""
+        try:
+            return true_value(name, self)
+        except KeyError:
+            raise SkyError(f"unknown pointer kind {name!r}; known kinds: "
+                           f"{', '.join(KINDS)}") from None
 
     def phase_names(self) -> list[str]:
         """Phase name at each date (flattened; a scalar state gives a one-item list).
@@ -430,10 +416,8 @@ class Sky:
             out = self._slow(_timescale().ut1_jd(flat), frame, site)
         sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum, jd_tt, delta_t = out
         mean = mean_elements(jd_tt)
-        node, perigee = mean["node"], mean["apsis"]
-        if frame == "stars":
-            shift = PRECESSION_DEG_PER_CY * (jd_tt - T0) / JULIAN_CENTURY_DAYS
-            node, perigee = np.mod(node - shift, 360.0), np.mod(perigee - shift, 360.0)
+        node = to_frame(mean["node"], jd_tt, frame)
+        perigee = to_frame(mean["apsis"], jd_tt, frame)
         values = dict(
             jd_ut=flat, delta_t_s=delta_t,
             sun_lon_deg=sun_lon, sun_lat_deg=sun_lat, moon_lon_deg=moon_lon,

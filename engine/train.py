@@ -12,7 +12,6 @@ from fractions import Fraction
 FRAME = "frame"  # the name of the fixed frame, which every mount chain ends at
 
 SET_MODES = ("sky", "mean", "angles")
-DIAL_FRAMES = ("equinox", "stars")
 
 
 @dataclass(frozen=True)

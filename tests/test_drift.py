@@ -489,7 +489,7 @@ def test_drift_fit_separates_a_known_swing_from_the_line():
 def test_evection_period_from_the_mean_motions():
     """Evection's argument is 2D - M (standard lunar theory, from memory): its period from
     the mean synodic and anomalistic months is 31.81 days (from memory)."""
-    from engine.drift import EVECTION_DAYS
+    from engine.kinds import EVECTION_DAYS
 
     assert EVECTION_DAYS == pytest.approx(31.812, abs=0.001)
 

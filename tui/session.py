@@ -16,6 +16,7 @@ from engine.dates import format_jd
 from engine.drift import pointer_errors
 from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
+from engine.kinds import FRAMES, next_frame, sky_at
 from engine.mechanism import Mechanism
 from engine.ratios import pointer_ratios
 from engine.readout import Readout
@@ -30,7 +31,7 @@ DEFAULT_SITE_NAME = "default site"
 SPEEDS = (0.25, 1.0, 3.0, 10.0, 30.0, 100.0, 300.0, 1000.0, 3000.0)
 DEFAULT_SPEED = 3
 
-FRAME_NAMES = {"equinox": "equinox of date", "stars": "fixed stars (J2000)"}
+FRAME_NAMES = FRAMES  # dial frame -> plain words
 MAX_STEP_TURNS = 10**9
 
 
@@ -190,7 +191,7 @@ class Session:
         self.speed_index = max(self.speed_index - 1, 0)
 
     def toggle_frame(self) -> None:
-        self.frame = "stars" if self.frame == "equinox" else "equinox"
+        self.frame = next_frame(self.frame)
         self.worst_deg = {}
 
     def toggle_observer(self) -> None:
@@ -230,7 +231,8 @@ class Session:
         jd = self.jd_now()
         self._check_jd(jd)
         errors = self._errors(jd)
-        state = self._last_sky.at(np.array([jd]), frame=self.frame, site=self.observer)
+        shows = [p.shows for p in self.mech.train.pointers.values()]  # as pointer_errors asks
+        state = sky_at(self._last_sky, np.array([jd]), shows, frame=self.frame, site=self.observer)
         drift = self.drift_per_century()
         pointers = {}
         for name, e in errors.items():

@@ -1,0 +1,202 @@
+"""Pointer kinds and dial frames: one table each. Adding a kind is adding a row to ``KINDS``.
+
+A pointer's ``shows`` names a row of :data:`KINDS`. The row says, in one place, everything
+the engine needs to know about what such a pointer shows:
+
+* ``about``: what it shows, in plain words (messages, help, docs);
+* ``period``: the key in :data:`engine.periods.PERIODS` of the mean period it should realise,
+  per dial frame (the ratio report, the backwards check, drift's expected line, search);
+* ``true``: how its true value (degrees, 0-360, in the state's frame) is taken from an
+  :class:`engine.sky.SkyState` (the readouts, drift, the interface, ``set = "sky"``);
+* ``mean``: how its mean value (degrees, equinox of date) is taken from
+  :func:`engine.periods.mean_elements` (``set = "mean"``), ``None`` when there is none;
+* ``precesses``: whether a star dial reads it lower than an equinox dial by the accumulated
+  general precession (a longitude does; a difference of two longitudes does not);
+* ``swings``: the periodic inequalities the true sky puts into it, ``(name, period_days)``,
+  fitted with the drift line so a part swing is not read as drift;
+* ``nutates``: whether an equinox dial's true value carries the nutation in longitude;
+* ``bodies``: sky bodies beyond the Sun and Moon its true value needs (planet names, for
+  ``Sky.at(..., planets=...)``; see :func:`sky_at`).
+
+Frames: :data:`FRAMES` names each dial frame in plain words. The one frame change the engine
+makes by hand — a value of the equinox of date read on a star (J2000) dial — is
+:func:`precession_deg`, used through :func:`to_frame` and :func:`mean_rate_deg_per_day`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import TrainError
+from .periods import J2000_JD, JULIAN_CENTURY_DAYS, PERIODS, PRECESSION_DEG_PER_CY, MeanPeriod
+
+# --- dial frames ---------------------------------------------------------------------------
+
+#: dial frame -> what it is, in plain words. "equinox": longitudes from the true equinox of
+#: date (a tropical zodiac dial); "stars": from a fixed star, the ecliptic of J2000.
+FRAMES: dict[str, str] = {
+    "equinox": "equinox of date",
+    "stars": "fixed stars (J2000)",
+}
+DIAL_FRAMES = tuple(FRAMES)
+
+
+def next_frame(frame: str) -> str:
+    """The frame after ``frame`` in :data:`FRAMES` (wrapping round): an interface's toggle."""
+    keys = list(FRAMES)
+    return keys[(keys.index(frame) + 1) % len(keys)]
+
+
+def precession_deg(jd_tt, frame: str):
+    """Degrees a star dial reads lower than an equinox dial for a longitude of date at ``jd_tt``
+    (the accumulated general precession since J2000, the first-order correction that ignores
+    the slow tilt of the ecliptic itself); 0 on an equinox dial. Shaped like ``jd_tt``."""
+    jd = np.asarray(jd_tt, dtype=float)
+    if frame == "equinox":
+        return np.zeros_like(jd)
+    return PRECESSION_DEG_PER_CY * (jd - J2000_JD) / JULIAN_CENTURY_DAYS
+
+
+def to_frame(value_deg, jd_tt, frame: str, precesses: bool = True):
+    """A longitude of the equinox of date (degrees) as read on a dial of ``frame``, 0-360.
+
+    ``precesses=False`` (a difference of two longitudes) leaves it as it is."""
+    v = np.asarray(value_deg, dtype=float)
+    if not precesses or frame == "equinox":
+        return v
+    return np.mod(v - precession_deg(jd_tt, frame), 360.0)
+
+
+# --- the sky's known swings ----------------------------------------------------------------
+# Periods from the mean motions in engine.periods; which inequalities matter, and evection's
+# argument 2D - M (so its period is 1 / (2 / synodic - 1 / anomalistic month), about 31.81 d),
+# are standard lunar theory, from memory. The Sun's equation of centre runs with the
+# anomalistic year (and its half); the Moon's with the anomalistic month (and its half);
+# variation with half the synodic month; the annual equation with the anomalistic year. The
+# elongation (phase) carries both sets.
+_ANOM_YEAR = PERIODS["anomalistic_year"].days
+_ANOM_MONTH = PERIODS["anomalistic_month"].days
+_SYNODIC = PERIODS["synodic_month"].days
+EVECTION_DAYS = 1.0 / (2.0 / _SYNODIC - 1.0 / _ANOM_MONTH)
+SUN_SWINGS = (("equation of centre (anomalistic year)", _ANOM_YEAR),
+              ("equation of centre, second harmonic", _ANOM_YEAR / 2))
+MOON_SWINGS = (("equation of centre (anomalistic month)", _ANOM_MONTH),
+               ("equation of centre, second harmonic", _ANOM_MONTH / 2),
+               ("evection", EVECTION_DAYS),
+               ("variation (half the synodic month)", _SYNODIC / 2),
+               ("annual equation (anomalistic year)", _ANOM_YEAR))
+# On an equinox dial the true longitudes carry the nutation (about ±17.2", with the node's
+# 18.6 years; from memory). The elongation does not (a difference of two longitudes), nor do
+# the mean node and perigee, nor anything on a star dial.
+NUTATION = ("nutation (the node's 18.6 years)", PERIODS["nodal_period"].days)
+NUTATION_AMPLITUDE_DEG = 17.2 / 3600
+
+
+# --- pointer kinds -------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class PointerKind:
+    """One row of :data:`KINDS`: what a pointer of this kind shows (see the module docstring)."""
+
+    key: str
+    about: str
+    period: dict[str, str]  # dial frame -> key in engine.periods.PERIODS
+    true: Callable  # SkyState -> degrees 0-360 in the state's frame
+    mean: Callable | None  # mean_elements(jd_tt) dict -> degrees, equinox of date
+    precesses: bool
+    swings: tuple[tuple[str, float], ...] = ()
+    nutates: bool = False
+    bodies: tuple[str, ...] = ()
+
+    def mean_period(self, frame: str) -> MeanPeriod:
+        """The mean period a pointer of this kind should realise on a dial of ``frame``."""
+        return PERIODS[self.period[frame]]
+
+    def swings_in(self, frame: str) -> tuple[tuple[str, float], ...]:
+        """The sky's swings in its true value on a dial of ``frame`` (with the nutation on an
+        equinox dial when it nutates)."""
+        return (*self.swings, NUTATION) if frame == "equinox" and self.nutates else self.swings
+
+
+def _both(key: str) -> dict[str, str]:
+    return {frame: key for frame in FRAMES}
+
+
+def _diff(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    return np.mod(a - b, 360.0)
+
+
+KINDS: dict[str, PointerKind] = {k.key: k for k in (
+    PointerKind("sun", "the Sun's ecliptic longitude",
+                {"equinox": "tropical_year", "stars": "sidereal_year"},
+                lambda s: s.sun_lon_deg, lambda m: m["sun"], precesses=True,
+                swings=SUN_SWINGS, nutates=True),
+    PointerKind("moon", "the Moon's ecliptic longitude",
+                {"equinox": "tropical_month", "stars": "sidereal_month"},
+                lambda s: s.moon_lon_deg, lambda m: m["moon"], precesses=True,
+                swings=MOON_SWINGS, nutates=True),
+    PointerKind("phase", "the Moon's phase: its elongation from the Sun",
+                _both("synodic_month"), lambda s: s.elongation_deg, lambda m: m["phase"],
+                precesses=False,
+                swings=(*MOON_SWINGS, ("Sun's equation of centre, second harmonic",
+                                       _ANOM_YEAR / 2))),
+    PointerKind("anomaly", "the Moon's anomaly: its longitude less the mean perigee's",
+                _both("anomalistic_month"), lambda s: _diff(s.moon_lon_deg, s.perigee_deg),
+                lambda m: m["anomaly"], precesses=False, swings=MOON_SWINGS, nutates=True),
+    PointerKind("draconic", "the Moon's longitude less the mean node's",
+                _both("draconic_month"), lambda s: _diff(s.moon_lon_deg, s.node_deg),
+                lambda m: m["draconic"], precesses=False, swings=MOON_SWINGS, nutates=True),
+    # the sky's node and perigee are the mean elements: nothing periodic
+    PointerKind("node", "the longitude of the Moon's mean ascending node",
+                _both("nodal_period"), lambda s: s.node_deg, lambda m: m["node"],
+                precesses=True),
+    PointerKind("apsis", "the longitude of the Moon's mean perigee",
+                _both("apsidal_period"), lambda s: s.perigee_deg, lambda m: m["apsis"],
+                precesses=True),
+)}
+POINTER_KINDS = tuple(KINDS)
+
+
+def true_value(name: str, state) -> np.ndarray:
+    """The true value (degrees 0-360, the state's frame) a pointer of kind ``name`` should show;
+    ``KeyError`` for an unknown kind."""
+    return KINDS[str(name).strip().lower()].true(state)
+
+
+def mean_value(name: str, mean: dict, jd_tt, frame: str):
+    """The mean value of kind ``name`` on a dial of ``frame``, from ``mean_elements(jd_tt)``."""
+    row = KINDS[name]
+    if row.mean is None:
+        raise TrainError("pointer kind", name, "has no mean value: set it from the sky or by "
+                         "angles")
+    return to_frame(row.mean(mean), jd_tt, frame, row.precesses)
+
+
+def mean_rate_deg_per_day(name: str, frame: str = "equinox") -> float:
+    """Signed mean motion of what a pointer of kind ``name`` shows, degrees per day, as read on
+    a dial of ``frame``: the equinox-of-date rate, less the general precession on a star dial
+    when the kind precesses."""
+    row = KINDS[name]
+    rate = PERIODS[row.period["equinox"]].deg_per_day
+    if row.precesses and frame != "equinox":
+        rate -= PRECESSION_DEG_PER_CY / JULIAN_CENTURY_DAYS
+    return rate
+
+
+def bodies(kinds: Iterable[str]) -> tuple[str, ...]:
+    """Sky bodies beyond the Sun and Moon that pointers of these kinds need, in order."""
+    out: dict[str, None] = {}
+    for k in kinds:
+        out.update(dict.fromkeys(KINDS[k].bodies))
+    return tuple(out)
+
+
+def sky_at(sky, jd_ut, kinds: Iterable[str] = (), frame: str = "equinox", site=None):
+    """``sky.at`` for pointers of these kinds: asks for the planets they need, if any."""
+    need = bodies(kinds)
+    if need:
+        return sky.at(jd_ut, frame=frame, site=site, planets=need)
+    return sky.at(jd_ut, frame=frame, site=site)

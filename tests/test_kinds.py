@@ -1,0 +1,118 @@
+"""The table of pointer kinds and the frame change: every row complete, one frame change, and a
+new kind reaching the loader, the readouts, the ratio report and drift as a row alone."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from engine import kinds
+from engine.kinds import FRAMES, KINDS, mean_rate_deg_per_day, precession_deg, to_frame
+from engine.periods import J2000_JD, PERIODS, PRECESSION_DEG_PER_CY, mean_elements
+
+ARCSEC = 1 / 3600
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+
+
+@pytest.fixture(scope="module")
+def sky():
+    from engine.sky import Sky
+
+    return Sky()
+
+
+def test_every_row_is_complete():
+    for key, row in KINDS.items():
+        assert row.key == key and row.about
+        assert set(row.period) == set(FRAMES), key  # a period on every dial frame
+        for frame in FRAMES:
+            assert row.mean_period(frame) is PERIODS[row.period[frame]]
+        for _, days in row.swings_in("equinox"):
+            assert days > 1.0  # periods in days, not cycles
+
+
+def test_star_dial_reads_longitudes_lower_by_the_precession():
+    """IAU 1976 general precession, 5029.0966"/century (Meeus ch. 21): a century after J2000
+    a star dial reads a longitude 1.397° lower; a difference of two longitudes not at all."""
+    jd = J2000_JD + 36525.0
+    assert float(precession_deg(jd, "stars")) == pytest.approx(5029.0966 / 3600, abs=1e-12)
+    assert float(precession_deg(jd, "equinox")) == 0.0
+    assert float(to_frame(10.0, jd, "stars")) == pytest.approx(10.0 - 5029.0966 / 3600)
+    assert float(to_frame(1.0, jd, "stars")) == pytest.approx(361.0 - 5029.0966 / 3600)
+    assert float(to_frame(10.0, jd, "stars", precesses=False)) == 10.0
+    per_day = PRECESSION_DEG_PER_CY / 36525.0
+    for key, row in KINDS.items():
+        diff = mean_rate_deg_per_day(key, "equinox") - mean_rate_deg_per_day(key, "stars")
+        assert diff == pytest.approx(per_day if row.precesses else 0.0, abs=1e-15), key
+        # the mean period named for a star dial is the same motion (the node and perigee name
+        # their period of date on both dials, while their rate on a star dial is the sidereal one)
+        if row.period["stars"] == row.period["equinox"] and row.precesses:
+            continue
+        days = row.mean_period("stars").days
+        assert 360.0 / abs(mean_rate_deg_per_day(key, "stars")) == pytest.approx(days, rel=1e-9)
+
+
+def test_true_values_come_from_the_sky_state(sky):
+    jd = np.array([2451545.0, 2460000.5, 2470000.25])
+    for frame in FRAMES:
+        state = sky.at(jd, frame=frame)
+        for key in KINDS:
+            v = np.asarray(kinds.true_value(key, state))
+            assert v.shape == jd.shape and np.all((v >= 0) & (v < 360)), (key, frame)
+            np.testing.assert_array_equal(v, state.kind(key))
+
+
+def test_sky_node_and_perigee_use_the_one_frame_change(sky):
+    jd = np.array([2415020.5, 2460000.5])
+    eq, st = sky.at(jd, frame="equinox"), sky.at(jd, frame="stars")
+    jd_tt = jd + eq.delta_t_s / 86400.0
+    mean = mean_elements(jd_tt)
+    np.testing.assert_allclose(st.node_deg, to_frame(mean["node"], jd_tt, "stars"), atol=1e-9)
+    np.testing.assert_allclose(eq.perigee_deg, mean["apsis"], atol=1e-9)
+
+
+def test_a_new_kind_is_a_row(monkeypatch, sky, tmp_path):
+    """A kind added to the table alone is read by the loader, set from the sky and from the
+    mean elements, reported by the ratio report and followed by drift."""
+    from engine.drift import drift_series, sky_terms
+    from engine.loader import load_train
+    from engine.mechanism import build
+    from engine.ratios import pointer_ratios
+    from engine.readout import epoch_values
+
+    row = replace(KINDS["moon"], key="luna", about="the Moon's longitude, by another name")
+    monkeypatch.setitem(KINDS, "luna", row)
+    text = (ROOT / "engine" / "trains" / "nineteen_year_drum.toml").read_text()
+    assert 'shows = "moon"' in text
+    path = tmp_path / "luna.toml"
+    path.write_text(text.replace('shows = "moon"', 'shows = "luna"'))
+    train = load_train(path)
+    name = next(n for n, p in train.pointers.items() if p.shows == "luna")
+    mech = build(train, sky)
+    for mode in ("sky", "mean"):
+        t = replace(train, epoch=replace(train.epoch, set=mode))
+        assert epoch_values(t, sky)[name] == pytest.approx(
+            epoch_values(replace(t, pointers={**t.pointers, name: replace(
+                t.pointers[name], shows="moon")}), sky)[name], abs=ARCSEC)
+    ratios = {r.pointer: r for r in pointer_ratios(mech.train, mech.kin)}
+    assert ratios[name].target_key == "tropical_month"
+    assert sky_terms("luna") == sky_terms("moon")
+    res = drift_series(mech, sky, 2451545.0, 2451545.0 + 400, 1.0, keep_series=False)
+    assert res.summaries[name].max_abs_deg > 0
+    assert "luna" not in kinds.bodies(["luna"])
+
+
+def test_unknown_kind_in_a_train_names_the_known_ones(tmp_path):
+    from engine.errors import TrainError
+    from engine.loader import load_train
+
+    text = (ROOT / "engine" / "trains" / "nineteen_year_drum.toml").read_text()
+    path = tmp_path / "bad.toml"
+    path.write_text(text.replace('shows = "moon"', 'shows = "tides"'))
+    with pytest.raises(TrainError) as e:
+        load_train(path)
+    assert "tides" in str(e.value) and ", ".join(KINDS) in str(e.value)
