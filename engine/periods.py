@@ -13,11 +13,18 @@ the rounded periods every almanac quotes):
 * Sun: geometric mean longitude and mean anomaly — Meeus, ch. 25 and ch. 47.
 * General precession in longitude, 5029.0966 arcsec per century — IAU 1976 value as given by
   Meeus, ch. 21.
+* Planets: mean longitudes at J2000 and their rates, referred to the mean ecliptic and equinox of
+  J2000 (so the rates are sidereal) — JPL, "Keplerian elements for approximate positions of the
+  major planets", table 1 (1800 AD – 2050 AD). Recalled from memory, and agreeing digit for
+  digit with the table's published text.
+* Classical period relations (Venus 5 synodic periods in 8 years, ...) — standard history of
+  astronomy, from memory; each is checked against the mean periods (:func:`relation_error_ppm`).
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from fractions import Fraction
 
 import numpy as np
 
@@ -39,6 +46,43 @@ MOON_LATITUDE_ARG_RATE = 483202.0175233
 MOON_NODE_RATE = -1934.1362891
 MOON_PERIGEE_RATE = MOON_MEAN_LON_RATE - MOON_ANOMALY_RATE
 
+JPL_PLANETS = ("JPL, Keplerian elements for approximate positions of the major planets, "
+               "table 1 (1800-2050), mean longitude rate (J2000 ecliptic and equinox)")
+JULIAN_YEAR_DAYS = Fraction(36525, 100)  # the years of the classical period relations
+
+
+@dataclass(frozen=True)
+class Planet:
+    """One planet's mean motion: heliocentric mean longitude at J2000 (degrees) and its rate
+    (degrees per Julian century), both against the J2000 equinox; mean distance in au."""
+
+    key: str
+    name: str
+    lon_j2000_deg: float
+    rate_deg_per_cy: float
+    distance_au: float
+
+    @property
+    def inner(self) -> bool:
+        """Inside the Earth's orbit: seen from the Earth it keeps near the Sun."""
+        return self.distance_au < 1.0
+
+
+# JPL table 1 (1800-2050), from memory: L at J2000 (deg), L rate (deg/century), a (au).
+EARTH = Planet("earth", "Earth", 100.46457166, 35999.37244981, 1.00000261)  # EM barycentre
+PLANETS: dict[str, Planet] = {
+    p.key: p
+    for p in (
+        Planet("mercury", "Mercury", 252.25032350, 149472.67411175, 0.38709927),
+        Planet("venus", "Venus", 181.97909950, 58517.81538729, 0.72333566),
+        Planet("mars", "Mars", -4.55343205, 19140.30268499, 1.52371034),
+        Planet("jupiter", "Jupiter", 34.39644051, 3034.74612775, 5.20288700),
+        Planet("saturn", "Saturn", 49.95424423, 1222.49362201, 9.53667594),
+        Planet("uranus", "Uranus", 313.23810451, 428.48202785, 19.18916464),
+        Planet("neptune", "Neptune", -55.12002969, 218.45945325, 30.06992276),
+    )
+}
+
 
 @dataclass(frozen=True)
 class MeanPeriod:
@@ -48,6 +92,8 @@ class MeanPeriod:
     name: str
     deg_per_century: float
     source: str
+    exact_days: Fraction | None = None  # a period relation's exact length, when it has one
+    approximates: str | None = None  # the mean period a relation stands for (its key)
 
     @property
     def days(self) -> float:
@@ -86,20 +132,70 @@ PERIODS: dict[str, MeanPeriod] = {
 }
 
 
+def _planet_periods(p: Planet) -> tuple[MeanPeriod, ...]:
+    return (
+        MeanPeriod(f"{p.key}_sidereal", f"{p.name} sidereal period", p.rate_deg_per_cy,
+                   JPL_PLANETS),
+        MeanPeriod(f"{p.key}_tropical", f"{p.name} tropical period", p.rate_deg_per_cy + _P,
+                   f"{JPL_PLANETS}; plus {PRECESSION_SRC}"),
+        MeanPeriod(f"{p.key}_synodic", f"{p.name} synodic period",
+                   abs(p.rate_deg_per_cy - EARTH.rate_deg_per_cy),
+                   f"{JPL_PLANETS}: the planet's rate less the Earth's"),
+    )
+
+
+for _planet in PLANETS.values():
+    PERIODS.update((mp.key, mp) for mp in _planet_periods(_planet))
+
+# Classical period relations (standard history of astronomy, from memory): so many synodic
+# periods of the planet in so many years. The years are taken as Julian years of 365.25 days,
+# so that each relation is an exact fraction (on a crank turning once in 365.25 days, Venus's
+# relation is exactly 5/8 of a turn per crank turn).
+PERIOD_RELATIONS = (("mercury", 145, 46), ("venus", 5, 8), ("mars", 37, 79),
+                    ("jupiter", 76, 83), ("saturn", 57, 59))
+_RELATION_SRC = "classical period relation, standard history of astronomy (from memory)"
+for _key, _synodic, _years in PERIOD_RELATIONS:
+    _days = _years * JULIAN_YEAR_DAYS / _synodic
+    PERIODS[f"{_key}_{_synodic}_in_{_years}"] = MeanPeriod(
+        f"{_key}_{_synodic}_in_{_years}",
+        f"{PLANETS[_key].name} {_synodic} synodic periods in {_years} years",
+        float(360 * JULIAN_CENTURY_DAYS / _days), f"{_RELATION_SRC}; years of 365.25 days",
+        exact_days=_days, approximates=f"{_key}_synodic")
+
+
+def relation_error_ppm(key: str) -> float:
+    """How far a period relation's period is from the mean period it stands for (ppm: positive
+    when the relation's period is the longer)."""
+    rel = PERIODS[key]
+    if rel.approximates is None:
+        raise KeyError(f"{key!r} is not a period relation")
+    mean = PERIODS[rel.approximates].days
+    return (float(rel.exact_days) / mean - 1.0) * 1e6
+
+
 def find_period(text: str) -> MeanPeriod:
     """Look a period up by key or name, forgiving case, spaces, hyphens and a plural ``s``.
 
     >>> find_period("Synodic month").days  # doctest: +ELLIPSIS
     29.5305...
     """
-    want = text.strip().lower().replace("-", "_").replace(" ", "_").rstrip("s")
+    def norm(s: str) -> str:
+        return " ".join(s.strip().lower().replace("-", " ").replace("_", " ").split())
+
+    said = norm(text)
+    wants = {said, said[:-1] if said.endswith("s") else said}
+    wants |= {w[: -len(" period")] for w in wants if w.endswith(" period")}
     for p in PERIODS.values():
-        if want in (p.key, p.name.replace(" ", "_")):
+        names = {norm(p.key), norm(p.name)}
+        if p.name.endswith(" period"):
+            names.add(norm(p.name[: -len(" period")]))
+        if wants & names:
             return p
     aliases = {"year": "tropical_year", "month": "synodic_month", "lunation": "synodic_month",
                "node": "nodal_period", "apsis": "apsidal_period", "apse": "apsidal_period"}
-    if want in aliases:
-        return PERIODS[aliases[want]]
+    for w in wants:
+        if w.replace(" ", "_") in aliases:
+            return PERIODS[aliases[w.replace(" ", "_")]]
     known = ", ".join(p.name for p in PERIODS.values())
     raise KeyError(f"unknown period {text!r}; known periods: {known}")
 

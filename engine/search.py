@@ -147,8 +147,10 @@ def make_target(period=None, ratio=None, cycle: str | None = None,
         mp = find_period(str(cycle))
     except KeyError as exc:
         raise SearchError(str(exc.args[0])) from None
-    # the period as the published rate gives it (a decimal), not the float's binary expansion
-    days = Fraction(360) * Fraction(36525) / Fraction(repr(abs(mp.deg_per_century)))
+    # a relation's own exact length; else the period as the published rate gives it (a
+    # decimal), not the float's binary expansion
+    days = mp.exact_days or Fraction(360) * Fraction(36525) / Fraction(
+        repr(abs(mp.deg_per_century)))
     return Target(crank / days, crank, mp.name, mp)
 
 

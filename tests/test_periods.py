@@ -65,3 +65,67 @@ def test_mean_elements_broadcast():
     m = mean_elements(jd)
     assert m["moon"].shape == (2, 2)
     assert float(mean_elements(2460000.5)["moon"]) == pytest.approx(m["moon"][0, 1])
+
+
+# Planets. Sidereal and synodic periods in days as handbooks print them (from memory: the
+# planetary fact sheets' figures). The JPL 1800-2050 rates are fitted over 250 years, so for
+# Jupiter, Saturn and the outer planets (whose periods the mutual great inequality and a short
+# fitting span disturb) they agree only to a few parts in 10^4.
+QUOTED_PLANETS = {
+    "mercury_sidereal": (87.969, 2e-5), "venus_sidereal": (224.701, 2e-5),
+    "mars_sidereal": (686.980, 2e-5), "jupiter_sidereal": (4332.59, 5e-4),
+    "saturn_sidereal": (10759.22, 5e-4), "uranus_sidereal": (30688.5, 5e-4),
+    "neptune_sidereal": (60182.0, 5e-4),
+    "mercury_synodic": (115.88, 1e-4), "venus_synodic": (583.92, 1e-4),
+    "mars_synodic": (779.94, 1e-4), "jupiter_synodic": (398.88, 1e-4),
+    "saturn_synodic": (378.09, 1e-4), "uranus_synodic": (369.66, 1e-4),
+    "neptune_synodic": (367.49, 1e-4),
+}
+
+
+@pytest.mark.parametrize("key", sorted(QUOTED_PLANETS))
+def test_planet_periods_match_quoted_values(key):
+    days, rel = QUOTED_PLANETS[key]
+    assert PERIODS[key].days == pytest.approx(days, rel=rel)
+
+
+def test_planet_periods_relations_between_themselves():
+    """1/synodic = |1/sidereal(planet) - 1/sidereal(Earth)|, in any frame (a definition)."""
+    from engine.periods import EARTH, PLANETS
+    year = 360 * 36525 / EARTH.rate_deg_per_cy
+    assert year == pytest.approx(PERIODS["sidereal_year"].days, rel=2e-6)
+    for key in PLANETS:
+        sid, tro, syn = (PERIODS[f"{key}_{w}"].days for w in ("sidereal", "tropical", "synodic"))
+        assert 1 / syn == pytest.approx(abs(1 / sid - 1 / year), rel=1e-12)
+        assert tro < sid  # against the moving equinox a revolution is shorter
+
+
+# The classical period relations (standard history of astronomy, from memory) and how far each
+# is from the mean synodic period, in ppm: reported in docs/search.md. The figures are this
+# project's own arithmetic on the JPL rates, kept here so a change of the table shows.
+RELATION_PPM = {"mercury_145_in_46": -43.7, "venus_5_in_8": 819.7, "mars_37_in_79": -100.2,
+                "jupiter_76_in_83": 23.4, "saturn_57_in_59": -80.0}
+
+
+@pytest.mark.parametrize("key", sorted(RELATION_PPM))
+def test_period_relations_against_mean_periods(key):
+    from fractions import Fraction
+
+    from engine.periods import relation_error_ppm
+    rel = PERIODS[key]
+    planet, n, _, years = key.split("_")
+    assert rel.exact_days == Fraction(int(years) * 36525, int(n) * 100)
+    assert rel.approximates == f"{planet}_synodic"
+    assert relation_error_ppm(key) == pytest.approx(RELATION_PPM[key], abs=0.1)
+    # every relation is a close one: within a tenth of a percent
+    assert abs(relation_error_ppm(key)) < 1000
+
+
+def test_find_planet_periods_by_name():
+    assert find_period("Venus synodic").key == "venus_synodic"
+    assert find_period("mars sidereal period").key == "mars_sidereal"
+    assert find_period("Jupiter-synodic-periods").key == "jupiter_synodic"
+    assert find_period("venus 5 in 8").key == "venus_5_in_8"
+    assert find_period("Saturn 57 synodic periods in 59 years").key == "saturn_57_in_59"
+    with pytest.raises(KeyError, match="Neptune synodic period"):
+        find_period("pluto sidereal")

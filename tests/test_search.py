@@ -411,3 +411,30 @@ def test_cycle_target_is_the_published_rate_as_a_decimal():
 
     t = make_target(cycle="synodic month")
     assert t.ratio == Fraction(4452671114034, 10**7) / (360 * 36525)
+
+
+def test_period_relation_is_an_exact_target():
+    """Venus: 5 synodic periods in 8 years (standard history of astronomy, from memory): on a
+    crank turning once in a Julian year the relation is exactly 5/8, and a 10→16 stage cuts it."""
+    target = make_target(cycle="venus 5 in 8", crank_days="365.25")
+    assert target.ratio == Fraction(5, 8)
+    report = search(target, make_constraints(stages=1, wheels="8-40", pinions="8-40"), top=1)
+    assert report.results[0].ratio == Fraction(5, 8) and report.results[0].exact
+
+
+def test_planet_period_targets_by_name():
+    """The Mars synodic period target is the JPL-rate period (779.936 d; handbooks, from memory,
+    print 779.94 d)."""
+    target = make_target(cycle="Mars synodic period")
+    assert target.period_days == pytest.approx(779.94, rel=1e-5)
+
+
+def test_search_reports_a_relations_error(capsys):
+    assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "1-2", "--top", "1",
+                 "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["target"]["approximates"] == "jupiter_synodic"
+    # 83 Julian years / 76 against 1 / (1/P_jupiter - 1/P_earth) from the JPL rates
+    assert out["target"]["relation_error_ppm"] == pytest.approx(23.4, abs=0.1)
+    assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "1", "--top", "1"]) == 0
+    assert "+23.39 ppm" in capsys.readouterr().out

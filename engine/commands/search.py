@@ -14,6 +14,7 @@ from rich.table import Table
 
 from ..errors import SearchError
 from ..exact import fraction_text
+from ..periods import PERIODS, relation_error_ppm
 from ..search import (
     Convergent,
     SearchReport,
@@ -51,7 +52,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                      help="days per output turn: a decimal or a fraction, e.g. 6940/235")
     one.add_argument("--ratio", metavar="P/Q", type=_number("ratio"), help="output turns per crank turn, e.g. 19/235")
     one.add_argument("--cycle", metavar="NAME",
-                     help="a mean period by name, e.g. 'synodic month', 'tropical year'")
+                     help="a mean period by name, e.g. 'synodic month', 'tropical year', "
+                     "'venus synodic', 'mars sidereal', or a period relation, 'venus 5 in 8'")
     parser.add_argument("--crank-days", default="1", metavar="DAYS",
                         type=_number("crank days per turn"),
                         help="days per crank turn (default 1)")
@@ -145,7 +147,8 @@ def _to_json(report: SearchReport, written: Path | None) -> dict:
     t, c = report.target, report.constraints
     return {
         "target": {"label": t.label, "ratio": _frac(t.ratio), "ratio_float": float(t.ratio),
-                   "period_days": t.period_days, "crank_days": _frac(t.crank_days)},
+                   "period_days": t.period_days, "crank_days": _frac(t.crank_days),
+                   **_relation_json(t)},
         "constraints": {"stages": list(c.stages), "wheels": list(c.wheels),
                         "pinions": list(c.pinions),
                         "allowed": list(c.allowed) if c.allowed else None,
@@ -155,6 +158,13 @@ def _to_json(report: SearchReport, written: Path | None) -> dict:
         "convergents": [_conv_dict(v) for v in report.convergents],
         "fragment_file": str(written) if written else None,
     }
+
+
+def _relation_json(t) -> dict:
+    if t.cycle is None or not t.cycle.approximates:
+        return {}
+    return {"approximates": t.cycle.approximates,
+            "relation_error_ppm": relation_error_ppm(t.cycle.key)}
 
 
 def _conv_dict(v: Convergent) -> dict:
@@ -179,6 +189,10 @@ def _print(report: SearchReport, console: Console) -> None:
     console.print(f"[bold]target[/]: {escape(t.label)} — {float(t.ratio):.12g} turns per crank "
                   f"turn, {t.period_days:.10g} days per turn (crank: {days} "
                   f"day{'' if t.crank_days == 1 else 's'} per turn)")
+    if t.cycle is not None and t.cycle.approximates:
+        mean = PERIODS[t.cycle.approximates]
+        console.print(f"a period relation: against the mean {escape(mean.name)} of "
+                      f"{mean.days:.7g} days it is {relation_error_ppm(t.cycle.key):+.4g} ppm")
     if not report.results:
         console.print("no train within these bounds")
     elif abs(report.results[0].error_ppm) > FAR_PPM:
