@@ -16,35 +16,65 @@ import numpy as np
 _NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"  # a plain decimal, exponent allowed
 _FRACTION = re.compile(rf"^\s*([+-]?{_NUM})\s*/\s*({_NUM})\s*$")
 _DECIMAL = re.compile(rf"^\s*[+-]?{_NUM}\s*$")
+_EXPONENT = re.compile(r"[eE]([+-]?\d+)")
+MAX_FRACTION_CHARS = 100  # text longer than this is not a number anyone means
+MAX_EXPONENT = 1000       # 1e1000: beyond every bound a caller sets, and quick to make exact
+_HINT = "a number or a fraction like \"6940/235\""
 
 
-def parse_fraction(value: object) -> Fraction:
-    """Read an exact number from a TOML value: an integer, a decimal, or a string "p/q".
+def parse_fraction(value: object, what: str = "", *, positive: bool = False) -> Fraction:
+    """Read an exact number: an integer, a decimal, a ``Fraction``, or text ``"p/q"``/``"29.53"``.
 
-    Decimals are taken at their written value (``29.53`` is 2953/100, not the nearest binary
-    float). Raises ``ValueError`` with a short reason; callers add the file and item.
+    This is the one fraction reader: train files, command options and the interface all use
+    it. Decimals are taken at their written value (``29.53`` is 2953/100, not the nearest
+    binary float); nothing is ever evaluated. Text is at most ``MAX_FRACTION_CHARS`` long with
+    exponents up to ``MAX_EXPONENT``, so no input makes it build a giant integer.
+    ``positive=True`` also refuses zero and negative values. Raises ``ValueError`` with a short
+    reason, prefixed by ``what`` when given; callers add the file and item.
 
     >>> parse_fraction("6940/235")
     Fraction(1388, 47)
     """
+    prefix = f"{what}: " if what else ""
+    number = _read_fraction(value, prefix)
+    if positive and number <= 0:
+        raise ValueError(f"{prefix}must be greater than zero, got {_shown(value)}")
+    return number
+
+
+def _shown(value: object) -> str:
+    text = repr(value) if not isinstance(value, Fraction) else str(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _read_fraction(value: object, prefix: str) -> Fraction:
     if isinstance(value, bool):
-        raise ValueError(f"expected a number or a fraction like \"6940/235\", got {value!r}")
+        raise ValueError(f"{prefix}expected {_HINT}, got {_shown(value)}")
+    if isinstance(value, Fraction):
+        return value
     if isinstance(value, int):
         return Fraction(value)
     if isinstance(value, float):
         if not np.isfinite(value):
-            raise ValueError(f"expected a finite number, got {value!r}")
+            raise ValueError(f"{prefix}expected a finite number, got {_shown(value)}")
         return Fraction(repr(value))
     if isinstance(value, str):
+        if len(value) > MAX_FRACTION_CHARS:
+            raise ValueError(f"{prefix}{len(value)} characters is too long for a number "
+                             f"(at most {MAX_FRACTION_CHARS})")
+        for exp in _EXPONENT.findall(value):
+            if abs(int(exp)) > MAX_EXPONENT:
+                raise ValueError(f"{prefix}exponent {exp} is out of range (at most "
+                                 f"±{MAX_EXPONENT}), in {_shown(value)}")
         m = _FRACTION.match(value)
         if m:
             num, den = Fraction(m.group(1)), Fraction(m.group(2))
             if den == 0:
-                raise ValueError(f"fraction {value!r} divides by zero")
+                raise ValueError(f"{prefix}fraction {_shown(value)} divides by zero")
             return num / den
         if _DECIMAL.match(value):
             return Fraction(value.strip())
-    raise ValueError(f"expected a number or a fraction like \"6940/235\", got {value!r}")
+    raise ValueError(f"{prefix}expected {_HINT}, got {_shown(value)}")
 
 
 def fraction_text(value: Fraction) -> str:

@@ -3,12 +3,22 @@
 The file is data: it is parsed with ``tomllib`` and numbers with our own fraction reader;
 nothing in it is ever evaluated. Every error names the file, the item and what is wrong.
 The format is described in ``docs/train-format.md``.
+
+Sizes are bounded before anything is built (see ``LIMITS``), so no file — however large, deep
+or strange — makes the loader or the solver hang, run out of memory or overflow: only regular
+files are read (never a device or a FIFO), at most ``MAX_FILE_BYTES`` of them, brackets nested
+at most ``MAX_NESTING`` deep, and every count and number within bounds a real train keeps to.
 """
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
+import os
+import re
+import stat
 import tomllib
+import unicodedata
 from fractions import Fraction
 from pathlib import Path
 
@@ -28,6 +38,34 @@ from .train import (
     Wheel,
 )
 
+# Limits. A real train has tens of arbors and wheels of at most a few hundred teeth; these
+# bounds are far beyond that and keep every computation on a file small and quick.
+MAX_FILE_BYTES = 1_000_000       # a 2,000-arbor train is about 150 kB
+MAX_NESTING = 8                  # brackets and braces inside one another (a train needs 2)
+MAX_DEPTH = 8                    # tables inside tables, dotted keys included (a train needs 4)
+MAX_NAME_CHARS = 200
+MAX_TEXT_CHARS = 20_000          # about, note
+MAX_TEETH = 10_000
+MAX_ARBORS = 2_000
+MAX_WHEELS = 10_000
+MAX_MESHES = 5_000
+MAX_PIN_SLOTS = 50
+MAX_POINTERS = 200
+MIN_DAYS_PER_TURN = Fraction(1, 86_400)   # one crank turn a second of time shown
+MAX_DAYS_PER_TURN = Fraction(1_000_000)   # one crank turn in about 2,700 years
+MIN_PER_TURN = Fraction(1, 1_000_000)
+MAX_PER_TURN = Fraction(1_000_000)
+MAX_MM = 1_000_000.0             # a kilometre: lengths and positions
+MAX_DEG = 1_000_000.0            # angles (any number of whole turns, then reduced)
+
+LIMITS = {
+    "file size": f"{MAX_FILE_BYTES:,} bytes", "nesting": f"{MAX_NESTING} levels",
+    "teeth": f"1 to {MAX_TEETH:,}", "arbors": f"{MAX_ARBORS:,}", "wheels": f"{MAX_WHEELS:,}",
+    "meshes": f"{MAX_MESHES:,}", "pin-and-slot stages": f"{MAX_PIN_SLOTS}",
+    "pointers": f"{MAX_POINTERS}", "days_per_turn": "1/86400 (a second) to 1,000,000 days",
+    "per_turn": "1/1000000 to 1000000", "names": f"{MAX_NAME_CHARS} characters",
+}
+
 _TOP_KEYS = {"train", "crank", "epoch", "arbors", "meshes", "pin_slots", "pointers"}
 _KEYS = {
     "train": {"name", "about", "dial"},
@@ -41,12 +79,26 @@ _KEYS = {
 }
 
 
+def _is_control(ch: str) -> bool:
+    """Control and invisible format characters (escape codes, bidi overrides...)."""
+    return unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Co", "Cn") and ch not in "\n\t"
+
+
+def safe_text(text: str) -> str:
+    """``text`` with control and format characters written as escapes (``\\x1b``), so text
+    from a file can be shown on a terminal without acting on it."""
+    if not any(_is_control(ch) or ch in "\n\t" for ch in text):
+        return text
+    return "".join(ch.encode("unicode_escape").decode("ascii")
+                   if _is_control(ch) or ch in "\n\t" else ch for ch in text)
+
+
 class _Reader:
     def __init__(self, where: str):
         self.where = where
 
     def fail(self, item: str, problem: str) -> TrainError:
-        return TrainError(self.where, item, problem)
+        return TrainError(self.where, safe_text(item), safe_text(problem))
 
     def table(self, value: object, item: str, kind: str) -> dict:
         if not isinstance(value, dict):
@@ -54,7 +106,9 @@ class _Reader:
         unknown = sorted(set(value) - _KEYS[kind])
         if unknown:
             known = ", ".join(sorted(_KEYS[kind]))
-            raise self.fail(item, f"unknown key '{unknown[0]}' (known keys: {known})")
+            raise self.fail(item, f"unknown key {_show(unknown[0])} (known keys: {known})")
+        if "note" in value:
+            self.prose(value["note"], f"{item} note")
         return value
 
     def need(self, tbl: dict, key: str, item: str):
@@ -62,20 +116,49 @@ class _Reader:
             raise self.fail(item, f"missing key '{key}'")
         return tbl[key]
 
+    def name(self, value: str, item: str) -> str:
+        """A name used as a key ([arbors.NAME], a wheel...): printable, not too long."""
+        if not value.strip():
+            raise self.fail(item, "the name is empty")
+        if any(_is_control(ch) or ch in "\n\t" for ch in value):
+            raise self.fail(item, f"the name {_show(value)} contains control characters; "
+                            "use letters, digits, spaces and punctuation")
+        if len(value) > MAX_NAME_CHARS:
+            raise self.fail(item, f"the name is {len(value)} characters long; at most "
+                            f"{MAX_NAME_CHARS} are allowed")
+        return value
+
     def text(self, value: object, item: str) -> str:
         if not isinstance(value, str) or not value.strip():
             raise self.fail(item, f"should be a name in quotes, got {_show(value)}")
-        return value.strip()
+        return self.name(value, item).strip()
 
-    def number(self, value: object, item: str, *, positive=False, nonneg=False) -> float:
-        if isinstance(value, bool) or not isinstance(value, int | float) or not math.isfinite(
-            value
-        ):
+    def prose(self, value: object, item: str) -> str:
+        """Free text (about, note): a string; line breaks and tabs allowed, no control codes."""
+        if not isinstance(value, str):
+            raise self.fail(item, f"should be text in quotes, got {_show(value)}")
+        if any(_is_control(ch) for ch in value):
+            raise self.fail(item, "contains control characters (only line breaks and tabs "
+                            "are allowed in text)")
+        if len(value) > MAX_TEXT_CHARS:
+            raise self.fail(item, f"is {len(value):,} characters long; at most "
+                            f"{MAX_TEXT_CHARS:,} are allowed")
+        return value
+
+    def number(self, value: object, item: str, *, positive=False, nonneg=False,
+               limit: float = MAX_MM) -> float:
+        if isinstance(value, bool) or not isinstance(value, int | float):
             raise self.fail(item, f"should be a number, got {_show(value)}")
+        if isinstance(value, int) and abs(value) > limit:
+            raise self.fail(item, f"must be between {-limit:g} and {limit:g}, got {_show(value)}")
+        if not math.isfinite(value):
+            raise self.fail(item, f"should be a finite number, got {_show(value)}")
         if positive and value <= 0:
             raise self.fail(item, f"must be greater than zero, got {value}")
         if nonneg and value < 0:
             raise self.fail(item, f"must not be negative, got {value}")
+        if abs(value) > limit:
+            raise self.fail(item, f"must be between {-limit:g} and {limit:g}, got {value:g}")
         return float(value)
 
     def flag(self, value: object, item: str) -> bool:
@@ -83,54 +166,148 @@ class _Reader:
             raise self.fail(item, f"should be true or false, got {_show(value)}")
         return value
 
-    def fraction(self, value: object, item: str) -> Fraction:
+    def fraction(self, value: object, item: str, low: Fraction, high: Fraction,
+                 bounds: str) -> Fraction:
         try:
-            return parse_fraction(value)
+            number = parse_fraction(value)
         except ValueError as exc:
             raise self.fail(item, str(exc)) from None
+        if number <= 0:
+            raise self.fail(item, f"must be greater than zero, got {_show(value)}")
+        if not low <= number <= high:
+            raise self.fail(item, f"must be between {bounds}, got {_show(value)}")
+        return number
 
 
 def _show(value: object) -> str:
-    text = repr(value)
+    text = repr(value) if not isinstance(value, dict | list) else _short_repr(value)
     return text if len(text) < 40 else text[:37] + "..."
+
+
+def _short_repr(value: dict | list) -> str:
+    """A container's kind and size: never a repr (it could be nested deep or be huge)."""
+    if isinstance(value, dict):
+        return f"a table of {len(value)} key{'s' if len(value) != 1 else ''}"
+    return f"a list of {len(value)} item{'s' if len(value) != 1 else ''}"
+
+
+def _regular_file_bytes(path: Path, where: str) -> bytes:
+    """The bytes of a regular file, read only after ``stat`` says it is one (a FIFO, a device
+    or a socket is refused before it is opened, so reading never blocks or runs forever)."""
+    try:
+        info = os.stat(path)
+    except FileNotFoundError:
+        raise TrainError(where, "", "no such file") from None
+    except OSError as exc:
+        raise TrainError(where, "", f"cannot be read ({exc.strerror})") from None
+    if stat.S_ISDIR(info.st_mode):
+        raise TrainError(where, "", "is a folder, not a train file")
+    if not stat.S_ISREG(info.st_mode):
+        raise TrainError(where, "", "is not a regular file (a device, a pipe or a socket); "
+                         "give the path of a .toml train file")
+    if info.st_size > MAX_FILE_BYTES:
+        raise TrainError(where, "", f"is {info.st_size:,} bytes; a train file may be at most "
+                         f"{MAX_FILE_BYTES:,} bytes")
+    try:
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError as exc:
+        raise TrainError(where, "", f"cannot be read ({exc.strerror})") from None
+    try:
+        if not stat.S_ISREG(os.fstat(fd).st_mode):  # replaced between stat and open
+            raise TrainError(where, "", "is not a regular file")
+        with os.fdopen(fd, "rb", closefd=False) as f:
+            raw = f.read(MAX_FILE_BYTES + 1)
+    except OSError as exc:
+        raise TrainError(where, "", f"cannot be read ({exc.strerror})") from None
+    finally:
+        os.close(fd)
+    if len(raw) > MAX_FILE_BYTES:
+        raise TrainError(where, "", f"is larger than {MAX_FILE_BYTES:,} bytes, the most a "
+                         "train file may be")
+    return raw
 
 
 def load_train(path: str | Path) -> Train:
     """Read and check a train file. Raises :class:`TrainError` naming file, item and fault."""
     path = Path(path)
-    where = str(path)
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise TrainError(where, "", "no such file") from None
-    except IsADirectoryError:
-        raise TrainError(where, "", "is a folder, not a train file") from None
-    except OSError as exc:
-        raise TrainError(where, "", f"cannot be read ({exc.strerror})") from None
+    where = safe_text(str(path))
+    raw = _regular_file_bytes(path, where)
     try:
         text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise TrainError(where, "", "is not a UTF-8 text file") from None
+    except UnicodeDecodeError as exc:
+        raise TrainError(where, "", f"is not a UTF-8 text file (byte {exc.start} cannot be "
+                         "read as UTF-8)") from None
     return parse_train(text, where)
+
+
+_TOKENS = re.compile(r'"""(?:[^\\]|\\.)*?"""|\'\'\'.*?\'\'\'|"(?:[^"\\\n]|\\.)*"'
+                     r"|'[^'\n]*'|#[^\n]*|[\[\]{}]", re.DOTALL)
+
+
+def _nesting(text: str) -> tuple[int, int]:
+    """Deepest nesting of brackets and braces outside strings and comments, and its line.
+
+    tomllib reads nested arrays and inline tables recursively, so a file nested thousands deep
+    would exhaust the stack; this scan runs first, in one pass, without recursion.
+    """
+    depth = deepest = 0
+    at = 0
+    for m in _TOKENS.finditer(text):
+        tok = m.group()
+        if tok in "[{":
+            depth += 1
+            if depth > deepest:
+                deepest, at = depth, m.start()
+        elif tok in "]}":
+            depth = max(depth - 1, 0)
+    return deepest, text.count("\n", 0, at) + 1
+
+
+def _table_depth(doc: dict) -> int:
+    """How deep tables and arrays sit inside one another (iterative: no recursion)."""
+    deepest = 0
+    stack: list[tuple[object, int]] = [(doc, 1)]
+    while stack:
+        value, depth = stack.pop()
+        deepest = max(deepest, depth)
+        if deepest > MAX_DEPTH:
+            return deepest
+        if isinstance(value, dict):
+            stack.extend((v, depth + 1) for v in value.values() if isinstance(v, dict | list))
+        elif isinstance(value, list):
+            stack.extend((v, depth + 1) for v in value if isinstance(v, dict | list))
+    return deepest
 
 
 def parse_train(text: str, where: str = "<train>") -> Train:
     """Build a :class:`Train` from TOML text (``where`` names it in errors)."""
+    where = safe_text(where)
+    text = text.removeprefix("\ufeff")  # a byte-order mark, as some editors write
+    if len(text) > MAX_FILE_BYTES:
+        raise TrainError(where, "", f"is {len(text):,} characters; a train file may be at most "
+                         f"{MAX_FILE_BYTES:,}")
+    deepest, line = _nesting(text)
+    if deepest > MAX_NESTING:
+        raise TrainError(where, f"line {line}", f"brackets nested {deepest} deep; a train file "
+                         f"needs at most 2 and may use {MAX_NESTING}")
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise TrainError(where, "", f"not valid TOML: {exc}") from None
+        raise TrainError(where, "", f"not valid TOML: {safe_text(str(exc))}") from None
+    except RecursionError:  # cannot happen after the scan above; kept so it never escapes
+        raise TrainError(where, "", "nested too deep to read") from None
+    if _table_depth(doc) > MAX_DEPTH:
+        raise TrainError(where, "", f"tables are nested more than {MAX_DEPTH} deep; a train "
+                         "needs 4 ([arbors.NAME] wheels = { ... })")
     r = _Reader(where)
     unknown = sorted(set(doc) - _TOP_KEYS)
     if unknown:
-        raise r.fail(f"[{unknown[0]}]", "unknown section (known: " + ", ".join(
+        raise r.fail(f"[{_show(unknown[0])[1:-1]}]", "unknown section (known: " + ", ".join(
             sorted(_TOP_KEYS)) + ")")
 
     head = r.table(doc.get("train", {}), "[train]", "train")
-    name = r.text(head.get("name", Path(where).stem), "[train] name")
-    about = head.get("about", "")
-    if not isinstance(about, str):
-        raise r.fail("[train] about", "should be text in quotes")
+    name = r.text(head.get("name", Path(where).stem or "train"), "[train] name")
+    about = r.prose(head.get("about", ""), "[train] about")
     dial = head.get("dial", "equinox")
     if dial not in DIAL_FRAMES:
         raise r.fail("[train] dial", f"should be one of {', '.join(DIAL_FRAMES)}, got {_show(dial)}")
@@ -147,14 +324,19 @@ def parse_train(text: str, where: str = "<train>") -> Train:
                  about=about.strip())
 
 
+def _count(r: _Reader, section, item: str, most: int, what: str) -> None:
+    if len(section) > most:
+        raise r.fail(item, f"{len(section):,} {what}; a train may have at most {most:,}")
 def _read_arbors(r: _Reader, doc: dict):
     section = doc.get("arbors")
     if not isinstance(section, dict) or not section:
         raise r.fail("[arbors]", "the train needs at least one arbor ([arbors.NAME] tables)")
+    _count(r, section, "[arbors]", MAX_ARBORS, "arbors")
     arbors: dict[str, Arbor] = {}
     wheels: dict[str, Wheel] = {}
     for aname, tbl in section.items():
         item = f"[arbors.{aname}]"
+        r.name(aname, item)
         if aname == FRAME:
             raise r.fail(item, f"'{FRAME}' is reserved for the fixed frame; rename the arbor")
         tbl = r.table(tbl, item, "arbor")
@@ -164,15 +346,22 @@ def _read_arbors(r: _Reader, doc: dict):
         names = []
         for wname, teeth in wtbl.items():
             witem = f"{item} wheel '{wname}'"
+            r.name(wname, witem)
             if isinstance(teeth, bool) or not isinstance(teeth, int):
                 raise r.fail(witem, f"teeth must be a whole number, got {_show(teeth)}")
             if teeth <= 0:
-                raise r.fail(witem, f"teeth must be more than zero, got {teeth}")
+                raise r.fail(witem, f"teeth must be more than zero, got {_show(teeth)}")
+            if teeth > MAX_TEETH:
+                raise r.fail(witem, f"{_show(teeth)} teeth is beyond any wheel that can be cut; "
+                             f"at most {MAX_TEETH:,} are allowed")
             if wname in wheels:
                 raise r.fail(witem, f"a wheel of this name is already on arbor "
                              f"'{wheels[wname].arbor}'; wheel names must be unique")
             wheels[wname] = Wheel(wname, aname, teeth)
             names.append(wname)
+            if len(wheels) > MAX_WHEELS:
+                raise r.fail(witem, f"more than {MAX_WHEELS:,} wheels; a train may have at "
+                             f"most {MAX_WHEELS:,}")
         mount = r.text(tbl.get("on", FRAME), f"{item} on")
         fixed = r.flag(tbl.get("fixed", False), f"{item} fixed")
         at = tbl.get("at_mm")
@@ -183,6 +372,9 @@ def _read_arbors(r: _Reader, doc: dict):
         axis_with = tbl.get("axis_with")
         if axis_with is not None:
             axis_with = r.text(axis_with, f"{item} axis_with")
+            if axis_with == aname:
+                raise r.fail(f"{item} axis_with", "names the arbor itself; name the other arbor "
+                             "it turns on or in (a tube on an arbor), or leave axis_with out")
         arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with)
     for a in arbors.values():
         if a.mount != FRAME and a.mount not in arbors:
@@ -210,7 +402,9 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
     section = doc.get("meshes", [])
     if not isinstance(section, list):
         raise r.fail("[[meshes]]", "should be a list of [[meshes]] tables")
+    _count(r, section, "[[meshes]]", MAX_MESHES, "meshes")
     meshes = []
+    seen: dict[frozenset, Mesh] = {}
     for i, tbl in enumerate(section, start=1):
         item = f"mesh {i}"
         tbl = r.table(tbl, item, "mesh")
@@ -221,6 +415,7 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
         a, b = pair
         item = f"mesh {i} ({a}–{b})"
         for w in pair:
+            r.name(w, f"{item} wheels")
             if w not in wheels:
                 raise r.fail(item, f"unknown wheel '{w}' (wheels are named in [arbors.NAME] "
                              "wheels tables)")
@@ -230,6 +425,8 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
             raise r.fail(item, f"both wheels are on arbor '{wheels[a].arbor}', so they "
                          "cannot drive one another")
         ring = tbl.get("ring")
+        if ring is not None and not isinstance(ring, str):
+            raise r.fail(f"{item} ring", f"should name one of this mesh's wheels, got {_show(ring)}")
         if ring is not None and ring not in pair:
             raise r.fail(f"{item} ring", f"names '{ring}', which is not one of this mesh's "
                          "two wheels")
@@ -241,12 +438,14 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
                              f"inside it '{other}' ({wheels[other].teeth})")
         module = tbl.get("module_mm")
         if module is not None:
-            module = r.number(module, f"{item} module_mm", positive=True)
-        for earlier in meshes:
-            if {earlier.driver, earlier.driven} == {a, b}:
-                raise r.fail(item, f"repeats {earlier.label}: the same two wheels are "
-                             "listed in mesh twice; remove one")
-        meshes.append(Mesh(i, a, b, ring, module))
+            module = r.number(module, f"{item} module_mm", positive=True, limit=1000.0)
+        earlier = seen.get(frozenset(pair))
+        if earlier is not None:
+            raise r.fail(item, f"repeats {earlier.label}: the same two wheels are "
+                         "listed in mesh twice; remove one")
+        mesh = Mesh(i, a, b, ring, module)
+        seen[frozenset(pair)] = mesh
+        meshes.append(mesh)
     return tuple(meshes)
 
 
@@ -254,9 +453,11 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
     section = doc.get("pin_slots", {})
     if not isinstance(section, dict):
         raise r.fail("[pin_slots]", "should be [pin_slots.NAME] tables")
+    _count(r, section, "[pin_slots]", MAX_PIN_SLOTS, "pin-and-slot stages")
     out = {}
     for name, tbl in section.items():
         item = f"[pin_slots.{name}]"
+        r.name(name, item)
         tbl = r.table(tbl, item, "pin_slot")
         pin = r.text(r.need(tbl, "pin", item), f"{item} pin")
         slot = r.text(r.need(tbl, "slot", item), f"{item} slot")
@@ -280,8 +481,10 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
         if pin_d is not None:
             pin_d = r.number(pin_d, f"{item} pin_diameter_mm", positive=True)
         out[name] = PinSlot(name, pin, slot, radius, offset,
-                            r.number(tbl.get("offset_deg", 0.0), f"{item} offset_deg"),
-                            r.number(tbl.get("pin_deg", 0.0), f"{item} pin_deg"), pin_d)
+                            r.number(tbl.get("offset_deg", 0.0), f"{item} offset_deg",
+                                     limit=MAX_DEG),
+                            r.number(tbl.get("pin_deg", 0.0), f"{item} pin_deg", limit=MAX_DEG),
+                            pin_d)
     return out
 
 
@@ -294,9 +497,9 @@ def _read_crank(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> Crank:
         raise r.fail("[crank] arbor", f"unknown arbor '{arbor}'")
     if arbors[arbor].fixed:
         raise r.fail("[crank] arbor", f"arbor '{arbor}' is fixed and cannot be cranked")
-    days = r.fraction(r.need(tbl, "days_per_turn", "[crank]"), "[crank] days_per_turn")
-    if days <= 0:
-        raise r.fail("[crank] days_per_turn", f"must be greater than zero, got {days}")
+    days = r.fraction(r.need(tbl, "days_per_turn", "[crank]"), "[crank] days_per_turn",
+                      MIN_DAYS_PER_TURN, MAX_DAYS_PER_TURN,
+                      "1/86400 (one turn a second) and 1000000 days")
     return Crank(arbor, days)
 
 
@@ -304,15 +507,15 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
     if "epoch" not in doc:
         raise r.fail("[epoch]", "missing: give the date the pointers were set (date = ...)")
     tbl = r.table(doc["epoch"], "[epoch]", "epoch")
-    text = r.need(tbl, "date", "[epoch]")
-    if not isinstance(text, str):
-        # TOML's own date values are accepted too; they are read as UT.
-        text = str(text)
+    value = r.need(tbl, "date", "[epoch]")
     calendar = tbl.get("calendar", "auto")
+    if not isinstance(calendar, str):
+        raise r.fail("[epoch] calendar", f"should be \"auto\", \"julian\" or \"gregorian\", "
+                     f"got {_show(calendar)}")
     from .dates import parse_date  # local import keeps the loader light to import
 
     try:
-        jd = parse_date(text, calendar=calendar)
+        text, jd = _epoch_date(value, calendar, parse_date)
     except DateError as exc:
         raise r.fail("[epoch] date", str(exc)) from None
     mode = tbl.get("set", "sky")
@@ -326,12 +529,14 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
     section = doc.get("pointers")
     if not isinstance(section, dict) or not section:
         raise r.fail("[pointers]", "the train needs at least one pointer ([pointers.NAME])")
+    _count(r, section, "[pointers]", MAX_POINTERS, "pointers")
     out = {}
     for name, tbl in section.items():
         item = f"[pointers.{name}]"
+        r.name(name, item)
         tbl = r.table(tbl, item, "pointer")
         shows = r.need(tbl, "shows", item)
-        if shows not in KINDS:
+        if not isinstance(shows, str) or shows not in KINDS:
             raise r.fail(f"{item} shows", f"unknown pointer kind {_show(shows)} (known: "
                          + ", ".join(KINDS) + ")")
         arbor = r.text(r.need(tbl, "arbor", item), f"{item} arbor")
@@ -344,15 +549,42 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                 raise r.fail(f"{item} relative_to", f"unknown arbor '{rel}'")
             if rel == arbor:
                 raise r.fail(f"{item} relative_to", "cannot be the pointer's own arbor")
-        per_turn = r.fraction(tbl.get("per_turn", 1), f"{item} per_turn")
-        if per_turn <= 0:
-            raise r.fail(f"{item} per_turn", f"must be greater than zero, got {per_turn}")
+        per_turn = r.fraction(tbl.get("per_turn", 1), f"{item} per_turn", MIN_PER_TURN,
+                              MAX_PER_TURN, "1/1000000 and 1000000")
         set_deg = tbl.get("set_deg")
         if set_deg is not None:
-            set_deg = r.number(set_deg, f"{item} set_deg")
+            set_deg = r.number(set_deg, f"{item} set_deg", limit=MAX_DEG)
         elif epoch.set == "angles":
             raise r.fail(item, "the epoch sets pointers by angle (set = \"angles\"), so each "
                          "pointer needs set_deg")
         out[name] = Pointer(name, shows, arbor, rel, per_turn,
                             r.flag(tbl.get("reversed", False), f"{item} reversed"), set_deg)
     return out
+
+
+def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:
+    """(text as written, JD UT) of ``[epoch] date``: text, or a TOML date or date-time.
+
+    A TOML date-time with a zone (``2026-01-01T06:30:00Z``, ``...+02:00``) is converted to UT;
+    one without a zone, and a bare TOML date, are read as UT.
+    """
+    if isinstance(value, str):
+        return value, parse_date(value, calendar=calendar)
+    if isinstance(value, _dt.datetime):
+        written = value.isoformat()
+        local = value.replace(tzinfo=None).isoformat(sep=" ")
+        offset = value.utcoffset()
+        try:
+            jd = parse_date(local, calendar=calendar)
+        except DateError as exc:  # quote the date as the file wrote it, not our rewriting
+            raise DateError(str(exc).replace(repr(local), repr(written))) from None
+        if offset is not None:
+            jd -= offset.total_seconds() / 86400.0
+        return written, jd
+    if isinstance(value, _dt.date):
+        written = value.isoformat()
+        return written, parse_date(written, calendar=calendar)
+    if isinstance(value, _dt.time):
+        raise DateError(f"{value.isoformat()} is a time of day without a date; write the date "
+                        "too, like 2026-01-01T06:30:00Z")
+    raise DateError(f"should be a date like \"2026-01-01 06:30\" (UT), got {_show(value)}")

@@ -221,3 +221,123 @@ def test_epoch_outside_the_ephemeris_names_the_file(tmp_path):
         open_train(path)
     msg = str(info.value)
     assert msg.startswith(f"{path}: [epoch] date: ") and "outside JPL DE421" in msg
+
+
+# --- limits, special files, text hygiene (every refusal one line, no hang) -------------------
+
+@pytest.mark.parametrize("value,words", [
+    ('"1e400"', ["[crank] days_per_turn", "between 1/86400", "1000000 days"]),
+    ('"1e308"', ["[crank] days_per_turn", "between"]),
+    ("1e300", ["[crank] days_per_turn", "between"]),
+    ("1e-300", ["[crank] days_per_turn", "between"]),
+    ('"1e999999999"', ["[crank] days_per_turn", "exponent"]),
+    ('"' + "9" * 500 + '"', ["[crank] days_per_turn", "too long"]),
+    ("nan", ["[crank] days_per_turn", "finite"]),
+])
+def test_days_per_turn_bounds(value, words):
+    msg = error_of(GOOD.replace('"6940/235"', value))
+    for w in words:
+        assert w in msg, msg
+
+
+@pytest.mark.parametrize("depth", [400, 100_000])
+def test_deep_nesting_is_refused_before_parsing(depth):
+    msg = error_of(GOOD + "x = " + "[" * depth + "]" * depth + "\n")
+    assert "nested" in msg and f"{depth} deep" in msg
+
+
+def test_deep_inline_tables_and_dotted_keys_are_refused():
+    assert "nested" in error_of(GOOD + "x = " + "{a = " * 2000 + "1" + "}" * 2000 + "\n")
+    assert "nested more than" in error_of("a." * 5000 + "b = 1\n" + GOOD)
+
+
+def test_brackets_in_strings_and_comments_do_not_count():
+    text = GOOD.replace('name = "test"', 'name = "' + "[" * 50 + '"  # ' + "{" * 50)
+    assert parse_train(text, "ok.toml").name == "[" * 50
+
+
+def test_huge_tooth_count_is_refused():
+    msg = error_of(GOOD.replace("a1 = 20", f"a1 = {2**63 - 1}"))
+    assert "wheel 'a1'" in msg and "at most 10,000" in msg
+
+
+def test_symlink_to_device_and_fifo_are_refused_without_blocking(tmp_path):
+    import os
+    import subprocess
+    import sys
+
+    link = tmp_path / "zero.toml"
+    link.symlink_to("/dev/zero")
+    fifo = tmp_path / "pipe.toml"
+    os.mkfifo(fifo)
+    for path in (link, fifo):
+        code = (f"from engine.loader import load_train\n"
+                f"from engine.errors import TrainError\n"
+                f"try:\n    load_train({str(path)!r})\nexcept TrainError as e:\n    print(e)\n")
+        out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                             timeout=60)
+        assert "not a regular file" in out.stdout, out
+        assert out.stdout.startswith(str(path)) and out.stderr == ""
+
+
+def test_large_file_is_refused_unread(tmp_path):
+    big = tmp_path / "big.toml"
+    big.write_text(GOOD + "# " + "x" * 1_100_000 + "\n")
+    with pytest.raises(TrainError, match="at most 1,000,000 bytes"):
+        load_train(big)
+
+
+def test_too_many_arbors_are_refused():
+    extra = "".join(f"[arbors.x{i}]\nwheels = {{ w{i} = 10 }}\n" for i in range(2_001))
+    assert "at most 2,000" in error_of(GOOD + extra)
+
+
+@pytest.mark.parametrize("old,new,words", [
+    ("[arbors.b]", "[arbors.b]\nnote = 5", ["[arbors.b] note", "text in quotes"]),
+    ("[[meshes]]", "[[meshes]]\nnote = [1, 2]", ["mesh 1 note", "text in quotes"]),
+    ("[pointers.p]", "[pointers.p]\nnote = {a = 1}", ["[pointers.p] note", "text in quotes"]),
+    ("[arbors.b]", "[arbors.b]\naxis_with = \"b\"", ["[arbors.b] axis_with", "arbor itself"]),
+])
+def test_accepted_but_wrong_items_are_refused(old, new, words):
+    msg = error_of(GOOD.replace(old, new, 1))
+    for w in words:
+        assert w in msg, msg
+
+
+@pytest.mark.parametrize("old,new", [
+    ('name = "test"', 'name = "te\\u001b[2Jst"'),
+    ("[arbors.b]", '[arbors."b\\u001b]0;x\\u0007"]\nwheels = { z = 3 }\n[arbors.b]'),
+    ("[pointers.p]", '[pointers."p\\u202e"]\nshows = "sun"\narbor = "a"\nset_deg = 0\n'
+     "[pointers.p]"),
+    ('wheels = { a1 = 20 }', 'wheels = { "a1\\u0000" = 20, a1 = 20 }'),
+])
+def test_control_characters_in_names_are_refused_and_not_echoed(old, new):
+    msg = error_of(GOOD.replace(old, new, 1))
+    assert "control characters" in msg
+    assert not any(ord(ch) < 32 or ch in "\x7f\u202e" for ch in msg), repr(msg)
+
+
+def test_byte_order_mark_is_accepted(tmp_path):
+    path = tmp_path / "bom.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + GOOD.encode())
+    assert load_train(path).name == "test"
+
+
+@pytest.mark.parametrize("value,hours", [
+    ("2026-01-01T06:30:00Z", 6.5), ("2026-01-01T06:30:00+02:00", 4.5),
+    ("2026-01-01T06:30:00-05:30", 12.0), ("2026-01-01T06:30:00", 6.5),
+    ("2026-01-01 06:30:00.5Z", 6.5 + 0.5 / 3600), ("2026-01-01", 0.0),
+])
+def test_toml_datetimes_are_read_as_ut(value, hours):
+    from engine.dates import jd_from_calendar
+
+    train = parse_train(GOOD.replace('"2026-01-01 00:00"', value), "z.toml")
+    assert train.epoch.jd_ut == pytest.approx(jd_from_calendar(2026, 1, 1 + hours / 24),
+                                              abs=1e-9)
+
+
+def test_toml_dates_are_refused_quoting_what_was_written():
+    msg = error_of(GOOD.replace('"2026-01-01 00:00"', "1582-10-10T12:00:00+01:00"))
+    assert "1582-10-10T12:00:00+01:00" in msg and "1582-10-05..14" in msg
+    msg = error_of(GOOD.replace('"2026-01-01 00:00"', "06:30:00"))
+    assert "[epoch] date" in msg and "without a date" in msg
