@@ -38,7 +38,7 @@ def parse_fraction(value: object, what: str = "", *, positive: bool = False) -> 
     prefix = f"{what}: " if what else ""
     number = _read_fraction(value, prefix)
     if positive and number <= 0:
-        raise ValueError(f"{prefix}must be greater than zero, got {_shown(value)}")
+        raise ValueError(f"{prefix}must be positive, got {_shown(value)}")
     return number
 
 

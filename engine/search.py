@@ -36,8 +36,7 @@ from sympy.ntheory.continued_fraction import (
 )
 
 from .errors import SearchError
-from .exact import fraction_text
-from .exact import parse_fraction as _exact_fraction
+from .exact import fraction_text, parse_fraction
 from .kinds import KINDS
 from .periods import JULIAN_CENTURY_DAYS, MeanPeriod, find_period
 
@@ -56,22 +55,12 @@ _BARE_KEY_RE = re.compile(r"^[A-Za-z0-9_-]+$")
 # Parsing
 
 
-def parse_fraction(text: str | int | float | Fraction, what: str = "value") -> Fraction:
-    """Read ``"29.53"``, ``"6940/235"``, an int, a float or a Fraction as an exact Fraction.
-
-    The shared reader :func:`engine.exact.parse_fraction` does the parsing (never evaluating
-    anything); here the value must also be positive, and the error names ``what``.
-    """
-    if isinstance(text, Fraction):
-        value = text
-    else:
-        try:
-            value = _exact_fraction(text)
-        except ValueError as exc:
-            raise SearchError(f"{what}: {exc}") from None
-    if value <= 0:
-        raise SearchError(f"{what}: must be positive, got {text}")
-    return value
+def _fraction(value: str | int | float | Fraction, what: str) -> Fraction:
+    """A positive exact number read by the one fraction reader, its fault as a SearchError."""
+    try:
+        return parse_fraction(value, what, positive=True)
+    except ValueError as exc:
+        raise SearchError(str(exc)) from None
 
 
 def parse_span(text: str, what: str) -> tuple[int, int]:
@@ -136,12 +125,12 @@ def make_target(period=None, ratio=None, cycle: str | None = None,
     given = [x for x in (period, ratio, cycle) if x is not None]
     if len(given) != 1:
         raise SearchError("give exactly one target: a period in days, a ratio, or a cycle name")
-    crank = parse_fraction(crank_days, "crank days per turn")
+    crank = _fraction(crank_days, "crank days per turn")
     if period is not None:
-        days = parse_fraction(period, "period")
+        days = _fraction(period, "period")
         return Target(crank / days, crank, f"period {period} days")
     if ratio is not None:
-        r = parse_fraction(ratio, "ratio")
+        r = _fraction(ratio, "ratio")
         return Target(r, crank, f"ratio {ratio}")
     try:
         mp = find_period(str(cycle))

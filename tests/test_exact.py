@@ -26,6 +26,23 @@ def test_parse_fraction_rejects(value):
         parse_fraction(value)
 
 
+def test_parse_fraction_one_reader_for_every_caller():
+    """The same reader serves files, options and the interface: Fractions pass through,
+    ``positive`` refuses zero and below, ``what`` names the value, and no text builds a giant
+    integer (a long exponent or a long string is refused at once)."""
+    assert parse_fraction(Fraction(3, 7)) == Fraction(3, 7)
+    assert parse_fraction("1.5e1/3") == 5 and parse_fraction(" 29.530588853 ") == Fraction(
+        29530588853, 10**9)
+    assert parse_fraction("-2", "x") == -2
+    for bad in ("0", "-2", 0, Fraction(-1, 3)):
+        with pytest.raises(ValueError, match="^period: must be positive"):
+            parse_fraction(bad, "period", positive=True)
+    with pytest.raises(ValueError, match="exponent"):
+        parse_fraction("1e999999999")
+    with pytest.raises(ValueError, match="too long"):
+        parse_fraction("1" * 1000)
+
+
 @given(st.integers(-10**12, 10**12), st.integers(1, 10**6), st.integers(1, 10**6))
 def test_turns_mod1_is_exact_in_whole_turns(n, p, q):
     rate = Fraction(p, q)

@@ -22,7 +22,6 @@ from engine.search import (
     make_constraints,
     make_target,
     parse_counts,
-    parse_fraction,
     search,
     split_ratio,
 )
@@ -337,10 +336,15 @@ def test_impossible_constraints(kwargs, message):
         search(make_target(ratio="1/3"), cons)
 
 
-def test_parse_fraction_exact():
-    assert parse_fraction("6940/235") == Fraction(6940, 235)
-    assert parse_fraction(" 29.530588853 ") == Fraction(29530588853, 10**9)
-    assert parse_fraction("1.5e1/3") == 5
+def test_targets_read_fractions_exactly_and_refuse_non_positive():
+    assert make_target(period="6940/235").ratio == Fraction(235, 6940)
+    assert make_target(period=" 29.530588853 ").ratio == Fraction(10**9, 29530588853)
+    assert make_target(ratio="1.5e1/3").ratio == 5
+    assert make_target(ratio=Fraction(19, 235), crank_days=Fraction(1, 2)).ratio == Fraction(
+        19, 235)
+    for bad in ("0", "-1/3", "1/0", "2**10", "1e99999999"):
+        with pytest.raises(SearchError, match="^ratio: "):
+            make_target(ratio=bad)
 
 
 # --- command line -----------------------------------------------------------------------------

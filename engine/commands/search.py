@@ -13,7 +13,7 @@ from rich.markup import escape
 from rich.table import Table
 
 from ..errors import SearchError
-from ..exact import fraction_text
+from ..exact import fraction_text, parse_fraction
 from ..periods import PERIODS, relation_error_ppm
 from ..search import (
     Convergent,
@@ -22,7 +22,6 @@ from ..search import (
     emit_fragment,
     make_constraints,
     make_target,
-    parse_fraction,
     result_to_dict,
     search,
 )
@@ -38,8 +37,8 @@ def _number(what: str):
     of range is a usage error, exit 2); the text itself is passed on, to be read exactly."""
     def check(text: str) -> str:
         try:
-            parse_fraction(text, what)
-        except SearchError as exc:
+            parse_fraction(text, what, positive=True)
+        except ValueError as exc:
             raise argparse.ArgumentTypeError(str(exc)) from None
         return text
     return check
