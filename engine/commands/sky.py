@@ -11,10 +11,11 @@ from rich.table import Table
 
 from ..dates import calendar_date, format_jd, parse_date
 from ..errors import DateError, SkyError
-from ..sky import Site, Sky
+from ..sky import PLANETS, Site, Sky
 
 NAME = "sky"
-HELP = "true Sun and Moon at a date: longitudes, phase, distance, node and perigee"
+HELP = ("true Sun, Moon and planets at a date: longitudes, phase, distance, node and perigee, "
+        "planets seen from the Earth and from the Sun")
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
 
@@ -54,12 +55,16 @@ def run(args: argparse.Namespace, console: Console) -> int:
         args._sky_parser.error(str(exc))
     sky = Sky(args.ephemeris)
     frame = "stars" if args.stars else "equinox"
-    st = sky.at(jd, frame=frame, site=site)
+    st = sky.at(jd, frame=frame, site=site, planets=PLANETS + ("earth",))
     cal = calendar_date(jd, args.calendar)[-1]
     v = {k: float(getattr(st, k)) for k in (
         "delta_t_s", "sun_lon_deg", "sun_lat_deg", "moon_lon_deg", "moon_lat_deg",
         "elongation_deg", "illuminated", "moon_km", "node_deg", "perigee_deg",
         "moon_mean_anomaly_deg")}
+    for name in PLANETS:
+        v[f"{name}_lon_deg"] = float(st.planet_lon_deg[name])
+    for name in PLANETS + ("earth",):
+        v[f"{name}_helio_lon_deg"] = float(st.planet_helio_lon_deg[name])
     phase = st.phase_names()[0]
     if args.json:
         console.print_json(json.dumps({
@@ -93,5 +98,15 @@ def run(args: argparse.Namespace, console: Console) -> int:
         table.add_row(label, f"{deg:.5f}", note)
     console.print(table)
     console.print(f"Moon {v['illuminated'] * 100:.1f}% lit, {v['moon_km']:,.0f} km away.")
+    planets = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False,
+                    title="planets, ecliptic longitude in degrees", title_justify="left")
+    planets.add_column("", justify="left", no_wrap=True)
+    planets.add_column("from the Earth (apparent)", justify="right")
+    planets.add_column("from the Sun (orrery arm)", justify="right")
+    for name in PLANETS + ("earth",):
+        geo = v.get(f"{name}_lon_deg")
+        planets.add_row(name.capitalize(), "" if geo is None else f"{geo:.5f}",
+                        f"{v[f'{name}_helio_lon_deg']:.5f}")
+    console.print(planets)
     console.print(f"[yellow]{SUN_CAUTION}[/]")
     return 0
