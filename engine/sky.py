@@ -694,3 +694,43 @@ def _lon_lat(v, dpsi):
     rho = np.hypot(v[0], v[1])
     lat = np.degrees(np.arctan2(v[2], rho))
     return lon, lat, np.hypot(rho, v[2])
+
+
+# --- eclipse geometry (used by engine/eclipses.py; self-contained, keep it last) -------------
+# Only the skyfield calls the eclipse module needs: apparent geocentric Sun and Moon vectors
+# for the solar eclipse geometry, and skyfield's own lunar eclipse search. The eclipse logic
+# itself (criteria, types, predictions) lives in engine/eclipses.py.
+
+def eclipse_vectors(sky: Sky, jd_ut) -> tuple[np.ndarray, np.ndarray]:
+    """Apparent geocentric (GCRS) Sun and Moon positions in km at UT dates: two (3, n) arrays.
+
+    Skyfield's own pipeline (light time, aberration, deflection), vectorised over the dates."""
+    flat = np.atleast_1d(np.asarray(jd_ut, dtype=float))
+    sky._check_span(flat)
+    t = _timescale().ut1_jd(flat)
+    here = sky._earth.at(t)
+    sun = here.observe(sky._sun).apparent().xyz.km
+    moon = here.observe(sky._moon).apparent().xyz.km
+    return np.reshape(sun, (3, -1)), np.reshape(moon, (3, -1))
+
+
+def lunar_eclipse_search(sky: Sky, jd_start: float, jd_end: float) -> dict[str, np.ndarray]:
+    """Lunar eclipses between two UT dates by skyfield's search
+    (``skyfield.eclipselib.lunar_eclipses``): ``jd_ut`` of greatest eclipse, ``code`` (0
+    penumbral, 1 partial, 2 total), ``closest_approach_deg`` (Moon's centre from the shadow
+    axis), ``umbral_magnitude``, ``penumbral_magnitude``."""
+    from skyfield import eclipselib
+
+    sky.check_span(jd_start, jd_end)
+    ts = _timescale()
+    t, code, details = eclipselib.lunar_eclipses(ts.ut1_jd(jd_start), ts.ut1_jd(jd_end),
+                                                 sky._loaded.kernel)
+    return {
+        "jd_ut": np.asarray(t.ut1, dtype=float).reshape(-1),
+        "code": np.asarray(code, dtype=int).reshape(-1),
+        "closest_approach_deg": np.degrees(np.asarray(details["closest_approach_radians"],
+                                                      dtype=float)).reshape(-1),
+        "umbral_magnitude": np.asarray(details["umbral_magnitude"], dtype=float).reshape(-1),
+        "penumbral_magnitude": np.asarray(details["penumbral_magnitude"],
+                                          dtype=float).reshape(-1),
+    }
