@@ -17,6 +17,8 @@ import math
 from dataclasses import dataclass, field
 from fractions import Fraction
 
+import numpy as np
+
 from .kinematics import Kinematics
 from .periods import PERIODS
 from .train import FRAME, Train
@@ -340,7 +342,7 @@ def check(train: Train, kin: Kinematics, *, crank_rpm: float | None = None,
                          pin_diameter_mm)
     findings = report.findings
     deps, upstream = _power_flow(train, kin)
-    pin_checks = _pin_slots(train, pin_diameter_mm, findings)
+    pin_checks = _pin_slots(train, pin_diameter_mm, findings, kin)
     report.pin_slots = pin_checks
     report.arbors = _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, efficiency,
                             findings)
@@ -364,30 +366,73 @@ def check(train: Train, kin: Kinematics, *, crank_rpm: float | None = None,
     return report
 
 
-def _pin_slots(train: Train, pin_d: float, findings: list[Finding]) -> list[PinSlotCheck]:
+def carried_slot_extremes(ps, carrier_rate: float, pin_rate: float,
+                          samples: int = 256) -> tuple[float, float, float, float, float]:
+    """For a pin riding on a carrier: the pin's least and greatest distance from the slot
+    arbor's axis (mm), the largest lead or lag of the slot arbor on the arbor it follows
+    (degrees), and its least and greatest speed over that arbor's speed.
+
+    The follower faces ``V = arm u(a) + r u(q) - (e, 0)`` (see
+    :func:`engine.kinematics.pin_slot_lead_turns`); the distances and the lead bound follow
+    from the triangle inequality (the longest length less, or plus, the other two), the speeds
+    from ``dφ/dt = (V × V') / |V|²`` over a grid of both angles (rates relative to the mount,
+    turns per crank turn) — a design estimate, close to but not exactly the extremes.
+    """
+    arm, r, e = ps.arm_mm, ps.pin_radius_mm, ps.offset_mm
+    followed, others = (arm, r + e) if ps.follows == "carrier" else (r, arm + e)
+    w_follow = carrier_rate if ps.follows == "carrier" else pin_rate
+    g = np.linspace(0, 2 * np.pi, samples, endpoint=False)
+    a, q = np.meshgrid(g, g)
+    vx = arm * np.cos(a) + r * np.cos(q) - e
+    vy = arm * np.sin(a) + r * np.sin(q)
+    dx = -arm * carrier_rate * np.sin(a) - r * pin_rate * np.sin(q)
+    dy = arm * carrier_rate * np.cos(a) + r * pin_rate * np.cos(q)
+    speed = (vx * dy - vy * dx) / (vx * vx + vy * vy)
+    if w_follow == 0:
+        lo = hi = 1.0
+    else:
+        lo, hi = float(np.min(speed / w_follow)), float(np.max(speed / w_follow))
+    return (followed - others, arm + r + e, math.degrees(math.asin(others / followed)), lo, hi)
+
+
+def _pin_slots(train: Train, pin_d: float, findings: list[Finding],
+               kin=None) -> list[PinSlotCheck]:
     out = []
     default_d = pin_d
     for ps in train.pin_slots.values():
         r, e = ps.pin_radius_mm, ps.offset_mm
         pin_d = ps.pin_diameter_mm or default_d
         assumed = ", diameter assumed" if ps.pin_diameter_mm is None else ""
-        lo, hi = slot_speed_factors(r, e)
-        c = PinSlotCheck(ps.name, ps.pin_arbor, ps.slot_arbor, r, e, pin_d, 2 * e + pin_d,
-                         r - e - pin_d / 2, r + e + pin_d / 2, math.degrees(math.asin(e / r)),
-                         lo, hi)
+        if ps.carrier is None:
+            lo, hi = slot_speed_factors(r, e)
+            near, far, lead = r - e, r + e, math.degrees(math.asin(e / r))
+            travel = f"2 × {_mm(e)} offset + {_mm(pin_d)} pin{assumed}"
+            other_d = f"for another pin diameter d use 2 × {_mm(e)} + d"
+            tune = "change offset_mm to tune it: lead asin(e/r), speed r/(r+e) to r/(r-e)"
+        else:
+            mount = train.arbors[ps.slot_arbor].mount
+            rel = None if mount == FRAME else mount
+            near, far, lead, lo, hi = carried_slot_extremes(
+                ps, float(kin.rate(ps.carrier, rel)), float(kin.rate(ps.pin_arbor, rel)))
+            travel = (f"the pin's distance from the slot arbor's axis runs from {_mm(near)} "
+                      f"to {_mm(far)}, + {_mm(pin_d)} pin{assumed}")
+            other_d = f"for another pin diameter d use {_mm(far - near)} + d"
+            tune = ("arm_mm, pin_radius_mm and offset_mm set the loop: the lead is at most "
+                    "asin(shorter lengths / longest)")
+        c = PinSlotCheck(ps.name, ps.pin_arbor, ps.slot_arbor, r, e, pin_d,
+                         far - near + pin_d, near - pin_d / 2, far + pin_d / 2, lead, lo, hi)
         out.append(c)
         item = f"[pin_slots.{ps.name}]"
         findings.append(Finding(
             "note", item, f"the slot must let the pin travel {_mm(c.slot_length_mm)} "
-            f"(2 × {_mm(e)} offset + {_mm(pin_d)} pin{assumed}), from "
+            f"({travel}), from "
             f"{_mm(c.slot_inner_mm)} to {_mm(c.slot_outer_mm)} from the slot arbor's axis",
             f"cut the slot at least {_mm(c.slot_length_mm)} long plus running clearance; "
-            f"for another pin diameter d use 2 × {_mm(e)} + d"))
+            f"{other_d}"))
         findings.append(Finding(
-            "note", item, f"'{ps.slot_arbor}' leads or lags '{ps.pin_arbor}' by up to "
+            "note", item, f"'{ps.slot_arbor}' leads or lags '{ps.followed_arbor}' by up to "
             f"{c.max_lead_deg:.3g}° and turns between {lo:.4g} and {hi:.4g} times its speed "
-            "(relative to their mount); every arbor it drives varies the same way",
-            "change offset_mm to tune it: lead asin(e/r), speed r/(r+e) to r/(r-e)"))
+            "(relative to their mount); every arbor it drives varies the same way", tune))
         if c.slot_inner_mm <= 0:
             findings.append(Finding(
                 "warning", item, f"the slot would reach the slot arbor's axis (inner end "
@@ -418,8 +463,8 @@ def _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, eff, findings):
             if not w:
                 continue
             ps = train.pin_slots[sname]
-            pin_rel = float(kin.rate(ps.pin_arbor, train.arbors[ps.pin_arbor].mount
-                                     if train.arbors[ps.pin_arbor].mount != FRAME else None))
+            mount = train.arbors[ps.slot_arbor].mount
+            pin_rel = float(kin.rate(ps.followed_arbor, mount if mount != FRAME else None))
             ends = [float(w) * (fac - 1.0) * pin_rel for fac in
                     (pins[sname].speed_factor_min, pins[sname].speed_factor_max)]
             lo += min(ends)
@@ -550,7 +595,7 @@ def _shared_axes(train: Train, groups: dict[str, str], findings: list[Finding]) 
             continue
         pairs.setdefault(frozenset((g1, g2)), []).append((m.label, a, m))
     for ps in train.pin_slots.values():
-        g1, g2 = groups[ps.pin_arbor], groups[ps.slot_arbor]
+        g1, g2 = groups[ps.carrier or ps.pin_arbor], groups[ps.slot_arbor]
         if g1 == g2:
             if ps.offset_mm > TOLERANCE_MM:
                 findings.append(Finding(
@@ -676,8 +721,9 @@ def _positions(train: Train, groups, modules, findings: list[Finding]) -> None:
             "error", m.label, f"the axes are placed {_mm(dist)} apart but the wheels need "
             f"{_mm(a)}: {_mm(abs(gap))} {'too far' if gap > 0 else 'too close'}", fix))
     for ps in train.pin_slots.values():
-        if placed(ps.pin_arbor, ps.slot_arbor):
-            dist = math.dist(pos[ps.pin_arbor], pos[ps.slot_arbor])
+        axis = ps.carrier or ps.pin_arbor  # the axis offset_mm is measured from
+        if placed(axis, ps.slot_arbor):
+            dist = math.dist(pos[axis], pos[ps.slot_arbor])
             if abs(dist - ps.offset_mm) > TOLERANCE_MM:
                 findings.append(Finding(
                     "error", f"[pin_slots.{ps.name}]", f"the axes are placed {_mm(dist)} apart "

@@ -69,6 +69,7 @@ import numpy as np
 from .errors import WheelworkError
 from .exact import turns_mod1
 from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, sky_at, true_value
+from .kinematics import pin_slot_lead_turns
 from .periods import JULIAN_CENTURY_DAYS, PERIODS
 
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
@@ -209,8 +210,8 @@ class _GridReader:
     The sums are those of ``Readout.read_deg`` and ``Kinematics.slot_lags_turns``: exact whole
     turns at the anchor (:func:`engine.exact.turns_mod1`), then the float rate times the turns
     since the anchor. The pin-and-slot lead is the same plane geometry written directly as the
-    lead, ``atan2(e sin t, 1 - e cos t)`` (rotate ``(cos t - e, sin t)`` back by ``t``), in single
-    precision: the lead is at most ``asin(e)``, so its rounding stays below 1e-5°.
+    lead (:func:`engine.kinematics.pin_slot_lead_turns`), in single precision: the lead is
+    bounded (at most ``asin(e / r)`` for the classic stage), so its rounding stays below 1e-5°.
     """
 
     def __init__(self, readout):
@@ -221,11 +222,16 @@ class _GridReader:
         self.slots = []
         for sname in kin.slot_order:
             ps = train.pin_slots[sname]
-            rel = kin.linear_of(ps.pin_arbor) - kin.linear_of(train.arbors[ps.pin_arbor].mount)
-            weights = tuple((other, float(w)) for other, w in zip(kin.slot_names, rel.slots,
-                                                                  strict=True) if w)
-            self.slots.append((sname, rel.crank, float(rel.crank), ps.pin_deg / 360.0,
-                               np.float32(ps.offset_mm / ps.pin_radius_mm), weights))
+            mount = kin.linear_of(train.arbors[ps.slot_arbor].mount)
+            moving = []  # (exact rate, float rate, angle at the epoch, lag weights)
+            for arbor, at_deg in ((ps.pin_arbor, ps.pin_deg), (ps.carrier, ps.arm_deg)):
+                if arbor is None:
+                    continue
+                rel = kin.linear_of(arbor) - mount
+                weights = tuple((other, float(w)) for other, w in zip(kin.slot_names, rel.slots,
+                                                                      strict=True) if w)
+                moving.append((rel.crank, float(rel.crank), at_deg / 360.0, weights))
+            self.slots.append((sname, ps, moving))
         self.pointers = {}
         for name, m in readout.motions.items():
             weights = tuple((s, 360.0 * float(w)) for s, w in zip(kin.slot_names, m.lin.slots,
@@ -242,16 +248,19 @@ class _GridReader:
 
     def lags_turns(self, a, since: np.ndarray) -> dict[str, np.ndarray]:
         lags: dict[str, np.ndarray] = {}
-        for sname, rate, rate_f, pin0, ratio, weights in self.slots:
-            pin = rate_f * since
-            pin += float(turns_mod1(rate, a)) + pin0
-            for other, w in weights:
-                if other in lags:
-                    pin += w * lags[other]
-            pin -= np.floor(pin)
-            t = (pin * (2 * np.pi)).astype(np.float32)
-            lead = np.arctan2(ratio * np.sin(t), 1 - ratio * np.cos(t))
-            lags[sname] = lead.astype(float) * (1 / (2 * np.pi))
+        for sname, ps, moving in self.slots:
+            angles = []
+            for rate, rate_f, at0, weights in moving:
+                x = rate_f * since
+                x += float(turns_mod1(rate, a)) + at0
+                for other, w in weights:
+                    if other in lags:
+                        x += w * lags[other]
+                x -= np.floor(x)
+                angles.append(x)
+            lags[sname] = pin_slot_lead_turns(angles[0], ps.pin_radius_mm, ps.offset_mm,
+                                              angles[1] if len(angles) > 1 else 0.0,
+                                              ps.arm_mm, ps.follows, dtype=np.float32)
         return lags
 
     def continuous_deg(self, name: str, base: dict, since: np.ndarray, lags: dict) -> np.ndarray:

@@ -11,8 +11,10 @@ The coefficients come from solving the train's constraints exactly (sympy over t
   arbor ``R`` (the frame, or the carrier of an epicyclic stage) gives the Willis relation
   ``z1 (a1 - aR) = -z2 (a2 - aR)`` (external) or ``+z2 (...)`` (internal, one wheel a ring);
 * a fixed arbor turns with its mount; the crank arbor turns once per crank turn;
-* a pin-and-slot stage makes ``a_slot - a_pin = lag_k``; ``lag_k`` is a periodic function of
-  the pin's angle relative to the mount, solved by plane geometry (:func:`slot_follower_turns`).
+* a pin-and-slot stage makes ``a_slot - a_followed = lag_k``, where the followed arbor is the
+  pin arbor or, for a pin riding on a carrier with the longer arm, the carrier; ``lag_k`` is a
+  bounded periodic function of the pin's (and carrier's) angle relative to the slot arbor's
+  mount, solved by plane geometry (:func:`pin_slot_lead_turns`).
 
 Whole crank turns are multiplied exactly (:func:`engine.exact.turns_mod1`), so angles after
 millions of turns keep their precision.
@@ -44,6 +46,38 @@ class LinearAngle:
 
     def scaled(self, k: Fraction) -> LinearAngle:
         return LinearAngle(self.crank * k, tuple(s * k for s in self.slots))
+
+
+def pin_slot_lead_turns(pin_turns, pin_radius: float, offset: float, arm_turns=0.0,
+                        arm: float = 0.0, follows: str = "pin", dtype=float) -> np.ndarray:
+    """Lead of a slot arbor over the arbor it follows (turns, in (-1/2, 1/2]), by plane geometry.
+
+    Lay the slot arbor's mount flat, with the carrier's axis (or, with no carrier, the pin
+    arbor's axis) at the origin and the slot arbor's axis at ``(offset, 0)``. The pin arbor's
+    axis is at ``arm * u(arm_turns)`` and the pin at ``pin_radius * u(pin_turns)`` from it
+    (``u(x) = (cos 2πx, sin 2πx)``), so the slot arbor faces the direction of
+
+        V = arm u(arm_turns) + pin_radius u(pin_turns) - (offset, 0).
+
+    The lead is that direction less the followed angle (``pin_turns`` or ``arm_turns``): V turned
+    back by the followed angle, then ``atan2``. It needs no series; with the followed length
+    longer than the other two together, V never passes through the slot axis and the lead stays
+    below ``asin((others) / followed)``. With ``arm = 0`` it is the classic eccentric
+    pin-and-slot, ``atan2(e sin t, r - e cos t)``.
+    """
+    two_pi = 2 * np.pi
+    q = np.asarray(pin_turns, dtype=float)
+    a = np.asarray(arm_turns, dtype=float)
+    theta = q if follows == "pin" else a
+    dq = (two_pi * (q - theta)).astype(dtype, copy=False)
+    da = (two_pi * (a - theta)).astype(dtype, copy=False)
+    th = (two_pi * theta).astype(dtype, copy=False)
+    x = pin_radius * np.cos(dq) - offset * np.cos(th)
+    y = pin_radius * np.sin(dq) + offset * np.sin(th)
+    if arm:
+        x = x + arm * np.cos(da)
+        y = y + arm * np.sin(da)
+    return (np.arctan2(y, x) / two_pi).astype(float, copy=False)
 
 
 def slot_follower_turns(pin_turns: np.ndarray, ratio: float) -> np.ndarray:
@@ -103,14 +137,24 @@ class Kinematics:
         index = {name: k for k, name in enumerate(self.slot_names)}
         for name in self.slot_order:
             ps = self.train.pin_slots[name]
-            rel = self.linear_of(ps.pin_arbor) - self.linear_of(self.train.arbors[ps.pin_arbor]
-                                                                .mount)
-            pin = turns_mod1(rel.crank, turns) + ps.pin_deg / 360.0
-            for other, w in zip(self.slot_names, rel.slots, strict=True):
-                if w and other in lags:
-                    pin = pin + float(w) * lags[other]
-            lags[name] = slot_follower_turns(pin, ps.offset_mm / ps.pin_radius_mm)
+            mount = self.train.arbors[ps.slot_arbor].mount
+            pin = self._turns_against(ps.pin_arbor, mount, turns, lags) + ps.pin_deg / 360.0
+            arm = 0.0
+            if ps.carrier is not None:
+                arm = self._turns_against(ps.carrier, mount, turns, lags) + ps.arm_deg / 360.0
+            lags[name] = pin_slot_lead_turns(pin, ps.pin_radius_mm, ps.offset_mm, arm,
+                                             ps.arm_mm, ps.follows)
         return {name: lags[name] for name in sorted(lags, key=index.__getitem__)}
+
+    def _turns_against(self, arbor: str, mount: str, turns: Turns,
+                       lags: dict[str, np.ndarray]) -> np.ndarray:
+        """An arbor's turns relative to a mount since the epoch, with the lags known so far."""
+        rel = self.linear_of(arbor) - self.linear_of(mount)
+        out = turns_mod1(rel.crank, turns)
+        for other, w in zip(self.slot_names, rel.slots, strict=True):
+            if w and other in lags:
+                out = out + float(w) * lags[other]
+        return out
 
     def evaluate(self, lin: LinearAngle, turns: Turns | float | np.ndarray,
                  lags: dict[str, np.ndarray] | None = None) -> np.ndarray:
@@ -178,7 +222,7 @@ def solve(train: Train) -> Kinematics:
             add(f"[arbors.{a.name}] fixed", {a.name: 1, a.mount: -1})
     for k, name in enumerate(slots, start=1):
         ps = train.pin_slots[name]
-        add(f"[pin_slots.{name}]", {ps.slot_arbor: 1, ps.pin_arbor: -1}, {k: 1})
+        add(f"[pin_slots.{name}]", {ps.slot_arbor: 1, ps.followed_arbor: -1}, {k: 1})
     frames = []
     for m in train.meshes:
         w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
@@ -256,16 +300,22 @@ def _lock_error(train, rows, mat, rhs) -> TrainError:
 def _slot_order(train: Train, linear: dict[str, LinearAngle], slots: list[str]):
     """Pin-and-slot stages in an order where each pin's angle is known before it is used."""
     deps = {}
+    zero = LinearAngle(Fraction(0), (Fraction(0),) * len(slots))
     for k, name in enumerate(slots):
         ps = train.pin_slots[name]
-        mount = train.arbors[ps.pin_arbor].mount
-        rel = linear[ps.pin_arbor] - (linear[mount] if mount != FRAME else
-                                      LinearAngle(Fraction(0), (Fraction(0),) * len(slots)))
-        if rel.slots[k] != 0:
-            raise TrainError(train.source, f"[pin_slots.{name}]", "the slot arbor drives its "
-                             "own pin arbor back through the train (a loop); a pin-and-slot "
-                             "stage must only drive forward")
-        deps[name] = {slots[j] for j, w in enumerate(rel.slots) if w}
+        mount = train.arbors[ps.slot_arbor].mount
+        base = linear[mount] if mount != FRAME else zero
+        deps[name] = set()
+        for moving in (ps.pin_arbor, ps.carrier):
+            if moving is None:
+                continue
+            rel = linear[moving] - base
+            if rel.slots[k] != 0:
+                raise TrainError(train.source, f"[pin_slots.{name}]", "the slot arbor drives "
+                                 f"its own {'pin arbor' if moving == ps.pin_arbor else 'carrier'}"
+                                 " back through the train (a loop); a pin-and-slot stage must "
+                                 "only drive forward")
+            deps[name] |= {slots[j] for j, w in enumerate(rel.slots) if w}
     order: list[str] = []
     while len(order) < len(slots):
         ready = [s for s in slots if s not in order and deps[s] <= set(order)]

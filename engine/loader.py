@@ -74,7 +74,7 @@ _KEYS = {
     "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "note"},
     "mesh": {"wheels", "ring", "module_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
-                 "pin_diameter_mm", "note"},
+                 "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
     "pointer": {"shows", "arbor", "relative_to", "per_turn", "reversed", "set_deg", "note"},
 }
 
@@ -466,17 +466,37 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
                 raise r.fail(f"{item} {key}", f"unknown arbor '{a}'")
         if pin == slot:
             raise r.fail(item, "pin and slot must be on two different arbors")
-        if arbors[pin].mount != arbors[slot].mount:
-            raise r.fail(item, f"the pin arbor '{pin}' is on '{arbors[pin].mount}' but the slot "
-                         f"arbor '{slot}' is on '{arbors[slot].mount}'; both must be mounted "
-                         "on the same carrier (or the frame)")
+        pin_mount, slot_mount = arbors[pin].mount, arbors[slot].mount
+        carrier = None
+        if pin_mount != slot_mount:
+            if pin_mount == FRAME or arbors[pin_mount].mount != slot_mount:
+                raise r.fail(item, f"the pin arbor '{pin}' is on '{pin_mount}' but the slot "
+                             f"arbor '{slot}' is on '{slot_mount}'; mount both on one carrier "
+                             "(or the frame), or the pin arbor on a carrier that turns on the "
+                             "slot arbor's mount")
+            carrier = pin_mount
         radius = r.number(r.need(tbl, "pin_radius_mm", item), f"{item} pin_radius_mm",
                           positive=True)
         offset = r.number(r.need(tbl, "offset_mm", item), f"{item} offset_mm", nonneg=True)
-        if offset >= radius:
-            raise r.fail(f"{item} offset_mm", f"the axis offset ({offset:g} mm) must be smaller "
-                         f"than the pin radius ({radius:g} mm), or the pin would not go round "
-                         "the slot arbor's axis")
+        arm = 0.0
+        if carrier is None:
+            for key in ("arm_mm", "arm_deg"):
+                if key in tbl:
+                    raise r.fail(f"{item} {key}", f"the pin arbor '{pin}' is on the slot "
+                                 f"arbor's own mount ('{slot_mount}'), not on a carrier: "
+                                 f"{key} is only for a pin riding on a carrier")
+            if offset >= radius:
+                raise r.fail(f"{item} offset_mm", f"the axis offset ({offset:g} mm) must be "
+                             f"smaller than the pin radius ({radius:g} mm), or the pin would "
+                             "not go round the slot arbor's axis")
+        else:
+            arm = r.number(r.need(tbl, "arm_mm", item), f"{item} arm_mm", positive=True)
+            if not (arm > radius + offset or radius > arm + offset):
+                raise r.fail(f"{item} arm_mm", f"the pin can come to the slot arbor's axis: "
+                             f"make the carrier arm ({arm:g} mm) longer than pin radius and "
+                             f"offset together ({radius + offset:g} mm), or the pin radius "
+                             f"({radius:g} mm) longer than arm and offset together "
+                             f"({arm + offset:g} mm)")
         pin_d = tbl.get("pin_diameter_mm")
         if pin_d is not None:
             pin_d = r.number(pin_d, f"{item} pin_diameter_mm", positive=True)
@@ -484,7 +504,8 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
                             r.number(tbl.get("offset_deg", 0.0), f"{item} offset_deg",
                                      limit=MAX_DEG),
                             r.number(tbl.get("pin_deg", 0.0), f"{item} pin_deg", limit=MAX_DEG),
-                            pin_d)
+                            pin_d, carrier, arm,
+                            r.number(tbl.get("arm_deg", 0.0), f"{item} arm_deg", limit=MAX_DEG))
     return out
 
 

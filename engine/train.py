@@ -60,11 +60,20 @@ class Mesh:
 
 @dataclass(frozen=True)
 class PinSlot:
-    """A pin on one arbor riding in a slot on another arbor whose axis is offset from it.
+    """A pin on one arbor riding in a slot on another arbor, which turns to face the pin.
 
-    Both arbors are mounted on the same carrier (or the frame). ``offset_deg`` is the direction
-    from the pin arbor's axis to the slot arbor's axis, in the mount's frame; ``pin_deg`` is the
-    pin's angle from that direction at the epoch.
+    Either both arbors are on one mount (the frame or a carrier), their axes ``offset_mm``
+    apart; or the pin arbor rides on a carrier (``carrier``) that turns on the slot arbor's
+    mount, its axis ``arm_mm`` from the carrier's axis, and the slot arbor's axis is
+    ``offset_mm`` from the carrier's axis (0: on the carrier's own axis, like a dial centre).
+
+    Angles are in the slot arbor's mount's frame, from the reference direction ``offset_deg``
+    (the direction from the pin arbor's axis — or the carrier's, when the pin is carried — to
+    the slot arbor's axis): ``pin_deg`` is the pin's direction from its arbor's axis at the
+    epoch, ``arm_deg`` the direction of the pin arbor's axis from the carrier's axis then.
+    The slot arbor's angle is the direction from its axis to the pin, by plane geometry
+    (:func:`engine.kinematics.pin_slot_lead_turns`); on average it turns with whichever of the
+    carrier arm and the pin radius is the longer (:attr:`follows`).
     """
 
     name: str
@@ -75,6 +84,22 @@ class PinSlot:
     offset_deg: float = 0.0
     pin_deg: float = 0.0
     pin_diameter_mm: float | None = None  # only the mechanical checks use it
+    carrier: str | None = None  # the pin arbor's mount, when the pin rides on a carrier
+    arm_mm: float = 0.0
+    arm_deg: float = 0.0
+
+    @property
+    def follows(self) -> str:
+        """``"carrier"`` when the carrier arm is longer than pin radius and offset together
+        (the slot arbor goes round with the carrier), else ``"pin"`` (with the pin arbor)."""
+        if self.carrier is not None and self.arm_mm > self.pin_radius_mm + self.offset_mm:
+            return "carrier"
+        return "pin"
+
+    @property
+    def followed_arbor(self) -> str:
+        """The arbor whose mean turning the slot arbor shares."""
+        return self.carrier if self.follows == "carrier" else self.pin_arbor
 
 
 @dataclass(frozen=True)

@@ -345,3 +345,23 @@ def test_pin_diameter_from_the_file_sets_the_slot_length():
     (ps,) = check(train, solve(train)).pin_slots
     assert ps.slot_length_mm == pytest.approx(2 * 0.985 + 2.0)
     assert ps.pin_diameter_mm == 2.0
+
+
+def test_carried_pin_slot_extremes_by_hand():
+    """A pin on an epicycle (arm 10 mm, pin radius 7.23 mm, slot arbor on the carrier's axis),
+    the epicycle turning 1.6 times against the carrier: by hand, the pin comes within
+    10 - 7.23 = 2.77 mm of the centre and goes out to 17.23 mm; the follower leads or lags the
+    carrier by at most asin(7.23 / 10) = 46.3°; at the nearest approach it runs backwards at
+    (10 - 7.23 × 2.6) / 2.77 = -3.18 times the carrier's speed, at the farthest forwards at
+    (10 + 7.23 × 2.6) / 17.23 = 1.67 times."""
+    from tests.test_kinematics import CARRIED, train_text
+    train = parse_train(train_text(CARRIED.format(z=25, r=7.23, e=0.0, arm=10.0, arm_deg=0,
+                                                  pin_deg=0)), "test.toml")
+    report = check(train, solve(train))
+    (c,) = report.pin_slots
+    assert c.slot_inner_mm + c.pin_diameter_mm / 2 == pytest.approx(2.77)
+    assert c.slot_outer_mm - c.pin_diameter_mm / 2 == pytest.approx(17.23)
+    assert c.max_lead_deg == pytest.approx(math.degrees(math.asin(0.723)))
+    assert c.speed_factor_min == pytest.approx((10 - 7.23 * 2.6) / 2.77, rel=1e-6)
+    assert c.speed_factor_max == pytest.approx((10 + 7.23 * 2.6) / 17.23, rel=1e-6)
+    assert any("leads or lags 'a'" in f.message for f in report.findings)

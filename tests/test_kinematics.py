@@ -278,3 +278,126 @@ def test_scalar_and_array_inputs_agree():
         one = kin.angles_turns(float(x))
         for arbor in one:
             assert float(one[arbor]) == pytest.approx(float(many[arbor][i]), abs=1e-12)
+
+
+# --- a pin carried round on an epicycle ---------------------------------------------------------
+
+# A deferent carrier turned by the crank; an epicycle arbor on it, `arm` mm out, turned by a
+# 40-tooth wheel fixed to the frame on the carrier's axis meshing with the epicycle's own wheel
+# (so it turns against the carrier at +40/z turns per carrier turn); a slot arbor on the frame,
+# `offset` mm from the carrier's axis along the x direction, faces the pin on the epicycle.
+CARRIED = """
+[arbors.a]
+wheels = {{}}
+[arbors.fixed_sun]
+wheels = {{ sun = 40 }}
+fixed = true
+axis_with = "a"
+[arbors.epi]
+on = "a"
+wheels = {{ epi_w = {z} }}
+[arbors.follower]
+wheels = {{}}
+[[meshes]]
+wheels = ["sun", "epi_w"]
+[pin_slots.s]
+pin = "epi"
+slot = "follower"
+pin_radius_mm = {r}
+offset_mm = {e}
+arm_mm = {arm}
+arm_deg = {arm_deg}
+pin_deg = {pin_deg}
+"""
+
+
+def by_hand(turns, z, r, e, arm, arm_deg, pin_deg):
+    """Plane geometry worked directly: the carrier's arm at arm_deg + 360 t; the epicycle turns
+    with the carrier plus 40/z of a turn against it per crank turn (Willis, one external mesh
+    with the 40-tooth fixed wheel: against the carrier the fixed wheel turns back once), so the
+    pin's direction is pin_deg + 360 t (1 + 40/z); the
+    pin is at arm (cos, sin)(arm) + r (cos, sin)(pin); the follower points from (e, 0) to it."""
+    a = np.radians(arm_deg + 360 * turns)
+    q = np.radians(pin_deg + 360 * turns * (1 + 40 / z))
+    x = arm * np.cos(a) + r * np.cos(q) - e
+    y = arm * np.sin(a) + r * np.sin(q)
+    return np.degrees(np.arctan2(y, x))
+
+
+@pytest.mark.parametrize("z,r,e,arm,arm_deg,pin_deg", [
+    (25, 7.23, 0.0, 10.0, 0.0, 0.0),      # two circles on one centre (a Venus-like dial)
+    (64, 10.0, 0.0, 15.24, 30.0, 200.0),  # a Mars-like dial, arms at other angles
+    (25, 4.0, 2.5, 10.0, 0.0, 90.0),      # slot arbor off the carrier's axis
+    (33, 12.0, 1.5, 5.0, 0.0, 45.0),      # the pin radius the longer: follows the epicycle
+])
+def test_carried_pin_follower_points_at_the_pin(z, r, e, arm, arm_deg, pin_deg):
+    train = parse_train(train_text(CARRIED.format(z=z, r=r, e=e, arm=arm, arm_deg=arm_deg,
+                                                  pin_deg=pin_deg)), "test.toml")
+    kin = solve(train)
+    ps = train.pin_slots["s"]
+    assert ps.carrier == "a"
+    follows = "a" if arm > r + e else "epi"
+    assert ps.followed_arbor == follows
+    assert kin.rate("follower") == kin.rate(follows)
+    turns = np.linspace(0, 7.3, 20_001)
+    got = kin.angle_turns("follower", turns) * 360
+    # the solver's angles start at 0 at the epoch: the followed arbor's angle at the epoch
+    # (arm_deg or pin_deg) is the constant between the two
+    want = by_hand(turns, z, r, e, arm, arm_deg, pin_deg) - (arm_deg if follows == "a"
+                                                            else pin_deg)
+    diff = np.mod(got - want + 180, 360) - 180
+    assert abs(diff).max() < 1e-9
+
+
+def test_carried_pin_goes_retrograde_and_keeps_the_carriers_mean_rate():
+    """Venus-like proportions: the follower's speed goes negative near the pin's nearest
+    approach (retrograde), and after whole turns of both it is back where it started."""
+    train = parse_train(train_text(CARRIED.format(z=25, r=7.23, e=0.0, arm=10.0, arm_deg=0.0,
+                                                  pin_deg=0.0)), "test.toml")
+    kin = solve(train)
+    turns = np.linspace(0, 5, 50_001)  # the epicycle turns 40/25 = 1.6 against the carrier
+    ang = np.unwrap(kin.angle_turns("follower", turns) * 2 * np.pi) / (2 * np.pi)
+    speed = np.diff(ang) / np.diff(turns)
+    assert speed.min() < 0 < speed.max()
+    # by hand: at the nearest approach (pin pointing at the centre) the pin moves at
+    # 10 * 1 - 7.23 * 2.6 = -8.8 mm per turn, 2.77 mm from the centre: -3.18 turns per turn
+    assert speed.min() == pytest.approx((10 - 7.23 * 2.6) / (10 - 7.23), rel=1e-3)
+    # after 5 crank turns the epicycle has made 8 turns against the carrier, a whole number,
+    # so the follower has made exactly the carrier's 5 turns
+    assert ang[-1] - ang[0] == pytest.approx(5.0, abs=1e-9)
+
+
+@pytest.mark.parametrize("extra,msg", [
+    ('arm_mm = 3', "arm_mm is only for a pin riding on a carrier"),
+])
+def test_arm_keys_need_a_carrier(extra, msg):
+    from engine.errors import TrainError
+    text = train_text("""
+[arbors.a]
+wheels = { g = 20 }
+[arbors.b]
+wheels = { h = 20 }
+[[meshes]]
+wheels = ["g", "h"]
+[arbors.c]
+wheels = {}
+[pin_slots.s]
+pin = "b"
+slot = "c"
+pin_radius_mm = 5
+offset_mm = 1
+""" + extra + "\n")
+    with pytest.raises(TrainError, match=msg):
+        parse_train(text, "test.toml")
+
+
+def test_carried_pin_that_can_reach_the_slot_axis_is_refused():
+    from engine.errors import TrainError
+    text = train_text(CARRIED.format(z=25, r=7.0, e=0.0, arm=8.0, arm_deg=0, pin_deg=0)
+                      .replace("pin_radius_mm = 7.0", "pin_radius_mm = 7.0"))
+    parse_train(text, "test.toml")  # 8 > 7: fine
+    bad = text.replace("arm_mm = 8.0", "arm_mm = 6.0")  # 6 < 7 but 7 < 6 + 0: the pin wins
+    parse_train(bad, "test.toml")
+    worse = CARRIED.format(z=25, r=7.0, e=2.0, arm=8.0, arm_deg=0, pin_deg=0)
+    with pytest.raises(TrainError, match=r"\[pin_slots.s\] arm_mm.*can come to the slot"):
+        parse_train(train_text(worse), "test.toml")

@@ -150,7 +150,7 @@ slot = "c"
 pin_radius_mm = 3
 offset_mm = 1
 """)
-    assert "[pin_slots.s]" in msg and "same carrier" in msg
+    assert "[pin_slots.s]" in msg and "on one carrier" in msg
 
 
 def test_meshing_across_unrelated_carriers():
