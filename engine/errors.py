@@ -25,3 +25,18 @@ class SkyError(WheelworkError):
 
 class SearchError(WheelworkError):
     """A tooth-count search with a bad target or impossible constraints."""
+
+
+class UsageError(WheelworkError):
+    """A command-line option value that cannot be read, is out of range or does not fit the
+    other options (the CLI prints it as one line, exit code 2). ``prog`` names the command
+    (``wheelwork drift``) when known."""
+
+    def __init__(self, message: str, prog: str | None = None):
+        super().__init__(message)
+        self.prog = prog
+
+
+class OutputError(WheelworkError):
+    """An output file that must not or cannot be written (exists, is a link, a device, the
+    input itself, a missing folder...)."""

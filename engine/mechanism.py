@@ -5,14 +5,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+from .demos import default_train
 from .errors import SkyError, TrainError
 from .kinematics import Kinematics, solve
 from .loader import load_train
 from .readout import Readout, backward_warnings, epoch_values
 from .train import Train
 
-TRAINS_DIR = Path(__file__).resolve().parent / "trains"
-DEFAULT_TRAIN = TRAINS_DIR / "tide_office.toml"
+DEFAULT_TRAIN = default_train()  # the bundled tide office dial
 
 
 @dataclass(frozen=True)

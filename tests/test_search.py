@@ -351,9 +351,9 @@ def test_targets_read_fractions_exactly_and_refuse_non_positive():
 
 
 def test_cli_error_one_line(capsys):
-    assert main(["search", "--cycle", "blue moon"]) == 1
+    assert main(["search", "--cycle", "blue moon"]) == 2  # an option value: usage error
     err = capsys.readouterr().err.strip()
-    assert err.startswith("wheelwork: error: unknown period") and "\n" not in err
+    assert err.startswith("wheelwork search: usage error: unknown period") and "\n" not in err
 
 
 def test_cli_table(capsys):
@@ -397,7 +397,7 @@ def test_cli_emit_refuses_overwrite(tmp_path, capsys):
 def test_cli_emit_checks_and_far_off_note(tmp_path, capsys):
     from engine.cli import main
 
-    assert main(["search", "--period", "29.530589", "--pick", "2"]) == 1
+    assert main(["search", "--period", "29.530589", "--pick", "2"]) == 2
     assert "give --emit FILE too" in capsys.readouterr().err
     assert main(["search", "--period", "29.530589", "--emit", str(tmp_path)]) == 1
     assert "is a folder" in capsys.readouterr().err

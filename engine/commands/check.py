@@ -14,22 +14,12 @@ from rich.table import Table
 from ..checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
 from ..kinematics import solve
 from ..loader import load_train
+from . import support
 
-NAME = "check"
-HELP = ("whether a train can be built: centre distances, positions, overlaps, arbor speeds "
-        "and loads, tooth-count rules of thumb, pin-and-slot slots")
+# A crank (or a motor driving one) beyond this is no longer a display mechanism.
+MAX_CRANK_RPM = 100_000
 
 _STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan"}
-
-
-def _rpm(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
-    if not value > 0 or value == float("inf"):
-        raise argparse.ArgumentTypeError(f"must be a positive number, got {text}")
-    return value
 
 
 def _efficiency(text: str) -> float:
@@ -43,8 +33,8 @@ def _efficiency(text: str) -> float:
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("train", metavar="TRAIN", help="train file (TOML)")
-    parser.add_argument("--crank-rpm", type=_rpm, default=None, metavar="N",
+    support.add_train(parser)
+    parser.add_argument("--crank-rpm", type=support.positive("turns per minute", MAX_CRANK_RPM), default=None, metavar="N",
                         help=f"highest crank speed to evaluate, turns per minute (default "
                         f"{DEFAULT_CRANK_RPM:g}: one turn a second by hand)")
     parser.add_argument("--efficiency", type=_efficiency, default=None, metavar="E",

@@ -13,7 +13,6 @@ import argparse
 import csv
 import json
 import math
-import os
 import signal
 import threading
 from pathlib import Path
@@ -24,7 +23,7 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from ..dates import format_jd, parse_date
+from ..dates import format_jd
 from ..drift import (
     PHASE_DEG_PER_DAY,
     YEAR_DAYS,
@@ -35,12 +34,12 @@ from ..drift import (
     grid,
     parse_step,
 )
-from ..errors import WheelworkError
+from ..errors import UsageError, WheelworkError
+from . import support
+from .support import SUN_CAUTION
 
-NAME = "drift"
-HELP = "how far a train's pointers wander from the true Sun and Moon over years or centuries"
-SAFETY = ("Checking a pointer against the real sky? Never look at the Sun, even briefly, "
-          "without a proper solar filter.")
+MAX_THRESHOLD_DAYS = 14.75  # half a synodic month: a phase is never further off than that
+MAX_YEARS = 100_000  # beyond any ephemeris; the span check says what the ephemeris covers
 CHARTS_HINT = ("--png needs matplotlib: pip install 'wheelwork[charts]' "
                "(or pip install matplotlib)")
 CHART_FORMATS = (".png", ".svg", ".pdf")
@@ -50,31 +49,15 @@ STOPPED = "wheelwork: drift stopped; no file written"
 
 # --- option values: malformed or out of range is a usage error (exit 2) ---------------------
 
-def _date(text: str) -> float:
-    try:
-        return parse_date(text)
-    except WheelworkError as exc:
-        raise argparse.ArgumentTypeError(str(exc)) from None
-
-
 def _step(text: str) -> str:
+    if text.strip().startswith("-"):
+        raise argparse.ArgumentTypeError(
+            f"{text}: the step must be positive, e.g. 6h, 1d or 7d")
     try:
         parse_step(text)
     except WheelworkError as exc:
         raise argparse.ArgumentTypeError(str(exc)) from None
     return text
-
-
-def _positive(what: str):
-    def check(text: str) -> float:
-        try:
-            v = float(text)
-        except ValueError:
-            raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
-        if not (math.isfinite(v) and v > 0):
-            raise argparse.ArgumentTypeError(f"{text}: it must be a positive number of {what}")
-        return v
-    return check
 
 
 def _chart_name(text: str) -> str:
@@ -85,33 +68,33 @@ def _chart_name(text: str) -> str:
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.set_defaults(_drift_parser=parser)  # for usage errors found after parsing
-    parser.add_argument("train", metavar="TRAIN", help="train file (TOML)")
+    support.add_train(parser)
     span = parser.add_argument_group("span")
-    span.add_argument("--from", dest="start", metavar="DATE", type=_date,
+    span.add_argument("--from", dest="start", metavar="DATE", type=support.date,
                       help="first date (default: the train's epoch)")
     end = span.add_mutually_exclusive_group(required=True)
-    end.add_argument("--to", dest="end", metavar="DATE", type=_date,
+    end.add_argument("--to", dest="end", metavar="DATE", type=support.date,
                      help="last date: the run goes on to the first step at or after it")
-    end.add_argument("--years", type=_positive("years"), metavar="N",
+    end.add_argument("--years", type=support.positive("years", MAX_YEARS), metavar="N",
                      help="span length in years of 365.25 d")
     span.add_argument("--step", default="1d", metavar="STEP", type=_step,
                       help="time between dates: 30m, 6h, 1d, 2.5d, 1y... (default 1d)")
     cmp_ = parser.add_argument_group("comparison")
-    cmp_.add_argument("--threshold", type=_positive("degrees"), metavar="DEG",
-                      help="report the first date each pointer is this many degrees off")
-    cmp_.add_argument("--threshold-days", type=_positive("days"), metavar="DAYS",
+    cmp_.add_argument("--threshold", type=support.positive("degrees", 180), metavar="DEG",
+                      help="report the first date each pointer is this many degrees off "
+                           "(at most 180: no pointer is further off than that)")
+    cmp_.add_argument("--threshold-days", type=support.positive("days", MAX_THRESHOLD_DAYS),
+                      metavar="DAYS",
                       help="for phase pointers: the first date they are this many days off "
-                           "(others use --threshold)")
+                           f"(others use --threshold; at most {MAX_THRESHOLD_DAYS:g}, half a "
+                           "month)")
     cmp_.add_argument("--frame", choices=("equinox", "stars"),
                       help="measure longitudes from the equinox of date or from the stars "
                            "(default: the train's dial)")
-    cmp_.add_argument("--site", metavar="LAT,LON[,H]",
-                      help="compare with the sky seen from this place (degrees east, metres); "
-                           "default: from the Earth's centre")
-    cmp_.add_argument("--ephemeris", metavar="FILE|de440",
-                      help="JPL ephemeris: de440 (optional package, 1550-2650) or an SPK file "
-                           "(default: bundled DE421, 1900-2050)")
+    support.add_site(cmp_, "compare with the sky seen from this place: degrees (north +, "
+                     "east +) and metres, e.g. --site -33.87,151.21; default: from the Earth's "
+                     "centre")
+    support.add_ephemeris(cmp_)
     out = parser.add_argument_group("output")
     out.add_argument("--csv", metavar="FILE",
                      help="write every date: date, jd, and each pointer's train/sky/error")
@@ -119,38 +102,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                      help="draw each pointer's error against date; the name must end in "
                           ".png, .svg or .pdf, which sets the format (needs wheelwork[charts])")
     out.add_argument("--json", action="store_true", help="print the summaries as JSON only")
-    out.add_argument("--force", action="store_true", help="overwrite existing output files")
+    support.add_force(out)
 
 
 def _usage_error(args: argparse.Namespace, message: str):
-    parser = getattr(args, "_drift_parser", None)
-    if parser is None:
-        raise DriftError(message)
-    parser.error(message)  # one line, exit 2
+    raise UsageError(message, getattr(args, "_prog", None))
 
 
 # --- output files --------------------------------------------------------------------------
-
-def _check_output(path: str | None, force: bool) -> Path | None:
-    if not path:
-        return None
-    p = Path(path)
-    if p.is_dir():
-        raise DriftError(f"{path}: is a folder; give a file name")
-    if p.exists() and not force:
-        raise DriftError(f"{path}: file exists; use --force to overwrite it")
-    if not p.parent.exists():
-        raise DriftError(f"{path}: folder {str(p.parent)!r} does not exist")
-    return p
-
-
-def _cannot_write(path: Path, exc: OSError) -> DriftError:
-    return DriftError(f"{path}: cannot write it: {exc.strerror or exc}")
-
-
-def _part(path: Path) -> Path:
-    """The hidden file beside ``path`` that is written first and renamed when complete."""
-    return path.with_name(f".{path.name}.part")
 
 
 def _load_pyplot():
@@ -165,26 +124,48 @@ def _load_pyplot():
     return plt
 
 
+GREGORIAN_START_JD = 2299160.5  # 1582-10-15 00:00 UT, the first Gregorian day
+
+
+def date_heading(first_jd: float, last_jd: float) -> str:
+    """The CSV date column's heading: UT, and which calendar the dates are in."""
+    if first_jd >= GREGORIAN_START_JD:
+        cal = "Gregorian"
+    elif last_jd < GREGORIAN_START_JD:
+        cal = "Julian"
+    else:
+        cal = "Julian to 1582-10-04 then Gregorian"
+    return f"date (UT; {cal} calendar)"
+
+
+def csv_header(mech, first_jd: float, last_jd: float) -> list[str]:
+    head = [date_heading(first_jd, last_jd), "jd_ut"]
+    for n, p in mech.train.pointers.items():
+        head += [f"{n}_train_deg", f"{n}_sky_deg", f"{n}_error_deg"]
+        if p.shows == "phase":
+            head.append(f"{n}_error_days")
+    return head
+
+
+def csv_bytes(mech, n_dates: int) -> int:
+    """A close estimate of the CSV's size: the rows are of fixed format, bar signs and the
+    width of angles (taken at their widest)."""
+    cols = len(csv_header(mech, 0.0, 0.0)) - 2
+    return n_dates * (len("2026-01-01 00:00,2461041.500000") + cols * len(",-359.999999") + 2)
+
+
 class _CsvSink:
-    """Streams each chunk into a temporary file beside the target; renamed when complete.
+    """Streams each chunk into the output's part file; put in place when complete.
 
     Rows are formatted in Python (``%`` on lists), not by numpy's string functions, which can
     swallow a Ctrl-C arriving while they run."""
 
-    def __init__(self, path: Path, mech):
-        self.path = path
-        self.tmp = _part(path)
-        try:
-            self.fh = open(self.tmp, "w", newline="", encoding="utf-8")  # noqa: SIM115
-        except OSError as exc:
-            raise _cannot_write(path, exc) from None
+    def __init__(self, out: support.OutputFile, mech, first_jd: float, last_jd: float):
+        self.out = out
+        self.fh = out.open("w", newline="", encoding="utf-8")
         self.names = list(mech.train.pointers)
         self.phase = {n for n, p in mech.train.pointers.items() if p.shows == "phase"}
-        head = ["date", "jd"]
-        for n in self.names:
-            head += [f"{n}_train_deg", f"{n}_sky_deg", f"{n}_error_deg"]
-            if n in self.phase:
-                head.append(f"{n}_error_days")
+        head = csv_header(mech, first_jd, last_jd)
         self.row = "%s," + ",".join(["%.6f"] * (len(head) - 1)) + "\r\n"
         self._write(lambda: csv.writer(self.fh).writerow(head))
 
@@ -193,7 +174,7 @@ class _CsvSink:
             do()
         except OSError as exc:
             self.discard()
-            raise _cannot_write(self.path, exc) from None
+            raise self.out._cannot(exc) from None
 
     def __call__(self, jd, errors):
         cols = [jd.tolist()]
@@ -208,19 +189,10 @@ class _CsvSink:
         self._write(lambda: self.fh.write(text))
 
     def finish(self):
-        try:
-            self.fh.close()
-            os.replace(self.tmp, self.path)
-        except OSError as exc:
-            self.discard()
-            raise _cannot_write(self.path, exc) from None
+        self.out.commit()
 
     def discard(self):
-        try:
-            self.fh.close()
-        except OSError:
-            pass
-        self.tmp.unlink(missing_ok=True)
+        self.out.discard()
 
 
 class _CtrlC:
@@ -268,9 +240,9 @@ def _year(jd):
     return 2000.0 + (np.asarray(jd, dtype=float) - 2451545.0) / YEAR_DAYS
 
 
-def write_chart(result: DriftResult, path: Path, title: str) -> None:
-    """Draw the chart into a hidden file beside ``path`` (format from the name's extension),
-    then rename it; a fault on writing is one line naming the file."""
+def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
+    """Draw the chart into the output's part file (format from the name's extension); the
+    caller commits it. A fault on writing is one line naming the file."""
     plt = _load_pyplot()
     names = list(result.summaries)
     fig, axes = plt.subplots(len(names), 1, figsize=(10, 2.4 * len(names) + 0.8), sharex=True,
@@ -299,13 +271,12 @@ def write_chart(result: DriftResult, path: Path, title: str) -> None:
     axes[-1, 0].set_xlabel("year")
     fig.suptitle(title, fontsize=10)
     fig.tight_layout()
-    tmp = _part(path)
     try:
-        fig.savefig(tmp, dpi=110, format=path.suffix.lower().lstrip("."))
-        os.replace(tmp, path)
+        fh = out.open("wb")
+        fig.savefig(fh.fh, dpi=110, format=out.path.suffix.lower().lstrip("."))
     except OSError as exc:
-        tmp.unlink(missing_ok=True)
-        raise _cannot_write(path, exc) from None
+        out.discard()
+        raise out._cannot(exc) from None
     finally:
         plt.close(fig)
 
@@ -429,16 +400,17 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     from ..sky import Site, Sky
 
     step = parse_step(args.step)
-    csv_path = _check_output(args.csv, args.force)
-    png_path = _check_output(args.png, args.force)
-    if csv_path and png_path and csv_path.resolve() == png_path.resolve():
+    inputs = [args.train] + ([args.ephemeris] if args.ephemeris else [])
+    csv_out = png_out = None
+    if args.csv:
+        csv_out = support.OutputFile(args.csv, option="--csv", force=args.force, inputs=inputs)
+    if args.png:
+        png_out = support.OutputFile(args.png, option="--png", force=args.force, inputs=inputs)
+    if csv_out and png_out and csv_out.same_as(png_out):
         _usage_error(args, f"--csv and --png both name {args.csv}")
-    if png_path:
+    if png_out:
         _load_pyplot()  # say how to install it before any work is done
-    try:
-        site = Site.parse(args.site) if args.site else None
-    except WheelworkError as exc:  # an impossible site is a value out of range
-        _usage_error(args, str(exc))
+    site = Site.parse(args.site) if args.site else None  # checked by the option's type
     sky = Sky(args.ephemeris)
     mech = open_train(args.train, sky)
     start = args.start if args.start is not None else mech.train.epoch.jd_ut
@@ -458,12 +430,13 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         else:
             thresholds[name] = args.threshold
 
-    sink = _CsvSink(csv_path, mech) if csv_path else None
+    n = grid(start, end, step, include_end=True)
+    if csv_out:
+        csv_out.note_size(csv_bytes(mech, n), err)
+    sink = _CsvSink(csv_out, mech, start, start + (n - 1) * step) if csv_out else None
     bar = None
-    png_done = False
     try:
         progress = None
-        n = grid(start, end, step, include_end=True)
         if not args.json and n >= PROGRESS_MIN_DATES and err.is_terminal:
             from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
 
@@ -477,7 +450,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
 
         result = drift_series(mech, sky, start, end, step, frame=args.frame, site=site,
                               threshold_deg=thresholds, progress=progress, on_chunk=sink,
-                              keep_series=png_path is not None, cancel=ctrl_c.cancelled,
+                              keep_series=png_out is not None, cancel=ctrl_c.cancelled,
                               include_end=True)
         if bar:
             bar.stop()
@@ -486,23 +459,25 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             raise KeyboardInterrupt
         title = (f"{mech.train.name}: pointer error against {sky.name}, "
                  f"{format_jd(start)[:10]} to {format_jd(result.jd[-1])[:10]}")
-        if png_path:
-            write_chart(result, png_path, title)
-            png_done = True
+        if png_out:
+            write_chart(result, png_out, title)
+        if ctrl_c.cancelled():
+            raise KeyboardInterrupt
+        # both files are complete: only now put them in place
         if sink:
             sink.finish()
+        if png_out:
+            png_out.commit()
     except BaseException:
         ctrl_c.quiet()
         if bar:
             bar.stop()
-        if sink:
-            sink.discard()
-        if png_path:
-            _part(png_path).unlink(missing_ok=True)
-            if png_done:  # stopped after the chart was made: take it back ("no file written")
-                png_path.unlink(missing_ok=True)
+        for out in (csv_out, png_out):
+            if out:
+                out.discard()
         raise
-    return mech, sky, result, start, end, step, csv_path, png_path
+    return (mech, sky, result, start, end, step, csv_out and csv_out.path,
+            png_out and png_out.path)
 
 
 def _report(args, console: Console, err: Console, mech, sky, result, start, end, step,
@@ -543,5 +518,5 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
         line(f"wrote {csv_path}")
     if png_path:
         line(f"wrote {png_path}")
-    line(SAFETY, "yellow")
+    line(SUN_CAUTION, "yellow")
     return 0

@@ -15,13 +15,11 @@ from ..kinematics import solve
 from ..loader import load_train
 from ..ratios import pointer_ratios
 from ..readout import backward_warnings
-
-NAME = "ratios"
-HELP = "exact ratio, realised period and error of every pointer of a train"
+from . import support
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("train", help="train file (TOML)")
+    support.add_train(parser)
     parser.add_argument("--json", action="store_true", help="print JSON only")
 
 

@@ -16,20 +16,21 @@ from ..errors import SearchError
 from ..exact import fraction_text, parse_fraction
 from ..periods import PERIODS, relation_error_ppm
 from ..search import (
+    MAX_TEETH,
     Convergent,
     SearchReport,
     TrainResult,
     emit_fragment,
     make_constraints,
     make_target,
+    parse_counts,
     result_to_dict,
     search,
 )
+from . import support
 
 FAR_PPM = 1e4  # a best train more than 1% off is worth a word: the bounds are too tight
-
-NAME = "search"
-HELP = "tooth counts whose ratio realises a period or ratio (exhaustive within bounds)"
+MAX_TOP = 200  # trains listed at most: more is a table nobody reads, and costs minutes
 
 
 def _number(what: str):
@@ -41,7 +42,29 @@ def _number(what: str):
         except ValueError as exc:
             raise argparse.ArgumentTypeError(str(exc)) from None
         return text
+    check.__name__ = what
     return check
+
+
+def _engine_value(read, what: str):
+    """An argparse type from one of the engine's readers: a value it refuses is a usage error;
+    the text is passed on to :func:`make_constraints`."""
+    def check(text: str) -> str:
+        try:
+            read(text)
+        except SearchError as exc:
+            raise argparse.ArgumentTypeError(str(exc)) from None
+        return text
+    check.__name__ = what
+    return check
+
+
+def _stage_counts(text: str) -> str:
+    try:
+        make_constraints(stages=text)
+    except SearchError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+    return text
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -57,15 +80,18 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         type=_number("crank days per turn"),
                         help="days per crank turn (default 1)")
     bounds = parser.add_argument_group("bounds")
-    bounds.add_argument("--stages", default="1-3", metavar="N|MIN-MAX",
+    bounds.add_argument("--stages", default="1-3", metavar="N|MIN-MAX", type=_stage_counts,
                         help="number of stages, 1-4 (default 1-3)")
     bounds.add_argument("--wheels", default="8-150", metavar="MIN-MAX",
+                        type=_engine_value(lambda t: make_constraints(wheels=t), "wheels"),
                         help="teeth of the wheels, the larger member of a stage (default 8-150)")
     bounds.add_argument("--pinions", default="8-150", metavar="MIN-MAX",
+                        type=_engine_value(lambda t: make_constraints(pinions=t), "pinions"),
                         help="teeth of the pinions, the smaller, faster member (default 8-150)")
-    bounds.add_argument("--allowed", metavar="LIST",
+    bounds.add_argument("--allowed", metavar="LIST", type=_engine_value(parse_counts, "allowed"),
                         help="only these counts, e.g. 12,15,20-30 (your cutters or plate)")
-    bounds.add_argument("--max-prime", type=int, metavar="P",
+    bounds.add_argument("--max-prime", type=support.whole("the largest prime factor", 2, MAX_TEETH),
+                        metavar="P",
                         help="no count may have a prime factor above P")
     bounds.add_argument("--no-repeat", action="store_true",
                         help="no tooth count appears twice in a train")
@@ -76,31 +102,33 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help="output turns against the crank (odd number of stages)")
     bounds.add_argument("--exact-only", action="store_true", help="only exact trains")
     out = parser.add_argument_group("output")
-    out.add_argument("--top", type=int, default=10, metavar="N",
-                     help="how many trains to list (default 10)")
+    out.add_argument("--top", type=support.whole("the number of trains", 1, MAX_TOP), default=10,
+                     metavar="N", help=f"how many trains to list, 1-{MAX_TOP} (default 10)")
     out.add_argument("--json", action="store_true", help="print machine-readable JSON only")
     out.add_argument("--emit", metavar="FILE", help="write the chosen train as a TOML fragment")
-    out.add_argument("--pick", type=int, default=1, metavar="K",
+    out.add_argument("--pick", type=support.whole("the result to write", 1, MAX_TOP), default=1,
+                     metavar="K",
                      help="which result --emit writes (default 1, the best)")
     out.add_argument("--prefix", default="search", metavar="NAME",
                      help="prefix of arbor and wheel names in the fragment (default 'search')")
-    out.add_argument("--force", action="store_true", help="overwrite the --emit file")
+    support.add_force(out, "--emit file")
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
-    target = make_target(period=args.period, ratio=args.ratio, cycle=args.cycle,
-                         crank_days=args.crank_days)
-    direction = "same" if args.keep_direction else "reverse" if args.reverse_direction else "any"
-    cons = make_constraints(stages=args.stages, wheels=args.wheels, pinions=args.pinions,
-                            allowed=args.allowed, max_prime=args.max_prime,
-                            no_repeat=args.no_repeat, direction=direction,
-                            exact_only=args.exact_only)
-    if args.pick != 1 and not args.emit:
-        raise SearchError("--pick chooses which result --emit writes; give --emit FILE too")
-    if args.emit:
-        _check_writable(Path(args.emit), args.force)
+    with support.usage_errors():  # option values that do not fit together: exit 2
+        target = make_target(period=args.period, ratio=args.ratio, cycle=args.cycle,
+                             crank_days=args.crank_days)
+        direction = ("same" if args.keep_direction else "reverse" if args.reverse_direction
+                     else "any")
+        cons = make_constraints(stages=args.stages, wheels=args.wheels, pinions=args.pinions,
+                                allowed=args.allowed, max_prime=args.max_prime,
+                                no_repeat=args.no_repeat, direction=direction,
+                                exact_only=args.exact_only)
+        if args.pick != 1 and not args.emit:
+            raise SearchError("--pick chooses which result --emit writes; give --emit FILE too")
+    out = support.OutputFile(args.emit, option="--emit", force=args.force) if args.emit else None
     report = search(target, cons, top=args.top)
-    written = _emit(report, args) if args.emit else None
+    written = _emit(report, args, out) if out else None
     if args.json:
         console.print(json.dumps(_to_json(report, written), indent=2), markup=False,
                       highlight=False, soft_wrap=True)
@@ -111,31 +139,15 @@ def run(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
-def _emit(report: SearchReport, args: argparse.Namespace) -> Path:
+def _emit(report: SearchReport, args: argparse.Namespace, out: support.OutputFile) -> Path:
     if not report.results:
         raise SearchError("--emit: no train within these bounds to write")
     if not 1 <= args.pick <= len(report.results):
         raise SearchError(f"--pick: {args.pick} is not between 1 and {len(report.results)}")
-    path = Path(args.emit)
-    _check_writable(path, args.force)
     text = emit_fragment(report.results[args.pick - 1], report.target, prefix=args.prefix)
-    part = path.with_name(f".{path.name}.part")  # written whole, then put in place
-    try:
-        part.write_text(text, encoding="utf-8")
-        part.replace(path)
-    except OSError as exc:
-        part.unlink(missing_ok=True)
-        raise SearchError(f"{path}: cannot write ({exc.strerror})") from None
-    return path
-
-
-def _check_writable(path: Path, force: bool) -> None:
-    if path.is_dir():
-        raise SearchError(f"{path}: is a folder; give a file name for --emit")
-    if not path.parent.is_dir():
-        raise SearchError(f"{path}: folder '{path.parent}' does not exist")
-    if path.exists() and not force:
-        raise SearchError(f"{path}: file exists; use --force to overwrite it")
+    with out.open("w", encoding="utf-8") as fh:
+        fh.write(text)
+    return out.path
 
 
 def _frac(x) -> str:

@@ -10,29 +10,21 @@ from rich.console import Console
 from rich.table import Table
 
 from ..dates import calendar_date, format_jd, parse_date
-from ..errors import DateError, SkyError
+from ..errors import DateError, UsageError
 from ..sky import PLANETS, Site, Sky
-
-NAME = "sky"
-HELP = ("true Sun, Moon and planets at a date: longitudes, phase, distance, node and perigee, "
-        "planets seen from the Earth and from the Sun")
-
-SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
+from . import support
+from .support import SUN_CAUTION
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.set_defaults(_sky_parser=parser)  # a date that cannot be read is a usage error
     parser.add_argument("date", help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
                         "'44-03-15 BC', '15 March 44 BC' or 'JD 2451545.0'")
     parser.add_argument("--calendar", default="auto", choices=("auto", "julian", "gregorian"),
                         help="calendar of DATE (auto: Julian before 1582-10-15, then Gregorian)")
     parser.add_argument("--stars", action="store_true",
                         help="longitudes on the fixed J2000 ecliptic instead of the equinox of date")
-    parser.add_argument("--site", metavar="LAT,LON[,HEIGHT_M]",
-                        help="observe from this place (degrees, east positive) instead of the "
-                        "Earth's centre")
-    parser.add_argument("--ephemeris", metavar="FILE|de440",
-                        help="JPL SPK file, or de440 (default: the bundled DE421, 1900-2050)")
+    support.add_site(parser)
+    support.add_ephemeris(parser)
     parser.add_argument("--json", action="store_true", help="print JSON only")
 
 
@@ -48,11 +40,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     try:
         jd = parse_date(args.date, calendar=args.calendar)
     except DateError as exc:  # read after --calendar is known, so not an argparse type
-        args._sky_parser.error(str(exc))
-    try:
-        site = Site.parse(args.site) if args.site else None
-    except SkyError as exc:  # an impossible site is a value out of range: usage error
-        args._sky_parser.error(str(exc))
+        raise UsageError(f"argument date: {exc}") from None
+    site = Site.parse(args.site) if args.site else None  # checked by the option's type
     sky = Sky(args.ephemeris)
     frame = "stars" if args.stars else "equinox"
     st = sky.at(jd, frame=frame, site=site, planets=PLANETS + ("earth",))

@@ -1,0 +1,436 @@
+"""What every command shares: the parser, option types, outputs, tables and the solar caution.
+
+A command module (``engine/commands/NAME.py``) provides ``add_arguments(parser)`` and
+``run(args, console) -> int`` and is listed in :data:`engine.cli.COMMANDS`. It uses:
+
+- :class:`Parser` (made by the entry point): a value argparse cannot read is a
+  :class:`~engine.errors.UsageError` (exit 2), never a ``SystemExit``; values starting with a
+  minus sign and a digit (``-33.87,151.21``, ``-0100-03-01``, ``-5``) are values, not options.
+- option types: :func:`date`, :func:`positive`, :func:`whole`, :func:`train_file`, and the
+  shared options :func:`add_site`, :func:`add_ephemeris`, :func:`add_force`.
+- :func:`usage_errors`: a ``with`` block in which any ``WheelworkError`` becomes a usage error
+  (for checks of option values that need several options at once).
+- :class:`OutputFile`: the one way to write a file the user named (``--csv``, ``--png``,
+  ``--emit``...): regular files or new names only, never the input, mode kept, ``--force`` to
+  replace, written whole to a hidden part file and renamed; the part file is removed on every
+  way out (error, Ctrl-C, SIGTERM, SIGHUP).
+- :func:`print_table`: a table whose every cell is shown whole, or the same rows as a list when
+  the table is wider than the console; numbers are never cut.
+- :data:`SUN_CAUTION`: the one solar caution.
+"""
+
+from __future__ import annotations
+
+import argparse
+import contextlib
+import io
+import math
+import os
+import re
+import stat
+import sys
+from pathlib import Path
+
+from ..errors import OutputError, UsageError, WheelworkError
+
+SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
+
+LARGE_OUTPUT_BYTES = 50 * 1024 * 1024  # above this a file's estimated size is said first
+
+
+# --- the parser ------------------------------------------------------------------------------
+
+# A minus sign followed by a digit (or a point and a digit) starts a value: a negative number,
+# a southern or western site (-33.87,151.21) or a date with a negative year (-0100-03-01).
+_NEGATIVE_VALUE = re.compile(r"^-\.?\d")
+
+
+class ParserExit(Exception):
+    """argparse finished on its own (``--help``, ``--version``): the exit code to return."""
+
+    def __init__(self, status: int):
+        super().__init__(status)
+        self.status = status
+
+
+class Parser(argparse.ArgumentParser):
+    """argparse without ``SystemExit``: errors raise :class:`UsageError`, ``--help`` raises
+    :class:`ParserExit`; negative values are values."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self._negative_number_matcher = _NEGATIVE_VALUE
+
+    def error(self, message: str):
+        raise UsageError(message, self.prog)
+
+    def exit(self, status: int = 0, message: str | None = None):
+        if message:
+            sys.stderr.write(message)
+        raise ParserExit(status)
+
+
+@contextlib.contextmanager
+def usage_errors():
+    """Inside this block, a ``WheelworkError`` about option values is a usage error."""
+    try:
+        yield
+    except UsageError:
+        raise
+    except WheelworkError as exc:
+        raise UsageError(str(exc)) from None
+
+
+# --- option types ----------------------------------------------------------------------------
+
+def _type_error(exc: Exception) -> argparse.ArgumentTypeError:
+    return argparse.ArgumentTypeError(str(exc))
+
+
+def date(text: str) -> float:
+    """A date as the docs show it (UT) → JD."""
+    from ..dates import parse_date
+
+    try:
+        return parse_date(text)
+    except WheelworkError as exc:
+        raise _type_error(exc) from None
+
+
+def _number(text: str, what: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number of {what}") from None
+    if not math.isfinite(value):
+        raise argparse.ArgumentTypeError(f"{text}: must be a finite, positive number of {what}")
+    return value
+
+
+def positive(what: str, most: float | None = None):
+    """An argparse type: a finite number above 0 (and at most ``most``)."""
+    def check(text: str) -> float:
+        value = _number(text, what)
+        if value <= 0:
+            raise argparse.ArgumentTypeError(f"{text}: must be a positive number of {what}")
+        if most is not None and value > most:
+            raise argparse.ArgumentTypeError(f"{text}: at most {most:g} {what}")
+        return value
+    check.__name__ = what  # argparse names the type in its own messages
+    return check
+
+
+def whole(what: str, least: int, most: int):
+    """An argparse type: a whole number from ``least`` to ``most``."""
+    def check(text: str) -> int:
+        try:
+            value = int(text.strip())
+        except ValueError:
+            raise argparse.ArgumentTypeError(
+                f"{text!r} is not a whole number (give {what} from {least} to {most})") from None
+        if not least <= value <= most:
+            raise argparse.ArgumentTypeError(
+                f"{value}: {what} must be from {least} to {most}")
+        return value
+    check.__name__ = what
+    return check
+
+
+def site(text: str) -> str:
+    """``LAT,LON[,HEIGHT_M]``, checked; the text is passed on."""
+    from ..sky import Site
+
+    try:
+        Site.parse(text)
+    except WheelworkError as exc:
+        raise _type_error(exc) from None
+    return text.strip()
+
+
+def ephemeris(text: str) -> str:
+    """``de421``, ``de440`` or an existing SPK file (not a folder)."""
+    if text.strip().lower() in ("de421", "de440"):
+        return text.strip()
+    p = Path(text)
+    if p.is_dir():
+        raise argparse.ArgumentTypeError(
+            f"{text}: is a folder; give a JPL SPK file (.bsp) inside it, or de440")
+    if not p.exists():
+        raise argparse.ArgumentTypeError(
+            f"{text}: no such file; give a JPL SPK file (.bsp), or de440")
+    return text
+
+
+def train_file(text: str) -> str:
+    """A train file's path, or the name of a bundled demo train (``tide_office``)."""
+    from ..demos import demo_path
+
+    if Path(text).exists() or not text:
+        return text
+    found = demo_path(text)
+    return str(found) if found is not None else text
+
+
+def add_train(parser: argparse.ArgumentParser, optional: bool = False) -> None:
+    from ..demos import DEFAULT_DEMO
+
+    extra = {"nargs": "?", "default": None} if optional else {}
+    parser.add_argument(
+        "train", metavar="TRAIN", type=train_file,
+        help="train file (TOML), or a demo's name (see wheelwork --help)"
+        + (f"; default: the demo {DEFAULT_DEMO}" if optional else ""), **extra)
+
+
+def add_site(parser, help_text: str | None = None) -> None:
+    parser.add_argument(
+        "--site", metavar="LAT,LON[,H]", type=site, default=None,
+        help=help_text or "observe from this place: degrees (north +, east +) and metres, "
+        "e.g. --site -33.87,151.21; default: the Earth's centre")
+
+
+def add_ephemeris(parser) -> None:
+    parser.add_argument(
+        "--ephemeris", metavar="FILE|de440", type=ephemeris, default=None,
+        help="JPL ephemeris: de440 (optional package, 1550-2650) or an SPK .bsp file "
+        "(default: the bundled DE421, 1900-2050)")
+
+
+def add_force(parser, what: str = "output files") -> None:
+    parser.add_argument("--force", action="store_true",
+                        help=f"replace existing {what} (regular files only; never the input)")
+
+
+# --- output files ----------------------------------------------------------------------------
+
+_LIVE_PARTS: set[Path] = set()
+
+
+def remove_part_files() -> None:
+    """Remove every part file still open (called by the entry point on every way out)."""
+    for part in list(_LIVE_PARTS):
+        with contextlib.suppress(OSError):
+            part.unlink()
+        _LIVE_PARTS.discard(part)
+
+
+def _kind(mode: int) -> str | None:
+    """What a non-regular file is, in words (None for a regular file)."""
+    for test, word in ((stat.S_ISLNK, "a symbolic link"), (stat.S_ISDIR, "a folder"),
+                       (stat.S_ISCHR, "a device"), (stat.S_ISBLK, "a device"),
+                       (stat.S_ISFIFO, "a FIFO (named pipe)"), (stat.S_ISSOCK, "a socket")):
+        if test(mode):
+            return word
+    return None if stat.S_ISREG(mode) else "not a regular file"
+
+
+class OutputFile:
+    """A file the user asked for, checked before any work and written whole.
+
+    ``OutputFile(path, option="--csv", force=args.force, inputs=[args.train])`` refuses at once
+    (one line, :class:`OutputError`) a symbolic link, folder, device, FIFO or socket, one of
+    the ``inputs`` (the same file by device and inode, so also a hard link to it), a missing
+    folder, and an existing regular file unless ``force``. Then::
+
+        with out.open("w") as fh:   # a hidden .NAME.part beside the target
+            fh.write(...)
+        # renamed over the target on leaving the block; removed on any exception
+
+    The replaced file's permission bits are kept; a new file gets the usual ones (umask).
+    ``estimate_bytes`` notes a large file's size on stderr before it is written.
+    """
+
+    def __init__(self, path: str | os.PathLike, *, option: str, force: bool = False,
+                 inputs=()):
+        self.path = Path(path)
+        self.option = option
+        self.force = force
+        self.part = self.path.with_name(f".{self.path.name}.part")
+        self.mode: int | None = None
+        self._fh = None
+        self.check(inputs)
+
+    def _refuse(self, problem: str) -> OutputError:
+        return OutputError(f"{self.path}: {problem}")
+
+    def check(self, inputs=()) -> None:
+        p = self.path
+        if not p.name or p.name in (".", ".."):
+            raise self._refuse(f"give a file name for {self.option}")
+        try:
+            st = os.lstat(p)
+        except FileNotFoundError:
+            st = None
+        except OSError as exc:
+            raise self._refuse(f"cannot be used for {self.option} ({exc.strerror})") from None
+        if st is not None:
+            kind = _kind(st.st_mode)
+            if kind == "a folder":
+                raise self._refuse(f"is a folder; give a file name for {self.option}")
+            if kind is not None:
+                raise self._refuse(f"is {kind}; {self.option} writes only to a regular file "
+                                   "or a new name")
+            for given in inputs:
+                if given is None:
+                    continue
+                try:
+                    other = os.stat(given)
+                except OSError:
+                    continue
+                if (other.st_dev, other.st_ino) == (st.st_dev, st.st_ino):
+                    raise self._refuse(f"is the input file {given}; {self.option} must "
+                                       "name another file")
+            if not self.force:
+                raise self._refuse("file exists; use --force to replace it")
+            self.mode = stat.S_IMODE(st.st_mode)
+        parent = p.parent
+        if not parent.is_dir():
+            raise self._refuse(f"folder '{parent}' does not exist")
+
+    def same_as(self, other: OutputFile) -> bool:
+        return os.path.abspath(self.path) == os.path.abspath(other.path)
+
+    def note_size(self, estimate_bytes: float, console=None) -> None:
+        """Say a large file's estimated size in one line before writing it."""
+        if estimate_bytes > LARGE_OUTPUT_BYTES:
+            line = (f"wheelwork: note: {self.path} will be about "
+                    f"{_size_text(estimate_bytes)}")
+            if console is not None:
+                console.print(line, markup=False, highlight=False)
+            else:
+                print(line, file=sys.stderr)
+
+    def open(self, mode: str = "w", **kwargs):
+        """Open the hidden part file for writing (text by default); use as a context manager,
+        or call :meth:`commit` / :meth:`discard` yourself."""
+        return _Writing(self, mode, kwargs)
+
+    def _open_part(self, mode: str, kwargs):
+        with contextlib.suppress(FileNotFoundError):
+            if _kind(os.lstat(self.part).st_mode) not in (None, "a symbolic link"):
+                raise self._refuse(f"the part file {self.part} is in the way")
+            self.part.unlink()  # left by a run killed beyond cleaning up
+        try:
+            fd = os.open(self.part, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)
+        except OSError as exc:
+            raise self._cannot(exc) from None
+        _LIVE_PARTS.add(self.part)
+        try:
+            self._fh = os.fdopen(fd, mode, **kwargs)
+        except BaseException:
+            os.close(fd)
+            self.discard()
+            raise
+        return self._fh
+
+    def _cannot(self, exc: OSError) -> OutputError:
+        return self._refuse(f"cannot write it ({exc.strerror or exc})")
+
+    def commit(self) -> None:
+        """Close the part file and put it in place of the target."""
+        try:
+            if self._fh is not None:
+                self._fh.close()
+                self._fh = None
+            try:  # the target may have changed since the check: look again
+                st = os.lstat(self.path)
+            except FileNotFoundError:
+                st = None
+            if st is not None and _kind(st.st_mode) is not None:
+                raise self._refuse(f"became {_kind(st.st_mode)} while writing; not replaced")
+            if self.mode is not None:
+                os.chmod(self.part, self.mode)
+            os.replace(self.part, self.path)
+        except OSError as exc:
+            self.discard()
+            raise self._cannot(exc) from None
+        except BaseException:
+            self.discard()
+            raise
+        _LIVE_PARTS.discard(self.part)
+
+    def discard(self) -> None:
+        """Close and remove the part file (the target is left as it was)."""
+        if self._fh is not None:
+            with contextlib.suppress(OSError):
+                self._fh.close()
+            self._fh = None
+        with contextlib.suppress(OSError):
+            self.part.unlink()
+        _LIVE_PARTS.discard(self.part)
+
+
+class _Writing:
+    def __init__(self, out: OutputFile, mode: str, kwargs):
+        self.out = out
+        self.fh = out._open_part(mode, kwargs)
+
+    def __enter__(self):
+        return self.fh
+
+    def __exit__(self, exc_type, exc, tb):
+        if exc_type is None:
+            self.out.commit()
+        else:
+            self.out.discard()
+            if isinstance(exc, OSError):
+                raise self.out._cannot(exc) from None
+        return False
+
+    def __getattr__(self, name):  # used without ``with``: behaves as the file
+        return getattr(self.fh, name)
+
+
+def _size_text(n: float) -> str:
+    for unit in ("bytes", "kB", "MB", "GB", "TB"):
+        if n < 1000 or unit == "TB":
+            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.3g} {unit}"
+        n /= 1000
+    return f"{n:.3g} TB"
+
+
+# --- tables ----------------------------------------------------------------------------------
+
+def _cell_text(cell) -> str:
+    from rich.text import Text
+
+    if isinstance(cell, Text):
+        return cell.plain
+    return str(cell)
+
+
+def _natural_width(table) -> int:
+    """The width the table takes when nothing is wrapped or cut."""
+    from rich.console import Console
+
+    probe = Console(width=100_000, file=io.StringIO(), color_system=None, highlight=False)
+    with probe.capture() as cap:
+        probe.print(table, crop=False)
+    return max((len(line.rstrip()) for line in cap.get().splitlines()), default=0)
+
+
+def print_table(console, table) -> None:
+    """Print ``table`` with every cell whole: as a table when it fits the console's width,
+    otherwise the same rows as a list (``header: value``), one block per row. Nothing is cut,
+    and the table's title and caption (its legend) are kept."""
+    from rich.markup import escape
+
+    for col in table.columns:  # when a column must wrap, fold: never an ellipsis
+        col.overflow = "fold"
+    if _natural_width(table) <= console.width:
+        console.print(table, crop=False)
+        return
+    if table.title:
+        console.print(table.title, style="bold" if not console.no_color else None,
+                      markup=False)
+    headers = [_cell_text(c.header) for c in table.columns]
+    cells = [list(c.cells) for c in table.columns]
+    for i in range(table.row_count):
+        values = [_cell_text(col[i]).replace("\n", "  ") for col in cells]
+        first = values[0]
+        console.print(f"[bold]{escape(headers[0] or '')}[/] {escape(first)}".strip()
+                      if headers[0] else f"[bold]{escape(first)}[/]")
+        for head, value in zip(headers[1:], values[1:], strict=True):
+            console.print(f"   {head}: {value}" if head else f"   {value}", markup=False,
+                          highlight=False, overflow="fold")
+    if table.caption:
+        console.print(table.caption, style="dim", markup=False, overflow="fold")

@@ -1,0 +1,181 @@
+"""What the commands share (engine/commands/support.py): output files that never harm what is
+already there, clean-up on every way out, tables that never cut a number."""
+
+from __future__ import annotations
+
+import os
+import shutil
+import signal
+import stat
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from engine.cli import main
+from engine.commands.support import OutputFile
+from engine.errors import OutputError
+
+ROOT = Path(__file__).resolve().parent.parent
+DEMO = ROOT / "engine" / "trains"
+SEARCH = ["search", "--ratio", "1/59", "--stages", "1", "--top", "1"]
+
+
+def _one_line_error(capsys, *words):
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "Traceback" not in err, err
+    for w in words:
+        assert w in err, err
+
+
+# --- refused targets, for every option that writes ------------------------------------------
+
+def _drift_csv(path, *more):
+    return ["drift", str(DEMO / "moon_disc_59.toml"), "--years", "0.1", "--csv", str(path),
+            *more]
+
+
+def _drift_png(path, *more):
+    return ["drift", str(DEMO / "moon_disc_59.toml"), "--years", "0.1", "--png", str(path),
+            *more]
+
+
+def _emit(path, *more):
+    return [*SEARCH, "--emit", str(path), *more]
+
+
+WRITERS = [_drift_csv, _drift_png, _emit]
+
+
+@pytest.mark.parametrize("argv", WRITERS)
+def test_a_symbolic_link_is_refused_and_kept(argv, tmp_path, capsys):
+    target = tmp_path / "kept.txt"
+    target.write_text("mine")
+    name = "out.png" if argv is _drift_png else "out.txt"
+    link = tmp_path / name
+    link.symlink_to(target)
+    assert main(argv(link, "--force")) == 1
+    _one_line_error(capsys, "symbolic link", str(link))
+    assert link.is_symlink() and target.read_text() == "mine"
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(["kept.txt", name])
+
+
+@pytest.mark.parametrize("argv", WRITERS)
+def test_a_fifo_is_refused_and_kept(argv, tmp_path, capsys):
+    fifo = tmp_path / ("pipe.svg" if argv is _drift_png else "pipe")
+    os.mkfifo(fifo)
+    assert main(argv(fifo, "--force")) == 1
+    _one_line_error(capsys, "FIFO")
+    assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
+
+
+@pytest.mark.parametrize("argv", [_drift_csv, _emit])
+def test_a_device_is_refused_and_kept(argv, capsys):
+    before = os.stat(os.devnull)
+    assert main(argv(os.devnull, "--force")) == 1
+    _one_line_error(capsys, "is a device")
+    after = os.stat(os.devnull)
+    assert stat.S_ISCHR(after.st_mode) and after.st_ino == before.st_ino
+
+
+@pytest.mark.parametrize("argv", WRITERS)
+def test_a_folder_is_refused(argv, tmp_path, capsys):
+    folder = tmp_path / ("d.png" if argv is _drift_png else "d")
+    folder.mkdir()
+    assert main(argv(folder, "--force")) == 1
+    _one_line_error(capsys, "is a folder")
+    assert folder.is_dir()
+
+
+def test_the_train_being_read_is_never_an_output(tmp_path, capsys):
+    train = tmp_path / "my_train.toml"
+    shutil.copy(DEMO / "moon_disc_59.toml", train)
+    text = train.read_text()
+    argv = ["drift", str(train), "--years", "0.1", "--force"]
+    assert main([*argv, "--csv", str(train)]) == 1
+    _one_line_error(capsys, "is the input file")
+    hard = tmp_path / "same_inode.csv"
+    os.link(train, hard)
+    assert main([*argv, "--csv", str(hard)]) == 1
+    _one_line_error(capsys, "is the input file")
+    os.chdir(tmp_path)  # the same file under another spelling
+    try:
+        assert main(["drift", "my_train.toml", "--years", "0.1", "--force", "--csv",
+                     f"../{tmp_path.name}/my_train.toml"]) == 1
+    finally:
+        os.chdir(ROOT)
+    _one_line_error(capsys, "is the input file")
+    assert train.read_text() == text
+
+
+@pytest.mark.parametrize("argv", WRITERS)
+def test_an_existing_file_needs_force_and_keeps_its_mode(argv, tmp_path, capsys):
+    path = tmp_path / ("chart.png" if argv is _drift_png else "out.txt")
+    path.write_text("old")
+    path.chmod(0o600)
+    assert main(argv(path)) == 1
+    _one_line_error(capsys, "file exists", "--force")
+    assert path.read_text() == "old"
+    assert main(argv(path, "--force")) == 0, capsys.readouterr().err
+    assert path.read_bytes() != b"old"
+    assert stat.S_IMODE(path.stat().st_mode) == 0o600
+    assert [p.name for p in tmp_path.iterdir()] == [path.name]  # no part file left
+
+
+def test_a_new_file_gets_the_usual_mode(tmp_path):
+    out = OutputFile(tmp_path / "new.txt", option="--x")
+    with out.open() as fh:
+        fh.write("x")
+    umask = os.umask(0)
+    os.umask(umask)
+    assert stat.S_IMODE((tmp_path / "new.txt").stat().st_mode) == 0o666 & ~umask
+
+
+def test_written_whole_or_not_at_all(tmp_path):
+    path = tmp_path / "f.txt"
+    path.write_text("before")
+    out = OutputFile(path, option="--x", force=True)
+    with pytest.raises(RuntimeError), out.open() as fh:
+        fh.write("half")
+        assert (tmp_path / ".f.txt.part").exists()
+        raise RuntimeError
+    assert path.read_text() == "before"
+    assert [p.name for p in tmp_path.iterdir()] == ["f.txt"]
+
+
+def test_a_missing_folder_is_one_line(tmp_path):
+    with pytest.raises(OutputError, match="does not exist"):
+        OutputFile(tmp_path / "no" / "f.csv", option="--csv")
+
+
+# --- clean-up on every way out ----------------------------------------------------------------
+
+@pytest.mark.parametrize("signum", [signal.SIGTERM, signal.SIGHUP])
+def test_sigterm_and_sighup_remove_the_part_file(signum, tmp_path):
+    """A long CSV run stopped by SIGTERM (or its terminal closing: SIGHUP) leaves neither the
+    part file nor a half file; exit 128 + the signal's number, one line."""
+    out = tmp_path / "long.csv"
+    part = tmp_path / ".long.csv.part"
+    argv = [sys.executable, "-m", "engine", "drift", str(DEMO / "tide_office.toml"), "--from",
+            "1950-01-01", "--years", "90", "--step", "10m", "--csv", str(out)]
+    proc = subprocess.Popen(argv, cwd=ROOT, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                            text=True, start_new_session=True)
+    deadline = time.monotonic() + 60
+    while not part.exists() and proc.poll() is None and time.monotonic() < deadline:
+        time.sleep(0.02)
+    assert part.exists(), proc.communicate()
+    time.sleep(0.5)
+    assert part.stat().st_size > 0 or proc.poll() is None
+    proc.send_signal(signum)
+    try:
+        _, err = proc.communicate(timeout=20)
+    except subprocess.TimeoutExpired:
+        proc.kill()
+        proc.communicate()
+        pytest.fail("still running 20 s after the signal")
+    assert proc.returncode == 128 + signum, err
+    said = [ln for ln in err.splitlines() if not ln.startswith("wheelwork: note:")]
+    assert len(said) == 1 and "stopped" in said[0] and "Traceback" not in err, err
+    assert list(tmp_path.iterdir()) == []

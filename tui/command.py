@@ -1,0 +1,43 @@
+"""``wheelwork crank``: open the interface on a train (the bundled demo when none is named).
+
+Registered with the command line as an entry point (group ``wheelwork.commands``), so the
+engine never imports the interface. Importing this module is cheap: Textual is imported only
+when the command runs.
+"""
+
+from __future__ import annotations
+
+import sys
+
+from engine.commands import support
+from engine.errors import UsageError
+
+NAME = "crank"
+HELP = "open the interactive bench: turn a train's crank and watch it against the true sky"
+INTERACTIVE = True  # the interface handles its own signals
+
+NO_TERMINAL = ("the interface needs a terminal; without one, run a command such as "
+               "'wheelwork ratios tide_office' or 'wheelwork drift tide_office --years 10' "
+               "(see wheelwork --help)")
+
+
+def add_arguments(parser) -> None:
+    support.add_train(parser, optional=True)
+    support.add_site(parser, "observer for topocentric positions: degrees (north +, east +) "
+                     "and metres, e.g. --site -33.87,151.21; default: a built-in site, shown "
+                     "on screen")
+    support.add_ephemeris(parser)
+
+
+def has_terminal() -> bool:
+    return sys.stdin.isatty() and sys.stdout.isatty()
+
+
+def run(args, console) -> int:
+    if not has_terminal():
+        raise UsageError(NO_TERMINAL, args._prog)
+    from .app import make_app  # Textual loads only now
+
+    app = make_app(args.train, site=args.site, ephemeris=args.ephemeris)
+    app.run()
+    return int(app.return_code or 0)
