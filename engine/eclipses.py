@@ -52,6 +52,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .errors import SkyError
 from .periods import PERIODS
 
 # --- constants (sources in the module docstring) -------------------------------------------
@@ -318,3 +319,296 @@ def real_eclipses(sky, jd_start: float, jd_end: float, penumbral: bool = True) -
     """The real eclipses between two UT dates, solar and lunar, in time order."""
     return sky_eclipses(sky, jd_start, jd_end).eclipses(penumbral)
 
+
+
+# --- what a train predicts -----------------------------------------------------------------
+# Ecliptic limits: how far the Sun may stand from a node of the Moon's orbit at a syzygy for an
+# eclipse to be possible. The classical values (from memory; as given in eclipse canons and
+# textbooks of spherical astronomy): solar eclipses possible within 18°31' and certain within
+# 15°21'; umbral (partial or total) lunar eclipses possible within 12°15' and certain within
+# 9°30'. For penumbral lunar eclipses we know no figure from the field; 17.5° is our own choice
+# from the range measured 1900-2050 (see docs/eclipses.md). Defaults are the "possible" limits.
+SOLAR_LIMIT_DEG = 18 + 31 / 60
+SOLAR_CERTAIN_DEG = 15 + 21 / 60
+LUNAR_LIMIT_DEG = 12 + 15 / 60
+LUNAR_CERTAIN_DEG = 9 + 30 / 60
+PENUMBRAL_LIMIT_DEG = 17.5
+
+METHODS = ("pointers", "cycle")
+
+
+def limits(train) -> dict[str, float]:
+    """The ecliptic limits (degrees) a train's predictions use: its ``[eclipses]`` settings or
+    the defaults."""
+    s = train.eclipses
+    lunar_default = PENUMBRAL_LIMIT_DEG if s.penumbral else LUNAR_LIMIT_DEG
+    return {"solar": s.solar_limit_deg if s.solar_limit_deg is not None else SOLAR_LIMIT_DEG,
+            "lunar": s.lunar_limit_deg if s.lunar_limit_deg is not None else lunar_default}
+
+
+def _first(train, kind: str) -> str | None:
+    return next((n for n, p in train.pointers.items() if p.shows == kind), None)
+
+
+def cycle_pointer(train) -> str | None:
+    """The name of the train's eclipse-cycle dial pointer, if it has one."""
+    return _first(train, "cycle")
+
+
+def methods(train) -> tuple[str, ...]:
+    """Which ways this train can predict eclipses: "pointers" (a node hand, draconic or
+    eclipse-year dial) and/or "cycle" (an eclipse-cycle dial)."""
+    out = []
+    if any(_first(train, k) for k in ("eclipse_year", "node", "draconic")):
+        out.append("pointers")
+    if cycle_pointer(train):
+        out.append("cycle")
+    return tuple(out)
+
+
+def _readings(mech, jd) -> dict[str, np.ndarray]:
+    return mech.readout.read_deg(mech.readout.turns_at(jd))
+
+
+def shown_syzygies(mech, real: Syzygies) -> np.ndarray:
+    """When the train's phase pointer shows each real syzygy (new: 0°, full: 180°), UT; the
+    real dates themselves when the train has no phase pointer. Newton steps from the real date
+    with the pointer's mean rate, so each real syzygy is paired with the train's nearest."""
+    name = _first(mech.train, "phase")
+    jd = np.asarray(real.jd_ut, dtype=float).copy()
+    if name is None or jd.size == 0:
+        return jd
+    rate = mech.readout.deg_per_day(name)
+    if rate == 0:
+        return np.full(jd.shape, np.nan)
+    target = np.where(real.full, 180.0, 0.0)
+    for _ in range(8):
+        step = _wrap180(_readings(mech, jd)[name] - target) / rate
+        jd = jd - step
+        if np.max(np.abs(step)) < 1e-6:
+            break
+    return jd
+
+
+def node_distance(mech, sky, jd_shown) -> tuple[np.ndarray, str]:
+    """The Sun's distance (degrees, 0-90) from the nearer node as the train shows it at the
+    given dates, and in words how it was read. Raises ValueError if the train has no node
+    hand, draconic or eclipse-year dial."""
+    train = mech.train
+    jd = np.asarray(jd_shown, dtype=float)
+    read = _readings(mech, jd) if jd.size else {n: jd for n in train.pointers}
+    if (name := _first(train, "eclipse_year")) is not None:
+        sep, how = read[name], f"eclipse-year dial '{name}'"
+    elif (node := _first(train, "node")) is not None:
+        if (sun := _first(train, "sun")) is not None:
+            sep, how = read[sun] - read[node], f"Sun hand '{sun}' against node hand '{node}'"
+        else:
+            lo, hi = sky.span_jd
+            true_sun = sky.at(np.clip(jd, lo, hi), frame=train.dial).sun_lon_deg
+            sep, how = true_sun - read[node], f"the true Sun against node hand '{node}'"
+    elif (name := _first(train, "draconic")) is not None:
+        sep, how = read[name], f"draconic dial '{name}' (the Moon from the node at syzygy)"
+    else:
+        raise ValueError("no node hand, draconic or eclipse-year dial")
+    d = np.mod(sep, 180.0)
+    return np.minimum(d, 180.0 - d), how
+
+
+def cycle_position(mech, name: str, jd) -> np.ndarray:
+    """Where a cycle dial's pointer stands, in months from its zero (0 to N): month k (1-based)
+    is the span k-1..k. Month boundaries are where the train shows new moon."""
+    from fractions import Fraction
+
+    readout = mech.readout
+    m = readout.motions[name]
+    n = int(m.pointer.per_turn)
+    turns = readout.turns_at(jd)
+    lags = readout.kin.slot_lags_turns(turns) if readout.kin.slot_names else None
+    p = readout.kin.evaluate(m.lin.scaled(Fraction(1, n)), turns, lags) + m.offset_turns / n
+    return np.mod(p, 1.0) * n
+
+
+def months_at(position, full, n: int) -> np.ndarray:
+    """The month (1..n) a syzygy falls in: a new moon belongs to the month starting at the
+    nearest boundary, a full moon to the month whose middle it is in."""
+    pos = np.asarray(position, dtype=float)
+    month = np.where(full, np.floor(pos), np.round(pos))
+    return (np.mod(month, n) + 1).astype(int)
+
+
+def derive_marks(mech, sky, name: str, penumbral: bool = False,
+                 table: SkyEclipses | None = None) -> dict[str, tuple[int, ...]]:
+    """The months of a cycle dial that bore eclipses in its first turn from the epoch, as read
+    off the sky: what a maker filling such a dial from observation would have engraved."""
+    n = int(mech.train.pointers[name].per_turn)
+    start = mech.train.epoch.jd_ut
+    end = start + n * SYNODIC_DAYS
+    try:
+        sky.check_span(start, end)
+    except SkyError as exc:
+        raise SkyError(f"the marks of cycle dial '{name}' come from the sky over its first "
+                       f"turn from the epoch, which cannot be computed: {exc}; or list "
+                       f"solar_months and lunar_months in the train file") from None
+    if table is None:
+        table = sky_eclipses(sky, start, end)
+    syz = table.syz
+    first = (syz.jd_ut >= start) & (syz.jd_ut < end)
+    has = table.has_eclipse(penumbral) & first
+    months = months_at(cycle_position(mech, name, syz.jd_ut), syz.full, n)
+    return {"solar": tuple(sorted({int(m) for m in months[has & ~syz.full]})),
+            "lunar": tuple(sorted({int(m) for m in months[has & syz.full]}))}
+
+
+@dataclass(frozen=True)
+class Check:
+    """A train's eclipse predictions against the sky, one row per real syzygy in the span.
+
+    ``method``: "pointers" or "cycle"; ``how``: what was read, in words; ``limits``: ecliptic
+    limits used (pointers); ``marks``: the cycle dial's marked months and ``marks_from``
+    ("file" or "sky"); per syzygy: ``jd_ut`` (real), ``full``, ``real_type`` ("" none; penumbral
+    lunar eclipses only when they count), ``jd_greatest``, ``gamma``, ``predicted`` (bool),
+    ``jd_shown`` (when the train shows it; the real date for a cycle dial), ``detail`` (the
+    Sun's distance from the node as shown, degrees; or the cycle dial's month)."""
+
+    method: str
+    how: str
+    limits: dict
+    marks: dict | None
+    marks_from: str | None
+    lunations: int | None
+    epoch_jd: float
+    jd_ut: np.ndarray
+    full: np.ndarray
+    real_type: tuple[str, ...]
+    jd_greatest: np.ndarray
+    gamma: np.ndarray
+    predicted: np.ndarray
+    jd_shown: np.ndarray
+    detail: np.ndarray
+
+    @property
+    def real(self) -> np.ndarray:
+        return np.array([bool(t) for t in self.real_type], dtype=bool)
+
+    def kind(self, i: int) -> str:
+        return "lunar" if self.full[i] else "solar"
+
+    def outcome(self, i: int) -> str:
+        """"hit", "miss", "false alarm" or "" (rightly quiet) for syzygy ``i``."""
+        real, pred = bool(self.real_type[i]), bool(self.predicted[i])
+        return {(True, True): "hit", (True, False): "miss", (False, True): "false alarm",
+                (False, False): ""}[(real, pred)]
+
+    def counts(self) -> dict[str, dict[str, int]]:
+        """Hits, misses and false alarms per kind ("solar", "lunar") and in all ("all")."""
+        out = {k: {"hits": 0, "misses": 0, "false_alarms": 0} for k in (*KINDS, "all")}
+        real, pred = self.real, self.predicted.astype(bool)
+        for kind, sel in (("solar", ~self.full), ("lunar", self.full),
+                          ("all", np.ones_like(self.full))):
+            out[kind] = {"hits": int(np.sum(sel & real & pred)),
+                         "misses": int(np.sum(sel & real & ~pred)),
+                         "false_alarms": int(np.sum(sel & ~real & pred))}
+        return out
+
+    def first_failure(self) -> int | None:
+        """Index of the first syzygy where the prediction and the sky disagree (None: never)."""
+        bad = np.flatnonzero(self.real != self.predicted.astype(bool))
+        return int(bad[0]) if bad.size else None
+
+    def cycle_of(self, i: int) -> int | None:
+        """Which turn of the cycle dial (1 = the first from the epoch) syzygy ``i`` is in."""
+        if self.lunations is None:
+            return None
+        return int(np.floor((self.jd_ut[i] - self.epoch_jd) / (self.lunations * SYNODIC_DAYS))) + 1
+
+    def per_cycle(self) -> list[dict]:
+        """Counts per turn of the cycle dial: ``cycle``, ``hits``, ``misses``,
+        ``false_alarms`` (cycle dials only; empty otherwise)."""
+        if self.lunations is None or not len(self.jd_ut):
+            return []
+        cyc = np.floor((self.jd_ut - self.epoch_jd) / (self.lunations * SYNODIC_DAYS)) + 1
+        real, pred = self.real, self.predicted.astype(bool)
+        out = []
+        for c in np.unique(cyc):
+            sel = cyc == c
+            out.append({"cycle": int(c), "hits": int(np.sum(sel & real & pred)),
+                        "misses": int(np.sum(sel & real & ~pred)),
+                        "false_alarms": int(np.sum(sel & ~real & pred))})
+        return out
+
+
+def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
+          progress=None, cancel=None, chunk_days: float = 3652.5) -> Check:
+    """Compare a train's eclipse predictions with the real eclipses between two UT dates.
+
+    ``method``: "pointers" or "cycle" (default: the cycle dial when the train has one, else
+    its pointers). The span is worked in chunks of ``chunk_days``; ``progress(done, total)``
+    is called after each, and ``cancel()`` returning true stops the work (raises
+    ``KeyboardInterrupt``). Raises ``ValueError`` when the train cannot predict eclipses the
+    way asked, :class:`SkyError` for dates outside the ephemeris."""
+    train = mech.train
+    have = methods(train)
+    if not have:
+        raise ValueError("the train has no node hand, draconic or eclipse-year dial and no "
+                         "eclipse-cycle dial (shows = \"cycle\"), so it predicts no eclipses")
+    if method is None:
+        method = "cycle" if "cycle" in have else "pointers"
+    if method not in have:
+        what = ("an eclipse-cycle dial (shows = \"cycle\")" if method == "cycle" else
+                "a node hand, draconic or eclipse-year dial")
+        raise ValueError(f"the train has no {what}; it can predict by: {', '.join(have)}")
+    lo, hi = float(min(jd_start, jd_end)), float(max(jd_start, jd_end))
+    sky.check_span(lo, hi)
+    penumbral = train.eclipses.penumbral
+    # the sky, in chunks
+    parts, last = [], None
+    total = hi - lo
+    a = lo
+    while a <= hi:
+        if cancel is not None and cancel():
+            raise KeyboardInterrupt
+        b = min(hi, a + chunk_days)
+        part = sky_eclipses(sky, a, b)
+        keep = np.ones(len(part.syz), dtype=bool) if last is None else part.syz.number > last
+        if keep.any():
+            parts.append((part, keep))
+            last = int(part.syz.number[keep][-1])
+        if progress is not None:
+            progress(b - lo, total)
+        if b >= hi:
+            break
+        a = b
+    jd = np.concatenate([p.syz.jd_ut[k] for p, k in parts]) if parts else np.zeros(0)
+    number = np.concatenate([p.syz.number[k] for p, k in parts]) if parts else np.zeros(0, int)
+    types = tuple(t for p, k in parts for t, keep in zip(p.type, k, strict=True) if keep)
+    types = tuple("" if (t == "penumbral" and not penumbral) else t for t in types)
+    greatest = np.concatenate([p.jd_greatest[k] for p, k in parts]) if parts else np.zeros(0)
+    gamma = np.concatenate([p.gamma[k] for p, k in parts]) if parts else np.zeros(0)
+    syz = Syzygies(jd, number)
+    lim = limits(train)
+    marks = marks_from = lunations = None
+    if method == "pointers":
+        shown = shown_syzygies(mech, syz)
+        dist, how = node_distance(mech, sky, shown)
+        limit = np.where(syz.full, lim["lunar"], lim["solar"])
+        predicted = np.isfinite(shown) & (dist < limit)
+        detail = dist
+        phase = _first(train, "phase")
+        how += (f"; syzygies as phase hand '{phase}' shows them" if phase else
+                "; at the real syzygies (the train has no phase hand)")
+    else:
+        name = cycle_pointer(train)
+        p = train.pointers[name]
+        lunations = int(p.per_turn)
+        marks_from = "file" if p.marks is not None else "sky"
+        marks = p.marks if p.marks is not None else derive_marks(mech, sky, name, penumbral)
+        shown = syz.jd_ut.copy()
+        month = months_at(cycle_position(mech, name, shown), syz.full, lunations)
+        solar = np.isin(month, marks["solar"]) & ~syz.full
+        lunar = np.isin(month, marks["lunar"]) & syz.full
+        predicted = solar | lunar
+        detail = month.astype(float)
+        how = (f"cycle dial '{name}' of {lunations} lunations, marks "
+               f"{'listed in the train file' if marks_from == 'file' else 'read off the sky over its first turn from the epoch'}")
+    return Check(method, how, lim, marks, marks_from, lunations, train.epoch.jd_ut, jd,
+                 syz.full, types, greatest, gamma, predicted.astype(bool), shown, detail)

@@ -156,6 +156,18 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
     PointerKind("apsis", "the longitude of the Moon's mean perigee",
                 _both("apsidal_period"), lambda s: s.perigee_deg, lambda m: m["apsis"],
                 precesses=True),
+    # eclipse dials (engine/eclipses.py reads them)
+    PointerKind("eclipse_year", "the Sun's longitude less the mean node's (an eclipse-year "
+                "dial: eclipses come when it stands near 0° or 180°)",
+                _both("eclipse_year"), lambda s: _diff(s.sun_lon_deg, s.node_deg),
+                lambda m: _diff(m["sun"], m["node"]), precesses=False, swings=SUN_SWINGS,
+                nutates=True),
+    PointerKind("cycle", "lunations counted round a dial of N months (an eclipse-cycle dial; "
+                "the pointer's `lunations` is N, its marks say which months bear eclipses)",
+                _both("synodic_month"), lambda s: s.elongation_deg, lambda m: m["phase"],
+                precesses=False,
+                swings=(*MOON_SWINGS, ("Sun's equation of centre, second harmonic",
+                                       _ANOM_YEAR / 2))),
 )}
 POINTER_KINDS = tuple(KINDS)
 

@@ -30,6 +30,7 @@ from .train import (
     SET_MODES,
     Arbor,
     Crank,
+    EclipseSettings,
     Epoch,
     Mesh,
     PinSlot,
@@ -66,7 +67,8 @@ LIMITS = {
     "per_turn": "1/1000000 to 1000000", "names": f"{MAX_NAME_CHARS} characters",
 }
 
-_TOP_KEYS = {"train", "crank", "epoch", "arbors", "meshes", "pin_slots", "pointers"}
+_TOP_KEYS = {"train", "crank", "epoch", "arbors", "meshes", "pin_slots", "pointers",
+             "eclipses"}
 _KEYS = {
     "train": {"name", "about", "dial"},
     "crank": {"arbor", "days_per_turn"},
@@ -75,7 +77,9 @@ _KEYS = {
     "mesh": {"wheels", "ring", "module_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
                  "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
-    "pointer": {"shows", "arbor", "relative_to", "per_turn", "reversed", "set_deg", "note"},
+    "pointer": {"shows", "arbor", "relative_to", "per_turn", "reversed", "set_deg", "note",
+                "lunations", "solar_months", "lunar_months"},
+    "eclipses": {"solar_limit_deg", "lunar_limit_deg", "penumbral", "note"},
 }
 
 
@@ -318,10 +322,65 @@ def parse_train(text: str, where: str = "<train>") -> Train:
     crank = _read_crank(r, doc, arbors)
     epoch = _read_epoch(r, doc)
     pointers = _read_pointers(r, doc, arbors, epoch)
+    eclipses = _read_eclipses(r, doc)
     _check_mounts(r, arbors)
     return Train(name=name, source=where, arbors=arbors, wheels=wheels, meshes=meshes,
                  pin_slots=pin_slots, crank=crank, epoch=epoch, pointers=pointers, dial=dial,
-                 about=about.strip())
+                 about=about.strip(), eclipses=eclipses)
+
+
+def _read_eclipses(r: _Reader, doc: dict) -> EclipseSettings:
+    """``[eclipses]``: ecliptic limits in degrees (0-30) and ``penumbral`` (true/false)."""
+    tbl = r.table(doc.get("eclipses", {}), "[eclipses]", "eclipses")
+    limits = {}
+    for key in ("solar_limit_deg", "lunar_limit_deg"):
+        if key in tbl:
+            v = r.number(tbl[key], f"[eclipses] {key}", limit=MAX_DEG)
+            if not 0 < v <= 30:
+                raise r.fail(f"[eclipses] {key}", f"an ecliptic limit is a few degrees of the "
+                             f"Sun from a node: give more than 0 and at most 30, got {_show(v)}")
+            limits[key] = float(v)
+    return EclipseSettings(**limits, penumbral=r.flag(tbl.get("penumbral", False),
+                                                      "[eclipses] penumbral"))
+
+
+def _read_cycle(r: _Reader, tbl: dict, item: str, shows: str):
+    """A cycle dial's ``lunations`` (its per_turn) and its month marks (None: from the sky)."""
+    keys = [k for k in ("lunations", "solar_months", "lunar_months") if k in tbl]
+    if shows != "cycle":
+        if keys:
+            raise r.fail(f"{item} {keys[0]}", "only an eclipse-cycle dial (shows = \"cycle\") "
+                         "has lunations and marked months")
+        return None, None
+    if "lunations" not in tbl:
+        raise r.fail(item, "missing key 'lunations': how many lunations the cycle dial "
+                     "counts in one turn (223 for the classical eclipse cycle)")
+    if "per_turn" in tbl:
+        raise r.fail(f"{item} per_turn", "a cycle dial's turn is set by lunations; "
+                     "leave per_turn out")
+    n = tbl["lunations"]
+    if isinstance(n, bool) or not isinstance(n, int) or not 2 <= n <= 100_000:
+        raise r.fail(f"{item} lunations", f"should be a whole number of lunations from 2 "
+                     f"to 100000, got {_show(n)}")
+    if not ("solar_months" in tbl or "lunar_months" in tbl):
+        return Fraction(n), None
+    marks = {}
+    for kind in ("solar", "lunar"):
+        key = f"{kind}_months"
+        months = tbl.get(key, [])
+        if not isinstance(months, list) or any(
+                isinstance(m, bool) or not isinstance(m, int) for m in months):
+            raise r.fail(f"{item} {key}", f"should be a list of month numbers like [1, 7, 12], "
+                         f"got {_show(months)}")
+        bad = [m for m in months if not 1 <= m <= n]
+        if bad:
+            raise r.fail(f"{item} {key}", f"month {bad[0]} is not on a dial of {n} months "
+                         f"(1 to {n})")
+        if len(set(months)) != len(months):
+            dup = next(m for m in months if months.count(m) > 1)
+            raise r.fail(f"{item} {key}", f"month {dup} is listed twice")
+        marks[kind] = tuple(sorted(months))
+    return Fraction(n), marks
 
 
 def _count(r: _Reader, section, item: str, most: int, what: str) -> None:
@@ -570,8 +629,9 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                 raise r.fail(f"{item} relative_to", f"unknown arbor '{rel}'")
             if rel == arbor:
                 raise r.fail(f"{item} relative_to", "cannot be the pointer's own arbor")
-        per_turn = r.fraction(tbl.get("per_turn", 1), f"{item} per_turn", MIN_PER_TURN,
-                              MAX_PER_TURN, "1/1000000 and 1000000")
+        lunations, marks = _read_cycle(r, tbl, item, shows)
+        per_turn = lunations or r.fraction(tbl.get("per_turn", 1), f"{item} per_turn",
+                                           MIN_PER_TURN, MAX_PER_TURN, "1/1000000 and 1000000")
         set_deg = tbl.get("set_deg")
         if set_deg is not None:
             set_deg = r.number(set_deg, f"{item} set_deg", limit=MAX_DEG)
@@ -579,7 +639,8 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
             raise r.fail(item, "the epoch sets pointers by angle (set = \"angles\"), so each "
                          "pointer needs set_deg")
         out[name] = Pointer(name, shows, arbor, rel, per_turn,
-                            r.flag(tbl.get("reversed", False), f"{item} reversed"), set_deg)
+                            r.flag(tbl.get("reversed", False), f"{item} reversed"), set_deg,
+                            marks)
     return out
 
 

@@ -113,6 +113,19 @@ class Pointer:
     per_turn: Fraction = Fraction(1)
     reversed: bool = False
     set_deg: float | None = None
+    # An eclipse-cycle dial (shows = "cycle"): its months marked for eclipses, 1..lunations,
+    # {"solar": (...), "lunar": (...)}; None: derive the marks from the sky at the epoch.
+    marks: dict[str, tuple[int, ...]] | None = None
+
+
+@dataclass(frozen=True)
+class EclipseSettings:
+    """The train file's ``[eclipses]`` table: ecliptic limits (degrees of the Sun from a node)
+    and whether penumbral lunar eclipses count; None means the default in engine.eclipses."""
+
+    solar_limit_deg: float | None = None
+    lunar_limit_deg: float | None = None
+    penumbral: bool = False
 
 
 @dataclass(frozen=True)
@@ -144,6 +157,7 @@ class Train:
     dial: str = "equinox"
     about: str = ""
     warnings: tuple[str, ...] = field(default=())
+    eclipses: EclipseSettings = field(default_factory=EclipseSettings)
 
     def arbor_of(self, wheel: str) -> Arbor:
         return self.arbors[self.wheels[wheel].arbor]

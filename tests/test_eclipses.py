@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from collections import Counter
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -113,3 +114,120 @@ def test_classification_criteria():
     tan_f2 = np.full(6, 0.0046)
     got = [E.SOLAR_TYPES[i] if i >= 0 else "none" for i in E.classify_solar(r1, l1, l2, tan_f2)]
     assert got == ["total", "annular", "hybrid", "partial", "none", "total"]
+
+
+# --- predictions ---------------------------------------------------------------------------
+
+TRAINS = "tests/trains"
+
+
+def test_classical_ecliptic_limits_bracket_the_real_eclipses(sky):
+    """The classical limits (from memory, see engine.eclipses) against the sky 1900-2050:
+    every solar eclipse came with the Sun within the major limit of the mean node, and every
+    new moon within the minor limit brought one; the same for umbral lunar eclipses."""
+    se = E.sky_eclipses(sky, parse_date("1900-01-02"), parse_date("2049-12-30"))
+    st = sky.at(se.syz.jd_ut)
+    d = np.mod(st.sun_lon_deg - st.node_deg, 180.0)
+    d = np.minimum(d, 180.0 - d)
+    t = np.array(se.type, dtype=object)
+    solar, lunar = ~se.syz.full, se.syz.full
+    umbral = lunar & np.isin(t, ["partial", "total"])
+    # The mean node stands up to about 1.7° from the true one (from memory), hence the slack.
+    slack = 1.0
+    assert d[solar & (t != "")].max() < E.SOLAR_LIMIT_DEG + slack
+    assert d[solar & (t == "")].min() > E.SOLAR_CERTAIN_DEG - slack
+    assert d[umbral].max() < E.LUNAR_LIMIT_DEG + slack
+    assert d[lunar & ~umbral].min() > E.LUNAR_CERTAIN_DEG - slack
+
+
+def test_node_hand_predictions_on_the_tide_office_dial(sky):
+    from engine.mechanism import open_train
+
+    mech = open_train("engine/trains/tide_office.toml", sky)
+    assert E.methods(mech.train) == ("pointers",)
+    c = E.check(mech, sky, parse_date("2026-01-01"), parse_date("2030-01-01"))
+    counts = c.counts()
+    assert counts["all"]["hits"] + counts["all"]["misses"] == int(c.real.sum())
+    # Its Sun and node hands are set from the sky and close to the mean motions: within the
+    # major limits no solar eclipse is missed in the first years.
+    assert counts["solar"]["misses"] == 0 and counts["solar"]["hits"] >= 8
+    # the train shows each syzygy within hours of the sky
+    assert np.max(np.abs(c.jd_shown - c.jd_ut)) < 0.5
+    # a hit is a real eclipse the train flagged: the 2027-08-02 total solar eclipse (canon,
+    # from memory)
+    i = int(np.argmin(np.abs(c.jd_ut - parse_date("2027-08-02 10:07"))))
+    assert c.real_type[i] == "total" and c.outcome(i) == "hit"
+
+
+def test_cycle_dial_marks_from_the_sky_repeat_a_saros_later(sky):
+    from engine.mechanism import open_train
+
+    mech = open_train(f"{TRAINS}/cycle_dial.toml", sky)
+    assert E.methods(mech.train) == ("cycle",)
+    c = E.check(mech, sky, parse_date("1999-07-28"), parse_date("2049-12-01"))
+    cycles = c.per_cycle()
+    # the first turn is the one the marks were read from: perfect by construction
+    assert cycles[0]["misses"] == 0 and cycles[0]["false_alarms"] == 0
+    # a turn later almost every eclipse comes back (the saros; a series begins or ends only
+    # now and then: common practice, no source)
+    second = cycles[1]
+    assert second["hits"] >= 0.9 * (second["hits"] + second["misses"])
+    # 1999-08-11 and 2017-08-21 are one saros apart (both saros 145, canon, from memory)
+    i = int(np.argmin(np.abs(c.jd_ut - parse_date("2017-08-21 18:26"))))
+    assert c.real_type[i] == "total" and c.outcome(i) == "hit"
+    assert c.marks_from == "sky" and len(c.marks["solar"]) >= 30
+    assert c.first_failure() is not None and c.cycle_of(c.first_failure()) >= 2
+
+
+def test_marks_listed_in_the_file_are_used(sky, tmp_path):
+    from engine.mechanism import open_train
+
+    text = Path(f"{TRAINS}/cycle_dial.toml").read_text()
+    path = tmp_path / "listed.toml"
+    # the epoch is the full moon of 1999-07-28, in month 1; the next new moon starts month 2
+    path.write_text(text + "solar_months = [2]\nlunar_months = []\n")
+    mech = open_train(path, sky)
+    c = E.check(mech, sky, parse_date("1999-07-28"), parse_date("2001-01-01"))
+    assert c.marks_from == "file" and c.marks == {"solar": (2,), "lunar": ()}
+    assert int(c.predicted.sum()) == 1
+    i = int(np.flatnonzero(c.predicted)[0])
+    assert abs(c.jd_ut[i] - parse_date("1999-08-11 11:08")) < 0.1  # the new moon of month 2
+
+
+@pytest.mark.parametrize("extra, message", [
+    ("lunations = 0\n", "lunations"),
+    ("solar_months = [224]\n", "month 224"),
+    ("solar_months = [3, 3]\n", "listed twice"),
+    ("solar_months = \"all\"\n", "list of month numbers"),
+    ("per_turn = 2\n", "leave per_turn out"),
+])
+def test_cycle_dial_keys_are_checked(tmp_path, extra, message):
+    from engine.errors import TrainError
+    from engine.loader import load_train
+
+    text = Path(f"{TRAINS}/cycle_dial.toml").read_text().replace("lunations = 223\n", "")
+    if not extra.startswith("lunations"):
+        extra = "lunations = 223\n" + extra
+    path = tmp_path / "bad.toml"
+    path.write_text(text + extra)
+    with pytest.raises(TrainError) as e:
+        load_train(path)
+    assert message in str(e.value) and "[pointers.months]" in str(e.value)
+
+
+def test_eclipse_limits_are_read_and_checked(tmp_path):
+    from engine.errors import TrainError
+    from engine.loader import load_train
+
+    text = Path(f"{TRAINS}/cycle_dial.toml").read_text()
+    path = tmp_path / "lim.toml"
+    path.write_text(text + "\n[eclipses]\nsolar_limit_deg = 16\npenumbral = true\n")
+    train = load_train(path)
+    assert E.limits(train) == {"solar": 16.0, "lunar": E.PENUMBRAL_LIMIT_DEG}
+    path.write_text(text + "\n[eclipses]\nlunar_limit_deg = 45\n")
+    with pytest.raises(TrainError, match="lunar_limit_deg"):
+        load_train(path)
+    path.write_text(text.replace("lunations = 223", "lunations = 223\nsolar_months = []")
+                    .replace('shows = "cycle"', 'shows = "phase"'))
+    with pytest.raises(TrainError, match="only an eclipse-cycle dial"):
+        load_train(path)
