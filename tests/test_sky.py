@@ -21,6 +21,7 @@ from engine.sky import (
     _nutation_2000b,
     _segment_arrays,
     _timescale,
+    delta_t_sigma_s,
 )
 
 ARCSEC = 1 / 3600
@@ -474,3 +475,152 @@ def test_sky_command_planets(capsys):
     assert main(["sky", "2025-03-20 09:30"]) == 0
     text = capsys.readouterr().out
     assert "Neptune" in text and "from the Sun" in text and "solar filter" in text
+
+
+# --- the long-span ephemeris (DE406, the `ancient` extra) and ΔT's uncertainty ----------------
+
+@pytest.fixture(scope="module")
+def sky406():
+    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
+    return Sky("de406")
+
+
+def test_de406_span_and_refusal(sky406):
+    assert sky406.name == "JPL DE406"
+    assert sky406.span_jd[0] < parse_date("2999-01-01 BC") < parse_date("2999-01-01") \
+        < sky406.span_jd[1]
+    assert "3001 BC" in sky406.span_text
+    with pytest.raises(SkyError, match=r"3500 BC is outside JPL DE406, which covers"):
+        sky406.at(parse_date("3500-01-01 BC"))
+    with pytest.raises(SkyError, match="needs a JPL SPK file"):
+        sky406.at(2451545.0, fast=False)
+
+
+def test_de406_agrees_with_de421(sky, sky406):
+    # Two JPL integrations over 1900-2050, the same pipeline: measured largest differences
+    # 0.0014" Sun, 0.023" Moon, 0.004-0.013" Mercury to Mars, 0.17" Jupiter, 0.16" Saturn,
+    # 0.26" Uranus, 0.59" Neptune (DE421's outer planets rest on later observations).
+    jd = np.linspace(2415030.5, 2469800.5, 4000) + 0.3
+    names = ALL_PLANETS
+    a, b = sky.at(jd, planets=names), sky406.at(jd, planets=names)
+    assert np.max(np.abs(dang(a.sun_lon_deg, b.sun_lon_deg))) < 0.005 * ARCSEC
+    assert np.max(np.abs(dang(a.moon_lon_deg, b.moon_lon_deg))) < 0.05 * ARCSEC
+    assert np.max(np.abs(a.moon_lat_deg - b.moon_lat_deg)) < 0.05 * ARCSEC
+    assert np.max(np.abs(a.moon_km - b.moon_km)) < 0.05
+    tol = {"mercury": 0.03, "venus": 0.03, "mars": 0.03, "earth": 0.03, "jupiter": 0.3,
+           "saturn": 0.3, "uranus": 0.4, "neptune": 0.8}
+    for name in names:
+        if name != "earth":
+            assert np.max(np.abs(dang(a.planet_lon_deg[name], b.planet_lon_deg[name]))) \
+                < tol[name] * ARCSEC, name
+        assert np.max(np.abs(dang(a.planet_helio_lon_deg[name],
+                                  b.planet_helio_lon_deg[name]))) < tol[name] * ARCSEC, name
+
+
+def _ancient_dates(sky406):
+    return np.linspace(sky406.span_jd[0] + 30, parse_date("1500-01-01"), 40) + 0.3
+
+
+def test_de406_ancient_against_pyephem(sky406):
+    # PyEphem (libastro's analytic theories) at 40 dates from 3000 BC to AD 1500, compared at
+    # the same TT (PyEphem's own ΔT model is undone), apparent of date. Measured worst cases:
+    # Sun 4", Mercury 10", Venus 7", Mars 8", Jupiter 148", Saturn 254", Uranus 85",
+    # Neptune 139", Moon 1.2° at 3000 BC falling to 55" at AD 0 and 20" after AD 500 — the
+    # theories' polynomial mean motions drift from the integration with the square of the
+    # time from the present; the figures grow from AD 1500 back to 3000 BC.
+    jd = _ancient_dates(sky406)
+    st = sky406.at(jd, planets=PLANETS)
+    tt = jd + st.delta_t_s / 86400
+    tol = {"sun": 8, "moon": 6000, "mercury": 20, "venus": 15, "mars": 15, "jupiter": 250,
+           "saturn": 400, "uranus": 150, "neptune": 220}
+    worst = dict.fromkeys(tol, 0.0)
+    for i in range(len(jd)):
+        d = tt[i] - 2415020.0
+        for _ in range(3):
+            d = tt[i] - 2415020.0 - ephem.delta_t(ephem.Date(d)) / 86400
+        eps = _true_obliquity(tt[i])
+        for name in tol:
+            body = getattr(ephem, name.capitalize())()
+            body.compute(ephem.Date(d), epoch=ephem.Date(d))
+            lam, _ = _ecliptic(float(body.g_ra), float(body.g_dec), eps)
+            ours = (st.sun_lon_deg[i] if name == "sun" else st.moon_lon_deg[i]
+                    if name == "moon" else st.planet_lon_deg[name][i])
+            worst[name] = max(worst[name], abs(dang(ours, lam)) / ARCSEC)
+    for name, limit in tol.items():
+        assert worst[name] < limit, (name, worst[name])
+
+
+def test_de406_ancient_against_astronomy_engine(sky406):
+    # Astronomy Engine (the `astronomy-engine` package: truncated VSOP87 planets, a
+    # short lunar series), same 40 dates, same TT, its true ecliptic of date with aberration.
+    # Measured worst cases: Sun 112", Mercury 481", Venus 431", Mars 565", Jupiter 2062",
+    # Saturn 3971", Uranus 268", Neptune 169", Moon 1.5°, all at the earliest dates; from
+    # AD 500 to 1500: Sun 4", Mars 21", Jupiter 54", Saturn 119", Moon 423".
+    astronomy = pytest.importorskip("astronomy")
+    jd = _ancient_dates(sky406)
+    st = sky406.at(jd, planets=PLANETS)
+    tt = jd + st.delta_t_s / 86400
+    tol = {"sun": 170, "moon": 8000, "mercury": 700, "venus": 650, "mars": 850, "jupiter": 3000,
+           "saturn": 6000, "uranus": 400, "neptune": 260}
+    worst = dict.fromkeys(tol, 0.0)
+    for i in range(len(jd)):
+        t = astronomy.Time.FromTerrestrialTime(tt[i] - 2451545.0)
+        for name in tol:
+            body = getattr(astronomy.Body, name.capitalize())
+            lon = astronomy.Ecliptic(astronomy.GeoVector(body, t, True)).elon
+            ours = (st.sun_lon_deg[i] if name == "sun" else st.moon_lon_deg[i]
+                    if name == "moon" else st.planet_lon_deg[name][i])
+            worst[name] = max(worst[name], abs(dang(ours, lon)) / ARCSEC)
+    for name, limit in tol.items():
+        assert worst[name] < limit, (name, worst[name])
+
+
+def test_ancient_eclipse_geometry(sky406):
+    # The solar eclipse of 28 May 585 BC (Julian), JD 1507900.13 in Meeus's chapter 7 example
+    # (from memory): the Moon must be at conjunction and near its node (|latitude| under
+    # about 1.5° for any solar eclipse; common practice, no source). Measured: elongation
+    # 0.39°, latitude 0.37°.
+    st = sky406.at(1507900.13)
+    assert abs(dang(st.elongation_deg, 0.0)) < 3.0 and abs(float(st.moon_lat_deg)) < 1.5
+    # The lunar eclipse of 20 September 331 BC (Julian; from memory): opposition that day,
+    # near the node (|latitude| under about 1° for an umbral eclipse). Measured at noon UT:
+    # elongation 176.3°, latitude 0.74°.
+    st = sky406.at(parse_date("20 September 331 BC 12:00", calendar="julian"))
+    assert abs(dang(st.elongation_deg, 180.0)) < 8.0 and abs(float(st.moon_lat_deg)) < 1.0
+    assert 200 < float(st.delta_t_sigma_s) < 600  # minutes of ΔT uncertainty at that date
+
+
+@pytest.mark.parametrize("year, sigma_s", [
+    # Morrison and Stephenson (2004), sigma = 0.8 t^2 s, tabulated in Espenak and Meeus's
+    # "Five Millennium Canon" notes on the uncertainty of ΔT (retrieved with the docs search):
+    ("1000-01-01 BC", 636), ("500-01-01 BC", 431), ("0001-01-01", 265), ("0500-01-01", 139),
+    ("1000-01-01", 54), ("1200-01-01", 31),
+    # Stephenson and Houlden (1986), same notes:
+    ("1700-01-01", 5), ("1800-01-01", 1), ("1900-01-01", 0.1),
+])
+def test_delta_t_sigma_published(year, sigma_s):
+    jd = parse_date(year)
+    assert float(delta_t_sigma_s(jd)) == pytest.approx(sigma_s, rel=0.02, abs=1.0)
+
+
+def test_delta_t_sigma_in_state_and_command(sky, capsys):
+    import json
+
+    from engine.cli import main
+
+    assert float(sky.at(2451545.0).delta_t_sigma_s) < 0.01
+    assert main(["sky", "2025-03-20", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["delta_t_sigma_s"] < 0.01 and "solar filter" in out["caution"]
+
+
+def test_sky_command_ancient(capsys):
+    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
+    from engine.cli import main
+
+    assert main(["sky", "15 March 44 BC", "--ephemeris", "de406"]) == 0
+    text = capsys.readouterr().out
+    assert "44 BC" in text and "Julian" in text and "ΔT" in text and "±" in text
+    assert "uncertain" in text and "solar filter" in text
+    assert main(["sky", "1 January 3500 BC", "--ephemeris", "de406"]) == 1
+    assert "outside JPL DE406" in capsys.readouterr().err

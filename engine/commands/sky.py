@@ -36,6 +36,13 @@ def _dms(deg: float) -> str:
     return f"{sign}{int(d)}°{int(m):02d}′{s:04.1f}″"
 
 
+def _sigma(seconds: float) -> str:
+    """One standard error of ΔT, to a sensible number of figures."""
+    if seconds >= 600:
+        return f"{seconds / 60:.0f} min"
+    return f"{seconds:.0f} s" if seconds >= 10 else f"{seconds:.2g} s"
+
+
 def run(args: argparse.Namespace, console: Console) -> int:
     try:
         jd = parse_date(args.date, calendar=args.calendar)
@@ -47,8 +54,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     st = sky.at(jd, frame=frame, site=site, planets=PLANETS + ("earth",))
     cal = calendar_date(jd, args.calendar)[-1]
     v = {k: float(getattr(st, k)) for k in (
-        "delta_t_s", "sun_lon_deg", "sun_lat_deg", "moon_lon_deg", "moon_lat_deg",
-        "elongation_deg", "illuminated", "moon_km", "node_deg", "perigee_deg",
+        "delta_t_s", "delta_t_sigma_s", "sun_lon_deg", "sun_lat_deg", "moon_lon_deg",
+        "moon_lat_deg", "elongation_deg", "illuminated", "moon_km", "node_deg", "perigee_deg",
         "moon_mean_anomaly_deg")}
     for name in PLANETS:
         v[f"{name}_lon_deg"] = float(st.planet_lon_deg[name])
@@ -68,8 +75,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
              f"{site.lat_deg:+.4f}°, {site.lon_deg:+.4f}° E, {site.height_m:g} m")
     frame_text = "fixed J2000 ecliptic (stars)" if args.stars else "true ecliptic and equinox of date"
     console.print(f"[bold]{format_jd(jd, args.calendar, seconds=True)}[/]  JD {jd:.6f} UT")
-    console.print(f"ΔT {v['delta_t_s']:.1f} s · {sky.name} ({sky.span_text}) · {frame_text} · "
-                  f"seen from {where}")
+    console.print(f"ΔT {v['delta_t_s']:.1f} s ± {_sigma(v['delta_t_sigma_s'])} · {sky.name} "
+                  f"({sky.span_text}) · {frame_text} · seen from {where}")
     table = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
     for col, just in (("", "left"), ("degrees", "right"), ("", "right")):
         table.add_column(col, justify=just, no_wrap=True)
@@ -97,5 +104,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
         planets.add_row(name.capitalize(), "" if geo is None else f"{geo:.5f}",
                         f"{v[f'{name}_helio_lon_deg']:.5f}")
     console.print(planets)
+    if v["delta_t_sigma_s"] >= 60:
+        console.print(f"ΔT is uncertain by ± {_sigma(v['delta_t_sigma_s'])} (one standard error) "
+                      f"at this date: the Moon moves about "
+                      f"{v['delta_t_sigma_s'] / 3600 * 0.55:.2g}° in that time, the Sun "
+                      f"{v['delta_t_sigma_s'] / 3600 * 0.041 * 60:.2g}′.")
     console.print(f"[yellow]{SUN_CAUTION}[/]")
     return 0

@@ -148,8 +148,8 @@ def site(text: str) -> str:
 
 
 def ephemeris(text: str) -> str:
-    """``de421``, ``de440`` or an existing SPK file (not a folder)."""
-    if text.strip().lower() in ("de421", "de440"):
+    """``de421``, ``de440``, ``de406`` or an existing SPK file (not a folder)."""
+    if text.strip().lower() in ("de421", "de440", "de406"):
         return text.strip()
     p = Path(text)
     if p.is_dir():
@@ -190,9 +190,9 @@ def add_site(parser, help_text: str | None = None) -> None:
 
 def add_ephemeris(parser) -> None:
     parser.add_argument(
-        "--ephemeris", metavar="FILE|de440", type=ephemeris, default=None,
-        help="JPL ephemeris: de440 (optional package, 1550-2650) or an SPK .bsp file "
-        "(default: the bundled DE421, 1900-2050)")
+        "--ephemeris", metavar="FILE|de440|de406", type=ephemeris, default=None,
+        help="JPL ephemeris: de440 (optional package, 1550-2650), de406 (the 'ancient' extra, "
+        "3000 BC-AD 3000) or an SPK .bsp file (default: the bundled DE421, 1900-2050)")
 
 
 def add_force(parser, what: str = "output files") -> None:
