@@ -5,7 +5,7 @@ of one extra input per pin-and-slot stage — the slot arbor's lead or lag on th
 
     angle(arbor) = rate * crank_turns + sum_k weight_k * lag_k(crank_turns)
 
-The coefficients come from solving the train's constraints exactly (sympy over the rationals):
+The coefficients come from solving the train's constraints exactly, in fractions (:func:`solve`):
 
 * a mesh between wheels with ``z1`` and ``z2`` teeth, both axes held by the reference
   arbor ``R`` (the frame, or the carrier of an epicyclic stage) gives the Willis relation
@@ -22,14 +22,14 @@ millions of turns keep their precision.
 
 from __future__ import annotations
 
+import heapq
 from dataclasses import dataclass
 from fractions import Fraction
 
 import numpy as np
-import sympy
 
 from .errors import TrainError
-from .exact import Turns, turns_mod1
+from .exact import Turns, fraction_text, turns_mod1
 from .train import FRAME, Train
 
 
@@ -200,29 +200,53 @@ def mesh_reference(train: Train, a1: str, a2: str) -> str | None:
     return None
 
 
+@dataclass
+class _Row:
+    """One linear constraint: ``sum(coeffs[v] * x_v) = rhs`` (rhs a vector over the inputs)."""
+
+    label: str
+    coeffs: dict[str, int]
+    rhs: tuple[Fraction, ...]
+    ends: tuple[str, ...] = ()  # the arbors it links, the one it drives last (for errors)
+
+
 def solve(train: Train) -> Kinematics:
-    """Solve a train's rates exactly. Raises :class:`TrainError` for trains that cannot work."""
+    """Solve a train's rates exactly. Raises :class:`TrainError` for trains that cannot work.
+
+    Each arbor's motion is a vector over the inputs (the crank, then one lag per pin-and-slot
+    stage). Most constraints link two arbors, so the motion spreads from the crank along the
+    mesh graph: a constraint with one arbor still unknown gives it at once, taken in the file's
+    order (a heap of ready rows: the work grows as n log n with the train, and a lock is found
+    at the last mesh of a contradicting loop, as the file lists them). Carriers can leave a few constraints with two or more
+    unknowns (a differential driving its carrier); those few are solved together by exact
+    Gaussian elimination over fractions. Constraints found with every arbor known must hold, or
+    the train locks; arbors left undetermined are driven by nothing.
+    """
     where = train.source
     names = list(train.arbors)
-    col = {n: i for i, n in enumerate(names)}
     slots = list(train.pin_slots)
     n_in = 1 + len(slots)
-    rows: list[tuple[str, dict[str, int], dict[int, int]]] = []  # (label, var coeffs, input)
+    zero = (Fraction(0),) * n_in
+    rows: list[_Row] = []
 
-    def add(label, coeffs, inputs=None):
+    def unit(k: int) -> tuple[Fraction, ...]:
+        return tuple(Fraction(int(j == k)) for j in range(n_in))
+
+    def add(label, coeffs, rhs=zero, ends=()):
         clean: dict[str, int] = {}
         for k, v in coeffs.items():
             if k != FRAME:
                 clean[k] = clean.get(k, 0) + v
-        rows.append((label, clean, inputs or {}))
+        rows.append(_Row(label, {k: v for k, v in clean.items() if v}, rhs, ends))
 
-    add("[crank]", {train.crank.arbor: 1}, {0: 1})
+    add("[crank]", {train.crank.arbor: 1}, unit(0), ends=(train.crank.arbor,))
     for a in train.arbors.values():
         if a.fixed:
-            add(f"[arbors.{a.name}] fixed", {a.name: 1, a.mount: -1})
+            add(f"[arbors.{a.name}] fixed", {a.name: 1, a.mount: -1}, ends=(a.mount, a.name))
     for k, name in enumerate(slots, start=1):
         ps = train.pin_slots[name]
-        add(f"[pin_slots.{name}]", {ps.slot_arbor: 1, ps.followed_arbor: -1}, {k: 1})
+        add(f"[pin_slots.{name}]", {ps.slot_arbor: 1, ps.followed_arbor: -1}, unit(k),
+            ends=(ps.followed_arbor, ps.slot_arbor))
     frames = []
     for m in train.meshes:
         w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
@@ -237,64 +261,182 @@ def solve(train: Train) -> Kinematics:
         frames.append(MeshFrame(m.index, w1.arbor, w2.arbor, ref, sign))
         # z1 (a1 - aR) - sign * z2 (a2 - aR) = 0
         add(m.label, {w1.arbor: w1.teeth, w2.arbor: -sign * w2.teeth,
-                      ref: -w1.teeth + sign * w2.teeth})
+                      ref: -w1.teeth + sign * w2.teeth}, ends=(w1.arbor, w2.arbor))
 
-    mat = sympy.zeros(len(rows), len(names))
-    rhs = sympy.zeros(len(rows), n_in)
-    for i, (_, coeffs, inputs) in enumerate(rows):
-        for k, v in coeffs.items():
-            mat[i, col[k]] = v
-        for j, v in inputs.items():
-            rhs[i, j] = v
-
-    rank = mat.rank()
-    if mat.row_join(rhs).rank() > rank:
-        raise _lock_error(train, rows, mat, rhs)
-    if rank < len(names):
-        free = set()
-        for vec in mat.nullspace():
-            free |= {names[i] for i in range(len(names)) if vec[i] != 0}
-        undriven = [n for n in names if n in free]
+    value: dict[str, tuple[Fraction, ...]] = {}
+    cause: dict[str, int] = {}  # arbor -> the row that gave its motion
+    rows_of: dict[str, list[int]] = {n: [] for n in names}
+    unknown = [len(r.coeffs) for r in rows]
+    for i, r in enumerate(rows):
+        for v in r.coeffs:
+            rows_of[v].append(i)
+    queue = [i for i, n in enumerate(unknown) if n <= 1]  # already in order: a valid heap
+    done = [False] * len(rows)
+    while queue:
+        i = heapq.heappop(queue)
+        if done[i]:
+            continue
+        done[i] = True
+        r = rows[i]
+        todo = [v for v in r.coeffs if v not in value]
+        if not todo:
+            if _residual(r, value, n_in) != zero:
+                raise _lock_error(train, rows, i, value, cause)
+            continue
+        (var,) = todo
+        value[var] = _solve_for(r, var, value, n_in)
+        cause[var] = i
+        for j in rows_of[var]:
+            unknown[j] -= 1
+            if unknown[j] <= 1 and not done[j]:
+                heapq.heappush(queue, j)
+    rest = [i for i in range(len(rows)) if not done[i]]
+    free: list[str] = []
+    if rest:
+        free = _eliminate(train, rows, rest, value, cause, n_in)
+    undriven = [n for n in names if n not in value or n in free]
+    if undriven:
         raise TrainError(where, f"[arbors.{undriven[0]}]", "nothing drives this arbor"
-                         + (f" (nor {', '.join(undriven[1:])})" if len(undriven) > 1 else "")
+                         + (f" (nor {_names(undriven[1:])})" if len(undriven) > 1 else "")
                          + ": mesh one of its wheels with the train, make it fixed, or remove it")
-    sol, params = mat.gauss_jordan_solve(rhs)
-    if params.shape[0]:  # cannot happen at full column rank; kept as a guard for the solver
-        raise TrainError(where, "", "the train's motion is not determined")
-    linear = {
-        n: LinearAngle(_frac(sol[col[n], 0]),
-                       tuple(_frac(sol[col[n], k]) for k in range(1, n_in)))
-        for n in names
-    }
+    linear = {n: LinearAngle(value[n][0], tuple(value[n][1:])) for n in names}
     order = _slot_order(train, linear, slots)
     return Kinematics(train, linear, order, tuple(frames))
 
 
-def _frac(x) -> Fraction:
-    x = sympy.Rational(x)
-    return Fraction(int(x.p), int(x.q))
+def _names(names: list[str], most: int = 8) -> str:
+    shown = ", ".join(names[:most])
+    return shown + (f" and {len(names) - most} more" if len(names) > most else "")
 
 
-def _lock_error(train, rows, mat, rhs) -> TrainError:
-    """Name the first constraint that contradicts those before it."""
-    for i in range(1, len(rows) + 1):
-        sub, subr = mat[:i, :], rhs[:i, :]
-        if sub.row_join(subr).rank() > sub.rank():
-            label = rows[i - 1][0]
-            mesh_no = label.split()[1] if label.startswith("mesh") else None
-            if mesh_no:
-                m = train.meshes[int(mesh_no) - 1]
-                for earlier in train.meshes[: int(mesh_no) - 1]:
-                    shared = {m.driver, m.driven} & {earlier.driver, earlier.driven}
-                    if shared:
-                        w = shared.pop()
-                        return TrainError(train.source, label, f"wheel '{w}' is also in "
-                                          f"{earlier.label}, and the two meshes demand "
-                                          "different speeds: the train locks")
-            return TrainError(train.source, label, "contradicts the rest of the train, which "
-                              "then cannot turn at all (it locks: over-constrained); check "
-                              "tooth counts, or remove a mesh")
-    return TrainError(train.source, "", "the train locks (over-constrained)")
+def _residual(r: _Row, value, n_in: int) -> tuple[Fraction, ...]:
+    """``sum(coeffs * x) - rhs`` with every arbor known: all zeros when the row holds."""
+    out = [-x for x in r.rhs]
+    for v, c in r.coeffs.items():
+        for j, x in enumerate(value[v]):
+            if x:
+                out[j] += c * x
+    return tuple(out)
+
+
+def _solve_for(r: _Row, var: str, value, n_in: int) -> tuple[Fraction, ...]:
+    """The motion of ``var`` that makes row ``r`` hold, every other arbor in it known."""
+    acc = list(r.rhs)
+    for v, c in r.coeffs.items():
+        if v != var:
+            for j, x in enumerate(value[v]):
+                if x:
+                    acc[j] -= c * x
+    c = r.coeffs[var]
+    return tuple(x / c for x in acc)
+
+
+def _eliminate(train, rows, rest, value, cause, n_in) -> list[str]:
+    """Solve the rows propagation could not (each with two or more unknown arbors) together,
+    by Gauss-Jordan elimination over fractions. Fills ``value``; returns the arbors left free
+    (and those that depend on them). Raises the lock error when the rows contradict."""
+    unknowns = sorted({v for i in rest for v in rows[i].coeffs if v not in value})
+    system = []  # (coeffs over unknowns, rhs vector, row index)
+    for i in rest:
+        r = rows[i]
+        acc = list(r.rhs)
+        coeffs: dict[str, Fraction] = {}
+        for v, c in r.coeffs.items():
+            if v in value:
+                for j, x in enumerate(value[v]):
+                    acc[j] -= c * x
+            else:
+                coeffs[v] = Fraction(c)
+        system.append((coeffs, acc, i))
+    pivots: list[tuple[str, dict[str, Fraction], list[Fraction], int]] = []
+    for coeffs, acc, i in system:
+        coeffs, acc = dict(coeffs), list(acc)
+        for pv, pc, pa, _ in pivots:  # reduce by the pivots found so far
+            f = coeffs.pop(pv, None)
+            if f:
+                for v, c in pc.items():
+                    if v != pv:
+                        coeffs[v] = coeffs.get(v, Fraction(0)) - f * c
+                acc = [a - f * b for a, b in zip(acc, pa, strict=True)]
+                coeffs = {v: c for v, c in coeffs.items() if c}
+        if not coeffs:
+            if any(acc):
+                raise _lock_error(train, rows, i, value, cause)
+            continue
+        pv = min(coeffs, key=unknowns.index)
+        c0 = coeffs[pv]
+        pc = {v: c / c0 for v, c in coeffs.items()}
+        pa = [a / c0 for a in acc]
+        for k, (qv, qc, qa, qi) in enumerate(pivots):  # keep earlier pivot rows reduced
+            f = qc.get(pv)
+            if f:
+                for v, c in pc.items():
+                    qc[v] = qc.get(v, Fraction(0)) - f * c
+                pivots[k] = (qv, {v: c for v, c in qc.items() if c},
+                             [a - f * b for a, b in zip(qa, pa, strict=True)], qi)
+        pivots.append((pv, pc, pa, i))
+    pivoted = {pv for pv, *_ in pivots}
+    free = [v for v in unknowns if v not in pivoted]
+    for pv, pc, pa, i in pivots:
+        if any(v != pv for v in pc):
+            free.append(pv)
+        else:
+            value[pv] = tuple(pa)
+            cause[pv] = i
+    return free
+
+
+def _path(rows, var: str, cause, most: int = 6) -> list[str]:
+    """The constraints that carried the motion to ``var``, from the crank on: each step goes
+    back through the row that fixed an arbor to the arbor it came from (through a mesh, the
+    other wheel's arbor)."""
+    steps: list[str] = []
+    seen = set()
+    while var in cause and var not in seen:
+        seen.add(var)
+        r = rows[cause[var]]
+        steps.append("the crank" if r.label == "[crank]" else r.label)
+        nxt = [v for v in r.ends if v != var and v != FRAME]
+        if not nxt:
+            break
+        var = nxt[0]
+    steps.reverse()
+    if len(steps) > most:
+        steps = steps[:2] + [f"… {len(steps) - most + 2} more …"] + steps[-(most - 3):]
+    return steps
+
+
+def _lock_error(train, rows, i, value, cause) -> TrainError:
+    """Name the arbor that two paths would turn at different speeds, and both paths."""
+    r = rows[i]
+    arbors = list(r.coeffs)
+    if not arbors:
+        return TrainError(train.source, r.label, "contradicts the rest of the train, which "
+                          "then cannot turn at all (it locks: over-constrained)")
+    ends = [v for v in r.ends if v in r.coeffs]
+    target = next((v for v in reversed(ends) if v != train.crank.arbor), arbors[-1])
+    if all(v in value for v in arbors):
+        n_in = len(r.rhs)
+        here = _solve_for(r, target, value, n_in)
+        there = value[target]
+        first = " → ".join(_path(rows, target, cause)) or "the crank"
+        source = next((v for v in ends if v != target), None)
+        second = _path(rows, source, cause)[-5:] if source else []
+        second = " → ".join([*second, r.label])
+        return TrainError(train.source, r.label, f"arbor '{target}' would turn at two "
+                          f"speeds: {_speed(there)} through {first}, and {_speed(here)} "
+                          f"through {second}; the train locks: change a tooth count or "
+                          "remove one of these meshes")
+    return TrainError(train.source, r.label, "contradicts the rest of the train, which "
+                      "then cannot turn at all (it locks: over-constrained); check "
+                      "tooth counts, or remove a mesh")
+
+
+def _speed(vec: tuple[Fraction, ...]) -> str:
+    text = f"{fraction_text(vec[0])} turn{'s' if abs(vec[0]) != 1 else ''} per crank turn"
+    if any(vec[1:]):
+        text += " (plus a pin-and-slot motion)"
+    return text
 
 
 def _slot_order(train: Train, linear: dict[str, LinearAngle], slots: list[str]):

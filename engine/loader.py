@@ -317,13 +317,13 @@ def parse_train(text: str, where: str = "<train>") -> Train:
         raise r.fail("[train] dial", f"should be one of {', '.join(DIAL_FRAMES)}, got {_show(dial)}")
 
     arbors, wheels = _read_arbors(r, doc)
+    _check_mounts(r, arbors)
     meshes = _read_meshes(r, doc, wheels)
     pin_slots = _read_pin_slots(r, doc, arbors)
     crank = _read_crank(r, doc, arbors)
     epoch = _read_epoch(r, doc)
     pointers = _read_pointers(r, doc, arbors, epoch)
     eclipses = _read_eclipses(r, doc)
-    _check_mounts(r, arbors)
     return Train(name=name, source=where, arbors=arbors, wheels=wheels, meshes=meshes,
                  pin_slots=pin_slots, crank=crank, epoch=epoch, pointers=pointers, dial=dial,
                  about=about.strip(), eclipses=eclipses)
@@ -629,6 +629,10 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                 raise r.fail(f"{item} relative_to", f"unknown arbor '{rel}'")
             if rel == arbor:
                 raise r.fail(f"{item} relative_to", "cannot be the pointer's own arbor")
+        if _still(arbors, arbor) and (rel is None or _still(arbors, rel)):
+            raise r.fail(f"{item} arbor", f"arbor '{arbor}' is fixed to the frame and never "
+                         "turns, so a pointer on it shows nothing; put the pointer on a turning "
+                         "arbor (or read it relative_to one)")
         lunations, marks = _read_cycle(r, tbl, item, shows)
         per_turn = lunations or r.fraction(tbl.get("per_turn", 1), f"{item} per_turn",
                                            MIN_PER_TURN, MAX_PER_TURN, "1/1000000 and 1000000")
@@ -642,6 +646,15 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                             r.flag(tbl.get("reversed", False), f"{item} reversed"), set_deg,
                             marks)
     return out
+
+
+def _still(arbors: dict[str, Arbor], arbor: str) -> bool:
+    """True when an arbor is fixed to the frame, directly or through fixed carriers."""
+    while arbor != FRAME:
+        if not arbors[arbor].fixed:
+            return False
+        arbor = arbors[arbor].mount
+    return True
 
 
 def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:

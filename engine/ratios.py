@@ -40,6 +40,8 @@ class Stage:
     def text(self) -> str:
         if self.kind == "pin_slot":
             return f"pin-and-slot {self.driver}→{self.driven} (1:1 mean)"
+        if self.kind == "fixed":
+            return f"{self.driver}→{self.driven} fixed together (1:1)"
         t = f"{self.driver_teeth}/{self.driven_teeth}"
         if self.internal:
             t += " internal"
@@ -76,6 +78,8 @@ class PointerRatio:
     years_to_one_day: float | None  # phase pointers: when the display is a day out
     direction_ok: bool
     teeth: tuple[ToothNote, ...] = field(default=())
+    route: str = ""  # when there are no stages: why (the crank arbor itself, no mesh path...)
+    relative_route: str = ""
 
     def as_json(self) -> dict:
         d = asdict(self)
@@ -103,6 +107,10 @@ def stage_path(train: Train, kin: Kinematics, target: str) -> tuple[list[Stage],
         for a, b, x, y in ((w1, w2, m.driver, m.driven), (w2, w1, m.driven, m.driver)):
             edges[a.arbor].append((b.arbor, Stage("mesh", x, y, a.teeth, b.teeth,
                                                   m.internal, ref)))
+    for a in train.arbors.values():
+        if a.fixed and a.mount != FRAME:  # turns with its carrier
+            edges[a.mount].append((a.name, Stage("fixed", a.mount, a.name)))
+            edges[a.name].append((a.mount, Stage("fixed", a.name, a.mount)))
     for ps in train.pin_slots.values():
         edges[ps.pin_arbor].append((ps.slot_arbor, Stage("pin_slot", ps.pin_arbor,
                                                          ps.slot_arbor)))
@@ -130,6 +138,21 @@ def stage_path(train: Train, kin: Kinematics, target: str) -> tuple[list[Stage],
     return path, all(s.reference == FRAME for s in path)
 
 
+def route_text(train: Train, kin: Kinematics, arbor: str, stages: list[Stage],
+               found: bool) -> str:
+    """What to say in place of the stages when there are none, or when no chain of meshes
+    leads from the crank (the arbor's motion then comes from the whole train)."""
+    if stages:
+        return ""
+    if arbor == train.crank.arbor:
+        return "(the crank arbor itself)"
+    if kin.rate(arbor) == 0 and all(train.arbors[a].fixed for a in train.mount_chain(arbor)):
+        return "(fixed to the frame: it does not turn)"
+    if not found:
+        return "(no chain of meshes from the crank: solved from the whole train)"
+    return "(turns with the crank arbor)"
+
+
 def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
                    ) -> list[PointerRatio]:
     """The ratio report's rows, one per pointer, judged on a dial of ``frame`` (default: the
@@ -146,11 +169,14 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
         period = float(dpt / abs(ratio)) if ratio else float("inf")
         found = stage_path(train, kin, p.arbor)
         stages, simple = found if found else ([], False)
+        route = route_text(train, kin, p.arbor, stages, found is not None)
         rel_stages: list[Stage] = []
+        rel_route = ""
         if p.relative_to:
             found_rel = stage_path(train, kin, p.relative_to)
             rel_stages, simple_rel = found_rel if found_rel else ([], False)
             simple = simple and simple_rel
+            rel_route = route_text(train, kin, p.relative_to, rel_stages, found_rel is not None)
         if simple:
             prod = Fraction(1)
             for s in stages:
@@ -183,6 +209,6 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
             drift_deg_per_century=(train_deg_per_day - true_deg_per_day) * JULIAN_CENTURY_DAYS,
             years_to_one_day=years,
             direction_ok=(ratio > 0) == (target.sense > 0) if ratio else False,
-            teeth=tuple(wheels_seen.values()),
+            teeth=tuple(wheels_seen.values()), route=route, relative_route=rel_route,
         ))
     return rows

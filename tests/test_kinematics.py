@@ -12,6 +12,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from engine.errors import TrainError
 from engine.exact import Turns
 from engine.kinematics import slot_follower_turns, solve
 from engine.loader import load_train, parse_train
@@ -401,3 +402,46 @@ def test_carried_pin_that_can_reach_the_slot_axis_is_refused():
     worse = CARRIED.format(z=25, r=7.0, e=2.0, arm=8.0, arm_deg=0, pin_deg=0)
     with pytest.raises(TrainError, match=r"\[pin_slots.s\] arm_mm.*can come to the slot"):
         parse_train(train_text(worse), "test.toml")
+
+
+def chain_text(n: int, reverse: bool = False) -> tuple[str, Fraction]:
+    """A compound chain of ``n`` arbors (meshes listed forwards or backwards) and the rate of
+    its last arbor as the product of the stages (common practice, no source)."""
+    arbors, meshes = [], []
+    rate = Fraction(1)
+    for i in range(n):
+        drive, driven = 10 + i % 7, 12 + i % 5
+        arbors.append(f"[arbors.x{i}]\nwheels = {{ w{i} = {driven}, p{i} = {drive} }}\n")
+        if i:
+            meshes.append(f'[[meshes]]\nwheels = ["p{i - 1}", "w{i}"]\n')
+            rate *= -Fraction(10 + (i - 1) % 7, driven)
+    if reverse:
+        meshes.reverse()
+    return train_text("".join(arbors) + "".join(meshes), crank="x0"), rate
+
+
+@pytest.mark.parametrize("reverse", [False, True])
+def test_thousand_arbor_chain_solves_exactly(reverse):
+    """A 1,000-arbor train solves (in linear time: timing lives in bench/solve_speed.py), and
+    the last arbor's rate is the product of the 999 stages."""
+    text, rate = chain_text(1000, reverse)
+    kin = solve(parse_train(text, "chain.toml"))
+    assert kin.rate("x999") == rate
+    assert len(kin.rates) == 1000
+
+
+def test_undriven_carrier_of_a_differential_is_named():
+    """A differential whose carrier is free: its planet and carrier are driven by nothing."""
+    with pytest.raises(TrainError, match=r"\[arbors\.carrier\]: nothing drives this arbor "
+                                         r"\(nor planet\)"):
+        rates_of("""
+[arbors.a]
+wheels = { s1 = 20 }
+[arbors.carrier]
+wheels = {}
+[arbors.planet]
+on = "carrier"
+wheels = { pl = 10 }
+[[meshes]]
+wheels = ["s1", "pl"]
+""")

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from fractions import Fraction
 from pathlib import Path
 
 import pytest
@@ -106,14 +107,44 @@ wheels = ["a1", "c1"]
 [[meshes]]
 wheels = ["c2", "b1"]
 """)
-    assert "mesh 3 (c2–b1)" in msg and "wheel 'b1' is also in mesh 1" in msg
+    assert msg.startswith("bad.toml: mesh 3 (c2–b1): arbor 'b' would turn at two speeds: ")
+    assert "-0.5 turns per crank turn through the crank → mesh 1 (a1–b1)" in msg
+    assert "1/3 turns per crank turn through the crank → mesh 2 (a1–c1) → mesh 3 (c2–b1)" in msg
     assert "locks" in msg
+
+
+def test_lock_names_the_arbor_and_both_paths_through_different_wheels():
+    """Two paths reach arbor 'b' through different wheels (b1 and b2): the error names 'b',
+    both paths and both speeds, not a mesh that merely shares a wheel."""
+    text = GOOD.replace("wheels = { a1 = 20 }", "wheels = { a1 = 20, a2 = 30 }").replace(
+        "wheels = { b1 = 40 }", "wheels = { b1 = 40, b2 = 15 }")
+    msg = error_of(text + """
+[arbors.c]
+wheels = { c1 = 45, c2 = 25 }
+[arbors.d]
+wheels = { d1 = 10, d2 = 12 }
+[[meshes]]
+wheels = ["a2", "c1"]
+[[meshes]]
+wheels = ["c2", "d1"]
+[[meshes]]
+wheels = ["d2", "b2"]
+""")
+    assert "arbor 'b' would turn at two speeds" in msg, msg
+    # a: 1; b via mesh 1: -20/40; c: -30/45, d: +(2/3)(25/10) = 5/3, b via b2: -(5/3)(12/15)
+    assert "-0.5 turns per crank turn through the crank → mesh 1 (a1–b1)" in msg
+    assert "-4/3 turns per crank turn through the crank → mesh 2 (a2–c1) → mesh 3 (c2–d1) → " \
+           "mesh 4 (d2–b2)" in msg
 
 
 def test_train_that_locks():
     """A fixed arbor meshed with the crank's wheel: nothing can turn."""
-    msg = error_of(GOOD.replace("wheels = { b1 = 40 }", "fixed = true\nwheels = { b1 = 40 }"))
-    assert "mesh 1 (a1–b1)" in msg and "locks" in msg
+    msg = error_of(GOOD.replace("wheels = { b1 = 40 }", "fixed = true\nwheels = { b1 = 40 }")
+                   .replace('arbor = "b"\nreversed', 'arbor = "a"\nreversed'))
+    assert msg.startswith("bad.toml: mesh 1 (a1–b1): arbor 'b' would turn at two speeds: 0 "
+                          "turns per crank turn through [arbors.b] fixed, and -0.5 turns per "
+                          "crank turn through the crank → mesh 1 (a1–b1)"), msg
+    assert "locks" in msg
 
 
 def test_mounting_loop():
@@ -339,3 +370,49 @@ def test_toml_dates_are_refused_quoting_what_was_written():
     assert "1582-10-10T12:00:00+01:00" in msg and "1582-10-05..14" in msg
     msg = error_of(GOOD.replace('"2026-01-01 00:00"', "06:30:00"))
     assert "[epoch] date" in msg and "without a date" in msg
+
+
+def test_pointer_on_an_arbor_fixed_to_the_frame_is_refused():
+    text = GOOD + '[arbors.f]\nfixed = true\nwheels = {}\n'
+    msg = error_of(text.replace('arbor = "b"\nreversed', 'arbor = "f"\nreversed'))
+    assert "[pointers.p] arbor" in msg and "fixed to the frame and never turns" in msg
+    # relative to a turning arbor it does move, and reads as such
+    text = text.replace('arbor = "b"\nreversed', 'arbor = "f"\nrelative_to = "b"\nreversed')
+    assert solve(parse_train(text, "ok.toml")).rate("f", "b") == Fraction(1, 2)
+
+
+def test_ratio_report_says_how_each_arbor_is_reached():
+    """No stages: the crank arbor itself, a fixed arbor, or an arbor on a carrier reached
+    through the carrier are each said as they are (never 'the crank arbor itself')."""
+    from engine.ratios import pointer_ratios
+
+    text = GOOD + """
+[arbors.f]
+fixed = true
+wheels = {}
+[arbors.planet]
+on = "b"
+fixed = true
+wheels = {}
+[pointers.crank]
+shows = "sun"
+arbor = "a"
+set_deg = 0
+[pointers.rel]
+shows = "phase"
+arbor = "f"
+relative_to = "b"
+set_deg = 0
+[pointers.carried]
+shows = "moon"
+arbor = "planet"
+reversed = true
+set_deg = 0
+"""
+    train = parse_train(text, "r.toml")
+    rows = {r.pointer: r for r in pointer_ratios(train, solve(train))}
+    assert rows["crank"].route == "(the crank arbor itself)"
+    assert rows["rel"].route == "(fixed to the frame: it does not turn)"
+    assert rows["rel"].relative_stages and rows["rel"].relative_route == ""
+    assert [s.kind for s in rows["carried"].stages] == ["mesh", "fixed"]
+    assert rows["carried"].stages_multiply_out

@@ -64,10 +64,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       f"stands for the {r.target_name}")
         console.print(f"   ratio {r.ratio.numerator}/{r.ratio.denominator} cycles per crank "
                       f"turn = {float(r.ratio):.10g}", markup=False)
-        stages = " × ".join(s.text() for s in r.stages) or "(the crank arbor itself)"
+        stages = " × ".join(s.text() for s in r.stages) or r.route
         console.print(f"   stages {stages}", markup=False)
         if r.relative_to:
-            rel = " × ".join(s.text() for s in r.relative_stages) or "(the crank arbor itself)"
+            rel = " × ".join(s.text() for s in r.relative_stages) or r.relative_route
             console.print(f"   minus  {rel}", markup=False)
         if not r.stages_multiply_out:
             console.print("   [dim]epicyclic or differential: the ratio is solved from the "
