@@ -11,8 +11,8 @@ See ``docs/api.md`` for worked examples.
 from __future__ import annotations
 
 from .checks import check
-from .dates import calendar_date, format_jd, parse_date
-from .drift import DriftResult, PointerSummary, drift_series, parse_step, pointer_errors
+from .dates import calendar_date, format_jd, parse_date, parse_step
+from .drift import DriftResult, PointerSummary, drift_series, pointer_errors
 from .errors import DateError, SearchError, SkyError, TrainError, WheelworkError
 from .exact import Turns, parse_fraction
 from .kinds import FRAMES, KINDS, POINTER_KINDS, PointerKind

@@ -29,7 +29,8 @@ import re
 
 import numpy as np
 
-from .errors import DateError
+from .errors import DateError, DriftError
+from .periods import JULIAN_YEAR_DAYS
 
 CALENDARS = ("auto", "julian", "gregorian")
 GREGORIAN_START_JD = 2299160.5  # 1582-10-15 00:00, first day of the Gregorian calendar
@@ -245,3 +246,35 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
         raise _fail(text, f"day {day} is not in 1-{dim} for that month ({which.capitalize()})")
     frac = (hour * 3600 + minute * 60 + second) / 86400.0
     return jd_from_calendar(year, month, day + frac, which)
+
+
+# --- steps: lengths of time written with a unit ------------------------------------------
+
+_STEP_UNITS = {
+    "s": 1 / 86400, "sec": 1 / 86400, "second": 1 / 86400, "seconds": 1 / 86400,
+    "m": 1 / 1440, "min": 1 / 1440, "minute": 1 / 1440, "minutes": 1 / 1440,
+    "h": 1 / 24, "hr": 1 / 24, "hour": 1 / 24, "hours": 1 / 24,
+    "d": 1.0, "day": 1.0, "days": 1.0,
+    "w": 7.0, "week": 7.0, "weeks": 7.0,
+    "y": JULIAN_YEAR_DAYS, "yr": JULIAN_YEAR_DAYS, "year": JULIAN_YEAR_DAYS,
+    "years": JULIAN_YEAR_DAYS,
+}
+_STEP = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*([a-z]*)\s*$", re.IGNORECASE)
+MIN_STEP_DAYS = 1 / 86400
+
+
+def parse_step(text: str | float) -> float:
+    """Days in a step written ``6h``, ``30m`` (minutes), ``1d``, ``2.5d``, ``2w``, ``1y``
+    (365.25 days) or ``90s``; a bare number is days. Raises :class:`DriftError`."""
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        days = float(text)
+    else:
+        m = _STEP.match(str(text))
+        unit = m.group(2).lower() if m else ""
+        if not m or (unit and unit not in _STEP_UNITS):
+            raise DriftError(f"cannot read step {text!r}: write a number and a unit, "
+                             "e.g. 30m, 6h, 1d, 2.5d, 2w or 1y (a bare number is days)")
+        days = float(m.group(1)) * _STEP_UNITS.get(unit, 1.0)
+    if not math.isfinite(days) or days < MIN_STEP_DAYS:
+        raise DriftError(f"step {text!r} is too small: it must be at least one second")
+    return days

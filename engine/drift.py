@@ -29,7 +29,7 @@ Method (all angles in degrees):
   it, and stays right for coarse steps (a year) too. The stored residual is small in
   magnitude, so float32 keeps it well.
 * Periodic part: the residual about the fitted line, on the uniform grid, is Hann-windowed and
-  Fourier transformed (averaged in bins first when longer than ``FFT_MAX_POINTS``); the
+  Fourier transformed (averaged in bins first, see :mod:`engine.fitting`); the
   strongest bin (periods up to two thirds of the span) starts a local search for the
   frequency whose least-squares sinusoid leaves the least residual, and the amplitude is the
   least-squares sinusoid at that frequency over the full series.
@@ -57,23 +57,31 @@ without exact integer work at every date. 219,000 dates cost about a tenth of th
 
 from __future__ import annotations
 
-import functools
 import math
-import re
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import WheelworkError
+from .dates import parse_step
+from .errors import DriftCancelled, DriftError, WheelworkError
 from .exact import turns_mod1
+from .fitting import (
+    LineFit,
+    best_offset,
+    fit_line_and_sinusoids,
+    periodic_part,
+    sum_sq,
+    unwrap_deg,
+    wrap_deg,
+)
 from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, sky_at, true_value
 from .kinematics import pin_slot_lead_turns
-from .periods import JULIAN_CENTURY_DAYS, PERIODS
+from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
 
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
-YEAR_DAYS = 365.25  # the Julian year, for steps and spans written in years
+YEAR_DAYS = JULIAN_YEAR_DAYS
 MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, name a step
 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
@@ -92,61 +100,7 @@ def sky_terms(shows: str, frame: str = "equinox") -> tuple[tuple[str, float], ..
     return KINDS[shows].swings_in(frame) if shows in KINDS else ()
 
 
-class DriftError(WheelworkError):
-    """A drift run that cannot be done: bad step, empty or reversed span, too many dates."""
-
-
-class DriftCancelled(Exception):  # noqa: N818 - it is a request, not a fault
-    """Raised between chunks when the ``cancel`` callback asks to stop."""
-
-
-# --- steps ---------------------------------------------------------------------------------
-
-_STEP_UNITS = {
-    "s": 1 / 86400, "sec": 1 / 86400, "second": 1 / 86400, "seconds": 1 / 86400,
-    "m": 1 / 1440, "min": 1 / 1440, "minute": 1 / 1440, "minutes": 1 / 1440,
-    "h": 1 / 24, "hr": 1 / 24, "hour": 1 / 24, "hours": 1 / 24,
-    "d": 1.0, "day": 1.0, "days": 1.0,
-    "w": 7.0, "week": 7.0, "weeks": 7.0,
-    "y": YEAR_DAYS, "yr": YEAR_DAYS, "year": YEAR_DAYS, "years": YEAR_DAYS,
-}
-_STEP = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*([a-z]*)\s*$", re.IGNORECASE)
-MIN_STEP_DAYS = 1 / 86400
-
-
-def parse_step(text: str | float) -> float:
-    """Days in a step written ``6h``, ``30m`` (minutes), ``1d``, ``2.5d``, ``2w``, ``1y``
-    (365.25 days) or ``90s``; a bare number is days. Raises :class:`DriftError`."""
-    if isinstance(text, (int, float)) and not isinstance(text, bool):
-        days = float(text)
-    else:
-        m = _STEP.match(str(text))
-        unit = m.group(2).lower() if m else ""
-        if not m or (unit and unit not in _STEP_UNITS):
-            raise DriftError(f"cannot read step {text!r}: write a number and a unit, "
-                             "e.g. 30m, 6h, 1d, 2.5d, 2w or 1y (a bare number is days)")
-        days = float(m.group(1)) * _STEP_UNITS.get(unit, 1.0)
-    if not math.isfinite(days) or days < MIN_STEP_DAYS:
-        raise DriftError(f"step {text!r} is too small: it must be at least one second")
-    return days
-
-
 # --- small helpers -------------------------------------------------------------------------
-
-def wrap_deg(x):
-    """Angles wrapped to [-180, 180] degrees (any shape; float32 stays float32).
-
-    ``x - 360 rint(x / 360)``: ten times faster than ``np.mod``; exactly ±180 may come out as
-    either sign (rint rounds halves to even)."""
-    x = np.asarray(x)
-    turns = np.rint(x * (1 / 360))
-    return x - turns * 360
-
-
-def unwrap_deg(x: np.ndarray) -> np.ndarray:
-    """Degrees made continuous along the last axis (each step taken the shortest way round)."""
-    return np.unwrap(np.asarray(x, dtype=float), period=360.0)
-
 
 def _expected_deg_per_day(readout, name: str, frame: str) -> float:
     """Mean rate of the pointer's error from the mean motions: train rate minus sky rate."""
@@ -383,7 +337,7 @@ class _Running:
         i = int(np.argmax(ae))
         if ae[i] > self.max_abs:
             self.max_abs, self.max_at = float(ae[i]), self.jd0 + (i0 + i) * self.step
-        self.sum_sq += float(np.dot(err, err))
+        self.sum_sq += sum_sq(err)
         self.error[i0:i0 + n] = err
         self.resid[i0:i0 + n] = resid
         if self.threshold is not None and self.crossing is None:
@@ -450,328 +404,14 @@ def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | N
     return run.summary(name, shows, terms)
 
 
-FFT_MAX_POINTS = 32_768  # longer residuals are averaged in bins of m dates before fit and FFT
-
-
-@functools.lru_cache(maxsize=4)
-def _hann(n: int) -> np.ndarray:
-    return np.hanning(n).astype(np.float32)
-
-
-def _next_fast_len(n: int) -> int:
-    """Smallest 2-3-5-smooth length >= n (fast for the FFT)."""
-    best = 1 << max(0, (n - 1).bit_length())
-    p5 = 1
-    while p5 < best:
-        p35 = p5
-        while p35 < best:
-            m = p35
-            while m < n:
-                m *= 2
-            best = min(best, m)
-            p35 *= 3
-        p5 *= 5
-    return best
-
-
-@dataclass(frozen=True)
-class _Binned:
-    """A series averaged in bins of ``m`` grid steps: the means ``y`` (float64) and the grid
-    index of each bin's centre ``c`` (a bin's mean of a line or of a sinusoid is the line, or
-    the sinusoid times a constant, at the bin's centre: fits on the bins are exact for both)."""
-
-    y: np.ndarray
-    c: np.ndarray
-    m: int
-
-
-def _binned(resid: np.ndarray) -> _Binned:
-    y = np.asarray(resid, dtype=np.float32)
-    n = len(y)
-    m = max(1, -(-n // FFT_MAX_POINTS))
-    nd = n // m
-    yd = y[:nd * m].reshape(nd, m).astype(float) @ np.full(m, 1.0 / m)
-    return _Binned(yd, np.arange(nd) * float(m) + (m - 1) / 2.0, m)
-
-
-@dataclass(frozen=True)
-class DriftFit:
-    """The joint least-squares fit of :func:`fit_drift`. ``line = (a, b)``: the fitted line
-    ``a + b k`` in the grid index k; ``slope_per_step`` is ``b``, ``sigma_per_step`` its
-    standard error; ``used`` / ``left_out`` name the periodic terms fitted and those whose
-    period is longer than the span allows."""
-
-    line: tuple[float, float]
-    slope_per_step: float
-    sigma_per_step: float
-    used: tuple[str, ...]
-    left_out: tuple[str, ...]
-    binned: _Binned
-
-
-def _phasor(c: np.ndarray, w: float, block: int = 1024) -> np.ndarray:
-    """``exp(i w c)`` on an evenly spaced ``c``: one table of ``block`` phases turned by each
-    block's start phase (a complex multiply a point instead of a cosine and a sine)."""
-    n = len(c)
-    dc = float(c[1] - c[0]) if n > 1 else 1.0
-    nb = -(-n // block)
-    tab = np.exp(1j * w * (c[0] + dc * np.arange(block)))
-    start = np.exp(1j * w * dc * block * np.arange(nb))
-    return (start[:, None] * tab[None, :]).reshape(-1)[:n]
-
-
-def _design(b: _Binned, ws: tuple[float, ...], all_ws: tuple[float, ...], cache: dict | None):
-    """The design [1, u, cos(w c), sin(w c)...] on the bins (u the centred, scaled index) for
-    the frequencies ``all_ws`` and its normal matrix, built once a run (``cache``) for every
-    pointer; then the columns of ``ws`` among them and the inverse of their normal matrix."""
-    key = (len(b.y), b.m, all_ws)
-    if cache is not None and key in cache:
-        x, g, mid, half = cache[key]
-    else:
-        mid, half = (b.c[0] + b.c[-1]) / 2.0, max((b.c[-1] - b.c[0]) / 2.0, 1.0)
-        x = np.empty((len(b.c), 2 + 2 * len(all_ws)))
-        x[:, 0] = 1.0
-        x[:, 1] = (b.c - mid) / half
-        for i, w in enumerate(all_ws):
-            z = _phasor(b.c, w)
-            x[:, 2 + 2 * i], x[:, 3 + 2 * i] = z.real, z.imag
-        g = x.T @ x  # columns of order one: a well-conditioned normal matrix
-        if cache is not None:
-            cache[key] = (x, g, mid, half)
-    idx = [0, 1]
-    for w in ws:
-        i = all_ws.index(w)
-        idx += [2 + 2 * i, 3 + 2 * i]
-    return x, idx, np.linalg.inv(g[np.ix_(idx, idx)]), mid, half
-
-
 def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | None = None,
-              all_terms=()) -> DriftFit:
-    """Straight line plus sinusoids at known periods, fitted jointly by least squares to a
-    series on a uniform grid (``terms``: ``(name, period_days)`` pairs).
-
-    A term is fitted when the span holds at least ``TERM_MIN_CYCLES`` of its periods (a line
-    and a sinusoid separate cleanly once a whole cycle is seen; over less they trade places);
-    the others are returned in ``left_out`` (also those the grid cannot show, see ``fits``). The fit is made on the bins of
-    ``FFT_MAX_POINTS`` (exact for these functions, see :class:`_Binned`). ``cache`` and
-    ``all_terms`` (the terms of every pointer of a run) let the design be built once a run.
-
-    The slope's standard error is the least-squares one with the residual's degrees of
-    freedom counted from its sign changes (one independent value per change, plus one):
-    the residual of a real series is smooth, not independent from date to date, and this
-    counts a leftover swing of period P as one value per half period. A left-out term of
-    ``MINOR_TERMS`` adds its largest possible tilt of the line. It is a guide to the size of
-    the uncertainty, not a bound: other sky variations slower than the span are
-    indistinguishable from drift and not in it.
-    """
-    b = _binned(resid)
-    nd = len(b.y)
-    span = (len(resid) - 1) * step_days
-
-    def fits(period):
-        """A whole period in the span, and on the bins a usable column: its frequency,
-        aliased by the step if need be (the columns are the true sinusoid at the grid dates,
-        so an aliased term is still fitted exactly), neither slower than a cycle a span nor
-        within a cycle a span of the bins' Nyquist frequency; not averaged away by the bins."""
-        if span < TERM_MIN_CYCLES * period:
-            return False
-        w = 2 * np.pi * step_days / period
-        wb = (w * b.m) % (2 * np.pi)
-        wb = min(wb, 2 * np.pi - wb)
-        per_span = nd / (2 * np.pi)
-        gain = 1.0 if b.m == 1 else abs(math.sin(b.m * w / 2) / (b.m * math.sin(w / 2)))
-        return wb * per_span >= 1 and (np.pi - wb) * per_span >= 1 and gain > 0.05
-
-    used = [name for name, period in terms if fits(period)]
-    left = [name for name, period in terms if not fits(period)]
-    ws = [2 * np.pi * step_days / p for _, p in terms if fits(p)]  # radians per grid step
-    ncol = 2 + 2 * len(ws)
-    if nd < ncol + 2:  # too few bins for the terms: the line alone
-        used, left, ws, ncol = [], [*used, *left], [], 2
-    if nd < 2:
-        return DriftFit((float(b.y[0]) if nd else 0.0, 0.0), 0.0, float("nan"), (), tuple(left),
-                        b)
-    all_ws = sorted({*ws, *(2 * np.pi * step_days / p for _, p in all_terms if fits(p))})
-    x, idx, g_inv, mid, half = _design(b, tuple(ws), tuple(all_ws), cache)
-    coef = np.zeros(x.shape[1])
-    coef[idx] = g_inv @ (x.T @ b.y)[idx]
-    res = b.y - x @ coef
-    coef = coef[idx]
-    rss = float(res @ res)
-    changes = int(np.count_nonzero(np.signbit(res[1:]) != np.signbit(res[:-1])))
-    dof = max(min(changes + 1, nd) - ncol, 1)
-    var_u = float(g_inv[1, 1])
-    slope = float(coef[1]) / half
-    sigma = math.sqrt(rss * var_u / dof) / half
-    for name, period in terms:
-        if name in left and name in MINOR_TERMS:
-            sigma = math.hypot(sigma, MINOR_TERMS[name] * _worst_tilt(len(resid), step_days,
-                                                                     period))
-    a = float(coef[0]) - slope * mid
-    return DriftFit((a, slope), slope, sigma, tuple(used), tuple(left), b)
-
-
-def _worst_tilt(n: int, step_days: float, period_days: float) -> float:
-    """Largest slope (per grid step) that a unit sinusoid of ``period_days``, at its worst
-    phase, gives a least-squares line over ``n`` grid dates."""
-    t = np.linspace(-0.5, 0.5, 257) * (n - 1)  # grid steps about the middle
-    w = 2 * np.pi * step_days / period_days
-    suu = float(t @ t)
-    return math.hypot(float(t @ np.cos(w * t)), float(t @ np.sin(w * t))) / suu
-
-
-def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, float] | None = None,
-                  binned: _Binned | None = None) -> tuple[float, float | None]:
-    """Amplitude (units of ``resid``) and period (days) of the strongest sinusoid in a series on
-    a uniform grid, after removing ``line = (a, b)``, i.e. ``a + b k`` (default: its own
-    least-squares line). ``(0.0, None)`` when the series is too short or flat.
-
-    Periods from twice the analysis step to two thirds of the span are searched: the
-    analysis step is the grid step, or ``m`` steps averaged when the series is longer than
-    ``FFT_MAX_POINTS`` (so a run of 219,000 six-hour dates looks for periods of 3.5 days and
-    more). The strongest bin of a Hann-windowed transform is refined by a local search for
-    the frequency whose least-squares sinusoid leaves the least residual (within a bin either side, periods
-    at most the span); the amplitude is then fitted at the full resolution.
-    """
-    y = np.asarray(resid, dtype=np.float32)
-    n = len(y)
-    if n < 16:
-        return 0.0, None
-    if line is None:
-        bb, aa = np.polyfit(np.arange(n, dtype=float), y.astype(float), 1)
-        line = (float(aa), float(bb))
-    a, b = line
-    bins = binned if binned is not None else _binned(y)
-    m = bins.m
-    yd = (bins.y - (a + b * bins.c)).astype(np.float32)
-    nd = len(yd)
-    if not np.any(yd):
-        return 0.0, None
-    nfft = _next_fast_len(nd)
-    # the transform sees the series less its mean; the local search does not (over a part
-    # cycle a sinusoid's mean is not zero, and the given line already holds the constant)
-    mag = np.abs(np.fft.rfft((yd - np.float32(yd.mean(dtype=float))) * _hann(nd), nfft))
-    lo = max(2, int(math.ceil(1.5 * nfft / nd)))  # at least 1.5 cycles in the span
-    if lo >= len(mag) - 1:
-        return 0.0, None
-    j = lo + int(np.argmax(mag[lo:]))
-    shift = 0.0  # parabola through the log magnitudes: the starting point of the search
-    if j + 1 < len(mag):
-        la, lb, lc = np.log(mag[j - 1:j + 2].astype(float) + 1e-300)
-        den = la - 2 * lb + lc
-        shift = 0.5 * (la - lc) / den if den < 0 else 0.0
-    # local search in cycles per bin: the least-squares sinusoid takes most out at the true
-    # frequency; within one bin either side (and at least one cycle a span)
-    f_lo = max((j - 1) / nfft, 1.0 / nd)
-    f_hi = min((j + 1) / nfft, 0.5)
-    f = _refine_frequency(yd, min(max((j + shift) / nfft, f_lo), f_hi), 0.25 / nfft, f_lo, f_hi)
-    cycles_per_step = f / m
-    if not 0 < cycles_per_step < 0.5:
-        return 0.0, None
-    k = np.arange(n, dtype=np.float32)
-    full = y - (np.float32(a) + np.float32(b) * k)
-    amp = _sinusoid_amplitude(full, 2 * np.pi * cycles_per_step)
-    return amp, step_days / cycles_per_step
-
-
-def _refine_frequency(y: np.ndarray, f0: float, h: float, f_lo: float, f_hi: float,
-                      rel: float = 1e-5) -> float:
-    """The frequency (cycles per step) near ``f0`` whose least-squares sinusoid takes the most
-    out of ``y`` (least residual), within [f_lo, f_hi]: successive parabolas through three
-    points ``h`` apart at first, moving the three outwards while an end one is best; stops
-    when a step is below ``rel`` of the frequency (a period good to about 1e-5 of itself)."""
-    def power(f):
-        return _sinusoid_amplitude(y, 2 * np.pi * f, block=1024, explained=True)
-
-    x0, x1, x2 = max(f0 - h, f_lo), f0, min(f0 + h, f_hi)
-    if not x0 < x1 < x2:
-        return f0
-    v0, v1, v2 = power(x0), power(x1), power(x2)
-    for _ in range(40):
-        if v0 > v1 or v2 > v1:  # the peak is outside: step the triple towards it
-            if v0 > v2:
-                x_new = max(x0 - (x1 - x0), f_lo)
-                if x_new >= x0:
-                    return x0
-                x0, x1, x2, v1, v2 = x_new, x0, x1, v0, v1
-                v0 = power(x0)
-            else:
-                x_new = min(x2 + (x2 - x1), f_hi)
-                if x_new <= x2:
-                    return x2
-                x0, x1, x2, v0, v1 = x1, x2, x_new, v1, v2
-                v2 = power(x2)
-            continue
-        den = (x1 - x0) * (v1 - v2) - (x1 - x2) * (v1 - v0)
-        if den == 0:
-            return x1
-        xv = x1 - 0.5 * ((x1 - x0) ** 2 * (v1 - v2) - (x1 - x2) ** 2 * (v1 - v0)) / den
-        if not x0 < xv < x2 or abs(xv - x1) < rel * x1:
-            return x1 if not x0 < xv < x2 else xv
-        vv = power(xv)
-        if xv < x1:
-            (x0, x1, x2, v0, v1, v2) = ((x0, xv, x1, v0, vv, v1) if vv > v1 else
-                                        (xv, x1, x2, vv, v1, v2))
-        else:
-            (x0, x1, x2, v0, v1, v2) = ((x1, xv, x2, v1, vv, v2) if vv > v1 else
-                                        (x0, x1, xv, v0, v1, vv))
-    return x1
-
-
-def _sinusoid_amplitude(y: np.ndarray, w: float, block: int = 4096, *,
-                        explained: bool = False) -> float:
-    """Amplitude of the least-squares ``p cos(w k) + q sin(w k)`` through ``y`` (k = 0..n-1);
-    with ``explained``, the sum of squares it takes out of ``y`` instead (largest at the best
-    frequency, where the amplitude itself need not be).
-
-    The sums against cos and sin are taken block by block (one table of ``block`` phases, each
-    block turned by its start phase), and the normal matrix in closed form (geometric sums of
-    ``exp(2iwk)``)."""
-    n = len(y)
-    block = min(block, n)
-    nb = -(-n // block)
-    pad = np.zeros(nb * block, dtype=np.float32)
-    pad[:n] = y
-    rows = pad.reshape(nb, block)
-    ph = w * np.arange(block)
-    c_tab, s_tab = np.cos(ph).astype(np.float32), np.sin(ph).astype(np.float32)
-    zc, zs = rows @ c_tab, rows @ s_tab  # per block: sum y cos(w j), sum y sin(w j)
-    start = w * block * np.arange(nb)
-    cs, ss = np.cos(start), np.sin(start)
-    # cos(w(kb + j)) = cos(w kb) cos(w j) - sin(w kb) sin(w j), and likewise for sin
-    sc = float(np.dot(cs, zc) - np.dot(ss, zs))
-    sn = float(np.dot(ss, zc) + np.dot(cs, zs))
-    z = complex(math.cos(2 * w), math.sin(2 * w))
-    geo = n if abs(z - 1) < 1e-12 else (1 - z ** n) / (1 - z)
-    cc = n / 2 + geo.real / 2
-    snn = n / 2 - geo.real / 2
-    cn = geo.imag / 2
-    det = cc * snn - cn * cn
-    if det <= 1e-9 * n * n:
-        return 0.0
-    p = (snn * sc - cn * sn) / det
-    q = (cc * sn - cn * sc) / det
-    if explained:
-        return float(p * sc + q * sn)
-    return float(math.hypot(p, q))
-
-
-def best_offset(error_deg: np.ndarray) -> tuple[float, float]:
-    """(offset, RMS after): the constant minimising the RMS of wrap(error - offset), in
-    degrees; the offset is in [-180, 180)."""
-    e = np.asarray(error_deg, dtype=np.float32)
-    if e.size == 0:
-        return 0.0, 0.0
-    sample = e[:: max(1, e.size // 8192)].astype(float)
-    rad = np.radians(sample)
-    c = math.degrees(math.atan2(np.sin(rad).sum(), np.cos(rad).sum()))
-    for _ in range(6):
-        move = float(wrap_deg(e - np.float32(c)).mean(dtype=float))
-        c += move
-        if abs(move) < 1e-7:
-            break
-    left = wrap_deg(e - np.float32(c))
-    return float(wrap_deg(c)), float(math.sqrt(float(np.dot(left, left)) / e.size))
+              all_terms=()) -> LineFit:
+    """The drift line fitted jointly with the sky's known swings ``terms`` (see
+    :func:`engine.fitting.fit_line_and_sinusoids`): a term is fitted once the span holds
+    ``TERM_MIN_CYCLES`` of its periods, and a left-out one of ``MINOR_TERMS`` widens the
+    slope's standard error by its largest possible tilt."""
+    return fit_line_and_sinusoids(resid, step_days, terms, cache=cache, all_terms=all_terms,
+                                  min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS)
 
 
 # --- the run -------------------------------------------------------------------------------

@@ -40,3 +40,12 @@ class UsageError(WheelworkError):
 class OutputError(WheelworkError):
     """An output file that must not or cannot be written (exists, is a link, a device, the
     input itself, a missing folder...)."""
+
+
+class DriftError(WheelworkError):
+    """A drift run that cannot be done: bad step, empty or reversed span, too many dates."""
+
+
+class DriftCancelled(Exception):  # noqa: N818 - it is a request, not a fault
+    """Raised between chunks of a drift run when its ``cancel`` callback asks to stop (not a
+    fault: the command exits 130 quietly)."""

@@ -28,7 +28,8 @@ from fractions import Fraction
 
 import numpy as np
 
-JULIAN_CENTURY_DAYS = 36525.0
+JULIAN_YEAR_DAYS = 365.25  # the Julian year: "years" in spans, steps and reports
+JULIAN_CENTURY_DAYS = 100 * JULIAN_YEAR_DAYS  # 36525 days
 J2000_JD = 2451545.0  # 2000-01-01 12:00 TT
 
 MEEUS = "Meeus, Astronomical Algorithms 2nd ed., ch. 47 (ELP-2000/82 mean elements)"

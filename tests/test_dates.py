@@ -7,8 +7,8 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from engine.dates import calendar_date, format_jd, jd_from_calendar, parse_date
-from engine.errors import DateError
+from engine.dates import calendar_date, format_jd, jd_from_calendar, parse_date, parse_step
+from engine.errors import DateError, DriftError
 
 SECOND_DAYS = 1 / 86400
 
@@ -122,3 +122,18 @@ def test_round_trip(jd):
         y, m, d, h, mi, s, name = calendar_date(jd, cal)
         back = jd_from_calendar(y, m, d + (h * 3600 + mi * 60 + s) / 86400, name.lower())
         assert back == pytest.approx(jd, abs=2e-3 * SECOND_DAYS)
+
+
+# --- steps (common practice, no source: a Julian year is 365.25 days) ---
+
+@pytest.mark.parametrize("text, days", [("6h", 0.25), ("1d", 1.0), ("30m", 30 / 1440),
+                                        ("2.5d", 2.5), ("1y", 365.25), ("90s", 90 / 86400),
+                                        ("2w", 14.0), ("3", 3.0), (" 12 H ", 0.5)])
+def test_parse_step(text, days):
+    assert parse_step(text) == pytest.approx(days, rel=1e-15)
+
+
+@pytest.mark.parametrize("bad", ["", "h", "6x", "-1d", "0d", "1e400d", "abc", "0.1s"])
+def test_parse_step_rejects(bad):
+    with pytest.raises(DriftError, match="step"):
+        parse_step(bad)

@@ -10,7 +10,14 @@ import numpy as np
 import pytest
 
 from engine import kinds
-from engine.kinds import FRAMES, KINDS, mean_rate_deg_per_day, precession_deg, to_frame
+from engine.kinds import (
+    EVECTION_DAYS,
+    FRAMES,
+    KINDS,
+    mean_rate_deg_per_day,
+    precession_deg,
+    to_frame,
+)
 from engine.periods import J2000_JD, PERIODS, PRECESSION_DEG_PER_CY, mean_elements
 
 ARCSEC = 1 / 3600
@@ -116,3 +123,9 @@ def test_unknown_kind_in_a_train_names_the_known_ones(tmp_path):
     with pytest.raises(TrainError) as e:
         load_train(path)
     assert "tides" in str(e.value) and ", ".join(KINDS) in str(e.value)
+
+
+def test_evection_period_from_the_mean_motions():
+    """Evection's argument is 2D - M (standard lunar theory, from memory): its period from
+    the mean synodic and anomalistic months is 31.81 days (from memory)."""
+    assert EVECTION_DAYS == pytest.approx(31.812, abs=0.001)

@@ -1,0 +1,99 @@
+"""General fitting: the joint line-and-sinusoids fit, the period search, the wrapped-angle
+offset, and results that do not depend on how many threads the BLAS library uses."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from engine.fitting import (
+    best_offset,
+    fit_line_and_sinusoids,
+    periodic_part,
+    unwrap_deg,
+    wrap_deg,
+)
+
+
+def test_wrap_and_unwrap():
+    x = np.array([0.0, 179.0, 181.0, -181.0, 540.0 + 10, -720.0 - 5])
+    assert np.allclose(wrap_deg(x), [0, 179, -179, 179, -170, -5])
+    assert wrap_deg(np.float32(359.5)).dtype == np.float32
+    ramp = np.linspace(0, 3000, 4000)
+    assert np.allclose(unwrap_deg(wrap_deg(ramp)), ramp)
+
+
+def test_periodic_part_pure_sine_short_and_long():
+    for n, step, period, amp in ((500, 1.0, 31.8, 1.27), (300_000, 0.25, 14.77, 0.66)):
+        k = np.arange(n)
+        y = amp * np.cos(2 * np.pi * k * step / period - 1.0)
+        a, p = periodic_part(y, step)
+        assert p == pytest.approx(period, rel=2e-3)
+        assert a == pytest.approx(amp, rel=5e-3)
+    assert periodic_part(np.zeros(100), 1.0) == (0.0, None)
+
+
+def test_best_offset_across_the_wrap():
+    rng = np.random.default_rng(1)
+    err = wrap_deg(179.0 + rng.normal(0, 1.5, 20_000))  # straddles +180/-180
+    c, rms = best_offset(err)
+    assert abs(wrap_deg(c - 179.0)) < 0.05
+    assert rms == pytest.approx(1.5, rel=0.03)
+    # a naive arithmetic mean of the wrapped values lands far from the true offset
+    assert abs(wrap_deg(np.mean(err) - 179.0)) > 45
+
+
+def test_line_and_sinusoids_recover_what_was_put_in():
+    """Synthetic: a line of slope 0.002 a step and two sinusoids of known periods (days)."""
+    k = np.arange(20_000, dtype=float)
+    step = 0.5
+    y = 1.5 + 0.002 * k + 0.8 * np.sin(2 * np.pi * k * step / 27.55 + 0.4) \
+        - 0.3 * np.cos(2 * np.pi * k * step / 365.26)
+    fit = fit_line_and_sinusoids(y, step, (("a", 27.55), ("b", 365.26), ("c", 1e6)))
+    assert fit.slope_per_step == pytest.approx(0.002, rel=1e-9)
+    assert fit.line[0] == pytest.approx(1.5, abs=1e-6)
+    assert fit.used == ("a", "b") and fit.left_out == ("c",)
+    assert fit.sigma_per_step < 1e-9
+
+
+def test_results_do_not_depend_on_blas_threads():
+    """The fits and the period search give the same bits with BLAS held to one thread as with
+    its default threads (they make no BLAS call on long arrays)."""
+    threadpoolctl = pytest.importorskip("threadpoolctl")
+    rng = np.random.default_rng(7)
+    k = np.arange(300_000, dtype=float)
+    y = (0.001 * k + 0.7 * np.sin(2 * np.pi * k * 0.25 / 27.55)
+         + rng.normal(0, 0.05, k.size)).astype(np.float32)
+
+    def run():
+        fit = fit_line_and_sinusoids(y, 0.25, (("m", 27.55), ("y", 365.26)))
+        return (fit.line, fit.sigma_per_step, periodic_part(y, 0.25, line=fit.line),
+                best_offset(wrap_deg(y * 40)))
+
+    default = run()
+    with threadpoolctl.threadpool_limits(limits=1, user_api="blas"):
+        single = run()
+    assert single == default
+
+
+@pytest.mark.parametrize("module", ["fitting", "drift"])
+def test_no_blas_products_on_long_arrays(module):
+    """Every product in the fits and the run is elementwise or einsum: no ``@``, ``np.dot``,
+    ``lstsq``, ``polyfit``... except on a small matrix, marked ``# small`` on its line."""
+    import ast
+    from pathlib import Path
+
+    path = Path(__file__).resolve().parent.parent / "engine" / f"{module}.py"
+    text = path.read_text()
+    lines = text.splitlines()
+    blas = {"dot", "vdot", "inner", "matmul", "tensordot", "lstsq", "polyfit", "solve", "outer"}
+    found = []
+    for node in ast.walk(ast.parse(text)):
+        if isinstance(node, ast.BinOp) and isinstance(node.op, ast.MatMult):
+            found.append(node.lineno)
+        elif (isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute)
+              and node.func.attr in blas):
+            found.append(node.lineno)
+    bad = [f"{path.name}:{n}: {lines[n - 1].strip()}" for n in found
+           if "# small" not in lines[n - 1]]
+    assert not bad, bad
