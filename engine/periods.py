@@ -49,7 +49,6 @@ MOON_PERIGEE_RATE = MOON_MEAN_LON_RATE - MOON_ANOMALY_RATE
 
 JPL_PLANETS = ("JPL, Keplerian elements for approximate positions of the major planets, "
                "table 1 (1800-2050), mean longitude rate (J2000 ecliptic and equinox)")
-JULIAN_YEAR_DAYS = Fraction(36525, 100)  # the years of the classical period relations
 
 
 @dataclass(frozen=True)
@@ -159,7 +158,7 @@ PERIOD_RELATIONS = (("mercury", 145, 46), ("venus", 5, 8), ("mars", 37, 79),
                     ("jupiter", 76, 83), ("saturn", 57, 59))
 _RELATION_SRC = "classical period relation, standard history of astronomy (from memory)"
 for _key, _synodic, _years in PERIOD_RELATIONS:
-    _days = _years * JULIAN_YEAR_DAYS / _synodic
+    _days = _years * Fraction(JULIAN_YEAR_DAYS) / _synodic  # exactly 1461/4 days a year
     PERIODS[f"{_key}_{_synodic}_in_{_years}"] = MeanPeriod(
         f"{_key}_{_synodic}_in_{_years}",
         f"{PLANETS[_key].name} {_synodic} synodic periods in {_years} years",
