@@ -28,6 +28,8 @@ COMMANDS = {
     "search": "tooth counts whose ratio realises a period or ratio (exhaustive within bounds)",
     "check": "whether a train can be built: centre distances, positions, overlaps, arbor "
              "speeds and loads, tooth-count rules of thumb, pin-and-slot slots",
+    "eclipses": "a train's eclipse predictions (node hand or eclipse-cycle dial) against the "
+                "real solar and lunar eclipses: hits, misses, false alarms, first failure",
     "sky": "true Sun, Moon and planets at a date: longitudes, phase, distance, node and "
            "perigee, planets seen from the Earth and from the Sun",
 }

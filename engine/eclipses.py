@@ -485,6 +485,7 @@ class Check:
     predicted: np.ndarray
     jd_shown: np.ndarray
     detail: np.ndarray
+    sky_type: tuple[str, ...] = ()  # as real_type, with penumbral eclipses even when not counted
 
     @property
     def real(self) -> np.ndarray:
@@ -581,6 +582,7 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
     jd = np.concatenate([p.syz.jd_ut[k] for p, k in parts]) if parts else np.zeros(0)
     number = np.concatenate([p.syz.number[k] for p, k in parts]) if parts else np.zeros(0, int)
     types = tuple(t for p, k in parts for t, keep in zip(p.type, k, strict=True) if keep)
+    sky_types = types
     types = tuple("" if (t == "penumbral" and not penumbral) else t for t in types)
     greatest = np.concatenate([p.jd_greatest[k] for p, k in parts]) if parts else np.zeros(0)
     gamma = np.concatenate([p.gamma[k] for p, k in parts]) if parts else np.zeros(0)
@@ -611,4 +613,5 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
         how = (f"cycle dial '{name}' of {lunations} lunations, marks "
                f"{'listed in the train file' if marks_from == 'file' else 'read off the sky over its first turn from the epoch'}")
     return Check(method, how, lim, marks, marks_from, lunations, train.epoch.jd_ut, jd,
-                 syz.full, types, greatest, gamma, predicted.astype(bool), shown, detail)
+                 syz.full, types, greatest, gamma, predicted.astype(bool), shown, detail,
+                 sky_types)

@@ -231,3 +231,91 @@ def test_eclipse_limits_are_read_and_checked(tmp_path):
                     .replace('shows = "cycle"', 'shows = "phase"'))
     with pytest.raises(TrainError, match="only an eclipse-cycle dial"):
         load_train(path)
+
+
+# --- the command ---------------------------------------------------------------------------
+
+def test_cli_json_has_the_promised_shape(capsys):
+    import json
+
+    from engine.cli import main
+
+    assert main(["eclipses", "tide_office", "--from", "2024-01-01", "--to", "2025-01-01",
+                 "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    for key in ("hits", "misses", "false_alarms"):
+        assert isinstance(doc[key], int)
+    kinds = [(e["kind"], e["type"]) for e in doc["real"]]
+    # 2024 (canon, from memory): penumbral lunar 03-25 (not counted by default), total solar
+    # 04-08, partial lunar 09-18, annular solar 10-02
+    assert kinds == [("solar", "total"), ("lunar", "partial"), ("solar", "annular")]
+    assert all(set(e) >= {"jd_ut", "kind", "type"} for e in doc["predicted"])
+    assert doc["hits"] + doc["misses"] == len(doc["real"])
+    assert doc["hits"] + doc["false_alarms"] == len(doc["predicted"])
+    assert "solar filter" in doc["caution"]
+
+
+def test_cli_text_csv_and_refusals(tmp_path, capsys):
+    from engine.cli import main
+
+    out = tmp_path / "e.csv"
+    assert main(["eclipses", f"{TRAINS}/cycle_dial.toml", "--years", "40", "--csv",
+                 str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "first failure" in text and "solar filter" in text and "per turn" in text
+    rows = out.read_text().splitlines()
+    assert rows[0].startswith("date (UT") and len(rows) > 900  # every new and full moon
+    assert main(["eclipses", f"{TRAINS}/cycle_dial.toml", "--years", "1", "--csv",
+                 str(out)]) == 1  # exists: never overwritten without --force
+    assert "exists" in capsys.readouterr().err
+    # outside DE421: refused with the span it covers
+    assert main(["eclipses", f"{TRAINS}/cycle_dial.toml", "--from", "1850-01-01",
+                 "--years", "5"]) == 1
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "DE421" in err
+    # a train that cannot predict eclipses
+    assert main(["eclipses", "moon_disc_59", "--years", "1"]) == 1
+    assert "predicts no eclipses" in capsys.readouterr().err
+    assert main(["eclipses", "tide_office", "--years", "1", "--by", "cycle"]) == 2
+    assert main(["eclipses", "tide_office", "--years", "-1"]) == 2
+
+
+def test_cli_ctrl_c_stops_cleanly(tmp_path, monkeypatch, capsys):
+    import engine.commands.eclipses as cmd
+    from engine.cli import main
+
+    def stop(*args, **kwargs):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(cmd, "check", stop)
+    path = tmp_path / "e.csv"
+    assert main(["eclipses", "tide_office", "--years", "20", "--csv", str(path)]) == 130
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "stopped" in err
+    assert not list(tmp_path.iterdir())
+
+
+def test_cli_sigint_in_a_long_run_exits_130_and_leaves_nothing(tmp_path):
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    out = tmp_path / "long.csv"
+    code = ("import signal, sys; signal.signal(signal.SIGINT, signal.default_int_handler); "
+            "from engine.cli import main; sys.exit(main(sys.argv[1:]))")
+    argv = [sys.executable, "-c", code, "eclipses", "tide_office", "--from", "1900-02-01",
+            "--to", "2049-01-01", "--csv", str(out)]
+    proc = subprocess.Popen(argv, cwd=Path(__file__).resolve().parent.parent,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    time.sleep(1.5)  # imports done, the search under way (or about to be)
+    proc.send_signal(signal.SIGINT)
+    try:
+        _, err = proc.communicate(timeout=20)
+    except subprocess.TimeoutExpired:
+        proc.kill()
+        proc.communicate()
+        pytest.fail("still running 20 s after SIGINT")
+    assert proc.returncode == 130, err
+    assert "Traceback" not in err and err.strip().count("\n") == 0
+    assert not list(tmp_path.iterdir())
