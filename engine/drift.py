@@ -440,6 +440,110 @@ def grid(jd_start: float, jd_end: float, step_days: float, *, include_end: bool 
     return n
 
 
+def _span(sky, jd_start: float, jd_end: float, step: float, frame: str, site,
+          include_end: bool) -> int:
+    """How many grid dates a run has, checked against the sky first: the span (saying how much
+    lies outside the ephemeris), the site, and with ``include_end`` whether the ephemeris
+    reaches the first grid date at or after ``jd_end`` (else the run stops before it)."""
+    n = grid(jd_start, jd_end, step)
+    if hasattr(sky, "check_span"):
+        sky.check_span(jd_start, jd_start + (n - 1) * step)
+    sky.at(np.array([jd_start, jd_start + (n - 1) * step]), frame=frame, site=site)
+    if include_end:
+        n_end = grid(jd_start, jd_end, step, include_end=True)
+        if n_end > n:
+            try:
+                sky.at(np.array([jd_start + (n_end - 1) * step]), frame=frame, site=site)
+                n = n_end
+            except WheelworkError:  # past the ephemeris' end: keep the date before jd_end
+                pass
+    return n
+
+
+def _thresholds(pointers, threshold_deg) -> dict[str, float | None]:
+    """``{pointer: degrees or None}`` from one value for all or a dict, each checked."""
+    if not isinstance(threshold_deg, dict):
+        threshold_deg = {name: threshold_deg for name in pointers}
+    out = {}
+    for name in pointers:
+        thr = threshold_deg.get(name)
+        if thr is not None and not (math.isfinite(thr) and thr > 0):
+            raise DriftError(f"threshold {thr!r}° for pointer '{name}': it must be a "
+                             "positive number of degrees")
+        out[name] = thr
+    return out
+
+
+class _Chunks:
+    """One run's state, fed a chunk of the grid at a time: the train's reader, each pointer's
+    running figures (:class:`_Running`) and, with ``keep_series``, the readings kept.
+
+    Each chunk's error is taken less the line expected from the mean rates, then the short way
+    round from the first date's value: its unwrapped form (see the module docstring)."""
+
+    def __init__(self, mech, readout, jd0: float, n: int, step: float, frame: str,
+                 thresholds: dict[str, float | None], keep_series: bool):
+        self.pointers = dict(mech.train.pointers)
+        self.jd0, self.n, self.step, self.frame = jd0, n, step, frame
+        self.reader = _GridReader(readout)
+        self.turns_per_step = step / self.reader.days_per_turn
+        self.expected = {name: _expected_deg_per_day(readout, name, frame) * step
+                         for name in self.pointers}
+        self.runs = {name: _Running(n, jd0, step, self.expected[name], thresholds[name])
+                     for name in self.pointers}
+        keep = keep_series
+        self.train_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
+        self.sky_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
+        self.ref: dict[str, float] = {}
+
+    def add(self, i0: int, j: np.ndarray, jd: np.ndarray, state, want_errors: bool
+            ) -> dict[str, ErrorNow]:
+        """Take in the chunk of grid dates ``i0 + j`` (``jd``) with the sky ``state`` there;
+        the chunk's :class:`ErrorNow` values when ``want_errors``."""
+        k = j + i0
+        since = j * self.turns_per_step
+        a, base = self.reader.anchor(jd[0])
+        lags = self.reader.lags_turns(a, since)
+        errors = {}
+        for name, p in self.pointers.items():
+            true = true_value(p.shows, state)
+            cont = self.reader.continuous_deg(name, base, since, lags)
+            x = self.expected[name]
+            resid = cont - true
+            resid -= x * k
+            if name not in self.ref:
+                self.ref[name] = float(wrap_deg(resid[0]))
+            resid -= 360.0 * np.rint((resid - self.ref[name]) * (1 / 360))
+            err = wrap_deg(resid + x * k)
+            self.runs[name].add(i0, k, err, resid)
+            if self.train_keep or want_errors:
+                reading = cont - 360.0 * np.floor(cont * (1 / 360))
+                if self.train_keep:
+                    self.train_keep[name][i0:i0 + len(k)] = reading
+                    self.sky_keep[name][i0:i0 + len(k)] = true
+                if want_errors:
+                    days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
+                    errors[name] = ErrorNow(name, p.shows, reading, true, err, days)
+        return errors
+
+    def summaries(self) -> dict[str, PointerSummary]:
+        """Every pointer's summary; the fit's design is built once for the whole run."""
+        terms = {name: sky_terms(p.shows, self.frame) for name, p in self.pointers.items()}
+        cache: dict = {"terms": tuple({t for ts in terms.values() for t in ts})}
+        return {name: self.runs[name].summary(name, p.shows, terms[name], cache)
+                for name, p in self.pointers.items()}
+
+    def result(self, summaries: dict[str, PointerSummary], sky_name: str,
+               timings: dict[str, float]) -> DriftResult:
+        error = {name: r.error for name, r in self.runs.items()}
+        days = {name: error[name] / np.float32(PHASE_DEG_PER_DAY)
+                for name, p in self.pointers.items() if p.shows == "phase"}
+        return DriftResult(jd=self.jd0 + np.arange(self.n) * self.step,
+                           train_deg=self.train_keep, sky_deg=self.sky_keep, error_deg=error,
+                           error_days=days, summaries=summaries, frame=self.frame,
+                           step_days=self.step, sky_name=sky_name, timings=timings)
+
+
 def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
                  frame: str | None = None, site=None,
                  threshold_deg: float | dict[str, float | None] | None = None,
@@ -462,93 +566,34 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
     frame = frame or mech.train.dial
     site = _site(site)
     step = parse_step(step_days)
-    n = grid(float(jd_start), float(jd_end), step)
-    chunk = max(2, int(chunk))
     jd0 = float(jd_start)
-    if hasattr(sky, "check_span"):  # span check first, saying how much lies outside
-        sky.check_span(jd0, jd0 + (n - 1) * step)
-    sky.at(np.array([jd0, jd0 + (n - 1) * step]), frame=frame, site=site)  # and the site
-    if include_end:
-        n_end = grid(jd0, float(jd_end), step, include_end=True)
-        if n_end > n:
-            try:
-                sky.at(np.array([jd0 + (n_end - 1) * step]), frame=frame, site=site)
-                n = n_end
-            except WheelworkError:  # past the ephemeris' end: keep the date before jd_end
-                pass
-    pointers = dict(mech.train.pointers)
-    shows = [p.shows for p in pointers.values()]
-    if not isinstance(threshold_deg, dict):
-        threshold_deg = {name: threshold_deg for name in pointers}
-    runs, expected = {}, {}
-    for name in pointers:
-        thr = threshold_deg.get(name)
-        if thr is not None and not (math.isfinite(thr) and thr > 0):
-            raise DriftError(f"threshold {thr!r}° for pointer '{name}': it must be a "
-                             "positive number of degrees")
-        expected[name] = _expected_deg_per_day(readout, name, frame) * step
-        runs[name] = _Running(n, jd0, step, expected[name], thr)
-    train_keep = {name: np.empty(n, np.float32) for name in pointers} if keep_series else {}
-    sky_keep = {name: np.empty(n, np.float32) for name in pointers} if keep_series else {}
-    reader = _GridReader(readout)
-    turns_per_step = step / reader.days_per_turn
-    ref: dict[str, float] = {}
+    n = _span(sky, jd0, float(jd_end), step, frame, site, include_end)
+    run = _Chunks(mech, readout, jd0, n, step, frame,
+                  _thresholds(mech.train.pointers, threshold_deg), keep_series)
+    shows = [p.shows for p in run.pointers.values()]
+    chunk = max(2, int(chunk))
+    j_full = np.arange(min(chunk, n), dtype=float)
     sky_s = outside_s = 0.0
     t_start = time.perf_counter()
-    j_full = np.arange(min(chunk, n), dtype=float)
     for i0 in range(0, n, chunk):
         if cancel is not None and cancel():
             raise DriftCancelled(f"drift run stopped after {i0:,} of {n:,} dates")
         j = j_full[:min(chunk, n - i0)]
-        k = j + i0
-        jd = jd0 + k * step
+        jd = jd0 + (j + i0) * step
         t = time.perf_counter()
         state = sky_at(sky, jd, shows, frame=frame, site=site)
         sky_s += time.perf_counter() - t
-        since = j * turns_per_step
-        a, base = reader.anchor(jd[0])
-        lags = reader.lags_turns(a, since)
-        errors = {}
-        for name, p in pointers.items():
-            true = true_value(p.shows, state)
-            # the error less the line expected from the mean rates, then taken the short way
-            # round from the first date's value: its unwrapped form (see module docstring)
-            cont = reader.continuous_deg(name, base, since, lags)
-            x = expected[name]
-            resid = cont - true
-            resid -= x * k
-            if name not in ref:
-                ref[name] = float(wrap_deg(resid[0]))
-            resid -= 360.0 * np.rint((resid - ref[name]) * (1 / 360))
-            err = wrap_deg(resid + x * k)
-            runs[name].add(i0, k, err, resid)
-            if keep_series or on_chunk is not None:
-                reading = cont - 360.0 * np.floor(cont * (1 / 360))
-                if keep_series:
-                    train_keep[name][i0:i0 + len(k)] = reading
-                    sky_keep[name][i0:i0 + len(k)] = true
-                if on_chunk is not None:
-                    days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
-                    errors[name] = ErrorNow(name, p.shows, reading, true, err, days)
+        errors = run.add(i0, j, jd, state, on_chunk is not None)
         t = time.perf_counter()
         if on_chunk is not None:
             on_chunk(jd, errors)
         if progress is not None:
-            progress(min(1.0, (i0 + len(k)) / n))
+            progress(min(1.0, (i0 + len(j)) / n))
         outside_s += time.perf_counter() - t
     t = time.perf_counter()
-    terms = {name: sky_terms(p.shows, frame) for name, p in pointers.items()}
-    cache: dict = {"terms": tuple({t for ts in terms.values() for t in ts})}  # one design a run
-    summaries = {name: runs[name].summary(name, p.shows, terms[name], cache)
-                 for name, p in pointers.items()}
+    summaries = run.summaries()
     summaries_s = time.perf_counter() - t
     total = time.perf_counter() - t_start
-    error = {name: r.error for name, r in runs.items()}
-    days = {name: error[name] / np.float32(PHASE_DEG_PER_DAY) for name, p in pointers.items()
-            if p.shows == "phase"}
-    return DriftResult(jd=jd0 + np.arange(n) * step, train_deg=train_keep, sky_deg=sky_keep,
-                       error_deg=error, error_days=days, summaries=summaries, frame=frame,
-                       step_days=step, sky_name=getattr(sky, "name", ""),
-                       timings={"sky_s": sky_s, "engine_s": total - sky_s - outside_s,
-                                "summaries_s": summaries_s, "callbacks_s": outside_s,
-                                "total_s": total})
+    return run.result(summaries, getattr(sky, "name", ""),
+                      {"sky_s": sky_s, "engine_s": total - sky_s - outside_s,
+                       "summaries_s": summaries_s, "callbacks_s": outside_s, "total_s": total})
