@@ -7,8 +7,6 @@ from collections import deque
 from dataclasses import asdict, dataclass, field
 from fractions import Fraction
 
-import sympy
-
 from .kinds import KINDS, mean_rate_deg_per_day
 from .kinematics import Kinematics
 from .periods import JULIAN_CENTURY_DAYS
@@ -89,9 +87,27 @@ class PointerRatio:
         return d
 
 
+def tooth_factors(n: int) -> dict[int, int]:
+    """Prime factors of a tooth count with their powers, ``96 -> {2: 5, 3: 1}``.
+
+    Trial division: a tooth count is at most ``engine.loader.MAX_TEETH`` (10,000), so this
+    takes at most 100 divisions and keeps sympy (half a second to import) out of the report.
+    """
+    out: dict[int, int] = {}
+    p = 2
+    while p * p <= n:
+        while n % p == 0:
+            out[p] = out.get(p, 0) + 1
+            n //= p
+        p += 1 if p == 2 else 2
+    if n > 1:
+        out[n] = out.get(n, 0) + 1
+    return out
+
+
 def factor_text(n: int) -> str:
-    """``96 -> "2^5·3"`` (sympy's factorisation)."""
-    parts = sympy.factorint(n)
+    """``96 -> "2^5·3"``."""
+    parts = tooth_factors(n)
     return "·".join(f"{p}^{e}" if e > 1 else f"{p}" for p, e in sorted(parts.items())) or "1"
 
 
@@ -199,7 +215,7 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
                 continue
             for w, z in ((s.driver, s.driver_teeth), (s.driven, s.driven_teeth)):
                 if w not in wheels_seen:
-                    wheels_seen[w] = ToothNote(w, z, factor_text(z), bool(sympy.isprime(z)))
+                    wheels_seen[w] = ToothNote(w, z, factor_text(z), tooth_factors(z) == {z: 1})
         rows.append(PointerRatio(
             pointer=p.name, shows=p.shows, arbor=p.arbor, relative_to=p.relative_to,
             ratio=ratio, stages=tuple(stages), relative_stages=tuple(rel_stages),

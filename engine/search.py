@@ -29,11 +29,6 @@ from dataclasses import dataclass, field
 from fractions import Fraction
 
 import numpy as np
-import sympy
-from sympy.ntheory.continued_fraction import (
-    continued_fraction_convergents,
-    continued_fraction_iterator,
-)
 
 from .errors import SearchError
 from .exact import fraction_text, parse_fraction
@@ -166,6 +161,8 @@ class Constraints:
 
 
 def _largest_prime(n: int) -> int:
+    import sympy  # here, not at the top: sympy is slow to import and most commands never need it
+
     return max(sympy.factorint(n)) if n > 1 else 1
 
 
@@ -574,6 +571,8 @@ def search(target: Target, constraints: Constraints | None = None, top: int = 10
 
 def _prime_obstacle(ratio: Fraction, target: Target, constraints: Constraints) -> str:
     """Why the prime factors of ``ratio`` rule it out at once ("" if they do not)."""
+    import sympy  # here, not at the top: sympy is slow to import and most commands never need it
+
     drv, dvn = constraints.sides(target)
     for value, vals, role in ((ratio.numerator, drv, "driver"),
                               (ratio.denominator, dvn, "driven")):
@@ -648,6 +647,12 @@ def convergents(target: Target, constraints: Constraints | None = None) -> list[
     bound = max(max(drv) ** kmax, max(dvn) ** kmax)
     t = target.ratio
     out: list[Convergent] = []
+    import sympy  # here, not at the top: sympy is slow to import and most commands never need it
+    from sympy.ntheory.continued_fraction import (
+        continued_fraction_convergents,
+        continued_fraction_iterator,
+    )
+
     cf = continued_fraction_iterator(sympy.Rational(t.numerator, t.denominator))
     for c in continued_fraction_convergents(cf):
         r = Fraction(int(c.p), int(c.q))

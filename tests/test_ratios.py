@@ -94,3 +94,40 @@ def test_star_dial_adds_the_precession():
         pytest.approx(prec, rel=1e-9)
     assert st["phase"].drift_deg_per_century == eq["phase"].drift_deg_per_century
     assert st["sun"].target_days == pytest.approx(365.25636, rel=1e-7)  # sidereal year
+
+
+def test_tooth_factors_agree_with_sympy():
+    """Our trial division against sympy's factorint (the reference library) for every count a
+    train may use."""
+    import sympy
+
+    from engine.loader import MAX_TEETH
+    from engine.ratios import tooth_factors
+
+    for n in range(1, MAX_TEETH + 1):
+        assert tooth_factors(n) == sympy.factorint(n), n
+
+
+@pytest.mark.parametrize("code", [
+    "import engine.api",
+    "from engine.api import open_train, pointer_ratios; m = open_train(); "
+    "pointer_ratios(m.train, m.kin)",
+    "from engine.cli import main; main(['ratios', 'tide_office'])",
+    "from engine.cli import main; main(['ratios', 'tide_office', '--json'])",
+    "from engine.cli import main; main(['check', 'tide_office'])",
+    "from engine.cli import main; main(['--help'])",
+    "from engine.cli import main; main(['drift', 'moon_disc_59', '--years', '1', '--json'])",
+])
+def test_sympy_stays_off_the_import_path(code):
+    """sympy (with mpmath, about half a second to import) is loaded only by what needs it:
+    factorising large ratios and continued fractions in the search."""
+    import subprocess
+    import sys
+
+    probe = (f"import sys, io, contextlib\nwith contextlib.redirect_stdout(io.StringIO()):\n"
+             f"    try:\n        {code}\n    except SystemExit:\n        pass\n"
+             "print(sorted(m for m in ('sympy', 'mpmath') if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
+                         timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip().splitlines()[-1] == "[]", out
