@@ -32,6 +32,8 @@ COMMANDS = {
                 "real solar and lunar eclipses: hits, misses, false alarms, first failure",
     "sky": "true Sun, Moon and planets at a date: longitudes, phase, distance, node and "
            "perigee, planets seen from the Earth and from the Sun",
+    "cut": "cutting files (SVG and DXF, mm) for every wheel and pinion with a module, a plate "
+           "drawing with each arbor's hole, and one sheet with everything",
 }
 ENTRY_POINTS = "wheelwork.commands"
 DEFAULT_COMMAND = "crank"  # what a bare ``wheelwork`` runs (the interface, on the demo train)

@@ -28,6 +28,7 @@ from .kinds import DIAL_FRAMES, KINDS
 from .train import (
     FRAME,
     SET_MODES,
+    TOOTH_FORMS,
     Arbor,
     Crank,
     EclipseSettings,
@@ -37,6 +38,8 @@ from .train import (
     Pointer,
     Train,
     Wheel,
+    WheelShop,
+    Workshop,
 )
 
 # Limits. A real train has tens of arbors and wheels of at most a few hundred teeth; these
@@ -57,6 +60,7 @@ MAX_DAYS_PER_TURN = Fraction(1_000_000)   # one crank turn in about 2,700 years
 MIN_PER_TURN = Fraction(1, 1_000_000)
 MAX_PER_TURN = Fraction(1_000_000)
 MAX_MM = 1_000_000.0             # a kilometre: lengths and positions
+MAX_CROSSINGS = 64               # crossings (spokes) of one wheel
 MAX_DEG = 1_000_000.0            # angles (any number of whole turns, then reduced)
 
 LIMITS = {
@@ -68,7 +72,7 @@ LIMITS = {
 }
 
 _TOP_KEYS = {"train", "crank", "epoch", "arbors", "meshes", "pin_slots", "pointers",
-             "eclipses"}
+             "eclipses", "workshop"}
 _KEYS = {
     "train": {"name", "about", "dial"},
     "crank": {"arbor", "days_per_turn"},
@@ -80,6 +84,10 @@ _KEYS = {
     "pointer": {"shows", "arbor", "relative_to", "per_turn", "reversed", "set_deg", "note",
                 "lunations", "solar_months", "lunar_months"},
     "eclipses": {"solar_limit_deg", "lunar_limit_deg", "penumbral", "note"},
+    "workshop": {"tooth_form", "bore_mm", "crossings", "rim_mm", "pivot_mm", "backlash_mm",
+                 "division", "eccentricity_mm", "end_shake_mm", "tilt_deg", "wheels", "note"},
+    "workshop_wheel": {"form", "bore_mm", "crossings", "rim_mm", "eccentricity_mm", "division",
+                       "note"},
 }
 
 
@@ -324,9 +332,10 @@ def parse_train(text: str, where: str = "<train>") -> Train:
     epoch = _read_epoch(r, doc)
     pointers = _read_pointers(r, doc, arbors, epoch)
     eclipses = _read_eclipses(r, doc)
+    workshop = _read_workshop(r, doc, wheels)
     return Train(name=name, source=where, arbors=arbors, wheels=wheels, meshes=meshes,
                  pin_slots=pin_slots, crank=crank, epoch=epoch, pointers=pointers, dial=dial,
-                 about=about.strip(), eclipses=eclipses)
+                 about=about.strip(), eclipses=eclipses, workshop=workshop)
 
 
 def _read_eclipses(r: _Reader, doc: dict) -> EclipseSettings:
@@ -683,3 +692,68 @@ def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:
         raise DateError(f"{value.isoformat()} is a time of day without a date; write the date "
                         "too, like 2026-01-01T06:30:00Z")
     raise DateError(f"should be a date like \"2026-01-01 06:30\" (UT), got {_show(value)}")
+
+
+def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:
+    """``[workshop]``: how the parts are cut (``wheelwork cut``) and how well (``play``)."""
+    if "workshop" not in doc:
+        return Workshop()
+    tbl = r.table(doc["workshop"], "[workshop]", "workshop")
+
+    def form(value, item):
+        if value not in TOOTH_FORMS:
+            raise r.fail(item, f"should be one of {', '.join(TOOTH_FORMS)}, got {_show(value)}")
+        return value
+
+    def count(value, item):
+        if isinstance(value, bool) or not isinstance(value, int) or value < 0:
+            raise r.fail(item, f"should be a whole number of crossings (0 for a solid "
+                         f"wheel), got {_show(value)}")
+        if value in (1, 2):
+            raise r.fail(item, f"{value} crossing{'s' if value > 1 else ''} cannot hold a rim "
+                         "true: give 0 (solid) or 3 or more")
+        if value > MAX_CROSSINGS:
+            raise r.fail(item, f"at most {MAX_CROSSINGS} crossings, got {value}")
+        return value
+
+    def opt(t, key, item, **kw):
+        return None if key not in t else r.number(t[key], f"{item} {key}", **kw)
+
+    def fraction_of_pitch(t, key, item):
+        value = opt(t, key, item, nonneg=True)
+        if value is not None and value >= 0.5:
+            raise r.fail(f"{item} {key}", f"is a fraction of the tooth pitch and must be below "
+                         f"0.5, got {value:g}")
+        return value
+
+    item = "[workshop]"
+    per_wheel = {}
+    section = tbl.get("wheels", {})
+    if not isinstance(section, dict):
+        raise r.fail(f"{item} wheels", "should be [workshop.wheels.NAME] tables")
+    for wname, wt in section.items():
+        witem = f"[workshop.wheels.{wname}]"
+        if wname not in wheels:
+            raise r.fail(witem, f"unknown wheel '{wname}' (wheels are named in [arbors.NAME] "
+                         "wheels tables)")
+        wt = r.table(wt, witem, "workshop_wheel")
+        per_wheel[wname] = WheelShop(
+            form=form(wt["form"], f"{witem} form") if "form" in wt else None,
+            bore_mm=opt(wt, "bore_mm", witem, positive=True),
+            crossings=count(wt["crossings"], f"{witem} crossings") if "crossings" in wt
+            else None,
+            rim_mm=opt(wt, "rim_mm", witem, positive=True),
+            eccentricity_mm=opt(wt, "eccentricity_mm", witem, nonneg=True),
+            division=fraction_of_pitch(wt, "division", witem))
+    return Workshop(
+        tooth_form=form(tbl.get("tooth_form", "cycloidal"), f"{item} tooth_form"),
+        bore_mm=opt(tbl, "bore_mm", item, positive=True),
+        crossings=count(tbl.get("crossings", 0), f"{item} crossings"),
+        rim_mm=opt(tbl, "rim_mm", item, positive=True),
+        pivot_mm=opt(tbl, "pivot_mm", item, positive=True) or 1.0,
+        backlash_mm=opt(tbl, "backlash_mm", item, nonneg=True),
+        division=fraction_of_pitch(tbl, "division", item),
+        eccentricity_mm=opt(tbl, "eccentricity_mm", item, nonneg=True),
+        end_shake_mm=opt(tbl, "end_shake_mm", item, nonneg=True),
+        tilt_deg=opt(tbl, "tilt_deg", item, nonneg=True, limit=45.0),
+        wheels=per_wheel)

@@ -141,6 +141,43 @@ class Epoch:
     set: str = "sky"
 
 
+TOOTH_FORMS = ("cycloidal", "involute")
+
+
+@dataclass(frozen=True)
+class WheelShop:
+    """Workshop settings of one wheel (``[workshop.wheels.NAME]``); ``None`` takes the train's."""
+
+    form: str | None = None
+    bore_mm: float | None = None
+    crossings: int | None = None
+    rim_mm: float | None = None
+    eccentricity_mm: float | None = None
+    division: float | None = None
+
+
+@dataclass(frozen=True)
+class Workshop:
+    """How the parts are to be cut and how well (``[workshop]``): defaults for every wheel,
+    the plate's pivot holes, and the tolerances ``wheelwork play`` starts from. ``None`` means
+    the tool's own default (see ``docs/workshop.md``)."""
+
+    tooth_form: str = "cycloidal"
+    bore_mm: float | None = None
+    crossings: int = 0
+    rim_mm: float | None = None
+    pivot_mm: float = 1.0
+    backlash_mm: float | None = None
+    division: float | None = None
+    eccentricity_mm: float | None = None
+    end_shake_mm: float | None = None
+    tilt_deg: float | None = None
+    wheels: dict[str, WheelShop] = field(default_factory=dict)
+
+    def wheel(self, name: str) -> WheelShop:
+        return self.wheels.get(name, WheelShop())
+
+
 @dataclass(frozen=True)
 class Train:
     """A whole train as described by one file."""
@@ -158,6 +195,7 @@ class Train:
     about: str = ""
     warnings: tuple[str, ...] = field(default=())
     eclipses: EclipseSettings = field(default_factory=EclipseSettings)
+    workshop: Workshop = field(default_factory=Workshop)
 
     def arbor_of(self, wheel: str) -> Arbor:
         return self.arbors[self.wheels[wheel].arbor]

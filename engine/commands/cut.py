@@ -1,0 +1,117 @@
+"""``wheelwork cut``: cutting files for every wheel with a module, the plates, and one sheet."""
+
+from __future__ import annotations
+
+import argparse
+import json
+from pathlib import Path
+
+from rich.console import Console
+from rich.markup import escape
+from rich.table import Table
+
+from ..drawing import CutSet, cut_parts, layout_sheet, to_dxf, to_svg
+from ..errors import OutputError, WheelworkError
+from ..kinematics import solve
+from ..loader import load_train
+from ..train import TOOTH_FORMS
+from . import support
+
+FORMATS = ("svg", "dxf")
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    support.add_train(parser)
+    parser.add_argument("--out", required=True, metavar="FOLDER",
+                        help="folder to write into (made if missing)")
+    parser.add_argument("--form", choices=TOOTH_FORMS, default=None,
+                        help="tooth form for wheels that do not choose their own (default: "
+                        "the file's [workshop] tooth_form, else cycloidal)")
+    parser.add_argument("--formats", default="svg,dxf", type=_formats, metavar="LIST",
+                        help="which files to write: svg, dxf or svg,dxf (default)")
+    support.add_force(parser, "drawings")
+    parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")
+
+
+def _formats(text: str) -> tuple[str, ...]:
+    got = tuple(dict.fromkeys(t.strip().lower() for t in text.split(",") if t.strip()))
+    bad = [t for t in got if t not in FORMATS]
+    if bad or not got:
+        raise argparse.ArgumentTypeError(f"should be svg, dxf or svg,dxf, got {text!r}")
+    return got
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    train = load_train(args.train)
+    kin = solve(train)
+    cut = cut_parts(train, kin, args.form)
+    if not cut.parts:
+        raise WheelworkError(f"{train.source}: no mesh has a module_mm, so there is nothing to "
+                             "draw; add module_mm to the [[meshes]] tables")
+    sheet = layout_sheet(cut.parts)
+    folder = Path(args.out)
+    _make_folder(folder)
+    # every file is checked (exists, link, device, the train itself...) before any is written
+    outs = [(part, fmt, support.OutputFile(folder / f"{part.name}.{fmt}", option="--out",
+                                           force=args.force, inputs=[args.train]))
+            for part in [*cut.parts, sheet] for fmt in args.formats]
+    written = []
+    for part, fmt, out in outs:
+        text = to_svg(part) if fmt == "svg" else to_dxf(part)
+        with out.open("w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+        written.append(str(out.path))
+    if args.json:
+        console.print(json.dumps(to_json(cut, written), indent=2, ensure_ascii=False),
+                      markup=False, highlight=False, soft_wrap=True)
+    else:
+        _print(cut, written, folder, console)
+    return 0
+
+
+def to_json(cut: CutSet, written: list[str]) -> dict:
+    return {"train": cut.train, "source": cut.source,
+            "parts": [{"name": p.name, "kind": p.kind, "title": p.title, **p.info,
+                       "notes": p.notes} for p in cut.parts],
+            "files": written, "caveat": cut.caveat}
+
+
+def _print(cut: CutSet, written: list[str], folder: Path, console: Console) -> None:
+    console.print(f"[bold]{escape(cut.train)}[/] — cutting files in {escape(str(folder))}")
+    table = Table(box=None, pad_edge=False, collapse_padding=True)
+    for col, just in (("part", "left"), ("z", "right"), ("m", "right"), ("form", "left"),
+                      ("tip Ø", "right"), ("root Ø", "right"), ("bore", "right")):
+        table.add_column(col, justify=just, overflow="fold")
+    for p in cut.parts:
+        if p.kind != "wheel":
+            continue
+        i = p.info
+        table.add_row(escape(i["wheel"]), str(i["teeth"]), f"{i['module_mm']:g}",
+                      f"{i['form']} {i['role']}", f"{i['tip_diameter_mm']:.3f}",
+                      f"{i['root_diameter_mm']:.3f}",
+                      f"{i['bore_mm']:g}" if "bore_mm" in i else "—")
+    console.print(table)
+    for p in cut.parts:
+        if p.kind != "plate":
+            continue
+        console.print(f"[bold]{escape(p.title)}[/] — hole centres x, y in mm")
+        for h in p.info["holes"]:
+            fixed = " (fixed by the file)" if h["fixed"] else ""
+            console.print(f"  {escape(h['axis'])}: {h['x_mm']:.4f}, {h['y_mm']:.4f}{fixed}")
+    notes = [(p.name, n) for p in cut.parts for n in p.notes]
+    for name, n in notes:
+        console.print(f"[cyan]note[/] {escape(name)}: {escape(n)}")
+    console.print(f"wrote {len(written)} files (one per part, plus sheet.*)")
+    console.print(f"[dim]{escape(cut.caveat)}[/]")
+
+
+def _make_folder(folder: Path) -> None:
+    if folder.is_symlink() and not folder.is_dir():
+        raise OutputError(f"{folder}: is a broken symbolic link, not a folder")
+    if folder.exists() and not folder.is_dir():
+        raise OutputError(f"{folder}: is not a folder; --out names the folder to write into")
+    if not folder.exists():
+        try:
+            folder.mkdir(parents=True)
+        except OSError as exc:
+            raise OutputError(f"{folder}: cannot make the folder ({exc.strerror})") from None

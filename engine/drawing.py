@@ -1,0 +1,467 @@
+"""Cutting drawings: each wheel's blank and teeth, each plate's holes, and one sheet with all.
+
+:func:`cut_parts` decides, for every wheel with a module, its tooth form (the wheel's own choice
+in ``[workshop.wheels.NAME]``, else the train's ``tooth_form``), its role in its meshes (in the
+cycloidal form the smaller of two meshing wheels is cut as a pinion), its bore and crossings,
+and returns :class:`Part` drawings — closed outlines and circles on named layers, in mm, centred
+on the wheel's axis. :func:`plate_parts` draws the plates placed by :mod:`engine.plate`;
+:func:`layout_sheet` lays every part on one sheet without overlaps. :func:`to_svg` and
+:func:`to_dxf` write a drawing (SVG for inspection and laser cutters, DXF for CNC and CAD, both
+in millimetres). Nothing here touches the disk.
+
+Layers: ``CUT`` (cut through), ``PITCH`` (pitch circles, for reference only), ``MARK`` (centre
+marks and lines of centres, to scribe or ignore), ``NOTE`` (labels).
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import TrainError
+from .kinematics import Kinematics
+from .plate import Plate, place_plates
+from .toothform import (
+    PINION_CLEARANCE_M,
+    WHEEL_DEDENDUM_M,
+    ToothForm,
+    cycloidal_pinion,
+    cycloidal_wheel,
+    involute_ring,
+    involute_wheel,
+)
+from .train import FRAME, Train
+
+LAYERS = {  # name: (SVG colour, DXF colour index, what it is)
+    "CUT": ("#b3001b", 1, "cut through"),
+    "PITCH": ("#1f5fbf", 5, "pitch circles, for reference"),
+    "MARK": ("#2e7d32", 3, "centre marks and lines of centres"),
+    "NOTE": ("#444444", 7, "labels"),
+}
+
+BORE_MAX_MM = 2.0
+"""Default bore: 2 mm (a common arbor size for small clockwork; common practice, no source),
+smaller on small pinions (:data:`BORE_ROOT_FRACTION`)."""
+
+BORE_ROOT_FRACTION = 0.4
+"""A default bore never exceeds this fraction of the root diameter, rounded down to 0.05 mm."""
+
+RIM_MODULES = 3.0
+"""Default rim width below the root circle when a wheel is crossed out: 3 modules (our rule)."""
+
+MIN_WALL_MODULES = 1.0
+"""A bore leaving less than one module of metal below the root circle is pointed out."""
+
+TEXT_MM = 2.5
+GAP_MM = 4.0
+PLATE_MARGIN_MM = 6.0
+
+CAVEAT = ("These drawings are design estimates from ideal geometry: check the first parts "
+          "against the drawing and the mating wheel before cutting a set, and follow proper "
+          "engineering practice and local rules for anything that bears load or is shown to "
+          "the public.")
+
+
+@dataclass
+class Part:
+    """One drawing: ``polylines`` and ``circles`` on layers, ``texts``; mm, y up."""
+
+    name: str  # file stem
+    title: str
+    kind: str  # "wheel" or "plate"
+    polylines: list[tuple[str, np.ndarray]] = field(default_factory=list)  # closed
+    lines: list[tuple[str, np.ndarray]] = field(default_factory=list)  # open
+    circles: list[tuple[str, float, float, float]] = field(default_factory=list)  # layer,x,y,r
+    texts: list[tuple[float, float, float, str]] = field(default_factory=list)  # x,y,h,text
+    info: dict = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        xs, ys = [], []
+        for _, p in self.polylines + self.lines:
+            xs += [p[:, 0].min(), p[:, 0].max()]
+            ys += [p[:, 1].min(), p[:, 1].max()]
+        for _, x, y, r in self.circles:
+            xs += [x - r, x + r]
+            ys += [y - r, y + r]
+        for x, y, h, t in self.texts:
+            xs += [x, x + _text_width(t, h)]
+            ys += [y, y + h]
+        return min(xs), min(ys), max(xs), max(ys)
+
+    def moved(self, dx: float, dy: float) -> Part:
+        return Part(self.name, self.title, self.kind,
+                    [(layer, p + [dx, dy]) for layer, p in self.polylines],
+                    [(layer, p + [dx, dy]) for layer, p in self.lines],
+                    [(layer, x + dx, y + dy, r) for layer, x, y, r in self.circles],
+                    [(x + dx, y + dy, h, t) for x, y, h, t in self.texts], self.info, self.notes)
+
+
+def _text_width(text: str, height: float) -> float:
+    return 0.62 * height * len(text)
+
+
+def slug(name: str) -> str:
+    """A file-name-safe form of a name from the train file."""
+    s = re.sub(r"[^A-Za-z0-9_.-]+", "_", name).strip("._")
+    return s or "part"
+
+
+# --- which form, which role ---------------------------------------------------------------
+
+def wheel_modules(train: Train) -> dict[str, tuple[float, int]]:
+    """Each wheel's module and the first mesh giving it; two modules on one wheel is an error."""
+    out: dict[str, tuple[float, int]] = {}
+    for m in train.meshes:
+        if m.module_mm is None:
+            continue
+        for w in (m.driver, m.driven):
+            if w in out and abs(out[w][0] - m.module_mm) > 1e-12:
+                raise TrainError(train.source, m.label, f"wheel '{w}' is cut at module "
+                                 f"{out[w][0]:g} mm for mesh {out[w][1]} but at "
+                                 f"{m.module_mm:g} mm here: one wheel cannot be cut at two "
+                                 "modules")
+            out.setdefault(w, (m.module_mm, m.index))
+    return out
+
+
+def tooth_forms(train: Train, form: str | None = None) -> dict[str, ToothForm]:
+    """The tooth form of every wheel with a module. ``form`` overrides the train's default
+    (a wheel's own ``form`` in ``[workshop.wheels.NAME]`` still wins)."""
+    shop = train.workshop
+    default = form or shop.tooth_form
+    modules = wheel_modules(train)
+    chosen = {w: shop.wheel(w).form or default for w in modules}
+    rings = {m.ring for m in train.meshes if m.ring}
+    for m in train.meshes:
+        if m.module_mm is None or m.internal:
+            continue
+        a, b = m.driver, m.driven
+        if chosen[a] != chosen[b]:
+            raise TrainError(train.source, m.label, f"'{a}' is to be cut {chosen[a]} but "
+                             f"'{b}' {chosen[b]}: two wheels in mesh need one tooth form "
+                             "(set form in [workshop.wheels.NAME] for both)")
+    # cycloidal: in each mesh the larger is cut as a wheel and the smaller as a pinion (equal
+    # counts: the driver is the wheel); a wheel that is the larger in any mesh is a wheel
+    smaller: dict[str, list[str]] = {}  # wheel -> its smaller mates
+    larger: dict[str, list[str]] = {}  # wheel -> its larger mates
+    for m in train.meshes:
+        if m.module_mm is None or m.internal or chosen[m.driver] != "cycloidal":
+            continue
+        za, zb = train.wheels[m.driver].teeth, train.wheels[m.driven].teeth
+        big, small = (m.driver, m.driven) if za >= zb else (m.driven, m.driver)
+        smaller.setdefault(big, []).append(small)
+        larger.setdefault(small, []).append(big)
+    out: dict[str, ToothForm] = {}
+    # largest first: a wheel's addendum sets the dedendum of the wheels it drives into
+    for w in sorted(modules, key=lambda n: -train.wheels[n].teeth):
+        mod = modules[w][0]
+        z = train.wheels[w].teeth
+        try:
+            if w in rings:
+                out[w] = involute_ring(z, mod)
+                if chosen[w] == "cycloidal":
+                    out[w] = _with_note(out[w], "an internal wheel: drawn in the involute "
+                                        "form (the cycloidal form is for external wheels)")
+            elif chosen[w] == "involute":
+                out[w] = involute_wheel(z, mod)
+            else:
+                room = [out[b].params["addendum_m"] + PINION_CLEARANCE_M
+                        for b in larger.get(w, ()) if b in out]
+                if w in smaller:
+                    leaves = min(train.wheels[s].teeth for s in smaller[w])
+                    out[w] = cycloidal_wheel(z, mod, leaves,
+                                             max([WHEEL_DEDENDUM_M, *room]))
+                else:
+                    out[w] = cycloidal_pinion(z, mod, max(room) - PINION_CLEARANCE_M)
+        except ValueError as exc:
+            raise TrainError(train.source, f"wheel '{w}'", f"cannot be drawn: {exc}") from None
+    return out
+
+
+def _with_note(t: ToothForm, note: str) -> ToothForm:
+    return ToothForm(t.form, t.role, t.teeth, t.module_mm, t.pitch_radius_mm, t.tip_radius_mm,
+                     t.root_radius_mm, t.flank, t.params, t.notes + (note,))
+
+
+# --- wheel blanks ------------------------------------------------------------------------------
+
+def default_bore_mm(tooth: ToothForm) -> float:
+    inner = tooth.root_radius_mm if tooth.role != "ring" else tooth.tip_radius_mm
+    cap = math.floor(BORE_ROOT_FRACTION * 2 * inner / 0.05) * 0.05
+    return round(max(min(BORE_MAX_MM, cap), 0.05), 2)
+
+
+def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
+    shop = train.workshop
+    own = shop.wheel(wheel)
+    z, m = tooth.teeth, tooth.module_mm
+    role = {"wheel": "wheel", "pinion": "pinion", "ring": "internal wheel"}[tooth.role]
+    title = f"{wheel}: {z} {'leaves' if tooth.role == 'pinion' else 'teeth'}, module {m:g}, " \
+            f"{tooth.form} {role}"
+    part = Part(stem, title, "wheel")
+    part.notes.extend(tooth.notes)
+    outline = tooth.outline()
+    part.polylines.append(("CUT", outline))
+    part.circles.append(("PITCH", 0.0, 0.0, tooth.pitch_radius_mm))
+    tip_d, root_d = 2 * tooth.tip_radius_mm, 2 * tooth.root_radius_mm
+    info = {"wheel": wheel, "arbor": train.wheels[wheel].arbor, "teeth": z, "module_mm": m,
+            "form": tooth.form, "role": tooth.role, "pitch_diameter_mm": 2 * tooth.pitch_radius_mm,
+            "tip_diameter_mm": tip_d, "root_diameter_mm": root_d,
+            "tooth_thickness_mm": tooth.thickness_at_pitch_mm(),
+            "proportions_m": {k: v for k, v in tooth.params.items()
+                              if isinstance(v, int | float) and not k.endswith("_mm")}}
+    if tooth.role == "ring":
+        rim = own.rim_mm or shop.rim_mm or RIM_MODULES * m
+        outer = tooth.root_radius_mm + rim
+        part.circles.append(("CUT", 0.0, 0.0, outer))
+        info["outside_diameter_mm"] = 2 * outer
+        part.info = info
+        _label(part, title, -outer)
+        return part
+    bore = own.bore_mm or shop.bore_mm or default_bore_mm(tooth)
+    info["bore_mm"] = bore
+    wall = tooth.root_radius_mm - bore / 2
+    if wall <= 0:
+        raise TrainError(train.source, f"wheel '{wheel}'", f"a bore of {bore:g} mm is wider "
+                         f"than the root circle ({root_d:.3f} mm)")
+    if wall < MIN_WALL_MODULES * m:
+        part.notes.append(f"the bore ({bore:g} mm) leaves {wall:.2f} mm of metal below the "
+                          "teeth, less than one module: cut the leaves on the arbor, or bore "
+                          "smaller")
+    part.circles.append(("CUT", 0.0, 0.0, bore / 2))
+    crossings = own.crossings if own.crossings is not None else shop.crossings
+    if crossings:
+        rim = own.rim_mm or shop.rim_mm or RIM_MODULES * m
+        windows = crossing_windows(tooth.root_radius_mm - rim, bore / 2 + rim, crossings, rim)
+        if windows is None:
+            part.notes.append(f"too small for {crossings} crossings with a {rim:.3g} mm rim: "
+                              "left solid")
+        else:
+            part.polylines.extend(("CUT", w) for w in windows)
+            info["crossings"] = crossings
+            info["rim_mm"] = rim
+    part.info = info
+    _label(part, title, -tooth.tip_radius_mm)
+    return part
+
+
+def crossing_windows(rim_inner: float, hub_outer: float, n: int, width: float,
+                     arc_step: float = math.radians(2.0)):
+    """The ``n`` windows between straight crossings of ``width`` from a hub to a rim, as
+    closed polylines; ``None`` when they do not fit."""
+    if rim_inner - hub_outer < width or width / 2 >= hub_outer:
+        return None
+    d_out = math.asin(width / 2 / rim_inner)
+    d_in = math.asin(width / 2 / hub_outer)
+    step = 2 * math.pi / n
+    if step - 2 * d_in < math.radians(5):
+        return None
+    out = []
+    for i in range(n):
+        t0, t1 = i * step, (i + 1) * step
+        a_out = np.linspace(t0 + d_out, t1 - d_out, max(int((step - 2 * d_out) / arc_step), 2))
+        a_in = np.linspace(t1 - d_in, t0 + d_in, max(int((step - 2 * d_in) / arc_step), 2))
+        pts = np.vstack([np.column_stack([rim_inner * np.cos(a_out), rim_inner * np.sin(a_out)]),
+                         np.column_stack([hub_outer * np.cos(a_in), hub_outer * np.sin(a_in)])])
+        out.append(pts)
+    return out
+
+
+def _label(part: Part, text: str, below: float) -> None:
+    part.texts.append((-_text_width(text, TEXT_MM) / 2, below - 2 * TEXT_MM, TEXT_MM, text))
+
+
+# --- plates -----------------------------------------------------------------------------------
+
+def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str) -> Part:
+    """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles."""
+    pivot = train.workshop.pivot_mm
+    what = "the frame" if plate.mount == FRAME else f"carrier '{plate.mount}'"
+    title = f"plate of {what}: {len(plate.holes)} holes, pivots {pivot:g} mm"
+    part = Part(stem, title, "plate")
+    xs = [h.x_mm for h in plate.holes.values()]
+    ys = [h.y_mm for h in plate.holes.values()]
+    x0, x1 = min(xs) - PLATE_MARGIN_MM, max(xs) + PLATE_MARGIN_MM
+    y0, y1 = min(ys) - PLATE_MARGIN_MM, max(ys) + PLATE_MARGIN_MM
+    part.polylines.append(("CUT", _rounded_rect(x0, y0, x1, y1, 3.0)))
+    for h in plate.holes.values():
+        part.circles.append(("CUT", h.x_mm, h.y_mm, pivot / 2))
+        c = max(pivot, 2.0)
+        part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
+        part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
+        part.texts.append((h.x_mm + pivot, h.y_mm + pivot, TEXT_MM * 0.8, h.axis))
+        for a in h.arbors:
+            for w in train.arbors[a].wheels:
+                if w in pitch and (train.arbors[a].mount == plate.mount or a == plate.mount):
+                    part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
+    for t in plate.ties:
+        a, b = plate.holes[t.axis1], plate.holes[t.axis2]
+        part.lines.append(("MARK", np.array([[a.x_mm, a.y_mm], [b.x_mm, b.y_mm]])))
+    part.info = {
+        "mount": plate.mount, "pivot_mm": pivot,
+        "holes": [{"axis": h.axis, "arbors": list(h.arbors), "x_mm": h.x_mm, "y_mm": h.y_mm,
+                   "fixed": h.fixed} for h in plate.holes.values()],
+        "distances": [{"item": t.label, "axes": [plate.holes[t.axis1].axis,
+                                                 plate.holes[t.axis2].axis],
+                       "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
+                      for t in plate.ties]}
+    part.notes.extend(plate.notes)
+    _label_at(part, title, (x0 + x1) / 2, y0)
+    return part
+
+
+def _label_at(part: Part, text: str, x: float, y: float) -> None:
+    part.texts.append((x - _text_width(text, TEXT_MM) / 2, y - 2 * TEXT_MM, TEXT_MM, text))
+
+
+def _rounded_rect(x0, y0, x1, y1, r, step_deg=10.0):
+    pts = []
+    for cx, cy, a0 in ((x1 - r, y0 + r, -90), (x1 - r, y1 - r, 0), (x0 + r, y1 - r, 90),
+                       (x0 + r, y0 + r, 180)):
+        a = np.radians(np.arange(a0, a0 + 90 + 1e-9, step_deg))
+        pts.append(np.column_stack([cx + r * np.cos(a), cy + r * np.sin(a)]))
+    return np.vstack(pts)
+
+
+# --- all parts of a train ---------------------------------------------------------------------
+
+@dataclass
+class CutSet:
+    train: str
+    source: str
+    parts: list[Part]
+    plates: list[Plate]
+    caveat: str = CAVEAT
+
+
+def cut_parts(train: Train, kin: Kinematics, form: str | None = None) -> CutSet:
+    """Every wheel with a module and every plate, ready to write."""
+    forms = tooth_forms(train, form)
+    used: set[str] = {"sheet"}
+    parts = []
+    for w in train.wheels:
+        if w not in forms:
+            continue
+        stem = _unique(f"wheel-{slug(w)}", used)
+        parts.append(wheel_part(train, w, forms[w], stem))
+    reach = {w: (t.tip_radius_mm if t.role != "ring" else t.root_radius_mm)
+             for w, t in forms.items()}
+    plates = place_plates(train, kin, reach)
+    pitch = {w: t.pitch_radius_mm for w, t in forms.items()}
+    for p in plates:
+        parts.append(plate_part(train, p, pitch, _unique(f"plate-{slug(p.name)}", used)))
+    return CutSet(train.name, train.source, parts, plates)
+
+
+def _unique(stem: str, used: set[str]) -> str:
+    base, k = stem, 2
+    while stem.lower() in used:
+        stem = f"{base}-{k}"
+        k += 1
+    used.add(stem.lower())
+    return stem
+
+
+def layout_sheet(parts: list[Part], gap: float = GAP_MM) -> Part:
+    """All parts on one sheet, rows of parts (tallest first), none overlapping."""
+    boxes = [(p, p.bbox()) for p in parts]
+    area = sum((b[2] - b[0] + gap) * (b[3] - b[1] + gap) for _, b in boxes)
+    widest = max(b[2] - b[0] for _, b in boxes)
+    row_w = max(widest, 1.4 * math.sqrt(area))
+    order = sorted(boxes, key=lambda pb: -(pb[1][3] - pb[1][1]))
+    sheet = Part("sheet", "all parts", "sheet")
+    x = y = row_h = 0.0
+    placed = []
+    for p, (bx0, by0, bx1, by1) in order:
+        w, h = bx1 - bx0, by1 - by0
+        if x > 0 and x + w > row_w:
+            x, y, row_h = 0.0, y - row_h - gap, 0.0
+        moved = p.moved(x - bx0, y - by1)  # top-left of its box at (x, y)
+        placed.append((p.name, (x, y - h, x + w, y)))
+        for attr in ("polylines", "lines", "circles", "texts"):
+            getattr(sheet, attr).extend(getattr(moved, attr))
+        x += w + gap
+        row_h = max(row_h, h)
+    sheet.info = {"boxes": {n: list(b) for n, b in placed}}
+    return sheet
+
+
+# --- writers ----------------------------------------------------------------------------------
+
+def to_svg(part: Part, margin: float = 2.0) -> str:
+    """An SVG document of ``part`` in millimetres (1 user unit = 1 mm, y flipped)."""
+    x0, y0, x1, y1 = part.bbox()
+    x0, y0, x1, y1 = x0 - margin, y0 - margin, x1 + margin, y1 + margin
+    w, h = x1 - x0, y1 - y0
+
+    def f(v: float) -> str:
+        return f"{v:.5f}".rstrip("0").rstrip(".")
+
+    def pt(x, y):
+        return f"{f(x - x0)},{f(y1 - y)}"
+
+    out = ['<?xml version="1.0" encoding="UTF-8"?>',
+           f'<svg xmlns="http://www.w3.org/2000/svg" width="{f(w)}mm" height="{f(h)}mm" '
+           f'viewBox="0 0 {f(w)} {f(h)}">',
+           f"<title>{_esc(part.title)}</title>"]
+    for layer, (colour, _, what) in LAYERS.items():
+        dash = ' stroke-dasharray="1 0.6"' if layer == "PITCH" else ""
+        out.append(f'<g id="{layer}" fill="none" stroke="{colour}" stroke-width="0.08"{dash}>'
+                   f"<desc>{_esc(what)}</desc>")
+        for lay, p in part.polylines:
+            if lay == layer:
+                d = " L".join(pt(x, y) for x, y in p)
+                out.append(f'<path d="M{d} Z"/>')
+        for lay, p in part.lines:
+            if lay == layer:
+                d = " L".join(pt(x, y) for x, y in p)
+                out.append(f'<path d="M{d}"/>')
+        for lay, x, y, r in part.circles:
+            if lay == layer:
+                cx, cy = pt(x, y).split(",")
+                out.append(f'<circle cx="{cx}" cy="{cy}" r="{f(r)}"/>')
+        if layer == "NOTE":
+            for x, y, hgt, t in part.texts:
+                xx, yy = pt(x, y).split(",")
+                out.append(f'<text x="{xx}" y="{yy}" font-size="{f(hgt)}" '
+                           f'font-family="sans-serif" fill="{colour}" stroke="none">'
+                           f"{_esc(t)}</text>")
+        out.append("</g>")
+    out.append("</svg>")
+    return "\n".join(out) + "\n"
+
+
+def _esc(text: str) -> str:
+    return (text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+            .replace('"', "&quot;"))
+
+
+def to_dxf(part: Part) -> str:
+    """A DXF document (R2010, millimetres) of ``part``, written with ezdxf."""
+    import ezdxf  # only the cut command needs it
+    from ezdxf import units
+
+    doc = ezdxf.new("R2010", setup=False)
+    doc.units = units.MM
+    doc.header["$MEASUREMENT"] = 1
+    for layer, (_, aci, what) in LAYERS.items():
+        lay = doc.layers.add(layer, color=aci)
+        lay.description = what
+    msp = doc.modelspace()
+    for layer, p in part.polylines:
+        msp.add_lwpolyline([(float(x), float(y)) for x, y in p], close=True,
+                           dxfattribs={"layer": layer})
+    for layer, p in part.lines:
+        msp.add_lwpolyline([(float(x), float(y)) for x, y in p], dxfattribs={"layer": layer})
+    for layer, x, y, r in part.circles:
+        msp.add_circle((float(x), float(y)), float(r), dxfattribs={"layer": layer})
+    for x, y, h, t in part.texts:
+        msp.add_text(t, height=h, dxfattribs={"layer": "NOTE", "insert": (x, y)})
+    buf = io.StringIO()
+    doc.write(buf)
+    return buf.getvalue()

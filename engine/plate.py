@@ -1,0 +1,386 @@
+"""Where the holes go: each axis placed so that every centre distance the meshes demand holds.
+
+One :class:`Plate` per mount — the frame, and each carrier that holds arbors of its own. The
+holes of a plate are its *axes* (arbors sharing one axis share one hole). Each mesh with a
+module ties two axes at the centre distance ``a = m (z1 ± z2) / 2``; a pin-and-slot stage ties
+its two axes at ``offset_mm`` in the direction ``offset_deg``. Positions the file fixes
+(``at_mm``; a carrier's own axis is the centre of its plate) are kept; the others are placed one
+at a time, each at the position (on the circle its distance allows, or where two circles
+cross) that keeps its wheels clear of other arbors and keeps the plate small. When no position
+can satisfy every distance, :func:`place_plates` raises :class:`PlacementError` saying which
+distances disagree and by how much.
+"""
+
+from __future__ import annotations
+
+import math
+import random
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .checks import _axis_groups, centre_distance_mm
+from .errors import TrainError
+from .kinematics import Kinematics
+from .train import FRAME, Train
+
+EXACT_MM = 1e-6
+"""Distances computed for placement agree to a nanometre; this is the test for 'equal'."""
+
+FIXED_TOLERANCE_MM = 0.02
+"""Positions the file fixes may differ from the centre distance by this much (as the checks
+allow); the plate keeps them as written and says by how much they are off."""
+
+CLEARANCE_MM = 0.5
+"""A wheel's tip circle should clear another axis's pivot by this much (our rule)."""
+
+ANGLE_STEPS = 120
+
+
+class PlacementError(TrainError):
+    """No position of the holes satisfies every centre distance."""
+
+
+@dataclass(frozen=True)
+class Tie:
+    """One distance the plate must keep between two axes."""
+
+    label: str  # "mesh 3 (a–b)" or "[pin_slots.x]"
+    axis1: str
+    axis2: str
+    distance_mm: float
+    direction_deg: float | None = None  # pin-and-slot: from axis1 to axis2
+
+
+@dataclass(frozen=True)
+class Hole:
+    axis: str  # a label: the arbors on this axis joined by "/"
+    arbors: tuple[str, ...]
+    x_mm: float
+    y_mm: float
+    fixed: bool  # the file (or the carrier's own axis) fixes it
+    reach_mm: float  # largest tip radius of the wheels on this axis in this plate
+
+
+@dataclass
+class Plate:
+    mount: str
+    holes: dict[str, Hole] = field(default_factory=dict)
+    ties: list[Tie] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def name(self) -> str:
+        return "frame" if self.mount == FRAME else self.mount
+
+    def distance_mm(self, tie: Tie) -> float:
+        a, b = self.holes[tie.axis1], self.holes[tie.axis2]
+        return math.hypot(a.x_mm - b.x_mm, a.y_mm - b.y_mm)
+
+
+def _axis_label(train: Train, groups: dict[str, str], root: str) -> str:
+    return "/".join(n for n in train.arbors if groups[n] == root)
+
+
+def place_plates(train: Train, kin: Kinematics, reach_mm: dict[str, float]) -> list[Plate]:
+    """Place every plate's holes. ``reach_mm`` is each wheel's tip radius (wheels without a
+    module are left out). Raises :class:`PlacementError` when no placement exists."""
+    groups = _axis_groups(train, kin)
+    label = {g: _axis_label(train, groups, g) for g in set(groups.values())}
+    # which plate each axis belongs to: the mount of its arbors (a sun arbor on the frame that
+    # is coaxial with a carrier is the carrier plate's centre, and also a hole in the frame)
+    plates: dict[str, Plate] = {}
+    members: dict[str, dict[str, set[str]]] = {}
+    for a in train.arbors.values():
+        members.setdefault(a.mount, {}).setdefault(groups[a.name], set()).add(a.name)
+    carriers = sorted({a.mount for a in train.arbors.values() if a.mount != FRAME},
+                      key=list(train.arbors).index)
+    for mount in [FRAME, *carriers]:
+        axes = dict(members.get(mount, {}))
+        if mount != FRAME:  # the carrier's own axis, the centre of its plate
+            axes.setdefault(groups[mount], set()).add(mount)
+        plates[mount] = Plate(mount)
+        ties = _ties(train, kin, groups, mount)
+        for t in ties:
+            for ax in (t.axis1, t.axis2):
+                axes.setdefault(ax, set())
+        reach = {}
+        for ax in axes:
+            arbors = [n for n in train.arbors if groups[n] == ax]
+            r = [reach_mm[w] for n in arbors for w in train.arbors[n].wheels if w in reach_mm]
+            reach[ax] = max(r, default=0.0)
+        fixed = _fixed(train, groups, mount, axes)
+        pos = _solve(train, plates[mount], axes, ties, fixed, reach, label)
+        plate = plates[mount]
+        plate.ties = ties
+        for ax in axes:
+            arbors = tuple(n for n in train.arbors if groups[n] == ax)
+            plate.holes[ax] = Hole(label[ax], arbors, pos[ax][0], pos[ax][1], ax in fixed,
+                                   reach[ax])
+    return [p for p in plates.values() if p.holes]
+
+
+def _ties(train: Train, kin: Kinematics, groups, mount: str) -> list[Tie]:
+    out = []
+    for f in kin.mesh_frames:
+        if f.reference != mount:
+            continue
+        m = train.meshes[f.mesh_index - 1]
+        if m.module_mm is None:
+            continue
+        w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+        a = centre_distance_mm(m.module_mm, w1.teeth, w2.teeth, m.internal)
+        out.append(Tie(m.label, groups[w1.arbor], groups[w2.arbor], a))
+    for ps in train.pin_slots.values():
+        if train.arbors[ps.pin_arbor].mount != mount:
+            continue
+        out.append(Tie(f"[pin_slots.{ps.name}]", groups[ps.pin_arbor], groups[ps.slot_arbor],
+                       ps.offset_mm, ps.offset_deg))
+    return out
+
+
+def _fixed(train: Train, groups, mount: str, axes) -> dict[str, tuple[float, float]]:
+    fixed: dict[str, tuple[float, float, str]] = {}
+    if mount != FRAME:
+        fixed[groups[mount]] = (0.0, 0.0, f"the centre of carrier '{mount}'")
+    for a in train.arbors.values():
+        if a.mount != mount or a.at_mm is None:
+            continue
+        g = groups[a.name]
+        if g in fixed:
+            x, y, who = fixed[g]
+            if math.dist((x, y), a.at_mm) > FIXED_TOLERANCE_MM:
+                raise PlacementError(train.source, f"[arbors.{a.name}] at_mm",
+                                     f"is on one axis with {who} but placed "
+                                     f"{math.dist((x, y), a.at_mm):.3f} mm from it: no "
+                                     "placement of the plate can keep both")
+            continue
+        fixed[g] = (a.at_mm[0], a.at_mm[1], f"'{a.name}' at {list(a.at_mm)}")
+    return {g: (v[0], v[1]) for g, v in fixed.items()}
+
+
+def _solve(train, plate, axes, ties, fixed, reach, label):
+    where = train.source
+    by_pair: dict[frozenset, Tie] = {}
+    for t in ties:
+        if t.axis1 == t.axis2:
+            raise PlacementError(where, t.label, f"needs its two axes {t.distance_mm:g} mm "
+                                 "apart, but they are one axis")
+        key = frozenset((t.axis1, t.axis2))
+        first = by_pair.get(key)
+        if first is None:
+            by_pair[key] = t
+        elif abs(first.distance_mm - t.distance_mm) > EXACT_MM:
+            raise PlacementError(where, t.label, f"needs the axes of "
+                                 f"{label[t.axis1]} and {label[t.axis2]} "
+                                 f"{t.distance_mm:.4f} mm apart, but {first.label} needs "
+                                 f"{first.distance_mm:.4f} mm: no placement keeps both")
+    nbrs: dict[str, list[Tie]] = {ax: [] for ax in axes}
+    for t in by_pair.values():
+        nbrs[t.axis1].append(t)
+        nbrs[t.axis2].append(t)
+    # positions the file fixes must already keep their distances
+    for t in by_pair.values():
+        if t.axis1 in fixed and t.axis2 in fixed:
+            d = math.dist(fixed[t.axis1], fixed[t.axis2])
+            if abs(d - t.distance_mm) > FIXED_TOLERANCE_MM:
+                raise PlacementError(where, t.label, f"the file places {label[t.axis1]} and "
+                                     f"{label[t.axis2]} {d:.4f} mm apart, but this needs "
+                                     f"{t.distance_mm:.4f} mm: move one (at_mm) or change "
+                                     "the teeth or module")
+            if abs(d - t.distance_mm) > EXACT_MM:
+                plate.notes.append(f"{t.label}: the file's positions are {d - t.distance_mm:+.4f}"
+                                   f" mm off the centre distance {t.distance_mm:.4f} mm; kept "
+                                   "as written")
+    _triangles(where, by_pair, label)
+    ties_u = [t for t in by_pair.values() if not (t.axis1 in fixed and t.axis2 in fixed)]
+    rng = random.Random(0)  # repeatable: the same file always gives the same plate
+    best = None
+    for attempt in range(RESTARTS):
+        pos, loose = _greedy(axes, nbrs, fixed, reach, rng if attempt else None)
+        pos = _close(pos, ties_u, fixed)
+        worst = max(((abs(_miss(pos, t)), t) for t in ties_u), default=(0.0, None),
+                    key=lambda x: x[0])
+        if best is None or worst[0] < best[0][0]:
+            best = (worst, pos, loose)
+        if worst[0] <= EXACT_MM:
+            break
+    (miss, tie), pos, loose = best
+    if miss > EXACT_MM:
+        raise PlacementError(where, tie.label, f"no placement keeps every centre distance: "
+                             f"the closest found leaves the axes of {label[tie.axis1]} and "
+                             f"{label[tie.axis2]} {miss:.4f} mm off the {tie.distance_mm:.4f} mm "
+                             "this needs (a loop of meshes that cannot close, or positions "
+                             "fixed by at_mm); change teeth or modules in the loop")
+    if loose:
+        plate.notes.append("not tied to the rest by any mesh with a module, so placed apart "
+                           "(set at_mm, or module_mm on its meshes): "
+                           + ", ".join(label[a] for a in loose))
+    return pos
+
+
+RESTARTS = 24
+
+
+def _miss(pos, t: Tie) -> float:
+    return math.dist(pos[t.axis1], pos[t.axis2]) - t.distance_mm
+
+
+def _triangles(where, by_pair, label) -> None:
+    """Three axes tied pairwise must form a triangle: the longest side at most the other two
+    together (and so on): say so plainly when they cannot."""
+    axes = sorted({a for k in by_pair for a in k})
+    for i, a in enumerate(axes):
+        for j in range(i + 1, len(axes)):
+            b = axes[j]
+            for c in axes[j + 1:]:
+                sides = [by_pair.get(frozenset(p)) for p in ((a, b), (b, c), (a, c))]
+                if any(x is None for x in sides):
+                    continue
+                sides.sort(key=lambda t: t.distance_mm)
+                short = sides[0].distance_mm + sides[1].distance_mm
+                if sides[2].distance_mm > short + EXACT_MM:
+                    (via,) = {a, b, c} - {sides[2].axis1, sides[2].axis2}
+                    raise PlacementError(
+                        where, sides[2].label, f"needs {sides[2].distance_mm:.4f} mm between "
+                        f"its axes, but {sides[0].label} and {sides[1].label} put them at most "
+                        f"{short:.4f} mm apart through {label[via]}: no position keeps both; "
+                        "change the teeth or module of one of the three meshes")
+
+
+def _greedy(axes, nbrs, fixed, reach, rng):
+    """A first placement: one axis at a time, at the best of the positions its placed
+    neighbours allow (with ``rng``, at a random one of them: a fresh start)."""
+    pos = dict(fixed)
+    order = list(axes)
+    loose = []
+    while len(pos) < len(axes):
+        todo = [ax for ax in order if ax not in pos]
+        placed_n = {ax: [t for t in nbrs[ax] if _other(t, ax) in pos] for ax in todo}
+        ax = max(todo, key=lambda a: (len(placed_n[a]), len(nbrs[a]), -order.index(a)))
+        known = placed_n[ax]
+        if not known:
+            if len(pos) > 0 and any(nbrs[a] for a in pos) and not nbrs[ax]:
+                loose.append(ax)
+            pos[ax] = _apart(pos, reach, ax)
+            continue
+        cands = _candidates(ax, known, pos)
+        tied = {_other(t, ax) for t in nbrs[ax]}
+        if rng is not None:
+            pos[ax] = rng.choice(cands)
+        else:
+            pos[ax] = min(cands, key=lambda c: _score(c, ax, pos, reach, tied))
+    return pos, loose
+
+
+def _close(pos, ties, fixed, rounds: int = 100):
+    """Move the free axes (least squares, Gauss–Newton with damping) until every tie holds."""
+    free = [a for a in pos if a not in fixed]
+    if not free or not ties:
+        return pos
+    col = {a: i for i, a in enumerate(free)}
+    x = np.array([c for a in free for c in pos[a]], dtype=float)
+
+    def at(a, x):
+        return (x[2 * col[a]], x[2 * col[a] + 1]) if a in col else pos[a]
+
+    def residuals(x):
+        res, rows = [], []
+        for t in ties:
+            p, q = np.array(at(t.axis1, x)), np.array(at(t.axis2, x))
+            if t.direction_deg is not None:
+                th = math.radians(t.direction_deg)
+                want = t.distance_mm * np.array([math.cos(th), math.sin(th)])
+                for k in range(2):
+                    row = np.zeros(len(x))
+                    if t.axis2 in col:
+                        row[2 * col[t.axis2] + k] += 1
+                    if t.axis1 in col:
+                        row[2 * col[t.axis1] + k] -= 1
+                    res.append(q[k] - p[k] - want[k])
+                    rows.append(row)
+                continue
+            d = q - p
+            n = float(np.hypot(*d)) or 1e-12
+            row = np.zeros(len(x))
+            if t.axis2 in col:
+                row[2 * col[t.axis2]: 2 * col[t.axis2] + 2] += d / n
+            if t.axis1 in col:
+                row[2 * col[t.axis1]: 2 * col[t.axis1] + 2] -= d / n
+            res.append(n - t.distance_mm)
+            rows.append(row)
+        return np.array(res), np.array(rows)
+
+    lam = 1e-6
+    r, jac = residuals(x)
+    for _ in range(rounds):
+        if np.max(np.abs(r)) < 1e-11:
+            break
+        step = np.linalg.solve(jac.T @ jac + lam * np.eye(len(x)), -jac.T @ r)
+        r2, j2 = residuals(x + step)
+        if r2 @ r2 < r @ r:
+            x, r, jac, lam = x + step, r2, j2, max(lam / 10, 1e-12)
+        else:
+            lam *= 10
+            if lam > 1e6:
+                break
+    return {a: at(a, x) for a in pos}
+
+
+def _other(t: Tie, ax: str) -> str:
+    return t.axis2 if t.axis1 == ax else t.axis1
+
+
+def _candidates(ax, known, pos):
+    """Where ``ax`` may go given its placed neighbours (the first two of them): a ring of
+    points on one circle, a pin-and-slot's one point, or where two circles cross (when they
+    do not, the nearest point: the closing step then moves the free axes)."""
+    t = known[0]
+    p = pos[_other(t, ax)]
+    if t.direction_deg is not None:  # pin-and-slot: the direction is fixed too
+        sign = 1.0 if t.axis1 != ax else -1.0  # direction is from axis1 to axis2
+        th = math.radians(t.direction_deg)
+        return [(p[0] + sign * t.distance_mm * math.cos(th),
+                 p[1] + sign * t.distance_mm * math.sin(th))]
+    if len(known) == 1:
+        return [(p[0] + t.distance_mm * math.cos(a), p[1] + t.distance_mm * math.sin(a))
+                for a in (2 * math.pi * k / ANGLE_STEPS for k in range(ANGLE_STEPS))]
+    t2 = known[1]
+    q = pos[_other(t2, ax)]
+    r1, r2 = t.distance_mm, t2.distance_mm
+    d = math.dist(p, q)
+    if d < EXACT_MM:
+        return [(p[0] + r1, p[1])]
+    ux, uy = (q[0] - p[0]) / d, (q[1] - p[1]) / d
+    if d > r1 + r2 or d < abs(r1 - r2):
+        toward = 1.0 if d > r1 + r2 or r1 < r2 else -1.0
+        return [(p[0] + toward * r1 * ux, p[1] + toward * r1 * uy)]
+    a = (r1 * r1 - r2 * r2 + d * d) / (2 * d)
+    h = math.sqrt(max(r1 * r1 - a * a, 0.0))
+    mx, my = p[0] + a * ux, p[1] + a * uy
+    return [(mx - h * uy, my + h * ux), (mx + h * uy, my - h * ux)]
+
+
+def _apart(pos, reach, ax):
+    if not pos:
+        return (0.0, 0.0)
+    right = max(x + reach.get(a, 0.0) for a, (x, _) in pos.items())
+    return (right + reach.get(ax, 0.0) + 5.0, 0.0)
+
+
+def _score(c, ax, pos, reach, tied) -> float:
+    """Lower is better: wheels reaching over other axes' pivots, wheels overlapping wheels
+    they do not mesh with, then the plate's size."""
+    foul = overlap = 0.0
+    for other, p in pos.items():
+        if other == ax:
+            continue
+        d = math.dist(c, p)
+        if other not in tied:
+            foul += max(0.0, reach[ax] + CLEARANCE_MM - d) + max(0.0, reach[other]
+                                                                 + CLEARANCE_MM - d)
+            overlap += max(0.0, reach[ax] + reach[other] - d)
+    xs = [p[0] for p in pos.values()] + [c[0]]
+    ys = [p[1] for p in pos.values()] + [c[1]]
+    size = (max(xs) - min(xs)) + (max(ys) - min(ys))
+    return 1000.0 * foul + 10.0 * overlap + size

@@ -1,0 +1,313 @@
+"""Cutting files: DXF read back with ezdxf, plate distances, sheet layout, the command."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+from pathlib import Path
+
+import ezdxf
+import numpy as np
+import pytest
+
+from engine.checks import centre_distance_mm
+from engine.cli import main
+from engine.drawing import cut_parts, layout_sheet, tooth_forms
+from engine.errors import TrainError
+from engine.kinematics import solve
+from engine.loader import load_train, parse_train
+from engine.plate import PlacementError, place_plates
+from engine.toothform import involute_half_angle
+
+HERE = Path(__file__).resolve().parent
+SMALL = HERE / "trains" / "workshop_small.toml"
+DEMO = HERE.parent / "engine" / "trains" / "tide_office.toml"
+UM = 1e-3  # a micrometre, in mm
+
+
+def _cut(tmp_path, train=SMALL, *extra):
+    out = tmp_path / "out"
+    assert main(["cut", str(train), "--out", str(out), *extra]) == 0
+    return out
+
+
+def _outline(doc):
+    msp = doc.modelspace()
+    polys = [e for e in msp.query("LWPOLYLINE") if e.dxf.layer == "CUT" and e.closed]
+    pts = [np.array([(p[0], p[1]) for p in e.get_points("xy")]) for e in polys]
+    return max(pts, key=lambda p: np.hypot(*p.T).max())
+
+
+@pytest.mark.parametrize("form", ["cycloidal", "involute"])
+def test_dxf_read_back_teeth_tip_root_pitch(tmp_path, form):
+    out = _cut(tmp_path, SMALL, "--form", form, "--force")
+    train = load_train(SMALL)
+    forms = tooth_forms(train, form)
+    assert set(forms) == set(train.wheels)
+    for name, wheel in train.wheels.items():
+        doc = ezdxf.readfile(out / f"wheel-{name}.dxf")
+        assert doc.units == ezdxf.units.MM
+        t = forms[name]
+        m, z = t.module_mm, wheel.teeth
+        pitch = [c for c in doc.modelspace().query("CIRCLE") if c.dxf.layer == "PITCH"]
+        assert len(pitch) == 1
+        assert pitch[0].dxf.radius == pytest.approx(m * z / 2, abs=1e-12)  # d = m z
+        xy = _outline(doc)
+        r = np.hypot(*xy.T)
+        assert 2 * r.max() == pytest.approx(2 * t.tip_radius_mm, abs=1e-9)
+        assert 2 * r.min() == pytest.approx(2 * t.root_radius_mm, abs=1e-9)
+        if form == "involute":  # ISO 53: tip d + 2 m, root d − 2.5 m
+            assert 2 * r.max() == pytest.approx(m * z + 2 * m, abs=1e-9)
+            assert 2 * r.min() == pytest.approx(m * z - 2.5 * m, abs=1e-9)
+        # teeth: runs of outline points on the tip circle, one per tooth
+        ang = np.sort(np.arctan2(*xy[r > r.max() - 1e-9][:, ::-1].T))
+        gaps = np.diff(np.concatenate([ang, [ang[0] + 2 * math.pi]]))
+        assert int((gaps > math.pi / z).sum()) == z
+        # tooth thickness where the outline crosses the pitch circle
+        rp = m * z / 2
+        s = r >= rp - 1e-12
+        idx = np.nonzero(s[:-1] != s[1:])[0]
+        assert len(idx) == 2 * z
+        k = (rp - r[idx]) / (r[idx + 1] - r[idx])
+        cross = xy[idx] + k[:, None] * (xy[idx + 1] - xy[idx])
+        a = np.unwrap(np.arctan2(cross[:, 1], cross[:, 0]))
+        widths = np.abs(np.diff(a))[0::2] * rp  # rising then falling: one tooth each
+        expect = {"involute": math.pi * m / 2}.get(form, t.params["thickness_m"] * m)
+        assert np.allclose(widths, expect, atol=2 * UM)
+
+
+def test_dxf_involute_flank_points_within_a_micrometre(tmp_path):
+    out = _cut(tmp_path, SMALL, "--form", "involute")
+    train = load_train(SMALL)
+    forms = tooth_forms(train, "involute")
+    for name, wheel in train.wheels.items():
+        t = forms[name]
+        xy = _outline(ezdxf.readfile(out / f"wheel-{name}.dxf"))
+        r = np.hypot(*xy.T)
+        sel = (r >= t.params["form_radius_mm"]) & (r < t.tip_radius_mm - 1e-9)
+        ang = np.arctan2(xy[sel, 1], xy[sel, 0])
+        pitch = 2 * math.pi / wheel.teeth
+        eta = np.abs((ang + pitch / 2) % pitch - pitch / 2)  # from the nearest tooth's centre
+        # involute tooth thickness at any diameter (Machinery's Handbook, 'Gearing')
+        err = np.abs(eta - involute_half_angle(r[sel], wheel.teeth, t.module_mm)) * r[sel]
+        assert sel.sum() > 40 * wheel.teeth
+        assert err.max() < UM
+
+
+def test_plate_hole_distances_equal_centre_distances(tmp_path):
+    for train_path in (SMALL, DEMO):
+        out = _cut(tmp_path / train_path.stem, train_path)
+        train = load_train(train_path)
+        kin = solve(train)
+        for plate in place_plates(train, kin, {w: 0.0 for w in train.wheels}):
+            doc = ezdxf.readfile(out / f"plate-{plate.name}.dxf")
+            holes = [(c.dxf.center.x, c.dxf.center.y) for c in doc.modelspace().query("CIRCLE")
+                     if c.dxf.layer == "CUT"]
+            assert len(holes) == len(plate.holes)
+        for f in kin.mesh_frames:
+            m = train.meshes[f.mesh_index - 1]
+            a = centre_distance_mm(m.module_mm, train.wheels[m.driver].teeth,
+                                   train.wheels[m.driven].teeth, m.internal)
+            name = "frame" if f.reference == "frame" else f.reference
+            doc = ezdxf.readfile(out / f"plate-{name}.dxf")
+            labels = {t.dxf.text: (t.dxf.insert.x, t.dxf.insert.y)
+                      for t in doc.modelspace().query("TEXT")}
+            centres = [(c.dxf.center.x, c.dxf.center.y) for c in doc.modelspace().query("CIRCLE")
+                       if c.dxf.layer == "CUT"]
+
+            def hole_of(arbor, labels=labels, centres=centres):
+                lab = next(v for k, v in labels.items() if arbor in k.split("/"))
+                return min(centres, key=lambda pt, lab=lab: math.dist(pt, lab))
+
+            p1, p2 = hole_of(f.arbor1), hole_of(f.arbor2)
+            assert math.dist(p1, p2) == pytest.approx(a, abs=UM), m.label
+        # the file's own position is kept
+        if train_path == SMALL:
+            doc = ezdxf.readfile(out / "plate-frame.dxf")
+            cs = [(c.dxf.center.x, c.dxf.center.y) for c in doc.modelspace().query("CIRCLE")
+                  if c.dxf.layer == "CUT"]
+            assert any(math.dist(c, (40.0, 10.0)) < 1e-12 for c in cs)
+
+
+def test_pin_slot_offset_keeps_its_direction():
+    train = load_train(DEMO)
+    plates = {p.name: p for p in place_plates(train, solve(train), {})}
+    carrier = plates["perigee_carrier"]
+    pin, slot = carrier.holes["pin_arbor"], carrier.holes["slot_arbor"]
+    ps = train.pin_slots["anomaly"]
+    assert math.atan2(slot.y_mm - pin.y_mm, slot.x_mm - pin.x_mm) == pytest.approx(
+        math.radians(ps.offset_deg), abs=1e-12)
+    assert math.hypot(slot.x_mm - pin.x_mm, slot.y_mm - pin.y_mm) == pytest.approx(
+        ps.offset_mm, abs=1e-12)
+
+
+LOOPS = """
+[crank]
+arbor = "a"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+set = "angles"
+[arbors.a]
+wheels = { a1 = 10, a2 = 10 }
+[arbors.b]
+wheels = { b1 = 40, b2 = 20 }
+[arbors.c]
+wheels = { c1 = 40, c2 = C2 }
+[[meshes]]
+wheels = ["a1", "b1"]
+module_mm = 0.5
+[[meshes]]
+wheels = ["b2", "c1"]
+module_mm = 0.5
+[pointers.p]
+shows = "sun"
+arbor = "c"
+set_deg = 0
+"""
+
+# a third path a → c: straight into a ring on c (a triangle of axes) ...
+RING = LOOPS.replace("C2", "80") + """
+[[meshes]]
+wheels = ["a2", "c2"]
+ring = "c2"
+module_mm = MODULE
+"""
+# ... or through a fourth arbor d (a loop of four axes, one free angle to close it)
+FOUR = LOOPS.replace("C2", "40") + """
+[arbors.d]
+wheels = { d1 = 20, d2 = 10 }
+[[meshes]]
+wheels = ["a2", "d1"]
+module_mm = MODULE
+[[meshes]]
+wheels = ["d2", "c2"]
+module_mm = 0.5
+"""
+
+
+def _plate(text):
+    train = parse_train(text, "loops.toml")
+    (plate,) = place_plates(train, solve(train), {})
+    return plate
+
+
+@pytest.mark.parametrize("text", [RING.replace("MODULE", "0.5"),
+                                  FOUR.replace("MODULE", "0.5")])
+def test_loops_of_meshes_close(text):
+    # ring: a–b 12.5, b–c 15, a–c (80 − 10)/2 × 0.5 = 17.5 mm, a triangle;
+    # four: a–b 12.5, b–c 15, a–d 7.5, d–c 12.5 mm, a four-sided loop
+    plate = _plate(text)
+    assert len(plate.ties) in (3, 4)
+    for t in plate.ties:
+        assert plate.distance_mm(t) == pytest.approx(t.distance_mm, abs=1e-9)
+
+
+def test_no_placement_says_why():
+    # a–c through the ring at module 2 is 70 mm, more than a–b and b–c together (27.5 mm)
+    with pytest.raises(PlacementError, match="no position keeps both") as exc:
+        _plate(RING.replace("MODULE", "2.0"))
+    assert "70.0000 mm" in str(exc.value) and "27.5000 mm" in str(exc.value)
+    # a–d at module 3 is 45 mm, more than the other three sides together (40 mm)
+    with pytest.raises(PlacementError, match="no placement keeps every centre distance"):
+        _plate(FOUR.replace("MODULE", "3.0"))
+
+
+def test_fixed_positions_that_disagree_are_refused():
+    text = SMALL.read_text().replace("[arbors.middle]", "[arbors.middle]\nat_mm = [0.0, 0.0]")
+    train = parse_train(text, "fixed.toml")
+    with pytest.raises(PlacementError, match="apart, but this needs"):
+        place_plates(train, solve(train), {})
+
+
+def test_sheet_has_no_overlaps():
+    train = load_train(DEMO)
+    parts = cut_parts(train, solve(train)).parts
+    sheet = layout_sheet(parts)
+    boxes = list(sheet.info["boxes"].values())
+    assert len(boxes) == len(parts)
+    for i, a in enumerate(boxes):
+        for b in boxes[i + 1:]:
+            assert a[2] <= b[0] or b[2] <= a[0] or a[3] <= b[1] or b[3] <= a[1]
+
+
+def test_cut_never_overwrites_without_force(tmp_path, capsys):
+    out = _cut(tmp_path)
+    before = (out / "sheet.svg").read_bytes()
+    (out / "sheet.svg").write_text("mine")
+    os.chmod(out / "sheet.svg", 0o600)
+    assert main(["cut", str(SMALL), "--out", str(out)]) == 1
+    err = capsys.readouterr().err
+    assert "file exists" in err and "--force" in err
+    assert (out / "sheet.svg").read_text() == "mine"
+    assert main(["cut", str(SMALL), "--out", str(out), "--force"]) == 0
+    assert (out / "sheet.svg").read_bytes() == before
+    assert os.stat(out / "sheet.svg").st_mode & 0o777 == 0o600  # permissions kept
+    assert not list(out.glob(".*.part"))
+
+
+def test_cut_refuses_links_and_the_train_file(tmp_path, capsys):
+    out = _cut(tmp_path)
+    target = tmp_path / "elsewhere.txt"
+    target.write_text("keep")
+    (out / "sheet.dxf").unlink()
+    (out / "sheet.dxf").symlink_to(target)
+    assert main(["cut", str(SMALL), "--out", str(out), "--force"]) == 1
+    assert "symbolic link" in capsys.readouterr().err
+    assert target.read_text() == "keep"
+
+
+def test_cut_json_and_caveat(tmp_path, capsys):
+    out = tmp_path / "j"
+    assert main(["cut", str(SMALL), "--out", str(out), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert "design estimates" in data["caveat"] and "local rules" in data["caveat"]
+    wheels = {p["wheel"]: p for p in data["parts"] if p["kind"] == "wheel"}
+    assert wheels["middle_wheel"]["crossings"] == 4
+    assert "crossings" not in wheels["middle_pinion"]
+    assert wheels["hand_wheel"]["bore_mm"] == 1.5
+    assert len(data["files"]) == 2 * (len(data["parts"]) + 1)
+    assert main(["cut", str(SMALL), "--out", str(tmp_path / "t")]) == 0
+    assert "design estimates" in capsys.readouterr().out
+
+
+def test_cut_bad_input_is_one_line(tmp_path, capsys):
+    bad = tmp_path / "bad.toml"
+    bad.write_text(SMALL.read_text().replace('tooth_form = "cycloidal"',
+                                             'tooth_form = "square"'))
+    assert main(["cut", str(bad), "--out", str(tmp_path / "o")]) == 1
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "[workshop] tooth_form" in err and "bad.toml" in err
+    with pytest.raises(SystemExit) as exc:
+        main(["cut", str(SMALL), "--out", str(tmp_path / "o"), "--formats", "png"])
+    assert exc.value.code == 2
+
+
+def test_mixed_forms_in_one_mesh_are_refused():
+    text = SMALL.read_text() + '\n[workshop.wheels.hand_wheel]\nform = "involute"\n'
+    train = parse_train(text, "mixed.toml")
+    with pytest.raises(TrainError, match="need one tooth form"):
+        tooth_forms(train)
+
+
+@pytest.mark.parametrize("fragment,item", [
+    ("[workshop]\ncrossings = 2\n", "[workshop] crossings"),
+    ("[workshop]\nbore_mm = -1\n", "[workshop] bore_mm"),
+    ("[workshop]\ndivision = 0.7\n", "[workshop] division"),
+    ("[workshop]\nspokes = 4\n", "[workshop]"),
+    ("[workshop.wheels.nowhere]\nform = \"involute\"\n", "[workshop.wheels.nowhere]"),
+    ("[workshop.wheels.hand_wheel]\nform = \"square\"\n", "[workshop.wheels.hand_wheel] form"),
+])
+def test_workshop_keys_are_checked(fragment, item):
+    text = SMALL.read_text().split("[workshop]")[0] + fragment
+    with pytest.raises(TrainError) as exc:
+        parse_train(text, "w.toml")
+    assert exc.value.item == item
+
+
+def test_workshop_keys_are_read():
+    shop = load_train(SMALL).workshop
+    assert (shop.tooth_form, shop.bore_mm, shop.crossings) == ("cycloidal", 1.5, 4)
+    assert shop.wheel("middle_pinion").crossings == 0
+    assert shop.wheel("hand_wheel").crossings is None
