@@ -137,3 +137,108 @@ def test_help_imports_no_command_module():
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           timeout=60, cwd=ROOT)
     assert done.returncode == 0, done.stderr
+
+
+# --- no number is ever cut: 60 and 80 columns, and through a pipe -----------------------------
+
+LONG_NAMES = {"sun": "sun_hand_on_the_great_calendar_ring_of_the_front_dial",
+              "moon": "moon_hand_with_the_silvered_ball_over_the_lunar_ring"}
+
+
+def _long_named_train(tmp_path) -> str:
+    text = (DEMO / "tide_office.toml").read_text()
+    for old, new in LONG_NAMES.items():
+        text = text.replace(f"[pointers.{old}]", f"[pointers.{new}]")
+    path = tmp_path / "long_names.toml"
+    path.write_text(text)
+    return str(path)
+
+
+def _run_at(width, argv, capsys, monkeypatch) -> str:
+    monkeypatch.setenv("COLUMNS", str(width))
+    assert main(argv) == 0, capsys.readouterr().err
+    return capsys.readouterr().out
+
+
+def _json(argv, capsys) -> dict:
+    import json
+
+    assert main([*argv, "--json"]) == 0
+    return json.loads(capsys.readouterr().out)
+
+
+def _whole(out: str, width: int) -> str:
+    assert "…" not in out, out
+    assert max(len(line) for line in out.splitlines()) <= width, out
+    return " ".join(out.split())
+
+
+@pytest.mark.parametrize("width", [60, 80])
+def test_search_numbers_whole(width, capsys, monkeypatch):
+    argv = ["search", "--cycle", "synodic month", "--stages", "2-3", "--top", "5"]
+    doc = _json(argv, capsys)
+    flat = _whole(_run_at(width, argv, capsys, monkeypatch), width)
+    for r in doc["results"]:
+        assert r["ratio"] in flat
+        for a, b in r["stages"]:
+            assert f"{a}→{b}" in flat
+        assert f"{r['period_days']:.9g}" in flat
+    assert "speed ppm" in flat and "1 day off" in flat  # the legend's columns are there
+
+
+@pytest.mark.parametrize("width", [60, 80])
+def test_ratios_numbers_whole_with_long_pointer_names(width, tmp_path, capsys, monkeypatch):
+    train = _long_named_train(tmp_path)
+    doc = _json(["ratios", train], capsys)
+    flat = _whole(_run_at(width, ["ratios", train], capsys, monkeypatch), width)
+    for p in doc["pointers"]:
+        assert p["pointer"] in flat.replace(" ", "") or p["pointer"] in flat
+        assert f"{p['period_days']:.10g}" in flat
+
+
+@pytest.mark.parametrize("width", [60, 80])
+def test_check_keeps_every_column_its_legend_names(width, capsys, monkeypatch):
+    argv = ["check", "tide_office"]
+    doc = _json(argv, capsys)
+    flat = _whole(_run_at(width, argv, capsys, monkeypatch), width)
+    for head in ("m/s", "force N", "turns/crank", "torque ideal"):
+        assert head in flat
+    for a in doc["arbors"]:
+        assert a["turns_per_crank"] in flat
+
+
+@pytest.mark.parametrize("width", [60, 80])
+def test_drift_and_sky_numbers_whole(width, capsys, monkeypatch):
+    out = _run_at(width, ["drift", "moon_disc_59", "--years", "1", "--threshold-days", "1"],
+                  capsys, monkeypatch)
+    flat = _whole(out, width)
+    assert "largest error" in flat and "days per century" in flat
+    doc = _json(["sky", "2026-03-20 12:00"], capsys)
+    flat = _whole(_run_at(width, ["sky", "2026-03-20 12:00"], capsys, monkeypatch), width)
+    assert f"{doc['sun_lon_deg']:.5f}" in flat and f"{doc['moon_lon_deg']:.5f}" in flat
+
+
+@pytest.mark.parametrize("argv", [
+    ["search", "--cycle", "synodic month", "--stages", "4", "--top", "3"],
+    ["check", "tide_office"], ["ratios", "tide_office"], ["sky", "2026-03-20"],
+])
+def test_through_a_pipe_nothing_is_cut(argv, tmp_path):
+    import os
+
+    env = {k: v for k, v in os.environ.items() if k not in ("COLUMNS", "LINES")}
+    done = subprocess.run([sys.executable, "-m", "engine", *argv], capture_output=True,
+                          text=True, timeout=300, env=env, cwd=tmp_path)
+    assert done.returncode == 0, done.stderr
+    assert "…" not in done.stdout and done.stdout.strip()
+
+
+def test_markup_in_a_train_name_is_text(tmp_path, capsys):
+    text = (DEMO / "tide_office.toml").read_text().replace(
+        'name = "Tide office dial"', 'name = "Dial [/] of [bold]mine[/bold] [red]"')
+    train = tmp_path / "markup.toml"
+    train.write_text(text)
+    for cmd in ("check", "ratios"):
+        assert main([cmd, str(train)]) == 0, capsys.readouterr().err
+        assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out
+    assert main(["drift", str(train), "--years", "0.1"]) == 0
+    assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out

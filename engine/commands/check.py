@@ -9,7 +9,8 @@ from fractions import Fraction
 
 from rich import box
 from rich.console import Console
-from rich.table import Table
+from rich.markup import escape
+from rich.text import Text
 
 from ..checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
 from ..kinematics import solve
@@ -91,18 +92,18 @@ def _frac(x: Fraction) -> str:
 
 
 def _print(report: CheckReport, console: Console) -> None:
-    console.print(f"[bold]{report.train}[/] — mechanical check at up to {report.crank_rpm:g} "
-                  f"rpm on '{report.crank_arbor}', {report.efficiency:g} per stage")
-    meshes = Table(title="meshes", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
-                   caption="d: pitch diameters m·z; a: centre distance; held by: the frame or "
-                   "carrier holding both axes; force: tangential tooth force per N·m at the "
-                   "crank")
-    # On a narrow terminal the speed and force columns give way (they stay in --json).
-    wide = console.width >= 110
+    console.print(Text.assemble((report.train, "bold"), f" — mechanical check at up to "
+                                f"{report.crank_rpm:g} rpm on '{report.crank_arbor}', "
+                                f"{report.efficiency:g} per stage"))
+    # Every column, always: when the table is wider than the console it becomes a list.
+    meshes = support.plain_table(
+        title="meshes", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
+        caption="d: pitch diameters m·z; a: centre distance; held by: the frame or carrier "
+        "holding both axes; m/s: pitch-line speed at the highest crank speed; force: tangential "
+        "tooth force per N·m at the crank")
     cols = [("#", "right"), ("wheels", "left"), ("teeth", "right"), ("m", "right"),
-            ("d mm", "right"), ("a mm", "right"), ("held by", "left"), ("ratio", "right")]
-    if wide:
-        cols += [("m/s", "right"), ("force N", "right")]
+            ("d mm", "right"), ("a mm", "right"), ("held by", "left"), ("ratio", "right"),
+            ("m/s", "right"), ("force N", "right")]
     for col, just in cols:
         meshes.add_column(col, justify=just, no_wrap=col != "held by", overflow="fold")
     for m in report.meshes:
@@ -111,30 +112,30 @@ def _print(report: CheckReport, console: Console) -> None:
         row = [str(m.index), f"{m.driver}\n{m.driven}{kind}",
                f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
                _opt(m.centre_mm, ".4g"), m.reference,
-               _frac(m.ratio) + (" up" if m.step_up else "")]
-        if wide:
-            row += [_opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
+               _frac(m.ratio) + (" up" if m.step_up else ""),
+               _opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
         meshes.add_row(*row)
-    console.print(meshes)
-    arbors = Table(title="arbors", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
-                   caption="turns per crank turn (exact) and per year, relative to the frame; "
-                   "torque: times the crank torque when this arbor is the only load, ideal and "
-                   "with losses over its stages; sense: + with the crank, − against it, 0 still, ↑ driven by a "
-                   "step-up stage")
-    cols = [("arbor", "left")] + ([("turns/crank", "right")] if wide else []) + [
-        ("turns/yr", "right"), ("sense", "left"), ("rpm max", "right"),
-        ("torque ideal", "right"), ("torque", "right")]
+    support.print_table(console, meshes)
+    arbors = support.plain_table(
+        title="arbors", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
+        caption="turns per crank turn (exact) and per year, relative to the frame; torque: "
+        "times the crank torque when this arbor is the only load, ideal and with losses over "
+        "its stages; sense: + with the crank, − against it, 0 still, ↑ driven by a step-up "
+        "stage")
+    cols = [("arbor", "left"), ("turns/crank", "right"), ("turns/yr", "right"),
+            ("sense", "left"), ("rpm max", "right"), ("torque ideal", "right"),
+            ("torque", "right")]
     for col, just in cols:
         arbors.add_column(col, justify=just, no_wrap=col != "sense", overflow="fold")
     for a in report.arbors:
         sense = {"with the crank": "+", "against the crank": "−"}.get(a.direction, "0")
-        row = [a.name] + ([_frac(a.turns_per_crank)] if wide else []) + [
-            f"{a.turns_per_year:.6g}", sense + (" ↑" if a.step_up else ""), _num(a.rpm_max),
-            _num(a.torque_ideal), _num(a.torque)]
+        row = [a.name, _frac(a.turns_per_crank), f"{a.turns_per_year:.6g}",
+               sense + (" ↑" if a.step_up else ""), _num(a.rpm_max), _num(a.torque_ideal),
+               _num(a.torque)]
         arbors.add_row(*row)
-    console.print(arbors)
+    support.print_table(console, arbors)
     for p in report.pin_slots:
-        console.print(f"pin-and-slot [bold]{p.name}[/]: slot {p.slot_length_mm:.3g} mm long "
+        console.print(f"pin-and-slot [bold]{escape(p.name)}[/]: slot {p.slot_length_mm:.3g} mm long "
                       f"({p.slot_inner_mm:.3g}–{p.slot_outer_mm:.3g} mm from the slot axis, pin "
                       f"Ø {p.pin_diameter_mm:g} mm assumed); lead up to ±{p.max_lead_deg:.3g}°; "
                       f"speed ×{p.speed_factor_min:.4g} to ×{p.speed_factor_max:.4g}",
@@ -143,7 +144,6 @@ def _print(report: CheckReport, console: Console) -> None:
                        for lv in ("error", "warning", "note"))
     console.print(f"[bold]findings[/]: {counts}")
     for f in report.findings:
-        console.print(f"[{_STYLE[f.level]}]{f.level}[/] ", end="")
-        console.print(f"{f.item}: {f.message}", markup=False)
+        console.print(Text.assemble((f.level, _STYLE[f.level]), f" {f.item}: {f.message}"))
         console.print(f"    → {f.fix}", markup=False)
-    console.print(f"[dim]{report.caveat}[/]")
+    console.print(report.caveat, style="dim", markup=False)

@@ -330,8 +330,8 @@ def _uncertain_why(s) -> str:
 
 
 def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
-    t = Table(title=f"{s.pointer} — shows {s.shows}", title_justify="left", box=box.SIMPLE,
-              show_header=False, pad_edge=False)
+    t = support.plain_table(title=f"{s.pointer} — shows {s.shows}", title_justify="left",
+                            box=box.SIMPLE, show_header=False, pad_edge=False)
     t.add_column("figure", style="bold")
     t.add_column("value")
     days = s.shows == "phase"
@@ -513,7 +513,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     line("error = what the train shows minus the true sky (positive: ahead)")
     line("")
     for s in result.summaries.values():
-        console.print(_summary_table(s, start, args.threshold_days is not None))
+        support.print_table(console, _summary_table(s, start, args.threshold_days is not None))
     if csv_path:
         line(f"wrote {csv_path}")
     if png_path:

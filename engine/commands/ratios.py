@@ -8,7 +8,6 @@ import json
 from rich import box
 from rich.console import Console
 from rich.markup import escape
-from rich.table import Table
 
 from ..exact import fraction_text
 from ..kinematics import solve
@@ -48,14 +47,14 @@ def run(args: argparse.Namespace, console: Console) -> int:
     console.print(f"[bold]{escape(train.name)}[/]  ({escape(train.source)}; crank on "
                   f"'{escape(train.crank.arbor)}', {fraction_text(dpt)} "
                   f"day{'' if dpt == 1 else 's'} per turn; {train.dial} dial)")
-    table = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
+    table = support.plain_table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
     for col, just in (("pointer", "left"), ("period (d)", "right"), ("mean (d)", "right"),
                       ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
     for r in rows:
         table.add_row(r.pointer, f"{r.period_days:.10g}", f"{r.target_days:.10g}", f"{r.error_ppm:+.3f}",
                       f"{r.drift_deg_per_century:+.4f}", _years(r.years_to_one_day))
-    console.print(table)
+    support.print_table(console, table)
     for r in rows:
         sense = ", dial reversed" if train.pointers[r.pointer].reversed else ""
         what = f"'{r.arbor}'" + (f" against '{r.relative_to}'" if r.relative_to else "")

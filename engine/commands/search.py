@@ -10,7 +10,6 @@ from pathlib import Path
 from rich import box
 from rich.console import Console
 from rich.markup import escape
-from rich.table import Table
 
 from ..errors import SearchError
 from ..exact import fraction_text, parse_fraction
@@ -135,7 +134,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
         return 0
     _print(report, console)
     if written:
-        console.print(f"wrote train {args.pick} as a fragment to {written}")
+        console.print(f"wrote train {args.pick} as a fragment to {written}", markup=False)
     return 0
 
 
@@ -211,7 +210,8 @@ def _print(report: SearchReport, console: Console) -> None:
                       f"{abs(report.results[0].error_ppm) / 1e4:.3g}% off the target:[/] widen "
                       "the tooth ranges or allow more stages")
     else:
-        table = Table(title="trains, best first", box=box.SIMPLE_HEAD, collapse_padding=True,
+        table = support.plain_table(title="trains, best first", box=box.SIMPLE_HEAD,
+                                    collapse_padding=True,
                       pad_edge=False,
                       caption="stages: driver→driven; speed ppm: error of the ratio (+ runs fast); °/cy: drift of "
                       "the output pointer per century; 1 day off: years until it is a day out")
@@ -223,10 +223,10 @@ def _print(report: SearchReport, console: Console) -> None:
             table.add_row(str(i), _stages_text(r, "\n"), _frac(r.ratio), f"{r.period_days:.9g}",
                           f"{r.error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
                           _years(r.one_day_off_years), str(r.total_teeth))
-        console.print(table)
+        support.print_table(console, table)
     if report.convergents:
-        table = Table(title="continued-fraction convergents of the target", box=box.SIMPLE_HEAD,
-                      collapse_padding=True, pad_edge=False)
+        table = support.plain_table(title="continued-fraction convergents of the target",
+                                    box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False)
         for col, just in (("ratio", "right"), ("days/turn", "right"), ("speed ppm", "right"),
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
@@ -234,4 +234,4 @@ def _print(report: SearchReport, console: Console) -> None:
             table.add_row(_frac(v.ratio), _frac(v.period_days), f"{v.error_ppm:+.4g}",
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
-        console.print(table)
+        support.print_table(console, table)

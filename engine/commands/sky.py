@@ -7,7 +7,7 @@ import json
 
 from rich import box
 from rich.console import Console
-from rich.table import Table
+from rich.markup import escape
 
 from ..dates import calendar_date, format_jd, parse_date
 from ..errors import DateError, UsageError
@@ -75,9 +75,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
              f"{site.lat_deg:+.4f}°, {site.lon_deg:+.4f}° E, {site.height_m:g} m")
     frame_text = "fixed J2000 ecliptic (stars)" if args.stars else "true ecliptic and equinox of date"
     console.print(f"[bold]{format_jd(jd, args.calendar, seconds=True)}[/]  JD {jd:.6f} UT")
-    console.print(f"ΔT {v['delta_t_s']:.1f} s ± {_sigma(v['delta_t_sigma_s'])} · {sky.name} "
-                  f"({sky.span_text}) · {frame_text} · seen from {where}")
-    table = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
+    console.print(f"ΔT {v['delta_t_s']:.1f} s ± {_sigma(v['delta_t_sigma_s'])} · "
+                  f"{escape(sky.name)} ({sky.span_text}) · {frame_text} · seen from {where}")
+    table = support.plain_table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
     for col, just in (("", "left"), ("degrees", "right"), ("", "right")):
         table.add_column(col, justify=just, no_wrap=True)
     rows = (
@@ -92,9 +92,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
     )
     for label, deg, note in rows:
         table.add_row(label, f"{deg:.5f}", note)
-    console.print(table)
+    support.print_table(console, table)
     console.print(f"Moon {v['illuminated'] * 100:.1f}% lit, {v['moon_km']:,.0f} km away.")
-    planets = Table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False,
+    planets = support.plain_table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False,
                     title="planets, ecliptic longitude in degrees", title_justify="left")
     planets.add_column("", justify="left", no_wrap=True)
     planets.add_column("from the Earth (apparent)", justify="right")
@@ -103,7 +103,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
         geo = v.get(f"{name}_lon_deg")
         planets.add_row(name.capitalize(), "" if geo is None else f"{geo:.5f}",
                         f"{v[f'{name}_helio_lon_deg']:.5f}")
-    console.print(planets)
+    support.print_table(console, planets)
     if v["delta_t_sigma_s"] >= 60:
         console.print(f"ΔT is uncertain by ± {_sigma(v['delta_t_sigma_s'])} (one standard error) "
                       f"at this date: the Moon moves about "

@@ -390,6 +390,21 @@ def _size_text(n: float) -> str:
 
 # --- tables ----------------------------------------------------------------------------------
 
+def plain_table(*, title: str | None = None, caption: str | None = None, **kwargs):
+    """A rich ``Table`` whose title, caption and string cells are plain text, never markup
+    (names from train files may hold ``[`` and ``]``). Style whole cells with ``Text``."""
+    from rich.table import Table
+    from rich.text import Text
+
+    class PlainTable(Table):
+        def add_row(self, *cells, **kw):
+            super().add_row(*(Text(c) if isinstance(c, str) else c for c in cells), **kw)
+
+    return PlainTable(title=None if title is None else Text(title, style="bold"),
+                      caption=None if caption is None else Text(caption, style="dim"),
+                      **kwargs)
+
+
 def _cell_text(cell) -> str:
     from rich.text import Text
 
@@ -412,25 +427,28 @@ def print_table(console, table) -> None:
     """Print ``table`` with every cell whole: as a table when it fits the console's width,
     otherwise the same rows as a list (``header: value``), one block per row. Nothing is cut,
     and the table's title and caption (its legend) are kept."""
-    from rich.markup import escape
+    from rich.text import Text
 
-    for col in table.columns:  # when a column must wrap, fold: never an ellipsis
+    for col in table.columns:  # should a column ever wrap, fold it: never an ellipsis
         col.overflow = "fold"
     if _natural_width(table) <= console.width:
         console.print(table, crop=False)
         return
     if table.title:
-        console.print(table.title, style="bold" if not console.no_color else None,
-                      markup=False)
-    headers = [_cell_text(c.header) for c in table.columns]
+        console.print(Text(_cell_text(table.title), style="bold"), overflow="fold")
+    headers = [_cell_text(c.header) if table.show_header else "" for c in table.columns]
     cells = [list(c.cells) for c in table.columns]
     for i in range(table.row_count):
         values = [_cell_text(col[i]).replace("\n", "  ") for col in cells]
-        first = values[0]
-        console.print(f"[bold]{escape(headers[0] or '')}[/] {escape(first)}".strip()
-                      if headers[0] else f"[bold]{escape(first)}[/]")
+        if not any(headers):  # a list of figures: "label: value"
+            label, rest = values[0], "  ".join(v for v in values[1:] if v)
+            line = Text.assemble((label, "bold"), ": " if label else "   ", rest)
+            console.print(line, overflow="fold")
+            continue
+        console.print(Text.assemble((f"{headers[0]} " if headers[0] else "", "bold"),
+                                    (values[0], "bold")), overflow="fold")
         for head, value in zip(headers[1:], values[1:], strict=True):
-            console.print(f"   {head}: {value}" if head else f"   {value}", markup=False,
-                          highlight=False, overflow="fold")
+            console.print(Text(f"   {head}: {value}" if head else f"   {value}"),
+                          overflow="fold")
     if table.caption:
-        console.print(table.caption, style="dim", markup=False, overflow="fold")
+        console.print(Text(_cell_text(table.caption), style="dim"), overflow="fold")
