@@ -413,25 +413,35 @@ def _cell_text(cell) -> str:
     return str(cell)
 
 
-def _natural_width(table) -> int:
-    """The width the table takes when nothing is wrapped or cut."""
+def _fits(console, table) -> bool:
+    """Whether ``table`` at the console's width shows every word of every cell whole (rich
+    may wrap a cell between words, which loses nothing, but must not fold or cut one)."""
     from rich.console import Console
 
-    probe = Console(width=100_000, file=io.StringIO(), color_system=None, highlight=False)
+    probe = Console(width=console.width, file=io.StringIO(), color_system=None,
+                    highlight=False, emoji=False)
     with probe.capture() as cap:
         probe.print(table, crop=False)
-    return max((len(line.rstrip()) for line in cap.get().splitlines()), default=0)
+    text = cap.get()
+    if "…" in text or any(len(line.rstrip()) > console.width for line in text.splitlines()):
+        return False
+    seen = set(text.split())
+    return all(word in seen
+               for col in table.columns
+               for cell in ([col.header] if table.show_header else []) + list(col.cells)
+               for word in _cell_text(cell).split())
 
 
 def print_table(console, table) -> None:
-    """Print ``table`` with every cell whole: as a table when it fits the console's width,
-    otherwise the same rows as a list (``header: value``), one block per row. Nothing is cut,
-    and the table's title and caption (its legend) are kept."""
+    """Print ``table`` with every cell whole: as a table when every word of every cell fits
+    whole at the console's width (cells may wrap between words), otherwise the same rows as a
+    list (``header: value``), one block per row. Nothing is cut, and the table's title and
+    caption (its legend) are kept."""
     from rich.text import Text
 
     for col in table.columns:  # should a column ever wrap, fold it: never an ellipsis
         col.overflow = "fold"
-    if _natural_width(table) <= console.width:
+    if _fits(console, table):
         console.print(table, crop=False)
         return
     if table.title:
