@@ -221,24 +221,20 @@ _MOON_NODE = (125.0445479, MOON_NODE_RATE, 0.0020754, 1 / 467441, -1 / 60616000)
 _SUN_L0 = (280.46646, SUN_MEAN_LON_RATE, 0.0003032)
 
 
-def mean_elements(jd_tt: np.ndarray | float) -> dict[str, np.ndarray]:
+def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]:
     """Mean longitudes and arguments (degrees, 0-360, equinox of date) at TT Julian dates.
 
     Accepts a scalar or any array shape; every value has the input's shape. Keys: ``sun``,
     ``moon``, ``phase`` (mean elongation), ``anomaly`` (Moon's mean anomaly), ``sun_anomaly``,
-    ``draconic`` (argument of latitude), ``node`` and ``apsis`` (mean perigee).
+    ``draconic`` (argument of latitude), ``node`` and ``apsis`` (mean perigee). ``keys``
+    limits the work to those keys (default: all).
     """
     t = (np.asarray(jd_tt, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
-    moon = _poly(t, _MOON_L)
-    anomaly = _poly(t, _MOON_M)
-    out = {
-        "sun": _poly(t, _SUN_L0),
-        "moon": moon,
-        "phase": _poly(t, _MOON_D),
-        "anomaly": anomaly,
-        "sun_anomaly": _poly(t, _SUN_M),
-        "draconic": _poly(t, _MOON_F),
-        "node": _poly(t, _MOON_NODE),
-        "apsis": moon - anomaly,
-    }
+    series = {"sun": _SUN_L0, "moon": _MOON_L, "phase": _MOON_D, "anomaly": _MOON_M,
+              "sun_anomaly": _SUN_M, "draconic": _MOON_F, "node": _MOON_NODE}
+    wanted = series.keys() | {"apsis"} if keys is None else set(keys)
+    out = {k: _poly(t, c) for k, c in series.items() if k in wanted}
+    if "apsis" in wanted:
+        out["apsis"] = _poly(t, _MOON_L) - (out["anomaly"] if "anomaly" in out else
+                                            _poly(t, _MOON_M))
     return {k: np.mod(v, 360.0) for k, v in out.items()}

@@ -18,11 +18,18 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
   - gravitational deflection is left out: for the Sun and Moon seen from the Earth it is below
     0.001 arcsecond (the Sun does not deflect its own light; the Moon is too near);
   - the ecliptic of date uses IAU 2006 precession as skyfield does, and nutation from the
-    77-term IAU 2000B series (agrees with 2000A to about 1 mas), whose sines are taken in
-    single precision (error below 0.0001 arcsecond on coefficients of at most 17 arcseconds).
-    The true ecliptic of date differs from the mean ecliptic of date only by a turn of Δψ
-    about the ecliptic pole, R1(ε+Δε)·N = R3(−Δψ)·R1(ε), so longitude gets +Δψ and latitude
-    is unchanged: no per-date nutation matrix is needed.
+    77-term IAU 2000B series (agrees with 2000A to about 1 mas), whose sines and sums are taken
+    in single precision (error below 0.00002 arcsecond). The true ecliptic of date differs from
+    the mean ecliptic of date only by a turn of Δψ about the ecliptic pole,
+    R1(ε+Δε)·N = R3(−Δψ)·R1(ε), so longitude gets +Δψ and latitude is unchanged: neither a
+    per-date nutation matrix nor the nutation in obliquity is needed;
+  - slow-varying parts are computed once for all dates: the rotation to the mean ecliptic of
+    date (bias, precession, obliquity) on a 16-day grid, linearly interpolated (error below
+    0.000004 arcsecond), and Δψ, for dates denser than two a day, on a half-day grid with
+    cubic interpolation (error bound below 0.00005 arcsecond); both bounds are checked in
+    ``tests/test_sky.py``;
+  - planets: light time iterated on the ephemeris itself, the Sun's light deflection (see
+    :func:`_add_sun_deflection`), aberration.
 
 ΔT comes from skyfield's built-in model (``load.timescale(builtin=True)``).
 
@@ -198,11 +205,15 @@ class _ChebGroup:
 
     def evaluate(self, whole: np.ndarray, frac: np.ndarray) -> dict:
         """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``."""
-        # Whole and fractional TDB days kept apart until inside the record, as jplephem does.
-        i1, o1 = np.divmod((whole - T0) * 86400.0 - self.init, self.intlen)
-        i2, o2 = np.divmod(frac * 86400.0, self.intlen)
-        i3, offset = np.divmod(o1 + o2, self.intlen)
-        index = (i1 + i2 + i3).astype(np.intp)
+        # Whole and fractional TDB days kept apart until inside the record, as jplephem does:
+        # whole days give whole seconds (exact in double precision), the fraction is added to
+        # the offset within the record.
+        base = (whole - T0) * 86400.0 - self.init
+        i1 = np.floor(base / self.intlen)
+        offset = (base - i1 * self.intlen) + frac * 86400.0
+        i2 = np.floor(offset / self.intlen)
+        offset -= i2 * self.intlen
+        index = (i1 + i2).astype(np.intp)
         last = index >= self.nrec
         index[last] = self.nrec - 1
         offset[last] += self.intlen
@@ -420,6 +431,99 @@ def _nutation_2000b(jd_tt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return dpsi * _TENTH_UAS, deps * _TENTH_UAS
 
 
+_NUT_PSI32 = np.ascontiguousarray(_NUT_PSI[:2], dtype=np.float32)  # sin and t*sin terms
+_NUT_COS_ROWS = np.flatnonzero(_NUT_PSI[2])  # terms with a cosine part in longitude
+_NUT_PSI32_COS = np.ascontiguousarray(_NUT_PSI[2, _NUT_COS_ROWS], dtype=np.float32)
+_NUT_GRID_DAYS = 0.5  # grid step for interpolating Δψ when dates are denser than this
+
+
+def _dpsi_2000b_exact(jd_tt: np.ndarray) -> np.ndarray:
+    """Δψ of IAU 2000B in radians — the longitude part alone (the obliquity part is not
+    needed: the true ecliptic of date only turns longitudes by Δψ). Arguments reduced in
+    double precision; sines and their sums in single precision (rounding below 0.00002″ on
+    terms of at most 17″). In batches, so the 77-row temporaries stay in cache."""
+    if jd_tt.size > _BATCH:
+        return np.concatenate([_dpsi_2000b_exact(jd_tt[i:i + _BATCH])
+                               for i in range(0, jd_tt.size, _BATCH)])
+    t = (jd_tt - T0) / JULIAN_CENTURY_DAYS
+    turns = (_FA0[:, None] + _FA1[:, None] * t) / ASEC360
+    a = ((turns - np.floor(turns)) * (2 * np.pi)).astype(np.float32)
+    arg = _NUT_MULT[:, 0, None] * a[0]
+    for j in range(1, 5):
+        arg += _NUT_MULT[:, j, None] * a[j]
+    ps = _NUT_PSI32 @ np.sin(arg)
+    pc = _NUT_PSI32_COS @ np.cos(arg[_NUT_COS_ROWS])
+    return (ps[0] + ps[1] * t.astype(np.float32) + pc - 0.000135e7).astype(float) * _TENTH_UAS
+
+
+def _dpsi_2000b(jd_tt: np.ndarray) -> np.ndarray:
+    """Δψ (radians) at every date: exact for sparse dates; for dates denser than two a day,
+    evaluated on a half-day grid and interpolated by cubic (four-point Lagrange) interpolation.
+
+    Error bound of that interpolation: for a term A·sin(2πt/P) it is at most
+    (3/128)·A·(2πh/P)⁴ (h the grid step); summed over the 77 terms with h = 0.5 day it is
+    below 0.00005″ (``tests/test_sky.py`` computes the bound from the series and checks the
+    interpolated values against it)."""
+    n = jd_tt.size
+    lo, hi = float(jd_tt.min()), float(jd_tt.max())
+    m = int((hi - lo) / _NUT_GRID_DAYS) + 4
+    if m >= n:
+        return _dpsi_2000b_exact(jd_tt)
+    h = _NUT_GRID_DAYS
+    grid = _dpsi_2000b_exact(lo - h + h * np.arange(m))
+    u = (jd_tt - lo) / h
+    i = np.minimum(np.floor(u).astype(np.intp), m - 4)
+    f = u - i
+    fm1, fm2, fp1 = f - 1.0, f - 2.0, f + 1.0
+    return (-(f * fm1 * fm2) / 6.0 * grid[i] + fp1 * fm1 * fm2 / 2.0 * grid[i + 1]
+            - fp1 * f * fm2 / 2.0 * grid[i + 2] + fp1 * f * fm1 / 6.0 * grid[i + 3])
+
+
+def skyfield_2000b_nutation(t) -> None:
+    """Make skyfield use IAU 2000B nutation (the fast path's model) for its Time ``t``.
+
+    The one place that uses skyfield's private hook: it reads the nutation angles of a Time
+    from ``t._nutation_angles_radians`` (a cached attribute, which skyfield's own
+    documentation suggests setting to swap in IAU 2000B). pyproject.toml pins skyfield below
+    its next major version and ``tests/test_sky.py::test_private_internals_still_there``
+    fails loudly if the hook stops working."""
+    shape = np.shape(t.tt)
+    dpsi, deps = _nutation_2000b(np.reshape(t.tt, -1))
+    t._nutation_angles_radians = (dpsi.reshape(shape), deps.reshape(shape))
+
+
+_ROT_GRID_DAYS = 16.0  # grid step for interpolating the precession rotation
+
+
+def _ecliptic_rotation_exact(jd_tdb: np.ndarray) -> np.ndarray:
+    """(3, 3, n): ICRS to the mean ecliptic and equinox of date — frame bias, IAU 2006
+    precession and the mean obliquity, as skyfield's ``ecliptic_frame`` builds it (without
+    nutation, which is applied as +Δψ in longitude)."""
+    prec = compute_precession(jd_tdb)
+    m = np.einsum("ijn,jk->ikn", prec, ICRS_to_J2000)
+    eps = mean_obliquity(jd_tdb) * ASEC2RAD
+    ce, se = np.cos(eps), np.sin(eps)
+    return np.stack((m[0], ce * m[1] + se * m[2], -se * m[1] + ce * m[2]))
+
+
+def _ecliptic_rotation(jd_tdb: np.ndarray) -> np.ndarray:
+    """:func:`_ecliptic_rotation_exact`, from a 16-day grid by linear interpolation when the
+    dates are denser than that. Precession turns the frame by 50″ a year along a nearly
+    straight path: the interpolation error is at most h²/8 times the elements' second
+    derivative, below 0.00001″ for h = 16 days (checked in ``tests/test_sky.py``)."""
+    n = jd_tdb.size
+    lo, hi = float(jd_tdb.min()), float(jd_tdb.max())
+    m = int((hi - lo) / _ROT_GRID_DAYS) + 2
+    if m >= n:
+        return _ecliptic_rotation_exact(jd_tdb)
+    grid = _ecliptic_rotation_exact(lo + _ROT_GRID_DAYS * np.arange(m))
+    u = (jd_tdb - lo) / _ROT_GRID_DAYS
+    i = np.minimum(np.floor(u).astype(np.intp), m - 2)
+    f = u - i
+    g0 = grid[:, :, i]
+    return g0 + f * (grid[:, :, i + 1] - g0)
+
+
 # --- public types ----------------------------------------------------------------------------
 
 @dataclass(frozen=True)
@@ -567,17 +671,11 @@ class Sky:
             self._loaded.planets.get(_PLANET_CODES[n]) is not None for n in names
             if n != "earth")
         if use_fast:
-            # Batches small enough to stay in cache: fresh multi-megabyte temporaries cost
-            # more in page faults than the arithmetic done on them.
-            parts = [self._fast(_timescale().ut1_jd(flat[i:i + _BATCH]), frame, site, names)
-                     for i in range(0, flat.size, _BATCH)]
-            out = [np.concatenate(col) for col in zip(*[p[:-2] for p in parts], strict=True)]
-            geo = {n: np.concatenate([p[-2][n] for p in parts]) for n in parts[0][-2]}
-            helio = {n: np.concatenate([p[-1][n] for p in parts]) for n in parts[0][-1]}
+            out, geo, helio = self._fast_all(_timescale().ut1_jd(flat), frame, site, names)
         else:
             *out, geo, helio = self._slow(_timescale().ut1_jd(flat), frame, site, names)
         sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum, jd_tt, delta_t = out
-        mean = mean_elements(jd_tt)
+        mean = mean_elements(jd_tt, keys=("node", "apsis", "anomaly"))
         node = to_frame(mean["node"], jd_tt, frame)
         perigee = to_frame(mean["apsis"], jd_tt, frame)
         values = dict(
@@ -642,8 +740,31 @@ class Sky:
                        f"{self.longer_hint}")
 
     # The batched pipeline; see the module docstring for each approximation and its size.
-    def _fast(self, t, frame, site, names=()):
-        whole, frac = t.whole, t.tdb_fraction
+    def _fast_all(self, t, frame, site, names):
+        """Everything slow-varying once for all dates (time scales, the frame's rotation,
+        nutation in longitude), then the ephemeris and the light's path in cache-sized
+        batches written into preallocated outputs."""
+        n = t.tt.size
+        whole, frac = np.reshape(t.whole, -1), np.reshape(t.tdb_fraction, -1)
+        jd_tt = np.reshape(t.tt, -1)
+        if frame == "stars":
+            rot = ecliptic_J2000_frame.rotation_at(t)  # a constant matrix
+            dpsi = None
+        else:
+            rot = _ecliptic_rotation(whole + frac)
+            dpsi = _dpsi_2000b(jd_tt)
+        out = np.empty((6, n))
+        geo = {name: np.empty(n) for name in names if name != "earth"}
+        helio = {name: np.empty(n) for name in names}
+        for i in range(0, n, _BATCH):
+            sl = slice(i, min(i + _BATCH, n))
+            r = rot if rot.ndim == 2 else rot[:, :, sl]
+            self._fast(whole[sl], frac[sl], r, None if dpsi is None else dpsi[sl],
+                       site, None if site is None else t[sl], names, out[:, sl],
+                       {k: v[sl] for k, v in geo.items()}, {k: v[sl] for k, v in helio.items()})
+        return (*out, jd_tt, _delta_t(t)), geo, helio
+
+    def _fast(self, whole, frac, rot, dpsi, site, t, names, out, geo_out, helio_out):
         pv = {}
         for group in self._loaded.groups:
             pv.update(group.evaluate(whole, frac))
@@ -658,7 +779,7 @@ class Sky:
         obs = geocentre
         v_obs = (v_emb + v_e_rel) * to_au
         if site is not None:
-            t._nutation_angles_radians = _nutation_2000b(t.tt)  # skyfield's hook for a model
+            skyfield_2000b_nutation(t)
             here = wgs84.latlon(site.lat_deg, site.lon_deg, elevation_m=site.height_m).at(t)
             obs = obs + here.xyz.au
             v_obs = v_obs + here.velocity.au_per_d
@@ -666,44 +787,28 @@ class Sky:
         sun_p, sun_v = sun_p * to_au, sun_v * to_au
         sun, sun_lt = _light_time(sun_p, sun_v, obs)
         moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
-        illum = _illuminated(sun, moon)
+        out[5] = _illuminated(sun, moon)
         add_aberration(sun, v_obs, sun_lt)
         add_aberration(moon, v_obs, moon_lt)
-        geo_vec, helio_vec = {}, {}
+
+        def lon_lat(v):
+            e = rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v)
+            return _lon_lat(e, 0.0 if dpsi is None else dpsi)
+
+        out[0], out[1], _ = lon_lat(sun)
+        out[2], out[3], moon_au = lon_lat(moon)
+        out[4] = moon_au * AU_KM
         for name in names:
             if name == "earth":
-                helio_vec[name] = geocentre - sun_p
+                helio_out[name][:] = lon_lat(geocentre - sun_p)[0]
                 continue
             group = self._loaded.planets[_PLANET_CODES[name]]
             key = (0, _PLANET_CODES[name])
             p_now, v_now = group.evaluate(whole, frac)[key]
-            helio_vec[name] = p_now * to_au - sun_p
-            geo_vec[name] = _planet_apparent(group, key, whole, frac, p_now * to_au,
-                                             v_now * to_au, obs, v_obs, sun_p, sun_v)
-        if frame == "stars":
-            rot = ecliptic_J2000_frame.rotation_at(t)
-
-            def to_ecliptic(v):
-                return rot @ v
-
-            dpsi = 0.0
-        else:
-            jd_tdb = t.tdb
-            prec = compute_precession(jd_tdb)
-            eps = mean_obliquity(jd_tdb) * ASEC2RAD
-            dpsi, _ = _nutation_2000b(t.tt)
-            ce, se = np.cos(eps), np.sin(eps)
-
-            def to_ecliptic(v):
-                m = np.einsum("ijn,jn->in", prec, ICRS_to_J2000 @ v)
-                return np.array((m[0], ce * m[1] + se * m[2], -se * m[1] + ce * m[2]))
-
-        sun_lon, sun_lat, _ = _lon_lat(to_ecliptic(sun), dpsi)
-        moon_lon, moon_lat, moon_au = _lon_lat(to_ecliptic(moon), dpsi)
-        geo = {n: _lon_lat(to_ecliptic(v), dpsi)[0] for n, v in geo_vec.items()}
-        helio = {n: _lon_lat(to_ecliptic(v), dpsi)[0] for n, v in helio_vec.items()}
-        return (sun_lon, sun_lat, moon_lon, moon_lat, moon_au * AU_KM, illum, t.tt,
-                _delta_t(t), geo, helio)
+            helio_out[name][:] = lon_lat(p_now * to_au - sun_p)[0]
+            geo_out[name][:] = lon_lat(_planet_apparent(
+                group, key, whole, frac, p_now * to_au, v_now * to_au, obs, v_obs, sun_p,
+                sun_v))[0]
 
     def _require_kernel(self, what: str):
         """skyfield's own machinery needs an SPK file; arrays (DE406) have none."""

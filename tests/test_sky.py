@@ -624,3 +624,59 @@ def test_sky_command_ancient(capsys):
     assert "uncertain" in text and "solar filter" in text
     assert main(["sky", "1 January 3500 BC", "--ephemeris", "de406"]) == 1
     assert "outside JPL DE406" in capsys.readouterr().err
+
+
+# --- fast path internals: interpolation error bounds, private hooks -------------------------
+
+def test_nutation_interpolation_error_bound():
+    # Cubic (four-point Lagrange) interpolation of a term A·sin(ωt) on a grid of step h errs
+    # by at most (3/128)·A·(ωh)⁴ (the remainder term of Lagrange interpolation on the middle
+    # interval: max|f''''|·(9/16)h⁴/4!; common practice, no source). Summed over the 77 terms
+    # of the 2000B series (amplitudes with the t-terms at |T| <= 1.5 centuries):
+    from skyfield.constants import ASEC2RAD
+
+    from engine.sky import (
+        _FA1,
+        _NUT_GRID_DAYS,
+        _NUT_MULT,
+        _NUT_PSI,
+        _dpsi_2000b,
+        _dpsi_2000b_exact,
+    )
+    omega = np.abs(_NUT_MULT.astype(float) @ _FA1) * ASEC2RAD / 36525.0  # rad/day
+    amp = (np.abs(_NUT_PSI[0]) + 1.5 * np.abs(_NUT_PSI[1]) + np.abs(_NUT_PSI[2])) * 1e-7  # "
+    bound = float(np.sum(3 / 128 * amp * (omega * _NUT_GRID_DAYS) ** 4))
+    assert bound < 5e-5  # arcseconds
+    # And the interpolated values against the series itself, at six-hour steps in three
+    # epochs; single-precision rounding of either side is allowed 3e-5".
+    for start in (2415020.5, 2451545.0, 2469000.5):
+        jd = start + np.arange(0, 400, 0.25) + 0.0123
+        interp = _dpsi_2000b(jd)
+        exact = _dpsi_2000b_exact(jd)
+        worst = np.max(np.abs(interp - exact)) / ASEC2RAD
+        assert worst < bound + 3e-5, (start, worst, bound)
+
+
+def test_precession_interpolation_error():
+    # Linear interpolation of the (bias, precession, obliquity) rotation on a 16-day grid
+    # against the exact rotation at each date: within 2e-11 per element (0.000004"; measured
+    # 1.4e-11, which is h²/8 times the square of the precession rate).
+    from engine.sky import _ecliptic_rotation, _ecliptic_rotation_exact
+
+    for start in (2415020.5, 2451545.0, 2469000.5, 1000000.5):
+        jd = start + np.arange(0, 3000, 0.5) + 0.37
+        diff = np.max(np.abs(_ecliptic_rotation(jd) - _ecliptic_rotation_exact(jd)))
+        assert diff < 2e-11, (start, diff)
+
+
+def test_skyfield_nutation_hook_still_there():
+    # engine/sky.py gives skyfield IAU 2000B through its private Time attribute
+    # (skyfield_2000b_nutation); if skyfield stops reading it, the two nutation matrices below
+    # would be identical (2000A vs 2000B differ by about 1 mas) and this fails loudly.
+    from engine.sky import skyfield_2000b_nutation
+
+    ts = _timescale()
+    default, hooked = ts.tt_jd(2455000.5), ts.tt_jd(2455000.5)
+    skyfield_2000b_nutation(hooked)
+    diff = np.max(np.abs(default.M - hooked.M))  # precession-nutation matrices
+    assert 1e-11 < diff < 1e-7
