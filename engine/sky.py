@@ -27,7 +27,9 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
     date (bias, precession, obliquity) on a 16-day grid, linearly interpolated (error below
     0.000004 arcsecond), and Δψ, for dates denser than two a day, on a half-day grid with
     cubic interpolation (error bound below 0.00005 arcsecond); both bounds are checked in
-    ``tests/test_sky.py``;
+    ``tests/test_sky.py``. Grid points sit on whole multiples of the step from J2000, so a date
+    gets the same value in any batch; a lone date is computed exactly, so scalar and dense
+    array inputs agree to within those bounds rather than to the last bit;
   - planets: light time iterated on the ephemeris itself, the Sun's light deflection (see
     :func:`_add_sun_deflection`), aberration.
 
@@ -465,11 +467,13 @@ def _dpsi_2000b(jd_tt: np.ndarray) -> np.ndarray:
     below 0.00005″ (``tests/test_sky.py`` computes the bound from the series and checks the
     interpolated values against it)."""
     n = jd_tt.size
-    lo, hi = float(jd_tt.min()), float(jd_tt.max())
-    m = int((hi - lo) / _NUT_GRID_DAYS) + 4
+    h = _NUT_GRID_DAYS
+    # Grid points on whole multiples of h from J2000, so a date gets the same value in any
+    # batch or chunk it is computed in.
+    lo = T0 + h * np.floor((float(jd_tt.min()) - T0) / h)
+    m = int((float(jd_tt.max()) - lo) / h) + 4
     if m >= n:
         return _dpsi_2000b_exact(jd_tt)
-    h = _NUT_GRID_DAYS
     grid = _dpsi_2000b_exact(lo - h + h * np.arange(m))
     u = (jd_tt - lo) / h
     i = np.minimum(np.floor(u).astype(np.intp), m - 4)
@@ -512,8 +516,8 @@ def _ecliptic_rotation(jd_tdb: np.ndarray) -> np.ndarray:
     straight path: the interpolation error is at most h²/8 times the elements' second
     derivative, below 0.00001″ for h = 16 days (checked in ``tests/test_sky.py``)."""
     n = jd_tdb.size
-    lo, hi = float(jd_tdb.min()), float(jd_tdb.max())
-    m = int((hi - lo) / _ROT_GRID_DAYS) + 2
+    lo = T0 + _ROT_GRID_DAYS * np.floor((float(jd_tdb.min()) - T0) / _ROT_GRID_DAYS)
+    m = int((float(jd_tdb.max()) - lo) / _ROT_GRID_DAYS) + 2
     if m >= n:
         return _ecliptic_rotation_exact(jd_tdb)
     grid = _ecliptic_rotation_exact(lo + _ROT_GRID_DAYS * np.arange(m))

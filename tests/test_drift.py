@@ -95,8 +95,10 @@ def test_series_matches_pointer_errors_scalar_and_array(sky):
     for name, e in now.items():
         assert np.abs(np.concatenate(seen[name]) - e.error_deg).max() < 1e-5 * DEG
     one = pointer_errors(mech, sky, float(jd[37]))
+    # Dense dates take nutation and precession from interpolating grids (engine/sky.py; error
+    # bound 0.00005" = 1.4e-8°), a lone date computes them exactly.
     assert float(one["moon"].error_deg) == pytest.approx(float(now["moon"].error_deg[37]),
-                                                         abs=1e-9)
+                                                         abs=2e-8)
     assert now["phase"].error_days is not None and now["sun"].error_days is None
 
 
