@@ -319,3 +319,20 @@ def test_cli_sigint_in_a_long_run_exits_130_and_leaves_nothing(tmp_path):
     assert proc.returncode == 130, err
     assert "Traceback" not in err and err.strip().count("\n") == 0
     assert not list(tmp_path.iterdir())
+
+
+def test_demo_board_comments_state_what_the_command_measures(sky):
+    """The eclipse board's comments quote these figures; keep them true."""
+    from engine.mechanism import open_train
+
+    mech = open_train("engine/trains/eclipse_board.toml", sky)
+    assert E.methods(mech.train) == ("pointers", "cycle")
+    c = E.check(mech, sky, parse_date("1950-01-01"), parse_date("2049-12-31"))
+    turns = [(t["hits"], t["misses"], t["false_alarms"]) for t in c.per_cycle()]
+    assert turns == [(66, 0, 0), (66, 0, 0), (64, 0, 2), (64, 2, 2), (63, 3, 3), (33, 3, 4)]
+    first = c.first_failure()
+    assert abs(c.jd_ut[first] - parse_date("1988-03-03 16:01")) < 0.01
+    p = E.check(mech, sky, parse_date("1950-01-01"), parse_date("2049-12-31"), "pointers")
+    counts = p.counts()
+    assert counts["solar"]["misses"] == 0 and counts["lunar"]["misses"] == 9
+    assert counts["all"]["false_alarms"] == 62 and len(p.jd_ut) == 2474
