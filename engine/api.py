@@ -13,6 +13,9 @@ from __future__ import annotations
 from .checks import check
 from .dates import calendar_date, format_jd, parse_date, parse_step
 from .drift import DriftResult, PointerSummary, drift_series, pointer_errors
+from .eclipses import Check as EclipseCheck
+from .eclipses import Eclipse, real_eclipses, sky_eclipses, syzygies
+from .eclipses import check as check_eclipses
 from .errors import DateError, SearchError, SkyError, TrainError, WheelworkError
 from .exact import Turns, parse_fraction
 from .kinds import FRAMES, KINDS, POINTER_KINDS, PointerKind
@@ -50,6 +53,8 @@ __all__ = [
     "search", "make_target", "make_constraints", "convergents", "emit_fragment",
     # mechanical checks
     "check",
+    # eclipses: real ones, and a train's predictions against them
+    "real_eclipses", "sky_eclipses", "syzygies", "Eclipse", "check_eclipses", "EclipseCheck",
     # errors
     "WheelworkError", "TrainError", "DateError", "SkyError", "SearchError",
 ]
