@@ -37,6 +37,21 @@ GREGORIAN_START_JD = 2299160.5  # 1582-10-15 00:00, first day of the Gregorian c
 _GREGORIAN_START = (1582, 10, 15)
 _JULIAN_LAST = (1582, 10, 4)
 
+YEAR_LIMIT = 999_999  # years -999999 to 999999, the most six digits can write
+
+
+def _jd_of_year(year: int, calendar: str) -> float:
+    # Meeus eq. 7.1 for 1 January, in integers (the same as jd_from_calendar, scalar)
+    y, m = year - 1, 13
+    a = y // 100
+    b = (2 - a + a // 4) if calendar == "gregorian" else 0
+    return float(1461 * (y + 4716) // 4 + 306001 * (m + 1) // 10000 + 1 + b) - 1524.5
+
+
+JD_MIN = _jd_of_year(-YEAR_LIMIT, "julian")          # -999999-01-01 00:00 (Julian)
+JD_MAX = _jd_of_year(YEAR_LIMIT + 1, "gregorian")    # just after 999999-12-31 24:00
+RANGE_TEXT = (f"JD {JD_MIN:,.1f} to {JD_MAX:,.1f}, years -{YEAR_LIMIT} to {YEAR_LIMIT}")
+
 FORMS_HINT = ("use e.g. 2025-03-20, 2025-03-20 09:30, -0100-03-01, 44-03-15 BC, "
               "15 March 44 BC or JD 2451545.0")
 
@@ -163,6 +178,7 @@ def calendar_date(jd: float, calendar: str = "auto") -> tuple[int, int, int, int
     jd = float(jd)
     if not math.isfinite(jd):
         raise DateError(f"Julian Date {jd!r} is not a finite number")
+    check_jd(jd)
     ms = round((jd + 0.5) * 86_400_000)
     whole_days, ms_of_day = divmod(ms, 86_400_000)
     year, month, day, cal = _civil_from_jd(whole_days - 0.5, cal)
@@ -177,6 +193,7 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     Rounded to the minute, or to the second with ``seconds=True``.
     """
     cal = _check_calendar(calendar)
+    check_jd(float(jd))
     step = 86400.0 if seconds else 1440.0
     jd_r = (round((float(jd) + 0.5) * step)) / step - 0.5
     year, month, day, hour, minute, second, name = calendar_date(jd_r, cal)
@@ -186,6 +203,16 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     if year <= 0:
         text += f" = {1 - year} BC"
     return text
+
+
+def check_jd(jd: float, what: str = "") -> float:
+    """``jd`` itself when it lies in the range of dates wheelwork handles, else a DateError
+    (one line) — so no date, however written, overflows a calculation later."""
+    if not (math.isfinite(jd) and JD_MIN <= jd < JD_MAX):
+        shown = f"{jd:.6g}" if math.isfinite(jd) else repr(jd)
+        raise DateError(f"{what or 'Julian Date'} {shown} is outside the dates wheelwork "
+                        f"handles ({RANGE_TEXT})")
+    return jd
 
 
 def _fail(text: str, problem: str) -> DateError:
@@ -206,8 +233,9 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
     m = _JD.fullmatch(s)
     if m:
         jd = float(m["jd"])
-        if not math.isfinite(jd):
-            raise _fail(text, "the Julian Date is not a finite number")
+        if not (math.isfinite(jd) and JD_MIN <= jd < JD_MAX):
+            raise _fail(text, f"the Julian Date is outside the dates wheelwork handles "
+                        f"({RANGE_TEXT})")
         return jd
     m = _ISO.fullmatch(s)
     if m:
@@ -240,12 +268,17 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
     which = calendar_for(year, month, day if day >= 1 else 1, cal)
     if cal == "auto" and _JULIAN_LAST < (year, month, day) < _GREGORIAN_START:
         raise _fail(text, "1582-10-05..14 do not exist: the Gregorian calendar began on "
-                    "1582-10-15, the day after 1582-10-04 (or pass calendar='julian')")
+                    "1582-10-15, the day after 1582-10-04 (for a date in the Julian calendar "
+                    "give --calendar julian on the command line, or calendar = \"julian\" in a "
+                    "train's [epoch])")
     dim = days_in_month(year, month, which)
     if not 1 <= day <= dim:
         raise _fail(text, f"day {day} is not in 1-{dim} for that month ({which.capitalize()})")
     frac = (hour * 3600 + minute * 60 + second) / 86400.0
-    return jd_from_calendar(year, month, day + frac, which)
+    jd = jd_from_calendar(year, month, day + frac, which)
+    if not JD_MIN <= jd < JD_MAX:
+        raise _fail(text, f"it is outside the dates wheelwork handles ({RANGE_TEXT})")
+    return jd
 
 
 # --- steps: lengths of time written with a unit ------------------------------------------

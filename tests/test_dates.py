@@ -137,3 +137,42 @@ def test_parse_step(text, days):
 def test_parse_step_rejects(bad):
     with pytest.raises(DriftError, match="step"):
         parse_step(bad)
+
+
+@pytest.mark.parametrize("text", ["JD 1e308", "JD -1e308", "JD 4e8", "JD -4e8", "JD 1e20"])
+def test_dates_beyond_the_range_are_refused_in_one_line(text):
+    with pytest.raises(DateError) as info:
+        parse_date(text)
+    msg = str(info.value)
+    assert "outside the dates wheelwork handles" in msg and "\n" not in msg
+    assert "years -999999 to 999999" in msg
+
+
+def test_the_ends_of_the_range_are_readable_and_printable():
+    from engine.dates import JD_MAX, JD_MIN
+
+    assert parse_date("-999999-01-01") == JD_MIN
+    assert format_jd(JD_MIN).startswith("-999999-01-01 00:00 UT (Julian)")
+    last = parse_date("999999-12-31 23:59")
+    assert last < JD_MAX and format_jd(last).startswith("999999-12-31 23:59")
+    for jd in (1e308, -1e308, JD_MAX, JD_MIN - 1):
+        with pytest.raises(DateError, match="outside the dates wheelwork handles"):
+            format_jd(jd)
+
+
+def test_gregorian_gap_says_what_to_type():
+    with pytest.raises(DateError) as info:
+        parse_date("1582-10-10")
+    msg = str(info.value)
+    assert "--calendar julian" in msg and 'calendar = "julian"' in msg
+    assert "calendar='julian'" not in msg
+
+
+def test_sky_command_refuses_huge_julian_dates(capsys):
+    from engine.cli import main
+
+    for text in ("JD 1e308", "JD -1e308"):
+        code = main(["sky", text])
+        err = capsys.readouterr().err.strip()
+        assert code == 2 and err.startswith("wheelwork sky: usage error: argument date: ")
+        assert "outside the dates wheelwork handles" in err and len(err.splitlines()) == 1
