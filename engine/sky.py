@@ -72,6 +72,8 @@ from .dates import format_jd
 from .errors import SkyError
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
 from .periods import JULIAN_CENTURY_DAYS, mean_elements
+from .phases import PHASE_NAMES as PHASE_NAMES  # the phase names and bands live there
+from .phases import phase_names
 
 LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
                "(1550-2650), `pip install 'wheelwork[ancient]'` and --ephemeris de406 "
@@ -90,11 +92,6 @@ _PLANET_CODES = {"mercury": 1, "venus": 2, "earth": 3, "mars": 4, "jupiter": 5, 
 # Reciprocal mass of the Sun for light deflection (the Sun is the unit: IAU 2009 system).
 _SUN_RMASS = 1.0
 
-# Eight phase names on equal 45° bands of elongation, each centred on its phase:
-# new is 337.5°-22.5°, first quarter 67.5°-112.5°, full 157.5°-202.5°, and so on
-# (the division of an eight-step moon-phase dial; common practice, no source).
-PHASE_NAMES = ("new", "waxing crescent", "first quarter", "waxing gibbous", "full",
-               "waning gibbous", "last quarter", "waning crescent")
 
 _SEGMENTS = {  # (center, target) -> what it is, for messages
     (0, 3): "Earth-Moon barycentre (0->3)",
@@ -611,12 +608,9 @@ class SkyState:
                            f"{', '.join(KINDS)}") from None
 
     def phase_names(self) -> list[str]:
-        """Phase name at each date (flattened; a scalar state gives a one-item list).
-
-        Eight equal 45° bands of elongation centred on 0, 45, ... 315° (``PHASE_NAMES``).
-        """
-        band = np.floor(np.mod(np.ravel(self.elongation_deg) + 22.5, 360.0) / 45.0)
-        return [PHASE_NAMES[int(b) % 8] for b in band]
+        """Phase name at each date (flattened; a scalar state gives a one-item list), from the
+        table of elongation bands in :mod:`engine.phases`."""
+        return phase_names(self.elongation_deg)
 
 
 _STATE_ARRAYS = tuple(f.name for f in fields(SkyState) if f.name not in (

@@ -11,6 +11,7 @@ from rich.markup import escape
 
 from ..dates import calendar_date, format_jd, parse_date
 from ..errors import DateError, UsageError
+from ..phases import phase_help
 from ..sky import PLANETS, Site, Sky
 from . import support
 from .support import SUN_CAUTION
@@ -26,6 +27,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_site(parser)
     support.add_ephemeris(parser)
     parser.add_argument("--json", action="store_true", help="print JSON only")
+    parser.epilog = ("phase names, by the Moon's elongation from the Sun (new, the quarters "
+                     "and full within about a day of the exact phase): " + phase_help())
 
 
 def _dms(deg: float) -> str:
