@@ -257,7 +257,9 @@ class PointerSummary:
     ``first_crossing_jd``: first date |error| reaches ``threshold_deg`` (``None``: never, or no
     threshold). ``best_offset_deg``: the constant error that re-setting should take out (turn
     the pointer back by it); ``rms_after_reset_deg`` is what remains. ``max_abs_days``,
-    ``rms_days`` and ``threshold_days`` are for phase pointers only.
+    ``rms_days`` and ``threshold_days`` are for phase pointers only. ``step_note``: one line
+    saying the grid's step is too coarse to follow what the pointer shows (see
+    :func:`step_note`); then no swing is sought and the drift is uncertain.
     """
 
     pointer: str
@@ -279,6 +281,7 @@ class PointerSummary:
     drift_uncertain: bool = False
     drift_terms: tuple[str, ...] = ()
     drift_terms_left_out: tuple[str, ...] = ()
+    step_note: str | None = None
 
     def to_dict(self) -> dict:
         return {k: (None if isinstance(v, float) and not math.isfinite(v) else
@@ -306,6 +309,11 @@ class DriftResult:
     step_days: float = 0.0
     sky_name: str = ""
     timings: dict[str, float] = field(default_factory=dict)
+
+    @property
+    def notes(self) -> list[str]:
+        """One line per pointer whose figures the step cannot be trusted for."""
+        return [s.step_note for s in self.summaries.values() if s.step_note]
 
     def summaries_dict(self) -> dict[str, dict]:
         return {name: s.to_dict() for name, s in self.summaries.items()}
@@ -354,18 +362,24 @@ class _Running:
         self.prev_abs = float(ae[-1])
 
     def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
-                ) -> PointerSummary:
+                step_note: str | None = None) -> PointerSummary:
+        """The pointer's figures. ``step_note``: the step cannot follow what the pointer shows
+        (:func:`step_note`), so no swing is sought (it would be an alias) and the drift is
+        uncertain."""
         n = self.n
         terms = sky_terms(shows) if terms is None else tuple(terms)
         fit = fit_drift(self.resid, self.step, terms, cache=cache,
                         all_terms=() if cache is None else cache.get("terms", ()))
         drift = (self.expected_per_step + fit.slope_per_step) / self.step * JULIAN_CENTURY_DAYS
         sigma = fit.sigma_per_step / self.step * JULIAN_CENTURY_DAYS
-        amp, period = periodic_part(self.resid, self.step, line=fit.line, binned=fit.binned)
+        if step_note:
+            amp, period = float("nan"), None
+        else:
+            amp, period = periodic_part(self.resid, self.step, line=fit.line, binned=fit.binned)
         span = (n - 1) * self.step
         # a swing too small to print cannot tilt the line by much
         short = period is not None and span < 2.0 * period and amp >= 5e-5
-        uncertain = (period is None or short
+        uncertain = (period is None or short or step_note is not None
                      or any(t not in MINOR_TERMS for t in fit.left_out))
         offset, rms_after = best_offset(self.error)
         thr = self.threshold
@@ -381,7 +395,7 @@ class _Running:
             first_crossing_jd=self.crossing, threshold_deg=thr, best_offset_deg=offset,
             rms_after_reset_deg=rms_after, drift_sigma_deg_per_century=sigma,
             drift_uncertain=uncertain, drift_terms=fit.used, drift_terms_left_out=fit.left_out,
-            **extra)
+            step_note=step_note, **extra)
 
 
 def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | None = None,
@@ -438,6 +452,22 @@ def grid(jd_start: float, jd_end: float, step_days: float, *, include_end: bool 
         raise DriftError(f"{n:,} dates is too many (at most {MAX_DATES:,}): use a longer "
                          "step or a shorter span")
     return n
+
+
+def step_note(name: str, step: float, motions) -> str | None:
+    """One line when a grid ``step`` (days) cannot follow the fastest of ``motions``
+    (``(what, period_days)`` pairs): a sampled motion is seen only when the step is at most
+    half its period (the sampling limit). ``None`` when it can."""
+    what, period = min(motions, key=lambda m: m[1], default=("", math.inf))
+    if not step > period / 2:
+        return None
+    return (f"pointer '{name}': a step of {_days_text(step)} cannot follow the sky's {what}, "
+            f"every {_days_text(period)}; the errors between the dates are not seen and no swing is "
+            f"sought: use a step under {_days_text(period / 2)}")
+
+
+def _days_text(days: float) -> str:
+    return f"{days:.4g} days" if days >= 1 else f"{days * 24:.3g} hours"
 
 
 def _span(sky, jd_start: float, jd_end: float, step: float, frame: str, site,
@@ -530,8 +560,19 @@ class _Chunks:
         """Every pointer's summary; the fit's design is built once for the whole run."""
         terms = {name: sky_terms(p.shows, self.frame) for name, p in self.pointers.items()}
         cache: dict = {"terms": tuple({t for ts in terms.values() for t in ts})}
-        return {name: self.runs[name].summary(name, p.shows, terms[name], cache)
+        return {name: self.runs[name].summary(
+                    name, p.shows, terms[name], cache,
+                    step_note(name, self.step, self.motions(name, p.shows, terms[name])))
                 for name, p in self.pointers.items()}
+
+    def motions(self, name: str, shows: str, terms) -> list[tuple[str, float]]:
+        """``(what, period_days)`` of the motions a pointer's error is made of: the sky's
+        swings in what it shows, the sky's own mean turning, and the pointer's turning."""
+        out = list(terms)
+        if shows in KINDS:
+            out.append((f"the {shows}'s mean motion", KINDS[shows].mean_period(self.frame).days))
+        out.append(("the pointer's own turning", self.reader.readout.period_days(name)))
+        return out
 
     def result(self, summaries: dict[str, PointerSummary], sky_name: str,
                timings: dict[str, float]) -> DriftResult:

@@ -177,12 +177,12 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
     span = (len(resid) - 1) * step_days
 
     def fits(period):
-        """A whole period in the span, and on the bins a usable column: its frequency,
-        aliased by the step if need be (the columns are the true sinusoid at the grid dates,
-        so an aliased term is still fitted exactly), neither slower than a cycle a span nor
+        """A whole period in the span, seen by the step (at least two steps a period: a faster
+        term only shows as an alias, which could be anything), and on the bins a usable
+        column: its frequency, neither slower than a cycle a span nor
         within a cycle a span of the bins' Nyquist frequency; not averaged away by the bins."""
-        if span < min_cycles * period:
-            return False
+        if span < min_cycles * period or period < 2 * step_days:
+            return False  # not a whole period in the span, or too fast for the step to see
         w = 2 * np.pi * step_days / period
         wb = (w * b.m) % (2 * np.pi)
         wb = min(wb, 2 * np.pi - wb)

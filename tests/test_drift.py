@@ -610,3 +610,44 @@ def test_drift_series_does_not_depend_on_blas_threads(sky):
     for name in default[1]:
         np.testing.assert_array_equal(single[1][name], default[1][name])
 
+
+
+# --- steps too coarse for what the pointers show ---------------------------------------------
+
+def test_yearly_steps_on_a_sun_hand_come_with_a_warning(sky, capsys):
+    """The tide office Sun hand has no equation of centre, so it is up to about 2° off the
+    true Sun within a year (checked here at one-day steps). Sampled once a year it looks
+    0.006° off: the run must say that a yearly step cannot follow the Sun (sampling limit:
+    at least two dates a period; common practice, no source)."""
+    mech = open_train(TRAINS / "tide_office.toml")
+    start = mech.train.epoch.jd_ut
+    daily = drift_series(mech, sky, start, start + 5 * YEAR_DAYS, 1.0, keep_series=False)
+    assert daily.summaries["sun"].max_abs_deg > 1.5 and not daily.summaries["sun"].step_note
+    yearly = drift_series(mech, sky, start, start + 5 * YEAR_DAYS, "1y", keep_series=False)
+    sun = yearly.summaries["sun"]
+    assert sun.max_abs_deg < 0.1  # what the coarse grid alone would suggest...
+    assert sun.step_note and "'sun'" in sun.step_note and sun.drift_uncertain  # ...but said
+    assert sun.periodic_period_days is None
+    assert any("'sun'" in n for n in yearly.notes)
+    assert not yearly.summaries["node"].step_note  # 18.6 years: a yearly step follows it
+    assert main(["drift", "tide_office", "--step", "1y", "--years", "5", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert any("'sun'" in n for n in doc["notes"])
+    assert doc["pointers"]["sun"]["step_note"]
+    assert main(["drift", "tide_office", "--step", "1y", "--years", "5"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "note: pointer 'sun': a step of" in out and "cannot follow" in out
+
+
+def test_a_lunation_step_reports_no_alias_swing(sky):
+    """Sampled every 29.5 days (its own period) the moon disc's error seems to swing every
+    ~417 days: an alias of its monthly swings, not a swing of the train. No swing is
+    reported, the step is said to be too coarse, and no fitted term is faster than 2 steps."""
+    mech = open_train(DISC)
+    s = drift_series(mech, sky, 2451545.0, 2451545.0 + 40 * YEAR_DAYS, 29.5,
+                     keep_series=False).summaries["phase"]
+    assert s.periodic_period_days is None and s.step_note and s.drift_uncertain
+    from engine.drift import sky_terms
+
+    periods = dict(sky_terms("phase"))
+    assert all(periods[t] >= 2 * 29.5 for t in s.drift_terms)

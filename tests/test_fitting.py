@@ -97,3 +97,12 @@ def test_no_blas_products_on_long_arrays(module):
     bad = [f"{path.name}:{n}: {lines[n - 1].strip()}" for n in found
            if "# small" not in lines[n - 1]]
     assert not bad, bad
+
+
+def test_period_search_never_reports_a_period_under_two_steps():
+    """A sine of 1.5 steps a period is seen only as its alias (3 steps): whatever is reported
+    is at least two steps long (sampling limit; common practice, no source)."""
+    k = np.arange(5000)
+    for period_steps in (1.5, 1.9, 2.5, 7.0):
+        _, p = periodic_part(np.sin(2 * np.pi * k / period_steps), 1.0)
+        assert p is None or p >= 2.0

@@ -322,6 +322,8 @@ def _uncertain_why(s) -> str:
     from ..drift import MINOR_TERMS
 
     left = [t for t in s.drift_terms_left_out if t not in MINOR_TERMS]
+    if s.step_note:
+        return "the step is too coarse for this pointer (see the note)"
     if left:
         return "this span and step cannot tell it from: " + "; ".join(left)
     if s.periodic_period_days is None:
@@ -349,7 +351,9 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
                   .replace(" days ±", " ±") + " per century")
     if s.drift_uncertain:
         t.add_row("drift uncertain", _uncertain_why(s))
-    if s.periodic_period_days is None:
+    if s.step_note:
+        t.add_row("swing about the drift", "not sought: the step is too coarse")
+    elif s.periodic_period_days is None:
         t.add_row("swing about the drift", "none found (span too short)")
     elif s.periodic_amplitude_deg < 5e-5:  # below the last printed digit: no period to speak of
         t.add_row("swing about the drift", "none (under 0.0001°)")
@@ -490,7 +494,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
             "frame": result.frame, "site": args.site, "from_jd": float(start),
             "to_jd": last, "asked_to_jd": float(end), "step_days": step, "dates": int(n),
             "from": format_jd(start), "to": format_jd(last),
-            "pointers": result.summaries_dict(),
+            "pointers": result.summaries_dict(), "notes": result.notes,
         }
         console.print_json(json.dumps(doc))
         return 0
@@ -511,6 +515,8 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     line(to)
     line(f"{n:,} dates, every {args.step} ({(last - start) / YEAR_DAYS:.2f} years)")
     line("error = what the train shows minus the true sky (positive: ahead)")
+    for note in result.notes:
+        line(f"note: {note}", "yellow")
     line("")
     for s in result.summaries.values():
         support.print_table(console, _summary_table(s, start, args.threshold_days is not None))
