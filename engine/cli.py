@@ -125,6 +125,12 @@ def _run(argv: list[str], console_factory) -> int:
         return 2
     if name not in COMMANDS:
         plugins = _plugins()
+        if name == DEFAULT_COMMAND and name not in plugins:
+            from .errors import WheelworkError
+
+            raise WheelworkError(
+                "the interface's command is not registered in this installation; install "
+                "wheelwork again (pip install . or pip install -e .)")
         if name not in plugins:
             known = ", ".join([*plugins, *COMMANDS])
             raise UsageError(f"unknown command {name!r} (choose from {known})", "wheelwork")
