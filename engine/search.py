@@ -348,42 +348,93 @@ def _n_multisets(m: int, k: int, distinct: bool) -> int:
     return math.comb(m, k) if distinct else math.comb(m + k - 1, k)
 
 
+def _extend(prod: np.ndarray, last: np.ndarray, tot: np.ndarray, v: np.ndarray,
+            distinct: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """One more count on every entry: entries stay in order of their largest index, so the
+    entries that may take count ``j`` are a prefix of the arrays."""
+    m = len(v)
+    ends = np.searchsorted(last, np.arange(m, dtype=np.int32),
+                           side="left" if distinct else "right")
+    total = int(ends.sum())
+    out_p = np.empty(total, np.int64)
+    out_l = np.empty(total, np.int32)
+    out_t = np.empty(total, np.int32)
+    off = 0
+    for j in range(m):
+        n = int(ends[j])
+        if n:
+            np.multiply(prod[:n], v[j], out=out_p[off:off + n])
+            np.add(tot[:n], np.int32(v[j]), out=out_t[off:off + n])
+            out_l[off:off + n] = j
+            off += n
+    return out_p, out_l, out_t
+
+
+_UNIQUE_CHUNK = 1 << 20  # entries per step when picking each product's first run
+
+
 @functools.lru_cache(maxsize=8)
 def _products(values: tuple[int, ...], k: int, distinct: bool) -> tuple[np.ndarray, np.ndarray]:
     """Every product of ``k`` counts from ``values`` (a multiset; a set if ``distinct``).
 
     Returns (sorted unique products int64, smallest sum of counts giving each product).
+
+    Memory: the levels below ``k`` are small; the last level, which holds nearly all the
+    entries (18.2 M for four of 143 counts), is written straight into one preallocated int64
+    array of keys ``product * scale + sum``, sorted in place, and read back in chunks, so the
+    peak is about 8 bytes an entry.
     """
     v = np.asarray(values, dtype=np.int64)
     m = len(v)
+    empty = np.zeros(0, np.int64), np.zeros(0, np.int32)
+    if m == 0 or (distinct and k > m):
+        return empty
     prod, last, tot = v.copy(), np.arange(m, dtype=np.int32), v.astype(np.int32)
-    for _ in range(k - 1):
-        # entries are kept in order of their largest index, so "may extend with j" is a prefix
-        ends = np.searchsorted(last, np.arange(m, dtype=np.int32), side="left" if distinct else "right")
-        pieces_p, pieces_l, pieces_t = [], [], []
-        for j in range(m):
-            n = ends[j]
-            if n:
-                pieces_p.append(prod[:n] * v[j])
-                pieces_t.append(tot[:n] + np.int32(v[j]))
-                pieces_l.append(np.full(n, j, dtype=np.int32))
-        if not pieces_p:
-            return np.zeros(0, np.int64), np.zeros(0, np.int64)
-        prod = np.concatenate(pieces_p)
-        tot = np.concatenate(pieces_t)
-        last = np.concatenate(pieces_l)
-    del last
-    # one sort on (product, sum): the first of each run of a product has the smallest sum
-    scale = int(tot.max()) + 1 if len(tot) else 1
-    if len(prod) and int(prod.max()) < (2**62) // scale:
-        key = np.sort(prod * scale + tot)
-        p, t = key // scale, key % scale
-    else:
+    if k == 1:
+        return prod, tot
+    for _ in range(k - 2):
+        prod, last, tot = _extend(prod, last, tot, v, distinct)
+        if len(prod) == 0:
+            return empty
+    scale = int(tot.max()) + int(v[-1]) + 1
+    if int(prod.max()) * int(v[-1]) >= (2**62) // scale:  # keys would overflow: sort pairs
+        prod, last, tot = _extend(prod, last, tot, v, distinct)
+        del last
         order = np.lexsort((tot, prod))
         p, t = prod[order], tot[order]
-    first = np.ones(len(p), bool)
-    first[1:] = p[1:] != p[:-1]
-    return p[first], t[first].astype(np.int32)
+        first = np.ones(len(p), bool)
+        first[1:] = p[1:] != p[:-1]
+        return p[first], t[first]
+    ends = np.searchsorted(last, np.arange(m, dtype=np.int32),
+                           side="left" if distinct else "right")
+    key = np.empty(int(ends.sum()), np.int64)
+    off = 0
+    for j in range(m):
+        n = int(ends[j])
+        if n:
+            seg = key[off:off + n]
+            np.multiply(prod[:n], int(v[j]) * scale, out=seg)
+            seg += tot[:n]
+            seg += int(v[j])
+            off += n
+    del prod, last, tot
+    if len(key) == 0:
+        return empty
+    key.sort()  # in place
+    # each product's first entry has its smallest sum of counts
+    out_p, out_t = [], []
+    prev = -1
+    for s in range(0, len(key), _UNIQUE_CHUNK):
+        c = key[s:s + _UNIQUE_CHUNK]
+        p = c // scale
+        first = np.empty(len(p), bool)
+        first[0] = p[0] != prev
+        np.not_equal(p[1:], p[:-1], out=first[1:])
+        pf = p[first]
+        out_p.append(pf)
+        out_t.append((c[first] - pf * scale).astype(np.int32))
+        prev = int(p[-1])
+    return np.concatenate(out_p), np.concatenate(out_t)
 
 
 @functools.lru_cache(maxsize=64)

@@ -442,3 +442,27 @@ def test_search_reports_a_relations_error(capsys):
     assert out["target"]["relation_error_ppm"] == pytest.approx(23.4, abs=0.1)
     assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "1", "--top", "1"]) == 0
     assert "+23.39 ppm" in capsys.readouterr().out
+
+
+@pytest.mark.parametrize("values, k, distinct", [
+    (tuple(range(8, 30)), 1, False), (tuple(range(8, 30)), 2, False),
+    (tuple(range(8, 30)), 3, True), (tuple(range(8, 24)), 4, False),
+    (tuple(range(8, 24)), 4, True), ((9, 12, 20), 4, True),
+    ((7000, 8000, 9000, 9999), 4, False),  # keys would overflow int64: the other path
+])
+def test_product_tables_equal_a_plain_enumeration(values, k, distinct):
+    """The preallocated, sorted-in-place product table against itertools (common practice,
+    no source: a multiset of k counts, each product once with its smallest sum)."""
+    import itertools
+
+    from engine.search import _products
+
+    pick = itertools.combinations if distinct else itertools.combinations_with_replacement
+    want: dict[int, int] = {}
+    for combo in pick(values, k):
+        p = math.prod(combo)
+        want[p] = min(want.get(p, 10**9), sum(combo))
+    _products.cache_clear()
+    prods, sums = _products(values, k, distinct)
+    assert prods.tolist() == sorted(want)
+    assert sums.tolist() == [want[p] for p in sorted(want)]
