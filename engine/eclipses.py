@@ -106,7 +106,8 @@ def syzygies(sky, jd_start: float, jd_end: float) -> Syzygies:
     """Every new and full moon between two UT dates (inclusive), in time order.
 
     Refined on the fast Sun/Moon path to well under a second of time (Newton steps on the
-    elongation with its slope measured a minute apart, all syzygies at once)."""
+    elongation with its slope measured a minute apart, then chord steps with that slope; all
+    syzygies at once)."""
     lo, hi = float(min(jd_start, jd_end)), float(max(jd_start, jd_end))
     sky.check_span(lo, hi)
     half = SYNODIC_DAYS / 2
@@ -120,10 +121,10 @@ def syzygies(sky, jd_start: float, jd_end: float) -> Syzygies:
     # A syzygy close to the ephemeris' edges is refined from inside it.
     jd = np.clip(jd, span_lo + 0.01, span_hi - 0.02)
     dt = 1.0 / 1440.0
-    for _ in range(8):
+    for i in range(12):
         e0 = sky.at(jd).elongation_deg
-        e1 = sky.at(jd + dt).elongation_deg
-        slope = _wrap180(e1 - e0) / dt
+        if i < 2:  # the slope from the first two steps serves the rest (chord steps)
+            slope = _wrap180(sky.at(jd + dt).elongation_deg - e0) / dt
         step = _wrap180(e0 - target) / slope
         jd = np.clip(jd - step, span_lo + 0.01, span_hi - 0.02)
         if np.max(np.abs(step)) < 1e-7:
