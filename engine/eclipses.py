@@ -540,13 +540,14 @@ class Check:
 
 
 def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
-          progress=None, cancel=None, chunk_days: float = 3652.5) -> Check:
+          progress=None, cancel=None, chunk_days: float = 3652.5, marks=None) -> Check:
     """Compare a train's eclipse predictions with the real eclipses between two UT dates.
 
     ``method``: "pointers" or "cycle" (default: the cycle dial when the train has one, else
     its pointers). The span is worked in chunks of ``chunk_days``; ``progress(done, total)``
     is called after each, and ``cancel()`` returning true stops the work (raises
-    ``KeyboardInterrupt``). Raises ``ValueError`` when the train cannot predict eclipses the
+    ``KeyboardInterrupt``). ``marks`` overrides a cycle dial's marks (already derived, say).
+    Raises ``ValueError`` when the train cannot predict eclipses the
     way asked, :class:`SkyError` for dates outside the ephemeris."""
     train = mech.train
     have = methods(train)
@@ -604,7 +605,8 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
         p = train.pointers[name]
         lunations = int(p.per_turn)
         marks_from = "file" if p.marks is not None else "sky"
-        marks = p.marks if p.marks is not None else derive_marks(mech, sky, name, penumbral)
+        if marks is None:
+            marks = p.marks if p.marks is not None else derive_marks(mech, sky, name, penumbral)
         shown = syz.jd_ut.copy()
         month = months_at(cycle_position(mech, name, shown), syz.full, lunations)
         solar = np.isin(month, marks["solar"]) & ~syz.full
@@ -616,3 +618,150 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
     return Check(method, how, lim, marks, marks_from, lunations, train.epoch.jd_ut, jd,
                  syz.full, types, greatest, gamma, predicted.astype(bool), shown, detail,
                  sky_types)
+
+
+# --- for an interface: the eclipse situation at a date, cached by the year ----------------
+
+@dataclass(frozen=True)
+class EclipseNow:
+    """The syzygy nearest a date and what the train and the sky say of it.
+
+    ``jd_syzygy`` (real), ``kind`` ("solar" at new moon, "lunar" at full), ``days_away``
+    (syzygy minus the date), ``predicted`` (None when the train predicts no eclipses),
+    ``detail`` (Sun's distance from the node as shown, degrees, or the cycle dial's month),
+    ``sky_type`` ("" none; penumbral shown even when not counted), ``counted`` (the sky's
+    eclipse counts for the comparison), ``gamma``, ``outcome`` ("hit"... or "")."""
+
+    jd_syzygy: float
+    kind: str
+    days_away: float
+    predicted: bool | None
+    how: str
+    detail: float
+    sky_type: str
+    counted: bool
+    gamma: float
+    jd_greatest: float
+    outcome: str
+
+
+def limit_arcs(node_deg: float, lims: dict[str, float]) -> list[tuple[str, float, float]]:
+    """Arcs of ecliptic longitude (kind, start°, end°, anticlockwise) within the ecliptic
+    limits of both nodes: where the Sun must stand at a syzygy for an eclipse of that kind."""
+    out = []
+    for kind in KINDS:
+        for node in (node_deg, node_deg + 180.0):
+            out.append((kind, (node - lims[kind]) % 360.0, (node + lims[kind]) % 360.0))
+    return out
+
+
+class EclipseWatch:
+    """A train's eclipse predictions and the real eclipses around a moving date, computed a
+    year or so at a time and kept, so an interface can ask at every frame.
+
+    ``at(jd)`` gives an :class:`EclipseNow`; ``next_real(jd, +1|-1)`` and
+    ``next_predicted(jd)`` the date of the next (or previous) real eclipse, or predicted one,
+    after ``jd`` (None when the ephemeris ends first). A new readout (pointers re-set) needs a
+    new watch."""
+
+    WINDOW_DAYS = 400.0
+
+    def __init__(self, mech, sky):
+        self.mech, self.sky = mech, sky
+        self.method = None
+        have = methods(mech.train)
+        if have:
+            self.method = "cycle" if "cycle" in have else "pointers"
+        self._marks = None
+        self._check: Check | None = None
+        self._span = (np.inf, -np.inf)
+
+    @property
+    def marks(self):
+        """The cycle dial's marks (from the file, or read off the sky once), or None."""
+        name = cycle_pointer(self.mech.train)
+        if name is None:
+            return None
+        if self._marks is None:
+            p = self.mech.train.pointers[name]
+            self._marks = p.marks if p.marks is not None else derive_marks(
+                self.mech, self.sky, name, self.mech.train.eclipses.penumbral)
+        return self._marks
+
+    def _ensure(self, a: float, b: float) -> Check | None:
+        """The comparison over at least [a, b] (clipped to the ephemeris): the kept one when
+        it covers that, else a fresh one over [a, b] widened to a window around it."""
+        lo, hi = self.sky.span_jd
+        a, b = max(a, lo + 1.0), min(b, hi - 1.0)
+        if a >= b:
+            return None
+        if not (self._span[0] <= a and b <= self._span[1]):
+            pad = max(0.0, (self.WINDOW_DAYS - (b - a)) / 2)
+            a0, b0 = max(lo + 1.0, a - pad), min(hi - 1.0, b + pad)
+            self._check = self._compute(a0, b0)
+            self._span = (a0, b0)
+        return self._check
+
+    def _compute(self, a: float, b: float) -> Check:
+        if self.method is None:
+            table = sky_eclipses(self.sky, a, b)
+            n = len(table.syz)
+            pen = self.mech.train.eclipses.penumbral
+            counted = tuple("" if (t == "penumbral" and not pen) else t for t in table.type)
+            return Check("none", "the train predicts no eclipses", limits(self.mech.train),
+                         None, None, None, self.mech.train.epoch.jd_ut, table.syz.jd_ut,
+                         table.syz.full, counted, table.jd_greatest, table.gamma,
+                         np.zeros(n, dtype=bool), table.syz.jd_ut.copy(), np.full(n, np.nan),
+                         table.type)
+        return check(self.mech, self.sky, a, b, self.method, marks=self.marks)
+
+    def at(self, jd: float) -> EclipseNow | None:
+        half = SYNODIC_DAYS / 2
+        c = self._ensure(jd - half, jd + half)
+        if c is None or not len(c.jd_ut):
+            c = self._ensure(jd - self.WINDOW_DAYS / 2, jd + self.WINDOW_DAYS / 2)
+            if c is None or not len(c.jd_ut):
+                return None
+        i = int(np.argmin(np.abs(c.jd_ut - jd)))
+        sky_type = c.sky_type[i] if c.sky_type else c.real_type[i]
+        return EclipseNow(float(c.jd_ut[i]), c.kind(i), float(c.jd_ut[i] - jd),
+                          None if self.method is None else bool(c.predicted[i]), c.how,
+                          float(c.detail[i]), sky_type, bool(c.real_type[i]),
+                          float(c.gamma[i]), float(c.jd_greatest[i]),
+                          c.outcome(i) if self.method is not None else "")
+
+    def _next(self, jd: float, direction: int, want) -> float | None:
+        lo, hi = self.sky.span_jd
+        step = self.WINDOW_DAYS
+        a = jd
+        while lo + 1.0 < a < hi - 1.0:
+            b = a + direction * step
+            c = self._ensure(min(a, b), max(a, b))
+            if c is None:
+                return None
+            sel = want(c)
+            when = c.jd_greatest if want is _real else c.jd_shown
+            ok = sel & ((when > jd + 1e-6) if direction > 0 else (when < jd - 1e-6))
+            if ok.any():
+                idx = np.flatnonzero(ok)
+                return float(when[idx[0]] if direction > 0 else when[idx[-1]])
+            a = b
+        return None
+
+    def next_real(self, jd: float, direction: int = 1) -> float | None:
+        """Greatest eclipse of the next (direction +1) or previous (-1) real eclipse."""
+        return self._next(jd, 1 if direction > 0 else -1, _real)
+
+    def next_predicted(self, jd: float, direction: int = 1) -> float | None:
+        """When the train shows the next (or previous) syzygy it predicts an eclipse at."""
+        if self.method is None:
+            return None
+        return self._next(jd, 1 if direction > 0 else -1, _predicted)
+
+
+def _real(c: Check) -> np.ndarray:
+    return np.array([bool(t) for t in (c.sky_type or c.real_type)], dtype=bool)
+
+
+def _predicted(c: Check) -> np.ndarray:
+    return c.predicted.astype(bool)

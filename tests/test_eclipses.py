@@ -336,3 +336,33 @@ def test_demo_board_comments_state_what_the_command_measures(sky):
     counts = p.counts()
     assert counts["solar"]["misses"] == 0 and counts["lunar"]["misses"] == 9
     assert counts["all"]["false_alarms"] == 62 and len(p.jd_ut) == 2474
+
+
+# --- for the interface ---------------------------------------------------------------------
+
+def test_watch_reports_the_nearest_syzygy_and_jumps(sky):
+    from engine.mechanism import open_train
+
+    mech = open_train("engine/trains/tide_office.toml", sky)
+    w = E.EclipseWatch(mech, sky)
+    now = w.at(parse_date("2024-04-08 12:00"))
+    assert now.kind == "solar" and now.sky_type == "total" and now.predicted is True
+    assert now.gamma == pytest.approx(0.3431, abs=0.002) and now.outcome == "hit"
+    assert now.days_away == pytest.approx(parse_date("2024-04-08 18:21") - parse_date(
+        "2024-04-08 12:00"), abs=0.01)
+    jd = parse_date("2024-04-09")
+    # next and previous real eclipses (canon, from memory): 2024-09-18 partial lunar,
+    # 2024-04-08 total solar
+    assert w.next_real(jd) == pytest.approx(parse_date("2024-09-18 02:44"), abs=0.01)
+    assert w.next_real(jd, -1) == pytest.approx(parse_date("2024-04-08 18:17"), abs=0.01)
+    # the next one the train predicts is the 2024-09-18 full moon as its phase hand shows it
+    assert abs(w.next_predicted(jd) - parse_date("2024-09-18 02:34")) < 0.5
+    # a train without node hand or cycle dial: the sky alone
+    plain = E.EclipseWatch(open_train("engine/trains/moon_disc_59.toml", sky), sky)
+    assert plain.at(jd).predicted is None and plain.next_predicted(jd) is None
+
+
+def test_limit_arcs_straddle_both_nodes():
+    arcs = E.limit_arcs(10.0, {"solar": 18.5, "lunar": 12.25})
+    assert ("solar", 351.5, 28.5) in arcs and ("lunar", 177.75, 202.25) in arcs
+    assert len(arcs) == 4
