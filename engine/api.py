@@ -18,12 +18,25 @@ from .eclipses import Eclipse, real_eclipses, sky_eclipses, syzygies
 from .eclipses import check as check_eclipses
 from .errors import DateError, SearchError, SkyError, TrainError, WheelworkError
 from .exact import Turns, parse_fraction
-from .kinds import FRAMES, KINDS, POINTER_KINDS, PointerKind
-from .kinematics import Kinematics, LinearAngle, slot_follower_turns, solve
+from .kinds import FRAMES, KINDS, POINTER_KINDS, PointerKind, kind_key
+from .kinematics import (
+    Kinematics,
+    LinearAngle,
+    pin_slot_lead_turns,
+    slot_follower_turns,
+    solve,
+)
 from .loader import load_train, parse_train
 from .mechanism import DEFAULT_TRAIN, Mechanism, build, open_train
-from .periods import PERIODS, MeanPeriod, find_period, mean_elements
-from .ratios import PointerRatio, pointer_ratios
+from .periods import (
+    PERIOD_RELATIONS,
+    PERIODS,
+    MeanPeriod,
+    find_period,
+    mean_elements,
+    relation_error_ppm,
+)
+from .ratios import PointerRatio, SynodicRatio, pointer_ratios
 from .readout import Readout, backward_warnings, epoch_values
 from .search import (
     convergents,
@@ -41,10 +54,11 @@ __all__ = [
     "open_train", "build", "Mechanism", "DEFAULT_TRAIN",
     # turning and reading
     "Turns", "Readout", "epoch_values", "backward_warnings", "slot_follower_turns",
-    "parse_fraction",
+    "pin_slot_lead_turns", "parse_fraction",
     # ratios and periods
     "pointer_ratios", "PointerRatio", "PERIODS", "POINTER_KINDS", "MeanPeriod", "find_period",
-    "mean_elements", "KINDS", "PointerKind", "FRAMES",
+    "mean_elements", "KINDS", "PointerKind", "FRAMES", "kind_key", "SynodicRatio",
+    "PERIOD_RELATIONS", "relation_error_ppm",
     # sky truth and dates
     "Sky", "SkyState", "Site", "parse_date", "format_jd", "calendar_date",
     # drift

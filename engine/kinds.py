@@ -31,7 +31,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from .errors import TrainError
-from .periods import J2000_JD, JULIAN_CENTURY_DAYS, PERIODS, PRECESSION_DEG_PER_CY, MeanPeriod
+from .periods import (
+    J2000_JD,
+    JULIAN_CENTURY_DAYS,
+    PERIODS,
+    PLANETS,
+    PRECESSION_DEG_PER_CY,
+    MeanPeriod,
+)
 
 # --- dial frames ---------------------------------------------------------------------------
 
@@ -169,7 +176,73 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
                 swings=(*MOON_SWINGS, ("Sun's equation of centre, second harmonic",
                                        _ANOM_YEAR / 2))),
 )}
+
+
+# --- planets ---------------------------------------------------------------------------------
+# Two rows per planet. ``NAME`` is seen from the Earth (a clock or calendar dial: geocentric
+# apparent ecliptic longitude, with light time and aberration like the Sun and Moon); its mean
+# motion is the planet's own for an outer planet and the Sun's for an inner one, and its chief
+# swing is the synodic period (the retrograde loops), with the planet's and the Earth's
+# equations of centre. ``NAME_from_sun`` is an orrery arm (heliocentric ecliptic longitude,
+# geometric); its swing is the planet's equation of centre over its own year. A train file says
+# which with ``seen_from`` (see engine.loader). Which swings matter is standard planetary
+# theory, from memory; their periods come from the mean motions in engine.periods.
+SEEN_FROM = ("earth", "sun")  # where a planet pointer is seen from; the first is the default
+
+
+def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
+    sid, syn = PERIODS[f"{key}_sidereal"].days, PERIODS[f"{key}_synodic"].days
+    own = ((f"{name}'s equation of centre (its year)", sid),
+           (f"{name}'s equation of centre, second harmonic", sid / 2))
+    geo_period = ({"equinox": "tropical_year", "stars": "sidereal_year"} if inner else
+                  {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"})
+    return (
+        PointerKind(key, f"{name} seen from the Earth: its geocentric ecliptic longitude",
+                    geo_period, lambda s, k=key: s.planet_lon_deg[k], lambda m, k=key: m[k],
+                    precesses=True,
+                    swings=((f"{name}'s synodic period (retrograde loops)", syn),
+                            (f"{name}'s synodic period, second harmonic", syn / 2),
+                            (f"{name}'s synodic period, third harmonic", syn / 3),
+                            *own, SUN_SWINGS[0]),
+                    nutates=True, bodies=(key,)),
+        PointerKind(f"{key}_from_sun", f"{name} seen from the Sun: its heliocentric ecliptic "
+                    "longitude (an orrery arm)",
+                    {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"},
+                    lambda s, k=key: s.planet_helio_lon_deg[k],
+                    lambda m, k=key: m[f"{k}_from_sun"], precesses=True, swings=own,
+                    nutates=True, bodies=(key,)),
+    )
+
+
+for _p in PLANETS.values():
+    KINDS.update((row.key, row) for row in _planet_rows(_p.key, _p.name, _p.inner))
+KINDS["earth_from_sun"] = PointerKind(
+    "earth_from_sun", "the Earth seen from the Sun: its heliocentric ecliptic longitude, the "
+    "Sun's plus 180° (an orrery's Earth arm)", {"equinox": "tropical_year",
+                                                "stars": "sidereal_year"},
+    lambda s: s.planet_helio_lon_deg["earth"], lambda m: m["earth_from_sun"], precesses=True,
+    swings=SUN_SWINGS, nutates=True, bodies=("earth",))
 POINTER_KINDS = tuple(KINDS)
+
+
+def kind_key(shows: str, seen_from: str | None = None) -> str:
+    """The :data:`KINDS` key of a pointer that ``shows`` something ``seen_from`` the Earth or
+    the Sun (``None``: where it is usually seen from — the Earth, or the Sun for the Earth
+    itself). ``KeyError`` with a plain message when there is no such kind."""
+    shows = str(shows).strip().lower()
+    if seen_from is None:
+        seen_from = "sun" if shows == "earth" else "earth"
+    if seen_from not in SEEN_FROM:
+        raise KeyError(f"seen_from should be one of {', '.join(SEEN_FROM)}")
+    key = shows if seen_from == "earth" else f"{shows}_from_sun"
+    if key not in KINDS or (shows.endswith("_from_sun") and seen_from == "sun"):
+        if shows == "earth":
+            raise KeyError("the Earth is shown seen from the Sun (an orrery arm): "
+                           "seen_from = \"sun\"")
+        if shows in KINDS:
+            raise KeyError(f"'{shows}' is shown only as seen from the Earth")
+        raise KeyError(f"unknown pointer kind '{shows}'")
+    return key
 
 
 def true_value(name: str, state) -> np.ndarray:

@@ -24,7 +24,7 @@ from pathlib import Path
 
 from .errors import DateError, TrainError
 from .exact import parse_fraction
-from .kinds import DIAL_FRAMES, KINDS
+from .kinds import DIAL_FRAMES, KINDS, kind_key
 from .train import (
     FRAME,
     SET_MODES,
@@ -81,8 +81,8 @@ _KEYS = {
     "mesh": {"wheels", "ring", "module_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
                  "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
-    "pointer": {"shows", "arbor", "relative_to", "per_turn", "reversed", "set_deg", "note",
-                "lunations", "solar_months", "lunar_months"},
+    "pointer": {"shows", "seen_from", "arbor", "relative_to", "per_turn", "reversed",
+                "set_deg", "note", "lunations", "solar_months", "lunar_months"},
     "eclipses": {"solar_limit_deg", "lunar_limit_deg", "penumbral", "note"},
     "workshop": {"tooth_form", "bore_mm", "crossings", "rim_mm", "pivot_mm", "backlash_mm",
                  "division", "eccentricity_mm", "end_shake_mm", "tilt_deg", "wheels", "note"},
@@ -625,9 +625,19 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
         r.name(name, item)
         tbl = r.table(tbl, item, "pointer")
         shows = r.need(tbl, "shows", item)
-        if not isinstance(shows, str) or shows not in KINDS:
+        if not isinstance(shows, str) or shows not in KINDS and not any(
+                f"{shows}_from_sun" == k for k in KINDS):
             raise r.fail(f"{item} shows", f"unknown pointer kind {_show(shows)} (known: "
-                         + ", ".join(KINDS) + ")")
+                         + ", ".join(k for k in KINDS if not k.endswith("_from_sun"))
+                         + ", earth; planets seen from the Sun with seen_from = \"sun\")")
+        seen_from = tbl.get("seen_from")
+        if seen_from is not None:
+            seen_from = r.text(seen_from, f"{item} seen_from")
+        try:
+            shows = kind_key(shows, seen_from)
+        except KeyError as exc:
+            raise r.fail(f"{item} seen_from" if seen_from is not None else f"{item} shows",
+                         str(exc.args[0])) from None
         arbor = r.text(r.need(tbl, "arbor", item), f"{item} arbor")
         if arbor not in arbors:
             raise r.fail(f"{item} arbor", f"unknown arbor '{arbor}'")

@@ -226,15 +226,31 @@ def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]
 
     Accepts a scalar or any array shape; every value has the input's shape. Keys: ``sun``,
     ``moon``, ``phase`` (mean elongation), ``anomaly`` (Moon's mean anomaly), ``sun_anomaly``,
-    ``draconic`` (argument of latitude), ``node`` and ``apsis`` (mean perigee). ``keys``
-    limits the work to those keys (default: all).
+    ``draconic`` (argument of latitude), ``node`` and ``apsis`` (mean perigee); for each planet
+    ``NAME`` (its mean longitude seen from the Earth) and ``NAME_from_sun`` (heliocentric), and
+    ``earth_from_sun``. ``keys`` limits the work to those keys (default: all).
     """
     t = (np.asarray(jd_tt, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
     series = {"sun": _SUN_L0, "moon": _MOON_L, "phase": _MOON_D, "anomaly": _MOON_M,
               "sun_anomaly": _SUN_M, "draconic": _MOON_F, "node": _MOON_NODE}
-    wanted = series.keys() | {"apsis"} if keys is None else set(keys)
+    planet_keys = {*PLANETS, *(f"{k}_from_sun" for k in PLANETS), "earth_from_sun"}
+    wanted = series.keys() | {"apsis"} | planet_keys if keys is None else set(keys)
+    if wanted & ({*PLANETS, "earth_from_sun"} - {k for k, p in PLANETS.items() if not p.inner}):
+        wanted.add("sun")  # an inner planet's geocentric mean and the Earth's arm need it
     out = {k: _poly(t, c) for k, c in series.items() if k in wanted}
     if "apsis" in wanted:
         out["apsis"] = _poly(t, _MOON_L) - (out["anomaly"] if "anomaly" in out else
                                             _poly(t, _MOON_M))
+    # planets: heliocentric mean longitudes (JPL table 1, J2000 equinox) moved to the equinox
+    # of date by the general precession; seen from the Earth, an outer planet's mean longitude
+    # is its heliocentric one, an inner planet's the Sun's (it swings about the Sun)
+    for key, pl in PLANETS.items():
+        if key in wanted or f"{key}_from_sun" in wanted:
+            helio = pl.lon_j2000_deg + (pl.rate_deg_per_cy + PRECESSION_DEG_PER_CY) * t
+            if f"{key}_from_sun" in wanted:
+                out[f"{key}_from_sun"] = helio
+            if key in wanted:
+                out[key] = out["sun"] if pl.inner else helio
+    if "earth_from_sun" in wanted:
+        out["earth_from_sun"] = out["sun"] + 180.0
     return {k: np.mod(v, 360.0) for k, v in out.items()}

@@ -9,7 +9,7 @@ from fractions import Fraction
 
 from .kinds import KINDS, mean_rate_deg_per_day
 from .kinematics import Kinematics
-from .periods import JULIAN_CENTURY_DAYS
+from .periods import JULIAN_CENTURY_DAYS, PERIODS
 from .readout import pointer_linear
 from .train import FRAME, Train
 
@@ -57,6 +57,26 @@ class ToothNote:
 
 
 @dataclass(frozen=True)
+class SynodicRatio:
+    """A two-circle pointer's second circle: the epicycle arbor ``epicycle`` turning against its
+    carrier ``deferent`` once per synodic period, judged against the planet's mean synodic
+    period. ``drift_deg_per_century``: how far the epicycle's phase (the planet's elongation
+    from the Sun, in effect) gains on the sky's."""
+
+    pin_slot: str
+    epicycle: str
+    deferent: str
+    ratio: Fraction  # epicycle turns against the carrier per crank turn
+    period_days: float
+    target_key: str
+    target_name: str
+    target_days: float
+    target_source: str
+    error_ppm: float
+    drift_deg_per_century: float
+
+
+@dataclass(frozen=True)
 class PointerRatio:
     pointer: str
     shows: str
@@ -78,12 +98,18 @@ class PointerRatio:
     teeth: tuple[ToothNote, ...] = field(default=())
     route: str = ""  # when there are no stages: why (the crank arbor itself, no mesh path...)
     relative_route: str = ""
+    # a geocentric planet pointer driven by a pin on an epicycle: the epicycle's turning
+    # against its deferent carrier realises the synodic period (None otherwise)
+    synodic: SynodicRatio | None = None
 
     def as_json(self) -> dict:
         d = asdict(self)
         d["ratio"] = f"{self.ratio.numerator}/{self.ratio.denominator}"
         d["stages"] = [s.text() for s in self.stages]
         d["relative_stages"] = [s.text() for s in self.relative_stages]
+        if self.synodic:
+            d["synodic"]["ratio"] = (f"{self.synodic.ratio.numerator}/"
+                                     f"{self.synodic.ratio.denominator}")
         return d
 
 
@@ -226,5 +252,26 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
             years_to_one_day=years,
             direction_ok=(ratio > 0) == (target.sense > 0) if ratio else False,
             teeth=tuple(wheels_seen.values()), route=route, relative_route=rel_route,
+            synodic=synodic_ratio(train, kin, p),
         ))
     return rows
+
+
+def synodic_ratio(train: Train, kin: Kinematics, p) -> SynodicRatio | None:
+    """The epicycle of a geocentric planet pointer (its arbor the slot arbor of a pin riding
+    on a carrier), against the planet's synodic period; ``None`` for any other pointer."""
+    target = PERIODS.get(f"{p.shows}_synodic")
+    if target is None:
+        return None
+    for ps in train.pin_slots.values():
+        if ps.slot_arbor == p.arbor and ps.carrier is not None:
+            ratio = kin.rate(ps.pin_arbor, ps.carrier)
+            if not ratio:
+                return None
+            dpt = train.crank.days_per_turn
+            period = float(dpt / abs(ratio))
+            return SynodicRatio(
+                ps.name, ps.pin_arbor, ps.carrier, ratio, period, target.key, target.name,
+                target.days, target.source, (period - target.days) / target.days * 1e6,
+                (360.0 / period - 360.0 / target.days) * JULIAN_CENTURY_DAYS)
+    return None

@@ -74,15 +74,26 @@ def run(args: argparse.Namespace, console: Console) -> int:
         factors = ", ".join(f"{t.teeth}={t.factors}" for t in r.teeth)
         if factors:
             console.print(f"   teeth  {factors}", markup=False)
+        if r.synodic:
+            sy = r.synodic
+            console.print(f"   epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
+                          f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/"
+                          f"{sy.ratio.denominator} turns per crank turn, "
+                          f"{sy.period_days:.10g} d against the {sy.target_name} of "
+                          f"{sy.target_days:.10g} d: {sy.error_ppm:+.3f} ppm, "
+                          f"{sy.drift_deg_per_century:+.4f}°/century")
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:
             console.print(f"   prime counts, each needing its own cutter or dividing-plate "
                           f"row: {', '.join(primes)}", markup=False)
     sources: dict[str, list[str]] = {}
     for r in rows:
-        names = sources.setdefault(r.target_source, [])
-        if r.target_name not in names:
-            names.append(r.target_name)
+        for name, src in ((r.target_name, r.target_source),
+                          *(((r.synodic.target_name, r.synodic.target_source),)
+                            if r.synodic else ())):
+            names = sources.setdefault(src, [])
+            if name not in names:
+                names.append(name)
     for src, names in sources.items():
         console.print(f"[dim]{', '.join(names)}: {escape(src)}[/]")
     for w in warnings:
