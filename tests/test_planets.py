@@ -14,8 +14,8 @@ from engine.checks import check
 from engine.dates import parse_date
 from engine.drift import drift_series
 from engine.errors import TrainError
-from engine.kinematics import solve
 from engine.kinds import KINDS, kind_key
+from engine.kinematics import solve
 from engine.loader import load_train, parse_train
 from engine.mechanism import build, open_train
 from engine.periods import PERIODS
