@@ -34,6 +34,8 @@ COMMANDS = {
            "perigee, planets seen from the Earth and from the Sun",
     "cut": "cutting files (SVG and DXF, mm) for every wheel and pinion with a module, a plate "
            "drawing with each arbor's hole, and one sheet with everything",
+    "play": "what workshop tolerances do to each pointer: dead play, once-per-turn errors of "
+            "eccentric wheels, a Monte Carlo of hand-made trains beside the effect modelled",
 }
 ENTRY_POINTS = "wheelwork.commands"
 DEFAULT_COMMAND = "crank"  # what a bare ``wheelwork`` runs (the interface, on the demo train)

@@ -1,0 +1,175 @@
+"""``wheelwork play``: dead play, once-per-turn errors and a Monte Carlo of hand-made trains."""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import json
+
+from rich.console import Console
+from rich.markup import escape
+from rich.table import Table
+
+from ..errors import UsageError
+from ..kinematics import solve
+from ..loader import load_train
+from ..play import (
+    DEFAULT_DIVISION,
+    DEFAULT_ECCENTRICITY_MM,
+    DEFAULT_END_SHAKE_MM,
+    DEFAULT_TILT_DEG,
+    LEVER_MM,
+    PlayReport,
+    Tolerances,
+    play,
+)
+from ..train import TOOTH_FORMS
+from . import support
+
+MAX_BUILDS = 100_000
+MAX_SAMPLES = 100_000
+MAX_CELLS = 20_000_000  # builds × samples: keeps memory to a few hundred MB at most
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    support.add_train(parser)
+    parser.add_argument("--years", type=support.positive("years", 100_000), default=100.0,
+                        metavar="Y", help="span the pointers are read over (default 100)")
+    parser.add_argument("--builds", type=support.whole("builds", 10, MAX_BUILDS), default=400,
+                        metavar="N", help="trains built at random (default 400)")
+    parser.add_argument("--samples", type=support.whole("samples", 8, MAX_SAMPLES),
+                        default=256, metavar="N",
+                        help="random times each train is read at (default 256)")
+    parser.add_argument("--seed", type=support.whole("seed", 0, 2**63 - 1), default=1,
+                        metavar="S", help="random seed, for repeatable runs (default 1)")
+    parser.add_argument("--backlash-mm", type=_nonneg("backlash"), default=None, metavar="MM",
+                        help="backlash of every mesh with a module (default: the file's "
+                        "[workshop] backlash_mm, else what the tooth form leaves)")
+    parser.add_argument("--division", type=_fraction, default=None, metavar="F",
+                        help="random tooth-division error, one standard deviation, as a "
+                        f"fraction of the pitch (default {DEFAULT_DIVISION:g})")
+    parser.add_argument("--eccentricity-mm", type=_nonneg("eccentricity"), default=None,
+                        metavar="MM", help="largest eccentricity of a wheel on its arbor "
+                        f"(default {DEFAULT_ECCENTRICITY_MM:g})")
+    parser.add_argument("--end-shake-mm", type=_nonneg("end-shake"), default=None,
+                        metavar="MM", help=f"axial play of an arbor (default "
+                        f"{DEFAULT_END_SHAKE_MM:g})")
+    parser.add_argument("--tilt-deg", type=_tilt, default=None, metavar="DEG",
+                        help=f"tilt of an arbor in its pivots (default {DEFAULT_TILT_DEG:g})")
+    parser.add_argument("--lever-mm", type=support.positive("lever", 10_000), default=None,
+                        metavar="MM", help="distance from a pivot to the wheels it tilts "
+                        f"(default {LEVER_MM:g})")
+    parser.add_argument("--form", choices=TOOTH_FORMS, default=None,
+                        help="tooth form for wheels that do not choose their own (sets the "
+                        "default backlash)")
+    parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")
+
+
+def _nonneg(what: str):
+    def check(text: str) -> float:
+        try:
+            value = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{what}: not a number: {text!r}") from None
+        if not 0 <= value <= 100 or value != value:
+            raise argparse.ArgumentTypeError(f"{what}: must be 0 to 100 mm, got {text}")
+        return value
+    return check
+
+
+def _fraction(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+    if not 0 <= value < 0.5:
+        raise argparse.ArgumentTypeError(f"a fraction of the pitch, 0 to below 0.5, got {text}")
+    return value
+
+
+def _tilt(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+    if not 0 <= value <= 45:
+        raise argparse.ArgumentTypeError(f"degrees from 0 to 45, got {text}")
+    return value
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    if args.builds * args.samples > MAX_CELLS:
+        raise UsageError(f"--builds × --samples is {args.builds * args.samples:,}; "
+                                 f"keep it at most {MAX_CELLS:,}", "wheelwork play")
+    train = load_train(args.train)
+    kin = solve(train)
+    tol = Tolerances.of(train, backlash_mm=args.backlash_mm, division=args.division,
+                        eccentricity_mm=args.eccentricity_mm, end_shake_mm=args.end_shake_mm,
+                        tilt_deg=args.tilt_deg, lever_mm=args.lever_mm, form=args.form)
+    report = play(train, kin, tol, years=args.years, builds=args.builds, samples=args.samples,
+                  seed=args.seed)
+    if args.json:
+        console.print(json.dumps(to_json(report), indent=2, ensure_ascii=False), markup=False,
+                      highlight=False, soft_wrap=True)
+    else:
+        _print(report, console)
+    return 0
+
+
+def to_json(report: PlayReport) -> dict:
+    return dataclasses.asdict(report)
+
+
+def _deg(x: float | None) -> str:
+    if x is None:
+        return "—"
+    return f"{x:.3g}" if abs(x) < 1000 else f"{x:,.0f}"
+
+
+def _days(d: float | None) -> str:
+    if d is None:
+        return "never (still in its mesh)"
+    if d >= 3 * 365.25:
+        return f"{d / 365.25:.4g} years"
+    return f"{d:.4g} days"
+
+
+def _print(report: PlayReport, console: Console) -> None:
+    tol = report.tolerances
+    back = (f"{tol.backlash_mm:g} mm" if tol.backlash_mm is not None
+            else "what the tooth form leaves")
+    console.print(f"[bold]{escape(report.train)}[/] — play and errors of hand-made wheels, read "
+                  f"over {report.years:g} years in {report.builds} builds × {report.samples} "
+                  f"times (seed {report.seed})")
+    console.print(f"tolerances: backlash {back}; division σ {tol.division:g} pitch; "
+                  f"eccentricity up to {tol.eccentricity_mm:g} mm; end-shake "
+                  f"{tol.end_shake_mm:g} mm; tilt {tol.tilt_deg:g}° at {tol.lever_mm:g} mm",
+                  markup=False)
+    table = Table(box=None, pad_edge=False, collapse_padding=True,
+                  caption="degrees on the dial; dead play: all backlash taken up on reversing; "
+                  "running error: σ, 95 % and largest of the Monte Carlo, and the "
+                  "root-sum-square σ; inequality: the pin-and-slot swing ±; drift: °/century")
+    for col in ("pointer", "dead play", "σ", "95 %", "max", "RSS σ", "inequality",
+                "drift/cy"):
+        table.add_column(col, justify="left" if col == "pointer" else "right")
+    for p in report.pointers:
+        table.add_row(escape(p.pointer), _deg(p.dead_play_deg),
+                      f"{_deg(p.mc_std_deg)}±{p.mc_std_sigma_deg:.1g}", _deg(p.mc_p95_deg),
+                      _deg(p.mc_max_deg), _deg(p.rss_deg),
+                      "—" if p.inequality_deg is None else f"±{_deg(p.inequality_deg)}",
+                      _deg(p.drift_deg_per_century))
+    support.print_table(console, table)
+    for p in report.pointers:
+        console.print(f"[bold]{escape(p.pointer)}[/] ({escape(p.shows)}): {escape(p.verdict)}")
+        top = ", ".join(f"{c.mesh} {_deg(c.deg)}°" for c in p.contributions[:3])
+        if top:
+            console.print(f"  dead play from: {top}", markup=False)
+        for x in p.periodic[:3]:
+            console.print(f"  once per turn of '{x.wheel}' ({x.mesh}): ±{_deg(x.amplitude_deg)}"
+                          f"° every {_days(x.period_days)}", markup=False)
+    for f in report.flags:
+        console.print(f"[yellow]flag[/] {escape(f.item)}: {escape(f.message)}")
+        console.print(f"    → {f.fix}", markup=False)
+    for n in report.notes:
+        console.print(f"[cyan]note[/] {escape(n)}")
+    console.print(f"[dim]{escape(report.caveat)}[/]")

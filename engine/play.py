@@ -1,0 +1,423 @@
+"""Play and errors of hand-made wheels: what workshop tolerances do to each pointer.
+
+Every mesh passes motion through its pitch circles: ``z1 t1 ∓ z2 t2 = ε`` (turns; ``ε`` a
+displacement along the pitch line in *pitches*). A perfect mesh has ``ε = 0``; a hand-made one
+does not:
+
+* **backlash** ``j`` (mm) lets ``ε`` move freely over ``j / (π m)`` pitches when the drive
+  reverses — dead play;
+* an **eccentric** wheel (its pitch circle ``e`` mm off its arbor's axis) displaces its pitch
+  point by ``r asin((e / r) sin φ) ≈ e sin φ`` as it turns (``φ`` its angle from the line of
+  centres): a once-per-turn error of ``e / (π m)`` pitches;
+* **tooth division** errors place each tooth ``δ`` pitches off its place: ``ε`` jumps from
+  tooth to tooth (standard deviation ``σ`` pitches).
+
+The train turns any small ``ε`` into small turns of every arbor, linearly: solving the same
+constraints as the kinematics with ``ε`` on the right gives each arbor's *sensitivity* to each
+mesh (turns per pitch). A pointer's dead play is the sum of every mesh's backlash times its
+sensitivity (all the slack taken up at once), its once-per-turn errors are each eccentric
+wheel's amplitude carried the same way, with the period of that wheel's turning in its mesh,
+and the Monte Carlo builds many trains with random eccentricities (magnitude uniform up to the
+tolerance, random direction) and random division errors, and reads every pointer at random
+times over a span. For independent errors the spread is the root-sum-square
+``σ² = Σ (360 S)² (σ_div² + e² / (6 (π m)²))`` degrees², which the report gives beside it.
+
+Simplifications (said in the report): a pin-and-slot stage passes small errors on 1:1 (its
+speed ratio varies between ``r/(r+e)`` and ``r/(r−e)``, a few per cent); a wheel in two meshes
+counts as two independent contributions; tilt and end-shake are judged by rules of thumb. The
+figures are design estimates.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from .kinematics import Kinematics
+from .readout import pointer_linear
+from .toothform import WHEEL_THICKNESS_M, leaf_form
+from .train import FRAME, Train
+
+# --- default tolerances (each with where it comes from) --------------------------------------
+
+DEFAULT_DIVISION = 0.01
+"""Random tooth-division error, one standard deviation, as a fraction of the pitch: teeth cut
+with a good dividing plate by hand (common practice, no source)."""
+
+DEFAULT_ECCENTRICITY_MM = 0.02
+"""Largest eccentricity of a wheel on its arbor: a wheel turned true on its arbor in a small
+lathe (common practice, no source)."""
+
+DEFAULT_END_SHAKE_MM = 0.08
+"""Axial play of an arbor between its pivots (common practice, no source)."""
+
+DEFAULT_TILT_DEG = 0.25
+"""Tilt of an arbor in its pivot holes (side shake), degrees (common practice, no source)."""
+
+INVOLUTE_BACKLASH_M = 0.1
+"""Backlash of an involute mesh as cut by hand or laser, in modules, at its drawn centre
+distance (common practice, no source). Cycloidal meshes take the backlash their tooth
+proportions leave (π − wheel tooth − pinion leaf, on the pitch circle)."""
+
+LEVER_MM = 10.0
+"""How far a wheel sits from the pivot about which its arbor tilts (our assumption)."""
+
+DEPTH_RULE_M = 0.25
+"""Rule of thumb: a mesh whose centre distance can open by more than a quarter of the module
+runs out of depth (the tips ride on the tips; common practice, no source)."""
+
+FACE_M = 3.0
+"""Face width assumed for a wheel, in modules (the file has no key for it; common practice,
+no source)."""
+
+END_SHAKE_RULE = 0.5
+"""Rule of thumb: end-shake more than half the face width lets a wheel ride off its pinion's
+leaves (common practice, no source)."""
+
+CAVEAT = ("These figures are design estimates from a simple model of hand-made wheels (small "
+          "independent errors, rules of thumb for depth); measure the parts you make, and "
+          "follow proper engineering practice and local rules for anything that bears load "
+          "or is shown to the public.")
+
+
+@dataclass(frozen=True)
+class Tolerances:
+    """Workshop tolerances. ``backlash_mm`` None: from the tooth form (see
+    :data:`INVOLUTE_BACKLASH_M`)."""
+
+    backlash_mm: float | None = None
+    division: float = DEFAULT_DIVISION
+    eccentricity_mm: float = DEFAULT_ECCENTRICITY_MM
+    end_shake_mm: float = DEFAULT_END_SHAKE_MM
+    tilt_deg: float = DEFAULT_TILT_DEG
+    lever_mm: float = LEVER_MM
+    form: str | None = None  # override of the train's default tooth form
+
+    @classmethod
+    def of(cls, train: Train, **given) -> Tolerances:
+        """The train's ``[workshop]`` tolerances, then the defaults; ``given`` (not None) win."""
+        shop = train.workshop
+        base = cls(backlash_mm=shop.backlash_mm,
+                   division=DEFAULT_DIVISION if shop.division is None else shop.division,
+                   eccentricity_mm=DEFAULT_ECCENTRICITY_MM if shop.eccentricity_mm is None
+                   else shop.eccentricity_mm,
+                   end_shake_mm=DEFAULT_END_SHAKE_MM if shop.end_shake_mm is None
+                   else shop.end_shake_mm,
+                   tilt_deg=DEFAULT_TILT_DEG if shop.tilt_deg is None else shop.tilt_deg)
+        return replace(base, **{k: v for k, v in given.items() if v is not None})
+
+
+@dataclass(frozen=True)
+class MeshPlay:
+    """One mesh's tolerances in pitches, and how each pointer feels it."""
+
+    index: int
+    label: str
+    module_mm: float | None
+    form: str
+    backlash_pitch: float
+    backlash_mm: float | None
+    sensitivity: dict[str, float]  # pointer -> pointer degrees per pitch of slip in this mesh
+
+
+@dataclass(frozen=True)
+class Periodic:
+    """A once-per-turn error of an eccentric wheel at one pointer."""
+
+    wheel: str
+    mesh: str
+    amplitude_deg: float
+    period_days: float | None  # None: the wheel stands still in its mesh
+
+
+@dataclass(frozen=True)
+class Contribution:
+    mesh: str
+    deg: float
+
+
+@dataclass(frozen=True)
+class PointerPlay:
+    pointer: str
+    shows: str
+    dead_play_deg: float
+    contributions: tuple[Contribution, ...]  # largest first
+    periodic: tuple[Periodic, ...]  # largest first
+    rss_deg: float  # analytic standard deviation of the running error
+    mc_std_deg: float
+    mc_std_sigma_deg: float  # sampling error of mc_std_deg
+    mc_p95_deg: float  # 95 % of readings are within this of the perfect train
+    mc_max_deg: float
+    mc_mean_deg: float
+    inequality_deg: float | None  # amplitude of the pin-and-slot effect at this pointer
+    drift_deg_per_century: float
+    verdict: str
+
+
+@dataclass(frozen=True)
+class Flag:
+    item: str
+    message: str
+    fix: str
+
+
+@dataclass
+class PlayReport:
+    train: str
+    source: str
+    tolerances: Tolerances
+    years: float
+    builds: int
+    samples: int
+    seed: int
+    meshes: list[MeshPlay] = field(default_factory=list)
+    pointers: list[PointerPlay] = field(default_factory=list)
+    flags: list[Flag] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+    caveat: str = CAVEAT
+
+
+# --- the linear model ----------------------------------------------------------------------------
+
+def sensitivities(train: Train, kin: Kinematics) -> tuple[list[str], np.ndarray]:
+    """Each arbor's turns (relative to the frame) per pitch of slip in each mesh: an
+    (arbors × meshes) array, rows in ``train.arbors`` order, columns in mesh order."""
+    names = list(train.arbors)
+    col = {n: i for i, n in enumerate(names)}
+    rows, rhs = [], []
+    n_mesh = len(train.meshes)
+
+    def add(coeffs: dict[str, float], mesh: int | None = None):
+        row = np.zeros(len(names))
+        for k, v in coeffs.items():
+            if k != FRAME:
+                row[col[k]] += v
+        e = np.zeros(n_mesh)
+        if mesh is not None:
+            e[mesh] = 1.0
+        rows.append(row)
+        rhs.append(e)
+
+    add({train.crank.arbor: 1.0})
+    for a in train.arbors.values():
+        if a.fixed:
+            add({a.name: 1.0, a.mount: -1.0})
+    for ps in train.pin_slots.values():  # small errors pass a pin-and-slot 1:1
+        add({ps.slot_arbor: 1.0, ps.pin_arbor: -1.0})
+    for f in kin.mesh_frames:
+        m = train.meshes[f.mesh_index - 1]
+        z1, z2 = train.wheels[m.driver].teeth, train.wheels[m.driven].teeth
+        s = f.sign
+        coeffs: dict[str, float] = {}
+        for k, v in ((f.arbor1, z1), (f.arbor2, -s * z2), (f.reference, -z1 + s * z2)):
+            coeffs[k] = coeffs.get(k, 0.0) + v
+        add(coeffs, f.mesh_index - 1)
+    a = np.array(rows)
+    b = np.array(rhs)
+    sens, *_ = np.linalg.lstsq(a, b, rcond=None)
+    return names, sens
+
+
+def pointer_sensitivity(train: Train, kin: Kinematics) -> dict[str, np.ndarray]:
+    """Each pointer's degrees per pitch of slip in each mesh (as the dial reads)."""
+    names, sens = sensitivities(train, kin)
+    row = {n: sens[i] for i, n in enumerate(names)}
+    zero = np.zeros(len(train.meshes))
+    out = {}
+    for p in train.pointers.values():
+        v = row[p.arbor] - (row[p.relative_to] if p.relative_to else zero)
+        k = float(p.per_turn) * (-1.0 if p.reversed else 1.0)
+        out[p.name] = 360.0 * k * v
+    return out
+
+
+def _forms(train: Train, form: str | None) -> dict[str, str]:
+    default = form or train.workshop.tooth_form
+    return {w: train.workshop.wheel(w).form or default for w in train.wheels}
+
+
+def mesh_backlash_pitch(train: Train, mesh, forms: dict[str, str],
+                        backlash_mm: float | None) -> float:
+    """A mesh's backlash in pitches: the given millimetres, or what its tooth form leaves."""
+    if backlash_mm is not None and mesh.module_mm is not None:
+        return backlash_mm / (math.pi * mesh.module_mm)
+    z1, z2 = train.wheels[mesh.driver].teeth, train.wheels[mesh.driven].teeth
+    if mesh.internal or forms[mesh.driver] == "involute" or forms[mesh.driven] == "involute":
+        return INVOLUTE_BACKLASH_M / math.pi
+    small = min(z1, z2)
+    thick = WHEEL_THICKNESS_M + (leaf_form(small).thickness_m if z1 != z2 else
+                                 WHEEL_THICKNESS_M)
+    return (math.pi - thick) / math.pi
+
+
+def _rate_in_mesh(train: Train, kin: Kinematics, wheel: str, reference: str) -> float:
+    arbor = train.wheels[wheel].arbor
+    return float(kin.rate(arbor, None if reference == FRAME else reference))
+
+
+def _effects(train: Train, kin: Kinematics, years: float) -> dict[str, float | None]:
+    """Each pointer's pin-and-slot inequality: half its full swing over the span (degrees),
+    from the engine's own slot geometry; None where no stage moves the pointer."""
+    out: dict[str, float | None] = {}
+    if not train.pin_slots:
+        return {p: None for p in train.pointers}
+    days = years * 365.25
+    turns = np.linspace(0.0, days / float(train.crank.days_per_turn), 200_001)
+    lags = kin.slot_lags_turns(turns)
+    for p in train.pointers.values():
+        lin = pointer_linear(kin, p)
+        if not any(lin.slots):
+            out[p.name] = None
+            continue
+        wave = sum(float(w) * lags[name] for name, w in zip(kin.slot_names, lin.slots,
+                                                             strict=True) if w)
+        out[p.name] = 180.0 * float(np.max(wave) - np.min(wave))
+    return out
+
+
+# --- the report ----------------------------------------------------------------------------------
+
+def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years: float = 100.0,
+         builds: int = 400, samples: int = 256, seed: int = 1,
+         frame: str | None = None) -> PlayReport:
+    """Dead play, once-per-turn errors and a Monte Carlo of ``builds`` trains read at
+    ``samples`` random times over ``years`` from the epoch, for every pointer."""
+    from .ratios import pointer_ratios
+
+    tol = tol or Tolerances.of(train)
+    report = PlayReport(train.name, train.source, tol, years, builds, samples, seed)
+    forms = _forms(train, tol.form)
+    psens = pointer_sensitivity(train, kin)
+    frames = {f.mesh_index: f for f in kin.mesh_frames}
+    pointers = list(train.pointers)
+    no_module = [m.label for m in train.meshes if m.module_mm is None]
+    if no_module:
+        report.notes.append("no module_mm, so no eccentricity figures and backlash from the "
+                            "tooth form: " + ", ".join(no_module))
+    for m in train.meshes:
+        b = mesh_backlash_pitch(train, m, forms, tol.backlash_mm)
+        report.meshes.append(MeshPlay(
+            m.index, m.label, m.module_mm, forms[m.driver] if not m.internal else "involute",
+            b, None if m.module_mm is None else b * math.pi * m.module_mm,
+            {p: float(psens[p][m.index - 1]) for p in pointers}))
+    # per (wheel, mesh): eccentricity amplitude and division sigma in pitches, period
+    terms = []
+    periodic_of: dict[str, list[Periodic]] = {}
+    for m in train.meshes:
+        f = frames[m.index]
+        for w in (m.driver, m.driven):
+            own = train.workshop.wheel(w)
+            ecc = own.eccentricity_mm if own.eccentricity_mm is not None else tol.eccentricity_mm
+            div = own.division if own.division is not None else tol.division
+            amp = 0.0 if m.module_mm is None else ecc / (math.pi * m.module_mm)
+            rate = _rate_in_mesh(train, kin, w, f.reference)
+            period = None if rate == 0 else abs(float(train.crank.days_per_turn) / rate)
+            terms.append((m, w, amp, div, rate))
+            for p in pointers:
+                s = abs(psens[p][m.index - 1])
+                if amp and s:
+                    periodic_of.setdefault(p, []).append(
+                        Periodic(w, m.label, s * amp, period))
+    effects = _effects(train, kin, min(years, 1000.0))
+    drift = {r.pointer: r.drift_deg_per_century for r in pointer_ratios(train, kin, frame)}
+    mc = _monte_carlo(train, terms, psens, years, builds, samples, seed)
+    for p in pointers:
+        s = np.abs(psens[p])
+        contrib = sorted((Contribution(mp.label, float(s[i] * mp.backlash_pitch))
+                          for i, mp in enumerate(report.meshes)), key=lambda c: -c.deg)
+        dead = float(sum(c.deg for c in contrib))
+        var = sum((psens[p][m.index - 1]) ** 2 * (div ** 2 + amp ** 2 / 6.0)
+                  for m, _w, amp, div, _r in terms)
+        std, sig, p95, mx, mean = mc[p]
+        periodic = tuple(sorted(periodic_of.get(p, []), key=lambda x: -x.amplitude_deg))
+        report.pointers.append(PointerPlay(
+            p, train.pointers[p].shows, dead, tuple(c for c in contrib if c.deg > 0),
+            periodic, math.sqrt(var), std, sig, p95, mx, mean, effects.get(p), drift[p],
+            _verdict(p95, dead, effects.get(p), drift[p], years)))
+    report.flags = depth_flags(train, tol, forms)
+    return report
+
+
+def _verdict(p95: float, dead: float, effect: float | None, drift: float, years: float) -> str:
+    err = max(p95, dead / 2)
+    if effect:
+        ratio = effect / err if err else math.inf
+        if ratio >= 10:
+            return (f"the ±{effect:.3g}° inequality stands {ratio:.3g} times above the "
+                    "workshop's errors: it survives")
+        if ratio >= 2:
+            return (f"the ±{effect:.3g}° inequality is {ratio:.3g} times the workshop's errors: "
+                    "visible, but blurred")
+        return (f"the ±{effect:.3g}° inequality is lost in the workshop's errors "
+                f"(±{err:.3g}°): cut the largest contributors more carefully")
+    span_drift = abs(drift) * years / 100.0
+    if span_drift > err:
+        return (f"the ratio's drift ({span_drift:.3g}° over {years:g} years) outgrows the "
+                f"workshop's errors (±{err:.3g}°)")
+    return (f"the workshop's errors (±{err:.3g}°) exceed the ratio's drift over {years:g} "
+            f"years ({span_drift:.3g}°): the cutting, not the tooth counts, limits this pointer")
+
+
+def _monte_carlo(train: Train, terms, psens, years: float, builds: int, samples: int,
+                 seed: int) -> dict[str, tuple[float, float, float, float, float]]:
+    """Pointer errors of ``builds`` random trains at ``samples`` random times: (std, its
+    sampling error, 95th percentile of |error|, max |error|, mean) per pointer, degrees."""
+    rng = np.random.default_rng(seed)
+    days = years * 365.25
+    t_days = np.sort(rng.uniform(0.0, days, samples))
+    crank = t_days / float(train.crank.days_per_turn)
+    err = {p: np.zeros((builds, samples)) for p in psens}
+    for m, w, amp, div, rate in terms:
+        z = train.wheels[w].teeth
+        turns = rate * crank  # the wheel's turns in its mesh
+        eps = np.zeros((builds, samples))
+        if amp:
+            mag = amp * rng.uniform(0.0, 1.0, builds)
+            phase = rng.uniform(0.0, 2 * np.pi, builds)
+            eps += mag[:, None] * np.sin(2 * np.pi * turns[None, :] + phase[:, None])
+        if div:
+            teeth = rng.normal(0.0, div, (builds, z))
+            index = np.floor(np.mod(turns, 1.0) * z).astype(np.int64) % z
+            eps += teeth[:, index]
+        for p, s in psens.items():
+            k = s[m.index - 1]
+            if k:
+                err[p] += k * eps
+    out = {}
+    for p, e in err.items():
+        std = float(np.std(e))
+        # builds are independent; readings within a build are not: the sampling error of the
+        # spread comes from the spread of the builds' own mean squares
+        per_build = np.mean(e ** 2, axis=1)
+        sig_var = float(np.std(per_build) / math.sqrt(builds))
+        sig = sig_var / (2 * std) if std else 0.0
+        a = np.abs(e)
+        out[p] = (std, sig, float(np.quantile(a, 0.95)), float(a.max()), float(np.mean(e)))
+    return out
+
+
+def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Flag]:
+    """Meshes that tilt or end-shake can take out of depth (rules of thumb, labelled)."""
+    flags = []
+    open_mm = 2.0 * tol.lever_mm * math.tan(math.radians(tol.tilt_deg))
+    for m in train.meshes:
+        if m.module_mm is None:
+            continue
+        limit = DEPTH_RULE_M * m.module_mm
+        if open_mm > limit:
+            flags.append(Flag(m.label, f"a tilt of {tol.tilt_deg:g}° on both arbors, "
+                              f"{tol.lever_mm:g} mm from the pivots, can open the centre "
+                              f"distance by {open_mm:.3f} mm, more than a quarter module "
+                              f"({limit:.3f} mm): out of depth (rule of thumb)",
+                              "bush the pivot holes closer, keep the wheels near the plates, "
+                              "or use a larger module here"))
+        face = FACE_M * m.module_mm
+        if tol.end_shake_mm > END_SHAKE_RULE * face:
+            flags.append(Flag(m.label, f"end-shake of {tol.end_shake_mm:g} mm is more than "
+                              f"half the face width assumed ({face:.3g} mm = {FACE_M:g} "
+                              "modules): the wheel can ride off its pinion (rule of thumb)",
+                              "reduce the end-shake, or make the pinion's leaves longer than "
+                              "the wheel's face by twice the end-shake"))
+    return flags

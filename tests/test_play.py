@@ -1,0 +1,154 @@
+"""Play and errors of hand-made wheels: hand calculations, plane geometry, the Monte Carlo."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from engine.cli import main
+from engine.kinematics import solve
+from engine.loader import load_train, parse_train
+from engine.play import (
+    INVOLUTE_BACKLASH_M,
+    Tolerances,
+    depth_flags,
+    mesh_backlash_pitch,
+    play,
+)
+
+HERE = Path(__file__).resolve().parent
+SMALL = HERE / "trains" / "workshop_small.toml"
+DEMO = HERE.parent / "engine" / "trains" / "tide_office.toml"
+
+
+def _small(**tol):
+    train = load_train(SMALL)
+    return train, play(train, solve(train), Tolerances.of(train, **tol), years=2.0,
+                       builds=200, samples=128, seed=7)
+
+
+def test_dead_play_of_a_two_mesh_train_by_hand():
+    # drive pinion 10 → middle wheel 60 (module 0.5); middle pinion 8 → hand wheel 64
+    # (module 0.6); 0.05 mm backlash in each mesh (the file's [workshop] backlash_mm).
+    # By hand: the hand wheel (pitch radius 0.6 × 64 / 2 = 19.2 mm) turns freely by
+    # 0.05 / 19.2 rad in mesh 2; the middle arbor (pitch radius 0.5 × 60 / 2 = 15 mm) by
+    # 0.05 / 15 rad in mesh 1, which reaches the hand reduced by 8 / 64.
+    mesh2 = math.degrees(0.05 / 19.2)
+    mesh1 = math.degrees(0.05 / 15.0) * 8 / 64
+    train, report = _small()
+    (hand,) = report.pointers
+    assert hand.dead_play_deg == pytest.approx(mesh1 + mesh2, rel=1e-12)
+    assert [c.deg for c in hand.contributions] == pytest.approx([mesh2, mesh1], rel=1e-12)
+    assert hand.contributions[0].mesh.startswith("mesh 2")
+
+
+def test_eccentric_wheel_once_per_turn_against_plane_geometry():
+    # The hand wheel's pitch circle (radius r) sits e off its arbor's axis. The line of
+    # centres (the x axis from the arbor's axis) meets the circle at
+    # x = e cos ψ + √(r² − e² sin² ψ); that point's angle about the circle's own centre,
+    # minus the angle the wheel has turned, is the pitch-line error the mating pinion sees,
+    # divided by r: the hand's angular error (plane geometry).
+    e, r = 0.05, 0.6 * 64 / 2
+    psi = np.linspace(0, 2 * np.pi, 100_001)
+    cx, cy = e * np.cos(psi), e * np.sin(psi)
+    x = cx + np.sqrt(r * r - (e * np.sin(psi)) ** 2)
+    about_centre = np.arctan2(0 - cy, x - cx)  # the contact point, seen from the centre
+    geometric = math.degrees(np.max(np.abs(about_centre)))
+    text = SMALL.read_text() + "\n[workshop.wheels.hand_wheel]\neccentricity_mm = 0.05\n"
+    train = parse_train(text, "ecc.toml")
+    report = play(train, solve(train), Tolerances.of(train, eccentricity_mm=0.0),
+                  years=1.0, builds=20, samples=16)
+    (hand,) = report.pointers
+    (once,) = [x for x in hand.periodic if x.wheel == "hand_wheel"]
+    assert once.amplitude_deg == pytest.approx(geometric, rel=1e-5)  # first order in e / r
+    assert once.period_days == pytest.approx(48.0)  # the hand turns once in 48 crank days
+    assert [x.wheel for x in hand.periodic] == ["hand_wheel"]  # no other wheel is eccentric
+
+
+def test_monte_carlo_spread_matches_root_sum_square():
+    # independent errors: the Monte Carlo's σ must agree with Σ (360 S)² (σ² + e²/6) within
+    # its own sampling error (four standard errors)
+    for path in (SMALL, DEMO):
+        train = load_train(path)
+        report = play(train, solve(train), Tolerances.of(train, division=0.02,
+                                                         eccentricity_mm=0.03),
+                      years=50.0, builds=300, samples=96, seed=11)
+        for p in report.pointers:
+            assert p.mc_std_sigma_deg > 0
+            assert abs(p.mc_std_deg - p.rss_deg) < 4 * p.mc_std_sigma_deg, p.pointer
+            assert p.mc_p95_deg <= p.mc_max_deg
+
+
+def test_monte_carlo_is_repeatable_by_seed():
+    _, a = _small()
+    _, b = _small()
+    assert a.pointers[0].mc_std_deg == b.pointers[0].mc_std_deg
+    train = load_train(SMALL)
+    c = play(train, solve(train), years=2.0, builds=200, samples=128, seed=8)
+    assert c.pointers[0].mc_std_deg != a.pointers[0].mc_std_deg
+
+
+def test_no_errors_no_spread():
+    train, report = _small(division=0.0, eccentricity_mm=0.0)
+    assert report.pointers[0].mc_std_deg == 0.0
+    assert report.pointers[0].rss_deg == 0.0
+
+
+def test_default_backlash_from_the_tooth_forms():
+    train = load_train(SMALL)
+    forms = {w: "cycloidal" for w in train.wheels}
+    m1 = train.meshes[0]  # 10-leaf pinion (1.05 m leaves) with a wheel (1.41 m teeth)
+    assert mesh_backlash_pitch(train, m1, forms, None) == pytest.approx(
+        (math.pi - 1.41 - 1.05) / math.pi)
+    forms = {w: "involute" for w in train.wheels}
+    assert mesh_backlash_pitch(train, m1, forms, None) == pytest.approx(
+        INVOLUTE_BACKLASH_M / math.pi)
+
+
+def test_pin_and_slot_effect_from_the_engine():
+    # the demo's anomaly stage: lead up to asin(e / r) = asin(0.985 / 9) each way
+    train = load_train(DEMO)
+    report = play(train, solve(train), years=5.0, builds=20, samples=16)
+    moon = next(p for p in report.pointers if p.pointer == "moon")
+    assert moon.inequality_deg == pytest.approx(math.degrees(math.asin(0.985 / 9)), abs=1e-3)
+    sun = next(p for p in report.pointers if p.pointer == "sun")
+    assert sun.inequality_deg is None
+    assert "inequality" in moon.verdict
+
+
+def test_depth_flags_are_rules_of_thumb():
+    train = load_train(SMALL)
+    forms = {w: "cycloidal" for w in train.wheels}
+    assert not depth_flags(train, Tolerances(tilt_deg=0.1, end_shake_mm=0.05), forms)
+    # 2 × 10 mm × tan 1° = 0.349 mm > a quarter of module 0.5 and of 0.6
+    flags = depth_flags(train, Tolerances(tilt_deg=1.0), forms)
+    assert len(flags) == 2 and all("rule of thumb" in f.message for f in flags)
+    flags = depth_flags(train, Tolerances(tilt_deg=0.0, end_shake_mm=1.0), forms)
+    assert len(flags) == 2 and all("end-shake" in f.message for f in flags)
+
+
+def test_play_command_text_and_json(capsys):
+    assert main(["play", str(SMALL), "--years", "2", "--builds", "50", "--samples", "32"]) == 0
+    out = capsys.readouterr().out
+    assert "design estimates" in out and "local rules" in out
+    assert "dead play from: mesh 2" in out
+    assert main(["play", str(SMALL), "--json", "--builds", "50", "--samples", "32",
+                 "--seed", "3", "--backlash-mm", "0.1"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["seed"] == 3 and data["tolerances"]["backlash_mm"] == 0.1
+    assert "design estimates" in data["caveat"]
+    hand = data["pointers"][0]
+    assert hand["dead_play_deg"] == pytest.approx(
+        2 * (math.degrees(0.05 / 19.2) + math.degrees(0.05 / 15.0) * 8 / 64))
+
+
+def test_play_bad_options_are_usage_errors(capsys):
+    for bad in (["--division", "0.6"], ["--builds", "3"], ["--tilt-deg", "90"],
+                ["--backlash-mm", "-1"], ["--builds", "100000", "--samples", "100000"]):
+        assert main(["play", str(SMALL), *bad]) == 2, bad
+        err = capsys.readouterr().err
+        assert "usage error" in err and "\n" not in err.strip()
