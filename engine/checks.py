@@ -33,7 +33,7 @@ DEFAULT_EFFICIENCY = 0.98
 """Efficiency of one mesh of cut spur gears, a common rule (common practice, no source)."""
 
 DEFAULT_PIN_DIAMETER_MM = 1.0
-"""Pin diameter assumed for pin-and-slot stages: the train file has no key for it (yet)."""
+"""Pin diameter assumed for a pin-and-slot stage whose file gives no ``pin_diameter_mm``."""
 
 PRESSURE_ANGLE_DEG = 20.0
 UNDERCUT_TEETH = 2.0 / math.sin(math.radians(PRESSURE_ANGLE_DEG)) ** 2
@@ -175,6 +175,7 @@ class PinSlotCheck:
     max_lead_deg: float
     speed_factor_min: float
     speed_factor_max: float
+    pin_diameter_assumed: bool = False  # True when the file gives no pin_diameter_mm
 
 
 @dataclass
@@ -420,7 +421,8 @@ def _pin_slots(train: Train, pin_d: float, findings: list[Finding],
             tune = ("arm_mm, pin_radius_mm and offset_mm set the loop: the lead is at most "
                     "asin(shorter lengths / longest)")
         c = PinSlotCheck(ps.name, ps.pin_arbor, ps.slot_arbor, r, e, pin_d,
-                         far - near + pin_d, near - pin_d / 2, far + pin_d / 2, lead, lo, hi)
+                         far - near + pin_d, near - pin_d / 2, far + pin_d / 2, lead, lo, hi,
+                         ps.pin_diameter_mm is None)
         out.append(c)
         item = f"[pin_slots.{ps.name}]"
         findings.append(Finding(

@@ -713,8 +713,14 @@ class Sky:
             first = flat[bad][0]
             what = (f"{format_jd(first)} is" if bad.sum() == 1 else
                     f"{int(bad.sum())} dates are (first: {format_jd(first)})")
-            raise SkyError(f"{what} outside {self.name}, which covers {self.span_text}; "
+            raise SkyError(f"{what} outside {self.name}, which covers {self.exact_span_text}; "
                            f"{self.longer_hint}")
+
+    @property
+    def exact_span_text(self) -> str:
+        """The usable span to the minute (the file's span less its edge margin), as error
+        messages give it, so a refused date is never shown inside the span quoted."""
+        return f"{_moment_text(self.span_jd[0])} to {_moment_text(self.span_jd[1])}"
 
     @property
     def longer_hint(self) -> str:
@@ -730,11 +736,11 @@ class Sky:
         if start >= lo and end <= hi:
             return
         outside = max(0.0, min(end, lo) - start) + max(0.0, end - max(start, hi))
-        first = start if start < lo else hi
-        first_text = " ".join(format_jd(first).split(" ")[:2])
+        first_text = (f"first date outside: {_moment_text(start)}" if start < lo else
+                      f"outside from just after {_moment_text(hi)}")
         raise SkyError(f"{outside / 365.25:.1f} years of the span {_day_text(start)} to "
                        f"{_day_text(end)} lie outside {self.name}, which covers "
-                       f"{self.span_text} (first date outside: {first_text}); "
+                       f"{self.exact_span_text} ({first_text}); "
                        f"{self.longer_hint}")
 
     # The batched pipeline; see the module docstring for each approximation and its size.
@@ -845,6 +851,13 @@ def _day_text(jd: float) -> str:
     text = format_jd(jd)
     day = text.split(" ")[0]
     return f"{day} ({text.split(' = ')[1]})" if " = " in text else day
+
+
+def _moment_text(jd: float) -> str:
+    """``2053-10-08 00:00 UT``, with the BC year where there is one."""
+    text = format_jd(jd)
+    moment = " ".join(text.split(" ")[:3])
+    return f"{moment} ({text.split(' = ')[1]})" if " = " in text else moment
 
 
 def _delta_t(t) -> np.ndarray:

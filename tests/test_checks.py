@@ -363,3 +363,18 @@ def test_carried_pin_slot_extremes_by_hand():
     assert c.speed_factor_min == pytest.approx((10 - 7.23 * 2.6) / 2.77, rel=1e-6)
     assert c.speed_factor_max == pytest.approx((10 + 7.23 * 2.6) / 17.23, rel=1e-6)
     assert any("leads or lags 'a'" in f.message for f in report.findings)
+
+
+def test_pin_diameter_is_called_assumed_only_when_the_file_has_none(tmp_path, capsys):
+    from engine.cli import main
+
+    root = Path(__file__).resolve().parent.parent
+    text = (root / "engine" / "trains" / "tide_office.toml").read_text()
+    assert main(["check", str(root / "engine" / "trains" / "tide_office.toml")]) in (0, 1)
+    out = " ".join(capsys.readouterr().out.split())
+    assert "pin Ø 1.2 mm)" in out and "assumed" not in out.split("pin Ø 1.2 mm")[1][:10]
+    without = tmp_path / "nopin.toml"
+    without.write_text(text.replace("pin_diameter_mm = 1.2\n", ""))
+    assert main(["check", str(without)]) in (0, 1)
+    out = " ".join(capsys.readouterr().out.split())
+    assert "pin Ø 1 mm assumed)" in out

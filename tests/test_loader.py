@@ -416,3 +416,16 @@ set_deg = 0
     assert rows["rel"].relative_stages and rows["rel"].relative_route == ""
     assert [s.kind for s in rows["carried"].stages] == ["mesh", "fixed"]
     assert rows["carried"].stages_multiply_out
+
+
+def test_train_files_named_in_the_guides_exist():
+    """Every train file path the contributor guide, README and docs name is there."""
+    import re
+
+    root = TRAINS.parent.parent
+    named = 0
+    for md in [root / "DEVELOPERS.md", root / "README.md", *sorted((root / "docs").glob("*.md"))]:
+        for path in re.findall(r"(?<![\w/.-])((?:engine|tests)/[\w/.-]+\.toml)", md.read_text()):
+            named += 1
+            assert (root / path).is_file(), f"{md.name} names {path}, which does not exist"
+    assert named >= 3

@@ -237,7 +237,17 @@ def test_span_check_says_how_much_is_outside(sky):
         sky.check_span(start, start + 50 * 365.25)
     msg = str(err.value)
     assert "22.2 years of the span 2026-01-01 to 2076-01-01" in msg
-    assert "first date outside: 2053-10-08" in msg and "wheelwork[de440]" in msg
+    assert "outside from just after 2053-10-08 00:00 UT" in msg and "wheelwork[de440]" in msg
+
+
+def test_edge_message_never_shows_a_refused_date_inside_the_span(sky):
+    """2053-10-08 12:00 lies past the usable end (2053-10-08 00:00, the file's last day less a
+    day's margin): the message gives the span to the minute, so it cannot seem to contain it."""
+    with pytest.raises(SkyError) as err:
+        sky.at(parse_date("2053-10-08 12:00"))
+    msg = str(err.value)
+    assert "2053-10-08 12:00 UT (Gregorian) is outside" in msg
+    assert "which covers 1899-07-30 00:00 UT to 2053-10-08 00:00 UT;" in msg
 
 
 @pytest.mark.parametrize("args, fragment", [

@@ -137,7 +137,8 @@ def _print(report: CheckReport, console: Console) -> None:
     for p in report.pin_slots:
         console.print(f"pin-and-slot [bold]{escape(p.name)}[/]: slot {p.slot_length_mm:.3g} mm long "
                       f"({p.slot_inner_mm:.3g}–{p.slot_outer_mm:.3g} mm from the slot axis, pin "
-                      f"Ø {p.pin_diameter_mm:g} mm assumed); lead up to ±{p.max_lead_deg:.3g}°; "
+                      f"Ø {p.pin_diameter_mm:g} mm{' assumed' if p.pin_diameter_assumed else ''}"
+                      f"); lead up to ±{p.max_lead_deg:.3g}°; "
                       f"speed ×{p.speed_factor_min:.4g} to ×{p.speed_factor_max:.4g}",
                       markup=True)
     counts = ", ".join(f"{report.count(lv)} {lv}{'s' if report.count(lv) != 1 else ''}"
