@@ -668,15 +668,17 @@ def test_nutation_interpolation_error_bound():
 
 
 def test_precession_interpolation_error():
-    # Linear interpolation of the (bias, precession, obliquity) rotation on a 16-day grid
-    # against the exact rotation at each date: within 2e-11 per element (0.000004"; measured
-    # 1.4e-11, which is h²/8 times the square of the precession rate).
-    from engine.sky import _ecliptic_rotation, _ecliptic_rotation_exact
+    # A batch's (bias, precession, obliquity) rotation as one cubic in time through four
+    # Chebyshev points of its span, against the exact rotation at each date: within 1e-12
+    # per element (0.0000002") for the longest span it is used on (8,192 days; measured
+    # 2.9e-13), and exact for a span longer than that.
+    from engine.sky import _ROT_POLY_SPAN_DAYS, _ecliptic_rotation, _ecliptic_rotation_exact
 
     for start in (2415020.5, 2451545.0, 2469000.5, 1000000.5):
-        jd = start + np.arange(0, 3000, 0.5) + 0.37
-        diff = np.max(np.abs(_ecliptic_rotation(jd) - _ecliptic_rotation_exact(jd)))
-        assert diff < 2e-11, (start, diff)
+        for step in (0.25, 2.0, 3.0):
+            jd = start + np.arange(4096) * step + 0.37
+            diff = np.max(np.abs(_ecliptic_rotation(jd) - _ecliptic_rotation_exact(jd)))
+            assert diff < (1e-12 if step * 4096 <= _ROT_POLY_SPAN_DAYS else 1e-15), (start, diff)
 
 
 def test_skyfield_nutation_hook_still_there():
