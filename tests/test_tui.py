@@ -741,3 +741,146 @@ async def test_dial_shows_node_and_perigee_as_the_readings_give_them():
         assert app.screen.query_one(SkyDial).elements == {}
         key = text_of(app.screen.query_one("#dial-key"))
         assert "node" not in key and "perigee" not in key
+
+
+# --- fast keys: dialogs and the palette close once, the bench is never popped --------------
+
+def _key_event(key: str):
+    import unicodedata
+
+    from textual import events
+    from textual.keys import REPLACED_KEYS, _character_to_key, _get_unicode_name_from_key
+
+    if len(key) == 1 and not key.isalnum():
+        key = _character_to_key(key)
+    try:
+        char = unicodedata.lookup(_get_unicode_name_from_key(REPLACED_KEYS.get(key, key)))
+    except KeyError:
+        char = key if len(key) == 1 else None
+    return events.Key(key, char)
+
+
+async def _type_fast(app, keys, gaps_s) -> None:
+    """Send keys as a terminal does: straight to the driver, not waiting for the app to
+    handle one before the next (Pilot.press waits)."""
+    for key, gap in zip(keys, gaps_s, strict=True):
+        event = _key_event(key)
+        event.set_sender(app)
+        app._driver.send_message(event)
+        await asyncio.sleep(gap)
+
+
+def _assert_bench_on_the_bottom(app) -> None:
+    stack = app.screen_stack
+    assert isinstance(stack[0], BenchScreen), stack
+    assert sum(isinstance(s, BenchScreen) for s in stack) == 1, stack
+    assert app.is_running
+
+
+@pytest.mark.parametrize("opener,set_value", [
+    ("g", ("#date-input", "2030-01-01")), ("s", ("#step-input", "3")), ("ctrl+p", None)])
+@pytest.mark.parametrize("gap_s,cranking", [(0.0, False), (0.06, True)])
+@sync
+async def test_enter_twice_closes_a_dialog_once(opener, set_value, gap_s, cranking):
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        if cranking:  # as a user found it: a 60 ms gap is enough while cranking
+            await pilot.press("space")
+        await pilot.press(opener)
+        await pilot.pause(0.2)
+        if set_value is not None:
+            app.screen.query_one(set_value[0]).value = set_value[1]
+        else:
+            text = list("crank 100 turns forward")
+            await _type_fast(app, text, [0.01] * len(text))
+            await pilot.pause(0.3)
+        await _type_fast(app, ["enter", "enter"], [gap_s, 0.0])
+        await pilot.pause(0.3)
+        _assert_bench_on_the_bottom(app)
+        assert len(app.screen_stack) == 1
+        if cranking:
+            await pilot.press("space")
+            assert not bench(app).running
+        elif opener == "g":
+            assert app.session.jd_now() == pytest.approx(parse_date("2030-01-01"), abs=1e-6)
+        elif opener == "s":
+            assert app.session.step == 3
+        else:
+            assert whole_turns(app) == 100
+
+
+@pytest.mark.parametrize("gap_s", [0.0, 0.01, 0.02, 0.03])
+@sync
+async def test_palette_page_keys_right_after_opening(gap_s):
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await _type_fast(app, ["ctrl+p", "pagedown", "pageup", "end", "down"],
+                         [gap_s, 0.0, 0.0, 0.0, 0.0])
+        await pilot.pause(0.3)
+        _assert_bench_on_the_bottom(app)
+        await pilot.press("escape")
+        await pilot.pause()
+        assert len(app.screen_stack) == 1
+
+
+@sync
+async def test_palette_runs_its_command_once_on_a_double_enter():
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("ctrl+p")
+        await pilot.pause()
+        await pilot.press(*"crank 100 turns forward")
+        await pilot.pause(0.3)
+        await _type_fast(app, ["enter", "enter", "enter"], [0.0, 0.0, 0.0])
+        await pilot.pause(0.3)
+        _assert_bench_on_the_bottom(app)
+        assert whole_turns(app) == 100
+
+
+#: what a storm types: every key bound on any screen (but q, which quits), what dialogs and the
+#: palette take, and keys that open and close them, weighted towards the openers
+STORM_KEYS = sorted({k.strip() for screen in (BenchScreen, DriftScreen, HelpScreen)
+                     for b in screen.BINDINGS for k in b.key.split(",")} - {"q"}
+                    | {"enter", "escape", "tab", "backspace", "home", "end", "pageup",
+                       "pagedown", "1", "2", "0", "/", "a", "n", "x", "ctrl+p"})
+STORM_OPENERS = ["ctrl+p", "g", "s", "question_mark", "enter", "escape"]
+
+
+def key_storm(seed: int, n: int = 2000) -> tuple[list[str], list[float]]:
+    """A seeded storm of ``n`` keys with gaps of 0–60 ms (mostly a few ms); STORM_SEED in the
+    environment picks another seed (to count runs survived)."""
+    import random
+
+    rng = random.Random(seed)
+    keys = [rng.choice(STORM_OPENERS) if rng.random() < 0.3 else rng.choice(STORM_KEYS)
+            for _ in range(n)]
+    gaps = [rng.choice((0.0, 0.0, 0.0, 0.002, 0.005, 0.01, 0.03, 0.06)) for _ in range(n)]
+    return keys, gaps
+
+
+async def survive_storm(seed: int, n: int = 2000, size=(100, 30)) -> None:
+    app = make_app()
+    keys, gaps = key_storm(seed, n)
+    quits = []
+    app.action_quit = lambda: quits.append(1)  # the palette's quit: a storm carries on
+    async with app.run_test(size=size) as pilot:
+        for start in range(0, n, 100):
+            await _type_fast(app, keys[start:start + 100], gaps[start:start + 100])
+            await pilot.pause(0.05)
+            _assert_bench_on_the_bottom(app)
+        for _ in range(6):  # close whatever is open
+            await pilot.press("escape")
+            await pilot.pause(0.05)
+        _assert_bench_on_the_bottom(app)
+        bench(app).action_run() if bench(app).running else None
+        await pilot.press("right")
+        await pilot.pause()
+        check_readout(app)
+    assert app.return_code in (None, 0)
+
+
+def test_key_storm_of_2000_keys_with_every_binding_and_the_palette():
+    assert {"ctrl+p", "g", "s", "d", "space", "enter", "escape"} <= set(STORM_KEYS)
+    import os
+
+    asyncio.run(survive_storm(seed=int(os.environ.get("STORM_SEED", "2026"))))

@@ -3,16 +3,21 @@
 from __future__ import annotations
 
 from functools import partial
+from itertools import count
 from pathlib import Path
 
+from textual import on
 from textual.app import App, SystemCommand
+from textual.await_complete import AwaitComplete
+from textual.command import CommandList, CommandPalette
 from textual.screen import Screen
+from textual.widgets import Button, Input, OptionList
 
 from engine.errors import WheelworkError
 from engine.mechanism import open_train
 from engine.sky import Site, Sky
 
-from .screens import BenchScreen, long_help
+from .screens import BenchScreen, ClosesOnce, long_help
 from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
 
 
@@ -35,6 +40,51 @@ def engine_findings(mech) -> list[tuple[str, str, str, str]]:
     return items
 
 
+class Palette(ClosesOnce, CommandPalette):
+    """The command palette, safe under fast keys: it closes (and runs its command) once, and
+    list keys that arrive before the list has a size are ignored."""
+
+    _ids = count(1)
+
+    def __init__(self):
+        # each its own id: a palette opened while the last one is still being removed
+        # must not clash with it
+        super().__init__(id=f"palette-{next(self._ids)}")
+
+    @on(Input.Submitted)
+    @on(Input.Changed)
+    @on(Button.Pressed)
+    @on(OptionList.OptionSelected)
+    def _closed_already(self, event) -> None:
+        """Runs before the palette's own handlers: once closing, what was typed behind the
+        closing key is dropped: a second Enter (or the selection it made) would run the
+        chosen command again, and a letter would start a search in a palette being taken
+        apart."""
+        if self.closing:
+            event.stop()
+            event.prevent_default()
+
+    # a search that was already under way when the palette closed finds its list gone
+    def _refresh_command_list(self, *args, **kwargs) -> None:
+        if not self.closing:
+            super()._refresh_command_list(*args, **kwargs)
+
+    def _watch__list_visible(self) -> None:
+        if not self.closing:
+            super()._watch__list_visible()
+
+    async def _watch__show_busy(self) -> None:
+        if not self.closing:
+            await super()._watch__show_busy()
+
+    def _action_command_list(self, action: str) -> None:
+        # PageDown and friends read the list's line map, which exists only once the list
+        # has been laid out; a key typed in the first frames after ctrl+p comes earlier
+        if self.closing or self.query_one(CommandList).scrollable_content_region.area == 0:
+            return
+        super()._action_command_list(action)
+
+
 class WheelworkApp(App):
     """A train on the bench against the true sky."""
 
@@ -46,8 +96,19 @@ class WheelworkApp(App):
         super().__init__()
         self.session = session
 
-    def on_mount(self) -> None:
-        self.push_screen(BenchScreen(self.session))
+    def get_default_screen(self) -> Screen:
+        return BenchScreen(self.session)
+
+    def pop_screen(self) -> AwaitComplete:
+        """Never pop the bench: it is the base of the stack (a stray second dismissal would
+        otherwise leave a blank app)."""
+        if len(self.screen_stack) <= 1:
+            return AwaitComplete.nothing()
+        return super().pop_screen()
+
+    def action_command_palette(self) -> None:
+        if self.use_command_palette and not CommandPalette.is_open(self):
+            self.push_screen(Palette())
 
     def get_system_commands(self, screen: Screen):
         yield from super().get_system_commands(screen)

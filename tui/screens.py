@@ -13,6 +13,7 @@ from rich.table import Table
 from rich.text import Text
 from textual import on, work
 from textual.app import ComposeResult
+from textual.await_complete import AwaitComplete
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
@@ -167,6 +168,20 @@ class BenchScreen(Screen):
         yield TrainView(s, self._layout, id="train")
         yield Footer(compact=True)
 
+    @property
+    def _views(self) -> list:
+        """The widgets that draw a :class:`Now` (found once; none while the screen closes).
+        A new display is one more widget with a ``show(now)`` method, listed here."""
+        if self._view_list is None:  # the status line last: it also shows the run state
+            self._view_list = [self.query_one(cls) for cls in (SkyDial, TrainView, PhaseDiscs,
+                                                               Readings, Status)]
+        return self._view_list
+
+    _view_list: list | None = None
+
+    def on_unmount(self) -> None:
+        self._stop()
+
     def on_mount(self) -> None:
         self.query_one("#dial-pane").border_title = "sky dial"
         self.query_one("#info").border_title = "readings"
@@ -179,6 +194,9 @@ class BenchScreen(Screen):
 
     # --- drawing -------------------------------------------------------------------------
     def refresh_view(self) -> None:
+        if not self.is_attached or not self.children:  # the app is closing
+            self._stop()
+            return
         try:
             now = self.session.now()
         except WheelworkError as exc:
@@ -189,11 +207,10 @@ class BenchScreen(Screen):
             self._stop()
             self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error")
             return
-        self.query_one(SkyDial).show(now)
-        self.query_one(TrainView).show(now)
-        self.query_one(PhaseDiscs).show(now)
-        self.query_one(Readings).show(now)
-        self.query_one(Status).show(now, self.running)
+        views = self._views
+        for view in views[:-1]:
+            view.show(now)
+        views[-1].show(now, self.running)
 
     async def _frames(self) -> None:
         """Crank continuously at FPS frames a second. A late frame runs at once and the
@@ -300,10 +317,56 @@ class BenchScreen(Screen):
         self.app.push_screen(HelpScreen(self.BINDINGS))
 
 
-class DateDialog(ModalScreen[float | None]):
-    """Ask for a date; a bad or out-of-range date is reported here and the dialog stays."""
+class ClosesOnce:
+    """For screens on top of the bench: a screen closes once, and only while it is the one on
+    top. Keys typed quickly can reach a screen after it has closed (two Enters, or Enter then
+    Escape, both queued before the first is handled); without this each would pop a screen,
+    the second one the bench itself. Mix in before the Textual screen class."""
+
+    closing = False
+
+    def dismiss(self, result=None) -> AwaitComplete:
+        if self.closing or self.app.screen is not self:
+            return AwaitComplete.nothing()
+        self.closing = True
+        return super().dismiss(result)
+
+
+class Dialog(ClosesOnce, ModalScreen):
+    """A small dialog over the bench: Escape cancels (returns None); :meth:`accept` closes it
+    with a result. Subclasses read their inputs in :meth:`submit` and call :meth:`accept` or
+    :meth:`reject` (which shows the message in the label ``#<error_id>`` and keeps the dialog
+    open, with what the user typed)."""
 
     BINDINGS = [Binding("escape", "cancel", "cancel")]
+    error_id = "dialog-error"
+
+    def accept(self, result) -> None:
+        self.dismiss(result)
+
+    def reject(self, message: str) -> None:
+        error = self.query_one(f"#{self.error_id}", Label)
+        error.update(Text(message))
+        error.add_class("-shown")
+
+    def read(self) -> None:  # pragma: no cover - overridden
+        """Read the inputs; call accept() or reject()."""
+
+    @on(Input.Submitted)
+    @on(Button.Pressed, "#ok")
+    def submit(self) -> None:
+        if not self.closing:  # a second Enter queued behind the first does nothing
+            self.read()
+
+    @on(Button.Pressed, "#cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class DateDialog(Dialog):
+    """Ask for a date; a bad or out-of-range date is reported here and the dialog stays."""
+
+    error_id = "date-error"
 
     def __init__(self, session: Session):
         super().__init__()
@@ -321,29 +384,21 @@ class DateDialog(ModalScreen[float | None]):
                 yield Button("Go", variant="primary", id="ok")
                 yield Button("Cancel", id="cancel")
 
-    @on(Input.Submitted)
-    @on(Button.Pressed, "#ok")
-    def submit(self) -> None:
+    def read(self) -> None:
         text = self.query_one("#date-input", Input).value
-        error = self.query_one("#date-error", Label)
         try:
             jd = parse_date(text)
             self.session._check_jd(jd)
         except WheelworkError as exc:
-            error.update(str(exc))
-            error.add_class("-shown")
+            self.reject(str(exc))
             return
-        self.dismiss(jd)
-
-    @on(Button.Pressed, "#cancel")
-    def action_cancel(self) -> None:
-        self.dismiss(None)
+        self.accept(jd)
 
 
-class StepDialog(ModalScreen[Fraction | None]):
+class StepDialog(Dialog):
     """Ask for the crank step used by +/−: a whole number, a decimal or a fraction p/q."""
 
-    BINDINGS = [Binding("escape", "cancel", "cancel")]
+    error_id = "step-error"
 
     def __init__(self, step: Fraction):
         super().__init__()
@@ -359,11 +414,8 @@ class StepDialog(ModalScreen[Fraction | None]):
                 yield Button("Set", variant="primary", id="ok")
                 yield Button("Cancel", id="cancel")
 
-    @on(Input.Submitted)
-    @on(Button.Pressed, "#ok")
-    def submit(self) -> None:
+    def read(self) -> None:
         text = self.query_one("#step-input", Input).value
-        error = self.query_one("#step-error", Label)
         try:
             step = parse_fraction(text.strip())
             if step <= 0:
@@ -371,17 +423,12 @@ class StepDialog(ModalScreen[Fraction | None]):
             if step > 10**9:
                 raise ValueError("the step must be at most 1,000,000,000 turns")
         except ValueError as exc:
-            error.update(str(exc))
-            error.add_class("-shown")
+            self.reject(str(exc))
             return
-        self.dismiss(step)
-
-    @on(Button.Pressed, "#cancel")
-    def action_cancel(self) -> None:
-        self.dismiss(None)
+        self.accept(step)
 
 
-class HelpScreen(ModalScreen[None]):
+class HelpScreen(ClosesOnce, ModalScreen[None]):
     """The keys, and the solar caution."""
 
     BINDINGS = [Binding("escape,q,question_mark,f1", "close", "close")]
@@ -432,7 +479,7 @@ PLOT_STYLES = ("#f2b632", "#7fd4ff", "#c678dd", "#98c379", "#e06c75", "#56b6c2",
 THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
 
 
-class DriftScreen(Screen):
+class DriftScreen(ClosesOnce, Screen):
     """Each pointer's error over the coming decades, computed in a background worker."""
 
     AUTO_FOCUS = None
@@ -621,7 +668,7 @@ class DriftScreen(Screen):
     def action_back(self) -> None:
         self._run += 1
         self.workers.cancel_group(self, "drift")
-        self.app.pop_screen()
+        self.dismiss()
 
     def action_cancel(self) -> None:
         if not self.computing:
