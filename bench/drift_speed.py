@@ -16,17 +16,18 @@ import resource
 import time
 import tracemalloc
 
-from engine.drift import YEAR_DAYS, drift_series
+from engine.drift import drift_series
 from engine.mechanism import open_train
+from engine.periods import JULIAN_YEAR_DAYS
 from engine.sky import Sky
 
 
 def _run(mech, sky, years: float, step: str, **kw):
-    start = max(sky.span_jd[0], mech.train.epoch.jd_ut - 200 * YEAR_DAYS)
-    end = start + years * YEAR_DAYS
+    start = max(sky.span_jd[0], mech.train.epoch.jd_ut - 200 * JULIAN_YEAR_DAYS)
+    end = start + years * JULIAN_YEAR_DAYS
     if end > sky.span_jd[1]:
         start = sky.span_jd[0]
-        end = start + years * YEAR_DAYS
+        end = start + years * JULIAN_YEAR_DAYS
     t0 = time.perf_counter()
     result = drift_series(mech, sky, start, end, step, **kw)
     return time.perf_counter() - t0, result

@@ -22,6 +22,7 @@ from skyfield import almanac, eclipselib
 
 from engine import eclipses as E
 from engine.dates import parse_date
+from engine.periods import JULIAN_YEAR_DAYS
 from engine.sky import Sky, _timescale, eclipse_vectors
 
 START, END = "1900-01-02", "2049-12-30"
@@ -85,7 +86,7 @@ def main() -> int:
     E.sky_eclipses(sky, parse_date("2000-01-01"), parse_date("2001-01-01"))  # warm caches
     t_ours, mine = _best(lambda: ours(sky), args.repeat)
     span = parse_date(END) - parse_date(START)
-    peer_end = min(parse_date(END), parse_date(START) + args.peer_years * 365.25)
+    peer_end = min(parse_date(END), parse_date(START) + args.peer_years * JULIAN_YEAR_DAYS)
     t_part, theirs = _best(lambda: peer(sky, peer_end), 1)
     t_peer = t_part * span / (peer_end - parse_date(START))
     a = [(e.kind, e.type) for e in mine if e.jd_ut <= peer_end]

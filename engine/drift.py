@@ -78,10 +78,9 @@ from .fitting import (
 )
 from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, sky_at, true_value
 from .kinematics import pin_slot_lead_turns
-from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
+from .periods import JULIAN_CENTURY_DAYS, PERIODS
 
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
-YEAR_DAYS = JULIAN_YEAR_DAYS
 MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, name a step
 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted

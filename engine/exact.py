@@ -77,6 +77,16 @@ def _read_fraction(value: object, prefix: str) -> Fraction:
     raise ValueError(f"{prefix}expected {_HINT}, got {_shown(value)}")
 
 
+def ratio_text(value: Fraction) -> str:
+    """An exact ratio as ``p/q`` (``p`` alone for a whole number), as tables and JSON show it.
+
+    >>> ratio_text(Fraction(1388, 47)), ratio_text(Fraction(4))
+    ('1388/47', '4')
+    """
+    return f"{value.numerator}/{value.denominator}" if value.denominator != 1 else \
+        str(value.numerator)
+
+
 def fraction_text(value: Fraction) -> str:
     """An exact number as people write it: ``365.2422`` for a terminating decimal, else "p/q".
 

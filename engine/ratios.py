@@ -9,11 +9,9 @@ from fractions import Fraction
 
 from .kinds import KINDS, mean_rate_deg_per_day
 from .kinematics import Kinematics
-from .periods import JULIAN_CENTURY_DAYS, PERIODS
+from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
 from .readout import pointer_linear
 from .train import FRAME, Train
-
-DAYS_PER_YEAR = 365.25  # Julian year, the unit of "years" in reports
 
 
 @dataclass(frozen=True)
@@ -234,7 +232,7 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
         years = None
         if p.shows == "phase" and ratio:
             gain = abs(target_days / period - 1.0)
-            years = (1.0 / gain / DAYS_PER_YEAR) if gain else float("inf")
+            years = (1.0 / gain / JULIAN_YEAR_DAYS) if gain else float("inf")
         wheels_seen: dict[str, ToothNote] = {}
         for s in [*stages, *rel_stages]:
             if s.kind != "mesh":

@@ -33,9 +33,8 @@ import numpy as np
 from .errors import SearchError
 from .exact import fraction_text, parse_fraction
 from .kinds import KINDS
-from .periods import JULIAN_CENTURY_DAYS, MeanPeriod, find_period
+from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, MeanPeriod, find_period
 
-JULIAN_YEAR_DAYS = 365.25
 MAX_STAGES = 4
 DEFAULT_WHEELS = (8, 150)
 DEFAULT_PINIONS = (8, 150)
@@ -133,7 +132,7 @@ def make_target(period=None, ratio=None, cycle: str | None = None,
         raise SearchError(str(exc.args[0])) from None
     # a relation's own exact length; else the period as the published rate gives it (a
     # decimal), not the float's binary expansion
-    days = mp.exact_days or Fraction(360) * Fraction(36525) / Fraction(
+    days = mp.exact_days or Fraction(360) * Fraction(JULIAN_CENTURY_DAYS) / Fraction(
         repr(abs(mp.deg_per_century)))
     return Target(crank / days, crank, mp.name, mp)
 
@@ -255,7 +254,7 @@ def make_constraints(stages: int | Iterable[int] | str = DEFAULT_STAGES,
 
 
 @dataclass(frozen=True)
-class Stage:
+class WheelPair:
     """One mesh of the train: ``driver`` teeth driving ``driven`` teeth."""
 
     driver: int
@@ -270,7 +269,7 @@ class Stage:
 class TrainResult:
     """A train found by the search, with its exact ratio and its errors against the target."""
 
-    stages: tuple[Stage, ...]
+    stages: tuple[WheelPair, ...]
     ratio: Fraction  # output turns per crank turn
     error_ppm: float  # (ratio / target - 1) * 1e6; positive: the output runs fast
     drift_deg_per_century: float  # signed, of the output pointer against the target
@@ -312,7 +311,7 @@ def _rel_error(ratio: Fraction, target: Target) -> Fraction:
     return ratio / target.ratio - 1
 
 
-def _make_result(stages: tuple[Stage, ...], target: Target) -> TrainResult:
+def _make_result(stages: tuple[WheelPair, ...], target: Target) -> TrainResult:
     ratio = Fraction(1)
     for s in stages:
         ratio *= s.ratio
@@ -331,9 +330,9 @@ def _make_result(stages: tuple[Stage, ...], target: Target) -> TrainResult:
     )
 
 
-def _pair_stages(drivers: tuple[int, ...], driven: tuple[int, ...]) -> tuple[Stage, ...]:
-    # Stage order does not change the ratio; the canonical form pairs the counts in sorted order.
-    return tuple(Stage(a, b) for a, b in zip(sorted(drivers), sorted(driven), strict=True))
+def _pair_stages(drivers: tuple[int, ...], driven: tuple[int, ...]) -> tuple[WheelPair, ...]:
+    # The order of the pairs does not change the ratio; the canonical form pairs the counts in sorted order.
+    return tuple(WheelPair(a, b) for a, b in zip(sorted(drivers), sorted(driven), strict=True))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -477,7 +476,7 @@ class _Side:
         self.num, self.num_sum = _products(self.drv_vals, k, self.distinct)
         self.den, self.den_sum = _products(self.dvn_vals, k, self.distinct)
 
-    def best_train(self, pairs_n: np.ndarray, pairs_d: np.ndarray) -> tuple[Stage, ...] | None:
+    def best_train(self, pairs_n: np.ndarray, pairs_d: np.ndarray) -> tuple[WheelPair, ...] | None:
         """Fewest-teeth valid train among the given (numerator, denominator) index pairs."""
         lower = self.num_sum[pairs_n] + self.den_sum[pairs_d]
         order = np.argsort(lower, kind="stable")

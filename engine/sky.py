@@ -72,7 +72,7 @@ from skyfield.relativity import add_aberration
 from .dates import format_jd
 from .errors import SkyError
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
-from .periods import JULIAN_CENTURY_DAYS, mean_elements
+from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, mean_elements
 from .phases import PHASE_NAMES as PHASE_NAMES  # the phase names and bands live there
 from .phases import phase_names
 
@@ -392,7 +392,7 @@ _TABLE_END_YEAR = 2027.1
 
 def delta_t_sigma_s(jd_tt) -> np.ndarray:
     """One standard error of ΔT (seconds) at TT Julian dates; see the table above."""
-    year = 2000.0 + (np.asarray(jd_tt, dtype=float) - T0) / 365.25
+    year = 2000.0 + (np.asarray(jd_tt, dtype=float) - T0) / JULIAN_YEAR_DAYS
     t = (year - 1820.0) / 100.0
     sigma = np.exp(np.interp(year, _SIGMA_YEARS, _SIGMA_LOG_S))
     sigma = np.where(year <= 1200.0, 0.8 * t * t, sigma)
@@ -740,7 +740,7 @@ class Sky:
     @property
     def longer_hint(self) -> str:
         """How to get a longer span than this ephemeris gives."""
-        years = (self.span_jd[1] - self.span_jd[0]) / 365.25
+        years = (self.span_jd[1] - self.span_jd[0]) / JULIAN_YEAR_DAYS
         return LONGER_HINT if years < 300 else ANCIENT_HINT if years < 5000 else LONGEST_HINT
 
     def check_span(self, jd_start: float, jd_end: float) -> None:
@@ -753,7 +753,7 @@ class Sky:
         outside = max(0.0, min(end, lo) - start) + max(0.0, end - max(start, hi))
         first_text = (f"first date outside: {_moment_text(start)}" if start < lo else
                       f"outside from just after {_moment_text(hi)}")
-        raise SkyError(f"{outside / 365.25:.1f} years of the span {_day_text(start)} to "
+        raise SkyError(f"{outside / JULIAN_YEAR_DAYS:.1f} years of the span {_day_text(start)} to "
                        f"{_day_text(end)} lie outside {self.name}, which covers "
                        f"{self.exact_span_text} ({first_text}); "
                        f"{self.longer_hint}")

@@ -11,6 +11,7 @@ from fractions import Fraction
 import numpy as np
 
 from .exact import Turns
+from .periods import J2000_JD, JULIAN_YEAR_DAYS
 from .train import FRAME, Train
 
 #: An arbor turning more than this (turns per frame) cannot be followed by eye: show a count.
@@ -131,7 +132,7 @@ def hands_elongation_deg(moon_deg: float, sun_deg: float) -> float:
 
 def decimal_year(jd_ut):
     """Year with fraction (Julian years of 365.25 days from J2000.0), for chart axes."""
-    return 2000.0 + (np.asarray(jd_ut, dtype=float) - 2451545.0) / 365.25
+    return 2000.0 + (np.asarray(jd_ut, dtype=float) - J2000_JD) / JULIAN_YEAR_DAYS
 
 
 def lit_disc(lit_fraction: float, waxing: bool, cols: int, rows: int,

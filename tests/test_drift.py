@@ -13,7 +13,6 @@ import pytest
 from engine.cli import main
 from engine.drift import (
     PHASE_DEG_PER_DAY,
-    YEAR_DAYS,
     DriftCancelled,
     DriftError,
     _GridReader,
@@ -24,7 +23,7 @@ from engine.drift import (
 )
 from engine.loader import parse_train
 from engine.mechanism import build, open_train
-from engine.periods import JULIAN_CENTURY_DAYS, PERIODS
+from engine.periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
 
 TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 DEG = 1.0
@@ -129,7 +128,7 @@ def test_bad_spans(sky):
     from engine.errors import SkyError
 
     with pytest.raises(SkyError):
-        drift_series(mech, sky, j0, j0 + 200 * YEAR_DAYS, 30.0)
+        drift_series(mech, sky, j0, j0 + 200 * JULIAN_YEAR_DAYS, 30.0)
 
 
 # --- outside facts ------------------------------------------------------------------------
@@ -148,11 +147,11 @@ def test_moon_disc_59_one_day_off_in_about_two_and_a_half_years(sky):
     mech = open_train(TRAINS / "moon_disc_59.toml", sky)
     j0 = mech.train.epoch.jd_ut
     mean_gain = 360 / 29.5 - PHASE_DEG_PER_DAY
-    assert 1 / (mean_gain / PHASE_DEG_PER_DAY) / YEAR_DAYS == pytest.approx(2.64, abs=0.01)
-    r = drift_series(mech, sky, j0, j0 + 20 * YEAR_DAYS, "6h",
+    assert 1 / (mean_gain / PHASE_DEG_PER_DAY) / JULIAN_YEAR_DAYS == pytest.approx(2.64, abs=0.01)
+    r = drift_series(mech, sky, j0, j0 + 20 * JULIAN_YEAR_DAYS, "6h",
                      threshold_deg=1.0 * PHASE_DEG_PER_DAY, keep_series=False)
     s = r.summaries["phase"]
-    years = (s.first_crossing_jd - j0) / YEAR_DAYS
+    years = (s.first_crossing_jd - j0) / JULIAN_YEAR_DAYS
     assert 1.5 < years < 3.5
     assert s.threshold_days == pytest.approx(1.0)
     # twenty years average the swings: the drift is the analytic one within 1%
@@ -195,7 +194,7 @@ def test_known_ratio_error_drifts_at_the_analytic_rate(sky):
     days = year * (1 + ppm * 1e-6)
     mech = build(parse_train(SLIGHTLY_SLOW_SUN.format(ppm=ppm, days=repr(days))), sky)
     j0 = mech.train.epoch.jd_ut
-    r = drift_series(mech, sky, j0, j0 + 140 * YEAR_DAYS, "5d", keep_series=False)
+    r = drift_series(mech, sky, j0, j0 + 140 * JULIAN_YEAR_DAYS, "5d", keep_series=False)
     turns_per_century = JULIAN_CENTURY_DAYS / days
     analytic = -(days - year) / year * 360.0 * turns_per_century
     assert analytic == pytest.approx(-7.2, abs=0.01)
@@ -223,7 +222,7 @@ def test_pin_and_slot_takes_out_the_moons_main_inequality(sky):
     without = build(parse_train(text.replace("offset_mm = 0.985", "offset_mm = 0.0"),
                                 "tide_office (no slot)"), sky)
     j0 = with_slot.train.epoch.jd_ut
-    runs = {label: drift_series(m, sky, j0, j0 + 19 * YEAR_DAYS, "6h", keep_series=False)
+    runs = {label: drift_series(m, sky, j0, j0 + 19 * JULIAN_YEAR_DAYS, "6h", keep_series=False)
             .summaries["moon"] for label, m in (("with", with_slot), ("without", without))}
     w, wo = runs["with"], runs["without"]
     assert wo.periodic_period_days == pytest.approx(PERIODS["anomalistic_month"].days,
@@ -366,7 +365,7 @@ def test_cli_ctrl_c_stops_cleanly(tmp_path, monkeypatch, capsys):
 def _nutation_slope_bound_deg_per_century(years: float) -> float:
     """Largest slope that the nutation in longitude (17.2" with the node's 18.6 years, from
     memory) can put into a least-squares line over ``years``, over all its phases."""
-    t = np.arange(0.0, years * YEAR_DAYS, 1.0)
+    t = np.arange(0.0, years * JULIAN_YEAR_DAYS, 1.0)
     period = PERIODS["nodal_period"].days
     amp = 17.2 * ARCSEC
     return max(abs(np.polyfit(t, amp * np.sin(2 * np.pi * t / period + ph), 1)[0])
@@ -396,7 +395,7 @@ def test_sun_drift_over_short_spans_is_the_mean_rate_drift(sky, years, tol):
                  for r in pointer_ratios(mech.train, mech.kin)}["sun"]
     assert abs(mean_rate) < 0.001
     j0 = mech.train.epoch.jd_ut
-    s = drift_series(mech, sky, j0, j0 + years * YEAR_DAYS, "6h",
+    s = drift_series(mech, sky, j0, j0 + years * JULIAN_YEAR_DAYS, "6h",
                      keep_series=False).summaries["sun"]
     assert s.drift_deg_per_century == pytest.approx(mean_rate, abs=tol)
     assert "equation of centre (anomalistic year)" in s.drift_terms
@@ -415,7 +414,7 @@ def test_moon_disc_drift_over_five_years(sky):
     j0 = mech.train.epoch.jd_ut
     mean_gain = (360 / 29.5 - PHASE_DEG_PER_DAY) * JULIAN_CENTURY_DAYS
     assert mean_gain == pytest.approx(461.70, abs=0.01)
-    s = drift_series(mech, sky, j0, j0 + 5 * YEAR_DAYS, "6h",
+    s = drift_series(mech, sky, j0, j0 + 5 * JULIAN_YEAR_DAYS, "6h",
                      keep_series=False).summaries["phase"]
     assert s.drift_deg_per_century == pytest.approx(mean_gain, rel=0.01)
     assert abs(s.drift_deg_per_century - mean_gain) < 3 * s.drift_sigma_deg_per_century + 0.5
@@ -427,7 +426,7 @@ def test_moon_disc_drift_over_five_years(sky):
 def test_drift_fit_separates_a_known_swing_from_the_line():
     """Synthetic: 1.5 years of 3°/century plus a 2° sinusoid at a known 365.26-day period. A
     line alone is tilted by the partial swing; fitted jointly, the slope comes back."""
-    jd = 2451545.0 + np.arange(0, 1.5 * YEAR_DAYS, 0.25)
+    jd = 2451545.0 + np.arange(0, 1.5 * JULIAN_YEAR_DAYS, 0.25)
     t = jd - jd[0]
     series = 3.0 * t / JULIAN_CENTURY_DAYS + 2.0 * np.sin(2 * np.pi * t / 365.26 + 1.1)
     alone = summarise(jd, series)
@@ -484,7 +483,7 @@ def test_cli_span_covers_the_end_date(capsys):
     assert doc["to"].startswith("2040-01-03")  # 522 weeks and 2 days after 2030-01-01
     assert main(["drift", DISC, "--years", "3", "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["to_jd"] >= doc["from_jd"] + 3 * YEAR_DAYS > doc["to_jd"] - 1
+    assert doc["to_jd"] >= doc["from_jd"] + 3 * JULIAN_YEAR_DAYS > doc["to_jd"] - 1
     assert main(["drift", DISC, "--from", "2030-01-01", "--to", "2040-01-01", "--step",
                  "7d"]) == 0
     assert "2040-01-03 00:00 UT (Gregorian), 2 days past the end asked" in \
@@ -600,7 +599,7 @@ def test_drift_series_does_not_depend_on_blas_threads(sky):
     start = mech.train.epoch.jd_ut
 
     def run():
-        res = drift_series(mech, sky, start, start + 20 * YEAR_DAYS, 0.25, keep_series=False)
+        res = drift_series(mech, sky, start, start + 20 * JULIAN_YEAR_DAYS, 0.25, keep_series=False)
         return res.summaries_dict(), res.error_deg
 
     default = run()
@@ -621,9 +620,9 @@ def test_yearly_steps_on_a_sun_hand_come_with_a_warning(sky, capsys):
     at least two dates a period; common practice, no source)."""
     mech = open_train(TRAINS / "tide_office.toml")
     start = mech.train.epoch.jd_ut
-    daily = drift_series(mech, sky, start, start + 5 * YEAR_DAYS, 1.0, keep_series=False)
+    daily = drift_series(mech, sky, start, start + 5 * JULIAN_YEAR_DAYS, 1.0, keep_series=False)
     assert daily.summaries["sun"].max_abs_deg > 1.5 and not daily.summaries["sun"].step_note
-    yearly = drift_series(mech, sky, start, start + 5 * YEAR_DAYS, "1y", keep_series=False)
+    yearly = drift_series(mech, sky, start, start + 5 * JULIAN_YEAR_DAYS, "1y", keep_series=False)
     sun = yearly.summaries["sun"]
     assert sun.max_abs_deg < 0.1  # what the coarse grid alone would suggest...
     assert sun.step_note and "'sun'" in sun.step_note and sun.drift_uncertain  # ...but said
@@ -644,7 +643,7 @@ def test_a_lunation_step_reports_no_alias_swing(sky):
     ~417 days: an alias of its monthly swings, not a swing of the train. No swing is
     reported, the step is said to be too coarse, and no fitted term is faster than 2 steps."""
     mech = open_train(DISC)
-    s = drift_series(mech, sky, 2451545.0, 2451545.0 + 40 * YEAR_DAYS, 29.5,
+    s = drift_series(mech, sky, 2451545.0, 2451545.0 + 40 * JULIAN_YEAR_DAYS, 29.5,
                      keep_series=False).summaries["phase"]
     assert s.periodic_period_days is None and s.step_note and s.drift_uncertain
     from engine.drift import sky_terms

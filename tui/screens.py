@@ -25,6 +25,7 @@ from textual_plot import PlotWidget
 from engine.dates import format_jd, parse_date
 from engine.errors import WheelworkError
 from engine.exact import parse_fraction
+from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import decimal_year, train_layout
 
 from .session import FRAME_NAMES, SPEEDS, Session
@@ -545,7 +546,7 @@ class DriftScreen(ClosesOnce, Screen):
         title = self.query_one("#drift-title", Static)
         title.update(Text.assemble(
             ("drift  ", "bold #e5c07b"), f"{format_jd(start)[:10]} → {format_jd(end)[:10]}  ",
-            (f"({(end - start) / 365.25:.1f} years", "dim"),
+            (f"({(end - start) / JULIAN_YEAR_DAYS:.1f} years", "dim"),
             (", capped" if self.capped() else "", "dim"),
             (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
             (f", {'geocentric' if self.session.observer is None else self.session.site_name})",

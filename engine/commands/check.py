@@ -13,6 +13,7 @@ from rich.markup import escape
 from rich.text import Text
 
 from ..checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
+from ..exact import ratio_text
 from ..kinematics import solve
 from ..loader import load_train
 from . import support
@@ -87,9 +88,6 @@ def _num(x: float | None) -> str:
     return f"{x:.4g}" if abs(x) < 10000 else f"{x:,.0f}"
 
 
-def _frac(x: Fraction) -> str:
-    return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
-
 
 def _print(report: CheckReport, console: Console) -> None:
     console.print(Text.assemble((report.train, "bold"), f" — mechanical check at up to "
@@ -112,7 +110,7 @@ def _print(report: CheckReport, console: Console) -> None:
         row = [str(m.index), f"{m.driver}\n{m.driven}{kind}",
                f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
                _opt(m.centre_mm, ".4g"), m.reference,
-               _frac(m.ratio) + (" up" if m.step_up else ""),
+               ratio_text(m.ratio) + (" up" if m.step_up else ""),
                _opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
         meshes.add_row(*row)
     support.print_table(console, meshes)
@@ -129,7 +127,7 @@ def _print(report: CheckReport, console: Console) -> None:
         arbors.add_column(col, justify=just, no_wrap=col != "sense", overflow="fold")
     for a in report.arbors:
         sense = {"with the crank": "+", "against the crank": "−"}.get(a.direction, "0")
-        row = [a.name, _frac(a.turns_per_crank), f"{a.turns_per_year:.6g}",
+        row = [a.name, ratio_text(a.turns_per_crank), f"{a.turns_per_year:.6g}",
                sense + (" ↑" if a.step_up else ""), _num(a.rpm_max), _num(a.torque_ideal),
                _num(a.torque)]
         arbors.add_row(*row)

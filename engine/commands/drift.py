@@ -17,7 +17,6 @@ import signal
 import threading
 from pathlib import Path
 
-import numpy as np
 from rich import box
 from rich.console import Console
 from rich.table import Table
@@ -26,7 +25,6 @@ from rich.text import Text
 from ..dates import format_jd
 from ..drift import (
     PHASE_DEG_PER_DAY,
-    YEAR_DAYS,
     DriftCancelled,
     DriftError,
     DriftResult,
@@ -35,6 +33,8 @@ from ..drift import (
     parse_step,
 )
 from ..errors import UsageError, WheelworkError
+from ..periods import JULIAN_YEAR_DAYS
+from ..view import decimal_year
 from . import support
 from .support import SUN_CAUTION
 
@@ -237,7 +237,7 @@ class _CtrlC:
 
 def _year(jd):
     """Decimal years (Julian years from J2000; fine for a chart's axis)."""
-    return 2000.0 + (np.asarray(jd, dtype=float) - 2451545.0) / YEAR_DAYS
+    return decimal_year(jd)
 
 
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
@@ -294,9 +294,9 @@ def _duration(days: float) -> str:
     """Hours under a day, days under a year, years beyond."""
     if days < 1:
         return _count(days * 24, "hour")
-    if days < YEAR_DAYS:
+    if days < JULIAN_YEAR_DAYS:
         return _count(days, "day")
-    return f"{days / YEAR_DAYS:.2f} years"
+    return f"{days / JULIAN_YEAR_DAYS:.2f} years"
 
 
 def _angle(x: float) -> str:
@@ -418,7 +418,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     sky = Sky(args.ephemeris)
     mech = open_train(args.train, sky)
     start = args.start if args.start is not None else mech.train.epoch.jd_ut
-    end = args.end if args.end is not None else start + args.years * YEAR_DAYS
+    end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
     if end <= start:
         _usage_error(args, f"--to {format_jd(end)} is not after "
                      + (f"--from {format_jd(start)}" if args.start is not None else
@@ -513,7 +513,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     elif end - last > 0.5 / 1440:
         to += f", {_duration(end - last)} short of the end asked (the ephemeris ends)"
     line(to)
-    line(f"{n:,} dates, every {args.step} ({(last - start) / YEAR_DAYS:.2f} years)")
+    line(f"{n:,} dates, every {args.step} ({(last - start) / JULIAN_YEAR_DAYS:.2f} years)")
     line("error = what the train shows minus the true sky (positive: ahead)")
     for note in result.notes:
         line(f"note: {note}", "yellow")

@@ -23,13 +23,13 @@ from rich.text import Text
 from ..dates import format_jd
 from ..eclipses import METHODS, Check, check
 from ..errors import TrainError, UsageError
+from ..periods import JULIAN_YEAR_DAYS
 from . import support
 from .drift import _CtrlC, date_heading
 from .support import SUN_CAUTION
 
-YEAR_DAYS = 365.25
 MAX_YEARS = 100_000
-PROGRESS_MIN_DAYS = 30 * YEAR_DAYS  # shorter spans finish before a bar is worth drawing
+PROGRESS_MIN_DAYS = 30 * JULIAN_YEAR_DAYS  # shorter spans finish before a bar is worth drawing
 STOPPED = "wheelwork: eclipses stopped; no file written"
 ECLIPSE_CAUTION = f"{SUN_CAUTION} That holds during an eclipse too, however much is covered."
 
@@ -160,7 +160,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     sky = Sky(args.ephemeris)
     mech = open_train(args.train, sky)
     start = args.start if args.start is not None else mech.train.epoch.jd_ut
-    end = args.end if args.end is not None else start + args.years * YEAR_DAYS
+    end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
     if end <= start:
         raise UsageError(f"--to {format_jd(end)} is not after "
                          + (f"--from {format_jd(start)}" if args.start is not None else
@@ -219,7 +219,7 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         err.print(f"wheelwork: note: {w}", markup=False, soft_wrap=False)
     line(f"{mech.train.name}: eclipses predicted against {sky.name}")
     line(f"from {format_jd(args._start)}")
-    line(f"  to {format_jd(args._end)}  ({(args._end - args._start) / YEAR_DAYS:.1f} years, "
+    line(f"  to {format_jd(args._end)}  ({(args._end - args._start) / JULIAN_YEAR_DAYS:.1f} years, "
          f"{len(c.jd_ut):,} new and full moons)")
     line(f"predicted by {c.how}")
     if c.method == "pointers":

@@ -12,7 +12,7 @@ from rich.console import Console
 from rich.markup import escape
 
 from ..errors import SearchError
-from ..exact import fraction_text, parse_fraction
+from ..exact import fraction_text, parse_fraction, ratio_text
 from ..periods import PERIODS, relation_error_ppm
 from ..search import (
     MAX_TEETH,
@@ -149,15 +149,12 @@ def _emit(report: SearchReport, args: argparse.Namespace, out: support.OutputFil
     return out.path
 
 
-def _frac(x) -> str:
-    return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
-
 
 def _to_json(report: SearchReport, written: Path | None) -> dict:
     t, c = report.target, report.constraints
     return {
-        "target": {"label": t.label, "ratio": _frac(t.ratio), "ratio_float": float(t.ratio),
-                   "period_days": t.period_days, "crank_days": _frac(t.crank_days),
+        "target": {"label": t.label, "ratio": ratio_text(t.ratio), "ratio_float": float(t.ratio),
+                   "period_days": t.period_days, "crank_days": ratio_text(t.crank_days),
                    **_relation_json(t)},
         "constraints": {"stages": list(c.stages), "wheels": list(c.wheels),
                         "pinions": list(c.pinions),
@@ -178,7 +175,7 @@ def _relation_json(t) -> dict:
 
 
 def _conv_dict(v: Convergent) -> dict:
-    return {"ratio": _frac(v.ratio), "period_days": _frac(v.period_days),
+    return {"ratio": ratio_text(v.ratio), "period_days": ratio_text(v.period_days),
             "error_ppm": v.error_ppm, "admitted": v.admitted,
             "train": result_to_dict(v.train) if v.train else None, "reason": v.reason or None}
 
@@ -220,7 +217,7 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
         for i, r in enumerate(report.results, start=1):
-            table.add_row(str(i), _stages_text(r, "\n"), _frac(r.ratio), f"{r.period_days:.9g}",
+            table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), f"{r.period_days:.9g}",
                           f"{r.error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
                           _years(r.one_day_off_years), str(r.total_teeth))
         support.print_table(console, table)
@@ -231,7 +228,7 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
         for v in report.convergents:
-            table.add_row(_frac(v.ratio), _frac(v.period_days), f"{v.error_ppm:+.4g}",
+            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), f"{v.error_ppm:+.4g}",
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
         support.print_table(console, table)
