@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from .checks import check
 from .dates import calendar_date, format_jd, parse_date, parse_step
+from .drawing import cut_parts, layout_sheet, to_dxf, to_svg, tooth_forms
 from .drift import DriftResult, PointerSummary, drift_series, pointer_errors
 from .eclipses import Check as EclipseCheck
 from .eclipses import Eclipse, real_eclipses, sky_eclipses, syzygies
@@ -36,6 +37,8 @@ from .periods import (
     mean_elements,
     relation_error_ppm,
 )
+from .plate import PlacementError, place_plates
+from .play import PlayReport, Tolerances, play
 from .ratios import PointerRatio, SynodicRatio, pointer_ratios
 from .readout import Readout, backward_warnings, epoch_values
 from .search import (
@@ -46,6 +49,13 @@ from .search import (
     search,
 )
 from .sky import Site, Sky, SkyState
+from .toothform import (
+    ToothForm,
+    cycloidal_pinion,
+    cycloidal_wheel,
+    involute_ring,
+    involute_wheel,
+)
 from .train import Train
 
 __all__ = [
@@ -67,6 +77,10 @@ __all__ = [
     "search", "make_target", "make_constraints", "convergents", "emit_fragment",
     # mechanical checks
     "check",
+    # the workshop: cutting files, and what tolerances do to the pointers
+    "tooth_forms", "cut_parts", "layout_sheet", "to_svg", "to_dxf", "place_plates",
+    "cycloidal_wheel", "cycloidal_pinion", "involute_wheel", "involute_ring", "ToothForm",
+    "play", "Tolerances", "PlayReport", "PlacementError",
     # eclipses: real ones, and a train's predictions against them
     "real_eclipses", "sky_eclipses", "syzygies", "Eclipse", "check_eclipses", "EclipseCheck",
     # errors

@@ -273,7 +273,9 @@ def crossing_windows(rim_inner: float, hub_outer: float, n: int, width: float,
 
 
 def _label(part: Part, text: str, below: float) -> None:
-    part.texts.append((-_text_width(text, TEXT_MM) / 2, below - 2 * TEXT_MM, TEXT_MM, text))
+    """The part's label under it; smaller on small parts (1 to 2.5 mm high)."""
+    h = min(TEXT_MM, max(1.0, -below / 6))
+    part.texts.append((-_text_width(text, h) / 2, below - 2 * h, h, text))
 
 
 # --- plates -----------------------------------------------------------------------------------
