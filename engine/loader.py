@@ -253,14 +253,18 @@ def load_train(path: str | Path) -> Train:
 
 
 _TOKENS = re.compile(r'"""(?:[^\\]|\\.)*?"""|\'\'\'.*?\'\'\'|"(?:[^"\\\n]|\\.)*"'
-                     r"|'[^'\n]*'|#[^\n]*|[\[\]{}]", re.DOTALL)
+                     r"|'[^'\n]*'|#[^\n]*|[\[\]{}]"
+                     rf"|(?:[A-Za-z0-9_-]+[ \t]*\.[ \t]*){{{MAX_DEPTH},}}[A-Za-z0-9_-]+",
+                     re.DOTALL)
 
 
 def _nesting(text: str) -> tuple[int, int]:
-    """Deepest nesting of brackets and braces outside strings and comments, and its line.
+    """Deepest nesting of brackets and braces (or parts of a dotted key) outside strings and
+    comments, and its line.
 
     tomllib reads nested arrays and inline tables recursively, so a file nested thousands deep
-    would exhaust the stack; this scan runs first, in one pass, without recursion.
+    would exhaust the stack, and a dotted key thousands of parts long takes it seconds; this
+    scan runs first, in one pass, without recursion.
     """
     depth = deepest = 0
     at = 0
@@ -272,6 +276,10 @@ def _nesting(text: str) -> tuple[int, int]:
                 deepest, at = depth, m.start()
         elif tok in "]}":
             depth = max(depth - 1, 0)
+        elif tok[0] not in "\"'#":  # a dotted key: each part is a table inside the last
+            parts = tok.count(".") + 1
+            if parts > deepest:
+                deepest, at = parts, m.start()
     return deepest, text.count("\n", 0, at) + 1
 
 
@@ -300,8 +308,8 @@ def parse_train(text: str, where: str = "<train>") -> Train:
                          f"{MAX_FILE_BYTES:,}")
     deepest, line = _nesting(text)
     if deepest > MAX_NESTING:
-        raise TrainError(where, f"line {line}", f"brackets nested {deepest} deep; a train file "
-                         f"needs at most 2 and may use {MAX_NESTING}")
+        raise TrainError(where, f"line {line}", f"brackets or dotted keys nested {deepest} deep; "
+                         f"a train file needs at most 3 and may use {MAX_NESTING}")
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
