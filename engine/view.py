@@ -4,6 +4,7 @@ arbor turn counts. No UI imports; the interface (``tui/``) draws what these retu
 
 from __future__ import annotations
 
+import math
 from collections import deque
 from dataclasses import dataclass
 from fractions import Fraction
@@ -157,3 +158,46 @@ def lit_disc(lit_fraction: float, waxing: bool, cols: int, rows: int,
     lit_cov = lit.reshape(shape).mean(axis=(1, 3))
     return disc_cov, lit_cov
 
+
+
+# --- planets: which body a kind shows, and where an orrery arm goes in a plan view -----------
+
+def _arm_distances() -> dict[str, float]:
+    from .periods import EARTH, PLANETS
+
+    out = {f"{k}_from_sun": p.distance_au for k, p in PLANETS.items()}
+    out["earth_from_sun"] = EARTH.distance_au
+    return out
+
+
+#: heliocentric arm kind -> the planet's mean distance from the Sun (au, engine.periods)
+ARM_DISTANCE_AU = _arm_distances()
+
+
+def body_of(kind: str) -> str:
+    """The body a pointer kind shows: ``"venus_from_sun"`` and ``"venus"`` -> ``"venus"``."""
+    return kind[: -len("_from_sun")] if kind.endswith("_from_sun") else kind
+
+
+def is_arm(kind: str) -> bool:
+    """An orrery arm: a planet (or the Earth) seen from the Sun."""
+    return kind in ARM_DISTANCE_AU
+
+
+def plan_radii(kinds: dict[str, str]) -> dict[str, float]:
+    """For a plan view looking down on an orrery: each arm pointer's radius as a fraction of
+    the largest, ``{pointer: kind}`` in. Real distances run from 0.39 to 30 au, so the radii
+    go as the square root of the distance (an orrery's own compromise), then are spread so
+    that neighbours keep at least 1/(n + 1) of the radius apart."""
+    arms = sorted(((ARM_DISTANCE_AU[k], p) for p, k in kinds.items() if is_arm(k)))
+    if not arms:
+        return {}
+    top = math.sqrt(arms[-1][0])
+    gap = 1.0 / (len(arms) + 1)
+    out, last = {}, 0.0
+    for dist, p in arms:
+        r = max(math.sqrt(dist) / top, last + gap)
+        out[p] = r
+        last = r
+    scale = max(out.values())
+    return {p: r / scale for p, r in out.items()}

@@ -884,3 +884,40 @@ def test_key_storm_of_2000_keys_with_every_binding_and_the_palette():
     import os
 
     asyncio.run(survive_storm(seed=int(os.environ.get("STORM_SEED", "2026"))))
+
+
+ORRERY_TRAIN = Path(__file__).resolve().parent.parent / "engine" / "trains" / "table_orrery.toml"
+PLANET_DIAL = Path(__file__).resolve().parent.parent / "engine" / "trains" / "planet_dial.toml"
+
+
+@sync
+async def test_orrery_plan_view_draws_each_arm_and_its_true_place():
+    from tui.widgets import OrreryPlan, PhaseDiscs
+    app = make_app(ORRERY_TRAIN)
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.press("right_square_bracket")  # a thousand years' worth of arms later
+        await pilot.pause()
+        plan = app.screen.query_one(OrreryPlan)
+        assert not app.screen.query(PhaseDiscs)  # the orrery shows its arms instead
+        now = app.screen.session.now()
+        assert set(plan.arms) == {"mercury", "venus", "earth", "mars", "jupiter", "saturn"}
+        for name, (arm, true) in plan.arms.items():
+            assert arm == pytest.approx(now.pointers[name].train_deg)
+            assert true == pytest.approx(now.pointers[name].sky_deg)
+        # radii grow outward from Mercury to Saturn
+        r = plan.radii
+        assert r["mercury"] < r["venus"] < r["earth"] < r["mars"] < r["jupiter"] < r["saturn"]
+
+
+@sync
+async def test_sky_dial_marks_each_planet_and_keys_them():
+    app = make_app(PLANET_DIAL)
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.pause()
+        dial = app.screen.query_one(SkyDial)
+        now = app.screen.session.now()
+        assert sorted(lon for lon, _, _ in dial.planets) == pytest.approx(
+            sorted(now.pointers[n].sky_deg for n in ("venus", "mars")))
+        key = text_of(app.screen.query_one("#dial-key"))
+        assert "Venus" in key and "Mars" in key and "Jupiter" not in key
+        assert CAUTION in text_of(app.screen.query_one("#caution"))

@@ -26,12 +26,13 @@ from engine.dates import format_jd, parse_date
 from engine.errors import WheelworkError
 from engine.exact import parse_fraction
 from engine.periods import JULIAN_YEAR_DAYS
-from engine.view import decimal_year, train_layout
+from engine.view import decimal_year, is_arm, train_layout
 
 from .session import FRAME_NAMES, SPEEDS, Session
 from .widgets import (
     CAUTION,
     Findings,
+    OrreryPlan,
     PhaseDiscs,
     Readings,
     SkyDial,
@@ -163,7 +164,12 @@ class BenchScreen(Screen):
                 with Vertical(id="info"):
                     yield Status(s, id="status")
                     yield Readings(id="readings")
-                yield PhaseDiscs(s, id="phase")
+                if any(is_arm(p.shows) for p in train.pointers.values()):
+                    with Vertical(id="plan-pane"):
+                        yield OrreryPlan(s, id="plan")
+                        yield Static(OrreryPlan.key_text(), id="plan-key")
+                else:
+                    yield PhaseDiscs(s, id="phase")
                 with VerticalScroll(id="findings-pane", can_focus=False):
                     yield Findings(id="findings")
         yield TrainView(s, self._layout, id="train")
@@ -174,8 +180,9 @@ class BenchScreen(Screen):
         """The widgets that draw a :class:`Now` (found once; none while the screen closes).
         A new display is one more widget with a ``show(now)`` method, listed here."""
         if self._view_list is None:  # the status line last: it also shows the run state
-            self._view_list = [self.query_one(cls) for cls in (SkyDial, TrainView, PhaseDiscs,
-                                                               Readings, Status)]
+            panels = [*self.query(PhaseDiscs), *self.query(OrreryPlan)]  # one or the other
+            self._view_list = [self.query_one(SkyDial), self.query_one(TrainView), *panels,
+                               self.query_one(Readings), self.query_one(Status)]
         return self._view_list
 
     _view_list: list | None = None
@@ -186,7 +193,10 @@ class BenchScreen(Screen):
     def on_mount(self) -> None:
         self.query_one("#dial-pane").border_title = "sky dial"
         self.query_one("#info").border_title = "readings"
-        self.query_one("#phase").border_title = "phase: train │ sky"
+        if self.query("#phase"):
+            self.query_one("#phase").border_title = "phase: train │ sky"
+        if self.query("#plan-pane"):
+            self.query_one("#plan-pane").border_title = "orrery from above"
         self.query_one("#findings-pane").border_title = Findings.title(self.session.findings)
         self.query_one("#train").border_title = "train"
         self.query_one("#train").border_subtitle = TRAIN_KEY

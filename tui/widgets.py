@@ -18,8 +18,11 @@ from textual_hires_canvas import Canvas, HiResMode
 from engine.view import (
     TrainLayout,
     ball_lit_fraction,
+    body_of,
     hands_elongation_deg,
+    is_arm,
     lit_disc,
+    plan_radii,
     too_fast,
     turns_label,
 )
@@ -40,8 +43,24 @@ ELEMENT_HANDS = {
     "node": (NODE_HUE, 0.46, (3, 2), "☊", "node"),
     "apsis": (APSIS_HUE, 0.56, (1, 2), "◆", "perigee"),
 }
+# Planets: each its own hue and mark. Seen from the Earth, a dotted hand and a solid badge on
+# the ring like the Sun and Moon; an orrery arm (seen from the Sun), a dashed hand and an open
+# mark in its hue. In the plan view the arms go round the Sun, the true place a mark at the
+# arm's radius.
+PLANET_STYLE = {  # body -> (hue, mark, name in the key)
+    "mercury": ("#c9b8a6", "☿", "Mercury"),
+    "venus": ("#f7e08a", "♀", "Venus"),
+    "earth": ("#5aa9ff", "♁", "Earth"),
+    "mars": ("#ff7a5c", "♂", "Mars"),
+    "jupiter": ("#e3b27a", "♃", "Jupiter"),
+    "saturn": ("#cfc08e", "♄", "Saturn"),
+    "uranus": ("#7fe0d8", "♅", "Uranus"),
+    "neptune": ("#7f9cff", "♆", "Neptune"),
+}
+PLANET_HAND = 0.68  # hand length, a fraction of the dial's radius
 RING = "#6a7b8c"
 RING_BRIGHT = "#b9c6d3"
+UNLIT_RING = "#3d4754"  # orbits in the plan view
 SIGN_TEXT = "#8fa3b8"
 HUB = "#e8e8e8"
 LIT = "#f4efd2"
@@ -183,6 +202,8 @@ class SkyDial(LayeredCanvas):
         self._geom = (0.0, 0.0, 1.0)
         #: what the last frame drew for the node and perigee: kind -> (hand°, mark°)
         self.elements: dict[str, tuple[float, float]] = {}
+        #: the true planet marks the last frame drew: (longitude°, style, seen from the Sun)
+        self.planets: list = []
 
     @staticmethod
     def key_text(kinds) -> Text:
@@ -190,6 +211,19 @@ class SkyDial(LayeredCanvas):
         key = Text.assemble(("━ ", f"bold {SUN_HUE}"), ("━ ", f"bold {MOON_HUE}"),
                             "train hands   ", ("☉", f"#101418 on {SUN_HUE}"), " ",
                             ("☾", f"#101418 on {MOON_HUE}"), " true sky")
+        planets = [b for b in PLANET_STYLE
+                   if b in {body_of(k) for k in kinds if body_of(k) in PLANET_STYLE}]
+        if planets:
+            key.append("\n")
+            for i, b in enumerate(planets):
+                hue, mark, name = PLANET_STYLE[b]
+                arm = any(is_arm(k) and body_of(k) == b for k in kinds)
+                key.append_text(Text.assemble("  " if i else "", (mark, f"bold #101418 on {hue}"
+                                                                 if not arm else f"bold {hue}"),
+                                              (f"{name}", hue)))
+            if any(is_arm(k) for k in kinds):
+                key.append_text(Text("\nopen mark, dashed hand: seen from the Sun (an arm)",
+                                     style="dim"))
         extra = [k for k in ELEMENT_HANDS if k in kinds]
         if extra:
             key.append("\n")
@@ -250,6 +284,16 @@ class SkyDial(LayeredCanvas):
             self.line(cx, cy, x, y, style=f"bold {hue}", dash=dash)
             drawn[kind] = (p.train_deg, _scalar(now.sky.kind(kind)))
         self.elements = drawn
+        planet_marks = []
+        for p in ptrs.values():  # planet hands under the Sun's and Moon's
+            style = PLANET_STYLE.get(body_of(p.shows))
+            if style is None:
+                continue
+            arm = is_arm(p.shows)
+            x, y = self._xy(p.train_deg, r * PLANET_HAND)
+            self.line(cx, cy, x, y, style=f"bold {style[0]}", dash=(2, 2) if arm else (1, 1))
+            planet_marks.append((p.sky_deg, style, arm))
+        self.planets = planet_marks
         for kind, hue, length in (("moon", MOON_HUE, 0.78), ("sun", SUN_HUE, 0.92)):
             p = by_kind.get(kind)
             if p is None:
@@ -263,6 +307,9 @@ class SkyDial(LayeredCanvas):
         self.put(cx - 0.5, cy - 0.25, "●", HUB)
         sun = _scalar(now.sky.sun_lon_deg)
         moon = _scalar(now.sky.moon_lon_deg)
+        for lon, (hue, mark, _), arm in planet_marks:  # true places: on the ring (seen from
+            x, y = self._xy(lon, r - (1.6 if arm else 0.0))  # the Sun: just inside it)
+            self.put(x - 0.5, y - 0.25, mark, f"bold {hue}" if arm else f"bold #101418 on {hue}")
         for lon, glyph, hue in ((moon, "☾", MOON_HUE), (sun, "☉", SUN_HUE)):
             x, y = self._xy(lon, r)
             self.put(x - 0.5, y - 0.25, glyph, f"bold #101418 on {hue}")
@@ -385,6 +432,61 @@ class TrainView(LayeredCanvas):
 _LIT_RGB = (0xF4, 0xEF, 0xD2)
 _UNLIT_RGB = (0x2B, 0x31, 0x40)
 _SHADES = 16  # shading levels across a cell's lit share
+
+
+class OrreryPlan(LayeredCanvas):
+    """Looking down on an orrery: the Sun in the middle, each arm at its train angle out to its
+    orbit (radii from :func:`engine.view.plan_radii`), and the true heliocentric place as a mark
+    on the same orbit. Longitude 0° at the top, increasing anticlockwise, like the sky dial."""
+
+    def __init__(self, session: Session, **kwargs):
+        super().__init__(**kwargs)
+        self.session = session
+        kinds = {n: p.shows for n, p in session.mech.train.pointers.items()}
+        self.radii = plan_radii(kinds)
+        self._geom = (0.0, 0.0, 1.0)
+        #: what the last frame drew: pointer -> (arm°, true°)
+        self.arms: dict[str, tuple[float, float]] = {}
+
+    def _xy(self, lon_deg: float, r: float) -> tuple[float, float]:
+        cx, cy, _ = self._geom
+        t = math.radians(90.0 + lon_deg)
+        return cx + r * math.cos(t), cy - 0.5 * r * math.sin(t)
+
+    def draw_static(self) -> None:
+        w, h = self._canvas_size.width, self._canvas_size.height
+        cx, cy = w / 2.0, h / 2.0
+        r = max(min(w / 2.0 - 2.0, (h / 2.0 - 1.0) * 2.0), 2.0)
+        self._geom = (cx, cy, r)
+        for frac in self.radii.values():
+            n = max(90, int(r * frac * 12))
+            self.dots([self._xy(360.0 * k / n, r * frac) for k in range(n)], style=UNLIT_RING)
+        x, y = self._xy(0.0, r + 0.6)
+        self.put(x - 1, y, "0°", RING)
+
+    def draw_moving(self, now: Now) -> None:
+        cx, cy, r = self._geom
+        drawn = {}
+        for name, frac in self.radii.items():  # the arms first, then every mark over them
+            p = now.pointers.get(name)
+            if p is None:
+                continue
+            x, y = self._xy(p.train_deg, r * frac)
+            self.line(cx, cy, x, y, style=f"bold {PLANET_STYLE[body_of(p.shows)][0]}")
+            drawn[name] = (p.train_deg, p.sky_deg)
+        for name, (arm, true) in drawn.items():
+            hue, mark, _ = PLANET_STYLE[body_of(now.pointers[name].shows)]
+            tx, ty = self._xy(true, r * self.radii[name])
+            self.put(tx - 0.5, ty - 0.25, "○", f"bold {hue}")
+            x, y = self._xy(arm, r * self.radii[name])
+            self.put(x - 0.5, y - 0.25, mark, f"bold #101418 on {hue}")
+        self.arms = drawn
+        self.put(cx - 0.5, cy - 0.25, "☉", f"bold #101418 on {SUN_HUE}")
+
+    @staticmethod
+    def key_text() -> Text:
+        return Text.assemble(("━", "bold"), " arm (train)  ", ("○", "bold"), " true place  ",
+                             ("☉", f"#101418 on {SUN_HUE}"), " Sun")
 
 
 def _shade(t: float) -> str:
