@@ -73,7 +73,7 @@ if k:
     r = search(t, make_constraints(stages=k), top=10, with_convergents=False)
     out["seconds"] = time.perf_counter() - t0
     out["best"] = str(r.results[0].ratio)
-    out["ppm"] = r.results[0].error_ppm
+    out["ppm"] = r.results[0].period_error_ppm
 out["peak_mb"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
 print(json.dumps(out))
 """

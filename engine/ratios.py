@@ -70,7 +70,7 @@ class SynodicRatio:
     target_name: str
     target_days: float
     target_source: str
-    error_ppm: float
+    period_error_ppm: float  # (its period / mean synodic period - 1) * 1e6
     drift_deg_per_century: float
 
 
@@ -89,7 +89,7 @@ class PointerRatio:
     target_name: str
     target_days: float
     target_source: str
-    error_ppm: float  # (realised period - mean period) / mean period
+    period_error_ppm: float  # (realised period / mean period - 1) * 1e6: + too long, falls behind
     drift_deg_per_century: float  # pointer minus sky, mean rate
     years_to_one_day: float | None  # phase pointers: when the display is a day out
     direction_ok: bool
@@ -245,7 +245,7 @@ def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
             ratio=ratio, stages=tuple(stages), relative_stages=tuple(rel_stages),
             stages_multiply_out=simple, period_days=period, target_key=target.key,
             target_name=target.name, target_days=target_days, target_source=target.source,
-            error_ppm=err_ppm,
+            period_error_ppm=err_ppm,
             drift_deg_per_century=(train_deg_per_day - true_deg_per_day) * JULIAN_CENTURY_DAYS,
             years_to_one_day=years,
             direction_ok=(ratio > 0) == (target.sense > 0) if ratio else False,

@@ -49,12 +49,23 @@ _BARE_KEY_RE = re.compile(r"^[A-Za-z0-9_-]+$")
 # Parsing
 
 
+# Bounds of every number a search takes (each refused beyond, with what would work).
+MIN_VALUE, MAX_VALUE = Fraction(1, 10**9), Fraction(10**12)  # period, ratio, crank days
+MAX_TOP = 200  # trains listed at most: more is a table nobody reads, and costs minutes
+HOPELESS = Fraction(101, 100)  # a target this far beyond what the bounds reach is refused
+
+
 def _fraction(value: str | int | float | Fraction, what: str) -> Fraction:
-    """A positive exact number read by the one fraction reader, its fault as a SearchError."""
+    """A positive exact number read by the one fraction reader, its fault as a SearchError;
+    between 1e-9 and 1e12."""
     try:
-        return parse_fraction(value, what, positive=True)
+        number = parse_fraction(value, what, positive=True)
     except ValueError as exc:
         raise SearchError(str(exc)) from None
+    if not MIN_VALUE <= number <= MAX_VALUE:
+        raise SearchError(f"{what}: {value} is beyond what a train of wheels is searched for; "
+                          f"give a value from {float(MIN_VALUE):g} to {float(MAX_VALUE):g}")
+    return number
 
 
 def parse_span(text: str, what: str) -> tuple[int, int]:
@@ -64,6 +75,8 @@ def parse_span(text: str, what: str) -> tuple[int, int]:
         raise SearchError(f"{what}: cannot read {text!r} (use MIN-MAX, e.g. 8-150)")
     lo = int(m.group(1))
     hi = int(m.group(2)) if m.group(2) is not None else lo
+    if hi > MAX_TEETH and what != "stages":
+        raise SearchError(f"{what}: {hi} teeth is more than the {MAX_TEETH:,} searched")
     return lo, hi
 
 
@@ -79,6 +92,9 @@ def parse_counts(text: str) -> tuple[int, ...]:
             raise SearchError(f"allowed tooth counts: cannot read {part!r} (use e.g. 12,15,20-30)")
         lo = int(m.group(1))
         hi = int(m.group(2)) if m.group(2) is not None else lo
+        if hi > MAX_TEETH:
+            raise SearchError(f"allowed tooth counts: {hi} is more than the {MAX_TEETH:,} "
+                              "teeth searched")
         if lo > hi:
             raise SearchError(f"allowed tooth counts: range {part} is empty (min > max)")
         out.update(range(lo, hi + 1))
@@ -244,9 +260,57 @@ def make_constraints(stages: int | Iterable[int] | str = DEFAULT_STAGES,
                                   f"{max_prime}")
         return tuple(cs)
 
+    wheel_counts, pinion_counts = counts(wheels, "wheels"), counts(pinions, "pinions")
+    k = max(stage_set)
+    for cs, what in ((wheel_counts, "wheels"), (pinion_counts, "pinions")):
+        size = _n_multisets(len(cs), k, bool(no_repeat))
+        if size > MAX_MULTISETS:
+            fewer = max((j for j in range(1, k) if _n_multisets(len(cs), j, bool(no_repeat))
+                         <= MAX_MULTISETS), default=None)
+            hint = f"search at most {fewer} stages, or " if fewer else ""
+            raise SearchError(
+                f"{what}: {len(cs):,} tooth counts give {size:,} sets of {k}, more than the "
+                f"{MAX_MULTISETS:,} searched; {hint}narrow the range (8-150 gives "
+                f"{_n_multisets(143, 4, False):,} sets of 4)")
     return Constraints(tuple(sorted(stage_set)), wheels, pinions, allow, max_prime,
-                       bool(no_repeat), direction, bool(exact_only),
-                       counts(wheels, "wheels"), counts(pinions, "pinions"))
+                       bool(no_repeat), direction, bool(exact_only), wheel_counts, pinion_counts)
+
+
+def reach(target: Target, constraints: Constraints) -> tuple[Fraction, Fraction]:
+    """The smallest and largest ratios (output turns per crank turn) the bounds can give."""
+    drv, dvn = constraints.sides(target)
+    ks = constraints.stages
+    lo = min(Fraction(min(drv), max(dvn)) ** k for k in ks)
+    hi = max(Fraction(max(drv), min(dvn)) ** k for k in ks)
+    return lo, hi
+
+
+def check_reachable(target: Target, constraints: Constraints) -> None:
+    """Refuse, before any work, a target the bounds cannot come near (more than 1% beyond the
+    smallest or largest ratio they give), saying what would work. The command calls it;
+    :func:`search` itself still finds the nearest trains, however far."""
+    lo, hi = reach(target, constraints)
+    r = target.ratio
+    if lo / HOPELESS <= r <= hi * HOPELESS:
+        return
+    drv, dvn = constraints.sides(target)
+    per_stage = Fraction(max(drv), min(dvn)) if r > 1 else Fraction(max(dvn), min(drv))
+    need = (math.ceil(math.log(float(r if r > 1 else 1 / r)) / math.log(float(per_stage)))
+            if per_stage > 1 else None)
+    k = max(constraints.stages)
+    crank = target.crank_days
+    reach_text = (f"{k} stage{'s' if k != 1 else ''} of these counts reach "
+                  f"{float(lo):.4g} to {float(hi):.4g} turns per crank turn "
+                  f"({float(crank / hi):.4g} to {float(crank / lo):.4g} days per output turn "
+                  f"with the crank at {fraction_text(crank)} day{'' if crank == 1 else 's'} per turn)")
+    if need is not None and need <= MAX_STAGES and need > k and constraints.direction == "any":
+        fix = f"search --stages {need}"
+    else:
+        mid = math.sqrt(float(lo) * float(hi))  # the middle of what the bounds reach
+        fix = (f"turn the crank nearer the output's speed, e.g. --crank-days "
+               f"{float(target.crank_days / target.ratio) * mid:.4g}")
+    raise SearchError(f"the target, {float(r):.4g} turns per crank turn, is out of reach: "
+                      f"{reach_text}; {fix}")
 
 
 # ---------------------------------------------------------------------------------------------
@@ -271,7 +335,9 @@ class TrainResult:
 
     stages: tuple[WheelPair, ...]
     ratio: Fraction  # output turns per crank turn
-    error_ppm: float  # (ratio / target - 1) * 1e6; positive: the output runs fast
+    # (realised period / target period - 1) * 1e6, the one meaning of "ppm" in wheelwork:
+    # positive, the period is too long and the output falls behind; negative, it runs ahead
+    period_error_ppm: float
     drift_deg_per_century: float  # signed, of the output pointer against the target
     one_day_off_years: float  # until the pointer is one day of its own motion off (inf: exact)
     total_teeth: int
@@ -279,7 +345,7 @@ class TrainResult:
 
     @property
     def exact(self) -> bool:
-        return self.error_ppm == 0.0
+        return self.period_error_ppm == 0.0
 
     @property
     def reverses(self) -> bool:
@@ -293,7 +359,7 @@ class Convergent:
 
     ratio: Fraction  # output turns per crank turn
     period_days: Fraction  # days per output turn with the target's crank
-    error_ppm: float
+    period_error_ppm: float  # (its period / target period - 1) * 1e6
     admitted: bool
     train: TrainResult | None  # fewest-teeth train of exactly this ratio, when admitted
     reason: str  # why not admitted ("" when admitted)
@@ -311,6 +377,11 @@ def _rel_error(ratio: Fraction, target: Target) -> Fraction:
     return ratio / target.ratio - 1
 
 
+def _period_error_ppm(ratio: Fraction, target: Target) -> float:
+    """(realised period / target period - 1) * 1e6, exact until the conversion."""
+    return float(target.ratio / ratio - 1) * 1e6
+
+
 def _make_result(stages: tuple[WheelPair, ...], target: Target) -> TrainResult:
     ratio = Fraction(1)
     for s in stages:
@@ -322,7 +393,7 @@ def _make_result(stages: tuple[WheelPair, ...], target: Target) -> TrainResult:
     return TrainResult(
         stages=stages,
         ratio=ratio,
-        error_ppm=err_f * 1e6,
+        period_error_ppm=_period_error_ppm(ratio, target),
         drift_deg_per_century=err_f * 360.0 * per_century,
         one_day_off_years=days_off / JULIAN_YEAR_DAYS,
         total_teeth=sum(s.driver + s.driven for s in stages),
@@ -595,8 +666,8 @@ def search(target: Target, constraints: Constraints | None = None, top: int = 10
     ratio, fewest teeth first (see :func:`exact_trains`).
     """
     cons = constraints or make_constraints()
-    if top < 1:
-        raise SearchError(f"top: must be at least 1, got {top}")
+    if not 1 <= top <= MAX_TOP:
+        raise SearchError(f"top: must be from 1 to {MAX_TOP}, got {top}")
     if cons.exact_only:
         results = tuple(exact_trains(target.ratio, target, cons, top))
         convs = tuple(convergents(target, cons)) if with_convergents else ()
@@ -709,7 +780,7 @@ def convergents(target: Target, constraints: Constraints | None = None) -> list[
         if r == 0:
             continue
         train, reason = split_ratio(r, target, cons)
-        err = float(_rel_error(r, target)) * 1e6
+        err = _period_error_ppm(r, target)
         conv = Convergent(r, target.crank_days / r, err, train is not None, train, reason)
         out.append(conv)
         if max(r.numerator, r.denominator) > bound or r == t or len(out) >= MAX_CONVERGENTS:
@@ -741,7 +812,7 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
     if target is not None:
         lines.append(f"# target: {target.label} (crank {fraction_text(target.crank_days)} "
                      "days per turn); "
-                     f"error {result.error_ppm:+.4g} ppm, "
+                     f"period error {result.period_error_ppm:+.4g} ppm, "
                      f"{result.drift_deg_per_century:+.4g} deg per century")
     lines.append(f"# period {result.period_days:.9g} days per output turn; output turns "
                  + ("against" if result.reverses else "with") + " the crank")
@@ -789,7 +860,7 @@ def result_to_dict(res: TrainResult) -> dict:
         "ratio": f"{res.ratio.numerator}/{res.ratio.denominator}",
         "ratio_float": float(res.ratio),
         "period_days": res.period_days,
-        "error_ppm": res.error_ppm,
+        "period_error_ppm": res.period_error_ppm,
         "drift_deg_per_century": res.drift_deg_per_century,
         "one_day_off_years": None if math.isinf(res.one_day_off_years) else res.one_day_off_years,
         "total_teeth": res.total_teeth,

@@ -183,7 +183,7 @@ def test_search_numbers_whole(width, capsys, monkeypatch):
         for a, b in r["stages"]:
             assert f"{a}→{b}" in flat
         assert f"{r['period_days']:.9g}" in flat
-    assert "speed ppm" in flat and "1 day off" in flat  # the legend's columns are there
+    assert "period ppm" in flat and "1 day off" in flat  # the legend's columns are there
 
 
 @pytest.mark.parametrize("width", [60, 80])

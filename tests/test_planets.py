@@ -131,7 +131,7 @@ def test_orrery_arms_exact_ratios_and_periods():
     for name in ("mercury", "venus", "mars", "jupiter", "saturn"):
         r = rows[name]
         assert r.target_key == f"{name}_tropical"
-        assert abs(r.error_ppm) < 2  # each the best two-stage train wheelwork search found
+        assert abs(r.period_error_ppm) < 2  # each the best two-stage train wheelwork search found
         assert r.direction_ok
     assert not mech.warnings
 
@@ -165,9 +165,9 @@ def test_planet_dial_ratio_report_gives_the_synodic_relation():
     # fixed wheel turns back against the carrier; one external mesh), once per synodic period
     assert v.synodic.ratio == Fraction(157, 251) * mech.kin.rate("venus_deferent")
     assert v.synodic.target_key == "venus_synodic"
-    assert v.synodic.error_ppm == pytest.approx(
+    assert v.synodic.period_error_ppm == pytest.approx(
         (float(1 / abs(v.synodic.ratio)) / PERIODS["venus_synodic"].days - 1) * 1e6)
-    assert abs(v.synodic.error_ppm) < 2 and abs(m.synodic.error_ppm) < 25
+    assert abs(v.synodic.period_error_ppm) < 2 and abs(m.synodic.period_error_ppm) < 25
     assert rows["sun"].synodic is None
 
 

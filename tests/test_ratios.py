@@ -25,7 +25,7 @@ def test_moon_disc_is_a_day_off_after_about_two_and_a_half_years():
     r = report("moon_disc_59.toml")["phase"]
     assert r.ratio == Fraction(2, 59)
     assert r.period_days == 29.5
-    assert r.error_ppm == pytest.approx((29.5 / 29.530589 - 1) * 1e6, rel=1e-5)
+    assert r.period_error_ppm == pytest.approx((29.5 / 29.530589 - 1) * 1e6, rel=1e-5)
     assert r.years_to_one_day == pytest.approx(1 / (29.530589 / 29.5 - 1) / 365.25, rel=1e-4)
     assert 2.5 < r.years_to_one_day < 2.7
     # runs fast: 360°/29.5 d - 360°/29.530589 d, per Julian century

@@ -110,7 +110,7 @@ def test_exact_235_over_19_first():
                    make_target(ratio="235/19")):
         best = search(target, make_constraints(stages="1-3"), top=3).results[0]
         assert best.exact and best.ratio == target.ratio
-        assert best.error_ppm == 0.0 and math.isinf(best.one_day_off_years)
+        assert best.period_error_ppm == 0.0 and math.isinf(best.one_day_off_years)
 
 
 def test_exact_254_over_19_needs_127():
@@ -179,7 +179,7 @@ def test_max_prime_limits_every_factor():
     for r in smooth.results:
         for c in all_counts(r):
             assert max(sympy.factorint(c)) <= 7
-    assert abs(smooth.results[0].error_ppm) > abs(free.results[0].error_ppm)
+    assert abs(smooth.results[0].period_error_ppm) > abs(free.results[0].period_error_ppm)
 
 
 def test_no_repeat_changes_best():
@@ -223,7 +223,7 @@ def test_moon_disc_59_teeth():
     expected_years = 1 / (SYNODIC_DAYS / 29.5 - 1) / YEAR_DAYS
     assert best.one_day_off_years == pytest.approx(expected_years, rel=1e-4)
     assert best.one_day_off_years == pytest.approx(2.6, abs=0.05)
-    assert best.error_ppm == pytest.approx((SYNODIC_DAYS / 29.5 - 1) * 1e6, rel=1e-4)
+    assert best.period_error_ppm == pytest.approx((29.5 / SYNODIC_DAYS - 1) * 1e6, rel=1e-4)
     # drift: error x 360 deg x turns per century
     turns_per_century = 36525 / SYNODIC_DAYS
     assert best.drift_deg_per_century == pytest.approx(
@@ -242,7 +242,7 @@ def test_convergents_of_synodic_month():
     assert by_period[Fraction(59, 2)].train.ratio == Fraction(2, 59)
     assert not by_period[Fraction(443, 15)].admitted  # 443 is prime, above 150
     assert "443" in by_period[Fraction(443, 15)].reason
-    errs = [abs(c.error_ppm) for c in convs]
+    errs = [abs(c.period_error_ppm) for c in convs]
     assert errs[2] > errs[3] > errs[4]  # convergents close in on the target
 
 
@@ -328,7 +328,8 @@ def test_bad_targets(kwargs, message):
     ({"max_prime": 1}, "at least 2"),
     ({"stages": 3, "direction": "same"}, "even number of stages"),
     ({"stages": 2, "direction": "reverse"}, "odd number of stages"),
-    ({"stages": 4, "wheels": (2, 2000)}, "narrow the tooth ranges"),
+    ({"stages": 4, "wheels": (2, 2000)}, "narrow the range"),
+    ({"stages": 4, "wheels": (2, 200), "pinions": (2, 200)}, "at most 3 stages"),
 ])
 def test_impossible_constraints(kwargs, message):
     with pytest.raises(SearchError, match=message):
@@ -364,7 +365,7 @@ def test_cli_table(capsys):
 
 
 def test_cli_nothing_found(capsys):
-    assert main(["search", "--ratio", "1/2", "--stages", "2", "--allowed", "10,12",
+    assert main(["search", "--ratio", "5/6", "--stages", "2", "--allowed", "10,12",
                  "--no-repeat"]) == 0
     assert "no train within these bounds" in capsys.readouterr().out
 
@@ -404,10 +405,15 @@ def test_cli_emit_checks_and_far_off_note(tmp_path, capsys):
     assert main(["search", "--period", "29.530589", "--emit",
                  str(tmp_path / "no" / "x.toml")]) == 1
     assert "does not exist" in capsys.readouterr().err
-    # one stage of at most 150 teeth cannot come near a 29.5-day period from a daily crank
-    assert main(["search", "--period", "29.530589", "--stages", "1", "--top", "1"]) == 0
+    # one stage of at most 150 teeth cannot come near a 29.5-day period from a daily crank:
+    # refused up front, saying what would work
+    assert main(["search", "--period", "29.530589", "--stages", "1", "--top", "1"]) == 2
+    assert "search --stages 2" in capsys.readouterr().err
+    # within reach, but the counts allowed leave a gap: the closest is far off, and said so
+    assert main(["search", "--ratio", "0.7", "--stages", "1", "--allowed", "10,20",
+                 "--top", "1"]) == 0
     out = " ".join(capsys.readouterr().out.split())
-    assert "closest train within these bounds is 57.5% off" in out
+    assert "closest train within these bounds is 40% off" in out
 
 
 def test_cycle_target_is_the_published_rate_as_a_decimal():
@@ -434,13 +440,14 @@ def test_planet_period_targets_by_name():
 
 
 def test_search_reports_a_relations_error(capsys):
-    assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "1-2", "--top", "1",
+    # 399 days from a daily crank needs three stages of 8-150 teeth
+    assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "3", "--top", "1",
                  "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert out["target"]["approximates"] == "jupiter_synodic"
     # 83 Julian years / 76 against 1 / (1/P_jupiter - 1/P_earth) from the JPL rates
-    assert out["target"]["relation_error_ppm"] == pytest.approx(23.4, abs=0.1)
-    assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "1", "--top", "1"]) == 0
+    assert out["target"]["relation_period_error_ppm"] == pytest.approx(23.4, abs=0.1)
+    assert main(["search", "--cycle", "jupiter 76 in 83", "--stages", "3", "--top", "1"]) == 0
     assert "+23.39 ppm" in capsys.readouterr().out
 
 
@@ -466,3 +473,41 @@ def test_product_tables_equal_a_plain_enumeration(values, k, distinct):
     prods, sums = _products(values, k, distinct)
     assert prods.tolist() == sorted(want)
     assert sums.tolist() == [want[p] for p in sorted(want)]
+
+
+@pytest.mark.parametrize("argv, words", [
+    (["--period", "1e-30"], "from 1e-09 to 1e+12"),
+    (["--period", "1e30"], "from 1e-09 to 1e+12"),
+    (["--period", "1e400"], "from 1e-09 to 1e+12"),
+    (["--ratio", "1e-19"], "from 1e-09 to 1e+12"),
+    (["--crank-days", "1e300", "--period", "1"], "from 1e-09 to 1e+12"),
+    (["--ratio", "1e12"], "out of reach"),
+    (["--period", "1e7"], "--crank-days"),
+    (["--period", "3000", "--stages", "1"], "search --stages 3"),
+    (["--ratio", "1/2", "--allowed", "10,12", "--stages", "2"], "out of reach"),
+    (["--cycle", "synodic month", "--top", "5000"], "from 1 to 200"),
+    (["--cycle", "synodic month", "--wheels", "8-20000"], "10,000"),
+    (["--cycle", "synodic month", "--allowed", "1-100000000"], "10,000"),
+    (["--cycle", "synodic month", "--wheels", "8-1000"], "at most 2 stages"),
+])
+def test_cli_hopeless_or_unbounded_searches_refused_up_front(argv, words, capsys):
+    """Every search option is bounded, and a target the bounds cannot come near is refused
+    before any work with what would work: one line, exit 2, never a traceback or a hang."""
+    assert main(["search", *argv]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "usage error" in err and words in err, err
+
+
+def test_ppm_has_one_meaning_in_ratios_and_search(capsys):
+    """The 2/59 moon disc: its period error against the synodic month is the same figure under
+    the same key in both commands (period 29.5 days; mean synodic month 29.530588853 days,
+    the period in engine/periods.py)."""
+    assert main(["ratios", "moon_disc_59", "--json"]) == 0
+    ratios = json.loads(capsys.readouterr().out)["pointers"][0]
+    assert main(["search", "--cycle", "synodic month", "--stages", "1", "--pinions", "2-2",
+                 "--wheels", "59-59", "--top", "1", "--json"]) == 0
+    found = json.loads(capsys.readouterr().out)["results"][0]
+    assert "error_ppm" not in found and "error_ppm" not in ratios
+    want = (29.5 / 29.530588853 - 1) * 1e6  # about -1035.8
+    assert found["period_error_ppm"] == pytest.approx(want, rel=1e-6)
+    assert ratios["period_error_ppm"] == pytest.approx(want, rel=1e-4)

@@ -18,6 +18,7 @@ from . import support
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.epilog = support.PPM_MEANING
     support.add_train(parser)
     parser.add_argument("--json", action="store_true", help="print JSON only")
 
@@ -47,12 +48,16 @@ def run(args: argparse.Namespace, console: Console) -> int:
     console.print(f"[bold]{escape(train.name)}[/]  ({escape(train.source)}; crank on "
                   f"'{escape(train.crank.arbor)}', {fraction_text(dpt)} "
                   f"day{'' if dpt == 1 else 's'} per turn; {train.dial} dial)")
-    table = support.plain_table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
+    table = support.plain_table(
+        header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False,
+        caption="period ppm: (realised period / mean period - 1) × 10⁶, + too long (the "
+        "pointer falls behind), − too short; °/century: the pointer's drift against the mean "
+        "motion")
     for col, just in (("pointer", "left"), ("period (d)", "right"), ("mean (d)", "right"),
                       ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
     for r in rows:
-        table.add_row(r.pointer, f"{r.period_days:.10g}", f"{r.target_days:.10g}", f"{r.error_ppm:+.3f}",
+        table.add_row(r.pointer, f"{r.period_days:.10g}", f"{r.target_days:.10g}", f"{r.period_error_ppm:+.3f}",
                       f"{r.drift_deg_per_century:+.4f}", _years(r.years_to_one_day))
     support.print_table(console, table)
     for r in rows:
@@ -80,7 +85,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
                           f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/"
                           f"{sy.ratio.denominator} turns per crank turn, "
                           f"{sy.period_days:.10g} d against the {sy.target_name} of "
-                          f"{sy.target_days:.10g} d: {sy.error_ppm:+.3f} ppm, "
+                          f"{sy.target_days:.10g} d: {sy.period_error_ppm:+.3f} ppm, "
                           f"{sy.drift_deg_per_century:+.4f}°/century")
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:

@@ -16,9 +16,11 @@ from ..exact import fraction_text, parse_fraction, ratio_text
 from ..periods import PERIODS, relation_error_ppm
 from ..search import (
     MAX_TEETH,
+    MAX_TOP,
     Convergent,
     SearchReport,
     TrainResult,
+    check_reachable,
     emit_fragment,
     make_constraints,
     make_target,
@@ -29,7 +31,6 @@ from ..search import (
 from . import support
 
 FAR_PPM = 1e4  # a best train more than 1% off is worth a word: the bounds are too tight
-MAX_TOP = 200  # trains listed at most: more is a table nobody reads, and costs minutes
 
 
 def _number(what: str):
@@ -67,6 +68,7 @@ def _stage_counts(text: str) -> str:
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.epilog = support.PPM_MEANING
     want = parser.add_argument_group("target (exactly one)")
     one = want.add_mutually_exclusive_group(required=True)
     one.add_argument("--period", metavar="DAYS", type=_number("period"),
@@ -123,6 +125,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
                                 allowed=args.allowed, max_prime=args.max_prime,
                                 no_repeat=args.no_repeat, direction=direction,
                                 exact_only=args.exact_only)
+        check_reachable(target, cons)
         if args.pick != 1 and not args.emit:
             raise SearchError("--pick chooses which result --emit writes; give --emit FILE too")
     out = support.OutputFile(args.emit, option="--emit", force=args.force) if args.emit else None
@@ -171,12 +174,12 @@ def _relation_json(t) -> dict:
     if t.cycle is None or not t.cycle.approximates:
         return {}
     return {"approximates": t.cycle.approximates,
-            "relation_error_ppm": relation_error_ppm(t.cycle.key)}
+            "relation_period_error_ppm": relation_error_ppm(t.cycle.key)}
 
 
 def _conv_dict(v: Convergent) -> dict:
     return {"ratio": ratio_text(v.ratio), "period_days": ratio_text(v.period_days),
-            "error_ppm": v.error_ppm, "admitted": v.admitted,
+            "period_error_ppm": v.period_error_ppm, "admitted": v.admitted,
             "train": result_to_dict(v.train) if v.train else None, "reason": v.reason or None}
 
 
@@ -202,33 +205,34 @@ def _print(report: SearchReport, console: Console) -> None:
                       f"{mean.days:.7g} days it is {relation_error_ppm(t.cycle.key):+.4g} ppm")
     if not report.results:
         console.print("no train within these bounds")
-    elif abs(report.results[0].error_ppm) > FAR_PPM:
+    elif abs(report.results[0].period_error_ppm) > FAR_PPM:
         console.print(f"[yellow]the closest train within these bounds is "
-                      f"{abs(report.results[0].error_ppm) / 1e4:.3g}% off the target:[/] widen "
+                      f"{abs(report.results[0].period_error_ppm) / 1e4:.3g}% off the target:[/] widen "
                       "the tooth ranges or allow more stages")
     else:
         table = support.plain_table(title="trains, best first", box=box.SIMPLE_HEAD,
                                     collapse_padding=True,
                       pad_edge=False,
-                      caption="stages: driver→driven; speed ppm: error of the ratio (+ runs fast); °/cy: drift of "
+                      caption="stages: driver→driven; period ppm: (train's period / target - 1) "
+                      "× 10⁶, + too long (falls behind), − too short; °/cy: drift of "
                       "the output pointer per century; 1 day off: years until it is a day out")
         for col, just in (("#", "right"), ("stages", "left"), ("ratio", "right"),
-                          ("days/turn", "right"), ("speed ppm", "right"), ("°/cy", "right"),
+                          ("days/turn", "right"), ("period ppm", "right"), ("°/cy", "right"),
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
         for i, r in enumerate(report.results, start=1):
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), f"{r.period_days:.9g}",
-                          f"{r.error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
+                          f"{r.period_error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
                           _years(r.one_day_off_years), str(r.total_teeth))
         support.print_table(console, table)
     if report.convergents:
         table = support.plain_table(title="continued-fraction convergents of the target",
                                     box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False)
-        for col, just in (("ratio", "right"), ("days/turn", "right"), ("speed ppm", "right"),
+        for col, just in (("ratio", "right"), ("days/turn", "right"), ("period ppm", "right"),
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
         for v in report.convergents:
-            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), f"{v.error_ppm:+.4g}",
+            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), f"{v.period_error_ppm:+.4g}",
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
         support.print_table(console, table)

@@ -35,6 +35,10 @@ from ..errors import OutputError, UsageError, WheelworkError
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
 
+# The one meaning of "ppm" in every command's text and JSON (key ``period_error_ppm``).
+PPM_MEANING = ("period ppm (period_error_ppm in --json): (realised period / target period - 1) "
+               "x 10^6; positive: the period is too long and the pointer falls behind")
+
 LARGE_OUTPUT_BYTES = 50 * 1024 * 1024  # above this a file's estimated size is said first
 
 
