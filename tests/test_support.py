@@ -20,7 +20,7 @@ from engine.errors import OutputError
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "engine" / "trains"
-SEARCH = ["search", "--ratio", "1/59", "--stages", "1", "--top", "1"]
+SEARCH = ["search", "--ratio", "1/15", "--stages", "1", "--top", "1"]
 
 
 def _one_line_error(capsys, *words):
