@@ -10,19 +10,30 @@ See ``docs/api.md`` for worked examples.
 
 from __future__ import annotations
 
-from .checks import check
-from .dates import calendar_date, format_jd, parse_date, parse_step
+from .checks import ArborCheck, CheckReport, Finding, MeshCheck, PinSlotCheck, check
+from .dates import as_jd, calendar_date, format_jd, parse_date, parse_step
 from .drawing import cut_parts, layout_sheet, to_dxf, to_svg, tooth_forms
-from .drift import DriftResult, PointerSummary, drift_series, pointer_errors
+from .drift import DriftResult, ErrorNow, PointerSummary, drift_series, pointer_errors
 from .eclipses import Check as EclipseCheck
 from .eclipses import Eclipse, real_eclipses, sky_eclipses, syzygies
 from .eclipses import check as check_eclipses
-from .errors import DateError, SearchError, SkyError, TrainError, WheelworkError
+from .errors import (
+    DateError,
+    DriftCancelled,
+    DriftError,
+    OutputError,
+    SearchError,
+    SkyError,
+    TrainError,
+    UsageError,
+    WheelworkError,
+)
 from .exact import Turns, parse_fraction
 from .kinds import FRAMES, KINDS, POINTER_KINDS, PointerKind, kind_key
 from .kinematics import (
     Kinematics,
     LinearAngle,
+    MeshFrame,
     pin_slot_lead_turns,
     slot_follower_turns,
     solve,
@@ -39,9 +50,15 @@ from .periods import (
 )
 from .plate import PlacementError, place_plates
 from .play import PlayReport, Tolerances, play
-from .ratios import PointerRatio, SynodicRatio, pointer_ratios
-from .readout import Readout, backward_warnings, epoch_values
+from .ratios import PointerRatio, Stage, SynodicRatio, ToothNote, pointer_ratios
+from .readout import PointerMotion, Readout, backward_warnings, epoch_values
 from .search import (
+    Constraints,
+    Convergent,
+    SearchReport,
+    Target,
+    TrainResult,
+    WheelPair,
     convergents,
     emit_fragment,
     make_constraints,
@@ -56,27 +73,31 @@ from .toothform import (
     involute_ring,
     involute_wheel,
 )
-from .train import Train
+from .train import Arbor, Crank, Epoch, Mesh, PinSlot, Pointer, Train, Wheel
 
 __all__ = [
     # trains: load, solve, set
-    "load_train", "parse_train", "Train", "solve", "Kinematics", "LinearAngle",
+    "load_train", "parse_train", "Train", "solve", "Kinematics", "LinearAngle", "MeshFrame",
+    "Arbor", "Wheel", "Mesh", "PinSlot", "Crank", "Epoch", "Pointer",
     "open_train", "build", "Mechanism", "DEFAULT_TRAIN",
     # turning and reading
-    "Turns", "Readout", "epoch_values", "backward_warnings", "slot_follower_turns",
+    "Turns", "Readout", "PointerMotion", "epoch_values", "backward_warnings", "slot_follower_turns",
     "pin_slot_lead_turns", "parse_fraction",
     # ratios and periods
-    "pointer_ratios", "PointerRatio", "PERIODS", "POINTER_KINDS", "MeanPeriod", "find_period",
+    "pointer_ratios", "PointerRatio", "Stage", "ToothNote", "PERIODS", "POINTER_KINDS", "MeanPeriod", "find_period",
     "mean_elements", "KINDS", "PointerKind", "FRAMES", "kind_key", "SynodicRatio",
     "PERIOD_RELATIONS", "relation_error_ppm",
     # sky truth and dates
     "Sky", "SkyState", "Site", "parse_date", "format_jd", "calendar_date",
+    "as_jd",
     # drift
     "pointer_errors", "drift_series", "DriftResult", "PointerSummary", "parse_step",
+    "ErrorNow",
     # search
     "search", "make_target", "make_constraints", "convergents", "emit_fragment",
+    "SearchReport", "TrainResult", "WheelPair", "Convergent", "Target", "Constraints",
     # mechanical checks
-    "check",
+    "check", "CheckReport", "Finding", "MeshCheck", "ArborCheck", "PinSlotCheck",
     # the workshop: cutting files, and what tolerances do to the pointers
     "tooth_forms", "cut_parts", "layout_sheet", "to_svg", "to_dxf", "place_plates",
     "cycloidal_wheel", "cycloidal_pinion", "involute_wheel", "involute_ring", "ToothForm",
@@ -85,4 +106,5 @@ __all__ = [
     "real_eclipses", "sky_eclipses", "syzygies", "Eclipse", "check_eclipses", "EclipseCheck",
     # errors
     "WheelworkError", "TrainError", "DateError", "SkyError", "SearchError",
+    "DriftError", "DriftCancelled", "UsageError", "OutputError",
 ]

@@ -20,6 +20,7 @@ from fractions import Fraction
 import numpy as np
 
 from .kinematics import Kinematics
+from .mechanism import Mechanism, train_and_kin
 from .periods import PERIODS
 from .train import FRAME, Train
 
@@ -324,7 +325,7 @@ def _power_flow(train: Train, kin: Kinematics):
 
 # --- the check -----------------------------------------------------------------------------
 
-def check(train: Train, kin: Kinematics, *, crank_rpm: float | None = None,
+def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm: float | None = None,
           efficiency: float | None = None,
           pin_diameter_mm: float = DEFAULT_PIN_DIAMETER_MM) -> CheckReport:
     """Check a solved train's geometry, speeds and loads; see the module docstring.
@@ -333,6 +334,7 @@ def check(train: Train, kin: Kinematics, *, crank_rpm: float | None = None,
     ``efficiency`` the efficiency of each mesh and pin-and-slot stage (default
     :data:`DEFAULT_EFFICIENCY`).
     """
+    train, kin = train_and_kin(train, kin)
     crank_rpm = DEFAULT_CRANK_RPM if crank_rpm is None else float(crank_rpm)
     efficiency = DEFAULT_EFFICIENCY if efficiency is None else float(efficiency)
     if not (math.isfinite(crank_rpm) and crank_rpm > 0):

@@ -219,6 +219,25 @@ def _fail(text: str, problem: str) -> DateError:
     return DateError(f"cannot read date {text!r}: {problem}; {FORMS_HINT}")
 
 
+def as_jd(value, what: str = "date"):
+    """Julian Date(s) (UT) from what a caller gave: a number or array of numbers (taken as JD),
+    date text (:func:`parse_date`), or a list of either. Anything else is a
+    :class:`engine.errors.DateError` saying in plain words what is wanted."""
+    if isinstance(value, str):
+        return parse_date(value)
+    if isinstance(value, (list, tuple)) and any(isinstance(v, str) for v in value):
+        return np.array([as_jd(v, what) for v in value], dtype=float)
+    try:
+        if value is None or isinstance(value, bool):
+            raise TypeError
+        jd = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise DateError(f"{what}: wanted a Julian Date (UT) as a number or array, or date text "
+                        f"such as '2025-03-20 12:00'; got {type(value).__name__} "
+                        f"{str(value)[:40]!r}") from None
+    return jd if jd.ndim else float(jd)
+
+
 def parse_date(text: str, *, calendar: str = "auto") -> float:
     """Julian Date (UT) of a date written in one of the forms listed in the module docstring.
 

@@ -64,7 +64,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .dates import parse_step
+from .dates import as_jd, parse_step
 from .errors import DriftCancelled, DriftError, WheelworkError
 from .exact import turns_mod1
 from .fitting import (
@@ -143,7 +143,7 @@ def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None, site=None,
     """
     readout = readout or mech.readout
     frame = frame or mech.train.dial
-    jd = np.asarray(jd_ut, dtype=float)
+    jd = np.asarray(as_jd(jd_ut, "pointer_errors"), dtype=float)
     shows = [p.shows for p in mech.train.pointers.values()]
     state = sky_at(sky, jd, shows, frame=frame, site=_site(site))
     reading = readout.read_deg(readout.turns_at(jd))
@@ -313,6 +313,10 @@ class DriftResult:
     def notes(self) -> list[str]:
         """One line per pointer whose figures the step cannot be trusted for."""
         return [s.step_note for s in self.summaries.values() if s.step_note]
+
+    def __repr__(self):
+        return (f"DriftResult({len(self.jd):,} dates every {self.step_days:g} d, {self.frame} "
+                f"frame, pointers: {', '.join(self.summaries)})")
 
     def summaries_dict(self) -> dict[str, dict]:
         return {name: s.to_dict() for name, s in self.summaries.items()}
@@ -594,6 +598,7 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
                  include_end: bool = False) -> DriftResult:
     """Every pointer's error on the grid ``jd_start + k * step_days`` up to ``jd_end`` (UT).
 
+    ``jd_start``, ``jd_end``: UT Julian dates or date text (:func:`engine.dates.parse_date`).
     ``step_days``: days, or text for :func:`parse_step`. ``threshold_deg``: one value for every
     pointer, or ``{pointer: deg}``. ``progress(f)`` is called after each chunk with the
     fraction done; ``cancel()`` is asked before each chunk, and a true answer raises
@@ -606,8 +611,8 @@ def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
     frame = frame or mech.train.dial
     site = _site(site)
     step = parse_step(step_days)
-    jd0 = float(jd_start)
-    n = _span(sky, jd0, float(jd_end), step, frame, site, include_end)
+    jd0 = float(as_jd(jd_start, "drift start"))
+    n = _span(sky, jd0, float(as_jd(jd_end, "drift end")), step, frame, site, include_end)
     run = _Chunks(mech, readout, jd0, n, step, frame,
                   _thresholds(mech.train.pointers, threshold_deg), keep_series)
     shows = [p.shows for p in run.pointers.values()]

@@ -116,6 +116,10 @@ class Kinematics:
         self.slot_order = slot_order
         self.mesh_frames = mesh_frames
 
+    def __repr__(self):
+        return (f"Kinematics({self.train.name!r}: {len(self.linear)} arbors, "
+                f"{len(self.slot_names)} pin-and-slot)")
+
     @property
     def rates(self) -> dict[str, Fraction]:
         """Mean turns per crank turn of every arbor, relative to the frame (exact)."""

@@ -25,6 +25,21 @@ class Mechanism:
     readout: Readout
     warnings: tuple[str, ...]
 
+    def __repr__(self):
+        return (f"Mechanism({self.train.name!r}, {len(self.train.arbors)} arbors, "
+                f"pointers: {', '.join(self.train.pointers)})")
+
+
+def train_and_kin(what, kin: Kinematics | None = None) -> tuple[Train, Kinematics]:
+    """``(train, kin)`` from a :class:`Mechanism`, or from a :class:`Train` and its solved
+    ``kin`` (solved here when not given): what the report functions take first."""
+    if isinstance(what, Mechanism):
+        return what.train, kin or what.kin
+    if isinstance(what, Train):
+        return what, kin or solve(what)
+    raise TypeError(f"wanted a Mechanism (open_train) or a Train (load_train), not "
+                    f"{type(what).__name__}")
+
 
 def build(train: Train, sky=None) -> Mechanism:
     """Solve ``train`` and set its pointers as its ``[epoch] set`` says.

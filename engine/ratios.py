@@ -9,6 +9,7 @@ from fractions import Fraction
 
 from .kinds import KINDS, mean_rate_deg_per_day
 from .kinematics import Kinematics
+from .mechanism import Mechanism, train_and_kin
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
 from .readout import pointer_linear
 from .train import FRAME, Train
@@ -193,10 +194,12 @@ def route_text(train: Train, kin: Kinematics, arbor: str, stages: list[Stage],
     return "(turns with the crank arbor)"
 
 
-def pointer_ratios(train: Train, kin: Kinematics, frame: str | None = None
-                   ) -> list[PointerRatio]:
+def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,
+                   frame: str | None = None) -> list[PointerRatio]:
     """The ratio report's rows, one per pointer, judged on a dial of ``frame`` (default: the
-    train's own dial; "equinox" or "stars")."""
+    train's own dial; "equinox" or "stars"). ``train``: a :class:`Mechanism`, or a
+    :class:`Train` with its ``kin`` (solved here if not given)."""
+    train, kin = train_and_kin(train, kin)
     frame = frame or train.dial
     rows = []
     dpt = train.crank.days_per_turn

@@ -69,7 +69,7 @@ from skyfield.nutationlib import (
 from skyfield.precessionlib import compute_precession
 from skyfield.relativity import add_aberration
 
-from .dates import format_jd
+from .dates import as_jd, format_jd
 from .errors import SkyError
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, mean_elements
@@ -613,6 +613,12 @@ class SkyState:
     planet_lon_deg: dict = field(default_factory=dict)
     planet_helio_lon_deg: dict = field(default_factory=dict)
 
+    def __repr__(self):
+        jd = np.ravel(self.jd_ut)
+        when = f"{format_jd(jd[0])}" + (f" … {format_jd(jd[-1])}" if jd.size > 1 else "")
+        return f"SkyState({self.frame}, {jd.size} date(s): {when})" if jd.size else \
+            f"SkyState({self.frame}, no dates)"
+
     def kind(self, name: str) -> np.ndarray:
         """True value (degrees, 0-360, this state's frame) that a pointer of kind ``name``
         should show: the ``true`` of its row in :data:`engine.kinds.KINDS`."""
@@ -671,7 +677,7 @@ class Sky:
         if site is not None and not isinstance(site, Site):
             raise SkyError(f"site must be a Site(lat_deg, lon_deg, height_m), not {site!r}")
         names = self._planet_names(planets)
-        jd = np.asarray(jd_ut, dtype=float)
+        jd = np.asarray(as_jd(jd_ut, "Sky.at"), dtype=float)  # numbers or date text
         shape = jd.shape
         flat = jd.reshape(-1)
         self._check_span(flat)

@@ -197,6 +197,10 @@ class Train:
     eclipses: EclipseSettings = field(default_factory=EclipseSettings)
     workshop: Workshop = field(default_factory=Workshop)
 
+    def __repr__(self):
+        return (f"Train({self.name!r} from {self.source}, {len(self.arbors)} arbors, "
+                f"{len(self.meshes)} meshes, pointers: {', '.join(self.pointers)})")
+
     def arbor_of(self, wheel: str) -> Arbor:
         return self.arbors[self.wheels[wheel].arbor]
 

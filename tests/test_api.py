@@ -82,3 +82,63 @@ def test_format_doc_example_is_a_working_train():
     train = parse_train(block, "docs/train-format.md")
     kin = solve(train)
     assert backward_warnings(train, kin) == []
+
+
+def test_returned_types_are_importable_from_the_api():
+    """What the front door's functions return (and the items in it) is named in engine.api."""
+    import engine.api as api
+    from engine.sky import Sky
+
+    mech = api.open_train(ROOT / "engine" / "trains" / "tide_office.toml")
+    sky = Sky()
+    got = [mech, mech.train, mech.kin, mech.readout, sky.at(2461000.5)]
+    got += [*mech.train.arbors.values(), *mech.train.wheels.values(), *mech.train.meshes,
+            *mech.train.pin_slots.values(), *mech.train.pointers.values(),
+            mech.train.crank, mech.train.epoch, *mech.readout.motions.values()]
+    rows = api.pointer_ratios(mech)
+    got += [*rows, *rows[0].stages, *rows[0].teeth]
+    report = api.check(mech)
+    got += [report, *report.findings]
+    got += list(api.pointer_errors(mech, sky, "2030-01-01").values())
+    res = api.drift_series(mech, sky, "2030-01-01", "2030-03-01", "1d")
+    got += [res, *res.summaries.values()]
+    missing = {type(o).__name__ for o in got if type(o).__name__ not in api.__all__}
+    assert not missing, missing
+
+
+def test_same_first_argument_and_dates_as_text():
+    import engine.api as api
+    from engine.sky import Sky
+
+    mech = api.open_train(ROOT / "engine" / "trains" / "nineteen_year_drum.toml")
+    assert api.pointer_ratios(mech) == api.pointer_ratios(mech.train, mech.kin)
+    assert api.check(mech) == api.check(mech.train, mech.kin)
+    sky = Sky()
+    jd = api.parse_date("2030-05-01 06:00")
+    assert float(sky.at("2030-05-01 06:00").sun_lon_deg) == float(sky.at(jd).sun_lon_deg)
+    both = sky.at(["2030-05-01 06:00", jd])
+    assert both.sun_lon_deg[0] == both.sun_lon_deg[1]
+    a = api.drift_series(mech, sky, "2030-01-01", "2031-01-01", "1d").summaries_dict()
+    b = api.drift_series(mech, sky, api.parse_date("2030-01-01"), api.parse_date("2031-01-01"),
+                         1.0).summaries_dict()
+    assert a == b
+    for bad in (object(), {"jd": 1}, "next tuesday", None, [None, "2030-01-01"]):
+        with pytest.raises(api.DateError) as e:
+            sky.at(bad)
+        assert "\n" not in str(e.value) and ("Julian Date" in str(e.value)
+                                             or "2025-03-20" in str(e.value))
+    with pytest.raises(TypeError, match="Mechanism"):
+        api.pointer_ratios("engine/trains/tide_office.toml")
+
+
+def test_short_reprs():
+    import engine.api as api
+    from engine.sky import Sky
+
+    mech = api.open_train(ROOT / "engine" / "trains" / "tide_office.toml")
+    sky = Sky()
+    res = api.drift_series(mech, sky, "2030-01-01", "2030-02-01", "1d")
+    for obj in (mech, mech.train, mech.kin, sky.at([2461000.5, 2461001.5]), res):
+        text = repr(obj)
+        assert "\n" not in text and len(text) < 200, text
+        assert text.startswith(type(obj).__name__ + "(")
