@@ -52,6 +52,7 @@ import math
 import os
 import warnings
 from dataclasses import dataclass, field, fields
+from typing import NamedTuple
 
 import numpy as np
 from skyfield.api import load, wgs84
@@ -638,6 +639,20 @@ _STATE_ARRAYS = tuple(f.name for f in fields(SkyState) if f.name not in (
     "frame", "planet_lon_deg", "planet_helio_lon_deg"))
 
 
+class _Apparent(NamedTuple):
+    """What :meth:`Sky._apparent` gives: apparent Sun and Moon (au, ICRS axes), the Moon's lit
+    fraction, and the geometric positions and observer motion the planets' light path needs."""
+
+    sun: np.ndarray
+    moon: np.ndarray
+    illuminated: np.ndarray
+    geocentre: np.ndarray
+    obs: np.ndarray
+    v_obs: np.ndarray
+    sun_p: np.ndarray
+    sun_v: np.ndarray
+
+
 class Sky:
     """The true Sun and Moon from a JPL ephemeris.
 
@@ -787,7 +802,9 @@ class Sky:
                        {k: v[sl] for k, v in helio.items()})
         return (*out, jd_tt, _delta_t(t)), geo, helio
 
-    def _fast(self, whole, frac, rot, dpsi, site, t, names, out, geo_out, helio_out):
+    def _apparent(self, whole, frac, site=None, t=None) -> _Apparent:
+        """Apparent Sun and Moon (ICRS axes, au) from the Earth's centre or a site at TDB dates
+        ``whole + frac``, with the positions the planets' light path needs."""
         pv = {}
         for group in self._loaded.groups:
             pv.update(group.evaluate(whole, frac))
@@ -810,9 +827,16 @@ class Sky:
         sun_p, sun_v = sun_p * to_au, sun_v * to_au
         sun, sun_lt = _light_time(sun_p, sun_v, obs)
         moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
-        out[5] = _illuminated(sun, moon)
+        illuminated = _illuminated(sun, moon)
         add_aberration(sun, v_obs, sun_lt)
         add_aberration(moon, v_obs, moon_lt)
+        return _Apparent(sun, moon, illuminated, geocentre, obs, v_obs, sun_p, sun_v)
+
+    def _fast(self, whole, frac, rot, dpsi, site, t, names, out, geo_out, helio_out):
+        a = self._apparent(whole, frac, site, t)
+        sun, moon, geocentre, obs, v_obs = a.sun, a.moon, a.geocentre, a.obs, a.v_obs
+        sun_p, sun_v, to_au = a.sun_p, a.sun_v, 1.0 / AU_KM
+        out[5] = a.illuminated
 
         def lon_lat(v):
             e = rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v)
@@ -965,15 +989,65 @@ def _lon_lat(v, dpsi):
 def eclipse_vectors(sky: Sky, jd_ut) -> tuple[np.ndarray, np.ndarray]:
     """Apparent geocentric (GCRS) Sun and Moon positions in km at UT dates: two (3, n) arrays.
 
-    Skyfield's own pipeline (light time, aberration, deflection), vectorised over the dates."""
+    The fast path's light time and aberration (the same as skyfield's pipeline to well under a
+    kilometre at the Moon), so every ephemeris the fast path reads — DE406's arrays included —
+    gives eclipses; skyfield's own pipeline for files the fast path cannot read."""
     flat = np.atleast_1d(np.asarray(jd_ut, dtype=float))
     sky._check_span(flat)
-    sky._require_kernel("the eclipse geometry")
     t = _timescale().ut1_jd(flat)
+    if sky._loaded.groups is not None:
+        a = sky._apparent(np.reshape(t.whole, -1), np.reshape(t.tdb_fraction, -1))
+        return a.sun * AU_KM, a.moon * AU_KM
+    sky._require_kernel("the eclipse geometry")
     here = sky._earth.at(t)
     sun = here.observe(sky._sun).apparent().xyz.km
     moon = here.observe(sky._moon).apparent().xyz.km
     return np.reshape(sun, (3, -1)), np.reshape(moon, (3, -1))
+
+
+class _ArraySegment:
+    """One body's series from the fast path's arrays, answering the two calls skyfield's lunar
+    eclipse search makes of an SPK segment (``compute`` and ``compute_and_differentiate``,
+    km and km/day at TDB ``whole + frac``)."""
+
+    def __init__(self, center, target, evaluate):
+        self.center, self.target, self.spk_segment = center, target, self
+        self._evaluate = evaluate
+
+    def compute_and_differentiate(self, whole, frac):
+        w, f = np.broadcast_arrays(np.asarray(whole, dtype=float), np.asarray(frac, dtype=float))
+        pos, vel = self._evaluate(np.reshape(w, -1), np.reshape(f, -1))
+        return np.reshape(pos, (3, *w.shape)), np.reshape(vel, (3, *w.shape))
+
+    def compute(self, whole, frac):
+        return self.compute_and_differentiate(whole, frac)[0]
+
+
+def _segments_for_skyfield(loaded: _Loaded):
+    """A stand-in for a skyfield ephemeris over arrays the fast path reads (DE406), for
+    ``skyfield.eclipselib.lunar_eclipses``. That search reads only ``eph.segments`` and, of
+    each, ``center``, ``target`` and ``spk_segment.compute[_and_differentiate]`` — a use of
+    skyfield's internal segment interface, isolated here; pyproject.toml pins skyfield below its
+    next major version and ``tests/test_ancient.py`` runs the search on these arrays."""
+    def series(key):
+        group = next(g for g in loaded.groups if key in g.keys)
+        return lambda w, f: group.evaluate(w, f)[key]
+
+    moon = series((3, 301))
+    segments = [_ArraySegment(0, 10, series((0, 10))), _ArraySegment(0, 3, series((0, 3))),
+                _ArraySegment(3, 301, moon)]
+    if loaded.earth_ratio is not None:
+        r = loaded.earth_ratio
+        segments.append(_ArraySegment(3, 399, lambda w, f: tuple(-r * x for x in moon(w, f))))
+    else:
+        segments.append(_ArraySegment(3, 399, series((3, 399))))
+
+    class _Stand:
+        pass
+
+    stand = _Stand()
+    stand.segments = segments
+    return stand
 
 
 def lunar_eclipse_search(sky: Sky, jd_start: float, jd_end: float) -> dict[str, np.ndarray]:
@@ -984,7 +1058,9 @@ def lunar_eclipse_search(sky: Sky, jd_start: float, jd_end: float) -> dict[str, 
     from skyfield import eclipselib
 
     sky.check_span(jd_start, jd_end)
-    kernel = sky._require_kernel("the lunar eclipse search")
+    kernel = sky._loaded.kernel
+    if kernel is None:
+        kernel = _segments_for_skyfield(sky._loaded)
     ts = _timescale()
     t, code, details = eclipselib.lunar_eclipses(ts.ut1_jd(jd_start), ts.ut1_jd(jd_end),
                                                  kernel)
