@@ -36,6 +36,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .kinematics import Kinematics
+from .periods import JULIAN_YEAR_DAYS
 from .readout import pointer_linear
 from .toothform import WHEEL_THICKNESS_M, leaf_form
 from .train import FRAME, Train
@@ -263,7 +264,7 @@ def _effects(train: Train, kin: Kinematics, years: float) -> dict[str, float | N
     out: dict[str, float | None] = {}
     if not train.pin_slots:
         return {p: None for p in train.pointers}
-    days = years * 365.25
+    days = years * JULIAN_YEAR_DAYS
     turns = np.linspace(0.0, days / float(train.crank.days_per_turn), 200_001)
     lags = kin.slot_lags_turns(turns)
     for p in train.pointers.values():
@@ -365,7 +366,7 @@ def _monte_carlo(train: Train, terms, psens, years: float, builds: int, samples:
     """Pointer errors of ``builds`` random trains at ``samples`` random times: (std, its
     sampling error, 95th percentile of |error|, max |error|, mean) per pointer, degrees."""
     rng = np.random.default_rng(seed)
-    days = years * 365.25
+    days = years * JULIAN_YEAR_DAYS
     t_days = np.sort(rng.uniform(0.0, days, samples))
     crank = t_days / float(train.crank.days_per_turn)
     err = {p: np.zeros((builds, samples)) for p in psens}
@@ -421,3 +422,26 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
                               "reduce the end-shake, or make the pinion's leaves longer than "
                               "the wheel's face by twice the end-shake"))
     return flags
+
+
+def dead_play_findings(train: Train, kin: Kinematics, form: str | None = None) -> list:
+    """One note per pointer: its dead play at the default tolerances and the mesh that gives
+    most of it (for the interface's warnings panel; cheap: no Monte Carlo)."""
+    from .checks import Finding
+
+    forms = _forms(train, form)
+    tol = Tolerances.of(train)
+    psens = pointer_sensitivity(train, kin)
+    backlash = [mesh_backlash_pitch(train, m, forms, tol.backlash_mm) for m in train.meshes]
+    out = []
+    for p, s in psens.items():
+        parts = np.abs(s) * np.array(backlash)
+        if not len(parts) or parts.max() <= 0:
+            continue
+        i = int(np.argmax(parts))
+        total = float(parts.sum())
+        out.append(Finding(
+            "note", f"[pointers.{p}]", f"dead play about {total:.3g}° (design estimate), "
+            f"{100 * parts[i] / total:.0f} % of it from {train.meshes[i].label}",
+            "cut and depth that mesh most carefully; wheelwork play gives the whole picture"))
+    return out

@@ -152,3 +152,18 @@ def test_play_bad_options_are_usage_errors(capsys):
         assert main(["play", str(SMALL), *bad]) == 2, bad
         err = capsys.readouterr().err
         assert "usage error" in err and "\n" not in err.strip()
+
+
+def test_largest_contributor_per_pointer_reaches_the_warnings_panel():
+    from engine.mechanism import open_train
+    from engine.play import dead_play_findings
+    from tui.app import engine_findings
+
+    train = load_train(SMALL)
+    (note,) = dead_play_findings(train, solve(train))
+    assert note.item == "[pointers.hand]" and "mesh 2 (middle_pinion–hand_wheel)" in note.message
+    assert "design estimate" in note.message
+    mech = open_train(DEMO)
+    items = engine_findings(mech)
+    dead = [i for i in items if "dead play" in i[2]]
+    assert {i[1] for i in dead} == {f"[pointers.{p}]" for p in mech.train.pointers}

@@ -34,7 +34,9 @@ def engine_findings(mech) -> list[tuple[str, str, str, str]]:
         report = check(mech.train, mech.kin)
     except WheelworkError as exc:
         return [*items, ("error", "mechanical check", str(exc), "")]
-    for f in report.findings:
+    from engine.play import dead_play_findings  # the largest contributor per pointer
+
+    for f in [*report.findings, *dead_play_findings(mech.train, mech.kin)]:
         items.append((str(getattr(f, "level", "info")), str(getattr(f, "item", "")),
                       str(getattr(f, "message", f)), str(getattr(f, "fix", "") or "")))
     return items

@@ -13,6 +13,7 @@ from rich.table import Table
 from ..errors import UsageError
 from ..kinematics import solve
 from ..loader import load_train
+from ..periods import JULIAN_YEAR_DAYS
 from ..play import (
     DEFAULT_DIVISION,
     DEFAULT_ECCENTRICITY_MM,
@@ -129,8 +130,8 @@ def _deg(x: float | None) -> str:
 def _days(d: float | None) -> str:
     if d is None:
         return "never (still in its mesh)"
-    if d >= 3 * 365.25:
-        return f"{d / 365.25:.4g} years"
+    if d >= 3 * JULIAN_YEAR_DAYS:
+        return f"{d / JULIAN_YEAR_DAYS:.4g} years"
     return f"{d:.4g} days"
 
 
