@@ -179,3 +179,32 @@ def test_sigterm_and_sighup_remove_the_part_file(signum, tmp_path):
     said = [ln for ln in err.splitlines() if not ln.startswith("wheelwork: note:")]
     assert len(said) == 1 and "stopped" in said[0] and "Traceback" not in err, err
     assert list(tmp_path.iterdir()) == []
+
+
+# --- the CSV says its date column's time scale and calendar, and a large one its size ---------
+
+def test_csv_date_heading_names_ut_and_the_calendar():
+    from engine.commands.drift import date_heading
+    from engine.dates import parse_date
+
+    # the Gregorian calendar's first day, 1582-10-15, followed 1582-10-04 (Julian)
+    first = parse_date("1582-10-15")
+    assert date_heading(first, first + 10) == "date (UT; Gregorian calendar)"
+    assert date_heading(first - 400, first - 1) == "date (UT; Julian calendar)"
+    assert "Julian to 1582-10-04 then Gregorian" in date_heading(first - 10, first + 10)
+
+
+def test_a_large_csv_is_announced_with_its_size(tmp_path, capsys, monkeypatch):
+    import engine.commands.support as support
+
+    out = tmp_path / "d.csv"
+    assert main(_drift_csv(out)) == 0
+    assert "will be about" not in capsys.readouterr().err
+    monkeypatch.setattr(support, "LARGE_OUTPUT_BYTES", 1000)
+    assert main(_drift_csv(out, "--force")) == 0
+    err = capsys.readouterr().err
+    assert err.count("will be about") == 1 and str(out) in err
+    # the estimate is close: within a tenth of the file written
+    said = err.split("will be about ")[1].split()[0:2]
+    size = float(said[0]) * {"bytes": 1, "kB": 1e3, "MB": 1e6}[said[1]]
+    assert abs(size - out.stat().st_size) < 0.1 * out.stat().st_size

@@ -1,0 +1,170 @@
+"""Bad option values thrown at every command: each is refused cleanly — exit 2 (a usage error;
+1 where the fault is found while working), one line on stderr naming the option, nothing on
+stdout, never a traceback or a hang.
+
+``python -m tests.test_bad_options`` prints the count tried and the count refused cleanly.
+"""
+
+from __future__ import annotations
+
+import io
+import sys
+from contextlib import redirect_stderr, redirect_stdout
+
+import pytest
+
+from engine.cli import main
+
+T = "tide_office"
+DISC = "moon_disc_59"
+
+# (argv, words the one line must hold)
+CASES: list[tuple[list[str], str]] = [
+    # the entry point
+    (["nosuch"], "unknown command"),
+    (["--nosuch"], "unrecognized"),
+    # ratios
+    (["ratios"], "TRAIN"),
+    (["ratios", T, "--bogus"], "unrecognized"),
+    (["ratios", T, "--json=yes"], "--json"),
+    # drift: span
+    (["drift", DISC, "--years", "0"], "positive"),
+    (["drift", DISC, "--years", "-1"], "positive"),
+    (["drift", DISC, "--years", "nan"], "positive"),
+    (["drift", DISC, "--years", "inf"], "positive"),
+    (["drift", DISC, "--years", "1e400"], "positive"),
+    (["drift", DISC, "--years", "abc"], "not a number"),
+    (["drift", DISC, "--years", "1e9"], "at most"),
+    (["drift", DISC], "--to --years"),
+    (["drift", DISC, "--years", "1", "--to", "2030-01-01"], "not allowed with"),
+    (["drift", DISC, "--years", "1", "--step", "0"], "step"),
+    (["drift", DISC, "--years", "1", "--step", "-1d"], "must be positive"),
+    (["drift", DISC, "--years", "1", "--step", "1x"], "step"),
+    (["drift", DISC, "--years", "1", "--step", ""], "step"),
+    (["drift", DISC, "--years", "1", "--step", "1e400d"], "step"),
+    (["drift", DISC, "--years", "1", "--step", "2y"], "longer than the span"),
+    (["drift", DISC, "--from", "2026-13-01", "--years", "1"], "date"),
+    (["drift", DISC, "--from", "", "--years", "1"], "date"),
+    (["drift", DISC, "--from", "2030-01-01", "--to", "2029-01-01"], "is not after"),
+    # drift: comparison and output
+    (["drift", DISC, "--years", "1", "--threshold", "0"], "positive"),
+    (["drift", DISC, "--years", "1", "--threshold", "400"], "at most 180"),
+    (["drift", DISC, "--years", "1", "--threshold", "nan"], "positive"),
+    (["drift", DISC, "--years", "1", "--threshold-days", "20"], "at most"),
+    (["drift", DISC, "--years", "1", "--threshold-days", "-1"], "positive"),
+    (["drift", DISC, "--years", "1", "--frame", "sideways"], "invalid choice"),
+    (["drift", DISC, "--years", "1", "--site", "95,0"], "impossible"),
+    (["drift", DISC, "--years", "1", "--site", "a,b"], "LAT,LON"),
+    (["drift", DISC, "--years", "1", "--site", "1,2,3,4"], "LAT,LON"),
+    (["drift", DISC, "--years", "1", "--site", "-33.87,200"], "impossible"),
+    (["drift", DISC, "--years", "1", "--ephemeris", "/tmp"], "is a folder"),
+    (["drift", DISC, "--years", "1", "--ephemeris", "nosuch.bsp"], "no such file"),
+    (["drift", DISC, "--years", "1", "--png", "chart.txt"], ".png, .svg or .pdf"),
+    # search
+    (["search", "--cycle", "synodic month", "--top", "0"], "--top"),
+    (["search", "--cycle", "synodic month", "--top", "-1"], "--top"),
+    (["search", "--cycle", "synodic month", "--top", "5000"], "from 1 to 200"),
+    (["search", "--cycle", "synodic month", "--top", "x"], "--top"),
+    (["search", "--cycle", "synodic month", "--stages", "9"], "outside 1-4"),
+    (["search", "--cycle", "synodic month", "--stages", "0"], "outside 1-4"),
+    (["search", "--cycle", "synodic month", "--stages", "3-1"], "empty"),
+    (["search", "--cycle", "synodic month", "--stages", "x"], "cannot read"),
+    (["search", "--cycle", "synodic month", "--max-prime", "1"], "--max-prime"),
+    (["search", "--cycle", "synodic month", "--max-prime", "x"], "--max-prime"),
+    (["search", "--period", "0"], "positive"),
+    (["search", "--period", "-3"], "positive"),
+    (["search", "--period", "1e-30"], "1e-09 to 1e+12"),
+    (["search", "--period", "1e30"], "1e-09 to 1e+12"),
+    (["search", "--period", "1e400"], "1e-09 to 1e+12"),
+    (["search", "--period", "nan"], "period"),
+    (["search", "--period", "1/0"], "period"),
+    (["search", "--period", "2**10"], "period"),
+    (["search", "--ratio", "1e12"], "out of reach"),
+    (["search", "--ratio", "1e-19"], "1e-09 to 1e+12"),
+    (["search", "--period", "1", "--crank-days", "0"], "positive"),
+    (["search", "--period", "1", "--crank-days", "1e300"], "1e-09 to 1e+12"),
+    (["search", "--cycle", "synodic month", "--wheels", "150-8"], "empty"),
+    (["search", "--cycle", "synodic month", "--wheels", "0-10"], "start at 1"),
+    (["search", "--cycle", "synodic month", "--wheels", "8-20000"], "10,000"),
+    (["search", "--cycle", "synodic month", "--pinions", "x"], "cannot read"),
+    (["search", "--cycle", "synodic month", "--allowed", "12,x"], "cannot read"),
+    (["search", "--cycle", "synodic month", "--allowed", "1-100000000"], "10,000"),
+    (["search", "--cycle", "synodic month", "--pick", "0"], "--pick"),
+    (["search", "--cycle", "synodic month", "--pick", "2"], "--emit"),
+    (["search", "--cycle", "blue moon"], "unknown period"),
+    (["search", "--period", "1", "--ratio", "1"], "not allowed with"),
+    (["search", "--cycle", "synodic month", "--stages", "3", "--keep-direction"], "even"),
+    # check
+    (["check", T, "--crank-rpm", "0"], "positive"),
+    (["check", T, "--crank-rpm", "-5"], "positive"),
+    (["check", T, "--crank-rpm", "nan"], "positive"),
+    (["check", T, "--crank-rpm", "1e300"], "at most"),
+    (["check", T, "--crank-rpm", "x"], "not a number"),
+    (["check", T, "--efficiency", "1.5"], "at most 1"),
+    (["check", T, "--efficiency", "0"], "above 0"),
+    (["check", T, "--efficiency", "nan"], "above 0"),
+    (["check", T, "--efficiency", "x"], "not a number"),
+    # sky
+    (["sky", "2025-02-30"], "day 30"),
+    (["sky", ""], "date"),
+    (["sky", "yesterday"], "date"),
+    (["sky", "JD 1e308"], ""),
+    (["sky", "JD -1e308"], ""),
+    (["sky", "2026-01-01", "--calendar", "roman"], "invalid choice"),
+    (["sky", "2026-01-01", "--site", "95,0"], "impossible"),
+    (["sky", "2026-01-01", "--ephemeris", "/tmp"], "is a folder"),
+    # crank (refused before the interface would need a terminal)
+    (["crank", "--site", "95,0"], "impossible"),
+    (["crank", "--ephemeris", "/tmp"], "is a folder"),
+    (["crank", T, "--bogus"], "unrecognized"),
+    # eclipses, cut, play
+    (["eclipses", T, "--years", "0"], "positive"),
+    (["eclipses", T, "--years", "1", "--by", "x"], "invalid choice"),
+    (["eclipses", T, "--years", "1", "--ephemeris", "/tmp"], "is a folder"),
+    (["cut", T, "--out", "x", "--formats", "pdf"], "formats"),
+    (["cut", T, "--out", "x", "--form", "square"], "invalid choice"),
+    (["cut", T], "--out"),
+    (["play", T, "--builds", "0"], "builds"),
+    (["play", T, "--years", "-1"], "years"),
+    (["play", T, "--seed", "x"], "seed"),
+    (["play", T, "--division", "nan"], "division"),
+]
+
+
+def run_case(argv: list[str]) -> tuple[int, str, str]:
+    out, err = io.StringIO(), io.StringIO()
+    with redirect_stdout(out), redirect_stderr(err):
+        code = main(argv)
+    return code, out.getvalue(), err.getvalue()
+
+
+def clean(code: int, out: str, err: str, words: str) -> bool:
+    return (code in (1, 2) and out == "" and err.count("\n") == 1
+            and err.startswith("wheelwork") and "Traceback" not in err and words in err)
+
+
+@pytest.mark.parametrize("argv, words", CASES, ids=[" ".join(a)[:60] for a, _ in CASES])
+def test_bad_option_value_is_refused_cleanly(argv, words, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    code, out, err = run_case(argv)
+    assert clean(code, out, err, words), (code, out, err)
+    assert code == 2 or argv[0] == "sky", (code, err)  # option values: usage errors
+
+
+def test_enough_cases_for_every_command():
+    commands = {a[0] for a, _ in CASES}
+    assert {"ratios", "drift", "search", "check", "sky", "crank", "eclipses", "cut",
+            "play"} <= commands
+    assert len(CASES) >= 90
+
+
+if __name__ == "__main__":  # the counts for a report
+    import os
+    import tempfile
+
+    os.chdir(tempfile.mkdtemp())
+    refused = [clean(*run_case(argv), words) for argv, words in CASES]
+    print(f"bad option values tried: {len(CASES)}; refused cleanly: {sum(refused)}")
+    for ok, (argv, _) in zip(refused, CASES, strict=True):
+        if not ok:
+            print("  not clean:", " ".join(argv), file=sys.stderr)
