@@ -77,6 +77,10 @@ END_SHAKE_RULE = 0.5
 """Rule of thumb: end-shake more than half the face width lets a wheel ride off its pinion's
 leaves (common practice, no source)."""
 
+CHUNK_CELLS = 2_000_000
+"""The Monte Carlo works through the builds in chunks of at most this many mesh readings
+(16 MB of slips at a time)."""
+
 CAVEAT = ("These figures are design estimates from a simple model of hand-made wheels (small "
           "independent errors, rules of thumb for depth); measure the parts you make, and "
           "follow proper engineering practice and local rules for anything that bears load "
@@ -369,23 +373,44 @@ def _monte_carlo(train: Train, terms, psens, years: float, builds: int, samples:
     days = years * JULIAN_YEAR_DAYS
     t_days = np.sort(rng.uniform(0.0, days, samples))
     crank = t_days / float(train.crank.days_per_turn)
-    err = {p: np.zeros((builds, samples)) for p in psens}
-    for m, w, amp, div, rate in terms:
+    # every random draw first, term by term (the order fixes what a seed gives)
+    draws = []
+    for _m, w, amp, div, _rate in terms:
         z = train.wheels[w].teeth
-        turns = rate * crank  # the wheel's turns in its mesh
-        eps = np.zeros((builds, samples))
-        if amp:
-            mag = amp * rng.uniform(0.0, 1.0, builds)
-            phase = rng.uniform(0.0, 2 * np.pi, builds)
-            eps += mag[:, None] * np.sin(2 * np.pi * turns[None, :] + phase[:, None])
-        if div:
-            teeth = rng.normal(0.0, div, (builds, z))
-            index = np.floor(np.mod(turns, 1.0) * z).astype(np.int64) % z
-            eps += teeth[:, index]
-        for p, s in psens.items():
-            k = s[m.index - 1]
-            if k:
-                err[p] += k * eps
+        mag = amp * rng.uniform(0.0, 1.0, builds) if amp else None
+        phase = rng.uniform(0.0, 2 * np.pi, builds) if amp else None
+        teeth = rng.normal(0.0, div, (builds, z)) if div else None
+        draws.append((mag, phase, teeth))
+    names = list(psens)
+    meshes = sorted({m.index for m, *_ in terms})
+    col = {i: k for k, i in enumerate(meshes)}
+    sens = np.array([[psens[p][i - 1] for i in meshes] for p in names])  # pointers × meshes
+    err = np.empty((len(names), builds, samples))
+    chunk = max(1, CHUNK_CELLS // max(1, len(meshes) * samples))
+    for lo in range(0, builds, chunk):
+        hi = min(builds, lo + chunk)
+        eps = np.zeros((len(meshes), hi - lo, samples))  # slip of each mesh, in pitches
+        # eccentricity: mag sin(θ + φ) = (mag cos φ) sin θ + (mag sin φ) cos θ, so each
+        # mesh's once-per-turn errors are one matrix product (builds × 2k) @ (2k × times)
+        left: dict[int, list] = {}
+        right: dict[int, list] = {}
+        for (m, w, amp, div, rate), (mag, phase, teeth) in zip(terms, draws, strict=True):
+            turns = rate * crank  # the wheel's turns in its mesh
+            if amp:
+                k = col[m.index]
+                left.setdefault(k, []).extend([mag[lo:hi] * np.cos(phase[lo:hi]),
+                                               mag[lo:hi] * np.sin(phase[lo:hi])])
+                right.setdefault(k, []).extend([np.sin(2 * np.pi * turns),
+                                                np.cos(2 * np.pi * turns)])
+            if div:
+                z = train.wheels[w].teeth
+                index = np.floor(np.mod(turns, 1.0) * z).astype(np.int64) % z
+                eps[col[m.index]] += teeth[lo:hi][:, index]
+        for k, cols in left.items():
+            eps[k] += np.column_stack(cols) @ np.vstack(right[k])
+        # pointers × (builds, samples) = sensitivities @ slips: one matrix product
+        err[:, lo:hi, :] = np.tensordot(sens, eps, axes=1)
+    err = dict(zip(names, err, strict=True))
     out = {}
     for p, e in err.items():
         std = float(np.std(e))

@@ -29,7 +29,7 @@ from . import support
 
 MAX_BUILDS = 100_000
 MAX_SAMPLES = 100_000
-MAX_CELLS = 20_000_000  # builds × samples: keeps memory to a few hundred MB at most
+MAX_CELLS = 4_000_000  # builds × samples: 32 MB of readings per pointer at most
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
