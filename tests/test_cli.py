@@ -242,3 +242,7 @@ def test_markup_in_a_train_name_is_text(tmp_path, capsys):
         assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out
     assert main(["drift", str(train), "--years", "0.1"]) == 0
     assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out
+    assert main(["play", str(train), "--builds", "10", "--samples", "16", "--years", "1"]) == 0
+    assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out
+    assert main(["cut", str(train), "--out", str(tmp_path / "cut")]) == 0
+    assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out

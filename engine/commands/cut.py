@@ -90,7 +90,7 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console) -> N
                       f"{i['form']} {i['role']}", f"{i['tip_diameter_mm']:.3f}",
                       f"{i['root_diameter_mm']:.3f}",
                       f"{i['bore_mm']:g}" if "bore_mm" in i else "—")
-    console.print(table)
+    support.print_table(console, table)
     for p in cut.parts:
         if p.kind != "plate":
             continue

@@ -414,6 +414,13 @@ def _cell_text(cell) -> str:
 
     if isinstance(cell, Text):
         return cell.plain
+    if isinstance(cell, str):  # a plain Table's str cell is markup (escaped by the caller)
+        from rich.errors import MarkupError
+
+        try:
+            return Text.from_markup(cell).plain
+        except MarkupError:
+            return cell
     return str(cell)
 
 
