@@ -193,7 +193,6 @@ class Train:
     pointers: dict[str, Pointer]
     dial: str = "equinox"
     about: str = ""
-    warnings: tuple[str, ...] = field(default=())
     eclipses: EclipseSettings = field(default_factory=EclipseSettings)
     workshop: Workshop = field(default_factory=Workshop)
 

@@ -921,3 +921,18 @@ async def test_sky_dial_marks_each_planet_and_keys_them():
         key = text_of(app.screen.query_one("#dial-key"))
         assert "Venus" in key and "Mars" in key and "Jupiter" not in key
         assert CAUTION in text_of(app.screen.query_one("#caution"))
+
+
+def test_canvas_private_internals_still_there():
+    """tui/widgets.py works on the hi-res canvas's private buffers (CANVAS_INTERNALS); if a
+    release of the library drops or renames one, this fails here, loudly."""
+    from textual_hires_canvas import Canvas
+
+    from tui.widgets import CANVAS_INTERNALS
+
+    canvas = Canvas(4, 3)
+    for name in CANVAS_INTERNALS:
+        assert hasattr(canvas, name), f"textual_hires_canvas.Canvas has no {name} any more"
+    assert len(canvas._buffer) == 3 and len(canvas._buffer[0]) == 4
+    assert len(canvas._styles) == 3 and canvas._canvas_size.width == 4
+

@@ -22,23 +22,18 @@ from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
 
 
 def engine_findings(mech) -> list[tuple[str, str, str, str]]:
-    """(level, item, message, fix) from the engine: backwards pointers, loader warnings and
-    mechanical checks (when the checker is present)."""
+    """(level, item, message, fix) from the engine: backwards pointers and mechanical checks."""
+    from engine.checks import check  # loaded when the bench opens, not at start-up
+
     items = [("warning", "", w, "") for w in mech.warnings]
-    items += [("warning", "", w, "") for w in mech.train.warnings]
     try:
-        from engine.checks import check
-    except ImportError:
-        return items
-    try:
-        report = check(mech.train, mech.kin)
+        report = check(mech)
     except WheelworkError as exc:
         return [*items, ("error", "mechanical check", str(exc), "")]
     from engine.play import dead_play_findings  # the largest contributor per pointer
 
-    for f in [*report.findings, *dead_play_findings(mech.train, mech.kin)]:
-        items.append((str(getattr(f, "level", "info")), str(getattr(f, "item", "")),
-                      str(getattr(f, "message", f)), str(getattr(f, "fix", "") or "")))
+    items += [(f.level, f.item, f.message, f.fix or "")
+              for f in [*report.findings, *dead_play_findings(mech.train, mech.kin)]]
     return items
 
 

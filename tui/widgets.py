@@ -84,6 +84,13 @@ def _scalar(a) -> float:
     return float(a.reshape(-1)[0]) if hasattr(a, "reshape") else float(a)
 
 
+#: The hi-res canvas's private attributes LayeredCanvas works on directly: the character and
+#: style buffers (copied for the static layer, compared row by row to repaint only what
+#: changed), the canvas size and the refresh hold. The library has no public access to them;
+#: pyproject.toml bounds its version and tests/test_tui.py fails loudly if one disappears.
+CANVAS_INTERNALS = ("_buffer", "_styles", "_canvas_size", "_refreshes_pending")
+
+
 class LayeredCanvas(Canvas):
     """A hi-res canvas that keeps a static layer (drawn once per size) under a moving one."""
 
