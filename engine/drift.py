@@ -60,7 +60,7 @@ from __future__ import annotations
 import math
 import time
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -132,6 +132,13 @@ class ErrorNow:
     sky_deg: np.ndarray
     error_deg: np.ndarray
     error_days: np.ndarray | None
+    delta_t_effect_deg: np.ndarray | float = 0.0
+
+    @property
+    def within_delta_t(self):
+        """True where the error is no larger than what ΔT's uncertainty does to the sky's
+        value (:func:`delta_t_effect_deg`): the comparison cannot tell it from zero."""
+        return np.abs(self.error_deg) <= self.delta_t_effect_deg
 
 
 def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None, site=None,
@@ -153,8 +160,22 @@ def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None, site=None,
         true = np.reshape(true_value(p.shows, state), jd.shape)
         err = wrap_deg(train - true)
         days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
-        out[name] = ErrorNow(name, p.shows, train, true, err, days)
+        effect = np.reshape(delta_t_effect_deg(p.shows, state.delta_t_sigma_s, frame), jd.shape)
+        out[name] = ErrorNow(name, p.shows, train, true, err, days, effect)
     return out
+
+
+def delta_t_effect_deg(shows: str, delta_t_sigma_s, frame: str = "equinox"):
+    """Degrees the true value of a pointer of kind ``shows`` moves in one standard error of
+    ΔT (``delta_t_sigma_s`` seconds): the uncertainty ΔT puts into the comparison itself.
+
+    The sky is computed at TT = UT + ΔT, so an error of σ seconds in ΔT moves the true value by
+    σ times its mean rate — for the Moon about 0.55″ a second, which before the common era
+    (σ of many minutes) reaches a tenth of a degree and more. Shaped like ``delta_t_sigma_s``."""
+    if shows not in KINDS:
+        return np.zeros_like(np.asarray(delta_t_sigma_s, dtype=float))
+    rate = abs(KINDS[shows].mean_period(frame).deg_per_day) / 86400.0
+    return np.asarray(delta_t_sigma_s, dtype=float) * rate
 
 
 class _GridReader:
@@ -259,6 +280,10 @@ class PointerSummary:
     ``rms_days`` and ``threshold_days`` are for phase pointers only. ``step_note``: one line
     saying the grid's step is too coarse to follow what the pointer shows (see
     :func:`step_note`); then no swing is sought and the drift is uncertain.
+    ``delta_t_effect_deg``: the most that one standard error of ΔT moves the true value over
+    the span (:func:`delta_t_effect_deg`; large only far from the present);
+    ``within_delta_t``: the largest error is no larger than that, so the comparison cannot
+    tell the pointer from the sky.
     """
 
     pointer: str
@@ -281,6 +306,8 @@ class PointerSummary:
     drift_terms: tuple[str, ...] = ()
     drift_terms_left_out: tuple[str, ...] = ()
     step_note: str | None = None
+    delta_t_effect_deg: float = 0.0
+    within_delta_t: bool = False
 
     def to_dict(self) -> dict:
         return {k: (None if isinstance(v, float) and not math.isfinite(v) else
@@ -528,12 +555,15 @@ class _Chunks:
         self.train_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
         self.sky_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
         self.ref: dict[str, float] = {}
+        self.delta_t_sigma_s = 0.0  # largest one-sigma ΔT uncertainty met on the grid
 
     def add(self, i0: int, j: np.ndarray, jd: np.ndarray, state, want_errors: bool
             ) -> dict[str, ErrorNow]:
         """Take in the chunk of grid dates ``i0 + j`` (``jd``) with the sky ``state`` there;
         the chunk's :class:`ErrorNow` values when ``want_errors``."""
         k = j + i0
+        sigma = state.delta_t_sigma_s
+        self.delta_t_sigma_s = max(self.delta_t_sigma_s, float(np.max(sigma)))
         since = j * self.turns_per_step
         a, base = self.reader.anchor(jd[0])
         lags = self.reader.lags_turns(a, since)
@@ -556,17 +586,23 @@ class _Chunks:
                     self.sky_keep[name][i0:i0 + len(k)] = true
                 if want_errors:
                     days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
-                    errors[name] = ErrorNow(name, p.shows, reading, true, err, days)
+                    errors[name] = ErrorNow(name, p.shows, reading, true, err, days,
+                                            delta_t_effect_deg(p.shows, sigma, self.frame))
         return errors
 
     def summaries(self) -> dict[str, PointerSummary]:
         """Every pointer's summary; the fit's design is built once for the whole run."""
         terms = {name: sky_terms(p.shows, self.frame) for name, p in self.pointers.items()}
         cache: dict = {"terms": tuple({t for ts in terms.values() for t in ts})}
-        return {name: self.runs[name].summary(
-                    name, p.shows, terms[name], cache,
-                    step_note(name, self.step, self.motions(name, p.shows, terms[name])))
-                for name, p in self.pointers.items()}
+        out = {}
+        for name, p in self.pointers.items():
+            s = self.runs[name].summary(
+                name, p.shows, terms[name], cache,
+                step_note(name, self.step, self.motions(name, p.shows, terms[name])))
+            effect = float(delta_t_effect_deg(p.shows, self.delta_t_sigma_s, self.frame))
+            out[name] = replace(s, delta_t_effect_deg=effect,
+                                within_delta_t=bool(s.max_abs_deg <= effect))
+        return out
 
     def motions(self, name: str, shows: str, terms) -> list[tuple[str, float]]:
         """``(what, period_days)`` of the motions a pointer's error is made of: the sky's
