@@ -13,8 +13,14 @@ it, is the same command on the tide office dial (Sun and Moon only, no planets),
 says what the planets cost; wall seconds on a shared machine run long, the processor seconds
 (user + system, the operating system's own accounting) much less so.
 
+Then ancient skies: the lunation board (set in 150 BC) over 1000 years at one-day steps on
+DE406 (the 'ancient' extra: `pip install -e '.[ancient]'`), target at most 2 s with bounded
+memory (tracemalloc peak of the run), beside its peer: the tide office dial over the same
+length of years on DE440 when installed (the same drift code reading an SPK file instead of
+DE406's arrays); when an ephemeris is missing the line says the figure was not measured.
+
     python bench/drift_speed.py [--repeat N] [--ephemeris FILE|de440] [--skip-memory]
-                                [--skip-orrery]
+                                [--skip-orrery] [--skip-ancient]
 """
 
 from __future__ import annotations
@@ -51,9 +57,12 @@ def main() -> int:
     ap.add_argument("--ephemeris", default=None, help="ephemeris for the timed run (DE421)")
     ap.add_argument("--skip-memory", action="store_true", help="skip the 1000-year run")
     ap.add_argument("--skip-orrery", action="store_true", help="skip the whole-process run")
+    ap.add_argument("--skip-ancient", action="store_true", help="skip the DE406 run")
     args = ap.parse_args()
     if not args.skip_orrery:
         _orrery(args.repeat)
+    if not args.skip_ancient:
+        _ancient(args.repeat)
 
     sky = Sky(args.ephemeris)
     mech = open_train(None, sky)  # the tide office dial
@@ -139,6 +148,56 @@ def _orrery(repeat: int) -> None:
     print(f"  peer: tide office (Sun and Moon only) wall {pwall:6.3f} s   processor "
           f"{pcpu:6.3f} s; orrery / peer wall, pair by pair: {ratio:.2f}")
     print("  (a loaded machine stretches wall time; processor time is the figure to trust then)")
+
+
+ANCIENT_TARGET_S = 2.0
+
+
+def _timed_years(mech, sky, start: float, years: float, repeat: int):
+    """(best wall seconds, best processor seconds, traced peak MiB, dates) of a drift run of
+    ``years`` at 1 d (processor time is the figure to trust on a loaded machine)."""
+    end = start + years * JULIAN_YEAR_DAYS
+    best = cpu = None
+    for _ in range(max(1, repeat)):
+        t0, c0 = time.perf_counter(), time.process_time()
+        r = drift_series(mech, sky, start, end, "1d", keep_series=False)
+        wall, used = time.perf_counter() - t0, time.process_time() - c0
+        best = wall if best is None else min(best, wall)
+        cpu = used if cpu is None else min(cpu, used)
+    tracemalloc.start()
+    drift_series(mech, sky, start, end, "1d", keep_series=False)
+    peak = tracemalloc.get_traced_memory()[1] / 2**20
+    tracemalloc.stop()
+    return best, cpu, peak, len(r.jd)
+
+
+def _ancient(repeat: int) -> None:
+    try:
+        old = Sky("de406")
+    except Exception as exc:  # the optional package is absent: say so plainly
+        print(f"1000 years on DE406: not measured ({exc})")
+        return
+    board = open_train(TRAINS / "lunation_board.toml", old)
+    start = board.train.epoch.jd_ut - 500 * JULIAN_YEAR_DAYS
+    wall, cpu, peak, n = _timed_years(board, old, start, 1000, repeat)
+    print(f"lunation board (set in 150 BC), 1000 years at 1d on {old.name} ({n:,} dates, "
+          f"650 BC to AD 350), best of {max(1, repeat)}:")
+    print(f"  wall {wall:6.3f} s, processor {cpu:6.3f} s (target <= {ANCIENT_TARGET_S} s: "
+          f"{'ok' if wall <= ANCIENT_TARGET_S else 'over'} by wall, "
+          f"{'ok' if cpu <= ANCIENT_TARGET_S else 'over'} by processor time), "
+          f"peak {peak:.1f} MiB traced")
+    try:
+        spk = Sky("de440")
+    except Exception as exc:
+        print(f"  peer (the same length on DE440): not measured ({exc})")
+        return
+    office_new, office_old = open_train(None, spk), open_train(None, old)
+    start = spk.span_jd[0] + 30
+    a = _timed_years(office_old, old, start, 1000, repeat)
+    b = _timed_years(office_new, spk, start, 1000, repeat)
+    print(f"  peer: tide office, 1000 years at 1d from JD {start:.1f}, processor seconds: "
+          f"DE406 {a[1]:.3f} s, DE440 {b[1]:.3f} s; DE406 / DE440 = {a[1] / b[1]:.2f} "
+          "(DE406's arrays against an SPK file, the same drift code)")
 
 
 if __name__ == "__main__":

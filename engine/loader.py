@@ -26,6 +26,7 @@ from .errors import DateError, TrainError
 from .exact import parse_fraction
 from .kinds import DIAL_FRAMES, KINDS, kind_key
 from .train import (
+    EPHEMERIS_NAMES,
     FRAME,
     SET_MODES,
     TOOTH_FORMS,
@@ -76,7 +77,7 @@ _TOP_KEYS = {"train", "crank", "epoch", "arbors", "meshes", "pin_slots", "pointe
 _KEYS = {
     "train": {"name", "about", "dial"},
     "crank": {"arbor", "days_per_turn"},
-    "epoch": {"date", "set", "calendar"},
+    "epoch": {"date", "set", "calendar", "ephemeris"},
     "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "note"},
     "mesh": {"wheels", "ring", "module_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
@@ -619,7 +620,12 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
     if mode not in SET_MODES:
         raise r.fail("[epoch] set", f"should be one of {', '.join(SET_MODES)}, got "
                      f"{_show(mode)}")
-    return Epoch(jd, text, mode)
+    ephemeris = tbl.get("ephemeris")
+    if ephemeris is not None and (not isinstance(ephemeris, str)
+                                  or ephemeris.strip().lower() not in EPHEMERIS_NAMES):
+        raise r.fail("[epoch] ephemeris", f"should be one of {', '.join(EPHEMERIS_NAMES)}, got "
+                     f"{_show(ephemeris)}")
+    return Epoch(jd, text, mode, None if ephemeris is None else ephemeris.strip().lower())
 
 
 def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:

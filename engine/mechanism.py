@@ -41,16 +41,23 @@ def train_and_kin(what, kin: Kinematics | None = None) -> tuple[Train, Kinematic
                     f"{type(what).__name__}")
 
 
+def sky_for(train: Train, ephemeris=None):
+    """The sky to set and read ``train`` against: ``ephemeris`` when given (a command's
+    ``--ephemeris``), else the one its ``[epoch] ephemeris`` names, else the bundled DE421."""
+    from .sky import Sky  # only the sky module touches skyfield
+
+    return Sky(ephemeris or train.epoch.ephemeris)
+
+
 def build(train: Train, sky=None) -> Mechanism:
     """Solve ``train`` and set its pointers as its ``[epoch] set`` says.
 
-    ``sky`` is an :class:`engine.sky.Sky`; one is made (DE421) when the epoch needs the sky.
+    ``sky`` is an :class:`engine.sky.Sky`; one is made (:func:`sky_for`) when the epoch
+    needs the sky.
     """
     kin = solve(train)
     if sky is None and train.epoch.set != "angles":
-        from .sky import Sky  # only the sky module touches skyfield
-
-        sky = Sky()
+        sky = sky_for(train)
     try:
         values = epoch_values(train, sky)
     except SkyError as exc:  # the epoch itself cannot be looked up: say which file says so

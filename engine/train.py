@@ -139,6 +139,10 @@ class Epoch:
     jd_ut: float
     text: str
     set: str = "sky"
+    ephemeris: str | None = None  # a named ephemeris the train is set and read against
+
+
+EPHEMERIS_NAMES = ("de421", "de440", "de406")
 
 
 TOOTH_FORMS = ("cycloidal", "involute")

@@ -4,6 +4,8 @@ eclipse search reading DE406's arrays."""
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 
@@ -13,6 +15,7 @@ from engine.sky import Sky, eclipse_vectors, lunar_eclipse_search
 
 ARCSEC = 1 / 3600
 KM = 1.0
+DEMO = Path(__file__).resolve().parent.parent / "engine" / "trains" / "lunation_board.toml"
 
 de406 = pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
 
@@ -75,3 +78,58 @@ def test_lunar_search_reads_de406_like_de421(ancient):
     assert np.all(a["code"] == b["code"])
     assert np.abs(a["jd_ut"] - b["jd_ut"]).max() * 86400 < 60
     assert np.abs(a["umbral_magnitude"] - b["umbral_magnitude"]).max() < 1e-3
+
+
+# --- a train set in antiquity -----------------------------------------------------------------
+
+def test_epoch_names_its_ephemeris(tmp_path):
+    from engine.errors import TrainError
+    from engine.loader import load_train
+
+    train = load_train(DEMO)
+    assert train.epoch.ephemeris == "de406"
+    bad = tmp_path / "bad.toml"
+    bad.write_text(DEMO.read_text().replace('ephemeris = "de406"', 'ephemeris = "de999"'))
+    with pytest.raises(TrainError, match=r"\[epoch\] ephemeris.*de421, de440, de406"):
+        load_train(bad)
+
+
+def test_lunation_board_drifts_as_its_nineteen_year_relation_says(ancient):
+    """Set in 150 BC, read over one 19-year cycle on DE406. The 19-year relation makes the
+    year 235/19 mean synodic months = 365.2468 d against the tropical year's 365.2422 d, so the
+    sun hand loses 360° × (1/365.2422 - 1/365.2468) a day, about 0.45° a century (calendar
+    arithmetic, common practice, no source); the phase hand turns with the crank, one mean
+    synodic month a turn, and does not drift."""
+    from engine.drift import drift_series
+    from engine.mechanism import open_train
+
+    mech = open_train(DEMO)
+    start = mech.train.epoch.jd_ut
+    r = drift_series(mech, ancient, start, start + 19 * 365.25, "1d", keep_series=False)
+    sun, phase = r.summaries["sun"], r.summaries["phase"]
+    expected = -360.0 * (1 / 365.2422 - 1 / (235 / 19 * 29.530589)) * 36525
+    assert expected == pytest.approx(-0.45, abs=0.01)
+    assert sun.drift_deg_per_century == pytest.approx(expected, abs=0.06)
+    assert abs(phase.drift_deg_per_century) < 0.2
+    # the Sun's equation of centre (about 1.9°, from memory) on both sides of the setting
+    assert 1.5 < sun.max_abs_deg < 4.5
+
+
+def test_delta_t_uncertainty_flags_errors_it_cannot_resolve(ancient):
+    """One standard error of ΔT moves the true Moon by σ × 13.176°/day (the Moon's mean
+    motion, common practice, no source); an error smaller than that is flagged."""
+    from engine.drift import delta_t_effect_deg, pointer_errors
+    from engine.mechanism import open_train
+
+    assert delta_t_effect_deg("moon", 3600.0) == pytest.approx(13.176 / 24, rel=1e-3)
+    assert delta_t_effect_deg("sun", 3600.0) == pytest.approx(0.9856 / 24, rel=1e-3)
+    mech = open_train(DEMO)
+    now = pointer_errors(mech, ancient, mech.train.epoch.jd_ut)
+    moon = now["moon"]
+    state = ancient.at(mech.train.epoch.jd_ut)
+    assert float(moon.delta_t_effect_deg) == pytest.approx(
+        float(state.delta_t_sigma_s) * 13.176 / 86400, rel=1e-3)
+    # set by the sky at this very date: the error is nil, within the uncertainty
+    assert bool(moon.within_delta_t)
+    later = pointer_errors(mech, ancient, mech.train.epoch.jd_ut + 10)
+    assert not bool(later["moon"].within_delta_t)  # days later the Moon's swings show

@@ -14,8 +14,9 @@ from textual.screen import Screen
 from textual.widgets import Button, Input, OptionList
 
 from engine.errors import WheelworkError
-from engine.mechanism import open_train
-from engine.sky import Site, Sky
+from engine.loader import load_train
+from engine.mechanism import DEFAULT_TRAIN, build, sky_for
+from engine.sky import Site
 
 from .screens import BenchScreen, ClosesOnce, long_help
 from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
@@ -120,8 +121,9 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
              ephemeris: str | None = None) -> WheelworkApp:
     """Load the sky and the train (raising :class:`WheelworkError` for bad input) and build
     the app. ``site``: ``"LAT,LON[,H]"`` or a :class:`Site`; None uses a default site."""
-    sky = Sky(ephemeris)
-    mech = open_train(train, sky)
+    loaded = load_train(train or DEFAULT_TRAIN)
+    sky = sky_for(loaded, ephemeris)
+    mech = build(loaded, sky)
     if site is None:
         where, name = DEFAULT_SITE, DEFAULT_SITE_NAME
     else:

@@ -69,6 +69,11 @@ class Now:
         return float(self.sky.delta_t_s.reshape(-1)[0])
 
     @property
+    def delta_t_sigma_s(self) -> float:
+        """One standard error of ΔT at this date (grows to many minutes in antiquity)."""
+        return float(self.sky.delta_t_sigma_s.reshape(-1)[0])
+
+    @property
     def turns_text(self) -> str:
         whole = int(np.asarray(self.turns.whole).reshape(-1)[0])
         frac = float(np.asarray(self.turns.frac).reshape(-1)[0])

@@ -706,7 +706,12 @@ class Status(Static):
         s = self.session
         t = Text()
         t.append("date     ", style="dim")
-        t.append(now.date_text + "\n", style="bold")
+        date = now.date_text
+        if self.size.width and 9 + len(date) > self.size.width and " = " in date:
+            # a long date (Julian calendar, BC) folds before its "= 150 BC" rather than lose it
+            head, tail = date.split(" = ", 1)
+            date = f"{head}\n{chr(0xA0) * 9}= {tail}"  # no-break spaces: kept as indent
+        t.append(date + "\n", style="bold")
         t.append("crank    ", style="dim")
         turns = f"{now.turns_text} turns since epoch  "
         step = f"step {s.step}"
@@ -718,7 +723,9 @@ class Status(Static):
         t.append("▶ running" if running else "■ paused", style="bold green" if running else "")
         t.append(f"  {s.speed_turns_per_s:g} turns/s\n")
         t.append("ΔT       ", style="dim")
-        t.append(f"{now.delta_t_s:.1f} s\n")
+        sigma = now.delta_t_sigma_s
+        t.append(f"{now.delta_t_s:.1f} s ± {sigma:.0f} s\n" if sigma >= 10 else
+                 f"{now.delta_t_s:.1f} s ± {sigma:.1f} s\n")
         t.append("sky      ", style="dim")
         span = s.sky.span_text
         if self.size.width and self.size.width < 46:  # years only
@@ -740,6 +747,10 @@ class Status(Static):
             t.append(f"{s.site_name} {where} {site.height_m:.0f} m")
         t.no_wrap = True
         t.overflow = "ellipsis"
+        lines = t.plain.count("\n")
+        if lines != getattr(self, "_lines", lines):
+            self._laid_out = False  # the date folded or unfolded: the height changes
+        self._lines = lines
         self.update(t, layout=not self._laid_out)
         self._laid_out = bool(self.size.width)
 

@@ -343,6 +343,11 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
 
     t.add_row("largest error", both(s.max_abs_deg, s.max_abs_days) + f"  on {_when(s.max_at_jd)}")
     t.add_row("root-mean-square error", both(s.rms_deg, s.rms_days))
+    if s.delta_t_effect_deg >= 0.0005:  # only where ΔT's uncertainty shows in the figures
+        t.add_row("ΔT uncertainty", f"moves the sky's value by up to {s.delta_t_effect_deg:.4f}° "
+                  "(one standard error)" + ("; the largest error is within it: the comparison "
+                                            "cannot tell this pointer from the sky"
+                                            if s.within_delta_t else ""))
     sigma = s.drift_sigma_deg_per_century
     t.add_row("steady drift", _with_sigma(s.drift_deg_per_century, sigma) + " per century")
     if days:
@@ -400,8 +405,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from ..mechanism import open_train
-    from ..sky import Site, Sky
+    from ..loader import load_train
+    from ..mechanism import build, sky_for
+    from ..sky import Site
 
     step = parse_step(args.step)
     inputs = [args.train] + ([args.ephemeris] if args.ephemeris else [])
@@ -415,8 +421,9 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     if png_out:
         _load_pyplot()  # say how to install it before any work is done
     site = Site.parse(args.site) if args.site else None  # checked by the option's type
-    sky = Sky(args.ephemeris)
-    mech = open_train(args.train, sky)
+    train = load_train(args.train)
+    sky = sky_for(train, args.ephemeris)
+    mech = build(train, sky)
     start = args.start if args.start is not None else mech.train.epoch.jd_ut
     end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
     if end <= start:

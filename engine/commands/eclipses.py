@@ -151,14 +151,15 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
-    from ..mechanism import open_train
-    from ..sky import Sky
+    from ..loader import load_train
+    from ..mechanism import build, sky_for
 
     inputs = [args.train] + ([args.ephemeris] if args.ephemeris else [])
     csv_out = (support.OutputFile(args.csv, option="--csv", force=args.force, inputs=inputs)
                if args.csv else None)
-    sky = Sky(args.ephemeris)
-    mech = open_train(args.train, sky)
+    train = load_train(args.train)
+    sky = sky_for(train, args.ephemeris)
+    mech = build(train, sky)
     start = args.start if args.start is not None else mech.train.epoch.jd_ut
     end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
     if end <= start:
