@@ -724,8 +724,8 @@ class Status(Static):
         t.append(f"  {s.speed_turns_per_s:g} turns/s\n")
         t.append("ΔT       ", style="dim")
         sigma = now.delta_t_sigma_s
-        t.append(f"{now.delta_t_s:.1f} s ± {sigma:.0f} s\n" if sigma >= 10 else
-                 f"{now.delta_t_s:.1f} s ± {sigma:.1f} s\n")
+        pm = f"{sigma:.0f}" if sigma >= 10 else f"{sigma:.1f}" if sigma >= 1 else f"{sigma:.1g}"
+        t.append(f"{now.delta_t_s:.1f} s ± {pm} s\n")
         t.append("sky      ", style="dim")
         span = s.sky.span_text
         if self.size.width and self.size.width < 46:  # years only
