@@ -208,3 +208,17 @@ def test_a_large_csv_is_announced_with_its_size(tmp_path, capsys, monkeypatch):
     said = err.split("will be about ")[1].split()[0:2]
     size = float(said[0]) * {"bytes": 1, "kB": 1e3, "MB": 1e6}[said[1]]
     assert abs(size - out.stat().st_size) < 0.1 * out.stat().st_size
+
+
+def test_a_word_in_the_legend_does_not_vouch_for_a_broken_cell(capsys, monkeypatch):
+    """At 80 columns the check's mesh table once broke "frame" into "fr/am/e" in its narrow
+    "held by" column while the same word stood whole in the legend below: a legend's words
+    must not vouch for a cell. The table becomes a list then, every cell whole."""
+    import re
+
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["check", "lunation_board"]) == 0
+    out = capsys.readouterr().out
+    assert not re.search(r"(?m)\s(fr|he)\s*$", out)
+    assert "held by: frame" in out  # the list layout
+    assert "held by: the frame or carrier" in out  # and the legend kept

@@ -431,8 +431,15 @@ def _fits(console, table) -> bool:
 
     probe = Console(width=console.width, file=io.StringIO(), color_system=None,
                     highlight=False, emoji=False)
-    with probe.capture() as cap:
-        probe.print(table, crop=False)
+    # The cells alone: a word of the title or the legend (caption) must not vouch for a cell
+    # word that the table itself broke ("frame" in the legend, "fr/am/e" in the column).
+    title, caption = table.title, table.caption
+    table.title = table.caption = None
+    try:
+        with probe.capture() as cap:
+            probe.print(table, crop=False)
+    finally:
+        table.title, table.caption = title, caption
     text = cap.get()
     if "…" in text or any(len(line.rstrip()) > console.width for line in text.splitlines()):
         return False
