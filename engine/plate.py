@@ -132,11 +132,19 @@ def _ties(train: Train, kin: Kinematics, groups, mount: str) -> list[Tie]:
         a = centre_distance_mm(m.module_mm, w1.teeth, w2.teeth, m.internal)
         out.append(Tie(m.label, groups[w1.arbor], groups[w2.arbor], a))
     for ps in train.pin_slots.values():
+        label = f"[pin_slots.{ps.name}]"
+        if ps.carrier is not None:  # the pin rides on a carrier: its axis is arm_mm out
+            if ps.carrier == mount:
+                out.append(Tie(label, groups[ps.carrier], groups[ps.pin_arbor], ps.arm_mm))
+            if train.arbors[ps.slot_arbor].mount == mount:
+                out.append(Tie(label, groups[ps.carrier], groups[ps.slot_arbor], ps.offset_mm,
+                               ps.offset_deg))
+            continue
         if train.arbors[ps.pin_arbor].mount != mount:
             continue
-        out.append(Tie(f"[pin_slots.{ps.name}]", groups[ps.pin_arbor], groups[ps.slot_arbor],
+        out.append(Tie(label, groups[ps.pin_arbor], groups[ps.slot_arbor],
                        ps.offset_mm, ps.offset_deg))
-    return out
+    return [t for t in out if not (t.axis1 == t.axis2 and t.distance_mm <= EXACT_MM)]
 
 
 def _fixed(train: Train, groups, mount: str, axes) -> dict[str, tuple[float, float]]:
@@ -161,20 +169,32 @@ def _fixed(train: Train, groups, mount: str, axes) -> dict[str, tuple[float, flo
 
 def _solve(train, plate, axes, ties, fixed, reach, label):
     where = train.source
-    by_pair: dict[frozenset, Tie] = {}
+    groups_of: dict[frozenset, list[Tie]] = {}
     for t in ties:
         if t.axis1 == t.axis2:
             raise PlacementError(where, t.label, f"needs its two axes {t.distance_mm:g} mm "
                                  "apart, but they are one axis")
-        key = frozenset((t.axis1, t.axis2))
-        first = by_pair.get(key)
-        if first is None:
-            by_pair[key] = t
-        elif abs(first.distance_mm - t.distance_mm) > EXACT_MM:
-            raise PlacementError(where, t.label, f"needs the axes of "
-                                 f"{label[t.axis1]} and {label[t.axis2]} "
-                                 f"{t.distance_mm:.4f} mm apart, but {first.label} needs "
-                                 f"{first.distance_mm:.4f} mm: no placement keeps both")
+        groups_of.setdefault(frozenset((t.axis1, t.axis2)), []).append(t)
+    by_pair: dict[frozenset, Tie] = {}
+    for key, group in groups_of.items():
+        lo = min(group, key=lambda t: t.distance_mm)
+        hi = max(group, key=lambda t: t.distance_mm)
+        first = group[0]
+        if hi.distance_mm - lo.distance_mm > FIXED_TOLERANCE_MM:
+            raise PlacementError(where, hi.label, f"needs the axes of {label[hi.axis1]} and "
+                                 f"{label[hi.axis2]} {hi.distance_mm:.4f} mm apart, but "
+                                 f"{lo.label} needs {lo.distance_mm:.4f} mm: no placement "
+                                 "keeps both")
+        if hi.distance_mm - lo.distance_mm <= EXACT_MM:
+            by_pair[key] = first
+            continue
+        mid = (lo.distance_mm + hi.distance_mm) / 2
+        by_pair[key] = Tie(first.label, first.axis1, first.axis2, mid, first.direction_deg)
+        plate.notes.append(f"{len(group)} meshes between the axes of {label[first.axis1]} and "
+                           f"{label[first.axis2]} need {lo.distance_mm:.4f} to "
+                           f"{hi.distance_mm:.4f} mm: drilled at {mid:.4f} mm, each at most "
+                           f"{mid - lo.distance_mm:.4f} mm off (within the "
+                           f"{FIXED_TOLERANCE_MM:g} mm a mesh takes up)")
     nbrs: dict[str, list[Tie]] = {ax: [] for ax in axes}
     for t in by_pair.values():
         nbrs[t.axis1].append(t)

@@ -210,7 +210,7 @@ def sensitivities(train: Train, kin: Kinematics) -> tuple[list[str], np.ndarray]
         if a.fixed:
             add({a.name: 1.0, a.mount: -1.0})
     for ps in train.pin_slots.values():  # small errors pass a pin-and-slot 1:1
-        add({ps.slot_arbor: 1.0, ps.pin_arbor: -1.0})
+        add({ps.slot_arbor: 1.0, ps.followed_arbor: -1.0})
     for f in kin.mesh_frames:
         m = train.meshes[f.mesh_index - 1]
         z1, z2 = train.wheels[m.driver].teeth, train.wheels[m.driven].teeth

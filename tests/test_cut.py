@@ -310,3 +310,16 @@ def test_workshop_keys_are_read():
     assert (shop.tooth_form, shop.bore_mm, shop.crossings) == ("cycloidal", 1.5, 4)
     assert shop.wheel("middle_pinion").crossings == 0
     assert shop.wheel("hand_wheel").crossings is None
+
+
+def test_every_demo_train_gets_a_plate():
+    # carried pins (planet dial) and several meshes between one pair of axes whose centre
+    # distances differ by a few micrometres (table orrery: drilled at the middle, with a note)
+    for path in sorted((HERE.parent / "engine" / "trains").glob("*.toml")):
+        train = load_train(path)
+        for plate in place_plates(train, solve(train), {}):
+            for t in plate.ties:
+                assert plate.distance_mm(t) == pytest.approx(t.distance_mm, abs=0.02), t.label
+    train = load_train(HERE.parent / "engine" / "trains" / "table_orrery.toml")
+    (frame,) = [p for p in place_plates(train, solve(train), {}) if p.mount == "frame"]
+    assert any("drilled at" in n for n in frame.notes)
