@@ -55,9 +55,12 @@ from dataclasses import dataclass, field, fields
 from typing import NamedTuple
 
 import numpy as np
-from skyfield.api import load, wgs84
+
+# The modules used, not ``skyfield.api``: it also imports star, satellite and constellation
+# support, which no command needs, on every command's start-up.
 from skyfield.constants import ASEC2RAD, ASEC360, AU_KM, AU_M, C_AUDAY, GS, T0, C
 from skyfield.framelib import ICRS_to_J2000, ecliptic_frame, ecliptic_J2000_frame
+from skyfield.functions import load_bundled_npy
 from skyfield.jpllib import SpiceKernel
 from skyfield.nutationlib import (
     fa0,
@@ -69,6 +72,8 @@ from skyfield.nutationlib import (
 )
 from skyfield.precessionlib import compute_precession
 from skyfield.relativity import add_aberration
+from skyfield.timelib import Timescale
+from skyfield.toposlib import wgs84
 
 from .dates import as_jd, format_jd
 from .errors import SkyError
@@ -101,6 +106,7 @@ _SEGMENTS = {  # (center, target) -> what it is, for messages
     (3, 301): "Moon (3->301)",
     (0, 10): "Sun (0->10)",
 }
+_RATIO_SAMPLE = 256  # records checked for the Earth/Moon ratio (see _mass_ratio)
 _BATCH = 4096  # dates per batch in the fast pipeline
 _EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, light time)
 
@@ -109,7 +115,15 @@ _EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, ligh
 
 @functools.lru_cache(maxsize=1)
 def _timescale():
-    return load.timescale(builtin=True)
+    """skyfield's timescale on its bundled ΔT and leap-second tables, built exactly as
+    ``Loader.timescale(builtin=True)`` builds it but without importing skyfield's downloader
+    (urllib, ssl, certificates: a few hundredths of a second of start-up, never used here).
+    ``tests/test_startup.py`` checks it against skyfield's own."""
+    arrays = load_bundled_npy("iers.npz")
+    daily_tt = arrays["tt_jd_minus_arange"]
+    daily_tt += np.arange(len(daily_tt))
+    daily_delta_t = (arrays["delta_t_1e7"] / 1e7).round(7)
+    return Timescale((daily_tt, daily_delta_t), arrays["leap_dates"], arrays["leap_offsets"])
 
 
 def _de421_path() -> str:
@@ -269,7 +283,15 @@ def _mass_ratio(moon_seg, earth_seg) -> float | None:
     e_init, e_len, e = _segment_arrays(earth_seg)
     if (m_init, m_len, m.shape) != (e_init, e_len, e.shape):
         return None
-    ratio = -float(np.vdot(e, m) / np.vdot(m, m))
+    # A sample of records spread over the file, the last included: a file without the property
+    # fails on nearly every record, and reading every Earth record (memory-mapped, never used
+    # again when the ratio holds) was a fifth of a drift command's start-up.
+    n = m.shape[2]
+    every = max(1, n // _RATIO_SAMPLE)
+    m, e = np.asarray(m[:, :, ::every]), np.asarray(e[:, :, ::every])
+    m = np.concatenate([m, _segment_arrays(moon_seg)[2][:, :, -1:]], axis=2)
+    e = np.concatenate([e, _segment_arrays(earth_seg)[2][:, :, -1:]], axis=2)
+    ratio = -float(np.sum(e * m) / np.sum(m * m))  # not vdot: BLAS threads wake for it
     if np.max(np.abs(e + ratio * m)) > 1e-12 * np.max(np.abs(m)) + 1e-9:
         return None
     return ratio
