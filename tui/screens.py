@@ -31,6 +31,7 @@ from engine.view import decimal_year, is_arm, train_layout
 from .session import FRAME_NAMES, SPEEDS, Session
 from .widgets import (
     CAUTION,
+    EclipseInfo,
     Findings,
     OrreryPlan,
     PhaseDiscs,
@@ -50,6 +51,7 @@ _GSTEP = Binding.Group("±step", compact=True)
 _GSPEED = Binding.Group("speed", compact=True)
 _GDECADE = Binding.Group("decades", compact=True)
 _GTHRESHOLD = Binding.Group("threshold", compact=True)
+_GECLIPSE = Binding.Group("eclipse", compact=True)
 
 
 # What each action does, for help and the command palette (the footer keeps short labels).
@@ -69,7 +71,11 @@ LONG_HELP = {
     "undo_reset": "undo the last re-set of the pointers",
     "toggle_frame": "switch frame: equinox of date ↔ fixed stars",
     "toggle_observer": "switch observer: geocentric ↔ site",
-    "drift": "open the drift chart", "help": "help: keys and caution", "app.quit": "quit",
+    "drift": "open the drift chart",
+    "eclipse(1)": "jump to the next real eclipse (solar or lunar)",
+    "eclipse(-1)": "jump to the previous real eclipse",
+    "predicted": "jump to the next new or full moon the train predicts an eclipse at",
+    "help": "help: keys and caution", "app.quit": "quit",
     "back": "back to the bench", "cancel": "cancel the drift computation",
     "decades(1)": "one decade more", "decades(-1)": "one decade less",
     "threshold(1)": "raise the threshold", "threshold(-1)": "lower the threshold",
@@ -91,6 +97,7 @@ FOOTER_FROM_WIDTH = {
     "speed(1)": 150, "speed(-1)": 150, "epoch": 170, "undo_reset": 170,
     "crank_step(1)": 120, "crank_step(-1)": 120, "choose_step": 120,
     "reset_pointers": 100, "toggle_observer": 100,
+    "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
 }
 
 
@@ -122,6 +129,9 @@ class BenchScreen(Screen):
         Binding("t", "toggle_frame", "frame"),
         Binding("o", "toggle_observer", "observer"),
         Binding("d", "drift", "drift"),
+        Binding("x", "eclipse(1)", "eclipse▸", group=_GECLIPSE),
+        Binding("z", "eclipse(-1)", "◂eclipse", group=_GECLIPSE),
+        Binding("p", "predicted", "predicted▸"),
         Binding("question_mark,f1", "help", "help"),
         Binding("q", "app.quit", "quit"),
     ]
@@ -170,6 +180,7 @@ class BenchScreen(Screen):
                         yield Static(OrreryPlan.key_text(), id="plan-key")
                 else:
                     yield PhaseDiscs(s, id="phase")
+                yield EclipseInfo(id="eclipse")
                 with VerticalScroll(id="findings-pane", can_focus=False):
                     yield Findings(id="findings")
         yield TrainView(s, self._layout, id="train")
@@ -182,6 +193,7 @@ class BenchScreen(Screen):
         if self._view_list is None:  # the status line last: it also shows the run state
             panels = [*self.query(PhaseDiscs), *self.query(OrreryPlan)]  # one or the other
             self._view_list = [self.query_one(SkyDial), self.query_one(TrainView), *panels,
+                               self.query_one(EclipseInfo),
                                self.query_one(Readings), self.query_one(Status)]
         return self._view_list
 
@@ -197,6 +209,7 @@ class BenchScreen(Screen):
             self.query_one("#phase").border_title = "phase: train │ sky"
         if self.query("#plan-pane"):
             self.query_one("#plan-pane").border_title = "orrery from above"
+        self.query_one("#eclipse").border_title = "eclipses"
         self.query_one("#findings-pane").border_title = Findings.title(self.session.findings)
         self.query_one("#train").border_title = "train"
         self.query_one("#train").border_subtitle = TRAIN_KEY
@@ -245,6 +258,7 @@ class BenchScreen(Screen):
 
     def _stop(self) -> None:
         self.running = False
+        self.session.running = False
         self.workers.cancel_group(self, "crank")
 
     def _guard(self, fn, *args) -> bool:
@@ -279,6 +293,7 @@ class BenchScreen(Screen):
             self._stop()
         else:
             self.running = True
+            self.session.running = True
             self.run_worker(self._frames(), group="crank", exclusive=True)
         self.refresh_view()
 
@@ -319,6 +334,16 @@ class BenchScreen(Screen):
     def action_toggle_observer(self) -> None:
         self.session.toggle_observer()
         self.refresh_view()
+
+    def action_eclipse(self, direction: int) -> None:
+        self._stop()
+        if self._guard(self.session.jump_to_eclipse, int(direction)):
+            self.refresh_view()
+
+    def action_predicted(self) -> None:
+        self._stop()
+        if self._guard(self.session.jump_to_predicted):
+            self.refresh_view()
 
     def action_drift(self) -> None:
         self._stop()

@@ -14,6 +14,8 @@ import numpy as np
 
 from engine.dates import format_jd
 from engine.drift import pointer_errors
+from engine.eclipses import EclipseNow, EclipseWatch, cycle_pointer, cycle_position, limit_arcs
+from engine.eclipses import limits as eclipse_limits
 from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
 from engine.kinds import FRAMES, next_frame, sky_at
@@ -33,6 +35,19 @@ DEFAULT_SPEED = 3
 
 FRAME_NAMES = FRAMES  # dial frame -> plain words
 MAX_STEP_TURNS = 10**9
+#: while running faster than this (days of the train per frame), the eclipse readout waits
+ECLIPSE_MAX_DAYS_PER_FRAME = 40.0
+
+
+@dataclass(frozen=True)
+class CycleNow:
+    """An eclipse-cycle dial at the current date: its pointer ``name``, ``lunations`` N, where
+    its pointer stands in months (0..N) and the marked months (``{"solar": ..., "lunar": ...}``)."""
+
+    name: str
+    lunations: int
+    position: float
+    marks: dict
 
 
 @dataclass(frozen=True)
@@ -63,6 +78,12 @@ class Now:
     moved_turns: float  # crank turns since the previous frame (for "too fast" arbors)
     frame: str
     site: Site | None
+    #: the nearest new or full moon: what the train predicts there and what the sky has
+    #: (None while cranking too fast to follow, or at the ephemeris' edge)
+    eclipse: EclipseNow | None = None
+    #: arcs of longitude within the ecliptic limits of the true nodes: (kind, start°, end°)
+    limit_arcs: tuple = ()
+    cycle: CycleNow | None = None
 
     @property
     def delta_t_s(self) -> float:
@@ -128,6 +149,9 @@ class Session:
     worst_deg: dict[str, float] = field(default_factory=dict)
     _undo: list[Readout] = field(default_factory=list)
     _moved: float = 0.0
+    _watch: EclipseWatch | None = None
+    #: set by the interface while it cranks continuously (the eclipse readout may then wait)
+    running: bool = False
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
@@ -225,6 +249,53 @@ class Session:
     def can_undo(self) -> bool:
         return bool(self._undo)
 
+    # --- eclipses -----------------------------------------------------------------------
+    @property
+    def eclipse_watch(self) -> EclipseWatch:
+        """The train's eclipse predictions against the sky, kept while the pointers' setting
+        stays (a re-set or undo makes a new one)."""
+        if self._watch is None or self._watch.mech.readout is not self.mech.readout:
+            self._watch = EclipseWatch(self.mech, self.sky)
+        return self._watch
+
+    def jump_to_eclipse(self, direction: int = 1) -> float:
+        """Turn the crank to the next (or previous) real eclipse; its date (UT)."""
+        jd = self.eclipse_watch.next_real(self.jd_now(), direction)
+        if jd is None:
+            raise SkyError(f"no {'later' if direction > 0 else 'earlier'} eclipse inside "
+                           f"{self.sky.name} ({self.sky.span_text})")
+        self.go_to(jd)
+        return jd
+
+    def jump_to_predicted(self, direction: int = 1) -> float:
+        """Turn the crank to the next syzygy the train predicts an eclipse at; its date."""
+        watch = self.eclipse_watch
+        if watch.method is None:
+            raise WheelworkError("this train predicts no eclipses: it has no node hand, "
+                                 "draconic or eclipse-year dial, nor an eclipse-cycle dial")
+        jd = watch.next_predicted(self.jd_now(), direction)
+        if jd is None:
+            raise SkyError(f"no later predicted eclipse inside {self.sky.name} "
+                           f"({self.sky.span_text})")
+        self.go_to(jd)
+        return jd
+
+    def _eclipse_parts(self, jd: float, state: SkyState, moved_turns: float):
+        node = _one(state.node_deg)
+        arcs = tuple(limit_arcs(node, eclipse_limits(self.mech.train)))
+        days = abs(moved_turns) * float(self.mech.train.crank.days_per_turn)
+        if self.running and days > ECLIPSE_MAX_DAYS_PER_FRAME:
+            return None, arcs, None
+        watch = self.eclipse_watch
+        ecl = watch.at(jd)
+        cycle = None
+        name = cycle_pointer(self.mech.train)
+        if name is not None:
+            n = int(self.mech.train.pointers[name].per_turn)
+            cycle = CycleNow(name, n, _one(cycle_position(self.mech, name, np.array([jd]))),
+                             watch.marks)
+        return ecl, arcs, cycle
+
     # --- reading ---------------------------------------------------------------------------
     def _errors(self, jd: float | None = None) -> dict:
         jd = self.jd_now() if jd is None else jd
@@ -254,6 +325,7 @@ class Session:
         angles = {n: float(np.asarray(v).reshape(-1)[0])
                   for n, v in self.mech.kin.angles_turns(self.turns).items()}
         moved, self._moved = self._moved, 0.0
+        ecl, arcs, cycle = self._eclipse_parts(jd, state, moved)
         return Now(self.turns, jd, format_jd(jd), state, pointers, angles,
                    arbor_turns(self.mech.kin.rates, self.turns), moved, self.frame,
-                   self.observer)
+                   self.observer, ecl, arcs, cycle)

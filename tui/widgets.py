@@ -15,6 +15,7 @@ from textual.widget import Widget
 from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
 
+from engine.dates import format_jd
 from engine.view import (
     TrainLayout,
     ball_lit_fraction,
@@ -58,6 +59,11 @@ PLANET_STYLE = {  # body -> (hue, mark, name in the key)
     "neptune": ("#7f9cff", "♆", "Neptune"),
 }
 PLANET_HAND = 0.68  # hand length, a fraction of the dial's radius
+# Eclipse limits: dotted arcs just outside the ring, around both true nodes, in dimmed Sun
+# and Moon hues (solar limit outermost).
+SOLAR_ARC = "#b8862a"
+LUNAR_ARC = "#4f97bd"
+ARC_RADII = {"solar": 1.9, "lunar": 1.2}  # outside the ring, in dial radius units
 RING = "#6a7b8c"
 RING_BRIGHT = "#b9c6d3"
 UNLIT_RING = "#3d4754"  # orbits in the plan view
@@ -231,6 +237,9 @@ class SkyDial(LayeredCanvas):
             if any(is_arm(k) for k in kinds):
                 key.append_text(Text("\nopen mark, dashed hand: seen from the Sun (an arm)",
                                      style="dim"))
+        key.append("\n")
+        key.append_text(Text.assemble(("⠒⠒ ", f"bold {SOLAR_ARC}"), "solar  ",
+                                      ("⠒⠒ ", f"bold {LUNAR_ARC}"), "lunar eclipse limits"))
         extra = [k for k in ELEMENT_HANDS if k in kinds]
         if extra:
             key.append("\n")
@@ -275,8 +284,18 @@ class SkyDial(LayeredCanvas):
             if r >= 16:
                 self.put(x - len(str(deg)) / 2, y, f"{deg}°", RING)
 
+    def _arcs(self, now: Now, r: float) -> None:
+        """The ecliptic limits around both nodes, as dotted arcs outside the ring."""
+        for kind, start, end in now.limit_arcs:
+            span = (end - start) % 360.0
+            radius = r + ARC_RADII[kind]
+            n = max(int(span * radius * math.pi / 180.0 * 2.0), 2)
+            pts = [self._xy(start + span * k / n, radius) for k in range(n + 1)]
+            self.dots(pts, style=f"bold {SOLAR_ARC if kind == 'solar' else LUNAR_ARC}")
+
     def draw_moving(self, now: Now) -> None:
         cx, cy, r = self._geom
+        self._arcs(now, r)
         ptrs = now.pointers
         by_kind = {}
         for p in ptrs.values():
@@ -795,3 +814,83 @@ class Findings(Static):
                 t.append(f" → {fix}", style="italic #98c379")
             t.append("\n")
         self.update(t)
+
+
+def _marks_glyph(month: int, marks: dict) -> tuple[str, str]:
+    solar, lunar = month in marks["solar"], month in marks["lunar"]
+    if solar and lunar:
+        return "◆", "#e8e8e8"
+    if solar:
+        return "▲", SUN_HUE
+    if lunar:
+        return "▼", MOON_HUE
+    return "·", RING
+
+
+class EclipseInfo(Static):
+    """The nearest new or full moon: what the train predicts there, what the sky has (type,
+    gamma), and the eclipse-cycle dial as a ribbon of months when the train has one."""
+
+    OUTCOME_STYLE = {"hit": "bold #98c379", "miss": "bold #e06c75",
+                     "false alarm": "bold #e5c07b", "": ""}
+
+    _now: Now | None = None
+
+    def show(self, now: Now) -> None:
+        self._now = now
+        self.update(self.text(now, max(self.size.width, 20)))
+
+    def on_resize(self) -> None:
+        if self._now is not None:
+            self.update(self.text(self._now, max(self.size.width, 20)))
+
+    @classmethod
+    def text(cls, now: Now, width: int) -> Text:
+        e = now.eclipse
+        if e is None:
+            return Text("waiting: cranking too fast to follow eclipses", style="dim")
+        word = "full moon" if e.kind == "lunar" else "new moon"
+        when = format_jd(e.jd_syzygy).split(" UT")[0]
+        away = (f"in {e.days_away:.1f} d" if e.days_away > 0.05 else
+                f"{-e.days_away:.1f} d ago" if e.days_away < -0.05 else "now")
+        out = Text.assemble((f"{word} ", "bold"), f"{when} UT · {away}\n")
+        if e.predicted is None:
+            out.append("train: predicts no eclipses\n", style="dim")
+        else:
+            detail = (f"month {int(e.detail)} of the ring" if now.cycle is not None and
+                      not math.isnan(e.detail) and e.how.startswith("cycle") else
+                      f"Sun {e.detail:.1f}° from node")
+            out.append_text(Text.assemble(
+                "train: ", ("eclipse " if e.predicted else "none ",
+                            "bold" if e.predicted else ""), f"({detail})\n"))
+        gap = "  " if e.outcome else ""  # spaces end a segment: a leading space is lost
+        if e.sky_type:
+            gamma = "" if math.isnan(e.gamma) else f", γ {e.gamma:+.3f}"
+            note = "" if e.counted else " (not counted)"
+            out.append_text(Text.assemble("sky:   ", (f"{e.sky_type} {e.kind}", "bold"),
+                                          f"{gamma}{note}{gap}"))
+        else:
+            out.append(f"sky:   none{gap}")
+        if e.outcome:
+            out.append(e.outcome, style=cls.OUTCOME_STYLE[e.outcome])
+        c = now.cycle
+        if c is not None and c.marks is not None:
+            out.append("\n")
+            out.append_text(cls.ribbon(c, max(width - 2, 10)))
+        return out
+
+    @staticmethod
+    def ribbon(c, width: int) -> Text:
+        """The cycle dial as a strip of months centred on the pointer's month: ▲ solar mark,
+        ▼ lunar, ◆ both, · none; the pointer's month reversed."""
+        here = int(math.floor(c.position)) % c.lunations + 1
+        label = f" month {here}/{c.lunations}"
+        cells = max(width - len(label), 5)
+        half = cells // 2
+        t = Text()
+        for k in range(-half, cells - half):
+            month = (here - 1 + k) % c.lunations + 1
+            glyph, hue = _marks_glyph(month, c.marks)
+            t.append(glyph, style=f"reverse bold {hue}" if k == 0 else hue)
+        t.append(label, style="bold")
+        return t

@@ -1,0 +1,112 @@
+"""The interface's eclipse parts, driven by Textual's Pilot: the readout against the engine,
+the jump keys, the limit arcs on the sky dial and the cycle dial's ribbon."""
+
+import asyncio
+import functools
+import io
+
+import pytest
+from rich.console import Console
+
+from engine.dates import parse_date
+from engine.eclipses import EclipseWatch
+from tui.app import make_app
+from tui.screens import BenchScreen, long_help
+from tui.widgets import EclipseInfo
+
+SIZE = (120, 40)
+
+
+def sync(fn):
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        asyncio.run(fn(*args, **kwargs))
+    return wrapper
+
+
+def text_of(widget) -> str:
+    console = Console(width=300, file=io.StringIO(), record=True)
+    console.print(widget.content)
+    return console.export_text()
+
+
+@sync
+async def test_readout_says_what_the_engine_says():
+    app = make_app()  # the tide office dial: node hand
+    app.session.go_to(parse_date("2026-03-02 12:00"))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        text = text_of(app.screen.query_one(EclipseInfo))
+        engine = EclipseWatch(app.session.mech, app.session.sky).at(parse_date("2026-03-02 12:00"))
+        # 2026-03-03: total lunar eclipse (canon, from memory), predicted by the node hand
+        assert engine.sky_type == "total" and engine.predicted
+        assert "full moon 2026-03-03" in text and "total lunar" in text
+        assert f"{engine.gamma:+.3f}" in text and "hit" in text
+        assert f"Sun {engine.detail:.1f}° from node" in text
+
+
+@sync
+async def test_jump_keys_go_to_real_and_predicted_eclipses():
+    app = make_app()
+    app.session.go_to(parse_date("2026-03-04 00:00"))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("x")  # next real eclipse: 2026-08-12 total solar (canon, from memory)
+        await pilot.pause()
+        assert abs(app.session.jd_now() - parse_date("2026-08-12 17:46")) < 0.01
+        assert "total solar" in text_of(app.screen.query_one(EclipseInfo))
+        await pilot.press("z")  # and back to the 2026-03-03 total lunar eclipse
+        await pilot.pause()
+        assert abs(app.session.jd_now() - parse_date("2026-03-03 11:34")) < 0.01
+        await pilot.press("p")  # the next syzygy the train flags
+        await pilot.pause()
+        watch = app.session.eclipse_watch
+        now = watch.at(app.session.jd_now())
+        # the date the train shows that syzygy: within hours of the real one
+        assert now.predicted and abs(now.days_away) < 0.5
+        assert app.session.jd_now() > parse_date("2026-03-04")
+
+
+@sync
+async def test_train_without_predictions_says_so_and_p_warns():
+    app = make_app("engine/trains/moon_disc_59.toml")
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert "predicts no eclipses" in text_of(app.screen.query_one(EclipseInfo))
+        before = app.session.jd_now()
+        await pilot.press("p")
+        await pilot.pause()
+        assert app.session.jd_now() == before  # nothing to jump to: a notice, no move
+
+
+@sync
+async def test_cycle_ribbon_and_limit_arcs():
+    app = make_app("engine/trains/eclipse_board.toml")
+    app.session.go_to(parse_date("2024-04-07 12:00"))
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.pause()
+        now = app.session.now()
+        text = text_of(app.screen.query_one(EclipseInfo))
+        assert now.cycle is not None and now.cycle.lunations == 223
+        here = int(now.cycle.position) + 1
+        assert f"month {here}/223" in text
+        assert "▲" in text  # solar marks on the ribbon
+        # the 2024-04-08 new moon is marked (its saros predecessor fell in the first turn)
+        assert "eclipse (month 28 of the ring)" in text and "total solar" in text
+        kinds = {k for k, _, _ in now.limit_arcs}
+        assert kinds == {"solar", "lunar"} and len(now.limit_arcs) == 4
+
+
+def test_keys_are_in_help_and_footer():
+    actions = {b.action: b for b in BenchScreen.BINDINGS}
+    for action in ("eclipse(1)", "eclipse(-1)", "predicted"):
+        assert action in actions and long_help(actions[action]) != actions[action].description
+
+
+@pytest.mark.parametrize("width", [80, 160])
+def test_eclipse_text_fits_narrow_and_wide(width):
+    from tui.session import Session  # noqa: F401  (the Now it draws comes from the session)
+
+    app = make_app()
+    app.session.go_to(parse_date("2026-03-02 12:00"))
+    text = EclipseInfo.text(app.session.now(), width)
+    assert "full moon" in text.plain and "total lunar" in text.plain
