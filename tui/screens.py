@@ -336,12 +336,10 @@ class BenchScreen(Screen):
         self.refresh_view()
 
     def action_eclipse(self, direction: int) -> None:
-        self._stop()
         if self._guard(self.session.jump_to_eclipse, int(direction)):
             self.refresh_view()
 
     def action_predicted(self) -> None:
-        self._stop()
         if self._guard(self.session.jump_to_predicted):
             self.refresh_view()
 
