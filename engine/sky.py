@@ -192,15 +192,23 @@ class _ChebGroup:
         init, intlen, coef0 = keyed_arrays[0][1]
         self.init, self.intlen = float(init), float(intlen)
         self.nterms = max(a[2].shape[0] for _, a in keyed_arrays)
-        n = coef0.shape[2]
-        coef = np.zeros((n, 3 * len(keyed_arrays), self.nterms))
-        for i, (_, (_, _, c)) in enumerate(keyed_arrays):
+        self.nrec = coef0.shape[2]
+        self.scale = 1.0
+        self._arrays = keyed_arrays
+
+    # Gathered on first use, not when the file is opened: a command asking for the Sun and the
+    # Moon alone never copies the planets' series.
+    @functools.cached_property
+    def coef(self) -> np.ndarray:
+        coef = np.zeros((self.nrec, 3 * len(self._arrays), self.nterms))
+        for i, (_, (_, _, c)) in enumerate(self._arrays):
             c = c[::-1]  # highest degree first in the file
             coef[:, 3 * i:3 * i + 3, :c.shape[0]] = np.transpose(c, (2, 1, 0))
-        self.coef = coef
-        self.coef32 = coef.astype(np.float32)
-        self.nrec = n
-        self.scale = 1.0
+        return coef
+
+    @functools.cached_property
+    def coef32(self) -> np.ndarray:
+        return self.coef.astype(np.float32)
 
     @classmethod
     def from_records(cls, key, start_jd: float, days_per_record: float, records: np.ndarray,
