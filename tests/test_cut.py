@@ -323,3 +323,12 @@ def test_every_demo_train_gets_a_plate():
     train = load_train(HERE.parent / "engine" / "trains" / "table_orrery.toml")
     (frame,) = [p for p in place_plates(train, solve(train), {}) if p.mount == "frame"]
     assert any("drilled at" in n for n in frame.notes)
+
+
+def test_a_train_without_modules_has_nothing_to_cut(tmp_path, capsys):
+    # the 59-tooth moon disc gives no module: no wheel to draw, so no plate or sheet either
+    out = tmp_path / "out"
+    assert main(["cut", "moon_disc_59", "--out", str(out)]) == 1
+    err = capsys.readouterr().err
+    assert "no mesh has a module_mm" in err and len(err.strip().splitlines()) == 1
+    assert not out.exists() or not list(out.iterdir())

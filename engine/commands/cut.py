@@ -45,7 +45,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     train = load_train(args.train)
     kin = solve(train)
     cut = cut_parts(train, kin, args.form)
-    if not cut.parts:
+    if not any(p.kind == "wheel" for p in cut.parts):  # a plate alone has nothing to hold
         raise WheelworkError(f"{train.source}: no mesh has a module_mm, so there is nothing to "
                              "draw; add module_mm to the [[meshes]] tables")
     sheet = layout_sheet(cut.parts)
