@@ -250,6 +250,7 @@ def test_cli_json(capsys):
     assert s["threshold_days"] == pytest.approx(1.0)
     assert s["first_crossing_jd"] > doc["from_jd"]
     assert s["max_abs_days"] == pytest.approx(s["max_abs_deg"] / PHASE_DEG_PER_DAY)
+    assert "solar filter" in doc["caution"]  # the comparison with the sky carries the caution
 
 
 def test_cli_report_has_units_and_safety_line(capsys):

@@ -502,6 +502,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
             "to_jd": last, "asked_to_jd": float(end), "step_days": step, "dates": int(n),
             "from": format_jd(start), "to": format_jd(last),
             "pointers": result.summaries_dict(), "notes": result.notes,
+            "caution": SUN_CAUTION,  # as sky and eclipses: the JSON invites comparison too
         }
         console.print_json(json.dumps(doc))
         return 0
