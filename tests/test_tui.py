@@ -634,19 +634,54 @@ async def test_footer_keeps_the_main_keys_in_view(size):
     async with app.run_test(size=size) as pilot:
         await pilot.pause()
         keys = _footer_keys(app)
-        palette_x = keys.pop("palette")[0]
-        for action in ("crank(1)", "crank(-1)", "go_to_date", "drift", "help", "app.quit"):
+        right_edge = keys.pop("palette")[0] if "palette" in keys else size[0]
+        for action in ("crank(1)", "crank(-1)", "run", "go_to_date", "epoch", "reset_pointers",
+                       "undo_reset", "toggle_frame", "toggle_observer", "drift", "help"):
             assert action in keys, (size, action)
         for action, (_, right) in keys.items():
-            assert right <= palette_x, (size, action)  # nothing under the palette key
+            assert right <= right_edge, (size, action)  # in view, nothing under the palette
         if size[0] >= 170:
             assert {b.action for b in BenchScreen.BINDINGS} <= set(keys)
-    # keys left out of a narrow footer still work and are in help
+        if "palette" not in _footer_keys(app):
+            assert "ctrl+p" in text_of(app.screen.query_one("#title"))
+    # keys left out of a narrow footer still work, and are in help and the palette
     app = make_app()
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.press("pageup", "e", "pagedown")
         await pilot.pause()
         assert whole_turns(app) == -100
+        titles = {c.title for c in app.get_system_commands(app.screen)}
+        await pilot.press("question_mark")
+        await pilot.pause()
+        help_text = " ".join(text_of(w) for w in app.screen.query("Static"))
+        for b in BenchScreen.BINDINGS:
+            assert long_help(b) in help_text, b.action
+            if b.action != "app.quit":
+                assert long_help(b) in titles, b.action
+
+
+@sync
+async def test_help_scrolls_to_the_end_at_80x24():
+    app = make_app()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("question_mark")
+        await pilot.pause()
+        box = app.screen.query_one("#help")
+        assert box.max_scroll_y > 0  # more than fits: it must scroll
+        for key in ("down", "pagedown", "end"):
+            before = box.scroll_y
+            await pilot.press(key)
+            await pilot.pause(0.3)
+            assert box.scroll_y > before or box.scroll_y == box.max_scroll_y, key
+        await pilot.press("end")
+        await pilot.pause(0.3)
+        assert box.scroll_y == box.max_scroll_y
+        await pilot.press("home")
+        await pilot.pause(0.3)
+        assert box.scroll_y == 0
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
 
 
 @sync
@@ -936,3 +971,18 @@ def test_canvas_private_internals_still_there():
     assert len(canvas._buffer) == 3 and len(canvas._buffer[0]) == 4
     assert len(canvas._styles) == 3 and canvas._canvas_size.width == 4
 
+
+@pytest.mark.parametrize("size", [(80, 24), (100, 30), (120, 40), (160, 50), (200, 60),
+                                  (250, 70), (120, 70)])
+@sync
+async def test_dial_shows_every_sign_label(size):
+    from tui.widgets import SIGNS
+
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        dial = app.screen.query_one(SkyDial)
+        text = "\n".join("".join(row) for row in dial._buffer)
+        short = dial._geom[2] < 8
+        for name in SIGNS:
+            assert (name[:2] if short else name) in text, (size, name)

@@ -5,6 +5,7 @@ from __future__ import annotations
 import asyncio
 import math
 import time
+from dataclasses import replace
 from fractions import Fraction
 from pathlib import Path
 
@@ -89,16 +90,21 @@ def long_help(b: Binding) -> str:
 #: the key to the red numbers in the train drawing
 TRAIN_KEY = "[bold #e06c75]+98.5[/] = turns since epoch, for arbors too fast to draw"
 
-#: Bench keys the footer drops on narrower screens, by the width they need (they stay in
-#: help and the command palette). What is left at 80 columns: crank ±1/±10, run, date,
-#: frame, drift, help, quit (and the palette).
+#: Bench keys the footer drops on narrower screens, by the width they need (every key stays
+#: in help and the command palette). At 80 columns the footer keeps crank ±1, run, date,
+#: epoch, re-set, undo, frame, observer, drift and help; ±10 and quit come back at 100
+#: (↑ ↓ and q work at any width).
 FOOTER_FROM_WIDTH = {
+    "crank(10)": 100, "crank(-10)": 100, "app.quit": 100,
     "crank(100)": 150, "crank(-100)": 150, "crank(1000)": 150, "crank(-1000)": 150,
-    "speed(1)": 150, "speed(-1)": 150, "epoch": 170, "undo_reset": 170,
-    "crank_step(1)": 120, "crank_step(-1)": 120, "choose_step": 120,
-    "reset_pointers": 100, "toggle_observer": 100,
+    "speed(1)": 170, "speed(-1)": 170,
+    "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
     "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
 }
+#: Shorter footer labels below 100 columns.
+FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
+#: The footer shows the palette key from this width; below it the title line names ctrl+p.
+FOOTER_PALETTE_FROM_WIDTH = 120
 
 
 class BenchScreen(Screen):
@@ -141,7 +147,7 @@ class BenchScreen(Screen):
         self.session = session
         self.running = False
         self._layout = train_layout(session.mech.train)
-        self._footer_tier = 0
+        self._footer_tier = -1
 
     @property
     def active_bindings(self):
@@ -149,13 +155,23 @@ class BenchScreen(Screen):
         still works, and is in help and the palette; key dispatch does not use this)."""
         active = super().active_bindings
         width = self.size.width or self.app.size.width
-        return {k: a for k, a in active.items()
-                if width >= FOOTER_FROM_WIDTH.get(a.binding.action, 0)}
+        shown = {}
+        for k, a in active.items():
+            if width < FOOTER_FROM_WIDTH.get(a.binding.action, 0):
+                continue
+            short = FOOTER_SHORT.get(a.binding.action) if width < 100 else None
+            if short is not None:
+                a = a._replace(binding=replace(a.binding, description=short))
+            shown[k] = a
+        return shown
 
     def on_resize(self) -> None:
-        tier = sum(self.size.width >= w for w in set(FOOTER_FROM_WIDTH.values()))
+        width = self.size.width
+        tier = sum(width >= w for w in {100, FOOTER_PALETTE_FROM_WIDTH,
+                                       *FOOTER_FROM_WIDTH.values()})
         if tier != self._footer_tier:
             self._footer_tier = tier
+            self.query_one(Footer).show_command_palette = width >= FOOTER_PALETTE_FROM_WIDTH
             self.refresh_bindings()
 
     def compose(self) -> ComposeResult:
@@ -163,7 +179,8 @@ class BenchScreen(Screen):
         train = s.mech.train
         yield Static(Text.assemble(("wheelwork ", "bold #e5c07b"), (train.name, "bold"),
                                    (f"  {Path(train.source).name}", "dim"),
-                                   ("   ", ""), ("? help", "dim")), id="title")
+                                   ("   ", ""), ("? help · ctrl+p every key", "dim")),
+                     id="title")
         with Horizontal(id="top"):
             with Vertical(id="dial-pane"):
                 yield SkyDial(s, id="dial")
@@ -466,10 +483,17 @@ class HelpScreen(ClosesOnce, ModalScreen[None]):
     """The keys, and the solar caution."""
 
     BINDINGS = [Binding("escape,q,question_mark,f1", "close", "close")]
+    #: the text scrolls with ↑ ↓ PgUp PgDn Home End (the scroll container's own keys)
+    AUTO_FOCUS = "#help"
 
     def __init__(self, bindings: list[Binding]):
         super().__init__()
         self.bindings_list = bindings
+
+    def on_mount(self) -> None:
+        box = self.query_one("#help")
+        box.border_title = "wheelwork — keys"
+        box.border_subtitle = "↑ ↓ PgUp PgDn Home End scroll · Escape closes"
 
     def compose(self) -> ComposeResult:
         t = Table(box=None, padding=(0, 2), show_header=False)
@@ -478,8 +502,7 @@ class HelpScreen(ClosesOnce, ModalScreen[None]):
         for b in self.bindings_list:
             keys = " / ".join(_key_name(k) for k in b.key.split(","))
             t.add_row(keys, long_help(b))
-        with Vertical(id="help"):
-            yield Static(Text("wheelwork — keys", style="bold"))
+        with VerticalScroll(id="help"):
             yield Static(CAUTION, classes="caution")
             yield Static(t)
             yield Static(Text.assemble(
@@ -487,7 +510,9 @@ class HelpScreen(ClosesOnce, ModalScreen[None]):
                 "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°. "
                 "worst° (max° when narrow) is the largest |err| seen since the start or the "
                 "last change of frame (t), observer (o) or pointer setting (r, u); drift °/cy "
-                "is the ratio report's mean drift in the current frame. In the train drawing, "
+                "is the ratio report's mean drift in the current frame (the drift chart's trend "
+                "°/cy is another figure: the slope fitted to the errors over the chart's span). "
+                "In the train drawing, "
                 "a red number is an arbor's turns since the epoch, shown when it turns too fast "
                 "to draw. Keys missing from a narrow footer still work. "
                 "Every key is also in the command palette (ctrl+p). Escape closes.",
@@ -690,7 +715,7 @@ class DriftScreen(ClosesOnce, Screen):
         # the key to the colours is the summary table below, so the curves stay uncovered
         plot.show_legend(is_visible=False)
         t = Table(box=None, padding=(0, 1), header_style="bold #9aa5b1")
-        for col in ("pointer", "max |err|°", "at", "rms°", "drift °/cy",
+        for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy",
                     f"first past ±{thr:g}° (vertical line)"):
             t.add_column(col, justify="right" if "°" in col else "left")
         for name, sm in result.summaries.items():

@@ -254,10 +254,33 @@ class SkyDial(LayeredCanvas):
         t = math.radians(90.0 + lon_deg)
         return cx + r * math.cos(t), cy - 0.5 * r * math.sin(t)
 
+    #: how far outside the ring the sign names sit (cells along the radius)
+    SIGN_OFFSET = 3.2
+
+    def _sign_cells(self, r: float, k: int) -> tuple[int, int, str]:
+        """Where sign ``k``'s name goes at ring radius ``r``: (first cell, row, text)."""
+        name = SIGNS[k] if r >= 8 else SIGNS[k][:2]
+        x, y = self._xy(30 * k + 15, r + self.SIGN_OFFSET)
+        return int(round(x - 1)), int(round(y)), name
+
+    def fit_radius(self, w: int, h: int) -> float:
+        """The largest ring whose twelve sign names all fit inside ``w`` × ``h`` cells: the
+        ring is sized from both dimensions (a tall pane is limited by its width and a wide
+        one by its height)."""
+        cx, cy = w / 2.0, h / 2.0
+        r = max(min(w / 2.0 - 4.5, (h / 2.0 - 1.2) * 2.0), 2.0)
+        while r > 2.0:
+            self._geom = (cx, cy, r)
+            if all(0 <= x and x + len(t) <= w and 0 <= y < h
+                   for x, y, t in (self._sign_cells(r, k) for k in range(12))):
+                break
+            r -= 0.25
+        return max(r, 2.0)
+
     def draw_static(self) -> None:
         w, h = self._canvas_size.width, self._canvas_size.height
         cx, cy = w / 2.0, h / 2.0
-        r = max(min(w / 2.0 - 4.5, (h / 2.0 - 1.2) * 2.0), 2.0)
+        r = self.fit_radius(w, h)
         self._geom = (cx, cy, r)
         ring = [self._xy(a / 4.0, r) for a in range(0, 1440)]
         self.dots(ring, style=RING)
@@ -276,9 +299,9 @@ class SkyDial(LayeredCanvas):
                 fine.append(self._xy(deg, r - 0.5))
         self.dots(fine, style=RING)
         self.dots(coarse, style=RING_BRIGHT)
-        for k, name in enumerate(SIGNS):
-            x, y = self._xy(30 * k + 15, r + 3.2)
-            self.put(x - 1, y, name if r >= 8 else name[:2], SIGN_TEXT)
+        for k in range(12):
+            x, y, name = self._sign_cells(r, k)
+            self.put(x, y, name, SIGN_TEXT)
         for deg in (0, 90, 180, 270):
             x, y = self._xy(deg, r - 5.0)
             if r >= 16:
