@@ -805,6 +805,28 @@ async def _type_fast(app, keys, gaps_s) -> None:
         await asyncio.sleep(gap)
 
 
+async def _until(pilot, done, wait_s: float = 10.0) -> None:
+    """Wait until ``done()`` (a palette command runs a moment after the palette closes, a
+    long moment on a loaded machine)."""
+    for _ in range(int(wait_s / 0.05)):
+        if done():
+            return
+        await pilot.pause(0.05)
+
+
+async def _palette_listed(app, pilot, wait_s: float = 10.0) -> None:
+    """Wait until the palette's search has listed its matches (slow on a loaded machine)."""
+    from textual.command import CommandList
+
+    palette = app.screen
+    for _ in range(int(wait_s / 0.05)):
+        await pilot.pause(0.05)
+        searching = any(w.is_running for w in app.workers if w.node is palette)
+        if palette.query_one(CommandList).option_count and not searching:
+            await pilot.pause(0.1)
+            return
+
+
 def _assert_bench_on_the_bottom(app) -> None:
     stack = app.screen_stack
     assert isinstance(stack[0], BenchScreen), stack
@@ -828,7 +850,7 @@ async def test_enter_twice_closes_a_dialog_once(opener, set_value, gap_s, cranki
         else:
             text = list("crank 100 turns forward")
             await _type_fast(app, text, [0.01] * len(text))
-            await pilot.pause(0.3)
+            await _palette_listed(app, pilot)
         await _type_fast(app, ["enter", "enter"], [gap_s, 0.0])
         await pilot.pause(0.3)
         _assert_bench_on_the_bottom(app)
@@ -841,6 +863,7 @@ async def test_enter_twice_closes_a_dialog_once(opener, set_value, gap_s, cranki
         elif opener == "s":
             assert app.session.step == 3
         else:
+            await _until(pilot, lambda: whole_turns(app) != 0)
             assert whole_turns(app) == 100
 
 
@@ -865,8 +888,9 @@ async def test_palette_runs_its_command_once_on_a_double_enter():
         await pilot.press("ctrl+p")
         await pilot.pause()
         await pilot.press(*"crank 100 turns forward")
-        await pilot.pause(0.3)
+        await _palette_listed(app, pilot)
         await _type_fast(app, ["enter", "enter", "enter"], [0.0, 0.0, 0.0])
+        await _until(pilot, lambda: whole_turns(app) != 0)
         await pilot.pause(0.3)
         _assert_bench_on_the_bottom(app)
         assert whole_turns(app) == 100
@@ -893,11 +917,21 @@ def key_storm(seed: int, n: int = 2000) -> tuple[list[str], list[float]]:
     return keys, gaps
 
 
-async def survive_storm(seed: int, n: int = 2000, size=(100, 30)) -> None:
+async def survive_storm(seed: int, n: int = 2000, size=(80, 24)) -> None:
+    import tempfile
+
     app = make_app()
     keys, gaps = key_storm(seed, n)
     quits = []
     app.action_quit = lambda: quits.append(1)  # the palette's quit: a storm carries on
+    shots = tempfile.TemporaryDirectory()
+    app.screenshot_dir = Path(shots.name)  # the palette's screenshot, if a storm picks it
+    with shots:
+        await _storm(app, keys, gaps, size)
+
+
+async def _storm(app, keys, gaps, size) -> None:
+    n = len(keys)
     async with app.run_test(size=size) as pilot:
         for start in range(0, n, 100):
             await _type_fast(app, keys[start:start + 100], gaps[start:start + 100])
@@ -986,3 +1020,138 @@ async def test_dial_shows_every_sign_label(size):
         short = dial._geom[2] < 8
         for name in SIGNS:
             assert (name[:2] if short else name) in text, (size, name)
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 50)])
+@sync
+async def test_readings_keep_numbers_apart_in_fixed_notation(size):
+    """Every number has a space before it (a wide error once ran into the sky column:
+    '0.00+461.70'), drifts are in fixed notation, and a row too long wraps, losing nothing."""
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("right_square_bracket", "right_square_bracket")
+        await pilot.pause()
+        readings = app.screen.query_one(Readings)
+        narrow = readings.size.width < 61
+        ncols = len(Readings.NARROW if narrow else Readings.WIDE)
+        table = text_of(readings)
+        rows = [line for line in table.splitlines()[1:] if line.strip()]
+        now = app.session.now()
+        for name, p in now.pointers.items():
+            row = next(r for r in rows if r.startswith(name[:7]))
+            fields = row.split()
+            assert len(fields) == ncols - (p.error_days is None and not narrow), row
+            assert not any("e-" in f or "e+" in f for f in fields), row
+            d = p.drift_deg_per_century
+            assert Readings.drift_text(d) in fields
+        # a made-up wide error: still separated, still whole, wrapped if it must be
+        p = next(iter(now.pointers.values()))
+        from dataclasses import replace
+        wide = replace(p, error_deg=-179.99, worst_deg=179.99, sky_deg=359.99,
+                       train_deg=180.0, drift_deg_per_century=-12345.678)
+        readings.show(replace(now, pointers={p.name: wide}))
+        await pilot.pause()
+        text = " ".join(text_of(readings).split())
+        for number in ("-179.99", "179.99", "-12345.68"):
+            assert f" {number}" in text, text
+        assert Readings.drift_text(0.00049) == "+0.0005"
+        assert Readings.drift_text(-0.0000004) == "-0.0000"
+
+
+TRAINS = Path(__file__).parents[1] / "engine" / "trains"
+
+
+@sync
+async def test_palette_lines_name_keys_as_people_read_them():
+    app = make_app()
+    async with app.run_test(size=SIZE):
+        helps = {c.title: c.help for c in app.get_system_commands(app.screen)}
+        assert helps["crank 1000 turns forward"] == "key ]"
+        assert helps["crank 100 turns back"] == "key PgDn"
+        assert helps["help: keys and caution"] == "key ? or F1"
+        for text in helps.values():
+            assert "_" not in (text or ""), text  # no right_square_bracket, full_stop, ...
+
+
+@sync
+async def test_a_long_paste_is_shortened_in_the_error_but_the_limits_stay():
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g")
+        await pilot.pause()
+        paste = "2040-06-21 " + "x" * 5000
+        app.screen.query_one("#date-input").value = paste
+        await pilot.press("enter")
+        await pilot.pause()
+        error = text_of(app.screen.query_one("#date-error"))
+        assert len(error) < 400 and "5,011 characters" in error, error
+        assert app.screen.query_one("#date-input").value == paste  # nothing typed is lost
+    from tui.screens import shorten_echo
+
+    typed = "9" * 300
+    msg = f"step {typed} turns: choose more than 0 and at most 1,000,000,000 turns"
+    short = shorten_echo(msg, typed)
+    assert "1,000,000,000" in short and "300 characters" in short and len(short) < 150
+    assert shorten_echo("bad date '1e5'", "1e5") == "bad date '1e5'"
+
+
+def test_screenshot_goes_to_a_folder_that_exists_and_says_where(tmp_path, monkeypatch):
+    home = tmp_path / "home"  # a home with no Downloads folder
+    home.mkdir()
+    work = tmp_path / "work"
+    work.mkdir()
+    monkeypatch.setenv("HOME", str(home))
+    monkeypatch.setenv("XDG_DOWNLOAD_DIR", str(home / "Downloads"))
+    monkeypatch.chdir(work)
+
+    @sync
+    async def run():
+        app = make_app()
+        async with app.run_test(size=(80, 24)) as pilot:
+            saved = app.deliver_screenshot()
+            await pilot.pause()
+            assert saved is not None and Path(saved).parent == work
+            assert Path(saved).read_text().startswith("<svg")
+            assert not (home / "Downloads").exists()  # nothing made that was not asked for
+            assert any(str(work) in n.message for n in app._notifications)
+            app.screenshot_dir = tmp_path / "missing"
+            assert app.deliver_screenshot() is None
+            await pilot.pause()
+            assert any("cannot save" in n.message for n in app._notifications)
+
+    run()
+
+
+def test_default_speed_keeps_the_fastest_hand_from_strobing():
+    from tui.session import FPS, default_speed_index
+
+    for name in ("tide_office", "nineteen_year_drum", "moon_disc_59"):
+        app = make_app(TRAINS / f"{name}.toml")
+        s = app.session
+        fastest = max(abs(float(m.cycles_per_turn)) for m in s.readout.motions.values())
+        per_frame = fastest * s.speed_turns_per_s / FPS
+        assert per_frame < 0.5, name  # a hand turning half a turn a frame seems to stand
+        assert s.speed_index == default_speed_index(s.mech)
+        assert per_frame <= 1 / 6 or s.speed_index == 0, name
+        if name == "tide_office":
+            assert s.speed_turns_per_s == 10  # a day a turn: the usual default
+        if name == "nineteen_year_drum":  # a year a turn: 13.4 Moon turns per crank turn
+            assert s.speed_turns_per_s < 1
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 50)])
+@sync
+async def test_a_phase_only_train_shows_its_phase_discs_where_the_dial_would_be(size):
+    from tui.widgets import PhaseDiscs
+
+    app = make_app(TRAINS / "moon_disc_59.toml")
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("up")
+        await pilot.pause()
+        assert not app.screen.query(SkyDial)
+        discs = app.screen.query_one("#phase-main", PhaseDiscs)
+        assert discs.display and discs.size.height >= 6
+        lines = [s.text for s in discs._strips]
+        assert any("▀" in line or "▄" in line for line in lines)
+        assert any("true Moon" in line for line in lines)
+        assert "phase" in str(app.screen.query_one("#dial-pane").border_title)

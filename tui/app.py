@@ -18,7 +18,7 @@ from engine.loader import load_train
 from engine.mechanism import DEFAULT_TRAIN, build, sky_for
 from engine.sky import Site
 
-from .screens import BenchScreen, ClosesOnce, long_help
+from .screens import BenchScreen, ClosesOnce, key_name, long_help
 from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
 
 
@@ -113,8 +113,42 @@ class WheelworkApp(App):
         for b in getattr(screen, "BINDINGS", []):
             if b.action in ("app.quit",):
                 continue
-            yield SystemCommand(long_help(b), f"key {b.key.split(',')[0]}",
-                                partial(screen.run_action, b.action))
+            keys = " or ".join(key_name(k) for k in b.key.split(","))
+            yield SystemCommand(long_help(b), f"key {keys}", partial(screen.run_action, b.action))
+
+    #: where the palette's screenshot goes; None: the Downloads folder when there is one,
+    #: else the current folder (nothing is created but the file)
+    screenshot_dir: Path | None = None
+
+    def _screenshot_folder(self) -> Path:
+        if self.screenshot_dir is not None:
+            return Path(self.screenshot_dir)
+        try:
+            from platformdirs import user_downloads_path
+
+            downloads = user_downloads_path()
+        except Exception:  # noqa: BLE001 - no such folder on this system
+            downloads = None
+        return downloads if downloads is not None and downloads.is_dir() else Path.cwd()
+
+    def deliver_screenshot(self, filename: str | None = None, path: str | None = None,
+                           time_format: str | None = None) -> str | None:
+        """Save an SVG of the screen as a new file and say where it went (in a notice)."""
+        from textual._files import generate_datetime_filename
+
+        folder = Path(path) if path else self._screenshot_folder()
+        name = filename or generate_datetime_filename(self.title, ".svg", time_format)
+        target = folder / name
+        try:
+            svg = self.export_screenshot()
+            with open(target, "x", encoding="utf-8") as f:  # never over an existing file
+                f.write(svg)
+        except OSError as exc:
+            self.notify(f"cannot save the screenshot to {target}: {exc.strerror or exc}",
+                        title="screenshot", severity="error", timeout=8)
+            return None
+        self.notify(f"saved to {target.resolve()}", title="screenshot", timeout=8)
+        return str(target)
 
 
 def make_app(train: str | Path | None = None, *, site: str | Site | None = None,

@@ -29,7 +29,7 @@ from engine.exact import parse_fraction
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import decimal_year, is_arm, train_layout
 
-from .session import FRAME_NAMES, SPEEDS, Session
+from .session import FPS, FRAME_NAMES, SPEEDS, Session
 from .widgets import (
     CAUTION,
     EclipseInfo,
@@ -41,8 +41,6 @@ from .widgets import (
     Status,
     TrainView,
 )
-
-FPS = 25
 
 _G1 = Binding.Group("±1", compact=True)
 _G10 = Binding.Group("±10", compact=True)
@@ -147,6 +145,10 @@ class BenchScreen(Screen):
         self.session = session
         self.running = False
         self._layout = train_layout(session.mech.train)
+        #: what the train's pointers show; a train with nothing for the sky dial (a moon-phase
+        #: disc alone) gets its phase discs where the dial would be
+        self.kinds = {p.shows for p in session.mech.train.pointers.values()}
+        self.phase_only = not any(SkyDial.draws(k) for k in self.kinds)
         self._footer_tier = -1
 
     @property
@@ -183,9 +185,11 @@ class BenchScreen(Screen):
                      id="title")
         with Horizontal(id="top"):
             with Vertical(id="dial-pane"):
-                yield SkyDial(s, id="dial")
-                kinds = {p.shows for p in train.pointers.values()}
-                yield Static(SkyDial.key_text(kinds), id="dial-key")
+                if self.phase_only:  # nothing for the dial: the phase discs take its place
+                    yield PhaseDiscs(s, id="phase-main")
+                else:
+                    yield SkyDial(s, id="dial")
+                    yield Static(SkyDial.key_text(self.kinds), id="dial-key")
                 yield Static(CAUTION, id="caution")
             with Vertical(id="side"):
                 with Vertical(id="info"):
@@ -195,7 +199,7 @@ class BenchScreen(Screen):
                     with Vertical(id="plan-pane"):
                         yield OrreryPlan(s, id="plan")
                         yield Static(OrreryPlan.key_text(), id="plan-key")
-                else:
+                elif not self.phase_only:
                     yield PhaseDiscs(s, id="phase")
                 yield EclipseInfo(id="eclipse")
                 with VerticalScroll(id="findings-pane", can_focus=False):
@@ -208,10 +212,9 @@ class BenchScreen(Screen):
         """The widgets that draw a :class:`Now` (found once; none while the screen closes).
         A new display is one more widget with a ``show(now)`` method, listed here."""
         if self._view_list is None:  # the status line last: it also shows the run state
-            panels = [*self.query(PhaseDiscs), *self.query(OrreryPlan)]  # one or the other
-            self._view_list = [self.query_one(SkyDial), self.query_one(TrainView), *panels,
-                               self.query_one(EclipseInfo),
-                               self.query_one(Readings), self.query_one(Status)]
+            self._view_list = [w for cls in (SkyDial, TrainView, PhaseDiscs, OrreryPlan,
+                                             EclipseInfo, Readings, Status)
+                               for w in self.query(cls)]
         return self._view_list
 
     _view_list: list | None = None
@@ -222,6 +225,8 @@ class BenchScreen(Screen):
     def on_mount(self) -> None:
         self.query_one("#dial-pane").border_title = "sky dial"
         self.query_one("#info").border_title = "readings"
+        if self.phase_only:
+            self.query_one("#dial-pane").border_title = "phase: train │ sky"
         if self.query("#phase"):
             self.query_one("#phase").border_title = "phase: train │ sky"
         if self.query("#plan-pane"):
@@ -383,6 +388,20 @@ class ClosesOnce:
         return super().dismiss(result)
 
 
+#: how much of a long entry an error message repeats: the start and the end
+ECHO_HEAD, ECHO_TAIL = 24, 12
+
+
+def shorten_echo(message: str, typed: str) -> str:
+    """``message`` with a long echo of what was typed shortened to its start and end (and its
+    length); everything else the message says (the limits, the numbers that matter) stays."""
+    typed = typed.strip()
+    if len(typed) <= ECHO_HEAD + ECHO_TAIL + 10 or typed not in message:
+        return message
+    short = f"{typed[:ECHO_HEAD]}…{typed[-ECHO_TAIL:]} ({len(typed):,} characters)"
+    return message.replace(typed, short)
+
+
 class Dialog(ClosesOnce, ModalScreen):
     """A small dialog over the bench: Escape cancels (returns None); :meth:`accept` closes it
     with a result. Subclasses read their inputs in :meth:`submit` and call :meth:`accept` or
@@ -395,9 +414,9 @@ class Dialog(ClosesOnce, ModalScreen):
     def accept(self, result) -> None:
         self.dismiss(result)
 
-    def reject(self, message: str) -> None:
+    def reject(self, message: str, typed: str = "") -> None:
         error = self.query_one(f"#{self.error_id}", Label)
-        error.update(Text(message))
+        error.update(Text(shorten_echo(message, typed)))
         error.add_class("-shown")
 
     def read(self) -> None:  # pragma: no cover - overridden
@@ -441,7 +460,7 @@ class DateDialog(Dialog):
             jd = parse_date(text)
             self.session._check_jd(jd)
         except WheelworkError as exc:
-            self.reject(str(exc))
+            self.reject(str(exc), text)
             return
         self.accept(jd)
 
@@ -474,7 +493,7 @@ class StepDialog(Dialog):
             if step > 10**9:
                 raise ValueError("the step must be at most 1,000,000,000 turns")
         except ValueError as exc:
-            self.reject(str(exc))
+            self.reject(str(exc), text)
             return
         self.accept(step)
 
@@ -500,7 +519,7 @@ class HelpScreen(ClosesOnce, ModalScreen[None]):
         t.add_column(style="bold #e5c07b", no_wrap=True)
         t.add_column()
         for b in self.bindings_list:
-            keys = " / ".join(_key_name(k) for k in b.key.split(","))
+            keys = " / ".join(key_name(k) for k in b.key.split(","))
             t.add_row(keys, long_help(b))
         with VerticalScroll(id="help"):
             yield Static(CAUTION, classes="caution")
@@ -525,10 +544,12 @@ class HelpScreen(ClosesOnce, ModalScreen[None]):
 _KEY_NAMES = {"right": "→", "left": "←", "up": "↑", "down": "↓", "pageup": "PgUp",
               "pagedown": "PgDn", "right_square_bracket": "]", "left_square_bracket": "[",
               "plus": "+", "equals_sign": "=", "minus": "−", "space": "space",
-              "full_stop": ".", "comma": ",", "question_mark": "?", "f1": "F1"}
+              "full_stop": ".", "comma": ",", "question_mark": "?", "f1": "F1",
+              "escape": "Esc", "ctrl+p": "ctrl+p"}
 
 
-def _key_name(key: str) -> str:
+def key_name(key: str) -> str:
+    """A key as a person reads it (→, PgDn, ]) rather than Textual's name for it."""
     return _KEY_NAMES.get(key.strip(), key.strip())
 
 

@@ -32,6 +32,25 @@ DEFAULT_SITE_NAME = "default site"
 #: Continuous cranking speeds, crank turns per second.
 SPEEDS = (0.25, 1.0, 3.0, 10.0, 30.0, 100.0, 300.0, 1000.0, 3000.0)
 DEFAULT_SPEED = 3
+#: frames a second of continuous cranking
+FPS = 25
+#: the most the fastest pointer may turn in one frame at a train's default speed: well under
+#: the half turn at which a hand seems to stand still or run backwards (strobing)
+MAX_DEFAULT_TURNS_PER_FRAME = 1 / 6
+
+
+def default_speed_index(mech: Mechanism) -> int:
+    """The default run speed for a train: the fastest of SPEEDS up to DEFAULT_SPEED at which
+    its fastest pointer turns at most MAX_DEFAULT_TURNS_PER_FRAME a frame (the slowest speed
+    if none does). A train whose crank turns once a year gets a slow default; one turned
+    once a day keeps DEFAULT_SPEED."""
+    fastest = max((abs(float(m.cycles_per_turn)) for m in mech.readout.motions.values()),
+                  default=0.0)
+    best = 0
+    for i, speed in enumerate(SPEEDS[: DEFAULT_SPEED + 1]):
+        if fastest * speed / FPS <= MAX_DEFAULT_TURNS_PER_FRAME:
+            best = i
+    return best
 
 FRAME_NAMES = FRAMES  # dial frame -> plain words
 MAX_STEP_TURNS = 10**9
@@ -140,7 +159,7 @@ class Session:
     step: Fraction = Fraction(1)
     frame: str = ""
     topocentric: bool = False
-    speed_index: int = DEFAULT_SPEED
+    speed_index: int | None = None  # None: default_speed_index(mech)
     findings: list = field(default_factory=list)
     #: the ratio report's mean drift (°/cy) per pointer, by frame; filled on first use
     drift_by_frame: dict[str, dict[str, float]] = field(default_factory=dict)
@@ -155,6 +174,8 @@ class Session:
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
+        if self.speed_index is None:
+            self.speed_index = default_speed_index(self.mech)
         self._last_sky = _LastSky(self.sky)
 
     def drift_per_century(self, frame: str | None = None) -> dict[str, float]:

@@ -209,6 +209,14 @@ class SkyDial(LayeredCanvas):
     increasing anticlockwise.
     """
 
+    #: the pointer kinds the dial draws (ecliptic longitudes)
+    KINDS = frozenset({"sun", "moon", *ELEMENT_HANDS})
+
+    @classmethod
+    def draws(cls, kind: str) -> bool:
+        """True when the dial draws pointers of this kind (an ecliptic longitude)."""
+        return kind in cls.KINDS or body_of(kind) in PLANET_STYLE
+
     def __init__(self, session: Session, **kwargs):
         super().__init__(**kwargs)
         self.session = session
@@ -688,44 +696,63 @@ class Readings(Static):
                 return text
         return ""
 
+    #: (header, width) per column, narrow and wide; a negative width is left-aligned. Every
+    #: number is written after at least one space, so two never run together: a value wider
+    #: than its column pushes the rest of the row right, and a row too long wraps.
+    NARROW = (("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 7), ("max°", 6),
+              ("°/cy", 8))
+    WIDE = (("pointer", -9), ("train°", 8), ("sky°", 8), ("err°", 8), ("worst°", 8),
+            ("drift °/cy", 11), ("err days", 9))
+
+    @staticmethod
+    def drift_text(d: float | None) -> str:
+        """Mean drift in fixed notation: two decimals, or four when smaller than 0.01°/cy
+        (a drift under 0.00005°/cy shows as ±0.0000)."""
+        if d is None:
+            return ""
+        return f"{d:+.2f}" if abs(d) >= 0.01 else f"{d:+.4f}"
+
     def show(self, now: Now) -> None:
         self._now = now
         narrow = bool(self.size.width) and self.size.width < 61  # the wide columns need 61
-        # (header, width) per column; plain fixed-width text is cheaper than a table per frame
-        cols = ((("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 6), ("max°", 5),
-                 ("°/cy", 6)) if narrow else
-                (("pointer", -9), ("train°", 8), ("sky°", 8), ("err°", 8), ("worst°", 8),
-                 ("drift °/cy", 11), ("err days", 9)))
-        t = Text(no_wrap=True, overflow="crop")
-        for head, w in cols:
-            t.append(f"{head:<{-w}}" if w < 0 else f"{head:>{w}}", style="bold #9aa5b1")
+        cols = self.NARROW if narrow else self.WIDE
+        w = [c[1] for c in cols]
+        t = Text(no_wrap=False, overflow="fold")
+
+        def cell(text: str, width: int, style: str = "") -> None:
+            t.append(" " + text.rjust(width - 1), style=style)
+
+        t.append(f"{cols[0][0]:<{-w[0]}}", style="bold #9aa5b1")
+        for head, width in cols[1:]:
+            cell(head, width, "bold #9aa5b1")
         deg = "{:.1f}" if narrow else "{:.2f}"
         for p in now.pointers.values():
             t.append("\n")
-            d = p.drift_deg_per_century
-            if d is None:
-                drift = ""
-            elif narrow:
-                drift = f"{d:+.2f}" if abs(d) >= 0.005 else f"{d:+.0e}".replace("e-0", "e-")
-            else:
-                drift = f"{d:+.2f}" if abs(d) >= 0.01 else f"{d:+.4f}"
-            w = [c[1] for c in cols]
-            t.append(f"{p.name[: -w[0]]:<{-w[0]}}")
-            t.append(f"{deg.format(p.train_deg):>{w[1]}}{deg.format(p.sky_deg):>{w[2]}}")
+            name = p.name if len(p.name) <= -w[0] else p.name[: -w[0] - 1] + "…"
+            t.append(f"{name:<{-w[0]}}")
+            cell(deg.format(p.train_deg), w[1])
+            cell(deg.format(p.sky_deg), w[2])
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
-            t.append(f"{err:>+{w[3]}.2f}", style=_err_style(err))
-            t.append(f"{p.worst_deg:>{w[4]}.2f}", style=_err_style(p.worst_deg))
-            t.append(f"{drift:>{w[5]}}")
+            cell(f"{err:+.2f}", w[3], _err_style(err))
+            cell(f"{p.worst_deg:.2f}", w[4], _err_style(p.worst_deg))
+            cell(self.drift_text(p.drift_deg_per_century), w[5])
             if not narrow:
                 days = p.error_days
                 if days is not None and abs(days) < 0.005:
                     days = 0.0
-                t.append("" if days is None else f"{days:>+{w[6]}.2f}")
-        # same rows every frame: lay out again only after a resize
+                cell("" if days is None else f"{days:+.2f}", w[6])
+        # same rows every frame: lay out again only after a resize, or when a row starts or
+        # stops wrapping (a value grew wider than its column)
         if not self._laid_out and self.parent is not None and self.size.width:
             self.parent.border_subtitle = self.worst_key(narrow, self.parent.size.width)
-        self.update(t, layout=not self._laid_out)
+        width = max(self.size.width, 1)
+        lines = sum(-(-max(len(line), 1) // width) for line in t.plain.split("\n"))
+        relayout = not self._laid_out or lines != self._lines
+        self._lines = lines
+        self.update(t, layout=relayout)
         self._laid_out = bool(self.size.width)
+
+    _lines = 0
 
 
 class Status(Static):
