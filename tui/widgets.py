@@ -4,6 +4,7 @@ astronomy or kinematics."""
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 from rich.segment import Segment
@@ -552,6 +553,7 @@ def _shade(t: float) -> str:
     return f"#{r:02x}{g:02x}{b:02x}"
 
 
+@lru_cache(maxsize=512)
 def _disc_cells(lit_fraction: float, waxing: bool, rows: int) -> list[list[tuple[str, str | None,
                                                                               str | None]]]:
     """A shaded disc ``rows`` cells tall and ``2 * rows`` wide in half-block cells (two picture
@@ -637,9 +639,12 @@ class PhaseDiscs(Widget):
         if key == self._key:
             return
         self._key = key
-        left = (_disc_cells(lit_train, e_train < 180.0, rows) if lit_train is not None
+        # lit fractions to 1/400 (the key above): the shading has 16 levels, and repeated
+        # states come from the cache
+        left = (_disc_cells(round(lit_train * 400) / 400, e_train < 180.0, rows)
+                if lit_train is not None
                 else [[(" ", None, None)] * (rows * 2)] * rows)
-        right = _disc_cells(lit_sky, e_sky < 180.0, rows)
+        right = _disc_cells(round(lit_sky * 400) / 400, e_sky < 180.0, rows)
         pad = (width - rows * 2) // 2
         plain = self._style(None, None)
         strips = []
@@ -656,8 +661,17 @@ class PhaseDiscs(Widget):
                          (f"{t1:^{width}.{width}}   {t2:^{width}.{width}}", plain),
                          (f"{'':^{width}}   {name:^{width}.{width}}", dim)):
             strips.append(Strip([Segment(text, st)]))
-        self._strips = strips
-        self.refresh()
+        old, self._strips = self._strips, strips
+        # repaint only the rows that changed (the true Moon's disc often stays as it was)
+        if len(old) != len(strips) or not self.size.width:
+            self.refresh()
+            return
+        width = self.size.width
+        changed = [Region(0, y, width, 1) for y, (a, b) in enumerate(zip(old, strips,
+                                                                         strict=True))
+                   if a.text != b.text or list(a) != list(b)]
+        if changed:
+            self.refresh(*changed)
 
     def render_line(self, y: int) -> Strip:
         if y < len(self._strips):
