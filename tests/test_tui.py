@@ -1155,3 +1155,56 @@ async def test_a_phase_only_train_shows_its_phase_discs_where_the_dial_would_be(
         assert any("▀" in line or "▄" in line for line in lines)
         assert any("true Moon" in line for line in lines)
         assert "phase" in str(app.screen.query_one("#dial-pane").border_title)
+
+
+def _contrast(a, b) -> float:
+    """WCAG contrast ratio of two textual Colors (common practice, no source)."""
+    def lum(c):
+        def ch(v):
+            v = v / 255
+            return v / 12.92 if v <= 0.03928 else ((v + 0.055) / 1.055) ** 2.4
+        return 0.2126 * ch(c.r) + 0.7152 * ch(c.g) + 0.0722 * ch(c.b)
+    hi, lo = sorted((lum(a), lum(b)), reverse=True)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+@pytest.mark.parametrize("theme", ["textual-light", "textual-dark", "solarized-light"])
+@sync
+async def test_readings_stand_out_in_light_and_dark_themes(theme):
+    from textual.color import Color
+
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        app.theme = theme
+        await pilot.pause()
+        await pilot.press("right_square_bracket")
+        await pilot.pause()
+        screen_bg = app.screen.styles.background
+        assert screen_bg.hex == Color.parse(app.theme_variables["background"]).hex
+        fg = Color.parse(app.theme_variables["foreground"])
+        assert _contrast(fg, screen_bg) >= 4.5
+        for widget in (app.screen.query_one(Readings), app.screen.query_one(Status)):
+            content = widget.content
+            for span in content.spans:
+                style = span.style if not isinstance(span.style, str) else None
+                colour = str(span.style).replace("bold", "").replace("italic", "").strip()
+                if style is None and colour.startswith("#"):
+                    assert _contrast(Color.parse(colour), screen_bg) >= 3.0, (theme, colour)
+
+
+def test_snapshot_main_light_theme(snap_compare):
+    async def run_before(pilot):
+        pilot.app.theme = "textual-light"
+        await pilot.pause()
+
+    assert snap_compare(_app_at("2026-03-20 12:00"), terminal_size=(100, 30),
+                        run_before=run_before)
+
+
+def test_snapshot_main_dark_theme(snap_compare):
+    async def run_before(pilot):
+        pilot.app.theme = "textual-dark"
+        await pilot.pause()
+
+    assert snap_compare(_app_at("2026-03-20 12:00"), terminal_size=(100, 30),
+                        run_before=run_before)

@@ -179,7 +179,7 @@ class BenchScreen(Screen):
     def compose(self) -> ComposeResult:
         s = self.session
         train = s.mech.train
-        yield Static(Text.assemble(("wheelwork ", "bold #e5c07b"), (train.name, "bold"),
+        yield Static(Text.assemble(("wheelwork ", "bold"), (train.name, "bold"),
                                    (f"  {Path(train.source).name}", "dim"),
                                    ("   ", ""), ("? help · ctrl+p every key", "dim")),
                      id="title")
@@ -236,7 +236,14 @@ class BenchScreen(Screen):
         self.query_one("#train").border_title = "train"
         self.query_one("#train").border_subtitle = TRAIN_KEY
         self.query_one(Findings).show_findings(self.session.findings)
+        self.app.theme_changed_signal.subscribe(self, self._theme_changed)
         self.refresh_view()
+
+    def _theme_changed(self, _theme) -> None:
+        """Text styles come from the theme: draw the text panels again in the new one."""
+        self.query_one(Findings).show_findings(self.session.findings)
+        if self.is_attached and self.children:
+            self.refresh_view()
 
     # --- drawing -------------------------------------------------------------------------
     def refresh_view(self) -> None:

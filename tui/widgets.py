@@ -83,6 +83,29 @@ DRAWN = (WHEEL_CRANK, WHEEL_HAND, WHEEL, LABEL)  # what a turn count must not co
 CAUTION = "⚠ Never look at the Sun without a proper solar filter."
 
 
+def ui(widget: Widget) -> dict[str, str]:
+    """Text colours for rich styles, from the app's current theme (so a light theme gets dark
+    text): ``accent``, ``ok``, ``warn``, ``bad``, ``muted`` (four fifths of the way from the
+    background to the foreground) and ``fg``."""
+    v = widget.app.theme_variables
+    key = (v.get("foreground"), v.get("background"))
+    cached = _UI_CACHE.get(key)
+    if cached is None:
+        from textual.color import Color
+
+        fg = Color.parse(v.get("foreground", "#e0e0e0"))
+        bg = Color.parse(v.get("background", "#121212"))
+        cached = {"accent": v.get("text-accent", "#ffc473"),
+                  "ok": v.get("text-success", "#8ad4a1"),
+                  "warn": v.get("text-warning", "#ffc473"),
+                  "bad": v.get("text-error", "#d17e92"),
+                  "muted": bg.blend(fg, 0.8).hex, "fg": fg.hex}
+        _UI_CACHE[key] = cached
+    return cached
+
+
+_UI_CACHE: dict[tuple, dict[str, str]] = {}
+
 # braille dot bits by (row 0-3, column 0-1) inside a cell
 _BRAILLE_BITS = ((0x01, 0x08), (0x02, 0x10), (0x04, 0x20), (0x40, 0x80))
 
@@ -679,9 +702,9 @@ class PhaseDiscs(Widget):
         return Strip.blank(self.size.width, self.rich_style)
 
 
-def _err_style(err: float) -> str:
+def _err_style(err: float, colours: dict[str, str]) -> str:
     a = abs(err)
-    return "green" if a < 1.0 else ("yellow" if a < 5.0 else "bold red")
+    return colours["ok"] if a < 1.0 else (colours["warn"] if a < 5.0 else f"bold {colours['bad']}")
 
 
 class Readings(Static):
@@ -731,14 +754,16 @@ class Readings(Static):
         narrow = bool(self.size.width) and self.size.width < 61  # the wide columns need 61
         cols = self.NARROW if narrow else self.WIDE
         w = [c[1] for c in cols]
+        colours = ui(self)
+        head = f"bold {colours['muted']}"
         t = Text(no_wrap=False, overflow="fold")
 
         def cell(text: str, width: int, style: str = "") -> None:
             t.append(" " + text.rjust(width - 1), style=style)
 
-        t.append(f"{cols[0][0]:<{-w[0]}}", style="bold #9aa5b1")
-        for head, width in cols[1:]:
-            cell(head, width, "bold #9aa5b1")
+        t.append(f"{cols[0][0]:<{-w[0]}}", style=head)
+        for title, width in cols[1:]:
+            cell(title, width, head)
         deg = "{:.1f}" if narrow else "{:.2f}"
         for p in now.pointers.values():
             t.append("\n")
@@ -747,8 +772,8 @@ class Readings(Static):
             cell(deg.format(p.train_deg), w[1])
             cell(deg.format(p.sky_deg), w[2])
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
-            cell(f"{err:+.2f}", w[3], _err_style(err))
-            cell(f"{p.worst_deg:.2f}", w[4], _err_style(p.worst_deg))
+            cell(f"{err:+.2f}", w[3], _err_style(err, colours))
+            cell(f"{p.worst_deg:.2f}", w[4], _err_style(p.worst_deg, colours))
             cell(self.drift_text(p.drift_deg_per_century), w[5])
             if not narrow:
                 days = p.error_days
@@ -801,9 +826,11 @@ class Status(Static):
         if self.size.width and 9 + len(turns) + len(step) > self.size.width:
             turns = f"{now.turns_text} turns  "  # keep the step on the line
         t.append(turns)
-        t.append(f"{step}\n", style="#e5c07b")
+        colours = ui(self)
+        t.append(f"{step}\n", style=colours["accent"])
         t.append("run      ", style="dim")
-        t.append("▶ running" if running else "■ paused", style="bold green" if running else "")
+        t.append("▶ running" if running else "■ paused",
+                 style=f"bold {colours['ok']}" if running else "")
         t.append(f"  {s.speed_turns_per_s:g} turns/s\n")
         t.append("ΔT       ", style="dim")
         sigma = now.delta_t_sigma_s
@@ -868,14 +895,18 @@ class Findings(Static):
         t = Text()
         if not items:
             t.append("no warnings or notes from the engine", style="dim")
+        colours = ui(self)
+        themed = {"error": f"bold {colours['bad']}", "warning": f"bold {colours['warn']}",
+                  "note": colours["muted"]}
         for level, item, message, fix in self.ordered(items):
             tag, style = self.LEVELS.get(level, (f"· {level}", ""))
+            style = themed.get(level, style)
             t.append(f"{tag} ", style=style)
             if item:
                 t.append(f"{item}: ", style="bold")
             t.append(message)
             if fix:
-                t.append(f" → {fix}", style="italic #98c379")
+                t.append(f" → {fix}", style=f"italic {colours['ok']}")
             t.append("\n")
         self.update(t)
 
