@@ -1155,6 +1155,9 @@ async def test_a_phase_only_train_shows_its_phase_discs_where_the_dial_would_be(
         assert any("▀" in line or "▄" in line for line in lines)
         assert any("true Moon" in line for line in lines)
         assert "phase" in str(app.screen.query_one("#dial-pane").border_title)
+        # both captions whole, however narrow the pane: elongation and lit share
+        caption = next(line for line in lines if "°" in line)
+        assert caption.count("%") == 2 and caption.count("°") == 2, caption
 
 
 def _contrast(a, b) -> float:

@@ -602,6 +602,16 @@ def _disc_cells(lit_fraction: float, waxing: bool, rows: int) -> list[list[tuple
     return out
 
 
+def _disc_caption(elongation_deg: float, lit: float, width: int) -> str:
+    """Elongation and lit share under a disc, in the longest form that fits ``width`` (a
+    figure is never cut: the forms drop words, not digits)."""
+    e, pc = f"{elongation_deg:.1f}°", f"{lit * 100:.0f}%"
+    for form in (f"E {e:>6}  lit {pc:>4}", f"E {e} lit {pc}", f"{e} {pc}"):
+        if len(form) <= width:
+            return form
+    return f"{e} {pc}"
+
+
 class PhaseDiscs(Widget):
     """The train's phase display beside the true Moon, each a shaded disc with its elongation
     and lit fraction. Drawn line by line; rebuilt only when what it shows changes."""
@@ -651,10 +661,10 @@ class PhaseDiscs(Widget):
         lit_sky = _scalar(now.sky.illuminated)
         if e_train is not None:
             lit_train = ball_lit_fraction(e_train)
-            t1 = f"E {e_train:5.1f}°  lit {lit_train * 100:3.0f}%"
+            t1 = _disc_caption(e_train, lit_train, width)
         else:
             lit_train, t1 = None, "no phase display"
-        t2 = f"E {e_sky:5.1f}°  lit {lit_sky * 100:3.0f}%"
+        t2 = _disc_caption(e_sky, lit_sky, width)
         name = now.sky.phase_names()[0]
         key = (width, rows, None if lit_train is None else round(lit_train * 400),
                e_train is not None and e_train < 180.0, round(lit_sky * 400), e_sky < 180.0,
