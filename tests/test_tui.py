@@ -1171,6 +1171,19 @@ def _contrast(a, b) -> float:
     return (hi + 0.05) / (lo + 0.05)
 
 
+@sync
+async def test_an_ansi_theme_draws_in_terminal_colours():
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        app.theme = "ansi-dark"
+        await pilot.pause()
+        await pilot.press("right_square_bracket")
+        await pilot.pause()
+        app.save_screenshot("ansi-theme-check.svg", str(Path(__file__).parent))  # renders
+        Path(__file__).with_name("ansi-theme-check.svg").unlink()
+        assert isinstance(app.screen, BenchScreen)
+
+
 @pytest.mark.parametrize("theme", ["textual-light", "textual-dark", "solarized-light"])
 @sync
 async def test_readings_stand_out_in_light_and_dark_themes(theme):

@@ -93,13 +93,21 @@ def ui(widget: Widget) -> dict[str, str]:
     if cached is None:
         from textual.color import Color
 
-        fg = Color.parse(v.get("foreground", "#e0e0e0"))
-        bg = Color.parse(v.get("background", "#121212"))
-        cached = {"accent": v.get("text-accent", "#ffc473"),
-                  "ok": v.get("text-success", "#8ad4a1"),
-                  "warn": v.get("text-warning", "#ffc473"),
-                  "bad": v.get("text-error", "#d17e92"),
-                  "muted": bg.blend(fg, 0.8).hex, "fg": fg.hex}
+        def plain(name: str, default: str) -> str:
+            # an ANSI theme names terminal colours ("ansi_red"): rich calls them "red"
+            c = v.get(name, default)
+            return c[5:] if c.startswith("ansi_") else c
+
+        fg, bg = v.get("foreground", "#e0e0e0"), v.get("background", "#121212")
+        if fg.startswith("ansi_") or bg.startswith("ansi_"):
+            muted = "default"
+        else:
+            muted = Color.parse(bg).blend(Color.parse(fg), 0.8).hex
+        cached = {"accent": plain("text-accent", "#ffc473"),
+                  "ok": plain("text-success", "#8ad4a1"),
+                  "warn": plain("text-warning", "#ffc473"),
+                  "bad": plain("text-error", "#d17e92"),
+                  "muted": muted, "fg": plain("foreground", "#e0e0e0")}
         _UI_CACHE[key] = cached
     return cached
 
