@@ -359,6 +359,9 @@ class SkyDial(LayeredCanvas):
     def draw_moving(self, now: Now) -> None:
         cx, cy, r = self._geom
         self._arcs(now, r)
+        for k in range(12):  # the sign names stay readable over the arcs
+            x, y, name = self._sign_cells(r, k)
+            self.put(x, y, name, SIGN_TEXT)
         ptrs = now.pointers
         by_kind = {}
         for p in ptrs.values():
