@@ -39,7 +39,6 @@ from . import support
 from .support import SUN_CAUTION
 
 MAX_THRESHOLD_DAYS = 14.75  # half a synodic month: a phase is never further off than that
-MAX_YEARS = 100_000  # beyond any ephemeris; the span check says what the ephemeris covers
 CHARTS_HINT = ("--png needs matplotlib: pip install 'wheelwork[charts]' "
                "(or pip install matplotlib)")
 CHART_FORMATS = (".png", ".svg", ".pdf")
@@ -69,14 +68,7 @@ def _chart_name(text: str) -> str:
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
-    span = parser.add_argument_group("span")
-    span.add_argument("--from", dest="start", metavar="DATE", type=support.date,
-                      help="first date (default: the train's epoch)")
-    end = span.add_mutually_exclusive_group(required=True)
-    end.add_argument("--to", dest="end", metavar="DATE", type=support.date,
-                     help="last date: the run goes on to the first step at or after it")
-    end.add_argument("--years", type=support.positive("years", MAX_YEARS), metavar="N",
-                     help="span length in years of 365.25 d")
+    span = support.add_span(parser, "last date: the run goes on to the first step at or after it")
     span.add_argument("--step", default="1d", metavar="STEP", type=_step,
                       help="time between dates: 30m, 6h, 1d, 2.5d, 1y... (default 1d)")
     cmp_ = parser.add_argument_group("comparison")

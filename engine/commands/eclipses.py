@@ -28,7 +28,6 @@ from . import support
 from .drift import _CtrlC, date_heading
 from .support import SUN_CAUTION
 
-MAX_YEARS = 100_000
 PROGRESS_MIN_DAYS = 30 * JULIAN_YEAR_DAYS  # shorter spans finish before a bar is worth drawing
 STOPPED = "wheelwork: eclipses stopped; no file written"
 ECLIPSE_CAUTION = f"{SUN_CAUTION} That holds during an eclipse too, however much is covered."
@@ -36,13 +35,7 @@ ECLIPSE_CAUTION = f"{SUN_CAUTION} That holds during an eclipse too, however much
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
-    span = parser.add_argument_group("span")
-    span.add_argument("--from", dest="start", metavar="DATE", type=support.date,
-                      help="first date (default: the train's epoch)")
-    end = span.add_mutually_exclusive_group(required=True)
-    end.add_argument("--to", dest="end", metavar="DATE", type=support.date, help="last date")
-    end.add_argument("--years", type=support.positive("years", MAX_YEARS), metavar="N",
-                     help="span length in years of 365.25 d")
+    support.add_span(parser)
     how = parser.add_argument_group("prediction")
     how.add_argument("--by", choices=METHODS,
                      help="predict by the pointers (node hand, draconic or eclipse-year dial) "

@@ -175,6 +175,24 @@ def train_file(text: str) -> str:
     return str(found) if found is not None else text
 
 
+MAX_YEARS = 100_000  # beyond any ephemeris; the span check says what the ephemeris covers
+
+
+def add_span(parser: argparse.ArgumentParser,
+             to_help: str = "last date") -> argparse._ArgumentGroup:
+    """The span of a run over dates: ``--from`` (default: the train's epoch) and one of
+    ``--to`` or ``--years``, in a group "span" the caller may add to (``args.start``,
+    ``args.end``, ``args.years``)."""
+    span = parser.add_argument_group("span")
+    span.add_argument("--from", dest="start", metavar="DATE", type=date,
+                      help="first date (default: the train's epoch)")
+    end = span.add_mutually_exclusive_group(required=True)
+    end.add_argument("--to", dest="end", metavar="DATE", type=date, help=to_help)
+    end.add_argument("--years", type=positive("years", MAX_YEARS), metavar="N",
+                     help="span length in years of 365.25 d")
+    return span
+
+
 def add_train(parser: argparse.ArgumentParser, optional: bool = False) -> None:
     from ..demos import DEFAULT_DEMO
 
