@@ -1,0 +1,267 @@
+"""Changing a train while it is on the bench: tooth counts, pin-and-slot lengths, the crank.
+
+A :class:`TrainEditor` holds the train's TOML text as the file has it. An edit changes one
+value in that text with tomlkit (so comments, blank lines and layout stay as the user wrote
+them), then reads the result with the loader and solves and sets it: the loader and the solver
+are the only judges, so a bad edit (zero teeth, text where a number belongs, a train that now
+locks, a value out of range) is refused with their own one-line error, and the train stays as
+it was. Every accepted edit can be undone and redone; :attr:`TrainEditor.differs` says whether
+the train now differs from its file; :meth:`TrainEditor.save` writes it whole or not at all.
+
+Values are given as the user typed them (text) or as numbers::
+
+    ed = TrainEditor.open(path, sky)
+    ed.set_teeth("sun_w1", "60")          # -> the new Mechanism; TrainError if refused
+    ed.compare()                           # per pointer: ratio, period error, drift, before/after
+    ed.save("tide_office_60.toml")         # a new name; replace=True to write over a file
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from pathlib import Path
+
+import tomlkit
+from tomlkit.exceptions import TOMLKitError
+
+from .errors import OutputError, TrainError
+from .loader import MAX_FILE_BYTES, _regular_file_bytes, parse_train, safe_text
+from .mechanism import Mechanism, build
+from .ratios import PointerRatio, pointer_ratios
+
+#: the keys of a pin-and-slot stage an edit may change
+PIN_SLOT_KEYS = ("offset_mm", "pin_radius_mm")
+
+_INT = re.compile(r"^[+-]?\d+$")
+_FLOAT = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$")
+
+
+def _value(text: str | int | float | Fraction, fraction_ok: bool = False):
+    """What the user typed, as the TOML value it would be in a file: a whole number, a
+    decimal, a fraction text ``p/q`` (where the key takes one) or, failing those, the text
+    itself (which the loader then refuses in its own words)."""
+    if isinstance(text, bool):
+        return text
+    if isinstance(text, int | float):
+        return text
+    if isinstance(text, Fraction):
+        return int(text) if text.denominator == 1 else f"{text.numerator}/{text.denominator}"
+    t = str(text).strip().replace("_", "")
+    if _INT.match(t) and len(t) <= 30:
+        return int(t)
+    if _FLOAT.match(t):
+        return float(t)
+    if fraction_ok and "/" in t:
+        return t
+    return str(text)
+
+
+@dataclass(frozen=True)
+class Change:
+    """One accepted edit: what it changed, from what to what (as the file writes them)."""
+
+    item: str
+    before: object
+    after: object
+
+    def text(self) -> str:
+        return f"{self.item}: {self.before} → {self.after}"
+
+
+@dataclass(frozen=True)
+class Compared:
+    """One pointer's ratio row before (the train as in its file) and now."""
+
+    pointer: str
+    before: PointerRatio | None  # None: the pointer is new
+    after: PointerRatio
+
+
+@dataclass
+class _State:
+    text: str
+    mech: Mechanism
+    change: Change | None
+
+
+class TrainEditor:
+    """A train with its file text, edited value by value; see the module's description."""
+
+    def __init__(self, text: str, where: str | Path, sky=None, *, path: Path | None = None):
+        self.sky = sky
+        self.path = None if path is None else Path(path)
+        self.where = safe_text(str(where))
+        mech = build(parse_train(text, self.where), sky)
+        try:
+            tomlkit.parse(text)
+        except TOMLKitError as exc:  # tomllib read it; tomlkit must too, to write it back
+            raise TrainError(self.where, "", f"cannot be edited here: {exc}") from None
+        self._state = _State(text, mech, None)
+        self._undo: list[_State] = []
+        self._redo: list[_State] = []
+        self.saved_text = text
+        self._baseline = mech
+
+    @classmethod
+    def open(cls, path: str | Path, sky=None) -> TrainEditor:
+        """Read a train file (the loader's checks and errors) ready to edit."""
+        path = Path(path)
+        where = safe_text(str(path))
+        raw = _regular_file_bytes(path, where)
+        try:
+            text = raw.decode("utf-8")
+        except UnicodeDecodeError as exc:
+            raise TrainError(where, "", f"is not a UTF-8 text file (byte {exc.start} cannot "
+                             "be read as UTF-8)") from None
+        return cls(text, where, sky, path=path)
+
+    # --- what is on the bench ------------------------------------------------------------
+    @property
+    def mech(self) -> Mechanism:
+        return self._state.mech
+
+    @property
+    def text(self) -> str:
+        return self._state.text
+
+    @property
+    def differs(self) -> bool:
+        """True when the train differs from its file (as last opened or saved)."""
+        return self._state.text != self.saved_text
+
+    @property
+    def can_undo(self) -> bool:
+        return bool(self._undo)
+
+    @property
+    def can_redo(self) -> bool:
+        return bool(self._redo)
+
+    @property
+    def last_change(self) -> Change | None:
+        return self._state.change
+
+    def wheels(self) -> list[tuple[str, str, int]]:
+        """``(wheel, arbor, teeth)`` for every wheel and pinion, in file order."""
+        return [(w.name, w.arbor, w.teeth) for w in self.mech.train.wheels.values()]
+
+    def pin_slots(self) -> list[tuple[str, float, float]]:
+        """``(name, offset_mm, pin_radius_mm)`` of every pin-and-slot stage."""
+        return [(p.name, p.offset_mm, p.pin_radius_mm)
+                for p in self.mech.train.pin_slots.values()]
+
+    # --- edits -----------------------------------------------------------------------------
+    def set_teeth(self, wheel: str, teeth) -> Mechanism:
+        """Give ``wheel`` (a wheel or pinion's name) ``teeth`` teeth or leaves."""
+        train = self.mech.train
+        if wheel not in train.wheels:
+            raise TrainError(self.where, f"wheel '{safe_text(wheel)}'", "no such wheel or pinion "
+                             "in this train")
+        arbor = train.wheels[wheel].arbor
+        return self._apply(("arbors", arbor, "wheels", wheel), _value(teeth),
+                           f"[arbors.{arbor}] wheel '{wheel}'")
+
+    def set_pin_slot(self, name: str, key: str, value) -> Mechanism:
+        """Change a pin-and-slot stage's ``offset_mm`` or ``pin_radius_mm``."""
+        if name not in self.mech.train.pin_slots:
+            raise TrainError(self.where, f"[pin_slots.{safe_text(name)}]",
+                             "no such pin-and-slot stage in this train")
+        if key not in PIN_SLOT_KEYS:
+            raise TrainError(self.where, f"[pin_slots.{name}] {safe_text(key)}",
+                             f"only {' and '.join(PIN_SLOT_KEYS)} can be changed here")
+        return self._apply(("pin_slots", name, key), _value(value), f"[pin_slots.{name}] {key}")
+
+    def set_days_per_turn(self, value) -> Mechanism:
+        """Change how many days one crank turn stands for (a number or ``p/q``)."""
+        return self._apply(("crank", "days_per_turn"), _value(value, fraction_ok=True),
+                           "[crank] days_per_turn")
+
+    def _apply(self, keys: tuple[str, ...], value, item: str) -> Mechanism:
+        doc = tomlkit.parse(self.text)
+        table = doc
+        for k in keys[:-1]:
+            table = table[k]
+        before = table.get(keys[-1])
+        before = before.unwrap() if hasattr(before, "unwrap") else before
+        if before == value and type(before) is type(value):
+            return self.mech
+        table[keys[-1]] = value
+        text = tomlkit.dumps(doc)
+        if len(text) > MAX_FILE_BYTES:
+            raise TrainError(self.where, item, "the file would grow past the loader's limit")
+        mech = build(parse_train(text, self.where), self.sky)  # refuses: nothing changes
+        self._undo.append(self._state)
+        self._redo.clear()
+        self._state = _State(text, mech, Change(item, before, value))
+        return mech
+
+    def undo(self) -> Change | None:
+        """Go back one edit; returns the edit undone (None when there was none)."""
+        if not self._undo:
+            return None
+        undone = self._state.change
+        self._redo.append(self._state)
+        self._state = self._undo.pop()
+        return undone
+
+    def redo(self) -> Change | None:
+        """Make again the last edit undone; returns it (None when there was none)."""
+        if not self._redo:
+            return None
+        self._undo.append(self._state)
+        self._state = self._redo.pop()
+        return self._state.change
+
+    # --- before and after ------------------------------------------------------------------
+    def compare(self, frame: str | None = None) -> list[Compared]:
+        """Per pointer: the ratio row of the train as in its file, and as it is now."""
+        before = {r.pointer: r for r in pointer_ratios(self._baseline, frame=frame)}
+        return [Compared(r.pointer, before.get(r.pointer), r)
+                for r in pointer_ratios(self.mech, frame=frame)]
+
+    # --- saving ----------------------------------------------------------------------------
+    def suggested_name(self) -> Path:
+        """A new file name beside the opened one (``NAME-edited.toml``, then ``-2``...)."""
+        base = self.path if self.path is not None else Path(f"{Path(self.where).stem}.toml")
+        if not base.is_absolute():
+            base = Path.cwd() / base
+        folder = base.parent if os.access(base.parent, os.W_OK) else Path.cwd()
+        stem = base.stem.removesuffix("-edited")
+        stem = re.sub(r"-edited-\d+$", "", stem)
+        candidate = folder / f"{stem}-edited.toml"
+        n = 2
+        while candidate.exists():
+            candidate = folder / f"{stem}-edited-{n}.toml"
+            n += 1
+        return candidate
+
+    def is_opened_file(self, path: str | Path) -> bool:
+        """Whether ``path`` is the file this train was opened from (or last saved to)."""
+        if self.path is None:
+            return False
+        try:
+            return os.path.samefile(path, self.path)
+        except OSError:
+            return os.path.abspath(path) == os.path.abspath(self.path)
+
+    def save(self, path: str | Path, *, replace: bool = False) -> Path:
+        """Write the train as it is now to ``path``, whole or not at all (a hidden part file
+        renamed into place). An existing file, the opened one included, is replaced only when
+        ``replace`` is true. Afterwards the train's file is ``path``."""
+        from .commands.support import OutputFile
+
+        path = Path(path).expanduser()
+        if not replace and os.path.lexists(path):
+            what = "is the train's own file" if self.is_opened_file(path) else "exists"
+            raise OutputError(f"{path}: {what}; confirm to replace it")
+        out = OutputFile(path, option="saving the train", force=True)
+        with out.open("w", encoding="utf-8", newline="") as fh:
+            fh.write(self.text)
+        self.path = path
+        self.where = safe_text(str(path))
+        self.saved_text = self.text
+        self._baseline = self.mech
+        return path

@@ -1,0 +1,201 @@
+"""Editing a train on the bench (engine.edit): edits re-solve, bad edits change nothing,
+undo/redo, the "differs from its file" flag, before/after ratio rows, and saving with the
+file's comments and layout kept."""
+
+import shutil
+from fractions import Fraction
+
+import pytest
+
+from engine.demos import demo_path
+from engine.edit import TrainEditor
+from engine.errors import OutputError, TrainError
+from engine.loader import load_train
+from engine.mechanism import build
+from engine.sky import Sky
+
+
+@pytest.fixture(scope="module")
+def sky():
+    return Sky()
+
+
+@pytest.fixture
+def tide(tmp_path):
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    return path
+
+
+def rates(mech):
+    return dict(mech.kin.rates)
+
+
+def test_teeth_edit_resolves_at_once(tide, sky):
+    ed = TrainEditor.open(tide, sky)
+    old = rates(ed.mech)
+    ed.set_teeth("sun_w1", "60")
+    assert ed.mech.train.wheels["sun_w1"].teeth == 60
+    # the sun chain is (10/59)(11/128)(25/133) turn/day in the file's comment; now 10/60
+    ratio = Fraction(old["sun"]) * Fraction(59, 60)
+    assert ed.mech.kin.rates["sun"] == ratio
+    assert ed.mech.kin.rates["moon_first"] == old["moon_first"]  # another chain: untouched
+    assert ed.differs and ed.can_undo and not ed.can_redo
+
+
+@pytest.mark.parametrize("wheel, value, words", [
+    ("sun_w1", "0", "more than zero"),
+    ("sun_w1", "sixty", "whole number"),
+    ("sun_w1", "12.5", "whole number"),
+    ("sun_w1", "99999999", "10,000"),
+    ("nowhere", "12", "no such wheel"),
+])
+def test_bad_teeth_leave_the_train_as_it_was(tide, sky, wheel, value, words):
+    ed = TrainEditor.open(tide, sky)
+    before_text, before_mech = ed.text, ed.mech
+    with pytest.raises(TrainError) as exc:
+        ed.set_teeth(wheel, value)
+    msg = str(exc.value)
+    assert "\n" not in msg and words in msg and str(tide) in msg
+    assert ed.text == before_text and ed.mech is before_mech
+    assert not ed.differs and not ed.can_undo
+
+
+def test_an_edit_that_locks_the_train_is_refused(tmp_path, sky):
+    # two parallel paths from one arbor to another; changing one mesh makes them disagree
+    path = tmp_path / "loop.toml"
+    path.write_text("""
+[crank]
+arbor = "a"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+set = "angles"
+[arbors.a]
+wheels = { a1 = 10, a2 = 20 }
+[arbors.b]
+wheels = { b1 = 30, b2 = 60 }
+[[meshes]]
+wheels = ["a1", "b1"]
+[[meshes]]
+wheels = ["a2", "b2"]
+[pointers.sun]
+shows = "sun"
+arbor = "b"
+set_deg = 0
+""")
+    ed = TrainEditor.open(path, sky)
+    with pytest.raises(TrainError) as exc:
+        ed.set_teeth("b2", "61")
+    assert "\n" not in str(exc.value)
+    assert ed.mech.train.wheels["b2"].teeth == 60 and not ed.differs
+    ed.set_teeth("b2", "60")  # the same value: no edit at all
+    assert not ed.can_undo
+
+
+def test_pin_slot_and_crank_edits(tide, sky):
+    ed = TrainEditor.open(tide, sky)
+    ed.set_pin_slot("anomaly", "offset_mm", "1.1")
+    assert ed.mech.train.pin_slots["anomaly"].offset_mm == 1.1
+    ed.set_days_per_turn("1/2")
+    assert ed.mech.train.crank.days_per_turn == Fraction(1, 2)
+    with pytest.raises(TrainError, match="pin radius"):
+        ed.set_pin_slot("anomaly", "offset_mm", "9.5")  # the pin would not go round
+    with pytest.raises(TrainError, match="days_per_turn"):
+        ed.set_days_per_turn("0")
+    with pytest.raises(TrainError, match="days_per_turn"):
+        ed.set_days_per_turn("ten")
+    with pytest.raises(TrainError, match="days_per_turn"):
+        ed.set_days_per_turn("1e9")  # past the loader's bound
+    with pytest.raises(TrainError, match="only offset_mm and pin_radius_mm"):
+        ed.set_pin_slot("anomaly", "pin", "x")
+    assert ed.mech.train.pin_slots["anomaly"].offset_mm == 1.1
+
+
+def test_undo_redo_and_differs(tide, sky):
+    ed = TrainEditor.open(tide, sky)
+    first = ed.mech
+    ed.set_teeth("sun_w1", 60)
+    second = ed.mech
+    ed.set_teeth("moon_w1", 27)
+    assert ed.undo().item == "[arbors.moon_first] wheel 'moon_w1'"
+    assert ed.mech is second
+    assert ed.undo().text() == "[arbors.sun_first] wheel 'sun_w1': 59 → 60"
+    assert ed.mech is first and not ed.differs and ed.undo() is None
+    ed.redo()
+    assert ed.mech is second and ed.differs
+    ed.set_teeth("sun_w1", 61)  # a new edit forgets what could be redone
+    assert not ed.can_redo and ed.redo() is None
+    ed.set_teeth("sun_w1", 59)  # back to the file's value by hand: no longer differs
+    assert not ed.differs
+
+
+def test_before_after_rows(tide, sky):
+    ed = TrainEditor.open(tide, sky)
+    ed.set_teeth("sun_w1", 60)
+    rows = {c.pointer: c for c in ed.compare()}
+    sun = rows["sun"]
+    assert sun.before.ratio * Fraction(59, 60) == sun.after.ratio
+    # one tooth more on a 59 wheel: the Sun runs 1/60 slow, its period 1/59 longer
+    assert sun.after.period_error_ppm == pytest.approx(
+        ((1 + sun.before.period_error_ppm / 1e6) * 60 / 59 - 1) * 1e6, rel=1e-9)
+    assert sun.after.drift_deg_per_century < sun.before.drift_deg_per_century
+    assert rows["moon"].before.ratio == rows["moon"].after.ratio
+
+
+def test_edit_save_reopen_same_rates(tide, sky, tmp_path):
+    ed = TrainEditor.open(tide, sky)
+    ed.set_teeth("sun_w1", 60)
+    ed.set_pin_slot("anomaly", "pin_radius_mm", 9.5)
+    ed.set_days_per_turn("1/24")
+    target = ed.suggested_name()
+    assert target != tide and target.parent == tide.parent and not target.exists()
+    ed.save(target)
+    assert not ed.differs and ed.path == target
+    again = build(load_train(target), sky)
+    assert again.kin.rates == ed.mech.kin.rates
+    assert again.train.crank.days_per_turn == Fraction(1, 24)
+    assert again.train.pin_slots["anomaly"].pin_radius_mm == 9.5
+    assert load_train(tide).wheels["sun_w1"].teeth == 59  # the opened file is untouched
+
+
+def test_comments_and_blank_lines_survive(tide, sky, tmp_path):
+    original = tide.read_text()
+    ed = TrainEditor.open(tide, sky)
+    ed.set_teeth("sun_w1", 60)
+    ed.set_pin_slot("anomaly", "offset_mm", 1.0)
+    out = tmp_path / "out.toml"
+    ed.save(out)
+    saved = out.read_text()
+    old_lines, new_lines = original.splitlines(), saved.splitlines()
+    assert len(old_lines) == len(new_lines)
+    changed = [(a, b) for a, b in zip(old_lines, new_lines, strict=True) if a != b]
+    assert changed == [
+        ("wheels = { sun_w1 = 59, sun_p2 = 11 }", "wheels = { sun_w1 = 60, sun_p2 = 11 }"),
+        ("offset_mm = 0.985", "offset_mm = 1.0"),
+    ]
+    assert saved.count("#") == original.count("#")
+
+
+def test_save_never_replaces_without_asking(tide, sky, tmp_path):
+    ed = TrainEditor.open(tide, sky)
+    ed.set_teeth("sun_w1", 60)
+    with pytest.raises(OutputError, match="train's own file; confirm"):
+        ed.save(tide)
+    other = tmp_path / "other.toml"
+    other.write_text("keep me")
+    with pytest.raises(OutputError, match="exists; confirm"):
+        ed.save(other)
+    assert other.read_text() == "keep me"
+    assert load_train(tide).wheels["sun_w1"].teeth == 59
+    ed.save(tide, replace=True)
+    assert load_train(tide).wheels["sun_w1"].teeth == 60 and not ed.differs
+    assert not list(tmp_path.glob(".*.part"))
+
+
+def test_save_into_a_missing_folder_writes_nothing(tide, sky, tmp_path):
+    ed = TrainEditor.open(tide, sky)
+    ed.set_teeth("sun_w1", 60)
+    with pytest.raises(OutputError, match="does not exist"):
+        ed.save(tmp_path / "no" / "such.toml")
+    assert ed.differs
