@@ -118,6 +118,15 @@ class TrainEditor:
                              "be read as UTF-8)") from None
         return cls(text, where, sky, path=path)
 
+    @classmethod
+    def new_from(cls, path: str | Path, sky=None) -> TrainEditor:
+        """A new train starting as a copy of ``path`` (a demo): it has no file of its own
+        until saved, so it differs from its file from the start."""
+        ed = cls.open(path, sky)
+        ed.path = None
+        ed.saved_text = ""
+        return ed
+
     # --- what is on the bench ------------------------------------------------------------
     @property
     def mech(self) -> Mechanism:
@@ -224,11 +233,14 @@ class TrainEditor:
 
     # --- saving ----------------------------------------------------------------------------
     def suggested_name(self) -> Path:
-        """A new file name beside the opened one (``NAME-edited.toml``, then ``-2``...)."""
+        """A new file name beside the opened one (``NAME-edited.toml``, then ``-2``...); in
+        the current folder for a bundled demo or a folder that cannot be written."""
         base = self.path if self.path is not None else Path(f"{Path(self.where).stem}.toml")
         if not base.is_absolute():
             base = Path.cwd() / base
-        folder = base.parent if os.access(base.parent, os.W_OK) else Path.cwd()
+        package = Path(__file__).resolve().parent
+        beside = os.access(base.parent, os.W_OK) and package not in base.resolve().parents
+        folder = base.parent if beside else Path.cwd()  # never among the bundled demos
         stem = base.stem.removesuffix("-edited")
         stem = re.sub(r"-edited-\d+$", "", stem)
         candidate = folder / f"{stem}-edited.toml"

@@ -13,9 +13,10 @@ from textual.command import CommandList, CommandPalette
 from textual.screen import Screen
 from textual.widgets import Button, Input, OptionList
 
+from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.loader import load_train
-from engine.mechanism import DEFAULT_TRAIN, build, sky_for
+from engine.mechanism import DEFAULT_TRAIN, sky_for
 from engine.sky import Site
 
 from .screens import BenchScreen, ClosesOnce, key_name, long_help
@@ -155,15 +156,20 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
              ephemeris: str | None = None) -> WheelworkApp:
     """Load the sky and the train (raising :class:`WheelworkError` for bad input) and build
     the app. ``site``: ``"LAT,LON[,H]"`` or a :class:`Site`; None uses a default site."""
-    loaded = load_train(train or DEFAULT_TRAIN)
-    sky = sky_for(loaded, ephemeris)
-    mech = build(loaded, sky)
+    sky = sky_for(load_train(train or DEFAULT_TRAIN), ephemeris)
+    editor = TrainEditor.open(train or DEFAULT_TRAIN, sky)
+    mech = editor.mech
     if site is None:
         where, name = DEFAULT_SITE, DEFAULT_SITE_NAME
     else:
         where = site if isinstance(site, Site) else Site.parse(site)
         name = "site"
-    session = Session(mech, sky, site=where, site_name=name, findings=engine_findings(mech))
+    session = Session(mech, sky, site=where, site_name=name, findings=engine_findings(mech),
+                      editor=editor)
+    if train is not None:
+        from .editing import remember
+
+        remember(Path(train))
     for frame in FRAME_NAMES:  # both frames now, so a frame switch costs no ratio report
         session.drift_per_century(frame)
     return WheelworkApp(session)

@@ -48,6 +48,7 @@ _G100 = Binding.Group("±100")
 _G1000 = Binding.Group("±1000", compact=True)
 _GSTEP = Binding.Group("±step", compact=True)
 _GSPEED = Binding.Group("speed", compact=True)
+_GEDIT = Binding.Group("↶↷", compact=True)
 _GDECADE = Binding.Group("decades", compact=True)
 _GTHRESHOLD = Binding.Group("threshold", compact=True)
 _GECLIPSE = Binding.Group("eclipse", compact=True)
@@ -75,6 +76,11 @@ LONG_HELP = {
     "eclipse(-1)": "jump to the previous real eclipse",
     "predicted": "jump to the next new or full moon the train predicts an eclipse at",
     "help": "help: keys and caution", "app.quit": "quit",
+    "change_train": "change the train: teeth, pin-and-slot lengths, crank days per turn",
+    "undo_edit": "undo the last change to the train",
+    "redo_edit": "make again the last change undone",
+    "save_train": "save the changed train (a new name unless you replace a file)",
+    "open_train": "open another train file, or start a new train from a demo",
     "back": "back to the bench", "cancel": "cancel the drift computation",
     "decades(1)": "one decade more", "decades(-1)": "one decade less",
     "threshold(1)": "raise the threshold", "threshold(-1)": "lower the threshold",
@@ -98,6 +104,8 @@ FOOTER_FROM_WIDTH = {
     "speed(1)": 170, "speed(-1)": 170,
     "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
     "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
+    "change_train": 130, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
+    "open_train": 250,
 }
 #: Shorter footer labels below 100 columns.
 FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
@@ -136,6 +144,11 @@ class BenchScreen(Screen):
         Binding("x", "eclipse(1)", "eclipse▸", group=_GECLIPSE),
         Binding("z", "eclipse(-1)", "◂eclipse", group=_GECLIPSE),
         Binding("p", "predicted", "predicted▸"),
+        Binding("w", "change_train", "edit…"),
+        Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT),
+        Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT),
+        Binding("ctrl+s", "save_train", "save…"),
+        Binding("ctrl+o", "open_train", "open…"),
         Binding("question_mark,f1", "help", "help"),
         Binding("q", "app.quit", "quit"),
     ]
@@ -179,8 +192,10 @@ class BenchScreen(Screen):
     def compose(self) -> ComposeResult:
         s = self.session
         train = s.mech.train
+        from .editing import title_mark
+
         yield Static(Text.assemble(("wheelwork ", "bold"), (train.name, "bold"),
-                                   (f"  {Path(train.source).name}", "dim"),
+                                   (f"  {Path(train.source).name}", "dim"), title_mark(s),
                                    ("   ", ""), ("? help · ctrl+p every key", "dim")),
                      id="title")
         with Horizontal(id="top"):
@@ -244,6 +259,14 @@ class BenchScreen(Screen):
         self.query_one(Findings).show_findings(self.session.findings)
         if self.is_attached and self.children:
             self.refresh_view()
+
+    async def rebuild(self) -> None:
+        """Compose the screen again for the train now on the bench (after a change)."""
+        self._stop()
+        self._layout = train_layout(self.session.mech.train)
+        self._view_list = None
+        await self.recompose()
+        self.on_mount()
 
     # --- drawing -------------------------------------------------------------------------
     def refresh_view(self) -> None:
@@ -323,7 +346,7 @@ class BenchScreen(Screen):
         else:
             self.running = True
             self.session.running = True
-            self.run_worker(self._frames(), group="crank", exclusive=True)
+            self.run_worker(self._frames, group="crank", exclusive=True)
         self.refresh_view()
 
     def action_speed(self, direction: int) -> None:
@@ -378,6 +401,50 @@ class BenchScreen(Screen):
 
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(self.BINDINGS))
+
+    # --- changing the train (tui/editing.py) ----------------------------------------------
+    def action_change_train(self) -> None:
+        from .editing import PartsScreen
+
+        if self.session.editor is not None:
+            self._stop()
+            self.app.push_screen(PartsScreen(self.session))
+
+    async def _edit_step(self, undo: bool) -> None:
+        from .editing import adopt
+
+        ed = self.session.editor
+        change = None if ed is None else (ed.undo() if undo else ed.redo())
+        if change is None:
+            self.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2)
+            return
+        adopt(self.app, ed.mech)
+        await self.rebuild()
+        self.notify(f"{'undone' if undo else 'made again'}: {change.text()}", timeout=3)
+
+    async def action_undo_edit(self) -> None:
+        await self._edit_step(True)
+
+    async def action_redo_edit(self) -> None:
+        await self._edit_step(False)
+
+    def action_save_train(self) -> None:
+        from .editing import SaveDialog, remember
+
+        async def done(path) -> None:
+            if path is not None:
+                remember(path)
+                self.notify(f"saved {path}", timeout=3)
+                await self.rebuild()
+
+        if self.session.editor is not None:
+            self.app.push_screen(SaveDialog(self.session.editor), done)
+
+    def action_open_train(self) -> None:
+        from .editing import OpenScreen
+
+        self._stop()
+        self.app.push_screen(OpenScreen(self.session))
 
 
 class ClosesOnce:

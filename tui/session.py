@@ -171,6 +171,8 @@ class Session:
     _watch: EclipseWatch | None = None
     #: set by the interface while it cranks continuously (the eclipse readout may then wait)
     running: bool = False
+    #: the train's edits and file (an :class:`engine.edit.TrainEditor`), when it can be changed
+    editor: object | None = None
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
@@ -186,6 +188,22 @@ class Session:
             rows = pointer_ratios(self.mech.train, self.mech.kin, frame=frame)
             self.drift_by_frame[frame] = {r.pointer: r.drift_deg_per_century for r in rows}
         return self.drift_by_frame[frame]
+
+    def adopt(self, mech: Mechanism) -> None:
+        """Put a changed (or another) train on the bench, at the date shown now when it can
+        (else at its epoch); its pointers set as its file says. An empty ``frame`` takes the
+        new train's dial."""
+        jd = self.jd_now()
+        self.mech = mech
+        self.frame = self.frame or mech.train.dial
+        self.drift_by_frame = {}
+        self.worst_deg = {}
+        self._undo.clear()
+        try:
+            self.go_to(jd)
+        except WheelworkError:
+            self.turns = Turns.of(0)
+        self._moved = 0.0
 
     # --- what the crank and dials do -------------------------------------------------------
     @property

@@ -1,0 +1,216 @@
+"""Changing the train inside the interface (tui/editing.py), driven by Textual's Pilot: the parts
+screen re-solves at once, refuses bad values in place, undo and redo, the changed marker, the
+save dialog (a new name; replacing the opened file only after a second Enter), opening another
+train or a demo."""
+
+import asyncio
+import functools
+import io
+import shutil
+from fractions import Fraction
+
+from rich.console import Console
+from textual.widgets import DirectoryTree, Input, Label, OptionList
+
+from engine.demos import demo_path
+from engine.loader import load_train
+from tui.app import make_app
+from tui.editing import CHANGED_MARK, OpenScreen, PartsScreen, SaveDialog
+from tui.screens import BenchScreen
+from tui.widgets import Readings
+
+SIZE = (120, 40)
+
+
+def sync(fn):
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        asyncio.run(fn(*args, **kwargs))
+    return wrapper
+
+
+def copy_tide(tmp_path):
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    return path
+
+
+def title_text(app) -> str:
+    return text_of(app.screen.query_one("#title"))
+
+
+async def pick(pilot, app, label_start: str) -> None:
+    ol = app.screen.query_one("#parts-list", OptionList)
+    for i in range(ol.option_count):
+        if str(ol.get_option_at_index(i).prompt).startswith(label_start):
+            ol.highlighted = i
+            await pilot.pause()
+            return
+    raise AssertionError(f"no part {label_start}")
+
+
+async def type_value(pilot, app, value: str) -> None:
+    box = app.screen.query_one("#parts-value", Input)
+    box.value = value
+    box.focus()
+    await pilot.press("enter")
+    await pilot.pause()
+
+
+def text_of(widget) -> str:
+    console = Console(width=300, file=io.StringIO(), record=True)
+    console.print(widget.content)
+    return console.export_text()
+
+
+def readings_text(app) -> str:
+    return text_of(app.screen.query_one(Readings))
+
+
+@sync
+async def test_change_teeth_resolves_and_bad_values_change_nothing(tmp_path):
+    path = copy_tide(tmp_path)
+    app = make_app(path)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("right", "right")  # two days on
+        jd = app.session.jd_now()
+        await pilot.press("w")
+        await pilot.pause()
+        assert isinstance(app.screen, PartsScreen)
+        await pick(pilot, app, "sun_w1")
+        assert app.screen.query_one("#parts-value", Input).value == "59"
+        before_rates = dict(app.session.mech.kin.rates)
+        before_readings = readings_text(app)
+        for bad in ("0", "sixty", "12.5"):
+            await type_value(pilot, app, bad)
+            err = app.screen.query_one("#parts-error", Label)
+            assert err.has_class("-shown") and "sun_w1" in text_of(err)
+            assert app.session.mech.kin.rates == before_rates
+            assert readings_text(app) == before_readings
+        await type_value(pilot, app, "60")
+        assert not app.screen.query_one("#parts-error", Label).has_class("-shown")
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 60
+        assert app.session.mech.kin.rates["sun"] == before_rates["sun"] * Fraction(59, 60)
+        assert abs(app.session.jd_now() - jd) < 1e-6  # the same date stays on the bench
+        assert readings_text(app) != before_readings
+        compare = text_of(app.screen.query_one("#parts-compare"))
+        sun = next(c for c in app.session.editor.compare() if c.pointer == "sun")
+        assert sun.before.ratio != sun.after.ratio
+        assert f"{sun.before.ratio} → {sun.after.ratio}" in compare
+        assert CHANGED_MARK in text_of(app.screen.query_one("#parts-title"))
+        # undo, redo
+        await pilot.press("ctrl+z")
+        await pilot.pause()
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 59
+        assert CHANGED_MARK not in text_of(app.screen.query_one("#parts-title"))
+        await pilot.press("ctrl+y")
+        await pilot.pause()
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 60
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert CHANGED_MARK in title_text(app)
+        await pilot.press("ctrl+z")
+        await pilot.pause()
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 59
+        assert CHANGED_MARK not in title_text(app)
+
+
+@sync
+async def test_pin_slot_and_crank_in_the_parts_screen(tmp_path):
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "anomaly: axis offset")
+        await type_value(pilot, app, "12")  # the pin would no longer go round the slot axis
+        assert "offset_mm" in text_of(app.screen.query_one("#parts-error"))
+        assert app.session.mech.train.pin_slots["anomaly"].offset_mm == 0.985
+        await type_value(pilot, app, "1.2")
+        assert app.session.mech.train.pin_slots["anomaly"].offset_mm == 1.2
+        await pick(pilot, app, "crank")
+        await type_value(pilot, app, "1/2")
+        assert app.session.mech.train.crank.days_per_turn == Fraction(1, 2)
+
+
+@sync
+async def test_save_new_name_then_replace_only_after_asking(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    path = copy_tide(tmp_path)
+    app = make_app(path)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "sun_w1")
+        await type_value(pilot, app, "60")
+        rates = dict(app.session.mech.kin.rates)
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert isinstance(app.screen, SaveDialog)
+        box = app.screen.query_one("#save-input", Input)
+        assert box.value == str(tmp_path / "tide_office-edited.toml")
+        await pilot.press("enter")
+        await pilot.pause()
+        saved = tmp_path / "tide_office-edited.toml"
+        assert isinstance(app.screen, PartsScreen)
+        again = load_train(saved)
+        assert again.wheels["sun_w1"].teeth == 60
+        from engine.kinematics import solve
+        assert solve(again).rates == rates  # round trip: the same rates
+        assert load_train(path).wheels["sun_w1"].teeth == 59
+        assert CHANGED_MARK not in text_of(app.screen.query_one("#parts-title"))
+        # now replace the first file: asked first, written on the second Enter
+        await type_value(pilot, app, "61")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        box = app.screen.query_one("#save-input", Input)
+        box.value = str(path)
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, SaveDialog)
+        assert "press Enter again" in text_of(app.screen.query_one("#save-error"))
+        assert load_train(path).wheels["sun_w1"].teeth == 59
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, PartsScreen)
+        assert load_train(path).wheels["sun_w1"].teeth == 61
+
+
+@sync
+async def test_open_a_file_a_bad_file_and_a_demo(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    other = tmp_path / "moon.toml"
+    shutil.copy(demo_path("moon_disc_59"), other)
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[crank]\narbor = 3\n")
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        assert isinstance(app.screen, OpenScreen)
+        tree = app.screen.query_one(DirectoryTree)
+        tree.post_message(DirectoryTree.FileSelected(tree.root, bad))
+        await pilot.pause()
+        assert isinstance(app.screen, OpenScreen)
+        assert "bad.toml" in text_of(app.screen.query_one("#open-error"))
+        tree.post_message(DirectoryTree.FileSelected(tree.root, other))
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.mech.train.name == load_train(other).name
+        assert "moon.toml" in title_text(app)
+        # a new train from a demo: differs from the start (it has no file yet)
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        demos = app.screen.query_one("#open-demos", OptionList)
+        index = next(i for i in range(demos.option_count)
+                     if demos.get_option_at_index(i).id == "planet_dial")
+        demos.focus()
+        demos.highlighted = index
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.mech.train.name == load_train(demo_path("planet_dial")).name
+        assert CHANGED_MARK in title_text(app)
+        assert app.session.editor.path is None

@@ -1,0 +1,448 @@
+"""Changing the train from inside the interface: the parts screen (teeth, pin-and-slot lengths,
+the crank's days per turn) with its before/after ratio panel and readings, undo and redo, the
+save dialog, and opening another train or a demo.
+
+Every change is made by :class:`engine.edit.TrainEditor` (the loader and solver judge it); this
+module only shows what the engine answers.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from rich.table import Table
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import Screen
+from textual.widgets import Button, DirectoryTree, Footer, Input, Label, OptionList, Static
+from textual.widgets.option_list import Option
+
+from engine.demos import demo_names, demo_path
+from engine.edit import TrainEditor
+from engine.errors import WheelworkError
+
+from .screens import ClosesOnce, Dialog, HelpScreen
+from .widgets import CAUTION, Readings
+
+#: the marker the title shows while the train differs from its file
+CHANGED_MARK = "◆ changed, not saved"
+
+#: files opened or saved in this run, newest first (the open dialog lists them)
+RECENT: list[Path] = []
+MAX_RECENT = 8
+
+
+def remember(path: Path | None) -> None:
+    if path is None:
+        return
+    path = Path(path).resolve()
+    if path in RECENT:
+        RECENT.remove(path)
+    RECENT.insert(0, path)
+    del RECENT[MAX_RECENT:]
+
+
+def title_mark(session) -> tuple[str, str]:
+    """The title's marker (text, style): empty while the train is as in its file."""
+    ed = session.editor
+    if ed is None or not ed.differs:
+        return ("", "")
+    return (f"  {CHANGED_MARK}", "bold #e06c75")
+
+
+def adopt(app, mech) -> None:
+    """Put ``mech`` on the bench at the date shown now, with the findings the engine gives."""
+    from .app import engine_findings
+
+    s = app.session
+    s.adopt(mech)
+    s.findings = engine_findings(mech)
+
+
+async def rebuild_bench(app) -> None:
+    """Draw the bench again for the train now on it (title, train drawing, findings)."""
+    from .screens import BenchScreen
+
+    for screen in app.screen_stack:
+        if isinstance(screen, BenchScreen):
+            await screen.rebuild()
+
+
+# --- text of the panels --------------------------------------------------------------------
+def _ratio(r) -> str:
+    return f"{r.ratio.numerator}/{r.ratio.denominator}"
+
+
+def _ppm(x: float) -> str:
+    return "—" if not math.isfinite(x) else f"{x:+,.3f}"
+
+
+def _drift(x: float) -> str:
+    if not math.isfinite(x):
+        return "—"
+    return f"{x:+,.4f}" if abs(x) < 1 else f"{x:+,.2f}"
+
+
+def compare_table(rows, width: int = 200) -> Table | Text:
+    """Per pointer: ratio, period error and drift per century, as in the file and now (a
+    table when ``width`` allows, else two lines a pointer)."""
+    if width < 90:
+        out = Text()
+        for c in rows:
+            b, a = c.before, c.after
+            style = "bold #e5c07b" if b is None or b.ratio != a.ratio else ""
+            if out:
+                out.append("\n")
+            out.append(f"{c.pointer}  ", style="bold")
+            out.append(f"{_ratio(b) if b else 'new'} → {_ratio(a)}\n", style=style)
+            out.append("  ppm ", style="#9aa5b1")
+            out.append(f"{_ppm(b.period_error_ppm) if b else ''} → {_ppm(a.period_error_ppm)}",
+                       style=style)
+            out.append("\n  °/cy ", style="#9aa5b1")
+            out.append(f"{_drift(b.drift_deg_per_century) if b else ''} → "
+                       f"{_drift(a.drift_deg_per_century)}", style=style)
+        return out
+    t = Table(box=None, padding=(0, 1), show_edge=False, expand=False)
+    t.add_column("pointer", style="bold", overflow="fold")
+    t.add_column("ratio file → now", overflow="fold")
+    t.add_column("period ppm file → now", justify="right", overflow="fold")
+    t.add_column("drift °/cy file → now", justify="right", overflow="fold")
+    for c in rows:
+        b, a = c.before, c.after
+        changed = b is None or b.ratio != a.ratio
+        style = "bold #e5c07b" if changed else ""
+        t.add_row(c.pointer,
+                  Text(f"{_ratio(b) if b else 'new'} → {_ratio(a)}", style=style),
+                  Text(f"{_ppm(b.period_error_ppm) if b else ''} → {_ppm(a.period_error_ppm)}",
+                       style=style),
+                  Text(f"{_drift(b.drift_deg_per_century) if b else ''} → "
+                       f"{_drift(a.drift_deg_per_century)}", style=style))
+    return t
+
+
+def parts(editor: TrainEditor) -> list[tuple[tuple, str]]:
+    """What can be changed: ``(key, label)``; key is ("teeth", wheel), ("pin", stage, field)
+    or ("crank",)."""
+    out: list[tuple[tuple, str]] = []
+    train = editor.mech.train
+    days = train.crank.days_per_turn
+    out.append((("crank",), f"crank: days per turn {days}"))
+    for name, arbor, teeth in editor.wheels():
+        out.append((("teeth", name), f"{name}: {teeth} teeth (on {arbor})"))
+    for name, offset, radius in editor.pin_slots():
+        out.append((("pin", name, "offset_mm"), f"{name}: axis offset {offset:g} mm"))
+        out.append((("pin", name, "pin_radius_mm"), f"{name}: pin radius {radius:g} mm"))
+    return out
+
+
+def current_value(editor: TrainEditor, key: tuple) -> str:
+    train = editor.mech.train
+    if key[0] == "crank":
+        return str(train.crank.days_per_turn)
+    if key[0] == "teeth":
+        return str(train.wheels[key[1]].teeth)
+    return f"{getattr(train.pin_slots[key[1]], key[2]):g}"
+
+
+def prompt(key: tuple) -> str:
+    if key[0] == "crank":
+        return "days one crank turn stands for (a number or p/q):"
+    if key[0] == "teeth":
+        return f"teeth (or leaves) of {key[1]}:"
+    words = {"offset_mm": "axis offset", "pin_radius_mm": "pin radius"}[key[2]]
+    return f"{words} of {key[1]}, mm:"
+
+
+def apply_edit(editor: TrainEditor, key: tuple, value: str):
+    if key[0] == "crank":
+        return editor.set_days_per_turn(value)
+    if key[0] == "teeth":
+        return editor.set_teeth(key[1], value)
+    return editor.set_pin_slot(key[1], key[2], value)
+
+
+# --- the parts screen ----------------------------------------------------------------------
+class PartsScreen(ClosesOnce, Screen):
+    """Pick a wheel, pinion, pin-and-slot length or the crank; type the new value; the train
+    is solved again at once and the ratio panel and readings answer."""
+
+    BINDINGS = [
+        Binding("escape", "back", "bench"),
+        Binding("ctrl+z", "undo_edit", "undo change"),
+        Binding("ctrl+y", "redo_edit", "redo change"),
+        Binding("ctrl+s", "save", "save…"),
+        Binding("f1", "help", "help"),
+    ]
+
+    def __init__(self, session):
+        super().__init__()
+        self.session = session
+        self.editor: TrainEditor = session.editor
+        self.key: tuple = ("crank",)
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="parts-title")
+        with Horizontal(id="parts-top"):
+            with Vertical(id="parts-pane"):
+                yield OptionList(id="parts-list")
+            with VerticalScroll(id="parts-side"):
+                yield Label("", id="parts-what")
+                yield Input(id="parts-value")
+                yield Label("", id="parts-error")
+                yield Label("", id="parts-done")
+                yield Static(id="parts-compare")
+                with Vertical(id="parts-readings"):
+                    yield Readings(id="readings")
+                yield Static(CAUTION, classes="caution")
+        yield Footer(compact=True)
+
+    def on_resize(self) -> None:
+        if self.is_mounted and self.query("#parts-compare"):
+            self._show_all()
+
+    def on_mount(self) -> None:
+        self.query_one("#parts-pane").border_title = "parts"
+        self.query_one("#parts-readings").border_title = "readings at this date"
+        self.query_one("#parts-compare").border_title = "ratios: file → now"
+        self._fill_list()
+        self._show_all()
+        self.query_one("#parts-value", Input).focus()
+
+    def _fill_list(self, keep: int | None = None) -> None:
+        ol = self.query_one("#parts-list", OptionList)
+        self._parts = parts(self.editor)
+        ol.clear_options()
+        ol.add_options([Option(Text(label), id=str(i)) for i, (_, label) in
+                        enumerate(self._parts)])
+        index = keep
+        if index is None:
+            index = next((i for i, (k, _) in enumerate(self._parts) if k == self.key), 0)
+        ol.highlighted = index
+
+    @on(OptionList.OptionHighlighted, "#parts-list")
+    def _picked(self, event: OptionList.OptionHighlighted) -> None:
+        self.key = self._parts[event.option_index][0]
+        self.query_one("#parts-what", Label).update(prompt(self.key))
+        self.query_one("#parts-value", Input).value = current_value(self.editor, self.key)
+        self._error("")
+
+    @on(OptionList.OptionSelected, "#parts-list")
+    def _chosen(self) -> None:
+        self.query_one("#parts-value", Input).focus()
+
+    def _error(self, message: str) -> None:
+        label = self.query_one("#parts-error", Label)
+        label.update(Text(message))
+        label.set_class(bool(message), "-shown")
+
+    def _title(self) -> None:
+        ed = self.editor
+        train = ed.mech.train
+        name = ed.path.name if ed.path else "new train, not saved yet"
+        self.query_one("#parts-title", Static).update(Text.assemble(
+            ("change the train  ", "bold #e5c07b"), (train.name, "bold"), (f"  {name}", "dim"),
+            title_mark(self.session)))
+
+    def _show_all(self) -> None:
+        self._title()
+        width = self.query_one("#parts-side").size.width or self.app.size.width
+        self.query_one("#parts-compare", Static).update(
+            compare_table(self.editor.compare(self.session.frame), width))
+        try:
+            self.query_one(Readings).show(self.session.now())
+        except WheelworkError as exc:
+            self._error(str(exc))
+
+    @on(Input.Submitted, "#parts-value")
+    def _submit(self, event: Input.Submitted) -> None:
+        try:
+            mech = apply_edit(self.editor, self.key, event.value)
+        except WheelworkError as exc:
+            self._error(str(exc))  # the train stays as it was
+            return
+        self._adopted(mech, self.editor.last_change)
+
+    def _adopted(self, mech, change, verb: str = "changed") -> None:
+        adopt(self.app, mech)
+        self._error("")
+        index = self.query_one("#parts-list", OptionList).highlighted
+        self._fill_list(keep=index)
+        self.query_one("#parts-value", Input).value = current_value(self.editor, self.key)
+        done = "" if change is None else f"{verb}: {change.text()}"
+        self.query_one("#parts-done", Label).update(Text(done))
+        self._show_all()
+
+    def action_undo_edit(self) -> None:
+        change = self.editor.undo()
+        if change is None:
+            self.notify("nothing to undo", timeout=2)
+            return
+        self._adopted(self.editor.mech, change, "undone")
+
+    def action_redo_edit(self) -> None:
+        change = self.editor.redo()
+        if change is None:
+            self.notify("nothing to redo", timeout=2)
+            return
+        self._adopted(self.editor.mech, change, "made again")
+
+    def action_save(self) -> None:
+        self.app.push_screen(SaveDialog(self.editor), self._saved)
+
+    def _saved(self, path: Path | None) -> None:
+        if path is not None:
+            remember(path)
+            self.notify(f"saved {path}", timeout=3)
+            self._title()
+
+    def action_help(self) -> None:
+        self.app.push_screen(HelpScreen(self.BINDINGS))
+
+    async def action_back(self) -> None:
+        await rebuild_bench(self.app)
+        self.dismiss(None)
+
+
+# --- saving --------------------------------------------------------------------------------
+class SaveDialog(Dialog):
+    """Where to save: a new name by default. Replacing a file (the opened one included) takes
+    a second Enter on the same name."""
+
+    error_id = "save-error"
+
+    def __init__(self, editor: TrainEditor):
+        super().__init__()
+        self.editor = editor
+        self._confirmed: Path | None = None
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="dialog"):
+            yield Label("Save the train as:", classes="dialog-title")
+            yield Input(value=str(self.editor.suggested_name()), id="save-input")
+            opened = self.editor.path or "none (a new train)"
+            yield Label(Text(f"opened from: {opened}"), id="save-hint")
+            yield Label("", id="save-error")
+            with Horizontal(classes="dialog-buttons"):
+                yield Button("Save", variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
+    def read(self) -> None:
+        text = self.query_one("#save-input", Input).value.strip()
+        if not text:
+            self.reject("give a file name")
+            return
+        path = Path(text).expanduser()
+        if path.suffix == "":
+            path = path.with_suffix(".toml")
+        replace = self._confirmed == path
+        if not replace and path.exists() and path.is_file():
+            self._confirmed = path
+            what = ("is the file this train was opened from"
+                    if self.editor.is_opened_file(path) else "exists")
+            self.reject(f"{path} {what}: press Enter again to replace it, or change the name")
+            return
+        try:
+            saved = self.editor.save(path, replace=replace)
+        except WheelworkError as exc:
+            self._confirmed = None
+            self.reject(str(exc))
+            return
+        self.accept(saved)
+
+    @on(Input.Changed, "#save-input")
+    def _edited(self) -> None:
+        self._confirmed = None
+
+
+# --- opening -------------------------------------------------------------------------------
+class TrainFiles(DirectoryTree):
+    """Folders and .toml files only."""
+
+    def filter_paths(self, paths):
+        return [p for p in paths if not p.name.startswith(".")
+                and (p.is_dir() or p.suffix == ".toml")]
+
+
+class OpenScreen(ClosesOnce, Screen):
+    """Open a train file (folders from the current one; files opened or saved in this run),
+    or start a new train from a demo. A file the loader refuses is reported here."""
+
+    BINDINGS = [Binding("escape", "back", "bench"), Binding("f1", "help", "help")]
+
+    def __init__(self, session, start: Path | None = None):
+        super().__init__()
+        self.session = session
+        self.start = Path(start or Path.cwd())
+
+    def compose(self) -> ComposeResult:
+        yield Static(Text("open a train, or start one from a demo", style="bold #e5c07b"),
+                     id="open-title")
+        with Horizontal(id="open-top"):
+            with Vertical(id="open-files"):
+                yield TrainFiles(self.start, id="open-tree")
+            with Vertical(id="open-side"):
+                yield OptionList(id="open-recent")
+                yield OptionList(id="open-demos")
+        yield Label("", id="open-error")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#open-files").border_title = f"files in {self.start}"
+        recent = self.query_one("#open-recent", OptionList)
+        recent.border_title = "opened or saved in this run"
+        if RECENT:
+            recent.add_options([Option(Text(str(p)), id=str(p)) for p in RECENT])
+        else:
+            recent.add_option(Option(Text("none yet", style="dim"), disabled=True))
+        demos = self.query_one("#open-demos", OptionList)
+        demos.border_title = "new train from a demo"
+        demos.add_options([Option(name, id=name) for name in demo_names()])
+        self.query_one("#open-tree").focus()
+
+    def _error(self, message: str) -> None:
+        label = self.query_one("#open-error", Label)
+        label.update(Text(message))
+        label.set_class(bool(message), "-shown")
+
+    def _open(self, make) -> None:
+        try:
+            editor = make()
+        except WheelworkError as exc:
+            self._error(str(exc))
+            return
+        except OSError as exc:
+            self._error(f"cannot read it: {exc.strerror or exc}")
+            return
+        self.session.editor = editor
+        self.session.frame = ""
+        adopt(self.app, editor.mech)
+        remember(editor.path)
+        self.run_worker(self._back(), exclusive=True)
+
+    async def _back(self) -> None:
+        await rebuild_bench(self.app)
+        self.dismiss(None)
+
+    @on(DirectoryTree.FileSelected, "#open-tree")
+    def _file(self, event: DirectoryTree.FileSelected) -> None:
+        self._open(lambda: TrainEditor.open(event.path, self.session.sky))
+
+    @on(OptionList.OptionSelected, "#open-recent")
+    def _recent(self, event: OptionList.OptionSelected) -> None:
+        path = Path(event.option.id)
+        self._open(lambda: TrainEditor.open(path, self.session.sky))
+
+    @on(OptionList.OptionSelected, "#open-demos")
+    def _demo(self, event: OptionList.OptionSelected) -> None:
+        path = demo_path(event.option.id)
+        self._open(lambda: TrainEditor.new_from(path, self.session.sky))
+
+    def action_help(self) -> None:
+        self.app.push_screen(HelpScreen(self.BINDINGS))
+
+    def action_back(self) -> None:
+        self.dismiss(None)
