@@ -264,6 +264,8 @@ class BenchScreen(Screen):
         """Compose the screen again for the train now on the bench (after a change)."""
         self._stop()
         self._layout = train_layout(self.session.mech.train)
+        self.kinds = {p.shows for p in self.session.mech.train.pointers.values()}
+        self.phase_only = not any(SkyDial.draws(k) for k in self.kinds)
         self._view_list = None
         await self.recompose()
         self.on_mount()
