@@ -104,7 +104,7 @@ FOOTER_FROM_WIDTH = {
     "speed(1)": 170, "speed(-1)": 170,
     "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
     "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
-    "change_train": 130, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
+    "change_train": 250, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
     "open_train": 250,
 }
 #: Shorter footer labels below 100 columns.
