@@ -22,6 +22,7 @@ from .errors import (
     DriftCancelled,
     DriftError,
     OutputError,
+    PlacementError,
     SearchError,
     SkyError,
     TrainError,
@@ -48,7 +49,7 @@ from .periods import (
     mean_elements,
     relation_error_ppm,
 )
-from .plate import PlacementError, place_plates
+from .plate import place_plates
 from .play import PlayReport, Tolerances, play
 from .ratios import PointerRatio, Stage, SynodicRatio, ToothNote, pointer_ratios
 from .readout import PointerMotion, Readout, backward_warnings, epoch_values

@@ -49,3 +49,7 @@ class DriftError(WheelworkError):
 class DriftCancelled(Exception):  # noqa: N818 - it is a request, not a fault
     """Raised between chunks of a drift run when its ``cancel`` callback asks to stop (not a
     fault: the command exits 130 quietly)."""
+
+
+class PlacementError(TrainError):
+    """No position of a plate's holes satisfies every centre distance the meshes demand."""

@@ -20,7 +20,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .checks import _axis_groups, centre_distance_mm
-from .errors import TrainError
+from .errors import PlacementError
 from .kinematics import Kinematics
 from .train import FRAME, Train
 
@@ -35,10 +35,6 @@ CLEARANCE_MM = 0.5
 """A wheel's tip circle should clear another axis's pivot by this much (our rule)."""
 
 ANGLE_STEPS = 120
-
-
-class PlacementError(TrainError):
-    """No position of the holes satisfies every centre distance."""
 
 
 @dataclass(frozen=True)

@@ -14,10 +14,10 @@ import pytest
 from engine.checks import centre_distance_mm
 from engine.cli import main
 from engine.drawing import cut_parts, layout_sheet, tooth_forms
-from engine.errors import TrainError
+from engine.errors import PlacementError, TrainError
 from engine.kinematics import solve
 from engine.loader import load_train, parse_train
-from engine.plate import PlacementError, place_plates
+from engine.plate import place_plates
 from engine.toothform import involute_half_angle
 
 HERE = Path(__file__).resolve().parent
