@@ -397,8 +397,6 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from ..loader import load_train
-    from ..mechanism import build, sky_for
     from ..sky import Site
 
     step = parse_step(args.step)
@@ -413,15 +411,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     if png_out:
         _load_pyplot()  # say how to install it before any work is done
     site = Site.parse(args.site) if args.site else None  # checked by the option's type
-    train = load_train(args.train)
-    sky = sky_for(train, args.ephemeris)
-    mech = build(train, sky)
-    start = args.start if args.start is not None else mech.train.epoch.jd_ut
-    end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
-    if end <= start:
-        _usage_error(args, f"--to {format_jd(end)} is not after "
-                     + (f"--from {format_jd(start)}" if args.start is not None else
-                        f"the train's epoch, {format_jd(start)}; give --from"))
+    mech, sky, start, end = support.open_span(args)
     try:
         grid(start, end, step, include_end=True)
     except DriftError as exc:  # step longer than the span, too many dates

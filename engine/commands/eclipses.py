@@ -144,22 +144,11 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
-    from ..loader import load_train
-    from ..mechanism import build, sky_for
 
     inputs = [args.train] + ([args.ephemeris] if args.ephemeris else [])
     csv_out = (support.OutputFile(args.csv, option="--csv", force=args.force, inputs=inputs)
                if args.csv else None)
-    train = load_train(args.train)
-    sky = sky_for(train, args.ephemeris)
-    mech = build(train, sky)
-    start = args.start if args.start is not None else mech.train.epoch.jd_ut
-    end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
-    if end <= start:
-        raise UsageError(f"--to {format_jd(end)} is not after "
-                         + (f"--from {format_jd(start)}" if args.start is not None else
-                            f"the train's epoch, {format_jd(start)}; give --from"),
-                         getattr(args, "_prog", None))
+    mech, sky, start, end = support.open_span(args)
     args._start, args._end = start, end
     sky.check_span(start, end)
     bar = None

@@ -193,6 +193,29 @@ def add_span(parser: argparse.ArgumentParser,
     return span
 
 
+def open_span(args: argparse.Namespace):
+    """``(mech, sky, start, end)`` for a run over the span of :func:`add_span`: the train
+    loaded and set against ``--ephemeris`` (else the one its file names), the span from
+    ``--from`` (default: the epoch) to ``--to`` or ``--years`` later. A span that ends before
+    it starts is a usage error."""
+    from ..dates import format_jd
+    from ..loader import load_train
+    from ..mechanism import build, sky_for
+    from ..periods import JULIAN_YEAR_DAYS
+
+    train = load_train(args.train)
+    sky = sky_for(train, args.ephemeris)
+    mech = build(train, sky)
+    start = args.start if args.start is not None else train.epoch.jd_ut
+    end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
+    if end <= start:
+        raise UsageError(f"--to {format_jd(end)} is not after "
+                         + (f"--from {format_jd(start)}" if args.start is not None else
+                            f"the train's epoch, {format_jd(start)}; give --from"),
+                         getattr(args, "_prog", None))
+    return mech, sky, start, end
+
+
 def add_train(parser: argparse.ArgumentParser, optional: bool = False) -> None:
     from ..demos import DEFAULT_DEMO
 
