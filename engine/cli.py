@@ -42,14 +42,6 @@ DEFAULT_COMMAND = "crank"  # what a bare ``wheelwork`` runs (the interface, on t
 STOP_SIGNALS = tuple(getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n))
 
 
-class Terminated(BaseException):
-    """SIGTERM or SIGHUP arrived: unwind (every ``finally`` and part-file cleanup runs)."""
-
-    def __init__(self, signum: int):
-        super().__init__(signum)
-        self.signum = signum
-
-
 def _plugins() -> dict:
     """Commands other packages register (entry points), name → entry point."""
     from importlib.metadata import entry_points
@@ -157,6 +149,8 @@ def _catch_stop_signals() -> None:
 
 
 def _on_stop_signal(signum, frame):
+    from .errors import Terminated
+
     raise Terminated(signum)
 
 
@@ -180,7 +174,7 @@ def main(argv: list[str] | None = None) -> int:
 
 def _guarded(argv: list[str]) -> int:
     from .commands import support
-    from .errors import UsageError, WheelworkError
+    from .errors import ParserExit, Terminated, UsageError, WheelworkError
 
     def console():
         return _console()
@@ -190,7 +184,7 @@ def _guarded(argv: list[str]) -> int:
             return _run(argv, console)
         finally:
             support.remove_part_files()
-    except support.ParserExit as exc:
+    except ParserExit as exc:
         return exc.status
     except UsageError as exc:
         _say(f"{exc.prog or 'wheelwork'}: usage error: {exc}")

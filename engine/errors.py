@@ -1,4 +1,10 @@
-"""The errors wheelwork reports to a user: one line, naming the file, the item and the fault."""
+"""The errors wheelwork reports to a user: one line, naming the file, the item and the fault.
+
+Every exception class of the engine lives here. The last section holds the control-flow
+signals: exceptions that unwind a run on purpose (a cancelled drift run, argparse finishing
+with ``--help``, a stop signal). They are not faults and are not ``WheelworkError``s, so no
+``except WheelworkError`` meant for faults ever swallows one.
+"""
 
 from __future__ import annotations
 
@@ -46,10 +52,32 @@ class DriftError(WheelworkError):
     """A drift run that cannot be done: bad step, empty or reversed span, too many dates."""
 
 
+class PlacementError(TrainError):
+    """No position of a plate's holes satisfies every centre distance the meshes demand."""
+
+
+# --- control-flow signals, not errors ----------------------------------------------------------
+
 class DriftCancelled(Exception):  # noqa: N818 - it is a request, not a fault
     """Raised between chunks of a drift run when its ``cancel`` callback asks to stop (not a
     fault: the command exits 130 quietly)."""
 
 
-class PlacementError(TrainError):
-    """No position of a plate's holes satisfies every centre distance the meshes demand."""
+class ParserExit(Exception):  # noqa: N818 - argparse finished, nothing went wrong
+    """The command-line parser finished on its own (``--help``, ``--version``): ``status`` is
+    the exit code to return (``engine.commands.support.Parser`` raises it instead of
+    ``SystemExit``)."""
+
+    def __init__(self, status: int):
+        super().__init__(status)
+        self.status = status
+
+
+class Terminated(BaseException):  # noqa: N818 - a signal, not a fault
+    """SIGTERM or SIGHUP arrived (``engine.cli`` raises it from its signal handler): unwind,
+    so every ``finally`` and part-file cleanup runs; ``signum`` gives the exit code 128 + N.
+    A ``BaseException``, like ``KeyboardInterrupt``, so ``except Exception`` does not stop it."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum

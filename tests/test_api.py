@@ -62,6 +62,28 @@ def test_only_the_sky_module_imports_skyfield():
         assert not re.search(r"^\s*(from|import) skyfield", path.read_text(), re.M), path
 
 
+def test_every_exception_class_lives_in_errors():
+    """All of the engine's exception classes, faults and control-flow signals alike, are
+    defined in engine/errors.py (a class deriving from another exception counts too)."""
+    defined = {}
+    for path in (ROOT / "engine").rglob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.ClassDef):
+                defined[node.name] = (path.relative_to(ROOT).as_posix(), node)
+    exceptions = {"Exception", "BaseException"}
+    grew = True
+    while grew:  # classes deriving from an exception class are exception classes
+        bases = {n: {ast.unparse(b).split(".")[-1] for b in node.bases}
+                 for n, (_, node) in defined.items()}
+        new = {n for n, b in bases.items() if b & exceptions} - exceptions
+        grew = bool(new)
+        exceptions |= new
+    elsewhere = sorted(f"{defined[n][0]}: {n}" for n in exceptions
+                       if n in defined and defined[n][0] != "engine/errors.py")
+    assert not elsewhere
+    assert {"WheelworkError", "DriftCancelled", "ParserExit", "Terminated"} <= exceptions
+
+
 EXAMPLES = re.findall(r"```python\n(.*?)```", (ROOT / "docs" / "api.md").read_text(), re.S)
 
 

@@ -31,7 +31,7 @@ import stat
 import sys
 from pathlib import Path
 
-from ..errors import OutputError, UsageError, WheelworkError
+from ..errors import OutputError, ParserExit, UsageError, WheelworkError
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
 
@@ -47,14 +47,6 @@ LARGE_OUTPUT_BYTES = 50 * 1024 * 1024  # above this a file's estimated size is s
 # A minus sign followed by a digit (or a point and a digit) starts a value: a negative number,
 # a southern or western site (-33.87,151.21) or a date with a negative year (-0100-03-01).
 _NEGATIVE_VALUE = re.compile(r"^-\.?\d")
-
-
-class ParserExit(Exception):
-    """argparse finished on its own (``--help``, ``--version``): the exit code to return."""
-
-    def __init__(self, status: int):
-        super().__init__(status)
-        self.status = status
 
 
 class Parser(argparse.ArgumentParser):
