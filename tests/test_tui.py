@@ -1234,3 +1234,56 @@ def test_snapshot_main_dark_theme(snap_compare):
 
     assert snap_compare(_app_at("2026-03-20 12:00"), terminal_size=(100, 30),
                         run_before=run_before)
+
+
+@pytest.mark.parametrize("theme", ["textual-light", "textual-dark", "solarized-light",
+                                   "catppuccin-latte"])
+@sync
+async def test_sky_dial_ring_signs_and_hub_stand_out_in_the_theme(theme):
+    """The dial's hub, ring and sign names take their colours from the theme, so a light
+    theme does not leave a white hub and a faint ring (WCAG ratios: 4.5 for text, 3 for
+    graphics; common practice, no source)."""
+    from textual.color import Color
+
+    app = make_app()
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        app.theme = theme  # changed after the dial was first drawn, as from the palette
+        await pilot.pause()
+        await pilot.press("right")
+        await pilot.pause()
+        dial = app.screen.query_one(SkyDial)
+        bg = Color.parse(app.theme_variables["background"])
+        chars, styles = dial._buffer, dial._styles
+        _, _, r = dial._geom
+        for k in range(12):
+            x, y, name = dial._sign_cells(r, k)
+            assert "".join(chars[y][x:x + len(name)]) == name
+            assert _contrast(Color.parse(styles[y][x]), bg) >= 4.5, (theme, name, styles[y][x])
+        hub = [(y, x) for y, row in enumerate(chars) for x, ch in enumerate(row) if ch == "●"]
+        assert len(hub) == 1
+        assert _contrast(Color.parse(styles[hub[0][0]][hub[0][1]]), bg) >= 4.5, theme
+        ring = {st for row, srow in zip(chars, styles, strict=True)
+                for ch, st in zip(row, srow, strict=True)
+                if "\u2800" < ch <= "\u28ff" and st.startswith("#")}  # hands and arcs: bold
+        assert len(ring) == 2  # the ring and its brighter 30° graduations
+        for st in ring:
+            assert _contrast(Color.parse(st), bg) >= 3.0, (theme, st)
+
+
+@sync
+async def test_phase_discs_take_a_new_theme_background():
+    """The discs' pane keeps no colours of the theme it was first drawn in."""
+    from tui.widgets import PhaseDiscs
+
+    app = make_app()
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        app.theme = "textual-light"
+        await pilot.pause()
+        await pilot.pause()
+        discs = app.screen.query_one(PhaseDiscs)
+        want = discs.rich_style.bgcolor
+        for strip in discs._strips[-3:]:  # the caption rows
+            for seg in strip:
+                assert seg.style.bgcolor == want, seg

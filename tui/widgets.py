@@ -114,6 +114,54 @@ def ui(widget: Widget) -> dict[str, str]:
 
 _UI_CACHE: dict[tuple, dict[str, str]] = {}
 
+#: the dial's ring, graduations, sign names and hub under an ANSI theme (terminal colours,
+#: nothing to blend) and the slate tint the themed ones lean towards
+DIAL_FIXED = {"ring": RING, "ring_bright": RING_BRIGHT, "sign": SIGN_TEXT, "hub": HUB}
+_SLATE = "#7f9fbf"
+#: per dial colour: the least share of the way from the background to the (slate-tinted)
+#: foreground, and the least contrast with the background it is pushed up to (WCAG ratios:
+#: 4.5 for text, 3 for graphics; common practice, no source)
+DIAL_SHARES = {"ring": (0.55, 3.0), "ring_bright": (0.8, 4.5), "sign": (0.65, 4.5)}
+
+
+def contrast(a, b) -> float:
+    """WCAG contrast ratio of two textual Colors (common practice, no source)."""
+    def lum(c) -> float:
+        def ch(v: float) -> float:
+            v = v / 255
+            return v / 12.92 if v <= 0.03928 else ((v + 0.055) / 1.055) ** 2.4
+        return 0.2126 * ch(c.r) + 0.7152 * ch(c.g) + 0.0722 * ch(c.b)
+    hi, lo = sorted((lum(a), lum(b)), reverse=True)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+def dial_colours(widget: Widget) -> dict[str, str]:
+    """The dial's own colours from the app's theme, each a share of the way from the
+    background to the foreground leaning halfway towards slate (:data:`DIAL_SHARES`, more
+    where the theme needs it to stand out): ``ring`` (faint), ``ring_bright`` (the 30°
+    graduations), ``sign`` (sign names, degree figures) and ``hub`` (the foreground); where even
+    the tinted foreground is too faint, the tint gives way. A light theme gets a dark ring, a
+    dark theme a light one."""
+    v = widget.app.theme_variables
+    fg, bg = v.get("foreground", "#e0e0e0"), v.get("background", "#121212")
+    if fg.startswith("ansi_") or bg.startswith("ansi_"):
+        return DIAL_FIXED
+    from textual.color import Color
+
+    back, fore = Color.parse(bg), Color.parse(fg)
+    tint = fore.blend(Color.parse(_SLATE), 0.5)
+    out = {"hub": fore.hex}
+
+    def at(share: float):  # past 1, the slate tint gives way to the plain foreground
+        return back.blend(tint, share) if share <= 1.0 else tint.blend(fore, share - 1.0)
+
+    for role, (share, least) in DIAL_SHARES.items():
+        while share < 2.0 and contrast(at(share), back) < least:
+            share = min(share + 0.05, 2.0)
+        out[role] = at(share).hex
+    return out
+
+
 # braille dot bits by (row 0-3, column 0-1) inside a cell
 _BRAILLE_BITS = ((0x01, 0x08), (0x02, 0x10), (0x04, 0x20), (0x40, 0x80))
 
@@ -141,6 +189,11 @@ class LayeredCanvas(Canvas):
 
     def on_canvas_resize(self, event: Canvas.Resize) -> None:
         event.stop()
+        self.redraw()
+
+    def redraw(self) -> None:
+        """Draw both layers again (a new size, or a new theme for a canvas whose colours
+        come from it)."""
         size = self.size  # the content area (the event carries the outer size, with border)
         if size.width < 2 or size.height < 2:
             return
@@ -257,6 +310,11 @@ class SkyDial(LayeredCanvas):
         self.elements: dict[str, tuple[float, float]] = {}
         #: the true planet marks the last frame drew: (longitude°, style, seen from the Sun)
         self.planets: list = []
+        #: the ring, graduation, sign-name and hub colours of the theme the dial was drawn in
+        self.colours: dict[str, str] = DIAL_FIXED
+
+    def on_mount(self) -> None:
+        self.app.theme_changed_signal.subscribe(self, lambda _theme: self.redraw())
 
     @staticmethod
     def key_text(kinds) -> Text:
@@ -322,8 +380,9 @@ class SkyDial(LayeredCanvas):
         cx, cy = w / 2.0, h / 2.0
         r = self.fit_radius(w, h)
         self._geom = (cx, cy, r)
+        c = self.colours = dial_colours(self)
         ring = [self._xy(a / 4.0, r) for a in range(0, 1440)]
-        self.dots(ring, style=RING)
+        self.dots(ring, style=c["ring"])
         fine = []
         coarse = []
         dots_per_deg = r * math.pi / 180.0 * 2.0
@@ -337,15 +396,15 @@ class SkyDial(LayeredCanvas):
                 fine += [self._xy(deg, r - k * 0.25) for k in range(0, 4)]
             elif dots_per_deg >= 0.9:
                 fine.append(self._xy(deg, r - 0.5))
-        self.dots(fine, style=RING)
-        self.dots(coarse, style=RING_BRIGHT)
+        self.dots(fine, style=c["ring"])
+        self.dots(coarse, style=c["ring_bright"])
         for k in range(12):
             x, y, name = self._sign_cells(r, k)
-            self.put(x, y, name, SIGN_TEXT)
+            self.put(x, y, name, c["sign"])
         for deg in (0, 90, 180, 270):
             x, y = self._xy(deg, r - 5.0)
             if r >= 16:
-                self.put(x - len(str(deg)) / 2, y, f"{deg}°", RING)
+                self.put(x - len(str(deg)) / 2, y, f"{deg}°", c["sign"])
 
     def _arcs(self, now: Now, r: float) -> None:
         """The ecliptic limits around both nodes, as dotted arcs outside the ring."""
@@ -361,7 +420,7 @@ class SkyDial(LayeredCanvas):
         self._arcs(now, r)
         for k in range(12):  # the sign names stay readable over the arcs
             x, y, name = self._sign_cells(r, k)
-            self.put(x, y, name, SIGN_TEXT)
+            self.put(x, y, name, self.colours["sign"])
         ptrs = now.pointers
         by_kind = {}
         for p in ptrs.values():
@@ -396,7 +455,7 @@ class SkyDial(LayeredCanvas):
             hue, _, _, mark, _ = ELEMENT_HANDS[kind]
             x, y = self._xy(sky, r - 2.0)
             self.put(x - 0.5, y - 0.25, mark, f"bold {hue}")
-        self.put(cx - 0.5, cy - 0.25, "●", HUB)
+        self.put(cx - 0.5, cy - 0.25, "●", self.colours["hub"])
         sun = _scalar(now.sky.sun_lon_deg)
         moon = _scalar(now.sky.moon_lon_deg)
         for lon, (hue, mark, _), arm in planet_marks:  # true places: on the ring (seen from
@@ -643,6 +702,10 @@ class PhaseDiscs(Widget):
         self._key = None
         self._styles = {}
         self._build()
+
+    def on_mount(self) -> None:
+        # the styles take the theme's background: a new theme builds them again
+        self.app.theme_changed_signal.subscribe(self, lambda _theme: self.on_resize())
 
     def _style(self, fg: str | None, bg: str | None, bold: bool = False) -> RichStyle:
         key = (fg, bg, bold)
