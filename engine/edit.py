@@ -5,7 +5,9 @@ value in that text with tomlkit (so comments, blank lines and layout stay as the
 them), then reads the result with the loader and solves and sets it: the loader and the solver
 are the only judges, so a bad edit (zero teeth, text where a number belongs, a train that now
 locks, a value out of range) is refused with their own one-line error, and the train stays as
-it was. Every accepted edit can be undone and redone; :attr:`TrainEditor.differs` says whether
+it was. Primes the user cannot cut (:attr:`TrainEditor.forbidden_primes`, say a dividing
+plate without 37, 41 or 43 divisions) are refused the same way when an edit brings in a tooth
+count they divide. Every accepted edit can be undone and redone; :attr:`TrainEditor.differs` says whether
 the train now differs from its file; :meth:`TrainEditor.save` writes it whole or not at all.
 
 Values are given as the user typed them (text) or as numbers::
@@ -27,13 +29,16 @@ from pathlib import Path
 import tomlkit
 from tomlkit.exceptions import TOMLKitError
 
-from .errors import OutputError, TrainError
-from .loader import MAX_FILE_BYTES, _regular_file_bytes, parse_train, safe_text
+from .errors import OutputError, TrainError, WheelworkError
+from .loader import MAX_FILE_BYTES, MAX_TEETH, _regular_file_bytes, parse_train, safe_text
 from .mechanism import Mechanism, build
-from .ratios import PointerRatio, pointer_ratios
+from .ratios import PointerRatio, factor_text, pointer_ratios, tooth_factors
 
 #: the keys of a pin-and-slot stage an edit may change
 PIN_SLOT_KEYS = ("offset_mm", "pin_radius_mm")
+
+#: the largest prime that may be forbidden (the loader's most teeth)
+MAX_PRIME = MAX_TEETH
 
 _INT = re.compile(r"^[+-]?\d+$")
 _FLOAT = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$")
@@ -57,6 +62,30 @@ def _value(text: str | int | float | Fraction, fraction_ok: bool = False):
     if fraction_ok and "/" in t:
         return t
     return str(text)
+
+
+def parse_primes(text: str) -> tuple[int, ...]:
+    """The primes a user cannot cut, typed as ``"37, 41 43"`` (commas or spaces; empty: none),
+    sorted. Anything that is not a prime from 2 to :data:`MAX_PRIME` is refused in one line."""
+    out: set[int] = set()
+    for part in (p for p in re.split(r"[,;\s]+", str(text).strip()) if p):
+        if not re.fullmatch(r"\d{1,9}", part):
+            raise WheelworkError(f"forbidden primes: cannot read {safe_text(part)!r} (give "
+                                 "primes separated by commas or spaces, e.g. 37, 41, 43)")
+        n = int(part)
+        if not 2 <= n <= MAX_PRIME:
+            raise WheelworkError(f"forbidden primes: {n} is not a prime from 2 to "
+                                 f"{MAX_PRIME:,} (a tooth count is at most {MAX_TEETH:,})")
+        if tooth_factors(n) != {n: 1}:
+            raise WheelworkError(f"forbidden primes: {n} is not a prime ({factor_text(n)}); "
+                                 "list the primes themselves")
+        out.add(n)
+    return tuple(sorted(out))
+
+
+def forbidden_factors(teeth: int, primes) -> tuple[int, ...]:
+    """The primes of ``primes`` that divide ``teeth`` (a whole count of at least 1)."""
+    return tuple(p for p in sorted(primes) if teeth % p == 0)
 
 
 @dataclass(frozen=True)
@@ -104,6 +133,8 @@ class TrainEditor:
         self._redo: list[_State] = []
         self.saved_text = text
         self._baseline = mech
+        #: primes no new tooth count may have as a factor (see :func:`parse_primes`)
+        self.forbidden_primes: tuple[int, ...] = ()
 
     @classmethod
     def open(cls, path: str | Path, sky=None) -> TrainEditor:
@@ -170,8 +201,37 @@ class TrainEditor:
             raise TrainError(self.where, f"wheel '{safe_text(wheel)}'", "no such wheel or pinion "
                              "in this train")
         arbor = train.wheels[wheel].arbor
-        return self._apply(("arbors", arbor, "wheels", wheel), _value(teeth),
-                           f"[arbors.{arbor}] wheel '{wheel}'")
+        value = _value(teeth)
+        item = f"[arbors.{arbor}] wheel '{wheel}'"
+        self._check_primes(value, item)
+        return self._apply(("arbors", arbor, "wheels", wheel), value, item)
+
+    def set_forbidden_primes(self, text: str) -> tuple[int, ...]:
+        """Read and keep the primes that cannot be cut (``"37, 41, 43"``; empty: none).
+        Tooth counts already in the train stay; only edits are judged against them."""
+        self.forbidden_primes = parse_primes(text)
+        return self.forbidden_primes
+
+    def forbidden_in_train(self) -> dict[str, tuple[int, ...]]:
+        """``{wheel: forbidden primes dividing its teeth}`` for the train as it is now."""
+        out = {}
+        for name, _arbor, teeth in self.wheels():
+            bad = forbidden_factors(teeth, self.forbidden_primes)
+            if bad:
+                out[name] = bad
+        return out
+
+    def _check_primes(self, value, item: str) -> None:
+        if type(value) is not int or value < 1 or not self.forbidden_primes:
+            return  # not a tooth count: the loader judges it
+        bad = forbidden_factors(value, self.forbidden_primes)
+        if bad:
+            primes = ", ".join(map(str, bad))
+            raise TrainError(self.where, item,
+                             f"{value} teeth has the forbidden prime factor"
+                             f"{'s' if len(bad) > 1 else ''} {primes} ({factor_text(value)}); "
+                             f"the primes you cannot cut: "
+                             f"{', '.join(map(str, self.forbidden_primes))}")
 
     def set_pin_slot(self, name: str, key: str, value) -> Mechanism:
         """Change a pin-and-slot stage's ``offset_mm`` or ``pin_radius_mm``."""
@@ -188,23 +248,51 @@ class TrainEditor:
         return self._apply(("crank", "days_per_turn"), _value(value, fraction_ok=True),
                            "[crank] days_per_turn")
 
+    def set_teeth_many(self, teeth: dict[str, int], item: str) -> Mechanism:
+        """Give several wheels new tooth counts in one edit (one undo step), e.g. a search's
+        answer for a pointer's chain; ``item`` names the edit in messages and undo."""
+        train = self.mech.train
+        edits = []
+        for wheel, n in teeth.items():
+            if wheel not in train.wheels:
+                raise TrainError(self.where, f"wheel '{safe_text(wheel)}'",
+                                 "no such wheel or pinion in this train")
+            arbor = train.wheels[wheel].arbor
+            value = _value(n)
+            self._check_primes(value, f"[arbors.{arbor}] wheel '{wheel}'")
+            edits.append((("arbors", arbor, "wheels", wheel), value))
+        before = ", ".join(f"{w} {train.wheels[w].teeth}" for w in teeth)
+        after = ", ".join(f"{w} {n}" for w, n in teeth.items())
+        return self._apply_all(edits, item, before, after)
+
     def _apply(self, keys: tuple[str, ...], value, item: str) -> Mechanism:
+        return self._apply_all([(keys, value)], item)
+
+    def _apply_all(self, edits, item: str, before_text=None, after_text=None) -> Mechanism:
         doc = tomlkit.parse(self.text)
-        table = doc
-        for k in keys[:-1]:
-            table = table[k]
-        before = table.get(keys[-1])
-        before = before.unwrap() if hasattr(before, "unwrap") else before
-        if before == value and type(before) is type(value):
+        changed = False
+        before = None
+        for keys, value in edits:
+            table = doc
+            for k in keys[:-1]:
+                table = table[k]
+            before = table.get(keys[-1])
+            before = before.unwrap() if hasattr(before, "unwrap") else before
+            if before == value and type(before) is type(value):
+                continue
+            table[keys[-1]] = value
+            changed = True
+        if not changed:
             return self.mech
-        table[keys[-1]] = value
         text = tomlkit.dumps(doc)
         if len(text) > MAX_FILE_BYTES:
             raise TrainError(self.where, item, "the file would grow past the loader's limit")
         mech = build(parse_train(text, self.where), self.sky)  # refuses: nothing changes
         self._undo.append(self._state)
         self._redo.clear()
-        self._state = _State(text, mech, Change(item, before, value))
+        change = (Change(item, before, edits[-1][1]) if before_text is None
+                  else Change(item, before_text, after_text))
+        self._state = _State(text, mech, change)
         return mech
 
     def undo(self) -> Change | None:

@@ -199,3 +199,47 @@ def test_save_into_a_missing_folder_writes_nothing(tide, sky, tmp_path):
     with pytest.raises(OutputError, match="does not exist"):
         ed.save(tmp_path / "no" / "such.toml")
     assert ed.differs
+
+
+# --- primes the user cannot cut ------------------------------------------------------------
+def test_parse_primes_reads_lists_and_refuses_what_is_not_a_prime():
+    from engine.edit import parse_primes
+    from engine.errors import WheelworkError
+
+    assert parse_primes("43, 37 41,37") == (37, 41, 43)
+    assert parse_primes("  ") == ()
+    for bad, words in (("39", "not a prime (3·13)"), ("1", "not a prime from 2"),
+                       ("forty-one", "cannot read"), ("10007", "not a prime from 2")):
+        with pytest.raises(WheelworkError) as exc:
+            parse_primes(bad)
+        assert words in str(exc.value) and "\n" not in str(exc.value)
+
+
+def test_a_forbidden_prime_is_refused_and_the_train_stays(tide, sky):
+    ed = TrainEditor.open(tide, sky)
+    ed.set_forbidden_primes("37, 41, 43")
+    before_text, before_mech = ed.text, ed.mech
+    for value in ("41", "82", "123"):  # 41, 2·41, 3·41
+        with pytest.raises(TrainError) as exc:
+            ed.set_teeth("sun_w1", value)
+        msg = str(exc.value)
+        assert "forbidden prime factor 41" in msg and "sun_w1" in msg and "\n" not in msg
+        assert ed.text == before_text and ed.mech is before_mech and not ed.can_undo
+    with pytest.raises(TrainError):  # one bad count refuses the whole multi-wheel edit
+        ed.set_teeth_many({"sun_w1": 60, "sun_w2": 129}, "sun chain")  # 129 = 3·43
+    assert ed.text == before_text and ed.mech is before_mech
+    ed.set_teeth("sun_w1", "60")  # 2²·3·5: allowed
+    assert ed.mech.train.wheels["sun_w1"].teeth == 60
+    # a count already in the file is kept (only edits are judged): node_p2 has 37 leaves
+    assert ed.forbidden_in_train() == {"node_p2": (37,)}
+
+
+def test_many_teeth_in_one_edit_undo_as_one(tide, sky):
+    ed = TrainEditor.open(tide, sky)
+    old = rates(ed.mech)
+    ed.set_teeth_many({"moon_w1": 27, "moon_p2": 16}, "pointer 'moon' chain")
+    assert ed.mech.kin.rates["moon_first"] == old["moon_first"] * Fraction(26, 27)
+    assert ed.last_change.text() == ("pointer 'moon' chain: moon_w1 26, moon_p2 15 → "
+                                     "moon_w1 27, moon_p2 16")
+    ed.undo()
+    assert rates(ed.mech) == old and not ed.can_undo

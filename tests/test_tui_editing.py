@@ -214,3 +214,97 @@ async def test_open_a_file_a_bad_file_and_a_demo(tmp_path, monkeypatch):
         assert app.session.mech.train.name == load_train(demo_path("planet_dial")).name
         assert CHANGED_MARK in title_text(app)
         assert app.session.editor.path is None
+
+
+@sync
+async def test_forbidden_primes_refuse_an_edit_in_the_dialog(tmp_path):
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        primes = app.screen.query_one("#parts-primes", Input)
+        primes.value = "41, 39"  # 39 is not a prime: refused, nothing kept
+        primes.focus()
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "39 is not a prime" in text_of(app.screen.query_one("#parts-error"))
+        assert app.session.editor.forbidden_primes == ()
+        primes.value = "43 41,37"
+        primes.focus()
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.session.editor.forbidden_primes == (37, 41, 43)
+        assert primes.value == "37, 41, 43"
+        # a wheel already cut with one is marked in the list (node_p2 has 37 leaves)
+        ol = app.screen.query_one("#parts-list", OptionList)
+        labels = [str(ol.get_option_at_index(i).prompt) for i in range(ol.option_count)]
+        assert any(lb.startswith("node_p2") and "✗ prime 37" in lb for lb in labels)
+        await pick(pilot, app, "sun_w1")
+        rates = dict(app.session.mech.kin.rates)
+        readings = readings_text(app)
+        await type_value(pilot, app, "82")  # 2·41
+        err = text_of(app.screen.query_one("#parts-error"))
+        assert "forbidden prime factor 41" in err and "sun_w1" in err
+        assert app.session.mech.kin.rates == rates and readings_text(app) == readings
+        assert not app.session.editor.can_undo
+        assert CHANGED_MARK not in text_of(app.screen.query_one("#parts-title"))
+        await type_value(pilot, app, "60")
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 60
+        # kept for the session: a train opened next is judged by the same primes
+        await pilot.press("escape")
+        await pilot.pause()
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        demos = app.screen.query_one("#open-demos", OptionList)
+        demos.focus()
+        demos.highlighted = next(i for i in range(demos.option_count)
+                                 if demos.get_option_at_index(i).id == "moon_disc_59")
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.pause()
+        assert app.session.editor.forbidden_primes == (37, 41, 43)
+
+
+LOOP = """
+[crank]
+arbor = "a"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+set = "angles"
+[arbors.a]
+wheels = { a1 = 10, a2 = 20 }
+[arbors.b]
+wheels = { b1 = 30, b2 = 60 }
+[[meshes]]
+wheels = ["a1", "b1"]
+[[meshes]]
+wheels = ["a2", "b2"]
+[pointers.sun]
+shows = "sun"
+arbor = "b"
+set_deg = 0
+"""
+
+
+@sync
+async def test_a_locking_change_is_refused_in_the_dialog(tmp_path):
+    # two paths from arbor a to arbor b agree at 10/30 = 20/60; 61 teeth makes them disagree
+    path = tmp_path / "loop.toml"
+    path.write_text(LOOP)
+    app = make_app(path)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("right")
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "b2")
+        rates = dict(app.session.mech.kin.rates)
+        readings = readings_text(app)
+        compare = text_of(app.screen.query_one("#parts-compare"))
+        await type_value(pilot, app, "61")
+        err = text_of(app.screen.query_one("#parts-error"))
+        assert "locks" in err and "loop.toml" in err
+        assert app.session.mech.kin.rates == rates and readings_text(app) == readings
+        assert text_of(app.screen.query_one("#parts-compare")) == compare
+        assert app.session.mech.train.wheels["b2"].teeth == 60
+        assert not app.session.editor.can_undo and path.read_text() == LOOP

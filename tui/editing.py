@@ -131,8 +131,10 @@ def parts(editor: TrainEditor) -> list[tuple[tuple, str]]:
     train = editor.mech.train
     days = train.crank.days_per_turn
     out.append((("crank",), f"crank: days per turn {days}"))
+    bad = editor.forbidden_in_train()
     for name, arbor, teeth in editor.wheels():
-        out.append((("teeth", name), f"{name}: {teeth} teeth (on {arbor})"))
+        mark = f"  ✗ prime {', '.join(map(str, bad[name]))}" if name in bad else ""
+        out.append((("teeth", name), f"{name}: {teeth} teeth (on {arbor}){mark}"))
     for name, offset, radius in editor.pin_slots():
         out.append((("pin", name, "offset_mm"), f"{name}: axis offset {offset:g} mm"))
         out.append((("pin", name, "pin_radius_mm"), f"{name}: pin radius {radius:g} mm"))
@@ -178,11 +180,12 @@ class PartsScreen(ClosesOnce, Screen):
         Binding("f1", "help", "help"),
     ]
 
-    def __init__(self, session):
+    def __init__(self, session, key: tuple | None = None):
         super().__init__()
         self.session = session
         self.editor: TrainEditor = session.editor
-        self.key: tuple = ("crank",)
+        #: the part shown first: ("teeth", wheel) when a wheel was clicked in the drawing
+        self.key: tuple = key or ("crank",)
 
     def compose(self) -> ComposeResult:
         yield Static(id="parts-title")
@@ -192,6 +195,11 @@ class PartsScreen(ClosesOnce, Screen):
             with VerticalScroll(id="parts-side"):
                 yield Label("", id="parts-what")
                 yield Input(id="parts-value")
+                with Horizontal(id="parts-primes-row"):
+                    yield Label("primes you cannot cut: ", id="parts-primes-label")
+                    yield Input(", ".join(map(str, self.editor.forbidden_primes)),
+                                placeholder="none (e.g. 37, 41, 43)", id="parts-primes",
+                                compact=True)
                 yield Label("", id="parts-error")
                 yield Label("", id="parts-done")
                 yield Static(id="parts-compare")
@@ -238,6 +246,8 @@ class PartsScreen(ClosesOnce, Screen):
         label = self.query_one("#parts-error", Label)
         label.update(Text(message))
         label.set_class(bool(message), "-shown")
+        if message:
+            self.query_one("#parts-done", Label).update("")
 
     def _title(self) -> None:
         ed = self.editor
@@ -256,6 +266,22 @@ class PartsScreen(ClosesOnce, Screen):
             self.query_one(Readings).show(self.session.now())
         except WheelworkError as exc:
             self._error(str(exc))
+
+    @on(Input.Submitted, "#parts-primes")
+    def _primes(self, event: Input.Submitted) -> None:
+        try:
+            primes = self.editor.set_forbidden_primes(event.value)
+        except WheelworkError as exc:
+            self._error(str(exc))
+            return
+        self._error("")
+        event.input.value = ", ".join(map(str, primes))
+        listed = ", ".join(map(str, primes))
+        said = (f"no new tooth count may have the prime{'s' if len(primes) > 1 else ''} "
+                f"{listed} as a factor" if primes else "every prime may be cut")
+        self.query_one("#parts-done", Label).update(Text(said))
+        self._fill_list(keep=self.query_one("#parts-list", OptionList).highlighted)
+        self.query_one("#parts-value", Input).focus()
 
     @on(Input.Submitted, "#parts-value")
     def _submit(self, event: Input.Submitted) -> None:
@@ -417,6 +443,9 @@ class OpenScreen(ClosesOnce, Screen):
         except OSError as exc:
             self._error(f"cannot read it: {exc.strerror or exc}")
             return
+        old = self.session.editor
+        if old is not None:  # the primes the user cannot cut hold for the whole session
+            editor.forbidden_primes = old.forbidden_primes
         self.session.editor = editor
         self.session.frame = ""
         adopt(self.app, editor.mech)
