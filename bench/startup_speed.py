@@ -5,14 +5,17 @@ interpreter alone), so a change of load hits both alike; the median of ``--repea
 (default 5) is shown, wall seconds and processor seconds (user + system, the operating
 system's own accounting of the finished child), and the ratio to the floor taken pair by pair.
 Two more floors show what the libraries alone cost: ``import numpy`` and
-``import skyfield.api``. Goals (whole process, wall): ``wheelwork --help`` at most 0.25 s;
+``import skyfield.api``. Goals (whole process, wall): ``wheelwork --help`` and a command's own
+``--help`` (``drift`` and ``sky`` are timed) at most 0.25 s;
 ``wheelwork drift tide_office --from 1900-01-01 --years 150 --step 6h --json`` at most
 1.0 s. On a shared machine wall time runs long; processor time is the figure to trust then,
 and both are judged.
 
 Before timing, the engine's and the interface's bytecode is compiled (as an installation
 does), so no run pays for compiling source. The same run then checks what the drift command
-imported: none of sympy, mpmath, textual, matplotlib, ezdxf or tomlkit.
+imported: none of sympy, mpmath, textual, matplotlib, ezdxf or tomlkit; and what each
+command's ``--help`` imported: none of those, nor numpy, skyfield or rich (the command's
+computation is imported when it runs).
 
     python bench/startup_speed.py [--repeat N]
 """
@@ -36,11 +39,14 @@ FLOOR = [PY, "-c", "pass"]
 # (label, command, goal in seconds or None for a floor)
 CASES = [
     ("wheelwork --help", [*WHEELWORK, "--help"], 0.25),
+    ("wheelwork drift --help", [*WHEELWORK, "drift", "--help"], 0.25),
+    ("wheelwork sky --help", [*WHEELWORK, "sky", "--help"], 0.25),
     ("wheelwork drift ... 150 years at 6h --json", [*WHEELWORK, *DRIFT], 1.0),
     ("python -c 'import numpy'", [PY, "-c", "import numpy"], None),
     ("python -c 'import skyfield.api'", [PY, "-c", "import skyfield.api"], None),
 ]
 NOT_FOR_DRIFT = ("sympy", "mpmath", "textual", "matplotlib", "ezdxf", "tomlkit")
+NOT_FOR_HELP = ("numpy", "skyfield", "rich", *NOT_FOR_DRIFT)
 
 
 def _process(cmd: list[str]) -> tuple[float, float]:
@@ -68,6 +74,23 @@ def _drift_imports() -> list[str]:
             "print(' '.join(sorted({m.split('.')[0] for m in sys.modules})))")
     out = subprocess.run([PY, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
     return sorted(set(out.stdout.split()) & set(NOT_FOR_DRIFT))
+
+
+def _help_imports() -> dict[str, list[str]]:
+    """Each command's ``--help``: which of NOT_FOR_HELP it imported (none expected)."""
+    code = ("import sys, io, contextlib\n"
+            "from engine.cli import COMMANDS, main\n"
+            "name = sys.argv[1]\n"
+            "with contextlib.redirect_stdout(io.StringIO()): main([name, '--help'])\n"
+            "print(' '.join(sorted({m.split('.')[0] for m in sys.modules})))")
+    from engine.cli import COMMANDS
+
+    found = {}
+    for name in [*COMMANDS, "crank"]:
+        out = subprocess.run([PY, "-c", code, name], capture_output=True, text=True, check=True,
+                             cwd=ROOT)
+        found[name] = sorted(set(out.stdout.split()) & set(NOT_FOR_HELP))
+    return found
 
 
 def main() -> int:
@@ -101,6 +124,12 @@ def main() -> int:
     found = _drift_imports()
     print(f"drift command imports none of {', '.join(NOT_FOR_DRIFT)}: "
           + ("ok" if not found else f"NO ({', '.join(found)})"))
+    helps = _help_imports()
+    bad = {k: v for k, v in helps.items() if v}
+    print(f"each command's --help ({', '.join(helps)}) imports none of "
+          f"{', '.join(NOT_FOR_HELP)}: "
+          + ("ok" if not bad else "NO (" + "; ".join(f"{k}: {', '.join(v)}"
+                                                     for k, v in bad.items()) + ")"))
     return 0
 
 

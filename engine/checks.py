@@ -19,6 +19,7 @@ from fractions import Fraction
 
 import numpy as np
 
+from .defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY  # with their sources
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
 from .periods import PERIODS
@@ -26,12 +27,6 @@ from .train import FRAME, Train
 
 # --- defaults and rules of thumb (each with where it comes from) -----------------------------
 
-DEFAULT_CRANK_RPM = 60.0
-"""Highest crank speed evaluated: one turn a second, a brisk hand crank (common practice, no
-source). A clock-driven train never gets near it; it is the speed of someone setting by hand."""
-
-DEFAULT_EFFICIENCY = 0.98
-"""Efficiency of one mesh of cut spur gears, a common rule (common practice, no source)."""
 
 DEFAULT_PIN_DIAMETER_MM = 1.0
 """Pin diameter assumed for a pin-and-slot stage whose file gives no ``pin_diameter_mm``."""

@@ -52,6 +52,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .defaults import ECLIPSE_METHODS
 from .errors import SkyError
 from .periods import PERIODS
 
@@ -335,7 +336,7 @@ LUNAR_LIMIT_DEG = 12 + 15 / 60
 LUNAR_CERTAIN_DEG = 9 + 30 / 60
 PENUMBRAL_LIMIT_DEG = 17.5
 
-METHODS = ("pointers", "cycle")
+METHODS = ECLIPSE_METHODS  # the command's --by (engine/defaults.py)
 
 
 def limits(train) -> dict[str, float]:

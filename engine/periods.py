@@ -25,8 +25,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
+from typing import TYPE_CHECKING
 
-import numpy as np
+if TYPE_CHECKING:  # numpy is imported by the two functions using it: commands' --help
+    import numpy as np  # reads this module's constants without loading it
 
 JULIAN_YEAR_DAYS = 365.25  # the Julian year: "years" in spans, steps and reports
 JULIAN_CENTURY_DAYS = 100 * JULIAN_YEAR_DAYS  # 36525 days
@@ -204,6 +206,8 @@ def find_period(text: str) -> MeanPeriod:
 
 
 def _poly(t: np.ndarray, coeffs: tuple[float, ...]) -> np.ndarray:
+    import numpy as np
+
     out = np.zeros_like(t)
     for c in reversed(coeffs):
         out = out * t + c
@@ -230,6 +234,8 @@ def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]
     ``NAME`` (its mean longitude seen from the Earth) and ``NAME_from_sun`` (heliocentric), and
     ``earth_from_sun``. ``keys`` limits the work to those keys (default: all).
     """
+    import numpy as np
+
     t = (np.asarray(jd_tt, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
     series = {"sun": _SUN_L0, "moon": _MOON_L, "phase": _MOON_D, "anomaly": _MOON_M,
               "sun_anomaly": _SUN_M, "draconic": _MOON_F, "node": _MOON_NODE}

@@ -10,8 +10,6 @@ phases (0, 90, 180, 270° of elongation) get bands one mean day of elongation wi
 
 from __future__ import annotations
 
-import numpy as np
-
 from .periods import JULIAN_CENTURY_DAYS, MOON_ELONGATION_RATE
 
 EXACT_PHASE_HALF_WIDTH_DAYS = 1.0
@@ -37,13 +35,14 @@ PHASES = (
 PHASE_NAMES = tuple(name for name, _, _ in PHASES)
 
 # Band edges: each exact phase covers centre ± half-width; the in-between band the rest.
-_STARTS = np.array([(c - w) % 360.0 if w is not None else (c - 45.0 + HALF_WIDTH_DEG)
-                    for _, c, w in PHASES])
+# A tuple, not an array: the sky command's --help reads the bands without loading numpy.
+_STARTS = tuple((c - w) % 360.0 if w is not None else (c - 45.0 + HALF_WIDTH_DEG)
+                for _, c, w in PHASES)
 
 
 def phase_bands() -> list[tuple[str, float, float]]:
     """(name, from °, to °) of each band of elongation, as the help and the docs say them."""
-    ends = np.roll(_STARTS, -1)
+    ends = _STARTS[1:] + _STARTS[:1]
     return [(name, float(a), float(b)) for name, a, b in zip(PHASE_NAMES, _STARTS, ends,
                                                            strict=True)]
 
@@ -51,9 +50,11 @@ def phase_bands() -> list[tuple[str, float, float]]:
 def phase_names(elongation_deg) -> list[str]:
     """Phase name of each elongation (the Moon's ecliptic longitude less the Sun's, degrees;
     flattened, a scalar gives a one-item list)."""
+    import numpy as np
+
     e = np.mod(np.ravel(np.asarray(elongation_deg, dtype=float)) + HALF_WIDTH_DEG, 360.0)
     # shifted so "new" starts at 0: the shifted starts are increasing
-    starts = np.mod(_STARTS + HALF_WIDTH_DEG, 360.0)
+    starts = np.mod(np.array(_STARTS) + HALF_WIDTH_DEG, 360.0)
     band = np.searchsorted(starts, e, side="right") - 1
     return [PHASE_NAMES[int(b)] for b in band]
 

@@ -35,6 +35,13 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from .defaults import (  # with their sources
+    DEFAULT_DIVISION,
+    DEFAULT_ECCENTRICITY_MM,
+    DEFAULT_END_SHAKE_MM,
+    DEFAULT_TILT_DEG,
+    LEVER_MM,
+)
 from .kinematics import Kinematics
 from .periods import JULIAN_YEAR_DAYS
 from .readout import pointer_linear
@@ -43,27 +50,13 @@ from .train import FRAME, Train
 
 # --- default tolerances (each with where it comes from) --------------------------------------
 
-DEFAULT_DIVISION = 0.01
-"""Random tooth-division error, one standard deviation, as a fraction of the pitch: teeth cut
-with a good dividing plate by hand (common practice, no source)."""
-
-DEFAULT_ECCENTRICITY_MM = 0.02
-"""Largest eccentricity of a wheel on its arbor: a wheel turned true on its arbor in a small
-lathe (common practice, no source)."""
-
-DEFAULT_END_SHAKE_MM = 0.08
-"""Axial play of an arbor between its pivots (common practice, no source)."""
-
-DEFAULT_TILT_DEG = 0.25
-"""Tilt of an arbor in its pivot holes (side shake), degrees (common practice, no source)."""
+# The default tolerances (DEFAULT_DIVISION, DEFAULT_ECCENTRICITY_MM, DEFAULT_END_SHAKE_MM,
+# DEFAULT_TILT_DEG) and LEVER_MM live in engine/defaults.py with their sources.
 
 INVOLUTE_BACKLASH_M = 0.1
 """Backlash of an involute mesh as cut by hand or laser, in modules, at its drawn centre
 distance (common practice, no source). Cycloidal meshes take the backlash their tooth
 proportions leave (π − wheel tooth − pinion leaf, on the pitch circle)."""
-
-LEVER_MM = 10.0
-"""How far a wheel sits from the pivot about which its arbor tilts (our assumption)."""
 
 DEPTH_RULE_M = 0.25
 """Rule of thumb: a mesh whose centre distance can open by more than a quarter of the module

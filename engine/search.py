@@ -30,6 +30,7 @@ from fractions import Fraction
 
 import numpy as np
 
+from .defaults import SEARCH_MAX_TEETH, SEARCH_MAX_TOP
 from .errors import SearchError
 from .exact import fraction_text, parse_fraction
 from .kinds import KINDS
@@ -51,7 +52,7 @@ _BARE_KEY_RE = re.compile(r"^[A-Za-z0-9_-]+$")
 
 # Bounds of every number a search takes (each refused beyond, with what would work).
 MIN_VALUE, MAX_VALUE = Fraction(1, 10**9), Fraction(10**12)  # period, ratio, crank days
-MAX_TOP = 200  # trains listed at most: more is a table nobody reads, and costs minutes
+MAX_TOP = SEARCH_MAX_TOP  # trains listed at most (engine/defaults.py)
 HOPELESS = Fraction(101, 100)  # a target this far beyond what the bounds reach is refused
 
 
@@ -410,7 +411,7 @@ def _pair_stages(drivers: tuple[int, ...], driven: tuple[int, ...]) -> tuple[Whe
 # Enumeration
 
 
-MAX_TEETH = 10_000  # keeps every product of four counts inside int64
+MAX_TEETH = SEARCH_MAX_TEETH  # keeps every product of four counts inside int64
 MAX_MULTISETS = 40_000_000  # products enumerated per role and stage count (memory bound)
 
 

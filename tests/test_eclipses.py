@@ -281,13 +281,13 @@ def test_cli_text_csv_and_refusals(tmp_path, capsys):
 
 
 def test_cli_ctrl_c_stops_cleanly(tmp_path, monkeypatch, capsys):
-    import engine.commands.eclipses as cmd
+    import engine.eclipses as engine_eclipses  # the command imports it when it runs
     from engine.cli import main
 
     def stop(*args, **kwargs):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(cmd, "check", stop)
+    monkeypatch.setattr(engine_eclipses, "check", stop)
     path = tmp_path / "e.csv"
     assert main(["eclipses", "tide_office", "--years", "20", "--csv", str(path)]) == 130
     err = capsys.readouterr().err

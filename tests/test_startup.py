@@ -10,6 +10,9 @@ import subprocess
 import sys
 
 import numpy as np
+import pytest
+
+from engine.cli import COMMANDS
 
 HEAVY = ("sympy", "mpmath", "textual", "matplotlib", "ezdxf", "tomlkit")
 
@@ -45,6 +48,19 @@ def test_help_imports_no_numpy():
         "with contextlib.redirect_stdout(io.StringIO()):\n"
         "    assert main(['--help']) == 0")
     assert not found & {*HEAVY, "numpy", "skyfield", "rich"}, found
+
+
+@pytest.mark.parametrize("command", [*COMMANDS, "crank"])
+def test_each_command_help_imports_no_numpy(command):
+    # `wheelwork CMD --help` builds the command's parser only: the engine's computation (and
+    # numpy, skyfield, rich with it) is imported when the command runs
+    found = _modules_after(
+        "import contextlib, io\nfrom engine.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()) as out:\n"
+        f"    assert main([{command!r}, '--help']) == 0\n"
+        f"assert out.getvalue().startswith('usage: wheelwork {command}'), out.getvalue()")
+    assert not found & {*HEAVY, "numpy", "skyfield", "rich"}, found & {
+        *HEAVY, "numpy", "skyfield", "rich"}
 
 
 def test_timescale_is_skyfields_own():

@@ -6,17 +6,15 @@ import argparse
 import dataclasses
 import json
 from fractions import Fraction
+from typing import TYPE_CHECKING
 
-from rich import box
-from rich.console import Console
-from rich.markup import escape
-from rich.text import Text
-
-from ..checks import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, CheckReport, check
-from ..exact import ratio_text
-from ..kinematics import solve
-from ..loader import load_train
+from ..defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY
 from . import support
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
+
+    from ..checks import CheckReport
 
 # A crank (or a motor driving one) beyond this is no longer a display mechanism.
 MAX_CRANK_RPM = 100_000
@@ -48,6 +46,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from ..checks import check
+    from ..kinematics import solve
+    from ..loader import load_train
+
     train = load_train(args.train)
     report = check(train, solve(train), crank_rpm=args.crank_rpm, efficiency=args.efficiency)
     if args.json:
@@ -90,6 +92,12 @@ def _num(x: float | None) -> str:
 
 
 def _print(report: CheckReport, console: Console) -> None:
+    from rich import box
+    from rich.markup import escape
+    from rich.text import Text
+
+    from ..exact import ratio_text
+
     console.print(Text.assemble((report.train, "bold"), f" — mechanical check at up to "
                                 f"{report.crank_rpm:g} rpm on '{report.crank_arbor}', "
                                 f"{report.efficiency:g} per stage"))

@@ -5,17 +5,16 @@ from __future__ import annotations
 import argparse
 import json
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from rich.console import Console
-from rich.markup import escape
-from rich.table import Table
-
-from ..drawing import CutSet, cut_parts, layout_sheet, to_dxf, to_svg
 from ..errors import OutputError, WheelworkError
-from ..kinematics import solve
-from ..loader import load_train
 from ..train import TOOTH_FORMS
 from . import support
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
+
+    from ..drawing import CutSet
 
 FORMATS = ("svg", "dxf")
 
@@ -42,6 +41,10 @@ def _formats(text: str) -> tuple[str, ...]:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from ..drawing import cut_parts, layout_sheet, to_dxf, to_svg
+    from ..kinematics import solve
+    from ..loader import load_train
+
     train = load_train(args.train)
     kin = solve(train)
     cut = cut_parts(train, kin, args.form)
@@ -77,6 +80,9 @@ def to_json(cut: CutSet, written: list[str]) -> dict:
 
 
 def _print(cut: CutSet, written: list[str], folder: Path, console: Console) -> None:
+    from rich.markup import escape
+    from rich.table import Table
+
     console.print(f"[bold]{escape(cut.train)}[/] — cutting files in {escape(str(folder))}")
     table = Table(box=None, pad_edge=False, collapse_padding=True)
     for col, just in (("part", "left"), ("z", "right"), ("m", "right"), ("form", "left"),

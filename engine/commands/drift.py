@@ -16,27 +16,18 @@ import math
 import signal
 import threading
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from rich import box
-from rich.console import Console
-from rich.table import Table
-from rich.text import Text
-
-from ..dates import format_jd
-from ..drift import (
-    PHASE_DEG_PER_DAY,
-    DriftCancelled,
-    DriftError,
-    DriftResult,
-    drift_series,
-    grid,
-    parse_step,
-)
 from ..errors import UsageError, WheelworkError
 from ..periods import JULIAN_YEAR_DAYS
-from ..view import decimal_year
 from . import support
 from .support import SUN_CAUTION
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
+    from rich.table import Table
+
+    from ..drift import DriftResult
 
 MAX_THRESHOLD_DAYS = 14.75  # half a synodic month: a phase is never further off than that
 CHARTS_HINT = ("--png needs matplotlib: pip install 'wheelwork[charts]' "
@@ -49,6 +40,8 @@ STOPPED = "wheelwork: drift stopped; no file written"
 # --- option values: malformed or out of range is a usage error (exit 2) ---------------------
 
 def _step(text: str) -> str:
+    from ..drift import parse_step
+
     if text.strip().startswith("-"):
         raise argparse.ArgumentTypeError(
             f"{text}: the step must be positive, e.g. 6h, 1d or 7d")
@@ -106,6 +99,8 @@ def _usage_error(args: argparse.Namespace, message: str):
 
 def _load_pyplot():
     """matplotlib's pyplot on the file-only backend, or a one-line error how to install it."""
+    from ..drift import DriftError
+
     try:
         import matplotlib
     except ImportError:
@@ -169,6 +164,8 @@ class _CsvSink:
             raise self.out._cannot(exc) from None
 
     def __call__(self, jd, errors):
+        from ..dates import format_jd
+
         cols = [jd.tolist()]
         for n in self.names:
             e = errors[n]
@@ -229,12 +226,17 @@ class _CtrlC:
 
 def _year(jd):
     """Decimal years (Julian years from J2000; fine for a chart's axis)."""
+    from ..view import decimal_year
+
     return decimal_year(jd)
 
 
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
+    from ..dates import format_jd
+    from ..drift import PHASE_DEG_PER_DAY
+
     plt = _load_pyplot()
     names = list(result.summaries)
     fig, axes = plt.subplots(len(names), 1, figsize=(10, 2.4 * len(names) + 0.8), sharex=True,
@@ -307,6 +309,8 @@ def _with_sigma(x: float, sigma: float, unit: str = "°") -> str:
 
 
 def _when(jd: float | None) -> str:
+    from ..dates import format_jd
+
     return "never" if jd is None else format_jd(jd)
 
 
@@ -324,6 +328,10 @@ def _uncertain_why(s) -> str:
 
 
 def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
+    from rich import box
+
+    from ..drift import PHASE_DEG_PER_DAY
+
     t = support.plain_table(title=f"{s.pointer} — shows {s.shows}", title_justify="left",
                             box=box.SIMPLE, show_header=False, pad_edge=False)
     t.add_column("figure", style="bold")
@@ -384,6 +392,10 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
 # --- the command ---------------------------------------------------------------------------
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from rich.console import Console
+
+    from ..drift import DriftCancelled
+
     err = Console(stderr=True, highlight=False, soft_wrap=True)
     with _CtrlC() as ctrl_c:
         try:
@@ -397,6 +409,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
+    from ..dates import format_jd
+    from ..drift import PHASE_DEG_PER_DAY, DriftError, drift_series, grid, parse_step
     from ..sky import Site
 
     step = parse_step(args.step)
@@ -475,6 +489,10 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
 
 def _report(args, console: Console, err: Console, mech, sky, result, start, end, step,
             csv_path, png_path) -> int:
+    from rich.text import Text
+
+    from ..dates import format_jd
+
     last = float(result.jd[-1])
     n = len(result.jd)
     if args.json:

@@ -13,20 +13,19 @@ from __future__ import annotations
 import argparse
 import json
 import math
+from typing import TYPE_CHECKING
 
-import numpy as np
-from rich import box
-from rich.console import Console
-from rich.table import Table
-from rich.text import Text
-
-from ..dates import format_jd
-from ..eclipses import METHODS, Check, check
+from ..defaults import ECLIPSE_METHODS as METHODS
 from ..errors import TrainError, UsageError
 from ..periods import JULIAN_YEAR_DAYS
 from . import support
 from .drift import _CtrlC, date_heading
 from .support import SUN_CAUTION
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
+
+    from ..eclipses import Check
 
 PROGRESS_MIN_DAYS = 30 * JULIAN_YEAR_DAYS  # shorter spans finish before a bar is worth drawing
 STOPPED = "wheelwork: eclipses stopped; no file written"
@@ -76,6 +75,10 @@ def _detail_text(c: Check, i: int) -> str:
 
 def document(c: Check, mech, sky, args) -> dict:
     """The ``--json`` document."""
+    import numpy as np
+
+    from ..dates import format_jd
+
     counts = c.counts()
     real = [{"jd_ut": float(c.jd_greatest[i]), "kind": c.kind(i), "type": c.real_type[i],
              "date": format_jd(c.jd_greatest[i]), "gamma": _num(c.gamma[i], 4)}
@@ -112,6 +115,8 @@ def document(c: Check, mech, sky, args) -> dict:
 def write_csv(c: Check, out: support.OutputFile) -> None:
     import csv
 
+    from ..dates import format_jd
+
     with out.open("w", newline="", encoding="utf-8") as fh:
         w = csv.writer(fh)
         w.writerow([date_heading(float(c.jd_ut[0]), float(c.jd_ut[-1])) if len(c.jd_ut)
@@ -132,6 +137,8 @@ def write_csv(c: Check, out: support.OutputFile) -> None:
 # --- the command ---------------------------------------------------------------------------
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from rich.console import Console
+
     err = Console(stderr=True, highlight=False, soft_wrap=True)
     with _CtrlC() as ctrl_c:
         try:
@@ -144,6 +151,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
+
+    from ..eclipses import check
 
     inputs = [args.train] + ([args.ephemeris] if args.ephemeris else [])
     csv_out = (support.OutputFile(args.csv, option="--csv", force=args.force, inputs=inputs)
@@ -191,6 +200,12 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
 
 
 def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path) -> int:
+    from rich import box
+    from rich.table import Table
+    from rich.text import Text
+
+    from ..dates import format_jd
+
     if args.json:
         console.print_json(json.dumps(document(c, mech, sky, args)))
         return 0

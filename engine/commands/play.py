@@ -5,27 +5,24 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
+from typing import TYPE_CHECKING
 
-from rich.console import Console
-from rich.markup import escape
-from rich.table import Table
-
-from ..errors import UsageError
-from ..kinematics import solve
-from ..loader import load_train
-from ..periods import JULIAN_YEAR_DAYS
-from ..play import (
+from ..defaults import (
     DEFAULT_DIVISION,
     DEFAULT_ECCENTRICITY_MM,
     DEFAULT_END_SHAKE_MM,
     DEFAULT_TILT_DEG,
     LEVER_MM,
-    PlayReport,
-    Tolerances,
-    play,
 )
+from ..errors import UsageError
+from ..periods import JULIAN_YEAR_DAYS
 from ..train import TOOTH_FORMS
 from . import support
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
+
+    from ..play import PlayReport
 
 MAX_BUILDS = 100_000
 MAX_SAMPLES = 100_000
@@ -99,6 +96,10 @@ def _tilt(text: str) -> float:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from ..kinematics import solve
+    from ..loader import load_train
+    from ..play import Tolerances, play
+
     if args.builds * args.samples > MAX_CELLS:
         raise UsageError(f"--builds × --samples is {args.builds * args.samples:,}; "
                                  f"keep it at most {MAX_CELLS:,}", "wheelwork play")
@@ -136,6 +137,9 @@ def _days(d: float | None) -> str:
 
 
 def _print(report: PlayReport, console: Console) -> None:
+    from rich.markup import escape
+    from rich.table import Table
+
     tol = report.tolerances
     back = (f"{tol.backlash_mm:g} mm" if tol.backlash_mm is not None
             else "what the tooth form leaves")

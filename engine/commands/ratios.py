@@ -4,17 +4,12 @@ from __future__ import annotations
 
 import argparse
 import json
+from typing import TYPE_CHECKING
 
-from rich import box
-from rich.console import Console
-from rich.markup import escape
-
-from ..exact import fraction_text
-from ..kinematics import solve
-from ..loader import load_train
-from ..ratios import pointer_ratios
-from ..readout import backward_warnings
 from . import support
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -32,6 +27,15 @@ def _years(y: float | None) -> str:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from rich import box
+    from rich.markup import escape
+
+    from ..exact import fraction_text
+    from ..kinematics import solve
+    from ..loader import load_train
+    from ..ratios import pointer_ratios
+    from ..readout import backward_warnings
+
     train = load_train(args.train)
     kin = solve(train)
     rows = pointer_ratios(train, kin)

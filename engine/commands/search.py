@@ -6,29 +6,18 @@ import argparse
 import json
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from rich import box
-from rich.console import Console
-from rich.markup import escape
-
+from ..defaults import SEARCH_MAX_TEETH as MAX_TEETH
+from ..defaults import SEARCH_MAX_TOP as MAX_TOP
 from ..errors import SearchError
-from ..exact import fraction_text, parse_fraction, ratio_text
 from ..periods import PERIODS, relation_error_ppm
-from ..search import (
-    MAX_TEETH,
-    MAX_TOP,
-    Convergent,
-    SearchReport,
-    TrainResult,
-    check_reachable,
-    emit_fragment,
-    make_constraints,
-    make_target,
-    parse_counts,
-    result_to_dict,
-    search,
-)
 from . import support
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
+
+    from ..search import Convergent, SearchReport, TrainResult
 
 FAR_PPM = 1e4  # a best train more than 1% off is worth a word: the bounds are too tight
 
@@ -37,6 +26,8 @@ def _number(what: str):
     """An argparse type: a positive decimal or fraction (a value that cannot be read or is out
     of range is a usage error, exit 2); the text itself is passed on, to be read exactly."""
     def check(text: str) -> str:
+        from ..exact import parse_fraction
+
         try:
             parse_fraction(text, what, positive=True)
         except ValueError as exc:
@@ -60,11 +51,25 @@ def _engine_value(read, what: str):
 
 
 def _stage_counts(text: str) -> str:
+    from ..search import make_constraints
+
     try:
         make_constraints(stages=text)
     except SearchError as exc:
         raise argparse.ArgumentTypeError(str(exc)) from None
     return text
+
+
+def _constraints(**bounds):
+    from ..search import make_constraints
+
+    return make_constraints(**bounds)
+
+
+def _counts(text: str):
+    from ..search import parse_counts
+
+    return parse_counts(text)
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -84,12 +89,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     bounds.add_argument("--stages", default="1-3", metavar="N|MIN-MAX", type=_stage_counts,
                         help="number of stages, 1-4 (default 1-3)")
     bounds.add_argument("--wheels", default="8-150", metavar="MIN-MAX",
-                        type=_engine_value(lambda t: make_constraints(wheels=t), "wheels"),
+                        type=_engine_value(lambda t: _constraints(wheels=t), "wheels"),
                         help="teeth of the wheels, the larger member of a stage (default 8-150)")
     bounds.add_argument("--pinions", default="8-150", metavar="MIN-MAX",
-                        type=_engine_value(lambda t: make_constraints(pinions=t), "pinions"),
+                        type=_engine_value(lambda t: _constraints(pinions=t), "pinions"),
                         help="teeth of the pinions, the smaller, faster member (default 8-150)")
-    bounds.add_argument("--allowed", metavar="LIST", type=_engine_value(parse_counts, "allowed"),
+    bounds.add_argument("--allowed", metavar="LIST", type=_engine_value(_counts, "allowed"),
                         help="only these counts, e.g. 12,15,20-30 (your cutters or plate)")
     bounds.add_argument("--max-prime", type=support.whole("the largest prime factor", 2, MAX_TEETH),
                         metavar="P",
@@ -116,6 +121,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from ..search import check_reachable, make_constraints, make_target, search
+
     with support.usage_errors():  # option values that do not fit together: exit 2
         target = make_target(period=args.period, ratio=args.ratio, cycle=args.cycle,
                              crank_days=args.crank_days)
@@ -142,6 +149,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 
 def _emit(report: SearchReport, args: argparse.Namespace, out: support.OutputFile) -> Path:
+    from ..search import emit_fragment
+
     if not report.results:
         raise SearchError("--emit: no train within these bounds to write")
     if not 1 <= args.pick <= len(report.results):
@@ -154,6 +163,9 @@ def _emit(report: SearchReport, args: argparse.Namespace, out: support.OutputFil
 
 
 def _to_json(report: SearchReport, written: Path | None) -> dict:
+    from ..exact import ratio_text
+    from ..search import result_to_dict
+
     t, c = report.target, report.constraints
     return {
         "target": {"label": t.label, "ratio": ratio_text(t.ratio), "ratio_float": float(t.ratio),
@@ -178,6 +190,9 @@ def _relation_json(t) -> dict:
 
 
 def _conv_dict(v: Convergent) -> dict:
+    from ..exact import ratio_text
+    from ..search import result_to_dict
+
     return {"ratio": ratio_text(v.ratio), "period_days": ratio_text(v.period_days),
             "period_error_ppm": v.period_error_ppm, "admitted": v.admitted,
             "train": result_to_dict(v.train) if v.train else None, "reason": v.reason or None}
@@ -194,6 +209,11 @@ def _years(y: float) -> str:
 
 
 def _print(report: SearchReport, console: Console) -> None:
+    from rich import box
+    from rich.markup import escape
+
+    from ..exact import fraction_text, ratio_text
+
     t = report.target
     days = fraction_text(t.crank_days)
     console.print(f"[bold]target[/]: {escape(t.label)} — {float(t.ratio):.12g} turns per crank "

@@ -4,17 +4,15 @@ from __future__ import annotations
 
 import argparse
 import json
+from typing import TYPE_CHECKING
 
-from rich import box
-from rich.console import Console
-from rich.markup import escape
-
-from ..dates import calendar_date, format_jd, parse_date
 from ..errors import DateError, UsageError
 from ..phases import phase_help
-from ..sky import PLANETS, Site, Sky
 from . import support
 from .support import SUN_CAUTION
+
+if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
+    from rich.console import Console
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -47,6 +45,12 @@ def _sigma(seconds: float) -> str:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    from rich import box
+    from rich.markup import escape
+
+    from ..dates import calendar_date, format_jd, parse_date
+    from ..sky import PLANETS, Site, Sky
+
     try:
         jd = parse_date(args.date, calendar=args.calendar)
     except DateError as exc:  # read after --calendar is known, so not an argparse type
