@@ -27,7 +27,7 @@ from tui.screens import (
     long_help,
 )
 from tui.session import SPEEDS
-from tui.widgets import CAUTION, Readings, SkyDial, Status
+from tui.widgets import CAUTION, Readings, SkyDial, Status, canvas_rows
 
 SIZE = (120, 40)
 
@@ -740,7 +740,7 @@ async def test_train_counts_have_a_key_and_leave_wheels_and_labels_alone(size, k
         assert "turns since epoch" in str(app.screen.query_one("#train").border_subtitle)
         static_text, static_style = view._static
         counts = 0
-        for y, row in enumerate(view._styles):
+        for y, row in enumerate(canvas_rows(view)[1]):
             for x, style in enumerate(row):
                 if style != COUNT:
                     continue
@@ -1003,17 +1003,23 @@ async def test_sky_dial_marks_each_planet_and_keys_them():
 
 
 def test_canvas_private_internals_still_there():
-    """tui/widgets.py works on the hi-res canvas's private buffers (CANVAS_INTERNALS); if a
-    release of the library drops or renames one, this fails here, loudly."""
+    """tui/widgets.py reaches the hi-res canvas's private rows in one function, canvas_rows
+    (CANVAS_INTERNALS); if a release of the library drops, renames or stops drawing from them,
+    this fails here, loudly."""
     from textual_hires_canvas import Canvas
 
-    from tui.widgets import CANVAS_INTERNALS
+    from tui.widgets import CANVAS_INTERNALS, canvas_rows
 
     canvas = Canvas(4, 3)
     for name in CANVAS_INTERNALS:
         assert hasattr(canvas, name), f"textual_hires_canvas.Canvas has no {name} any more"
-    assert len(canvas._buffer) == 3 and len(canvas._buffer[0]) == 4
-    assert len(canvas._styles) == 3 and canvas._canvas_size.width == 4
+    chars, styles = canvas_rows(canvas)
+    assert [len(row) for row in chars] == [4] * 3 and [len(row) for row in styles] == [4] * 3
+    chars[2][1], styles[2][1] = "x", "bold red"  # written in place: the canvas shows it
+    assert canvas.get_pixel(1, 2) == ("x", "bold red")
+    assert "x" in canvas.render_line(2).text
+    canvas.set_pixel(3, 0, "y", "blue")  # and the rows are the canvas's own
+    assert canvas_rows(canvas)[0][0][3] == "y" and canvas_rows(canvas)[1][0][3] == "blue"
 
 
 @pytest.mark.parametrize("size", [(80, 24), (100, 30), (120, 40), (160, 50), (200, 60),
@@ -1026,7 +1032,7 @@ async def test_dial_shows_every_sign_label(size):
     async with app.run_test(size=size) as pilot:
         await pilot.pause()
         dial = app.screen.query_one(SkyDial)
-        text = "\n".join("".join(row) for row in dial._buffer)
+        text = "\n".join("".join(row) for row in canvas_rows(dial)[0])
         short = dial._geom[2] < 8
         for name in SIGNS:
             assert (name[:2] if short else name) in text, (size, name)
@@ -1254,7 +1260,7 @@ async def test_sky_dial_ring_signs_and_hub_stand_out_in_the_theme(theme):
         await pilot.pause()
         dial = app.screen.query_one(SkyDial)
         bg = Color.parse(app.theme_variables["background"])
-        chars, styles = dial._buffer, dial._styles
+        chars, styles = canvas_rows(dial)
         _, _, r = dial._geom
         for k in range(12):
             x, y, name = dial._sign_cells(r, k)

@@ -170,22 +170,34 @@ def _scalar(a) -> float:
     return float(a.reshape(-1)[0]) if hasattr(a, "reshape") else float(a)
 
 
-#: The hi-res canvas's private attributes LayeredCanvas works on directly: the character and
-#: style buffers (copied for the static layer, compared row by row to repaint only what
-#: changed), the canvas size and the refresh hold. The library has no public access to them;
-#: pyproject.toml bounds its version and tests/test_tui.py fails loudly if one disappears.
-CANVAS_INTERNALS = ("_buffer", "_styles", "_canvas_size", "_refreshes_pending")
+#: The hi-res canvas's private attributes :func:`canvas_rows` reads (tests/test_tui.py checks
+#: they are still there and still what the canvas draws).
+CANVAS_INTERNALS = ("_buffer", "_styles")
+
+
+def canvas_rows(canvas: Canvas) -> tuple[list[list[str]], list[list[str]]]:
+    """The canvas's characters and styles, one list per row (``[y][x]``), live: what is
+    written into them is what the canvas draws.
+
+    The one place that reaches into textual-hires-canvas's private state. Its public
+    ``get_pixel``/``set_pixel`` work a cell at a time, while :class:`LayeredCanvas` copies
+    its static layer and compares frames whole rows at a time. pyproject.toml bounds the
+    library's version (<0.15), and tests/test_tui.py fails loudly if a release changes these
+    attributes. The rows are replaced when the canvas is reset: ask again after a resize."""
+    return canvas._buffer, canvas._styles
 
 
 class LayeredCanvas(Canvas):
     """A hi-res canvas that keeps a static layer (drawn once per size) under a moving one."""
 
     DEFAULT_CSS = "LayeredCanvas { width: 1fr; height: 1fr; }"
+    _holding = False  # a moving frame is being drawn: its rows are repainted when it is done
 
     def __init__(self, **kwargs):
         super().__init__(1, 1, default_hires_mode=HiResMode.BRAILLE, **kwargs)
         self._static: tuple[list[list[str]], list[list[str]]] | None = None
         self._now: Now | None = None
+        self.grid_size = Size(1, 1)  # cells, as last reset
 
     def on_canvas_resize(self, event: Canvas.Resize) -> None:
         event.stop()
@@ -199,9 +211,11 @@ class LayeredCanvas(Canvas):
             return
         self._lines: dict[int, tuple[tuple[str, str], Strip]] = {}
         with self.batch_refresh():
-            self.reset(size=Size(size.width, size.height), refresh=False)
+            self.grid_size = Size(size.width, size.height)
+            self.reset(size=self.grid_size, refresh=False)
             self.draw_static()
-            self._static = ([row[:] for row in self._buffer], [row[:] for row in self._styles])
+            chars, styles = canvas_rows(self)
+            self._static = ([row[:] for row in chars], [row[:] for row in styles])
             if self._now is not None:
                 self._draw_now(full=True)
 
@@ -210,30 +224,37 @@ class LayeredCanvas(Canvas):
         if self._static is not None:
             self._draw_now()
 
+    def refresh(self, *regions: Region, **kwargs) -> LayeredCanvas:
+        if self._holding:  # the frame's changed rows are asked for once it is drawn
+            return self
+        return super().refresh(*regions, **kwargs)
+
     def _draw_now(self, full: bool = False) -> None:
         """Redraw the moving layer over the static one; repaint only the rows that changed."""
-        before = self._buffer, self._styles
-        buf, sty = self._static
-        self._refreshes_pending += 1  # hold the canvas's own whole-widget refreshes
+        chars, styles = canvas_rows(self)
+        before = [row[:] for row in chars], [row[:] for row in styles]
+        self._holding = True
         try:
-            self._buffer = [row[:] for row in buf]
-            self._styles = [row[:] for row in sty]
+            for rows, static in zip((chars, styles), self._static, strict=True):
+                for row, was in zip(rows, static, strict=True):
+                    row[:] = was
             self.draw_moving(self._now)
         finally:
-            self._refreshes_pending -= 1
-        w = self._canvas_size.width
-        if full or len(before[0]) != len(self._buffer):
+            self._holding = False
+        if full:
             self.refresh()
             return
-        rows = [Region(0, y, w, 1) for y in range(len(self._buffer))
-                if self._buffer[y] != before[0][y] or self._styles[y] != before[1][y]]
-        if rows:
-            super().refresh(*rows)
+        w = self.grid_size.width
+        changed = [Region(0, y, w, 1) for y in range(len(chars))
+                   if chars[y] != before[0][y] or styles[y] != before[1][y]]
+        if changed:
+            self.refresh(*changed)
 
     def render_line(self, y: int) -> Strip:
-        if y >= len(self._buffer):
+        chars, styles = canvas_rows(self)
+        if y >= len(chars):
             return super().render_line(y)
-        key = ("".join(self._buffer[y]), "\0".join(self._styles[y]))
+        key = ("".join(chars[y]), "\0".join(styles[y]))
         cached = getattr(self, "_lines", {}).get(y)
         if cached is not None and cached[0] == key:
             return cached[1]
@@ -245,8 +266,8 @@ class LayeredCanvas(Canvas):
     def dots(self, points, style: str) -> None:
         """Set braille dots at cell coordinates (x right, y down; 2 × 4 dots a cell), merging
         with dots already in each cell; the cell takes the newest style."""
-        w, h = self._canvas_size.width, self._canvas_size.height
-        buf, sty = self._buffer, self._styles
+        w, h = self.grid_size
+        buf, sty = canvas_rows(self)
         for x, y in points:
             hx, hy = math.floor(x * 2.0), math.floor(y * 4.0)
             cx, cy = hx >> 1, hy >> 2
@@ -272,12 +293,14 @@ class LayeredCanvas(Canvas):
     def put(self, x: float, y: float, text: str, style: str) -> None:
         """Write plain text starting at cell (x, y) with one style, clipped to the canvas."""
         yi, xi = int(round(y)), int(round(x))
-        if not 0 <= yi < self._canvas_size.height:
+        w, h = self.grid_size
+        if not 0 <= yi < h:
             return
+        chars, styles = canvas_rows(self)
         for i, ch in enumerate(text):
-            if 0 <= xi + i < self._canvas_size.width:
-                self._buffer[yi][xi + i] = ch
-                self._styles[yi][xi + i] = style
+            if 0 <= xi + i < w:
+                chars[yi][xi + i] = ch
+                styles[yi][xi + i] = style
         self.refresh()
 
     def draw_static(self) -> None:  # pragma: no cover - overridden
@@ -376,7 +399,7 @@ class SkyDial(LayeredCanvas):
         return max(r, 2.0)
 
     def draw_static(self) -> None:
-        w, h = self._canvas_size.width, self._canvas_size.height
+        w, h = self.grid_size
         cx, cy = w / 2.0, h / 2.0
         r = self.fit_radius(w, h)
         self._geom = (cx, cy, r)
@@ -481,7 +504,7 @@ class TrainView(LayeredCanvas):
         self._hands = {p.arbor for p in session.mech.train.pointers.values()}
 
     def draw_static(self) -> None:
-        w, h = self._canvas_size.width, self._canvas_size.height
+        w, h = self.grid_size
         lay = self.train_layout
         if not lay.ncols:
             return
@@ -605,7 +628,7 @@ class OrreryPlan(LayeredCanvas):
         return cx + r * math.cos(t), cy - 0.5 * r * math.sin(t)
 
     def draw_static(self) -> None:
-        w, h = self._canvas_size.width, self._canvas_size.height
+        w, h = self.grid_size
         cx, cy = w / 2.0, h / 2.0
         r = max(min(w / 2.0 - 2.0, (h / 2.0 - 1.0) * 2.0), 2.0)
         self._geom = (cx, cy, r)
