@@ -91,6 +91,69 @@ def train_layout(train: Train) -> TrainLayout:
                        max_teeth)
 
 
+@dataclass(frozen=True)
+class WheelPlace:
+    """Where an arbor's wheel is drawn on a canvas of character cells (x right, y down; a
+    cell is twice as tall as wide, so the rim is an ellipse of half-widths ``r`` and
+    ``r / 2``), and its label: ``label`` from cell ``label_x`` on row ``label_row``."""
+
+    x: float
+    y: float
+    r: float
+    label: str
+    label_x: int
+    label_row: int
+    col_left: float  # the arbor's column, for text placed beside the label
+    col_right: float
+
+
+def place_train(layout: TrainLayout, width: int, height: int) -> dict[str, WheelPlace]:
+    """Where each arbor of ``layout`` goes on a ``width`` × ``height`` cell canvas: columns
+    share the width, rows the height; a wheel's radius grows with its largest tooth count."""
+    if not layout.ncols or width < 1 or height < 1:
+        return {}
+    cw = width / layout.ncols
+    rh = height / max(layout.nrows, 1)
+    rmax = max(min(cw / 2.0 - 1.0, rh - 1.8), 1.0)
+    out = {}
+    for name, s in layout.spots.items():
+        x = (s.col + 0.5) * cw
+        y = s.row * rh + (rh - 1.2) / 2.0
+        frac = s.teeth / layout.max_teeth if layout.max_teeth else 0.5
+        r = max(rmax * (0.35 + 0.65 * frac), 1.0)
+        label = f"{name} {s.teeth}" if s.teeth else name
+        if len(label) > cw - 1:
+            label = label[: max(int(cw) - 1, 1)]
+        x0 = round(x - len(label) / 2.0)
+        out[name] = WheelPlace(x, y, r, label, x0, round(y + 0.5 * r + 0.6),
+                               s.col * cw + 0.5, (s.col + 1) * cw - 1.0)
+    return out
+
+
+def arbor_at(places: dict[str, WheelPlace], x: float, y: float) -> str | None:
+    """The arbor drawn at canvas point (x, y) (a cell's centre is (col + 0.5, row + 0.5)):
+    one whose rim (half a cell of slack) or label holds the point, the nearest centre when
+    two do; None over empty canvas."""
+    best, best_d = None, math.inf
+    for name, p in places.items():
+        dx, dy = x - p.x, (y - p.y) * 2.0  # rows are twice as tall: back to a circle
+        d = math.hypot(dx, dy)
+        on_label = (math.floor(y) == p.label_row
+                    and p.label_x <= x < p.label_x + len(p.label))
+        if (d <= p.r + 0.5 or on_label) and d < best_d:
+            best, best_d = name, d
+    return best
+
+
+def picked_wheel(train: Train, arbor: str) -> str | None:
+    """The wheel a click on ``arbor``'s drawing picks: its largest (the one its label names;
+    the first in the file on a tie), None for an arbor without wheels."""
+    wheels = train.arbors[arbor].wheels if arbor in train.arbors else ()
+    if not wheels:
+        return None
+    return max(wheels, key=lambda w: (train.wheels[w].teeth, -wheels.index(w)))
+
+
 def arbor_turns(rates: dict[str, Fraction], turns: Turns) -> dict[str, float]:
     """Turns each arbor has made since the epoch (signed), from exact rates and crank turns."""
     whole = int(np.asarray(turns.whole).reshape(-1)[0])

@@ -308,3 +308,49 @@ async def test_a_locking_change_is_refused_in_the_dialog(tmp_path):
         assert text_of(app.screen.query_one("#parts-compare")) == compare
         assert app.session.mech.train.wheels["b2"].teeth == 60
         assert not app.session.editor.can_undo and path.read_text() == LOOP
+
+
+async def click_arbor(pilot, app, arbor: str, on_label: bool = False) -> None:
+    """Click the middle of an arbor's wheel (or its label) in the bench's train drawing."""
+    from tui.widgets import TrainView
+
+    view = app.screen.query_one(TrainView)
+    p = view._places[arbor]
+    x, y = (p.label_x + len(p.label) // 2, p.label_row) if on_label else (int(p.x), int(p.y))
+    inset = view.content_region.offset - view.region.offset  # the panel's border
+    await pilot.click(TrainView, offset=(x + inset.x, y + inset.y))
+    await pilot.pause()
+
+
+@sync
+async def test_a_click_on_a_wheel_in_the_drawing_opens_it_in_the_parts_screen(tmp_path):
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.pause()
+        await click_arbor(pilot, app, "sun_first")
+        assert isinstance(app.screen, PartsScreen)
+        assert app.screen.key == ("teeth", "sun_w1")  # the largest wheel on the arbor
+        assert app.screen.query_one("#parts-value", Input).value == "59"
+        done = text_of(app.screen.query_one("#parts-done"))
+        assert "arbor sun_first" in done and "sun_p2 11" in done
+        ol = app.screen.query_one("#parts-list", OptionList)
+        assert str(ol.get_option_at_index(ol.highlighted).prompt).startswith("sun_w1:")
+        # the same dialog as the list: an edit from here re-solves the train
+        await type_value(pilot, app, "60")
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 60
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        await click_arbor(pilot, app, "node", on_label=True)
+        assert isinstance(app.screen, PartsScreen) and app.screen.key == ("teeth", "node_w2")
+        await pilot.press("escape")
+        await pilot.pause()
+        # a click on bare canvas opens nothing
+        from engine.view import arbor_at
+        from tui.widgets import TrainView
+
+        view = app.screen.query_one(TrainView)
+        assert arbor_at(view._places, view.region.width - 3.5, 0.5) is None
+        await pilot.click(TrainView, offset=(view.region.width - 2, 1))
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)

@@ -5,6 +5,7 @@ from fractions import Fraction
 import numpy as np
 import pytest
 
+from engine.demos import demo_path
 from engine.exact import Turns
 from engine.loader import load_train
 from engine.mechanism import DEFAULT_TRAIN
@@ -83,3 +84,29 @@ def test_turns_label_fits_the_width():
         for w in range(1, 10):
             got = turns_label(n, w)
             assert got is None or len(got) <= w
+
+
+# --- where the train drawing puts each arbor, and which arbor a click lands on ---------------
+def test_place_train_and_the_hit_test_agree_with_every_wheel():
+    from engine.view import arbor_at, picked_wheel, place_train
+
+    train = load_train(demo_path("tide_office"))
+    layout = train_layout(train)
+    for width, height in ((158, 14), (78, 8), (300, 40)):
+        places = place_train(layout, width, height)
+        assert set(places) == set(train.arbors)
+        for name, p in places.items():
+            assert 0 <= p.x <= width and 0 <= p.y <= height
+            assert arbor_at(places, p.x, p.y) == name  # the centre of its wheel
+            # the label's first and last cells
+            assert arbor_at(places, p.label_x + 0.5, p.label_row + 0.5) == name
+            assert arbor_at(places, p.label_x + len(p.label) - 0.5, p.label_row + 0.5) == name
+    places = place_train(layout, 158, 14)
+    sun = places["sun"]
+    # the rim is an ellipse, half as tall as wide: a point just outside it is not the wheel
+    assert arbor_at(places, sun.x, sun.y - sun.r / 2 - 0.8) != "sun"
+    assert arbor_at(places, -5.0, -5.0) is None
+    # a click picks the arbor's largest wheel, the one its label names
+    assert picked_wheel(train, "sun_first") == "sun_w1"  # 59 teeth beside an 11-leaf pinion
+    assert picked_wheel(train, "sun") == "sun_w3"
+    assert picked_wheel(train, "nowhere") is None

@@ -180,8 +180,9 @@ class PartsScreen(ClosesOnce, Screen):
         Binding("f1", "help", "help"),
     ]
 
-    def __init__(self, session, key: tuple | None = None):
+    def __init__(self, session, key: tuple | None = None, picked: bool = False):
         super().__init__()
+        self.picked = picked
         self.session = session
         self.editor: TrainEditor = session.editor
         #: the part shown first: ("teeth", wheel) when a wheel was clicked in the drawing
@@ -218,7 +219,19 @@ class PartsScreen(ClosesOnce, Screen):
         self.query_one("#parts-compare").border_title = "ratios: file → now"
         self._fill_list()
         self._show_all()
+        if self.picked and self.key[0] == "teeth":
+            self._picked_note(self.key[1])
         self.query_one("#parts-value", Input).focus()
+
+    def _picked_note(self, wheel: str) -> None:
+        """Say which wheel a click in the drawing picked, and what else is on its arbor."""
+        train = self.editor.mech.train
+        arbor = train.wheels[wheel].arbor
+        others = [f"{w} {train.wheels[w].teeth}" for w in train.arbors[arbor].wheels
+                  if w != wheel]
+        also = f"; also on it: {', '.join(others)} (↑ ↓ in the list)" if others else ""
+        self.query_one("#parts-done", Label).update(
+            Text(f"picked in the drawing: arbor {arbor}{also}", style="#9aa5b1"))
 
     def _fill_list(self, keep: int | None = None) -> None:
         ol = self.query_one("#parts-list", OptionList)

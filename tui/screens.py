@@ -412,6 +412,18 @@ class BenchScreen(Screen):
             self._stop()
             self.app.push_screen(PartsScreen(self.session))
 
+    def on_train_view_wheel_picked(self, event: TrainView.WheelPicked) -> None:
+        """A click on a wheel in the train drawing: the parts screen, on that wheel."""
+        from .editing import PartsScreen
+
+        if self.session.editor is None:
+            return
+        if event.wheel is None:
+            self.notify(f"arbor {event.arbor} carries no wheel to change", timeout=3)
+            return
+        self._stop()
+        self.app.push_screen(PartsScreen(self.session, ("teeth", event.wheel), picked=True))
+
     async def _edit_step(self, undo: bool) -> None:
         from .editing import adopt
 

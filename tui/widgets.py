@@ -11,6 +11,7 @@ from rich.segment import Segment
 from rich.style import Style as RichStyle
 from rich.text import Text
 from textual.geometry import Region, Size
+from textual.message import Message
 from textual.strip import Strip
 from textual.widget import Widget
 from textual.widgets import Static
@@ -19,11 +20,14 @@ from textual_hires_canvas import Canvas, HiResMode
 from engine.dates import format_jd
 from engine.view import (
     TrainLayout,
+    arbor_at,
     ball_lit_fraction,
     body_of,
     hands_elongation_deg,
     is_arm,
     lit_disc,
+    picked_wheel,
+    place_train,
     plan_radii,
     too_fast,
     turns_label,
@@ -506,18 +510,10 @@ class TrainView(LayeredCanvas):
     def draw_static(self) -> None:
         w, h = self.grid_size
         lay = self.train_layout
-        if not lay.ncols:
+        self._places = place_train(lay, w, h)
+        if not self._places:
             return
-        cw = w / lay.ncols
-        rh = h / max(lay.nrows, 1)
-        rmax = max(min(cw / 2.0 - 1.0, rh - 1.8), 1.0)
-        self._spots = {}
-        for name, s in lay.spots.items():
-            x = (s.col + 0.5) * cw
-            y = s.row * rh + (rh - 1.2) / 2.0
-            frac = s.teeth / lay.max_teeth if lay.max_teeth else 0.5
-            r = max(rmax * (0.35 + 0.65 * frac), 1.0)
-            self._spots[name] = (x, y, r)
+        self._spots = {name: (p.x, p.y, p.r) for name, p in self._places.items()}
         for a, b, internal in lay.meshes:
             self.line(*self._between(a, b), style="#4d5a66" if not internal else "#8a6d3b")
         for carrier, arbor in lay.carried:
@@ -535,15 +531,30 @@ class TrainView(LayeredCanvas):
                                                        else WHEEL)
             self.dots(pts, style=style)
         self._labels = {}
-        for name, (x, y, r) in self._spots.items():
-            spot = lay.spots[name]
-            label = f"{name} {spot.teeth}" if spot.teeth else name
-            if len(label) > cw - 1:
-                label = label[: max(int(cw) - 1, 1)]
-            x0 = x - len(label) / 2.0
-            self.put(x0, y + 0.5 * r + 0.6, label, LABEL)
-            self._labels[name] = (round(x0), round(x0) + len(label), y + 0.5 * r + 0.6,
-                                  spot.col * cw + 0.5, (spot.col + 1) * cw - 1.0)
+        for name, p in self._places.items():
+            self.put(p.label_x, p.label_row, p.label, LABEL)
+            self._labels[name] = (p.label_x, p.label_x + len(p.label), p.label_row,
+                                  p.col_left, p.col_right)
+
+    class WheelPicked(Message):
+        """A wheel was clicked in the train drawing: ``arbor`` and the ``wheel`` it picks
+        (None for an arbor without wheels)."""
+
+        def __init__(self, arbor: str, wheel: str | None):
+            super().__init__()
+            self.arbor, self.wheel = arbor, wheel
+
+    def on_click(self, event) -> None:
+        """Pick the wheel under the pointer: the cell's centre in canvas coordinates, and the
+        engine's hit test (:func:`engine.view.arbor_at`) says which arbor is drawn there."""
+        at = event.get_content_offset(self)
+        if at is None or not getattr(self, "_places", None):
+            return
+        arbor = arbor_at(self._places, at.x + 0.5, at.y + 0.5)
+        if arbor is not None:
+            event.stop()
+            self.post_message(self.WheelPicked(arbor,
+                                               picked_wheel(self.session.mech.train, arbor)))
 
     def _free(self, x0: int, row: int, width: int, blank: bool) -> bool:
         """True when these cells of the static layer hold no wheel rim and no label (and,
