@@ -48,6 +48,8 @@ marks for the months that bear eclipses).
 
 from __future__ import annotations
 
+import weakref
+from collections import OrderedDict
 from dataclasses import dataclass
 
 import numpy as np
@@ -438,13 +440,19 @@ def months_at(position, full, n: int) -> np.ndarray:
     return (np.mod(month, n) + 1).astype(int)
 
 
+def marks_span(train, name: str) -> tuple[float, float]:
+    """The span (UT) a cycle dial's marks are read off the sky over: its first turn from the
+    epoch."""
+    start = train.epoch.jd_ut
+    return start, start + int(train.pointers[name].per_turn) * SYNODIC_DAYS
+
+
 def derive_marks(mech, sky, name: str, penumbral: bool = False,
                  table: SkyEclipses | None = None) -> dict[str, tuple[int, ...]]:
     """The months of a cycle dial that bore eclipses in its first turn from the epoch, as read
     off the sky: what a maker filling such a dial from observation would have engraved."""
     n = int(mech.train.pointers[name].per_turn)
-    start = mech.train.epoch.jd_ut
-    end = start + n * SYNODIC_DAYS
+    start, end = marks_span(mech.train, name)
     try:
         sky.check_span(start, end)
     except SkyError as exc:
@@ -541,13 +549,16 @@ class Check:
 
 
 def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
-          progress=None, cancel=None, chunk_days: float = 3652.5, marks=None) -> Check:
+          progress=None, cancel=None, chunk_days: float = 3652.5, marks=None,
+          table: SkyEclipses | None = None) -> Check:
     """Compare a train's eclipse predictions with the real eclipses between two UT dates.
 
     ``method``: "pointers" or "cycle" (default: the cycle dial when the train has one, else
     its pointers). The span is worked in chunks of ``chunk_days``; ``progress(done, total)``
     is called after each, and ``cancel()`` returning true stops the work (raises
-    ``KeyboardInterrupt``). ``marks`` overrides a cycle dial's marks (already derived, say).
+    ``KeyboardInterrupt``). ``marks`` overrides a cycle dial's marks (already derived, say);
+    ``table`` is the sky's :func:`sky_eclipses` over exactly this span, when already computed
+    (the sky does not depend on the train).
     Raises ``ValueError`` when the train cannot predict eclipses the
     way asked, :class:`SkyError` for dates outside the ephemeris."""
     train = mech.train
@@ -568,6 +579,8 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
     parts, last = [], None
     total = hi - lo
     a = lo
+    if table is not None:
+        parts, a = [(table, np.ones(len(table.syz), dtype=bool))], np.inf
     while a <= hi:
         if cancel is not None and cancel():
             raise KeyboardInterrupt
@@ -591,7 +604,7 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
     gamma = np.concatenate([p.gamma[k] for p, k in parts]) if parts else np.zeros(0)
     syz = Syzygies(jd, number)
     lim = limits(train)
-    marks = marks_from = lunations = None
+    given, marks, marks_from, lunations = marks, None, None, None
     if method == "pointers":
         shown = shown_syzygies(mech, syz)
         dist, how = node_distance(mech, sky, shown)
@@ -606,6 +619,7 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
         p = train.pointers[name]
         lunations = int(p.per_turn)
         marks_from = "file" if p.marks is not None else "sky"
+        marks = given
         if marks is None:
             marks = p.marks if p.marks is not None else derive_marks(mech, sky, name, penumbral)
         shown = syz.jd_ut.copy()
@@ -667,6 +681,12 @@ class EclipseWatch:
 
     WINDOW_DAYS = 400.0
 
+    #: the sky's eclipse tables a watch computed, per sky, by span (the newest KEEP_WINDOWS):
+    #: the sky does not depend on the train, so a watch made for a changed train (an edit, a
+    #: re-set) or one moving back to dates already seen reuses them
+    KEEP_WINDOWS = 8
+    _tables: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
     def __init__(self, mech, sky):
         self.mech, self.sky = mech, sky
         self.method = None
@@ -685,9 +705,34 @@ class EclipseWatch:
             return None
         if self._marks is None:
             p = self.mech.train.pointers[name]
-            self._marks = p.marks if p.marks is not None else derive_marks(
-                self.mech, self.sky, name, self.mech.train.eclipses.penumbral)
+            if p.marks is not None:
+                self._marks = p.marks
+            else:
+                start, end = marks_span(self.mech.train, name)
+                self.sky.check_span(start, end)  # derive_marks says why it cannot
+                self._marks = derive_marks(self.mech, self.sky, name,
+                                           self.mech.train.eclipses.penumbral,
+                                           table=self._table(start, end))
         return self._marks
+
+    def _kept(self) -> OrderedDict:
+        kept = self._tables.get(self.sky)
+        if kept is None:
+            kept = self._tables[self.sky] = OrderedDict()
+        return kept
+
+    def _table(self, a: float, b: float) -> SkyEclipses:
+        """The sky's eclipses over exactly [a, b]: kept, or computed and kept."""
+        kept = self._kept()
+        table = kept.get((a, b))
+        if table is None:
+            table = kept[(a, b)] = sky_eclipses(self.sky, a, b)
+            for arr in (table.syz.jd_ut, table.syz.number, table.jd_greatest, table.gamma):
+                arr.setflags(write=False)  # shared by every watch on this sky
+            while len(kept) > self.KEEP_WINDOWS:
+                kept.popitem(last=False)
+        kept.move_to_end((a, b))
+        return table
 
     def _ensure(self, a: float, b: float) -> Check | None:
         """The comparison over at least [a, b] (clipped to the ephemeris): the kept one when
@@ -699,13 +744,16 @@ class EclipseWatch:
         if not (self._span[0] <= a and b <= self._span[1]):
             pad = max(0.0, (self.WINDOW_DAYS - (b - a)) / 2)
             a0, b0 = max(lo + 1.0, a - pad), min(hi - 1.0, b + pad)
+            # a window already computed for this sky that covers [a, b] serves as well
+            a0, b0 = next(((x, y) for x, y in reversed(self._kept())
+                           if x <= a and b <= y and y - x <= 2 * self.WINDOW_DAYS), (a0, b0))
             self._check = self._compute(a0, b0)
             self._span = (a0, b0)
         return self._check
 
     def _compute(self, a: float, b: float) -> Check:
+        table = self._table(a, b)
         if self.method is None:
-            table = sky_eclipses(self.sky, a, b)
             n = len(table.syz)
             pen = self.mech.train.eclipses.penumbral
             counted = tuple("" if (t == "penumbral" and not pen) else t for t in table.type)
@@ -714,7 +762,7 @@ class EclipseWatch:
                          table.syz.full, counted, table.jd_greatest, table.gamma,
                          np.zeros(n, dtype=bool), table.syz.jd_ut.copy(), np.full(n, np.nan),
                          table.type)
-        return check(self.mech, self.sky, a, b, self.method, marks=self.marks)
+        return check(self.mech, self.sky, a, b, self.method, marks=self.marks, table=table)
 
     def at(self, jd: float) -> EclipseNow | None:
         half = SYNODIC_DAYS / 2

@@ -114,6 +114,9 @@ class _State:
     text: str
     mech: Mechanism
     change: Change | None
+    #: the text parsed by tomlkit, kept for the next edit (parsing is most of an edit's
+    #: time); None once an edit has started changing it
+    doc: object | None = None
 
 
 class TrainEditor:
@@ -125,10 +128,10 @@ class TrainEditor:
         self.where = safe_text(str(where))
         mech = build(parse_train(text, self.where), sky)
         try:
-            tomlkit.parse(text)
+            doc = tomlkit.parse(text)
         except TOMLKitError as exc:  # tomllib read it; tomlkit must too, to write it back
             raise TrainError(self.where, "", f"cannot be edited here: {exc}") from None
-        self._state = _State(text, mech, None)
+        self._state = _State(text, mech, None, doc)
         self._undo: list[_State] = []
         self._redo: list[_State] = []
         self.saved_text = text
@@ -269,7 +272,8 @@ class TrainEditor:
         return self._apply_all([(keys, value)], item)
 
     def _apply_all(self, edits, item: str, before_text=None, after_text=None) -> Mechanism:
-        doc = tomlkit.parse(self.text)
+        doc = self._state.doc if self._state.doc is not None else tomlkit.parse(self.text)
+        self._state.doc = None  # changed below: a refused edit parses the text again
         changed = False
         before = None
         for keys, value in edits:
@@ -283,6 +287,7 @@ class TrainEditor:
             table[keys[-1]] = value
             changed = True
         if not changed:
+            self._state.doc = doc
             return self.mech
         text = tomlkit.dumps(doc)
         if len(text) > MAX_FILE_BYTES:
@@ -292,7 +297,7 @@ class TrainEditor:
         self._redo.clear()
         change = (Change(item, before, edits[-1][1]) if before_text is None
                   else Change(item, before_text, after_text))
-        self._state = _State(text, mech, change)
+        self._state = _State(text, mech, change, doc)
         return mech
 
     def undo(self) -> Change | None:

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import weakref
 from collections import Counter
+from dataclasses import astuple, replace
 from pathlib import Path
 
 import numpy as np
@@ -369,3 +371,42 @@ def test_limit_arcs_straddle_both_nodes():
     arcs = E.limit_arcs(10.0, {"solar": 18.5, "lunar": 12.25})
     assert ("solar", 351.5, 28.5) in arcs and ("lunar", 177.75, 202.25) in arcs
     assert len(arcs) == 4
+
+
+def test_watch_for_a_changed_train_answers_as_a_fresh_one(sky):
+    """A watch made after an edit reuses the sky's eclipse tables computed for the train as it
+    was (the sky does not depend on the train); its answers are those of a watch that
+    computes everything itself."""
+    from engine.mechanism import build, open_train
+
+    mech = open_train("engine/trains/eclipse_board.toml", sky)
+    jd = parse_date("2031-05-20")
+    E.EclipseWatch(mech, sky).at(jd)  # the sky's tables around jd are kept now
+    wheel = next(iter(mech.train.wheels.values()))
+    changed = replace(mech.train, wheels={**mech.train.wheels,
+                                          wheel.name: replace(wheel, teeth=wheel.teeth + 1)})
+    new = build(changed, sky)
+    kept = E.EclipseWatch(new, sky)
+    fresh = E.EclipseWatch(new, sky)
+    fresh._tables = weakref.WeakKeyDictionary()  # this one keeps nothing from before
+    def same(a, b) -> bool:
+        return all(x == y or (isinstance(x, float) and np.isnan(x) and np.isnan(y))
+                   for x, y in zip(astuple(a), astuple(b), strict=True))
+
+    for day in (0.0, 3.5, 14.8, 29.0, -20.0, 250.0):
+        assert same(kept.at(jd + day), fresh.at(jd + day))
+    assert kept.marks == fresh.marks
+    assert kept.next_predicted(jd) == fresh.next_predicted(jd)
+
+
+def test_check_takes_the_marks_it_is_given(sky):
+    from engine.mechanism import open_train
+
+    mech = open_train("engine/trains/eclipse_board.toml", sky)
+    marks = {"solar": (1, 2), "lunar": (3,)}
+    c = E.check(mech, sky, parse_date("2030-01-01"), parse_date("2031-01-01"), "cycle",
+                marks=marks)
+    assert c.marks == marks
+    months = c.detail.astype(int)
+    assert np.array_equal(c.predicted, (~c.full & np.isin(months, marks["solar"]))
+                          | (c.full & np.isin(months, marks["lunar"])))

@@ -243,3 +243,26 @@ def test_many_teeth_in_one_edit_undo_as_one(tide, sky):
                                      "moon_w1 27, moon_p2 16")
     ed.undo()
     assert rates(ed.mech) == old and not ed.can_undo
+
+
+def test_edits_in_a_row_write_what_one_edit_of_the_saved_text_writes(tide, sky):
+    """The editor keeps the parsed text between edits (and after a refused one); each edit's
+    text is the one a fresh editor on the previous text would write."""
+    ed = TrainEditor.open(tide, sky)
+    steps = [("sun_w1", "60"), ("sun_w1", "0"), ("moon_w1", "27"), ("sun_w1", "61"),
+             ("sun_w1", "61")]
+    for wheel, value in steps:
+        fresh = TrainEditor(ed.text, str(tide), sky)
+        try:
+            ed.set_teeth(wheel, value)
+        except TrainError:
+            with pytest.raises(TrainError):
+                fresh.set_teeth(wheel, value)
+            continue
+        fresh.set_teeth(wheel, value)
+        assert ed.text == fresh.text
+    ed.undo()
+    ed.set_days_per_turn("2")
+    fresh = TrainEditor(ed._undo[-1].text, str(tide), sky)
+    fresh.set_days_per_turn("2")
+    assert ed.text == fresh.text and "# " in ed.text
