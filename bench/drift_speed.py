@@ -40,20 +40,21 @@ import time
 import tracemalloc
 from pathlib import Path
 
-from engine.drift import drift_series
+from engine.drift import DriftRun, RunControl, drift_series
 from engine.mechanism import open_train
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.sky import Sky
 
 
-def _run(mech, sky, years: float, step: str, **kw):
+def _run(mech, sky, years: float, step: str, keep_series: bool = True):
     start = max(sky.span_jd[0], mech.train.epoch.jd_ut - 200 * JULIAN_YEAR_DAYS)
     end = start + years * JULIAN_YEAR_DAYS
     if end > sky.span_jd[1]:
         start = sky.span_jd[0]
         end = start + years * JULIAN_YEAR_DAYS
     t0 = time.perf_counter()
-    result = drift_series(mech, sky, start, end, step, **kw)
+    result = drift_series(mech, sky, DriftRun(start, end, step),
+                          RunControl(keep_series=keep_series))
     return time.perf_counter() - t0, result
 
 
@@ -238,12 +239,12 @@ def _timed_years(mech, sky, start: float, years: float, repeat: int):
     best = cpu = None
     for _ in range(max(1, repeat)):
         t0, c0 = time.perf_counter(), time.process_time()
-        r = drift_series(mech, sky, start, end, "1d", keep_series=False)
+        r = drift_series(mech, sky, DriftRun(start, end, "1d"), RunControl(keep_series=False))
         wall, used = time.perf_counter() - t0, time.process_time() - c0
         best = wall if best is None else min(best, wall)
         cpu = used if cpu is None else min(cpu, used)
     tracemalloc.start()
-    drift_series(mech, sky, start, end, "1d", keep_series=False)
+    drift_series(mech, sky, DriftRun(start, end, "1d"), RunControl(keep_series=False))
     peak = tracemalloc.get_traced_memory()[1] / 2**20
     tracemalloc.stop()
     return best, cpu, peak, len(r.jd)

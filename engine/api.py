@@ -13,7 +13,15 @@ from __future__ import annotations
 from .checks import ArborCheck, CheckReport, Finding, MeshCheck, PinSlotCheck, check
 from .dates import as_jd, calendar_date, format_jd, parse_date, parse_step
 from .drawing import cut_parts, layout_sheet, to_dxf, to_svg, tooth_forms
-from .drift import DriftResult, ErrorNow, PointerSummary, drift_series, pointer_errors
+from .drift import (
+    DriftResult,
+    DriftRun,
+    ErrorNow,
+    PointerSummary,
+    RunControl,
+    drift_series,
+    pointer_errors,
+)
 from .eclipses import Check as EclipseCheck
 from .eclipses import Eclipse, real_eclipses, sky_eclipses, syzygies
 from .eclipses import check as check_eclipses
@@ -92,8 +100,8 @@ __all__ = [
     "Sky", "SkyState", "Site", "parse_date", "format_jd", "calendar_date",
     "as_jd",
     # drift
-    "pointer_errors", "drift_series", "DriftResult", "PointerSummary", "parse_step",
-    "ErrorNow",
+    "pointer_errors", "drift_series", "DriftRun", "RunControl", "DriftResult",
+    "PointerSummary", "parse_step", "ErrorNow",
     # search
     "search", "make_target", "make_constraints", "convergents", "emit_fragment",
     "SearchReport", "TrainResult", "WheelPair", "Convergent", "Target", "Constraints",

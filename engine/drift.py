@@ -9,16 +9,18 @@ Two entry points:
 * :func:`drift_series` — the same on a uniform grid of dates over a span, processed in chunks,
   with a :class:`PointerSummary` of each pointer: largest error and when, RMS, secular drift
   rate, the periodic part left after the drift, the first date past a threshold, and the best
-  constant re-setting.
+  constant re-setting. What it asks is a :class:`DriftRun` (the dates, the dial, the observer,
+  the threshold); how it runs, a :class:`RunControl` (chunks, what is kept, callbacks).
 
 Method (all angles in degrees):
 
 * error = train - sky, wrapped to [-180, 180); phase error in days = error / (360° / mean
   synodic month), the elongation's mean daily gain (``engine.periods``).
 * Secular drift: a straight line fitted by least squares to the unwrapped error, jointly with
-  sinusoids at the periods the sky is known to put into such errors (``SKY_TERMS``: for the
-  Sun its equation of centre; for the Moon its equation of centre, evection, variation and
-  the annual equation; the nutation on an equinox dial), each once the span holds a whole
+  sinusoids at the periods the sky is known to put into such errors (:func:`sky_terms`, the
+  ``swings`` of each kind's row: for the Sun its equation of centre; for the Moon its
+  equation of centre, evection, variation and the annual equation; the nutation on an
+  equinox dial), each once the span holds a whole
   period of it. Over a short span a partial swing would otherwise tilt the line: two years of
   a Sun hand that lacks the 1.9° equation of centre read +91° a century. The slope's standard
   error comes with it (:func:`fit_drift`), and the summary says when the span is too short
@@ -40,13 +42,13 @@ Method (all angles in degrees):
   error crosses the half turn opposite ``c``). Turning the pointer back by ``c`` leaves
   ``rms_after_reset_deg``.
 
-Memory: the grid is walked in chunks (``chunk`` dates at a time: one sky computation, the
+Memory: the grid is walked in chunks (``RunControl.chunk`` dates at a time: one sky computation, the
 train's readings, the errors); running sums give the maxima, RMS, fit and threshold. What must
 be kept for the whole span is two float32 series per pointer (wrapped error and the residual
 about the expected line, 8 bytes a date each) plus the dates (float64); the train and sky
-readings are kept as float32 only with ``keep_series=True`` (another 8 bytes a date per
+readings are kept as float32 only with ``RunControl.keep_series`` (another 8 bytes a date per
 pointer). A 1000-year span at one-day steps with five pointers keeps about 18 MB; an
-``on_chunk`` callback can stream everything (e.g. into a CSV file) without keeping it.
+``RunControl.on_chunk`` callback can stream everything (e.g. into a CSV file) without keeping it.
 
 Speed: on a uniform grid the train is read chunk by chunk from one exact reading at the
 chunk's first date (:func:`engine.exact.turns_mod1`) plus the pointer's float rate times the
@@ -59,8 +61,9 @@ from __future__ import annotations
 
 import math
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -80,15 +83,17 @@ from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, sky_at, true_value
 from .kinematics import pin_slot_lead_turns
 from .periods import JULIAN_CENTURY_DAYS, PERIODS
 
+if TYPE_CHECKING:
+    from .sky import Site
+
 PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
 MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, name a step
 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
 # together with the drift line so that a short span's partial swing is not mistaken for drift.
-# The nutation is fitted when the span allows, but being small it does not make a drift
-# "uncertain" when left out: as a slope it is at most 17" x 2 pi / 18.6 years, 0.16° a century.
-# Terms small enough not to make a drift "uncertain" when left out, with their amplitude:
-# their largest possible tilt of the line is added to the slope's standard error instead
+# MINOR_TERMS, with their amplitudes, are too small to make a drift "uncertain" when the span
+# is too short to fit them: their largest possible tilt of the line is added to the slope's
+# standard error instead (the nutation: at most 17" x 2 pi / 18.6 years, 0.16° a century).
 MINOR_TERMS: dict[str, float] = {NUTATION[0]: NUTATION_AMPLITUDE_DEG}
 TERM_MIN_CYCLES = 1.0  # a term is fitted once the span holds this many of its periods
 
@@ -141,14 +146,15 @@ class ErrorNow:
         return np.abs(self.error_deg) <= self.delta_t_effect_deg
 
 
-def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None, site=None,
-                   readout=None) -> dict[str, ErrorNow]:
+def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None,
+                   site=None) -> dict[str, ErrorNow]:
     """Every pointer's reading, the true sky, and the error, at UT Julian dates (any shape).
 
     ``frame`` defaults to the train's dial; ``site`` is an :class:`engine.sky.Site` or
-    ``"LAT,LON[,H]"``; ``readout`` (default ``mech.readout``) lets a re-set train be compared.
+    ``"LAT,LON[,H]"``. A re-set train is a mechanism with another readout
+    (``dataclasses.replace(mech, readout=...)``).
     """
-    readout = readout or mech.readout
+    readout = mech.readout
     frame = frame or mech.train.dial
     jd = np.asarray(as_jd(jd_ut, "pointer_errors"), dtype=float)
     shows = [p.shows for p in mech.train.pointers.values()]
@@ -266,7 +272,7 @@ class PointerSummary:
     """What a drift run found for one pointer. Degrees unless the name says days.
 
     ``drift_deg_per_century``: slope of the least-squares line through the unwrapped error,
-    fitted jointly with sinusoids at the sky's known periods (``SKY_TERMS``).
+    fitted jointly with sinusoids at the sky's known periods (:func:`sky_terms`).
     ``periodic_amplitude_deg`` / ``periodic_period_days``: the strongest sinusoid left once that
     line is removed (``None`` period when the span is too short to show one).
     ``drift_sigma_deg_per_century``: standard error of that slope (see :func:`fit_drift`);
@@ -320,7 +326,7 @@ class DriftResult:
     """A drift run: the grid ``jd`` (UT), per-pointer series and summaries.
 
     ``error_deg`` (float32, wrapped to ±180°) is always kept; ``train_deg`` and ``sky_deg``
-    (float32) only with ``keep_series=True`` (else empty dicts); ``error_days`` for phase
+    (float32) only with ``RunControl.keep_series`` (else empty dicts); ``error_days`` for phase
     pointers. ``timings`` holds seconds spent in the sky (``sky_s``) and in the rest of the
     run (``engine_s``: train readings, errors, summaries).
     """
@@ -541,8 +547,9 @@ class _Chunks:
     Each chunk's error is taken less the line expected from the mean rates, then the short way
     round from the first date's value: its unwrapped form (see the module docstring)."""
 
-    def __init__(self, mech, readout, jd0: float, n: int, step: float, frame: str,
+    def __init__(self, mech, jd0: float, n: int, step: float, frame: str,
                  thresholds: dict[str, float | None], keep_series: bool):
+        readout = mech.readout
         self.pointers = dict(mech.train.pointers)
         self.jd0, self.n, self.step, self.frame = jd0, n, step, frame
         self.reader = _GridReader(readout)
@@ -624,57 +631,87 @@ class _Chunks:
                            step_days=self.step, sky_name=sky_name, timings=timings)
 
 
-def drift_series(mech, sky, jd_start: float, jd_end: float, step_days: float, *,
-                 frame: str | None = None, site=None,
-                 threshold_deg: float | dict[str, float | None] | None = None,
-                 progress: Callable[[float], None] | None = None,
-                 cancel: Callable[[], bool] | None = None, chunk: int = 20_000,
-                 keep_series: bool = True, readout=None,
-                 on_chunk: Callable[[np.ndarray, dict[str, ErrorNow]], None] | None = None,
-                 include_end: bool = False) -> DriftResult:
-    """Every pointer's error on the grid ``jd_start + k * step_days`` up to ``jd_end`` (UT).
+@dataclass(frozen=True)
+class DriftRun:
+    """What a drift run asks: the grid of dates, the dial, the observer and the threshold.
 
-    ``jd_start``, ``jd_end``: UT Julian dates or date text (:func:`engine.dates.parse_date`).
-    ``step_days``: days, or text for :func:`parse_step`. ``threshold_deg``: one value for every
-    pointer, or ``{pointer: deg}``. ``progress(f)`` is called after each chunk with the
-    fraction done; ``cancel()`` is asked before each chunk, and a true answer raises
-    :class:`DriftCancelled`. ``on_chunk(jd, errors)`` receives each chunk's dates and
-    :class:`ErrorNow` values (float64) as they are made, e.g. to stream them to a file.
-    ``include_end``: run on to the first grid date at or after ``jd_end`` (see :func:`grid`)
-    when the ephemeris reaches it, else stop at the last grid date before ``jd_end``.
+    ``start``, ``end``: UT Julian dates or date text (:func:`engine.dates.parse_date`); the
+    grid is ``start + k * step`` up to ``end``. ``step``: days, or text for :func:`parse_step`
+    (``"6h"``, ``"1d"``, ``"1y"``). ``frame``: the dial frame (default: the train's own dial).
+    ``site``: an :class:`engine.sky.Site` or ``"LAT,LON[,H]"`` (default: the Earth's centre).
+    ``threshold_deg``: one value for every pointer, or ``{pointer: deg}`` (the first date
+    past it is reported). ``include_end``: run on to the first grid date at or after ``end``
+    (see :func:`grid`) when the ephemeris reaches it, else stop at the last one before it.
     """
-    readout = readout or mech.readout
-    frame = frame or mech.train.dial
-    site = _site(site)
-    step = parse_step(step_days)
-    jd0 = float(as_jd(jd_start, "drift start"))
-    n = _span(sky, jd0, float(as_jd(jd_end, "drift end")), step, frame, site, include_end)
-    run = _Chunks(mech, readout, jd0, n, step, frame,
-                  _thresholds(mech.train.pointers, threshold_deg), keep_series)
-    shows = [p.shows for p in run.pointers.values()]
-    chunk = max(2, int(chunk))
-    j_full = np.arange(min(chunk, n), dtype=float)
+
+    start: float | str
+    end: float | str
+    step: float | str = "1d"
+    frame: str | None = None
+    site: Site | str | None = None
+    threshold_deg: float | Mapping[str, float | None] | None = None
+    include_end: bool = False
+
+
+@dataclass(frozen=True)
+class RunControl:
+    """How a drift run is carried out and watched; no figure depends on it.
+
+    ``chunk``: dates computed at a time (memory against speed). ``keep_series``: keep the
+    train's and the sky's readings over the whole span (``DriftResult.train_deg``/``sky_deg``,
+    8 bytes a date per pointer), not only the errors. ``progress(f)`` is called after each
+    chunk with the fraction done; ``cancel()`` is asked before each chunk, and a true answer
+    raises :class:`DriftCancelled`; ``on_chunk(jd, errors)`` receives each chunk's dates and
+    :class:`ErrorNow` values (float64) as they are made, e.g. to stream them to a file.
+    """
+
+    chunk: int = 20_000
+    keep_series: bool = True
+    progress: Callable[[float], None] | None = None
+    cancel: Callable[[], bool] | None = None
+    on_chunk: Callable[[np.ndarray, dict[str, ErrorNow]], None] | None = None
+
+
+def drift_series(mech, sky, run: DriftRun, control: RunControl | None = None) -> DriftResult:
+    """Every pointer's error on the grid of dates ``run`` asks for (UT), run as ``control``
+    says (default :class:`RunControl`: 20,000 dates a chunk, the readings kept)."""
+    if not isinstance(run, DriftRun):
+        raise TypeError("drift_series(mech, sky, run) wants a DriftRun as run, e.g. "
+                        "DriftRun('2030-01-01', '2031-01-01', '1d'); got "
+                        f"{type(run).__name__}")
+    control = control or RunControl()
+    frame = run.frame or mech.train.dial
+    site = _site(run.site)
+    step = parse_step(run.step)
+    jd0 = float(as_jd(run.start, "drift start"))
+    n = _span(sky, jd0, float(as_jd(run.end, "drift end")), step, frame, site, run.include_end)
+    chunks = _Chunks(mech, jd0, n, step, frame,
+                     _thresholds(mech.train.pointers, run.threshold_deg), control.keep_series)
+    shows = [p.shows for p in chunks.pointers.values()]
+    size = max(2, int(control.chunk))
+    j_full = np.arange(min(size, n), dtype=float)
     sky_s = outside_s = 0.0
     t_start = time.perf_counter()
-    for i0 in range(0, n, chunk):
-        if cancel is not None and cancel():
+    for i0 in range(0, n, size):
+        if control.cancel is not None and control.cancel():
             raise DriftCancelled(f"drift run stopped after {i0:,} of {n:,} dates")
-        j = j_full[:min(chunk, n - i0)]
+        j = j_full[:min(size, n - i0)]
         jd = jd0 + (j + i0) * step
         t = time.perf_counter()
         state = sky_at(sky, jd, shows, frame=frame, site=site)
         sky_s += time.perf_counter() - t
-        errors = run.add(i0, j, jd, state, on_chunk is not None)
+        errors = chunks.add(i0, j, jd, state, control.on_chunk is not None)
         t = time.perf_counter()
-        if on_chunk is not None:
-            on_chunk(jd, errors)
-        if progress is not None:
-            progress(min(1.0, (i0 + len(j)) / n))
+        if control.on_chunk is not None:
+            control.on_chunk(jd, errors)
+        if control.progress is not None:
+            control.progress(min(1.0, (i0 + len(j)) / n))
         outside_s += time.perf_counter() - t
     t = time.perf_counter()
-    summaries = run.summaries()
+    summaries = chunks.summaries()
     summaries_s = time.perf_counter() - t
     total = time.perf_counter() - t_start
-    return run.result(summaries, getattr(sky, "name", ""),
-                      {"sky_s": sky_s, "engine_s": total - sky_s - outside_s,
-                       "summaries_s": summaries_s, "callbacks_s": outside_s, "total_s": total})
+    return chunks.result(summaries, getattr(sky, "name", ""),
+                         {"sky_s": sky_s, "engine_s": total - sky_s - outside_s,
+                          "summaries_s": summaries_s, "callbacks_s": outside_s,
+                          "total_s": total})

@@ -100,12 +100,13 @@ def test_lunation_board_drifts_as_its_nineteen_year_relation_says(ancient):
     sun hand loses 360° × (1/365.2422 - 1/365.2468) a day, about 0.45° a century (calendar
     arithmetic, common practice, no source); the phase hand turns with the crank, one mean
     synodic month a turn, and does not drift."""
-    from engine.drift import drift_series
+    from engine.drift import DriftRun, RunControl, drift_series
     from engine.mechanism import open_train
 
     mech = open_train(DEMO)
     start = mech.train.epoch.jd_ut
-    r = drift_series(mech, ancient, start, start + 19 * 365.25, "1d", keep_series=False)
+    r = drift_series(mech, ancient, DriftRun(start, start + 19 * 365.25, "1d"),
+                     RunControl(keep_series=False))
     sun, phase = r.summaries["sun"], r.summaries["phase"]
     expected = -360.0 * (1 / 365.2422 - 1 / (235 / 19 * 29.530589)) * 36525
     assert expected == pytest.approx(-0.45, abs=0.01)

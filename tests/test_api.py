@@ -122,7 +122,7 @@ def test_returned_types_are_importable_from_the_api():
     report = api.check(mech)
     got += [report, *report.findings]
     got += list(api.pointer_errors(mech, sky, "2030-01-01").values())
-    res = api.drift_series(mech, sky, "2030-01-01", "2030-03-01", "1d")
+    res = api.drift_series(mech, sky, api.DriftRun("2030-01-01", "2030-03-01", "1d"))
     got += [res, *res.summaries.values()]
     missing = {type(o).__name__ for o in got if type(o).__name__ not in api.__all__}
     assert not missing, missing
@@ -140,10 +140,12 @@ def test_same_first_argument_and_dates_as_text():
     assert float(sky.at("2030-05-01 06:00").sun_lon_deg) == float(sky.at(jd).sun_lon_deg)
     both = sky.at(["2030-05-01 06:00", jd])
     assert both.sun_lon_deg[0] == both.sun_lon_deg[1]
-    a = api.drift_series(mech, sky, "2030-01-01", "2031-01-01", "1d").summaries_dict()
-    b = api.drift_series(mech, sky, api.parse_date("2030-01-01"), api.parse_date("2031-01-01"),
-                         1.0).summaries_dict()
-    assert a == b
+    a = api.drift_series(mech, sky, api.DriftRun("2030-01-01", "2031-01-01", "1d"))
+    b = api.drift_series(mech, sky, api.DriftRun(api.parse_date("2030-01-01"),
+                                                 api.parse_date("2031-01-01"), 1.0))
+    assert a.summaries_dict() == b.summaries_dict()
+    with pytest.raises(TypeError, match="DriftRun"):  # the old form says what it wants now
+        api.drift_series(mech, sky, "2030-01-01")
     for bad in (object(), {"jd": 1}, "next tuesday", None, [None, "2030-01-01"]):
         with pytest.raises(api.DateError) as e:
             sky.at(bad)
@@ -159,7 +161,7 @@ def test_short_reprs():
 
     mech = api.open_train(ROOT / "engine" / "trains" / "tide_office.toml")
     sky = Sky()
-    res = api.drift_series(mech, sky, "2030-01-01", "2030-02-01", "1d")
+    res = api.drift_series(mech, sky, api.DriftRun("2030-01-01", "2030-02-01", "1d"))
     for obj in (mech, mech.train, mech.kin, sky.at([2461000.5, 2461001.5]), res):
         text = repr(obj)
         assert "\n" not in text and len(text) < 200, text

@@ -15,6 +15,8 @@ from engine.drift import (
     PHASE_DEG_PER_DAY,
     DriftCancelled,
     DriftError,
+    DriftRun,
+    RunControl,
     _GridReader,
     drift_series,
     pointer_errors,
@@ -88,7 +90,7 @@ def test_series_matches_pointer_errors_scalar_and_array(sky):
             seen.setdefault(n, []).append(e.error_deg.copy())
 
     j0 = mech.train.epoch.jd_ut
-    drift_series(mech, sky, j0, j0 + 400, "6h", on_chunk=keep, chunk=700)
+    drift_series(mech, sky, DriftRun(j0, j0 + 400, "6h"), RunControl(chunk=700, on_chunk=keep))
     jd = np.concatenate(seen["jd"])
     now = pointer_errors(mech, sky, jd)
     for name, e in now.items():
@@ -105,7 +107,7 @@ def test_progress_and_cancel(sky):
     mech = open_train(TRAINS / "moon_disc_59.toml", sky)
     j0 = mech.train.epoch.jd_ut
     seen = []
-    drift_series(mech, sky, j0, j0 + 99, 1.0, chunk=25, progress=seen.append)
+    drift_series(mech, sky, DriftRun(j0, j0 + 99, 1.0), RunControl(chunk=25, progress=seen.append))
     assert seen == [0.25, 0.5, 0.75, 1.0]
     asked = []
 
@@ -114,7 +116,7 @@ def test_progress_and_cancel(sky):
         return len(asked) > 2
 
     with pytest.raises(DriftCancelled):
-        drift_series(mech, sky, j0, j0 + 99, 1.0, chunk=25, cancel=cancel)
+        drift_series(mech, sky, DriftRun(j0, j0 + 99, 1.0), RunControl(chunk=25, cancel=cancel))
     assert len(asked) == 3
 
 
@@ -122,13 +124,13 @@ def test_bad_spans(sky):
     mech = open_train(TRAINS / "moon_disc_59.toml", sky)
     j0 = mech.train.epoch.jd_ut
     with pytest.raises(DriftError, match="ends before"):
-        drift_series(mech, sky, j0, j0 - 1, 1.0)
+        drift_series(mech, sky, DriftRun(j0, j0 - 1, 1.0))
     with pytest.raises(DriftError, match="longer than the span"):
-        drift_series(mech, sky, j0, j0 + 1, 5.0)
+        drift_series(mech, sky, DriftRun(j0, j0 + 1, 5.0))
     from engine.errors import SkyError
 
     with pytest.raises(SkyError):
-        drift_series(mech, sky, j0, j0 + 200 * JULIAN_YEAR_DAYS, 30.0)
+        drift_series(mech, sky, DriftRun(j0, j0 + 200 * JULIAN_YEAR_DAYS, 30.0))
 
 
 # --- outside facts ------------------------------------------------------------------------
@@ -148,8 +150,9 @@ def test_moon_disc_59_one_day_off_in_about_two_and_a_half_years(sky):
     j0 = mech.train.epoch.jd_ut
     mean_gain = 360 / 29.5 - PHASE_DEG_PER_DAY
     assert 1 / (mean_gain / PHASE_DEG_PER_DAY) / JULIAN_YEAR_DAYS == pytest.approx(2.64, abs=0.01)
-    r = drift_series(mech, sky, j0, j0 + 20 * JULIAN_YEAR_DAYS, "6h",
-                     threshold_deg=1.0 * PHASE_DEG_PER_DAY, keep_series=False)
+    r = drift_series(mech, sky, DriftRun(j0, j0 + 20 * JULIAN_YEAR_DAYS, "6h",
+                                         threshold_deg=1.0 * PHASE_DEG_PER_DAY),
+                     RunControl(keep_series=False))
     s = r.summaries["phase"]
     years = (s.first_crossing_jd - j0) / JULIAN_YEAR_DAYS
     assert 1.5 < years < 3.5
@@ -194,7 +197,8 @@ def test_known_ratio_error_drifts_at_the_analytic_rate(sky):
     days = year * (1 + ppm * 1e-6)
     mech = build(parse_train(SLIGHTLY_SLOW_SUN.format(ppm=ppm, days=repr(days))), sky)
     j0 = mech.train.epoch.jd_ut
-    r = drift_series(mech, sky, j0, j0 + 140 * JULIAN_YEAR_DAYS, "5d", keep_series=False)
+    r = drift_series(mech, sky, DriftRun(j0, j0 + 140 * JULIAN_YEAR_DAYS, "5d"),
+                     RunControl(keep_series=False))
     turns_per_century = JULIAN_CENTURY_DAYS / days
     analytic = -(days - year) / year * 360.0 * turns_per_century
     assert analytic == pytest.approx(-7.2, abs=0.01)
@@ -222,7 +226,8 @@ def test_pin_and_slot_takes_out_the_moons_main_inequality(sky):
     without = build(parse_train(text.replace("offset_mm = 0.985", "offset_mm = 0.0"),
                                 "tide_office (no slot)"), sky)
     j0 = with_slot.train.epoch.jd_ut
-    runs = {label: drift_series(m, sky, j0, j0 + 19 * JULIAN_YEAR_DAYS, "6h", keep_series=False)
+    runs = {label: drift_series(m, sky, DriftRun(j0, j0 + 19 * JULIAN_YEAR_DAYS, "6h"),
+                                RunControl(keep_series=False))
             .summaries["moon"] for label, m in (("with", with_slot), ("without", without))}
     w, wo = runs["with"], runs["without"]
     assert wo.periodic_period_days == pytest.approx(PERIODS["anomalistic_month"].days,
@@ -341,8 +346,8 @@ def test_cli_png_draws(tmp_path):
 def test_cli_ctrl_c_stops_cleanly(tmp_path, monkeypatch, capsys):
     import engine.drift as engine_drift  # the command imports it when it runs
 
-    def interrupted(*args, **kwargs):
-        kwargs["on_chunk"](np.array([2461059.3]), {})  # a partial file is begun...
+    def interrupted(mech, sky, run, control):
+        control.on_chunk(np.array([2461059.3]), {})  # a partial file is begun...
         raise KeyboardInterrupt
 
     monkeypatch.setattr(engine_drift, "drift_series", interrupted)
@@ -396,8 +401,8 @@ def test_sun_drift_over_short_spans_is_the_mean_rate_drift(sky, years, tol):
                  for r in pointer_ratios(mech.train, mech.kin)}["sun"]
     assert abs(mean_rate) < 0.001
     j0 = mech.train.epoch.jd_ut
-    s = drift_series(mech, sky, j0, j0 + years * JULIAN_YEAR_DAYS, "6h",
-                     keep_series=False).summaries["sun"]
+    s = drift_series(mech, sky, DriftRun(j0, j0 + years * JULIAN_YEAR_DAYS, "6h"),
+                     RunControl(keep_series=False)).summaries["sun"]
     assert s.drift_deg_per_century == pytest.approx(mean_rate, abs=tol)
     assert "equation of centre (anomalistic year)" in s.drift_terms
     assert 0 < s.drift_sigma_deg_per_century < 0.2
@@ -415,8 +420,8 @@ def test_moon_disc_drift_over_five_years(sky):
     j0 = mech.train.epoch.jd_ut
     mean_gain = (360 / 29.5 - PHASE_DEG_PER_DAY) * JULIAN_CENTURY_DAYS
     assert mean_gain == pytest.approx(461.70, abs=0.01)
-    s = drift_series(mech, sky, j0, j0 + 5 * JULIAN_YEAR_DAYS, "6h",
-                     keep_series=False).summaries["phase"]
+    s = drift_series(mech, sky, DriftRun(j0, j0 + 5 * JULIAN_YEAR_DAYS, "6h"),
+                     RunControl(keep_series=False)).summaries["phase"]
     assert s.drift_deg_per_century == pytest.approx(mean_gain, rel=0.01)
     assert abs(s.drift_deg_per_century - mean_gain) < 3 * s.drift_sigma_deg_per_century + 0.5
     assert not s.drift_uncertain
@@ -600,7 +605,8 @@ def test_drift_series_does_not_depend_on_blas_threads(sky):
     start = mech.train.epoch.jd_ut
 
     def run():
-        res = drift_series(mech, sky, start, start + 20 * JULIAN_YEAR_DAYS, 0.25, keep_series=False)
+        res = drift_series(mech, sky, DriftRun(start, start + 20 * JULIAN_YEAR_DAYS, 0.25),
+                           RunControl(keep_series=False))
         return res.summaries_dict(), res.error_deg
 
     default = run()
@@ -621,9 +627,11 @@ def test_yearly_steps_on_a_sun_hand_come_with_a_warning(sky, capsys):
     at least two dates a period; common practice, no source)."""
     mech = open_train(TRAINS / "tide_office.toml")
     start = mech.train.epoch.jd_ut
-    daily = drift_series(mech, sky, start, start + 5 * JULIAN_YEAR_DAYS, 1.0, keep_series=False)
+    daily = drift_series(mech, sky, DriftRun(start, start + 5 * JULIAN_YEAR_DAYS, 1.0),
+                         RunControl(keep_series=False))
     assert daily.summaries["sun"].max_abs_deg > 1.5 and not daily.summaries["sun"].step_note
-    yearly = drift_series(mech, sky, start, start + 5 * JULIAN_YEAR_DAYS, "1y", keep_series=False)
+    yearly = drift_series(mech, sky, DriftRun(start, start + 5 * JULIAN_YEAR_DAYS, "1y"),
+                          RunControl(keep_series=False))
     sun = yearly.summaries["sun"]
     assert sun.max_abs_deg < 0.1  # what the coarse grid alone would suggest...
     assert sun.step_note and "'sun'" in sun.step_note and sun.drift_uncertain  # ...but said
@@ -644,8 +652,8 @@ def test_a_lunation_step_reports_no_alias_swing(sky):
     ~417 days: an alias of its monthly swings, not a swing of the train. No swing is
     reported, the step is said to be too coarse, and no fitted term is faster than 2 steps."""
     mech = open_train(DISC)
-    s = drift_series(mech, sky, 2451545.0, 2451545.0 + 40 * JULIAN_YEAR_DAYS, 29.5,
-                     keep_series=False).summaries["phase"]
+    s = drift_series(mech, sky, DriftRun(2451545.0, 2451545.0 + 40 * JULIAN_YEAR_DAYS, 29.5),
+                     RunControl(keep_series=False)).summaries["phase"]
     assert s.periodic_period_days is None and s.step_note and s.drift_uncertain
     from engine.drift import sky_terms
 

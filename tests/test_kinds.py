@@ -85,7 +85,7 @@ def test_sky_node_and_perigee_use_the_one_frame_change(sky):
 def test_a_new_kind_is_a_row(monkeypatch, sky, tmp_path):
     """A kind added to the table alone is read by the loader, set from the sky and from the
     mean elements, reported by the ratio report and followed by drift."""
-    from engine.drift import drift_series, sky_terms
+    from engine.drift import DriftRun, RunControl, drift_series, sky_terms
     from engine.loader import load_train
     from engine.mechanism import build
     from engine.ratios import pointer_ratios
@@ -108,7 +108,8 @@ def test_a_new_kind_is_a_row(monkeypatch, sky, tmp_path):
     ratios = {r.pointer: r for r in pointer_ratios(mech.train, mech.kin)}
     assert ratios[name].target_key == "tropical_month"
     assert sky_terms("luna") == sky_terms("moon")
-    res = drift_series(mech, sky, 2451545.0, 2451545.0 + 400, 1.0, keep_series=False)
+    res = drift_series(mech, sky, DriftRun(2451545.0, 2451545.0 + 400, 1.0),
+                       RunControl(keep_series=False))
     assert res.summaries[name].max_abs_deg > 0
     assert "luna" not in kinds.bodies(["luna"])
 

@@ -12,7 +12,7 @@ import pytest
 
 from engine.checks import check
 from engine.dates import parse_date
-from engine.drift import drift_series
+from engine.drift import DriftRun, RunControl, drift_series
 from engine.errors import TrainError
 from engine.kinds import KINDS, kind_key
 from engine.kinematics import solve
@@ -208,8 +208,8 @@ def test_the_planet_dial_shows_retrograde_motion(sky):
 
 def test_drift_covers_orrery_arms(sky):
     mech = open_train(ORRERY, sky)
-    res = drift_series(mech, sky, parse_date("1900-01-01"), parse_date("2050-01-01"), 2.0,
-                       keep_series=False)
+    res = drift_series(mech, sky, DriftRun(parse_date("1900-01-01"), parse_date("2050-01-01"), 2.0),
+                       RunControl(keep_series=False))
     s = res.summaries
     # Mercury's largest error is its equation of centre, 2e = 23.6° (e = 0.2056, JPL table)
     # plus the setting's offset; its swing runs with its own year
@@ -253,8 +253,8 @@ arbor = "d"
 reversed = true
 """
     mech = build(parse_train(text, "t.toml"), sky)
-    res = drift_series(mech, sky, parse_date("1950-01-01"), parse_date("2040-01-01"), 1.0,
-                       keep_series=False)
+    res = drift_series(mech, sky, DriftRun(parse_date("1950-01-01"), parse_date("2040-01-01"), 1.0),
+                       RunControl(keep_series=False))
     s = res.summaries["mars"]
     assert s.periodic_period_days == pytest.approx(PERIODS["mars_synodic"].days, rel=0.01)
     assert s.max_abs_deg > 30  # loops the hand cannot show
@@ -265,7 +265,7 @@ def test_drift_grid_reads_the_carried_pin_as_the_readout_does(sky):
     two-circle hands the same angle to well under a thousandth of a degree."""
     mech = open_train(DIAL, sky)
     jd0 = mech.train.epoch.jd_ut
-    res = drift_series(mech, sky, jd0, jd0 + 900, 0.5, chunk=300)
+    res = drift_series(mech, sky, DriftRun(jd0, jd0 + 900, 0.5), RunControl(chunk=300))
     ro = mech.readout
     want = ro.read_deg(ro.turns_at(res.jd))
     for name in ("venus", "mars"):

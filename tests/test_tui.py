@@ -7,6 +7,7 @@ The app is built by :func:`tui.app.make_app`, the same factory ``wheelwork crank
 import asyncio
 import functools
 import io
+from dataclasses import replace
 from fractions import Fraction
 from pathlib import Path
 
@@ -267,11 +268,13 @@ def _slow_drift(monkeypatch):
 
     original = engine.drift.drift_series
 
-    def slow(*args, cancel=None, **kwargs):
+    def slow(mech, sky, run, control=None):
+        control = control or engine.drift.RunControl()
+
         def ask():
             time.sleep(0.1)
-            return cancel() if cancel else False
-        return original(*args, cancel=ask, chunk=50, **kwargs)
+            return control.cancel() if control.cancel else False
+        return original(mech, sky, run, replace(control, cancel=ask, chunk=50))
 
     monkeypatch.setattr(engine.drift, "drift_series", slow)
 

@@ -738,7 +738,7 @@ class DriftScreen(ClosesOnce, Screen):
 
     @work(thread=True, exclusive=True, group="drift", exit_on_error=False)
     def compute(self, start: float, end: float, threshold_deg: float, run: int) -> None:
-        from engine.drift import DriftCancelled, drift_series
+        from engine.drift import DriftCancelled, DriftRun, RunControl, drift_series
 
         worker = get_current_worker()
         s = self.session
@@ -749,9 +749,11 @@ class DriftScreen(ClosesOnce, Screen):
                 self.app.call_from_thread(self._progress, fraction, run)
 
         try:
-            result = drift_series(s.mech, s.sky, start, end, step_days, frame=s.frame,
-                                  site=s.observer, threshold_deg=threshold_deg,
-                                  progress=progress, cancel=lambda: worker.is_cancelled)
+            result = drift_series(
+                s.mech, s.sky,
+                DriftRun(start, end, step_days, frame=s.frame, site=s.observer,
+                         threshold_deg=threshold_deg),
+                RunControl(progress=progress, cancel=lambda: worker.is_cancelled))
         except DriftCancelled:
             return  # the screen said so when it cancelled (or started another run)
         except Exception as exc:  # noqa: BLE001 - a WheelworkError, or a fault to report

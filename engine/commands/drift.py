@@ -40,7 +40,7 @@ STOPPED = "wheelwork: drift stopped; no file written"
 # --- option values: malformed or out of range is a usage error (exit 2) ---------------------
 
 def _step(text: str) -> str:
-    from ..drift import parse_step
+    from ..dates import parse_step
 
     if text.strip().startswith("-"):
         raise argparse.ArgumentTypeError(
@@ -409,8 +409,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from ..dates import format_jd
-    from ..drift import PHASE_DEG_PER_DAY, DriftError, drift_series, grid, parse_step
+    from ..dates import format_jd, parse_step
+    from ..drift import PHASE_DEG_PER_DAY, DriftError, DriftRun, RunControl, drift_series, grid
     from ..sky import Site
 
     step = parse_step(args.step)
@@ -455,10 +455,12 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             def progress(f):
                 bar.update(task, completed=f)
 
-        result = drift_series(mech, sky, start, end, step, frame=args.frame, site=site,
-                              threshold_deg=thresholds, progress=progress, on_chunk=sink,
-                              keep_series=png_out is not None, cancel=ctrl_c.cancelled,
-                              include_end=True)
+        result = drift_series(
+            mech, sky,
+            DriftRun(start, end, step, frame=args.frame, site=site, threshold_deg=thresholds,
+                     include_end=True),
+            RunControl(keep_series=png_out is not None, progress=progress,
+                       cancel=ctrl_c.cancelled, on_chunk=sink))
         if bar:
             bar.stop()
             bar = None
