@@ -14,7 +14,8 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
     from one gather of coefficients);
   - light time is solved with the target's position carried back along its velocity:
     over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
-  - aberration is skyfield's own relativistic formula;
+  - aberration is skyfield's own relativistic formula (the same operations, bit for bit, with
+    the observer's speed worked out once for the Sun, the Moon and the planets);
   - gravitational deflection is left out: for the Sun and Moon seen from the Earth it is below
     0.001 arcsecond (the Sun does not deflect its own light; the Moon is too near);
   - the ecliptic of date uses IAU 2006 precession as skyfield does, and nutation from the
@@ -71,7 +72,6 @@ from skyfield.nutationlib import (
     nals_t,
 )
 from skyfield.precessionlib import compute_precession
-from skyfield.relativity import add_aberration
 from skyfield.timelib import Timescale
 from skyfield.toposlib import wgs84
 
@@ -877,8 +877,7 @@ class Sky:
         sun, sun_lt = _light_time(sun_p, sun_v, obs)
         moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
         illuminated = _illuminated(sun, moon)
-        add_aberration(sun, v_obs, sun_lt)
-        add_aberration(moon, v_obs, moon_lt)
+        _add_aberration((sun, moon), (sun_lt, moon_lt), v_obs)
         return _Apparent(sun, moon, illuminated, geocentre, obs, v_obs, sun_p, sun_v)
 
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, geo_out, helio_out):
@@ -971,6 +970,25 @@ def _light_time(target_au, target_au_per_d, observer_au):
     return d - lt * target_au_per_d, lt
 
 
+_TINY = np.finfo(np.float64).tiny  # keeps an observer at rest from dividing by zero
+
+
+def _add_aberration(positions, light_times, v_obs) -> None:
+    """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``, the same
+    formula and operations) applied in place to each position (AU, from the observer) with its
+    light time, the observer's speed and Lorentz factor worked out once for all of them."""
+    vemag = np.sqrt(np.einsum("in,in->n", v_obs, v_obs))
+    beta = vemag / C_AUDAY
+    gammai = np.sqrt(1.0 - beta * beta)
+    for position, light_time in zip(positions, light_times, strict=True):
+        dot = np.einsum("in,in->n", position, v_obs)
+        p = beta * (dot / (light_time * C_AUDAY * vemag + _TINY))
+        q = (1.0 + p / (1.0 + gammai)) * light_time
+        position *= gammai
+        position += q * v_obs
+        position /= 1.0 + p
+
+
 def _planet_apparent(group, key, whole, frac, p_now, v_now, obs, v_obs, sun_p, sun_v):
     """A planet's apparent place (AU, ICRS axes) seen from ``obs`` at TDB ``whole + frac``.
 
@@ -986,7 +1004,7 @@ def _planet_apparent(group, key, whole, frac, p_now, v_now, obs, v_obs, sun_p, s
         if np.max(np.abs(lt - lt0)) < 1e-12:
             break
     _add_sun_deflection(p, obs, sun_p, sun_v, lt)
-    add_aberration(p, v_obs, lt)
+    _add_aberration((p,), (lt,), v_obs)
     return p
 
 

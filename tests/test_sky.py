@@ -692,3 +692,22 @@ def test_skyfield_nutation_hook_still_there():
     skyfield_2000b_nutation(hooked)
     diff = np.max(np.abs(default.M - hooked.M))  # precession-nutation matrices
     assert 1e-11 < diff < 1e-7
+
+
+def test_aberration_is_skyfields_formula():
+    # the fast path's aberration (observer's speed worked out once for several targets)
+    # against skyfield's own add_aberration, on random positions, velocities and light times
+    from skyfield.relativity import add_aberration
+
+    from engine.sky import _add_aberration
+
+    rng = np.random.default_rng(7)
+    v_obs = rng.normal(size=(3, 500)) * 0.02  # AU/day, the order of the Earth's speed
+    targets = [rng.normal(size=(3, 500)) * s for s in (1.0, 0.003, 30.0)]
+    lts = [rng.random(500) * 0.01 + 1e-6 for _ in targets]
+    ours = [p.copy() for p in targets]
+    _add_aberration(ours, lts, v_obs)
+    for p, lt, mine in zip(targets, lts, ours, strict=True):
+        theirs = p.copy()
+        add_aberration(theirs, v_obs, lt)
+        assert np.array_equal(mine, theirs)
