@@ -214,6 +214,7 @@ class LayeredCanvas(Canvas):
         if size.width < 2 or size.height < 2:
             return
         self._lines: dict[int, tuple[tuple[str, str], Strip]] = {}
+        self._base = None
         with self.batch_refresh():
             self.grid_size = Size(size.width, size.height)
             self.reset(size=self.grid_size, refresh=False)
@@ -237,6 +238,7 @@ class LayeredCanvas(Canvas):
         """Redraw the moving layer over the static one; repaint only the rows that changed."""
         chars, styles = canvas_rows(self)
         before = [row[:] for row in chars], [row[:] for row in styles]
+        self._base = None
         self._holding = True
         try:
             for rows, static in zip((chars, styles), self._static, strict=True):
@@ -254,6 +256,35 @@ class LayeredCanvas(Canvas):
         if changed:
             self.refresh(*changed)
 
+    def notify_style_update(self) -> None:
+        super().notify_style_update()
+        self._base = None
+
+    _base: RichStyle | None = None  # rich_style, found once a frame (it walks the ancestors)
+    _seg_styles: dict[str, RichStyle] = {}
+
+    def _row_strip(self, text: str, styles: list[str]) -> Strip:
+        """One row as the hi-res canvas draws it (runs of one style; a blank row is blank),
+        with the widget's style found once a frame rather than once a row."""
+        base = self._base
+        if base is None:
+            base = self._base = self.rich_style
+            self._seg_styles = {}
+        if not text.strip(" "):
+            return Strip.blank(len(text), base)
+        cache = self._seg_styles
+        segs = []
+        start, n = 0, len(styles)
+        for x in range(1, n + 1):
+            if x == n or styles[x] != styles[start]:
+                name = styles[start]
+                st = cache.get(name)
+                if st is None:
+                    st = cache[name] = base + (RichStyle.parse(name) if name else None)
+                segs.append(Segment(text[start:x], st))
+                start = x
+        return Strip(segs).simplify()
+
     def render_line(self, y: int) -> Strip:
         chars, styles = canvas_rows(self)
         if y >= len(chars):
@@ -262,7 +293,7 @@ class LayeredCanvas(Canvas):
         cached = getattr(self, "_lines", {}).get(y)
         if cached is not None and cached[0] == key:
             return cached[1]
-        strip = super().render_line(y)
+        strip = self._row_strip(key[0], styles[y])
         if hasattr(self, "_lines"):
             self._lines[y] = (key, strip)
         return strip
@@ -674,10 +705,16 @@ class OrreryPlan(LayeredCanvas):
                              ("☉", f"#101418 on {SUN_HUE}"), " Sun")
 
 
-def _shade(t: float) -> str:
-    k = round(t * _SHADES) / _SHADES
+def _shade_hex(k: float) -> str:
     r, g, b = (round(x + (y - x) * k) for x, y in zip(_UNLIT_RGB, _LIT_RGB, strict=True))
     return f"#{r:02x}{g:02x}{b:02x}"
+
+
+_SHADE_HEX = tuple(_shade_hex(i / _SHADES) for i in range(_SHADES + 1))
+
+
+def _shade(t: float) -> str:
+    return _SHADE_HEX[round(t * _SHADES)]
 
 
 @lru_cache(maxsize=512)
@@ -1048,14 +1085,26 @@ class EclipseInfo(Static):
                      "false alarm": "bold #e5c07b", "": ""}
 
     _now: Now | None = None
+    _shown: Text | None = None
 
     def show(self, now: Now) -> None:
         self._now = now
-        self.update(self.text(now, max(self.size.width, 20)))
+        self._put(self.text(now, max(self.size.width, 20)))
 
     def on_resize(self) -> None:
+        self._shown = None
         if self._now is not None:
-            self.update(self.text(self._now, max(self.size.width, 20)))
+            self._put(self.text(self._now, max(self.size.width, 20)))
+
+    def _put(self, text: Text) -> None:
+        """Show ``text`` unless it is what is shown (while cranking, the panel often stays
+        as it was); lay the screen out again only when the number of lines changes (lines
+        do not wrap here)."""
+        old = self._shown
+        if old is not None and text == old:
+            return
+        self._shown = text
+        self.update(text, layout=old is None or text.plain.count("\n") != old.plain.count("\n"))
 
     @classmethod
     def text(cls, now: Now, width: int) -> Text:
