@@ -25,6 +25,7 @@ negative Julian Days.
 from __future__ import annotations
 
 import math
+from fractions import Fraction
 import re
 
 import numpy as np
@@ -330,3 +331,73 @@ def parse_step(text: str | float) -> float:
     if not math.isfinite(days) or days < MIN_STEP_DAYS:
         raise DriftError(f"step {text!r} is too small: it must be at least one second")
     return days
+
+
+# --- the crank's step: turns, or a length of time ------------------------------------------
+
+#: what marks a crank step written in turns rather than time (a bare number is turns too)
+_TURN_UNITS = ("t", "turn", "turns")
+_TURN_STEP = re.compile(r"^\s*(.+?)\s*(?:t|turns?)?\s*$", re.IGNORECASE)
+#: the finest step a time is turned into: turns are kept as a fraction with at most this
+#: denominator (a step in seconds on a crank of a year a turn is still exact to 1e-12 turn)
+STEP_DENOMINATOR = 10**12
+
+
+def parse_crank_step(text: str, days_per_turn) -> tuple[Fraction, Fraction | None]:
+    """A crank step as ``(turns, days)``: ``text`` is turns (``3``, ``2.5``, ``1/24``,
+    ``5t``, ``5 turns``) or a length of time with a unit as :func:`parse_step` reads it
+    (``12h``, ``3d``, ``2w``, ``1y``), turned into crank turns at ``days_per_turn``
+    (``days`` is None for a step in turns). Raises ``ValueError`` for a number it cannot
+    read, :class:`DriftError` for a time it cannot read; both with a short reason."""
+    from .exact import parse_fraction
+
+    raw = str(text).strip()
+    m = _STEP.match(raw)
+    unit = m.group(2).lower() if m else ""
+    if m and unit and unit not in _TURN_UNITS:  # a time: 12h, 3d, 1y
+        if unit not in _STEP_UNITS:
+            raise DriftError(f"cannot read step {raw!r}: unknown unit {unit!r}; write turns "
+                             "(3, 2.5, 1/24, 5t) or a time (30m, 6h, 1d, 2w, 1y)")
+        days = Fraction(parse_step(raw)).limit_denominator(STEP_DENOMINATOR)
+        return days / Fraction(days_per_turn), days
+    if not raw:
+        raise ValueError("write a number of turns (3, 2.5, 1/24) or a time (12h, 3d, 1y)")
+    number = _TURN_STEP.match(raw).group(1)
+    try:
+        turns = parse_fraction(number, "step")
+    except ValueError as exc:
+        if re.search(r"[a-z]", raw, re.IGNORECASE):
+            raise DriftError(f"cannot read step {raw!r}: write turns (3, 2.5, 1/24, 5t) or "
+                             "a number and a unit of time (30m, 6h, 1d, 2w, 1y)") from None
+        raise exc
+    return turns, None
+
+
+def turn_days_text(days_per_turn, short: bool = False) -> str:
+    """``"1 turn = 29.53 days"``: what one crank turn stands for (``short``: ``"= 29.53 d"``
+    style unit). Whole and terminating decimals are shown exactly; others to 7 digits."""
+    days = Fraction(days_per_turn)
+    shown = _exact_or_7(days)
+    unit = "d" if short else ("day" if days == 1 else "days")
+    return f"1 turn = {shown} {unit}"
+
+
+def _exact_or_7(x: Fraction) -> str:
+    """A fraction as a decimal: exactly when it terminates within 7 places, else 7 digits."""
+    scaled = x * 10**7
+    if scaled.denominator == 1:
+        whole, rest = divmod(scaled.numerator, 10**7)
+        return f"{whole}.{rest:07d}".rstrip("0").rstrip(".")
+    return f"{float(x):.7g}"
+
+
+_UNIX_EPOCH_JD = 2440587.5  # 1970-01-01 00:00 UTC as a Julian Date
+
+
+def jd_now(clock=None) -> float:
+    """The Julian Date (UT) of this moment by the computer's clock (UTC, which keeps within
+    0.9 s of UT1). ``clock`` returns seconds since 1970-01-01 00:00 UTC (default
+    :func:`time.time`)."""
+    import time
+
+    return (clock or time.time)() / 86400.0 + _UNIX_EPOCH_JD

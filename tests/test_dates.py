@@ -176,3 +176,62 @@ def test_sky_command_refuses_huge_julian_dates(capsys):
         err = capsys.readouterr().err.strip()
         assert code == 2 and err.startswith("wheelwork sky: usage error: argument date: ")
         assert "outside the dates wheelwork handles" in err and len(err.splitlines()) == 1
+
+
+# --- the crank's step and this moment --------------------------------------------------------
+
+def test_crank_step_in_turns_or_time():
+    from fractions import Fraction
+
+    from engine.dates import parse_crank_step
+
+    month = Fraction("29.530589")
+    assert parse_crank_step("3", month) == (3, None)
+    assert parse_crank_step("1/24", month) == (Fraction(1, 24), None)
+    assert parse_crank_step("2.5 turns", month) == (Fraction(5, 2), None)
+    assert parse_crank_step("5t", 1) == (5, None)
+    # a Julian year is 365.25 days (IAU, the unit of light-years and Julian centuries)
+    assert parse_crank_step("1y", month) == (Fraction(1461, 4) / month, Fraction(1461, 4))
+    assert parse_crank_step("3d", month) == (3 / month, 3)
+    assert parse_crank_step("12h", 1) == (Fraction(1, 2), Fraction(1, 2))
+    assert parse_crank_step("30m", 1) == (Fraction(1, 48), Fraction(1, 48))  # exact, not binary
+    assert parse_crank_step("2w", 7) == (2, 14)
+
+
+@pytest.mark.parametrize("bad, words", [
+    ("", "write a number"), ("zero", "cannot read step 'zero'"), ("12x", "unknown unit 'x'"),
+    ("-3d", "cannot read step '-3d'"), ("1/0", "divides by zero"), ("0d", "too small"),
+])
+def test_crank_step_refuses_in_one_line(bad, words):
+    from engine.dates import parse_crank_step
+    from engine.errors import WheelworkError
+
+    with pytest.raises((ValueError, WheelworkError)) as err:
+        parse_crank_step(bad, 1)
+    assert words in str(err.value) and "\n" not in str(err.value)
+
+
+def test_turn_days_text():
+    from fractions import Fraction
+
+    from engine.dates import turn_days_text
+
+    assert turn_days_text(1) == "1 turn = 1 day"
+    assert turn_days_text(Fraction("365.2422")) == "1 turn = 365.2422 days"
+    assert turn_days_text(Fraction("29.530589"), short=True) == "1 turn = 29.530589 d"
+    assert turn_days_text(Fraction(1, 3)) == "1 turn = 0.3333333 days"
+
+
+def test_jd_now_from_the_clock():
+    from datetime import datetime, timezone
+
+    from engine.dates import jd_now
+
+    # the Unix epoch, 1970-01-01 00:00 UTC, is JD 2440587.5 (common practice, no source);
+    # 2000 January 1.5 is JD 2451545.0 (Meeus, Astronomical Algorithms, ch. 7)
+    assert jd_now(lambda: 0.0) == 2440587.5
+    assert jd_now(lambda: 946728000.0) == 2451545.0
+    # the default clock is this moment: the calendar route gives the same date
+    stamp = datetime.now(timezone.utc)
+    want = parse_date(stamp.strftime("%Y-%m-%d %H:%M:%S"))
+    assert abs(jd_now() - want) * 86400 < 60

@@ -106,7 +106,7 @@ async def test_step_dialog_sets_the_step_and_keeps_bad_input():
         await pilot.press("enter")
         await pilot.pause()
         assert isinstance(app.screen, StepDialog)  # still open, error shown
-        assert "expected a number" in text_of(app.screen.query_one("#step-error"))
+        assert "cannot read step 'zero'" in text_of(app.screen.query_one("#step-error"))
         app.screen.query_one("#step-input").value = "1/24"
         await pilot.press("enter")
         await pilot.pause()

@@ -23,13 +23,12 @@ from textual.worker import get_current_worker
 from textual_hires_canvas import HiResMode
 from textual_plot import PlotWidget
 
-from engine.dates import format_jd, parse_date
+from engine.dates import format_jd, parse_crank_step, parse_date
 from engine.errors import WheelworkError
-from engine.exact import parse_fraction
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import decimal_year, is_arm, train_layout
 
-from .session import FPS, FRAME_NAMES, SPEEDS, Session
+from .session import FPS, FRAME_NAMES, MAX_STEP_TURNS, SPEEDS, Session
 from .widgets import (
     CAUTION,
     EclipseInfo,
@@ -62,8 +61,10 @@ LONG_HELP = {
     "crank(1000)": "crank 1000 turns forward", "crank(-1000)": "crank 1000 turns back",
     "crank_step(1)": "crank forward by the chosen step",
     "crank_step(-1)": "crank back by the chosen step",
-    "choose_step": "choose the step for + and − (whole, decimal or p/q turns)",
-    "run": "run / pause continuous cranking", "speed(1)": "crank faster when running",
+    "choose_step": "choose the step for + and −: turns (3, 1/24) or a time (12h, 3d, 1y)",
+    "run": "run forwards / pause continuous cranking",
+    "run(-1)": "run backwards / pause continuous cranking",
+    "now": "jump to now: the computer's clock, UT", "speed(1)": "crank faster when running",
     "speed(-1)": "crank slower when running",
     "go_to_date": "go to a date: turn the crank to it",
     "epoch": "back to the epoch (crank turn 0)",
@@ -105,7 +106,7 @@ FOOTER_FROM_WIDTH = {
     "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
     "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
     "change_train": 250, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
-    "open_train": 250,
+    "open_train": 250, "run(-1)": 250, "now": 170,
 }
 #: Shorter footer labels below 100 columns.
 FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
@@ -132,10 +133,12 @@ class BenchScreen(Screen):
         Binding("minus", "crank_step(-1)", "crank −step", group=_GSTEP),
         Binding("s", "choose_step", "step…"),
         Binding("space", "run", "run"),
+        Binding("b", "run(-1)", "run back"),
         Binding("full_stop", "speed(1)", "faster", group=_GSPEED),
         Binding("comma", "speed(-1)", "slower", group=_GSPEED),
         Binding("g", "go_to_date", "date…"),
         Binding("e", "epoch", "epoch"),
+        Binding("n", "now", "now"),
         Binding("r", "reset_pointers", "re-set"),
         Binding("u", "undo_reset", "undo"),
         Binding("t", "toggle_frame", "frame"),
@@ -304,7 +307,7 @@ class BenchScreen(Screen):
 
     def _tick(self) -> None:
         try:
-            self.session.crank(self.session.speed_turns_per_s / FPS)
+            self.session.crank(self.session.direction * self.session.speed_turns_per_s / FPS)
         except WheelworkError as exc:
             self._stop()
             self.notify(f"stopped: {exc}", severity="warning")
@@ -336,20 +339,29 @@ class BenchScreen(Screen):
             self.refresh_view()
 
     def action_choose_step(self) -> None:
-        def done(step: Fraction | None) -> None:
-            if step is not None and self._guard(self.session.set_step, step):
+        def done(step: tuple[Fraction, Fraction | None, str] | None) -> None:
+            if step is not None and self._guard(self.session.set_step, *step):
                 self.refresh_view()
 
-        self.app.push_screen(StepDialog(self.session.step), done)
+        self.app.push_screen(StepDialog(self.session), done)
 
-    def action_run(self) -> None:
-        if self.running:
+    def action_run(self, direction: int = 1) -> None:
+        """Run continuously in ``direction`` (+1 forwards, -1 backwards), or pause: the key
+        of the way it runs pauses it, the other key turns it round without a pause."""
+        direction = 1 if int(direction) >= 0 else -1
+        if self.running and self.session.direction == direction:
             self._stop()
         else:
-            self.running = True
-            self.session.running = True
-            self.run_worker(self._frames, group="crank", exclusive=True)
+            self.session.set_direction(direction)
+            if not self.running:
+                self.running = True
+                self.session.running = True
+                self.run_worker(self._frames, group="crank", exclusive=True)
         self.refresh_view()
+
+    def action_now(self) -> None:
+        if self._guard(self.session.go_to_now):
+            self.refresh_view()
 
     def action_speed(self, direction: int) -> None:
         if int(direction) > 0:
@@ -554,19 +566,24 @@ class DateDialog(Dialog):
 
 
 class StepDialog(Dialog):
-    """Ask for the crank step used by +/−: a whole number, a decimal or a fraction p/q."""
+    """Ask for the crank step used by +/−: turns (a whole number, a decimal or a fraction p/q)
+    or a length of time (12h, 3d, 1y), which :func:`engine.dates.parse_crank_step` turns
+    into crank turns for this train."""
 
     error_id = "step-error"
 
-    def __init__(self, step: Fraction):
+    def __init__(self, session: Session):
         super().__init__()
-        self.step = step
+        self.session = session
 
     def compose(self) -> ComposeResult:
+        s = self.session
+        shown = s.step_label if s.step_days is not None and s.step_label else str(s.step)
         with Vertical(id="dialog"):
-            yield Label("Crank step for + and − (turns):", classes="dialog-title")
-            yield Input(value=str(self.step), id="step-input")
-            yield Label("a whole number, a decimal, or a fraction like 1/24", id="step-hint")
+            yield Label("Crank step for + and − (turns, or a time):", classes="dialog-title")
+            yield Input(value=shown, id="step-input")
+            yield Label(f"turns: 3 · 2.5 · 1/24 · 5t    time: 30m · 12h · 3d · 2w · 1y\n"
+                        f"{s.turn_days} on this train", id="step-hint")
             yield Label("", id="step-error")
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Set", variant="primary", id="ok")
@@ -575,15 +592,17 @@ class StepDialog(Dialog):
     def read(self) -> None:
         text = self.query_one("#step-input", Input).value
         try:
-            step = parse_fraction(text.strip())
+            step, days = parse_crank_step(text, self.session.mech.train.crank.days_per_turn)
             if step <= 0:
                 raise ValueError("the step must be more than 0 turns")
-            if step > 10**9:
-                raise ValueError("the step must be at most 1,000,000,000 turns")
-        except ValueError as exc:
+            if step > MAX_STEP_TURNS:
+                raise ValueError(f"the step must be at most {MAX_STEP_TURNS:,} turns"
+                                 + (f" ({text.strip()} = {float(step):,.6g} turns)"
+                                    if days is not None else ""))
+        except (ValueError, WheelworkError) as exc:
             self.reject(str(exc), text)
             return
-        self.accept(step)
+        self.accept((step, days, text.strip()))
 
 
 class HelpScreen(ClosesOnce, ModalScreen[None]):

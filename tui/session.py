@@ -12,7 +12,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from engine.dates import format_jd
+from engine.dates import format_jd, jd_now, turn_days_text
 from engine.drift import pointer_errors
 from engine.eclipses import EclipseNow, EclipseWatch, cycle_pointer, cycle_position, limit_arcs
 from engine.eclipses import limits as eclipse_limits
@@ -157,6 +157,12 @@ class Session:
     site_name: str = DEFAULT_SITE_NAME
     turns: Turns = field(default_factory=lambda: Turns.of(0))
     step: Fraction = Fraction(1)
+    #: the step as a length of time (days) when it was given so; it is turned into crank
+    #: turns again when the train on the bench changes its days per turn
+    step_days: Fraction | None = None
+    step_label: str = ""
+    #: which way continuous cranking runs: +1 forwards, -1 backwards
+    direction: int = 1
     frame: str = ""
     topocentric: bool = False
     speed_index: int | None = None  # None: default_speed_index(mech)
@@ -199,6 +205,10 @@ class Session:
         self.drift_by_frame = {}
         self.worst_deg = {}
         self._undo.clear()
+        if self.step_days is not None:
+            self.step = self.step_days / Fraction(mech.train.crank.days_per_turn)
+            if self.step > MAX_STEP_TURNS:  # a time too long for this crank: one turn
+                self.step, self.step_days, self.step_label = Fraction(1), None, ""
         try:
             self.go_to(jd)
         except WheelworkError:
@@ -241,16 +251,50 @@ class Session:
         self._moved = float((new - self.turns).to_float())
         self.turns = new
 
+    def go_to_now(self, clock=None) -> float:
+        """Turn the crank to this moment (UT, by the computer's clock); its Julian Date."""
+        jd = jd_now(clock)
+        self.go_to(jd)
+        return jd
+
     def to_epoch(self) -> None:
         self._moved = float(self.turns.to_float())
         self.turns = Turns.of(0)
 
-    def set_step(self, step: Fraction | int) -> None:
+    def set_step(self, step: Fraction | int, days: Fraction | None = None,
+                 label: str = "") -> None:
+        """The step of + and −, in crank turns; ``days`` when it was given as a time (what
+        :func:`engine.dates.parse_crank_step` returns), ``label`` as the user wrote it."""
         step = Fraction(step)
         if step <= 0 or step > MAX_STEP_TURNS:
-            raise WheelworkError(f"step {step} turns: choose more than 0 and at most "
+            what = (f"{label or self.days_text(days)} = {float(step):,.6g} turns" if days
+                    else f"{step} turns")
+            raise WheelworkError(f"step {what}: choose more than 0 and at most "
                                  f"{MAX_STEP_TURNS:,} turns")
         self.step = step
+        self.step_days = None if days is None else Fraction(days)
+        self.step_label = " ".join(label.split()) if days is not None else ""
+
+    @staticmethod
+    def days_text(days: Fraction) -> str:
+        return turn_days_text(days, short=True).removeprefix("1 turn = ").replace(" ", "")
+
+    @property
+    def step_text(self) -> str:
+        """The step as the user gave it: ``"3"`` (turns) or ``"1y = 12.37 turns"``."""
+        if self.step_days is None:
+            return str(self.step)
+        turns = self.step
+        shown = str(turns) if turns.denominator == 1 else f"{float(turns):.6g}"
+        return f"{self.step_label or self.days_text(self.step_days)} = {shown} turns"
+
+    @property
+    def turn_days(self) -> str:
+        """``"1 turn = 29.53 days"``: what one crank turn stands for on this train."""
+        return turn_days_text(self.mech.train.crank.days_per_turn)
+
+    def set_direction(self, direction: int) -> None:
+        self.direction = 1 if direction >= 0 else -1
 
     def faster(self) -> None:
         self.speed_index = min(self.speed_index + 1, len(SPEEDS) - 1)

@@ -17,7 +17,7 @@ from textual.widget import Widget
 from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
 
-from engine.dates import format_jd
+from engine.dates import format_jd, turn_days_text
 from engine.view import (
     TrainLayout,
     arbor_at,
@@ -949,6 +949,15 @@ class Readings(Static):
     _lines = 0
 
 
+def _fit(width: int, indent: int, *choices: tuple[str, ...]) -> tuple[str, ...]:
+    """The first of ``choices`` (parts of one line) that fits ``width`` after ``indent``
+    columns; the last when none does (or the width is not known yet)."""
+    for parts in choices:
+        if not width or indent + sum(len(p) for p in parts) <= width:
+            return parts
+    return choices[-1]
+
+
 class Status(Static):
     """Date, crank turns, ΔT, ephemeris and span, frame and observer, step and speed."""
 
@@ -975,18 +984,32 @@ class Status(Static):
             head, tail = date.split(" = ", 1)
             date = f"{head}\n{chr(0xA0) * 9}= {tail}"  # no-break spaces: kept as indent
         t.append(date + "\n", style="bold")
-        t.append("crank    ", style="dim")
-        turns = f"{now.turns_text} turns since epoch  "
-        step = f"step {s.step}"
-        if self.size.width and 9 + len(turns) + len(step) > self.size.width:
-            turns = f"{now.turns_text} turns  "  # keep the step on the line
-        t.append(turns)
+        width = self.size.width
         colours = ui(self)
+        fold = f"\n{chr(0xA0) * 9}"  # the last resort: a part on a line of its own
+        step = f"step {s.step_text}"
+        short_step = f"step {s.step_label or s.step}"
+        t.append("crank    ", style="dim")
+        turns, step = _fit(width, 9, (f"{now.turns_text} turns since epoch  ", step),
+                           (f"{now.turns_text} turns  ", step),  # keep the step on the line
+                           (f"{now.turns_text} turns  ", short_step),
+                           (f"{now.turns_text} turns", fold + step))
+        t.append(turns)
         t.append(f"{step}\n", style=colours["accent"])
         t.append("run      ", style="dim")
-        t.append("▶ running" if running else "■ paused",
-                 style=f"bold {colours['ok']}" if running else "")
-        t.append(f"  {s.speed_turns_per_s:g} turns/s\n")
+        back = s.direction < 0
+        state = ("◀ running back" if back else "▶ running") if running else "■ paused"
+        brief = ("◀ back" if back else "▶ run") if running else "■ paused"
+        speed, per_s = f"  {s.speed_turns_per_s:g} turns/s", f"  {s.speed_turns_per_s:g}/s"
+        days = s.mech.train.crank.days_per_turn
+        long_turn, short_turn = f"  {s.turn_days}", f"  {turn_days_text(days, short=True)}"
+        # "1 turn = N days" always in view: shorter words first, then a line of its own
+        state, speed, per_turn = _fit(width, 9, (state, speed, long_turn),
+                                      (state, per_s, short_turn), (brief, per_s, short_turn),
+                                      (brief, per_s, fold + short_turn.strip()))
+        t.append(state, style=f"bold {colours['ok']}" if running else "")
+        t.append(speed)
+        t.append(f"{per_turn}\n", style=colours["accent"])
         t.append("ΔT       ", style="dim")
         sigma = now.delta_t_sigma_s
         pm = f"{sigma:.0f}" if sigma >= 10 else f"{sigma:.1f}" if sigma >= 1 else f"{sigma:.1g}"

@@ -1,0 +1,172 @@
+"""The bench's own conveniences, driven by Textual's Pilot: jump to now, run backwards, steps
+in days with "1 turn = N days" in view, re-setting one pointer or to mean positions, a
+screenshot to a chosen path, and the open screen (recent files kept across runs, folders
+above the start, a typed path).
+
+Every test that could touch the user's config folder points XDG_CONFIG_HOME at a temporary one.
+"""
+
+import asyncio
+import functools
+import io
+from datetime import datetime, timezone
+from fractions import Fraction
+
+import pytest
+from rich.console import Console
+
+from engine.dates import parse_date
+from engine.demos import demo_path
+from tui.app import make_app
+from tui.screens import BenchScreen, StepDialog
+from tui.widgets import Status
+
+SMALL, LARGE = (80, 24), (160, 50)
+
+
+@pytest.fixture(autouse=True)
+def _own_config(tmp_path, monkeypatch):
+    """Never the real home: recent files and the like go to a folder of the test's own."""
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path / "config"))
+    monkeypatch.setenv("HOME", str(tmp_path / "home"))
+
+
+def sync(fn):
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        asyncio.run(fn(*args, **kwargs))
+    return wrapper
+
+
+def text_of(widget) -> str:
+    console = Console(width=300, file=io.StringIO(), record=True)
+    console.print(widget.content)
+    return console.export_text()
+
+
+def status_lines(app) -> list[str]:
+    return text_of(app.screen.query_one(Status)).splitlines()
+
+
+# --- jump to now -------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_n_jumps_to_now(size):
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        # the calendar route to this moment (UTC ≈ UT) gives the same date, within a minute
+        want = parse_date(datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M:%S"))
+        assert abs(app.session.jd_now() - want) * 1440 < 1
+        date_line = next(line for line in status_lines(app) if line.startswith("date"))
+        assert datetime.now(timezone.utc).strftime("%Y-%m-%d") in date_line
+
+
+@sync
+async def test_now_outside_the_ephemeris_is_refused_and_the_crank_stays(monkeypatch):
+    import tui.session
+
+    monkeypatch.setattr(tui.session, "jd_now", lambda clock=None: parse_date("2090-01-01"))
+    app = make_app()
+    async with app.run_test(size=SMALL) as pilot:
+        await pilot.press("right")
+        await pilot.press("n")
+        await pilot.pause()
+        assert app.session.turns.to_float() == 1
+        assert any("outside the ephemeris" in str(n.message) for n in app._notifications)
+
+
+# --- running backwards ---------------------------------------------------------------------------
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_b_runs_backwards_and_the_status_says_so(size):
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        bench = app.screen
+        await pilot.press("b")
+        await pilot.pause(0.3)
+        assert bench.running and app.session.direction == -1
+        assert app.session.turns.to_float() < 0
+        run = next(line for line in status_lines(app) if line.startswith("run"))
+        assert "◀" in run and "back" in run
+        await pilot.press("space")  # the other way round, without a pause
+        await pilot.pause(0.3)
+        assert bench.running and app.session.direction == 1
+        before = app.session.turns.to_float()
+        await pilot.pause(0.3)
+        assert app.session.turns.to_float() > before
+        run = next(line for line in status_lines(app) if line.startswith("run"))
+        assert "▶" in run and "back" not in run
+        await pilot.press("space")  # space pauses a forward run
+        await pilot.pause()
+        assert not bench.running
+        await pilot.press("b", "b")  # b pauses a backward run
+        await pilot.pause()
+        assert not bench.running
+        assert "paused" in next(line for line in status_lines(app) if line.startswith("run"))
+
+
+# --- steps in days, and what one turn stands for ---------------------------------------------------
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_step_in_days_on_a_month_crank(size):
+    app = make_app(demo_path("lunation_board"))
+    async with app.run_test(size=size) as pilot:
+        # one turn = 29.530589 days on this train, shown on the bench at all times
+        assert any("1 turn = 29.530589 d" in line for line in status_lines(app))
+        await pilot.press("s")
+        await pilot.pause()
+        assert isinstance(app.screen, StepDialog)
+        assert "1 turn = 29.530589 days" in text_of(app.screen.query_one("#step-hint"))
+        app.screen.query_one("#step-input").value = "3d"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.step == Fraction(3) / Fraction("29.530589")
+        start = app.session.jd_now()
+        await pilot.press("plus", "plus")
+        await pilot.pause()
+        assert app.session.jd_now() - start == pytest.approx(6.0, abs=1e-6)  # two steps, 6 days
+        crank = next(line for line in status_lines(app) if line.startswith("crank"))
+        assert "step 3d" in crank
+        await pilot.press("minus")
+        await pilot.pause()
+        assert app.session.jd_now() - start == pytest.approx(3.0, abs=1e-6)
+        # the dialog offers the step as it was written
+        await pilot.press("s")
+        await pilot.pause()
+        assert app.screen.query_one("#step-input").value == "3d"
+        for typed, words in (("1y", None), ("12x", "unknown unit"), ("0d", "too small"),
+                             ("99999999999y", "at most 1,000,000,000 turns")):
+            app.screen.query_one("#step-input").value = typed
+            await pilot.press("enter")
+            await pilot.pause()
+            if words is None:
+                break
+            assert isinstance(app.screen, StepDialog)
+            assert words in text_of(app.screen.query_one("#step-error")), typed
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.step == Fraction(1461, 4) / Fraction("29.530589")
+
+
+@sync
+async def test_turn_days_in_view_while_running_back_at_80_columns():
+    app = make_app(demo_path("lunation_board"))
+    async with app.run_test(size=SMALL) as pilot:
+        for _ in range(8):
+            app.session.faster()  # the widest speed figure
+        await pilot.pause()
+        bench, status = app.screen, app.screen.query_one(Status)
+        app.session.set_direction(-1)
+        bench.running = True  # draw the running state without running the clock
+        bench.refresh_view()
+        bench.running = False
+        lines = status_lines(app)
+        assert any("1 turn = 29.530589 d" in line for line in lines), lines
+        assert any("◀" in line for line in lines), lines
+        assert all(len(line.rstrip()) <= status.size.width for line in lines), lines
+        assert not any("…" in line for line in lines), lines
