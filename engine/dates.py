@@ -25,8 +25,8 @@ negative Julian Days.
 from __future__ import annotations
 
 import math
-from fractions import Fraction
 import re
+from fractions import Fraction
 
 import numpy as np
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from datetime import UTC
+
 import numpy as np
 import pytest
 from hypothesis import given
@@ -223,7 +225,7 @@ def test_turn_days_text():
 
 
 def test_jd_now_from_the_clock():
-    from datetime import datetime, timezone
+    from datetime import datetime
 
     from engine.dates import jd_now
 
@@ -232,6 +234,6 @@ def test_jd_now_from_the_clock():
     assert jd_now(lambda: 0.0) == 2440587.5
     assert jd_now(lambda: 946728000.0) == 2451545.0
     # the default clock is this moment: the calendar route gives the same date
-    stamp = datetime.now(timezone.utc)
+    stamp = datetime.now(UTC)
     want = parse_date(stamp.strftime("%Y-%m-%d %H:%M:%S"))
     assert abs(jd_now() - want) * 86400 < 60

@@ -9,7 +9,7 @@ Every test that could touch the user's config folder points XDG_CONFIG_HOME at a
 import asyncio
 import functools
 import io
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from fractions import Fraction
 
 import pytest
@@ -58,10 +58,10 @@ async def test_n_jumps_to_now(size):
         await pilot.press("n")
         await pilot.pause()
         # the calendar route to this moment (UTC ≈ UT) gives the same date, within a minute
-        want = parse_date(datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M:%S"))
+        want = parse_date(datetime.now(UTC).strftime("%Y-%m-%d %H:%M:%S"))
         assert abs(app.session.jd_now() - want) * 1440 < 1
         date_line = next(line for line in status_lines(app) if line.startswith("date"))
-        assert datetime.now(timezone.utc).strftime("%Y-%m-%d") in date_line
+        assert datetime.now(UTC).strftime("%Y-%m-%d") in date_line
 
 
 @sync
