@@ -76,12 +76,22 @@ def epoch_values(train: Train, sky=None, frame: str | None = None) -> dict[str, 
         shows = [p.shows for p in train.pointers.values()]
         state = sky_at(sky, np.array([jd]), shows, frame=frame)
         return {n: float(true_value(p.shows, state)[0]) for n, p in train.pointers.items()}
-    jd_tt = jd
+    return mean_values(train, jd, sky, frame)
+
+
+def mean_values(train: Train, jd_ut: float, sky=None, frame: str | None = None,
+                names=None) -> dict[str, float]:
+    """What each pointer (or those ``names``) would show at ``jd_ut`` if it followed the
+    mean motion exactly: its kind's mean value (``KINDS[...].mean``, from
+    :func:`engine.periods.mean_elements`) in degrees on a dial of ``frame`` (default the
+    train's). ``sky`` gives ΔT (the mean elements are taken at TT); without it, at UT."""
+    frame = frame or train.dial
+    names = list(train.pointers) if names is None else list(names)
+    jd_tt = jd_ut
     if sky is not None:
-        jd_tt = jd + float(sky.at(np.array([jd]), frame=frame).delta_t_s[0]) / 86400.0
+        jd_tt = jd_ut + float(sky.at(np.array([jd_ut]), frame=frame).delta_t_s[0]) / 86400.0
     mean = mean_elements(jd_tt)  # of date; a star dial reads from the J2000 equinox
-    return {n: float(mean_value(p.shows, mean, jd_tt, frame))
-            for n, p in train.pointers.items()}
+    return {n: float(mean_value(train.pointers[n].shows, mean, jd_tt, frame)) for n in names}
 
 
 class Readout:

@@ -94,3 +94,21 @@ def test_dates_and_turns_round_trip():
     turns = ro.turns_at(jd)
     assert np.allclose(ro.jd_at(turns), jd, atol=1e-6)
     assert float(turns.to_float()[3]) == pytest.approx(6939.6018 / 365.2422)
+
+
+def test_mean_values_at_j2000():
+    """Mean longitudes at J2000.0 (JD 2451545.0 TT), from memory: the Sun's 280.46646° (Meeus,
+    Astronomical Algorithms, 2nd ed., eq. 25.2) and the Moon's 218.3164477° (eq. 47.1)."""
+    from engine.demos import demo_path
+    from engine.loader import load_train
+    from engine.readout import mean_values
+
+    train = load_train(demo_path("tide_office"))
+    names = {p.shows: n for n, p in train.pointers.items()}
+    got = mean_values(train, 2451545.0, frame="equinox")  # no sky: TT taken as given
+    assert got[names["sun"]] == pytest.approx(280.46646, abs=1e-4)
+    assert got[names["moon"]] == pytest.approx(218.3164477, abs=1e-4)
+    # the mean elongation D, 297.8501921° (eq. 47.2, from memory)
+    assert got[names["phase"]] == pytest.approx(297.8501921, abs=1e-4)
+    one = mean_values(train, 2451545.0, frame="equinox", names=[names["moon"]])
+    assert one == {names["moon"]: got[names["moon"]]}

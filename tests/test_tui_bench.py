@@ -170,3 +170,99 @@ async def test_turn_days_in_view_while_running_back_at_80_columns():
         assert any("◀" in line for line in lines), lines
         assert all(len(line.rstrip()) <= status.size.width for line in lines), lines
         assert not any("…" in line for line in lines), lines
+
+
+# --- re-setting one pointer, or to mean positions ----------------------------------------------
+
+ARCSEC = 1 / 3600
+
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_re_set_one_pointer_to_the_sky_and_undo(size):
+    from tui.screens import ResetDialog
+
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("right_square_bracket")  # a thousand days out: errors of degrees
+        await pilot.pause()
+        before = {n: p.error_deg for n, p in app.session.now().pointers.items()}
+        offsets = app.session.readout.offsets_deg()
+        await pilot.press("R")
+        await pilot.pause()
+        assert isinstance(app.screen, ResetDialog)
+        names = list(app.session.mech.train.pointers)
+        moon = names.index("moon")
+        await pilot.press(*["down"] * (moon + 1), "enter")  # past "all pointers"
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        after = {n: p.error_deg for n, p in app.session.now().pointers.items()}
+        assert abs(before["moon"]) > 1 and after["moon"] == pytest.approx(0, abs=ARCSEC)
+        for n in names:
+            if n != "moon":
+                assert after[n] == pytest.approx(before[n], abs=1e-9), n
+        await pilot.press("u")
+        await pilot.pause()
+        assert app.session.readout.offsets_deg() == offsets
+
+
+@sync
+async def test_m_re_sets_every_pointer_to_its_mean_position_and_undo():
+    from engine.readout import mean_values
+
+    app = make_app()
+    async with app.run_test(size=SMALL) as pilot:
+        await pilot.press("right_square_bracket")
+        await pilot.pause()
+        offsets = app.session.readout.offsets_deg()
+        await pilot.press("m")
+        await pilot.pause()
+        s = app.session
+        want = mean_values(s.mech.train, s.jd_now(), s.sky, s.frame)
+        now = s.now()
+        for n, value in want.items():
+            got = now.pointers[n].train_deg
+            assert (got - value + 180) % 360 - 180 == pytest.approx(0, abs=ARCSEC), n
+        # mean, not true: the Moon's inequalities leave it degrees from the sky
+        assert abs(now.pointers["moon"].error_deg) > 0.1
+        await pilot.press("u")
+        await pilot.pause()
+        assert app.session.readout.offsets_deg() == offsets
+
+
+@sync
+async def test_re_set_dialog_one_pointer_to_mean_and_escape_changes_nothing():
+    from engine.readout import mean_values
+    from tui.screens import ResetDialog
+
+    app = make_app()
+    async with app.run_test(size=SMALL) as pilot:
+        await pilot.press("right_square_bracket")
+        offsets = app.session.readout.offsets_deg()
+        await pilot.press("R", "m", "escape")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.readout.offsets_deg() == offsets
+        await pilot.press("R", "m")
+        await pilot.pause()
+        assert isinstance(app.screen, ResetDialog) and app.screen.target == "mean"
+        sun = list(app.session.mech.train.pointers).index("sun")
+        await pilot.press(*["down"] * (sun + 1), "enter")
+        await pilot.pause()
+        s = app.session
+        got = s.now().pointers["sun"].train_deg
+        want = mean_values(s.mech.train, s.jd_now(), s.sky, s.frame, ["sun"])["sun"]
+        assert (got - want + 180) % 360 - 180 == pytest.approx(0, abs=ARCSEC)
+        new = s.readout.offsets_deg()
+        assert [n for n in offsets if new[n] != offsets[n]] == ["sun"]
+
+
+def test_re_set_refuses_an_unknown_pointer_or_target():
+    from engine.errors import WheelworkError
+
+    session = make_app().session
+    with pytest.raises(WheelworkError, match="no pointer called 'hand'"):
+        session.reset_pointers(["hand"])
+    with pytest.raises(WheelworkError, match="re-set to 'average'"):
+        session.reset_pointers(None, "average")
+    assert not session.can_undo

@@ -18,7 +18,18 @@ from textual.await_complete import AwaitComplete
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
-from textual.widgets import Button, Footer, Input, Label, ProgressBar, Static
+from textual.widgets import (
+    Button,
+    Footer,
+    Input,
+    Label,
+    OptionList,
+    ProgressBar,
+    RadioButton,
+    RadioSet,
+    Static,
+)
+from textual.widgets.option_list import Option
 from textual.worker import get_current_worker
 from textual_hires_canvas import HiResMode
 from textual_plot import PlotWidget
@@ -28,7 +39,7 @@ from engine.errors import WheelworkError
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import decimal_year, is_arm, train_layout
 
-from .session import FPS, FRAME_NAMES, MAX_STEP_TURNS, SPEEDS, Session
+from .session import FPS, FRAME_NAMES, MAX_STEP_TURNS, RESET_TO, SPEEDS, Session
 from .widgets import (
     CAUTION,
     EclipseInfo,
@@ -69,6 +80,8 @@ LONG_HELP = {
     "go_to_date": "go to a date: turn the crank to it",
     "epoch": "back to the epoch (crank turn 0)",
     "reset_pointers": "re-set the pointers to the sky at this date, by hand",
+    "choose_reset": "re-set one pointer (or all) to the sky or to its mean position…",
+    "reset_pointers(None, 'mean')": "re-set the pointers to their mean positions at this date",
     "undo_reset": "undo the last re-set of the pointers",
     "toggle_frame": "switch frame: equinox of date ↔ fixed stars",
     "toggle_observer": "switch observer: geocentric ↔ site",
@@ -106,7 +119,8 @@ FOOTER_FROM_WIDTH = {
     "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
     "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
     "change_train": 250, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
-    "open_train": 250, "run(-1)": 250, "now": 170,
+    "open_train": 250, "run(-1)": 250, "now": 170, "choose_reset": 250,
+    "reset_pointers(None, 'mean')": 250,
 }
 #: Shorter footer labels below 100 columns.
 FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
@@ -140,6 +154,8 @@ class BenchScreen(Screen):
         Binding("e", "epoch", "epoch"),
         Binding("n", "now", "now"),
         Binding("r", "reset_pointers", "re-set"),
+        Binding("R", "choose_reset", "re-set…"),
+        Binding("m", "reset_pointers(None, 'mean')", "mean"),
         Binding("u", "undo_reset", "undo"),
         Binding("t", "toggle_frame", "frame"),
         Binding("o", "toggle_observer", "observer"),
@@ -381,10 +397,18 @@ class BenchScreen(Screen):
         self.session.to_epoch()
         self.refresh_view()
 
-    def action_reset_pointers(self) -> None:
-        if self._guard(self.session.reset_pointers):
-            self.notify("pointers re-set to the sky at this date (u undoes)", timeout=3)
+    def action_reset_pointers(self, names=None, to: str = "sky") -> None:
+        if self._guard(self.session.reset_pointers, names, to):
+            which = "pointers" if names is None else ", ".join(names)
+            self.notify(f"{which} re-set to {RESET_TO[to]} at this date (u undoes)", timeout=3)
             self.refresh_view()
+
+    def action_choose_reset(self) -> None:
+        def done(choice: tuple[list[str] | None, str] | None) -> None:
+            if choice is not None:
+                self.action_reset_pointers(*choice)
+
+        self.app.push_screen(ResetDialog(self.session), done)
 
     def action_undo_reset(self) -> None:
         if self.session.undo_reset():
@@ -603,6 +627,65 @@ class StepDialog(Dialog):
             self.reject(str(exc), text)
             return
         self.accept((step, days, text.strip()))
+
+
+class ResetDialog(Dialog):
+    """Re-set pointers by hand: all or one (a list), to the true sky or to the mean position
+    (a choice of two). Enter on a pointer, or the button, re-sets; Escape leaves them."""
+
+    error_id = "reset-error"
+    ALL = "\x00all"  # the list's id for "every pointer" (no pointer name starts so)
+    BINDINGS = [Binding("escape", "cancel", "cancel"),
+                Binding("m", "to('mean')", "to mean"), Binding("s", "to('sky')", "to sky")]
+
+    def __init__(self, session: Session):
+        super().__init__()
+        self.session = session
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        with Vertical(id="dialog", classes="reset-dialog"):
+            yield Label(f"Re-set by hand at {format_jd(s.jd_now())}", classes="dialog-title",
+                        id="reset-dialog-title")
+            with RadioSet(id="reset-to"):
+                for key, words in RESET_TO.items():
+                    yield RadioButton(f"to {words}", value=key == "sky", id=f"reset-{key}")
+            width = max(len(n) for n in s.mech.train.pointers)
+            options = [Option(Text("all pointers", style="bold"), id=self.ALL)]
+            for name, p in s.mech.train.pointers.items():
+                options.append(Option(Text.assemble(name.ljust(width + 2), (p.shows, "dim")),
+                                      id=name))
+            yield OptionList(*options, id="reset-list")
+            yield Label("s sky · m mean · Enter re-sets the one picked · u on the bench undoes",
+                        id="reset-hint")
+            yield Label("", id="reset-error")
+            with Horizontal(classes="dialog-buttons", id="reset-buttons"):
+                yield Button("Re-set", variant="primary", id="ok", compact=True)
+                yield Button("Cancel", id="cancel", compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#reset-list", OptionList).highlighted = 0
+        self.query_one("#reset-list").focus()
+
+    @property
+    def target(self) -> str:
+        pressed = self.query_one("#reset-to", RadioSet).pressed_button
+        return "mean" if pressed is not None and pressed.id == "reset-mean" else "sky"
+
+    def action_to(self, target: str) -> None:
+        self.query_one(f"#reset-{target}", RadioButton).value = True
+
+    @on(OptionList.OptionSelected, "#reset-list")
+    def _picked(self) -> None:
+        self.submit()
+
+    def read(self) -> None:
+        ol = self.query_one("#reset-list", OptionList)
+        if ol.highlighted is None:
+            self.reject("pick a pointer, or all pointers")
+            return
+        pick = ol.get_option_at_index(ol.highlighted).id
+        self.accept((None if pick == self.ALL else [pick], self.target))
 
 
 class HelpScreen(ClosesOnce, ModalScreen[None]):
@@ -897,4 +980,5 @@ class DriftScreen(ClosesOnce, Screen):
         self.app.push_screen(HelpScreen(self.BINDINGS))
 
 
-__all__ = ["BenchScreen", "DateDialog", "DriftScreen", "HelpScreen", "StepDialog", "SPEEDS"]
+__all__ = ["BenchScreen", "DateDialog", "DriftScreen", "HelpScreen", "ResetDialog", "StepDialog",
+           "SPEEDS"]

@@ -21,7 +21,7 @@ from engine.exact import Turns
 from engine.kinds import FRAMES, next_frame, sky_at
 from engine.mechanism import Mechanism
 from engine.ratios import pointer_ratios
-from engine.readout import Readout
+from engine.readout import Readout, mean_values
 from engine.sky import Site, Sky, SkyState
 from engine.view import arbor_turns
 
@@ -53,6 +53,8 @@ def default_speed_index(mech: Mechanism) -> int:
     return best
 
 FRAME_NAMES = FRAMES  # dial frame -> plain words
+#: what a re-set turns the pointers to, in plain words
+RESET_TO = {"sky": "the true sky", "mean": "mean positions"}
 MAX_STEP_TURNS = 10**9
 #: while running faster than this (days of the train per frame), the eclipse readout waits
 ECLIPSE_MAX_DAYS_PER_FRAME = 40.0
@@ -310,13 +312,27 @@ class Session:
         self.topocentric = not self.topocentric
         self.worst_deg = {}
 
-    def reset_pointers(self) -> None:
-        """Turn every pointer by hand to the sky at the current date (undoable)."""
-        errors = self._errors()
-        values = {n: _one(e.sky_deg) for n, e in errors.items()}
+    def reset_pointers(self, names=None, to: str = "sky") -> list[str]:
+        """Turn pointers by hand (all, or those ``names``) to the true sky at the current date
+        (``to="sky"``) or to their mean positions (``to="mean"``: each kind's mean value,
+        :func:`engine.readout.mean_values`); undoable. The names re-set."""
+        if to not in RESET_TO:
+            raise WheelworkError(f"re-set to {to!r}: choose one of {', '.join(RESET_TO)}")
+        names = list(self.mech.train.pointers) if names is None else list(names)
+        unknown = [n for n in names if n not in self.mech.train.pointers]
+        if unknown:
+            raise WheelworkError(f"no pointer called {unknown[0]!r} on this train")
+        if to == "sky":
+            errors = self._errors()
+            values = {n: _one(errors[n].sky_deg) for n in names}
+        else:
+            values = mean_values(self.mech.train, self.jd_now(), self._last_sky, self.frame,
+                                 names)
         self._undo.append(self.mech.readout)
         self.mech = replace(self.mech, readout=self.readout.reset_to(self.turns, values))
-        self.worst_deg = {}
+        for n in names:  # what those are measured against has changed
+            self.worst_deg.pop(n, None)
+        return names
 
     def undo_reset(self) -> bool:
         """Put the pointers back as they were before the last re-set; False if none. The
