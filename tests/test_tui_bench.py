@@ -266,3 +266,85 @@ def test_re_set_refuses_an_unknown_pointer_or_target():
     with pytest.raises(WheelworkError, match="re-set to 'average'"):
         session.reset_pointers(None, "average")
     assert not session.can_undo
+
+
+# --- a screenshot to a chosen path ----------------------------------------------------------------
+
+def _notes(app) -> list[str]:
+    return [str(n.message) for n in app._notifications]
+
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_screenshot_to_a_chosen_path_asks_before_replacing(size, tmp_path, monkeypatch):
+    from tui.screens import ScreenshotDialog
+
+    monkeypatch.chdir(tmp_path)
+    app = make_app()
+    app.screenshot_dir = tmp_path / "pictures"
+    (tmp_path / "pictures").mkdir()
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("i")
+        await pilot.pause()
+        assert isinstance(app.screen, ScreenshotDialog)
+        default = app.screen.query_one("#shot-input").value
+        assert default.startswith(str(tmp_path / "pictures")) and default.endswith(".svg")
+        await pilot.press("enter")
+        await pilot.pause(0.3)
+        assert isinstance(app.screen, BenchScreen)
+        saved = tmp_path / "pictures" / default.rsplit("/", 1)[1]
+        svg = saved.read_text(encoding="utf-8")
+        assert svg.startswith("<svg") and "readings" in svg and "ScreenshotDialog" not in svg
+        assert "Save a picture" not in svg  # the bench itself, not the dialog over it
+        assert any(str(saved) in n for n in _notes(app))
+
+        # a bare name goes in the current folder; an existing file is replaced on a second Enter
+        mine = tmp_path / "mine.svg"
+        mine.write_text("the user's own file", encoding="utf-8")
+        await pilot.press("i")
+        await pilot.pause()
+        app.screen.query_one("#shot-input").value = "mine.svg"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, ScreenshotDialog)
+        assert "exists: Enter again" in text_of(app.screen.query_one("#shot-error"))
+        assert mine.read_text(encoding="utf-8") == "the user's own file"
+        await pilot.press("escape")  # and Escape leaves it alone
+        await pilot.pause()
+        assert mine.read_text(encoding="utf-8") == "the user's own file"
+        await pilot.press("i")
+        await pilot.pause()
+        app.screen.query_one("#shot-input").value = "mine.svg"
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("enter")
+        await pilot.pause(0.3)
+        assert isinstance(app.screen, BenchScreen)
+        assert mine.read_text(encoding="utf-8").startswith("<svg")
+
+
+@pytest.mark.parametrize("typed, words", [
+    ("/no/such/folder/x.svg", "folder '/no/such/folder' does not exist"),
+    ("{tmp}", "is a folder"),
+    ("{tmp}/x.png", "end the name with .svg"),
+    ("   ", "give a file name"),
+])
+@sync
+async def test_screenshot_refuses_a_bad_path_in_one_line(typed, words, tmp_path):
+    from tui.screens import ScreenshotDialog
+
+    folder = tmp_path / "pics.svg"  # a folder whose name ends in .svg
+    folder.mkdir()
+    typed = typed.replace("{tmp}", str(folder))
+    app = make_app()
+    async with app.run_test(size=SMALL) as pilot:
+        await pilot.press("i")
+        await pilot.pause()
+        app.screen.query_one("#shot-input").value = typed
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, ScreenshotDialog)  # still open, with what was typed
+        error = text_of(app.screen.query_one("#shot-error")).strip()
+        assert words in error and "\n" not in error, error
+        assert app.screen.query_one("#shot-input").value == typed
+    assert list(tmp_path.rglob("*")) == [folder]

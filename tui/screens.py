@@ -86,6 +86,7 @@ LONG_HELP = {
     "toggle_frame": "switch frame: equinox of date ↔ fixed stars",
     "toggle_observer": "switch observer: geocentric ↔ site",
     "drift": "open the drift chart",
+    "screenshot": "save a picture of the screen (SVG) to a path you choose…",
     "eclipse(1)": "jump to the next real eclipse (solar or lunar)",
     "eclipse(-1)": "jump to the previous real eclipse",
     "predicted": "jump to the next new or full moon the train predicts an eclipse at",
@@ -120,7 +121,7 @@ FOOTER_FROM_WIDTH = {
     "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
     "change_train": 250, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
     "open_train": 250, "run(-1)": 250, "now": 170, "choose_reset": 250,
-    "reset_pointers(None, 'mean')": 250,
+    "reset_pointers(None, 'mean')": 250, "screenshot": 250,
 }
 #: Shorter footer labels below 100 columns.
 FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
@@ -160,6 +161,7 @@ class BenchScreen(Screen):
         Binding("t", "toggle_frame", "frame"),
         Binding("o", "toggle_observer", "observer"),
         Binding("d", "drift", "drift"),
+        Binding("i", "screenshot", "picture…"),
         Binding("x", "eclipse(1)", "eclipse▸", group=_GECLIPSE),
         Binding("z", "eclipse(-1)", "◂eclipse", group=_GECLIPSE),
         Binding("p", "predicted", "predicted▸"),
@@ -440,6 +442,28 @@ class BenchScreen(Screen):
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(self.BINDINGS))
 
+    def action_screenshot(self) -> None:
+        from datetime import datetime
+
+        def done(out) -> None:
+            if out is not None:  # taken once the dialog has gone from the screen
+                self.call_after_refresh(self._shoot, out)
+
+        stamp = datetime.now().strftime("%Y-%m-%d_%H%M%S")
+        name = f"{Path(self.session.mech.train.source).stem}-{stamp}.svg"
+        default = self.app._screenshot_folder() / name
+        self.app.push_screen(ScreenshotDialog(default), done)
+
+    def _shoot(self, out) -> None:
+        try:
+            svg = self.app.export_screenshot()
+            with out.open("w", encoding="utf-8") as fh:
+                fh.write(svg)
+        except (WheelworkError, OSError) as exc:
+            self.notify(str(exc), title="screenshot not saved", severity="error", timeout=8)
+            return
+        self.notify(f"saved to {out.path}", title="screenshot", timeout=8)
+
     # --- changing the train (tui/editing.py) ----------------------------------------------
     def action_change_train(self) -> None:
         from .editing import PartsScreen
@@ -686,6 +710,59 @@ class ResetDialog(Dialog):
             return
         pick = ol.get_option_at_index(ol.highlighted).id
         self.accept((None if pick == self.ALL else [pick], self.target))
+
+
+class ScreenshotDialog(Dialog):
+    """Ask where to save a picture of the bench (SVG). A file that exists is replaced only
+    after a second Enter on the same name; a missing folder, a folder or a link is refused
+    here, in one line, and the dialog stays with what was typed."""
+
+    error_id = "shot-error"
+
+    def __init__(self, default: Path):
+        super().__init__()
+        self.default = Path(default)
+        self._confirmed: Path | None = None
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="dialog"):
+            yield Label("Save a picture of the screen (SVG) to:", classes="dialog-title")
+            yield Input(value=str(self.default), id="shot-input")
+            yield Label(f"~ is your home; a bare name goes in the current folder, {Path.cwd()}",
+                        id="shot-hint")
+            yield Label("", id="shot-error")
+            with Horizontal(classes="dialog-buttons"):
+                yield Button("Save", variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
+    def read(self) -> None:
+        from engine.commands.support import OutputFile
+
+        text = self.query_one("#shot-input", Input).value
+        if not text.strip():
+            self.reject("give a file name ending in .svg")
+            return
+        path = Path(text.strip()).expanduser()
+        path = path if path.is_absolute() else Path.cwd() / path
+        if path.suffix.lower() != ".svg":
+            self.reject(f"{path}: a screenshot is an SVG file; end the name with .svg", text)
+            return
+        exists = path.is_file() and not path.is_symlink()
+        if exists and self._confirmed != path:
+            self._confirmed = path
+            self.reject(f"{path} exists: Enter again to replace it, or change the name", text)
+            return
+        try:
+            out = OutputFile(path, option="the screenshot", force=exists)
+        except WheelworkError as exc:
+            self._confirmed = None
+            self.reject(str(exc), text)
+            return
+        self.accept(out)
+
+    @on(Input.Changed, "#shot-input")
+    def _typed(self) -> None:
+        self._confirmed = None  # a replacement is confirmed for the name shown, only
 
 
 class HelpScreen(ClosesOnce, ModalScreen[None]):
@@ -980,5 +1057,5 @@ class DriftScreen(ClosesOnce, Screen):
         self.app.push_screen(HelpScreen(self.BINDINGS))
 
 
-__all__ = ["BenchScreen", "DateDialog", "DriftScreen", "HelpScreen", "ResetDialog", "StepDialog",
-           "SPEEDS"]
+__all__ = ["BenchScreen", "DateDialog", "DriftScreen", "HelpScreen", "ResetDialog",
+           "ScreenshotDialog", "StepDialog", "SPEEDS"]
