@@ -11,6 +11,7 @@ import functools
 import io
 from datetime import UTC, datetime
 from fractions import Fraction
+from pathlib import Path
 
 import pytest
 from rich.console import Console
@@ -25,9 +26,8 @@ SMALL, LARGE = (80, 24), (160, 50)
 
 
 @pytest.fixture(autouse=True)
-def _own_config(tmp_path, monkeypatch):
-    """Never the real home: recent files and the like go to a folder of the test's own."""
-    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path / "config"))
+def _own_home(tmp_path, monkeypatch):
+    """Never the real home (tests/conftest.py gives each test its own config folder too)."""
     monkeypatch.setenv("HOME", str(tmp_path / "home"))
 
 
@@ -348,3 +348,116 @@ async def test_screenshot_refuses_a_bad_path_in_one_line(typed, words, tmp_path)
         assert words in error and "\n" not in error, error
         assert app.screen.query_one("#shot-input").value == typed
     assert list(tmp_path.rglob("*")) == [folder]
+
+
+# --- the open screen: recent files kept across runs, folders above, a typed path -----------------
+
+@sync
+async def test_recent_files_are_kept_across_runs(tmp_path, monkeypatch):
+    import os
+    import shutil
+
+    from tui.editing import OpenScreen
+    from tui.session import recent_path
+
+    config = os.environ["XDG_CONFIG_HOME"]
+    assert str(recent_path()).startswith(config) and not recent_path().exists()
+    first, second = tmp_path / "first.toml", tmp_path / "second.toml"
+    shutil.copy(demo_path("moon_disc_59"), first)
+    shutil.copy(demo_path("tide_office"), second)
+    make_app(first)  # a run on one train ...
+    make_app(second)  # ... and another
+    assert recent_path().read_text(encoding="utf-8").splitlines() == [str(second), str(first)]
+    import tui.session
+
+    monkeypatch.setattr(tui.session, "_RECENT_FROM", [None])  # a new run: read from the file
+    app = make_app()
+    async with app.run_test(size=SMALL) as pilot:
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        assert isinstance(app.screen, OpenScreen)
+        recent = app.screen.query_one("#open-recent")
+        shown = [recent.get_option_at_index(i).id for i in range(recent.option_count)]
+        assert shown == [str(second), str(first)]
+        recent.focus()
+        recent.highlighted = 1
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.editor.path == first
+    assert recent_path().read_text(encoding="utf-8").splitlines()[0] == str(first)
+
+
+def test_a_damaged_or_unwritable_recent_file_is_passed_over(tmp_path, monkeypatch):
+    import tui.session
+    from tui.session import recent_files, recent_path, remember
+
+    train = tmp_path / "t.toml"
+    train.write_text("", encoding="utf-8")
+    recent_path().parent.mkdir(parents=True)
+    recent_path().write_bytes(b"not a path\n\xff\xfe garbage\n\x00\n" + b"x" * 100_000
+                              + f"\n{train}\n".encode())
+    monkeypatch.setattr(tui.session, "_RECENT_FROM", [None])
+    assert recent_files() == []  # nothing readable in its first 64 KB
+    recent_path().write_text(f"relative.toml\n{train}\n{tmp_path / 'gone.toml'}\n")
+    monkeypatch.setattr(tui.session, "_RECENT_FROM", [None])
+    assert recent_files() == [train]  # a file gone since is not offered
+    blocked = tmp_path / "config-is-a-file"  # the config folder cannot be made
+    blocked.write_text("", encoding="utf-8")
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(blocked))
+    remember(train)  # no error for the user
+    assert recent_files() == [train]  # still listed for this run
+    assert blocked.read_text(encoding="utf-8") == ""
+
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_open_screen_goes_above_the_start_and_takes_a_typed_path(size, tmp_path,
+                                                                      monkeypatch):
+    import shutil
+
+    from textual.widgets import DirectoryTree
+
+    from engine.loader import load_train
+    from tui.editing import OpenScreen
+
+    start = tmp_path / "work" / "here"
+    start.mkdir(parents=True)
+    above = tmp_path / "work" / "moon.toml"
+    shutil.copy(demo_path("moon_disc_59"), above)
+    monkeypatch.chdir(start)
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        screen = app.screen
+        assert isinstance(screen, OpenScreen)
+        tree = screen.query_one(DirectoryTree)
+        assert Path(tree.path) == start
+        await pilot.press("alt+up")  # the folder above the start
+        await pilot.pause()
+        assert Path(tree.path) == start.parent
+        assert screen.query_one("#open-path").value == str(start.parent)
+        assert str(start.parent) in str(screen.query_one("#open-files").border_title)
+        await pilot.click("#open-up")
+        await pilot.pause()
+        assert Path(tree.path) == tmp_path
+        # a typed folder is looked in; a missing one is named; a typed file is opened
+        path_field = screen.query_one("#open-path")
+        path_field.value = "work/here"  # relative to the folder shown
+        path_field.focus()
+        await pilot.press("enter")
+        await pilot.pause()
+        assert Path(tree.path) == start
+        path_field.value = "nowhere/at/all"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "no such file or folder" in text_of(screen.query_one("#open-error"))
+        assert isinstance(app.screen, OpenScreen)
+        path_field.value = "../moon.toml"
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.mech.train.name == load_train(above).name

@@ -26,24 +26,11 @@ from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 
 from .screens import ClosesOnce, Dialog, HelpScreen
+from .session import recent_files, remember  # files opened or saved, kept across runs
 from .widgets import CAUTION, Readings
 
 #: the marker the title shows while the train differs from its file
 CHANGED_MARK = "◆ changed, not saved"
-
-#: files opened or saved in this run, newest first (the open dialog lists them)
-RECENT: list[Path] = []
-MAX_RECENT = 8
-
-
-def remember(path: Path | None) -> None:
-    if path is None:
-        return
-    path = Path(path).resolve()
-    if path in RECENT:
-        RECENT.remove(path)
-    RECENT.insert(0, path)
-    del RECENT[MAX_RECENT:]
 
 
 def title_mark(session) -> tuple[str, str]:
@@ -407,10 +394,12 @@ class TrainFiles(DirectoryTree):
 
 
 class OpenScreen(ClosesOnce, Screen):
-    """Open a train file (folders from the current one; files opened or saved in this run),
-    or start a new train from a demo. A file the loader refuses is reported here."""
+    """Open a train file (folders from the current one, and above it; a typed path; files
+    opened or saved, kept across runs), or start a new train from a demo. A file the loader
+    refuses is reported here."""
 
-    BINDINGS = [Binding("escape", "back", "bench"), Binding("f1", "help", "help")]
+    BINDINGS = [Binding("escape", "back", "bench"), Binding("alt+up", "up", "up a folder"),
+                Binding("f1", "help", "help")]
 
     def __init__(self, session, start: Path | None = None):
         super().__init__()
@@ -422,6 +411,10 @@ class OpenScreen(ClosesOnce, Screen):
                      id="open-title")
         with Horizontal(id="open-top"):
             with Vertical(id="open-files"):
+                with Horizontal(id="open-where"):
+                    yield Button("↑ up", id="open-up", compact=True)
+                    yield Input(value=str(self.start), id="open-path",
+                                placeholder="a folder to look in, or a train file to open")
                 yield TrainFiles(self.start, id="open-tree")
             with Vertical(id="open-side"):
                 yield OptionList(id="open-recent")
@@ -430,17 +423,68 @@ class OpenScreen(ClosesOnce, Screen):
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
-        self.query_one("#open-files").border_title = f"files in {self.start}"
+        self._folder_title()
+        field = self.query_one("#open-path", Input)
+        field.cursor_position = len(field.value)
         recent = self.query_one("#open-recent", OptionList)
-        recent.border_title = "opened or saved in this run"
-        if RECENT:
-            recent.add_options([Option(Text(str(p)), id=str(p)) for p in RECENT])
+        recent.border_title = "recent"
+        files = recent_files()
+        if files:
+            recent.add_options([Option(Text(str(p)), id=str(p)) for p in files])
         else:
             recent.add_option(Option(Text("none yet", style="dim"), disabled=True))
         demos = self.query_one("#open-demos", OptionList)
         demos.border_title = "new train from a demo"
         demos.add_options([Option(name, id=name) for name in demo_names()])
         self.query_one("#open-tree").focus()
+
+    def _folder_title(self) -> None:
+        tree = self.query_one("#open-tree", TrainFiles)
+        self.query_one("#open-files").border_title = f"files in {tree.path}"
+        self.query_one("#open-files").border_subtitle = "↑ up / alt+↑: the folder above"
+
+    def _look_in(self, folder: Path) -> None:
+        """Show the files of ``folder`` (and say so in the path field)."""
+        tree = self.query_one("#open-tree", TrainFiles)
+        tree.path = folder
+        field = self.query_one("#open-path", Input)
+        field.value = str(folder)
+        field.cursor_position = len(field.value)  # the end of a long path in view
+        self._folder_title()
+        self._error("")
+
+    def action_up(self) -> None:
+        folder = Path(self.query_one("#open-tree", TrainFiles).path).resolve()
+        if folder.parent == folder:
+            self._error(f"{folder} is the top folder")
+            return
+        self._look_in(folder.parent)
+
+    @on(Button.Pressed, "#open-up")
+    def _up_pressed(self) -> None:
+        self.action_up()
+
+    @on(Input.Submitted, "#open-path")
+    def _typed(self, event: Input.Submitted) -> None:
+        """A folder is looked in; a file is opened; anything else says what is wrong."""
+        text = event.value.strip()
+        if not text:
+            self._error("type a folder to look in, or a train file to open")
+            return
+        here = Path(self.query_one("#open-tree", TrainFiles).path)
+        path = Path(text).expanduser()
+        path = path if path.is_absolute() else here / path
+        try:
+            is_dir, is_file = path.is_dir(), path.is_file()
+        except OSError as exc:
+            self._error(f"{path}: cannot look at it ({exc.strerror or exc})")
+            return
+        if is_dir:
+            self._look_in(path.resolve())
+        elif is_file:
+            self._open(lambda: TrainEditor.open(path, self.session.sky))
+        else:
+            self._error(f"{path}: no such file or folder")
 
     def _error(self, message: str) -> None:
         label = self.query_one("#open-error", Label)

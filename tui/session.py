@@ -7,8 +7,11 @@ from :meth:`engine.sky.Sky.at`, arbor angles from the kinematics.
 
 from __future__ import annotations
 
+import contextlib
+import os
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
+from pathlib import Path
 
 import numpy as np
 
@@ -428,3 +431,76 @@ class Session:
         return Now(self.turns, jd, format_jd(jd), state, pointers, angles,
                    arbor_turns(self.mech.kin.rates, self.turns), moved, self.frame,
                    self.observer, ecl, arcs, cycle)
+
+
+# --- files opened or saved, kept across runs ---------------------------------------------------
+
+#: how many recent files the open screen lists
+MAX_RECENT = 8
+#: the most of the recent-files file read (a longer one is someone else's: only its start counts)
+MAX_RECENT_BYTES = 64 * 1024
+#: in this run, newest first: what the open screen shows even when the file cannot be written
+#: (for the one recent-files file it was read from)
+_RECENT: list[Path] = []
+_RECENT_FROM: list[Path | None] = [None]
+
+
+def recent_path() -> Path:
+    """The file that keeps the recent trains: ``$XDG_CONFIG_HOME/wheelwork/recent``, else the
+    system's user config folder (``~/.config`` on Linux)."""
+    base = os.environ.get("XDG_CONFIG_HOME", "").strip()
+    if base and Path(base).is_absolute():
+        return Path(base) / "wheelwork" / "recent"
+    from platformdirs import user_config_path
+
+    return user_config_path("wheelwork", appauthor=False) / "recent"
+
+
+def _read_recent() -> list[Path]:
+    try:
+        with open(recent_path(), "rb") as fh:
+            raw = fh.read(MAX_RECENT_BYTES)
+    except OSError:
+        return []
+    out: list[Path] = []
+    for line in raw.decode("utf-8", errors="replace").splitlines():
+        line = line.strip()
+        if line and not line.startswith("#") and Path(line).is_absolute() \
+                and "\ufffd" not in line and "\x00" not in line:
+            p = Path(line)
+            if p not in out:
+                out.append(p)
+    return out[:MAX_RECENT]
+
+
+def recent_files() -> list[Path]:
+    """Train files opened or saved, newest first, this run's and earlier runs' (those that
+    still exist)."""
+    where = recent_path()
+    if _RECENT_FROM[0] != where:
+        _RECENT_FROM[0] = where
+        _RECENT[:] = _read_recent()
+    return [p for p in _RECENT if p.is_file()][:MAX_RECENT]
+
+
+def remember(path: Path | str | None) -> None:
+    """Put ``path`` first among the recent files and keep the list for the next run (a file
+    that cannot be written is passed over in silence: the list still serves this run)."""
+    if path is None:
+        return
+    recent_files()  # the earlier runs' list first, so it is kept
+    path = Path(path).resolve()
+    if path in _RECENT:
+        _RECENT.remove(path)
+    _RECENT.insert(0, path)
+    del _RECENT[MAX_RECENT:]
+    target = recent_path()
+    part = target.with_name(f".{target.name}.{os.getpid()}.part")
+    try:
+        target.parent.mkdir(parents=True, exist_ok=True)
+        part.write_text("".join(f"{p}\n" for p in _RECENT if "\n" not in str(p)),
+                        encoding="utf-8")
+        os.replace(part, target)
+    except OSError:
+        with contextlib.suppress(OSError):
+            part.unlink()
