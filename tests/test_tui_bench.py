@@ -461,3 +461,18 @@ async def test_open_screen_goes_above_the_start_and_takes_a_typed_path(size, tmp
         await pilot.pause()
         assert isinstance(app.screen, BenchScreen)
         assert app.session.mech.train.name == load_train(above).name
+
+
+def test_a_step_in_time_follows_a_change_of_the_crank():
+    """A step given as 3 days stays 3 days when the train on the bench turns its crank
+    another number of days (an edit of days_per_turn, or another train)."""
+    session = make_app().session  # one turn = 1 day
+    session.set_step(Fraction(3), Fraction(3), "3d")
+    assert session.step_text == "3d = 3 turns"
+    month = make_app(demo_path("lunation_board")).session.mech
+    session.adopt(month)
+    assert session.step == Fraction(3) / Fraction("29.530589")
+    assert session.step_text == "3d = 0.10159 turns"
+    session.set_step(Fraction(1, 24))  # a step in turns stays in turns
+    session.adopt(make_app().session.mech)
+    assert session.step == Fraction(1, 24) and session.step_days is None

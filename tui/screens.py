@@ -795,7 +795,7 @@ class HelpScreen(ClosesOnce, ModalScreen[None]):
                 "\nThe hands are the train; the badges on the ring are the true Sun and Moon "
                 "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°. "
                 "worst° (max° when narrow) is the largest |err| seen since the start or the "
-                "last change of frame (t), observer (o) or pointer setting (r, u); drift °/cy "
+                "last change of frame (t), observer (o) or pointer setting (r, R, m, u); drift °/cy "
                 "is the ratio report's mean drift in the current frame (the drift chart's trend "
                 "°/cy is another figure: the slope fitted to the errors over the chart's span). "
                 "In the train drawing, "
