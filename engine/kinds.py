@@ -5,7 +5,9 @@ the engine needs to know about what such a pointer shows:
 
 * ``about``: what it shows, in plain words (messages, help, docs);
 * ``period``: the key in :data:`engine.periods.PERIODS` of the mean period it should realise,
-  per dial frame (the ratio report, the backwards check, drift's expected line, search);
+  per dial frame (the ratio report, the backwards check, drift's expected line, search): a
+  longitude names its period against the equinox on an equinox dial and against the stars
+  on a star dial (tropical and sidereal year, nodal regression and its sidereal twin...);
 * ``true``: how its true value (degrees, 0-360, in the state's frame) is taken from an
   :class:`engine.sky.SkyState` (the readouts, drift, the interface, ``set = "sky"``);
 * ``mean``: how its mean value (degrees, equinox of date) is taken from
@@ -20,7 +22,9 @@ the engine needs to know about what such a pointer shows:
 
 Frames: :data:`FRAMES` names each dial frame in plain words. The one frame change the engine
 makes by hand — a value of the equinox of date read on a star (J2000) dial — is
-:func:`precession_deg`, used through :func:`to_frame` and :func:`mean_rate_deg_per_day`.
+:func:`precession_deg`, used through :func:`to_frame`. Mean motions need no frame change: a
+star dial's period is a row of its own in ``engine.periods`` (``tests/test_kinds.py`` checks
+that it is the equinox one less the precession exactly when the kind ``precesses``).
 """
 
 from __future__ import annotations
@@ -158,11 +162,11 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
                 lambda m: m["draconic"], precesses=False, swings=MOON_SWINGS, nutates=True),
     # the sky's node and perigee are the mean elements: nothing periodic
     PointerKind("node", "the longitude of the Moon's mean ascending node",
-                _both("nodal_period"), lambda s: s.node_deg, lambda m: m["node"],
-                precesses=True),
+                {"equinox": "nodal_period", "stars": "sidereal_nodal_period"},
+                lambda s: s.node_deg, lambda m: m["node"], precesses=True),
     PointerKind("apsis", "the longitude of the Moon's mean perigee",
-                _both("apsidal_period"), lambda s: s.perigee_deg, lambda m: m["apsis"],
-                precesses=True),
+                {"equinox": "apsidal_period", "stars": "sidereal_apsidal_period"},
+                lambda s: s.perigee_deg, lambda m: m["apsis"], precesses=True),
     # eclipse dials (engine/eclipses.py reads them)
     PointerKind("eclipse_year", "the Sun's longitude less the mean node's (an eclipse-year "
                 "dial: eclipses come when it stands near 0° or 180°)",
@@ -258,17 +262,6 @@ def mean_value(name: str, mean: dict, jd_tt, frame: str):
         raise TrainError("pointer kind", name, "has no mean value: set it from the sky or by "
                          "angles")
     return to_frame(row.mean(mean), jd_tt, frame, row.precesses)
-
-
-def mean_rate_deg_per_day(name: str, frame: str = "equinox") -> float:
-    """Signed mean motion of what a pointer of kind ``name`` shows, degrees per day, as read on
-    a dial of ``frame``: the equinox-of-date rate, less the general precession on a star dial
-    when the kind precesses."""
-    row = KINDS[name]
-    rate = PERIODS[row.period["equinox"]].deg_per_day
-    if row.precesses and frame != "equinox":
-        rate -= PRECESSION_DEG_PER_CY / JULIAN_CENTURY_DAYS
-    return rate
 
 
 def bodies(kinds: Iterable[str]) -> tuple[str, ...]:

@@ -128,11 +128,16 @@ PERIODS: dict[str, MeanPeriod] = {
         MeanPeriod("anomalistic_month", "anomalistic month", MOON_ANOMALY_RATE, MEEUS),
         MeanPeriod("draconic_month", "draconic month", MOON_LATITUDE_ARG_RATE, MEEUS),
         MeanPeriod("nodal_period", "nodal regression (lunar node)", MOON_NODE_RATE, MEEUS),
+        MeanPeriod("sidereal_nodal_period", "nodal regression against the stars (lunar node)",
+                   MOON_NODE_RATE - _P, f"{MEEUS}; less {PRECESSION_SRC}"),
         # the Sun's return to the Moon's node: the Sun's mean motion plus the node's regression
         MeanPeriod("eclipse_year", "eclipse year (Sun back at the same node)",
                    SUN_MEAN_LON_RATE - MOON_NODE_RATE, f"{MEEUS_SUN}; {MEEUS}"),
         MeanPeriod("apsidal_period", "apsidal precession (lunar perigee)", MOON_PERIGEE_RATE,
                    MEEUS),
+        MeanPeriod("sidereal_apsidal_period",
+                   "apsidal precession against the stars (lunar perigee)",
+                   MOON_PERIGEE_RATE - _P, f"{MEEUS}; less {PRECESSION_SRC}"),
     )
 }
 

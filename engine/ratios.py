@@ -7,7 +7,7 @@ from collections import deque
 from dataclasses import asdict, dataclass, field
 from fractions import Fraction
 
-from .kinds import KINDS, mean_rate_deg_per_day
+from .kinds import KINDS
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
@@ -207,8 +207,8 @@ def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,
         lin = pointer_linear(kin, p)
         ratio = lin.crank
         target = KINDS[p.shows].mean_period(frame)
-        true_deg_per_day = mean_rate_deg_per_day(p.shows, frame)
-        target_days = 360.0 / abs(true_deg_per_day)
+        true_deg_per_day = target.deg_per_day
+        target_days = target.days
         period = float(dpt / abs(ratio)) if ratio else float("inf")
         found = stage_path(train, kin, p.arbor)
         stages, simple = found if found else ([], False)

@@ -14,10 +14,10 @@ from engine.kinds import (
     EVECTION_DAYS,
     FRAMES,
     KINDS,
-    mean_rate_deg_per_day,
     precession_deg,
     to_frame,
 )
+from engine.loader import parse_train
 from engine.periods import J2000_JD, PERIODS, PRECESSION_DEG_PER_CY, mean_elements
 
 ARCSEC = 1 / 3600
@@ -53,14 +53,40 @@ def test_star_dial_reads_longitudes_lower_by_the_precession():
     assert float(to_frame(10.0, jd, "stars", precesses=False)) == 10.0
     per_day = PRECESSION_DEG_PER_CY / 36525.0
     for key, row in KINDS.items():
-        diff = mean_rate_deg_per_day(key, "equinox") - mean_rate_deg_per_day(key, "stars")
+        # the period a row names for a star dial is its equinox period's motion less the
+        # precession exactly when the kind precesses (a longitude), and the same period when not
+        eq, st = row.mean_period("equinox"), row.mean_period("stars")
+        diff = eq.deg_per_day - st.deg_per_day
         assert diff == pytest.approx(per_day if row.precesses else 0.0, abs=1e-15), key
-        # the mean period named for a star dial is the same motion (the node and perigee name
-        # their period of date on both dials, while their rate on a star dial is the sidereal one)
-        if row.period["stars"] == row.period["equinox"] and row.precesses:
-            continue
-        days = row.mean_period("stars").days
-        assert 360.0 / abs(mean_rate_deg_per_day(key, "stars")) == pytest.approx(days, rel=1e-9)
+        assert (st.key != eq.key) == row.precesses, key
+
+
+def test_star_dial_names_the_node_and_perigee_against_the_stars():
+    """On a star dial the node and perigee pointers are judged against their periods against
+    the stars: the draconic month is the Moon's return to a node regressing against the stars,
+    the anomalistic month its return to a perigee advancing against them, so 1/node =
+    1/draconic - 1/sidereal month and 1/perigee = 1/sidereal - 1/anomalistic month. With the
+    almanac months (27.212221, 27.321662, 27.554550 days, from memory) that is 6793.46 and
+    3232.61 days (18.5996 and 8.8505 years, from memory)."""
+    from engine.ratios import pointer_ratios
+
+    draconic, sidereal, anomalistic = 27.212221, 27.321662, 27.554550
+    node = KINDS["node"].mean_period("stars")
+    apsis = KINDS["apsis"].mean_period("stars")
+    assert node.days == pytest.approx(1 / (1 / draconic - 1 / sidereal), abs=0.05)
+    assert apsis.days == pytest.approx(1 / (1 / sidereal - 1 / anomalistic), abs=0.05)
+    assert node.sense == -1 and apsis.sense == 1
+    assert "stars" in node.name and "stars" in apsis.name
+    assert "stars" not in KINDS["node"].mean_period("equinox").name
+    # the ratio report names them, and judges the pointer by them
+    text = (ROOT / "engine" / "trains" / "nineteen_year_drum.toml").read_text()
+    assert 'shows = "moon"' in text
+    train = parse_train(text.replace('shows = "moon"', 'shows = "node"'), "node.toml")
+    name = next(n for n, p in train.pointers.items() if p.shows == "node")
+    for frame, want in (("equinox", "nodal_period"), ("stars", "sidereal_nodal_period")):
+        row = {r.pointer: r for r in pointer_ratios(train, frame=frame)}[name]
+        assert row.target_key == want and row.target_name == PERIODS[want].name
+        assert row.target_days == pytest.approx(PERIODS[want].days, rel=1e-12)
 
 
 def test_true_values_come_from_the_sky_state(sky):
