@@ -9,6 +9,7 @@ import io
 import shutil
 from fractions import Fraction
 
+import pytest
 from rich.console import Console
 from textual.widgets import DirectoryTree, Input, Label, OptionList
 
@@ -354,3 +355,60 @@ async def test_a_click_on_a_wheel_in_the_drawing_opens_it_in_the_parts_screen(tm
         await pilot.click(TrainView, offset=(view.region.width - 2, 1))
         await pilot.pause()
         assert isinstance(app.screen, BenchScreen)
+
+
+@sync
+async def test_the_drift_chart_computes_again_after_an_edit_undo_and_redo(tmp_path):
+    import numpy as np
+
+    from engine.drift import pointer_errors
+    from tui.screens import DriftScreen
+
+    def last_errors(app) -> dict:
+        """The chart's last date: the drift engine's errors there for the train on the bench."""
+        s = app.session
+        want = pointer_errors(s.mech, s.sky, np.array([screen.result.jd[-1]]), frame=s.frame)
+        return {n: float(e.error_deg[0]) for n, e in want.items()}
+
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("d")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        screen = app.screen
+        assert isinstance(screen, DriftScreen) and screen.result is not None
+        old_sun = np.asarray(screen.result.error_deg["sun"]).copy()
+        await pilot.press("w")
+        await pilot.pause()
+        assert isinstance(app.screen, PartsScreen)
+        await pick(pilot, app, "sun_w1")
+        await type_value(pilot, app, "60")
+        await pilot.press("escape")
+        await pilot.pause()
+        assert app.screen is screen
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert screen.result is not None and screen.charted is app.session.mech
+        new_sun = np.asarray(screen.result.error_deg["sun"])
+        # 10/60 in place of 10/59: the Sun hand falls back about 6° a year
+        assert abs(new_sun[-1]) > abs(old_sun[-1]) + 10
+        for name, err in last_errors(app).items():  # the chart is the changed train's
+            # (the chart keeps its errors as float32: 1e-4° is a third of an arcsecond)
+            assert float(screen.result.error_deg[name][-1]) == pytest.approx(err, abs=1e-4)
+        note = text_of(screen.query_one("#drift-changed"))
+        assert "sun_w1" in note and "59 → 60" in note
+        # undo and redo from the chart itself
+        await pilot.press("ctrl+z")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 59
+        assert np.asarray(screen.result.error_deg["sun"]) == pytest.approx(old_sun, abs=1e-9)
+        assert "undone" in text_of(screen.query_one("#drift-changed"))
+        await pilot.press("ctrl+y")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert np.asarray(screen.result.error_deg["sun"]) == pytest.approx(new_sun, abs=1e-9)
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 60

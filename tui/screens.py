@@ -838,6 +838,9 @@ class DriftScreen(ClosesOnce, Screen):
         Binding("minus", "decades(-1)", "−decade", group=_GDECADE),
         Binding("right_square_bracket", "threshold(1)", "threshold↑", group=_GTHRESHOLD),
         Binding("left_square_bracket", "threshold(-1)", "threshold↓", group=_GTHRESHOLD),
+        Binding("w", "change_train", "edit…", show=False),
+        Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT, show=False),
+        Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT, show=False),
         Binding("question_mark,f1", "help", "help"),
         Binding("q", "app.quit", "quit"),
     ]
@@ -851,6 +854,11 @@ class DriftScreen(ClosesOnce, Screen):
         self.computing = False
         self._run = 0  # which computation the screen is waiting for; older ones are ignored
         self._percent = 0.0
+        #: the mechanism the chart is for: a changed train (an edit, undo or redo) on the
+        #: bench makes the chart compute again when it is next on screen
+        self.charted = session.mech
+        #: the last change to the train seen here, named in the title
+        self.changed = ""
 
     def compose(self) -> ComposeResult:
         yield Static("", id="drift-title")
@@ -860,12 +868,21 @@ class DriftScreen(ClosesOnce, Screen):
         with Horizontal(id="drift-progress-row"):
             yield ProgressBar(total=100, show_eta=False, id="drift-progress")
             yield Static("", id="drift-status")
+        yield Static("", id="drift-changed")
         yield Static("", id="drift-summary")
         yield Static(CAUTION, id="drift-caution")
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
         self.start()
+
+    def on_screen_resume(self) -> None:
+        """Back from the parts screen: a changed train gets its chart computed again."""
+        if self.is_mounted and self.session.mech is not self.charted:
+            ed = self.session.editor
+            change = ed.last_change if ed is not None else None
+            self.changed = change.text() if change is not None else "another train"
+            self.start()
 
     @property
     def threshold_deg(self) -> float:
@@ -887,6 +904,7 @@ class DriftScreen(ClosesOnce, Screen):
 
     def start(self) -> None:
         self.decades = min(self.decades, self.max_decades())
+        self.charted = self.session.mech
         start, end = self.span()
         sky = self.session.sky
         title = self.query_one("#drift-title", Static)
@@ -911,6 +929,7 @@ class DriftScreen(ClosesOnce, Screen):
         self._percent = 0.0
         self.query_one("#drift-progress", ProgressBar).update(progress=0)
         self._status("computing…")
+        self._changed_note()
         self._summary(Text("computing…", style="dim"))
         self.computing = True
         self.compute(start, end, self.threshold_deg, self._run)
@@ -948,7 +967,14 @@ class DriftScreen(ClosesOnce, Screen):
         self.query_one("#drift-progress", ProgressBar).update(progress=self._percent)
 
     def _status(self, text: str) -> None:
-        self.query_one("#drift-status", Static).update(text)
+        self.query_one("#drift-status", Static).update(Text(text))
+
+    def _changed_note(self) -> None:
+        """After a change to the train: say which one this chart is for (a line that wraps)."""
+        note = self.query_one("#drift-changed", Static)
+        note.update(Text(f"train changed — {self.changed}: this chart is for the train now "
+                         "on the bench" if self.changed else ""))
+        note.display = bool(self.changed)
 
     def _summary(self, content) -> None:
         self.query_one("#drift-summary", Static).update(content)
@@ -1047,6 +1073,33 @@ class DriftScreen(ClosesOnce, Screen):
             return
         self.decades += step
         self.start()
+
+    def action_change_train(self) -> None:
+        """The parts screen over the chart; the chart computes again on return if the train
+        was changed."""
+        from .editing import PartsScreen
+
+        if self.session.editor is not None:
+            self.app.push_screen(PartsScreen(self.session))
+
+    async def _edit_step(self, undo: bool) -> None:
+        from .editing import adopt, rebuild_bench
+
+        ed = self.session.editor
+        change = None if ed is None else (ed.undo() if undo else ed.redo())
+        if change is None:
+            self.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2)
+            return
+        adopt(self.app, ed.mech)
+        await rebuild_bench(self.app)
+        self.changed = f"{'undone' if undo else 'made again'}: {change.text()}"
+        self.start()
+
+    async def action_undo_edit(self) -> None:
+        await self._edit_step(True)
+
+    async def action_redo_edit(self) -> None:
+        await self._edit_step(False)
 
     def action_threshold(self, step: int) -> None:
         self.threshold_index = int(np.clip(self.threshold_index + int(step), 0,
