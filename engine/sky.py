@@ -167,15 +167,15 @@ def _resolve(ephemeris) -> tuple[str, str]:
 
 
 def _segment_arrays(seg) -> tuple[float, float, np.ndarray]:
-    """(start s past J2000, record length s, coefficients) of a jplephem type-2 SPK segment.
+    """(start s past J2000, record length s, coefficients) of a jplephem type-2 SPK segment:
+    the memory-mapped Chebyshev records, highest degree first, shape (terms, 3, records).
 
-    The one place that reads jplephem's private ``_data`` attribute (the memory-mapped
-    Chebyshev records, highest degree first, shape (terms, 3, records)); jplephem has no public
-    accessor for the raw arrays. pyproject.toml pins jplephem below the next major version and
-    ``tests/test_sky.py::test_private_internals_still_there`` fails loudly if this changes.
-    """
-    init, intlen, coef = seg._data
-    return float(init), float(intlen), coef
+    From jplephem's public ``Segment.load_array()`` (start as a Julian date, length in days,
+    coefficients shaped (3, records, terms), lowest degree first), turned back into that
+    layout as a view of the mapped file: nothing is copied. The file's start and length are
+    whole seconds, so the round trip through days is exact."""
+    start_jd, days, coef = seg.load_array()
+    return (start_jd - T0) * 86400.0, days * 86400.0, np.transpose(coef, (2, 0, 1))[::-1]
 
 
 class _ChebGroup:
@@ -546,7 +546,7 @@ def skyfield_2000b_nutation(t) -> None:
     The one place that uses skyfield's private hook: it reads the nutation angles of a Time
     from ``t._nutation_angles_radians`` (a cached attribute, which skyfield's own
     documentation suggests setting to swap in IAU 2000B). pyproject.toml pins skyfield below
-    its next major version and ``tests/test_sky.py::test_private_internals_still_there``
+    its next major version and ``tests/test_sky.py::test_skyfield_nutation_hook_still_there``
     fails loudly if the hook stops working."""
     shape = np.shape(t.tt)
     dpsi, deps = _nutation_2000b(np.reshape(t.tt, -1))

@@ -464,12 +464,22 @@ def test_planet_names_and_shapes(sky):
         sky.at(2451545.0, planets=("pluto",))
 
 
-def test_private_internals_still_there(sky):
-    # engine/sky.py reads jplephem's private segment arrays in one function
-    # (_segment_arrays); if a jplephem release drops them this fails here, loudly.
-    seg = _load(sky.path).kernel.spk.segments[0]
-    init, intlen, coef = _segment_arrays(seg)
-    assert coef.ndim == 3 and coef.shape[1] == 3 and intlen > 0
+def test_segment_arrays_are_the_files_records(sky):
+    # engine/sky.py reads each segment's Chebyshev records through jplephem's public
+    # load_array (_segment_arrays), as views of the mapped file: checked against jplephem's
+    # own evaluation of the segment at the middle of a record and at a record boundary.
+    from jplephem.spk import S_PER_DAY
+    from jplephem.spk import T0 as J2000
+
+    for seg in _load(sky.path).kernel.spk.segments[:3]:
+        init, intlen, coef = _segment_arrays(seg)
+        assert coef.ndim == 3 and coef.shape[1] == 3 and intlen > 0
+        assert not coef.flags.owndata  # a view, never a copy of the file
+        for k, frac in ((7, 0.5), (8, 0.0)):
+            tdb = J2000 + (init + (k + frac) * intlen) / S_PER_DAY
+            x = 2.0 * frac - 1.0  # the record's own time, -1 to 1
+            cheb = np.polynomial.chebyshev.chebval(x, coef[::-1, :, k])
+            np.testing.assert_allclose(cheb, seg.compute(tdb), rtol=0, atol=1e-6)
 
 
 def test_sky_command_planets(capsys):
