@@ -1296,3 +1296,48 @@ async def test_phase_discs_take_a_new_theme_background():
         for strip in discs._strips[-3:]:  # the caption rows
             for seg in strip:
                 assert seg.style.bgcolor == want, seg
+
+
+def _shown(widget) -> str:
+    """What a widget shows on screen, line by line, without whitespace."""
+    return "".join("".join(widget.render_line(y).text.split())
+                   for y in range(widget.size.height))
+
+
+def _content(widget) -> str:
+    return "".join(str(getattr(widget.content, "plain", widget.content)).split())
+
+
+@sync
+async def test_a_long_train_name_folds_in_the_title_at_80_columns(tmp_path):
+    """Outputs are never cut short: a long name (a long word too) folds onto more lines."""
+    demo = Path(__file__).parents[1] / "engine" / "trains" / "tide_office.toml"
+    name = ("The harbour master's great tide office wall dial with a long descriptive name "
+            + "and_one_unbroken_part_" * 4)
+    text = demo.read_text(encoding="utf-8").replace('name = "Tide office dial"',
+                                                     f'name = "{name}"')
+    train = tmp_path / "long_named_train.toml"
+    train.write_text(text, encoding="utf-8")
+    app = make_app(train)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        title = app.screen.query_one("#title")
+        assert title.size.height >= 2
+        shown = _shown(title)
+        assert "".join(name.split()) in shown
+        assert shown == _content(title)  # the file name and the help hint too
+
+
+@sync
+async def test_drift_chart_title_and_status_fold_at_80_columns():
+    app = make_app(Path(__file__).parents[1] / "engine" / "trains" / "planet_dial.toml")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("d")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert isinstance(app.screen, DriftScreen)
+        for wid in ("#drift-title", "#drift-status"):
+            widget = app.screen.query_one(wid)
+            assert _shown(widget) == _content(widget), wid
+        assert "threshold" in _shown(app.screen.query_one("#drift-title"))
+        assert "capped" in _shown(app.screen.query_one("#drift-status"))
