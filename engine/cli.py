@@ -126,8 +126,7 @@ def _run(argv: list[str], console_factory) -> int:
                 "the interface's command is not registered in this installation; install "
                 "wheelwork again (pip install . or pip install -e .)")
         if name not in plugins:
-            known = ", ".join([*plugins, *COMMANDS])
-            raise UsageError(f"unknown command {name!r} (choose from {known})", "wheelwork")
+            raise UsageError(_unknown_command(name, [*plugins, *COMMANDS]), "wheelwork")
     mod, parser = command_parser(name, plugins)
     args = parser.parse_args(argv[1:])
     if not getattr(mod, "INTERACTIVE", False):
@@ -137,6 +136,27 @@ def _run(argv: list[str], console_factory) -> int:
     except UsageError as exc:  # found by the command: still under the command's name
         exc.prog = exc.prog or parser.prog
         raise
+
+
+def _unknown_command(name: str, known: list[str]) -> str:
+    """One line for a first word that is no command: the nearest command, or, for a train
+    (a demo's name, mistyped or not, or a file), how to open it."""
+    import difflib
+    from pathlib import Path
+
+    from .demos import closest_demo, demo_names, demo_path
+
+    text = f"unknown command {name!r}"
+    near = difflib.get_close_matches(name, known, n=1, cutoff=0.75)
+    if near:
+        return f"{text}; did you mean {near[0]!r}? (commands: {', '.join(known)})"
+    if demo_path(name) or Path(name).is_file():
+        return f"{text}; to open this train: wheelwork crank {name}"
+    train = closest_demo(name)
+    if train is not None:
+        return (f"{text}, nor a demo's name: did you mean the demo {train} (wheelwork crank "
+                f"{train})? demos: {', '.join(demo_names())}; commands: {', '.join(known)}")
+    return f"{text} (choose from {', '.join(known)})"
 
 
 def _catch_stop_signals() -> None:

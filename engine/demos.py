@@ -28,6 +28,23 @@ def demo_path(name: str) -> Path | None:
     return Path(str(_folder() / f"{stem}.toml"))
 
 
+def closest_demo(name: str) -> str | None:
+    """The demo whose name is nearest to ``name`` (a mistyped ``tide_ofice``), or None when
+    none is near."""
+    import difflib
+
+    stem = name[:-5] if name.endswith(".toml") else name
+    close = difflib.get_close_matches(stem, demo_names(), n=1, cutoff=0.6)
+    return close[0] if close else None
+
+
+def demo_hint(name: str) -> str:
+    """One line for a name that is neither a file nor a demo: the nearest demo, if any, and
+    every demo's name."""
+    near = closest_demo(name)
+    return (f"did you mean {near}? " if near else "") + f"demos: {', '.join(demo_names())}"
+
+
 def default_train() -> Path:
     """The file of the default demo (opened by a bare ``wheelwork``)."""
     path = demo_path(DEFAULT_DEMO)

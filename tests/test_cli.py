@@ -246,3 +246,32 @@ def test_markup_in_a_train_name_is_text(tmp_path, capsys):
     assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out
     assert main(["cut", str(train), "--out", str(tmp_path / "cut")]) == 0
     assert "Dial [/] of [bold]mine[/bold] [red]" in capsys.readouterr().out
+
+
+DEMOS = ("eclipse_board, lunation_board, moon_disc_59, nineteen_year_drum, planet_dial, "
+         "table_orrery, tide_office")
+
+
+@pytest.mark.parametrize("argv, code, words", [
+    (["tide_ofice"], 2, ["did you mean the demo tide_office", "wheelwork crank tide_office",
+                         DEMOS]),
+    (["tide_office"], 2, ["wheelwork crank tide_office"]),
+    (["drfit"], 2, ["did you mean 'drift'"]),
+    (["drift", "tide_ofice"], 1, ["did you mean tide_office?", DEMOS]),
+    (["drift", "tide_ofice", "--years", "5"], 1, ["did you mean tide_office?", DEMOS]),
+    (["ratios", "planet_dail.toml"], 1, ["did you mean planet_dial?"]),
+    (["crank", "nineteen_yaer_drum"], 1, ["did you mean nineteen_year_drum?"]),
+    (["ratios", "qqqq"], 1, ["no such file, and no demo of that name; demos: " + DEMOS]),
+])
+def test_a_mistyped_demo_name_gets_the_nearest_and_the_list(argv, code, words, capsys):
+    assert main(argv) == code
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1, err
+    for w in words:
+        assert w in err, (w, err)
+
+
+def test_a_missing_file_in_a_folder_is_only_a_missing_file(tmp_path, capsys):
+    assert main(["ratios", str(tmp_path / "tide_ofice.toml")]) == 1
+    err = capsys.readouterr().err
+    assert err.strip().endswith("tide_ofice.toml: no such file"), err

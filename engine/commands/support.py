@@ -158,13 +158,22 @@ def ephemeris(text: str) -> str:
 
 
 def train_file(text: str) -> str:
-    """A train file's path, or the name of a bundled demo train (``tide_office``)."""
+    """A train file's path, or the name of a bundled demo train (``tide_office``). A bare
+    name that is neither (no folder in it) is refused at once, with the nearest demo's name
+    and the list of demos (:class:`TrainError`, exit 1 like any missing train file)."""
     from ..demos import demo_path
 
     if Path(text).exists() or not text:
         return text
     found = demo_path(text)
-    return str(found) if found is not None else text
+    if found is not None:
+        return str(found)
+    if "/" not in text and os.sep not in text:  # a bare name: a demo's, mistyped?
+        from ..demos import demo_hint
+        from ..errors import TrainError
+
+        raise TrainError(text, "", f"no such file, and no demo of that name; {demo_hint(text)}")
+    return text
 
 
 MAX_YEARS = 100_000  # beyond any ephemeris; the span check says what the ephemeris covers
