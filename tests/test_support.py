@@ -222,3 +222,39 @@ def test_a_word_in_the_legend_does_not_vouch_for_a_broken_cell(capsys, monkeypat
     assert not re.search(r"(?m)\s(fr|he)\s*$", out)
     assert "held by: frame" in out  # the list layout
     assert "held by: the frame or carrier" in out  # and the legend kept
+
+
+def test_squeezed_columns_become_a_list(capsys, monkeypatch):
+    """At 60 columns the search's convergents once stacked the words of their reasons line
+    under line in a narrow last column, every word whole but hard to read: rows that take more
+    than two lines on average are a list instead (as at 80 columns, where they wrap once, they
+    stay a table)."""
+    argv = ["search", "--cycle", "synodic month", "--stages", "2"]
+    monkeypatch.setenv("COLUMNS", "60")
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    conv = out.split("convergents of the target")[1]
+    assert "ratio 15/443" in conv and "   admitted: no" in conv
+    assert "train or reason: no allowed driven count has the prime" in conv
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(argv) == 0
+    conv = capsys.readouterr().out.split("convergents of the target")[1]
+    assert "train or reason" in conv.splitlines()[2]  # the header row of a table
+
+
+def test_the_lines_a_table_row_takes():
+    import io
+
+    from rich.console import Console
+
+    from engine.commands import support
+
+    table = support.plain_table()
+    table.add_column("a")
+    table.add_column("b")
+    table.add_row("one", "two words")
+    table.add_row("three", "four five six seven")
+    probe = Console(width=12, file=io.StringIO(), color_system=None)
+    with probe.capture() as cap:
+        probe.print(table, crop=False)
+    assert support._body_lines(probe, table, cap.get()) == 6  # 2 + 4: "four/five/six/seven"

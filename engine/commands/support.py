@@ -15,7 +15,8 @@ A command module (``engine/commands/NAME.py``) provides ``add_arguments(parser)`
   replace, written whole to a hidden part file and renamed; the part file is removed on every
   way out (error, Ctrl-C, SIGTERM, SIGHUP).
 - :func:`print_table`: a table whose every cell is shown whole, or the same rows as a list when
-  the table is wider than the console; numbers are never cut.
+  the table is wider than the console or its squeezed cells would stack their words line under
+  line; numbers are never cut.
 - :data:`SUN_CAUTION`: the one solar caution.
 """
 
@@ -485,6 +486,8 @@ def _fits(console, table) -> bool:
     text = cap.get()
     if "…" in text or any(len(line.rstrip()) > console.width for line in text.splitlines()):
         return False
+    if table.row_count and _body_lines(probe, table, text) > MOST_LINES_A_ROW * table.row_count:
+        return False  # squeezed columns: words stacked line under line are hard to read
     seen = set(text.split())
     return all(word in seen
                for col in table.columns
@@ -492,11 +495,32 @@ def _fits(console, table) -> bool:
                for word in _cell_text(cell).split())
 
 
+#: a table whose rows take more lines than this on average, their cells wrapped in narrow
+#: columns, is printed as a list instead
+MOST_LINES_A_ROW = 2
+
+
+def _body_lines(probe, table, text: str) -> int:
+    """How many lines ``table``'s rows take in ``text`` (as ``probe`` printed it): its lines
+    less those of the same table without rows (header, rules, edges)."""
+    import copy
+    import dataclasses
+
+    empty = copy.copy(table)
+    empty.rows = []
+    empty.columns = [dataclasses.replace(c, _cells=[]) for c in table.columns]
+    empty.title = empty.caption = None
+    with probe.capture() as cap:
+        probe.print(empty, crop=False)
+    return len(text.splitlines()) - len(cap.get().splitlines())
+
+
 def print_table(console, table) -> None:
     """Print ``table`` with every cell whole: as a table when every word of every cell fits
-    whole at the console's width (cells may wrap between words), otherwise the same rows as a
-    list (``header: value``), one block per row. Nothing is cut, and the table's title and
-    caption (its legend) are kept."""
+    whole at the console's width (cells may wrap between words, if the rows then take no more
+    than :data:`MOST_LINES_A_ROW` lines on average), otherwise the same rows as a list
+    (``header: value``), one block per row. Nothing is cut, and the table's title and caption
+    (its legend) are kept."""
     from rich.text import Text
 
     for col in table.columns:  # should a column ever wrap, fold it: never an ellipsis
