@@ -258,3 +258,31 @@ def test_the_lines_a_table_row_takes():
     with probe.capture() as cap:
         probe.print(table, crop=False)
     assert support._body_lines(probe, table, cap.get()) == 6  # 2 + 4: "four/five/six/seven"
+
+
+@pytest.mark.parametrize("name, force", [("tide_office.toml", True), ("new_fragment.toml", False)])
+def test_no_output_goes_into_the_package_demo_folder(name, force, capsys):
+    """A demo shipped inside the package is never replaced (not even with --force), and
+    nothing new is written among them."""
+    target = DEMO / name
+    before = target.read_bytes() if target.exists() else None
+    argv = [*SEARCH, "--emit", str(target)] + (["--force"] if force else [])
+    try:
+        assert main(argv) == 1
+        _one_line_error(capsys, str(target), "own demo folder")
+        assert (target.read_bytes() if target.exists() else None) == before
+        assert not list(DEMO.glob(".*.part"))
+    finally:  # should the refusal ever fail, leave the checkout as it was
+        if before is None:
+            target.unlink(missing_ok=True)
+        elif target.read_bytes() != before:
+            target.write_bytes(before)
+
+
+def test_drift_csv_into_the_demo_folder_is_refused_too(capsys, monkeypatch):
+    monkeypatch.chdir(DEMO)
+    try:
+        assert main(["drift", "moon_disc_59", "--years", "0.2", "--csv", "out.csv"]) == 1
+        _one_line_error(capsys, "out.csv", "own demo folder", "--csv")
+    finally:
+        (DEMO / "out.csv").unlink(missing_ok=True)

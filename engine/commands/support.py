@@ -270,13 +270,23 @@ def _kind(mode: int) -> str | None:
     return None if stat.S_ISREG(mode) else "not a regular file"
 
 
+def _demo_folder() -> str | None:
+    """The real path of the package's demo-train folder, ending in a separator (None if it
+    cannot be found)."""
+    from ..demos import DEFAULT_DEMO, demo_path
+
+    found = demo_path(DEFAULT_DEMO)
+    return None if found is None else os.path.realpath(found.parent) + os.sep
+
+
 class OutputFile:
     """A file the user asked for, checked before any work and written whole.
 
     ``OutputFile(path, option="--csv", force=args.force, inputs=[args.train])`` refuses at once
     (one line, :class:`OutputError`) a symbolic link, folder, device, FIFO or socket, one of
     the ``inputs`` (the same file by device and inode, so also a hard link to it), a missing
-    folder, and an existing regular file unless ``force``. Then::
+    folder, any name in the package's own demo folder (even with ``force``), and an existing
+    regular file unless ``force``. Then::
 
         with out.open("w") as fh:   # a hidden .NAME.part beside the target
             fh.write(...)
@@ -303,6 +313,11 @@ class OutputFile:
         p = self.path
         if not p.name or p.name in (".", ".."):
             raise self._refuse(f"give a file name for {self.option}")
+        demos = _demo_folder()
+        if demos is not None and (os.path.realpath(p.parent) + os.sep).startswith(demos):
+            raise self._refuse(f"is in wheelwork's own demo folder; {self.option} writes "
+                               "elsewhere (the demos ship with the package: copy one out to "
+                               "change it)")
         try:
             st = os.lstat(p)
         except FileNotFoundError:
