@@ -634,17 +634,22 @@ def _footer_keys(app) -> dict[str, tuple[int, int]]:
 @pytest.mark.parametrize("size", [(80, 24), (100, 30), (120, 40), (160, 50), (200, 60)])
 @sync
 async def test_footer_keeps_the_main_keys_in_view(size):
+    """On the demo, which predicts eclipses."""
     app = make_app()
     async with app.run_test(size=size) as pilot:
         await pilot.pause()
         keys = _footer_keys(app)
         right_edge = keys.pop("palette")[0] if "palette" in keys else size[0]
-        for action in ("crank(1)", "crank(-1)", "run", "go_to_date", "epoch", "reset_pointers",
-                       "undo_reset", "toggle_frame", "toggle_observer", "drift", "help"):
+        # the demo predicts eclipses (a node hand): its jump keys are in view at any width,
+        # epoch, undo and observer from 155 columns
+        for action in ("crank(1)", "crank(-1)", "run", "go_to_date", "reset_pointers",
+                       "toggle_frame", "drift", "help", "eclipse(1)", "eclipse(-1)",
+                       "predicted") + (("epoch", "undo_reset", "toggle_observer")
+                                       if size[0] >= 155 else ()):
             assert action in keys, (size, action)
         for action, (_, right) in keys.items():
             assert right <= right_edge, (size, action)  # in view, nothing under the palette
-        if size[0] >= 170:
+        if size[0] >= 190:
             assert {b.action for b in BenchScreen.BINDINGS  # the editing keys need 250
                     if FOOTER_FROM_WIDTH.get(b.action, 0) <= size[0]} <= set(keys)
         if "palette" not in _footer_keys(app):
@@ -1341,3 +1346,36 @@ async def test_drift_chart_title_and_status_fold_at_80_columns():
             assert _shown(widget) == _content(widget), wid
         assert "threshold" in _shown(app.screen.query_one("#drift-title"))
         assert "capped" in _shown(app.screen.query_one("#drift-status"))
+
+
+@pytest.mark.parametrize("demo, eclipses", [("tide_office", True), ("planet_dial", False)])
+@sync
+async def test_footer_fits_at_every_width_and_shows_eclipse_keys_on_an_eclipse_train(
+        demo, eclipses):
+    """From 80 columns up, through every width where a key comes in, the footer's keys stay in
+    view beside the palette key; a train that predicts eclipses has x z p at 80 columns, one
+    that does not leaves them to help and the palette (they still work)."""
+    from tui.screens import FOOTER_ECLIPSE_TRAIN
+
+    app = make_app(Path(__file__).parents[1] / "engine" / "trains" / f"{demo}.toml")
+    table = FOOTER_FROM_WIDTH | (FOOTER_ECLIPSE_TRAIN if eclipses else {})
+    widths = sorted({80, 99, 119, 120, *(w for w in table.values() if w >= 80),
+                     *(w - 1 for w in table.values() if w > 80)})
+    async with app.run_test(size=(80, 24)) as pilot:
+        for width in widths:
+            await pilot.resize_terminal(width, 24)
+            await pilot.pause()
+            keys = _footer_keys(app)
+            edge = keys.pop("palette")[0] if "palette" in keys else width
+            for action, (_, right) in keys.items():
+                assert right <= edge, (demo, width, action)
+            want = {b.action for b in BenchScreen.BINDINGS if table.get(b.action, 0) <= width}
+            assert want == set(keys), (demo, width)
+            if width == 80:
+                assert {"eclipse(1)", "eclipse(-1)", "predicted"} <= set(keys) or not eclipses
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause()
+        before = app.session.jd_now()
+        await pilot.press("x")  # in a narrow footer or not, the key works
+        await pilot.pause()
+        assert app.session.jd_now() > before

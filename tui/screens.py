@@ -112,17 +112,25 @@ TRAIN_KEY = "[bold #e06c75]+98.5[/] = turns since epoch, for arbors too fast to 
 #: Bench keys the footer drops on narrower screens, by the width they need (every key stays
 #: in help and the command palette). At 80 columns the footer keeps crank ±1, run, date,
 #: epoch, re-set, undo, frame, observer, drift and help; ±10 and quit come back at 100
-#: (↑ ↓ and q work at any width).
+#: (↑ ↓ and q work at any width). Each key comes in where the footer has room for it beside
+#: the command palette's key (tests/test_tui.py sweeps the widths).
 FOOTER_FROM_WIDTH = {
     "crank(10)": 100, "crank(-10)": 100, "app.quit": 100,
-    "crank(100)": 150, "crank(-100)": 150, "crank(1000)": 150, "crank(-1000)": 150,
-    "speed(1)": 170, "speed(-1)": 170,
+    "crank(100)": 155, "crank(-100)": 155, "crank(1000)": 155, "crank(-1000)": 155,
+    "speed(1)": 190, "speed(-1)": 190,
     "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
-    "eclipse(1)": 170, "eclipse(-1)": 170, "predicted": 170,
+    "eclipse(1)": 180, "eclipse(-1)": 180, "predicted": 180,
     "change_train": 250, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
     "open_train": 250, "run(-1)": 250, "now": 170, "choose_reset": 250,
     "reset_pointers(None, 'mean')": 250, "screenshot": 250,
 }
+#: On a train that predicts eclipses (a node hand, a draconic or eclipse-year dial, an
+#: eclipse-cycle dial) the eclipse jump keys x z p are in the footer at any width, and epoch,
+#: undo and observer make room for them on narrow screens (they stay in help and the palette).
+FOOTER_ECLIPSE_TRAIN = {"eclipse(1)": 0, "eclipse(-1)": 0, "predicted": 0,
+                        "epoch": 155, "undo_reset": 155, "toggle_observer": 155,
+                        "crank(100)": 180, "crank(-100)": 180, "crank(1000)": 180,
+                        "crank(-1000)": 180}
 #: Shorter footer labels below 100 columns.
 FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
 #: The footer shows the palette key from this width; below it the title line names ctrl+p.
@@ -192,8 +200,9 @@ class BenchScreen(Screen):
         active = super().active_bindings
         width = self.size.width or self.app.size.width
         shown = {}
+        from_width = self.footer_from_width
         for k, a in active.items():
-            if width < FOOTER_FROM_WIDTH.get(a.binding.action, 0):
+            if width < from_width.get(a.binding.action, 0):
                 continue
             short = FOOTER_SHORT.get(a.binding.action) if width < 100 else None
             if short is not None:
@@ -201,10 +210,22 @@ class BenchScreen(Screen):
             shown[k] = a
         return shown
 
+    @property
+    def footer_from_width(self) -> dict[str, int]:
+        """The width from which the footer shows each key, for the train on the bench."""
+        from engine.eclipses import methods
+
+        train = self.session.mech.train
+        if getattr(self, "_footer_train", None) is not train:
+            self._footer_train = train
+            self._footer_from = (FOOTER_FROM_WIDTH | FOOTER_ECLIPSE_TRAIN if methods(train)
+                                 else FOOTER_FROM_WIDTH)
+        return self._footer_from
+
     def on_resize(self) -> None:
         width = self.size.width
         tier = sum(width >= w for w in {100, FOOTER_PALETTE_FROM_WIDTH,
-                                       *FOOTER_FROM_WIDTH.values()})
+                                       *self.footer_from_width.values()})
         if tier != self._footer_tier:
             self._footer_tier = tier
             self.query_one(Footer).show_command_palette = width >= FOOTER_PALETTE_FROM_WIDTH
@@ -290,6 +311,8 @@ class BenchScreen(Screen):
         self._view_list = None
         await self.recompose()
         self.on_mount()
+        self._footer_tier = -1  # the new train may want other keys in the footer
+        self.on_resize()
 
     # --- drawing -------------------------------------------------------------------------
     def refresh_view(self) -> None:
