@@ -48,6 +48,18 @@ def whole_turns(app) -> float:
     return float(app.session.turns.to_float())
 
 
+async def wait_for(pilot, done, what: str = "", wait_s: float = 60.0) -> None:
+    """Wait until ``done()`` holds, letting the app work between looks; fail saying ``what``
+    did not happen. Waiting on a state, not for a fixed time, keeps a test right on a
+    loaded machine (a long wait only when the machine is slow)."""
+    import time
+
+    end = time.monotonic() + wait_s
+    while not done():
+        assert time.monotonic() < end, f"still waiting after {wait_s:g} s: {what}"
+        await pilot.pause(0.02)
+
+
 def bench(app) -> BenchScreen:
     assert isinstance(app.screen, BenchScreen)
     return app.screen
@@ -129,7 +141,7 @@ async def test_run_pause_and_speed():
         assert app.session.speed_index == start - 1
         await pilot.press("space")
         assert bench(app).running
-        await pilot.pause(0.3)
+        await wait_for(pilot, lambda: whole_turns(app) > 0, "a frame while running")
         await pilot.press("space")
         assert not bench(app).running
         moved = whole_turns(app)
@@ -287,9 +299,10 @@ def test_drift_chart_cancel_says_where_and_clears_the_table(monkeypatch):
         app = make_app()
         async with app.run_test(size=SIZE) as pilot:
             await pilot.press("d")
-            await pilot.pause(0.4)
             screen = app.screen
-            assert isinstance(screen, DriftScreen) and screen.computing
+            assert isinstance(screen, DriftScreen)
+            await wait_for(pilot, lambda: screen._percent > 0, "some progress of the run")
+            assert screen.computing
             await pilot.press("c")
             await app.workers.wait_for_complete()
             await pilot.pause()
@@ -476,9 +489,9 @@ async def test_command_palette_runs_an_action():
         await pilot.press("ctrl+p")
         await pilot.pause()
         await pilot.press(*"crank 100 turns forward")
-        await pilot.pause(0.3)
+        await _palette_listed(app, pilot)
         await pilot.press("enter")
-        await pilot.pause(0.3)
+        await wait_for(pilot, lambda: whole_turns(app) != 0, "the palette's command to run")
         assert whole_turns(app) == 100
 
 
@@ -681,14 +694,12 @@ async def test_help_scrolls_to_the_end_at_80x24():
         for key in ("down", "pagedown", "end"):
             before = box.scroll_y
             await pilot.press(key)
-            await pilot.pause(0.3)
-            assert box.scroll_y > before or box.scroll_y == box.max_scroll_y, key
+            await wait_for(pilot, lambda b=before: box.scroll_y > b
+                           or box.scroll_y == box.max_scroll_y, f"help to scroll on {key}")
         await pilot.press("end")
-        await pilot.pause(0.3)
-        assert box.scroll_y == box.max_scroll_y
+        await wait_for(pilot, lambda: box.scroll_y == box.max_scroll_y, "help at its end")
         await pilot.press("home")
-        await pilot.pause(0.3)
-        assert box.scroll_y == 0
+        await wait_for(pilot, lambda: box.scroll_y == 0, "help at its top")
         await pilot.press("escape")
         await pilot.pause()
         assert isinstance(app.screen, BenchScreen)
@@ -815,7 +826,7 @@ async def _type_fast(app, keys, gaps_s) -> None:
         await asyncio.sleep(gap)
 
 
-async def _until(pilot, done, wait_s: float = 10.0) -> None:
+async def _until(pilot, done, wait_s: float = 60.0) -> None:
     """Wait until ``done()`` (a palette command runs a moment after the palette closes, a
     long moment on a loaded machine)."""
     for _ in range(int(wait_s / 0.05)):
@@ -824,7 +835,7 @@ async def _until(pilot, done, wait_s: float = 10.0) -> None:
         await pilot.pause(0.05)
 
 
-async def _palette_listed(app, pilot, wait_s: float = 10.0) -> None:
+async def _palette_listed(app, pilot, wait_s: float = 60.0) -> None:
     """Wait until the palette's search has listed its matches (slow on a loaded machine)."""
     from textual.command import CommandList
 
@@ -854,15 +865,18 @@ async def test_enter_twice_closes_a_dialog_once(opener, set_value, gap_s, cranki
         if cranking:  # as a user found it: a 60 ms gap is enough while cranking
             await pilot.press("space")
         await pilot.press(opener)
-        await pilot.pause(0.2)
+        await wait_for(pilot, lambda: len(app.screen_stack) == 2, "the dialog to open")
         if set_value is not None:
+            await wait_for(pilot, lambda: bool(app.screen.query(set_value[0])), "its input")
             app.screen.query_one(set_value[0]).value = set_value[1]
         else:
             text = list("crank 100 turns forward")
             await _type_fast(app, text, [0.01] * len(text))
             await _palette_listed(app, pilot)
         await _type_fast(app, ["enter", "enter"], [gap_s, 0.0])
-        await pilot.pause(0.3)
+        await wait_for(pilot, lambda: len(app.screen_stack) == 1, "the dialog to close")
+        await pilot.pause()  # the second Enter handled too
+        await pilot.pause()
         _assert_bench_on_the_bottom(app)
         assert len(app.screen_stack) == 1
         if cranking:
@@ -882,13 +896,16 @@ async def test_enter_twice_closes_a_dialog_once(opener, set_value, gap_s, cranki
 async def test_palette_page_keys_right_after_opening(gap_s):
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
+        from textual.command import CommandPalette
+
         await _type_fast(app, ["ctrl+p", "pagedown", "pageup", "end", "down"],
                          [gap_s, 0.0, 0.0, 0.0, 0.0])
-        await pilot.pause(0.3)
+        await wait_for(pilot, lambda: isinstance(app.screen, CommandPalette), "the palette")
+        await pilot.pause()  # the page keys handled
+        await pilot.pause()
         _assert_bench_on_the_bottom(app)
         await pilot.press("escape")
-        await pilot.pause()
-        assert len(app.screen_stack) == 1
+        await wait_for(pilot, lambda: len(app.screen_stack) == 1, "the palette to close")
 
 
 @sync
