@@ -117,20 +117,20 @@ TRAIN_KEY = "[bold #e06c75]+98.5[/] = turns since epoch, for arbors too fast to 
 FOOTER_FROM_WIDTH = {
     "crank(10)": 100, "crank(-10)": 100, "app.quit": 100,
     "crank(100)": 155, "crank(-100)": 155, "crank(1000)": 155, "crank(-1000)": 155,
-    "speed(1)": 190, "speed(-1)": 190,
+    "speed(1)": 195, "speed(-1)": 195,
     "crank_step(1)": 130, "crank_step(-1)": 130, "choose_step": 130,
-    "eclipse(1)": 180, "eclipse(-1)": 180, "predicted": 180,
+    "eclipse(1)": 185, "eclipse(-1)": 185, "predicted": 185,
     "change_train": 250, "undo_edit": 250, "redo_edit": 250, "save_train": 250,
-    "open_train": 250, "run(-1)": 250, "now": 170, "choose_reset": 250,
-    "reset_pointers(None, 'mean')": 250, "screenshot": 250,
+    "open_train": 250, "run(-1)": 270, "now": 170, "choose_reset": 270,
+    "reset_pointers(None, 'mean')": 270, "screenshot": 270,
 }
 #: On a train that predicts eclipses (a node hand, a draconic or eclipse-year dial, an
 #: eclipse-cycle dial) the eclipse jump keys x z p are in the footer at any width, and epoch,
 #: undo and observer make room for them on narrow screens (they stay in help and the palette).
 FOOTER_ECLIPSE_TRAIN = {"eclipse(1)": 0, "eclipse(-1)": 0, "predicted": 0,
                         "epoch": 155, "undo_reset": 155, "toggle_observer": 155,
-                        "crank(100)": 180, "crank(-100)": 180, "crank(1000)": 180,
-                        "crank(-1000)": 180}
+                        "crank(100)": 185, "crank(-100)": 185, "crank(1000)": 185,
+                        "crank(-1000)": 185}
 #: Shorter footer labels below 100 columns.
 FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
 #: The footer shows the palette key from this width; below it the title line names ctrl+p.
