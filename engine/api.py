@@ -31,6 +31,7 @@ from .errors import (
     DriftError,
     OutputError,
     PlacementError,
+    SearchCancelled,
     SearchError,
     SkyError,
     TrainError,
@@ -61,6 +62,7 @@ from .plate import place_plates
 from .play import PlayReport, Tolerances, play
 from .ratios import PointerRatio, Stage, SynodicRatio, ToothNote, pointer_ratios
 from .readout import PointerMotion, Readout, backward_warnings, epoch_values
+from .rechain import ChainAnswer, PointerChain, chain_search, pointer_chain
 from .search import (
     Constraints,
     Convergent,
@@ -105,6 +107,7 @@ __all__ = [
     # search
     "search", "make_target", "make_constraints", "convergents", "emit_fragment",
     "SearchReport", "TrainResult", "WheelPair", "Convergent", "Target", "Constraints",
+    "pointer_chain", "chain_search", "PointerChain", "ChainAnswer", "SearchCancelled",
     # mechanical checks
     "check", "CheckReport", "Finding", "MeshCheck", "ArborCheck", "PinSlotCheck",
     # the workshop: cutting files, and what tolerances do to the pointers

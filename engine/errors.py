@@ -63,6 +63,10 @@ class DriftCancelled(Exception):  # noqa: N818 - it is a request, not a fault
     fault: the command exits 130 quietly)."""
 
 
+class SearchCancelled(Exception):  # noqa: N818 - it is a request, not a fault
+    """Raised between steps of a tooth search when its ``cancel`` callback asks to stop."""
+
+
 class ParserExit(Exception):  # noqa: N818 - argparse finished, nothing went wrong
     """The command-line parser finished on its own (``--help``, ``--version``): ``status`` is
     the exit code to return (``engine.commands.support.Parser`` raises it instead of

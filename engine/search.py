@@ -31,7 +31,7 @@ from fractions import Fraction
 import numpy as np
 
 from .defaults import SEARCH_MAX_TEETH, SEARCH_MAX_TOP
-from .errors import SearchError
+from .errors import SearchCancelled, SearchError
 from .exact import fraction_text, parse_fraction
 from .kinds import KINDS
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, MeanPeriod, find_period
@@ -533,7 +533,7 @@ def _factorisations(n: int, k: int, values: tuple[int, ...], distinct: bool,
 class _Side:
     """Product tables of one stage count for drivers and driven."""
 
-    def __init__(self, cons: Constraints, target: Target, k: int):
+    def __init__(self, cons: Constraints, target: Target, k: int, between=None):
         self.k = k
         self.drv_vals, self.dvn_vals = cons.sides(target)
         self.distinct = cons.no_repeat
@@ -546,6 +546,8 @@ class _Side:
                     f"{role}: {len(vals)} tooth counts give {size:,} sets of {k}, more than "
                     f"{MAX_MULTISETS:,}; narrow the tooth ranges or search fewer stages")
         self.num, self.num_sum = _products(self.drv_vals, k, self.distinct)
+        if between is not None:
+            between()
         self.den, self.den_sum = _products(self.dvn_vals, k, self.distinct)
 
     def best_train(self, pairs_n: np.ndarray, pairs_d: np.ndarray) -> tuple[WheelPair, ...] | None:
@@ -658,14 +660,26 @@ def _search_k(side: _Side, target: Target, top: int) -> list[tuple[Fraction, int
 
 
 def search(target: Target, constraints: Constraints | None = None, top: int = 10,
-           with_convergents: bool = True) -> SearchReport:
+           with_convergents: bool = True, progress=None, cancel=None) -> SearchReport:
     """Best ``top`` distinct trains for ``target`` within ``constraints``, best first.
 
     Exhaustive within the bounds: no train of the allowed stage counts and tooth counts comes
     closer to the target than the first result. Ties are broken by total teeth, then stages.
     With ``exact_only`` the results are instead the different trains of exactly the target
     ratio, fewest teeth first (see :func:`exact_trains`).
+
+    ``progress(fraction)`` is called between steps (drivers' products, driven products,
+    matching, for each stage count); ``cancel()`` is asked at the same points, and a true
+    answer raises :class:`SearchCancelled`.
     """
+    steps = 3 * len((constraints or make_constraints()).stages)
+
+    def step(i: int) -> None:
+        if cancel is not None and cancel():
+            raise SearchCancelled(f"search stopped after {i} of {steps} steps")
+        if progress is not None:
+            progress(i / steps)
+
     cons = constraints or make_constraints()
     if not 1 <= top <= MAX_TOP:
         raise SearchError(f"top: must be from 1 to {MAX_TOP}, got {top}")
@@ -674,13 +688,16 @@ def search(target: Target, constraints: Constraints | None = None, top: int = 10
         convs = tuple(convergents(target, cons)) if with_convergents else ()
         return SearchReport(target, cons, results, convs)
     best: dict[Fraction, tuple[Fraction, int, int, tuple]] = {}
-    for k in cons.stages:
-        side = _Side(cons, target, k)
+    for j, k in enumerate(cons.stages):
+        step(3 * j)
+        side = _Side(cons, target, k, between=lambda j=j: step(3 * j + 1))
+        step(3 * j + 2)
         for aerr, teeth, stages in _search_k(side, target, top):
             ratio = math.prod((s.ratio for s in stages), start=Fraction(1))
             entry = (aerr, teeth, k, stages)
             if ratio not in best or entry[:3] < best[ratio][:3]:
                 best[ratio] = entry
+    step(steps)
     ranked = sorted(best.values(), key=lambda x: x[:3])[:top]
     results = tuple(_make_result(stages, target) for *_, stages in ranked)
     convs = tuple(convergents(target, cons)) if with_convergents else ()

@@ -412,3 +412,133 @@ async def test_the_drift_chart_computes_again_after_an_edit_undo_and_redo(tmp_pa
         await pilot.pause()
         assert isinstance(app.screen, BenchScreen)
         assert app.session.mech.train.wheels["sun_w1"].teeth == 60
+
+
+async def open_teeth(pilot, app, pointer: str):
+    from tui.editing import TeethScreen
+
+    await pilot.press("w")
+    await pilot.pause()
+    await pilot.press("ctrl+f")
+    await pilot.pause()
+    screen = app.screen
+    assert isinstance(screen, TeethScreen)
+    ol = screen.query_one("#teeth-pointers", OptionList)
+    ol.highlighted = list(app.session.mech.train.pointers).index(pointer)
+    await pilot.pause()
+    return screen
+
+
+async def run_search(pilot, app, screen, **fields) -> None:
+    for name, value in fields.items():
+        screen.query_one(f"#teeth-{name}", Input).value = value
+    box = screen.query_one("#teeth-pinions", Input)
+    box.focus()
+    await pilot.press("enter")
+    await app.workers.wait_for_complete()
+    await pilot.pause()
+
+
+@sync
+async def test_tooth_search_for_one_pointer_puts_an_answer_in_as_one_edit(tmp_path):
+    from engine.ratios import pointer_ratios
+    from engine.rechain import chain_search, pointer_chain
+
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("right")
+        screen = await open_teeth(pilot, app, "moon")
+        assert screen.chain.pointer == "moon" and len(screen.chain.stages) == 3
+        assert "also moves: phase" in text_of(screen.query_one("#teeth-chain"))
+        before = app.session.mech
+        await run_search(pilot, app, screen, pinions="9-30", wheels="20-130")
+        want = chain_search(pointer_chain(before, "moon", app.session.frame),
+                            pinions="9-30", wheels="20-130")
+        assert [a.teeth for a in screen.answers] == [a.teeth for a in want]
+        # the demo's own moon train is the best answer in these bounds: marked "as now"
+        ol = screen.query_one("#teeth-answers", OptionList)
+        assert "(as now)" in str(ol.get_option_at_index(0).prompt)
+        assert app.session.mech is before  # searching changes nothing
+        # put the second answer in
+        second = screen.answers[1]
+        ol.focus()
+        ol.highlighted = 1
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, PartsScreen)
+        train = app.session.mech.train
+        assert {w: train.wheels[w].teeth for w in second.teeth} == second.teeth
+        row = next(r for r in pointer_ratios(app.session.mech) if r.pointer == "moon")
+        assert row.ratio == second.ratio  # the figures listed are the train's
+        assert row.period_error_ppm == pytest.approx(second.period_error_ppm, abs=1e-6)
+        assert "put in" in text_of(app.screen.query_one("#parts-done"))
+        assert CHANGED_MARK in text_of(app.screen.query_one("#parts-title"))
+        # the readings answer, and one undo takes the whole chain back
+        await pilot.press("ctrl+z")
+        await pilot.pause()
+        assert app.session.mech.kin.rates == before.kin.rates
+        assert not app.session.editor.can_undo
+
+
+@sync
+async def test_tooth_search_keeps_forbidden_primes_and_refuses_bad_bounds(tmp_path):
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_teeth(pilot, app, "perigee")
+        assert not screen.chain.whole and screen.chain.also_moves == ()
+        await run_search(pilot, app, screen, pinions="10-40", wheels="20-120", primes="29, 13")
+        assert screen.answers and app.session.editor.forbidden_primes == (13, 29)
+        for a in screen.answers:
+            assert all(n % 29 and n % 13 for n in a.teeth.values()), a.teeth
+        rates = dict(app.session.mech.kin.rates)
+        for field, bad, words in (("ppm", "lots", "max error ppm"),
+                                  ("primes", "39", "not a prime"),
+                                  ("pinions", "30-10", "empty")):
+            await run_search(pilot, app, screen, **{field: bad})
+            assert words in text_of(screen.query_one("#teeth-error")), field
+            screen.query_one(f"#teeth-{field}", Input).value = {
+                "ppm": "", "primes": "", "pinions": "10-40"}[field]
+        assert app.session.mech.kin.rates == rates and not app.session.editor.can_undo
+        # the sun's meshes all drive other pointers too: the whole chain, and it says so
+        ol = screen.query_one("#teeth-pointers", OptionList)
+        ol.highlighted = 0
+        await pilot.pause()
+        assert screen.chain.pointer == "sun" and screen.chain.whole
+        assert "also moves: node, perigee, phase" in text_of(screen.query_one("#teeth-chain"))
+
+
+def test_tooth_search_stops_on_escape(tmp_path, monkeypatch):
+    import time
+
+    import engine.rechain
+
+    original = engine.rechain.search
+
+    def slow(*args, cancel=None, **kwargs):
+        def ask():
+            time.sleep(0.3)
+            return cancel() if cancel else False
+        return original(*args, cancel=ask, **kwargs)
+
+    monkeypatch.setattr(engine.rechain, "search", slow)
+
+    @sync
+    async def run():
+        app = make_app(copy_tide(tmp_path))
+        async with app.run_test(size=SIZE) as pilot:
+            screen = await open_teeth(pilot, app, "moon")
+            screen.query_one("#teeth-pinions", Input).focus()
+            await pilot.press("enter")
+            await pilot.pause(0.1)
+            assert screen.searching
+            await pilot.press("escape")  # stops the search, stays
+            await app.workers.wait_for_complete()
+            await pilot.pause()
+            assert app.screen is screen and not screen.searching and not screen.answers
+            assert "stopped" in str(screen.query_one("#teeth-status", Label).content)
+            await pilot.press("escape")  # now back to the parts screen
+            await pilot.pause()
+            assert isinstance(app.screen, PartsScreen)
+            assert not app.session.editor.can_undo
+
+    run()

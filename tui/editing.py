@@ -13,13 +13,24 @@ from pathlib import Path
 
 from rich.table import Table
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Button, DirectoryTree, Footer, Input, Label, OptionList, Static
+from textual.widgets import (
+    Button,
+    Checkbox,
+    DirectoryTree,
+    Footer,
+    Input,
+    Label,
+    OptionList,
+    ProgressBar,
+    Static,
+)
 from textual.widgets.option_list import Option
+from textual.worker import get_current_worker
 
 from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
@@ -164,6 +175,7 @@ class PartsScreen(ClosesOnce, Screen):
         Binding("ctrl+z", "undo_edit", "undo change"),
         Binding("ctrl+y", "redo_edit", "redo change"),
         Binding("ctrl+s", "save", "save…"),
+        Binding("ctrl+f", "find_teeth", "find teeth…"),
         Binding("f1", "help", "help"),
     ]
 
@@ -315,6 +327,14 @@ class PartsScreen(ClosesOnce, Screen):
             self.notify("nothing to redo", timeout=2)
             return
         self._adopted(self.editor.mech, change, "made again")
+
+    def action_find_teeth(self) -> None:
+        """The tooth search for one pointer; an answer put in comes back as an edit."""
+        self.app.push_screen(TeethScreen(self.session), self._found_teeth)
+
+    def _found_teeth(self, change) -> None:
+        if change is not None:
+            self._adopted(self.editor.mech, change, "put in")
 
     def action_save(self) -> None:
         self.app.push_screen(SaveDialog(self.editor), self._saved)
@@ -532,3 +552,247 @@ class OpenScreen(ClosesOnce, Screen):
 
     def action_back(self) -> None:
         self.dismiss(None)
+
+
+# --- tooth search for one pointer ------------------------------------------------------------
+class TeethScreen(ClosesOnce, Screen):
+    """Search new tooth counts for one pointer's chain (engine.rechain): pick the pointer,
+    set the bounds, Enter searches in a worker (progress bar; Escape stops it), Enter on an
+    answer puts it in the train as one edit (ctrl+z undoes it)."""
+
+    BINDINGS = [
+        Binding("escape", "back", "stop / back"),
+        Binding("f1", "help", "help"),
+    ]
+
+    def __init__(self, session, pointer: str | None = None):
+        super().__init__()
+        self.session = session
+        self.editor: TrainEditor = session.editor
+        names = list(self.editor.mech.train.pointers)
+        self.pointer = pointer if pointer in names else (names[0] if names else None)
+        self.chain = None
+        self.answers: list = []
+        self.searching = False
+        self._run = 0
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="teeth-title")
+        with Horizontal(id="teeth-top"):
+            yield OptionList(id="teeth-pointers")
+            yield Static(id="teeth-chain")
+        with Horizontal(classes="teeth-row"):
+            yield Label("pinions ", classes="teeth-label")
+            yield Input("8-30", id="teeth-pinions", compact=True, classes="teeth-short")
+            yield Label(" wheels ", classes="teeth-label")
+            yield Input("20-150", id="teeth-wheels", compact=True, classes="teeth-short")
+            yield Label(" max error ppm ", classes="teeth-label")
+            yield Input("", placeholder="any", id="teeth-ppm", compact=True,
+                        classes="teeth-short")
+        with Horizontal(classes="teeth-row"):
+            yield Label("primes you cannot cut ", classes="teeth-label")
+            yield Input(", ".join(map(str, self.editor.forbidden_primes)),
+                        placeholder="none", id="teeth-primes", compact=True)
+        yield Checkbox("search the whole chain (other pointers it drives move too)",
+                       id="teeth-whole", compact=True)
+        with Horizontal(id="teeth-progress-row"):
+            yield ProgressBar(total=100, show_eta=False, id="teeth-progress")
+            yield Label("Enter searches", id="teeth-status")
+        yield Label("", id="teeth-error")
+        yield OptionList(id="teeth-answers")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#teeth-pointers").border_title = "pointer"
+        self.query_one("#teeth-answers").border_title = "answers: Enter puts one in the train"
+        ol = self.query_one("#teeth-pointers", OptionList)
+        names = list(self.editor.mech.train.pointers)
+        ol.add_options([Option(Text(n), id=n) for n in names])
+        if self.pointer is not None:
+            ol.highlighted = names.index(self.pointer)
+        self._title()
+        self._aim(whole=None)
+        self.query_one("#teeth-pinions", Input).focus()
+
+    def _title(self) -> None:
+        self.query_one("#teeth-title", Static).update(Text.assemble(
+            ("find teeth for a pointer  ", "bold #e5c07b"),
+            (self.editor.mech.train.name, "bold"), title_mark(self.session)))
+
+    def _error(self, message: str) -> None:
+        label = self.query_one("#teeth-error", Label)
+        label.update(Text(message))
+        label.set_class(bool(message), "-shown")
+
+    def _aim(self, whole: bool | None) -> None:
+        """Work out the chain of the chosen pointer (cheap: a few solves) and show it."""
+        from engine.rechain import pointer_chain
+
+        self.chain = None
+        self._clear_answers()
+        box = self.query_one("#teeth-chain", Static)
+        if self.pointer is None:
+            box.update(Text("this train has no pointers"))
+            return
+        try:
+            chain = pointer_chain(self.editor.mech, self.pointer, self.session.frame, whole)
+        except WheelworkError as exc:
+            box.update(Text(""))
+            self._error(str(exc))
+            return
+        self._error("")
+        self.chain = chain
+        check = self.query_one("#teeth-whole", Checkbox)
+        with check.prevent(Checkbox.Changed):
+            check.value = chain.whole
+        row = next((r for r in self.editor.compare(self.session.frame)
+                    if r.pointer == self.pointer), None)
+        t = Text()
+        t.append(f"{chain.pointer}", style="bold")
+        t.append(f" shows the {chain.target_name} ({chain.frame} dial)\n")
+        t.append("meshes searched: ", style="#9aa5b1")
+        t.append(" · ".join(f"{s.driver} {s.driver_teeth} → {s.driven} {s.driven_teeth}"
+                            for s in chain.stages))
+        if chain.kept:
+            t.append("\nkept as they are: ", style="#9aa5b1")
+            t.append(" · ".join(f"{s.driver_teeth}/{s.driven_teeth}" for s in chain.kept))
+        if row is not None:
+            t.append("\nnow: ", style="#9aa5b1")
+            t.append(f"{_ppm(row.after.period_error_ppm)} ppm, "
+                     f"{_drift(row.after.drift_deg_per_century)} °/cy")
+        if chain.also_moves:
+            t.append(f"\nalso moves: {', '.join(chain.also_moves)}", style="#e5c07b")
+        box.update(t)
+
+    def _clear_answers(self) -> None:
+        self.answers = []
+        self.query_one("#teeth-answers", OptionList).clear_options()
+
+    @on(OptionList.OptionHighlighted, "#teeth-pointers")
+    def _pointer(self, event: OptionList.OptionHighlighted) -> None:
+        if event.option.id != self.pointer:
+            self._stop_search()
+            self.pointer = event.option.id
+            self._aim(whole=None)
+
+    @on(Checkbox.Changed, "#teeth-whole")
+    def _whole(self, event: Checkbox.Changed) -> None:
+        self._stop_search()
+        self._aim(whole=event.value)
+
+    @on(Input.Submitted)
+    def _go(self) -> None:
+        from engine.edit import parse_primes
+
+        if self.chain is None:
+            return
+        text = self.query_one("#teeth-ppm", Input).value.strip()
+        try:
+            primes = parse_primes(self.query_one("#teeth-primes", Input).value)
+            max_ppm = None if not text else float(text)
+        except WheelworkError as exc:
+            self._error(str(exc))
+            return
+        except ValueError:
+            self._error(f"max error ppm: cannot read {text!r} (a number, e.g. 0.5; empty: any)")
+            return
+        self.editor.forbidden_primes = primes  # the same primes as the parts screen
+        self._error("")
+        self._clear_answers()
+        self._run += 1
+        self.searching = True
+        self.query_one("#teeth-progress", ProgressBar).update(progress=0)
+        self.query_one("#teeth-status", Label).update("searching… (Escape stops)")
+        self.search(self.chain, self.query_one("#teeth-pinions", Input).value,
+                    self.query_one("#teeth-wheels", Input).value, primes, max_ppm, self._run)
+
+    @work(thread=True, exclusive=True, group="teeth", exit_on_error=False)
+    def search(self, chain, pinions: str, wheels: str, primes, max_ppm, run: int) -> None:
+        from engine.errors import SearchCancelled
+        from engine.rechain import chain_search
+
+        worker = get_current_worker()
+
+        def progress(fraction: float) -> None:
+            if not worker.is_cancelled:
+                self.app.call_from_thread(self._progress, fraction, run)
+
+        try:
+            answers = chain_search(chain, wheels=wheels, pinions=pinions,
+                                   forbidden_primes=primes, max_error_ppm=max_ppm,
+                                   progress=progress, cancel=lambda: worker.is_cancelled)
+        except SearchCancelled:
+            return
+        except Exception as exc:  # noqa: BLE001 - a WheelworkError, or a fault to report
+            self.app.call_from_thread(self._failed, str(exc), run)
+            return
+        if not worker.is_cancelled:
+            self.app.call_from_thread(self._found, answers, run)
+
+    def _progress(self, fraction: float, run: int) -> None:
+        if run == self._run:
+            self.query_one("#teeth-progress", ProgressBar).update(progress=100 * fraction)
+
+    def _failed(self, message: str, run: int) -> None:
+        if run == self._run:
+            self.searching = False
+            self.query_one("#teeth-status", Label).update("no search")
+            self._error(message)
+
+    def _found(self, answers: list, run: int) -> None:
+        if run != self._run:
+            return
+        self.searching = False
+        self.answers = answers
+        self.query_one("#teeth-progress", ProgressBar).update(progress=100)
+        self.query_one("#teeth-status", Label).update(
+            f"{len(answers)} answer{'' if len(answers) == 1 else 's'}, best first"
+            if answers else "no answer within these bounds")
+        ol = self.query_one("#teeth-answers", OptionList)
+        ol.clear_options()
+        width = max((len(a.stages_text()) for a in answers), default=0)
+        now = {w: t for w, _, t in self.editor.wheels()}
+        ol.add_options([Option(self._answer_text(a, width, now), id=str(i))
+                        for i, a in enumerate(answers)])
+        if answers:
+            ol.highlighted = 0
+            ol.focus()
+
+    @staticmethod
+    def _answer_text(a, width: int, now: dict) -> Text:
+        same = all(now.get(w) == n for w, n in a.teeth.items())
+        return Text.assemble((a.stages_text().ljust(width), "bold"),
+                             f"  {_ppm(a.period_error_ppm):>9} ppm  "
+                             f"{_drift(a.drift_deg_per_century):>9} °/cy  "
+                             f"{a.result.total_teeth:>4} teeth",
+                             ("  (as now)" if same else "", "#98c379"))
+
+    @on(OptionList.OptionSelected, "#teeth-answers")
+    def _chosen(self, event: OptionList.OptionSelected) -> None:
+        from engine.rechain import chain_edit_name
+
+        answer = self.answers[int(event.option.id)]
+        try:
+            mech = self.editor.set_teeth_many(answer.teeth, chain_edit_name(self.chain))
+        except WheelworkError as exc:
+            self._error(str(exc))  # the train stays as it was
+            return
+        adopt(self.app, mech)
+        self.notify(f"put in: {answer.stages_text()} (ctrl+z undoes)", timeout=4)
+        self.dismiss(self.editor.last_change)
+
+    def _stop_search(self) -> bool:
+        if not self.searching:
+            return False
+        self._run += 1
+        self.workers.cancel_group(self, "teeth")
+        self.searching = False
+        self.query_one("#teeth-status", Label).update("stopped")
+        return True
+
+    def action_back(self) -> None:
+        if not self._stop_search():
+            self.dismiss(None)
+
+    def action_help(self) -> None:
+        self.app.push_screen(HelpScreen(self.BINDINGS))

@@ -96,6 +96,7 @@ LONG_HELP = {
     "redo_edit": "make again the last change undone",
     "save_train": "save the changed train (a new name unless you replace a file)",
     "open_train": "open another train file, or start a new train from a demo",
+    "find_teeth": "search new tooth counts for one pointer's chain (answers put in as an edit)",
     "back": "back to the bench", "cancel": "cancel the drift computation",
     "decades(1)": "one decade more", "decades(-1)": "one decade less",
     "threshold(1)": "raise the threshold", "threshold(-1)": "lower the threshold",

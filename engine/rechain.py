@@ -1,0 +1,245 @@
+"""New tooth counts for one pointer's chain: the tooth search aimed at what the pointer shows,
+and its answers as an edit of the train.
+
+A pointer's *chain* is the run of meshes from the crank arbor to its arbor (the ratio report's
+stages). Only meshes on the frame (not riding on a carrier) whose two wheels each appear once
+on the way can be re-cut. Of those, a mesh is the pointer's *own* when changing either wheel
+moves no other pointer; by default only the own meshes are searched, so the rest of the train
+stays exactly as it is. With ``whole=True`` every re-cuttable mesh of the chain is searched,
+and the other pointers those meshes also drive move with it (the before/after panel shows by
+how much).
+
+The answers keep the chain's shape: the same meshes, in the same places, with new tooth counts
+(one result stage per mesh, in chain order), so the turning sense and the rest of the train are
+unchanged. A different number of stages would mean new arbors and meshes in the file, which
+the designer adds by hand (``wheelwork search --emit`` writes them).
+
+The search itself is :func:`engine.search.search`: exhaustive within the bounds. The target is
+worked out exactly: the pointer's cycles per crank turn are an affine function ``a·P + b`` of
+the product ``P`` of the searched meshes' ratios (``b`` is what the rest of the train adds, for
+a pointer read against another arbor), found from the solver at two tooth sets and checked at a
+third; the target product is then ``(T − b) / a`` for the mean motion ``T`` the pointer's kind
+stands for on the chosen dial.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+from fractions import Fraction
+
+from .edit import forbidden_factors
+from .errors import SearchError, TrainError
+from .kinds import KINDS
+from .kinematics import solve
+from .mechanism import Mechanism
+from .periods import JULIAN_CENTURY_DAYS
+from .ratios import Stage, stage_path
+from .readout import pointer_linear
+from .search import (
+    MAX_STAGES,
+    MAX_TOP,
+    Target,
+    TrainResult,
+    make_constraints,
+    reach,
+    search,
+)
+from .train import FRAME, Train
+
+
+@dataclass(frozen=True)
+class PointerChain:
+    """What can be searched for one pointer, and the exact target of the search."""
+
+    pointer: str
+    shows: str
+    frame: str
+    stages: tuple[Stage, ...]  # the meshes to re-cut, crank side first
+    kept: tuple[Stage, ...]  # meshes on the way left as they are
+    whole: bool  # True: meshes shared with other pointers are searched too
+    own_count: int  # how many meshes of the chain are the pointer's own
+    also_moves: tuple[str, ...]  # other pointers the searched meshes also drive
+    target: Target  # for the product of the searched meshes' ratios (magnitude)
+    ideal: Fraction  # the pointer's mean cycles per crank turn (signed, as the dial reads)
+    a: Fraction  # pointer cycles per crank turn = a · P + b, P the signed product
+    b: Fraction
+    sign: int  # the sign of P (each external mesh reverses)
+    target_name: str
+
+    def pointer_ratio(self, product: Fraction) -> Fraction:
+        """The pointer's cycles per crank turn when the searched meshes multiply to
+        ``product`` (a magnitude)."""
+        return self.a * self.sign * product + self.b
+
+
+@dataclass(frozen=True)
+class ChainAnswer:
+    """One answer of the search, as the pointer would read it and as an edit."""
+
+    result: TrainResult
+    teeth: dict[str, int]  # wheel -> new teeth, the edit
+    ratio: Fraction  # pointer cycles per crank turn with these teeth
+    period_error_ppm: float  # (its period / the mean period − 1) · 1e6
+    drift_deg_per_century: float  # pointer minus sky, mean rate
+
+    def stages_text(self) -> str:
+        return " · ".join(f"{s.driver}/{s.driven}" for s in self.result.stages)
+
+
+def _with_teeth(train: Train, teeth: dict[str, int]) -> Train:
+    wheels = dict(train.wheels)
+    for w, n in teeth.items():
+        wheels[w] = replace(wheels[w], teeth=n)
+    return replace(train, wheels=wheels)
+
+
+def _ratios(train: Train) -> dict[str, Fraction] | None:
+    """Every pointer's cycles per crank turn, None when the train then locks."""
+    try:
+        kin = solve(train)
+    except TrainError:
+        return None
+    return {p.name: pointer_linear(kin, p).crank for p in train.pointers.values()}
+
+
+def _product(stages, teeth: dict[str, int]) -> Fraction:
+    out = Fraction(1)
+    for s in stages:
+        out *= -Fraction(teeth.get(s.driver, s.driver_teeth), teeth.get(s.driven, s.driven_teeth))
+    return out
+
+
+def pointer_chain(mech: Mechanism, pointer: str, frame: str | None = None,
+                  whole: bool | None = None) -> PointerChain:
+    """The searchable chain of ``pointer`` judged on a dial of ``frame`` (default: the
+    train's). ``whole``: search the meshes shared with other pointers too; None (default)
+    searches the pointer's own meshes when it has any, else the whole chain. Raises
+    :class:`SearchError` saying why when nothing can be searched."""
+    train, kin = mech.train, mech.kin
+    frame = frame or train.dial
+    if pointer not in train.pointers:
+        raise SearchError(f"pointer '{pointer}': no such pointer in this train")
+    p = train.pointers[pointer]
+    found = stage_path(train, kin, p.arbor)
+    path = found[0] if found else []
+    meshes = [s for s in path if s.kind == "mesh"]
+    count: dict[str, int] = {}
+    for s in meshes:
+        for w in (s.driver, s.driven):
+            count[w] = count.get(w, 0) + 1
+    cuttable = [s for s in meshes if s.reference == FRAME and not s.internal
+                and count[s.driver] == 1 and count[s.driven] == 1]
+    if not cuttable:
+        raise SearchError(f"pointer '{pointer}': no plain mesh on the frame leads from the crank "
+                          "to its arbor, so there is no chain to search; change its wheels in "
+                          "the parts list")
+    base = _ratios(train)
+    others = [n for n in train.pointers if n != pointer]
+    moves: dict[int, set[str]] = {}
+    for i, s in enumerate(cuttable):
+        moved: set[str] = set()
+        for w in (s.driver, s.driven):
+            r = _ratios(_with_teeth(train, {w: train.wheels[w].teeth + 1}))
+            moved |= set(others) if r is None else {n for n in others if r[n] != base[n]}
+        moves[i] = moved
+    own = [s for i, s in enumerate(cuttable) if not moves[i]]
+    if whole is None:
+        whole = not own
+    chosen = cuttable if whole else own
+    if not chosen:
+        raise SearchError(f"pointer '{pointer}': every mesh on its way also drives "
+                          f"{', '.join(sorted(set().union(*moves.values())))}; search the "
+                          "whole chain (those pointers then move too)")
+    if len(chosen) > MAX_STAGES:
+        raise SearchError(f"pointer '{pointer}': {len(chosen)} meshes to search, more than the "
+                          f"{MAX_STAGES} stages the tooth search takes")
+    also = sorted(set().union(*(moves[i] for i, s in enumerate(cuttable) if s in chosen)))
+    # the pointer's ratio as an affine function of the searched product, from the solver
+    first, last = chosen[0], chosen[-1]
+    p0 = _product(chosen, {})
+    r0 = base[pointer]
+    t1 = {first.driven: first.driven_teeth + 1}
+    r1 = _ratios(_with_teeth(train, t1))
+    t2 = {last.driver: last.driver_teeth + 2}
+    r2 = _ratios(_with_teeth(train, t2))
+    if r1 is None or r2 is None:
+        raise SearchError(f"pointer '{pointer}': the train locks when these meshes change, so "
+                          "their tooth counts cannot be searched one chain at a time")
+    p1, p2 = _product(chosen, t1), _product(chosen, t2)
+    a = (r1[pointer] - r0) / (p1 - p0)
+    b = r0 - a * p0
+    if a == 0 or a * p2 + b != r2[pointer]:
+        raise SearchError(f"pointer '{pointer}': its motion does not follow these meshes in "
+                          "proportion (a differential or a carrier lies between), so the "
+                          "search cannot aim at it")
+    period = KINDS[p.shows].mean_period(frame)
+    dpt = train.crank.days_per_turn
+    ideal = Fraction(period.deg_per_day) / 360 * dpt
+    want = (ideal - b) / a
+    sign = 1 if p0 > 0 else -1
+    if want == 0 or (want > 0) != (sign > 0):
+        raise SearchError(f"pointer '{pointer}': with these meshes it turns the wrong way for "
+                          f"the {period.name}; no tooth counts can change that (set reversed "
+                          "in the file, or add an idler)")
+    target = Target(abs(want), dpt, f"pointer {pointer}: {period.name}")
+    return PointerChain(pointer, p.shows, frame, tuple(chosen),
+                        tuple(s for s in meshes if s not in chosen), bool(whole), len(own),
+                        tuple(also), target, ideal, a, b, sign, period.name)
+
+
+def chain_search(chain: PointerChain, wheels="8-150", pinions="8-150",
+                 forbidden_primes=(), max_error_ppm: float | None = None, top: int = 20,
+                 progress=None, cancel=None) -> list[ChainAnswer]:
+    """The best ``top`` tooth sets for the chain's meshes (fewer if ``max_error_ppm`` leaves
+    fewer), best first, none with a tooth count a forbidden prime divides. ``wheels`` and
+    ``pinions`` are tooth ranges (``"8-150"``) for the larger and smaller member of each
+    mesh. ``progress``/``cancel`` as for :func:`engine.search.search`."""
+    if not 1 <= top <= MAX_TOP:
+        raise SearchError(f"answers: must be from 1 to {MAX_TOP}, got {top}")
+    if max_error_ppm is not None and not (math.isfinite(max_error_ppm) and max_error_ppm > 0):
+        raise SearchError(f"max error: must be more than 0 ppm, got {max_error_ppm}")
+    k = len(chain.stages)
+    plain = make_constraints(stages=k, wheels=wheels, pinions=pinions)
+    allowed = None
+    if forbidden_primes:
+        lo = min(plain.wheels[0], plain.pinions[0])
+        hi = max(plain.wheels[1], plain.pinions[1])
+        allowed = [n for n in range(lo, hi + 1) if not forbidden_factors(n, forbidden_primes)]
+        if not allowed:
+            raise SearchError("every tooth count in range has a forbidden prime factor")
+    cons = make_constraints(stages=k, wheels=plain.wheels, pinions=plain.pinions,
+                            allowed=allowed)
+    lo, hi = reach(chain.target, cons)
+    t = chain.target.ratio
+    if not lo / 2 <= t <= hi * 2:
+        raise SearchError(
+            f"out of reach: {k} mesh{'es' if k > 1 else ''} of these counts give "
+            f"{float(lo):.4g} to {float(hi):.4g} turns per crank turn, the pointer needs "
+            f"{float(t):.4g}; widen the tooth ranges"
+            + ("" if chain.whole else ", or search the whole chain"))
+    report = search(chain.target, cons, top=MAX_TOP if max_error_ppm else top,
+                    with_convergents=False, progress=progress, cancel=cancel)
+    dpt = chain.target.crank_days
+    out = []
+    for res in report.results:
+        teeth = {}
+        for st, pair in zip(chain.stages, res.stages, strict=True):
+            teeth[st.driver] = pair.driver
+            teeth[st.driven] = pair.driven
+        ratio = chain.pointer_ratio(res.ratio)
+        if ratio == 0:
+            continue
+        ppm = float(abs(chain.ideal) / abs(ratio) - 1) * 1e6
+        drift = float((ratio - chain.ideal) / dpt) * 360.0 * JULIAN_CENTURY_DAYS
+        if max_error_ppm is not None and abs(ppm) > max_error_ppm:
+            continue
+        out.append(ChainAnswer(res, teeth, ratio, ppm, drift))
+        if len(out) >= top:
+            break
+    return out
+
+
+def chain_edit_name(chain: PointerChain) -> str:
+    """How the edit that puts an answer in is named (undo, messages)."""
+    return f"pointer '{chain.pointer}' chain (search)"
