@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .checks import _axis_groups, centre_distance_mm
+from .checks import TOLERANCE_MM, _axis_groups, centre_distance_mm
 from .errors import PlacementError
 from .kinematics import Kinematics
 from .train import FRAME, Train
@@ -27,9 +27,9 @@ from .train import FRAME, Train
 EXACT_MM = 1e-6
 """Distances computed for placement agree to a nanometre; this is the test for 'equal'."""
 
-FIXED_TOLERANCE_MM = 0.02
-"""Positions the file fixes may differ from the centre distance by this much (as the checks
-allow); the plate keeps them as written and says by how much they are off."""
+FIXED_TOLERANCE_MM = TOLERANCE_MM
+"""Positions the file fixes may differ from the centre distance by as much as the checks allow;
+the plate keeps them as written and says by how much they are off."""
 
 CLEARANCE_MM = 0.5
 """A wheel's tip circle should clear another axis's pivot by this much (our rule)."""
