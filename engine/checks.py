@@ -234,10 +234,6 @@ def _mm(x: float) -> str:
     return f"{x:.3f}".rstrip("0").rstrip(".") + " mm"
 
 
-def _frac(x: Fraction) -> str:
-    return f"{x.numerator}/{x.denominator}" if x.denominator != 1 else str(x.numerator)
-
-
 def _finder(parent: dict[str, str]):
     """Union-find lookup over ``parent`` (which the caller links)."""
 

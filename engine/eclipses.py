@@ -243,10 +243,6 @@ class Eclipse:
     gamma: float
     number: int
 
-    def as_dict(self) -> dict:
-        return {"jd_ut": self.jd_ut, "kind": self.kind, "type": self.type,
-                "gamma": self.gamma, "lunation": self.number // 2}
-
 
 @dataclass(frozen=True)
 class SkyEclipses:

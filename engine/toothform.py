@@ -36,9 +36,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-FORMS = ("cycloidal", "involute")
-ROLES = ("wheel", "pinion", "ring")
-
 # --- the cycloidal standard (BS 978 Part 2), values from memory ------------------------------
 
 WHEEL_THICKNESS_M = 1.41
@@ -120,8 +117,8 @@ class ToothForm:
     """One wheel's teeth. Radii in mm; ``flank`` is an (N, 2) array of (radius_mm,
     half_angle_rad) from root to tip; ``params`` the proportions used, in modules."""
 
-    form: str
-    role: str
+    form: str  # one of engine.train.TOOTH_FORMS
+    role: str  # "wheel", "pinion" or "ring"
     teeth: int
     module_mm: float
     pitch_radius_mm: float

@@ -204,9 +204,6 @@ class Train:
         return (f"Train({self.name!r} from {self.source}, {len(self.arbors)} arbors, "
                 f"{len(self.meshes)} meshes, pointers: {', '.join(self.pointers)})")
 
-    def arbor_of(self, wheel: str) -> Arbor:
-        return self.arbors[self.wheels[wheel].arbor]
-
     def mount_chain(self, arbor: str) -> list[str]:
         """The arbor, its carrier, that carrier's carrier... down to (excluding) the frame."""
         chain = []
