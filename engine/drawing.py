@@ -4,7 +4,7 @@
 in ``[workshop.wheels.NAME]``, else the train's ``tooth_form``), its role in its meshes (in the
 cycloidal form the smaller of two meshing wheels is cut as a pinion), its bore and crossings,
 and returns :class:`Part` drawings — closed outlines and circles on named layers, in mm, centred
-on the wheel's axis. :func:`plate_parts` draws the plates placed by :mod:`engine.plate`;
+on the wheel's axis. :func:`plate_part` draws a plate placed by :mod:`engine.plate`;
 :func:`layout_sheet` lays every part on one sheet without overlaps. :func:`to_svg` and
 :func:`to_dxf` write a drawing (SVG for inspection and laser cutters, DXF for CNC and CAD, both
 in millimetres). Nothing here touches the disk.

@@ -41,9 +41,11 @@ uses the Danjon enlargement of the Earth's shadow; each is tied to its full moon
 
 Predictions
 -----------
-See :func:`pointer_predictions` (a node hand, draconic or eclipse-year dial read at the
-syzygies a phase hand shows) and :class:`CycleDial` (a dial turning once per N lunations with
-marks for the months that bear eclipses).
+:func:`check` compares them with the real ones, in one of two ways (:func:`methods`):
+"pointers" — a node hand, draconic or eclipse-year dial read at the syzygies a phase hand
+shows (:func:`shown_syzygies`, :func:`node_distance`); "cycle" — an eclipse-cycle dial
+turning once per N lunations, with marks for the months that bear eclipses
+(:func:`cycle_position`, :func:`derive_marks`).
 """
 
 from __future__ import annotations
