@@ -112,6 +112,12 @@ def involute_half_angle(radius_mm, teeth: int, module_mm: float,
     return math.pi / (2.0 * teeth) + involute_function(alpha) - involute_function(a_rho)
 
 
+#: how far a drawn outline may stand from the tooth form it follows: a thousandth of a
+#: millimetre, well under what a wheel-cutting engine, a laser or a CNC mill holds (common
+#: practice, no source)
+OUTLINE_TOLERANCE_MM = 0.001
+
+
 @dataclass(frozen=True)
 class ToothForm:
     """One wheel's teeth. Radii in mm; ``flank`` is an (N, 2) array of (radius_mm,
@@ -139,38 +145,70 @@ class ToothForm:
         return 2.0 * self.pitch_radius_mm * float(np.interp(self.pitch_radius_mm, rho[order],
                                                               eta[order]))
 
-    def outline(self, arc_step_rad: float = math.radians(2.0)) -> np.ndarray:
+    def outline(self, arc_step_rad: float = math.radians(2.0),
+                tolerance_mm: float = OUTLINE_TOLERANCE_MM) -> np.ndarray:
         """The closed outline of the whole wheel, (M, 2) x, y in mm, tooth 0 on the +x axis.
 
         Tip and root arcs are drawn as points at most ``arc_step_rad`` apart; the first point
-        is not repeated at the end.
+        is not repeated at the end. One tooth's points are thinned to those the outline needs
+        to stay within ``tolerance_mm`` of the finely sampled form (:func:`thin`), and every
+        tooth is that one turned.
         """
         rho, eta = self.flank[:, 0], self.flank[:, 1]
         step = self.pitch_angle
         tip_gap = eta[-1]  # half the land on top of the tooth
         root_gap = step / 2.0 - eta[0]  # half the space at the root
-        pieces = []
-        for k in range(self.teeth):
-            c = k * step
-            right = c - eta  # root → tip, right-hand flank
-            left = (c + eta)[::-1]  # tip → root
-            parts = [np.column_stack([rho, right])]
-            n_tip = max(int(math.ceil(2 * tip_gap / arc_step_rad)), 1)
-            if tip_gap > 1e-12:
-                a = np.linspace(c - tip_gap, c + tip_gap, n_tip + 1)[1:-1]
-                parts.append(np.column_stack([np.full_like(a, rho[-1]), a]))
-            parts.append(np.column_stack([rho[::-1], left]))
-            n_root = max(int(math.ceil(2 * root_gap / arc_step_rad)), 1)
-            if root_gap > 1e-12:
-                a = np.linspace(c + eta[0], c + step - eta[0], n_root + 1)[1:-1]
-                parts.append(np.column_stack([np.full_like(a, rho[0]), a]))
-            pieces.extend(parts)
-        polar = np.concatenate(pieces)
-        xy = np.column_stack([polar[:, 0] * np.cos(polar[:, 1]),
-                              polar[:, 0] * np.sin(polar[:, 1])])
+        parts = [np.column_stack([rho, -eta])]  # root → tip, right-hand flank
+        n_tip = max(int(math.ceil(2 * tip_gap / arc_step_rad)), 1)
+        if tip_gap > 1e-12:
+            a = np.linspace(-tip_gap, tip_gap, n_tip + 1)[1:-1]
+            parts.append(np.column_stack([np.full_like(a, rho[-1]), a]))
+        parts.append(np.column_stack([rho[::-1], eta[::-1]]))  # tip → root
+        n_root = max(int(math.ceil(2 * root_gap / arc_step_rad)), 1)
+        if root_gap > 1e-12:
+            a = np.linspace(eta[0], step - eta[0], n_root + 1)[1:-1]
+            parts.append(np.column_stack([np.full_like(a, rho[0]), a]))
+        tooth = np.concatenate(parts)  # (radius, angle) of tooth 0, up to the next one
+        xy = np.column_stack([tooth[:, 0] * np.cos(tooth[:, 1]),
+                              tooth[:, 0] * np.sin(tooth[:, 1])])
         keep = np.ones(len(xy), dtype=bool)  # drop repeated points where pieces meet
         keep[1:] = np.hypot(*(xy[1:] - xy[:-1]).T) > 1e-9
-        return xy[keep]
+        tooth, xy = tooth[keep], xy[keep]
+        nxt = [rho[0] * math.cos(step - eta[0]), rho[0] * math.sin(step - eta[0])]
+        if tolerance_mm > 0:  # judged up to the next tooth's first point
+            tooth = tooth[thin(np.vstack([xy, nxt]), tolerance_mm)[:-1]]
+        angles = (tooth[:, 1][None, :] + step * np.arange(self.teeth)[:, None]).ravel()
+        radii = np.tile(tooth[:, 0], self.teeth)
+        return np.column_stack([radii * np.cos(angles), radii * np.sin(angles)])
+
+
+def thin(points: np.ndarray, tolerance: float) -> np.ndarray:
+    """Which points of an open polyline (N, 2) to keep so that every dropped point lies
+    within ``tolerance`` of the line drawn through the kept ones (the first and last always
+    kept): a boolean mask. Each span is split at its point farthest from its chord until no
+    point is farther than ``tolerance``."""
+    n = len(points)
+    keep = np.zeros(n, dtype=bool)
+    keep[0] = keep[-1] = True
+    spans = [(0, n - 1)]
+    while spans:
+        i, j = spans.pop()
+        if j - i < 2:
+            continue
+        a, b = points[i], points[j]
+        d = b - a
+        inner = points[i + 1:j] - a
+        length = math.hypot(*d)
+        if length > 0:
+            dist = np.abs(d[0] * inner[:, 1] - d[1] * inner[:, 0]) / length
+        else:
+            dist = np.hypot(inner[:, 0], inner[:, 1])
+        k = int(np.argmax(dist))
+        if dist[k] > tolerance:
+            m = i + 1 + k
+            keep[m] = True
+            spans += [(i, m), (m, j)]
+    return keep
 
 
 # --- cycloidal -------------------------------------------------------------------------------

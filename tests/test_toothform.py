@@ -150,3 +150,50 @@ def test_outline_has_every_tooth():
                                  xy[r > t.tip_radius_mm - 1e-9, 0]))
         gaps = np.diff(np.concatenate([ang, [ang[0] + 2 * math.pi]]))
         assert (gaps > t.pitch_angle / 2).sum() == 45
+
+
+def _distance_to_polyline(points: np.ndarray, line: np.ndarray) -> np.ndarray:
+    """Each point's distance to the nearest segment of an open polyline."""
+    a, b = line[:-1], line[1:]
+    d = b - a
+    t = np.clip(((points[:, None, :] - a) * d).sum(-1) / np.maximum((d * d).sum(-1), 1e-30),
+                0.0, 1.0)
+    near = a + t[..., None] * d
+    return np.hypot(*(points[:, None, :] - near).transpose(2, 0, 1)).min(axis=1)
+
+
+@pytest.mark.parametrize("make", [lambda: cycloidal_wheel(133, 0.5, 25),
+                                  lambda: cycloidal_pinion(10, 0.5, 1.4),
+                                  lambda: involute_wheel(45, 0.5),
+                                  lambda: involute_wheel(12, 1.0)])
+def test_outline_keeps_only_the_points_it_needs(make):
+    """An outline thinned to within a micrometre of the finely sampled form: a 133-tooth wheel
+    once wrote some 100 points a tooth (13,000 in all, twice over with the sheet), which made
+    cutting files for a full train slow and large."""
+    from engine.toothform import OUTLINE_TOLERANCE_MM
+
+    t = make()
+    fine, xy = t.outline(tolerance_mm=0), t.outline()
+    assert len(xy) < 0.65 * len(fine)
+    per_tooth = len(xy) // t.teeth
+    # tooth 0 and the next tooth's first point: the fine points of tooth 0 lie within the
+    # tolerance of the thinned line (the same for every tooth: each is tooth 0 turned)
+    line = xy[:per_tooth + 1]
+    fine0 = fine[:len(fine) // t.teeth]
+    assert _distance_to_polyline(fine0, line).max() <= OUTLINE_TOLERANCE_MM + 1e-12
+    r = np.hypot(*xy.T)
+    assert r.max() == pytest.approx(t.tip_radius_mm, abs=1e-9)
+    assert r.min() == pytest.approx(t.root_radius_mm, abs=1e-9)
+
+
+def test_a_large_wheel_takes_a_third_of_the_points():
+    t = cycloidal_wheel(133, 0.5, 25)
+    assert len(t.outline()) <= 35 * 133 < len(t.outline(tolerance_mm=0)) / 2.5
+
+
+def test_thin_keeps_corners_and_drops_points_on_a_line():
+    from engine.toothform import thin
+
+    pts = np.array([[0, 0], [1, 0], [2, 0], [3, 0], [3, 1], [3, 2], [2.5, 2.0004]], float)
+    assert thin(pts, 0.001).tolist() == [True, False, False, True, False, True, True]
+    assert thin(pts, 0.0).sum() == 7 - 3  # points exactly on a chord go even at no tolerance
