@@ -1396,3 +1396,37 @@ async def test_footer_fits_at_every_width_and_shows_eclipse_keys_on_an_eclipse_t
         await pilot.press("x")  # in a narrow footer or not, the key works
         await pilot.pause()
         assert app.session.jd_now() > before
+
+
+@sync
+async def test_readings_and_status_rows_are_what_a_static_draws():
+    """Readings and Status repaint only the rows that changed; the rows they serve are those
+    Textual draws for the whole text at once (wrapped and cut the same way), after cranks,
+    a frame change, a narrow screen and a row too long for its width."""
+    from textual.visual import Visual
+    from textual.widgets import Static
+
+    def whole(widget) -> list:
+        w, h = widget.size
+        return Visual.to_strips(widget, widget.visual, w, h, widget.visual_style)
+
+    def served(widget) -> list:
+        return [widget.render_line(y) for y in range(widget.size.height)]
+
+    for size in ((160, 50), (80, 24)):
+        app = make_app()
+        async with app.run_test(size=size) as pilot:
+            for keys in ((), ("right",), ("up", "t"), ("right_square_bracket", "o")):
+                await pilot.press(*keys)
+                await pilot.pause()
+                for widget in (app.screen.query_one(Readings), app.screen.query_one(Status)):
+                    rows = whole(widget)
+                    assert served(widget)[:len(rows)] == rows, (size, keys, type(widget))
+            readings = app.screen.query_one(Readings)
+            assert isinstance(readings, Static)
+            long = readings.content.copy()
+            long.append("\n" + "9" * (readings.size.width * 2 + 3), style="bold")
+            readings.put_text(long)
+            await pilot.pause()
+            assert served(readings) == whole(readings)
+            assert readings.size.height == len(whole(readings))  # laid out again: taller

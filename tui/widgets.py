@@ -13,6 +13,7 @@ from rich.text import Text
 from textual.geometry import Region, Size
 from textual.message import Message
 from textual.strip import Strip
+from textual.visual import Visual
 from textual.widget import Widget
 from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
@@ -857,12 +858,76 @@ class PhaseDiscs(Widget):
         return Strip.blank(self.size.width, self.rich_style)
 
 
+class RowStatic(Static):
+    """A Static showing a rich Text that changes a few rows at a time (a crank changes the
+    date but not the frame or observer): it repaints only the rows whose text changed.
+
+    The text is rendered as Textual renders a Static's content (so a long line wraps or is
+    cut by the widget's styles as before), and its rows compared with those shown: only the
+    rows that differ are repainted, which saves the screen's work on every row that stayed
+    (tests/test_tui.py checks the rows are those of a Static). ``content`` is always the
+    whole text, as :meth:`update` leaves it."""
+
+    _rows: list[Strip] | None = None
+    _rows_width = 0
+    _holding = False
+
+    def notify_style_update(self) -> None:
+        super().notify_style_update()
+        self._rows = None
+
+    def refresh(self, *regions: Region, **kwargs) -> RowStatic:
+        if self._holding:  # put_text asks for the rows that changed itself
+            return self
+        return super().refresh(*regions, **kwargs)
+
+    def _render_rows(self, width: int) -> list[Strip]:
+        """The rows of the whole text, as :meth:`textual.widget.Widget.render_line` makes
+        them."""
+        return Visual.to_strips(self, self.visual, width, None, self.visual_style)
+
+    def put_text(self, text: Text, layout: bool = False) -> None:
+        """Show ``text``; lay the screen out again when ``layout`` (the height may change)."""
+        width = self.size.width
+        old = self._rows
+        if layout or old is None or width != self._rows_width or self.text_selection:
+            self._rows = None
+            self.update(text, layout=layout)
+            return
+        self._holding = True
+        try:
+            self.update(text, layout=False)
+        finally:
+            self._holding = False
+        rows = self._render_rows(width)
+        self._rows = rows
+        if len(rows) != len(old):  # a line began or stopped wrapping: the height changes
+            self.refresh(layout=True)
+            return
+        changed = [Region(0, y, width, 1) for y, (a, b) in enumerate(zip(old, rows, strict=True))
+                   if a is not b and a != b]
+        if changed:
+            self.refresh(*changed)
+
+    def render_line(self, y: int) -> Strip:
+        content = self.content
+        width = self.size.width
+        if not isinstance(content, Text) or self.text_selection or not width:
+            return super().render_line(y)
+        if self._rows is None or self._rows_width != width:
+            self._rows = self._render_rows(width)
+            self._rows_width = width
+        if y < len(self._rows):
+            return self._rows[y]
+        return Strip.blank(width, self.visual_style.rich_style)
+
+
 def _err_style(err: float, colours: dict[str, str]) -> str:
     a = abs(err)
     return colours["ok"] if a < 1.0 else (colours["warn"] if a < 5.0 else f"bold {colours['bad']}")
 
 
-class Readings(Static):
+class Readings(RowStatic):
     """Per pointer: train, sky, error now, worst error since the start or the last change of
     frame, observer or pointer setting, and the mean drift per century in the current frame."""
 
@@ -943,7 +1008,7 @@ class Readings(Static):
         lines = sum(-(-max(len(line), 1) // width) for line in t.plain.split("\n"))
         relayout = not self._laid_out or lines != self._lines
         self._lines = lines
-        self.update(t, layout=relayout)
+        self.put_text(t, layout=relayout)
         self._laid_out = bool(self.size.width)
 
     _lines = 0
@@ -958,7 +1023,7 @@ def _fit(width: int, indent: int, *choices: tuple[str, ...]) -> tuple[str, ...]:
     return choices[-1]
 
 
-class Status(Static):
+class Status(RowStatic):
     """Date, crank turns, ΔT, ephemeris and span, frame and observer, step and speed."""
 
     def __init__(self, session: Session, **kwargs):
@@ -1039,7 +1104,7 @@ class Status(Static):
         if lines != getattr(self, "_lines", lines):
             self._laid_out = False  # the date folded or unfolded: the height changes
         self._lines = lines
-        self.update(t, layout=not self._laid_out)
+        self.put_text(t, layout=not self._laid_out)
         self._laid_out = bool(self.size.width)
 
 
