@@ -427,7 +427,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     site = Site.parse(args.site) if args.site else None  # checked by the option's type
     mech, sky, start, end = support.open_span(args)
     try:
-        grid(start, end, step, include_end=True)
+        n = grid(start, end, step, include_end=True)  # dates, the end covered
     except DriftError as exc:  # step longer than the span, too many dates
         _usage_error(args, str(exc))
     thresholds = {}
@@ -437,7 +437,6 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         else:
             thresholds[name] = args.threshold
 
-    n = grid(start, end, step, include_end=True)
     if csv_out:
         csv_out.note_size(csv_bytes(mech, n), err)
     sink = _CsvSink(csv_out, mech, start, start + (n - 1) * step) if csv_out else None
