@@ -36,7 +36,7 @@ from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 
-from .screens import ClosesOnce, Dialog, HelpScreen
+from .screens import _GEDIT, ClosesOnce, Dialog, HelpScreen
 from .session import recent_files, remember  # files opened or saved, kept across runs
 from .widgets import CAUTION, Readings
 
@@ -172,8 +172,8 @@ class PartsScreen(ClosesOnce, Screen):
 
     BINDINGS = [
         Binding("escape", "back", "bench"),
-        Binding("ctrl+z", "undo_edit", "undo change"),
-        Binding("ctrl+y", "redo_edit", "redo change"),
+        Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT),
+        Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT),
         Binding("ctrl+s", "save", "save…"),
         Binding("ctrl+f", "find_teeth", "find teeth…"),
         Binding("f1", "help", "help"),
