@@ -1027,6 +1027,23 @@ async def test_sky_dial_marks_each_planet_and_keys_them():
         assert CAUTION in text_of(app.screen.query_one("#caution"))
 
 
+def test_palette_private_methods_still_there():
+    """tui/app.py's Palette overrides private methods of Textual's command palette
+    (PALETTE_INTERNALS); if a release drops or renames one, the override would silently do
+    nothing: this fails here instead."""
+    import inspect
+
+    from textual.command import CommandPalette
+
+    from tui.app import PALETTE_INTERNALS, Palette
+
+    for name in PALETTE_INTERNALS:
+        assert callable(getattr(CommandPalette, name, None)), f"CommandPalette has no {name}"
+        assert name in vars(Palette)  # and the palette's override is the one listed
+        ours, theirs = getattr(Palette, name), getattr(CommandPalette, name)
+        assert inspect.iscoroutinefunction(ours) == inspect.iscoroutinefunction(theirs), name
+
+
 def test_canvas_private_internals_still_there():
     """tui/widgets.py reaches the hi-res canvas's private rows in one function, canvas_rows
     (CANVAS_INTERNALS); if a release of the library drops, renames or stops drawing from them,
