@@ -1447,3 +1447,37 @@ async def test_readings_and_status_rows_are_what_a_static_draws():
             await pilot.pause()
             assert served(readings) == whole(readings)
             assert readings.size.height == len(whole(readings))  # laid out again: taller
+
+
+@sync
+async def test_train_drawing_redrawn_in_a_new_theme():
+    """A theme picked from the palette draws the train again: no rows kept in the old theme's
+    background, hands and labels readable on the new one (contrast 3 at least; common
+    practice, no source)."""
+    from textual.color import Color
+
+    from tui.widgets import TrainView
+
+    app = make_app()
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.press("right")
+        await pilot.pause()
+        view = app.screen.query_one(TrainView)
+        for y in range(view.size.height):  # rows drawn (and kept) in the dark theme
+            view.render_line(y)
+        app.theme = "textual-light"
+        await pilot.pause()
+        await pilot.pause()
+        bg = Color.parse(app.theme_variables["background"])
+        want = view.rich_style.bgcolor
+        for y in range(view.size.height):
+            for seg in view.render_line(y):
+                if seg.style is not None and seg.style.bgcolor is not None:
+                    assert seg.style.bgcolor == want, (y, seg)
+        chars, styles = canvas_rows(view)
+        hands = {st for row, srow in zip(chars, styles, strict=True)
+                 for ch, st in zip(row, srow, strict=True) if st.startswith("bold #")}
+        labels = {srow[x] for row, srow in zip(chars, styles, strict=True)
+                  for x, ch in enumerate(row) if ch.isalpha()}
+        for st in hands | labels:
+            assert _contrast(Color.parse(st.replace("bold ", "")), bg) >= 3.0, st

@@ -208,6 +208,10 @@ class LayeredCanvas(Canvas):
         event.stop()
         self.redraw()
 
+    def on_mount(self) -> None:
+        # rows are drawn (and kept) in the theme's colours: a new theme draws them again
+        self.app.theme_changed_signal.subscribe(self, lambda _theme: self.redraw())
+
     def redraw(self) -> None:
         """Draw both layers again (a new size, or a new theme for a canvas whose colours
         come from it)."""
@@ -372,9 +376,6 @@ class SkyDial(LayeredCanvas):
         #: the ring, graduation, sign-name and hub colours of the theme the dial was drawn in
         self.colours: dict[str, str] = DIAL_FIXED
 
-    def on_mount(self) -> None:
-        self.app.theme_changed_signal.subscribe(self, lambda _theme: self.redraw())
-
     @staticmethod
     def key_text(kinds) -> Text:
         """The key under the dial; a second line for the node and perigee the train shows."""
@@ -538,6 +539,7 @@ class TrainView(LayeredCanvas):
         # per arbor: its name label's first and last cell + 1, its row, its column's edges
         self._labels: dict[str, tuple[int, int, float, float, float]] = {}
         self._hands = {p.arbor for p in session.mech.train.pointers.values()}
+        self._label_style, self._hand_style = LABEL, "bold #e6e6e6"  # till drawn in a theme
 
     def draw_static(self) -> None:
         w, h = self.grid_size
@@ -563,8 +565,10 @@ class TrainView(LayeredCanvas):
                                                        else WHEEL)
             self.dots(pts, style=style)
         self._labels = {}
+        c = dial_colours(self)  # labels and hands readable in the theme
+        self._label_style, self._hand_style = c["sign"], f"bold {c['hub']}"
         for name, p in self._places.items():
-            self.put(p.label_x, p.label_row, p.label, LABEL)
+            self.put(p.label_x, p.label_row, p.label, self._label_style)
             self._labels[name] = (p.label_x, p.label_x + len(p.label), p.label_row,
                                   p.col_left, p.col_right)
 
@@ -596,7 +600,8 @@ class TrainView(LayeredCanvas):
             return False
         chars, styles = self._static[0][row], self._static[1][row]
         for x in range(x0, x0 + width):
-            if styles[x] in DRAWN or (blank and chars[x] != " "):
+            if styles[x] in DRAWN or styles[x] == self._label_style or (blank
+                                                                        and chars[x] != " "):
                 return False
         return True
 
@@ -643,7 +648,7 @@ class TrainView(LayeredCanvas):
             a = now.angles_turns[name] * math.tau
             # angle 0 up, positive turning anticlockwise as seen from the dial side
             ex, ey = x - 0.9 * r * math.sin(a), y - 0.45 * r * math.cos(a)
-            self.line(x, y, ex, ey, style="bold #e6e6e6")
+            self.line(x, y, ex, ey, style=self._hand_style)
 
 
 _LIT_RGB = (0xF4, 0xEF, 0xD2)
