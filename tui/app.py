@@ -142,10 +142,14 @@ class WheelworkApp(App):
     def deliver_screenshot(self, filename: str | None = None, path: str | None = None,
                            time_format: str | None = None) -> str | None:
         """Save an SVG of the screen as a new file and say where it went (in a notice)."""
-        from textual._files import generate_datetime_filename
+        import re
+        from datetime import datetime
 
         folder = Path(path) if path else self._screenshot_folder()
-        name = filename or generate_datetime_filename(self.title, ".svg", time_format)
+        now = datetime.now()
+        stamp = now.isoformat() if time_format is None else now.strftime(time_format)
+        # the title and the time, with what no file system takes in a name made "_"
+        name = filename or re.sub(r'[\s<>:"/\\|?*.]', "_", f"{self.title} {stamp}") + ".svg"
         target = folder / name
         try:
             svg = self.export_screenshot()
