@@ -1,0 +1,55 @@
+"""Faults found by using the interface as a user would, each pinned by a Pilot test."""
+
+import asyncio
+import functools
+import shutil
+
+from textual.widgets import Footer, Input
+
+from engine.demos import demo_path
+from tui.app import make_app
+from tui.screens import BenchScreen
+
+
+def sync(fn):
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        asyncio.run(fn(*args, **kwargs))
+    return wrapper
+
+
+async def _change_sun_w1(pilot, app) -> None:
+    await pilot.press("w")
+    await pilot.pause()
+    box = app.screen.query_one("#parts-list")
+    labels = [str(box.get_option_at_index(i).prompt) for i in range(box.option_count)]
+    box.highlighted = next(i for i, t in enumerate(labels) if t.startswith("sun_w1"))
+    await pilot.pause()
+    value = app.screen.query_one("#parts-value", Input)
+    value.value = "60"
+    value.focus()
+    await pilot.press("enter")
+    await pilot.pause()
+    await pilot.press("escape")
+    await pilot.pause()
+
+
+@sync
+async def test_the_bench_footer_keeps_its_keys_after_a_change_and_an_undo(tmp_path):
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await _change_sun_w1(pilot, app)
+        assert isinstance(app.screen, BenchScreen)
+        for key in ("ctrl+z", "ctrl+y"):
+            await pilot.press(key)
+            await pilot.pause()
+            await pilot.pause()
+            footer = app.screen.query_one(Footer)
+            # at 80 columns the footer keeps its main keys and leaves the palette key out
+            assert not footer.show_command_palette
+            shown = {a.binding.action for a in app.screen.active_bindings.values()}
+            assert "help" in shown
+            assert len(footer.children) > 5, f"footer empty after {key}"
