@@ -53,3 +53,30 @@ async def test_the_bench_footer_keeps_its_keys_after_a_change_and_an_undo(tmp_pa
             shown = {a.binding.action for a in app.screen.active_bindings.values()}
             assert "help" in shown
             assert len(footer.children) > 5, f"footer empty after {key}"
+
+
+def _title(app) -> str:
+    return str(app.screen.query_one("#title").render())
+
+
+@sync
+async def test_the_bench_title_fits_80_columns_and_names_the_file_saved(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        assert "ctrl+p every key" in _title(app)
+        await _change_sun_w1(pilot, app)
+        title = _title(app)
+        assert "changed, not saved" in title and len(title) <= 78, title
+        assert title.rstrip().endswith("? help"), title  # the hint shortened, not cut
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await pilot.press("enter")  # the new name offered
+        await pilot.pause()
+        await pilot.pause()
+        assert (tmp_path / "tide_office-edited.toml").exists()
+        title = _title(app)
+        assert "tide_office-edited.toml" in title and "changed" not in title, title

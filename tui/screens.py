@@ -225,6 +225,8 @@ class BenchScreen(Screen):
 
     def on_resize(self) -> None:
         width = self.size.width
+        if self.query("#title"):
+            self.query_one("#title", Static).update(self._title_text(width))
         tier = sum(width >= w for w in {100, FOOTER_PALETTE_FROM_WIDTH,
                                        *self.footer_from_width.values()})
         if tier != self._footer_tier:
@@ -232,15 +234,31 @@ class BenchScreen(Screen):
             self.query_one(Footer).show_command_palette = width >= FOOTER_PALETTE_FROM_WIDTH
             self.refresh_bindings()
 
+    def _title_text(self, width: int) -> Text:
+        """The title line: the train, its file (the one last saved or opened), the changed
+        marker, and as much of the keys hint as fits the width (never cut mid-word)."""
+        from .editing import title_mark
+
+        s = self.session
+        train = s.mech.train
+        ed = s.editor
+        if ed is None:
+            name = Path(train.source).name
+        else:
+            name = ed.path.name if ed.path else "new train, not saved yet"
+        title = Text.assemble(("wheelwork ", "bold"), (train.name, "bold"), (f"  {name}", "dim"),
+                              title_mark(s))
+        for hint in ("? help · ctrl+p every key", "? help"):
+            if title.cell_len + 3 + len(hint) <= width - 2:  # the line's padding
+                title.append_text(Text.assemble(("   ", ""), (hint, "dim")))
+                break
+        return title
+
     def compose(self) -> ComposeResult:
         s = self.session
         train = s.mech.train
-        from .editing import title_mark
 
-        yield Static(Text.assemble(("wheelwork ", "bold"), (train.name, "bold"),
-                                   (f"  {Path(train.source).name}", "dim"), title_mark(s),
-                                   ("   ", ""), ("? help · ctrl+p every key", "dim")),
-                     id="title")
+        yield Static(self._title_text(self.size.width or self.app.size.width), id="title")
         with Horizontal(id="top"):
             with Vertical(id="dial-pane"):
                 if self.phase_only:  # nothing for the dial: the phase discs take its place
