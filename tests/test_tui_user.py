@@ -80,3 +80,23 @@ async def test_the_bench_title_fits_80_columns_and_names_the_file_saved(tmp_path
         assert (tmp_path / "tide_office-edited.toml").exists()
         title = _title(app)
         assert "tide_office-edited.toml" in title and "changed" not in title, title
+
+
+@sync
+async def test_the_phase_name_under_the_discs_is_never_cut_at_80_columns():
+    from tui.widgets import PhaseDiscs
+
+    app = make_app(demo_path("moon_disc_59"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("g")
+        await pilot.pause()
+        app.screen.query_one("#date-input").value = "2026-11-15 07:48"
+        await pilot.press("enter")
+        await pilot.pause()
+        discs = app.screen.query_one(PhaseDiscs)
+        lines = [discs.render_line(y).text for y in range(discs.size.height)]
+        # the true Moon's phase that evening, named in full (checked against the sky reading)
+        name = app.session.now().sky.phase_names()[0]
+        assert name == "waxing crescent"
+        assert any(name in line for line in lines), lines
+        assert all(len(line) <= discs.size.width for line in lines)

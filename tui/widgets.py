@@ -759,6 +759,15 @@ def _disc_caption(elongation_deg: float, lit: float, width: int) -> str:
     return f"{e} {pc}"
 
 
+def _under_discs(left: str, right: str, width: int) -> str:
+    """One line under the two discs: each text centred under its disc when it fits there,
+    else the left one flush left and the right one flush right across the whole line (a
+    phase name such as "waxing crescent" is never cut to the disc's width)."""
+    if len(left) <= width and len(right) <= width:
+        return f"{left:^{width}}   {right:^{width}}"
+    return f"{left} {right:>{2 * width + 2 - len(left)}}"
+
+
 class PhaseDiscs(Widget):
     """The train's phase display beside the true Moon, each a shaded disc with its elongation
     and lit fraction. Drawn line by line; rebuilt only when what it shows changes."""
@@ -841,10 +850,8 @@ class PhaseDiscs(Widget):
             strips.append(Strip(segs).simplify())
         bold = self._style(None, None, True)
         dim = self._style("#7f8c99", None)
-        for text, st in ((f"{label:^{width}.{width}}   {'true Moon':^{width}.{width}}", bold),
-                         (f"{t1:^{width}.{width}}   {t2:^{width}.{width}}", plain),
-                         (f"{'':^{width}}   {name:^{width}.{width}}", dim)):
-            strips.append(Strip([Segment(text, st)]))
+        for (a, b), st in (((label, "true Moon"), bold), ((t1, t2), plain), (("", name), dim)):
+            strips.append(Strip([Segment(_under_discs(a, b, width), st)]))
         old, self._strips = self._strips, strips
         # repaint only the rows that changed (the true Moon's disc often stays as it was)
         if len(old) != len(strips) or not self.size.width:
