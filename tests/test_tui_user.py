@@ -100,3 +100,51 @@ async def test_the_phase_name_under_the_discs_is_never_cut_at_80_columns():
         assert name == "waxing crescent"
         assert any(name in line for line in lines), lines
         assert all(len(line) <= discs.size.width for line in lines)
+
+
+@sync
+async def test_quit_with_changes_not_saved_asks_first(tmp_path):
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause()
+        await _change_sun_w1(pilot, app)
+        await pilot.press("q")
+        await pilot.pause()
+        assert app.is_running and isinstance(app.screen, BenchScreen)
+        assert any("not saved" in n.message for n in app._notifications)
+        await pilot.press("q")  # the second q quits, without saving
+        await pilot.pause()
+    assert app.return_code == 0
+    assert "sun_w1 = 59" in path.read_text()
+
+
+@sync
+async def test_opening_another_train_over_changes_not_saved_asks_first(tmp_path, monkeypatch):
+    from textual.widgets import DirectoryTree
+
+    from tui.editing import OpenScreen
+
+    monkeypatch.chdir(tmp_path)
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    other = tmp_path / "moon.toml"
+    shutil.copy(demo_path("moon_disc_59"), other)
+    app = make_app(path)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause()
+        await _change_sun_w1(pilot, app)
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        tree = app.screen.query_one(DirectoryTree)
+        tree.post_message(DirectoryTree.FileSelected(tree.root, other))
+        await pilot.pause()
+        assert isinstance(app.screen, OpenScreen)
+        assert "not saved" in str(app.screen.query_one("#open-error").render())
+        assert app.session.editor.path == path and app.session.editor.differs
+        tree.post_message(DirectoryTree.FileSelected(tree.root, other))  # again: open it
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert app.session.editor.path == other

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from functools import partial
 from itertools import count
 from pathlib import Path
@@ -111,6 +112,22 @@ class WheelworkApp(App):
         if len(self.screen_stack) <= 1:
             return AwaitComplete.nothing()
         return super().pop_screen()
+
+    #: when a first quit was refused because the train has changes not saved
+    _quit_asked: float | None = None
+
+    async def action_quit(self) -> None:
+        """Quit; while the train has changes not saved, the first q only says so and a second
+        one (within half a minute) quits without saving."""
+        editor = self.session.editor
+        now = time.monotonic()
+        if (editor is not None and editor.differs
+                and (self._quit_asked is None or now - self._quit_asked > 30)):
+            self._quit_asked = now
+            self.notify("the train has changes not saved: ctrl+s saves them; q again quits "
+                        "without saving", title="not saved", severity="warning", timeout=10)
+            return
+        await super().action_quit()
 
     def action_command_palette(self) -> None:
         if self.use_command_palette and not CommandPalette.is_open(self):

@@ -502,7 +502,7 @@ class OpenScreen(ClosesOnce, Screen):
         if is_dir:
             self._look_in(path.resolve())
         elif is_file:
-            self._open(lambda: TrainEditor.open(path, self.session.sky))
+            self._open(lambda: TrainEditor.open(path, self.session.sky), str(path))
         else:
             self._error(f"{path}: no such file or folder")
 
@@ -511,7 +511,16 @@ class OpenScreen(ClosesOnce, Screen):
         label.update(Text(message))
         label.set_class(bool(message), "-shown")
 
-    def _open(self, make) -> None:
+    #: the choice refused once because the train on the bench has changes not saved
+    _unsaved_asked: str | None = None
+
+    def _open(self, make, what: str) -> None:
+        old = self.session.editor
+        if old is not None and old.differs and self._unsaved_asked != what:
+            self._unsaved_asked = what
+            self._error("the train on the bench has changes not saved (ctrl+s there saves "
+                        "them): choose this again to open it anyway, losing them")
+            return
         try:
             editor = make()
         except WheelworkError as exc:
@@ -520,7 +529,6 @@ class OpenScreen(ClosesOnce, Screen):
         except OSError as exc:
             self._error(f"cannot read it: {exc.strerror or exc}")
             return
-        old = self.session.editor
         if old is not None:  # the primes the user cannot cut hold for the whole session
             editor.forbidden_primes = old.forbidden_primes
         self.session.editor = editor
@@ -535,17 +543,17 @@ class OpenScreen(ClosesOnce, Screen):
 
     @on(DirectoryTree.FileSelected, "#open-tree")
     def _file(self, event: DirectoryTree.FileSelected) -> None:
-        self._open(lambda: TrainEditor.open(event.path, self.session.sky))
+        self._open(lambda: TrainEditor.open(event.path, self.session.sky), str(event.path))
 
     @on(OptionList.OptionSelected, "#open-recent")
     def _recent(self, event: OptionList.OptionSelected) -> None:
         path = Path(event.option.id)
-        self._open(lambda: TrainEditor.open(path, self.session.sky))
+        self._open(lambda: TrainEditor.open(path, self.session.sky), str(path))
 
     @on(OptionList.OptionSelected, "#open-demos")
     def _demo(self, event: OptionList.OptionSelected) -> None:
         path = demo_path(event.option.id)
-        self._open(lambda: TrainEditor.new_from(path, self.session.sky))
+        self._open(lambda: TrainEditor.new_from(path, self.session.sky), f"demo {path}")
 
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(self.BINDINGS))
