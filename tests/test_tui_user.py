@@ -148,3 +148,31 @@ async def test_opening_another_train_over_changes_not_saved_asks_first(tmp_path,
         await pilot.pause()
         assert isinstance(app.screen, BenchScreen)
         assert app.session.editor.path == other
+
+
+@sync
+async def test_arrows_in_the_value_box_walk_the_parts_list(tmp_path):
+    from textual.widgets import OptionList
+
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        box = app.screen.query_one("#parts-value", Input)
+        assert app.focused is box  # the screen opens ready to type
+        parts = app.screen.query_one("#parts-list", OptionList)
+        assert parts.highlighted == 0
+        await pilot.press("down", "down", "down")
+        await pilot.pause()
+        assert parts.highlighted == 3 and app.focused is box
+        assert str(parts.get_option_at_index(3).prompt).startswith("sun_w1")
+        assert box.value == "59"
+        await pilot.press("up")
+        await pilot.pause()
+        assert parts.highlighted == 2
+        for _ in range(3):
+            await pilot.press("up")
+        await pilot.pause()
+        assert parts.highlighted == 0  # stops at the top

@@ -166,6 +166,19 @@ def apply_edit(editor: TrainEditor, key: tuple, value: str):
 
 
 # --- the parts screen ----------------------------------------------------------------------
+class PartValue(Input):
+    """The value box of the parts screen: ↑ ↓ pick the part above or below in the list, so
+    a user can walk the list and type without leaving the box."""
+
+    BINDINGS = [Binding("up", "part(-1)", "part above", show=False),
+                Binding("down", "part(1)", "part below", show=False)]
+
+    def action_part(self, step: int) -> None:
+        ol = self.screen.query_one("#parts-list", OptionList)
+        if ol.option_count:
+            ol.highlighted = min(max((ol.highlighted or 0) + step, 0), ol.option_count - 1)
+
+
 class PartsScreen(ClosesOnce, Screen):
     """Pick a wheel, pinion, pin-and-slot length or the crank; type the new value; the train
     is solved again at once and the ratio panel and readings answer."""
@@ -194,7 +207,7 @@ class PartsScreen(ClosesOnce, Screen):
                 yield OptionList(id="parts-list")
             with VerticalScroll(id="parts-side"):
                 yield Label("", id="parts-what")
-                yield Input(id="parts-value")
+                yield PartValue(id="parts-value")
                 with Horizontal(id="parts-primes-row"):
                     yield Label("primes you cannot cut: ", id="parts-primes-label")
                     yield Input(", ".join(map(str, self.editor.forbidden_primes)),
