@@ -176,3 +176,23 @@ async def test_arrows_in_the_value_box_walk_the_parts_list(tmp_path):
             await pilot.press("up")
         await pilot.pause()
         assert parts.highlighted == 0  # stops at the top
+
+
+@sync
+async def test_the_editing_screens_take_the_light_theme():
+    from textual.color import Color
+
+    app = make_app(demo_path("tide_office"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        app.theme = "textual-light"
+        await pilot.pause()
+        ground = Color.parse(app.current_theme.background)
+        for key in ("w", "ctrl+f"):  # the parts screen, then the tooth search over it
+            await pilot.press(key)
+            await pilot.pause()
+            assert app.screen.styles.background == ground, type(app.screen).__name__
+        await pilot.press("escape", "escape")
+        await pilot.pause()
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        assert app.screen.styles.background == ground, type(app.screen).__name__

@@ -38,7 +38,7 @@ from engine.errors import WheelworkError
 
 from .screens import _GEDIT, ClosesOnce, Dialog, HelpScreen
 from .session import recent_files, remember  # files opened or saved, kept across runs
-from .widgets import CAUTION, Readings
+from .widgets import CAUTION, Readings, ui
 
 #: the marker the title shows while the train differs from its file
 CHANGED_MARK = "◆ changed, not saved"
@@ -243,7 +243,7 @@ class PartsScreen(ClosesOnce, Screen):
                   if w != wheel]
         also = f"; also on it: {', '.join(others)} (↑ ↓ in the list)" if others else ""
         self.query_one("#parts-done", Label).update(
-            Text(f"picked in the drawing: arbor {arbor}{also}", style="#9aa5b1"))
+            Text(f"picked in the drawing: arbor {arbor}{also}", style=ui(self)["muted"]))
 
     def _fill_list(self, keep: int | None = None) -> None:
         ol = self.query_one("#parts-list", OptionList)
@@ -279,7 +279,7 @@ class PartsScreen(ClosesOnce, Screen):
         train = ed.mech.train
         name = ed.path.name if ed.path else "new train, not saved yet"
         self.query_one("#parts-title", Static).update(Text.assemble(
-            ("change the train  ", "bold #e5c07b"), (train.name, "bold"), (f"  {name}", "dim"),
+            ("change the train  ", f"bold {ui(self)['accent']}"), (train.name, "bold"), (f"  {name}", "dim"),
             title_mark(self.session)))
 
     def _show_all(self) -> None:
@@ -440,8 +440,7 @@ class OpenScreen(ClosesOnce, Screen):
         self.start = Path(start or Path.cwd())
 
     def compose(self) -> ComposeResult:
-        yield Static(Text("open a train, or start one from a demo", style="bold #e5c07b"),
-                     id="open-title")
+        yield Static(id="open-title")
         with Horizontal(id="open-top"):
             with Vertical(id="open-files"):
                 with Horizontal(id="open-where"):
@@ -456,6 +455,8 @@ class OpenScreen(ClosesOnce, Screen):
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
+        self.query_one("#open-title", Static).update(
+            Text("open a train, or start one from a demo", style=f"bold {ui(self)['accent']}"))
         self._folder_title()
         field = self.query_one("#open-path", Input)
         field.cursor_position = len(field.value)
@@ -637,7 +638,7 @@ class TeethScreen(ClosesOnce, Screen):
 
     def _title(self) -> None:
         self.query_one("#teeth-title", Static).update(Text.assemble(
-            ("find teeth for a pointer  ", "bold #e5c07b"),
+            ("find teeth for a pointer  ", f"bold {ui(self)['accent']}"),
             (self.editor.mech.train.name, "bold"), title_mark(self.session)))
 
     def _error(self, message: str) -> None:
@@ -671,18 +672,18 @@ class TeethScreen(ClosesOnce, Screen):
         t = Text()
         t.append(f"{chain.pointer}", style="bold")
         t.append(f" shows the {chain.target_name} ({chain.frame} dial)\n")
-        t.append("meshes searched: ", style="#9aa5b1")
+        t.append("meshes searched: ", style=ui(self)["muted"])
         t.append(" · ".join(f"{s.driver} {s.driver_teeth} → {s.driven} {s.driven_teeth}"
                             for s in chain.stages))
         if chain.kept:
-            t.append("\nkept as they are: ", style="#9aa5b1")
+            t.append("\nkept as they are: ", style=ui(self)["muted"])
             t.append(" · ".join(f"{s.driver_teeth}/{s.driven_teeth}" for s in chain.kept))
         if row is not None:
-            t.append("\nnow: ", style="#9aa5b1")
+            t.append("\nnow: ", style=ui(self)["muted"])
             t.append(f"{_ppm(row.after.period_error_ppm)} ppm, "
                      f"{_drift(row.after.drift_deg_per_century)} °/cy")
         if chain.also_moves:
-            t.append(f"\nalso moves: {', '.join(chain.also_moves)}", style="#e5c07b")
+            t.append(f"\nalso moves: {', '.join(chain.also_moves)}", style=ui(self)["accent"])
         box.update(t)
 
     def _clear_answers(self) -> None:
