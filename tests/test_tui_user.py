@@ -196,3 +196,12 @@ async def test_the_editing_screens_take_the_light_theme():
         await pilot.press("ctrl+o")
         await pilot.pause()
         assert app.screen.styles.background == ground, type(app.screen).__name__
+
+
+def test_the_ephemeris_span_in_years_keeps_every_digit_and_the_bc_year():
+    from tui.widgets import span_years
+
+    assert span_years("1899-07-30 to 2053-10-08") == "1899–2053"
+    # DE406's span, as engine.sky writes it (it was shown as "-300–3000" at 80 columns)
+    assert span_years("-3000-02-24 (3001 BC) to 3000-03-02") == "3001 BC–3000"
+    assert span_years("1549-12-21 to 2650-01-25") == "1549–2650"

@@ -759,6 +759,18 @@ def _disc_caption(elongation_deg: float, lit: float, width: int) -> str:
     return f"{e} {pc}"
 
 
+def span_years(span: str) -> str:
+    """An ephemeris span in years only: ``1899-07-30 to 2053-10-08`` → ``1899–2053``; a
+    start before year 1 keeps its BC year (``-3000-02-24 (3001 BC) to …`` → ``3001 BC–…``)."""
+    def year(day: str) -> str:
+        if "(" in day:
+            return day[day.index("(") + 1:day.index(")")]
+        return day.split(" ")[0].rsplit("-", 2)[0]
+
+    start, _, end = span.partition(" to ")
+    return f"{year(start)}–{year(end)}"
+
+
 def _under_discs(left: str, right: str, width: int) -> str:
     """One line under the two discs: each text centred under its disc when it fits there,
     else the left one flush left and the right one flush right across the whole line (a
@@ -1094,7 +1106,7 @@ class Status(RowStatic):
         t.append("sky      ", style="dim")
         span = s.sky.span_text
         if self.size.width and self.size.width < 46:  # years only
-            span = f"{span[:4]}–{span[-10:-6]}"
+            span = span_years(span)
         t.append(f"{s.sky.name}, {span}\n")
         t.append("frame    ", style="dim")
         t.append(FRAME_NAMES.get(now.frame, now.frame) + "\n")
