@@ -205,3 +205,21 @@ def test_the_ephemeris_span_in_years_keeps_every_digit_and_the_bc_year():
     # DE406's span, as engine.sky writes it (it was shown as "-300–3000" at 80 columns)
     assert span_years("-3000-02-24 (3001 BC) to 3000-03-02") == "3001 BC–3000"
     assert span_years("1549-12-21 to 2650-01-25") == "1549–2650"
+
+
+@sync
+async def test_the_parts_screen_prompt_wraps_at_80_columns():
+    from textual.widgets import Label
+
+    app = make_app(demo_path("tide_office"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        what = app.screen.query_one("#parts-what", Label)
+        prompt = str(what.render())
+        assert prompt.endswith("p/q):")  # the crank's prompt, whole
+        # every word of it is on screen: as many lines as it needs within the side pane
+        assert what.size.width <= app.screen.query_one("#parts-side").size.width
+        assert what.size.height * what.size.width >= len(prompt)
+        primes = app.screen.query_one("#parts-primes", Input)
+        assert len(primes.placeholder) <= primes.size.width

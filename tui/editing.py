@@ -211,7 +211,7 @@ class PartsScreen(ClosesOnce, Screen):
                 with Horizontal(id="parts-primes-row"):
                     yield Label("primes you cannot cut: ", id="parts-primes-label")
                     yield Input(", ".join(map(str, self.editor.forbidden_primes)),
-                                placeholder="none (e.g. 37, 41, 43)", id="parts-primes",
+                                placeholder="none, e.g. 37, 41", id="parts-primes",
                                 compact=True)
                 yield Label("", id="parts-error")
                 yield Label("", id="parts-done")
