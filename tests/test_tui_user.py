@@ -223,3 +223,16 @@ async def test_the_parts_screen_prompt_wraps_at_80_columns():
         assert what.size.height * what.size.width >= len(prompt)
         primes = app.screen.query_one("#parts-primes", Input)
         assert len(primes.placeholder) <= primes.size.width
+
+
+@sync
+async def test_the_parts_screen_footer_keeps_help_at_80_columns():
+    app = make_app(demo_path("tide_office"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.pause()
+        footer = app.screen.query_one(Footer)
+        assert not footer.show_command_palette
+        widths = sum(k.size.width for k in footer.children)
+        assert widths <= 80

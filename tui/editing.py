@@ -223,6 +223,8 @@ class PartsScreen(ClosesOnce, Screen):
 
     def on_resize(self) -> None:
         if self.is_mounted and self.query("#parts-compare"):
+            # the palette key would push "f1 help" off a narrow footer (ctrl+p still works)
+            self.query_one(Footer).show_command_palette = self.size.width >= 100
             self._show_all()
 
     def on_mount(self) -> None:
