@@ -236,3 +236,20 @@ async def test_the_parts_screen_footer_keeps_help_at_80_columns():
         assert not footer.show_command_palette
         widths = sum(k.size.width for k in footer.children)
         assert widths <= 80
+
+
+@sync
+async def test_backspacing_a_newly_picked_value_starts_from_its_end(tmp_path):
+    path = tmp_path / "moon.toml"
+    shutil.copy(demo_path("moon_disc_59"), path)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.press("down", "down")  # from the crank's "1" to the disc's 59 teeth
+        await pilot.pause()
+        box = app.screen.query_one("#parts-value", Input)
+        assert box.value == "59" and box.cursor_position == 2
+        await pilot.press("backspace", "backspace", "5", "8", "enter")
+        await pilot.pause()
+        assert any(t == 58 for w, _, t in app.session.editor.wheels() if w == "disc_teeth")

@@ -262,12 +262,19 @@ class PartsScreen(ClosesOnce, Screen):
     def _picked(self, event: OptionList.OptionHighlighted) -> None:
         self.key = self._parts[event.option_index][0]
         self.query_one("#parts-what", Label).update(prompt(self.key))
-        self.query_one("#parts-value", Input).value = current_value(self.editor, self.key)
+        self._value(current_value(self.editor, self.key))
         self._error("")
 
     @on(OptionList.OptionSelected, "#parts-list")
     def _chosen(self) -> None:
         self.query_one("#parts-value", Input).focus()
+
+    def _value(self, text: str) -> None:
+        """Show the picked part's value with the cursor at its end, ready to be typed over
+        (a cursor left where it stood in the previous value cut a backspace in the middle)."""
+        box = self.query_one("#parts-value", Input)
+        box.value = text
+        box.cursor_position = len(text)
 
     def _error(self, message: str) -> None:
         label = self.query_one("#parts-error", Label)
@@ -324,7 +331,7 @@ class PartsScreen(ClosesOnce, Screen):
         self._error("")
         index = self.query_one("#parts-list", OptionList).highlighted
         self._fill_list(keep=index)
-        self.query_one("#parts-value", Input).value = current_value(self.editor, self.key)
+        self._value(current_value(self.editor, self.key))
         done = "" if change is None else f"{verb}: {change.text()}"
         self.query_one("#parts-done", Label).update(Text(done))
         self._show_all()
