@@ -253,3 +253,39 @@ async def test_backspacing_a_newly_picked_value_starts_from_its_end(tmp_path):
         await pilot.press("backspace", "backspace", "5", "8", "enter")
         await pilot.pause()
         assert any(t == 58 for w, _, t in app.session.editor.wheels() if w == "disc_teeth")
+
+
+@sync
+async def test_saving_into_a_folder_uses_the_offered_name_and_a_name_must_end_in_toml(
+        tmp_path, monkeypatch):
+    from tui.editing import SaveDialog
+
+    monkeypatch.chdir(tmp_path)
+    path = tmp_path / "moon.toml"
+    shutil.copy(demo_path("moon_disc_59"), path)
+    folder = tmp_path / "kept"
+    folder.mkdir()
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.press("down", "down", "backspace", "backspace", "5", "8", "enter")
+        await pilot.pause()
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, SaveDialog)
+        box = app.screen.query_one("#save-input", Input)
+        box.value = str(tmp_path / "moon.txt")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, SaveDialog)
+        assert ".toml" in str(app.screen.query_one("#save-error").render())
+        assert not (tmp_path / "moon.txt").exists()
+        box.value = str(folder)
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.pause()
+    assert [p.name for p in folder.iterdir()] == ["moon-edited.toml"]
+    assert "disc_teeth = 58" in (folder / "moon-edited.toml").read_text()
+    assert not (tmp_path / "kept.toml").exists()

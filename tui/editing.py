@@ -404,8 +404,14 @@ class SaveDialog(Dialog):
             self.reject("give a file name")
             return
         path = Path(text).expanduser()
-        if path.suffix == "":
+        if path.is_dir():  # a folder: the name offered, in that folder
+            path = path / self.editor.suggested_name().name
+        elif path.suffix == "":
             path = path.with_suffix(".toml")
+        elif path.suffix != ".toml":
+            self.reject(f"{path}: a train file's name ends in .toml (the open screen lists "
+                        "only those)")
+            return
         replace = self._confirmed == path
         if not replace and path.exists() and path.is_file():
             self._confirmed = path
