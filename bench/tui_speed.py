@@ -42,6 +42,7 @@ import signal
 import statistics
 import struct
 import sys
+import tempfile
 import termios
 import threading
 import time
@@ -101,6 +102,9 @@ class Terminal:
             os.environ.update(TERM="xterm-256color", COLUMNS=str(cols), LINES=str(rows),
                               COLORTERM="truecolor")
             os.environ.pop("TEXTUAL", None)
+            # the app keeps recent trains in its config folder: give it one of its own,
+            # so a bench run leaves the user's list alone
+            os.environ["XDG_CONFIG_HOME"] = tempfile.mkdtemp(prefix="wheelwork-bench-")
             try:
                 os.execvp(argv[0], argv)
             finally:

@@ -542,3 +542,38 @@ def test_tooth_search_stops_on_escape(tmp_path, monkeypatch):
             assert not app.session.editor.can_undo
 
     run()
+
+
+@sync
+async def test_findings_are_worked_out_for_the_changed_train_when_the_bench_shows_them(tmp_path):
+    """An edit does not wait for the mechanical checks: they run once, for the new train, when
+    the bench shows its findings again."""
+    import tui.app as tui_app
+
+    calls = []
+    real = tui_app.engine_findings
+
+    def counted(mech):
+        calls.append(mech)
+        return real(mech)
+
+    path = copy_tide(tmp_path)
+    app = make_app(path)
+    app.session.findings_of = counted
+    async with app.run_test(size=SIZE) as pilot:
+        assert calls == [app.session.mech]  # the bench shows the train's findings
+        calls.clear()
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "sun_w1")
+        before = app.session.mech
+        box = app.screen.query_one("#parts-value", Input)
+        await type_value(pilot, app, str(int(box.value) + 1))
+        await type_value(pilot, app, str(int(box.value) + 1))
+        assert app.session.mech is not before
+        assert calls == []  # two edits, no checks yet
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        assert calls == [app.session.mech]  # once, for the train now on the bench
+        assert app.session.findings == real(app.session.mech)

@@ -192,7 +192,7 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
     else:
         where = site if isinstance(site, Site) else Site.parse(site)
         name = "site"
-    session = Session(mech, sky, site=where, site_name=name, findings=engine_findings(mech),
+    session = Session(mech, sky, site=where, site_name=name, findings_of=engine_findings,
                       editor=editor)
     if train is not None:
         from .editing import remember

@@ -53,12 +53,9 @@ def title_mark(session) -> tuple[str, str]:
 
 
 def adopt(app, mech) -> None:
-    """Put ``mech`` on the bench at the date shown now, with the findings the engine gives."""
-    from .app import engine_findings
-
-    s = app.session
-    s.adopt(mech)
-    s.findings = engine_findings(mech)
+    """Put ``mech`` on the bench at the date shown now; the engine's findings for it are
+    worked out when the bench next shows them, not on every edit."""
+    app.session.adopt(mech)
 
 
 async def rebuild_bench(app) -> None:
@@ -249,10 +246,16 @@ class PartsScreen(ClosesOnce, Screen):
 
     def _fill_list(self, keep: int | None = None) -> None:
         ol = self.query_one("#parts-list", OptionList)
-        self._parts = parts(self.editor)
-        ol.clear_options()
-        ol.add_options([Option(Text(label), id=str(i)) for i, (_, label) in
-                        enumerate(self._parts)])
+        before, self._parts = getattr(self, "_parts", None), parts(self.editor)
+        if before is not None and [k for k, _ in before] == [k for k, _ in self._parts]:
+            # the same parts: change only the rows whose text changed (no new layout)
+            for i, ((_, old), (_, label)) in enumerate(zip(before, self._parts, strict=True)):
+                if old != label:
+                    ol.replace_option_prompt_at_index(i, Text(label))
+        else:
+            ol.clear_options()
+            ol.add_options([Option(Text(label), id=str(i)) for i, (_, label) in
+                            enumerate(self._parts)])
         index = keep
         if index is None:
             index = next((i for i, (k, _) in enumerate(self._parts) if k == self.key), 0)

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
 from pathlib import Path
@@ -171,7 +172,11 @@ class Session:
     frame: str = ""
     topocentric: bool = False
     speed_index: int | None = None  # None: default_speed_index(mech)
-    findings: list = field(default_factory=list)
+    #: what the engine finds wrong with a train (backwards pointers, mechanical checks), as
+    #: (level, item, message, fix); worked out for the train on the bench when first shown,
+    #: so an edit does not wait for checks only the bench shows
+    findings_of: Callable[[Mechanism], list] | None = None
+    _findings: list | None = None
     #: the ratio report's mean drift (°/cy) per pointer, by frame; filled on first use
     drift_by_frame: dict[str, dict[str, float]] = field(default_factory=dict)
     #: largest |error| per pointer since the start or the last change of frame, observer or
@@ -191,6 +196,17 @@ class Session:
             self.speed_index = default_speed_index(self.mech)
         self._last_sky = _LastSky(self.sky)
 
+    @property
+    def findings(self) -> list:
+        """The engine's findings for the train on the bench (worked out once per train)."""
+        if self._findings is None:
+            self._findings = [] if self.findings_of is None else self.findings_of(self.mech)
+        return self._findings
+
+    @findings.setter
+    def findings(self, items: list) -> None:
+        self._findings = list(items)
+
     def drift_per_century(self, frame: str | None = None) -> dict[str, float]:
         """Mean drift per pointer (degrees per Julian century) judged in ``frame`` (default:
         the current one), from :func:`engine.ratios.pointer_ratios`; computed once per frame."""
@@ -207,6 +223,7 @@ class Session:
         jd = self.jd_now()
         self.mech = mech
         self.frame = self.frame or mech.train.dial
+        self._findings = None  # found again when next shown
         self.drift_by_frame = {}
         self.worst_deg = {}
         self._undo.clear()
