@@ -79,14 +79,14 @@ from .fitting import (
     unwrap_deg,
     wrap_deg,
 )
-from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, sky_at, true_value
+from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, days_rate, sky_at, true_value
 from .kinematics import pin_slot_lead_turns
-from .periods import JULIAN_CENTURY_DAYS, PERIODS
+from .periods import JULIAN_CENTURY_DAYS
 
 if TYPE_CHECKING:
     from .sky import Site
 
-PHASE_DEG_PER_DAY = PERIODS["synodic_month"].deg_per_day  # mean daily gain of elongation
+PHASE_DEG_PER_DAY = days_rate("phase")  # mean daily gain of elongation
 MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, name a step
 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
@@ -165,7 +165,8 @@ def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None,
         train = np.reshape(reading[name], jd.shape)
         true = np.reshape(true_value(p.shows, state), jd.shape)
         err = wrap_deg(train - true)
-        days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
+        rate = days_rate(p.shows)
+        days = err / rate if rate else None
         effect = np.reshape(delta_t_effect_deg(p.shows, state.delta_t_sigma_s, frame), jd.shape)
         out[name] = ErrorNow(name, p.shows, train, true, err, days, effect)
     return out
@@ -420,8 +421,8 @@ class _Running:
         offset, rms_after = best_offset(self.error)
         thr = self.threshold
         extra = {}
-        if shows == "phase":
-            g = PHASE_DEG_PER_DAY
+        g = days_rate(shows)
+        if g:
             extra = {"max_abs_days": self.max_abs / g, "rms_days": math.sqrt(self.sum_sq / n) / g,
                      "threshold_days": None if thr is None else thr / g}
         return PointerSummary(
@@ -592,7 +593,8 @@ class _Chunks:
                     self.train_keep[name][i0:i0 + len(k)] = reading
                     self.sky_keep[name][i0:i0 + len(k)] = true
                 if want_errors:
-                    days = err / PHASE_DEG_PER_DAY if p.shows == "phase" else None
+                    rate = days_rate(p.shows)
+                    days = err / rate if rate else None
                     errors[name] = ErrorNow(name, p.shows, reading, true, err, days,
                                             delta_t_effect_deg(p.shows, sigma, self.frame))
         return errors
@@ -623,8 +625,8 @@ class _Chunks:
     def result(self, summaries: dict[str, PointerSummary], sky_name: str,
                timings: dict[str, float]) -> DriftResult:
         error = {name: r.error for name, r in self.runs.items()}
-        days = {name: error[name] / np.float32(PHASE_DEG_PER_DAY)
-                for name, p in self.pointers.items() if p.shows == "phase"}
+        days = {name: error[name] / np.float32(days_rate(p.shows))
+                for name, p in self.pointers.items() if days_rate(p.shows)}
         return DriftResult(jd=self.jd0 + np.arange(self.n) * self.step,
                            train_deg=self.train_keep, sky_deg=self.sky_keep, error_deg=error,
                            error_days=days, summaries=summaries, frame=self.frame,

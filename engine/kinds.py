@@ -18,7 +18,9 @@ the engine needs to know about what such a pointer shows:
   fitted with the drift line so a part swing is not read as drift;
 * ``nutates``: whether an equinox dial's true value carries the nutation in longitude;
 * ``bodies``: sky bodies beyond the Sun and Moon its true value needs (planet names, for
-  ``Sky.at(..., planets=...)``; see :func:`sky_at`).
+  ``Sky.at(..., planets=...)``; see :func:`sky_at`);
+* ``in_days``: whether its error is also given as time, days early or late at its mean rate
+  (the phase: a new moon shown a day late); see :func:`days_rate`.
 
 Frames: :data:`FRAMES` names each dial frame in plain words. The one frame change the engine
 makes by hand — a value of the equinox of date read on a star (J2000) dial — is
@@ -121,6 +123,7 @@ class PointerKind:
     swings: tuple[tuple[str, float], ...] = ()
     nutates: bool = False
     bodies: tuple[str, ...] = ()
+    in_days: bool = False
 
     def mean_period(self, frame: str) -> MeanPeriod:
         """The mean period a pointer of this kind should realise on a dial of ``frame``."""
@@ -153,7 +156,7 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
                 _both("synodic_month"), lambda s: s.elongation_deg, lambda m: m["phase"],
                 precesses=False,
                 swings=(*MOON_SWINGS, ("Sun's equation of centre, second harmonic",
-                                       _ANOM_YEAR / 2))),
+                                       _ANOM_YEAR / 2)), in_days=True),
     PointerKind("anomaly", "the Moon's anomaly: its longitude less the mean perigee's",
                 _both("anomalistic_month"), lambda s: _diff(s.moon_lon_deg, s.perigee_deg),
                 lambda m: m["anomaly"], precesses=False, swings=MOON_SWINGS, nutates=True),
@@ -253,6 +256,14 @@ def true_value(name: str, state) -> np.ndarray:
     """The true value (degrees 0-360, the state's frame) a pointer of kind ``name`` should show;
     ``KeyError`` for an unknown kind."""
     return KINDS[str(name).strip().lower()].true(state)
+
+
+def days_rate(name: str) -> float | None:
+    """Degrees a day by which an error of kind ``name`` is also read as days early or late
+    (its mean rate, the same on every dial); ``None`` for a kind read in degrees only, or a
+    series that is no pointer kind."""
+    row = KINDS.get(name)
+    return row.mean_period("equinox").deg_per_day if row is not None and row.in_days else None
 
 
 def mean_value(name: str, mean: dict, jd_tt, frame: str):

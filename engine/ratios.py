@@ -7,7 +7,7 @@ from collections import deque
 from dataclasses import asdict, dataclass, field
 from fractions import Fraction
 
-from .kinds import KINDS
+from .kinds import KINDS, days_rate
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
@@ -233,7 +233,7 @@ def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,
         train_deg_per_day = float(ratio / dpt) * 360.0
         err_ppm = (period - target_days) / target_days * 1e6 if ratio else float("inf")
         years = None
-        if p.shows == "phase" and ratio:
+        if days_rate(p.shows) and ratio:
             gain = abs(target_days / period - 1.0)
             years = (1.0 / gain / JULIAN_YEAR_DAYS) if gain else float("inf")
         wheels_seen: dict[str, ToothNote] = {}

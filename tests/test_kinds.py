@@ -137,7 +137,39 @@ def test_a_new_kind_is_a_row(monkeypatch, sky, tmp_path):
     res = drift_series(mech, sky, DriftRun(2451545.0, 2451545.0 + 400, 1.0),
                        RunControl(keep_series=False))
     assert res.summaries[name].max_abs_deg > 0
+    assert res.summaries[name].max_abs_days is None and name not in res.error_days
     assert "luna" not in kinds.bodies(["luna"])
+
+
+def test_an_error_in_days_is_a_column_of_the_row(monkeypatch, sky, tmp_path):
+    """Whether a kind's error is also given in days is the row's ``in_days``, not its name:
+    the phase's is, at the synodic month's rate; a renamed phase row with it keeps it, and
+    the phase row without it loses it, in drift's figures and in the drift command's CSV."""
+    from engine.commands.drift import csv_header
+    from engine.drift import DriftRun, RunControl, drift_series
+    from engine.loader import load_train
+    from engine.mechanism import build
+    from engine.periods import PERIODS
+
+    assert kinds.days_rate("phase") == pytest.approx(360.0 / PERIODS["synodic_month"].days)
+    assert kinds.days_rate("moon") is None
+    monkeypatch.setitem(KINDS, "lunation", replace(KINDS["phase"], key="lunation"))
+    text = (ROOT / "engine" / "trains" / "moon_disc_59.toml").read_text()
+    assert 'shows = "phase"' in text
+    path = tmp_path / "lunation.toml"
+    path.write_text(text.replace('shows = "phase"', 'shows = "lunation"'))
+    mech = build(load_train(path), sky)
+    name = next(n for n, p in mech.train.pointers.items() if p.shows == "lunation")
+    run = DriftRun(2451545.0, 2451545.0 + 400, 1.0)
+    res = drift_series(mech, sky, run, RunControl(keep_series=False))
+    s = res.summaries[name]
+    assert s.max_abs_days == pytest.approx(s.max_abs_deg / kinds.days_rate("phase"))
+    assert f"{name}_error_days" in csv_header(mech, 2451545.0, 2451945.0)
+    monkeypatch.setitem(KINDS, "lunation", replace(KINDS["phase"], key="lunation",
+                                                   in_days=False))
+    res = drift_series(mech, sky, run, RunControl(keep_series=False))
+    assert res.summaries[name].max_abs_days is None
+    assert f"{name}_error_days" not in csv_header(mech, 2451545.0, 2451945.0)
 
 
 def test_unknown_kind_in_a_train_names_the_known_ones(tmp_path):

@@ -126,10 +126,12 @@ def date_heading(first_jd: float, last_jd: float) -> str:
 
 
 def csv_header(mech, first_jd: float, last_jd: float) -> list[str]:
+    from ..kinds import days_rate
+
     head = [date_heading(first_jd, last_jd), "jd_ut"]
     for n, p in mech.train.pointers.items():
         head += [f"{n}_train_deg", f"{n}_sky_deg", f"{n}_error_deg"]
-        if p.shows == "phase":
+        if days_rate(p.shows):
             head.append(f"{n}_error_days")
     return head
 
@@ -148,10 +150,12 @@ class _CsvSink:
     swallow a Ctrl-C arriving while they run."""
 
     def __init__(self, out: support.OutputFile, mech, first_jd: float, last_jd: float):
+        from ..kinds import days_rate
+
         self.out = out
         self.fh = out.open("w", newline="", encoding="utf-8")
         self.names = list(mech.train.pointers)
-        self.phase = {n for n, p in mech.train.pointers.items() if p.shows == "phase"}
+        self.phase = {n for n, p in mech.train.pointers.items() if days_rate(p.shows)}
         head = csv_header(mech, first_jd, last_jd)
         self.row = "%s," + ",".join(["%.6f"] * (len(head) - 1)) + "\r\n"
         self._write(lambda: csv.writer(self.fh).writerow(head))
@@ -235,7 +239,7 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
     from ..dates import format_jd
-    from ..drift import PHASE_DEG_PER_DAY
+    from ..kinds import days_rate
 
     plt = _load_pyplot()
     names = list(result.summaries)
@@ -258,9 +262,10 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
                             color="tab:red")
         ax.set_ylabel(f"{name} error (°)")
         ax.set_title(f"{name} ({s.shows})", fontsize=9, loc="left")
-        if s.shows == "phase":
-            sec = ax.secondary_yaxis("right", functions=(lambda d: d / PHASE_DEG_PER_DAY,
-                                                         lambda d: d * PHASE_DEG_PER_DAY))
+        g = days_rate(s.shows)
+        if g:
+            sec = ax.secondary_yaxis("right", functions=(lambda d, g=g: d / g,
+                                                         lambda d, g=g: d * g))
             sec.set_ylabel("days")
     axes[-1, 0].set_xlabel("year")
     fig.suptitle(title, fontsize=10)
@@ -330,13 +335,14 @@ def _uncertain_why(s) -> str:
 def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     from rich import box
 
-    from ..drift import PHASE_DEG_PER_DAY
+    from ..kinds import days_rate
 
     t = support.plain_table(title=f"{s.pointer} — shows {s.shows}", title_justify="left",
                             box=box.SIMPLE, show_header=False, pad_edge=False)
     t.add_column("figure", style="bold")
     t.add_column("value")
-    days = s.shows == "phase"
+    g = days_rate(s.shows)
+    days = g is not None
 
     def both(deg, d):
         return f"{deg:.4f}°" + (f"  ({d:.3f} days)" if days and d is not None else "")
@@ -351,7 +357,6 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     sigma = s.drift_sigma_deg_per_century
     t.add_row("steady drift", _with_sigma(s.drift_deg_per_century, sigma) + " per century")
     if days:
-        g = PHASE_DEG_PER_DAY
         t.add_row("", _with_sigma(s.drift_deg_per_century / g, sigma / g, " days")
                   .replace(" days ±", " ±") + " per century")
     if s.drift_uncertain:
@@ -410,7 +415,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
     from ..dates import format_jd, parse_step
-    from ..drift import PHASE_DEG_PER_DAY, DriftError, DriftRun, RunControl, drift_series, grid
+    from ..drift import DriftError, DriftRun, RunControl, drift_series, grid
+    from ..kinds import days_rate
     from ..sky import Site
 
     step = parse_step(args.step)
@@ -432,8 +438,8 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         _usage_error(args, str(exc))
     thresholds = {}
     for name, p in mech.train.pointers.items():
-        if p.shows == "phase" and args.threshold_days is not None:
-            thresholds[name] = args.threshold_days * PHASE_DEG_PER_DAY
+        if days_rate(p.shows) and args.threshold_days is not None:
+            thresholds[name] = args.threshold_days * days_rate(p.shows)
         else:
             thresholds[name] = args.threshold
 
