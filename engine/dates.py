@@ -31,7 +31,7 @@ from fractions import Fraction
 import numpy as np
 
 from .errors import DateError, DriftError
-from .periods import JULIAN_YEAR_DAYS
+from .periods import JULIAN_YEAR_DAYS, SECONDS_PER_DAY
 
 CALENDARS = ("auto", "julian", "gregorian")
 GREGORIAN_START_JD = 2299160.5  # 1582-10-15 00:00, first day of the Gregorian calendar
@@ -180,8 +180,8 @@ def calendar_date(jd: float, calendar: str = "auto") -> tuple[int, int, int, int
     if not math.isfinite(jd):
         raise DateError(f"Julian Date {jd!r} is not a finite number")
     check_jd(jd)
-    ms = round((jd + 0.5) * 86_400_000)
-    whole_days, ms_of_day = divmod(ms, 86_400_000)
+    ms = round((jd + 0.5) * SECONDS_PER_DAY * 1000)
+    whole_days, ms_of_day = divmod(ms, SECONDS_PER_DAY * 1000)
     year, month, day, cal = _civil_from_jd(whole_days - 0.5, cal)
     hour, rest = divmod(ms_of_day, 3_600_000)
     minute, rest = divmod(rest, 60_000)
@@ -195,7 +195,7 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     """
     cal = _check_calendar(calendar)
     check_jd(float(jd))
-    step = 86400.0 if seconds else 1440.0
+    step = float(SECONDS_PER_DAY) if seconds else 1440.0
     jd_r = (round((float(jd) + 0.5) * step)) / step - 0.5
     year, month, day, hour, minute, second, name = calendar_date(jd_r, cal)
     ystr = f"-{-year:04d}" if year < 0 else f"{year:04d}"
@@ -294,7 +294,7 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
     dim = days_in_month(year, month, which)
     if not 1 <= day <= dim:
         raise _fail(text, f"day {day} is not in 1-{dim} for that month ({which.capitalize()})")
-    frac = (hour * 3600 + minute * 60 + second) / 86400.0
+    frac = (hour * 3600 + minute * 60 + second) / SECONDS_PER_DAY
     jd = jd_from_calendar(year, month, day + frac, which)
     if not JD_MIN <= jd < JD_MAX:
         raise _fail(text, f"it is outside the dates wheelwork handles ({RANGE_TEXT})")
@@ -304,7 +304,8 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
 # --- steps: lengths of time written with a unit ------------------------------------------
 
 _STEP_UNITS = {
-    "s": 1 / 86400, "sec": 1 / 86400, "second": 1 / 86400, "seconds": 1 / 86400,
+    "s": 1 / SECONDS_PER_DAY, "sec": 1 / SECONDS_PER_DAY, "second": 1 / SECONDS_PER_DAY,
+    "seconds": 1 / SECONDS_PER_DAY,
     "m": 1 / 1440, "min": 1 / 1440, "minute": 1 / 1440, "minutes": 1 / 1440,
     "h": 1 / 24, "hr": 1 / 24, "hour": 1 / 24, "hours": 1 / 24,
     "d": 1.0, "day": 1.0, "days": 1.0,
@@ -313,7 +314,7 @@ _STEP_UNITS = {
     "years": JULIAN_YEAR_DAYS,
 }
 _STEP = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*([a-z]*)\s*$", re.IGNORECASE)
-MIN_STEP_DAYS = 1 / 86400
+MIN_STEP_DAYS = 1 / SECONDS_PER_DAY
 
 
 def parse_step(text: str | float) -> float:
@@ -400,4 +401,4 @@ def jd_now(clock=None) -> float:
     :func:`time.time`)."""
     import time
 
-    return (clock or time.time)() / 86400.0 + _UNIX_EPOCH_JD
+    return (clock or time.time)() / SECONDS_PER_DAY + _UNIX_EPOCH_JD

@@ -81,7 +81,7 @@ from .fitting import (
 )
 from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, days_rate, sky_at, true_value
 from .kinematics import pin_slot_lead_turns
-from .periods import JULIAN_CENTURY_DAYS
+from .periods import JULIAN_CENTURY_DAYS, SECONDS_PER_DAY
 
 if TYPE_CHECKING:
     from .sky import Site
@@ -181,7 +181,7 @@ def delta_t_effect_deg(shows: str, delta_t_sigma_s, frame: str = "equinox"):
     (σ of many minutes) reaches a tenth of a degree and more. Shaped like ``delta_t_sigma_s``."""
     if shows not in KINDS:
         return np.zeros_like(np.asarray(delta_t_sigma_s, dtype=float))
-    rate = abs(KINDS[shows].mean_period(frame).deg_per_day) / 86400.0
+    rate = abs(KINDS[shows].mean_period(frame).deg_per_day) / SECONDS_PER_DAY
     return np.asarray(delta_t_sigma_s, dtype=float) * rate
 
 

@@ -25,6 +25,7 @@ from pathlib import Path
 from .errors import DateError, TrainError
 from .exact import parse_fraction
 from .kinds import DIAL_FRAMES, KINDS, kind_key
+from .periods import SECONDS_PER_DAY
 from .train import (
     EPHEMERIS_NAMES,
     FRAME,
@@ -56,7 +57,7 @@ MAX_WHEELS = 10_000
 MAX_MESHES = 5_000
 MAX_PIN_SLOTS = 50
 MAX_POINTERS = 200
-MIN_DAYS_PER_TURN = Fraction(1, 86_400)   # one crank turn a second of time shown
+MIN_DAYS_PER_TURN = Fraction(1, SECONDS_PER_DAY)   # one crank turn a second of time shown
 MAX_DAYS_PER_TURN = Fraction(1_000_000)   # one crank turn in about 2,700 years
 MIN_PER_TURN = Fraction(1, 1_000_000)
 MAX_PER_TURN = Fraction(1_000_000)
@@ -707,7 +708,7 @@ def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:
         except DateError as exc:  # quote the date as the file wrote it, not our rewriting
             raise DateError(str(exc).replace(repr(local), repr(written))) from None
         if offset is not None:
-            jd -= offset.total_seconds() / 86400.0
+            jd -= offset.total_seconds() / SECONDS_PER_DAY
         return written, jd
     if isinstance(value, _dt.date):
         written = value.isoformat()

@@ -32,6 +32,7 @@ if TYPE_CHECKING:  # numpy is imported by the two functions using it: commands' 
 
 JULIAN_YEAR_DAYS = 365.25  # the Julian year: "years" in spans, steps and reports
 JULIAN_CENTURY_DAYS = 100 * JULIAN_YEAR_DAYS  # 36525 days
+SECONDS_PER_DAY = 86_400  # a day of the time scale in use (UT, TT or TDB), in its seconds
 J2000_JD = 2451545.0  # 2000-01-01 12:00 TT
 
 MEEUS = "Meeus, Astronomical Algorithms 2nd ed., ch. 47 (ELP-2000/82 mean elements)"

@@ -16,7 +16,7 @@ import numpy as np
 from .exact import Turns
 from .kinds import KINDS, mean_value, sky_at, true_value
 from .kinematics import Kinematics, LinearAngle
-from .periods import mean_elements
+from .periods import SECONDS_PER_DAY, mean_elements
 from .train import Pointer, Train
 
 
@@ -89,7 +89,7 @@ def mean_values(train: Train, jd_ut: float, sky=None, frame: str | None = None,
     names = list(train.pointers) if names is None else list(names)
     jd_tt = jd_ut
     if sky is not None:
-        jd_tt = jd_ut + float(sky.at(np.array([jd_ut]), frame=frame).delta_t_s[0]) / 86400.0
+        jd_tt = jd_ut + float(sky.at(np.array([jd_ut]), frame=frame).delta_t_s[0]) / SECONDS_PER_DAY
     mean = mean_elements(jd_tt)  # of date; a star dial reads from the J2000 equinox
     return {n: float(mean_value(train.pointers[n].shows, mean, jd_tt, frame)) for n in names}
 

@@ -78,7 +78,7 @@ from skyfield.toposlib import wgs84
 from .dates import as_jd, format_jd
 from .errors import SkyError
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
-from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, mean_elements
+from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, SECONDS_PER_DAY, mean_elements
 from .phases import PHASE_NAMES as PHASE_NAMES  # the phase names and bands live there
 from .phases import phase_names
 
@@ -175,7 +175,7 @@ def _segment_arrays(seg) -> tuple[float, float, np.ndarray]:
     layout as a view of the mapped file: nothing is copied. The file's start and length are
     whole seconds, so the round trip through days is exact."""
     start_jd, days, coef = seg.load_array()
-    return (start_jd - T0) * 86400.0, days * 86400.0, np.transpose(coef, (2, 0, 1))[::-1]
+    return (start_jd - T0) * SECONDS_PER_DAY, days * SECONDS_PER_DAY, np.transpose(coef, (2, 0, 1))[::-1]
 
 
 class _ChebGroup:
@@ -232,8 +232,8 @@ class _ChebGroup:
         as it is, not copied. ``scale`` multiplies every result."""
         self = cls.__new__(cls)
         self.keys = [key]
-        self.init = (start_jd - T0) * 86400.0
-        self.intlen = days_per_record * 86400.0
+        self.init = (start_jd - T0) * SECONDS_PER_DAY
+        self.intlen = days_per_record * SECONDS_PER_DAY
         self.nterms = records.shape[2]
         self.coef, self.dcoef32 = records, None
         self.nrec = records.shape[0]
@@ -245,9 +245,9 @@ class _ChebGroup:
         # Whole and fractional TDB days kept apart until inside the record, as jplephem does:
         # whole days give whole seconds (exact in double precision), the fraction is added to
         # the offset within the record.
-        base = (whole - T0) * 86400.0 - self.init
+        base = (whole - T0) * SECONDS_PER_DAY - self.init
         i1 = np.floor(base / self.intlen)
-        offset = (base - i1 * self.intlen) + frac * 86400.0
+        offset = (base - i1 * self.intlen) + frac * SECONDS_PER_DAY
         i2 = np.floor(offset / self.intlen)
         offset -= i2 * self.intlen
         index = (i1 + i2).astype(np.intp)
@@ -281,7 +281,7 @@ class _ChebGroup:
                 slope[j] += 2.0 * bf[j - 1]
                 slope[j] -= slope[j - 2]
             vel = np.einsum("nck,kn->cn", gathered.astype(np.float32), slope).astype(float)
-        vel *= 2.0 * 86400.0 / self.intlen
+        vel *= 2.0 * SECONDS_PER_DAY / self.intlen
         if self.scale != 1.0:
             pos *= self.scale
             vel *= self.scale
