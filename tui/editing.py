@@ -391,15 +391,12 @@ class SaveDialog(Dialog):
         self._confirmed: Path | None = None
 
     def compose(self) -> ComposeResult:
-        with Vertical(id="dialog"):
-            yield Label("Save the train as:", classes="dialog-title")
-            yield Input(value=str(self.editor.suggested_name()), id="save-input")
-            opened = self.editor.path or "none (a new train)"
-            yield Label(Text(f"opened from: {opened}"), id="save-hint")
-            yield Label("", id="save-error")
-            with Horizontal(classes="dialog-buttons"):
-                yield Button("Save", variant="primary", id="ok")
-                yield Button("Cancel", id="cancel")
+        opened = self.editor.path or "none (a new train)"
+        yield from self.framed(
+            "Save the train as:",
+            Input(value=str(self.editor.suggested_name()), id="save-input"),
+            Label(Text(f"opened from: {opened}"), id="save-hint"),
+            ok="Save")
 
     def read(self) -> None:
         text = self.query_one("#save-input", Input).value.strip()

@@ -18,6 +18,7 @@ from textual.await_complete import AwaitComplete
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
+from textual.widget import Widget
 from textual.widgets import (
     Button,
     Footer,
@@ -601,6 +602,17 @@ class Dialog(ClosesOnce, ModalScreen):
     BINDINGS = [Binding("escape", "cancel", "cancel")]
     error_id = "dialog-error"
 
+    def framed(self, title: str, *body: Widget, ok: str = "OK") -> ComposeResult:
+        """The usual dialog: ``title``, the widgets of ``body`` (an input and its hint), the
+        error line and the accept (``ok``) and Cancel buttons."""
+        with Vertical(id="dialog"):
+            yield Label(title, classes="dialog-title")
+            yield from body
+            yield Label("", id=self.error_id)
+            with Horizontal(classes="dialog-buttons"):
+                yield Button(ok, variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
     def accept(self, result) -> None:
         self.dismiss(result)
 
@@ -633,16 +645,13 @@ class DateDialog(Dialog):
         self.session = session
 
     def compose(self) -> ComposeResult:
-        with Vertical(id="dialog"):
-            yield Label("Turn the crank to the date (UT):", classes="dialog-title")
-            yield Input(placeholder="2040-06-21 12:00 · 15 March 1910 · 44-03-15 BC · JD 2451545.0",
-                        id="date-input")
-            yield Label(f"ephemeris {self.session.sky.name}: {self.session.sky.span_text}",
-                        id="date-hint")
-            yield Label("", id="date-error")
-            with Horizontal(classes="dialog-buttons"):
-                yield Button("Go", variant="primary", id="ok")
-                yield Button("Cancel", id="cancel")
+        yield from self.framed(
+            "Turn the crank to the date (UT):",
+            Input(placeholder="2040-06-21 12:00 · 15 March 1910 · 44-03-15 BC · JD 2451545.0",
+                  id="date-input"),
+            Label(f"ephemeris {self.session.sky.name}: {self.session.sky.span_text}",
+                  id="date-hint"),
+            ok="Go")
 
     def read(self) -> None:
         text = self.query_one("#date-input", Input).value
@@ -669,15 +678,12 @@ class StepDialog(Dialog):
     def compose(self) -> ComposeResult:
         s = self.session
         shown = s.step_label if s.step_days is not None and s.step_label else str(s.step)
-        with Vertical(id="dialog"):
-            yield Label("Crank step for + and − (turns, or a time):", classes="dialog-title")
-            yield Input(value=shown, id="step-input")
-            yield Label(f"turns: 3 · 2.5 · 1/24 · 5t    time: 30m · 12h · 3d · 2w · 1y\n"
-                        f"{s.turn_days} on this train", id="step-hint")
-            yield Label("", id="step-error")
-            with Horizontal(classes="dialog-buttons"):
-                yield Button("Set", variant="primary", id="ok")
-                yield Button("Cancel", id="cancel")
+        yield from self.framed(
+            "Crank step for + and − (turns, or a time):",
+            Input(value=shown, id="step-input"),
+            Label(f"turns: 3 · 2.5 · 1/24 · 5t    time: 30m · 12h · 3d · 2w · 1y\n"
+                  f"{s.turn_days} on this train", id="step-hint"),
+            ok="Set")
 
     def read(self) -> None:
         text = self.query_one("#step-input", Input).value
@@ -767,15 +773,12 @@ class ScreenshotDialog(Dialog):
         self._confirmed: Path | None = None
 
     def compose(self) -> ComposeResult:
-        with Vertical(id="dialog"):
-            yield Label("Save a picture of the screen (SVG) to:", classes="dialog-title")
-            yield Input(value=str(self.default), id="shot-input")
-            yield Label(f"~ is your home; a bare name goes in the current folder, {Path.cwd()}",
-                        id="shot-hint")
-            yield Label("", id="shot-error")
-            with Horizontal(classes="dialog-buttons"):
-                yield Button("Save", variant="primary", id="ok")
-                yield Button("Cancel", id="cancel")
+        yield from self.framed(
+            "Save a picture of the screen (SVG) to:",
+            Input(value=str(self.default), id="shot-input"),
+            Label(f"~ is your home; a bare name goes in the current folder, {Path.cwd()}",
+                  id="shot-hint"),
+            ok="Save")
 
     def read(self) -> None:
         from engine.commands.support import OutputFile
