@@ -289,3 +289,27 @@ async def test_saving_into_a_folder_uses_the_offered_name_and_a_name_must_end_in
     assert [p.name for p in folder.iterdir()] == ["moon-edited.toml"]
     assert "disc_teeth = 58" in (folder / "moon-edited.toml").read_text()
     assert not (tmp_path / "kept.toml").exists()
+
+
+@sync
+async def test_the_parts_screen_ratio_rows_take_the_theme_colours():
+    """The file → now rows of a changed pointer and their labels are in the theme's accent and
+    muted colours (they were a fixed pale gold and grey, faint on a light theme)."""
+    from rich.text import Text
+    from textual.widgets import Static
+
+    from tui.widgets import ui
+
+    app = make_app(demo_path("tide_office"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        app.theme = "textual-light"
+        await pilot.pause()
+        await _change_sun_w1(pilot, app)  # a change, then back to the bench
+        await pilot.press("w")
+        await pilot.pause()
+        shown = app.screen.query_one("#parts-compare", Static).content
+        assert isinstance(shown, Text)  # two lines a pointer at 80 columns
+        colours = ui(app.screen)
+        styles = {str(span.style) for span in shown.spans}
+        assert f"bold {colours['accent']}" in styles and colours["muted"] in styles
+        assert not any("#e5c07b" in s or "#9aa5b1" in s for s in styles)

@@ -82,22 +82,26 @@ def _drift(x: float) -> str:
     return f"{x:+,.4f}" if abs(x) < 1 else f"{x:+,.2f}"
 
 
-def compare_table(rows, width: int = 200) -> Table | Text:
+def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
+                  ) -> Table | Text:
     """Per pointer: ratio, period error and drift per century, as in the file and now (a
-    table when ``width`` allows, else two lines a pointer)."""
+    table when ``width`` allows, else two lines a pointer); ``colours`` from the theme
+    (:func:`tui.widgets.ui`): changed rows in its accent, labels in its muted colour."""
+    accent = (colours or {}).get("accent", "#e5c07b")
+    muted = (colours or {}).get("muted", "#9aa5b1")
     if width < 90:
         out = Text()
         for c in rows:
             b, a = c.before, c.after
-            style = "bold #e5c07b" if b is None or b.ratio != a.ratio else ""
+            style = f"bold {accent}" if b is None or b.ratio != a.ratio else ""
             if out:
                 out.append("\n")
             out.append(f"{c.pointer}  ", style="bold")
             out.append(f"{_ratio(b) if b else 'new'} → {_ratio(a)}\n", style=style)
-            out.append("  ppm ", style="#9aa5b1")
+            out.append("  ppm ", style=muted)
             out.append(f"{_ppm(b.period_error_ppm) if b else ''} → {_ppm(a.period_error_ppm)}",
                        style=style)
-            out.append("\n  °/cy ", style="#9aa5b1")
+            out.append("\n  °/cy ", style=muted)
             out.append(f"{_drift(b.drift_deg_per_century) if b else ''} → "
                        f"{_drift(a.drift_deg_per_century)}", style=style)
         return out
@@ -109,7 +113,7 @@ def compare_table(rows, width: int = 200) -> Table | Text:
     for c in rows:
         b, a = c.before, c.after
         changed = b is None or b.ratio != a.ratio
-        style = "bold #e5c07b" if changed else ""
+        style = f"bold {accent}" if changed else ""
         t.add_row(c.pointer,
                   Text(f"{_ratio(b) if b else 'new'} → {_ratio(a)}", style=style),
                   Text(f"{_ppm(b.period_error_ppm) if b else ''} → {_ppm(a.period_error_ppm)}",
@@ -298,7 +302,7 @@ class PartsScreen(ClosesOnce, Screen):
         self._title()
         width = self.query_one("#parts-side").size.width or self.app.size.width
         self.query_one("#parts-compare", Static).update(
-            compare_table(self.editor.compare(self.session.frame), width))
+            compare_table(self.editor.compare(self.session.frame), width, ui(self)))
         try:
             self.query_one(Readings).show(self.session.now())
         except WheelworkError as exc:
