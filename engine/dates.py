@@ -353,6 +353,9 @@ def parse_crank_step(text: str, days_per_turn) -> tuple[Fraction, Fraction | Non
     from .exact import parse_fraction
 
     raw = str(text).strip()
+    if raw[:1] in ("-", "−"):
+        raise DriftError(f"cannot read step {raw!r}: a step is a length, without a sign; "
+                         "the crank keys + and − turn on and back by it")
     m = _STEP.match(raw)
     unit = m.group(2).lower() if m else ""
     if m and unit and unit not in _TURN_UNITS:  # a time: 12h, 3d, 1y

@@ -202,7 +202,9 @@ def test_crank_step_in_turns_or_time():
 
 @pytest.mark.parametrize("bad, words", [
     ("", "write a number"), ("zero", "cannot read step 'zero'"), ("12x", "unknown unit 'x'"),
-    ("-3d", "cannot read step '-3d'"), ("1/0", "divides by zero"), ("0d", "too small"),
+    ("-3d", "cannot read step '-3d': a step is a length, without a sign"),
+    ("-3", "without a sign"), ("−12h", "+ and − turn on and back"),
+    ("1/0", "divides by zero"), ("0d", "too small"),
 ])
 def test_crank_step_refuses_in_one_line(bad, words):
     from engine.dates import parse_crank_step

@@ -961,8 +961,8 @@ class Readings(RowStatic):
     #: what the worst column covers, longest first; the panel's subtitle takes one that fits
     WORST_KEYS = ("{col}: largest |err| since start or last frame, observer or re-set",
                   "{col}: since start or last frame/observer/re-set",
-                  "{col} since start or last t/o/r/u",
-                  "{col} since t/o/r/u")
+                  "{col} since start or t/o/re-set/u",  # a re-set: r, R or m
+                  "{col} since t/o/re-set/u")
 
     def on_resize(self) -> None:
         self._laid_out = False
