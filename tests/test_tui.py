@@ -633,7 +633,8 @@ async def test_worst_key_names_the_narrow_column_at_80x24():
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
         subtitle = str(app.screen.query_one("#info").border_subtitle)
-        assert subtitle.startswith("max°") and "since start or last" in subtitle
+        assert subtitle.startswith("max°") and "since start or" in subtitle
+        assert "re-set" in subtitle  # r, R and m all start the column again
         assert "max°" in text_of(app.screen.query_one(Readings)).splitlines()[0]
 
 
