@@ -4,6 +4,7 @@ file's comments and layout kept."""
 
 import shutil
 from fractions import Fraction
+from pathlib import Path
 
 import pytest
 
@@ -64,26 +65,7 @@ def test_bad_teeth_leave_the_train_as_it_was(tide, sky, wheel, value, words):
 def test_an_edit_that_locks_the_train_is_refused(tmp_path, sky):
     # two parallel paths from one arbor to another; changing one mesh makes them disagree
     path = tmp_path / "loop.toml"
-    path.write_text("""
-[crank]
-arbor = "a"
-days_per_turn = 1
-[epoch]
-date = "2026-01-01"
-set = "angles"
-[arbors.a]
-wheels = { a1 = 10, a2 = 20 }
-[arbors.b]
-wheels = { b1 = 30, b2 = 60 }
-[[meshes]]
-wheels = ["a1", "b1"]
-[[meshes]]
-wheels = ["a2", "b2"]
-[pointers.sun]
-shows = "sun"
-arbor = "b"
-set_deg = 0
-""")
+    path.write_text((Path(__file__).parent / "trains" / "two_paths.toml").read_text())
     ed = TrainEditor.open(path, sky)
     with pytest.raises(TrainError) as exc:
         ed.set_teeth("b2", "61")

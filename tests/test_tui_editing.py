@@ -8,6 +8,7 @@ import functools
 import io
 import shutil
 from fractions import Fraction
+from pathlib import Path
 
 import pytest
 from rich.console import Console
@@ -266,26 +267,7 @@ async def test_forbidden_primes_refuse_an_edit_in_the_dialog(tmp_path):
         assert app.session.editor.forbidden_primes == (37, 41, 43)
 
 
-LOOP = """
-[crank]
-arbor = "a"
-days_per_turn = 1
-[epoch]
-date = "2026-01-01"
-set = "angles"
-[arbors.a]
-wheels = { a1 = 10, a2 = 20 }
-[arbors.b]
-wheels = { b1 = 30, b2 = 60 }
-[[meshes]]
-wheels = ["a1", "b1"]
-[[meshes]]
-wheels = ["a2", "b2"]
-[pointers.sun]
-shows = "sun"
-arbor = "b"
-set_deg = 0
-"""
+LOOP = (Path(__file__).parent / "trains" / "two_paths.toml").read_text()
 
 
 @sync
