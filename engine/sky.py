@@ -636,8 +636,14 @@ class SkyState:
     fraction of the disc from the Sun-Moon-Earth angle; ``node_deg`` and ``perigee_deg`` are the
     mean lunar node and perigee (see the module docstring for the stars frame);
     ``moon_mean_anomaly_deg`` is the Moon's mean anomaly from the same mean elements.
+    ``jd_tt`` is each date in Terrestrial Time (``jd_ut`` plus ΔT, ``delta_t_s``);
     ``delta_t_sigma_s`` is one standard error of ``delta_t_s`` (:func:`delta_t_sigma_s`):
     a fraction of a second today, minutes to half an hour in antiquity.
+
+    Computed on demand: ``elongation_deg``, ``node_deg``, ``perigee_deg``,
+    ``moon_mean_anomaly_deg`` and ``delta_t_sigma_s`` follow from the other fields, so each is
+    worked out on its first read and then kept; a caller that never reads one never pays for it.
+    They read like the other fields (same shape, float arrays).
 
     ``planet_lon_deg[name]``: a planet's geocentric (topocentric with a site) apparent ecliptic
     longitude, with light time, the Sun's light deflection and aberration, like the Sun and
@@ -647,21 +653,50 @@ class SkyState:
     """
 
     jd_ut: np.ndarray
+    jd_tt: np.ndarray
     delta_t_s: np.ndarray
-    delta_t_sigma_s: np.ndarray
     sun_lon_deg: np.ndarray
     sun_lat_deg: np.ndarray
     moon_lon_deg: np.ndarray
     moon_lat_deg: np.ndarray
-    elongation_deg: np.ndarray
     illuminated: np.ndarray
     moon_km: np.ndarray
-    node_deg: np.ndarray
-    perigee_deg: np.ndarray
-    moon_mean_anomaly_deg: np.ndarray
     frame: str = "equinox"
     planet_lon_deg: dict = field(default_factory=dict)
     planet_helio_lon_deg: dict = field(default_factory=dict)
+
+    # The derived fields: each a function of the fields above, computed on its first read and
+    # kept in the instance (functools.cached_property writes the instance's __dict__, which a
+    # frozen dataclass allows). Worked out on the flat dates and given the dates' shape, so a
+    # scalar state gives 0-d arrays like every other field.
+    def _shaped(self, values) -> np.ndarray:
+        return np.reshape(values, np.shape(self.jd_ut))
+
+    def _mean(self, key: str) -> np.ndarray:
+        return mean_elements(np.ravel(self.jd_tt), keys=(key,))[key]
+
+    @functools.cached_property
+    def elongation_deg(self) -> np.ndarray:
+        return self._shaped(np.mod(np.ravel(self.moon_lon_deg) - np.ravel(self.sun_lon_deg),
+                                   360.0))
+
+    @functools.cached_property
+    def node_deg(self) -> np.ndarray:
+        jd_tt = np.ravel(self.jd_tt)
+        return self._shaped(to_frame(self._mean("node"), jd_tt, self.frame))
+
+    @functools.cached_property
+    def perigee_deg(self) -> np.ndarray:
+        jd_tt = np.ravel(self.jd_tt)
+        return self._shaped(to_frame(self._mean("apsis"), jd_tt, self.frame))
+
+    @functools.cached_property
+    def moon_mean_anomaly_deg(self) -> np.ndarray:
+        return self._shaped(self._mean("anomaly"))
+
+    @functools.cached_property
+    def delta_t_sigma_s(self) -> np.ndarray:
+        return self._shaped(delta_t_sigma_s(np.ravel(self.jd_tt)))
 
     def __repr__(self):
         jd = np.ravel(self.jd_ut)
@@ -758,16 +793,10 @@ class Sky:
         else:
             *out, geo, helio = self._slow(_timescale().ut1_jd(flat), frame, site, names)
         sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum, jd_tt, delta_t = out
-        mean = mean_elements(jd_tt, keys=("node", "apsis", "anomaly"))
-        node = to_frame(mean["node"], jd_tt, frame)
-        perigee = to_frame(mean["apsis"], jd_tt, frame)
-        values = dict(
-            jd_ut=flat, delta_t_s=delta_t, delta_t_sigma_s=delta_t_sigma_s(jd_tt),
-            sun_lon_deg=sun_lon, sun_lat_deg=sun_lat, moon_lon_deg=moon_lon,
-            moon_lat_deg=moon_lat, elongation_deg=np.mod(moon_lon - sun_lon, 360.0),
-            illuminated=illum, moon_km=moon_km, node_deg=node, perigee_deg=perigee,
-            moon_mean_anomaly_deg=mean["anomaly"],
-        )
+        # only what the pipeline gives: the derived fields are SkyState's, on first read
+        values = dict(jd_ut=flat, jd_tt=jd_tt, delta_t_s=delta_t, sun_lon_deg=sun_lon,
+                      sun_lat_deg=sun_lat, moon_lon_deg=moon_lon, moon_lat_deg=moon_lat,
+                      illuminated=illum, moon_km=moon_km)
         return SkyState(**{k: np.reshape(v, shape) for k, v in values.items()}, frame=frame,
                         planet_lon_deg={n: np.reshape(v, shape) for n, v in geo.items()},
                         planet_helio_lon_deg={n: np.reshape(v, shape) for n, v in helio.items()})

@@ -721,3 +721,90 @@ def test_aberration_is_skyfields_formula():
         theirs = p.copy()
         add_aberration(theirs, v_obs, lt)
         assert np.array_equal(mine, theirs)
+
+
+# --- the derived fields, computed on first read ------------------------------------------------
+
+DERIVED = ("delta_t_sigma_s", "elongation_deg", "node_deg", "perigee_deg",
+           "moon_mean_anomaly_deg")
+
+
+@pytest.mark.parametrize("frame, fast", [("equinox", True), ("stars", True),
+                                         ("equinox", False), ("stars", False)])
+def test_derived_fields_equal_eager_ones(sky, frame, fast):
+    # Each derived field, read on demand, is bit for bit what the functions give when called
+    # directly on the state's TT dates (as every state was built before they were deferred).
+    from engine.kinds import to_frame
+    from engine.periods import mean_elements
+
+    jd = np.array([[2415020.5, 2433282.25, 2451545.0], [2455000.75, 2460754.9, 2469000.5]])
+    st = sky.at(jd, frame, fast=fast)
+    t = _timescale().ut1_jd(jd)
+    np.testing.assert_array_equal(st.jd_tt, t.tt)  # skyfield's own TT for these UT dates
+    jd_tt = np.ravel(st.jd_tt)
+    mean = mean_elements(jd_tt, keys=("node", "apsis", "anomaly"))
+    eager = {
+        "delta_t_sigma_s": delta_t_sigma_s(jd_tt),
+        "elongation_deg": np.mod(np.ravel(st.moon_lon_deg) - np.ravel(st.sun_lon_deg), 360.0),
+        "node_deg": to_frame(mean["node"], jd_tt, frame),
+        "perigee_deg": to_frame(mean["apsis"], jd_tt, frame),
+        "moon_mean_anomaly_deg": mean["anomaly"],
+    }
+    for key in DERIVED:
+        value = getattr(st, key)
+        assert isinstance(value, np.ndarray) and value.dtype == np.float64, key
+        assert value.shape == jd.shape, key
+        np.testing.assert_array_equal(value, np.reshape(eager[key], jd.shape), err_msg=key)
+
+
+def test_fields_not_read_are_not_computed(sky, monkeypatch):
+    import engine.sky as sky_module
+
+    calls = {"mean_elements": 0, "to_frame": 0, "delta_t_sigma_s": 0}
+
+    def counting(name):
+        real = getattr(sky_module, name)
+
+        def wrapper(*args, **kwargs):
+            calls[name] += 1
+            return real(*args, **kwargs)
+        return wrapper
+
+    for name in calls:
+        monkeypatch.setattr(sky_module, name, counting(name))
+    jd = np.linspace(2451545.0, 2451645.0, 50)
+    st = sky.at(jd, "stars")
+    for key in ("sun_lon_deg", "sun_lat_deg", "moon_lon_deg", "moon_lat_deg"):
+        assert getattr(st, key).shape == jd.shape
+    assert calls == {"mean_elements": 0, "to_frame": 0, "delta_t_sigma_s": 0}
+    assert not set(DERIVED) & set(vars(st))  # none worked out yet
+
+    node = st.node_deg
+    assert st.node_deg is node  # kept, not worked out again
+    assert calls == {"mean_elements": 1, "to_frame": 1, "delta_t_sigma_s": 0}
+    assert st.perigee_deg is st.perigee_deg
+    assert calls == {"mean_elements": 2, "to_frame": 2, "delta_t_sigma_s": 0}
+    assert st.moon_mean_anomaly_deg.shape == jd.shape
+    assert st.delta_t_sigma_s is st.delta_t_sigma_s
+    assert calls == {"mean_elements": 3, "to_frame": 2, "delta_t_sigma_s": 1}
+    assert "elongation_deg" not in vars(st)
+    assert st.phase_names()[0] == st.phase_names()[0] and "elongation_deg" in vars(st)
+    assert st.elongation_deg is st.elongation_deg
+    # the state stays frozen: a derived field cannot be written over
+    from dataclasses import FrozenInstanceError
+    with pytest.raises(FrozenInstanceError):
+        st.node_deg = np.zeros(jd.shape)
+
+
+@pytest.mark.parametrize("fast", [True, False])
+@pytest.mark.parametrize("shape", [(), (1,), (2, 3), (0,), (2, 0)])
+def test_derived_field_shapes(sky, shape, fast):
+    jd = np.reshape(np.linspace(2451545.0, 2451560.0, math.prod(shape)), shape)
+    st = sky.at(jd if shape else float(jd), "stars", fast=fast)
+    for key in ("jd_ut", "jd_tt", "sun_lon_deg", *DERIVED):
+        value = getattr(st, key)
+        assert isinstance(value, np.ndarray), key  # a scalar date gives 0-d arrays, as before
+        assert value.shape == shape and value.dtype == np.float64, key
+    assert len(st.phase_names()) == math.prod(shape)
+    for kind in ("node", "apsis", "anomaly", "draconic", "phase"):
+        assert np.shape(st.kind(kind)) == shape
