@@ -282,6 +282,19 @@ def test_cli_text_csv_and_refusals(tmp_path, capsys):
     assert main(["eclipses", "tide_office", "--years", "-1"]) == 2
 
 
+def test_cli_table_rows_keep_date_and_time_on_one_line_at_80_columns(capsys, monkeypatch):
+    """At 80 columns a row's date and time stay together (one line a row): the sky column,
+    whose rare "(not counted)" may wrap, gives way first."""
+    from engine.cli import main
+
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["eclipses", "eclipse_board", "--from", "1950-01-01", "--years", "40"]) == 0
+    text = capsys.readouterr().out
+    assert "1950-03-18 15:20" in text and "1950-09-12 03:29" in text
+    assert "yes month 10" in text
+    assert max(len(line.rstrip()) for line in text.splitlines()) <= 80
+
+
 def test_cli_ctrl_c_stops_cleanly(tmp_path, monkeypatch, capsys):
     import engine.eclipses as engine_eclipses  # the command imports it when it runs
     from engine.cli import main

@@ -233,9 +233,9 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
             if args.all or c.predicted[i] or c.real_type[i]]
     table = Table(box=box.SIMPLE_HEAD, title="new and full moons"
                   + ("" if args.all else " with an eclipse predicted or real"))
-    table.add_column("date (UT)")
+    table.add_column("date (UT)", no_wrap=True)
     table.add_column("kind")
-    table.add_column("train")
+    table.add_column("train", no_wrap=True)
     table.add_column("sky")
     table.add_column("γ", justify="right")
     table.add_column("outcome")
