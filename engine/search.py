@@ -828,8 +828,9 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
     lines = [f"# {n}-stage train from wheelwork search: ratio {r.numerator}/{r.denominator} "
              "output turns per crank turn"]
     if target is not None:
+        day_word = "day" if target.crank_days == 1 else "days"
         lines.append(f"# target: {target.label} (crank {fraction_text(target.crank_days)} "
-                     "days per turn); "
+                     f"{day_word} per turn); "
                      f"period error {result.period_error_ppm:+.4g} ppm, "
                      f"{result.drift_deg_per_century:+.4g} deg per century")
     lines.append(f"# period {result.period_days:.9g} days per output turn; output turns "

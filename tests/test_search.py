@@ -395,6 +395,15 @@ def test_cli_emit_refuses_overwrite(tmp_path, capsys):
     assert "--pick" in capsys.readouterr().err
 
 
+def test_emitted_fragment_says_day_or_days_per_crank_turn(tmp_path):
+    one, two = tmp_path / "one.toml", tmp_path / "two.toml"
+    assert main(["search", "--ratio", "19/235", "--stages", "2", "--emit", str(one)]) == 0
+    assert "(crank 1 day per turn)" in one.read_text()
+    assert main(["search", "--ratio", "19/235", "--stages", "2", "--crank-days", "7",
+                 "--emit", str(two)]) == 0
+    assert "(crank 7 days per turn)" in two.read_text()
+
+
 def test_cli_emit_checks_and_far_off_note(tmp_path, capsys):
     from engine.cli import main
 
