@@ -179,6 +179,29 @@ async def test_save_new_name_then_replace_only_after_asking(tmp_path, monkeypatc
 
 
 @sync
+async def test_after_saving_the_file_column_is_the_file_just_written(tmp_path, monkeypatch):
+    """The panel compares the file with the train now: once saved they are the same, so
+    the file side of each row shows the saved ratio, not the one opened before."""
+    monkeypatch.chdir(tmp_path)
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "sun_w1")
+        await type_value(pilot, app, "60")
+        sun = next(c for c in app.session.editor.compare() if c.pointer == "sun")
+        old, new = sun.before.ratio, sun.after.ratio
+        assert f"{old} → {new}" in text_of(app.screen.query_one("#parts-compare"))
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, PartsScreen)
+        compare = text_of(app.screen.query_one("#parts-compare"))
+        assert f"{new} → {new}" in compare and f"{old} →" not in compare
+
+
+@sync
 async def test_open_a_file_a_bad_file_and_a_demo(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     other = tmp_path / "moon.toml"

@@ -372,7 +372,8 @@ class PartsScreen(ClosesOnce, Screen):
         if path is not None:
             remember(path)
             self.notify(f"saved {path}", timeout=3)
-            self._title()
+            self.query_one("#parts-done", Label).update(Text(f"saved as {path.name}"))
+            self._show_all()  # the saved file is now the "file" side of the comparison
 
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(self.BINDINGS))
