@@ -11,7 +11,11 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
 * the fast pipeline (the default) does the same physics in one batch:
 
   - every Chebyshev segment sharing a record layout is evaluated at once (positions and rates
-    from one gather of coefficients);
+    from one gather of coefficients); on a regular grid of dates whose step divides the record
+    length (one a day, every 6 hours, ...) each record's series is instead evaluated once at
+    its grid points, with its derivatives, by one matrix product, and each date carried from
+    its grid point (ΔT makes a UT grid slightly irregular in TDB) by a Taylor series whose
+    remainder is bounded below a millimetre (:meth:`_ChebGroup._evaluate_grid`);
   - light time is solved with the target's position carried back along its velocity:
     over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
   - aberration is skyfield's own relativistic formula (the same operations, bit for bit, with
@@ -241,7 +245,14 @@ class _ChebGroup:
         return self
 
     def evaluate(self, whole: np.ndarray, frac: np.ndarray) -> dict:
-        """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``."""
+        """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``.
+
+        Dates near a regular grid whose step divides the record length are evaluated by
+        :meth:`_evaluate_grid` (each record's series once for all its dates); any others by
+        gathering each date's record."""
+        on_grid = self._evaluate_grid(whole, frac)
+        if on_grid is not None:
+            return on_grid
         # Whole and fractional TDB days kept apart until inside the record, as jplephem does:
         # whole days give whole seconds (exact in double precision), the fraction is added to
         # the offset within the record.
@@ -287,6 +298,143 @@ class _ChebGroup:
             vel *= self.scale
         return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
                 for i, key in enumerate(self.keys)}
+
+    def _evaluate_grid(self, whole: np.ndarray, frac: np.ndarray) -> dict | None:
+        """:meth:`evaluate` for dates close to a regular grid whose step is the record length
+        divided by a whole number m (one a day, every 6 hours, ... on 4- and 16-day records),
+        or None when the dates are not such a grid.
+
+        Grid points then fall at the same m places in every record, so the series' values and
+        first few derivatives there come from one matrix product of the
+        records' coefficients with a basis of m columns each: no per-date gather and no
+        per-date basis. Each date is then carried from its grid point by its own slip
+        (the dates are TDB instants of a UT grid: ΔT drifts a few seconds a decade in modern
+        times, up to half a minute a year in antiquity) through its Taylor series, to
+        the lowest order whose remainder is provably below a millimetre (and a millimetre a
+        second in the rate) for these records (:func:`_taylor_orders`); slips too large for
+        that, and slips over :data:`_GRID_SLIP_S`, go to the gather path.
+        ``tests/test_sky.py`` checks the grid against the gather path."""
+        n = whole.size
+        if n < _GRID_MIN_DATES:
+            return None
+        # Seconds from the first date, whole days and fractions apart (whole days give whole
+        # seconds, exact in double precision).
+        rel = (whole - whole[0]) * SECONDS_PER_DAY + (frac - frac[0]) * SECONDS_PER_DAY
+        if not rel[-1] > 0.0:
+            return None
+        m = round(self.intlen * (n - 1) / rel[-1])  # grid points a record
+        if m < 1 or m > n:
+            return None
+        step = self.intlen / m
+        slip = rel - step * np.arange(n)
+        if not np.max(np.abs(slip)) <= _GRID_SLIP_S:
+            return None
+        # The first date's record and offset in it, as in the gather path.
+        base = (whole[0] - T0) * SECONDS_PER_DAY - self.init
+        i1 = math.floor(base / self.intlen)
+        offset = (base - i1 * self.intlen) + frac[0] * SECONDS_PER_DAY
+        i2 = math.floor(offset / self.intlen)
+        offset -= i2 * self.intlen
+        first = i1 + i2
+        j0 = math.floor(offset / step)  # the first date's grid slot in its record
+        records = (j0 + n - 1) // m + 1
+        if first < 0 or first + records > self.nrec:
+            return None
+        phase = offset - j0 * step
+        coef = self.coef[first:first + records]
+        eps = slip * (2.0 / self.intlen)  # each date's slip in the record's own unit
+        orders = _taylor_orders(coef, float(np.max(np.abs(eps))), self.intlen, self.scale)
+        if orders is None:
+            return None
+        p_order, v_order = orders
+        s = 2.0 * (phase + step * np.arange(m)) / self.intlen - 1.0
+        # P_d, the d-th derivative in s at every date's grid point, (coordinates, dates): one
+        # product per order over all records (coordinates first, so the records' slots run
+        # on in date order and nothing is transposed afterwards).
+        by_coord = coef.transpose(1, 0, 2)
+        with _one_blas_thread():
+            p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
+                 for b in _chebyshev_basis(s, self.nterms, max(p_order, v_order + 1))]
+        # Horner in ε: value P0 + ε(P1 + ε/2 (P2 + ε/3 P3)), rate P1 + ε(P2 + ε/2 P3)
+        pos = p[p_order] * (eps / p_order)
+        for d in range(p_order - 1, 0, -1):
+            pos += p[d]
+            pos *= eps / d
+        pos += p[0]
+        vel = p[v_order + 1] * (eps / v_order) if v_order else p[1].copy()
+        for d in range(v_order, 1, -1):
+            vel += p[d]
+            vel *= eps / (d - 1)
+        if v_order:
+            vel += p[1]
+        vel *= (2.0 * SECONDS_PER_DAY / self.intlen) * self.scale
+        if self.scale != 1.0:
+            pos *= self.scale
+        return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
+                for i, key in enumerate(self.keys)}
+
+
+_GRID_MIN_DATES = 64  # fewer dates than this are gathered: the product would not pay
+_GRID_SLIP_S = 1800.0  # largest departure (s) of a date from its grid point in a grid batch
+
+
+_TAYLOR_KM = 1e-6  # the grid path's bound on a position's Taylor remainder (1 mm) ...
+_TAYLOR_KM_S = 1e-5  # ... and on a rate's (1 cm/s: 3e-11 rad of aberration, and 5 m over
+# the Sun's 500 s of light time, 7e-6 arcseconds)
+
+
+def _taylor_orders(coef: np.ndarray, eps: float, intlen_s: float,
+                   scale: float) -> tuple[int, int] | None:
+    """The lowest Taylor orders (position 1 to 3, rate 0 to 2) that carry these records'
+    series over slips of up to ``eps`` (record units) within :data:`_TAYLOR_KM` in position
+    and :data:`_TAYLOR_KM_S` in rate, or None. The remainder of order n is at most
+    max|P^(n+1)| ε^(n+1)/(n+1)! (the rate's, of order n, max|P^(n+2)| ε^(n+1)/(n+1)! in
+    s units), and on the record max|P^(d)| ≤ Σ_j max|c_j| T_j^(d)(1) (Markov's inequality
+    for the polynomials T_j, whose d-th derivative is largest at s = 1; a slip takes a date a
+    hair past the record's end, where it grows by well under 1%)."""
+    top = np.abs(coef).max(axis=(0, 1)) * scale  # largest |c_j| over records and coordinates
+    # max |P^(d)| for d = 2, 3, 4 (T_i(1) = 1, so T_j^(d)(1) is row j's sum)
+    bound = [float(top @ d.sum(axis=1)) for d in _chebyshev_derivatives(coef.shape[2])[1:]]
+    rate_tol = _TAYLOR_KM_S * intlen_s / 2.0  # in km per unit of s
+    p_order = next((n for n in (1, 2, 3) if
+                    bound[n - 1] * eps ** (n + 1) / math.factorial(n + 1) <= _TAYLOR_KM), None)
+    v_order = next((n for n in (0, 1, 2) if
+                    bound[n] * eps ** (n + 1) / math.factorial(n + 1) <= rate_tol), None)
+    return None if p_order is None or v_order is None else (p_order, v_order)
+
+
+def _chebyshev_basis(s: np.ndarray, k: int, orders: int) -> list[np.ndarray]:
+    """[(k, m), ...]: the Chebyshev polynomials T_0 .. T_{k-1} at the m points ``s`` and their
+    first ``orders`` derivatives in s: the values from numpy's ``chebvander``, the
+    derivatives as fixed combinations of them (:func:`_chebyshev_derivatives`)."""
+    values = np.polynomial.chebyshev.chebvander(s, k - 1).T  # (k, m)
+    return [values] + [d @ values for d in _chebyshev_derivatives(k)[:orders]]
+
+
+@functools.cache
+def _chebyshev_derivatives(k: int) -> tuple[np.ndarray, ...]:
+    """(D1, D2, D3, D4): T_j^(d)(s) = sum_i Dd[j, i] T_i(s) for j, i < k, from numpy's
+    ``chebder`` applied to each T_j; D4 only bounds the Taylor remainder."""
+    eye = np.eye(k)
+    out, cur = [], eye
+    for _ in range(4):
+        cur = np.stack([np.pad(np.polynomial.chebyshev.chebder(row), (0, 1))[:k]
+                        if row.any() else row for row in cur])
+        out.append(cur)
+    return tuple(out)
+
+
+@functools.cache
+def _blas_controller():
+    from threadpoolctl import ThreadpoolController  # first use only: it scans the libraries
+
+    return ThreadpoolController()
+
+
+def _one_blas_thread():
+    """A context in which BLAS runs on one thread: its idle workers would otherwise spin on
+    the second core, and the product's numbers must not depend on the thread count."""
+    return _blas_controller().limit(limits=1, user_api="blas")
 
 
 @dataclass(frozen=True)

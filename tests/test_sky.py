@@ -13,6 +13,7 @@ from engine.dates import parse_date
 from engine.errors import SkyError
 from engine.periods import PRECESSION_DEG_PER_CY
 from engine.sky import (
+    _TAYLOR_KM_S,
     PHASE_NAMES,
     PLANETS,
     Site,
@@ -808,3 +809,81 @@ def test_derived_field_shapes(sky, shape, fast):
     assert len(st.phase_names()) == math.prod(shape)
     for kind in ("node", "apsis", "anomaly", "draconic", "phase"):
         assert np.shape(st.kind(kind)) == shape
+
+
+# --- the ephemeris on regular date grids ------------------------------------------------------
+
+def _gathered(group, whole, frac):
+    """The same series through the per-date gather path, the grid path switched off."""
+    other = type(group).__new__(type(group))
+    other.__dict__.update(group.__dict__)
+    other._evaluate_grid = lambda w, f: None
+    return other.evaluate(whole, frac)
+
+
+def _tdb(sky, jd_ut):
+    t = _timescale().ut1_jd(jd_ut)
+    return np.asarray(t.whole, dtype=float), np.asarray(t.tdb_fraction, dtype=float)
+
+
+@pytest.mark.parametrize("step", [1.0, 0.25, 1 / 24, 2.0, 4.0])
+def test_grid_path_matches_gather_path(sky, step):
+    # UT grids are slightly irregular in TDB (ΔT drifts): every date is carried from its grid
+    # point through the Taylor series, whose remainder is bounded below a millimetre.
+    whole, frac = _tdb(sky, 2415020.8 + step * np.arange(3000))
+    for group in sky._loaded.groups:
+        grid = group._evaluate_grid(whole, frac)
+        assert grid is not None, (step, group.keys)
+        ref = _gathered(group, whole, frac)
+        for key, (pos, vel) in grid.items():
+            assert np.max(np.abs(pos - ref[key][0])) < 1e-5, (step, key)  # km: 1 cm
+            # rates within the grid's bound (1 cm/s) plus the gather path's single precision
+            assert np.max(np.abs(vel - ref[key][1])) < (
+                _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), (step, key)
+
+
+def test_grid_path_only_for_grids(sky):
+    from engine.sky import _GRID_MIN_DATES
+
+    rng = np.random.default_rng(5)
+    scattered = np.sort(2415020.5 + rng.uniform(0, 36525, 2000))
+    steps_not_dividing = 2415020.8 + 7.0 * np.arange(2000)  # 7 days on 4- and 16-day records
+    few = 2415020.8 + np.arange(_GRID_MIN_DATES - 1)
+    backwards = 2451545.3 - np.arange(500.0)
+    for jd in (scattered, steps_not_dividing, few, backwards):
+        whole, frac = _tdb(sky, jd)
+        for group in sky._loaded.groups:
+            assert group._evaluate_grid(whole, frac) is None
+    # and the whole pipeline gives the same sky either way
+    jd = 2451545.3 + np.arange(800.0)
+    dense = sky.at(jd, "stars")
+    one_by_one = sky.at(jd[::97], "stars")
+    for field in ("sun_lon_deg", "moon_lon_deg", "moon_lat_deg"):
+        assert np.max(np.abs(dang(getattr(dense, field)[::97], getattr(one_by_one, field)))
+                      ) < 1e-5 * ARCSEC  # the gather path sums rates in single precision
+
+
+def test_grid_taylor_order_grows_with_slip(sky):
+    from engine.sky import _taylor_orders
+
+    moon = next(g for g in sky._loaded.groups if (3, 301) in g.keys)
+    coef = moon.coef[1000:1100]
+    eps_of = lambda seconds: 2.0 * seconds / moon.intlen  # noqa: E731
+    assert _taylor_orders(coef, eps_of(0.01), moon.intlen, 1.0)[0] == 1
+    orders = [_taylor_orders(coef, eps_of(s), moon.intlen, 1.0) for s in (0.01, 10.0, 300.0)]
+    assert [o[0] for o in orders] == sorted(o[0] for o in orders)
+    assert _taylor_orders(coef, eps_of(20 * 86400.0), moon.intlen, 1.0) is None
+
+
+def test_grid_path_ancient(sky406):
+    # Half a minute a year of ΔT drift at 2000 BC, on DE406's arrays (scaled records).
+    for step in (1.0, 0.25):
+        whole, frac = _tdb(sky406, 990000.8 + step * np.arange(4096))
+        for group in sky406._loaded.groups:
+            grid = group._evaluate_grid(whole, frac)
+            assert grid is not None, (step, group.keys)
+            ref = _gathered(group, whole, frac)
+            for key, (pos, vel) in grid.items():
+                assert np.max(np.abs(pos - ref[key][0])) < 1e-5, (step, key)
+                assert np.max(np.abs(vel - ref[key][1])) < (
+                    _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), (step, key)
