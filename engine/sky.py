@@ -76,7 +76,7 @@ from skyfield.nutationlib import (
     nals_t,
 )
 from skyfield.precessionlib import compute_precession
-from skyfield.timelib import Timescale
+from skyfield.timelib import Timescale, tdb_minus_tt
 from skyfield.toposlib import wgs84
 
 from .dates import as_jd, format_jd
@@ -343,7 +343,8 @@ class _ChebGroup:
         phase = offset - j0 * step
         coef = self.coef[first:first + records]
         eps = slip * (2.0 / self.intlen)  # each date's slip in the record's own unit
-        orders = _taylor_orders(coef, float(np.max(np.abs(eps))), self.intlen, self.scale)
+        orders = _taylor_orders(self._largest_terms(first, records), self.nterms,
+                                float(np.max(np.abs(eps))), self.intlen, self.scale)
         if orders is None:
             return None
         p_order, v_order = orders
@@ -373,7 +374,21 @@ class _ChebGroup:
         return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
                 for i, key in enumerate(self.keys)}
 
+    def _largest_terms(self, first: int, count: int) -> np.ndarray:
+        """(terms,): the largest |c_j| over records ``first`` .. ``first + count - 1`` and
+        every coordinate — or over the blocks of :data:`_TOP_BLOCK` records holding them
+        (never smaller, so a bound from it still holds). Each block is scanned once and its
+        maxima kept with the series."""
+        tops = self.__dict__.setdefault("_block_tops", {})
+        blocks = range(first // _TOP_BLOCK, (first + count - 1) // _TOP_BLOCK + 1)
+        for b in blocks:
+            if b not in tops:
+                block = self.coef[b * _TOP_BLOCK:(b + 1) * _TOP_BLOCK]
+                tops[b] = np.maximum(block.max(axis=(0, 1)), -block.min(axis=(0, 1)))
+        return np.max([tops[b] for b in blocks], axis=0)
 
+
+_TOP_BLOCK = 1024  # records a block when bounding the Taylor remainder
 _GRID_MIN_DATES = 64  # fewer dates than this are gathered: the product would not pay
 _GRID_SLIP_S = 1800.0  # largest departure (s) of a date from its grid point in a grid batch
 
@@ -383,24 +398,30 @@ _TAYLOR_KM_S = 1e-5  # ... and on a rate's (1 cm/s: 3e-11 rad of aberration, and
 # the Sun's 500 s of light time, 7e-6 arcseconds)
 
 
-def _taylor_orders(coef: np.ndarray, eps: float, intlen_s: float,
+def _taylor_orders(top: np.ndarray, k: int, eps: float, intlen_s: float,
                    scale: float) -> tuple[int, int] | None:
-    """The lowest Taylor orders (position 1 to 3, rate 0 to 2) that carry these records'
-    series over slips of up to ``eps`` (record units) within :data:`_TAYLOR_KM` in position
-    and :data:`_TAYLOR_KM_S` in rate, or None. The remainder of order n is at most
+    """The lowest Taylor orders (position 1 to 3, rate 0 to 2) that carry series with k
+    terms, whose largest coefficients are ``top`` (see :meth:`_ChebGroup._largest_terms`),
+    over slips of up to ``eps`` (record units) within :data:`_TAYLOR_KM` in position and
+    :data:`_TAYLOR_KM_S` in rate, or None. The remainder of order n is at most
     max|P^(n+1)| ε^(n+1)/(n+1)! (the rate's, of order n, max|P^(n+2)| ε^(n+1)/(n+1)! in
     s units), and on the record max|P^(d)| ≤ Σ_j max|c_j| T_j^(d)(1) (Markov's inequality
     for the polynomials T_j, whose d-th derivative is largest at s = 1; a slip takes a date a
     hair past the record's end, where it grows by well under 1%)."""
-    top = np.abs(coef).max(axis=(0, 1)) * scale  # largest |c_j| over records and coordinates
-    # max |P^(d)| for d = 2, 3, 4 (T_i(1) = 1, so T_j^(d)(1) is row j's sum)
-    bound = [float(top @ d.sum(axis=1)) for d in _chebyshev_derivatives(coef.shape[2])[1:]]
+    bound = _chebyshev_peaks(k) @ (top * scale)  # max |P^(d)| for d = 2, 3, 4
     rate_tol = _TAYLOR_KM_S * intlen_s / 2.0  # in km per unit of s
     p_order = next((n for n in (1, 2, 3) if
                     bound[n - 1] * eps ** (n + 1) / math.factorial(n + 1) <= _TAYLOR_KM), None)
     v_order = next((n for n in (0, 1, 2) if
                     bound[n] * eps ** (n + 1) / math.factorial(n + 1) <= rate_tol), None)
     return None if p_order is None or v_order is None else (p_order, v_order)
+
+
+@functools.cache
+def _chebyshev_peaks(k: int) -> np.ndarray:
+    """(3, k): T_j^(d)(1), the largest |T_j^(d)| on [-1, 1], for d = 2, 3, 4 (row sums of
+    the derivative matrices, since every T_i(1) = 1)."""
+    return np.stack([d.sum(axis=1) for d in _chebyshev_derivatives(k)[1:]])
 
 
 def _chebyshev_basis(s: np.ndarray, k: int, orders: int) -> list[np.ndarray]:
@@ -655,25 +676,27 @@ def _dpsi_2000b_exact(jd_tt: np.ndarray) -> np.ndarray:
 
 
 def _grid(x: np.ndarray, step: float, exact) -> np.ndarray | None:
-    """``exact`` (a function of dates giving (k, m) values) on grid points on whole multiples
-    of ``step`` from J2000, cubic (four-point Lagrange) interpolated to the dates ``x``:
-    (k, n). None when the dates are too sparse for a grid to save work. Grid points do not
-    depend on which dates are asked for together, so a date gets the same value in any
-    batch or chunk."""
+    """``exact`` (a function of dates) on grid points on whole multiples of ``step`` from
+    J2000, cubic (four-point Lagrange) interpolated to the dates ``x``. None when the dates
+    are too sparse for a grid to save work. Grid points do not depend on which dates are
+    asked for together, so a date gets the same value in any batch or chunk."""
     lo = T0 + step * (np.floor((float(x.min()) - T0) / step) - 1.0)
     m = int((float(x.max()) - lo) / step) + 3
     if m >= x.size:
         return None
-    values = np.reshape(exact(lo + step * np.arange(m)), (-1, m)).T.copy()  # (m, k) rows
-    u = (x - lo) / step
-    i = np.minimum(np.floor(u).astype(np.intp), m - 3)
+    values = np.asarray(exact(lo + step * np.arange(m)), dtype=float).reshape(m)
+    u = (x - lo) * (1.0 / step)
+    i = np.minimum(u.astype(np.intp), m - 3)  # u >= 1 > 0: truncation is the floor
     f = u - i  # in [0, 1): between points i and i + 1 of the four i-1 .. i+2
-    f0, f1, f2, f3 = f + 1.0, f, f - 1.0, f - 2.0
-    w = (-(f1 * f2 * f3) / 6.0, f0 * f2 * f3 / 2.0, -(f0 * f1 * f3) / 2.0, f0 * f1 * f2 / 6.0)
-    out = w[0][:, None] * values[i - 1]
-    for j in (1, 2, 3):
-        out += w[j][:, None] * values[i + j - 1]
-    return out.T
+    # Lagrange weights of the points at -1, 0, 1, 2 from f, with shared factors
+    fm1, fm2, fp1 = f - 1.0, f - 2.0, f + 1.0
+    a = f * fm1
+    b = fp1 * fm2
+    out = values[i - 1] * (a * fm2 * (-1.0 / 6.0))
+    out += values[i] * (b * fm1 * 0.5)
+    out += values[i + 1] * (b * f * -0.5)
+    out += values[i + 2] * (a * fp1 * (1.0 / 6.0))
+    return out
 
 
 def _dpsi_2000b(jd_tt: np.ndarray) -> np.ndarray:
@@ -685,7 +708,7 @@ def _dpsi_2000b(jd_tt: np.ndarray) -> np.ndarray:
     below 0.00005″ (``tests/test_sky.py`` computes the bound from the series and checks the
     interpolated values against it)."""
     out = _grid(jd_tt, _NUT_GRID_DAYS, _dpsi_2000b_exact)
-    return _dpsi_2000b_exact(jd_tt) if out is None else out[0]
+    return _dpsi_2000b_exact(jd_tt) if out is None else out
 
 
 def skyfield_2000b_nutation(t) -> None:
@@ -1011,7 +1034,7 @@ class Sky:
         preallocated outputs: the frame's rotation and nutation in longitude (from their
         grids), the ephemeris and the light's path."""
         n = t.tt.size
-        whole, frac = np.reshape(t.whole, -1), np.reshape(t.tdb_fraction, -1)
+        whole, frac = np.reshape(t.whole, -1), _tdb_fraction(t)
         jd_tt = np.reshape(t.tt, -1)
         stars = ecliptic_J2000_frame.rotation_at(t) if frame == "stars" else None  # constant
         out = np.empty((6, n))
@@ -1063,24 +1086,26 @@ class Sky:
         sun_p, sun_v, to_au = a.sun_p, a.sun_v, 1.0 / AU_KM
         out[5] = a.illuminated
 
-        def lon_lat(v):
-            e = rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v)
-            return _lon_lat(e, 0.0 if dpsi is None else dpsi)
+        def turned(v):
+            return rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v)
 
-        out[0], out[1], _ = lon_lat(sun)
-        out[2], out[3], moon_au = lon_lat(moon)
+        def lon(v):
+            return _lon(turned(v), dpsi)
+
+        out[0], out[1], _ = _lon_lat(turned(sun), dpsi)
+        out[2], out[3], moon_au = _lon_lat(turned(moon), dpsi)
         out[4] = moon_au * AU_KM
         for name in names:
             if name == "earth":
-                helio_out[name][:] = lon_lat(geocentre - sun_p)[0]
+                helio_out[name][:] = lon(geocentre - sun_p)
                 continue
             group = self._loaded.planets[_PLANET_CODES[name]]
             key = (0, _PLANET_CODES[name])
             p_now, v_now = group.evaluate(whole, frac)[key]
-            helio_out[name][:] = lon_lat(p_now * to_au - sun_p)[0]
-            geo_out[name][:] = lon_lat(_planet_apparent(
+            helio_out[name][:] = lon(p_now * to_au - sun_p)
+            geo_out[name][:] = lon(_planet_apparent(
                 group, key, whole, frac, p_now * to_au, v_now * to_au, obs, v_obs, sun_p,
-                sun_v))[0]
+                sun_v))
 
     def _require_kernel(self, what: str):
         """skyfield's own machinery needs an SPK file; arrays (DE406) have none."""
@@ -1126,6 +1151,20 @@ def _moment_text(jd: float) -> str:
     text = format_jd(jd)
     moment = " ".join(text.split(" ")[:3])
     return f"{moment} ({text.split(' = ')[1]})" if " = " in text else moment
+
+
+_TDB_GRID_DAYS = 8.0  # grid step for TDB - TT when dates are denser than this
+
+
+def _tdb_fraction(t) -> np.ndarray:
+    """skyfield's ``t.tdb_fraction`` (flat): TT's fraction plus ``tdb_minus_tt``, its
+    seven-term series, which for dates denser than one in 8 days comes from an 8-day grid by
+    cubic interpolation. The error bound (3/128)·A·(2πh/P)⁴ summed over its terms (1.66 ms
+    with a period of a year the largest) is below 3e-8 s; ``tests/test_sky.py`` checks it."""
+    whole, fraction = np.reshape(t.whole, -1), np.reshape(t.tt_fraction, -1)
+    on_grid = _grid(whole + fraction, _TDB_GRID_DAYS, tdb_minus_tt)
+    ahead = tdb_minus_tt(whole, fraction) if on_grid is None else on_grid
+    return fraction + ahead / SECONDS_PER_DAY
 
 
 def _delta_t(t) -> np.ndarray:
@@ -1218,11 +1257,26 @@ def _illuminated(sun_au, moon_au):
     return (1.0 + np.clip(cos_i, -1.0, 1.0)) / 2.0
 
 
-def _lon_lat(v, dpsi):
-    lon = np.mod(np.degrees(np.arctan2(v[1], v[0]) + dpsi), 360.0)
-    rho = np.hypot(v[0], v[1])
-    lat = np.degrees(np.arctan2(v[2], rho))
-    return lon, lat, np.hypot(rho, v[2])
+_DEG = 180.0 / math.pi
+
+
+def _lon(v, dpsi=None):
+    """Ecliptic longitude in degrees, 0-360, of the vectors ``v`` (3, n) turned by ``dpsi``
+    (radians; None for no turn). The wrap is ``np.mod``'s, written out: a tenth of its cost."""
+    lon = np.arctan2(v[1], v[0])
+    if dpsi is not None:
+        lon += dpsi
+    lon *= _DEG
+    lon -= 360.0 * np.floor(lon * (1.0 / 360.0))
+    return lon
+
+
+def _lon_lat(v, dpsi=None):
+    """(longitude, latitude in degrees, length) of the vectors ``v`` (3, n)."""
+    rho2 = v[0] * v[0] + v[1] * v[1]
+    lat = np.arctan2(v[2], np.sqrt(rho2))
+    lat *= _DEG
+    return _lon(v, dpsi), lat, np.sqrt(rho2 + v[2] * v[2])
 
 
 # --- eclipse geometry (used by engine/eclipses.py; self-contained, keep it last) -------------

@@ -867,12 +867,17 @@ def test_grid_taylor_order_grows_with_slip(sky):
     from engine.sky import _taylor_orders
 
     moon = next(g for g in sky._loaded.groups if (3, 301) in g.keys)
-    coef = moon.coef[1000:1100]
-    eps_of = lambda seconds: 2.0 * seconds / moon.intlen  # noqa: E731
-    assert _taylor_orders(coef, eps_of(0.01), moon.intlen, 1.0)[0] == 1
-    orders = [_taylor_orders(coef, eps_of(s), moon.intlen, 1.0) for s in (0.01, 10.0, 300.0)]
-    assert [o[0] for o in orders] == sorted(o[0] for o in orders)
-    assert _taylor_orders(coef, eps_of(20 * 86400.0), moon.intlen, 1.0) is None
+    top = moon._largest_terms(1000, 100)
+    assert np.all(top >= np.abs(moon.coef[1000:1100]).max(axis=(0, 1)))  # a block's bound them
+
+    def orders(seconds):
+        return _taylor_orders(top, moon.nterms, 2.0 * seconds / moon.intlen, moon.intlen, 1.0)
+
+    assert orders(0.01) == (1, 0)
+    found = [orders(s) for s in (0.01, 10.0, 300.0, 600.0)]
+    assert [o[0] for o in found] == sorted(o[0] for o in found)
+    assert found[-1][0] == 3
+    assert orders(20 * 86400.0) is None
 
 
 def test_grid_path_ancient(sky406):
@@ -887,3 +892,14 @@ def test_grid_path_ancient(sky406):
                 assert np.max(np.abs(pos - ref[key][0])) < 1e-5, (step, key)
                 assert np.max(np.abs(vel - ref[key][1])) < (
                     _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), (step, key)
+
+
+def test_tdb_from_its_grid():
+    # TDB - TT from an 8-day grid for dense dates: within 3e-8 s of skyfield's own series
+    # (the interpolation bound in _tdb_fraction's docstring), and exact for sparse dates.
+    from engine.sky import _tdb_fraction
+
+    for start, step in ((2415020.8, 0.37), (990000.8, 1.0), (2451545.0, 30.0)):
+        t = _timescale().ut1_jd(start + step * np.arange(20000))
+        diff = np.max(np.abs(_tdb_fraction(t) - t.tdb_fraction)) * 86400.0
+        assert diff < (3e-8 if step < 8 else 1e-10), (start, step, diff)
