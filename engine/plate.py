@@ -229,7 +229,7 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
                              "this needs (a loop of meshes that cannot close, or positions "
                              "fixed by at_mm); change teeth or modules in the loop")
     if loose:
-        plate.notes.append("not tied to the rest by any mesh with a module, so placed apart "
+        plate.notes.append("not tied to another axis by any mesh with a module, so placed apart "
                            "(set at_mm, or module_mm on its meshes): "
                            + ", ".join(label[a] for a in loose))
     return pos
@@ -276,7 +276,7 @@ def _greedy(axes, nbrs, fixed, reach, rng):
         ax = max(todo, key=lambda a: (len(placed_n[a]), len(nbrs[a]), -order.index(a)))
         known = placed_n[ax]
         if not known:
-            if len(pos) > 0 and any(nbrs[a] for a in pos) and not nbrs[ax]:
+            if not nbrs[ax] and len(axes) > 1:  # spaced by rule, not by a centre distance
                 loose.append(ax)
             pos[ax] = _apart(pos, reach, ax)
             continue

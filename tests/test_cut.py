@@ -335,6 +335,16 @@ def test_every_demo_train_gets_a_plate():
     assert any("drilled at" in n for n in frame.notes)
 
 
+def test_a_plate_whose_axes_no_module_ties_says_they_were_placed_apart():
+    # the planet dial's frame meshes give no module: its frame axes are spaced by rule, not
+    # by any centre distance, and the plate must say so rather than look measured
+    train = load_train(HERE.parent / "engine" / "trains" / "planet_dial.toml")
+    (frame,) = [p for p in place_plates(train, solve(train), {}) if p.mount == "frame"]
+    assert not frame.ties
+    (note,) = [n for n in frame.notes if "placed apart" in n]
+    assert "day" in note and "mars_second" in note
+
+
 def test_a_train_without_modules_has_nothing_to_cut(tmp_path, capsys):
     # the 59-tooth moon disc gives no module: no wheel to draw, so no plate or sheet either
     out = tmp_path / "out"
