@@ -202,6 +202,24 @@ async def test_after_saving_the_file_column_is_the_file_just_written(tmp_path, m
 
 
 @sync
+async def test_open_screen_path_field_shows_the_end_of_a_long_path(tmp_path, monkeypatch):
+    """At 80 columns the path field is narrower than a deep folder's path: it shows the
+    path's end (the folder's own name), not its start (which reads like a folder above)."""
+    start = tmp_path / "a_rather_long_folder_name" / "and_another_long_one" / "the_end_folder"
+    start.mkdir(parents=True)
+    monkeypatch.chdir(start)
+    app = make_app()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, OpenScreen)
+        field = app.screen.query_one("#open-path", Input)
+        assert field.value == str(start) and len(field.value) > field.size.width
+        assert field.scroll_x + field.size.width >= len(field.value)
+
+
+@sync
 async def test_open_a_file_a_bad_file_and_a_demo(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     other = tmp_path / "moon.toml"

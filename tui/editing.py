@@ -478,8 +478,8 @@ class OpenScreen(ClosesOnce, Screen):
         self.query_one("#open-title", Static).update(
             Text("open a train, or start one from a demo", style=f"bold {ui(self)['accent']}"))
         self._folder_title()
-        field = self.query_one("#open-path", Input)
-        field.cursor_position = len(field.value)
+        # the end of a long path in view (the folder's own name), once the field has a width
+        self.call_after_refresh(self._path_end)
         recent = self.query_one("#open-recent", OptionList)
         recent.border_title = "recent"
         files = recent_files()
@@ -491,6 +491,11 @@ class OpenScreen(ClosesOnce, Screen):
         demos.border_title = "new train from a demo"
         demos.add_options([Option(name, id=name) for name in demo_names()])
         self.query_one("#open-tree").focus()
+
+    def _path_end(self) -> None:
+        field = self.query_one("#open-path", Input)
+        field.cursor_position = 0  # a move, so the field scrolls to the cursor at the end
+        field.cursor_position = len(field.value)
 
     def _folder_title(self) -> None:
         tree = self.query_one("#open-tree", TrainFiles)
