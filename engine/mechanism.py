@@ -46,7 +46,12 @@ def sky_for(train: Train, ephemeris=None):
     ``--ephemeris``), else the one its ``[epoch] ephemeris`` names, else the bundled DE421."""
     from .sky import Sky  # only the sky module touches skyfield
 
-    return Sky(ephemeris or train.epoch.ephemeris)
+    if ephemeris is not None or train.epoch.ephemeris is None:
+        return Sky(ephemeris)
+    try:
+        return Sky(train.epoch.ephemeris)
+    except SkyError as exc:  # the file asked for it: say which file and key
+        raise TrainError(train.source, "[epoch] ephemeris", str(exc)) from None
 
 
 def build(train: Train, sky=None) -> Mechanism:

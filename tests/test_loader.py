@@ -429,3 +429,27 @@ def test_train_files_named_in_the_guides_exist():
             named += 1
             assert (root / path).is_file(), f"{md.name} names {path}, which does not exist"
     assert named >= 3
+
+
+def test_an_ephemeris_the_file_names_but_cannot_be_had_names_the_file_and_key(
+        tmp_path, monkeypatch, capsys):
+    """A train whose [epoch] ephemeris is not installed: one line naming the file and the
+    key (the ephemeris itself is stood in for, so the test holds with or without it)."""
+    import engine.sky
+    from engine.errors import SkyError
+
+    def missing(ephemeris=None):
+        if ephemeris == "de440":
+            raise SkyError("the DE440 ephemeris is not installed; run `pip install "
+                           "'wheelwork[de440]'`")
+        return real(ephemeris)
+
+    real = engine.sky.Sky
+    monkeypatch.setattr(engine.sky, "Sky", missing)
+    path = tmp_path / "wants_de440.toml"
+    text = (Path(__file__).parent.parent / "engine" / "trains" / "moon_disc_59.toml").read_text()
+    path.write_text(text.replace("[epoch]\n", '[epoch]\nephemeris = "de440"\n', 1))
+    assert main(["drift", str(path), "--years", "1"]) == 1
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1
+    assert "wants_de440.toml: [epoch] ephemeris: the DE440 ephemeris is not installed" in err
