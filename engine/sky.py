@@ -52,9 +52,11 @@ from J2000), the first-order correction that ignores the slow tilt of the eclipt
 from __future__ import annotations
 
 import atexit
+import contextlib
 import functools
 import math
 import os
+import threading
 import warnings
 from dataclasses import dataclass, field, fields
 from typing import NamedTuple
@@ -452,10 +454,23 @@ def _blas_controller():
     return ThreadpoolController()
 
 
+_blas_held = threading.local()
+
+
+@contextlib.contextmanager
 def _one_blas_thread():
     """A context in which BLAS runs on one thread: its idle workers would otherwise spin on
-    the second core, and the product's numbers must not depend on the thread count."""
-    return _blas_controller().limit(limits=1, user_api="blas")
+    the second core, and the product's numbers must not depend on the thread count. Nested
+    uses cost nothing (the batched pipeline holds it once for all its batches)."""
+    if getattr(_blas_held, "on", False):
+        yield
+        return
+    _blas_held.on = True
+    try:
+        with _blas_controller().limit(limits=1, user_api="blas"):
+            yield
+    finally:
+        _blas_held.on = False
 
 
 @dataclass(frozen=True)
@@ -1040,15 +1055,16 @@ class Sky:
         out = np.empty((6, n))
         geo = {name: np.empty(n) for name in names if name != "earth"}
         helio = {name: np.empty(n) for name in names}
-        for i in range(0, n, _BATCH):
-            sl = slice(i, min(i + _BATCH, n))
-            # Rotation and nutation batch by batch (their grids are anchored, so batches
-            # agree): interpolating over all dates at once would leave the cache.
-            rot = _ecliptic_rotation(whole[sl] + frac[sl]) if stars is None else stars
-            dpsi = _dpsi_2000b(jd_tt[sl]) if stars is None else None
-            self._fast(whole[sl], frac[sl], rot, dpsi, site, None if site is None else t[sl],
-                       names, out[:, sl], {k: v[sl] for k, v in geo.items()},
-                       {k: v[sl] for k, v in helio.items()})
+        with _one_blas_thread():  # once for every batch's ephemeris products
+            for i in range(0, n, _BATCH):
+                sl = slice(i, min(i + _BATCH, n))
+                # Rotation and nutation batch by batch (their grids are anchored, so batches
+                # agree): interpolating over all dates at once would leave the cache.
+                rot = _ecliptic_rotation(whole[sl] + frac[sl]) if stars is None else stars
+                dpsi = _dpsi_2000b(jd_tt[sl]) if stars is None else None
+                self._fast(whole[sl], frac[sl], rot, dpsi, site, None if site is None else t[sl],
+                           names, out[:, sl], {k: v[sl] for k, v in geo.items()},
+                           {k: v[sl] for k, v in helio.items()})
         return (*out, jd_tt, _delta_t(t)), geo, helio
 
     def _apparent(self, whole, frac, site=None, t=None) -> _Apparent:
@@ -1168,7 +1184,9 @@ def _tdb_fraction(t) -> np.ndarray:
 
 
 def _delta_t(t) -> np.ndarray:
-    return np.asarray(t.delta_t, dtype=float) * np.ones(np.shape(t.tt))
+    """ΔT (s) of a Time made by ``ut1_jd``: the value its TT was made with (TT = UT + ΔT to
+    the last bit), not ΔT evaluated once more at that TT (which differs by below 1e-7 s)."""
+    return np.asarray(t.tt_fraction, dtype=float) * SECONDS_PER_DAY * np.ones(np.shape(t.tt))
 
 
 def _light_time(target_au, target_au_per_d, observer_au):
