@@ -107,6 +107,18 @@ class WheelPlace:
     col_right: float
 
 
+def _fit_label(name: str, teeth: int, room: int) -> str:
+    """``name teeth`` in at most ``room`` cells: a name too long is shortened (…), never the
+    tooth count, which a cut would turn into another number (65 shown as 6)."""
+    count = f" {teeth}" if teeth else ""
+    if len(name) + len(count) <= room:
+        return name + count
+    keep = room - len(count) - 1
+    if keep >= 1:
+        return name[:keep] + "…" + count
+    return count.strip() if count and len(count) - 1 <= room else name[:room]
+
+
 def place_train(layout: TrainLayout, width: int, height: int) -> dict[str, WheelPlace]:
     """Where each arbor of ``layout`` goes on a ``width`` × ``height`` cell canvas: columns
     share the width, rows the height; a wheel's radius grows with its largest tooth count."""
@@ -115,18 +127,25 @@ def place_train(layout: TrainLayout, width: int, height: int) -> dict[str, Wheel
     cw = width / layout.ncols
     rh = height / max(layout.nrows, 1)
     rmax = max(min(cw / 2.0 - 1.0, rh - 1.8), 1.0)
+    # rows of arbors closer than three cells leave no row between a wheel and the one below
+    # it for a label: the label then goes beside the wheel, on the row through its centre,
+    # when it fits there whole
+    beside = rh < 3.0
     out = {}
     for name, s in layout.spots.items():
         x = (s.col + 0.5) * cw
         y = s.row * rh + (rh - 1.2) / 2.0
         frac = s.teeth / layout.max_teeth if layout.max_teeth else 0.5
         r = max(rmax * (0.35 + 0.65 * frac), 1.0)
+        left, right = s.col * cw + 0.5, (s.col + 1) * cw - 1.0
         label = f"{name} {s.teeth}" if s.teeth else name
-        if len(label) > cw - 1:
-            label = label[: max(int(cw) - 1, 1)]
+        if beside and len(label) <= right - (math.ceil(x + r) + 1):  # whole, or below
+            out[name] = WheelPlace(x, y, r, label, math.ceil(x + r) + 1, math.floor(y),
+                                   left, right)
+            continue
+        label = _fit_label(name, s.teeth, max(int(cw) - 1, 1))
         x0 = round(x - len(label) / 2.0)
-        out[name] = WheelPlace(x, y, r, label, x0, round(y + 0.5 * r + 0.6),
-                               s.col * cw + 0.5, (s.col + 1) * cw - 1.0)
+        out[name] = WheelPlace(x, y, r, label, x0, round(y + 0.5 * r + 0.6), left, right)
     return out
 
 

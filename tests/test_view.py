@@ -110,3 +110,39 @@ def test_place_train_and_the_hit_test_agree_with_every_wheel():
     assert picked_wheel(train, "sun_first") == "sun_w1"  # 59 teeth beside an 11-leaf pinion
     assert picked_wheel(train, "sun") == "sun_w3"
     assert picked_wheel(train, "nowhere") is None
+
+
+def test_train_labels_are_whole_and_clear_of_other_wheels_in_every_demo():
+    """The bench's train canvas is 14 rows high: with six arbors in a column (the table
+    orrery) a label under its wheel fell on the next wheel's row, whose turning radius was
+    drawn over the label's letters; in a narrow column a label was cut at its end, turning
+    a tooth count of 65 into 6. Every label keeps its count whole and is clear of the other
+    wheels' radius markers and labels."""
+    import math
+
+    from engine.demos import demo_names
+    from engine.view import place_train
+
+    def cells_of_marker(q):  # where the turning radius can be drawn
+        return {(x, y) for y in range(math.floor(q.y - 0.45 * q.r), math.floor(q.y + 0.45 * q.r) + 1)
+                for x in range(math.floor(q.x - 0.9 * q.r), math.floor(q.x + 0.9 * q.r) + 1)}
+
+    for name in demo_names():
+        train = load_train(demo_path(name))
+        layout = train_layout(train)
+        for width in (118, 158, 198):
+            places = place_train(layout, width, 14)
+            for a, p in places.items():
+                teeth = max((train.wheels[w].teeth for w in train.arbors[a].wheels), default=0)
+                # the count whole (a cut one reads as another number); the name may be cut
+                whole = f"{a} {teeth}" if teeth else a
+                assert p.label == whole or (p.label.endswith(f"… {teeth}")
+                                            and whole.startswith(p.label[:-len(f"… {teeth}")])
+                                            ), (name, width, a, p.label)
+                cells = {(x, p.label_row) for x in range(p.label_x, p.label_x + len(p.label))}
+                for b, q in places.items():
+                    if b == a:
+                        continue
+                    other = {(x, q.label_row) for x in range(q.label_x, q.label_x + len(q.label))}
+                    assert not cells & cells_of_marker(q), (name, width, a, b)
+                    assert not cells & other, (name, width, a, b)
