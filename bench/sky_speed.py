@@ -17,10 +17,12 @@ dates inside the same century (1900-2000): regular (one a day at 07:12 UT) and s
   their spacing, ours may (the ephemeris can be evaluated once per record on a regular grid),
   so each set has its own rows, and each ratio divides a peer's time on the same dates by ours.
 
-Both skyfield pipelines are called on 2,048 dates at a time (``--peer-batch``): in cache-sized
-batches skyfield is quicker than in one call on all 36,525 dates, and the fast path batches its
-own work likewise; row B1 times the fair peer in one call on the regular dates, to show what
-the batches give it.
+skyfield gets its dates in batches, as the fast path batches its own work: each of its
+pipelines is timed on 2,048 and on 16,384 dates a call and keeps the quicker (small batches
+keep to the cache; long ones make the 2000A series cheaper a date; one call on all 36,525
+dates spends more in the system on memory). ``--peer-batch N`` times one size only (0: one
+call). Row B1 times the fair peer in one call on the regular dates, to show what the batches
+give it.
 
 It prints CPU microseconds a date (CPU time of this process and its threads, best of N
 interleaved rounds, so that a change in the load of a shared machine falls on every pipeline
@@ -55,9 +57,10 @@ KEYS = tuple(k for keys in BODIES.values() for k in keys)
 N_DATES = 36525  # one Julian century of days
 JD_1900 = 2415020.5  # 1900-01-01 0h UT
 SEED = 1900
-# Dates per skyfield call: in cache-sized batches skyfield's pipeline is quicker than in one
-# call on 36,525 dates (the bench shows both for the fair peer), and a fair peer gets that.
-PEER_BATCH = 2048
+# Dates per skyfield call, each pipeline timed at each and keeping the quicker: small batches
+# keep to the cache, long ones make the 2000A series cheaper a date; one call on all 36,525
+# dates spends more in the system on memory.
+PEER_BATCHES = (2048, 16384)
 GOAL_FAIR, GOAL_DEFAULT, GOAL_ARCSEC = 10.0, 40.0, 0.003
 WIDTH = 98
 
@@ -140,35 +143,37 @@ def _ratio(x: float | None) -> str:
     return f"{'':>8s}" if x is None else f"{math.floor(x * 10) / 10:7.1f}x"  # rounded down
 
 
-def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int, batch: int) -> bool:
+def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int,
+           batches: tuple[int, ...]) -> bool:
     """Time and check one frame; True when every goal is met."""
     reg = sets["regular"]
     # Warm every pipeline (imports, caches, ephemeris pages) on a few dates first.
     sky.at(reg[:100], frame)
     for fair in (False, True):
         _skyfield(sky, reg[:100], frame, fair, True, 0)
-    # Interleaved rounds: every pipeline is timed once per round (the fast path, which takes
-    # a few tens of milliseconds, three times), so a change in the machine's load falls on
-    # all of them alike; each keeps its best.
+    # Interleaved rounds: every pipeline is timed once per round at each batch size (the fast
+    # path, which takes a few tens of milliseconds, three times), so a change in the machine's
+    # load falls on all of them alike; each keeps its best, and skyfield its quickest size.
     # The fair peer gets the 2000B hook only where skyfield's own pipeline computed nutation
     # (found in the run, on its Time): the fixed J2000 ecliptic needs none, and the hook
     # would charge our nutation to it. B1 is B in one call, on the regular dates only, to show
     # what the batches give the peers.
-    one_call = 0 < batch < reg.size
-    times, outs = {}, {}
+    one_call = 0 not in batches
+    times, outs, size = {}, {}, {}
     for _ in range(repeat):
         for name, jd in sets.items():
-            for row, fn, runs in (
-                    ("A", lambda jd=jd: _skyfield(sky, jd, frame, False, True, batch), 1),
-                    ("B", lambda jd=jd, name=name: _skyfield(
-                        sky, jd, frame, True, outs["A", name]["nutation"], batch), 1),
-                    ("B1", lambda jd=jd, name=name: _skyfield(
-                        sky, jd, frame, True, outs["A", name]["nutation"], 0), 1),
-                    ("C", lambda jd=jd: sky.at(jd, frame), 3)):
-                if row == "B1" and not (one_call and name == "regular"):
-                    continue
-                t, outs[row, name] = _best(fn, runs)
-                times[row, name] = min(t, times.get((row, name), t))
+            runs = [("A", b, lambda jd=jd, b=b: _skyfield(sky, jd, frame, False, True, b), 1)
+                    for b in batches]
+            runs += [("B", b, lambda jd=jd, b=b, name=name: _skyfield(
+                sky, jd, frame, True, outs["A", name]["nutation"], b), 1) for b in batches]
+            if one_call and name == "regular":
+                runs.append(("B1", 0, lambda jd=jd: _skyfield(
+                    sky, jd, frame, True, outs["A", "regular"]["nutation"], 0), 1))
+            runs.append(("C", None, lambda jd=jd: sky.at(jd, frame), 3))
+            for row, b, fn, n in runs:
+                t, outs[row, name] = _best(fn, n)
+                if t < times.get((row, name), math.inf):
+                    times[row, name], size[row, name] = t, b
     nutates = {name: outs["A", name]["nutation"] for name in sets}
 
     what = ("true ecliptic and equinox of date" if frame == "equinox"
@@ -188,20 +193,21 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int, batch
               "run), so A and B differ only by the deflection.")
     elif not all(nutates.values()):
         _wrap("WARNING: skyfield computed nutation on some sets of dates and not on others.")
-    if batch:
-        _wrap(f"A and B call skyfield on {batch} dates at a time (--peer-batch), which is "
-              "quicker for it than one call on all dates" + (
-                  " (row B1: B in one call)" if one_call else "")
-              + "; the fast path works in batches of its own.")
-    else:
-        _wrap("A and B call skyfield once on all dates (--peer-batch 0).")
+    _wrap("skyfield gets its dates in batches, as the fast path batches its own work: each "
+          "of A and B is timed at "
+          + (f"{len(batches)} sizes ({', '.join(map(str, batches))} dates a call, "
+             "--peer-batch) and keeps the quicker; column 'call'" if len(batches) > 1
+             else "one size (--peer-batch); column 'call'")
+          + " gives the dates a call, 'all' for one call"
+          + (" (row B1: B in one call)." if one_call else "."))
     scattered = (f"; scattered = as many, uniformly random in the same century (seed {SEED}), "
                  "sorted" if "scattered" in sets else "")
     _wrap(f"dates: regular = one a day at 07:12 UT from 1900-01-01{scattered}. Each ratio "
           "divides the peer's time on the same dates by the row's.")
-    print(f"  {'':24s} {'':9s} {'cpu':>8s} {'B':>8s} {'A':>8s}   largest difference from A")
-    print(f"  {'pipeline':24s} {'dates':9s} {'us/date':>8s} {'/ this':>8s} {'/ this':>8s}   "
-          f"{'Sun':>10s} {'Moon':>10s}")
+    print(f"  {'':24s} {'':9s} {'':>6s} {'cpu':>8s} {'B':>8s} {'A':>8s}   "
+          "largest difference from A")
+    print(f"  {'pipeline':24s} {'dates':9s} {'call':>6s} {'us/date':>8s} {'/ this':>8s} "
+          f"{'/ this':>8s}   {'Sun':>10s} {'Moon':>10s}")
     labels = {"A": "A skyfield default", "B": "B skyfield same physics",
               "B1": "B1 B in one call", "C": "C fast path (ours)"}
     worst = {}
@@ -220,7 +226,9 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int, batch
                 diffs = " ".join(f"{d:9.6f}\"" for d in by_body)
                 if row == "C":
                     worst[name] = max(by_body)
-            print(f"  {labels[row]:24s} {name:9s} {t / jd.size * 1e6:8.2f} {_ratio(vs_b)} "
+            b = size[row, name]
+            call = "" if b is None else "all" if not 0 < b < jd.size else str(b)
+            print(f"  {labels[row]:24s} {name:9s} {call:>6s} {t / jd.size * 1e6:8.2f} {_ratio(vs_b)} "
                   f"{_ratio(vs_a)}   {diffs}")
 
     def mark(ok: bool) -> str:
@@ -281,19 +289,22 @@ def main() -> int:
     ap.add_argument("--no-planets", action="store_true", help="skip the planets' part")
     ap.add_argument("--no-scattered", action="store_true",
                     help="time regular dates only (skip the scattered set)")
-    ap.add_argument("--peer-batch", type=int, default=PEER_BATCH, metavar="N",
-                    help=f"dates per skyfield call (default {PEER_BATCH}; 0: all in one call)")
+    ap.add_argument("--peer-batch", type=int, metavar="N",
+                    help="dates per skyfield call, one size for both its pipelines (0: all in "
+                         "one call; by default each is timed at "
+                         f"{' and '.join(map(str, PEER_BATCHES))} and keeps the quicker)")
     args = ap.parse_args()
     if args.repeat < 1:
         ap.error(f"--repeat must be at least 1, not {args.repeat}")
-    if args.peer_batch < 0:
+    if args.peer_batch is not None and args.peer_batch < 0:
         ap.error(f"--peer-batch must be 0 or more, not {args.peer_batch}")
 
     sky = Sky()
     print(f"{sky.name}; the machine may be shared, so read the ratios")
     sets = _date_sets(not args.no_scattered)
     frames = ("equinox", "stars") if args.frame == "both" else (args.frame,)
-    met = [_frame(sky, sets, frame, args.repeat, args.peer_batch) for frame in frames]
+    batches = PEER_BATCHES if args.peer_batch is None else (args.peer_batch,)
+    met = [_frame(sky, sets, frame, args.repeat, batches) for frame in frames]
     print(f"\nall speed and accuracy goals met: {'yes' if all(met) else 'no'}")
     if not args.no_planets:
         for frame in frames:
