@@ -826,8 +826,9 @@ class SkyState:
     ``delta_t_sigma_s`` is one standard error of ``delta_t_s`` (:func:`delta_t_sigma_s`):
     a fraction of a second today, minutes to half an hour in antiquity.
 
-    Computed on demand: ``elongation_deg``, ``node_deg``, ``perigee_deg``,
-    ``moon_mean_anomaly_deg`` and ``delta_t_sigma_s`` follow from the other fields, so each is
+    Computed on demand: ``elongation_deg``, ``illuminated``, ``node_deg``, ``perigee_deg``,
+    ``moon_mean_anomaly_deg`` and ``delta_t_sigma_s`` follow from the other fields (the lit
+    fraction from the Sun's and Moon's vectors the pipeline keeps for it), so each is
     worked out on its first read and then kept; a caller that never reads one never pays for it.
     They read like the other fields (same shape, float arrays).
 
@@ -845,11 +846,13 @@ class SkyState:
     sun_lat_deg: np.ndarray
     moon_lon_deg: np.ndarray
     moon_lat_deg: np.ndarray
-    illuminated: np.ndarray
     moon_km: np.ndarray
     frame: str = "equinox"
     planet_lon_deg: dict = field(default_factory=dict)
     planet_helio_lon_deg: dict = field(default_factory=dict)
+    # The Sun and Moon from the observer (au, ICRS axes, (6, dates)) after light time and
+    # before aberration: what the lit fraction is worked out from, on demand.
+    _light_vectors: np.ndarray | None = field(default=None, repr=False, compare=False)
 
     # The derived fields: each a function of the fields above, computed on its first read and
     # kept in the instance (functools.cached_property writes the instance's __dict__, which a
@@ -875,6 +878,11 @@ class SkyState:
     def perigee_deg(self) -> np.ndarray:
         jd_tt = np.ravel(self.jd_tt)
         return self._shaped(to_frame(self._mean("apsis"), jd_tt, self.frame))
+
+    @functools.cached_property
+    def illuminated(self) -> np.ndarray:
+        v = self._light_vectors
+        return self._shaped(_illuminated(v[:3], v[3:]))
 
     @functools.cached_property
     def moon_mean_anomaly_deg(self) -> np.ndarray:
@@ -906,16 +914,15 @@ class SkyState:
 
 
 _STATE_ARRAYS = tuple(f.name for f in fields(SkyState) if f.name not in (
-    "frame", "planet_lon_deg", "planet_helio_lon_deg"))
+    "frame", "planet_lon_deg", "planet_helio_lon_deg", "_light_vectors"))
 
 
 class _Apparent(NamedTuple):
-    """What :meth:`Sky._apparent` gives: apparent Sun and Moon (au, ICRS axes), the Moon's lit
-    fraction, and the geometric positions and observer motion the planets' light path needs."""
+    """What :meth:`Sky._apparent` gives: apparent Sun and Moon (au, ICRS axes), and the
+    geometric positions and observer motion the planets' light path needs."""
 
     sun: np.ndarray
     moon: np.ndarray
-    illuminated: np.ndarray
     geocentre: np.ndarray
     obs: np.ndarray
     v_obs: np.ndarray
@@ -969,6 +976,7 @@ class Sky:
         if flat.size == 0:
             empty = np.zeros(shape)
             return SkyState(**{f: empty for f in _STATE_ARRAYS}, frame=frame,
+                            _light_vectors=np.zeros((6, 0)),
                             planet_lon_deg={n: empty for n in names if n != "earth"},
                             planet_helio_lon_deg={n: empty for n in names})
         use_fast = fast and self._loaded.groups is not None and all(
@@ -978,12 +986,13 @@ class Sky:
             out, geo, helio = self._fast_all(_timescale().ut1_jd(flat), frame, site, names)
         else:
             *out, geo, helio = self._slow(_timescale().ut1_jd(flat), frame, site, names)
-        sun_lon, sun_lat, moon_lon, moon_lat, moon_km, illum, jd_tt, delta_t = out
+        sun_lon, sun_lat, moon_lon, moon_lat, moon_km, vectors, jd_tt, delta_t = out
         # only what the pipeline gives: the derived fields are SkyState's, on first read
         values = dict(jd_ut=flat, jd_tt=jd_tt, delta_t_s=delta_t, sun_lon_deg=sun_lon,
                       sun_lat_deg=sun_lat, moon_lon_deg=moon_lon, moon_lat_deg=moon_lat,
-                      illuminated=illum, moon_km=moon_km)
+                      moon_km=moon_km)
         return SkyState(**{k: np.reshape(v, shape) for k, v in values.items()}, frame=frame,
+                        _light_vectors=vectors,
                         planet_lon_deg={n: np.reshape(v, shape) for n, v in geo.items()},
                         planet_helio_lon_deg={n: np.reshape(v, shape) for n, v in helio.items()})
 
@@ -1052,7 +1061,8 @@ class Sky:
         whole, frac = np.reshape(t.whole, -1), _tdb_fraction(t)
         jd_tt = np.reshape(t.tt, -1)
         stars = ecliptic_J2000_frame.rotation_at(t) if frame == "stars" else None  # constant
-        out = np.empty((6, n))
+        out = np.empty((5, n))
+        vectors = np.empty((6, n))  # Sun and Moon before aberration, for the lit fraction
         geo = {name: np.empty(n) for name in names if name != "earth"}
         helio = {name: np.empty(n) for name in names}
         with _one_blas_thread():  # once for every batch's ephemeris products
@@ -1063,11 +1073,11 @@ class Sky:
                 rot = _ecliptic_rotation(whole[sl] + frac[sl]) if stars is None else stars
                 dpsi = _dpsi_2000b(jd_tt[sl]) if stars is None else None
                 self._fast(whole[sl], frac[sl], rot, dpsi, site, None if site is None else t[sl],
-                           names, out[:, sl], {k: v[sl] for k, v in geo.items()},
+                           names, out[:, sl], vectors[:, sl], {k: v[sl] for k, v in geo.items()},
                            {k: v[sl] for k, v in helio.items()})
-        return (*out, jd_tt, _delta_t(t)), geo, helio
+        return (*out, vectors, jd_tt, _delta_t(t)), geo, helio
 
-    def _apparent(self, whole, frac, site=None, t=None) -> _Apparent:
+    def _apparent(self, whole, frac, site=None, t=None, vectors=None) -> _Apparent:
         """Apparent Sun and Moon (ICRS axes, au) from the Earth's centre or a site at TDB dates
         ``whole + frac``, with the positions the planets' light path needs."""
         pv = {}
@@ -1092,15 +1102,15 @@ class Sky:
         sun_p, sun_v = sun_p * to_au, sun_v * to_au
         sun, sun_lt = _light_time(sun_p, sun_v, obs)
         moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
-        illuminated = _illuminated(sun, moon)
+        if vectors is not None:  # kept for the lit fraction, before aberration
+            vectors[:3], vectors[3:] = sun, moon
         _add_aberration((sun, moon), (sun_lt, moon_lt), v_obs)
-        return _Apparent(sun, moon, illuminated, geocentre, obs, v_obs, sun_p, sun_v)
+        return _Apparent(sun, moon, geocentre, obs, v_obs, sun_p, sun_v)
 
-    def _fast(self, whole, frac, rot, dpsi, site, t, names, out, geo_out, helio_out):
-        a = self._apparent(whole, frac, site, t)
+    def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
+        a = self._apparent(whole, frac, site, t, vectors)
         sun, moon, geocentre, obs, v_obs = a.sun, a.moon, a.geocentre, a.obs, a.v_obs
         sun_p, sun_v, to_au = a.sun_p, a.sun_v, 1.0 / AU_KM
-        out[5] = a.illuminated
 
         def turned(v):
             return rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v)
@@ -1139,7 +1149,7 @@ class Sky:
         here = observer.at(t)
         sun_astro = here.observe(self._sun)
         moon_astro = here.observe(self._moon)
-        illum = _illuminated(sun_astro.xyz.au, moon_astro.xyz.au)
+        vectors = np.concatenate((sun_astro.xyz.au, moon_astro.xyz.au)).reshape(6, -1)
         f = ecliptic_frame if frame == "equinox" else ecliptic_J2000_frame
         slat, slon, _ = sun_astro.apparent().frame_latlon(f)
         mlat, mlon, mdist = moon_astro.apparent().frame_latlon(f)
@@ -1151,7 +1161,7 @@ class Sky:
                 geo[name] = lon.degrees % 360.0
             helio[name] = (body - self._sun).at(t).frame_latlon(f)[1].degrees % 360.0
         return (slon.degrees % 360.0, slat.degrees, mlon.degrees % 360.0, mlat.degrees,
-                mdist.km, illum, t.tt, _delta_t(t), geo, helio)
+                mdist.km, vectors, t.tt, _delta_t(t), geo, helio)
 
 
 def _day_text(jd: float) -> str:
@@ -1169,14 +1179,14 @@ def _moment_text(jd: float) -> str:
     return f"{moment} ({text.split(' = ')[1]})" if " = " in text else moment
 
 
-_TDB_GRID_DAYS = 8.0  # grid step for TDB - TT when dates are denser than this
+_TDB_GRID_DAYS = 16.0  # grid step for TDB - TT when dates are denser than this
 
 
 def _tdb_fraction(t) -> np.ndarray:
     """skyfield's ``t.tdb_fraction`` (flat): TT's fraction plus ``tdb_minus_tt``, its
-    seven-term series, which for dates denser than one in 8 days comes from an 8-day grid by
+    seven-term series, which for dates denser than one in 16 days comes from a 16-day grid by
     cubic interpolation. The error bound (3/128)·A·(2πh/P)⁴ summed over its terms (1.66 ms
-    with a period of a year the largest) is below 3e-8 s; ``tests/test_sky.py`` checks it."""
+    with a period of a year the largest) is below 3e-7 s; ``tests/test_sky.py`` checks it."""
     whole, fraction = np.reshape(t.whole, -1), np.reshape(t.tt_fraction, -1)
     on_grid = _grid(whole + fraction, _TDB_GRID_DAYS, tdb_minus_tt)
     ahead = tdb_minus_tt(whole, fraction) if on_grid is None else on_grid
