@@ -79,9 +79,17 @@ from .fitting import (
     unwrap_deg,
     wrap_deg,
 )
-from .kinds import KINDS, NUTATION, NUTATION_AMPLITUDE_DEG, days_rate, sky_at, true_value
+from .kinds import (
+    KINDS,
+    MOON_SWINGS,
+    NUTATION,
+    NUTATION_AMPLITUDE_DEG,
+    days_rate,
+    sky_at,
+    true_value,
+)
 from .kinematics import pin_slot_lead_turns
-from .periods import JULIAN_CENTURY_DAYS, SECONDS_PER_DAY
+from .periods import JULIAN_CENTURY_DAYS, PERIODS, SECONDS_PER_DAY
 
 if TYPE_CHECKING:
     from .sky import Site
@@ -491,6 +499,13 @@ def grid(jd_start: float, jd_end: float, step_days: float, *, include_end: bool 
     return n
 
 
+#: Seen from a place on the Earth rather than its centre, the Moon's parallax (up to about a
+#: degree) swings its longitude once for each turn of the Earth under it: a sidereal day
+#: (0.99726957 d) against the sidereal month, 1.0350 days (from memory).
+DAILY_PARALLAX = ("daily parallax seen from the site",
+                  1.0 / (1.0 / 0.99726957 - 1.0 / PERIODS["sidereal_month"].days))
+
+
 def step_note(name: str, step: float, motions) -> str | None:
     """One line when a grid ``step`` (days) cannot follow the fastest of ``motions``
     (``(what, period_days)`` pairs): a sampled motion is seen only when the step is at most
@@ -549,10 +564,11 @@ class _Chunks:
     round from the first date's value: its unwrapped form (see the module docstring)."""
 
     def __init__(self, mech, jd0: float, n: int, step: float, frame: str,
-                 thresholds: dict[str, float | None], keep_series: bool):
+                 thresholds: dict[str, float | None], keep_series: bool, site=None):
         readout = mech.readout
         self.pointers = dict(mech.train.pointers)
         self.jd0, self.n, self.step, self.frame = jd0, n, step, frame
+        self.site = site
         self.reader = _GridReader(readout)
         self.turns_per_step = step / self.reader.days_per_turn
         self.expected = {name: _expected_deg_per_day(readout, name, frame) * step
@@ -619,6 +635,8 @@ class _Chunks:
         out = list(terms)
         if shows in KINDS:
             out.append((f"the {shows}'s mean motion", KINDS[shows].mean_period(self.frame).days))
+            if self.site is not None and MOON_SWINGS[0] in KINDS[shows].swings:
+                out.append(DAILY_PARALLAX)  # seen from a place, the Moon swings once a day
         out.append(("the pointer's own turning", self.reader.readout.period_days(name)))
         return out
 
@@ -688,7 +706,8 @@ def drift_series(mech, sky, run: DriftRun, control: RunControl | None = None) ->
     jd0 = float(as_jd(run.start, "drift start"))
     n = _span(sky, jd0, float(as_jd(run.end, "drift end")), step, frame, site, run.include_end)
     chunks = _Chunks(mech, jd0, n, step, frame,
-                     _thresholds(mech.train.pointers, run.threshold_deg), control.keep_series)
+                     _thresholds(mech.train.pointers, run.threshold_deg), control.keep_series,
+                     site)
     shows = [p.shows for p in chunks.pointers.values()]
     size = max(2, int(control.chunk))
     j_full = np.arange(min(size, n), dtype=float)

@@ -647,6 +647,27 @@ def test_yearly_steps_on_a_sun_hand_come_with_a_warning(sky, capsys):
     assert "note: pointer 'sun': a step of" in out and "cannot follow" in out
 
 
+def test_daily_steps_seen_from_a_site_say_they_miss_the_moons_daily_parallax(sky):
+    """Seen from a place, the Moon's parallax (about a degree) swings its longitude once a
+    lunar day; at one-day steps every date falls at nearly the same hour, so the swing is
+    sampled at one phase and the largest error is understated. The run says so for the
+    Moon-borne pointers (not the Sun, whose parallax is 9 arcseconds), and not from the
+    Earth's centre or at steps under half a day."""
+    mech = open_train(TRAINS / "tide_office.toml")
+    start = mech.train.epoch.jd_ut
+    end = start + 2 * JULIAN_YEAR_DAYS
+    fast = RunControl(keep_series=False)
+    daily = drift_series(mech, sky, DriftRun(start, end, 1.0, site="-33.87,151.21"), fast)
+    assert "daily parallax" in (daily.summaries["moon"].step_note or "")
+    assert "daily parallax" in (daily.summaries["phase"].step_note or "")
+    assert not daily.summaries["sun"].step_note
+    hourly = drift_series(mech, sky, DriftRun(start, end, "6h", site="-33.87,151.21"), fast)
+    assert not hourly.summaries["moon"].step_note
+    assert hourly.summaries["moon"].max_abs_deg > daily.summaries["moon"].max_abs_deg
+    centre = drift_series(mech, sky, DriftRun(start, end, 1.0), fast)
+    assert not centre.summaries["moon"].step_note
+
+
 def test_a_lunation_step_reports_no_alias_swing(sky):
     """Sampled every 29.5 days (its own period) the moon disc's error seems to swing every
     ~417 days: an alias of its monthly swings, not a swing of the train. No swing is
