@@ -519,7 +519,10 @@ def step_note(name: str, step: float, motions) -> str | None:
 
 
 def _days_text(days: float) -> str:
-    return f"{days:.4g} days" if days >= 1 else f"{days * 24:.3g} hours"
+    if days < 1:
+        return f"{days * 24:.3g} hours"
+    text = f"{days:.4g}"
+    return f"{text} day" if text == "1" else f"{text} days"
 
 
 def _span(sky, jd_start: float, jd_end: float, step: float, frame: str, site,

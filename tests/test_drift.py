@@ -659,6 +659,7 @@ def test_daily_steps_seen_from_a_site_say_they_miss_the_moons_daily_parallax(sky
     fast = RunControl(keep_series=False)
     daily = drift_series(mech, sky, DriftRun(start, end, 1.0, site="-33.87,151.21"), fast)
     assert "daily parallax" in (daily.summaries["moon"].step_note or "")
+    assert "a step of 1 day cannot" in daily.summaries["moon"].step_note  # not "1 days"
     assert "daily parallax" in (daily.summaries["phase"].step_note or "")
     assert not daily.summaries["sun"].step_note
     hourly = drift_series(mech, sky, DriftRun(start, end, "6h", site="-33.87,151.21"), fast)
