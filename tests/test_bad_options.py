@@ -59,6 +59,7 @@ CASES: list[tuple[list[str], str]] = [
     (["drift", DISC, "--years", "1", "--site", "-33.87,200"], "impossible"),
     (["drift", DISC, "--years", "1", "--ephemeris", "/tmp"], "is a folder"),
     (["drift", DISC, "--years", "1", "--ephemeris", "nosuch.bsp"], "no such file"),
+    (["sky", "2026-01-01", "--ephemeris", "de460"], "de421, de440 or de406"),  # all named
     (["drift", DISC, "--years", "1", "--png", "chart.txt"], ".png, .svg or .pdf"),
     # search
     (["search", "--cycle", "synodic month", "--top", "0"], "--top"),

@@ -151,10 +151,10 @@ def ephemeris(text: str) -> str:
     p = Path(text)
     if p.is_dir():
         raise argparse.ArgumentTypeError(
-            f"{text}: is a folder; give a JPL SPK file (.bsp) inside it, or de440")
+            f"{text}: is a folder; give a JPL SPK file (.bsp) inside it, or de421, de440 or de406")
     if not p.exists():
         raise argparse.ArgumentTypeError(
-            f"{text}: no such file; give a JPL SPK file (.bsp), or de440")
+            f"{text}: no such file; give a JPL SPK file (.bsp), or de421, de440 or de406")
     return text
 
 
