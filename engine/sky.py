@@ -700,17 +700,18 @@ def _grid(x: np.ndarray, step: float, exact) -> np.ndarray | None:
     if m >= x.size:
         return None
     values = np.asarray(exact(lo + step * np.arange(m)), dtype=float).reshape(m)
-    u = (x - lo) * (1.0 / step)
-    i = np.minimum(u.astype(np.intp), m - 3)  # u >= 1 > 0: truncation is the floor
-    f = u - i  # in [0, 1): between points i and i + 1 of the four i-1 .. i+2
-    # Lagrange weights of the points at -1, 0, 1, 2 from f, with shared factors
+    u = (x - lo) * (1.0 / step) - 1.0  # >= 0: from the first of each date's four points
+    k = np.minimum(u.astype(np.intp), m - 4)  # truncation is the floor
+    f = u - k  # in [0, 1): between the second and third of the four points k .. k+3
+    # Lagrange weights of the four points (at -1, 0, 1, 2 from the second) with shared
+    # factors; each point gathered through a shifted view with the one index array
     fm1, fm2, fp1 = f - 1.0, f - 2.0, f + 1.0
     a = f * fm1
     b = fp1 * fm2
-    out = values[i - 1] * (a * fm2 * (-1.0 / 6.0))
-    out += values[i] * (b * fm1 * 0.5)
-    out += values[i + 1] * (b * f * -0.5)
-    out += values[i + 2] * (a * fp1 * (1.0 / 6.0))
+    out = values[:m - 3][k] * (a * fm2 * (-1.0 / 6.0))
+    out += values[1:m - 2][k] * (b * fm1 * 0.5)
+    out += values[2:m - 1][k] * (b * f * -0.5)
+    out += values[3:][k] * (a * fp1 * (1.0 / 6.0))
     return out
 
 
@@ -1058,7 +1059,7 @@ class Sky:
         preallocated outputs: the frame's rotation and nutation in longitude (from their
         grids), the ephemeris and the light's path."""
         n = t.tt.size
-        whole, frac = np.reshape(t.whole, -1), _tdb_fraction(t)
+        whole, tt_fraction = np.reshape(t.whole, -1), np.reshape(t.tt_fraction, -1)
         jd_tt = np.reshape(t.tt, -1)
         stars = ecliptic_J2000_frame.rotation_at(t) if frame == "stars" else None  # constant
         out = np.empty((5, n))
@@ -1068,11 +1069,12 @@ class Sky:
         with _one_blas_thread():  # once for every batch's ephemeris products
             for i in range(0, n, _BATCH):
                 sl = slice(i, min(i + _BATCH, n))
+                frac = _tdb_fraction(whole[sl], tt_fraction[sl])  # its grid is anchored too
                 # Rotation and nutation batch by batch (their grids are anchored, so batches
                 # agree): interpolating over all dates at once would leave the cache.
-                rot = _ecliptic_rotation(whole[sl] + frac[sl]) if stars is None else stars
+                rot = _ecliptic_rotation(whole[sl] + frac) if stars is None else stars
                 dpsi = _dpsi_2000b(jd_tt[sl]) if stars is None else None
-                self._fast(whole[sl], frac[sl], rot, dpsi, site, None if site is None else t[sl],
+                self._fast(whole[sl], frac, rot, dpsi, site, None if site is None else t[sl],
                            names, out[:, sl], vectors[:, sl], {k: v[sl] for k, v in geo.items()},
                            {k: v[sl] for k, v in helio.items()})
         return (*out, vectors, jd_tt, _delta_t(t)), geo, helio
@@ -1182,12 +1184,11 @@ def _moment_text(jd: float) -> str:
 _TDB_GRID_DAYS = 16.0  # grid step for TDB - TT when dates are denser than this
 
 
-def _tdb_fraction(t) -> np.ndarray:
-    """skyfield's ``t.tdb_fraction`` (flat): TT's fraction plus ``tdb_minus_tt``, its
+def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray) -> np.ndarray:
+    """skyfield's ``t.tdb_fraction`` from ``t.whole`` and ``t.tt_fraction``: TT's fraction plus ``tdb_minus_tt``, its
     seven-term series, which for dates denser than one in 16 days comes from a 16-day grid by
     cubic interpolation. The error bound (3/128)·A·(2πh/P)⁴ summed over its terms (1.66 ms
     with a period of a year the largest) is below 3e-7 s; ``tests/test_sky.py`` checks it."""
-    whole, fraction = np.reshape(t.whole, -1), np.reshape(t.tt_fraction, -1)
     on_grid = _grid(whole + fraction, _TDB_GRID_DAYS, tdb_minus_tt)
     ahead = tdb_minus_tt(whole, fraction) if on_grid is None else on_grid
     return fraction + ahead / SECONDS_PER_DAY
