@@ -14,7 +14,7 @@ dates inside the same century (1900-2000): regular (one a day at 07:12 UT) and s
   little quicker than ``engine.sky.skyfield_2000b_nutation``, so the peer is the harder one).
   The peer of the 10x goal;
 * our fast path, ``Sky.at``, on both sets of dates: skyfield's time a date hardly depends on
-  their spacing, ours may (the ephemeris can be evaluated once per record on a regular grid),
+  their spacing, ours does (the ephemeris is evaluated once per record on a regular grid),
   so each set has its own rows, and each ratio divides a peer's time on the same dates by ours.
 
 skyfield gets its dates in batches, as the fast path batches its own work: each of its
@@ -26,15 +26,16 @@ give it.
 
 It prints CPU microseconds a date (CPU time of this process and its threads, best of N
 interleaved rounds, so that a change in the load of a shared machine falls on every pipeline
-alike; compare the ratios rather than the times), the ratios (rounded down), the largest difference of each
-pipeline from the 2000A reference on the same dates (Sun and Moon, the larger of longitude and
-latitude; target under 0.003"), and each goal as met or MISSED for regular and for scattered
-dates. In the stars frame (the fixed ecliptic of J2000) skyfield
+alike; compare the ratios rather than the times), the ratios (rounded down), the largest
+difference of each pipeline from the 2000A reference on the same dates (Sun and Moon, the
+larger of longitude and latitude; target under 0.003"), and each goal as met or MISSED for
+regular and for scattered dates. In the stars frame (the fixed ecliptic of J2000) skyfield
 computes no nutation at all — the bench checks this on its Time objects in the run — so there
 the fair peer only leaves out the deflection (a 2000B hook would charge our nutation to a
 peer that never reads it). Then the planets: the seven planets' geocentric apparent and
 heliocentric longitudes (and the Earth's), fast path against skyfield's reference (default
-pipeline, ``Sky.at(fast=False)`` in one call), timed once each, with the largest difference per planet (target: 0.01").
+pipeline, ``Sky.at(fast=False)`` in one call), timed once each, with the largest difference
+per planet (target: 0.01").
 
     python bench/sky_speed.py [--frame equinox|stars|both] [--repeat N] [--no-planets]
                               [--no-scattered] [--peer-batch N]
