@@ -437,6 +437,31 @@ async def test_the_drift_chart_computes_again_after_an_edit_undo_and_redo(tmp_pa
         assert app.session.mech.train.wheels["sun_w1"].teeth == 60
 
 
+@sync
+async def test_tooth_search_pointer_is_picked_with_up_and_down_from_the_box(tmp_path):
+    """The search screen opens with the cursor in the pinions box; ↑ ↓ there pick the
+    pointer, as they pick the part in the parts screen's value box."""
+    from tui.editing import TeethScreen
+
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.press("ctrl+f")
+        await pilot.pause()
+        screen = app.screen
+        assert isinstance(screen, TeethScreen)
+        assert screen.focused is screen.query_one("#teeth-pinions", Input)
+        assert screen.pointer == "sun"
+        await pilot.press("down")
+        await pilot.pause()
+        assert screen.pointer == "moon"
+        assert "moon shows" in text_of(screen.query_one("#teeth-chain"))
+        await pilot.press("up", "up")
+        await pilot.pause()
+        assert screen.pointer == "sun"  # the top of the list holds
+
+
 async def open_teeth(pilot, app, pointer: str):
     from tui.editing import TeethScreen
 

@@ -602,6 +602,20 @@ class OpenScreen(ClosesOnce, Screen):
 
 
 # --- tooth search for one pointer ------------------------------------------------------------
+class TeethField(Input):
+    """A bound of the tooth search: ↑ ↓ pick the pointer above or below in the list, as the
+    parts screen's value box picks the part, so the pointer can be chosen from the box the
+    screen opens in."""
+
+    BINDINGS = [Binding("up", "pointer(-1)", "pointer above", show=False),
+                Binding("down", "pointer(1)", "pointer below", show=False)]
+
+    def action_pointer(self, step: int) -> None:
+        ol = self.screen.query_one("#teeth-pointers", OptionList)
+        if ol.option_count:
+            ol.highlighted = min(max((ol.highlighted or 0) + step, 0), ol.option_count - 1)
+
+
 class TeethScreen(ClosesOnce, Screen):
     """Search new tooth counts for one pointer's chain (engine.rechain): pick the pointer,
     set the bounds, Enter searches in a worker (progress bar; Escape stops it), Enter on an
@@ -630,16 +644,16 @@ class TeethScreen(ClosesOnce, Screen):
             yield Static(id="teeth-chain")
         with Horizontal(classes="teeth-row"):
             yield Label("pinions ", classes="teeth-label")
-            yield Input("8-30", id="teeth-pinions", compact=True, classes="teeth-short")
+            yield TeethField("8-30", id="teeth-pinions", compact=True, classes="teeth-short")
             yield Label(" wheels ", classes="teeth-label")
-            yield Input("20-150", id="teeth-wheels", compact=True, classes="teeth-short")
+            yield TeethField("20-150", id="teeth-wheels", compact=True, classes="teeth-short")
             yield Label(" max error ppm ", classes="teeth-label")
-            yield Input("", placeholder="any", id="teeth-ppm", compact=True,
-                        classes="teeth-short")
+            yield TeethField("", placeholder="any", id="teeth-ppm", compact=True,
+                             classes="teeth-short")
         with Horizontal(classes="teeth-row"):
             yield Label("primes you cannot cut ", classes="teeth-label")
-            yield Input(", ".join(map(str, self.editor.forbidden_primes)),
-                        placeholder="none", id="teeth-primes", compact=True)
+            yield TeethField(", ".join(map(str, self.editor.forbidden_primes)),
+                             placeholder="none", id="teeth-primes", compact=True)
         yield Checkbox("search the whole chain (other pointers it drives move too)",
                        id="teeth-whole", compact=True)
         with Horizontal(id="teeth-progress-row"):
