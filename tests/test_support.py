@@ -145,6 +145,46 @@ def test_written_whole_or_not_at_all(tmp_path):
     assert [p.name for p in tmp_path.iterdir()] == ["f.txt"]
 
 
+def test_ctrl_c_just_after_the_part_file_is_made_still_removes_it(tmp_path, monkeypatch):
+    """A Ctrl-C that lands the moment the part file exists (the process descheduled right
+    after making it, the handler run at the next bytecode) leaves no file behind: the entry
+    point's clean-up knows the part before it is made."""
+    import engine.commands.support as support
+
+    real_open = os.open
+
+    def open_then_interrupted(path, flags, mode=0o777):
+        fd = real_open(path, flags, mode)
+        os.close(fd)
+        raise KeyboardInterrupt  # as the signal handler would, before the next line runs
+
+    out = OutputFile(tmp_path / "f.csv", option="--csv")
+    monkeypatch.setattr(support.os, "open", open_then_interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        out.open()
+    monkeypatch.setattr(support.os, "open", real_open)
+    support.remove_part_files()  # what the entry point does on every way out
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_a_part_file_in_the_way_is_never_removed_by_the_clean_up(tmp_path, monkeypatch):
+    """When the part file cannot be made (another process made it first), the clean-up
+    leaves that file alone: only what this run made is removed."""
+    import engine.commands.support as support
+
+    def refused(path, flags, mode=0o777):
+        raise FileExistsError(17, "File exists")
+
+    out = OutputFile(tmp_path / "f.csv", option="--csv")
+    monkeypatch.setattr(support.os, "open", refused)
+    with pytest.raises(OutputError):
+        out.open()
+    monkeypatch.undo()
+    (tmp_path / ".f.csv.part").write_text("someone else's")
+    support.remove_part_files()
+    assert (tmp_path / ".f.csv.part").read_text() == "someone else's"
+
+
 def test_a_missing_folder_is_one_line(tmp_path):
     with pytest.raises(OutputError, match="does not exist"):
         OutputFile(tmp_path / "no" / "f.csv", option="--csv")

@@ -371,11 +371,14 @@ class OutputFile:
             if _kind(os.lstat(self.part).st_mode) not in (None, "a symbolic link"):
                 raise self._refuse(f"the part file {self.part} is in the way")
             self.part.unlink()  # left by a run killed beyond cleaning up
+        # known before it exists: a Ctrl-C that lands just after the file is made (between
+        # two bytecodes, when the process was descheduled there) must still find it to remove
+        _LIVE_PARTS.add(self.part)
         try:
             fd = os.open(self.part, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)
         except OSError as exc:
+            _LIVE_PARTS.discard(self.part)  # not ours: never remove what we did not make
             raise self._cannot(exc) from None
-        _LIVE_PARTS.add(self.part)
         try:
             self._fh = os.fdopen(fd, mode, **kwargs)
         except BaseException:
