@@ -132,6 +132,35 @@ def _timescale():
     return Timescale((daily_tt, daily_delta_t), arrays["leap_dates"], arrays["leap_offsets"])
 
 
+def _ut1_time(ut1: np.ndarray):
+    """``_timescale().ut1_jd(ut1)`` for flat UT dates, with one evaluation of ΔT fewer when
+    the dates rise densely.
+
+    skyfield finds TT = UT + ΔT(t) by evaluating ΔT twice: at UT, then at UT + the first ΔT.
+    When each date's shift (ΔT, under a minute in modern times, under half a day in
+    antiquity) reaches no further than the next date, the second value comes from the first
+    ones by linear interpolation between the date and the next. skyfield's ΔT is linear
+    between daily table points and a smooth spline outside them, so that differs from the
+    second evaluation by at most a day's change of slope times the shift: below 1e-6 s
+    (``tests/test_sky.py`` checks it). The Time is built as ``ut1_jd`` builds it."""
+    ts = _timescale()
+    if ut1.size < 3:
+        return ts.ut1_jd(ut1)
+    step = np.diff(ut1)
+    first = ts.delta_t_function(ut1)
+    shift = first * (1.0 / SECONDS_PER_DAY)
+    if not (np.all(step > 0.0) and np.all(shift[:-1] <= step)):
+        return ts.ut1_jd(ut1)
+    second = np.empty_like(first)
+    np.subtract(first[1:], first[:-1], out=second[:-1])
+    second[:-1] *= shift[:-1] / step
+    second[:-1] += first[:-1]
+    second[-1] = ts.delta_t_function(ut1[-1:] + shift[-1:])[0]
+    t = ts.tt_jd(ut1, second * (1.0 / SECONDS_PER_DAY))
+    t.ut1_fraction = 0.0 * ut1  # as ut1_jd sets it: the UT is the date given
+    return t
+
+
 def _de421_path() -> str:
     import skyfield_data
 
@@ -984,7 +1013,7 @@ class Sky:
             self._loaded.planets.get(_PLANET_CODES[n]) is not None for n in names
             if n != "earth")
         if use_fast:
-            out, geo, helio = self._fast_all(_timescale().ut1_jd(flat), frame, site, names)
+            out, geo, helio = self._fast_all(_ut1_time(flat), frame, site, names)
         else:
             *out, geo, helio = self._slow(_timescale().ut1_jd(flat), frame, site, names)
         sun_lon, sun_lat, moon_lon, moon_lat, moon_km, vectors, jd_tt, delta_t = out

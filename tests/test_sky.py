@@ -923,3 +923,17 @@ def test_lit_fraction_on_demand(sky, monkeypatch):
     ref = sky.at(jd, "stars", fast=False).illuminated
     assert np.max(np.abs(lit - ref)) < 1e-9
     assert sky.at(np.zeros((2, 0)) + 2451545.0).illuminated.shape == (2, 0)
+
+
+def test_ut1_time_one_delta_t_evaluation_fewer():
+    # TT of dense rising UT dates with the second ΔT estimate interpolated from the first:
+    # within 1e-6 s of skyfield's ut1_jd (its bound); anything else is skyfield's own.
+    from engine.sky import _ut1_time
+
+    for start, step in ((2415020.8, 1.0), (2440000.3, 0.25), (990000.8, 1.0),
+                        (2460000.5, 1.0), (1500000.1, 1 / 24), (2451545.0, -1.0)):
+        jd = start + step * np.arange(6000)
+        ours, theirs = _ut1_time(jd), _timescale().ut1_jd(jd)
+        assert np.array_equal(ours.whole, theirs.whole)
+        assert np.max(np.abs(ours.tt_fraction - theirs.tt_fraction)) * 86400.0 < 1e-6, start
+        assert np.array_equal(ours.ut1, theirs.ut1)
