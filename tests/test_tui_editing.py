@@ -625,3 +625,20 @@ async def test_findings_are_worked_out_for_the_changed_train_when_the_bench_show
         assert isinstance(app.screen, BenchScreen)
         assert calls == [app.session.mech]  # once, for the train now on the bench
         assert app.session.findings == real(app.session.mech)
+
+
+@sync
+async def test_the_ephemeris_line_is_never_cut_short(tmp_path):
+    """DE406's span ("-3000-02-24 (3001 BC) to 3000-03-02") is longer than DE421's: where
+    the line cannot hold it, the span is given in years; it was cut with "…"."""
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    from tui.widgets import Status
+
+    for size in ((80, 24), (100, 30), (120, 40), (160, 50)):
+        app = make_app(demo_path("lunation_board"))
+        async with app.run_test(size=size) as pilot:
+            await pilot.pause()
+            status = app.screen.query_one(Status)
+            (line,) = [ln for ln in text_of(status).splitlines() if ln.startswith("sky ")]
+            assert len(line.rstrip()) <= status.content_region.width, (size, line)
+            assert "3001 BC" in line and "3000" in line

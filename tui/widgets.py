@@ -1104,10 +1104,12 @@ class Status(RowStatic):
         pm = f"{sigma:.0f}" if sigma >= 10 else f"{sigma:.1f}" if sigma >= 1 else f"{sigma:.1g}"
         t.append(f"{now.delta_t_s:.1f} s ± {pm} s\n")
         t.append("sky      ", style="dim")
-        span = s.sky.span_text
-        if self.size.width and self.size.width < 46:  # years only
-            span = span_years(span)
-        t.append(f"{s.sky.name}, {span}\n")
+        # the dates of the span when the line holds them (with a cell to spare each side),
+        # else years only: DE406's span is longer than DE421's and was cut with "…"
+        name = f"{s.sky.name}, "
+        (span,) = _fit(width - 2 if width else width, 9 + len(name), (s.sky.span_text,),
+                       (span_years(s.sky.span_text),))
+        t.append(f"{name}{span}\n")
         t.append("frame    ", style="dim")
         t.append(FRAME_NAMES.get(now.frame, now.frame) + "\n")
         t.append("observer ", style="dim")
