@@ -628,6 +628,40 @@ async def test_findings_are_worked_out_for_the_changed_train_when_the_bench_show
 
 
 @sync
+async def test_a_train_opened_on_the_bench_is_read_against_its_own_ephemeris(tmp_path,
+                                                                             monkeypatch):
+    """ctrl+o on a train whose [epoch] ephemeris is DE406 (the lunation board, set in 150 BC)
+    reads it against DE406, as `wheelwork crank` and every command do; it was refused as
+    outside the bench's DE421. Back on a DE421 train, the bench reads DE421 again."""
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    monkeypatch.chdir(tmp_path)
+    app = make_app()
+    async with app.run_test(size=(100, 30)) as pilot:
+        assert "DE421" in app.session.sky.name
+        for name, sky in (("lunation_board", "DE406"), ("moon_disc_59", "DE421")):
+            await pilot.press("ctrl+o")
+            await pilot.pause()
+            assert isinstance(app.screen, OpenScreen)
+            field = app.screen.query_one("#open-path", Input)
+            field.value = str(demo_path(name))
+            field.focus()
+            await pilot.press("enter")
+            await pilot.pause()
+            await pilot.pause()
+            assert isinstance(app.screen, BenchScreen), text_of(
+                app.screen.query_one("#open-error"))
+            assert app.session.mech.train.name == load_train(demo_path(name)).name
+            assert sky in app.session.sky.name
+            assert sky in readings_status(app)
+
+
+def readings_status(app) -> str:
+    from tui.widgets import Status
+
+    return text_of(app.screen.query_one(Status))
+
+
+@sync
 async def test_the_ephemeris_line_is_never_cut_short(tmp_path):
     """DE406's span ("-3000-02-24 (3001 BC) to 3000-03-02") is longer than DE421's: where
     the line cannot hold it, the span is given in years; it was cut with "…"."""

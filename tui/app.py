@@ -193,7 +193,7 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
         where = site if isinstance(site, Site) else Site.parse(site)
         name = "site"
     session = Session(mech, sky, site=where, site_name=name, findings_of=engine_findings,
-                      editor=editor)
+                      editor=editor, ephemeris_given=ephemeris)
     if train is not None:
         from .editing import remember
 

@@ -35,6 +35,7 @@ from textual.worker import get_current_worker
 from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
+from engine.loader import load_train
 
 from .screens import _GEDIT, ClosesOnce, Dialog, HelpScreen
 from .session import recent_files, remember  # files opened or saved, kept across runs
@@ -541,7 +542,7 @@ class OpenScreen(ClosesOnce, Screen):
         if is_dir:
             self._look_in(path.resolve())
         elif is_file:
-            self._open(lambda: TrainEditor.open(path, self.session.sky), str(path))
+            self._open(lambda: self._editor(path), str(path))
         else:
             self._error(f"{path}: no such file or folder")
 
@@ -552,6 +553,12 @@ class OpenScreen(ClosesOnce, Screen):
 
     #: the choice refused once because the train on the bench has changes not saved
     _unsaved_asked: str | None = None
+
+    def _editor(self, path, new: bool = False):
+        """The train at ``path`` (a copy to start from, with ``new``), read against the sky
+        its file names, as the commands read it (or the ``--ephemeris`` given)."""
+        sky = self.session.sky_for_train(load_train(path))
+        return (TrainEditor.new_from if new else TrainEditor.open)(path, sky)
 
     def _open(self, make, what: str) -> None:
         old = self.session.editor
@@ -572,6 +579,7 @@ class OpenScreen(ClosesOnce, Screen):
             editor.forbidden_primes = old.forbidden_primes
         self.session.editor = editor
         self.session.frame = ""
+        self.session.use_sky(editor.sky)
         adopt(self.app, editor.mech)
         remember(editor.path)
         self.run_worker(self._back(), exclusive=True)
@@ -582,17 +590,17 @@ class OpenScreen(ClosesOnce, Screen):
 
     @on(DirectoryTree.FileSelected, "#open-tree")
     def _file(self, event: DirectoryTree.FileSelected) -> None:
-        self._open(lambda: TrainEditor.open(event.path, self.session.sky), str(event.path))
+        self._open(lambda: self._editor(event.path), str(event.path))
 
     @on(OptionList.OptionSelected, "#open-recent")
     def _recent(self, event: OptionList.OptionSelected) -> None:
         path = Path(event.option.id)
-        self._open(lambda: TrainEditor.open(path, self.session.sky), str(path))
+        self._open(lambda: self._editor(path), str(path))
 
     @on(OptionList.OptionSelected, "#open-demos")
     def _demo(self, event: OptionList.OptionSelected) -> None:
         path = demo_path(event.option.id)
-        self._open(lambda: TrainEditor.new_from(path, self.session.sky), f"demo {path}")
+        self._open(lambda: self._editor(path, new=True), f"demo {path}")
 
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(self.BINDINGS))

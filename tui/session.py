@@ -23,7 +23,7 @@ from engine.eclipses import limits as eclipse_limits
 from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
 from engine.kinds import FRAMES, next_frame, sky_at
-from engine.mechanism import Mechanism
+from engine.mechanism import Mechanism, sky_for
 from engine.ratios import pointer_ratios
 from engine.readout import Readout, mean_values
 from engine.sky import Site, Sky, SkyState
@@ -189,12 +189,36 @@ class Session:
     running: bool = False
     #: the train's edits and file (an :class:`engine.edit.TrainEditor`), when it can be changed
     editor: object | None = None
+    #: the ``--ephemeris`` the bench was started with (it then reads every train); None: each
+    #: train is read against the ephemeris its ``[epoch] ephemeris`` names
+    ephemeris_given: str | None = None
+    #: skies already opened, by the name a train file gives (None: the bundled DE421)
+    skies: dict = field(default_factory=dict)
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
         if self.speed_index is None:
             self.speed_index = default_speed_index(self.mech)
         self._last_sky = _LastSky(self.sky)
+        if self.ephemeris_given is None:  # the first train's sky, under the name it gave
+            self.skies.setdefault(self.mech.train.epoch.ephemeris, self.sky)
+
+    def sky_for_train(self, train) -> Sky:
+        """The sky ``train`` is read against on this bench: the ``--ephemeris`` given, else
+        the one its file names (as every command reads it), opened once per name."""
+        if self.ephemeris_given is not None:
+            return self.sky
+        key = train.epoch.ephemeris
+        if key not in self.skies:
+            self.skies[key] = sky_for(train)
+        return self.skies[key]
+
+    def use_sky(self, sky: Sky) -> None:
+        """Read the train on the bench against ``sky`` from now on (another train's own)."""
+        if sky is not self.sky:
+            self.sky = sky
+            self._last_sky = _LastSky(sky)
+            self._watch = None
 
     @property
     def findings(self) -> list:
