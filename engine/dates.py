@@ -206,6 +206,12 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     return text
 
 
+def format_day(jd: float, calendar: str = "auto") -> str:
+    """The day of :func:`format_jd` alone: ``2025-03-20``, ``-0149-04-10`` (a year before 1
+    AD has a sign, so the day is not always ten characters)."""
+    return format_jd(jd, calendar).split(" ", 1)[0]
+
+
 def check_jd(jd: float, what: str = "") -> float:
     """``jd`` itself when it lies in the range of dates wheelwork handles, else a DateError
     (one line) — so no date, however written, overflows a calculation later."""

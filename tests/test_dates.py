@@ -9,7 +9,14 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from engine.dates import calendar_date, format_jd, jd_from_calendar, parse_date, parse_step
+from engine.dates import (
+    calendar_date,
+    format_day,
+    format_jd,
+    jd_from_calendar,
+    parse_date,
+    parse_step,
+)
 from engine.errors import DateError, DriftError
 
 SECOND_DAYS = 1 / 86400
@@ -239,3 +246,8 @@ def test_jd_now_from_the_clock():
     stamp = datetime.now(UTC)
     want = parse_date(stamp.strftime("%Y-%m-%d %H:%M:%S"))
     assert abs(jd_now() - want) * 86400 < 60
+
+
+def test_format_day_is_the_whole_day_before_the_common_era_too():
+    assert format_day(parse_date("-0149-04-10 06:00")) == "-0149-04-10"
+    assert format_day(parse_date("2025-03-20 09:30")) == "2025-03-20"

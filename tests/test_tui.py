@@ -271,6 +271,27 @@ async def test_drift_chart_runs_in_a_worker_and_returns():
         assert isinstance(app.screen, BenchScreen)
 
 
+@sync
+async def test_drift_chart_gives_days_before_the_common_era_whole():
+    """A train set in 150 BC (DE406): the chart's title and its table give whole days,
+    -0149-04-10, where the first ten characters alone ("-0149-04-1") were shown."""
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    from engine.demos import demo_path
+
+    app = make_app(demo_path("lunation_board"))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("d")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        screen = app.screen
+        assert isinstance(screen, DriftScreen)
+        title = text_of(screen.query_one("#drift-title"))
+        assert "-0149-04-10 → -0099-04-" in title
+        summary = text_of(screen.query_one("#drift-summary"))
+        dates = [w for w in summary.split() if w.startswith("-01")]
+        assert dates and all(len(w) == 11 for w in dates), dates
+
+
 def _slow_drift(monkeypatch):
     """Make drift runs take a while (small chunks, a pause before each), so a test can press
     keys while one is still going."""

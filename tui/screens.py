@@ -35,7 +35,7 @@ from textual.worker import get_current_worker
 from textual_hires_canvas import HiResMode
 from textual_plot import PlotWidget
 
-from engine.dates import format_jd, parse_crank_step, parse_date
+from engine.dates import format_day, format_jd, parse_crank_step, parse_date
 from engine.errors import WheelworkError
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import decimal_year, is_arm, train_layout
@@ -954,7 +954,7 @@ class DriftScreen(ClosesOnce, Screen):
         sky = self.session.sky
         title = self.query_one("#drift-title", Static)
         title.update(Text.assemble(
-            ("drift  ", "bold #e5c07b"), f"{format_jd(start)[:10]} → {format_jd(end)[:10]}  ",
+            ("drift  ", "bold #e5c07b"), f"{format_day(start)} → {format_day(end)}  ",
             (f"({(end - start) / JULIAN_YEAR_DAYS:.1f} years", "dim"),
             (", capped" if self.capped() else "", "dim"),
             (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
@@ -968,7 +968,7 @@ class DriftScreen(ClosesOnce, Screen):
         if end - start < 30:
             self.computing = False
             self._summary(Text(""))
-            self._status(f"the ephemeris ends {format_jd(sky.span_jd[1])[:10]}: "
+            self._status(f"the ephemeris ends {format_day(sky.span_jd[1])}: "
                          "go back in time (g on the bench) for a drift chart")
             return
         self._percent = 0.0
@@ -1038,7 +1038,7 @@ class DriftScreen(ClosesOnce, Screen):
         self._progress(1.0)
         sky = self.session.sky
         self._status("done" + (f" · capped by the end of {sky.name} "
-                               f"({format_jd(sky.span_jd[1])[:10]})" if self.capped() else ""))
+                               f"({format_day(sky.span_jd[1])})" if self.capped() else ""))
         plot = self.query_one(PlotWidget)
         plot.clear()
         years = decimal_year(np.asarray(result.jd))
@@ -1060,7 +1060,7 @@ class DriftScreen(ClosesOnce, Screen):
             jd = sm.first_crossing_jd
             if jd is None or not np.isfinite(jd):
                 return "not in span"
-            return "at start" if jd <= first_jd else format_jd(jd)[:10]
+            return "at start" if jd <= first_jd else format_day(jd)
 
         for name, sm in result.summaries.items():
             if crossing(sm) not in ("not in span", "at start"):  # no line at the left edge
@@ -1081,7 +1081,7 @@ class DriftScreen(ClosesOnce, Screen):
             t.add_column(col, justify="right" if "°" in col else "left")
         for name, sm in result.summaries.items():
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
-                      f"{sm.max_abs_deg:.2f}", format_jd(sm.max_at_jd)[:10],
+                      f"{sm.max_abs_deg:.2f}", format_day(sm.max_at_jd),
                       f"{sm.rms_deg:.2f}", f"{sm.drift_deg_per_century:+.2f}", crossing(sm))
         self._summary(t)
 
@@ -1111,7 +1111,7 @@ class DriftScreen(ClosesOnce, Screen):
             how = ("" if "440" in sky.name else
                    "; for a longer one, start wheelwork with --ephemeris de440 (1550–2650)")
             self.notify(f"the span is capped by the end of the ephemeris {sky.name} on "
-                        f"{format_jd(end)[:10]}{how}", title="no more decades", timeout=6)
+                        f"{format_day(end)}{how}", title="no more decades", timeout=6)
             return
         if self.decades + step < 1:
             self.notify("one decade is the shortest span", timeout=3)

@@ -238,7 +238,7 @@ def _year(jd):
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
-    from ..dates import format_jd
+    from ..dates import format_day
     from ..kinds import days_rate
 
     plt = _load_pyplot()
@@ -257,7 +257,7 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
                 xc = float(_year(s.first_crossing_jd))
                 ax.axvline(xc, color="tab:red", lw=0.8)
                 ax.annotate(f"first past {s.threshold_deg:.4g}°: "
-                            f"{format_jd(s.first_crossing_jd)[:10]}", (xc, s.threshold_deg),
+                            f"{format_day(s.first_crossing_jd)}", (xc, s.threshold_deg),
                             xytext=(4, 4), textcoords="offset points", fontsize=8,
                             color="tab:red")
         ax.set_ylabel(f"{name} error (°)")
@@ -414,7 +414,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from ..dates import format_jd, parse_step
+    from ..dates import format_day, parse_step
     from ..drift import DriftError, DriftRun, RunControl, drift_series, grid
     from ..kinds import days_rate
     from ..sky import Site
@@ -472,7 +472,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         if ctrl_c.cancelled():
             raise KeyboardInterrupt
         title = (f"{mech.train.name}: pointer error against {sky.name}, "
-                 f"{format_jd(start)[:10]} to {format_jd(result.jd[-1])[:10]}")
+                 f"{format_day(start)} to {format_day(result.jd[-1])}")
         if png_out:
             write_chart(result, png_out, title)
         if ctrl_c.cancelled():
