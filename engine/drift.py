@@ -368,7 +368,8 @@ class _Running:
     """Running figures of one pointer's error over the chunks of a uniform grid.
 
     ``add`` takes a chunk's wrapped error ``err`` and ``resid``, the unwrapped error less the
-    expected line ``expected_per_step * k`` (k the grid index), both float64.
+    expected line ``expected_per_step * k`` (k the grid index), both float64, ``resid`` less
+    the constant ``shift`` (added back as it is stored).
     """
 
     def __init__(self, n: int, jd0: float, step: float, expected_per_step: float,
@@ -384,15 +385,23 @@ class _Running:
         self.prev_abs = None
         self.crossing = None
 
-    def add(self, i0: int, k: np.ndarray, err: np.ndarray, resid: np.ndarray) -> None:
+    def add(self, i0: int, k: np.ndarray, err: np.ndarray, resid: np.ndarray,
+            shift: float = 0.0) -> None:
         n = len(err)
-        ae = np.abs(err)
-        i = int(np.argmax(ae))
-        if ae[i] > self.max_abs:
-            self.max_abs, self.max_at = float(ae[i]), self.jd0 + (i0 + i) * self.step
+        if self.threshold is None:  # the first largest |err|: the first largest or smallest err
+            hi, lo = int(np.argmax(err)), int(np.argmin(err))
+            big, small = float(err[hi]), -float(err[lo])
+            i = hi if big > small else lo if small > big else min(hi, lo)
+            top = max(big, small)
+        else:
+            ae = np.abs(err)
+            i = int(np.argmax(ae))
+            top = float(ae[i])
+        if top > self.max_abs:
+            self.max_abs, self.max_at = top, self.jd0 + (i0 + i) * self.step
         self.sum_sq += sum_sq(err)
         self.error[i0:i0 + n] = err
-        self.resid[i0:i0 + n] = resid
+        np.add(resid, shift, out=self.resid[i0:i0 + n], casting="same_kind")
         if self.threshold is not None and self.crossing is None:
             past = ae >= self.threshold
             if past.any():
@@ -404,7 +413,7 @@ class _Running:
                 else:
                     f = (self.threshold - before) / (float(ae[j]) - before)
                     self.crossing = at - (1.0 - f) * self.step
-        self.prev_abs = float(ae[-1])
+        self.prev_abs = abs(float(err[-1]))
 
     def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
                 step_note: str | None = None) -> PointerSummary:
@@ -584,37 +593,62 @@ class _Chunks:
         self.ref: dict[str, float] = {}
         self.delta_t_sigma_s = 0.0  # largest one-sigma ΔT uncertainty met on the grid
 
-    def add(self, i0: int, j: np.ndarray, jd: np.ndarray, state, want_errors: bool
-            ) -> dict[str, ErrorNow]:
-        """Take in the chunk of grid dates ``i0 + j`` (``jd``) with the sky ``state`` there;
-        the chunk's :class:`ErrorNow` values when ``want_errors``."""
-        k = j + i0
+    def add(self, i0: int, j: np.ndarray, jd: np.ndarray, state, want_errors: bool,
+            true: dict[str, np.ndarray] | None = None) -> dict[str, ErrorNow]:
+        """Take in the chunk of grid dates ``i0 + j`` (``jd``) with the sky ``state`` there
+        (``true``: each pointer's true value from it, when already read); the chunk's
+        :class:`ErrorNow` values when ``want_errors``.
+
+        The unwrapped error less the expected line and less its first value's wrap ``ref`` is
+        worked out directly: the pointer's reading less the expected line is the sky's mean
+        motion a step times the steps since the chunk's start, plus the exact reading there
+        less the line, plus the pin-and-slot leads. It is made whole only when some value
+        lies half a turn away, and the wrapped error likewise (one bound from the extremes)."""
         sigma = state.delta_t_sigma_s
         self.delta_t_sigma_s = max(self.delta_t_sigma_s, float(np.max(sigma)))
         since = j * self.turns_per_step
         a, base = self.reader.anchor(jd[0])
         lags = self.reader.lags_turns(a, since)
+        last = i0 + len(j) - 1
         errors = {}
         for name, p in self.pointers.items():
-            true = true_value(p.shows, state)
-            cont = self.reader.continuous_deg(name, base, since, lags)
+            sky = true_value(p.shows, state) if true is None else true[name]
             x = self.expected[name]
-            resid = cont - true
-            resid -= x * k
-            if name not in self.ref:
-                self.ref[name] = float(wrap_deg(resid[0]))
-            resid -= 360.0 * np.rint((resid - self.ref[name]) * (1 / 360))
-            err = wrap_deg(resid + x * k)
-            self.runs[name].add(i0, k, err, resid)
+            _, rate360, _, weights = self.reader.pointers[name]
+            v = j * (rate360 * self.turns_per_step - x)
+            v += base[name] - x * i0 - self.ref.get(name, 0.0)
+            v -= sky
+            for sname, w in weights:
+                v += w * lags[sname]
+            if name not in self.ref:  # the first date's wrapped value: the unwrapping's centre
+                ref = self.ref[name] = float(wrap_deg(v[0]))
+                v -= ref
+            ref = self.ref[name]
+            lo, hi = float(v.min()), float(v.max())
+            if not -179.0 < lo <= hi < 179.0:  # the short way round from ref
+                t = v * (1 / 360)
+                np.rint(t, out=t)
+                t *= 360.0
+                v -= t
+                lo, hi = -180.0, 180.0
+            # the error: v less the line x k and ref, wrapped when it may pass a half turn
+            err = j * x
+            err += v
+            err += ref + x * i0
+            c_lo, c_hi = sorted((ref + x * i0, ref + x * last))
+            if not (-179.0 < lo + c_lo and hi + c_hi < 179.0):
+                err = wrap_deg(err)
+            self.runs[name].add(i0, j, err, v, ref)
             if self.train_keep or want_errors:
+                cont = self.reader.continuous_deg(name, base, since, lags)
                 reading = cont - 360.0 * np.floor(cont * (1 / 360))
                 if self.train_keep:
-                    self.train_keep[name][i0:i0 + len(k)] = reading
-                    self.sky_keep[name][i0:i0 + len(k)] = true
+                    self.train_keep[name][i0:i0 + len(j)] = reading
+                    self.sky_keep[name][i0:i0 + len(j)] = sky
                 if want_errors:
                     rate = days_rate(p.shows)
                     days = err / rate if rate else None
-                    errors[name] = ErrorNow(name, p.shows, reading, true, err, days,
+                    errors[name] = ErrorNow(name, p.shows, reading, sky, err, days,
                                             delta_t_effect_deg(p.shows, sigma, self.frame))
         return errors
 
@@ -723,8 +757,12 @@ def drift_series(mech, sky, run: DriftRun, control: RunControl | None = None) ->
         jd = jd0 + (j + i0) * step
         t = time.perf_counter()
         state = sky_at(sky, jd, shows, frame=frame, site=site)
+        # the true values and ΔT's uncertainty are the sky's own: its derived fields
+        # (elongation, mean node and perigee, ΔT's sigma) are worked out on their first read
+        true = {name: true_value(p.shows, state) for name, p in chunks.pointers.items()}
+        state.delta_t_sigma_s  # noqa: B018 (read here so that it is timed as the sky's)
         sky_s += time.perf_counter() - t
-        errors = chunks.add(i0, j, jd, state, control.on_chunk is not None)
+        errors = chunks.add(i0, j, jd, state, control.on_chunk is not None, true)
         t = time.perf_counter()
         if control.on_chunk is not None:
             control.on_chunk(jd, errors)

@@ -80,6 +80,40 @@ def test_grid_reader_equals_readout(sky):
         assert np.abs(wrap_deg(fast[name] - ref[name])).max() < 1e-5 * DEG
 
 
+def test_chunks_agree_across_the_half_turn(sky):
+    """Guard for the chunked run's shortcuts (the unwrapping and the wrap are skipped when a
+    chunk's values lie well inside a half turn): with the Sun pointer turned to read 179° off,
+    so that its error swings across ±180° every year, any chunk size gives the errors of
+    ``pointer_errors`` (the readout's own exact sums) and the same summaries."""
+    from dataclasses import replace
+
+    mech = open_train(TRAINS / "tide_office.toml", sky)
+    j0 = mech.train.epoch.jd_ut
+    true = float(sky.at(np.array([j0])).sun_lon_deg[0])
+    turned = replace(mech, readout=mech.readout.reset_to(0.0, {"sun": (true + 179.0) % 360}))
+    run = DriftRun(j0, j0 + 3 * 365.25, "1d")
+    seen = {}
+
+    def keep(jd, errors):
+        seen.setdefault("jd", []).append(jd.copy())
+        for n, e in errors.items():
+            seen.setdefault(n, []).append(e.error_deg.copy())
+
+    small = drift_series(turned, sky, run, RunControl(chunk=50, on_chunk=keep))
+    whole = drift_series(turned, sky, run, RunControl(chunk=100_000))
+    now = pointer_errors(turned, sky, np.concatenate(seen["jd"]))
+    sun = np.concatenate(seen["sun"])
+    assert sun.max() > 179.5 and sun.min() < -179.5  # it does cross the half turn
+    for name, e in now.items():
+        assert np.abs(wrap_deg(np.concatenate(seen[name]) - e.error_deg)).max() < 1e-5 * DEG
+        assert np.abs(wrap_deg(small.error_deg[name] - whole.error_deg[name])).max() < 1e-5
+        a, b = small.summaries[name], whole.summaries[name]
+        for field in ("max_abs_deg", "rms_deg", "best_offset_deg", "rms_after_reset_deg",
+                      "drift_deg_per_century", "periodic_amplitude_deg"):
+            assert getattr(a, field) == pytest.approx(getattr(b, field), rel=1e-6, abs=1e-7)
+    assert abs(small.summaries["sun"].best_offset_deg) > 170  # re-set by about a half turn
+
+
 def test_series_matches_pointer_errors_scalar_and_array(sky):
     mech = open_train(TRAINS / "tide_office.toml", sky)
     seen = {}
