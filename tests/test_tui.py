@@ -292,6 +292,28 @@ async def test_drift_chart_gives_days_before_the_common_era_whole():
         assert dates and all(len(w) == 11 for w in dates), dates
 
 
+@sync
+async def test_drift_chart_keeps_rows_for_its_curves_at_80_by_24():
+    """At 80 × 24 the summary table (one row a pointer) and the plot's blank lines and
+    "year" caption left the curves four rows (two for the seven-arm orrery); the plot now
+    gives up its spare lines on a short terminal. On a tall one they stay."""
+    from textual_plot import PlotWidget
+
+    from engine.demos import demo_path
+
+    for train, size, rows in ((None, (80, 24), 7), ("table_orrery", (80, 24), 5),
+                              (None, (120, 40), 12)):
+        app = make_app(demo_path(train) if train else None)
+        async with app.run_test(size=size) as pilot:
+            await pilot.press("d")
+            await app.workers.wait_for_complete()
+            await pilot.pause()
+            plot = app.screen.query_one(PlotWidget)
+            inside = plot.size.height - plot.margin_top - plot.margin_bottom - 2  # its frame
+            assert inside >= rows, (train, size, inside)
+            assert (plot.margin_bottom == 3) == (size[1] >= 32)  # "year" kept when tall
+
+
 def _slow_drift(monkeypatch):
     """Make drift runs take a while (small chunks, a pause before each), so a test can press
     keys while one is still going."""

@@ -919,7 +919,19 @@ class DriftScreen(ClosesOnce, Screen):
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
+        self._fit_margins()
         self.start()
+
+    def on_resize(self) -> None:
+        self._fit_margins()
+
+    def _fit_margins(self) -> None:
+        """On a short terminal (under 32 rows) the plot keeps the rows its blank lines and its
+        "year" caption took (the tick labels name the years): at 80 × 24 the summary table
+        left the curves only two to four rows."""
+        plot = self.query_one(PlotWidget)
+        short = self.size.height < 32
+        plot.margin_top, plot.margin_bottom = (1, 1) if short else (2, 3)
 
     def on_screen_resume(self) -> None:
         """Back from the parts screen: a changed train gets its chart computed again."""
