@@ -227,21 +227,42 @@ class _GridReader:
                                                                   strict=True) if w)
             self.pointers[name] = (m.lin.crank, 360.0 * float(m.lin.crank), m.offset_turns,
                                    weights)
+        # every exact rate read at an anchor: the pointers', then the stages' moving arbors'
+        self._exact = [r for r, *_ in self.pointers.values()]
+        self._exact += [r for _, _, moving in self.slots for r, *_ in moving]
+        self._rates = None  # as arrays, when turns_mod1 would work in int64 for every one
+        if all(r.denominator < 3_000_000_000 for r in self._exact):
+            self._rates = (np.array([r.numerator % r.denominator for r in self._exact],
+                                    dtype=np.int64),
+                           np.array([r.denominator for r in self._exact], dtype=np.int64),
+                           np.array([float(r) for r in self._exact]))
 
     def anchor(self, jd_first: float):
-        """Turns at the chunk's first date, and each pointer's exact reading there (degrees)."""
+        """Turns at the chunk's first date, each pointer's exact reading there (degrees) and
+        each pin-and-slot stage's moving angles there (turns): ``turns_mod1`` for every rate
+        at once, its same integer and float steps on arrays of numerators and denominators."""
         a = self.readout.turns_at(jd_first)
-        base = {name: 360.0 * (float(turns_mod1(rate, a)) + offset)
-                for name, (rate, _, offset, _) in self.pointers.items()}
-        return a, base
+        rates = self._rates
+        if rates is None:
+            at = [float(turns_mod1(rate, a)) for rate in self._exact]
+        else:
+            num, den, rate_f = rates
+            w = np.mod(a.whole, den)
+            at = np.mod(np.mod(num * w, den) / den + rate_f * a.frac, 1.0).tolist()
+        base = {name: 360.0 * (at[i] + offset)
+                for i, (name, (_, _, offset, _)) in enumerate(self.pointers.items())}
+        return at[len(self.pointers):], base
 
-    def lags_turns(self, a, since: np.ndarray) -> dict[str, np.ndarray]:
+    def lags_turns(self, at, since: np.ndarray) -> dict[str, np.ndarray]:
+        """Each stage's lead (turns) at ``since`` crank turns after the anchor; ``at``: the
+        moving angles there, from :meth:`anchor`."""
         lags: dict[str, np.ndarray] = {}
+        at = iter(at)
         for sname, ps, moving in self.slots:
             angles = []
-            for rate, rate_f, at0, weights in moving:
+            for _, rate_f, at0, weights in moving:
                 x = rate_f * since
-                x += float(turns_mod1(rate, a)) + at0
+                x += next(at) + at0
                 for other, w in weights:
                     if other in lags:
                         x += w * lags[other]
@@ -386,9 +407,12 @@ class _Running:
         self.crossing = None
 
     def add(self, i0: int, k: np.ndarray, err: np.ndarray, resid: np.ndarray,
-            shift: float = 0.0) -> None:
+            shift: float = 0.0, bound: float | None = None) -> None:
+        """``bound``: no |err| in the chunk exceeds it (``None``: not known)."""
         n = len(err)
-        if self.threshold is None:  # the first largest |err|: the first largest or smallest err
+        if self.threshold is None and bound is not None and bound + 1e-9 <= self.max_abs:
+            i = top = None  # nothing here beats the largest so far
+        elif self.threshold is None:  # the first largest |err|: the first largest or smallest
             hi, lo = int(np.argmax(err)), int(np.argmin(err))
             big, small = float(err[hi]), -float(err[lo])
             i = hi if big > small else lo if small > big else min(hi, lo)
@@ -397,7 +421,7 @@ class _Running:
             ae = np.abs(err)
             i = int(np.argmax(ae))
             top = float(ae[i])
-        if top > self.max_abs:
+        if top is not None and top > self.max_abs:
             self.max_abs, self.max_at = top, self.jd0 + (i0 + i) * self.step
         self.sum_sq += sum_sq(err)
         self.error[i0:i0 + n] = err
@@ -624,21 +648,20 @@ class _Chunks:
                 ref = self.ref[name] = float(wrap_deg(v[0]))
                 v -= ref
             ref = self.ref[name]
-            lo, hi = float(v.min()), float(v.max())
-            if not -179.0 < lo <= hi < 179.0:  # the short way round from ref
-                t = v * (1 / 360)
-                np.rint(t, out=t)
-                t *= 360.0
-                v -= t
-                lo, hi = -180.0, 180.0
-            # the error: v less the line x k and ref, wrapped when it may pass a half turn
+            t = v * (1 / 360)  # the short way round from ref (the sky's value turns over)
+            np.rint(t, out=t)
+            t *= 360.0
+            v -= t
+            # the error: v plus the line x k and ref, wrapped only when it may pass a half turn
             err = j * x
             err += v
             err += ref + x * i0
             c_lo, c_hi = sorted((ref + x * i0, ref + x * last))
-            if not (-179.0 < lo + c_lo and hi + c_hi < 179.0):
-                err = wrap_deg(err)
-            self.runs[name].add(i0, j, err, v, ref)
+            lo, hi = float(v.min()) + c_lo, float(v.max()) + c_hi
+            bound = max(-lo, hi)
+            if bound >= 179.0:
+                err, bound = wrap_deg(err), None
+            self.runs[name].add(i0, j, err, v, ref, bound)
             if self.train_keep or want_errors:
                 cont = self.reader.continuous_deg(name, base, since, lags)
                 reading = cont - 360.0 * np.floor(cont * (1 / 360))

@@ -65,6 +65,14 @@ def _hann(n: int) -> np.ndarray:
     return np.hanning(n).astype(np.float32)
 
 
+@functools.lru_cache(maxsize=4)
+def _index32(n: int) -> np.ndarray:
+    """The grid index 0..n-1 as float32 (read only: it is shared)."""
+    k = np.arange(n, dtype=np.float32)
+    k.flags.writeable = False
+    return k
+
+
 def _next_fast_len(n: int) -> int:
     """Smallest 2-3-5-smooth length >= n (fast for the FFT)."""
     best = 1 << max(0, (n - 1).bit_length())
@@ -341,8 +349,7 @@ def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, flo
     cycles_per_step = f / m
     if not 0 < cycles_per_step < 0.5:
         return 0.0, None
-    k = np.arange(n, dtype=np.float32)
-    full = y - (np.float32(a) + np.float32(b) * k)
+    full = y - (np.float32(a) + np.float32(b) * _index32(n))
     amp = _sinusoid_amplitude(full, 2 * np.pi * cycles_per_step)
     return amp, step_days / cycles_per_step
 
@@ -403,13 +410,16 @@ def _sinusoid_amplitude(y: np.ndarray, w: float, block: int = 4096, *,
     n = len(y)
     block = min(block, n)
     nb = -(-n // block)
-    pad = np.zeros(nb * block, dtype=np.float32)
-    pad[:n] = y
-    rows = pad.reshape(nb, block)
+    whole = n // block
+    rows = np.asarray(y, dtype=np.float32)[:whole * block].reshape(whole, block)
     ph = w * np.arange(block)
     c_tab, s_tab = np.cos(ph).astype(np.float32), np.sin(ph).astype(np.float32)
-    # per block: sum y cos(w j), sum y sin(w j)
+    # per block: sum y cos(w j), sum y sin(w j); the last, part block on its own
     zc, zs = np.einsum("ij,j->i", rows, c_tab), np.einsum("ij,j->i", rows, s_tab)
+    if whole < nb:
+        tail = np.asarray(y, dtype=np.float32)[whole * block:]
+        zc = np.append(zc, np.einsum("j,j->", tail, c_tab[:len(tail)]))
+        zs = np.append(zs, np.einsum("j,j->", tail, s_tab[:len(tail)]))
     start = w * block * np.arange(nb)
     cs, ss = np.cos(start), np.sin(start)
     # cos(w(kb + j)) = cos(w kb) cos(w j) - sin(w kb) sin(w j), and likewise for sin

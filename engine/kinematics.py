@@ -67,6 +67,14 @@ def pin_slot_lead_turns(pin_turns, pin_radius: float, offset: float, arm_turns=0
     """
     two_pi = 2 * np.pi
     q = np.asarray(pin_turns, dtype=float)
+    if follows == "pin" and not arm:
+        # the classic stage: the pin's angle less the followed one is zero, so the sums below
+        # reduce to these (the same arithmetic; ``+ 0.0`` as there, for the sign of a zero)
+        th = (two_pi * q).astype(dtype, copy=False)
+        x = pin_radius - offset * np.cos(th)
+        y = offset * np.sin(th)
+        y += 0.0
+        return (np.arctan2(y, x) / two_pi).astype(float, copy=False)
     a = np.asarray(arm_turns, dtype=float)
     theta = q if follows == "pin" else a
     dq = (two_pi * (q - theta)).astype(dtype, copy=False)

@@ -108,6 +108,9 @@ def test_chunks_agree_across_the_half_turn(sky):
         assert np.abs(wrap_deg(np.concatenate(seen[name]) - e.error_deg)).max() < 1e-5 * DEG
         assert np.abs(wrap_deg(small.error_deg[name] - whole.error_deg[name])).max() < 1e-5
         a, b = small.summaries[name], whole.summaries[name]
+        k = int(np.argmax(np.abs(whole.error_deg[name])))
+        assert a.max_abs_deg == pytest.approx(abs(float(whole.error_deg[name][k])), abs=2e-5)
+        assert a.max_at_jd == b.max_at_jd == pytest.approx(whole.jd[k], abs=1e-6)
         for field in ("max_abs_deg", "rms_deg", "best_offset_deg", "rms_after_reset_deg",
                       "drift_deg_per_century", "periodic_amplitude_deg"):
             assert getattr(a, field) == pytest.approx(getattr(b, field), rel=1e-6, abs=1e-7)
