@@ -14,7 +14,8 @@ otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
   fraction; an optional trailing ``Z``, ``UT`` or ``UTC``; a leading sign for astronomical
   years, ``-0100-03-01`` (= 101 BC); years need not have four digits (``333-01-27``).
 * ISO with an era: ``44-03-15 BC``, ``44-03-15 12:00 BC``, ``1066-10-14 AD`` (also BCE/CE).
-* Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``.
+* Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``; or
+  the month name first: ``March 15, 44 BC``, ``Oct 4 1957``, ``January 1, 2026 06:30``.
 * A raw Julian Date: ``JD 2451545.0`` (taken as UT).
 
 Source of the Julian Day algorithm: J. Meeus, *Astronomical Algorithms*, 2nd ed. (1998),
@@ -77,6 +78,11 @@ _ISO = re.compile(
 _NAMED = re.compile(
     r"(?P<d>\d{1,2})\s+(?P<mname>[A-Za-z]+)\.?\s+(?P<y>\d{1,6})" + _ERA
     + r"(?:\s+(?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?" + _ZONE,
+    re.IGNORECASE,
+)
+_NAMED_FIRST = re.compile(  # month name first, as written in the US: Jan 1 2026, March 15, 44 BC
+    r"(?P<mname>[A-Za-z]+)\.?\s+(?P<d>\d{1,2}),?\s+(?P<y>\d{1,6})" + _ERA
+    + r"(?:,?\s+(?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?" + _ZONE,
     re.IGNORECASE,
 )
 _JD = re.compile(r"JD\s*(?P<jd>[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)", re.IGNORECASE)
@@ -267,7 +273,7 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
     if m:
         month = int(m["m"])
     else:
-        m = _NAMED.fullmatch(s)
+        m = _NAMED.fullmatch(s) or _NAMED_FIRST.fullmatch(s)
         if not m:
             raise _fail(text, "not a date form I know")
         month = _MONTHS.get(m["mname"].lower())

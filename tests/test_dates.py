@@ -251,3 +251,21 @@ def test_jd_now_from_the_clock():
 def test_format_day_is_the_whole_day_before_the_common_era_too():
     assert format_day(parse_date("-0149-04-10 06:00")) == "-0149-04-10"
     assert format_day(parse_date("2025-03-20 09:30")) == "2025-03-20"
+
+
+@pytest.mark.parametrize("text, same_as", [
+    ("Jan 1 2026", "2026-01-01"),
+    ("January 1, 2026", "2026-01-01"),
+    ("January 1, 2026 06:30", "2026-01-01 06:30"),
+    ("Oct. 4 1957", "1957-10-04"),
+    ("March 15, 44 BC", "15 March 44 BC"),
+])
+def test_month_name_first_is_read_as_day_first(text, same_as):
+    assert parse_date(text) == parse_date(same_as)
+
+
+def test_month_name_first_is_checked_like_the_rest():
+    with pytest.raises(DateError, match="day 31 is not in 1-28"):
+        parse_date("Feb 31 2026")
+    with pytest.raises(DateError, match="unknown month name 'Febtember'"):
+        parse_date("Febtember 3, 2026")
