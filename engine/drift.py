@@ -54,7 +54,9 @@ Speed: on a uniform grid the train is read chunk by chunk from one exact reading
 chunk's first date (:func:`engine.exact.turns_mod1`) plus the pointer's float rate times the
 turns since then — the same sums as :class:`engine.readout.Readout`, equal to it within 1e-5°
 (0.04 arcsecond; single-precision pin-and-slot geometry, checked in ``tests/test_drift.py``),
-without exact integer work at every date. 219,000 dates cost about a tenth of the sky's time.
+without exact integer work at every date. The sky's true values are read (its derived fields
+are worked out then) inside the time counted as the sky's; ``bench/drift_speed.py`` prints the
+engine's share of it (219,000 six-hour dates, the tide office dial).
 """
 
 from __future__ import annotations
@@ -615,19 +617,22 @@ class _Chunks:
         self.train_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
         self.sky_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
         self.ref: dict[str, float] = {}
+        # per pointer: the sky's mean motion and the expected line at the steps of a chunk
+        self.lines: dict[str, tuple[np.ndarray, np.ndarray]] = {}
         self.delta_t_sigma_s = 0.0  # largest one-sigma ΔT uncertainty met on the grid
 
     def add(self, i0: int, j: np.ndarray, jd: np.ndarray, state, want_errors: bool,
             true: dict[str, np.ndarray] | None = None) -> dict[str, ErrorNow]:
-        """Take in the chunk of grid dates ``i0 + j`` (``jd``) with the sky ``state`` there
-        (``true``: each pointer's true value from it, when already read); the chunk's
-        :class:`ErrorNow` values when ``want_errors``.
+        """Take in the chunk of grid dates ``i0 + j`` (``j`` = 0, 1, ...; ``jd``) with the sky
+        ``state`` there (``true``: each pointer's true value from it, when already read); the
+        chunk's :class:`ErrorNow` values when ``want_errors``.
 
         The unwrapped error less the expected line and less its first value's wrap ``ref`` is
         worked out directly: the pointer's reading less the expected line is the sky's mean
-        motion a step times the steps since the chunk's start, plus the exact reading there
-        less the line, plus the pin-and-slot leads. It is made whole only when some value
-        lies half a turn away, and the wrapped error likewise (one bound from the extremes)."""
+        motion a step times the steps since the chunk's start (made once a run), plus the
+        exact reading there less the line, plus the pin-and-slot leads, less the sky's value,
+        taken the short way round. The error is that plus the line and ``ref``, wrapped only
+        when the chunk's extremes reach a half turn."""
         sigma = state.delta_t_sigma_s
         self.delta_t_sigma_s = max(self.delta_t_sigma_s, float(np.max(sigma)))
         since = j * self.turns_per_step
@@ -639,8 +644,10 @@ class _Chunks:
             sky = true_value(p.shows, state) if true is None else true[name]
             x = self.expected[name]
             _, rate360, _, weights = self.reader.pointers[name]
-            v = j * (rate360 * self.turns_per_step - x)
-            v += base[name] - x * i0 - self.ref.get(name, 0.0)
+            if len(self.lines.get(name, ())) < len(j):  # the same every chunk: made once
+                self.lines[name] = (j * (rate360 * self.turns_per_step - x), j * x)
+            motion, line = (a[:len(j)] for a in self.lines[name])
+            v = motion + (base[name] - x * i0 - self.ref.get(name, 0.0))
             v -= sky
             for sname, w in weights:
                 v += w * lags[sname]
@@ -653,8 +660,7 @@ class _Chunks:
             t *= 360.0
             v -= t
             # the error: v plus the line x k and ref, wrapped only when it may pass a half turn
-            err = j * x
-            err += v
+            err = line + v
             err += ref + x * i0
             c_lo, c_hi = sorted((ref + x * i0, ref + x * last))
             lo, hi = float(v.min()) + c_lo, float(v.max()) + c_hi
