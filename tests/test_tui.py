@@ -1426,6 +1426,59 @@ async def test_drift_chart_title_and_status_fold_at_80_columns():
         assert "capped" in _shown(app.screen.query_one("#drift-status"))
 
 
+def _rows_of_curves(plot) -> int:
+    """The text rows between the drift plot's frame lines: its height less the margins above
+    (y label) and below (years, x label) and the two frame rows."""
+    return plot.size.height - plot.margin_top - plot.margin_bottom - 2
+
+
+@pytest.mark.parametrize("demo", ["tide_office", "table_orrery"])
+@sync
+async def test_drift_chart_at_80x24_keeps_ten_rows_of_curves_and_scrolls_the_table(demo):
+    """At 80×24 the plot keeps at least ten rows of curves (common practice, no source: fewer
+    and the ±threshold lines and y labels crowd onto neighbouring rows); the table takes what
+    is left and ↑ ↓ scroll it until its last row is in view; the solar caution stays on screen.
+    At 160×50 the table fits whole and the scroll keys stay out of the footer."""
+    from engine.demos import demo_path
+
+    app = make_app(demo_path(demo))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("d")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        screen = app.screen
+        assert isinstance(screen, DriftScreen)
+        plot, table = screen.query_one("#drift-plot"), screen.query_one("#drift-table")
+        summary = screen.query_one("#drift-summary")
+        assert _rows_of_curves(plot) >= 10, plot.size
+        caution = screen.query_one("#drift-caution")
+        footer_top = screen.query_one("Footer").region.y
+        assert caution.region.height >= 1 and caution.region.bottom <= footer_top
+        assert "solarfilter" in _shown(caution)  # (_shown drops the spaces)
+        last_name = list(app.session.mech.train.pointers)[-1]
+        last_line = summary.render_line(summary.size.height - 1).text
+        assert last_name in last_line  # the table's last row is the last pointer's
+
+        def last_row_in_view() -> bool:
+            y = summary.region.bottom - 1
+            view = table.scrollable_content_region
+            return view.y <= y < view.bottom
+
+        assert not last_row_in_view()  # too long to fit at 80×24: it must scroll
+        assert {"table(1)", "table(-1)"} <= set(_footer_keys(app))
+        for _ in range(summary.size.height):
+            await pilot.press("down")
+        await wait_for(pilot, last_row_in_view, "the table's last row to scroll into view")
+        assert table.scroll_y == table.max_scroll_y
+        await pilot.press("pageup")
+        await wait_for(pilot, lambda: table.scroll_y == 0, "PgUp to go back to the top")
+        await pilot.resize_terminal(160, 50)
+        await pilot.pause()
+        await pilot.pause()
+        assert table.max_scroll_y == 0 and last_row_in_view()
+        assert not {"table(1)", "table(-1)"} & set(_footer_keys(app))
+
+
 @pytest.mark.parametrize("demo, eclipses", [("tide_office", True), ("planet_dial", False)])
 @sync
 async def test_footer_fits_at_every_width_and_shows_eclipse_keys_on_an_eclipse_train(

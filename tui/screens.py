@@ -63,6 +63,7 @@ _GEDIT = Binding.Group("↶↷", compact=True)
 _GDECADE = Binding.Group("decades", compact=True)
 _GTHRESHOLD = Binding.Group("threshold", compact=True)
 _GECLIPSE = Binding.Group("eclipse", compact=True)
+_GTABLE = Binding.Group("table", compact=True)
 
 
 # What each action does, for help and the command palette (the footer keeps short labels).
@@ -101,6 +102,10 @@ LONG_HELP = {
     "back": "back to the bench", "cancel": "cancel the drift computation",
     "decades(1)": "one decade more", "decades(-1)": "one decade less",
     "threshold(1)": "raise the threshold", "threshold(-1)": "lower the threshold",
+    "table(1)": "scroll the drift table down a row (when it does not fit)",
+    "table(-1)": "scroll the drift table up a row",
+    "table_page(1)": "scroll the drift table down a page",
+    "table_page(-1)": "scroll the drift table up a page",
 }
 
 
@@ -869,6 +874,8 @@ DECADE_DAYS = 3652.5
 MAX_DECADES = 60
 PLOT_STYLES = ("#f2b632", "#7fd4ff", "#c678dd", "#98c379", "#e06c75", "#56b6c2", "#d19a66")
 THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
+#: below this many rows the drift plot's margins shrink to a row above and a row below
+PLOT_COMPACT_BELOW = 32
 
 
 class DriftScreen(ClosesOnce, Screen):
@@ -883,6 +890,10 @@ class DriftScreen(ClosesOnce, Screen):
         Binding("minus", "decades(-1)", "−decade", group=_GDECADE),
         Binding("right_square_bracket", "threshold(1)", "threshold↑", group=_GTHRESHOLD),
         Binding("left_square_bracket", "threshold(-1)", "threshold↓", group=_GTHRESHOLD),
+        Binding("up", "table(-1)", "table↑", group=_GTABLE),
+        Binding("down", "table(1)", "table↓", group=_GTABLE),
+        Binding("pageup", "table_page(-1)", "table page↑", show=False),
+        Binding("pagedown", "table_page(1)", "table page↓", show=False),
         Binding("w", "change_train", "edit…", show=False),
         Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT, show=False),
         Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT, show=False),
@@ -914,7 +925,10 @@ class DriftScreen(ClosesOnce, Screen):
             yield ProgressBar(total=100, show_eta=False, id="drift-progress")
             yield Static("", id="drift-status")
         yield Static("", id="drift-changed")
-        yield Static("", id="drift-summary")
+        # the table takes what the plot leaves (a share of the screen, tui/wheelwork.tcss) and
+        # scrolls when it needs more: ↑ ↓ PgUp PgDn, or the mouse wheel
+        with VerticalScroll(id="drift-table", can_focus=False):
+            yield Static("", id="drift-summary")
         yield Static(CAUTION, id="drift-caution")
         yield Footer(compact=True)
 
@@ -924,14 +938,32 @@ class DriftScreen(ClosesOnce, Screen):
 
     def on_resize(self) -> None:
         self._fit_margins()
+        self.call_after_refresh(self.refresh_bindings)  # ↑ ↓ in the footer when it scrolls
 
     def _fit_margins(self) -> None:
-        """On a short terminal (under 32 rows) the plot keeps the rows its blank lines and its
-        "year" caption took (the tick labels name the years): at 80 × 24 the summary table
-        left the curves only two to four rows."""
+        """On a short terminal (under PLOT_COMPACT_BELOW rows) the plot keeps the rows its
+        blank lines and its "year" caption took (the tick labels name the years): at 80 × 24
+        the summary table left the curves only two to four rows."""
         plot = self.query_one(PlotWidget)
-        short = self.size.height < 32
+        short = (self.size.height or self.app.size.height) < PLOT_COMPACT_BELOW
         plot.margin_top, plot.margin_bottom = (1, 1) if short else (2, 3)
+
+    def _table(self) -> VerticalScroll:
+        return self.query_one("#drift-table", VerticalScroll)
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        """The table's scroll keys are in the footer only while the table does not fit."""
+        if action in ("table", "table_page"):
+            return self.is_mounted and self._table().max_scroll_y > 0
+        return True
+
+    def action_table(self, step: int) -> None:
+        self._table().scroll_relative(y=int(step), animate=False)
+
+    def action_table_page(self, step: int) -> None:
+        table = self._table()
+        table.scroll_relative(y=int(step) * max(1, table.scrollable_content_region.height - 1),
+                              animate=False)
 
     def on_screen_resume(self) -> None:
         """Back from the parts screen: a changed train gets its chart computed again."""
@@ -1035,6 +1067,8 @@ class DriftScreen(ClosesOnce, Screen):
 
     def _summary(self, content) -> None:
         self.query_one("#drift-summary", Static).update(content)
+        self._table().scroll_home(animate=False)
+        self.call_after_refresh(self.refresh_bindings)
 
     def _failed(self, text: str, run: int) -> None:
         if run == self._run:
