@@ -39,8 +39,9 @@ Method (all angles in degrees):
   interpolation from the date before (the span's start if the first date is already past).
 * Best re-setting: the constant ``c`` minimising the RMS of wrap(error - c): started from the
   circular mean, then refined by ``c += mean(wrap(error - c))`` (the exact minimiser when no
-  error crosses the half turn opposite ``c``). Turning the pointer back by ``c`` leaves
-  ``rms_after_reset_deg``.
+  error crosses the half turn opposite ``c``). Errors all within less than a half turn of
+  each other (nothing wraps) give their plain mean at once, where the refining ends.
+  Turning the pointer back by ``c`` leaves ``rms_after_reset_deg``.
 
 Memory: the grid is walked in chunks (``RunControl.chunk`` dates at a time: one sky computation, the
 train's readings, the errors); running sums give the maxima, RMS, fit and threshold. What must

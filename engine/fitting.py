@@ -9,7 +9,9 @@
 
 Long series are averaged in bins of ``m`` grid steps (``FFT_MAX_POINTS`` bins at most) before
 the fits: a bin's mean of a line or of a sinusoid is the line, or the sinusoid times a
-constant, at the bin's centre, so the fits on the bins are exact for both.
+constant, at the bin's centre, so the fits on the bins are exact for both. The bins are evenly
+spaced, so the fit's normal matrix comes from geometric sums in closed form, not from summing
+products of its columns.
 
 Every sum over a long array is an elementwise or ``einsum`` reduction, never a BLAS call
 (``np.dot``, ``@``, ``lstsq``): BLAS may split a long product over threads, and its idle

@@ -106,3 +106,39 @@ def test_period_search_never_reports_a_period_under_two_steps():
     for period_steps in (1.5, 1.9, 2.5, 7.0):
         _, p = periodic_part(np.sin(2 * np.pi * k / period_steps), 1.0)
         assert p is None or p >= 2.0
+
+
+def test_normal_matrix_in_closed_form_equals_the_summed_products():
+    """Guard for the closed-form normal matrix: it equals the design's products summed, for
+    binned and unbinned grids; two distinct frequencies less than a cycle apart over the span
+    are left to the summed products."""
+    from engine.fitting import _binned, _design, _gram
+
+    days = (27.5545, 13.7773, 31.812, 14.7653, 365.2596, 182.6298, 6798.4, 398.88)
+    for n, step in ((219_151, 0.25), (54_000, 1.0), (3_000, 1.0)):
+        b = _binned(np.zeros(n, dtype=np.float32))
+        ws = tuple(sorted(2 * np.pi * step / d for d in days if d < n * step / 2))
+        x = _design(b, ws, ws, None)[0]
+        summed = np.einsum("ik,jk->ij", x, x)
+        mid, half = (b.c[0] + b.c[-1]) / 2, max((b.c[-1] - b.c[0]) / 2, 1.0)
+        closed = _gram(b.c, mid, half, ws)
+        assert np.abs(closed - summed).max() < 1e-9 * np.abs(summed).max()
+    c = np.arange(1000.0)
+    assert _gram(c, 499.5, 499.5, (0.1, 0.1 + 1e-5)) is None
+
+
+def test_best_offset_of_a_cluster_is_its_mean_and_least_rms():
+    """Errors within a half turn of each other: the offset is their mean (no error wraps about
+    it), and no other offset leaves a smaller RMS of the wrapped differences."""
+    rng = np.random.default_rng(3)
+    for centre in (-179.0, -40.0, 0.0, 95.0, 179.5):
+        err = wrap_deg(centre + rng.normal(0.0, 20.0, 50_000).clip(-85, 85)).astype(np.float32)
+        c, rms = best_offset(err)
+        spread = float(err.max()) - float(err.min())
+        if spread < 179:
+            assert c == pytest.approx(float(err.mean(dtype=float)), abs=1e-9)
+        for other in c + np.array([-1.0, -0.01, 0.01, 1.0]):
+            left = wrap_deg(err.astype(float) - other)
+            assert np.sqrt(np.mean(left ** 2)) > rms
+        assert rms == pytest.approx(np.sqrt(np.mean(wrap_deg(err.astype(float) - c) ** 2)),
+                                    rel=1e-6)
