@@ -41,6 +41,16 @@ def pointer_linear(kin: Kinematics, p: Pointer) -> LinearAngle:
     return lin.scaled(p.per_turn * (-1 if p.reversed else 1))
 
 
+def backward_pointers(train: Train, kin: Kinematics) -> set[str]:
+    """Names of the pointers whose arbor turns against the sense of what they show."""
+    out = set()
+    for p in train.pointers.values():
+        rate = pointer_linear(kin, p).crank
+        if rate != 0 and (rate > 0) != (KINDS[p.shows].mean_period(train.dial).sense > 0):
+            out.add(p.name)
+    return out
+
+
 def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
     """Pointers whose arbor turns against the sense of what they show, with the fix."""
     out = []

@@ -42,8 +42,12 @@ def test_item_names_in_brackets_survive_the_console(tmp_path, capsys):
     train = tmp_path / "wrongway.toml"
     train.write_text(GOOD.replace("reversed = true\n", ""))  # a Moon hand turning backwards
     assert main(["ratios", str(train)]) == 0
-    out = " ".join(capsys.readouterr().out.split())
+    raw = capsys.readouterr().out
+    out = " ".join(raw.split())
     assert "[pointers.p]: turns backwards" in out
+    # and the pointer's own row in the ratio table says so, not only the warning at the end
+    rows = [line.strip() for line in raw.splitlines() if "(runs backwards)" in line]
+    assert len(rows) == 1 and "p (runs backwards)" in rows[0]
 
 
 def test_drift_past_the_ephemeris_says_how_much(capsys):

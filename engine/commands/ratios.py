@@ -34,7 +34,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..kinematics import solve
     from ..loader import load_train
     from ..ratios import pointer_ratios
-    from ..readout import backward_warnings
+    from ..readout import backward_pointers, backward_warnings
 
     train = load_train(args.train)
     kin = solve(train)
@@ -60,9 +60,14 @@ def run(args: argparse.Namespace, console: Console) -> int:
     for col, just in (("pointer", "left"), ("period (d)", "right"), ("mean (d)", "right"),
                       ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
+    backwards = backward_pointers(train, kin)
     for r in rows:
-        table.add_row(r.pointer, f"{r.period_days:.10g}", f"{r.target_days:.10g}", f"{r.period_error_ppm:+.3f}",
-                      f"{r.drift_deg_per_century:+.4f}", _years(r.years_to_one_day))
+        # a pointer running the wrong way has its period right and its sense wrong: say so in
+        # its own row, not only in the warning at the end
+        name = r.pointer + (" (runs backwards)" if r.pointer in backwards else "")
+        table.add_row(name, f"{r.period_days:.10g}", f"{r.target_days:.10g}",
+                      f"{r.period_error_ppm:+.3f}", f"{r.drift_deg_per_century:+.4f}",
+                      _years(r.years_to_one_day))
     support.print_table(console, table)
     for r in rows:
         sense = ", dial reversed" if train.pointers[r.pointer].reversed else ""
