@@ -1479,6 +1479,41 @@ async def test_drift_chart_at_80x24_keeps_ten_rows_of_curves_and_scrolls_the_tab
         assert not {"table(1)", "table(-1)"} & set(_footer_keys(app))
 
 
+@sync
+async def test_drift_chart_threshold_follows_the_theme():
+    """The ±threshold lines and their key in the title are drawn in the theme's text colour:
+    white lines vanished on a light theme. Switching theme with the chart open draws them
+    again from the result already computed."""
+    from rich.style import Style
+    from textual.color import Color
+
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("d")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        screen = app.screen
+        result = screen.result
+        app.theme = "textual-light"
+        await pilot.pause()
+        await pilot.pause()
+        assert screen.result is result  # drawn again, not computed again
+        v = app.theme_variables
+        fg, bg = Color.parse(v["foreground"]), Color.parse(v["background"])
+        assert abs(fg.brightness - bg.brightness) > 0.5  # a dark line on a light ground
+        title = screen.query_one("#drift-title").content
+        key = next(span for span in title.spans if title.plain[span.start:span.end] == "━━")
+        assert Color.from_rich_color(Style.parse(str(key.style)).color) == fg
+        lines = [d for d in screen.query_one("#drift-plot")._datasets
+                 if len(d.x) == 2 and abs(float(d.y[0])) == result_threshold(result)]
+        assert len(lines) == 2
+        assert all(fg.hex.lower() in str(d.line_style).lower() for d in lines), lines
+
+
+def result_threshold(result) -> float:
+    return next(iter(result.summaries.values())).threshold_deg
+
+
 @pytest.mark.parametrize("demo, eclipses", [("tide_office", True), ("planet_dial", False)])
 @sync
 async def test_footer_fits_at_every_width_and_shows_eclipse_keys_on_an_eclipse_train(

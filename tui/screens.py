@@ -51,6 +51,7 @@ from .widgets import (
     SkyDial,
     Status,
     TrainView,
+    ui,
 )
 
 _G1 = Binding.Group("±1", compact=True)
@@ -934,6 +935,7 @@ class DriftScreen(ClosesOnce, Screen):
 
     def on_mount(self) -> None:
         self._fit_margins()
+        self.app.theme_changed_signal.subscribe(self, self._theme_changed)
         self.start()
 
     def on_resize(self) -> None:
@@ -947,6 +949,29 @@ class DriftScreen(ClosesOnce, Screen):
         plot = self.query_one(PlotWidget)
         short = (self.size.height or self.app.size.height) < PLOT_COMPACT_BELOW
         plot.margin_top, plot.margin_bottom = (1, 1) if short else (2, 3)
+
+    def _show_title(self) -> None:
+        """The title line, in the theme's colours (the threshold's key is drawn as its lines)."""
+        start, end = self.span()
+        c = ui(self)
+        self.query_one("#drift-title", Static).update(Text.assemble(
+            ("drift  ", f"bold {c['accent']}"), f"{format_day(start)} → {format_day(end)}  ",
+            (f"({(end - start) / JULIAN_YEAR_DAYS:.1f} years", "dim"),
+            (", capped" if self.capped() else "", "dim"),
+            (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
+            (f", {'geocentric' if self.session.observer is None else self.session.site_name})",
+             "dim"),
+            ("  train − sky; ", c["muted"]), ("━━", f"bold {c['fg']}"),
+            (f" ±{self.threshold_deg:g}° threshold", c["muted"])))
+
+    def _theme_changed(self, _theme) -> None:
+        """A new theme (the palette's theme command): title, threshold lines and table
+        header drawn again in its colours, from the result already computed."""
+        if not self.is_attached or not self.children:
+            return
+        self._show_title()
+        if self.result is not None and not self.computing:
+            self.show_result(self.result)
 
     def _table(self) -> VerticalScroll:
         return self.query_one("#drift-table", VerticalScroll)
@@ -996,16 +1021,7 @@ class DriftScreen(ClosesOnce, Screen):
         self.charted = self.session.mech
         start, end = self.span()
         sky = self.session.sky
-        title = self.query_one("#drift-title", Static)
-        title.update(Text.assemble(
-            ("drift  ", "bold #e5c07b"), f"{format_day(start)} → {format_day(end)}  ",
-            (f"({(end - start) / JULIAN_YEAR_DAYS:.1f} years", "dim"),
-            (", capped" if self.capped() else "", "dim"),
-            (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
-            (f", {'geocentric' if self.session.observer is None else self.session.site_name})",
-             "dim"),
-            ("  train − sky; ", "#9aa5b1"), ("━━", "bold #ffffff"),
-            (f" ±{self.threshold_deg:g}° threshold", "#9aa5b1")))
+        self._show_title()
         self._run += 1
         self.result = None
         self.query_one(PlotWidget).clear()
@@ -1098,8 +1114,10 @@ class DriftScreen(ClosesOnce, Screen):
             plot.plot(years, np.asarray(err), line_style=colour[name],
                       hires_mode=HiResMode.BRAILLE, label=name)
         ends = [float(years[0]), float(years[-1])]
-        plot.plot(ends, [thr, thr], line_style="bold #ffffff", hires_mode=HiResMode.BRAILLE)
-        plot.plot(ends, [-thr, -thr], line_style="bold #ffffff", hires_mode=HiResMode.BRAILLE)
+        c = ui(self)  # the threshold in the theme's text colour: white would vanish on light
+        plot.plot(ends, [thr, thr], line_style=f"bold {c['fg']}", hires_mode=HiResMode.BRAILLE)
+        plot.plot(ends, [-thr, -thr], line_style=f"bold {c['fg']}",
+                  hires_mode=HiResMode.BRAILLE)
         first_jd = float(result.jd[0])
 
         def crossing(sm) -> str:
@@ -1121,7 +1139,7 @@ class DriftScreen(ClosesOnce, Screen):
         plot.set_ylabel("error °")
         # the key to the colours is the summary table below, so the curves stay uncovered
         plot.show_legend(is_visible=False)
-        t = Table(box=None, padding=(0, 1), header_style="bold #9aa5b1")
+        t = Table(box=None, padding=(0, 1), header_style=f"bold {c['muted']}")
         for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy",
                     f"first past ±{thr:g}° (vertical line)"):
             t.add_column(col, justify="right" if "°" in col else "left")
@@ -1147,7 +1165,7 @@ class DriftScreen(ClosesOnce, Screen):
         pct = f"{self._percent:.0f}%"
         self._status(f"cancelled at {pct}")
         self._summary(Text(f"cancelled at {pct}: no summary for a partial span "
-                           "(+ − ] [ compute again)", style="#e5c07b"))
+                           "(+ − ] [ compute again)", style=ui(self)["warn"]))
 
     def action_decades(self, step: int) -> None:
         step = int(step)
