@@ -307,7 +307,8 @@ class PointerSummary:
     ``drift_deg_per_century``: slope of the least-squares line through the unwrapped error,
     fitted jointly with sinusoids at the sky's known periods (:func:`sky_terms`).
     ``periodic_amplitude_deg`` / ``periodic_period_days``: the strongest sinusoid left once that
-    line is removed (``None`` period when the span is too short to show one).
+    line is removed: ``None`` period with a NaN amplitude when the span is too short to show
+    one (or the step too coarse: ``step_note``), with 0 when none was found.
     ``drift_sigma_deg_per_century``: standard error of that slope (see :func:`fit_drift`);
     ``drift_uncertain``: the span is too short for the drift to mean much — shorter than two
     periods of the strongest swing, or a known sky inequality (``drift_terms_left_out``) has a
@@ -460,7 +461,8 @@ class _Running:
         span = (n - 1) * self.step
         # a swing too small to print cannot tilt the line by much
         short = period is not None and span < 2.0 * period and amp >= 5e-5
-        uncertain = (period is None or short or step_note is not None
+        too_short = period is None and math.isnan(amp)  # searched and found none: not so
+        uncertain = (too_short or short or step_note is not None
                      or any(t not in MINOR_TERMS for t in fit.left_out))
         offset, rms_after = best_offset(self.error)
         thr = self.threshold

@@ -308,7 +308,9 @@ def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, flo
                   binned: _Binned | None = None) -> tuple[float, float | None]:
     """Amplitude (units of ``resid``) and period (days) of the strongest sinusoid in a series on
     a uniform grid, after removing ``line = (a, b)``, i.e. ``a + b k`` (default: its own
-    least-squares line). ``(0.0, None)`` when the series is too short or flat.
+    least-squares line). ``(nan, None)`` when the series is too short to search;
+    ``(0.0, None)`` when it was searched and holds no swing: it is flat, or what is strongest
+    in the band is the edge of a change slower than the band (a curve, not a swing).
 
     Periods from twice the analysis step to two thirds of the span are searched: the
     analysis step is the grid step, or ``m`` steps averaged when the series is longer than
@@ -320,7 +322,7 @@ def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, flo
     y = np.asarray(resid, dtype=np.float32)
     n = len(y)
     if n < 16:
-        return 0.0, None
+        return math.nan, None
     if line is None:
         line = _line(y)
     a, b = line
@@ -336,7 +338,7 @@ def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, flo
     mag = np.abs(np.fft.rfft((yd - np.float32(yd.mean(dtype=float))) * _hann(nd), nfft))
     lo = max(2, int(math.ceil(1.5 * nfft / nd)))  # at least 1.5 cycles in the span
     if lo >= len(mag) - 1:
-        return 0.0, None
+        return math.nan, None
     j = lo + int(np.argmax(mag[lo:]))
     shift = 0.0  # parabola through the log magnitudes: the starting point of the search
     if j + 1 < len(mag):
@@ -348,6 +350,10 @@ def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, flo
     f_lo = max((j - 1) / nfft, 1.0 / nd)
     f_hi = min((j + 1) / nfft, 0.5)
     f = _refine_frequency(yd, min(max((j + shift) / nfft, f_lo), f_hi), 0.25 / nfft, f_lo, f_hi)
+    if f <= (1.0 + 1e-6) / nd:
+        # the best sinusoid wants one cycle a span or fewer: what is there is a change slower
+        # than any swing the span can show (a curve the line leaves), not a swing
+        return 0.0, None
     cycles_per_step = f / m
     if not 0 < cycles_per_step < 0.5:
         return 0.0, None

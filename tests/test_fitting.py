@@ -142,3 +142,20 @@ def test_best_offset_of_a_cluster_is_its_mean_and_least_rms():
             assert np.sqrt(np.mean(left ** 2)) > rms
         assert rms == pytest.approx(np.sqrt(np.mean(wrap_deg(err.astype(float) - c) ** 2)),
                                     rel=1e-6)
+
+
+def test_a_curve_is_not_a_swing():
+    """A slow curve the line leaves (a quadratic over the span) is not reported as a swing of
+    one cycle a span: the search finds none (0.0, None), and the drift is not called
+    uncertain for it; a series too short to search gives a NaN amplitude instead."""
+    from engine.drift import summarise
+
+    k = np.arange(73_000)
+    curve = 1e-3 * ((k - k.mean()) / k.size) ** 2  # a quarter of a millidegree across the span
+    assert periodic_part(curve, 0.25) == (0.0, None)
+    jd = 2451545.0 + 0.25 * k
+    s = summarise(jd, 0.5 + 1e-4 * k / k.size + curve)
+    assert s.periodic_period_days is None and s.periodic_amplitude_deg == 0.0
+    assert not s.drift_uncertain
+    a, p = periodic_part(np.ones(10), 1.0)
+    assert p is None and np.isnan(a)

@@ -364,7 +364,8 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     if s.step_note:
         t.add_row("swing about the drift", "not sought: the step is too coarse")
     elif s.periodic_period_days is None:
-        t.add_row("swing about the drift", "none found (span too short)")
+        t.add_row("swing about the drift", "none found (span too short)"
+                  if math.isnan(s.periodic_amplitude_deg) else "none found")
     elif s.periodic_amplitude_deg < 5e-5:  # below the last printed digit: no period to speak of
         t.add_row("swing about the drift", "none (under 0.0001°)")
     else:
