@@ -1465,18 +1465,27 @@ async def test_drift_chart_at_80x24_keeps_ten_rows_of_curves_and_scrolls_the_tab
             return view.y <= y < view.bottom
 
         assert not last_row_in_view()  # too long to fit at 80×24: it must scroll
-        assert {"table(1)", "table(-1)"} <= set(_footer_keys(app))
+        await wait_for(pilot, lambda: {"table(1)", "table(-1)"} <= set(_footer_keys(app)),
+                       "↑↓ table in the footer")
         for _ in range(summary.size.height):
             await pilot.press("down")
         await wait_for(pilot, last_row_in_view, "the table's last row to scroll into view")
         assert table.scroll_y == table.max_scroll_y
         await pilot.press("pageup")
         await wait_for(pilot, lambda: table.scroll_y == 0, "PgUp to go back to the top")
+        # a change to the train: its note heads the table, the plot keeps its rows
+        screen.changed = "[arbors.x] wheel 'w': 59 → 60"
+        screen.start()
+        await app.workers.wait_for_complete()
+        note = screen.query_one("#drift-changed")
+        await wait_for(pilot, lambda: note.display and note.region.height >= 1
+                       and note.region.y == table.scrollable_content_region.y,
+                       "the note of the change to head the table")
+        assert _rows_of_curves(plot) >= 10, plot.size
         await pilot.resize_terminal(160, 50)
-        await pilot.pause()
-        await pilot.pause()
-        assert table.max_scroll_y == 0 and last_row_in_view()
-        assert not {"table(1)", "table(-1)"} & set(_footer_keys(app))
+        await wait_for(pilot, lambda: table.max_scroll_y == 0 and last_row_in_view()
+                       and not {"table(1)", "table(-1)"} & set(_footer_keys(app)),
+                       "the whole table in view at 160×50 and its scroll keys gone")
 
 
 @sync
@@ -1495,15 +1504,18 @@ async def test_drift_chart_threshold_follows_the_theme():
         screen = app.screen
         result = screen.result
         app.theme = "textual-light"
-        await pilot.pause()
-        await pilot.pause()
-        assert screen.result is result  # drawn again, not computed again
         v = app.theme_variables
         fg, bg = Color.parse(v["foreground"]), Color.parse(v["background"])
         assert abs(fg.brightness - bg.brightness) > 0.5  # a dark line on a light ground
-        title = screen.query_one("#drift-title").content
-        key = next(span for span in title.spans if title.plain[span.start:span.end] == "━━")
-        assert Color.from_rich_color(Style.parse(str(key.style)).color) == fg
+
+        def key_colour():
+            title = screen.query_one("#drift-title").content
+            key = next(span for span in title.spans
+                       if title.plain[span.start:span.end] == "━━")
+            return Color.from_rich_color(Style.parse(str(key.style)).color)
+
+        await wait_for(pilot, lambda: key_colour() == fg, "the title's key in the new theme")
+        assert screen.result is result  # drawn again, not computed again
         lines = [d for d in screen.query_one("#drift-plot")._datasets
                  if len(d.x) == 2 and abs(float(d.y[0])) == result_threshold(result)]
         assert len(lines) == 2

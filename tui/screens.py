@@ -925,10 +925,11 @@ class DriftScreen(ClosesOnce, Screen):
         with Horizontal(id="drift-progress-row"):
             yield ProgressBar(total=100, show_eta=False, id="drift-progress")
             yield Static("", id="drift-status")
-        yield Static("", id="drift-changed")
         # the table takes what the plot leaves (a share of the screen, tui/wheelwork.tcss) and
-        # scrolls when it needs more: ↑ ↓ PgUp PgDn, or the mouse wheel
+        # scrolls when it needs more: ↑ ↓ PgUp PgDn, or the mouse wheel; the note of a change
+        # to the train heads it, so the plot keeps its rows
         with VerticalScroll(id="drift-table", can_focus=False):
+            yield Static("", id="drift-changed")
             yield Static("", id="drift-summary")
         yield Static(CAUTION, id="drift-caution")
         yield Footer(compact=True)
