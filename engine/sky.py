@@ -775,9 +775,10 @@ def _dpsi_2000b(jd_tt: np.ndarray) -> np.ndarray:
 def skyfield_2000b_nutation(t) -> None:
     """Make skyfield use IAU 2000B nutation (the fast path's model) for its Time ``t``.
 
-    The one place that uses skyfield's private hook: it reads the nutation angles of a Time
-    from ``t._nutation_angles_radians`` (a cached attribute, which skyfield's own
-    documentation suggests setting to swap in IAU 2000B). pyproject.toml pins skyfield below
+    The one place in the package that uses skyfield's private hook (bench/sky_speed.py sets
+    it too, for its peer): skyfield reads the nutation angles of a Time from
+    ``t._nutation_angles_radians`` (a cached attribute, which skyfield's own documentation
+    suggests setting to swap in IAU 2000B). pyproject.toml pins skyfield below
     its next major version and ``tests/test_sky.py::test_skyfield_nutation_hook_still_there``
     fails loudly if the hook stops working."""
     shape = np.shape(t.tt)
