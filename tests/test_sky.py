@@ -848,20 +848,26 @@ def _tdb(sky, jd_ut):
     return np.asarray(t.whole, dtype=float), np.asarray(t.tdb_fraction, dtype=float)
 
 
+def _grid_agrees_with_gather(sky, jd_ut):
+    """Every series of the file on a UT grid: the grid path is taken, and agrees with the
+    gather path within 1 cm in position and within the grid's bound on rates (1 cm/s) plus
+    the gather path's single precision."""
+    whole, frac = _tdb(sky, jd_ut)
+    for group in sky._loaded.groups:
+        grid = group._evaluate_grid(whole, frac)
+        assert grid is not None, group.keys
+        ref = _gathered(group, whole, frac)
+        for key, (pos, vel) in grid.items():
+            assert np.max(np.abs(pos - ref[key][0])) < 1e-5, key  # km
+            assert np.max(np.abs(vel - ref[key][1])) < (
+                _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), key
+
+
 @pytest.mark.parametrize("step", [1.0, 0.25, 1 / 24, 2.0, 4.0])
 def test_grid_path_matches_gather_path(sky, step):
     # UT grids are slightly irregular in TDB (ΔT drifts): every date is carried from its grid
     # point through the Taylor series, whose remainder is bounded below a millimetre.
-    whole, frac = _tdb(sky, 2415020.8 + step * np.arange(3000))
-    for group in sky._loaded.groups:
-        grid = group._evaluate_grid(whole, frac)
-        assert grid is not None, (step, group.keys)
-        ref = _gathered(group, whole, frac)
-        for key, (pos, vel) in grid.items():
-            assert np.max(np.abs(pos - ref[key][0])) < 1e-5, (step, key)  # km: 1 cm
-            # rates within the grid's bound (1 cm/s) plus the gather path's single precision
-            assert np.max(np.abs(vel - ref[key][1])) < (
-                _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), (step, key)
+    _grid_agrees_with_gather(sky, 2415020.8 + step * np.arange(3000))
 
 
 def test_grid_path_only_for_grids(sky):
@@ -905,15 +911,7 @@ def test_grid_taylor_order_grows_with_slip(sky):
 def test_grid_path_ancient(sky406):
     # Half a minute a year of ΔT drift at 2000 BC, on DE406's arrays (scaled records).
     for step in (1.0, 0.25):
-        whole, frac = _tdb(sky406, 990000.8 + step * np.arange(4096))
-        for group in sky406._loaded.groups:
-            grid = group._evaluate_grid(whole, frac)
-            assert grid is not None, (step, group.keys)
-            ref = _gathered(group, whole, frac)
-            for key, (pos, vel) in grid.items():
-                assert np.max(np.abs(pos - ref[key][0])) < 1e-5, (step, key)
-                assert np.max(np.abs(vel - ref[key][1])) < (
-                    _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), (step, key)
+        _grid_agrees_with_gather(sky406, 990000.8 + step * np.arange(4096))
 
 
 def test_tdb_from_its_grid():
