@@ -5,18 +5,16 @@ The app is built by :func:`tui.app.make_app`, the same factory ``wheelwork crank
 """
 
 import asyncio
-import functools
-import io
 from dataclasses import replace
 from fractions import Fraction
 from pathlib import Path
 
 import numpy as np
 import pytest
-from rich.console import Console
 
 from engine.dates import format_jd, parse_date
 from engine.drift import pointer_errors
+from tests.tui_support import sync, text_of
 from tui.app import make_app
 from tui.screens import (
     FOOTER_FROM_WIDTH,
@@ -32,13 +30,6 @@ from tui.widgets import CAUTION, Readings, SkyDial, Status, canvas_rows
 
 SIZE = (120, 40)
 
-
-def sync(fn):
-    """Run an async Pilot test on a fresh event loop (no async plugin needed)."""
-    @functools.wraps(fn)
-    def wrapper(*args, **kwargs):
-        asyncio.run(fn(*args, **kwargs))
-    return wrapper
 
 
 ARCSEC = 1 / 3600
@@ -64,12 +55,6 @@ def bench(app) -> BenchScreen:
     assert isinstance(app.screen, BenchScreen)
     return app.screen
 
-
-def text_of(widget) -> str:
-    """A Static's content as plain text (tables rendered wide, no wrapping)."""
-    console = Console(width=300, file=io.StringIO(), record=True)
-    console.print(widget.content)
-    return console.export_text()
 
 
 def check_readout(app) -> None:

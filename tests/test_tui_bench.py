@@ -6,18 +6,15 @@ above the start, a typed path).
 Every test that could touch the user's config folder points XDG_CONFIG_HOME at a temporary one.
 """
 
-import asyncio
-import functools
-import io
 from datetime import UTC, datetime
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from rich.console import Console
 
 from engine.dates import parse_date
 from engine.demos import demo_path
+from tests.tui_support import sync, text_of
 from tui.app import make_app
 from tui.screens import BenchScreen, StepDialog
 from tui.widgets import Status
@@ -31,17 +28,6 @@ def _own_home(tmp_path, monkeypatch):
     monkeypatch.setenv("HOME", str(tmp_path / "home"))
 
 
-def sync(fn):
-    @functools.wraps(fn)
-    def wrapper(*args, **kwargs):
-        asyncio.run(fn(*args, **kwargs))
-    return wrapper
-
-
-def text_of(widget) -> str:
-    console = Console(width=300, file=io.StringIO(), record=True)
-    console.print(widget.content)
-    return console.export_text()
 
 
 def status_lines(app) -> list[str]:

@@ -1,15 +1,12 @@
 """The interface's eclipse parts, driven by Textual's Pilot: the readout against the engine,
 the jump keys, the limit arcs on the sky dial and the cycle dial's ribbon."""
 
-import asyncio
-import functools
-import io
 
 import pytest
-from rich.console import Console
 
 from engine.dates import parse_date
 from engine.eclipses import EclipseWatch
+from tests.tui_support import sync, text_of
 from tui.app import make_app
 from tui.screens import BenchScreen, long_help
 from tui.widgets import EclipseInfo
@@ -17,17 +14,6 @@ from tui.widgets import EclipseInfo
 SIZE = (120, 40)
 
 
-def sync(fn):
-    @functools.wraps(fn)
-    def wrapper(*args, **kwargs):
-        asyncio.run(fn(*args, **kwargs))
-    return wrapper
-
-
-def text_of(widget) -> str:
-    console = Console(width=300, file=io.StringIO(), record=True)
-    console.print(widget.content)
-    return console.export_text()
 
 
 @sync

@@ -3,19 +3,16 @@ screen re-solves at once, refuses bad values in place, undo and redo, the change
 save dialog (a new name; replacing the opened file only after a second Enter), opening another
 train or a demo."""
 
-import asyncio
-import functools
-import io
 import shutil
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from rich.console import Console
 from textual.widgets import DirectoryTree, Input, Label, OptionList
 
 from engine.demos import demo_path
 from engine.loader import load_train
+from tests.tui_support import sync, text_of
 from tui.app import make_app
 from tui.editing import CHANGED_MARK, OpenScreen, PartsScreen, SaveDialog
 from tui.screens import BenchScreen
@@ -23,12 +20,6 @@ from tui.widgets import Readings
 
 SIZE = (120, 40)
 
-
-def sync(fn):
-    @functools.wraps(fn)
-    def wrapper(*args, **kwargs):
-        asyncio.run(fn(*args, **kwargs))
-    return wrapper
 
 
 def copy_tide(tmp_path):
@@ -58,11 +49,6 @@ async def type_value(pilot, app, value: str) -> None:
     await pilot.press("enter")
     await pilot.pause()
 
-
-def text_of(widget) -> str:
-    console = Console(width=300, file=io.StringIO(), record=True)
-    console.print(widget.content)
-    return console.export_text()
 
 
 def readings_text(app) -> str:

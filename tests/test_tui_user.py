@@ -1,21 +1,13 @@
 """Faults found by using the interface as a user would, each pinned by a Pilot test."""
 
-import asyncio
-import functools
 import shutil
 
 from textual.widgets import Footer, Input
 
 from engine.demos import demo_path
+from tests.tui_support import sync
 from tui.app import make_app
 from tui.screens import BenchScreen
-
-
-def sync(fn):
-    @functools.wraps(fn)
-    def wrapper(*args, **kwargs):
-        asyncio.run(fn(*args, **kwargs))
-    return wrapper
 
 
 async def _change_sun_w1(pilot, app) -> None:
