@@ -59,6 +59,22 @@ def adopt(app, mech) -> None:
     app.session.adopt(mech)
 
 
+#: what a step back or forward through the changes is called on screen
+STEP_WORDS = {True: "undone", False: "made again"}
+
+
+def step_edit(screen, undo: bool):
+    """Undo (or redo) the last change to the train being edited and put the result on the
+    bench; the change, or None (said on ``screen``) when there is nothing to undo or redo."""
+    ed = screen.session.editor
+    change = None if ed is None else (ed.undo() if undo else ed.redo())
+    if change is None:
+        screen.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2)
+        return None
+    adopt(screen.app, ed.mech)
+    return change
+
+
 async def rebuild_bench(app) -> None:
     """Draw the bench again for the train now on it (title, train drawing, findings)."""
     from .screens import BenchScreen
@@ -336,6 +352,10 @@ class PartsScreen(ClosesOnce, Screen):
 
     def _adopted(self, mech, change, verb: str = "changed") -> None:
         adopt(self.app, mech)
+        self._shown(change, verb)
+
+    def _shown(self, change, verb: str) -> None:
+        """The panels again after the train on the bench changed by ``change``."""
         self._error("")
         index = self.query_one("#parts-list", OptionList).highlighted
         self._fill_list(keep=index)
@@ -344,19 +364,16 @@ class PartsScreen(ClosesOnce, Screen):
         self.query_one("#parts-done", Label).update(Text(done))
         self._show_all()
 
+    def _edit_step(self, undo: bool) -> None:
+        change = step_edit(self, undo)
+        if change is not None:
+            self._shown(change, STEP_WORDS[undo])
+
     def action_undo_edit(self) -> None:
-        change = self.editor.undo()
-        if change is None:
-            self.notify("nothing to undo", timeout=2)
-            return
-        self._adopted(self.editor.mech, change, "undone")
+        self._edit_step(True)
 
     def action_redo_edit(self) -> None:
-        change = self.editor.redo()
-        if change is None:
-            self.notify("nothing to redo", timeout=2)
-            return
-        self._adopted(self.editor.mech, change, "made again")
+        self._edit_step(False)
 
     def action_find_teeth(self) -> None:
         """The tooth search for one pointer; an answer put in comes back as an edit."""

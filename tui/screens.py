@@ -534,16 +534,12 @@ class BenchScreen(Screen):
         self.app.push_screen(PartsScreen(self.session, ("teeth", event.wheel), picked=True))
 
     async def _edit_step(self, undo: bool) -> None:
-        from .editing import adopt
+        from .editing import STEP_WORDS, step_edit
 
-        ed = self.session.editor
-        change = None if ed is None else (ed.undo() if undo else ed.redo())
-        if change is None:
-            self.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2)
-            return
-        adopt(self.app, ed.mech)
-        await self.rebuild()
-        self.notify(f"{'undone' if undo else 'made again'}: {change.text()}", timeout=3)
+        change = step_edit(self, undo)
+        if change is not None:
+            await self.rebuild()
+            self.notify(f"{STEP_WORDS[undo]}: {change.text()}", timeout=3)
 
     async def action_undo_edit(self) -> None:
         await self._edit_step(True)
@@ -1193,16 +1189,13 @@ class DriftScreen(ClosesOnce, Screen):
             self.app.push_screen(PartsScreen(self.session))
 
     async def _edit_step(self, undo: bool) -> None:
-        from .editing import adopt, rebuild_bench
+        from .editing import STEP_WORDS, rebuild_bench, step_edit
 
-        ed = self.session.editor
-        change = None if ed is None else (ed.undo() if undo else ed.redo())
+        change = step_edit(self, undo)
         if change is None:
-            self.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2)
             return
-        adopt(self.app, ed.mech)
         await rebuild_bench(self.app)
-        self.changed = f"{'undone' if undo else 'made again'}: {change.text()}"
+        self.changed = f"{STEP_WORDS[undo]}: {change.text()}"
         self.start()
 
     async def action_undo_edit(self) -> None:
