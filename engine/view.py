@@ -283,3 +283,66 @@ def plan_radii(kinds: dict[str, str]) -> dict[str, float]:
         last = r
     scale = max(out.values())
     return {p: r / scale for p, r in out.items()}
+
+
+#: The drift chart's ±threshold band is drawn only when it spans at least this many text rows:
+#: closer, its two lines share a row (or touch) and read as one line.
+BAND_ROWS = 2
+#: the margin above and below the curves, a share of their range
+CHART_PAD = 0.05
+
+
+@dataclass(frozen=True)
+class ChartScale:
+    """The drift chart's y range for ``rows`` text rows of curves.
+
+    ``band`` says whether the ±threshold lines are drawn (they are BAND_ROWS rows apart or
+    more); ``fitted`` that the range was narrowed to the band and the curves near it, so
+    ``off_chart`` names the pointers whose curves run off it; ``deg_per_row`` is the scale."""
+
+    y_min: float
+    y_max: float
+    band: bool
+    fitted: bool
+    off_chart: tuple[str, ...]
+    deg_per_row: float
+
+
+def _padded(lo: float, hi: float) -> tuple[float, float]:
+    pad = CHART_PAD * (hi - lo) or 1.0
+    return lo - pad, hi + pad
+
+
+def chart_scale(errors_deg: dict[str, np.ndarray], threshold_deg: float, rows: int,
+                whole: bool = False) -> ChartScale:
+    """Choose the drift chart's y range so the ±``threshold_deg`` band can be read.
+
+    Every curve in view when the band then spans BAND_ROWS rows or more. Otherwise, unless
+    ``whole`` is asked for, the range is fitted to the band and to the pointers whose errors
+    stay within ±(rows × threshold) / (2 + 4 × CHART_PAD) — near enough to the band for its
+    rows to matter — and the others run off the chart (``off_chart``). When no pointer stays
+    that near (or ``whole``), every curve stays in view and the band is not drawn: its two
+    lines would share a row."""
+    rows = max(int(rows), 1)
+    thr = abs(float(threshold_deg))
+    ext = {}
+    for name, err in errors_deg.items():
+        err = np.asarray(err, dtype=float)
+        if np.isfinite(err).any():
+            ext[name] = (float(np.nanmin(err)), float(np.nanmax(err)))
+
+    def scale(names, fitted: bool) -> ChartScale:
+        lo, hi = _padded(min([ext[n][0] for n in names] + [-thr]),
+                         max([ext[n][1] for n in names] + [thr]))
+        per_row = (hi - lo) / rows
+        band = thr > 0 and 2 * thr >= BAND_ROWS * per_row * (1 - 1e-9)
+        off = tuple(n for n in ext if ext[n][0] < lo or ext[n][1] > hi)
+        return ChartScale(lo, hi, band, fitted, off, per_row)
+
+    every = scale(list(ext), False)
+    if every.band or whole or thr == 0:
+        return every
+    reach = rows * thr / (BAND_ROWS * (1 + 2 * CHART_PAD))
+    near = [n for n, (lo, hi) in ext.items() if -reach <= lo and hi <= reach]
+    fitted = scale(near, True) if near else every
+    return fitted if fitted.band else every  # too few rows for the band at any scale

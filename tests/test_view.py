@@ -146,3 +146,54 @@ def test_train_labels_are_whole_and_clear_of_other_wheels_in_every_demo():
                     other = {(x, q.label_row) for x in range(q.label_x, q.label_x + len(q.label))}
                     assert not cells & cells_of_marker(q), (name, width, a, b)
                     assert not cells & other, (name, width, a, b)
+
+
+# --- the drift chart's y scale (engine.view.chart_scale) ------------------------------------
+# The rule is a layout choice (common practice, no source): the ±threshold band is drawn only
+# when its two lines stand BAND_ROWS text rows apart, so they never share a row.
+
+def _band_rows(scale, thr: float, rows: int) -> float:
+    return 2 * thr * rows / (scale.y_max - scale.y_min)
+
+
+def test_chart_scale_keeps_every_curve_when_the_band_fits():
+    from engine.view import BAND_ROWS, chart_scale
+
+    errors = {"sun": np.linspace(-3, 2, 50), "moon": np.linspace(0, 4, 50)}
+    scale = chart_scale(errors, 1.0, 10)
+    assert scale.band and not scale.fitted and scale.off_chart == ()
+    assert scale.y_min < -3 and scale.y_max > 4
+    assert _band_rows(scale, 1.0, 10) >= BAND_ROWS
+
+
+def test_chart_scale_fits_the_band_and_names_the_curves_it_leaves_off():
+    """One pointer far off (±30°) and two near the band: at ten rows every curve in view
+    would put the ±1° lines in one row; the fitted scale keeps the near ones whole and the
+    band two rows or more, and names the far one."""
+    from engine.view import BAND_ROWS, chart_scale
+
+    t = np.linspace(0, 20, 400)
+    errors = {"far": 30 * np.sin(t), "near": 0.8 * np.sin(3 * t), "edge": 2 * np.cos(t)}
+    whole = chart_scale(errors, 1.0, 10, whole=True)
+    assert not whole.band and not whole.fitted and whole.off_chart == ()
+    assert _band_rows(whole, 1.0, 10) < BAND_ROWS
+    scale = chart_scale(errors, 1.0, 10)
+    assert scale.band and scale.fitted and scale.off_chart == ("far",)
+    assert _band_rows(scale, 1.0, 10) >= BAND_ROWS
+    for name in ("near", "edge"):
+        assert scale.y_min < errors[name].min() and errors[name].max() < scale.y_max
+    # with 66 rows or more the ±30° curve and the band fit together: nothing is left off
+    tall = chart_scale(errors, 1.0, 70)
+    assert tall.band and not tall.fitted
+
+
+def test_chart_scale_leaves_the_band_out_when_no_curve_stays_near_it():
+    from engine.view import chart_scale
+
+    errors = {"a": np.linspace(-5, 140, 100), "b": np.full(100, np.nan)}
+    scale = chart_scale(errors, 1.0, 10)
+    assert not scale.band and not scale.fitted and scale.off_chart == ()
+    assert scale.y_min < -5 and scale.y_max > 140
+    # two rows of curves cannot hold a band two rows apart at any scale
+    tiny = chart_scale({"a": np.linspace(-0.5, 0.5, 10)}, 1.0, 2)
+    assert not tiny.band and not tiny.fitted

@@ -38,7 +38,7 @@ from textual_plot import PlotWidget
 from engine.dates import format_day, format_jd, parse_crank_step, parse_date
 from engine.errors import WheelworkError
 from engine.periods import JULIAN_YEAR_DAYS
-from engine.view import decimal_year, is_arm, train_layout
+from engine.view import chart_scale, decimal_year, is_arm, train_layout
 
 from .session import FPS, FRAME_NAMES, MAX_STEP_TURNS, RESET_TO, SPEEDS, Session
 from .widgets import (
@@ -103,6 +103,7 @@ LONG_HELP = {
     "back": "back to the bench", "cancel": "cancel the drift computation",
     "decades(1)": "one decade more", "decades(-1)": "one decade less",
     "threshold(1)": "raise the threshold", "threshold(-1)": "lower the threshold",
+    "scale": "drift chart's y scale: every curve whole ↔ fitted to the threshold band",
     "table(1)": "scroll the drift table down a row (when it does not fit)",
     "table(-1)": "scroll the drift table up a row",
     "table_page(1)": "scroll the drift table down a page",
@@ -891,6 +892,7 @@ class DriftScreen(ClosesOnce, Screen):
         Binding("down", "table(1)", "table↓", group=_GTABLE),
         Binding("pageup", "table_page(-1)", "table page↑", show=False),
         Binding("pagedown", "table_page(1)", "table page↓", show=False),
+        Binding("y", "scale", "y scale", show=False),
         Binding("w", "change_train", "edit…", show=False),
         Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT, show=False),
         Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT, show=False),
@@ -912,6 +914,11 @@ class DriftScreen(ClosesOnce, Screen):
         self.charted = session.mech
         #: the last change to the train seen here, named in the title
         self.changed = ""
+        #: y: every curve whole, rather than fitted to the threshold band when it would not fit
+        self.whole = False
+        #: the y scale last drawn (engine.view.ChartScale), for the rows it was drawn for
+        self.scale = None
+        self._drawn_rows = 0
 
     def compose(self) -> ComposeResult:
         yield Static("", id="drift-title")
@@ -923,9 +930,10 @@ class DriftScreen(ClosesOnce, Screen):
             yield Static("", id="drift-status")
         # the table takes what the plot leaves (a share of the screen, tui/wheelwork.tcss) and
         # scrolls when it needs more: ↑ ↓ PgUp PgDn, or the mouse wheel; the note of a change
-        # to the train heads it, so the plot keeps its rows
+        # to the train heads it, then the note of the y scale, so the plot keeps its rows
         with VerticalScroll(id="drift-table", can_focus=False):
             yield Static("", id="drift-changed")
+            yield Static("", id="drift-scale")
             yield Static("", id="drift-summary")
         yield Static(CAUTION, id="drift-caution")
         yield Footer(compact=True)
@@ -938,6 +946,7 @@ class DriftScreen(ClosesOnce, Screen):
     def on_resize(self) -> None:
         self._fit_margins()
         self.call_after_refresh(self.refresh_bindings)  # ↑ ↓ in the footer when it scrolls
+        self.call_after_refresh(self._rescale)  # the y scale for the plot's new rows
 
     def _fit_margins(self) -> None:
         """On a short terminal (under PLOT_COMPACT_BELOW rows) the plot keeps the rows its
@@ -1022,6 +1031,7 @@ class DriftScreen(ClosesOnce, Screen):
         self._run += 1
         self.result = None
         self.query_one(PlotWidget).clear()
+        self.query_one("#drift-scale").display = False
         if end - start < 30:
             self.computing = False
             self._summary(Text(""))
@@ -1089,6 +1099,84 @@ class DriftScreen(ClosesOnce, Screen):
             self._status(text)
             self._summary(Text(""))
 
+    def _curve_rows(self) -> int:
+        """The text rows between the plot's frame lines (its height less the margins above
+        and below and the two frame rows)."""
+        plot = self.query_one(PlotWidget)
+        return plot.size.height - plot.margin_top - plot.margin_bottom - 2
+
+    def _draw_plot(self, result) -> float:
+        """The curves, the ±threshold band and the first crossings, on a y scale chosen for
+        the rows the plot has now (``engine.view.chart_scale``): the band's two lines are
+        drawn only when they stand rows apart; the note heading the table says what was
+        fitted or left out. Returns the threshold drawn."""
+        plot = self.query_one(PlotWidget)
+        plot.clear()
+        years = decimal_year(np.asarray(result.jd))
+        thr = result.summaries[next(iter(result.summaries))].threshold_deg if result.summaries \
+            else self.threshold_deg
+        rows = self._curve_rows()
+        self._drawn_rows = rows
+        self.scale = scale = chart_scale(result.error_deg, thr, rows, whole=self.whole)
+        # widest swings first, so the steadier pointers stay visible on top
+        order = sorted(result.error_deg, key=lambda n: -result.summaries[n].max_abs_deg)
+        colour = {n: PLOT_STYLES[k % len(PLOT_STYLES)] for k, n in enumerate(result.error_deg)}
+        for name in order:
+            err = result.error_deg[name]
+            plot.plot(years, np.asarray(err), line_style=colour[name],
+                      hires_mode=HiResMode.BRAILLE, label=name)
+        c = ui(self)  # the threshold in the theme's text colour: white would vanish on light
+        if scale.band:
+            ends = [float(years[0]), float(years[-1])]
+            for y in (thr, -thr):
+                plot.plot(ends, [y, y], line_style=f"bold {c['fg']}",
+                          hires_mode=HiResMode.BRAILLE)
+        first_jd = float(result.jd[0])
+        for name, sm in result.summaries.items():
+            jd = sm.first_crossing_jd
+            if jd is not None and np.isfinite(jd) and jd > first_jd:  # none at the left edge
+                plot.add_v_line(float(decimal_year(jd)), colour[name],
+                                f"{name} first past ±{thr:g}°")
+        plot.set_xlimits(float(years[0]), float(years[-1]))
+        plot.set_ylimits(scale.y_min, scale.y_max)
+        plot.set_xlabel("year")
+        plot.set_ylabel("error °")
+        # the key to the colours is the summary table below, so the curves stay uncovered
+        plot.show_legend(is_visible=False)
+        self._scale_note(scale, thr, chart_scale(result.error_deg, thr, rows,
+                                                 whole=not self.whole))
+        return thr
+
+    def _scale_note(self, scale, thr: float, other) -> None:
+        """Say how the y scale was chosen when the band or a curve is not all there."""
+        note = self.query_one("#drift-scale", Static)
+        per_row = f"{scale.deg_per_row:.2g}° a row"
+        if scale.fitted:
+            text = (f"y fitted to the ±{thr:g}° band ({per_row}); off the chart: "
+                    f"{', '.join(scale.off_chart)} · y: every curve")
+        elif not scale.band:
+            text = (f"±{thr:g}° band not drawn: at this scale ({per_row}) its two lines "
+                    "would share a row"
+                    + ("; y fits the chart to it" if other.band else
+                       "; no pointer stays near it (] [ change the threshold)"))
+        else:
+            text = ""
+        note.update(Text(text))
+        note.display = bool(text)
+        self.call_after_refresh(self.refresh_bindings)  # the table may fit, or not, now
+
+    def _rescale(self) -> None:
+        """After a resize: the chart drawn again for its new number of rows."""
+        if (self.is_attached and self.result is not None and not self.computing
+                and self._curve_rows() != self._drawn_rows):
+            self._draw_plot(self.result)
+
+    def action_scale(self) -> None:
+        """y: every curve whole ↔ fitted to the threshold band (when it would not fit)."""
+        self.whole = not self.whole
+        if self.result is not None and not self.computing:
+            self._draw_plot(self.result)
+
     def show_result(self, result, run: int | None = None) -> None:
         if run is not None and run != self._run:
             return
@@ -1098,23 +1186,9 @@ class DriftScreen(ClosesOnce, Screen):
         sky = self.session.sky
         self._status("done" + (f" · capped by the end of {sky.name} "
                                f"({format_day(sky.span_jd[1])})" if self.capped() else ""))
-        plot = self.query_one(PlotWidget)
-        plot.clear()
-        years = decimal_year(np.asarray(result.jd))
-        thr = result.summaries[next(iter(result.summaries))].threshold_deg if result.summaries \
-            else self.threshold_deg
-        # widest swings first, so the steadier pointers stay visible on top
-        order = sorted(result.error_deg, key=lambda n: -result.summaries[n].max_abs_deg)
+        c = ui(self)
         colour = {n: PLOT_STYLES[k % len(PLOT_STYLES)] for k, n in enumerate(result.error_deg)}
-        for name in order:
-            err = result.error_deg[name]
-            plot.plot(years, np.asarray(err), line_style=colour[name],
-                      hires_mode=HiResMode.BRAILLE, label=name)
-        ends = [float(years[0]), float(years[-1])]
-        c = ui(self)  # the threshold in the theme's text colour: white would vanish on light
-        plot.plot(ends, [thr, thr], line_style=f"bold {c['fg']}", hires_mode=HiResMode.BRAILLE)
-        plot.plot(ends, [-thr, -thr], line_style=f"bold {c['fg']}",
-                  hires_mode=HiResMode.BRAILLE)
+        thr = self._draw_plot(result)
         first_jd = float(result.jd[0])
 
         def crossing(sm) -> str:
@@ -1123,19 +1197,6 @@ class DriftScreen(ClosesOnce, Screen):
                 return "not in span"
             return "at start" if jd <= first_jd else format_day(jd)
 
-        for name, sm in result.summaries.items():
-            if crossing(sm) not in ("not in span", "at start"):  # no line at the left edge
-                plot.add_v_line(float(decimal_year(sm.first_crossing_jd)), colour[name],
-                                f"{name} first past ±{thr:g}°")
-        lo = min([float(np.nanmin(e)) for e in result.error_deg.values()] + [-thr])
-        hi = max([float(np.nanmax(e)) for e in result.error_deg.values()] + [thr])
-        pad = 0.05 * (hi - lo) or 1.0
-        plot.set_xlimits(float(years[0]), float(years[-1]))
-        plot.set_ylimits(lo - pad, hi + pad)
-        plot.set_xlabel("year")
-        plot.set_ylabel("error °")
-        # the key to the colours is the summary table below, so the curves stay uncovered
-        plot.show_legend(is_visible=False)
         t = Table(box=None, padding=(0, 1), header_style=f"bold {c['muted']}")
         for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy",
                     f"first past ±{thr:g}° (vertical line)"):

@@ -1,0 +1,106 @@
+"""The drift chart's y scale at small sizes, driven by Textual's Pilot: the ±threshold band's
+two lines never share a text row; when every curve in view would squeeze them together the
+chart is fitted to the band (and says which curves run off it), or leaves the band out and
+says so; `y` switches to every curve whole and back; a resize chooses again.
+
+The rule is a layout choice (common practice, no source): two lines one text row apart or less
+read as one line, so the band is drawn only when its lines stand two rows apart.
+"""
+
+from textual_hires_canvas import Canvas
+from textual_plot import PlotWidget
+
+from engine.demos import demo_path
+from engine.view import BAND_ROWS
+from tests.tui_support import sync, text_of
+from tui.app import make_app
+from tui.screens import DriftScreen
+from tui.widgets import canvas_rows, ui
+
+
+def threshold_rows(screen) -> list[int]:
+    """The text rows of the plot where the ±threshold lines are drawn (their own style)."""
+    canvas = screen.query_one(PlotWidget).query_one("#plot", Canvas)
+    style = f"bold {ui(screen)['fg']}"
+    return sorted({y for y, row in enumerate(canvas_rows(canvas)[1]) if style in row})
+
+
+async def open_chart(pilot, app) -> DriftScreen:
+    await pilot.press("d")
+    await app.workers.wait_for_complete()
+    await pilot.pause()
+    await pilot.pause()
+    assert isinstance(app.screen, DriftScreen)
+    return app.screen
+
+
+@sync
+async def test_orrery_band_spans_rows_at_80x24_and_y_shows_every_curve():
+    """The table orrery at 80 × 24: Mercury's ±30° swing beside the Venus and Earth arms near
+    ±1° put both threshold lines in one row. Now the band's lines are two rows apart or more,
+    Venus's and the Earth's curves are whole inside the chart, and the note under it names
+    the arms that run off. `y` gives every curve whole: the band then cannot be drawn apart,
+    so it is left out and the note says so; `y` again fits the band."""
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await open_chart(pilot, app)
+        result, plot = screen.result, screen.query_one(PlotWidget)
+        note = screen.query_one("#drift-scale")
+        rows = threshold_rows(screen)
+        assert len(rows) == 2 and rows[1] - rows[0] >= BAND_ROWS, rows
+        for arm in ("venus", "earth"):
+            err = result.error_deg[arm]
+            assert screen.scale.y_min < err.min() and err.max() < screen.scale.y_max, arm
+        assert result.error_deg["mercury"].max() > screen.scale.y_max
+        assert note.display
+        said = text_of(note)
+        assert "fitted to the ±1° band" in said and "mercury" in said and "venus" not in said
+        # the note is in view under the plot, heading the table
+        assert note.region.height >= 1 and note.region.y > plot.region.bottom - 1
+
+        await pilot.press("y")
+        await pilot.pause()
+        await pilot.pause()
+        assert threshold_rows(screen) == []
+        assert screen.scale.y_max > result.error_deg["mercury"].max()
+        said = text_of(note)
+        assert "band not drawn" in said and "would share a row" in said and "y fits" in said
+
+        await pilot.press("y")
+        await pilot.pause()
+        await pilot.pause()
+        rows = threshold_rows(screen)
+        assert len(rows) == 2 and rows[1] - rows[0] >= BAND_ROWS, rows
+
+
+@sync
+async def test_a_resize_chooses_the_scale_again_without_computing_again():
+    """The nineteen-year drum at 80 × 24: its Moon and phase run off a chart fitted to the
+    band; at 160 × 60 every curve fits with the band, so the chart shows them all again."""
+    app = make_app(demo_path("nineteen_year_drum"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await open_chart(pilot, app)
+        result = screen.result
+        note = screen.query_one("#drift-scale")
+        assert "off the chart: moon, phase" in text_of(note)
+        await pilot.resize_terminal(160, 60)
+        for _ in range(4):
+            await pilot.pause()
+        assert screen.result is result  # drawn again, not computed again
+        assert not note.display
+        rows = threshold_rows(screen)
+        assert len(rows) == 2 and rows[1] - rows[0] >= BAND_ROWS, rows
+        for err in result.error_deg.values():
+            assert screen.scale.y_min < err.min() and err.max() < screen.scale.y_max
+
+
+@sync
+async def test_no_band_when_no_curve_stays_near_it():
+    """The 59-tooth moon disc strays to over 100° in the span: no curve stays near a ±1°
+    band, so every curve stays in view, the band is left out and the note says why."""
+    app = make_app(demo_path("moon_disc_59"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await open_chart(pilot, app)
+        assert threshold_rows(screen) == []
+        said = text_of(screen.query_one("#drift-scale"))
+        assert "band not drawn" in said and "no pointer stays near it" in said
