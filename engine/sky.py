@@ -31,8 +31,10 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
   - slow-varying parts are not computed at every date: the rotation to the mean ecliptic of
     date (bias, precession, obliquity) is, for each batch spanning up to 8,192 days, a cubic in
     time through its exact value at four points (error below 1e-12 rad), and Δψ, for dates
-    denser than two a day, comes from a half-day grid by cubic interpolation (error bound below
-    0.00005 arcsecond); both are checked in ``tests/test_sky.py``. Grid points sit on whole
+    closer than a day and a half on average, comes from a half-day grid by cubic interpolation
+    (error bound below 0.00005 arcsecond), the grid's values from the series at every 128th
+    point carried to the rest by angle addition (a matrix product); all are checked in
+    ``tests/test_sky.py``. Grid points sit on whole
     multiples of the step from J2000, so a date gets the same value in any batch; a lone date
     is computed exactly, so scalar and dense array inputs agree to within those bounds rather
     than to the last bit;
@@ -735,16 +737,63 @@ def _dpsi_2000b_exact(jd_tt: np.ndarray) -> np.ndarray:
     return (ps[0] + ps[1] * t.astype(np.float32) + pc - 0.000135e7).astype(float) * _TENTH_UAS
 
 
-def _grid(x: np.ndarray, step: float, exact) -> np.ndarray | None:
-    """``exact`` (a function of dates) on grid points on whole multiples of ``step`` from
-    J2000, cubic (four-point Lagrange) interpolated to the dates ``x``. None when the dates
-    are too sparse for a grid to save work. Grid points do not depend on which dates are
-    asked for together, so a date gets the same value in any batch or chunk."""
+def _dpsi_2000b_regular(first: float, step: float, m: int) -> np.ndarray:
+    """:func:`_dpsi_2000b_exact` at the m TT dates ``first + step·j``, a quarter of its cost a
+    date: the series is evaluated at every :data:`_NUT_BLOCK`-th date only, and carried to
+    the dates between by angle addition. Each term's argument is linear in time, so
+    A sin(a + jδ) = A sin a cos jδ + A cos a sin jδ exactly (δ the term's turn a step); a
+    block's dates are then one matrix product of the terms at its first date with the
+    cosines and sines of jδ, which depend on the step alone (the t-terms of the amplitudes
+    carry a factor j·step of their own). In double precision throughout; ``tests/test_sky.py``
+    checks it against the series."""
+    nb = -(-m // _NUT_BLOCK)
+    t = (first + step * _NUT_BLOCK * np.arange(nb) - T0) / JULIAN_CENTURY_DAYS
+    turns = (_FA0[:, None] + _FA1[:, None] * t) / ASEC360
+    arg = _NUT_MULT64 @ ((turns - np.floor(turns)) * (2 * np.pi))  # (terms, blocks)
+    sa, ca = np.sin(arg), np.cos(arg)
+    amp = _NUT_PSI[0, :, None] + _NUT_PSI[1, :, None] * t
+    cos_part = _NUT_PSI[2, :, None]
+    at_first = np.concatenate((amp * sa + cos_part * ca, amp * ca - cos_part * sa,
+                               _NUT_PSI[1, _NUT_T_ROWS, None] * sa[_NUT_T_ROWS],
+                               _NUT_PSI[1, _NUT_T_ROWS, None] * ca[_NUT_T_ROWS]))
+    with _one_blas_thread():
+        dpsi = (at_first.T @ _nut_turns(step)).reshape(-1)[:m]
+    dpsi -= 0.000135e7
+    dpsi *= _TENTH_UAS
+    return dpsi
+
+
+_NUT_BLOCK = 128  # dates carried by angle addition from each evaluation of the series
+_NUT_MULT64 = _NUT_MULT.astype(float)
+_NUT_T_ROWS = np.flatnonzero(_NUT_PSI[1])  # terms whose amplitude has a t-term
+
+
+@functools.lru_cache(maxsize=8)
+def _nut_turns(step: float) -> np.ndarray:
+    """(2·77 + 2·t-terms, block): cos jδ and sin jδ of every term for j = 0 .. block - 1 (δ
+    the term's turn in one step of ``step`` days), then the t-terms' ones times j·step in
+    centuries — the right-hand factor of :func:`_dpsi_2000b_regular`'s product."""
+    j = np.arange(_NUT_BLOCK)
+    rate = _NUT_MULT64 @ (_FA1 / ASEC360 * 2 * np.pi)  # rad a century
+    turn = np.outer(rate * (step / JULIAN_CENTURY_DAYS), j)
+    c, s = np.cos(turn), np.sin(turn)
+    t = j * (step / JULIAN_CENTURY_DAYS)
+    return np.concatenate((c, s, c[_NUT_T_ROWS] * t, s[_NUT_T_ROWS] * t))
+
+
+def _grid(x: np.ndarray, step: float, values_at, points_per_date: float = 1.0
+          ) -> np.ndarray | None:
+    """A function's values ``values_at(first, step, m)`` on the m grid points on whole
+    multiples of ``step`` from J2000 around the dates ``x``, cubic (four-point Lagrange)
+    interpolated to ``x``. None when the grid would need more than ``points_per_date``
+    points a date (then evaluating at the dates is cheaper). Grid points do not depend on
+    which dates are asked for together, so a date gets the same value in any batch or
+    chunk."""
     lo = T0 + step * (np.floor((float(x.min()) - T0) / step) - 1.0)
     m = int((float(x.max()) - lo) / step) + 3
-    if m >= x.size:
+    if m > points_per_date * x.size:
         return None
-    values = np.asarray(exact(lo + step * np.arange(m)), dtype=float).reshape(m)
+    values = np.asarray(values_at(lo, step, m), dtype=float).reshape(m)
     u = (x - lo) * (1.0 / step) - 1.0  # >= 0: from the first of each date's four points
     k = np.minimum(u.astype(np.intp), m - 4)  # truncation is the floor
     f = u - k  # in [0, 1): between the second and third of the four points k .. k+3
@@ -761,15 +810,19 @@ def _grid(x: np.ndarray, step: float, exact) -> np.ndarray | None:
 
 
 def _dpsi_2000b(jd_tt: np.ndarray) -> np.ndarray:
-    """Δψ (radians) at every date: exact for sparse dates; for dates denser than two a day,
-    evaluated on a half-day grid and interpolated by cubic (four-point Lagrange) interpolation.
+    """Δψ (radians) at every date: exact for sparse dates; for dates closer than a day and a
+    half apart on average, on a half-day grid (:func:`_dpsi_2000b_regular`) interpolated by
+    cubic (four-point Lagrange) interpolation.
 
     Error bound of that interpolation: for a term A·sin(2πt/P) it is at most
     (3/128)·A·(2πh/P)⁴ (h the grid step); summed over the 77 terms with h = 0.5 day it is
     below 0.00005″ (``tests/test_sky.py`` computes the bound from the series and checks the
     interpolated values against it)."""
-    out = _grid(jd_tt, _NUT_GRID_DAYS, _dpsi_2000b_exact)
+    out = _grid(jd_tt, _NUT_GRID_DAYS, _dpsi_2000b_regular, _NUT_POINTS_PER_DATE)
     return _dpsi_2000b_exact(jd_tt) if out is None else out
+
+
+_NUT_POINTS_PER_DATE = 3.0  # a grid point costs about a quarter of a date's series
 
 
 def skyfield_2000b_nutation(t) -> None:
@@ -1234,7 +1287,8 @@ def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray) -> np.ndarray:
     seven-term series, which for dates denser than one in 16 days comes from a 16-day grid by
     cubic interpolation. The error bound (3/128)·A·(2πh/P)⁴ summed over its terms (1.66 ms
     with a period of a year the largest) is below 3e-7 s; ``tests/test_sky.py`` checks it."""
-    on_grid = _grid(whole + fraction, _TDB_GRID_DAYS, tdb_minus_tt)
+    on_grid = _grid(whole + fraction, _TDB_GRID_DAYS,
+                    lambda first, step, m: tdb_minus_tt(first + step * np.arange(m)))
     ahead = tdb_minus_tt(whole, fraction) if on_grid is None else on_grid
     return fraction + ahead / SECONDS_PER_DAY
 

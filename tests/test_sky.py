@@ -700,6 +700,36 @@ def test_nutation_interpolation_error_bound():
         assert worst < bound + 3e-5, (start, worst, bound)
 
 
+def test_nutation_on_a_regular_grid_against_the_series():
+    # The block evaluator (series at every block's first date, angle addition to the rest)
+    # against the 77 terms summed directly in double precision, at four epochs and two steps;
+    # measured 1e-11" in modern times and 4e-10" at 2000 BC, where the arguments are larger.
+    from skyfield.constants import ASEC2RAD
+
+    from engine.sky import (
+        _FA0,
+        _FA1,
+        _NUT_BLOCK,
+        _NUT_MULT,
+        _NUT_PSI,
+        ASEC360,
+        T0,
+        _dpsi_2000b_regular,
+    )
+    for first in (1000000.5, 2415020.5, 2451545.0, 2469000.5):
+        for step in (0.5, 0.25):
+            m = 3 * _NUT_BLOCK + 17  # a last block cut short
+            x = first + step * np.arange(m)
+            t = (x - T0) / 36525.0
+            turns = (_FA0[:, None] + _FA1[:, None] * t) / ASEC360
+            arg = _NUT_MULT.astype(float) @ ((turns - np.floor(turns)) * 2 * np.pi)
+            series = (_NUT_PSI[0] @ np.sin(arg) + _NUT_PSI[1] @ (np.sin(arg) * t)
+                      + _NUT_PSI[2] @ np.cos(arg) - 0.000135e7) * 1e-7  # arcseconds
+            got = _dpsi_2000b_regular(first, step, m) / ASEC2RAD
+            assert got.shape == (m,)
+            assert np.max(np.abs(got - series)) < 1e-9, (first, step)
+
+
 def test_precession_interpolation_error():
     # A batch's (bias, precession, obliquity) rotation as one cubic in time through four
     # Chebyshev points of its span, against the exact rotation at each date: within 1e-12
