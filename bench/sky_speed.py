@@ -1,8 +1,10 @@
 """The sky fast path against skyfield, side by side in one run, on the same dates.
 
-For each frame (equinox of date, fixed stars) it times three pipelines on two sets of 36,525
-dates inside the same century (1900-2000): regular (one a day at 07:12 UT) and scattered
-(uniformly random, seeded, sorted). The three pipelines:
+For each frame (equinox of date, fixed stars) it times three pipelines on three sets of 36,525
+dates: regular (one a day at 07:12 UT, 1900-2000), 6-hourly (every six hours from 1960-01-01
+01:47 UT, 25 years: the drift command's default step, and the one set dense enough for the
+fast path's half-day nutation grid) and scattered (uniformly random in 1900-2000, seeded,
+sorted). The three pipelines:
 
 * skyfield's default pipeline, ``observe().apparent().frame_latlon()``: IAU 2000A nutation and
   light bent by the Sun, Jupiter and Saturn (``apparent()``'s default deflectors) — the
@@ -13,9 +15,11 @@ dates inside the same century (1900-2000): regular (one a day at 07:12 UT) and s
   ``iau2000b_radians``, given through the nutation hook its documentation describes (it is a
   little quicker than ``engine.sky.skyfield_2000b_nutation``, so the peer is the harder one).
   The peer of the 10x goal;
-* our fast path, ``Sky.at``, on both sets of dates: skyfield's time a date hardly depends on
-  their spacing, ours does (the ephemeris is evaluated once per record on a regular grid),
-  so each set has its own rows, and each ratio divides a peer's time on the same dates by ours.
+* our fast path, ``Sky.at``, on every set of dates: skyfield's time a date hardly depends on
+  their spacing, ours does (the ephemeris is evaluated once per record on a regular grid, and
+  nutation, precession and TDB come from coarse grids for dense dates), so each set has its
+  own rows, ratios and goal lines, and each ratio divides a peer's time on the same dates by
+  ours.
 
 skyfield gets its dates in batches, as the fast path batches its own work: each of its
 pipelines is timed on 2,048 and on 16,384 dates a call and keeps the quicker (small batches
@@ -29,7 +33,7 @@ interleaved rounds, so that a change in the load of a shared machine falls on ev
 alike; compare the ratios rather than the times), the ratios (rounded down), the largest
 difference of each pipeline from the 2000A reference on the same dates (Sun and Moon, the
 larger of longitude and latitude; target under 0.003"), and each goal as met or MISSED for
-regular and for scattered dates. In the stars frame (the fixed ecliptic of J2000) skyfield
+each set of dates. In the stars frame (the fixed ecliptic of J2000) skyfield
 computes no nutation at all — the bench checks this on its Time objects in the run — so there
 the fair peer only leaves out the deflection (a 2000B hook would charge our nutation to a
 peer that never reads it). Then the planets: the seven planets' geocentric apparent and
@@ -38,7 +42,11 @@ pipeline, ``Sky.at(fast=False)``, at the same batch sizes, keeping the quicker),
 each, with the largest difference per planet (target: 0.01").
 
     python bench/sky_speed.py [--frame equinox|stars|both] [--repeat N] [--no-planets]
-                              [--no-scattered] [--peer-batch N]
+                              [--no-6h] [--no-scattered] [--peer-batch N]
+
+A full run (both frames, three sets of dates, 3 rounds, the planets) takes about two minutes
+(1 min 47 s on a shared 2-core machine, 1 min 41 s of CPU; it prints its own time at the
+end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
 """
 
 from __future__ import annotations
@@ -56,8 +64,11 @@ from engine.sky import PLANETS, Sky, _timescale
 ARCSEC = 1 / 3600
 BODIES = {"Sun": ("sun_lon_deg", "sun_lat_deg"), "Moon": ("moon_lon_deg", "moon_lat_deg")}
 KEYS = tuple(k for keys in BODIES.values() for k in keys)
-N_DATES = 36525  # one Julian century of days
+N_DATES = 36525  # one Julian century of days (25 years at four dates a day)
 JD_1900 = 2415020.5  # 1900-01-01 0h UT
+JD_1960 = 2436934.5  # 1960-01-01 0h UT
+SIX_HOURS = 0.25
+SIX_HOUR_START = 0.0742  # 01:46:51 UT: no whole hour, so no date falls on a record's edge
 SEED = 1900
 # Dates per skyfield call, each pipeline timed at each and keeping the quicker: small batches
 # keep to the cache, long ones make the 2000A series cheaper a date; one call on all 36,525
@@ -121,10 +132,13 @@ def _skyfield_call(sky: Sky, jd: np.ndarray, frame: str, fair: bool, nutates: bo
             "nutation": "_nutation_angles_radians" in vars(t)}
 
 
-def _date_sets(scattered: bool) -> dict[str, np.ndarray]:
-    """Regular: one a day at 07:12 UT from 1900-01-01. Scattered: as many dates, uniformly
-    random in the same century, seeded, sorted."""
+def _date_sets(six_hourly: bool, scattered: bool) -> dict[str, np.ndarray]:
+    """Regular: one a day at 07:12 UT from 1900-01-01. 6-hourly: every six hours from
+    1960-01-01 01:47 UT (25 years). Scattered: as many dates, uniformly random in 1900-2000,
+    seeded, sorted."""
     sets = {"regular": JD_1900 + 0.3 + np.arange(N_DATES, dtype=float)}
+    if six_hourly:
+        sets["6-hourly"] = JD_1960 + SIX_HOUR_START + SIX_HOURS * np.arange(N_DATES, dtype=float)
     if scattered:
         rng = np.random.default_rng(SEED)
         sets["scattered"] = np.sort(rng.uniform(JD_1900, JD_1900 + N_DATES, N_DATES))
@@ -149,8 +163,10 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int,
            batches: tuple[int, ...]) -> bool:
     """Time and check one frame; True when every goal is met."""
     reg = sets["regular"]
-    # Warm every pipeline (imports, caches, ephemeris pages) on a few dates first.
-    sky.at(reg[:100], frame)
+    # Warm every pipeline (imports, caches, ephemeris pages) on a few dates first; the fast
+    # path on enough of each set to take its grid paths.
+    for jd in sets.values():
+        sky.at(jd[:1000], frame)
     for fair in (False, True):
         _skyfield(sky, reg[:100], frame, fair, True, 0)
     # Interleaved rounds: every pipeline is timed once per round at each batch size (the fast
@@ -180,7 +196,7 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int,
 
     what = ("true ecliptic and equinox of date" if frame == "equinox"
             else "fixed ecliptic of J2000")
-    print(f"\nframe {frame!r} ({what}): {N_DATES} dates in each set, 1900-2000 UT")
+    print(f"\nframe {frame!r} ({what}): {N_DATES} dates in each set")
     any_nutation = any(nutates.values())
     fair_text = ("IAU 2000B nutation (skyfield's iau2000b_radians, through its nutation hook) "
                  "and apparent(deflectors=())" if any_nutation else "apparent(deflectors=())")
@@ -202,10 +218,12 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int,
              else "one size (--peer-batch); column 'call'")
           + " gives the dates a call, 'all' for one call"
           + (" (row B1: B in one call)." if one_call else "."))
-    scattered = (f"; scattered = as many, uniformly random in the same century (seed {SEED}), "
-                 "sorted" if "scattered" in sets else "")
-    _wrap(f"dates: regular = one a day at 07:12 UT from 1900-01-01{scattered}. Each ratio "
-          "divides the peer's time on the same dates by the row's.")
+    described = {"regular": "regular = one a day at 07:12 UT from 1900-01-01 (to 2000)",
+                 "6-hourly": "6-hourly = every six hours from 1960-01-01 01:47 UT (to 1985)",
+                 "scattered": f"scattered = uniformly random in 1900-2000 (seed {SEED}), "
+                              "sorted"}
+    _wrap(f"dates: {'; '.join(described[name] for name in sets)}. Each ratio divides the "
+          "peer's time on the same dates by the row's.")
     print(f"  {'':24s} {'':9s} {'':>6s} {'cpu':>8s} {'B':>8s} {'A':>8s}   "
           "largest difference from A")
     print(f"  {'pipeline':24s} {'dates':9s} {'call':>6s} {'us/date':>8s} {'/ this':>8s} "
@@ -245,7 +263,7 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int,
          "{:.6f}\""),
     )
     print("  goals of the fast path, C, against the peers timed on the same dates:")
-    print((f"    {'goal':24s}" + "".join(f" {name + ' dates':>13s}{'':7s}" for name in sets))
+    print((f"    {'goal':24s}" + "".join(f" {name + ' dates':>14s}{'':7s}" for name in sets))
           .rstrip())
     all_met = True
     for label, value, ok, fmt in goals:
@@ -253,7 +271,7 @@ def _frame(sky: Sky, sets: dict[str, np.ndarray], frame: str, repeat: int,
         for name in sets:
             x = value(name)
             all_met &= ok(x)
-            cells.append(f"{fmt(x) if callable(fmt) else fmt.format(x):>13s} {mark(ok(x)):6s}")
+            cells.append(f"{fmt(x) if callable(fmt) else fmt.format(x):>14s} {mark(ok(x)):6s}")
         print((f"    {label:24s}" + "".join(f" {c}" for c in cells)).rstrip())
     if not any_nutation:
         t_a = times["A", "regular"] / reg.size * 1e6
@@ -306,8 +324,10 @@ def main() -> int:
                     help="timed rounds, interleaved: each round runs every skyfield pipeline "
                          "once and the fast path three times; the best is shown")
     ap.add_argument("--no-planets", action="store_true", help="skip the planets' part")
+    ap.add_argument("--no-6h", action="store_true",
+                    help="skip the 6-hourly set (every six hours, 25 years)")
     ap.add_argument("--no-scattered", action="store_true",
-                    help="time regular dates only (skip the scattered set)")
+                    help="skip the scattered set (uniformly random dates)")
     ap.add_argument("--peer-batch", type=int, metavar="N",
                     help="dates per skyfield call, one size for both its pipelines (0: all in "
                          "one call; by default each is timed at "
@@ -318,9 +338,10 @@ def main() -> int:
     if args.peer_batch is not None and args.peer_batch < 0:
         ap.error(f"--peer-batch must be 0 or more, not {args.peer_batch}")
 
+    wall, cpu = time.perf_counter(), time.process_time()
     sky = Sky()
     print(f"{sky.name}; the machine may be shared, so read the ratios")
-    sets = _date_sets(not args.no_scattered)
+    sets = _date_sets(not args.no_6h, not args.no_scattered)
     frames = ("equinox", "stars") if args.frame == "both" else (args.frame,)
     batches = PEER_BATCHES if args.peer_batch is None else (args.peer_batch,)
     met = [_frame(sky, sets, frame, args.repeat, batches) for frame in frames]
@@ -328,6 +349,8 @@ def main() -> int:
     if not args.no_planets:
         for frame in frames:
             _planets(sky, sets["regular"], frame, batches)
+    print(f"\nthis run took {time.perf_counter() - wall:.0f} s ({time.process_time() - cpu:.0f} s "
+          "of CPU)")
     return 0
 
 
