@@ -26,6 +26,7 @@ from .eclipses import Check as EclipseCheck
 from .eclipses import Eclipse, real_eclipses, sky_eclipses, syzygies
 from .eclipses import check as check_eclipses
 from .errors import (
+    ArgumentError,
     DateError,
     DriftCancelled,
     DriftError,
@@ -35,6 +36,7 @@ from .errors import (
     SearchError,
     SkyError,
     TrainError,
+    UnknownName,
     UsageError,
     WheelworkError,
 )
@@ -118,5 +120,5 @@ __all__ = [
     "real_eclipses", "sky_eclipses", "syzygies", "Eclipse", "check_eclipses", "EclipseCheck",
     # errors
     "WheelworkError", "TrainError", "DateError", "SkyError", "SearchError",
-    "DriftError", "DriftCancelled", "UsageError", "OutputError",
+    "DriftError", "DriftCancelled", "UsageError", "OutputError", "UnknownName", "ArgumentError",
 ]

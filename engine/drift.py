@@ -587,6 +587,10 @@ def _thresholds(pointers, threshold_deg) -> dict[str, float | None]:
     """``{pointer: degrees or None}`` from one value for all or a dict, each checked."""
     if not isinstance(threshold_deg, dict):
         threshold_deg = {name: threshold_deg for name in pointers}
+    unknown = [name for name in threshold_deg if name not in pointers]
+    if unknown:
+        raise DriftError(f"threshold for pointer {unknown[0]!r}: the train has no such pointer "
+                         f"(its pointers: {', '.join(pointers)})")
     out = {}
     for name in pointers:
         thr = threshold_deg.get(name)

@@ -57,7 +57,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .defaults import ECLIPSE_METHODS
-from .errors import SkyError
+from .errors import ArgumentError, SkyError
 from .periods import PERIODS
 
 # --- constants (sources in the module docstring) -------------------------------------------
@@ -557,19 +557,22 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
     ``KeyboardInterrupt``). ``marks`` overrides a cycle dial's marks (already derived, say);
     ``table`` is the sky's :func:`sky_eclipses` over exactly this span, when already computed
     (the sky does not depend on the train).
-    Raises ``ValueError`` when the train cannot predict eclipses the
-    way asked, :class:`SkyError` for dates outside the ephemeris."""
+    Raises :class:`ArgumentError` (a ``ValueError``) when the train cannot predict eclipses
+    the way asked, :class:`SkyError` for dates outside the ephemeris."""
     train = mech.train
     have = methods(train)
+    if method is not None and method not in ECLIPSE_METHODS:
+        raise ArgumentError(f"method {method!r}: choose one of {', '.join(ECLIPSE_METHODS)}"
+                            + (f" (this train can predict by: {', '.join(have)})" if have else ""))
     if not have:
-        raise ValueError("the train has no node hand, draconic or eclipse-year dial and no "
+        raise ArgumentError("the train has no node hand, draconic or eclipse-year dial and no "
                          "eclipse-cycle dial (shows = \"cycle\"), so it predicts no eclipses")
     if method is None:
         method = "cycle" if "cycle" in have else "pointers"
     if method not in have:
-        what = ("an eclipse-cycle dial (shows = \"cycle\")" if method == "cycle" else
-                "a node hand, draconic or eclipse-year dial")
-        raise ValueError(f"the train has no {what}; it can predict by: {', '.join(have)}")
+        what = ("eclipse-cycle dial (shows = \"cycle\")" if method == "cycle" else
+                "node hand, draconic or eclipse-year dial")
+        raise ArgumentError(f"the train has no {what}; it can predict by: {', '.join(have)}")
     lo, hi = float(min(jd_start, jd_end)), float(max(jd_start, jd_end))
     sky.check_span(lo, hi)
     penumbral = train.eclipses.penumbral

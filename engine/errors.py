@@ -52,6 +52,20 @@ class DriftError(WheelworkError):
     """A drift run that cannot be done: bad step, empty or reversed span, too many dates."""
 
 
+class UnknownName(WheelworkError, KeyError):
+    """A name looked up that does not exist (a period, a pointer kind, an arbor, a pointer).
+    Also a ``KeyError``, so code that looks names up keeps catching it as one; it prints as
+    its plain one-line message (a bare ``KeyError`` prints quoted)."""
+
+    def __str__(self) -> str:
+        return str(self.args[0]) if self.args else ""
+
+
+class ArgumentError(WheelworkError, ValueError):
+    """An engine function called (from a script or notebook) with a value it cannot use; the
+    message names the argument. Also a ``ValueError``."""
+
+
 class PlacementError(TrainError):
     """No position of a plate's holes satisfies every centre distance the meshes demand."""
 

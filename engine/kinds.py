@@ -36,7 +36,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import TrainError
+from .errors import TrainError, UnknownName
 from .periods import (
     J2000_JD,
     JULIAN_CENTURY_DAYS,
@@ -240,15 +240,15 @@ def kind_key(shows: str, seen_from: str | None = None) -> str:
     if seen_from is None:
         seen_from = "sun" if shows == "earth" else "earth"
     if seen_from not in SEEN_FROM:
-        raise KeyError(f"seen_from should be one of {', '.join(SEEN_FROM)}")
+        raise UnknownName(f"seen_from should be one of {', '.join(SEEN_FROM)}")
     key = shows if seen_from == "earth" else f"{shows}_from_sun"
     if key not in KINDS or (shows.endswith("_from_sun") and seen_from == "sun"):
         if shows == "earth":
-            raise KeyError("the Earth is shown seen from the Sun (an orrery arm): "
+            raise UnknownName("the Earth is shown seen from the Sun (an orrery arm): "
                            "seen_from = \"sun\"")
         if shows in KINDS:
-            raise KeyError(f"'{shows}' is shown only as seen from the Earth")
-        raise KeyError(f"unknown pointer kind '{shows}'")
+            raise UnknownName(f"'{shows}' is shown only as seen from the Earth")
+        raise UnknownName(f"unknown pointer kind '{shows}'")
     return key
 
 

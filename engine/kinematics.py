@@ -28,7 +28,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from .errors import TrainError
+from .errors import TrainError, UnknownName
 from .exact import Turns, fraction_text, turns_mod1
 from .train import FRAME, Train
 
@@ -140,7 +140,11 @@ class Kinematics:
     def linear_of(self, arbor: str) -> LinearAngle:
         if arbor == FRAME:
             return LinearAngle(Fraction(0), tuple(Fraction(0) for _ in self.slot_names))
-        return self.linear[arbor]
+        try:
+            return self.linear[arbor]
+        except KeyError:
+            raise UnknownName(f"no arbor {arbor!r} in {self.train.name!r} (its arbors: "
+                              f"{', '.join(self.linear)})") from None
 
     def slot_lags_turns(self, turns: Turns | float | np.ndarray) -> dict[str, np.ndarray]:
         """Each pin-and-slot stage's lead (turns) at the given crank turns since the epoch."""

@@ -27,6 +27,8 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import TYPE_CHECKING
 
+from .errors import UnknownName
+
 if TYPE_CHECKING:  # numpy is imported by the two functions using it: commands' --help
     import numpy as np  # reads this module's constants without loading it
 
@@ -177,9 +179,11 @@ for _key, _synodic, _years in PERIOD_RELATIONS:
 def relation_error_ppm(key: str) -> float:
     """How far a period relation's period is from the mean period it stands for (ppm: positive
     when the relation's period is the longer)."""
-    rel = PERIODS[key]
-    if rel.approximates is None:
-        raise KeyError(f"{key!r} is not a period relation")
+    rel = PERIODS.get(key)
+    if rel is None or rel.approximates is None:
+        relations = ", ".join(k for k, p in PERIODS.items() if p.approximates is not None)
+        what = "is a mean period, not a period relation" if rel else "is no period relation"
+        raise UnknownName(f"period {key!r} {what}; the relations are {relations}")
     mean = PERIODS[rel.approximates].days
     return (float(rel.exact_days) / mean - 1.0) * 1e6
 
@@ -208,7 +212,7 @@ def find_period(text: str) -> MeanPeriod:
         if w.replace(" ", "_") in aliases:
             return PERIODS[aliases[w.replace(" ", "_")]]
     known = ", ".join(p.name for p in PERIODS.values())
-    raise KeyError(f"unknown period {text!r}; known periods: {known}")
+    raise UnknownName(f"unknown period {text!r}; known periods: {known}")
 
 
 def _poly(t: np.ndarray, coeffs: tuple[float, ...]) -> np.ndarray:

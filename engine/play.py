@@ -42,6 +42,7 @@ from .defaults import (  # with their sources
     DEFAULT_TILT_DEG,
     LEVER_MM,
 )
+from .errors import ArgumentError
 from .kinematics import Kinematics
 from .periods import JULIAN_YEAR_DAYS
 from .readout import pointer_linear
@@ -104,7 +105,22 @@ class Tolerances:
                    end_shake_mm=DEFAULT_END_SHAKE_MM if shop.end_shake_mm is None
                    else shop.end_shake_mm,
                    tilt_deg=DEFAULT_TILT_DEG if shop.tilt_deg is None else shop.tilt_deg)
-        return replace(base, **{k: v for k, v in given.items() if v is not None})
+        given = {k: v for k, v in given.items() if v is not None}
+        for key, value in given.items():
+            lo, hi = _TOLERANCE_RANGES.get(key, (None, None))
+            if lo is None:
+                continue
+            if isinstance(value, bool) or not isinstance(value, int | float) \
+                    or not lo <= value <= hi:
+                raise ArgumentError(f"{key}: must be a number from {lo:g} to {hi:g}, "
+                                    f"got {value!r}")
+        return replace(base, **given)
+
+
+#: what each tolerance may be (as ``wheelwork play`` takes them; lever: above zero)
+_TOLERANCE_RANGES = {"backlash_mm": (0, 100), "division": (0, 0.4999),
+                     "eccentricity_mm": (0, 100), "end_shake_mm": (0, 100),
+                     "tilt_deg": (0, 45), "lever_mm": (1e-9, 10_000)}
 
 
 @dataclass(frozen=True)
@@ -284,6 +300,12 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
     ``samples`` random times over ``years`` from the epoch, for every pointer."""
     from .ratios import pointer_ratios
 
+    if isinstance(years, bool) or not isinstance(years, int | float) or \
+            not 0 < years <= 100_000:
+        raise ArgumentError(f"years: must be above 0 and at most 100,000, got {years!r}")
+    for what, n in (("builds", builds), ("samples", samples)):
+        if isinstance(n, bool) or not isinstance(n, int) or n < 1:
+            raise ArgumentError(f"{what}: must be a whole number of at least 1, got {n!r}")
     tol = tol or Tolerances.of(train)
     report = PlayReport(train.name, train.source, tol, years, builds, samples, seed)
     forms = _forms(train, tol.form)

@@ -13,6 +13,7 @@ from fractions import Fraction
 
 import numpy as np
 
+from .errors import UnknownName
 from .exact import Turns
 from .kinds import KINDS, mean_value, sky_at, true_value
 from .kinematics import Kinematics, LinearAngle
@@ -156,6 +157,10 @@ class Readout:
     # re-setting -----------------------------------------------------------------------
     def reset_to(self, turns: Turns | float, values_deg: dict[str, float]) -> Readout:
         """A copy with pointers turned (as by hand) to show ``values_deg`` at ``turns``."""
+        unknown = [n for n in values_deg if n not in self.motions]
+        if unknown:
+            raise UnknownName(f"no pointer {unknown[0]!r} on this train (its pointers: "
+                              f"{', '.join(self.motions)})")
         now = self.read_deg(turns)
         motions = dict(self.motions)
         for name, value in values_deg.items():

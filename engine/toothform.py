@@ -36,6 +36,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .errors import ArgumentError
+
 # --- the cycloidal standard (BS 978 Part 2), values from memory ------------------------------
 
 WHEEL_THICKNESS_M = 1.41
@@ -235,7 +237,7 @@ def epicycloid_addendum(teeth: int, mate_teeth: int, thickness_m: float = WHEEL_
     while math.atan2(point(hi)[1], point(hi)[0]) < psi:
         lo, hi = hi, hi * 2.0
         if hi > math.pi:
-            raise ValueError("the epicycloid never reaches the tooth's centre line")
+            raise ArgumentError("the epicycloid never reaches the tooth's centre line")
     for _ in range(200):
         mid = 0.5 * (lo + hi)
         if math.atan2(point(mid)[1], point(mid)[0]) < psi:
@@ -261,7 +263,7 @@ def _round_top(pitch_r: float, half_thick: float, radius: float, top: float, n: 
     rad = np.hypot(pts[:, 0], pts[:, 1])
     stop = np.argmax((pts[:, 0] <= 0) | (rad >= top))
     if stop == 0:
-        raise ValueError("the addendum arc does not rise from the pitch circle")
+        raise ArgumentError("the addendum arc does not rise from the pitch circle")
     g_end = gammas[stop]
     # refine the end exactly between the last two samples
     lo, hi = gammas[stop - 1], g_end
@@ -280,10 +282,29 @@ def _round_top(pitch_r: float, half_thick: float, radius: float, top: float, n: 
     return np.column_stack([rho, eta])
 
 
+def _count(n, what: str) -> int:
+    """A tooth or leaf count given to a form: a whole number of at least one."""
+    if isinstance(n, bool) or not isinstance(n, int | np.integer) or n < 1:
+        raise ArgumentError(f"{what}: must be a whole number of at least 1, got {n!r}")
+    return int(n)
+
+
+def _module(m, what: str = "module_mm") -> float:
+    """A module (or other length) given to a form: a finite number above zero."""
+    try:
+        ok = math.isfinite(m) and m > 0
+    except TypeError:
+        ok = False
+    if isinstance(m, bool) or not ok:
+        raise ArgumentError(f"{what}: must be a number of millimetres above zero, got {m!r}")
+    return float(m)
+
+
 def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
                     dedendum_m: float = WHEEL_DEDENDUM_M) -> ToothForm:
     """A cycloidal wheel driving (or driven by) a pinion of ``mate_leaves`` leaves."""
-    m = module_mm
+    teeth, mate_leaves = _count(teeth, "teeth"), _count(mate_leaves, "mate_leaves")
+    m = _module(module_mm)
     theo = epicycloid_addendum(teeth, mate_leaves)
     add = PRACTICAL_ADDENDUM * theo
     r = m * teeth / 2.0
@@ -299,7 +320,7 @@ def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
     root = r - dedendum_m * m
     notes = []
     if root <= 0:
-        raise ValueError(f"{teeth} teeth at dedendum {dedendum_m:.3g} m leave no root circle")
+        raise ArgumentError(f"{teeth} teeth at dedendum {dedendum_m:.3g} m leave no root circle")
     if add > DEEP_ADDENDUM_M:
         notes.append(f"deep teeth (addendum {add:.2f} m against {mate_leaves} leaves): the "
                      "cycloidal form suits pinions of 6 to 16 leaves; for larger pinions "
@@ -316,13 +337,13 @@ def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
 def cycloidal_pinion(leaves: int, module_mm: float, wheel_addendum_m: float) -> ToothForm:
     """Cycloidal pinion leaves (radial flanks, top by leaf count); its dedendum makes room for
     the wheel's addendum ``wheel_addendum_m`` plus the standard clearance."""
-    m = module_mm
+    leaves, m = _count(leaves, "leaves"), _module(module_mm)
     row = leaf_form(leaves)
     r = m * leaves / 2.0
     dedendum = wheel_addendum_m + PINION_CLEARANCE_M
     root = r - dedendum * m
     if root <= 0:
-        raise ValueError(f"{leaves} leaves at module {m:g}: the wheel's addendum "
+        raise ArgumentError(f"{leaves} leaves at module {m:g}: the wheel's addendum "
                          f"({wheel_addendum_m:.2f} m) leaves no root circle")
     half = row.thickness_m * m / 2.0
     psi = half / r
@@ -388,7 +409,7 @@ def _first_crossing(pts: np.ndarray):
 
 def involute_wheel(teeth: int, module_mm: float) -> ToothForm:
     """An external involute wheel cut by the ISO 53 rack (profile A), no profile shift."""
-    m = module_mm
+    teeth, m = _count(teeth, "teeth"), _module(module_mm)
     alpha = math.radians(PRESSURE_ANGLE_DEG)
     r = m * teeth / 2.0
     pts, normals, tangent = _rack_cutter_half(m, alpha)
@@ -439,7 +460,7 @@ def involute_wheel(teeth: int, module_mm: float) -> ToothForm:
 def involute_ring(teeth: int, module_mm: float) -> ToothForm:
     """An internal (ring) wheel: tip 1 m inside, root 1.25 m outside the pitch circle. The
     ``flank`` describes the ring's *spaces* (which an external wheel's teeth would fill)."""
-    m = module_mm
+    teeth, m = _count(teeth, "teeth"), _module(module_mm)
     alpha = math.radians(PRESSURE_ANGLE_DEG)
     r = m * teeth / 2.0
     rb = r * math.cos(alpha)

@@ -166,3 +166,54 @@ def test_short_reprs():
         text = repr(obj)
         assert "\n" not in text and len(text) < 200, text
         assert text.startswith(type(obj).__name__ + "(")
+
+
+# --- errors from a script or notebook: one line, a WheelworkError, never a deep traceback ----
+
+def _bad_calls():
+    """(label, call) for api calls with a value a notebook user could plausibly get wrong."""
+    tide = api.open_train("engine/trains/tide_office.toml")
+    disc = api.load_train("tests/trains/workshop_small.toml")
+    disc_kin = api.solve(disc)
+    return [
+        ("find_period", lambda: api.find_period("vulcan synodic")),
+        ("relation_error_ppm", lambda: api.relation_error_ppm("venus_8_in_5")),
+        ("relation_error_ppm of a mean period", lambda: api.relation_error_ppm("venus_synodic")),
+        ("kind_key", lambda: api.kind_key("vulcan")),
+        ("Kinematics.rate", lambda: tide.kin.rate("vulcan")),
+        ("Readout.reset_to", lambda: tide.readout.reset_to(0, {"vulcan": 1.0})),
+        ("involute_wheel 0 teeth", lambda: api.involute_wheel(0, 0.5)),
+        ("involute_wheel module < 0", lambda: api.involute_wheel(30, -1)),
+        ("involute_ring module 0", lambda: api.involute_ring(60, 0)),
+        ("cycloidal_wheel 0 leaves", lambda: api.cycloidal_wheel(64, 1.0, 0)),
+        ("cycloidal_wheel 2.5 teeth", lambda: api.cycloidal_wheel(2.5, 1.0, 8)),
+        ("cycloidal_pinion 0 leaves", lambda: api.cycloidal_pinion(0, 1.0, 1.4)),
+        ("Tolerances.of negative", lambda: api.Tolerances.of(disc, eccentricity_mm=-1)),
+        ("play years", lambda: api.play(disc, disc_kin, years=-1, builds=10, samples=8)),
+        ("play builds", lambda: api.play(disc, disc_kin, years=1, builds=0, samples=8)),
+        ("check_eclipses method", lambda: api.check_eclipses(
+            tide, api.Sky(), api.parse_date("1950-01-01"), api.parse_date("1951-01-01"),
+            method="saros")),
+        ("drift threshold of no pointer", lambda: api.drift_series(
+            tide, api.Sky(), api.DriftRun("2030-01-01", "2030-02-01", "1d",
+                                          threshold_deg={"vulcan": 1.0}))),
+    ]
+
+
+def test_bad_api_calls_raise_one_line_wheelwork_errors(monkeypatch):
+    monkeypatch.chdir(ROOT)
+    for label, call in _bad_calls():
+        with pytest.raises(api.WheelworkError) as info:
+            call()
+        text = str(info.value)
+        assert text and "\n" not in text and not text.startswith(("'", '"')), (label, text)
+
+
+def test_unknown_names_are_still_key_errors():
+    """Code that looked a name up with ``except KeyError`` keeps working."""
+    with pytest.raises(KeyError):
+        api.find_period("vulcan synodic")
+    with pytest.raises(KeyError):
+        api.kind_key("vulcan")
+    assert str(pytest.raises(KeyError, api.kind_key, "vulcan").value) == \
+        "unknown pointer kind 'vulcan'"
