@@ -59,15 +59,16 @@ class Spies:
         real_grid = sky_module._grid
         real_rotation = sky_module._ecliptic_rotation
         self.real = {"dpsi": sky_module._dpsi_2000b_exact, "tdb": sky_module.tdb_minus_tt,
-                     "rotation": sky_module._ecliptic_rotation_exact}
+                     "rotation": sky_module._ecliptic_rotation_exact,
+                     "dpsi grid": sky_module._dpsi_2000b_regular}
 
         def grid_eval(group, whole, frac):
             out = real_grid_eval(group, whole, frac)
             self.ephemeris.append((group, whole.copy(), frac.copy(), out))
             return out
 
-        def grid(x, step, exact):
-            out = real_grid(x, step, exact)
+        def grid(x, step, *args):
+            out = real_grid(x, step, *args)
             self.grids.append((step, x.copy(), out))
             return out
 
@@ -75,6 +76,12 @@ class Spies:
             out = real_rotation(jd_tdb)
             self.rotations.append((jd_tdb.copy(), out))
             return out
+
+        def regular(name):  # (first, step, m): the grid points first + step * j
+            def wrapper(first, step, m):
+                self.exact[name].append(first + step * np.arange(m))
+                return self.real[name](first, step, m)
+            return wrapper
 
         def counted(name):
             def wrapper(*args):
@@ -86,12 +93,13 @@ class Spies:
         monkeypatch.setattr(sky_module, "_grid", grid)
         monkeypatch.setattr(sky_module, "_ecliptic_rotation", rotation)
         monkeypatch.setattr(sky_module, "_dpsi_2000b_exact", counted("dpsi"))
+        monkeypatch.setattr(sky_module, "_dpsi_2000b_regular", regular("dpsi grid"))
         monkeypatch.setattr(sky_module, "tdb_minus_tt", counted("tdb"))
         monkeypatch.setattr(sky_module, "_ecliptic_rotation_exact", counted("rotation"))
 
     def reset(self):
         self.ephemeris, self.grids, self.rotations = [], [], []
-        self.exact = {"dpsi": [], "tdb": [], "rotation": []}
+        self.exact = {"dpsi": [], "dpsi grid": [], "tdb": [], "rotation": []}
 
 
 def _batches(n: int) -> int:
@@ -118,14 +126,15 @@ def _check_grids_taken(spies, sky, n, frame):
     assert sum(x.size for x in spies.exact["tdb"]) < n / 50
     dpsi = [(x, out) for step, x, out in spies.grids if step == sky_module._NUT_GRID_DAYS]
     if frame == "stars":  # the fixed ecliptic of J2000: no nutation, a constant rotation
-        assert not dpsi and not spies.exact["dpsi"]
+        assert not dpsi and not spies.exact["dpsi"] and not spies.exact["dpsi grid"]
         assert not spies.rotations and not spies.exact["rotation"]
         return
-    # Nutation in longitude: on its half-day grid in every batch, the series at grid points
-    # only (about one for every two dates).
+    # Nutation in longitude: on its half-day grid in every batch, worked out at grid points
+    # only (about one for every two dates), never date by date.
     assert len(dpsi) == batches and all(out is not None for _, out in dpsi)
-    assert all(_on_grid(x, sky_module._NUT_GRID_DAYS) for x in spies.exact["dpsi"])
-    assert sum(x.size for x in spies.exact["dpsi"]) < 0.51 * n + 4 * batches
+    assert not spies.exact["dpsi"]
+    assert all(_on_grid(x, sky_module._NUT_GRID_DAYS) for x in spies.exact["dpsi grid"])
+    assert sum(x.size for x in spies.exact["dpsi grid"]) < 0.51 * n + 4 * batches
     # Precession: one cubic a batch, the exact rotation at its four points only.
     assert len(spies.rotations) == batches
     assert [x.size for x in spies.exact["rotation"]] == [4] * batches
@@ -182,7 +191,7 @@ def _without_grids(monkeypatch):
     """Every grid switched off: the ephemeris gathered date by date, nutation and TDB - TT
     evaluated at every date, the precession rotation exact at every date."""
     monkeypatch.setattr(sky_module._ChebGroup, "_evaluate_grid", lambda self, w, f: None)
-    monkeypatch.setattr(sky_module, "_grid", lambda x, step, exact: None)
+    monkeypatch.setattr(sky_module, "_grid", lambda x, step, *args: None)
     monkeypatch.setattr(sky_module, "_ROT_POLY_SPAN_DAYS", -1.0)
 
 
