@@ -154,28 +154,40 @@ def _ut1_time(ut1: np.ndarray):
     the dates rise densely.
 
     skyfield finds TT = UT + ΔT(t) by evaluating ΔT twice: at UT, then at UT + the first ΔT.
-    When each date's shift (ΔT, under a minute in modern times, under half a day in
-    antiquity) reaches no further than the next date, the second value comes from the first
-    ones by linear interpolation between the date and the next. skyfield's ΔT is linear
-    between daily table points and a smooth spline outside them, so that differs from the
-    second evaluation by at most a day's change of slope times the shift: below 1e-6 s
-    (``tests/test_sky.py`` checks it). The Time is built as ``ut1_jd`` builds it."""
+    When the dates rise and each lies within :data:`_UT1_SECANT_DAYS` of the next, the second
+    value comes from the first ones along the secant from the date to the next (the last
+    date: from the one before). skyfield's ΔT is linear between daily table points and a
+    smooth spline outside them, so that differs from the second evaluation by at most the
+    shift (ΔT itself: under a minute in modern times, under a day in antiquity) times the
+    change of ΔT's slope over the secant's days: below 1e-6 s (``tests/test_sky.py`` checks
+    it on regular and scattered dates). Dates further apart than that get the second
+    evaluation. The Time is built as ``ut1_jd`` builds it."""
     ts = _timescale()
     if ut1.size < 3:
         return ts.ut1_jd(ut1)
     step = np.diff(ut1)
+    if not np.all(step > 0.0):
+        return ts.ut1_jd(ut1)
     first = ts.delta_t_function(ut1)
     shift = first * (1.0 / SECONDS_PER_DAY)
-    if not (np.all(step > 0.0) and np.all(shift[:-1] <= step)):
+    slope = np.empty_like(first)  # ΔT's secant slope (s a day) from each date to the next
+    np.subtract(first[1:], first[:-1], out=slope[:-1])
+    slope[:-1] /= step
+    slope[-1] = slope[-2]
+    second = slope * shift
+    second += first
+    far = np.flatnonzero(step > _UT1_SECANT_DAYS)
+    if far.size > ut1.size // 2:
         return ts.ut1_jd(ut1)
-    second = np.empty_like(first)
-    np.subtract(first[1:], first[:-1], out=second[:-1])
-    second[:-1] *= shift[:-1] / step
-    second[:-1] += first[:-1]
-    second[-1] = ts.delta_t_function(ut1[-1:] + shift[-1:])[0]
+    if far.size:  # these dates' secants span too long to trust: evaluate (and the last's)
+        far = np.append(far, ut1.size - 1) if far[-1] == ut1.size - 2 else far
+        second[far] = ts.delta_t_function(ut1[far] + shift[far])
     t = ts.tt_jd(ut1, second * (1.0 / SECONDS_PER_DAY))
     t.ut1_fraction = 0.0 * ut1  # as ut1_jd sets it: the UT is the date given
     return t
+
+
+_UT1_SECANT_DAYS = 2.0  # longest step between dates over which ΔT's secant is used
 
 
 def _de421_path() -> str:

@@ -987,3 +987,15 @@ def test_ut1_time_one_delta_t_evaluation_fewer():
         assert np.array_equal(ours.whole, theirs.whole)
         assert np.max(np.abs(ours.tt_fraction - theirs.tt_fraction)) * 86400.0 < 1e-6, start
         assert np.array_equal(ours.ut1, theirs.ut1)
+    # Scattered dates (sorted, some a few seconds apart, some further apart than the secant
+    # is trusted over), in the table's years, the modern extrapolation and antiquity.
+    rng = np.random.default_rng(7)
+    for start, span in ((2415020.5, 6000.0), (2455000.5, 6000.0), (2470000.5, 30000.0),
+                        (990000.5, 6000.0), (1500000.5, 600.0)):
+        jd = np.sort(start + rng.random(6000) * span)
+        jd[100:110] = jd[100] + np.arange(10) * 3.0 / 86400.0  # three seconds apart
+        jd[3000:] += 50.0  # a gap longer than the secant is used over
+        ours, theirs = _ut1_time(jd), _timescale().ut1_jd(jd)
+        assert np.array_equal(ours.whole, theirs.whole)
+        assert np.max(np.abs(ours.tt_fraction - theirs.tt_fraction)) * 86400.0 < 1e-6, start
+        assert np.array_equal(ours.ut1, theirs.ut1)
