@@ -134,3 +134,22 @@ def test_delta_t_uncertainty_flags_errors_it_cannot_resolve(ancient):
     assert bool(moon.within_delta_t)
     later = pointer_errors(mech, ancient, mech.train.epoch.jd_ut + 10)
     assert not bool(later["moon"].within_delta_t)  # days later the Moon's swings show
+
+
+def test_eclipse_times_in_antiquity_say_how_far_delta_t_leaves_them_uncertain(capsys):
+    """A time in UT before the telescope rests on ΔT, uncertain by minutes (σ ≈ 0.8 t² s,
+    t = (year − 1820)/100: about 462 s in 585 BC, Morrison & Stephenson 2004, as docs/sky.md
+    gives it); the eclipse report says so where the times are printed, not for modern spans."""
+    import json
+
+    from engine.cli import main
+
+    ask = ["eclipses", "eclipse_board", "--from", "1 May 585 BC", "--years", "1",
+           "--ephemeris", "de406", "--by", "pointers"]
+    assert main(ask) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "ΔT" in out and "± 462 s" in out and "7.7 min" in out
+    assert main([*ask, "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["delta_t_sigma_s"] == pytest.approx(462, abs=2)
+    assert main(["eclipses", "eclipse_board", "--from", "2024-01-01", "--years", "1"]) == 0
+    assert "ΔT" not in capsys.readouterr().out

@@ -73,6 +73,28 @@ def _detail_text(c: Check, i: int) -> str:
     return f"{c.detail[i]:.1f}°"
 
 
+#: ΔT's uncertainty is pointed out once it reaches a minute (as ``wheelwork sky`` does)
+DELTA_T_NOTE_S = 60.0
+
+
+def delta_t_sigma_s(start: float, end: float) -> float:
+    """The largest standard error of ΔT (seconds) over a span of UT dates: how far any time in
+    UT printed for it may be off (σ grows away from the present, so the ends rule)."""
+    import numpy as np
+
+    from ..sky import delta_t_sigma_s as sigma  # at TT dates: hours of ΔT do not change it
+
+    return float(np.max(sigma(np.linspace(float(start), float(end), 65))))
+
+
+def delta_t_line(sigma_s: float) -> str:
+    """The words for a span whose times ΔT leaves uncertain by ``sigma_s`` seconds."""
+    scale = f"{sigma_s / 3600:.1f} h" if sigma_s >= 3600 else f"{sigma_s / 60:.1f} min"
+    return (f"times are UT through ΔT, uncertain by up to ± {sigma_s:,.0f} s ({scale}, one "
+            "standard error) in this span: each time may be off by that much (which eclipses "
+            "happen, their types and γ do not depend on it)")
+
+
 def document(c: Check, mech, sky, args) -> dict:
     """The ``--json`` document."""
     import numpy as np
@@ -99,6 +121,7 @@ def document(c: Check, mech, sky, args) -> dict:
         "method": c.method, "how": c.how,
         "from_jd": float(args._start), "to_jd": float(args._end),
         "from": format_jd(args._start), "to": format_jd(args._end),
+        "delta_t_sigma_s": round(delta_t_sigma_s(args._start, args._end), 3),
         "limits_deg": c.limits if c.method == "pointers" else None,
         "penumbral_counted": mech.train.eclipses.penumbral,
         "lunations": c.lunations, "marks": c.marks, "marks_from": c.marks_from,
@@ -228,6 +251,9 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
              f"lunar {', '.join(map(str, c.marks['lunar'])) or 'none'}")
     line("lunar eclipses counted: " + ("all, penumbral too" if mech.train.eclipses.penumbral
                                         else "partial and total (penumbral ones left out)"))
+    sigma = delta_t_sigma_s(args._start, args._end)
+    if sigma >= DELTA_T_NOTE_S:
+        line(delta_t_line(sigma), "yellow")
     line("")
     rows = [i for i in range(len(c.jd_ut))
             if args.all or c.predicted[i] or c.real_type[i]]
