@@ -1611,3 +1611,27 @@ async def test_train_drawing_redrawn_in_a_new_theme():
                   for x, ch in enumerate(row) if ch.isalpha()}
         for st in hands | labels:
             assert _contrast(Color.parse(st.replace("bold ", "")), bg) >= 3.0, st
+
+
+@sync
+async def test_findings_end_with_the_design_estimates_line_not_counted():
+    """Speeds and loads in the warnings panel are design estimates, and the panel says so (the
+    check's caveat, last, dim), without counting it as a finding."""
+    from engine.checks import CAVEAT
+    from engine.demos import demo_path
+    from engine.mechanism import open_train
+    from tui.app import engine_findings
+    from tui.widgets import Findings
+
+    items = engine_findings(open_train(demo_path("table_orrery")))
+    assert items[-1] == ("caveat", "", CAVEAT, "")
+    app = make_app()
+    app.session.findings = [("warning", "[arbors.moon]", "turns 13.4 times as fast", ""),
+                            ("caveat", "", CAVEAT, "")]
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.pause()
+        text = " ".join(text_of(app.screen.query_one(Findings)).split())
+        assert text.startswith("▲ warning [arbors.moon]")
+        assert text.endswith(" ".join(CAVEAT.split()))
+        title = str(app.screen.query_one("#findings-pane").border_title)
+        assert title == "warnings & notes: 1 warning"

@@ -25,7 +25,8 @@ from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
 
 
 def engine_findings(mech) -> list[tuple[str, str, str, str]]:
-    """(level, item, message, fix) from the engine: backwards pointers and mechanical checks."""
+    """(level, item, message, fix) from the engine: backwards pointers and mechanical checks,
+    then the checks' caveat (level "caveat": their speeds and loads are design estimates)."""
     from engine.checks import check  # loaded when the bench opens, not at start-up
 
     items = [("warning", "", w, "") for w in mech.warnings]
@@ -37,7 +38,7 @@ def engine_findings(mech) -> list[tuple[str, str, str, str]]:
 
     items += [(f.level, f.item, f.message, f.fix or "")
               for f in [*report.findings, *dead_play_findings(mech.train, mech.kin)]]
-    return items
+    return [*items, ("caveat", "", report.caveat, "")]
 
 
 #: Textual's CommandPalette has no public way to stop its list work once it is closing: the

@@ -1136,11 +1136,12 @@ class Status(RowStatic):
 
 class Findings(Static):
     """What the engine reports: errors and warnings first, then notes, each line with its
-    level in its own colour."""
+    level in its own colour; a "caveat" (the checks' design-estimates line) last, dim, and
+    not counted in the title."""
 
     LEVELS = {"error": ("✖ error", "bold #e06c75"), "warning": ("▲ warning", "bold #e5c07b"),
               "note": ("· note", "#56b6c2")}
-    ORDER = {"error": 0, "warning": 1, "note": 2}
+    ORDER = {"error": 0, "warning": 1, "note": 2, "caveat": 4}
 
     @classmethod
     def ordered(cls, items: list[tuple[str, str, str, str]]) -> list[tuple[str, str, str, str]]:
@@ -1155,19 +1156,22 @@ class Findings(Static):
             n = sum(f[0] == level for f in items)
             if n:
                 parts.append(f"{n} {level}{'s' if n != 1 else ''}")
-        other = sum(f[0] not in ("error", "warning", "note") for f in items)
+        other = sum(f[0] not in ("error", "warning", "note", "caveat") for f in items)
         if other:
             parts.append(f"{other} other")
         return "warnings & notes" + (f": {', '.join(parts)}" if parts else "")
 
     def show_findings(self, items: list[tuple[str, str, str, str]]) -> None:
         t = Text()
-        if not items:
-            t.append("no warnings or notes from the engine", style="dim")
+        if not any(f[0] != "caveat" for f in items):
+            t.append("no warnings or notes from the engine\n", style="dim")
         colours = ui(self)
         themed = {"error": f"bold {colours['bad']}", "warning": f"bold {colours['warn']}",
                   "note": colours["muted"]}
         for level, item, message, fix in self.ordered(items):
+            if level == "caveat":
+                t.append(f"{message}\n", style=f"italic {colours['muted']}")
+                continue
             tag, style = self.LEVELS.get(level, (f"· {level}", ""))
             style = themed.get(level, style)
             t.append(f"{tag} ", style=style)
