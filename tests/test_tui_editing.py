@@ -662,3 +662,16 @@ async def test_the_ephemeris_line_is_never_cut_short(tmp_path):
             (line,) = [ln for ln in text_of(status).splitlines() if ln.startswith("sky ")]
             assert len(line.rstrip()) <= status.content_region.width, (size, line)
             assert "3001 BC" in line and "3000" in line
+
+
+def test_crank_days_read_as_the_file_writes_them():
+    """The orrery's file says days_per_turn = 365.2422: the parts list and the value box say
+    365.2422 (not 1826211/5000); a fraction that has no decimal stays p/q."""
+    from engine.edit import TrainEditor
+    from tui.editing import current_value, parts
+
+    editor = TrainEditor.open(demo_path("table_orrery"))
+    assert parts(editor)[0] == (("crank",), "crank: days per turn 365.2422")
+    assert current_value(editor, ("crank",)) == "365.2422"
+    editor.set_days_per_turn("6940/235")
+    assert current_value(editor, ("crank",)) == "1388/47"

@@ -35,6 +35,7 @@ from textual.worker import get_current_worker
 from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
+from engine.exact import fraction_text
 from engine.loader import load_train
 
 from .screens import _GEDIT, ClosesOnce, Dialog, HelpScreen
@@ -145,7 +146,7 @@ def parts(editor: TrainEditor) -> list[tuple[tuple, str]]:
     or ("crank",)."""
     out: list[tuple[tuple, str]] = []
     train = editor.mech.train
-    days = train.crank.days_per_turn
+    days = fraction_text(train.crank.days_per_turn)  # 365.2422, as the file writes it
     out.append((("crank",), f"crank: days per turn {days}"))
     bad = editor.forbidden_in_train()
     for name, arbor, teeth in editor.wheels():
@@ -160,7 +161,7 @@ def parts(editor: TrainEditor) -> list[tuple[tuple, str]]:
 def current_value(editor: TrainEditor, key: tuple) -> str:
     train = editor.mech.train
     if key[0] == "crank":
-        return str(train.crank.days_per_turn)
+        return fraction_text(train.crank.days_per_turn)
     if key[0] == "teeth":
         return str(train.wheels[key[1]].teeth)
     return f"{getattr(train.pin_slots[key[1]], key[2]):g}"
