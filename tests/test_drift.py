@@ -510,6 +510,8 @@ def test_cli_chart_formats_and_no_overwrite(tmp_path, capsys):
     assert main(["drift", DISC, "--years", "1", "--png", str(svg)]) == 0
     assert f"wrote {svg}" in capsys.readouterr().out
     assert svg.read_bytes().lstrip()[:5] in (b"<?xml", b"<svg ")
+    # the chart sets the train against the true Sun: it carries the caution, as text
+    assert b"solar filter" in svg.read_bytes()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["chart.SVG"]  # nothing else made
     before = svg.read_bytes()
     assert main(["drift", DISC, "--years", "2", "--png", str(svg)]) == 1

@@ -243,7 +243,8 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
 
     plt = _load_pyplot()
     names = list(result.summaries)
-    fig, axes = plt.subplots(len(names), 1, figsize=(10, 2.4 * len(names) + 0.8), sharex=True,
+    height_in = 2.4 * len(names) + 0.8
+    fig, axes = plt.subplots(len(names), 1, figsize=(10, height_in), sharex=True,
                              squeeze=False)
     x = _year(result.jd)
     for ax, name in zip(axes[:, 0], names, strict=True):
@@ -269,10 +270,14 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
             sec.set_ylabel("days")
     axes[-1, 0].set_xlabel("year")
     fig.suptitle(title, fontsize=10)
-    fig.tight_layout()
+    # the chart sets the train against the true Sun: the caution goes with it, under the plots
+    fig.text(0.5, 0.06 / height_in, SUN_CAUTION, ha="center", va="bottom", fontsize=8,
+             color="0.25")
+    fig.tight_layout(rect=(0, 0.22 / height_in, 1, 1))
     try:
         fh = out.open("wb")
-        fig.savefig(fh.fh, dpi=110, format=out.path.suffix.lower().lstrip("."))
+        with plt.rc_context({"svg.fonttype": "none"}):  # SVG text stays text: searchable
+            fig.savefig(fh.fh, dpi=110, format=out.path.suffix.lower().lstrip("."))
     except OSError as exc:
         out.discard()
         raise out._cannot(exc) from None
