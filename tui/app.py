@@ -7,7 +7,7 @@ from functools import partial
 from itertools import count
 from pathlib import Path
 
-from textual import on
+from textual import events, on
 from textual.app import App, SystemCommand
 from textual.await_complete import AwaitComplete
 from textual.command import CommandList, CommandPalette
@@ -22,6 +22,7 @@ from engine.sky import Site
 
 from .screens import BenchScreen, ClosesOnce, key_name, long_help
 from .session import DEFAULT_SITE, DEFAULT_SITE_NAME, FRAME_NAMES, Session
+from .small import SizeGuard
 
 
 def engine_findings(mech) -> list[tuple[str, str, str, str]]:
@@ -48,7 +49,7 @@ PALETTE_INTERNALS = ("_refresh_command_list", "_watch__list_visible", "_watch__s
                      "_action_command_list")
 
 
-class Palette(ClosesOnce, CommandPalette):
+class Palette(ClosesOnce, SizeGuard, CommandPalette):
     """The command palette, safe under fast keys: it closes (and runs its command) once, and
     list keys that arrive before the list has a size are ignored."""
 
@@ -106,6 +107,13 @@ class WheelworkApp(App):
 
     def get_default_screen(self) -> Screen:
         return BenchScreen(self.session)
+
+    def on_resize(self, event: events.Resize) -> None:
+        """Every screen in the stack says so when the terminal is too small (tui/small.py),
+        and comes back when it is enlarged (this runs before the app takes the new size)."""
+        for screen in self.screen_stack:
+            if isinstance(screen, SizeGuard):
+                screen.guard_size(event.size)
 
     def pop_screen(self) -> AwaitComplete:
         """Never pop the bench: it is the base of the stack (a stray second dismissal would

@@ -40,6 +40,7 @@ from engine.loader import load_train
 
 from .screens import _GEDIT, ClosesOnce, Dialog, HelpScreen
 from .session import recent_files, remember  # files opened or saved, kept across runs
+from .small import SizeGuard
 from .widgets import CAUTION, Readings, ui
 
 #: the marker the title shows while the train differs from its file
@@ -198,7 +199,7 @@ class PartValue(Input):
             ol.highlighted = min(max((ol.highlighted or 0) + step, 0), ol.option_count - 1)
 
 
-class PartsScreen(ClosesOnce, Screen):
+class PartsScreen(ClosesOnce, SizeGuard, Screen):
     """Pick a wheel, pinion, pin-and-slot length or the crank; type the new value; the train
     is solved again at once and the ratio panel and readings answer."""
 
@@ -465,7 +466,7 @@ class TrainFiles(DirectoryTree):
                 and (p.is_dir() or p.suffix == ".toml")]
 
 
-class OpenScreen(ClosesOnce, Screen):
+class OpenScreen(ClosesOnce, SizeGuard, Screen):
     """Open a train file (folders from the current one, and above it; a typed path; files
     opened or saved, kept across runs), or start a new train from a demo. A file the loader
     refuses is reported here."""
@@ -642,7 +643,7 @@ class TeethField(Input):
             ol.highlighted = min(max((ol.highlighted or 0) + step, 0), ol.option_count - 1)
 
 
-class TeethScreen(ClosesOnce, Screen):
+class TeethScreen(ClosesOnce, SizeGuard, Screen):
     """Search new tooth counts for one pointer's chain (engine.rechain): pick the pointer,
     set the bounds, Enter searches in a worker (progress bar; Escape stops it), Enter on an
     answer puts it in the train as one edit (ctrl+z undoes it)."""

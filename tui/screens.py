@@ -41,6 +41,7 @@ from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
 
 from .session import FPS, FRAME_NAMES, MAX_STEP_TURNS, RESET_TO, SPEEDS, Session
+from .small import SizeGuard
 from .widgets import (
     CAUTION,
     EclipseInfo,
@@ -146,7 +147,7 @@ FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
 FOOTER_PALETTE_FROM_WIDTH = 120
 
 
-class BenchScreen(Screen):
+class BenchScreen(SizeGuard, Screen):
     """The main screen: sky dial, readings, phase, the train, warnings."""
 
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (100, "-medium"), (120, "-wide")]
@@ -596,7 +597,7 @@ def shorten_echo(message: str, typed: str) -> str:
     return message.replace(typed, short)
 
 
-class Dialog(ClosesOnce, ModalScreen):
+class Dialog(ClosesOnce, SizeGuard, ModalScreen):
     """A small dialog over the bench: Escape cancels (returns None); :meth:`accept` closes it
     with a result. Subclasses read their inputs in :meth:`submit` and call :meth:`accept` or
     :meth:`reject` (which shows the message in the label ``#<error_id>`` and keeps the dialog
@@ -813,7 +814,7 @@ class ScreenshotDialog(Dialog):
         self._confirmed = None  # a replacement is confirmed for the name shown, only
 
 
-class HelpScreen(ClosesOnce, ModalScreen[None]):
+class HelpScreen(ClosesOnce, SizeGuard, ModalScreen[None]):
     """The keys, and the solar caution."""
 
     BINDINGS = [Binding("escape,q,question_mark,f1", "close", "close")]
@@ -876,7 +877,7 @@ THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
 PLOT_COMPACT_BELOW = 32
 
 
-class DriftScreen(ClosesOnce, Screen):
+class DriftScreen(ClosesOnce, SizeGuard, Screen):
     """Each pointer's error over the coming decades, computed in a background worker."""
 
     AUTO_FOCUS = None
