@@ -2,9 +2,9 @@
 
 For each frame (equinox of date, fixed stars) it times three pipelines on three sets of 36,525
 dates: regular (one a day at 07:12 UT, 1900-2000), 6-hourly (every six hours from 1960-01-01
-01:47 UT, 25 years: the drift command's default step, and the one set dense enough for the
-fast path's half-day nutation grid) and scattered (uniformly random in 1900-2000, seeded,
-sorted). The three pipelines:
+01:47 UT, 25 years: the drift command's default step, four dates to each record of DE421's
+4-day Moon) and scattered (uniformly random in 1900-2000, seeded, sorted). The three
+pipelines:
 
 * skyfield's default pipeline, ``observe().apparent().frame_latlon()``: IAU 2000A nutation and
   light bent by the Sun, Jupiter and Saturn (``apparent()``'s default deflectors) — the
@@ -45,7 +45,7 @@ each, with the largest difference per planet (target: 0.01").
                               [--no-6h] [--no-scattered] [--peer-batch N]
 
 A full run (both frames, three sets of dates, 3 rounds, the planets) takes about two minutes
-(107-142 s on a shared 2-core machine, 95-101 s of CPU; it prints its own time at the end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
+(107-167 s on a shared 2-core machine, 95-101 s of CPU; it prints its own time at the end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
 """
 
 from __future__ import annotations
