@@ -235,3 +235,36 @@ def test_six_hour_steps_against_reference(sky, frame):
                         ) / ARCSEC
              for key in ("sun_lon_deg", "sun_lat_deg", "moon_lon_deg", "moon_lat_deg")}
     assert max(worst.values()) < GOAL_ARCSEC, worst
+
+
+def test_drift_command_at_six_hours_takes_the_grids(monkeypatch, capsys):
+    # As a user runs it: `wheelwork drift` at its default six-hour step, on the table orrery
+    # (Sun, Moon and planets, whose light time is iterated on the ephemeris). Every batch of
+    # dates takes the grids; only the one- and two-date span checks are evaluated date by date.
+    from engine.cli import main
+
+    calls = []
+    real_grid_eval, real_grid = sky_module._ChebGroup._evaluate_grid, sky_module._grid
+
+    def grid_eval(group, whole, frac):
+        out = real_grid_eval(group, whole, frac)
+        calls.append(("ephemeris", whole.size, out is not None))
+        return out
+
+    def grid(x, step, *args):
+        out = real_grid(x, step, *args)
+        calls.append((step, x.size, out is not None))
+        return out
+
+    monkeypatch.setattr(sky_module._ChebGroup, "_evaluate_grid", grid_eval)
+    monkeypatch.setattr(sky_module, "_grid", grid)
+    assert main(["drift", "table_orrery", "--from", "1990-01-01", "--years", "12",
+                 "--step", "6h", "--json"]) == 0
+    capsys.readouterr()
+    dense = [c for c in calls if c[1] >= sky_module._GRID_MIN_DATES]
+    assert all(c[1] <= 2 for c in calls if c not in dense)  # the span checks
+    missed = [c for c in dense if not c[2]]
+    assert not missed, missed
+    batches = _batches(round(12 * 365.25 * 4))
+    for kind in ("ephemeris", sky_module._TDB_GRID_DAYS, sky_module._NUT_GRID_DAYS):
+        assert sum(1 for c in dense if c[0] == kind) >= batches, kind
