@@ -40,7 +40,9 @@ Method (all angles in degrees):
 * Best re-setting: the constant ``c`` minimising the RMS of wrap(error - c): started from the
   circular mean, then refined by ``c += mean(wrap(error - c))`` (the exact minimiser when no
   error crosses the half turn opposite ``c``). Errors all within less than a half turn of
-  each other (nothing wraps) give their plain mean at once, where the refining ends.
+  each other (nothing wraps) give their plain mean at once, where the refining ends; a run
+  knows that case from its chunks' bounds and takes the mean and the RMS about it from sums
+  kept chunk by chunk (see :class:`_Running`), without another pass over the errors.
   Turning the pointer back by ``c`` leaves ``rms_after_reset_deg``.
 
 Memory: the grid is walked in chunks (``RunControl.chunk`` dates at a time: one sky computation, the
@@ -55,7 +57,9 @@ Speed: on a uniform grid the train is read chunk by chunk from one exact reading
 chunk's first date (:func:`engine.exact.turns_mod1`) plus the pointer's float rate times the
 turns since then — the same sums as :class:`engine.readout.Readout`, equal to it within 1e-5°
 (0.04 arcsecond; single-precision pin-and-slot geometry, checked in ``tests/test_drift.py``),
-without exact integer work at every date. The sky's true values are read (its derived fields
+without exact integer work at every date (the exact readings at every chunk's first date are
+made at once when the run starts). Every pointer is a row of the same arrays, so each step of
+a chunk is one numpy call for all of them. The sky's true values are read (its derived fields
 are worked out then) inside the time counted as the sky's; ``bench/drift_speed.py`` prints the
 engine's share of it (219,000 six-hour dates, the tide office dial).
 """
@@ -242,19 +246,29 @@ class _GridReader:
 
     def anchor(self, jd_first: float):
         """Turns at the chunk's first date, each pointer's exact reading there (degrees) and
-        each pin-and-slot stage's moving angles there (turns): ``turns_mod1`` for every rate
-        at once, its same integer and float steps on arrays of numerators and denominators."""
-        a = self.readout.turns_at(jd_first)
+        each pin-and-slot stage's moving angles there (turns): see :meth:`anchors`."""
+        return self.anchors(np.array([jd_first]))[0]
+
+    def anchors(self, jd_firsts: np.ndarray) -> list[tuple[list[float], dict[str, float]]]:
+        """:meth:`anchor` at each of several dates (every chunk's first date of a run, read
+        at once): ``turns_mod1`` for every rate and date together, its same integer and float
+        steps on arrays of numerators, denominators and turns."""
+        a = self.readout.turns_at(np.asarray(jd_firsts, dtype=float).reshape(-1))
         rates = self._rates
         if rates is None:
-            at = [float(turns_mod1(rate, a)) for rate in self._exact]
+            at = np.array([turns_mod1(rate, a) for rate in self._exact]).reshape(
+                len(self._exact), -1)
         else:
-            num, den, rate_f = rates
-            w = np.mod(a.whole, den)
-            at = np.mod(np.mod(num * w, den) / den + rate_f * a.frac, 1.0).tolist()
-        base = {name: 360.0 * (at[i] + offset)
-                for i, (name, (_, _, offset, _)) in enumerate(self.pointers.items())}
-        return at[len(self.pointers):], base
+            num, den, rate_f = (r[:, None] for r in rates)
+            w = np.mod(a.whole[None, :], den)
+            at = np.mod(np.mod(num * w, den) / den + rate_f * a.frac[None, :], 1.0)
+        out = []
+        np_ = len(self.pointers)
+        offsets = [offset for _, _, offset, _ in self.pointers.values()]
+        for col in at.T.tolist():
+            base = {name: 360.0 * (col[i] + offsets[i]) for i, name in enumerate(self.pointers)}
+            out.append((col[np_:], base))
+        return out
 
     def lags_turns(self, at, since: np.ndarray) -> dict[str, np.ndarray]:
         """Each stage's lead (turns) at ``since`` crank turns after the anchor; ``at``: the
@@ -394,19 +408,30 @@ class _Running:
 
     ``add`` takes a chunk's wrapped error ``err`` and ``resid``, the unwrapped error less the
     expected line ``expected_per_step * k`` (k the grid index), both float64, ``resid`` less
-    the constant ``shift`` (added back as it is stored).
+    the constant ``shift`` (added back as it is stored). A run's chunks come through
+    :meth:`take` instead, with the error as ``kappa`` plus a series and that series' sum and
+    sum of squares already worked out for every pointer at once (:class:`_Chunks`).
+
+    The error's mean and its sum of squared deviations from the mean (the best re-setting
+    when nothing wraps) are merged chunk by chunk from sums about each chunk's ``kappa``, so
+    no sum loses the small spread to a large constant; ``lo``/``hi`` bound the errors met
+    (``None`` once a chunk was wrapped).
     """
 
     def __init__(self, n: int, jd0: float, step: float, expected_per_step: float,
-                 threshold_deg: float | None):
+                 threshold_deg: float | None, *, error: np.ndarray | None = None,
+                 resid: np.ndarray | None = None):
         self.n = n
-        self.error = np.empty(n, dtype=np.float32)
-        self.resid = np.empty(n, dtype=np.float32)
+        self.error = np.empty(n, dtype=np.float32) if error is None else error
+        self.resid = np.empty(n, dtype=np.float32) if resid is None else resid
         self.jd0, self.step = jd0, step
         self.expected_per_step = expected_per_step
         self.threshold = threshold_deg
         self.max_abs, self.max_at = -1.0, jd0
         self.sum_sq = 0.0
+        self.count, self.mean, self.m2 = 0, 0.0, 0.0
+        self.lo: float | None = math.inf
+        self.hi: float | None = -math.inf
         self.prev_abs = None
         self.crossing = None
 
@@ -414,22 +439,53 @@ class _Running:
             shift: float = 0.0, bound: float | None = None) -> None:
         """``bound``: no |err| in the chunk exceeds it (``None``: not known)."""
         n = len(err)
+        self.sum_sq += sum_sq(err)
+        self.lo = self.hi = None  # no bounds kept: the re-setting is sought in the series
+        self.error[i0:i0 + n] = err
+        np.add(resid, shift, out=self.resid[i0:i0 + n], casting="same_kind")
+        self._peak(i0, n, lambda: err, float(err[-1]), bound)
+
+    def take(self, i0: int, n: int, err, last: float, kappa: float, s1: float, s2: float,
+             lo: float | None, hi: float | None, bound: float | None) -> None:
+        """A chunk of ``n`` errors (already stored) whose differences from ``kappa`` sum to
+        ``s1`` and their squares to ``s2``; ``err()`` gives the errors (float64, not to be
+        kept) when they must be looked at, ``last`` is the last of them; ``lo``..``hi``
+        hold them (``None``: they were wrapped)."""
+        self.sum_sq += s2 + kappa * (2.0 * s1 + n * kappa)
+        self._moments(n, kappa, s1, s2)
+        if lo is None or self.lo is None:
+            self.lo = self.hi = None
+        else:
+            self.lo, self.hi = min(self.lo, lo), max(self.hi, hi)
+        self._peak(i0, n, err, last, bound)
+
+    def _moments(self, n: int, kappa: float, s1: float, s2: float) -> None:
+        """Merge a chunk's mean and squared deviations (from sums about ``kappa``)."""
+        mean = kappa + s1 / n
+        m2 = max(s2 - s1 * (s1 / n), 0.0)
+        total = self.count + n
+        delta = mean - self.mean
+        self.mean += delta * (n / total)
+        self.m2 += m2 + delta * delta * (self.count * n / total)
+        self.count = total
+
+    def _peak(self, i0: int, n: int, err, last: float, bound: float | None) -> None:
+        """The largest |error| so far and when, and the first crossing of the threshold."""
+        values = None
         if self.threshold is None and bound is not None and bound + 1e-9 <= self.max_abs:
             i = top = None  # nothing here beats the largest so far
         elif self.threshold is None:  # the first largest |err|: the first largest or smallest
-            hi, lo = int(np.argmax(err)), int(np.argmin(err))
-            big, small = float(err[hi]), -float(err[lo])
+            values = err()
+            hi, lo = int(np.argmax(values)), int(np.argmin(values))
+            big, small = float(values[hi]), -float(values[lo])
             i = hi if big > small else lo if small > big else min(hi, lo)
             top = max(big, small)
         else:
-            ae = np.abs(err)
+            ae = np.abs(err())
             i = int(np.argmax(ae))
             top = float(ae[i])
         if top is not None and top > self.max_abs:
             self.max_abs, self.max_at = top, self.jd0 + (i0 + i) * self.step
-        self.sum_sq += sum_sq(err)
-        self.error[i0:i0 + n] = err
-        np.add(resid, shift, out=self.resid[i0:i0 + n], casting="same_kind")
         if self.threshold is not None and self.crossing is None:
             past = ae >= self.threshold
             if past.any():
@@ -441,7 +497,16 @@ class _Running:
                 else:
                     f = (self.threshold - before) / (float(ae[j]) - before)
                     self.crossing = at - (1.0 - f) * self.step
-        self.prev_abs = abs(float(err[-1]))
+        self.prev_abs = abs(last)
+
+    def reset(self) -> tuple[float, float]:
+        """The best re-setting and the RMS it leaves (:func:`engine.fitting.best_offset`):
+        the errors' mean and their RMS about it when the bounds show them all within less
+        than a half turn of each other (where ``best_offset`` takes the mean too), else
+        sought in the stored series."""
+        if self.lo is not None and self.count and self.hi - self.lo < 179.0 - 1e-3:
+            return float(wrap_deg(self.mean)), math.sqrt(self.m2 / self.count)
+        return best_offset(self.error)
 
     def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
                 step_note: str | None = None) -> PointerSummary:
@@ -464,7 +529,7 @@ class _Running:
         too_short = period is None and math.isnan(amp)  # searched and found none: not so
         uncertain = (too_short or short or step_note is not None
                      or any(t not in MINOR_TERMS for t in fit.left_out))
-        offset, rms_after = best_offset(self.error)
+        offset, rms_after = self.reset()
         thr = self.threshold
         extra = {}
         g = days_rate(shows)
@@ -612,21 +677,35 @@ class _Chunks:
                  thresholds: dict[str, float | None], keep_series: bool, site=None):
         readout = mech.readout
         self.pointers = dict(mech.train.pointers)
+        self.names = list(self.pointers)
         self.jd0, self.n, self.step, self.frame = jd0, n, step, frame
         self.site = site
         self.reader = _GridReader(readout)
         self.turns_per_step = step / self.reader.days_per_turn
         self.expected = {name: _expected_deg_per_day(readout, name, frame) * step
                          for name in self.pointers}
-        self.runs = {name: _Running(n, jd0, step, self.expected[name], thresholds[name])
-                     for name in self.pointers}
+        self.x = np.array([self.expected[name] for name in self.names])
+        # every pointer's stored series, one row each (a row is the pointer's own array)
+        self.error = np.empty((len(self.names), n), np.float32)
+        self.resid = np.empty((len(self.names), n), np.float32)
+        self.runs = {name: _Running(n, jd0, step, self.expected[name], thresholds[name],
+                                    error=self.error[p], resid=self.resid[p])
+                     for p, name in enumerate(self.names)}
         keep = keep_series
         self.train_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
         self.sky_keep = {name: np.empty(n, np.float32) for name in self.pointers} if keep else {}
-        self.ref: dict[str, float] = {}
-        # per pointer: the sky's mean motion and the expected line at the steps of a chunk
-        self.lines: dict[str, tuple[np.ndarray, np.ndarray]] = {}
+        self.ref: np.ndarray | None = None  # each pointer's first wrapped value
+        # the sky's mean motion and the expected line at the steps of a chunk, one row a
+        # pointer, and two work arrays of that shape: made once a run (see add)
+        self.motion = self.line = self.work = None
+        self.anchors: dict[int, tuple] = {}
         self.delta_t_sigma_s = 0.0  # largest one-sigma ΔT uncertainty met on the grid
+
+    def plan(self, starts: list[int]) -> None:
+        """Read the train exactly at the first date of each chunk (grid indices ``starts``)
+        at once, rather than chunk by chunk."""
+        jd = np.array([self.jd0 + (0.0 + i0) * self.step for i0 in starts])
+        self.anchors = dict(zip(starts, self.reader.anchors(jd), strict=True))
 
     def add(self, i0: int, j: np.ndarray, jd: np.ndarray, state, want_errors: bool,
             true: dict[str, np.ndarray] | None = None) -> dict[str, ErrorNow]:
@@ -639,53 +718,84 @@ class _Chunks:
         motion a step times the steps since the chunk's start (made once a run), plus the
         exact reading there less the line, plus the pin-and-slot leads, less the sky's value,
         taken the short way round. The error is that plus the line and ``ref``, wrapped only
-        when the chunk's extremes reach a half turn."""
+        when the chunk's extremes reach a half turn. Every pointer is one row of the same
+        arrays, so each step is one numpy call for all of them; the error is stored (single
+        precision) as it is made, and its sum and sum of squares about the chunk's first
+        expected value are taken on the way (see :class:`_Running`)."""
         sigma = state.delta_t_sigma_s
         self.delta_t_sigma_s = max(self.delta_t_sigma_s, float(np.max(sigma)))
+        size = len(j)
         since = j * self.turns_per_step
-        a, base = self.reader.anchor(jd[0])
+        a, base = self.anchors.get(i0) or self.reader.anchor(jd[0])
         lags = self.reader.lags_turns(a, since)
-        last = i0 + len(j) - 1
+        last = i0 + size - 1
+        x = self.x
+        if self.motion is None or self.motion.shape[1] < size:  # the same every chunk
+            rates = np.array([self.reader.pointers[name][1] for name in self.names])
+            self.motion = j[None, :] * (rates * self.turns_per_step - x)[:, None]
+            self.line = j[None, :] * x[:, None]
+            self.work = np.empty((2, len(self.names), size))
+        v, t = self.work[0, :, :size], self.work[1, :, :size]
+        first = self.ref is None
+        ref = np.zeros(len(x)) if first else self.ref
+        const = np.array([base[name] for name in self.names]) - x * i0 - ref
+        np.add(self.motion[:, :size], const[:, None], out=v)
+        skies = []
+        for p, (name, pointer) in enumerate(self.pointers.items()):
+            sky = true_value(pointer.shows, state) if true is None else true[name]
+            skies.append(sky)
+            row = v[p]
+            row -= sky
+            for sname, w in self.reader.pointers[name][3]:
+                row += w * lags[sname]
+        if first:  # the first date's wrapped value: the unwrapping's centre
+            ref = self.ref = np.array(wrap_deg(v[:, 0]), dtype=float)
+            v -= ref[:, None]
+        # the short way round from ref (the sky's value turns over)
+        np.multiply(v, 1 / 360, out=t)
+        np.rint(t, out=t)
+        t *= 360.0
+        v -= t
+        # the error: v plus the line x k and ref, kappa = ref + x i0 at the chunk's start;
+        # wrapped only where it may pass a half turn
+        kappa = ref + x * i0
+        ends = ref + x * last
+        lo = v.min(axis=1) + np.minimum(kappa, ends)
+        hi = v.max(axis=1) + np.maximum(kappa, ends)
+        bounds = np.maximum(-lo, hi)
+        np.add(self.line[:, :size], v, out=t)  # the error less kappa
+        s1 = t.sum(axis=1)
+        s2 = np.einsum("ij,ij->i", t, t)
+        t += kappa[:, None]  # the error
+        v += ref[:, None]
+        self.resid[:, i0:i0 + size] = v
+        store = self.error[:, i0:i0 + size]
+        store[...] = t
         errors = {}
-        for name, p in self.pointers.items():
-            sky = true_value(p.shows, state) if true is None else true[name]
-            x = self.expected[name]
-            _, rate360, _, weights = self.reader.pointers[name]
-            if len(self.lines.get(name, ())) < len(j):  # the same every chunk: made once
-                self.lines[name] = (j * (rate360 * self.turns_per_step - x), j * x)
-            motion, line = (a[:len(j)] for a in self.lines[name])
-            v = motion + (base[name] - x * i0 - self.ref.get(name, 0.0))
-            v -= sky
-            for sname, w in weights:
-                v += w * lags[sname]
-            if name not in self.ref:  # the first date's wrapped value: the unwrapping's centre
-                ref = self.ref[name] = float(wrap_deg(v[0]))
-                v -= ref
-            ref = self.ref[name]
-            t = v * (1 / 360)  # the short way round from ref (the sky's value turns over)
-            np.rint(t, out=t)
-            t *= 360.0
-            v -= t
-            # the error: v plus the line x k and ref, wrapped only when it may pass a half turn
-            err = line + v
-            err += ref + x * i0
-            c_lo, c_hi = sorted((ref + x * i0, ref + x * last))
-            lo, hi = float(v.min()) + c_lo, float(v.max()) + c_hi
-            bound = max(-lo, hi)
-            if bound >= 179.0:
-                err, bound = wrap_deg(err), None
-            self.runs[name].add(i0, j, err, v, ref, bound)
+        for p, (name, pointer) in enumerate(self.pointers.items()):
+            row, k = t[p], float(kappa[p])
+            if bounds[p] >= 179.0:
+                row[:] = wrap_deg(row)
+                store[p] = row
+                k, bound, lo_p, hi_p = 0.0, None, None, None  # the sums of the wrapped error
+                s1[p], s2[p] = row.sum(), sum_sq(row)
+            else:
+                bound, lo_p, hi_p = float(bounds[p]), float(lo[p]), float(hi[p])
+            self.runs[name].take(i0, size, lambda row=row: row, float(row[-1]), k, float(s1[p]),
+                                 float(s2[p]), lo_p, hi_p, bound)
             if self.train_keep or want_errors:
                 cont = self.reader.continuous_deg(name, base, since, lags)
                 reading = cont - 360.0 * np.floor(cont * (1 / 360))
                 if self.train_keep:
-                    self.train_keep[name][i0:i0 + len(j)] = reading
-                    self.sky_keep[name][i0:i0 + len(j)] = sky
+                    self.train_keep[name][i0:i0 + size] = reading
+                    self.sky_keep[name][i0:i0 + size] = skies[p]
                 if want_errors:
-                    rate = days_rate(p.shows)
-                    days = err / rate if rate else None
-                    errors[name] = ErrorNow(name, p.shows, reading, sky, err, days,
-                                            delta_t_effect_deg(p.shows, sigma, self.frame))
+                    rate = days_rate(pointer.shows)
+                    e = row.copy()  # the work rows are used again next chunk
+                    days = e / rate if rate else None
+                    errors[name] = ErrorNow(name, pointer.shows, reading, skies[p], e, days,
+                                            delta_t_effect_deg(pointer.shows, sigma,
+                                                               self.frame))
         return errors
 
     def summaries(self) -> dict[str, PointerSummary]:
@@ -786,6 +896,7 @@ def drift_series(mech, sky, run: DriftRun, control: RunControl | None = None) ->
     j_full = np.arange(min(size, n), dtype=float)
     sky_s = outside_s = 0.0
     t_start = time.perf_counter()
+    chunks.plan(list(range(0, n, size)))
     for i0 in range(0, n, size):
         if control.cancel is not None and control.cancel():
             raise DriftCancelled(f"drift run stopped after {i0:,} of {n:,} dates")

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import builtins
 import json
+import math
 import re
 from pathlib import Path
 
@@ -115,6 +116,60 @@ def test_chunks_agree_across_the_half_turn(sky):
                       "drift_deg_per_century", "periodic_amplitude_deg"):
             assert getattr(a, field) == pytest.approx(getattr(b, field), rel=1e-6, abs=1e-7)
     assert abs(small.summaries["sun"].best_offset_deg) > 170  # re-set by about a half turn
+
+
+def test_running_sums_give_the_plain_figures(sky):
+    """Guard for the figures a run builds chunk by chunk instead of from the stored series
+    (the RMS from each chunk's sums about its first expected value; the best re-setting, when
+    the bounds keep every error within a half turn of the others, as the errors' mean and
+    their RMS about it): they equal the plain computation on the errors of
+    ``pointer_errors`` at the same dates (float64), and the search over the stored series."""
+    from engine.fitting import best_offset
+
+    mech = open_train(TRAINS / "tide_office.toml", sky)
+    j0 = mech.train.epoch.jd_ut
+    run = DriftRun(j0 - 20 * JULIAN_YEAR_DAYS, j0, "6h")
+    seen: dict[str, list] = {}
+
+    def keep(jd, errors):  # each chunk's errors as made (float64)
+        for n, e in errors.items():
+            seen.setdefault(n, []).append(e.error_deg.copy())
+
+    r = drift_series(mech, sky, run, RunControl(chunk=3001, keep_series=False, on_chunk=keep))
+    now = pointer_errors(mech, sky, r.jd)
+    for name, e in now.items():
+        s, err = r.summaries[name], np.concatenate(seen[name])
+        assert np.abs(err - e.error_deg).max() < 1e-5 * DEG  # the readout's own sums
+        assert float(err.max() - err.min()) < 179  # nothing wraps: the mean is the offset
+        assert s.rms_deg == pytest.approx(float(np.sqrt(np.mean(err ** 2))), rel=1e-12)
+        assert s.best_offset_deg == pytest.approx(float(err.mean()), abs=1e-12 * DEG)
+        assert s.rms_after_reset_deg == pytest.approx(float(err.std()), rel=1e-9)
+        stored = best_offset(r.error_deg[name])  # the search over the stored float32 series
+        assert s.best_offset_deg == pytest.approx(stored[0], abs=1e-6 * DEG)
+        assert s.rms_after_reset_deg == pytest.approx(stored[1], rel=1e-6)
+
+
+def test_running_moments_keep_a_small_spread_beside_a_large_offset():
+    """The chunks' means and squared deviations merge without losing a spread of 1e-4° to a
+    constant 150° (the sums are taken about each chunk's own first value)."""
+    from engine.drift import _Running
+
+    rng = np.random.default_rng(5)
+    err = 150.0 + 1e-4 * rng.normal(size=10_007) + 1e-9 * np.arange(10_007)
+    run = _Running(len(err), 0.0, 1.0, 0.0, None)
+    for i0 in range(0, len(err), 997):
+        chunk = err[i0:i0 + 997]
+        kappa = float(chunk[0]) + 0.5  # any shift near the chunk's values
+        d = chunk - kappa
+        run.error[i0:i0 + len(chunk)] = chunk
+        run.take(i0, len(chunk), lambda c=chunk: c, float(chunk[-1]), kappa, float(d.sum()),
+                 float(d @ d), float(chunk.min()), float(chunk.max()), None)
+    offset, rms = run.reset()
+    assert offset == pytest.approx(float(err.mean()), abs=1e-12)
+    assert rms == pytest.approx(float(err.std()), rel=1e-6)
+    assert math.sqrt(run.sum_sq / len(err)) == pytest.approx(float(np.sqrt(np.mean(err ** 2))),
+                                                             rel=1e-12)
+    assert run.max_abs == float(err.max())
 
 
 def test_series_matches_pointer_errors_scalar_and_array(sky):
