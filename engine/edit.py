@@ -126,6 +126,10 @@ class TrainEditor:
         self.sky = sky
         self.path = None if path is None else Path(path)
         self.where = safe_text(str(where))
+        #: the file began with a byte-order mark, as some editors write: edited without it
+        #: (tomlkit reads none), written back with it
+        self.bom = text.startswith("\ufeff")
+        text = text.removeprefix("\ufeff")
         mech = build(parse_train(text, self.where), sky)
         try:
             doc = tomlkit.parse(text)
@@ -364,7 +368,7 @@ class TrainEditor:
             raise OutputError(f"{path}: {what}; confirm to replace it")
         out = OutputFile(path, option="saving the train", force=True)
         with out.open("w", encoding="utf-8", newline="") as fh:
-            fh.write(self.text)
+            fh.write(("\ufeff" if self.bom else "") + self.text)
         self.path = path
         self.where = safe_text(str(path))
         self.saved_text = self.text

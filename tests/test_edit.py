@@ -248,3 +248,20 @@ def test_edits_in_a_row_write_what_one_edit_of_the_saved_text_writes(tide, sky):
     fresh = TrainEditor(ed._undo[-1].text, str(tide), sky)
     fresh.set_days_per_turn("2")
     assert ed.text == fresh.text and "# " in ed.text
+
+
+def test_a_file_with_a_byte_order_mark_opens_edits_and_keeps_its_mark(sky, tmp_path):
+    """Some editors start a UTF-8 file with a byte-order mark; the loader reads such a file,
+    so the bench must open it too (it refused: 'Empty key at line 1 col 0'), and saving it
+    keeps the mark and the Windows line ends the maker's editor wrote."""
+    path = tmp_path / "bom.toml"
+    text = demo_path("nineteen_year_drum").read_text(encoding="utf-8")
+    path.write_bytes(b"\xef\xbb\xbf" + text.replace("\n", "\r\n").encode("utf-8"))
+    ed = TrainEditor.open(path, sky)
+    assert not ed.differs
+    ed.set_teeth("inter_pinion", "39")
+    assert ed.differs
+    out = ed.save(tmp_path / "bom-edited.toml")
+    raw = out.read_bytes()
+    assert raw.startswith(b"\xef\xbb\xbf") and raw.count(b"\r\n") == text.count("\n")
+    assert load_train(out).wheels["inter_pinion"].teeth == 39
