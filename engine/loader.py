@@ -301,6 +301,29 @@ def _table_depth(doc: dict) -> int:
     return deepest
 
 
+_QUOTED = re.compile(r'"(?:[^"\\]|\\.)*"|\'[^\']*\'')
+_PLAIN_WORDS = re.compile(r"[^\W\d][\w .'-]*$")  # a word or words, as text written bare
+
+
+def _toml_hint(text: str, message: str) -> str:
+    """What to write instead, for the two faults the TOML reader's words leave unclear to a
+    maker: a name with letters TOML allows only in quotes (``[arbors.année]``), and text
+    written without quotes (``name = Nineteen drum``); empty otherwise."""
+    at = re.search(r"at line (\d+)", message)
+    lines = text.splitlines()
+    if not at or not 1 <= int(at[1]) <= len(lines):
+        return ""
+    line = lines[int(at[1]) - 1].split("#", 1)[0].strip()
+    key, _, value = line.partition("=") if not line.startswith("[") else (line, "", "")
+    if any(ord(ch) > 127 for ch in _QUOTED.sub("", line)):  # TOML has them only in quotes
+        return ("; a name with letters other than A-Z, a-z, 0-9, _ and - goes in quotes, "
+                'e.g. [arbors."année"] or "jahresräd" = 127')
+    value = value.strip()
+    if value and _PLAIN_WORDS.match(value) and value not in ("true", "false", "inf", "nan"):
+        return f'; text goes in quotes: {safe_text(key.strip())} = "{safe_text(value[:60])}"'
+    return ""
+
+
 def parse_train(text: str, where: str = "<train>") -> Train:
     """Build a :class:`Train` from TOML text (``where`` names it in errors)."""
     where = safe_text(where)
@@ -315,7 +338,8 @@ def parse_train(text: str, where: str = "<train>") -> Train:
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise TrainError(where, "", f"not valid TOML: {safe_text(str(exc))}") from None
+        raise TrainError(where, "", f"not valid TOML: {safe_text(str(exc))}"
+                         f"{_toml_hint(text, str(exc))}") from None
     except RecursionError:  # cannot happen after the scan above; kept so it never escapes
         raise TrainError(where, "", "nested too deep to read") from None
     if _table_depth(doc) > MAX_DEPTH:

@@ -73,6 +73,12 @@ def test_good_file_loads_with_exact_fraction():
     ('set = "angles"', 'set = "guess"', ["[epoch] set", "sky, mean, angles"]),
     ("set_deg = 0", "", ["[pointers.p]", "needs set_deg"]),
     ("[[meshes]]", "[[meshes]", ["not valid TOML", "line"]),
+    # names outside the letters TOML allows bare, and text without quotes, as makers write
+    # them: the TOML reader's message, then what to write instead
+    ("[arbors.b]", "[arbors.bé]", ["not valid TOML", "line", "in quotes", '[arbors."année"]']),
+    ("a1 = 20", "ä1 = 20", ["not valid TOML", "line", "in quotes"]),
+    ('name = "test"', "name = test train", ["not valid TOML", "line",
+                                             'text goes in quotes: name = "test train"']),
 ])
 def test_each_bad_item_is_named(old, new, words):
     assert old in GOOD
