@@ -520,3 +520,17 @@ def test_ppm_has_one_meaning_in_ratios_and_search(capsys):
     want = (29.5 / 29.530588853 - 1) * 1e6  # about -1035.8
     assert found["period_error_ppm"] == pytest.approx(want, rel=1e-6)
     assert ratios["period_error_ppm"] == pytest.approx(want, rel=1e-4)
+
+
+def test_cli_years_to_a_day_off_read_as_years(capsys, monkeypatch):
+    """The '1 day off' column gives years with their unit, in plain figures like the ratio
+    report's (not 3.09e+03), so a maker can compare it with a lifetime."""
+    from engine.search import make_constraints, make_target, search
+
+    monkeypatch.setenv("COLUMNS", "200")
+    target = make_target(cycle="draconic month", crank_days=1)
+    best = search(target, make_constraints(stages=2), top=3).results[0]
+    assert best.one_day_off_years > 1000
+    assert main(["search", "--cycle", "draconic month", "--stages", "2", "--top", "3"]) == 0
+    out = capsys.readouterr().out
+    assert f"{best.one_day_off_years:,.0f} y" in out and "e+0" not in out

@@ -203,9 +203,10 @@ def _stages_text(r: TrainResult, sep: str = "  ") -> str:
 
 
 def _years(y: float) -> str:
+    """Years until a pointer is a day out, with the unit, in plain figures (never e-notation)."""
     if math.isinf(y):
         return "never (exact)"
-    return f"{y:.3g}"
+    return f"{y:,.0f} y" if y >= 100 else f"{y:.3g} y"
 
 
 def _print(report: SearchReport, console: Console) -> None:
