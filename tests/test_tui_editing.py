@@ -675,3 +675,22 @@ def test_crank_days_read_as_the_file_writes_them():
     assert current_value(editor, ("crank",)) == "365.2422"
     editor.set_days_per_turn("6940/235")
     assert current_value(editor, ("crank",)) == "1388/47"
+
+
+@sync
+async def test_a_change_to_the_train_says_when_it_drops_a_re_set_by_hand(tmp_path):
+    """A train changed (or a change undone) is set as its file says; pointers re-set by hand
+    before lose that setting, and the bench says so once, rather than silently."""
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("up", "up", "r")  # twenty days on, re-set to the sky
+        await pilot.pause()
+        assert app.session.can_undo
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "sun_w1")
+        await type_value(pilot, app, "60")
+        dropped = [n.message for n in app._notifications if "dropped" in n.message]
+        assert len(dropped) == 1 and "file" in dropped[0]
+        await type_value(pilot, app, "61")  # nothing re-set by hand now: no word again
+        assert len([n for n in app._notifications if "dropped" in n.message]) == 1

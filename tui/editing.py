@@ -57,8 +57,13 @@ def title_mark(session) -> tuple[str, str]:
 
 def adopt(app, mech) -> None:
     """Put ``mech`` on the bench at the date shown now; the engine's findings for it are
-    worked out when the bench next shows them, not on every edit."""
+    worked out when the bench next shows them, not on every edit. Its pointers are set as its
+    file says: a re-set made by hand is dropped, and the bench says so."""
+    dropped = app.session.can_undo
     app.session.adopt(mech)
+    if dropped:
+        app.notify("the changed train's pointers are set as its file says: the re-set made "
+                   "by hand is dropped (r re-sets them to the sky again)", timeout=6)
 
 
 #: what a step back or forward through the changes is called on screen
