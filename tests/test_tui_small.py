@@ -128,6 +128,8 @@ def test_the_message_names_what_is_short():
         text = too_small_text(*size).plain
         assert text.startswith(f"terminal too small: {size[0]}×{size[1]}"), text
         assert short in text and "enlarge the window" in text and "ctrl+q quits" in text
+        assert "escape closes this" not in text
+    assert "escape closes this" in too_small_text(70, 20, closes=True).plain
 
 
 @sync

@@ -15,7 +15,7 @@ from rich.text import Text
 from textual import events
 from textual.geometry import Size
 from textual.widget import Widget
-from textual.widgets import Static
+from textual.widgets import Footer, Static
 
 #: the smallest terminal the screens are laid out for (columns, rows); docs/interface.md
 MIN_COLUMNS, MIN_ROWS = 80, 24
@@ -26,8 +26,9 @@ def too_small(columns: int, rows: int) -> bool:
     return columns < MIN_COLUMNS or rows < MIN_ROWS
 
 
-def too_small_text(columns: int, rows: int) -> Text:
-    """What the screen says instead of its widgets, naming the size and what is short."""
+def too_small_text(columns: int, rows: int, closes: bool = False) -> Text:
+    """What the screen says instead of its widgets, naming the size and what is short;
+    ``closes``: the screen (a dialog, help, the palette) has no footer and escape closes it."""
     short = []
     if columns < MIN_COLUMNS:
         short.append(f"{MIN_COLUMNS - columns} more column{'s' * (MIN_COLUMNS - columns > 1)}")
@@ -37,7 +38,8 @@ def too_small_text(columns: int, rows: int) -> Text:
         ("terminal too small: ", "bold"), (f"{columns}×{rows}", "bold"),
         f"\nwheelwork needs at least {MIN_COLUMNS}×{MIN_ROWS} ({', '.join(short)})",
         "\n\nenlarge the window or make the font smaller:\nthe screen comes back as it was",
-        ("\n\nthe keys still work · ctrl+q quits", "dim"))
+        ("\n\nthe keys still work · " + ("escape closes this · " if closes else "")
+         + "ctrl+q quits", "dim"))
 
 
 class TooSmall(Static):
@@ -85,7 +87,8 @@ class SizeGuard:
         small = too_small(columns, rows)
         messages = self.query(TooSmall)
         if small and messages:
-            messages.first().update(too_small_text(columns, rows))
+            messages.first().update(too_small_text(columns, rows,
+                                                   closes=not self.query(Footer)))
         if small == self.is_too_small:
             return
         if small:
