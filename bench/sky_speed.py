@@ -45,7 +45,7 @@ each, with the largest difference per planet (target: 0.01").
                               [--no-6h] [--no-scattered] [--peer-batch N]
 
 A full run (both frames, three sets of dates, 3 rounds, the planets) takes about two minutes
-(107-167 s on a shared 2-core machine, 95-101 s of CPU; it prints its own time at the end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
+(107-175 s on a shared 2-core machine, 95-101 s of CPU; it prints its own time at the end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
 """
 
 from __future__ import annotations
