@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from .checks import ArborCheck, CheckReport, Finding, MeshCheck, PinSlotCheck, check
 from .dates import as_jd, calendar_date, format_jd, parse_date, parse_step
+from .demos import demo_names, demo_path
 from .drawing import cut_parts, layout_sheet, to_dxf, to_svg, tooth_forms
 from .drift import (
     DriftResult,
@@ -90,7 +91,8 @@ from .train import Arbor, Crank, Epoch, Mesh, PinSlot, Pointer, Train, Wheel
 
 __all__ = [
     # trains: load, solve, set
-    "load_train", "parse_train", "Train", "solve", "Kinematics", "LinearAngle", "MeshFrame",
+    "load_train", "parse_train", "demo_path", "demo_names", "Train", "solve", "Kinematics",
+    "LinearAngle", "MeshFrame",
     "Arbor", "Wheel", "Mesh", "PinSlot", "Crank", "Epoch", "Pointer",
     "open_train", "build", "Mechanism", "DEFAULT_TRAIN",
     # turning and reading

@@ -200,7 +200,12 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     Rounded to the minute, or to the second with ``seconds=True``.
     """
     cal = _check_calendar(calendar)
-    check_jd(float(jd))
+    try:
+        jd = float(jd)
+    except (TypeError, ValueError):
+        raise DateError(f"format_jd: wanted a Julian Date (UT) as a number, got "
+                        f"{type(jd).__name__} {jd!r}; parse_date reads date text") from None
+    check_jd(jd)
     step = float(SECONDS_PER_DAY) if seconds else 1440.0
     jd_r = (round((float(jd) + 0.5) * step)) / step - 0.5
     year, month, day, hour, minute, second, name = calendar_date(jd_r, cal)

@@ -13,6 +13,8 @@ from fractions import Fraction
 
 import numpy as np
 
+from .errors import ArgumentError
+
 _NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"  # a plain decimal, exponent allowed
 _FRACTION = re.compile(rf"^\s*([+-]?{_NUM})\s*/\s*({_NUM})\s*$")
 _DECIMAL = re.compile(rf"^\s*[+-]?{_NUM}\s*$")
@@ -134,7 +136,11 @@ class Turns:
         arr = np.asarray(value)
         if arr.dtype.kind in "iu":
             return Turns(arr.astype(np.int64), np.zeros(arr.shape))
-        arr = arr.astype(float)
+        try:
+            arr = arr.astype(float)
+        except (TypeError, ValueError):
+            raise ArgumentError(f"crank turns: wanted a number or an array of numbers, got "
+                                f"{type(value).__name__} {value!r}") from None
         whole = np.floor(arr)
         return Turns(whole.astype(np.int64), arr - whole)
 

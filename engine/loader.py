@@ -245,7 +245,16 @@ def load_train(path: str | Path) -> Train:
     """Read and check a train file. Raises :class:`TrainError` naming file, item and fault."""
     path = Path(path)
     where = safe_text(str(path))
-    raw = _regular_file_bytes(path, where)
+    try:
+        raw = _regular_file_bytes(path, where)
+    except TrainError as exc:
+        from .demos import demo_path  # the commands take a demo's name; Python wants a file
+
+        name = str(path)
+        if exc.problem == "no such file" and path.name == name and demo_path(name):
+            raise TrainError(where, "", f"no such file; {name} is a demo's name: its file is "
+                             f"demo_path({name!r}) (engine.api)") from None
+        raise
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:

@@ -181,6 +181,8 @@ def _bad_calls():
         ("relation_error_ppm of a mean period", lambda: api.relation_error_ppm("venus_synodic")),
         ("kind_key", lambda: api.kind_key("vulcan")),
         ("Kinematics.rate", lambda: tide.kin.rate("vulcan")),
+        ("Readout.read_deg of text", lambda: tide.readout.read_deg("ten")),
+        ("format_jd of text", lambda: api.format_jd("tomorrow")),
         ("Readout.reset_to", lambda: tide.readout.reset_to(0, {"vulcan": 1.0})),
         ("involute_wheel 0 teeth", lambda: api.involute_wheel(0, 0.5)),
         ("involute_wheel module < 0", lambda: api.involute_wheel(30, -1)),
@@ -207,6 +209,20 @@ def test_bad_api_calls_raise_one_line_wheelwork_errors(monkeypatch):
             call()
         text = str(info.value)
         assert text and "\n" not in text and not text.startswith(("'", '"')), (label, text)
+
+
+def test_a_demos_name_given_for_a_file_says_how_to_open_the_demo(monkeypatch, tmp_path):
+    """The commands take a demo's name for a train; from Python the name alone is no file,
+    and the error says how to get the demo's file (which the api offers)."""
+    monkeypatch.chdir(tmp_path)
+    with pytest.raises(api.TrainError) as info:
+        api.open_train("tide_office")
+    assert "demo_path('tide_office')" in str(info.value)
+    assert api.open_train(api.demo_path("tide_office")).train.name == "Tide office dial"
+    assert "tide_office" in api.demo_names()
+    with pytest.raises(api.TrainError) as info:  # not a demo: the plain message
+        api.load_train("tide_offices.toml")
+    assert str(info.value) == "tide_offices.toml: no such file"
 
 
 def test_unknown_names_are_still_key_errors():
