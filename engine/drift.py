@@ -697,7 +697,7 @@ class _Chunks:
         self.ref: np.ndarray | None = None  # each pointer's first wrapped value
         # the sky's mean motion and the expected line at the steps of a chunk, one row a
         # pointer, and two work arrays of that shape: made once a run (see add)
-        self.motion = self.line = self.work = None
+        self.motion = self.work = None
         self.anchors: dict[int, tuple] = {}
         self.delta_t_sigma_s = 0.0  # largest one-sigma ΔT uncertainty met on the grid
 
@@ -730,16 +730,16 @@ class _Chunks:
         lags = self.reader.lags_turns(a, since)
         last = i0 + size - 1
         x = self.x
-        if self.motion is None or self.motion.shape[1] < size:  # the same every chunk
+        if self.work is None or self.work.shape[2] < size:
             rates = np.array([self.reader.pointers[name][1] for name in self.names])
-            self.motion = j[None, :] * (rates * self.turns_per_step - x)[:, None]
-            self.line = j[None, :] * x[:, None]
+            self.motion = (rates * self.turns_per_step - x)[:, None]  # a step, each pointer
             self.work = np.empty((2, len(self.names), size))
         v, t = self.work[0, :, :size], self.work[1, :, :size]
         first = self.ref is None
         ref = np.zeros(len(x)) if first else self.ref
         const = np.array([base[name] for name in self.names]) - x * i0 - ref
-        np.add(self.motion[:, :size], const[:, None], out=v)
+        np.multiply(j[None, :], self.motion, out=v)
+        v += const[:, None]
         skies = []
         for p, (name, pointer) in enumerate(self.pointers.items()):
             sky = true_value(pointer.shows, state) if true is None else true[name]
@@ -763,7 +763,8 @@ class _Chunks:
         lo = v.min(axis=1) + np.minimum(kappa, ends)
         hi = v.max(axis=1) + np.maximum(kappa, ends)
         bounds = np.maximum(-lo, hi)
-        np.add(self.line[:, :size], v, out=t)  # the error less kappa
+        np.multiply(j[None, :], x[:, None], out=t)  # the line
+        t += v  # the error less kappa
         s1 = t.sum(axis=1)
         s2 = np.einsum("ij,ij->i", t, t)
         t += kappa[:, None]  # the error
