@@ -277,7 +277,11 @@ class _GridReader:
         at = iter(at)
         for sname, ps, moving in self.slots:
             angles = []
+            classic = ps.follows == "pin" and not ps.arm_mm  # its lead reads the pin alone
             for _, rate_f, at0, weights in moving:
+                if classic and angles:
+                    next(at)
+                    continue
                 x = rate_f * since
                 x += next(at) + at0
                 for other, w in weights:
@@ -741,13 +745,16 @@ class _Chunks:
         np.multiply(j[None, :], self.motion, out=v)
         v += const[:, None]
         skies = []
+        turned: dict[tuple[str, float], np.ndarray] = {}  # a stage's lead in degrees, once
         for p, (name, pointer) in enumerate(self.pointers.items()):
             sky = true_value(pointer.shows, state) if true is None else true[name]
             skies.append(sky)
             row = v[p]
             row -= sky
             for sname, w in self.reader.pointers[name][3]:
-                row += w * lags[sname]
+                if (sname, w) not in turned:
+                    turned[sname, w] = w * lags[sname]
+                row += turned[sname, w]
         if first:  # the first date's wrapped value: the unwrapping's centre
             ref = self.ref = np.array(wrap_deg(v[:, 0]), dtype=float)
             v -= ref[:, None]
