@@ -380,7 +380,9 @@ class DriftResult:
     ``error_deg`` (float32, wrapped to ±180°) is always kept; ``train_deg`` and ``sky_deg``
     (float32) only with ``RunControl.keep_series`` (else empty dicts); ``error_days`` for phase
     pointers. ``timings`` holds seconds spent in the sky (``sky_s``) and in the rest of the
-    run (``engine_s``: train readings, errors, summaries).
+    run (``engine_s``: train readings, errors, summaries), of which the summaries
+    (``summaries_s``), and of those the drift lines' fits (``fit_s``) and the swings' searches
+    (``swing_s``); ``callbacks_s`` (progress, on_chunk) and ``total_s``.
     """
 
     jd: np.ndarray
@@ -513,20 +515,27 @@ class _Running:
         return best_offset(self.error)
 
     def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
-                step_note: str | None = None) -> PointerSummary:
+                step_note: str | None = None, clock: dict[str, float] | None = None
+                ) -> PointerSummary:
         """The pointer's figures. ``step_note``: the step cannot follow what the pointer shows
         (:func:`step_note`), so no swing is sought (it would be an alias) and the drift is
-        uncertain."""
+        uncertain. ``clock``: seconds spent fitting the line (``fit_s``) and seeking the
+        swing (``swing_s``) are added to it."""
         n = self.n
         terms = sky_terms(shows) if terms is None else tuple(terms)
+        t0 = time.perf_counter()
         fit = fit_drift(self.resid, self.step, terms, cache=cache,
                         all_terms=() if cache is None else cache.get("terms", ()))
+        t1 = time.perf_counter()
         drift = (self.expected_per_step + fit.slope_per_step) / self.step * JULIAN_CENTURY_DAYS
         sigma = fit.sigma_per_step / self.step * JULIAN_CENTURY_DAYS
         if step_note:
             amp, period = float("nan"), None
         else:
             amp, period = periodic_part(self.resid, self.step, line=fit.line, binned=fit.binned)
+        if clock is not None:
+            clock["fit_s"] = clock.get("fit_s", 0.0) + t1 - t0
+            clock["swing_s"] = clock.get("swing_s", 0.0) + time.perf_counter() - t1
         span = (n - 1) * self.step
         # a swing too small to print cannot tilt the line by much
         short = period is not None and span < 2.0 * period and amp >= 5e-5
@@ -704,6 +713,7 @@ class _Chunks:
         self.motion = self.work = None
         self.anchors: dict[int, tuple] = {}
         self.delta_t_sigma_s = 0.0  # largest one-sigma ΔT uncertainty met on the grid
+        self.clock: dict[str, float] = {}  # seconds of the summaries' fits and swing searches
 
     def plan(self, starts: list[int]) -> None:
         """Read the train exactly at the first date of each chunk (grid indices ``starts``)
@@ -811,10 +821,12 @@ class _Chunks:
         terms = {name: sky_terms(p.shows, self.frame) for name, p in self.pointers.items()}
         cache: dict = {"terms": tuple({t for ts in terms.values() for t in ts})}
         out = {}
+        self.clock = {"fit_s": 0.0, "swing_s": 0.0}
         for name, p in self.pointers.items():
             s = self.runs[name].summary(
                 name, p.shows, terms[name], cache,
-                step_note(name, self.step, self.motions(name, p.shows, terms[name])))
+                step_note(name, self.step, self.motions(name, p.shows, terms[name])),
+                self.clock)
             effect = float(delta_t_effect_deg(p.shows, self.delta_t_sigma_s, self.frame))
             out[name] = replace(s, delta_t_effect_deg=effect,
                                 within_delta_t=bool(s.max_abs_deg <= effect))
@@ -930,5 +942,5 @@ def drift_series(mech, sky, run: DriftRun, control: RunControl | None = None) ->
     total = time.perf_counter() - t_start
     return chunks.result(summaries, getattr(sky, "name", ""),
                          {"sky_s": sky_s, "engine_s": total - sky_s - outside_s,
-                          "summaries_s": summaries_s, "callbacks_s": outside_s,
-                          "total_s": total})
+                          "summaries_s": summaries_s, **chunks.clock,
+                          "callbacks_s": outside_s, "total_s": total})

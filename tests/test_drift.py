@@ -775,3 +775,14 @@ def test_a_lunation_step_reports_no_alias_swing(sky):
 
     periods = dict(sky_terms("phase"))
     assert all(periods[t] >= 2 * 29.5 for t in s.drift_terms)
+
+
+def test_timings_name_the_parts_of_the_engines_time(sky):
+    """The bench reads the engine's parts from ``DriftResult.timings``: the summaries' fits and
+    swing searches lie inside the summaries' time, which lies inside the engine's."""
+    mech = open_train(TRAINS / "tide_office.toml", sky)
+    j0 = mech.train.epoch.jd_ut
+    t = drift_series(mech, sky, DriftRun(j0, j0 + 400, "6h"), RunControl(keep_series=False)).timings
+    assert {"sky_s", "engine_s", "summaries_s", "fit_s", "swing_s", "total_s"} <= set(t)
+    assert 0 < t["fit_s"] and 0 < t["swing_s"]
+    assert t["fit_s"] + t["swing_s"] <= t["summaries_s"] <= t["engine_s"] <= t["total_s"]
