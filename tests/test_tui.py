@@ -1058,6 +1058,30 @@ async def test_sky_dial_marks_each_planet_and_keys_them():
         assert CAUTION in text_of(app.screen.query_one("#caution"))
 
 
+@sync
+async def test_textual_own_searches_open_our_guarded_palette():
+    # The palette's "Theme" command (Textual's search_themes) and search_commands open a
+    # palette of their own; a plain CommandPalette crashed on a PageDown typed before its
+    # list was laid out (found by the key storm). Ours, keys typed at once, no crash.
+    from textual.app import App
+    from textual.command import CommandPalette
+
+    from tui.app import Palette
+    assert "search_themes" in vars(App) and "search_commands" in vars(App)
+    app = make_app()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        for open_it in (app.search_themes,
+                        lambda: app.search_commands([("a command", lambda: None)])):
+            open_it()
+            await pilot.press("pagedown", "pageup", "pagedown")
+            await pilot.pause()
+            assert isinstance(app.screen, Palette), type(app.screen)
+            await pilot.press("escape")
+            await pilot.pause()
+            assert not CommandPalette.is_open(app)
+
+
 def test_palette_private_methods_still_there():
     """tui/app.py's Palette overrides private methods of Textual's command palette
     (PALETTE_INTERNALS); if a release drops or renames one, the override would silently do

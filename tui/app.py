@@ -10,8 +10,9 @@ from pathlib import Path
 from textual import events, on
 from textual.app import App, SystemCommand
 from textual.await_complete import AwaitComplete
-from textual.command import CommandList, CommandPalette
+from textual.command import CommandList, CommandPalette, SimpleProvider
 from textual.screen import Screen
+from textual.theme import ThemeProvider
 from textual.widgets import Button, Input, OptionList
 
 from engine.edit import TrainEditor
@@ -55,10 +56,10 @@ class Palette(ClosesOnce, SizeGuard, CommandPalette):
 
     _ids = count(1)
 
-    def __init__(self):
+    def __init__(self, **kwargs):
         # each its own id: a palette opened while the last one is still being removed
         # must not clash with it
-        super().__init__(id=f"palette-{next(self._ids)}")
+        super().__init__(id=f"palette-{next(self._ids)}", **kwargs)
 
     @on(Input.Submitted)
     @on(Input.Changed)
@@ -141,6 +142,16 @@ class WheelworkApp(App):
     def action_command_palette(self) -> None:
         if self.use_command_palette and not CommandPalette.is_open(self):
             self.push_screen(Palette())
+
+    # Textual's own searches (the palette's "Theme" command among them) open a plain
+    # CommandPalette, which a PageDown typed before its list is laid out crashes: ours
+    # instead, with the same lists.
+    def search_commands(self, commands, placeholder: str = "Search for commands…"):
+        return self.push_screen(Palette(providers=[SimpleProvider(self.screen, commands)],
+                                        placeholder=placeholder))
+
+    def search_themes(self) -> None:
+        self.push_screen(Palette(providers=[ThemeProvider], placeholder="Search for themes…"))
 
     def get_system_commands(self, screen: Screen):
         yield from super().get_system_commands(screen)
