@@ -154,6 +154,9 @@ async def test_date_dialog_reports_errors_inside_and_jumps():
             await pilot.pause()
             assert isinstance(app.screen, DateDialog)
             assert words in text_of(app.screen.query_one("#date-error"))
+        # a date outside DE421 says how to reach it: a longer ephemeris (de406 is installed
+        # with the README's extras), as the commands say
+        assert "--ephemeris de406" in text_of(app.screen.query_one("#date-error"))
         app.screen.query_one("#date-input").value = "2040-06-21 12:00"
         await pilot.press("enter")
         await pilot.pause()

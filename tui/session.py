@@ -281,7 +281,8 @@ class Session:
         lo, hi = self.sky.span_jd
         if not (np.isfinite(jd) and lo <= jd <= hi):
             raise SkyError(f"{format_jd(jd) if np.isfinite(jd) else jd} is outside the "
-                           f"ephemeris {self.sky.name} ({self.sky.span_text})")
+                           f"ephemeris {self.sky.name} ({self.sky.span_text}); "
+                           f"{self.sky.longer_hint} (give it when opening the bench)")
 
     def crank(self, n: Fraction | int | float) -> None:
         """Turn the crank ``n`` turns (negative: backwards). Refuses to leave the ephemeris."""
