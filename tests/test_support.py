@@ -253,29 +253,67 @@ def test_a_large_csv_is_announced_with_its_size(tmp_path, capsys, monkeypatch):
 def test_a_word_in_the_legend_does_not_vouch_for_a_broken_cell(capsys, monkeypatch):
     """At 80 columns the check's mesh table once broke "frame" into "fr/am/e" in its narrow
     "held by" column while the same word stood whole in the legend below: a legend's words
-    must not vouch for a cell. The table becomes a list then, every cell whole."""
+    must not vouch for a cell. The table is split in narrower ones then, every cell whole."""
     import re
 
     monkeypatch.setenv("COLUMNS", "80")
     assert main(["check", "lunation_board"]) == 0
     out = capsys.readouterr().out
     assert not re.search(r"(?m)\s(fr|he)\s*$", out)
-    assert "held by: frame" in out  # the list layout
+    assert re.search(r"(?m)^ 1  month_sun_pinion .* frame ", out)  # "frame" whole in its row
     assert "held by: the frame or carrier" in out  # and the legend kept
+
+
+def test_a_wide_table_is_split_in_narrower_ones_repeating_its_keys(capsys, monkeypatch):
+    """At 80 columns the check's ten mesh columns do not fit: two tables, each naming the
+    mesh (# and its wheels), every figure whole, every line within 80 columns; not a list of
+    ten lines a mesh (265 lines for the tide office's 12 meshes and 14 arbors before)."""
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["check", "tide_office"]) == 0
+    out = capsys.readouterr().out
+    assert max(len(line.rstrip()) for line in out.splitlines()) <= 80
+    meshes = out.split("\nmeshes\n")[1].split("\narbors\n")[0]
+    heads = [line.split() for line in meshes.splitlines() if line.startswith("  #  wheels")]
+    assert len(heads) == 2  # two parts, each headed by the keys
+    assert "ratio" in heads[0] and "force" in heads[1] and "ratio" not in heads[1]
+    assert " 7  node_p2 " in meshes.split("force N")[1]  # a row named again in the second
+    assert "237,524" in meshes and "-37/132" in meshes  # its figures whole
+    assert ": " not in meshes.split("d: pitch")[0]  # no "header: value" list
+    assert len(out.splitlines()) < 160
+    # A table that fits is one table; a column that fits beside no keys makes a list.
+    import io
+
+    from rich.console import Console
+
+    from engine.commands import support
+    table = support.plain_table(title="t")
+    for name in ("key", "a", "b"):
+        table.add_column(name)
+    table.add_row("k1", "x" * 30, "y" * 30)
+    for width, layout in ((80, "table"), (45, "two tables"), (30, "list")):
+        console = Console(width=width, file=io.StringIO(), color_system=None)
+        support.print_table(console, table)
+        text = console.file.getvalue()
+        assert text.count("key") == {"table": 1, "two tables": 2, "list": 1}[layout]
+        assert ("   a: " in text) == (layout == "list"), (width, text)
+        assert ("x" * 30 in text) and ("y" * 30 in text)
 
 
 def test_squeezed_columns_become_a_list(capsys, monkeypatch):
     """At 60 columns the search's convergents once stacked the words of their reasons line
     under line in a narrow last column, every word whole but hard to read: rows that take more
-    than two lines on average are a list instead (as at 80 columns, where they wrap once, they
-    stay a table)."""
+    than two lines on average are not a table (at 60 columns, two narrower tables; at 80
+    columns, where they wrap once, one table)."""
+    import re
+
     argv = ["search", "--cycle", "synodic month", "--stages", "2"]
     monkeypatch.setenv("COLUMNS", "60")
     assert main(argv) == 0
     out = capsys.readouterr().out
     conv = out.split("convergents of the target")[1]
-    assert "ratio 15/443" in conv and "   admitted: no" in conv
-    assert "train or reason: no allowed driven count has the prime" in conv
+    # split in two narrower tables, the ratio naming each row in both: a reason on one line
+    assert re.search(r"15/443 +no allowed driven count has the prime 443", conv)
+    assert re.search(r"15/443 +443/15 +\+92\.94 +no", conv)
     monkeypatch.setenv("COLUMNS", "80")
     assert main(argv) == 0
     conv = capsys.readouterr().out.split("convergents of the target")[1]

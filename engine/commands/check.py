@@ -101,7 +101,8 @@ def _print(report: CheckReport, console: Console) -> None:
     console.print(Text.assemble((report.train, "bold"), f" — mechanical check at up to "
                                 f"{report.crank_rpm:g} rpm on '{report.crank_arbor}', "
                                 f"{report.efficiency:g} per stage"))
-    # Every column, always: when the table is wider than the console it becomes a list.
+    # Every column, always: when the table is wider than the console it is split in narrower
+    # tables (or, failing that, becomes a list).
     meshes = support.plain_table(
         title="meshes", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
         caption="d: pitch diameters m·z; a: centre distance; held by: the frame or carrier "
@@ -121,7 +122,7 @@ def _print(report: CheckReport, console: Console) -> None:
                ratio_text(m.ratio) + (" up" if m.step_up else ""),
                _opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
         meshes.add_row(*row)
-    support.print_table(console, meshes)
+    support.print_table(console, meshes, keys=2)  # a mesh is named by # and its wheels
     arbors = support.plain_table(
         title="arbors", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
         caption="turns per crank turn (exact) and per year, relative to the frame; torque: "

@@ -14,9 +14,10 @@ A command module (``engine/commands/NAME.py``) provides ``add_arguments(parser)`
   ``--emit``...): regular files or new names only, never the input, mode kept, ``--force`` to
   replace, written whole to a hidden part file and renamed; the part file is removed on every
   way out (error, Ctrl-C, SIGTERM, SIGHUP).
-- :func:`print_table`: a table whose every cell is shown whole, or the same rows as a list when
-  the table is wider than the console or its squeezed cells would stack their words line under
-  line; numbers are never cut.
+- :func:`print_table`: a table whose every cell is shown whole; when it is wider than the
+  console or its squeezed cells would stack their words line under line, up to three narrower
+  tables of its columns, each repeating the columns that name a row, or else the same rows as
+  a list; numbers are never cut.
 - :data:`SUN_CAUTION`: the one solar caution.
 """
 
@@ -516,6 +517,42 @@ def _fits(console, table) -> bool:
 #: a table whose rows take more lines than this on average, their cells wrapped in narrow
 #: columns, is printed as a list instead
 MOST_LINES_A_ROW = 2
+#: a table too wide for the console is printed as at most this many narrower tables (more
+#: would scatter a row's figures too far apart: a list keeps them together)
+MOST_PARTS = 3
+
+
+def _column_parts(console, table, keys: int) -> list | None:
+    """``table``'s columns as narrower tables, each the first ``keys`` columns and as many of
+    the next ones, in order, as fit (see :func:`_fits`), without title or caption; None when a
+    column does not fit even beside the keys alone, or it would take more than
+    :data:`MOST_PARTS` tables."""
+    import copy
+    import dataclasses
+
+    def part(indices):
+        t = copy.copy(table)
+        t.title = t.caption = None
+        t.columns = [dataclasses.replace(table.columns[i], _index=j,
+                                         _cells=list(table.columns[i].cells))
+                     for j, i in enumerate(indices)]
+        return t
+
+    if not 0 < keys < len(table.columns) - 1:
+        return None
+    parts, current = [], list(range(keys))
+    for i in range(keys, len(table.columns)):
+        if _fits(console, part(current + [i])):
+            current.append(i)
+            continue
+        if len(current) == keys:  # not even beside the keys alone
+            return None
+        parts.append(current)
+        current = list(range(keys)) + [i]
+        if not _fits(console, part(current)):
+            return None
+    parts.append(current)
+    return [part(p) for p in parts] if len(parts) <= MOST_PARTS else None
 
 
 def _body_lines(probe, table, text: str) -> int:
@@ -533,18 +570,30 @@ def _body_lines(probe, table, text: str) -> int:
     return len(text.splitlines()) - len(cap.get().splitlines())
 
 
-def print_table(console, table) -> None:
+def print_table(console, table, keys: int = 1) -> None:
     """Print ``table`` with every cell whole: as a table when every word of every cell fits
     whole at the console's width (cells may wrap between words, if the rows then take no more
-    than :data:`MOST_LINES_A_ROW` lines on average), otherwise the same rows as a list
-    (``header: value``), one block per row. Nothing is cut, and the table's title and caption
-    (its legend) are kept."""
+    than :data:`MOST_LINES_A_ROW` lines on average); else as up to :data:`MOST_PARTS` narrower
+    tables of its columns in order, each repeating the first ``keys`` columns (what names a
+    row), when each fits so; otherwise the same rows as a list (``header: value``), one block
+    per row. Nothing is cut, and the table's title and caption (its legend) are kept."""
     from rich.text import Text
 
     for col in table.columns:  # should a column ever wrap, fold it: never an ellipsis
         col.overflow = "fold"
     if _fits(console, table):
         console.print(table, crop=False)
+        return
+    parts = _column_parts(console, table, keys)
+    if parts is not None:
+        if table.title:
+            console.print(Text(_cell_text(table.title), style="bold"), overflow="fold")
+        for i, part in enumerate(parts):
+            if i:
+                console.print()
+            console.print(part, crop=False)
+        if table.caption:
+            console.print(Text(_cell_text(table.caption), style="dim"), overflow="fold")
         return
     if table.title:
         console.print(Text(_cell_text(table.title), style="bold"), overflow="fold")
