@@ -357,7 +357,9 @@ def periodic_part(resid: np.ndarray, step_days: float, *, line: tuple[float, flo
     cycles_per_step = f / m
     if not 0 < cycles_per_step < 0.5:
         return 0.0, None
-    full = y - (np.float32(a) + np.float32(b) * _index32(n))
+    full = np.multiply(_index32(n), np.float32(b))  # y less the line, in one array
+    full += np.float32(a)
+    np.subtract(y, full, out=full)
     amp = _sinusoid_amplitude(full, 2 * np.pi * cycles_per_step)
     return amp, step_days / cycles_per_step
 
