@@ -11,7 +11,10 @@ Long series are averaged in bins of ``m`` grid steps (``FFT_MAX_POINTS`` bins at
 the fits: a bin's mean of a line or of a sinusoid is the line, or the sinusoid times a
 constant, at the bin's centre, so the fits on the bins are exact for both. The bins are evenly
 spaced, so the fit's normal matrix comes from geometric sums in closed form, not from summing
-products of its columns.
+products of its columns, and the columns' sums against the bins and the fitted sinusoids are
+made a block at a time from one table of phases and each block's turn, with no array of a
+column (the columns are written out only where the closed form declines, for frequencies
+less than about a third of a cycle over the span apart).
 
 Every sum over a long array is an elementwise or ``einsum`` reduction, never a BLAS call
 (``np.dot``, ``@``, ``lstsq``): BLAS may split a long product over threads, and its idle
@@ -198,6 +201,90 @@ def _gram(c: np.ndarray, mid: float, half: float, ws: tuple[float, ...]) -> np.n
     return g
 
 
+def _normal(b: _Binned, ws: tuple[float, ...], all_ws: tuple[float, ...], cache: dict | None):
+    """The inverse normal matrix of the columns [1, u, cos(w c), sin(w c)...] of ``ws`` among
+    those of ``all_ws`` (their closed form, :func:`_gram`, made once a run with ``cache``),
+    their rows in it, and the centre and half-width of the span; ``None`` when the closed
+    form declines (then :func:`_design` sums the products)."""
+    key = ("normal", len(b.y), b.m, all_ws)
+    if cache is not None and key in cache:
+        g, mid, half = cache[key]
+    else:
+        mid, half = (b.c[0] + b.c[-1]) / 2.0, max((b.c[-1] - b.c[0]) / 2.0, 1.0)
+        g = _gram(b.c, mid, half, all_ws)
+        if cache is not None:
+            cache[key] = (g, mid, half)
+    if g is None:
+        return None
+    idx = [0, 1]
+    for w in ws:
+        i = all_ws.index(w)
+        idx += [2 + 2 * i, 3 + 2 * i]
+    return idx, np.linalg.inv(g[np.ix_(idx, idx)]), mid, half
+
+
+def _blocks(y: np.ndarray, block: int) -> tuple[np.ndarray, np.ndarray]:
+    """``y`` as whole blocks of ``block`` values (rows) and the part block left."""
+    whole = len(y) // block
+    return y[:whole * block].reshape(whole, block), y[whole * block:]
+
+
+def _phase_tables(c: np.ndarray, w: float, block: int) -> tuple[np.ndarray, np.ndarray]:
+    """``exp(i w c)`` on the evenly spaced ``c`` as a table of ``block`` phases and each
+    block's turn (the factors :func:`_phasor` multiplies)."""
+    n = len(c)
+    dc = float(c[1] - c[0]) if n > 1 else 1.0
+    nb = -(-n // block)
+    return (np.exp(1j * w * (c[0] + dc * np.arange(block))),
+            np.exp(1j * w * dc * block * np.arange(nb)))
+
+
+def _sums_against(y: np.ndarray, tab: np.ndarray, start: np.ndarray, block: int) -> complex:
+    """``sum y exp(i w c)`` from the tables of :func:`_phase_tables`: each block's sums
+    against the table's cosines and sines, turned by the block's phase."""
+    rows, tail = _blocks(y, block)
+    zc = np.einsum("ij,j->i", rows, tab.real)
+    zs = np.einsum("ij,j->i", rows, tab.imag)
+    if len(tail):
+        zc = np.append(zc, np.einsum("j,j->", tail, tab.real[:len(tail)]))
+        zs = np.append(zs, np.einsum("j,j->", tail, tab.imag[:len(tail)]))
+    z = zc + 1j * zs
+    return complex(np.einsum("i,i->", start[:len(z)], z))
+
+
+def _fit_by_blocks(b: _Binned, ws: tuple[float, ...], idx, g_inv, mid: float, half: float,
+                   block: int = 1024) -> tuple[np.ndarray, np.ndarray]:
+    """The joint fit's coefficients (in the order of ``idx``: 1, u, then cos and sin of each
+    of ``ws``) and its residual on the bins, without the design: each column's sum against
+    the bins and the fitted sinusoids are made a block at a time from a table of phases and
+    each block's turn (:func:`_phase_tables`), on the bins alone (no array of a column)."""
+    y = b.y
+    u = (b.c - mid) / half
+    tables = [_phase_tables(b.c, w, block) for w in ws]
+    xty = [float(y.sum()), float(np.einsum("i,i->", u, y))]
+    for tab, start in tables:
+        z = _sums_against(y, tab, start, block)
+        xty += [z.real, z.imag]
+    coef = g_inv @ np.array(xty)  # small: terms × terms
+    res = y - (coef[0] + coef[1] * u)
+    if tables:
+        rows, tail = _blocks(res, block)
+        # p cos + q sin = Re((p - i q) exp(i w c)), a block at a time: each block's turn
+        # times the coefficient, by the table
+        turns = np.array([(coef[2 + 2 * k] - 1j * coef[3 + 2 * k]) * start
+                          for k, (_, start) in enumerate(tables)])  # terms × blocks
+        tab = np.array([t for t, _ in tables])  # terms × block
+        if len(rows):
+            m = len(rows)
+            rows -= np.einsum("kb,kj->bj", turns[:, :m].real, tab.real)
+            rows += np.einsum("kb,kj->bj", turns[:, :m].imag, tab.imag)
+        if len(tail):
+            t = len(tail)
+            tail -= np.einsum("k,kj->j", turns[:, -1].real, tab[:, :t].real)
+            tail += np.einsum("k,kj->j", turns[:, -1].imag, tab[:, :t].imag)
+    return coef, res
+
+
 def _design(b: _Binned, ws: tuple[float, ...], all_ws: tuple[float, ...], cache: dict | None):
     """The design [1, u, cos(w c), sin(w c)...] on the bins (u the centred, scaled index) for
     the frequencies ``all_ws``, one row a column (its terms × bins), and its normal matrix
@@ -274,12 +361,17 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
         return LineFit((float(b.y[0]) if nd else 0.0, 0.0), 0.0, float("nan"), (), tuple(left),
                         b)
     all_ws = sorted({*ws, *(2 * np.pi * step_days / p for _, p in all_terms if fits(p))})
-    x, idx, g_inv, mid, half = _design(b, tuple(ws), tuple(all_ws), cache)
-    x = x[:max(idx) + 1]  # the rows in use and those between them
-    coef = np.zeros(len(x))
-    coef[idx] = g_inv @ np.einsum("ik,k->i", x, b.y)[idx]  # small: terms × terms
-    res = b.y - np.einsum("ik,i->k", x, coef)
-    coef = coef[idx]
+    normal = _normal(b, tuple(ws), tuple(all_ws), cache)
+    if normal is not None:
+        idx, g_inv, mid, half = normal
+        coef, res = _fit_by_blocks(b, tuple(ws), idx, g_inv, mid, half)
+    else:  # near-equal frequencies: the design's columns and their summed products
+        x, idx, g_inv, mid, half = _design(b, tuple(ws), tuple(all_ws), cache)
+        x = x[:max(idx) + 1]  # the rows in use and those between them
+        coef = np.zeros(len(x))
+        coef[idx] = g_inv @ np.einsum("ik,k->i", x, b.y)[idx]  # small: terms × terms
+        res = b.y - np.einsum("ik,i->k", x, coef)
+        coef = coef[idx]
     rss = sum_sq(res)
     changes = int(np.count_nonzero(np.signbit(res[1:]) != np.signbit(res[:-1])))
     dof = max(min(changes + 1, nd) - ncol, 1)

@@ -159,3 +159,42 @@ def test_a_curve_is_not_a_swing():
     assert not s.drift_uncertain
     a, p = periodic_part(np.ones(10), 1.0)
     assert p is None and np.isnan(a)
+
+
+@pytest.mark.parametrize("periods", [(27.55, 31.81, 14.77, 205.9, 365.26),  # closed form
+                                     (365.26, 365.2, 27.55)])  # near-equal: summed products
+def test_joint_fit_equals_the_plain_least_squares_on_the_bins(periods):
+    """Guard for the fit's quick paths (the normal matrix in closed form, the columns' sums and
+    the fitted sinusoids made a block at a time from a table of phases, never an array of a
+    column): the line, the slope's standard error and the residual's sign changes equal the
+    plain least squares (numpy's lstsq on the design written out with cos and sin) on the same
+    bins, over a series long enough to be binned and not a whole number of blocks."""
+    from engine.fitting import _binned
+
+    rng = np.random.default_rng(11)
+    n, step = 100_003, 0.25
+    k = np.arange(n, dtype=float)
+    y = 3.0 - 2e-6 * k + rng.normal(0, 0.02, n)
+    for p in periods[:3]:
+        y += rng.uniform(0.1, 1.0) * np.sin(2 * np.pi * k * step / p + rng.uniform(0, 6))
+    y = y.astype(np.float32)
+    terms = tuple((f"t{i}", p) for i, p in enumerate(periods))
+    fit = fit_line_and_sinusoids(y, step, terms)
+    assert fit.used == tuple(name for name, _ in terms)
+    b = _binned(y)
+    mid, half = (b.c[0] + b.c[-1]) / 2, (b.c[-1] - b.c[0]) / 2
+    cols = [np.ones_like(b.c), (b.c - mid) / half]
+    for p in periods:
+        w = 2 * np.pi * step / p
+        cols += [np.cos(w * b.c), np.sin(w * b.c)]
+    x = np.array(cols).T
+    coef, *_ = np.linalg.lstsq(x, b.y, rcond=None)
+    res = b.y - x @ coef
+    slope = coef[1] / half
+    assert fit.slope_per_step == pytest.approx(slope, rel=1e-9, abs=1e-15)
+    assert fit.line[0] == pytest.approx(coef[0] - slope * mid, rel=1e-9)
+    changes = int(np.count_nonzero(np.signbit(res[1:]) != np.signbit(res[:-1])))
+    dof = max(min(changes + 1, len(b.y)) - x.shape[1], 1)
+    var_u = np.linalg.inv(x.T @ x)[1, 1]
+    sigma = np.sqrt(float(res @ res) * var_u / dof) / half
+    assert fit.sigma_per_step == pytest.approx(sigma, rel=1e-6)
