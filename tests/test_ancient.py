@@ -153,3 +153,18 @@ def test_eclipse_times_in_antiquity_say_how_far_delta_t_leaves_them_uncertain(ca
     assert json.loads(capsys.readouterr().out)["delta_t_sigma_s"] == pytest.approx(462, abs=2)
     assert main(["eclipses", "eclipse_board", "--from", "2024-01-01", "--years", "1"]) == 0
     assert "ΔT" not in capsys.readouterr().out
+
+
+def test_a_chart_before_ad_1_names_its_years_bc(tmp_path, capsys):
+    """The chart's axis counts years astronomically (0 = 1 BC, -149 = 150 BC); a chart of an
+    ancient span says so, and its title gives the BC year beside each signed date."""
+    pytest.importorskip("matplotlib")
+    from engine.cli import main
+
+    chart = tmp_path / "bc.svg"
+    assert main(["drift", "lunation_board", "--years", "2", "--png", str(chart)]) == 0
+    text = chart.read_text(encoding="utf-8")
+    assert "-0149-04-10 (150 BC)" in text and "0 = 1 BC" in text
+    modern = tmp_path / "now.svg"
+    assert main(["drift", "moon_disc_59", "--years", "1", "--png", str(modern)]) == 0
+    assert " BC" not in modern.read_text(encoding="utf-8")

@@ -235,6 +235,15 @@ def _year(jd):
     return decimal_year(jd)
 
 
+def chart_day(jd: float) -> str:
+    """A chart's date: the day, and for a year before AD 1 its BC year beside the signed one
+    (``-0149-04-10 (150 BC)``)."""
+    from ..dates import format_day, format_jd
+
+    _, _, bc = format_jd(jd).partition(" = ")
+    return f"{format_day(jd)} ({bc})" if bc else format_day(jd)
+
+
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
@@ -268,7 +277,8 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
             sec = ax.secondary_yaxis("right", functions=(lambda d, g=g: d / g,
                                                          lambda d, g=g: d * g))
             sec.set_ylabel("days")
-    axes[-1, 0].set_xlabel("year")
+    axes[-1, 0].set_xlabel("year" if float(x[0]) >= 1 else
+                           "year (astronomical numbering: 0 = 1 BC, −149 = 150 BC)")
     fig.suptitle(title, fontsize=10)
     # the chart sets the train against the true Sun: the caution goes with it, under the plots
     fig.text(0.5, 0.06 / height_in, SUN_CAUTION, ha="center", va="bottom", fontsize=8,
@@ -420,7 +430,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from ..dates import format_day, parse_step
+    from ..dates import parse_step
     from ..drift import DriftError, DriftRun, RunControl, drift_series, grid
     from ..kinds import days_rate
     from ..sky import Site
@@ -478,7 +488,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         if ctrl_c.cancelled():
             raise KeyboardInterrupt
         title = (f"{mech.train.name}: pointer error against {sky.name}, "
-                 f"{format_day(start)} to {format_day(result.jd[-1])}")
+                 f"{chart_day(start)} to {chart_day(result.jd[-1])}")
         if png_out:
             write_chart(result, png_out, title)
         if ctrl_c.cancelled():
