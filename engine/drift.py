@@ -61,7 +61,8 @@ without exact integer work at every date (the exact readings at every chunk's fi
 made at once when the run starts). Every pointer is a row of the same arrays, so each step of
 a chunk is one numpy call for all of them. The sky's true values are read (its derived fields
 are worked out then) inside the time counted as the sky's; ``bench/drift_speed.py`` prints the
-engine's share of it (219,000 six-hour dates, the tide office dial).
+engine's share of it and its parts (219,000 six-hour dates, the tide office dial; see the
+speed section of ``docs/drift.md``).
 """
 
 from __future__ import annotations
