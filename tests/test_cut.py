@@ -352,3 +352,18 @@ def test_a_train_without_modules_has_nothing_to_cut(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "no mesh has a module_mm" in err and len(err.strip().splitlines()) == 1
     assert not out.exists() or not list(out.iterdir())
+
+
+def test_cut_into_a_new_folder_in_the_demo_folder_makes_nothing(capsys):
+    """--out a new folder inside the package's demo folder is refused before the folder is
+    made (it was made, then every file refused, leaving an empty folder among the demos)."""
+    inside = DEMO.parent / "cut-here" / "deeper"
+    try:
+        assert main(["cut", str(SMALL), "--out", str(inside)]) == 1
+        err = capsys.readouterr().err
+        assert "demo folder" in err and err.count("\n") == 1
+        assert not (DEMO.parent / "cut-here").exists()
+    finally:
+        for leftover in (inside, inside.parent):
+            if leftover.is_dir():
+                leftover.rmdir()

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -116,6 +117,11 @@ def _make_folder(folder: Path) -> None:
         raise OutputError(f"{folder}: is a broken symbolic link, not a folder")
     if folder.exists() and not folder.is_dir():
         raise OutputError(f"{folder}: is not a folder; --out names the folder to write into")
+    demos = support._demo_folder()  # refused before a folder is made there, not after
+    if demos is not None and (os.path.realpath(folder) + os.sep).startswith(demos):
+        raise OutputError(f"{folder}: is in wheelwork's own demo folder; --out writes "
+                          "elsewhere (the demos ship with the package: copy one out to "
+                          "change it)")
     if not folder.exists():
         try:
             folder.mkdir(parents=True)
