@@ -53,6 +53,7 @@ def _jd_of_year(year: int, calendar: str) -> float:
 JD_MIN = _jd_of_year(-YEAR_LIMIT, "julian")          # -999999-01-01 00:00 (Julian)
 JD_MAX = _jd_of_year(YEAR_LIMIT + 1, "gregorian")    # just after 999999-12-31 24:00
 RANGE_TEXT = (f"JD {JD_MIN:,.1f} to {JD_MAX:,.1f}, years -{YEAR_LIMIT} to {YEAR_LIMIT}")
+AD_1_JD = _jd_of_year(1, "julian")  # 0001-01-01 00:00 (Julian): earlier years are BC
 
 FORMS_HINT = ("use e.g. 2025-03-20, 2025-03-20 09:30, -0100-03-01, 44-03-15 BC, "
               "15 March 44 BC or JD 2451545.0")
@@ -217,10 +218,14 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     return text
 
 
-def format_day(jd: float, calendar: str = "auto") -> str:
+def format_day(jd: float, calendar: str = "auto", bc: bool = False) -> str:
     """The day of :func:`format_jd` alone: ``2025-03-20``, ``-0149-04-10`` (a year before 1
-    AD has a sign, so the day is not always ten characters)."""
-    return format_jd(jd, calendar).split(" ", 1)[0]
+    AD has a sign, so the day is not always ten characters); with ``bc``, a year before AD 1
+    also in words beside it: ``-0149-04-10 (150 BC)``."""
+    text = format_jd(jd, calendar)
+    day = text.split(" ", 1)[0]
+    _, _, words = text.partition(" = ")
+    return f"{day} ({words})" if bc and words else day
 
 
 def check_jd(jd: float, what: str = "") -> float:

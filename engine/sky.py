@@ -83,7 +83,7 @@ from skyfield.precessionlib import compute_precession
 from skyfield.timelib import Timescale, tdb_minus_tt
 from skyfield.toposlib import wgs84
 
-from .dates import as_jd, format_jd
+from .dates import as_jd, format_day, format_jd
 from .errors import SkyError
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, SECONDS_PER_DAY, mean_elements
@@ -1065,7 +1065,8 @@ class Sky:
         self.path = path
         start, end = self._loaded.span_tdb
         self.span_jd = (start + _EDGE_DAYS, end - _EDGE_DAYS)
-        self.span_text = f"{_day_text(self.span_jd[0])} to {_day_text(self.span_jd[1])}"
+        self.span_text = (f"{format_day(self.span_jd[0], bc=True)} to "
+                          f"{format_day(self.span_jd[1], bc=True)}")
         k = self._loaded.kernel
         self._earth = self._sun = self._moon = None
         if k is not None:
@@ -1167,8 +1168,9 @@ class Sky:
         outside = max(0.0, min(end, lo) - start) + max(0.0, end - max(start, hi))
         first_text = (f"first date outside: {_moment_text(start)}" if start < lo else
                       f"outside from just after {_moment_text(hi)}")
-        raise SkyError(f"{outside / JULIAN_YEAR_DAYS:.1f} years of the span {_day_text(start)} to "
-                       f"{_day_text(end)} lie outside {self.name}, which covers "
+        raise SkyError(f"{outside / JULIAN_YEAR_DAYS:.1f} years of the span "
+                       f"{format_day(start, bc=True)} to "
+                       f"{format_day(end, bc=True)} lie outside {self.name}, which covers "
                        f"{self.exact_span_text} ({first_text}); "
                        f"{self.longer_hint}")
 
@@ -1283,14 +1285,6 @@ class Sky:
             helio[name] = (body - self._sun).at(t).frame_latlon(f)[1].degrees % 360.0
         return (slon.degrees % 360.0, slat.degrees, mlon.degrees % 360.0, mlat.degrees,
                 mdist.km, vectors, t.tt, _delta_t(t), geo, helio)
-
-
-def _day_text(jd: float) -> str:
-    """The date of ``jd`` without its time, with the BC year where there is one:
-    ``-2999-02-24 (3000 BC)``."""
-    text = format_jd(jd)
-    day = text.split(" ")[0]
-    return f"{day} ({text.split(' = ')[1]})" if " = " in text else day
 
 
 def _moment_text(jd: float) -> str:

@@ -276,10 +276,14 @@ async def test_drift_chart_gives_days_before_the_common_era_whole():
         screen = app.screen
         assert isinstance(screen, DriftScreen)
         title = text_of(screen.query_one("#drift-title"))
-        assert "-0149-04-10 → -0099-04-" in title
+        assert "-0149-04-10 (150 BC) → -0099-04-" in title and "(100 BC)" in title
         summary = text_of(screen.query_one("#drift-summary"))
-        dates = [w for w in summary.split() if w.startswith("-01")]
+        dates = [w for w in summary.split() if w.startswith("-01") and w.count("-") == 3]
         assert dates and all(len(w) == 11 for w in dates), dates
+        # the table's signed years and the axis's ticks (astronomical) are said to be so
+        assert "-0149 is 150 BC" in " ".join(summary.split())
+        from textual_plot import PlotWidget
+        assert "0 = 1 BC" in screen.query_one(PlotWidget)._x_label
 
 
 @sync

@@ -35,7 +35,7 @@ from textual.worker import get_current_worker
 from textual_hires_canvas import HiResMode
 from textual_plot import PlotWidget
 
-from engine.dates import format_day, format_jd, parse_crank_step, parse_date
+from engine.dates import AD_1_JD, format_day, format_jd, parse_crank_step, parse_date
 from engine.errors import WheelworkError
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
@@ -962,7 +962,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         start, end = self.span()
         c = ui(self)
         self.query_one("#drift-title", Static).update(Text.assemble(
-            ("drift  ", f"bold {c['accent']}"), f"{format_day(start)} → {format_day(end)}  ",
+            ("drift  ", f"bold {c['accent']}"),
+            f"{format_day(start, bc=True)} → {format_day(end, bc=True)}  ",
             (f"({(end - start) / JULIAN_YEAR_DAYS:.1f} years", "dim"),
             (", capped" if self.capped() else "", "dim"),
             (f", {FRAME_NAMES.get(self.session.frame)}", "dim"),
@@ -1140,7 +1141,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
                                 f"{name} first past ±{thr:g}°")
         plot.set_xlimits(float(years[0]), float(years[-1]))
         plot.set_ylimits(scale.y_min, scale.y_max)
-        plot.set_xlabel("year")
+        # years before AD 1 are ticked as astronomers number them (0 is 1 BC)
+        plot.set_xlabel("year (astronomical: 0 = 1 BC)" if result.jd[0] < AD_1_JD else "year")
         plot.set_ylabel("error °")
         # the key to the colours is the summary table below, so the curves stay uncovered
         plot.show_legend(is_visible=False)
@@ -1202,6 +1204,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy",
                     f"first past ±{thr:g}° (vertical line)"):
             t.add_column(col, justify="right" if "°" in col else "left")
+        if first_jd < AD_1_JD:  # the table's days keep their signed years, said once here
+            t.caption = "years before AD 1 as astronomers number them: -0149 is 150 BC"
         for name, sm in result.summaries.items():
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       f"{sm.max_abs_deg:.2f}", format_day(sm.max_at_jd),

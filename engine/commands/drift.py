@@ -235,15 +235,6 @@ def _year(jd):
     return decimal_year(jd)
 
 
-def chart_day(jd: float) -> str:
-    """A chart's date: the day, and for a year before AD 1 its BC year beside the signed one
-    (``-0149-04-10 (150 BC)``)."""
-    from ..dates import format_day, format_jd
-
-    _, _, bc = format_jd(jd).partition(" = ")
-    return f"{format_day(jd)} ({bc})" if bc else format_day(jd)
-
-
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
@@ -487,8 +478,10 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             bar = None
         if ctrl_c.cancelled():
             raise KeyboardInterrupt
+        from ..dates import format_day
+
         title = (f"{mech.train.name}: pointer error against {sky.name}, "
-                 f"{chart_day(start)} to {chart_day(result.jd[-1])}")
+                 f"{format_day(start, bc=True)} to {format_day(result.jd[-1], bc=True)}")
         if png_out:
             write_chart(result, png_out, title)
         if ctrl_c.cancelled():
