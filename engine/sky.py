@@ -34,10 +34,11 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
     closer than a day and a half on average, comes from a half-day grid by cubic interpolation
     (error bound below 0.00005 arcsecond), the grid's values from the series at every 128th
     point carried to the rest by angle addition (a matrix product); all are checked in
-    ``tests/test_sky.py``. Grid points sit on whole
-    multiples of the step from J2000, so a date gets the same value in any batch; a lone date
-    is computed exactly, so scalar and dense array inputs agree to within those bounds rather
-    than to the last bit;
+    ``tests/test_sky.py``, and ``tests/test_sky_grids.py`` checks inside the real pipeline that
+    each grid is taken at six-hour steps and agrees with its exact evaluation. Grid points
+    sit on whole multiples of the step from J2000, so a date gets the same value in any
+    batch; a lone date is computed exactly, so scalar and dense array inputs agree to within
+    those bounds rather than to the last bit;
   - planets: light time iterated on the ephemeris itself, the Sun's light deflection (see
     :func:`_add_sun_deflection`), aberration.
 
