@@ -364,3 +364,42 @@ def test_drift_csv_into_the_demo_folder_is_refused_too(capsys, monkeypatch):
         _one_line_error(capsys, "out.csv", "own demo folder", "--csv")
     finally:
         (DEMO / "out.csv").unlink(missing_ok=True)
+
+
+def test_a_row_of_several_lines_of_its_own_is_still_a_table(capsys, monkeypatch):
+    """A search's trains of three stages are written one stage a line: every row takes three
+    lines however wide the console, which is no squeeze. At 100 and 200 columns they were a
+    list of eight lines a train; they are one table, and at 60 columns two narrower tables,
+    each naming the train by its # and its stages."""
+    import re
+
+    argv = ["search", "--cycle", "synodic month"]
+    for width in ("100", "200"):
+        monkeypatch.setenv("COLUMNS", width)
+        assert main(argv) == 0
+        out = capsys.readouterr().out
+        assert re.search(r"(?m)^ +# +stages +ratio +days/turn +period ppm .* teeth *$", out)
+        assert not re.search(r"(?m)^# 1$", out)  # no "header: value" list
+        assert re.search(r"(?m)^ +1 +13→62 +6097/180048 .* 310 *$", out)
+    monkeypatch.setenv("COLUMNS", "60")
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    assert max(len(line.rstrip()) for line in out.splitlines()) <= 60
+    trains = out.split("trains, best first")[1].split("stages: driver")[0]
+    assert len(re.findall(r"(?m)^ +# +stages ", trains)) == 2
+    assert re.search(r"(?m)^ +1 +13→62 .* 310 *$", trains)  # the second part names the train
+
+
+def test_an_eclipse_row_split_in_two_keeps_its_kind(capsys, monkeypatch):
+    """At 60 columns the eclipse table is split in two: γ (the shadow axis' distance for a
+    solar eclipse, the Moon's for a lunar one) is read with its kind, so both parts give the
+    date and the kind."""
+    import re
+
+    monkeypatch.setenv("COLUMNS", "60")
+    assert main(["eclipses", "eclipse_board", "--years", "2"]) == 0
+    out = capsys.readouterr().out
+    assert max(len(line.rstrip()) for line in out.splitlines()) <= 60
+    heads = re.findall(r"(?m)^ +date \(UT\) +kind +(\S+)", out)
+    assert heads == ["train", "γ"], heads
+    assert re.search(r"(?m)^ +1950-03-18 15:20 +solar +-0\.999 +hit *$", out)

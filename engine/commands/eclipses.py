@@ -281,7 +281,7 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         + "; γ: gamma, the shadow axis' least distance from the Earth's centre (solar) or the "
         "Moon's from the Earth's shadow axis (lunar), in Earth radii, + north")
     if rows:
-        support.print_table(console, table)
+        support.print_table(console, table, keys=2)  # a row is named by its date and kind
         line(caption, "dim")
     else:
         line("no eclipse predicted or real in the span")

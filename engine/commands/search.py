@@ -245,7 +245,7 @@ def _print(report: SearchReport, console: Console) -> None:
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), f"{r.period_days:.9g}",
                           f"{r.period_error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
                           _years(r.one_day_off_years), str(r.total_teeth))
-        support.print_table(console, table)
+        support.print_table(console, table, keys=2)  # a train is named by # and its stages
     if report.convergents:
         table = support.plain_table(title="continued-fraction convergents of the target",
                                     box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False)

@@ -505,13 +505,22 @@ def _fits(console, table) -> bool:
     text = cap.get()
     if "…" in text or any(len(line.rstrip()) > console.width for line in text.splitlines()):
         return False
-    if table.row_count and _body_lines(probe, table, text) > MOST_LINES_A_ROW * table.row_count:
+    if table.row_count and _body_lines(probe, table, text) > max(
+            MOST_LINES_A_ROW * table.row_count, _own_lines(table)):
         return False  # squeezed columns: words stacked line under line are hard to read
     seen = set(text.split())
     return all(word in seen
                for col in table.columns
                for cell in ([col.header] if table.show_header else []) + list(col.cells)
                for word in _cell_text(cell).split())
+
+
+def _own_lines(table) -> int:
+    """How many lines ``table``'s rows take at their cells' own line breaks (a search's three
+    stages, one a line), however wide the console: that many never count as squeezed."""
+    cells = [list(c.cells) for c in table.columns]
+    return sum(max((_cell_text(col[i]).count("\n") + 1 for col in cells), default=1)
+               for i in range(table.row_count))
 
 
 #: a table whose rows take more lines than this on average, their cells wrapped in narrow
@@ -573,7 +582,8 @@ def _body_lines(probe, table, text: str) -> int:
 def print_table(console, table, keys: int = 1) -> None:
     """Print ``table`` with every cell whole: as a table when every word of every cell fits
     whole at the console's width (cells may wrap between words, if the rows then take no more
-    than :data:`MOST_LINES_A_ROW` lines on average); else as up to :data:`MOST_PARTS` narrower
+    than :data:`MOST_LINES_A_ROW` lines on average, or than their cells' own line breaks ask);
+    else as up to :data:`MOST_PARTS` narrower
     tables of its columns in order, each repeating the first ``keys`` columns (what names a
     row), when each fits so; otherwise the same rows as a list (``header: value``), one block
     per row. Nothing is cut, and the table's title and caption (its legend) are kept."""
