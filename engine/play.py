@@ -231,6 +231,10 @@ def sensitivities(train: Train, kin: Kinematics) -> tuple[list[str], np.ndarray]
     a = np.array(rows)
     b = np.array(rhs)
     sens, *_ = np.linalg.lstsq(a, b, rcond=None)
+    # The solve's rounding (about 1e-16 of the largest) would give an arbor no mesh reaches,
+    # the crank's own, a trace of every mesh's play; a real sensitivity (1/teeth times the
+    # ratio down the train) stays many orders of magnitude above this.
+    sens[np.abs(sens) < 1e-10 * np.abs(sens).max(initial=0.0)] = 0.0
     return names, sens
 
 

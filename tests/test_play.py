@@ -46,6 +46,22 @@ def test_dead_play_of_a_two_mesh_train_by_hand():
     assert hand.contributions[0].mesh.startswith("mesh 2")
 
 
+def test_a_pointer_on_the_crank_arbor_has_no_play_at_all():
+    """The table orrery's Earth arm is on the crank's own arbor: no mesh stands between it
+    and the crank, so its dead play and running error are nothing (common practice, no
+    source). The meshes' sensitivities came from a least-squares solve whose rounding gave it
+    7.2e-14° of dead play "from mesh 11" and a once-per-turn error of 1.77e-15°."""
+    train = load_train(HERE.parent / "engine" / "trains" / "table_orrery.toml")
+    report = play(train, solve(train), years=10.0, builds=20, samples=16)
+    earth = next(p for p in report.pointers if p.pointer == "earth")
+    assert earth.dead_play_deg == 0.0
+    assert earth.contributions == () and earth.periodic == ()
+    assert earth.rss_deg == 0.0 and earth.mc_max_deg == 0.0
+    mercury = next(p for p in report.pointers if p.pointer == "mercury")
+    assert len(mercury.contributions) == 2  # its own two meshes, not the moon's
+    assert mercury.dead_play_deg > 1.0
+
+
 def test_eccentric_wheel_once_per_turn_against_plane_geometry():
     # The hand wheel's pitch circle (radius r) sits e off its arbor's axis. The line of
     # centres (the x axis from the arbor's axis) meets the circle at
