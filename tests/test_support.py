@@ -403,3 +403,27 @@ def test_an_eclipse_row_split_in_two_keeps_its_kind(capsys, monkeypatch):
     heads = re.findall(r"(?m)^ +date \(UT\) +kind +(\S+)", out)
     assert heads == ["train", "γ"], heads
     assert re.search(r"(?m)^ +1950-03-18 15:20 +solar +-0\.999 +hit *$", out)
+
+
+def test_an_indented_line_wraps_under_itself(capsys, monkeypatch):
+    """A pointer's or finding's indented detail lines too long for the console wrapped to the
+    left edge, where 'dividing-plate row: …' or 'use a cycloidal clock profile …' read as an
+    item of their own: their wrapped lines keep the indent, and no line is wider."""
+    import re
+
+    monkeypatch.setenv("COLUMNS", "60")
+    assert main(["ratios", "tide_office"]) == 0
+    out = capsys.readouterr().out
+    assert re.search(r"(?m)^   dividing-plate row: sun_w1 \(59\), sun_p2 \(11\)$", out)
+    assert re.search(r"(?m)^   pin-and-slot pin_arbor→slot_arbor", out)
+    assert not re.search(r"(?m)^(dividing-plate|pin-and-slot|48=|whole train)", out)
+    assert max(len(line) for line in out.splitlines()) <= 60
+    assert main(["play", "tide_office", "--builds", "20", "--samples", "8"]) == 0
+    out = capsys.readouterr().out
+    assert re.search(r"(?m)^  \(sun_p2–sun_w2\) 0\.081°", out)
+    assert not re.search(r"(?m)^\((sun|moon|node|perigee)", out)
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["check", "tide_office"]) == 0
+    out = capsys.readouterr().out
+    assert re.search(r"(?m)^    use a cycloidal clock profile, or give it 17 teeth$", out)
+    assert not re.search(r"(?m)^use a cycloidal", out)

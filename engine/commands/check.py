@@ -153,5 +153,5 @@ def _print(report: CheckReport, console: Console) -> None:
     console.print(f"[bold]findings[/]: {counts}")
     for f in report.findings:
         console.print(Text.assemble((f.level, _STYLE[f.level]), f" {f.item}: {f.message}"))
-        console.print(f"    → {f.fix}", markup=False)
+        support.print_indented(console, f"→ {f.fix}", 4)
     console.print(report.caveat, style="dim", markup=False)

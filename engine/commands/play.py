@@ -168,13 +168,13 @@ def _print(report: PlayReport, console: Console) -> None:
         console.print(f"[bold]{escape(p.pointer)}[/] ({escape(p.shows)}): {escape(p.verdict)}")
         top = ", ".join(f"{c.mesh} {_deg(c.deg)}°" for c in p.contributions[:3])
         if top:
-            console.print(f"  dead play from: {top}", markup=False)
+            support.print_indented(console, f"dead play from: {top}", 2)
         for x in p.periodic[:3]:
-            console.print(f"  once per turn of '{x.wheel}' ({x.mesh}): ±{_deg(x.amplitude_deg)}"
-                          f"° every {_days(x.period_days)}", markup=False)
+            support.print_indented(console, f"once per turn of '{x.wheel}' ({x.mesh}): "
+                                   f"±{_deg(x.amplitude_deg)}° every {_days(x.period_days)}", 2)
     for f in report.flags:
         console.print(f"[yellow]flag[/] {escape(f.item)}: {escape(f.message)}")
-        console.print(f"    → {f.fix}", markup=False)
+        support.print_indented(console, f"→ {f.fix}", 4)
     for n in report.notes:
         console.print(f"[cyan]note[/] {escape(n)}")
     console.print(f"[dim]{escape(report.caveat)}[/]")

@@ -75,31 +75,32 @@ def run(args: argparse.Namespace, console: Console) -> int:
         console.print(f"[bold]{escape(r.pointer)}[/] shows {r.shows} from arbor "
                       f"{escape(what)}{sense}; "
                       f"stands for the {r.target_name}")
-        console.print(f"   ratio {r.ratio.numerator}/{r.ratio.denominator} cycles per crank "
-                      f"turn = {float(r.ratio):.10g}", markup=False)
+        support.print_indented(console, f"ratio {r.ratio.numerator}/{r.ratio.denominator} "
+                               f"cycles per crank turn = {float(r.ratio):.10g}", 3)
         stages = " × ".join(s.text() for s in r.stages) or r.route
-        console.print(f"   stages {stages}", markup=False)
+        support.print_indented(console, f"stages {stages}", 3)
         if r.relative_to:
             rel = " × ".join(s.text() for s in r.relative_stages) or r.relative_route
-            console.print(f"   minus  {rel}", markup=False)
+            support.print_indented(console, f"minus  {rel}", 3)
         if not r.stages_multiply_out:
-            console.print("   [dim]epicyclic or differential: the ratio is solved from the "
-                          "whole train, not from this product alone[/]")
+            support.print_indented(console, "[dim]epicyclic or differential: the ratio is "
+                                   "solved from the whole train, not from this product "
+                                   "alone[/]", 3, markup=True)
         factors = ", ".join(f"{t.teeth}={t.factors}" for t in r.teeth)
         if factors:
-            console.print(f"   teeth  {factors}", markup=False)
+            support.print_indented(console, f"teeth  {factors}", 3)
         if r.synodic:
             sy = r.synodic
-            console.print(f"   epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
-                          f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/"
-                          f"{sy.ratio.denominator} turns per crank turn, "
-                          f"{sy.period_days:.10g} d against the {sy.target_name} of "
-                          f"{sy.target_days:.10g} d: {sy.period_error_ppm:+.3f} ppm, "
-                          f"{sy.drift_deg_per_century:+.4f}°/century")
+            support.print_indented(
+                console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
+                f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
+                f"per crank turn, {sy.period_days:.10g} d against the {sy.target_name} of "
+                f"{sy.target_days:.10g} d: {sy.period_error_ppm:+.3f} ppm, "
+                f"{sy.drift_deg_per_century:+.4f}°/century", 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:
-            console.print(f"   prime counts, each needing its own cutter or dividing-plate "
-                          f"row: {', '.join(primes)}", markup=False)
+            support.print_indented(console, "prime counts, each needing its own cutter or "
+                                   f"dividing-plate row: {', '.join(primes)}", 3)
     sources: dict[str, list[str]] = {}
     for r in rows:
         for name, src in ((r.target_name, r.target_source),

@@ -456,6 +456,17 @@ def _size_text(n: float) -> str:
 
 # --- tables ----------------------------------------------------------------------------------
 
+def print_indented(console, text: str, indent: int, *, markup: bool = False) -> None:
+    """Print ``text`` ``indent`` spaces in, its wrapped lines too: a line too long for the
+    console keeps under its first, where at the left edge it would read as a new item."""
+    from rich.text import Text
+
+    body = Text.from_markup(text) if markup else Text(text)
+    for line in body.wrap(console, max(console.width - indent, 20), overflow="fold"):
+        line.rstrip()
+        console.print(Text(" " * indent) + line, crop=False, soft_wrap=True)
+
+
 def plain_table(*, title: str | None = None, caption: str | None = None, **kwargs):
     """A rich ``Table`` whose title, caption and string cells are plain text, never markup
     (names from train files may hold ``[`` and ``]``). Style whole cells with ``Text``."""
