@@ -1204,8 +1204,9 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy",
                     f"first past ±{thr:g}° (vertical line)"):
             t.add_column(col, justify="right" if "°" in col else "left")
-        if first_jd < AD_1_JD:  # the table's days keep their signed years, said once here
-            t.caption = "years before AD 1 as astronomers number them: -0149 is 150 BC"
+        if first_jd < AD_1_JD:  # the table's days keep their signed years, said once here,
+            # above the rows (the axis's label, which says it too, is dropped when short)
+            t.title = "years before AD 1 as astronomers number them: -0149 is 150 BC"
         for name, sm in result.summaries.items():
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       f"{sm.max_abs_deg:.2f}", format_day(sm.max_at_jd),
