@@ -30,7 +30,10 @@ give it.
 
 It prints CPU microseconds a date (CPU time of this process and its threads, best of N
 interleaved rounds, so that a change in the load of a shared machine falls on every pipeline
-alike; compare the ratios rather than the times), the ratios (rounded down), the largest
+alike; compare the ratios rather than the times), with BLAS held to one thread for every
+pipeline: after each product its idle worker spins on a free core, and that spinning is
+charged to whatever runs next (on a quiet 2-core machine it doubled skyfield's 2000A times
+and our scattered ones; a second thread cannot lower CPU time, only add to it), the ratios (rounded down), the largest
 difference of each pipeline from the 2000A reference on the same dates (Sun and Moon, the
 larger of longitude and latitude; target under 0.003"), and each goal as met or MISSED for
 each set of dates. In the stars frame (the fixed ecliptic of J2000) skyfield
@@ -337,9 +340,13 @@ def main() -> int:
     if args.peer_batch is not None and args.peer_batch < 0:
         ap.error(f"--peer-batch must be 0 or more, not {args.peer_batch}")
 
+    from threadpoolctl import threadpool_limits
+
+    threadpool_limits(limits=1, user_api="blas")  # every pipeline alike (see the docstring)
     wall, cpu = time.perf_counter(), time.process_time()
     sky = Sky()
-    print(f"{sky.name}; the machine may be shared, so read the ratios")
+    print(f"{sky.name}; BLAS on one thread for every pipeline; the machine may be shared, so "
+          "read the ratios")
     sets = _date_sets(not args.no_6h, not args.no_scattered)
     frames = ("equinox", "stars") if args.frame == "both" else (args.frame,)
     batches = PEER_BATCHES if args.peer_batch is None else (args.peer_batch,)
