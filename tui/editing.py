@@ -190,18 +190,25 @@ def apply_edit(editor: TrainEditor, key: tuple, value: str):
     return editor.set_pin_slot(key[1], key[2], value)
 
 
-# --- the parts screen ----------------------------------------------------------------------
-class PartValue(Input):
-    """The value box of the parts screen: ↑ ↓ pick the part above or below in the list, so
-    a user can walk the list and type without leaving the box."""
+class ListStepInput(Input):
+    """A text box whose ↑ ↓ move the highlight of its screen's list (``LIST``, an id), so a
+    user can walk the list and type without leaving the box."""
 
-    BINDINGS = [Binding("up", "part(-1)", "part above", show=False),
-                Binding("down", "part(1)", "part below", show=False)]
+    LIST = ""
+    BINDINGS = [Binding("up", "step(-1)", "above in the list", show=False),
+                Binding("down", "step(1)", "below in the list", show=False)]
 
-    def action_part(self, step: int) -> None:
-        ol = self.screen.query_one("#parts-list", OptionList)
+    def action_step(self, step: int) -> None:
+        ol = self.screen.query_one(f"#{self.LIST}", OptionList)
         if ol.option_count:
             ol.highlighted = min(max((ol.highlighted or 0) + step, 0), ol.option_count - 1)
+
+
+# --- the parts screen ----------------------------------------------------------------------
+class PartValue(ListStepInput):
+    """The value box of the parts screen: ↑ ↓ pick the part above or below in the list."""
+
+    LIST = "parts-list"
 
 
 class PartsScreen(ClosesOnce, SizeGuard, Screen):
@@ -634,18 +641,11 @@ class OpenScreen(ClosesOnce, SizeGuard, Screen):
 
 
 # --- tooth search for one pointer ------------------------------------------------------------
-class TeethField(Input):
-    """A bound of the tooth search: ↑ ↓ pick the pointer above or below in the list, as the
-    parts screen's value box picks the part, so the pointer can be chosen from the box the
-    screen opens in."""
+class TeethField(ListStepInput):
+    """A bound of the tooth search: ↑ ↓ pick the pointer above or below in the list, so the
+    pointer can be chosen from the box the screen opens in."""
 
-    BINDINGS = [Binding("up", "pointer(-1)", "pointer above", show=False),
-                Binding("down", "pointer(1)", "pointer below", show=False)]
-
-    def action_pointer(self, step: int) -> None:
-        ol = self.screen.query_one("#teeth-pointers", OptionList)
-        if ol.option_count:
-            ol.highlighted = min(max((ol.highlighted or 0) + step, 0), ol.option_count - 1)
+    LIST = "teeth-pointers"
 
 
 class TeethScreen(ClosesOnce, SizeGuard, Screen):
