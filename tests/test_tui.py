@@ -78,6 +78,13 @@ def check_readout(app) -> None:
         assert shown in row.split()[3], name
 
 
+async def open_chart(pilot, app) -> None:
+    """Press d on the bench and wait for the drift chart's run to finish."""
+    await pilot.press("d")
+    await app.workers.wait_for_complete()
+    await pilot.pause()
+
+
 @pytest.mark.parametrize("key,turns", [
     ("right", 1), ("left", -1), ("up", 10), ("down", -10), ("pageup", 100),
     ("pagedown", -100), ("right_square_bracket", 1000), ("left_square_bracket", -1000),
@@ -270,9 +277,7 @@ async def test_drift_chart_gives_days_before_the_common_era_whole():
 
     app = make_app(demo_path("lunation_board"))
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.press("d")
-        await app.workers.wait_for_complete()
-        await pilot.pause()
+        await open_chart(pilot, app)
         screen = app.screen
         assert isinstance(screen, DriftScreen)
         title = text_of(screen.query_one("#drift-title"))
@@ -301,9 +306,7 @@ async def test_drift_chart_keeps_rows_for_its_curves_at_80_by_24():
                               (None, (120, 40), 12)):
         app = make_app(demo_path(train) if train else None)
         async with app.run_test(size=size) as pilot:
-            await pilot.press("d")
-            await app.workers.wait_for_complete()
-            await pilot.pause()
+            await open_chart(pilot, app)
             plot = app.screen.query_one(PlotWidget)
             inside = plot.size.height - plot.margin_top - plot.margin_bottom - 2  # its frame
             assert inside >= rows, (train, size, inside)
@@ -362,9 +365,7 @@ def test_drift_chart_cancel_says_where_and_clears_the_table(monkeypatch):
 async def test_drift_chart_cancel_after_it_is_done_changes_nothing():
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.press("d")
-        await app.workers.wait_for_complete()
-        await pilot.pause()
+        await open_chart(pilot, app)
         screen = app.screen
         assert screen.result is not None
         await pilot.press("c")
@@ -380,9 +381,7 @@ async def _drift_from(pilot, app, date: str) -> DriftScreen:
     app.screen.query_one("#date-input").value = date
     await pilot.press("enter")
     await pilot.pause()
-    await pilot.press("d")
-    await app.workers.wait_for_complete()
-    await pilot.pause()
+    await open_chart(pilot, app)
     assert isinstance(app.screen, DriftScreen)
     return app.screen
 
@@ -471,9 +470,7 @@ def test_drift_failure_is_reported_on_the_chart_screen(monkeypatch):
     async def run():
         app = make_app()
         async with app.run_test(size=SIZE) as pilot:
-            await pilot.press("d")
-            await app.workers.wait_for_complete()
-            await pilot.pause()
+            await open_chart(pilot, app)
             assert isinstance(app.screen, DriftScreen)
             status = text_of(app.screen.query_one("#drift-status"))
             assert "cannot compute: threshold nonsense" in status
@@ -1435,9 +1432,7 @@ async def test_a_long_train_name_folds_in_the_title_at_80_columns(tmp_path):
 async def test_drift_chart_title_and_status_fold_at_80_columns():
     app = make_app(Path(__file__).parents[1] / "engine" / "trains" / "planet_dial.toml")
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.press("d")
-        await app.workers.wait_for_complete()
-        await pilot.pause()
+        await open_chart(pilot, app)
         assert isinstance(app.screen, DriftScreen)
         for wid in ("#drift-title", "#drift-status"):
             widget = app.screen.query_one(wid)
@@ -1463,9 +1458,7 @@ async def test_drift_chart_at_80x24_keeps_ten_rows_of_curves_and_scrolls_the_tab
 
     app = make_app(demo_path(demo))
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.press("d")
-        await app.workers.wait_for_complete()
-        await pilot.pause()
+        await open_chart(pilot, app)
         screen = app.screen
         assert isinstance(screen, DriftScreen)
         plot, table = screen.query_one("#drift-plot"), screen.query_one("#drift-table")
@@ -1519,9 +1512,7 @@ async def test_drift_chart_threshold_follows_the_theme():
 
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.press("d")
-        await app.workers.wait_for_complete()
-        await pilot.pause()
+        await open_chart(pilot, app)
         screen = app.screen
         result = screen.result
         app.theme = "textual-light"

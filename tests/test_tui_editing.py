@@ -431,11 +431,7 @@ async def test_tooth_search_pointer_is_picked_with_up_and_down_from_the_box(tmp_
 
     app = make_app(copy_tide(tmp_path))
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.press("w")
-        await pilot.pause()
-        await pilot.press("ctrl+f")
-        await pilot.pause()
-        screen = app.screen
+        screen = await open_teeth_screen(pilot, app)
         assert isinstance(screen, TeethScreen)
         assert screen.focused is screen.query_one("#teeth-pinions", Input)
         assert screen.pointer == "sun"
@@ -448,14 +444,19 @@ async def test_tooth_search_pointer_is_picked_with_up_and_down_from_the_box(tmp_
         assert screen.pointer == "sun"  # the top of the list holds
 
 
-async def open_teeth(pilot, app, pointer: str):
-    from tui.editing import TeethScreen
-
+async def open_teeth_screen(pilot, app):
+    """The tooth search, opened from the bench through the parts screen (w, ctrl+f)."""
     await pilot.press("w")
     await pilot.pause()
     await pilot.press("ctrl+f")
     await pilot.pause()
-    screen = app.screen
+    return app.screen
+
+
+async def open_teeth(pilot, app, pointer: str):
+    from tui.editing import TeethScreen
+
+    screen = await open_teeth_screen(pilot, app)
     assert isinstance(screen, TeethScreen)
     ol = screen.query_one("#teeth-pointers", OptionList)
     ol.highlighted = list(app.session.mech.train.pointers).index(pointer)
