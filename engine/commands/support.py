@@ -594,10 +594,10 @@ def print_table(console, table, keys: int = 1) -> None:
     """Print ``table`` with every cell whole: as a table when every word of every cell fits
     whole at the console's width (cells may wrap between words, if the rows then take no more
     than :data:`MOST_LINES_A_ROW` lines on average, or than their cells' own line breaks ask);
-    else as up to :data:`MOST_PARTS` narrower
-    tables of its columns in order, each repeating the first ``keys`` columns (what names a
-    row), when each fits so; otherwise the same rows as a list (``header: value``), one block
-    per row. Nothing is cut, and the table's title and caption (its legend) are kept."""
+    else as up to :data:`MOST_PARTS` narrower tables of its columns in order, each repeating
+    the first ``keys`` columns (what names a row), when each fits so; otherwise the same rows
+    as a list (``header: value``), one block per row. Nothing is cut, and the table's title and
+    caption (its legend) are kept."""
     from rich.text import Text
 
     for col in table.columns:  # should a column ever wrap, fold it: never an ellipsis
