@@ -56,6 +56,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .dates import as_jd
 from .defaults import ECLIPSE_METHODS
 from .errors import ArgumentError, SkyError
 from .periods import PERIODS
@@ -107,13 +108,27 @@ def _wrap180(deg):
     return np.mod(np.asarray(deg) + 180.0, 360.0) - 180.0
 
 
-def syzygies(sky, jd_start: float, jd_end: float) -> Syzygies:
-    """Every new and full moon between two UT dates (inclusive), in time order.
+def _span(jd_start, jd_end, what: str) -> tuple[float, float]:
+    """The span's ends as UT Julian Dates, earlier first: each a JD number or date text
+    (``parse_date``); anything else is a one-line :class:`DateError`."""
+    ends = []
+    for value, end in ((jd_start, "start"), (jd_end, "end")):
+        jd = as_jd(value, f"{what} {end}")
+        if np.ndim(jd):
+            raise ArgumentError(f"{what} {end}: wanted one date (a JD number or date text), "
+                                f"got {np.size(jd)} of them")
+        ends.append(float(jd))
+    return min(ends), max(ends)
+
+
+def syzygies(sky, jd_start: float | str, jd_end: float | str) -> Syzygies:
+    """Every new and full moon between two UT dates (inclusive), in time order. Each date is
+    a UT Julian Date or date text.
 
     Refined on the fast Sun/Moon path to well under a second of time (Newton steps on the
     elongation with its slope measured a minute apart, then chord steps with that slope; all
     syzygies at once)."""
-    lo, hi = float(min(jd_start, jd_end)), float(max(jd_start, jd_end))
+    lo, hi = _span(jd_start, jd_end, "syzygies")
     sky.check_span(lo, hi)
     half = SYNODIC_DAYS / 2
     n0 = int(np.floor((lo - NEW_MOON_0_JD) / half)) - 1
@@ -278,8 +293,9 @@ class SkyEclipses:
         return out
 
 
-def sky_eclipses(sky, jd_start: float, jd_end: float) -> SkyEclipses:
-    """Every syzygy between two UT dates and the real eclipse at each (see module docstring)."""
+def sky_eclipses(sky, jd_start: float | str, jd_end: float | str) -> SkyEclipses:
+    """Every syzygy between two UT dates (JD numbers or date text) and the real eclipse at
+    each (see module docstring)."""
     from .sky import lunar_eclipse_search
 
     syz = syzygies(sky, jd_start, jd_end)
@@ -317,8 +333,10 @@ def sky_eclipses(sky, jd_start: float, jd_end: float) -> SkyEclipses:
     return SkyEclipses(syz, tuple(types), greatest, gamma)
 
 
-def real_eclipses(sky, jd_start: float, jd_end: float, penumbral: bool = True) -> list[Eclipse]:
-    """The real eclipses between two UT dates, solar and lunar, in time order."""
+def real_eclipses(sky, jd_start: float | str, jd_end: float | str,
+                  penumbral: bool = True) -> list[Eclipse]:
+    """The real eclipses between two UT dates (JD numbers or date text), solar and lunar, in
+    time order."""
     return sky_eclipses(sky, jd_start, jd_end).eclipses(penumbral)
 
 
@@ -546,10 +564,11 @@ class Check:
         return out
 
 
-def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
+def check(mech, sky, jd_start: float | str, jd_end: float | str, method: str | None = None,
           progress=None, cancel=None, chunk_days: float = 3652.5, marks=None,
           table: SkyEclipses | None = None) -> Check:
-    """Compare a train's eclipse predictions with the real eclipses between two UT dates.
+    """Compare a train's eclipse predictions with the real eclipses between two UT dates
+    (JD numbers or date text).
 
     ``method``: "pointers" or "cycle" (default: the cycle dial when the train has one, else
     its pointers). The span is worked in chunks of ``chunk_days``; ``progress(done, total)``
@@ -573,7 +592,7 @@ def check(mech, sky, jd_start: float, jd_end: float, method: str | None = None,
         what = ("eclipse-cycle dial (shows = \"cycle\")" if method == "cycle" else
                 "node hand, draconic or eclipse-year dial")
         raise ArgumentError(f"the train has no {what}; it can predict by: {', '.join(have)}")
-    lo, hi = float(min(jd_start, jd_end)), float(max(jd_start, jd_end))
+    lo, hi = _span(jd_start, jd_end, "check_eclipses")
     sky.check_span(lo, hi)
     penumbral = train.eclipses.penumbral
     # the sky, in chunks

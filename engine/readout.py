@@ -13,6 +13,7 @@ from fractions import Fraction
 
 import numpy as np
 
+from .dates import as_jd
 from .errors import UnknownName
 from .exact import Turns
 from .kinds import KINDS, mean_value, sky_at, true_value
@@ -124,8 +125,9 @@ class Readout:
 
     # time <-> turns -------------------------------------------------------------------
     def turns_at(self, jd_ut: float | np.ndarray) -> Turns:
-        """Crank turns since the epoch that bring the train to these UT Julian dates."""
-        days = np.asarray(jd_ut, dtype=float) - self.train.epoch.jd_ut
+        """Crank turns since the epoch that bring the train to these UT Julian dates (numbers,
+        or date text)."""
+        days = np.asarray(as_jd(jd_ut, "turns_at"), dtype=float) - self.train.epoch.jd_ut
         return Turns.from_days(days, self.train.crank.days_per_turn)
 
     def jd_at(self, turns: Turns | float | np.ndarray) -> np.ndarray:

@@ -155,6 +155,28 @@ def test_same_first_argument_and_dates_as_text():
         api.pointer_ratios("engine/trains/tide_office.toml")
 
 
+def test_eclipse_calls_take_dates_as_text():
+    """The eclipse functions take date text as the other reports do (a notebook's first try)."""
+    import engine.api as api
+    from engine.sky import Sky
+
+    sky = Sky()
+    a, b = api.parse_date("2024-01-01"), api.parse_date("2025-01-01")
+    by_jd = [(e.kind, e.type, e.jd_ut) for e in api.real_eclipses(sky, a, b)]
+    by_text = [(e.kind, e.type, e.jd_ut) for e in api.real_eclipses(sky, "2024-01-01",
+                                                                   "2025-01-01")]
+    assert by_text == by_jd and len(by_jd) == 4
+    assert len(api.syzygies(sky, "2024-01-01", "2024-03-01")) == len(api.syzygies(
+        sky, a, api.parse_date("2024-03-01")))
+    board = api.open_train("engine/trains/eclipse_board.toml", sky)
+    c = api.check_eclipses(board, sky, "1950-01-01", "1960-01-01")
+    assert c.counts() == api.check_eclipses(board, sky, api.parse_date("1950-01-01"),
+                                            api.parse_date("1960-01-01")).counts()
+    ro = board.readout
+    assert float(ro.turns_at("1951-01-01").frac) == float(ro.turns_at(
+        api.parse_date("1951-01-01")).frac)
+
+
 def test_short_reprs():
     import engine.api as api
     from engine.sky import Sky
@@ -196,6 +218,11 @@ def _bad_calls():
         ("check_eclipses method", lambda: api.check_eclipses(
             tide, api.Sky(), api.parse_date("1950-01-01"), api.parse_date("1951-01-01"),
             method="saros")),
+        ("real_eclipses of None", lambda: api.real_eclipses(api.Sky(), None, 2451545.0)),
+        ("real_eclipses of a word", lambda: api.real_eclipses(api.Sky(), "soon", 2451545.0)),
+        ("check_eclipses of a list", lambda: api.check_eclipses(
+            tide, api.Sky(), [2451545.0, 2451546.0], 2451600.0)),
+        ("Readout.turns_at of a word", lambda: tide.readout.turns_at("soon")),
         ("drift threshold of no pointer", lambda: api.drift_series(
             tide, api.Sky(), api.DriftRun("2030-01-01", "2030-02-01", "1d",
                                           threshold_deg={"vulcan": 1.0}))),
