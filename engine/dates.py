@@ -17,6 +17,10 @@ otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
 * Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``; or
   the month name first: ``March 15, 44 BC``, ``Oct 4 1957``, ``January 1, 2026 06:30``.
 * A raw Julian Date: ``JD 2451545.0`` (taken as UT).
+* What wheelwork prints, read back: a trailing ``(Julian)`` or ``(Gregorian)`` names the
+  date's calendar (``1582-10-10 (Julian)``; it overrides ``"auto"`` and must agree with a
+  calendar asked for), and a trailing ``= 585 BC`` or ``(585 BC)`` must agree with the signed
+  year before it: ``-0584-05-28 14:25 UT (Julian) = 585 BC``.
 
 Source of the Julian Day algorithm: J. Meeus, *Astronomical Algorithms*, 2nd ed. (1998),
 ch. 7, written here in exact integer arithmetic so it also holds for negative years and
@@ -84,6 +88,13 @@ _NAMED = re.compile(
 _NAMED_FIRST = re.compile(  # month name first, as written in the US: Jan 1 2026, March 15, 44 BC
     r"(?P<mname>[A-Za-z]+)\.?\s+(?P<d>\d{1,2}),?\s+(?P<y>\d{1,6})" + _ERA
     + r"(?:,?\s+(?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?" + _ZONE,
+    re.IGNORECASE,
+)
+# What format_jd and format_day add after a date, read back: the calendar it is in,
+# "(Julian)" or "(Gregorian)", and before AD 1 the year in words, "= 585 BC" or "(585 BC)".
+_PRINTED = re.compile(
+    r"(?P<body>.*?)(?:\s*\((?P<cal>julian|gregorian)\))?"
+    r"(?:\s*(?:=\s*(?P<bc>\d{1,7})\s*BCE?|\(\s*(?P<bc2>\d{1,7})\s*BCE?\s*\)))?",
     re.IGNORECASE,
 )
 _JD = re.compile(r"JD\s*(?P<jd>[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)", re.IGNORECASE)
@@ -272,6 +283,34 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
     s = " ".join(text.strip().split())
     if not s:
         raise _fail(text, "it is empty")
+    printed = _PRINTED.fullmatch(s)
+    written_cal, bc_words = printed["cal"], printed["bc"] or printed["bc2"]
+    if written_cal or bc_words:
+        s = printed["body"]
+        if written_cal:
+            written_cal = written_cal.lower()
+            if cal not in ("auto", written_cal):
+                raise _fail(text, f"it says {written_cal.capitalize()} but calendar "
+                            f"{cal!r} was asked; give one of them")
+            cal = written_cal
+    jd = _parse(text, s, cal)
+    if bc_words:
+        _check_bc_words(text, s, jd, cal, int(bc_words))
+    return jd
+
+
+def _check_bc_words(text: str, s: str, jd: float, cal: str, bc: int) -> None:
+    """A date printed with its BC year beside it (``-0584-05-28 = 585 BC``) must agree."""
+    if re.search(r"\b(?:BC|BCE|AD|CE)\b", s, re.IGNORECASE):
+        raise _fail(text, "write the era either after the date or as '= N BC', not both")
+    year = calendar_date(jd, cal)[0]
+    if 1 - year != bc:
+        shown = f"-{-year:04d} is {1 - year} BC" if year <= 0 else f"{year:04d} is AD {year}"
+        raise _fail(text, f"the year {shown}, not {bc} BC")
+
+
+def _parse(text: str, s: str, cal: str) -> float:
+    """:func:`parse_date` of ``s`` (``text`` tidied, without a printed calendar or BC year)."""
     m = _JD.fullmatch(s)
     if m:
         jd = float(m["jd"])
@@ -311,8 +350,8 @@ def parse_date(text: str, *, calendar: str = "auto") -> float:
     if cal == "auto" and _JULIAN_LAST < (year, month, day) < _GREGORIAN_START:
         raise _fail(text, "1582-10-05..14 do not exist: the Gregorian calendar began on "
                     "1582-10-15, the day after 1582-10-04 (for a date in the Julian calendar "
-                    "give --calendar julian on the command line, or calendar = \"julian\" in a "
-                    "train's [epoch])")
+                    f"write {year:04d}-{month:02d}-{day:02d} (Julian); or give calendar = \"julian\" "
+                    "in a train's [epoch], --calendar julian to wheelwork sky)")
     dim = days_in_month(year, month, which)
     if not 1 <= day <= dim:
         raise _fail(text, f"day {day} is not in 1-{dim} for that month ({which.capitalize()})")

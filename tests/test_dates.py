@@ -175,6 +175,60 @@ def test_gregorian_gap_says_what_to_type():
     msg = str(info.value)
     assert "--calendar julian" in msg and 'calendar = "julian"' in msg
     assert "calendar='julian'" not in msg
+    # drift and eclipses have no --calendar: the date itself can say it
+    assert "1582-10-10 (Julian)" in msg
+    assert parse_date("1582-10-10 (Julian)") == parse_date("1582-10-10", calendar="julian")
+
+
+@given(st.floats(min_value=-2e6, max_value=6e6, allow_nan=False))
+def test_a_printed_date_reads_back(jd):
+    """What format_jd and format_day print (a report's dates, the JSON's "date") is date text
+    parse_date reads back, calendar and BC year included."""
+    for cal in ("auto", "julian", "gregorian"):
+        text = format_jd(jd, cal, seconds=True)
+        back = parse_date(text, calendar="auto")
+        assert back == pytest.approx(jd, abs=0.5 * SECOND_DAYS + 1e-9 * abs(jd)), text
+        day = format_day(jd, cal, bc=True)  # -0149-04-10 (150 BC): the day alone
+        assert parse_date(day, calendar=cal) == parse_date(day.split(" ")[0], calendar=cal)
+
+
+@pytest.mark.parametrize("text, same_as", [
+    ("-0584-05-28 14:25 UT (Julian) = 585 BC", "585-05-28 14:25 BC"),
+    ("-0584-05-28 14:25:00 UT (Julian) = 585 BC", "585-05-28 14:25 BC"),
+    ("-0149-04-10 (150 BC)", "150-04-10 BC"),
+    ("1582-10-04 00:00 UT (Julian)", "1582-10-04"),
+    ("1582-10-15 (Gregorian)", "1582-10-15"),
+    ("1582-10-10 (julian)", "JD 2299165.5"),
+    ("1582-10-10 (Gregorian)", "JD 2299155.5"),
+    ("1000-03-01 12:00 UT (Gregorian)", "1000-02-24 12:00"),
+    ("2026-01-01 00:00 UT (Gregorian)", "2026-01-01"),
+    ("15 March 44 BC (Julian)", "44-03-15 BC"),
+])
+def test_dates_as_wheelwork_prints_them(text, same_as):
+    # 1582-10-10 Julian is 1582-10-20 Gregorian, JD 2299165.5; proleptic Gregorian
+    # 1582-10-10 is ten days earlier; 1000-03-01 Gregorian is 1000-02-24 Julian (Meeus,
+    # Astronomical Algorithms, ch. 7: the calendars differ by 6 days in the 11th century,
+    # from memory)
+    assert parse_date(text) == parse_date(same_as)
+
+
+@pytest.mark.parametrize("text, words", [
+    ("-0584-05-28 = 584 BC", "-0584 is 585 BC"),
+    ("0044-03-15 = 44 BC", "0044 is AD 44"),
+    ("-0149-04-10 (149 BC)", "-0149 is 150 BC"),
+    ("44-03-15 BC = 44 BC", "either"),
+    ("2026-01-01 (Mayan)", "not a date form"),
+])
+def test_printed_forms_that_contradict_themselves_are_refused(text, words):
+    with pytest.raises(DateError) as info:
+        parse_date(text)
+    assert words in str(info.value) and "\n" not in str(info.value)
+
+
+def test_a_calendar_in_the_text_and_another_asked_is_refused():
+    with pytest.raises(DateError, match="says Julian.*gregorian"):
+        parse_date("1500-01-01 (Julian)", calendar="gregorian")
+    assert parse_date("1500-01-01 (Julian)", calendar="julian") == parse_date("1500-01-01")
 
 
 def test_sky_command_refuses_huge_julian_dates(capsys):
