@@ -168,3 +168,24 @@ def test_a_chart_before_ad_1_names_its_years_bc(tmp_path, capsys):
     modern = tmp_path / "now.svg"
     assert main(["drift", "moon_disc_59", "--years", "1", "--png", str(modern)]) == 0
     assert " BC" not in modern.read_text(encoding="utf-8")
+
+
+def test_the_eclipse_table_says_its_years_are_astronomical_and_its_calendar(capsys):
+    """The table's dates are signed (-0584-05-28, which a reader takes for 584 BC, not 585)
+    and, before 1582-10-15, Julian: the report says both beside the table, and neither for a
+    modern span."""
+    from engine.cli import main
+
+    ask = ["eclipses", "eclipse_board", "--from", "1 May 585 BC", "--years", "1",
+           "--ephemeris", "de406", "--by", "pointers"]
+    assert main(ask) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "-0584-05-28" in out and "-0584 is 585 BC" in out and "0 = 1 BC" in out
+    assert "Julian calendar" in out
+    assert main(["eclipses", "eclipse_board", "--from", "1582-01-01", "--years", "2",
+                 "--ephemeris", "de406"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Julian calendar to 1582-10-04, then Gregorian" in out and "BC" not in out
+    assert main(["eclipses", "eclipse_board", "--from", "2024-01-01", "--years", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "Julian" not in out and "astronomical" not in out

@@ -95,6 +95,23 @@ def delta_t_line(sigma_s: float) -> str:
             "happen, their types and γ do not depend on it)")
 
 
+def dates_note(first_jd: float, last_jd: float) -> str:
+    """What the table's dates need said before AD 1582: their calendar and, before AD 1, that
+    the signed years are astronomical ('-0584' reads as 584 BC but is 585 BC); "" otherwise."""
+    from ..dates import AD_1_JD, GREGORIAN_START_JD, calendar_date
+
+    if first_jd >= GREGORIAN_START_JD:
+        return ""
+    cal = ("Julian calendar" if last_jd < GREGORIAN_START_JD
+           else "Julian calendar to 1582-10-04, then Gregorian")
+    text = f"dates: UT, {cal}"
+    if first_jd < AD_1_JD:
+        year = calendar_date(first_jd)[0]
+        shown = f"-{-year:04d}" if year < 0 else f"{year:04d}"
+        text += (f"; signed years are astronomical (0 = 1 BC): {shown} is {1 - year} BC")
+    return text
+
+
 def document(c: Check, mech, sky, args) -> dict:
     """The ``--json`` document."""
     import numpy as np
@@ -281,6 +298,9 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         + "; γ: gamma, the shadow axis' least distance from the Earth's centre (solar) or the "
         "Moon's from the Earth's shadow axis (lunar), in Earth radii, + north")
     if rows:
+        note = dates_note(float(c.jd_ut[rows[0]]), float(c.jd_ut[rows[-1]]))
+        if note:
+            line(note)
         support.print_table(console, table, keys=2)  # a row is named by its date and kind
         line(caption, "dim")
     else:
