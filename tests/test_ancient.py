@@ -189,3 +189,73 @@ def test_the_eclipse_table_says_its_years_are_astronomical_and_its_calendar(caps
     assert main(["eclipses", "eclipse_board", "--from", "2024-01-01", "--years", "1"]) == 0
     out = capsys.readouterr().out
     assert "Julian" not in out and "astronomical" not in out
+
+
+# --- against the published eclipse canon --------------------------------------------------
+# F. Espenak and J. Meeus, Five Millennium Catalog of Lunar Eclipses (NASA eclipse web site,
+# pages LE-0599--0500, LE-0499--0400 and LE0401-0500 of LEcat5): the eclipses of a century,
+# counted by their date in TD, Julian calendar, astronomical years.
+LUNAR_CENTURIES = [  # (first year, penumbral, partial, total)
+    (-599, 95, 100, 60),   # 600-501 BC
+    (-499, 88, 90, 64),    # 500-401 BC
+    (401, 83, 95, 66),     # AD 401-500
+]
+
+
+@pytest.mark.parametrize("first, penumbral, partial, total", LUNAR_CENTURIES)
+def test_lunar_eclipses_of_a_century_as_the_canon_counts_them(ancient, first, penumbral,
+                                                               partial, total):
+    def ut(year):  # 1 January of a year in TD, as UT: the canon counts by the TD date
+        jd = parse_date(f"{year:05d}-01-01" if year < 0 else f"{year:04d}-01-01")
+        return jd - float(ancient.at(jd).delta_t_s) / 86400
+
+    got = [e.type for e in real_eclipses(ancient, ut(first), ut(first + 100))
+           if e.kind == "lunar"]
+    assert (got.count("penumbral"), got.count("partial"), got.count("total")) == (
+        penumbral, partial, total)
+
+
+# F. Espenak and J. Meeus, Five Millennium Catalog of Asymmetric Hybrid Solar Eclipses (NASA
+# eclipse web site, SEcat5/SEhybrid5a): TD of greatest eclipse and gamma. The simple geometric
+# criterion here judges the umbra at greatest eclipse only, so of the canon's asymmetric
+# hybrids it finds these four hybrid; -1851 Jun 25 (T-A, gamma -0.5598) it calls total.
+HYBRIDS = [  # (date, TD of greatest eclipse, gamma)
+    ("-1935-12-18", "05:41:01", -0.5070),
+    ("-1794-11-19", "22:56:01", 0.7137),
+    ("-1467-11-04", "13:16:02", 0.2581),
+    ("-0241-06-15", "13:05:26", 0.1836),
+]
+
+
+@pytest.mark.parametrize("date, td, gamma", HYBRIDS)
+def test_hybrid_solar_eclipses_of_the_canon(ancient, date, td, gamma):
+    want_tt = parse_date(f"{date} {td}")
+    found = [e for e in real_eclipses(ancient, want_tt - 2, want_tt + 2) if e.kind == "solar"]
+    assert len(found) == 1
+    e = found[0]
+    tt = e.jd_ut + float(ancient.at(e.jd_ut).delta_t_s) / 86400
+    assert e.type == "hybrid"
+    assert abs(tt - want_tt) * 1440 < 2.0  # minutes: the ephemerides differ, not ΔT (TD)
+    assert e.gamma == pytest.approx(gamma, abs=0.001)
+
+
+# Solar eclipses of antiquity as dated by historians (BC years, Julian calendar), with the
+# canon's type and gamma, from the list of solar eclipses in antiquity in Wikipedia (which
+# quotes the NASA Five Millennium Canon): written as a historian writes them, found on the
+# day named.
+HISTORIANS_ECLIPSES = [
+    ("3 May 1375 BC", "total", 0.7755),
+    ("5 June 1302 BC", "total", 0.2982),
+    ("16 Apr 1178 BC", "total", 0.5187),
+    ("6 Apr 648 BC", "total", 0.6898),
+    ("19 May 557 BC", "total", 0.3145),
+]
+
+
+@pytest.mark.parametrize("day, kind, gamma", HISTORIANS_ECLIPSES)
+def test_eclipses_written_with_bc_years_are_found_on_their_day(ancient, day, kind, gamma):
+    start = parse_date(day)
+    found = [e for e in real_eclipses(ancient, day, start + 1) if e.kind == "solar"]
+    assert [e.type for e in found] == [kind]
+    assert found[0].gamma == pytest.approx(gamma, abs=0.001)
+    assert format_jd(found[0].jd_ut).endswith(f"= {day.split()[2]} BC")
