@@ -377,6 +377,17 @@ def test_venus_meeus_33a(sky):
     assert abs(dang(st.planet_lon_deg["venus"], 313.08102)) < 2 * ARCSEC
 
 
+def test_venus_heliocentric_meeus_32a(sky):
+    # Meeus, Astronomical Algorithms 2nd ed., example 32.a: Venus on 1992 Dec 20, 0h TD,
+    # heliocentric L = 26.11428°, on the mean ecliptic and equinox of date (his VSOP87 series
+    # truncated to about 1"). An orrery arm's heliocentric longitude here is on the true
+    # equinox, so take the nutation in longitude off it.
+    jd_ut = tt_to_ut(sky, 2448976.5)
+    st = sky.at(jd_ut, planets=("venus",))
+    dpsi = float(np.degrees(np.squeeze(_nutation_2000b(_timescale().ut1_jd(jd_ut).tt)[0])))
+    assert abs(dang(st.planet_helio_lon_deg["venus"] - dpsi, 26.11428)) < 1.5 * ARCSEC
+
+
 def test_planets_against_pyephem(sky):
     # PyEphem (libastro's planetary theory), 200 dates 1900-2050 per planet. Geocentric:
     # g_ra/g_dec, apparent of date, to ecliptic with the true obliquity. Heliocentric: hlon,
