@@ -54,6 +54,17 @@ def sky_for(train: Train, ephemeris=None):
         raise TrainError(train.source, "[epoch] ephemeris", str(exc)) from None
 
 
+def _named_elsewhere(train: Train, sky) -> str:
+    """When a sky given in place of the one the file's ``[epoch] ephemeris`` names cannot
+    reach the epoch: the words saying so, and how to use the file's own."""
+    eph = train.epoch.ephemeris
+    if not eph or str(eph).lower() in str(getattr(sky, "name", "")).lower():
+        return ""
+    return (f"; the file names ephemeris = \"{eph}\" in [epoch], and the sky given takes its "
+            f"place: leave --ephemeris out (from Python, open_train(path) without a sky, or "
+            f"Sky('{eph}'))")
+
+
 def build(train: Train, sky=None) -> Mechanism:
     """Solve ``train`` and set its pointers as its ``[epoch] set`` says.
 
@@ -61,13 +72,15 @@ def build(train: Train, sky=None) -> Mechanism:
     needs the sky.
     """
     kin = solve(train)
+    given = sky is not None
     if sky is None and train.epoch.set != "angles":
         sky = sky_for(train)
     try:
         values = epoch_values(train, sky)
     except SkyError as exc:  # the epoch itself cannot be looked up: say which file says so
         raise TrainError(train.source, "[epoch] date", f"the pointers were set at a date the "
-                         f"sky cannot be computed for: {exc}") from None
+                         f"sky cannot be computed for: {exc}"
+                         + (_named_elsewhere(train, sky) if given else "")) from None
     return Mechanism(train, kin, Readout(kin, values), tuple(backward_warnings(train, kin)))
 
 

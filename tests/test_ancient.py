@@ -94,6 +94,23 @@ def test_epoch_names_its_ephemeris(tmp_path):
         load_train(bad)
 
 
+def test_a_sky_given_in_place_of_the_files_ephemeris_is_named_when_the_epoch_is_outside_it(
+        capsys):
+    """From Python, open_train(path, Sky()) sets the train against the sky given, not the one
+    its [epoch] names; when that cannot reach the epoch the error says the file named another
+    and how to use it (from the command line: --ephemeris given)."""
+    from engine.api import TrainError, open_train
+    from engine.cli import main
+
+    with pytest.raises(TrainError) as info:
+        open_train(DEMO, Sky())
+    msg = str(info.value)
+    assert "outside JPL DE421" in msg and "\n" not in msg
+    assert 'names ephemeris = "de406"' in msg and "Sky('de406')" in msg
+    assert main(["drift", "lunation_board", "--years", "1", "--ephemeris", "de421"]) == 1
+    assert 'names ephemeris = "de406"' in capsys.readouterr().err
+
+
 def test_lunation_board_drifts_as_its_nineteen_year_relation_says(ancient):
     """Set in 150 BC, read over one 19-year cycle on DE406. The 19-year relation makes the
     year 235/19 mean synodic months = 365.2468 d against the tropical year's 365.2422 d, so the
