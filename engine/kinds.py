@@ -181,7 +181,7 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
                 _both("synodic_month"), lambda s: s.elongation_deg, lambda m: m["phase"],
                 precesses=False,
                 swings=(*MOON_SWINGS, ("Sun's equation of centre, second harmonic",
-                                       _ANOM_YEAR / 2))),
+                                       _ANOM_YEAR / 2)), in_days=True),
 )}
 
 

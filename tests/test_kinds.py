@@ -172,6 +172,23 @@ def test_an_error_in_days_is_a_column_of_the_row(monkeypatch, sky, tmp_path):
     assert f"{name}_error_days" not in csv_header(mech, 2451545.0, 2451945.0)
 
 
+def test_an_eclipse_cycle_dials_error_is_given_in_days_as_the_phases_is(sky):
+    """An eclipse-cycle dial counts lunations as the phase does; a day early or late decides
+    which month a syzygy falls in, so its error is given in days too (common practice, no
+    source): drift's largest error, and the ratio report's years until it is a day out."""
+    from engine.api import DriftRun, RunControl, drift_series, open_train, pointer_ratios
+
+    assert kinds.days_rate("cycle") == kinds.days_rate("phase")
+    board = open_train(ROOT / "engine" / "trains" / "eclipse_board.toml", sky)
+    row = {r.pointer: r for r in pointer_ratios(board)}["months"]
+    assert row.years_to_one_day is not None and row.years_to_one_day > 0
+    start = board.train.epoch.jd_ut
+    res = drift_series(board, sky, DriftRun(start, start + 400, 1.0),
+                       RunControl(keep_series=False))
+    s = res.summaries["months"]
+    assert s.max_abs_days == pytest.approx(s.max_abs_deg / kinds.days_rate("phase"))
+
+
 def test_unknown_kind_in_a_train_names_the_known_ones(tmp_path):
     from engine.errors import TrainError
     from engine.loader import load_train

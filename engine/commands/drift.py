@@ -70,7 +70,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                            "(at most 180: no pointer is further off than that)")
     cmp_.add_argument("--threshold-days", type=support.positive("days", MAX_THRESHOLD_DAYS),
                       metavar="DAYS",
-                      help="for phase pointers: the first date they are this many days off "
+                      help="for phase pointers and eclipse-cycle dials: the first date they are "
+                           "this many days off "
                            f"(others use --threshold; at most {MAX_THRESHOLD_DAYS:g}, half a "
                            "month)")
     cmp_.add_argument("--frame", choices=("equinox", "stars"),
