@@ -390,7 +390,8 @@ class _ChebGroup:
             return None
         step = self.intlen / m
         slip = rel - step * np.arange(n)
-        if not np.max(np.abs(slip)) <= _GRID_SLIP_S:
+        largest_slip = float(np.max(np.abs(slip)))
+        if not largest_slip <= _GRID_SLIP_S:
             return None
         # The first date's record and offset in it, as in the gather path.
         base = (whole[0] - T0) * SECONDS_PER_DAY - self.init
@@ -403,22 +404,23 @@ class _ChebGroup:
         records = (j0 + n - 1) // m + 1
         if first < 0 or first + records > self.nrec:
             return None
-        phase = offset - j0 * step
-        coef = self.coef[first:first + records]
+        # The grid points' place in their slot, to whole multiples of _GRID_PHASE_S (so that
+        # batches share one basis); what that moves them is part of every date's slip.
+        phase_steps = round((offset - j0 * step) / _GRID_PHASE_S)
+        slip += (offset - j0 * step) - phase_steps * _GRID_PHASE_S
         eps = slip * (2.0 / self.intlen)  # each date's slip in the record's own unit
-        orders = _taylor_orders(self._largest_terms(first, records), self.nterms,
-                                float(np.max(np.abs(eps))), self.intlen, self.scale)
+        orders = self._orders(first, records, (largest_slip + _GRID_PHASE_S) * 2.0 / self.intlen)
         if orders is None:
             return None
         p_order, v_order = orders
-        s = 2.0 * (phase + step * np.arange(m)) / self.intlen - 1.0
         # P_d, the d-th derivative in s at every date's grid point, (coordinates, dates): one
         # product per order over all records (coordinates first, so the records' slots run
         # on in date order and nothing is transposed afterwards).
-        by_coord = coef.transpose(1, 0, 2)
+        by_coord = self.coef[first:first + records].transpose(1, 0, 2)
         with _one_blas_thread():
             p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
-                 for b in _chebyshev_basis(s, self.nterms, max(p_order, v_order + 1))]
+                 for b in _grid_basis(self.nterms, m, self.intlen, phase_steps,
+                                      max(p_order, v_order + 1))]
         # Horner in ε: value P0 + ε(P1 + ε/2 (P2 + ε/3 P3)), rate P1 + ε(P2 + ε/2 P3)
         pos = p[p_order] * (eps / p_order)
         for d in range(p_order - 1, 0, -1):
@@ -437,6 +439,19 @@ class _ChebGroup:
         return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
                 for i, key in enumerate(self.keys)}
 
+    def _orders(self, first: int, count: int, eps: float) -> tuple[int, int] | None:
+        """:func:`_taylor_orders` for records ``first`` .. ``first + count - 1`` and slips of up
+        to ``eps``, remembered for each range of blocks (:meth:`_largest_terms`) and each
+        quarter octave of ``eps``, taken at the octave's top (orders that hold for a larger
+        slip hold for a smaller one)."""
+        step = math.ceil(4.0 * math.log2(eps)) if eps > 0.0 else -4000
+        key = (first // _TOP_BLOCK, (first + count - 1) // _TOP_BLOCK, step)
+        memo = self.__dict__.setdefault("_orders_memo", {})
+        if key not in memo:
+            memo[key] = _taylor_orders(self._largest_terms(first, count), self.nterms,
+                                       2.0 ** (step / 4.0), self.intlen, self.scale)
+        return memo[key]
+
     def _largest_terms(self, first: int, count: int) -> np.ndarray:
         """(terms,): the largest |c_j| over records ``first`` .. ``first + count - 1`` and
         every coordinate — or over the blocks of :data:`_TOP_BLOCK` records holding them
@@ -452,6 +467,7 @@ class _ChebGroup:
 
 
 _TOP_BLOCK = 1024  # records a block when bounding the Taylor remainder
+_GRID_PHASE_S = 1.0  # grid points sit on whole seconds within their slot (see _grid_basis)
 _GRID_MIN_DATES = 64  # fewer dates than this are gathered: the product would not pay
 _GRID_SLIP_S = 1800.0  # largest departure (s) of a date from its grid point in a grid batch
 
@@ -493,6 +509,20 @@ def _chebyshev_basis(s: np.ndarray, k: int, orders: int) -> list[np.ndarray]:
     derivatives as fixed combinations of them (:func:`_chebyshev_derivatives`)."""
     values = np.polynomial.chebyshev.chebvander(s, k - 1).T  # (k, m)
     return [values] + [d @ values for d in _chebyshev_derivatives(k)[:orders]]
+
+
+@functools.lru_cache(maxsize=64)
+def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int
+                ) -> list[np.ndarray]:
+    """:func:`_chebyshev_basis` at the m grid points ``phase_steps`` · :data:`_GRID_PHASE_S`
+    seconds into each of a record's m slots (a record of ``intlen_s`` seconds), remembered:
+    batches of a regular run of dates share it."""
+    step = intlen_s / m
+    s = 2.0 * (phase_steps * _GRID_PHASE_S + step * np.arange(m)) / intlen_s - 1.0
+    basis = _chebyshev_basis(s, k, orders)
+    for b in basis:
+        b.flags.writeable = False
+    return basis
 
 
 @functools.cache
@@ -1050,6 +1080,7 @@ class _Apparent(NamedTuple):
     v_obs: np.ndarray
     sun_p: np.ndarray
     sun_v: np.ndarray
+    both: np.ndarray  # (2, 3, n): sun and moon stacked (they are views of it)
 
 
 class Sky:
@@ -1202,49 +1233,56 @@ class Sky:
         return (*out, vectors, jd_tt, _delta_t(t)), geo, helio
 
     def _apparent(self, whole, frac, site=None, t=None, vectors=None) -> _Apparent:
-        """Apparent Sun and Moon (ICRS axes, au) from the Earth's centre or a site at TDB dates
-        ``whole + frac``, with the positions the planets' light path needs."""
+        """Apparent Sun and Moon (ICRS axes, km) from the Earth's centre or a site at TDB dates
+        ``whole + frac``, with the positions the planets' light path needs (km, km/day)."""
         pv = {}
         for group in self._loaded.groups:
             pv.update(group.evaluate(whole, frac))
-        to_au = 1.0 / AU_KM
         emb, v_emb = pv[(0, 3)]
         m_rel, v_m_rel = pv[(3, 301)]
         if self._loaded.earth_ratio is not None:
-            e_rel, v_e_rel = -self._loaded.earth_ratio * m_rel, -self._loaded.earth_ratio * v_m_rel
+            geocentre = m_rel * -self._loaded.earth_ratio
+            v_obs = v_m_rel * -self._loaded.earth_ratio
         else:
-            e_rel, v_e_rel = pv[(3, 399)]
-        geocentre = (emb + e_rel) * to_au
+            geocentre, v_obs = pv[(3, 399)]
+            geocentre, v_obs = geocentre.copy(), v_obs.copy()
+        geocentre += emb
+        v_obs += v_emb
         obs = geocentre
-        v_obs = (v_emb + v_e_rel) * to_au
         if site is not None:
             skyfield_2000b_nutation(t)
             here = wgs84.latlon(site.lat_deg, site.lon_deg, elevation_m=site.height_m).at(t)
-            obs = obs + here.xyz.au
-            v_obs = v_obs + here.velocity.au_per_d
+            obs = obs + here.xyz.km
+            v_obs += here.velocity.km_per_s * SECONDS_PER_DAY
+        # The Sun and the Moon stacked (body, axis, date): one pass of each step for both.
+        n = geocentre.shape[-1]
+        targets, rate = np.empty((2, 3, n)), np.empty((2, 3, n))
         sun_p, sun_v = pv[(0, 10)]
-        sun_p, sun_v = sun_p * to_au, sun_v * to_au
-        sun, sun_lt = _light_time(sun_p, sun_v, obs)
-        moon, moon_lt = _light_time((emb + m_rel) * to_au, (v_emb + v_m_rel) * to_au, obs)
+        targets[0], rate[0] = sun_p, sun_v
+        np.add(emb, m_rel, out=targets[1])
+        np.add(v_emb, v_m_rel, out=rate[1])
+        both, lts = _light_time(targets, rate, obs, _C_KM_DAY)
         if vectors is not None:  # kept for the lit fraction, before aberration
-            vectors[:3], vectors[3:] = sun, moon
-        _add_aberration((sun, moon), (sun_lt, moon_lt), v_obs)
-        return _Apparent(sun, moon, geocentre, obs, v_obs, sun_p, sun_v)
+            vectors[:] = both.reshape(6, n)
+        _add_aberration((both,), (lts,), v_obs, _C_KM_DAY)
+        sun, moon = both
+        return _Apparent(sun, moon, geocentre, obs, v_obs, targets[0], rate[0], both)
 
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
         a = self._apparent(whole, frac, site, t, vectors)
-        sun, moon, geocentre, obs, v_obs = a.sun, a.moon, a.geocentre, a.obs, a.v_obs
-        sun_p, sun_v, to_au = a.sun_p, a.sun_v, 1.0 / AU_KM
-
-        def turned(v):
-            return rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v)
+        both = rot @ a.both if rot.ndim == 2 else np.einsum("ijn,bjn->bin", rot, a.both)
+        length = _lon_lat(both, dpsi, out[0:4:2], out[1:4:2])[2]  # rows: Sun, Moon
+        out[4] = length[1]
+        if not names:
+            return
+        # The planets' light path works in au.
+        to_au = 1.0 / AU_KM
+        geocentre, obs, v_obs = a.geocentre * to_au, a.obs * to_au, a.v_obs * to_au
+        sun_p, sun_v = a.sun_p * to_au, a.sun_v * to_au
 
         def lon(v):
-            return _lon(turned(v), dpsi)
+            return _lon(rot @ v if rot.ndim == 2 else np.einsum("ijn,jn->in", rot, v), dpsi)
 
-        out[0], out[1], _ = _lon_lat(turned(sun), dpsi)
-        out[2], out[3], moon_au = _lon_lat(turned(moon), dpsi)
-        out[4] = moon_au * AU_KM
         for name in names:
             if name == "earth":
                 helio_out[name][:] = lon(geocentre - sun_p)
@@ -1315,38 +1353,45 @@ def _delta_t(t) -> np.ndarray:
     return np.asarray(t.tt_fraction, dtype=float) * SECONDS_PER_DAY * np.ones(np.shape(t.tt))
 
 
-def _light_time(target_au, target_au_per_d, observer_au):
+def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY):
     """Target position seen from the observer when its light left, and that light time (days).
 
-    The target is moved back along its velocity: the light time τ then solves
-    |d − τv| = cτ (d the geometric offset, v the target's velocity), a quadratic solved in
-    closed form — the value an iteration would converge to. Over the Sun's 500 s and the
-    Moon's 1.3 s the neglected acceleration moves them by under a centimetre."""
+    Targets are (3, n) or stacked (bodies, 3, n); the observer is (3, n); lengths in any unit,
+    with ``c`` the speed of light in that unit a day (au by default). The target is moved
+    back along its velocity: the light time τ then solves |d − τv| = cτ (d the geometric
+    offset, v the target's velocity), a quadratic solved in closed form — the value an
+    iteration would converge to. Over the Sun's 500 s and the Moon's 1.3 s the neglected
+    acceleration moves them by under a centimetre."""
     d = target_au - observer_au
-    dv = np.einsum("in,in->n", d, target_au_per_d)
-    dd = np.einsum("in,in->n", d, d)
-    a = C_AUDAY * C_AUDAY - np.einsum("in,in->n", target_au_per_d, target_au_per_d)
+    dv = np.einsum("...in,...in->...n", d, target_au_per_d)
+    dd = np.einsum("...in,...in->...n", d, d)
+    a = c * c - np.einsum("...in,...in->...n", target_au_per_d, target_au_per_d)
     lt = (np.sqrt(dv * dv + a * dd) - dv) / a
-    return d - lt * target_au_per_d, lt
+    d -= lt[..., None, :] * target_au_per_d
+    return d, lt
 
 
 _TINY = np.finfo(np.float64).tiny  # keeps an observer at rest from dividing by zero
+_C_KM_DAY = C * SECONDS_PER_DAY / 1000.0  # the speed of light in km a day
 
 
-def _add_aberration(positions, light_times, v_obs) -> None:
+def _add_aberration(positions, light_times, v_obs, c=C_AUDAY) -> None:
     """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``, the same
-    formula and operations) applied in place to each position (AU, from the observer) with its
-    light time, the observer's speed and Lorentz factor worked out once for all of them."""
+    formula and operations) applied in place to each position (from the observer; (3, n)
+    or stacked (bodies, 3, n)) with its light time, the observer's speed and Lorentz factor
+    worked out once for all of them. Lengths in any unit, with ``c`` the speed of light in
+    that unit a day (au by default, as skyfield's)."""
     vemag = np.sqrt(np.einsum("in,in->n", v_obs, v_obs))
-    beta = vemag / C_AUDAY
+    beta = vemag / c
     gammai = np.sqrt(1.0 - beta * beta)
     for position, light_time in zip(positions, light_times, strict=True):
-        dot = np.einsum("in,in->n", position, v_obs)
-        p = beta * (dot / (light_time * C_AUDAY * vemag + _TINY))
+        dot = np.einsum("...in,in->...n", position, v_obs)
+        p = beta * (dot / (light_time * c * vemag + _TINY))
         q = (1.0 + p / (1.0 + gammai)) * light_time
         position *= gammai
-        position += q * v_obs
-        position /= 1.0 + p
+        position += q[..., None, :] * v_obs
+        p += 1.0
+        position /= p[..., None, :]
 
 
 def _planet_apparent(group, key, whole, frac, p_now, v_now, obs, v_obs, sun_p, sun_v):
@@ -1404,10 +1449,11 @@ def _illuminated(sun_au, moon_au):
 _DEG = 180.0 / math.pi
 
 
-def _lon(v, dpsi=None):
-    """Ecliptic longitude in degrees, 0-360, of the vectors ``v`` (3, n) turned by ``dpsi``
-    (radians; None for no turn). The wrap is ``np.mod``'s, written out: a tenth of its cost."""
-    lon = np.arctan2(v[1], v[0])
+def _lon(v, dpsi=None, out=None):
+    """Ecliptic longitude in degrees, 0-360, of the vectors ``v`` (3, n), or stacked
+    (bodies, 3, n), turned by ``dpsi`` (radians; None for no turn). The wrap is ``np.mod``'s,
+    written out: a tenth of its cost."""
+    lon = np.arctan2(v[..., 1, :], v[..., 0, :], out=out)
     if dpsi is not None:
         lon += dpsi
     lon *= _DEG
@@ -1415,12 +1461,17 @@ def _lon(v, dpsi=None):
     return lon
 
 
-def _lon_lat(v, dpsi=None):
-    """(longitude, latitude in degrees, length) of the vectors ``v`` (3, n)."""
-    rho2 = v[0] * v[0] + v[1] * v[1]
-    lat = np.arctan2(v[2], np.sqrt(rho2))
+def _lon_lat(v, dpsi=None, lon=None, lat=None, length=None):
+    """(longitude, latitude in degrees, length) of the vectors ``v`` (3, n) or (bodies, 3,
+    n), written into ``lon``, ``lat`` and ``length`` when given."""
+    x, y, z = v[..., 0, :], v[..., 1, :], v[..., 2, :]
+    rho2 = x * x
+    rho2 += y * y
+    rho = np.sqrt(rho2)
+    lat = np.arctan2(z, rho, out=lat)
     lat *= _DEG
-    return _lon(v, dpsi), lat, np.sqrt(rho2 + v[2] * v[2])
+    rho2 += z * z
+    return _lon(v, dpsi, lon), lat, np.sqrt(rho2, out=length)
 
 
 # --- eclipse geometry (used by engine/eclipses.py; self-contained, keep it last) -------------
@@ -1439,7 +1490,7 @@ def eclipse_vectors(sky: Sky, jd_ut) -> tuple[np.ndarray, np.ndarray]:
     t = _timescale().ut1_jd(flat)
     if sky._loaded.groups is not None:
         a = sky._apparent(np.reshape(t.whole, -1), np.reshape(t.tdb_fraction, -1))
-        return a.sun * AU_KM, a.moon * AU_KM
+        return a.sun, a.moon
     sky._require_kernel("the eclipse geometry")
     here = sky._earth.at(t)
     sun = here.observe(sky._sun).apparent().xyz.km
