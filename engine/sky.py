@@ -132,7 +132,8 @@ _SEGMENTS = {  # (center, target) -> what it is, for messages
     (0, 10): "Sun (0->10)",
 }
 _RATIO_SAMPLE = 256  # records checked for the Earth/Moon ratio (see _mass_ratio)
-_BATCH = 4096  # dates per batch in the fast pipeline
+_BATCH = 8192  # dates per batch in the fast pipeline (fewer when they span too long: _batches)
+_NUT_BATCH = 4096  # dates per batch of the nutation series (its 77-row temporaries in cache)
 _EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, light time)
 
 
@@ -775,9 +776,9 @@ def _dpsi_2000b_exact(jd_tt: np.ndarray) -> np.ndarray:
     needed: the true ecliptic of date only turns longitudes by Δψ). Arguments reduced in
     double precision; sines and their sums in single precision (rounding below 0.00002″ on
     terms of at most 17″). In batches, so the 77-row temporaries stay in cache."""
-    if jd_tt.size > _BATCH:
-        return np.concatenate([_dpsi_2000b_exact(jd_tt[i:i + _BATCH])
-                               for i in range(0, jd_tt.size, _BATCH)])
+    if jd_tt.size > _NUT_BATCH:
+        return np.concatenate([_dpsi_2000b_exact(jd_tt[i:i + _NUT_BATCH])
+                               for i in range(0, jd_tt.size, _NUT_BATCH)])
     t = (jd_tt - T0) / JULIAN_CENTURY_DAYS
     turns = (_FA0[:, None] + _FA1[:, None] * t) / ASEC360
     a = ((turns - np.floor(turns)) * (2 * np.pi)).astype(np.float32)
@@ -1220,8 +1221,7 @@ class Sky:
         geo = {name: np.empty(n) for name in names if name != "earth"}
         helio = {name: np.empty(n) for name in names}
         with _one_blas_thread():  # once for every batch's ephemeris products
-            for i in range(0, n, _BATCH):
-                sl = slice(i, min(i + _BATCH, n))
+            for sl in _batches(jd_tt, stars is None):
                 frac = _tdb_fraction(whole[sl], tt_fraction[sl])  # its grid is anchored too
                 # Rotation and nutation batch by batch (their grids are anchored, so batches
                 # agree): interpolating over all dates at once would leave the cache.
@@ -1324,6 +1324,23 @@ class Sky:
             helio[name] = (body - self._sun).at(t).frame_latlon(f)[1].degrees % 360.0
         return (slon.degrees % 360.0, slat.degrees, mlon.degrees % 360.0, mlat.degrees,
                 mdist.km, vectors, t.tt, _delta_t(t), geo, helio)
+
+
+def _batches(jd_tt: np.ndarray, rotating: bool) -> list[slice]:
+    """The fast pipeline's batches: :data:`_BATCH` dates, and where the frame turns (the
+    equinox of date) and the dates rise, fewer when they would span more than
+    :data:`_ROT_POLY_SPAN_DAYS` (so each batch's rotation stays one cubic in time)."""
+    n = jd_tt.size
+    if not rotating or n <= 1 or not jd_tt[-1] - jd_tt[0] > _ROT_POLY_SPAN_DAYS - 1.0 or \
+            np.any(jd_tt[1:] < jd_tt[:-1]):
+        return [slice(i, min(i + _BATCH, n)) for i in range(0, n, _BATCH)]
+    out, i = [], 0
+    while i < n:
+        end = int(np.searchsorted(jd_tt, jd_tt[i] + (_ROT_POLY_SPAN_DAYS - 1.0), "right"))
+        end = min(max(end, i + 1), i + _BATCH, n)
+        out.append(slice(i, end))
+        i = end
+    return out
 
 
 def _moment_text(jd: float) -> str:

@@ -1034,3 +1034,22 @@ def test_ut1_time_one_delta_t_evaluation_fewer():
         assert np.array_equal(ours.whole, theirs.whole)
         assert np.max(np.abs(ours.tt_fraction - theirs.tt_fraction)) * 86400.0 < 1e-6, start
         assert np.array_equal(ours.ut1, theirs.ut1)
+
+
+def test_batches_keep_each_rotation_one_cubic():
+    # The fast pipeline's batches: at most _BATCH dates, covering every date once in order,
+    # and for rising dates in a turning frame no batch spans more than the rotation's cubic
+    # allows (dates two days apart would otherwise span 16,382 days in one batch).
+    from engine.sky import _BATCH, _ROT_POLY_SPAN_DAYS, _batches
+
+    for step in (0.25, 1.0, 2.0, 7.0):
+        jd = 2400000.5 + step * np.arange(30000)
+        for rotating in (True, False):
+            bounds = _batches(jd, rotating)
+            assert bounds[0].start == 0 and bounds[-1].stop == jd.size
+            assert all(a.stop == b.start for a, b in zip(bounds[:-1], bounds[1:], strict=True))
+            assert all(0 < b.stop - b.start <= _BATCH for b in bounds)
+            if rotating:
+                assert all(jd[b.stop - 1] - jd[b.start] <= _ROT_POLY_SPAN_DAYS for b in bounds)
+    shuffled = np.random.default_rng(3).permutation(2400000.5 + 2.0 * np.arange(30000))
+    assert [b.stop - b.start for b in _batches(shuffled, True)][0] == _BATCH
