@@ -417,11 +417,15 @@ class _ChebGroup:
         # P_d, the d-th derivative in s at every date's grid point, (coordinates, dates): one
         # product per order over all records (coordinates first, so the records' slots run
         # on in date order and nothing is transposed afterwards).
+        # All orders in one product: the basis's columns run slot by slot, each slot's orders
+        # side by side, so each order is a strided view in date order.
+        orders = max(p_order, v_order + 1) + 1
         by_coord = self.coef[first:first + records].transpose(1, 0, 2)
         with _one_blas_thread():
-            p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
-                 for b in _grid_basis(self.nterms, m, self.intlen, phase_steps,
-                                      max(p_order, v_order + 1))]
+            product = np.matmul(by_coord, _grid_basis(self.nterms, m, self.intlen, phase_steps,
+                                                      orders - 1))
+        product = product.reshape(-1, records * m, orders)[:, j0:j0 + n]
+        p = [product[..., d] for d in range(orders)]
         # Horner in ε: value P0 + ε(P1 + ε/2 (P2 + ε/3 P3)), rate P1 + ε(P2 + ε/2 P3)
         pos = p[p_order] * (eps / p_order)
         for d in range(p_order - 1, 0, -1):
@@ -513,16 +517,15 @@ def _chebyshev_basis(s: np.ndarray, k: int, orders: int) -> list[np.ndarray]:
 
 
 @functools.lru_cache(maxsize=64)
-def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int
-                ) -> list[np.ndarray]:
-    """:func:`_chebyshev_basis` at the m grid points ``phase_steps`` · :data:`_GRID_PHASE_S`
-    seconds into each of a record's m slots (a record of ``intlen_s`` seconds), remembered:
-    batches of a regular run of dates share it."""
+def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int) -> np.ndarray:
+    """(k, m · (orders + 1)): :func:`_chebyshev_basis` at the m grid points ``phase_steps`` ·
+    :data:`_GRID_PHASE_S` seconds into each of a record's m slots (a record of ``intlen_s``
+    seconds), the columns slot by slot with each slot's derivatives side by side;
+    remembered, since the batches of a regular run of dates share it."""
     step = intlen_s / m
     s = 2.0 * (phase_steps * _GRID_PHASE_S + step * np.arange(m)) / intlen_s - 1.0
-    basis = _chebyshev_basis(s, k, orders)
-    for b in basis:
-        b.flags.writeable = False
+    basis = np.stack(_chebyshev_basis(s, k, orders), axis=2).reshape(k, -1)
+    basis.flags.writeable = False
     return basis
 
 
@@ -846,19 +849,24 @@ def _grid(x: np.ndarray, step: float, values_at, points_per_date: float = 1.0
     m = int((float(x.max()) - lo) / step) + 3
     if m > points_per_date * x.size:
         return None
-    values = np.asarray(values_at(lo, step, m), dtype=float).reshape(m)
+    v = np.asarray(values_at(lo, step, m), dtype=float).reshape(m)
+    # The cubic through the four points at -1, 0, 1, 2 about each point, in powers of f (the
+    # date's place from that point): c0 + f (c1 + f (c2 + f c3)), its coefficients once a
+    # point; then each date gathers four of them.
+    v0, v1, v2, v3 = v[:m - 3], v[1:m - 2], v[2:m - 1], v[3:]
+    c1 = v2 - v0 * (1.0 / 3.0) - v1 * 0.5 - v3 * (1.0 / 6.0)
+    c2 = (v0 + v2) * 0.5 - v1
+    c3 = (v3 - v0) * (1.0 / 6.0) + (v1 - v2) * 0.5
     u = (x - lo) * (1.0 / step) - 1.0  # >= 0: from the first of each date's four points
     k = np.minimum(u.astype(np.intp), m - 4)  # truncation is the floor
     f = u - k  # in [0, 1): between the second and third of the four points k .. k+3
-    # Lagrange weights of the four points (at -1, 0, 1, 2 from the second) with shared
-    # factors; each point gathered through a shifted view with the one index array
-    fm1, fm2, fp1 = f - 1.0, f - 2.0, f + 1.0
-    a = f * fm1
-    b = fp1 * fm2
-    out = values[:m - 3][k] * (a * fm2 * (-1.0 / 6.0))
-    out += values[1:m - 2][k] * (b * fm1 * 0.5)
-    out += values[2:m - 1][k] * (b * f * -0.5)
-    out += values[3:][k] * (a * fp1 * (1.0 / 6.0))
+    out = c3[k]
+    out *= f
+    out += c2[k]
+    out *= f
+    out += c1[k]
+    out *= f
+    out += v1[k]
     return out
 
 
@@ -1271,8 +1279,9 @@ class Sky:
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
         a = self._apparent(whole, frac, site, t, vectors)
         both = rot @ a.both if rot.ndim == 2 else np.einsum("ijn,bjn->bin", rot, a.both)
-        length = _lon_lat(both, dpsi, out[0:4:2], out[1:4:2])[2]  # rows: Sun, Moon
-        out[4] = length[1]
+        _lon_lat(both, dpsi, out[0:4:2], out[1:4:2])  # rows: Sun, Moon
+        moon = both[1]
+        np.sqrt(np.einsum("in,in->n", moon, moon), out=out[4])
         if not names:
             return
         # The planets' light path works in au.
@@ -1468,27 +1477,26 @@ _DEG = 180.0 / math.pi
 
 def _lon(v, dpsi=None, out=None):
     """Ecliptic longitude in degrees, 0-360, of the vectors ``v`` (3, n), or stacked
-    (bodies, 3, n), turned by ``dpsi`` (radians; None for no turn). The wrap is ``np.mod``'s,
-    written out: a tenth of its cost."""
+    (bodies, 3, n), turned by ``dpsi`` (radians; None for no turn; under a minute of arc)."""
     lon = np.arctan2(v[..., 1, :], v[..., 0, :], out=out)
     if dpsi is not None:
         lon += dpsi
-    lon *= _DEG
-    lon -= 360.0 * np.floor(lon * (1.0 / 360.0))
+    lon *= _DEG  # in (-180.01, 180.01): one turn added below 0 (and -0.0 made 0.0)
+    np.add(lon, 360.0, out=lon, where=lon < 0.0)
+    lon += 0.0
     return lon
 
 
-def _lon_lat(v, dpsi=None, lon=None, lat=None, length=None):
-    """(longitude, latitude in degrees, length) of the vectors ``v`` (3, n) or (bodies, 3,
-    n), written into ``lon``, ``lat`` and ``length`` when given."""
+def _lon_lat(v, dpsi=None, lon=None, lat=None):
+    """(longitude, latitude) in degrees of the vectors ``v`` (3, n) or (bodies, 3, n),
+    written into ``lon`` and ``lat`` when given."""
     x, y, z = v[..., 0, :], v[..., 1, :], v[..., 2, :]
-    rho2 = x * x
-    rho2 += y * y
-    rho = np.sqrt(rho2)
+    rho = x * x
+    rho += y * y
+    np.sqrt(rho, out=rho)
     lat = np.arctan2(z, rho, out=lat)
     lat *= _DEG
-    rho2 += z * z
-    return _lon(v, dpsi, lon), lat, np.sqrt(rho2, out=length)
+    return _lon(v, dpsi, lon), lat
 
 
 # --- eclipse geometry (used by engine/eclipses.py; self-contained, keep it last) -------------
