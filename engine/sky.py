@@ -417,15 +417,11 @@ class _ChebGroup:
         # P_d, the d-th derivative in s at every date's grid point, (coordinates, dates): one
         # product per order over all records (coordinates first, so the records' slots run
         # on in date order and nothing is transposed afterwards).
-        # All orders in one product: the basis's columns run slot by slot, each slot's orders
-        # side by side, so each order is a strided view in date order.
-        orders = max(p_order, v_order + 1) + 1
+        orders = max(p_order, v_order + 1)
         by_coord = self.coef[first:first + records].transpose(1, 0, 2)
         with _one_blas_thread():
-            product = np.matmul(by_coord, _grid_basis(self.nterms, m, self.intlen, phase_steps,
-                                                      orders - 1))
-        product = product.reshape(-1, records * m, orders)[:, j0:j0 + n]
-        p = [product[..., d] for d in range(orders)]
+            p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
+                 for b in _grid_basis(self.nterms, m, self.intlen, phase_steps, orders)]
         # Horner in ε: value P0 + ε(P1 + ε/2 (P2 + ε/3 P3)), rate P1 + ε(P2 + ε/2 P3)
         pos = p[p_order] * (eps / p_order)
         for d in range(p_order - 1, 0, -1):
@@ -517,15 +513,16 @@ def _chebyshev_basis(s: np.ndarray, k: int, orders: int) -> list[np.ndarray]:
 
 
 @functools.lru_cache(maxsize=64)
-def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int) -> np.ndarray:
-    """(k, m · (orders + 1)): :func:`_chebyshev_basis` at the m grid points ``phase_steps`` ·
-    :data:`_GRID_PHASE_S` seconds into each of a record's m slots (a record of ``intlen_s``
-    seconds), the columns slot by slot with each slot's derivatives side by side;
-    remembered, since the batches of a regular run of dates share it."""
+def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int
+                ) -> list[np.ndarray]:
+    """:func:`_chebyshev_basis` at the m grid points ``phase_steps`` · :data:`_GRID_PHASE_S`
+    seconds into each of a record's m slots (a record of ``intlen_s`` seconds), remembered:
+    the batches of a regular run of dates share it."""
     step = intlen_s / m
     s = 2.0 * (phase_steps * _GRID_PHASE_S + step * np.arange(m)) / intlen_s - 1.0
-    basis = np.stack(_chebyshev_basis(s, k, orders), axis=2).reshape(k, -1)
-    basis.flags.writeable = False
+    basis = _chebyshev_basis(s, k, orders)
+    for b in basis:
+        b.flags.writeable = False
     return basis
 
 
