@@ -246,6 +246,51 @@ def _segment_arrays(seg) -> tuple[float, float, np.ndarray]:
     return (start_jd - T0) * SECONDS_PER_DAY, days * SECONDS_PER_DAY, np.transpose(coef, (2, 0, 1))[::-1]
 
 
+# The gather path's chunks (see _ChebGroup.evaluate): at most this many slots a chunk, and the
+# rough costs (ns) its choice of slots weighs, measured on numpy 2.4 with one BLAS thread (they
+# decide speed only, never a result): a slot's basis column (per term) and its share of the
+# gathers (per row of results); a chunk's stacked product (fixed, and per result).
+_MOST_SLOTS = 32
+_TURN_BLOCK = 1024  # records turned at a time for the gather path (_ChebGroup._series)
+_SLOT_NS_PER_TERM, _SLOT_NS_PER_ROW, _CHUNK_NS, _CHUNK_NS_PER_RESULT = 0.9, 0.3, 50.0, 0.4
+
+
+def _second_kind(coef: np.ndarray, rate: float, scale: float) -> np.ndarray:
+    """(records, 2 × coordinates, terms): Chebyshev series (records, coordinates, terms)
+    re-expressed in polynomials of the second kind, U_0 .. U_{k-1}: positions first
+    (T_0 = U_0, T_1 = U_1/2, T_j = (U_j − U_{j−2})/2), then rates (T_j' = j U_{j−1}) times
+    ``rate``; all times ``scale``. One basis then gives both, with no second series."""
+    m, c, k = coef.shape
+    out = np.zeros((m, 2, c, k))
+    pos, vel = out[:, 0], out[:, 1]
+    pos[..., 0] = coef[..., 0]
+    np.multiply(coef[..., 1:], 0.5, out=pos[..., 1:])
+    pos[..., :k - 2] -= 0.5 * coef[..., 2:]
+    np.multiply(coef[..., 1:], np.arange(1.0, k) * rate, out=vel[..., :k - 1])
+    if scale != 1.0:
+        out *= scale
+    return out.reshape(m, 2 * c, k)
+
+
+def _rows(rows: int, n: int) -> np.ndarray:
+    """An empty (rows, n) array whose rows lie one cache line past a multiple of 64 values
+    apart: rows a multiple of 4 KiB apart share cache sets, which slows the stacked products
+    that read and write them column by column (by up to half at 4,096 dates)."""
+    return np.empty((rows, (n // 64) * 64 + 72))[:, :n]
+
+
+def _second_kind_basis(s: np.ndarray, k: int) -> np.ndarray:
+    """(k, len(s)): U_0 .. U_{k-1} at ``s`` by their recurrence U_j = 2s U_{j−1} − U_{j−2}."""
+    basis = _rows(k, s.size)
+    basis[0] = 1.0
+    if k > 1:
+        np.multiply(s, 2.0, out=basis[1])
+    for j in range(2, k):
+        np.multiply(basis[1], basis[j - 1], out=basis[j])
+        basis[j] -= basis[j - 2]
+    return basis
+
+
 class _ChebGroup:
     """Chebyshev series sharing one record layout, evaluated together in one gather.
 
@@ -262,6 +307,7 @@ class _ChebGroup:
         self.nterms = max(a[2].shape[0] for _, a in keyed_arrays)
         self.nrec = coef0.shape[2]
         self.scale = 1.0
+        self.mapped = False  # True: coef is the file's own (mapped) array, read as it is
         self._arrays = keyed_arrays
 
     # Gathered on first use, not when the file is opened: a command asking for the Sun and the
@@ -274,23 +320,24 @@ class _ChebGroup:
             coef[:, 3 * i:3 * i + 3, :c.shape[0]] = np.transpose(c, (2, 1, 0))
         return coef
 
-    @functools.cached_property
-    def dcoef32(self) -> np.ndarray | None:
-        """The derivative's series, (records, coordinates, terms - 1), in single precision:
-        rates come from the same basis as positions, with no recurrence of their own. For a
-        series :meth:`from_records` maps (not copied: DE406's arrays), None — the rates then
-        come from the derivative's recurrence on the gathered records."""
-        nrec, ncoord, k = self.coef.shape
-        out = np.empty((nrec, ncoord, k - 1), dtype=np.float32)
-        for i in range(0, nrec, 8192):  # in slices: no double-precision copy of a long file
-            c = self.coef[i:i + 8192]
-            d = np.zeros((c.shape[0], ncoord, k + 1))
-            # d_{j-1} = d_{j+1} + 2 j c_j, then d_0 halved (the Chebyshev derivative recurrence)
-            for j in range(k - 1, 0, -1):
-                d[:, :, j - 1] = d[:, :, j + 1] + 2.0 * j * c[:, :, j]
-            d[:, :, 0] *= 0.5
-            out[i:i + 8192] = d[:, :, :k - 1]
-        return out
+    def _series(self, index: np.ndarray) -> np.ndarray:
+        """(len(index), 2 × coordinates, terms): records ``index`` as :func:`_second_kind`
+        gives them, rates in km/day. Kept with the series, turned :data:`_TURN_BLOCK` records
+        at a time when first read (a block never read takes no memory); a series
+        :meth:`from_records` maps (not copied: DE406's arrays) is turned as it is read."""
+        rate = 2.0 * SECONDS_PER_DAY / self.intlen
+        if self.mapped:
+            return _second_kind(np.take(self.coef, index, axis=0), rate, self.scale)
+        k, rows = self.nterms, 6 * len(self.keys)
+        table, turned = self.__dict__.get("_turned") or self.__dict__.setdefault(
+            "_turned", (np.empty((self.nrec, rows, k)),
+                        np.zeros(-(-self.nrec // _TURN_BLOCK), dtype=bool)))
+        for b in range(int(index.min()) // _TURN_BLOCK, int(index.max()) // _TURN_BLOCK + 1):
+            if not turned[b]:
+                block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
+                table[block] = _second_kind(self.coef[block], rate, self.scale)
+                turned[b] = True
+        return np.take(table, index, axis=0)
 
     @classmethod
     def from_records(cls, key, start_jd: float, days_per_record: float, records: np.ndarray,
@@ -303,7 +350,7 @@ class _ChebGroup:
         self.init = (start_jd - T0) * SECONDS_PER_DAY
         self.intlen = days_per_record * SECONDS_PER_DAY
         self.nterms = records.shape[2]
-        self.coef, self.dcoef32 = records, None
+        self.coef, self.mapped = records, True
         self.nrec = records.shape[0]
         self.scale = float(scale)
         return self
@@ -313,55 +360,78 @@ class _ChebGroup:
 
         Dates near a regular grid whose step divides the record length are evaluated by
         :meth:`_evaluate_grid` (each record's series once for all its dates); any others by
-        gathering each date's record."""
+        gathering records. Each run of dates in the same record (dates in order make long
+        runs) is cut into chunks of a few slots, each chunk's record gathered once, and one
+        stacked product of the records' series (:func:`_second_kind`: positions and rates
+        together) with the slots' basis gives every date. A chunk's unused slots cost a basis
+        column each; how many slots a chunk has is chosen from the runs (:meth:`_slots`)."""
         on_grid = self._evaluate_grid(whole, frac)
         if on_grid is not None:
             return on_grid
+        index, s = self._records(whole, frac)
+        n, k = s.size, self.nterms
+        rows = 6 * len(self.keys)  # positions, then rates
+        if n == 0:
+            out = np.empty((rows, 0))
+        else:
+            new = np.empty(n, dtype=bool)
+            new[0] = True
+            np.not_equal(index[1:], index[:-1], out=new[1:])
+            starts = np.flatnonzero(new)
+            counts = np.diff(starts, append=n)
+            slots, chunks = self._slots(counts, rows)
+            if slots > 1:
+                # each run padded to whole chunks, the padding at s = 0 (any s in [-1, 1])
+                pad = chunks * slots - counts
+                where = np.arange(n) + np.repeat(np.cumsum(pad) - pad, counts)
+                padded = np.zeros(int(chunks.sum()) * slots)
+                padded[where] = s
+                s, index = padded, np.repeat(index[starts], chunks)
+            basis = _second_kind_basis(s, k)
+            series = self._series(index)
+            out = _rows(rows, s.size)
+            m = s.size // slots
+            with _one_blas_thread():
+                np.matmul(series, basis.reshape(k, m, slots).transpose(1, 0, 2),
+                          out=out.reshape(rows, m, slots).transpose(1, 0, 2))
+            if slots > 1:
+                out = np.take(out, where, axis=1)
+        half = rows // 2
+        return {key: (out[3 * i:3 * i + 3], out[half + 3 * i:half + 3 * i + 3])
+                for i, key in enumerate(self.keys)}
+
+    def _records(self, whole: np.ndarray, frac: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Each date's record, and its place in it as s in [-1, 1] (the file's last instant:
+        its last record at s = 1)."""
         # Whole and fractional TDB days kept apart until inside the record, as jplephem does:
         # whole days give whole seconds (exact in double precision), the fraction is added to
-        # the offset within the record.
+        # the offset within the record. A date on a record's edge may go to either record, by
+        # rounding: s is then -1 or 1 (to within 1e-16).
         base = (whole - T0) * SECONDS_PER_DAY - self.init
-        i1 = np.floor(base / self.intlen)
-        offset = (base - i1 * self.intlen) + frac * SECONDS_PER_DAY
-        i2 = np.floor(offset / self.intlen)
-        offset -= i2 * self.intlen
-        index = (i1 + i2).astype(np.intp)
+        seconds = frac * SECONDS_PER_DAY
+        record = np.floor((base + seconds) * (1.0 / self.intlen))
+        s = (base - record * self.intlen + seconds) * (2.0 / self.intlen) - 1.0
+        index = record.astype(np.intp)
         last = index >= self.nrec
-        index[last] = self.nrec - 1
-        offset[last] += self.intlen
-        s = 2.0 * offset / self.intlen - 1.0
-        k = self.nterms
-        basis = np.empty((k, len(s)))
-        basis[0], basis[1] = 1.0, s
-        s2 = 2.0 * s
-        for j in range(2, k):
-            np.multiply(s2, basis[j - 1], out=basis[j])
-            basis[j] -= basis[j - 2]
-        # Date by date along rows: einsum's loop over (n, k) operands is a quarter quicker.
-        basis = basis.T.copy()
-        gathered = self.coef[index]
-        pos = np.einsum("nck,nk->cn", gathered, basis)
-        # Rates only feed light time and aberration, where a relative error of 1e-7 is far
-        # below anything visible, so their series is summed in single precision.
-        if self.dcoef32 is not None:
-            bf = basis[:, :k - 1].astype(np.float32)
-            vel = np.einsum("nck,nk->cn", self.dcoef32[index], bf).astype(float)
-        else:
-            s2f = s2.astype(np.float32)
-            bf = basis.T.astype(np.float32)
-            slope = np.empty((k, len(s)), dtype=np.float32)
-            slope[0], slope[1] = 0.0, 1.0
-            for j in range(2, k):
-                np.multiply(s2f, slope[j - 1], out=slope[j])
-                slope[j] += 2.0 * bf[j - 1]
-                slope[j] -= slope[j - 2]
-            vel = np.einsum("nck,kn->cn", gathered.astype(np.float32), slope).astype(float)
-        vel *= 2.0 * SECONDS_PER_DAY / self.intlen
-        if self.scale != 1.0:
-            pos *= self.scale
-            vel *= self.scale
-        return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
-                for i, key in enumerate(self.keys)}
+        if last.any():
+            index[last] -= 1
+            s[last] += 2.0
+        return index, s
+
+    def _slots(self, counts: np.ndarray, rows: int) -> tuple[int, np.ndarray]:
+        """(slots a chunk, chunks each run takes) for runs of ``counts`` dates: the power of
+        two up to the runs' mean length, or twice it, whichever costs less (roughly: padded
+        slots against stacked products), at most :data:`_MOST_SLOTS`."""
+        low = min(_MOST_SLOTS, 1 << int(np.log2(counts.sum() / counts.size)))
+        best = None
+        for slots in (low, 2 * low) if low < _MOST_SLOTS else (low,):
+            chunks = (counts + (slots - 1)) >> (slots.bit_length() - 1)
+            total = int(chunks.sum())
+            cost = (total * slots * (_SLOT_NS_PER_TERM * self.nterms + _SLOT_NS_PER_ROW * rows)
+                    + total * (_CHUNK_NS + _CHUNK_NS_PER_RESULT * rows * slots))
+            if best is None or cost < best[0]:
+                best = (cost, slots, chunks)
+        return best[1], best[2]
 
     def _evaluate_grid(self, whole: np.ndarray, frac: np.ndarray) -> dict | None:
         """:meth:`evaluate` for dates close to a regular grid whose step is the record length

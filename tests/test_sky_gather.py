@@ -1,0 +1,145 @@
+"""The ephemeris at scattered dates: engine.sky's gather path (`_ChebGroup.evaluate` with the
+grid path off) against jplephem's own evaluation of the same Chebyshev records."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from jplephem.spk import S_PER_DAY
+from jplephem.spk import T0 as J2000
+
+from engine.sky import Sky
+
+# Positions: a millimetre is the fast path's own bound on its series (common practice, no
+# source); measured 1e-7 km on DE421 and DE406 (the rounding of two sums of 13 terms of up to
+# 1.5e8 km). Rates: relative to the series' largest rate, measured below 1e-15.
+POSITION_KM = 1e-6
+RATE_RELATIVE = 1e-12
+
+
+@pytest.fixture(scope="module")
+def sky():
+    return Sky()
+
+
+@pytest.fixture(scope="module")
+def sky406():
+    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
+    return Sky("de406")
+
+
+def _gathered(group, whole, frac):
+    """The series through the gather path, the grid path switched off."""
+    other = type(group).__new__(type(group))
+    other.__dict__.update(group.__dict__)
+    other._evaluate_grid = lambda w, f: None
+    return other.evaluate(whole, frac)
+
+
+def _split(jd):
+    whole = np.floor(jd)
+    return whole, jd - whole
+
+
+def _edges(group, count):
+    """Whole and fraction at ``count`` record boundaries of ``group`` (the first date of a
+    record, s = -1), the last of them the file's last instant (s = 1 of its last record)."""
+    starts = J2000 + (group.init + group.intlen * np.linspace(1, group.nrec, count).round())\
+        / S_PER_DAY
+    whole = np.floor(starts) - 1.0
+    return whole, starts - whole
+
+
+def _layouts(group, span):
+    rng = np.random.default_rng(1900)
+    lo, hi = span
+    dense = np.sort(rng.uniform(lo, lo + 36525.0, 5000))  # about a day apart: long runs
+    sparse = np.sort(rng.uniform(lo, hi, 300))  # months apart: one date a record
+    return {
+        "dense": _split(dense),
+        "sparse": _split(sparse),
+        "shuffled": _split(rng.permutation(dense[:2000])),
+        "one": _split(dense[7:8]),
+        "none": _split(dense[:0]),
+        "edges": _edges(group, 50),
+    }
+
+
+def _check(group, key, layout, whole, frac, want_pos, want_vel):
+    pos, vel = _gathered(group, whole, frac)[key]
+    assert pos.shape == vel.shape == (3, whole.size), (key, layout)
+    if whole.size:
+        assert np.max(np.abs(pos - want_pos)) < POSITION_KM, (key, layout)
+        assert np.max(np.abs(vel - want_vel)) < RATE_RELATIVE * np.max(np.abs(want_vel)), \
+            (key, layout)
+
+
+def test_gather_path_against_jplephem_spk(sky):
+    # DE421 through jplephem's Segment.compute_and_differentiate (km, km/day): the Sun and the
+    # Earth-Moon barycentre share one gather (16-day records), the Moon has its own (4 days).
+    segments = {(s.center, s.target): s for s in sky._loaded.kernel.spk.segments}
+    span = (2415020.5, 2469807.5)
+    for group in sky._loaded.groups:
+        for layout, (whole, frac) in _layouts(group, span).items():
+            for key in group.keys:
+                if whole.size:
+                    want = segments[key].compute_and_differentiate(whole, frac)
+                else:
+                    want = (np.empty((3, 0)), np.empty((3, 0)))
+                _check(group, key, layout, whole, frac, *want)
+
+
+def test_gather_path_against_jplephem_arrays(sky406):
+    # DE406's mapped arrays (turned record by record as they are gathered, not copied) through
+    # jplephem's evaluator for that format; the fast path's Moon is the file's geocentric Moon
+    # scaled to the Earth-Moon barycentre.
+    import de406
+    from jplephem.ephem import Ephemeris
+
+    eph = Ephemeris(de406)
+    names = {(0, 3): "earthmoon", (0, 10): "sun", (3, 301): "moon"}
+    for group in sky406._loaded.groups:
+        assert group.mapped and "_turned" not in vars(group)  # mapped, never copied
+        span = (1538000.5, 1538000.5 + 400000)
+        for layout, (whole, frac) in _layouts(group, span).items():
+            key = group.keys[0]
+            if whole.size:
+                bundle = eph.compute_bundle(names[key], whole, frac)
+                want = (eph.position_from_bundle(bundle) * group.scale,
+                        eph.velocity_from_bundle(bundle) * group.scale)
+            else:
+                want = (np.empty((3, 0)), np.empty((3, 0)))
+            _check(group, key, layout, whole, frac, *want)
+
+
+def test_chunks_follow_the_runs(sky):
+    # Dates in order a day apart fill several slots a chunk (a 16-day record holds about 16 of
+    # them, a 4-day record about 4); dates months apart take one slot each, unpadded.
+    for group in sky._loaded.groups:
+        rows = 6 * len(group.keys)
+        days = group.intlen / S_PER_DAY
+        dense = np.random.default_rng(2).poisson(days, 1000) + 1
+        slots, chunks = group._slots(dense, rows)
+        assert slots > 1 and np.all(chunks * slots >= dense) \
+            and np.all((chunks - 1) * slots < dense)
+        slots, chunks = group._slots(np.ones(300, dtype=np.intp), rows)
+        assert slots == 1 and np.all(chunks == 1)
+
+
+def test_records_turned_only_where_read(sky):
+    # A fresh copy of the Moon's series: a month of dates turns the one block of records
+    # holding them, and the results do not depend on which blocks were turned before.
+    from engine.sky import _TURN_BLOCK
+
+    moon = next(g for g in sky._loaded.groups if (3, 301) in g.keys)
+    fresh = type(moon).__new__(type(moon))
+    fresh.__dict__.update({k: v for k, v in vars(moon).items() if k != "_turned"})
+    fresh._evaluate_grid = lambda w, f: None
+    whole, frac = _split(np.sort(np.random.default_rng(4).uniform(2440000.5, 2440030.5, 40)))
+    first = fresh.evaluate(whole, frac)[(3, 301)]
+    table, turned = fresh._turned
+    assert turned.sum() == 1 and table.shape[0] > 10 * _TURN_BLOCK
+    fresh.evaluate(*_split(np.array([2469000.7, 2415100.3])))
+    assert turned.sum() == turned.size  # dates out of order: every block between them
+    again = fresh.evaluate(whole, frac)[(3, 301)]
+    assert np.array_equal(first[0], again[0]) and np.array_equal(first[1], again[1])
