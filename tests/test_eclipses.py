@@ -255,6 +255,13 @@ def test_cli_json_has_the_promised_shape(capsys):
     assert doc["hits"] + doc["misses"] == len(doc["real"])
     assert doc["hits"] + doc["false_alarms"] == len(doc["predicted"])
     assert "solar filter" in doc["caution"]
+    # each eclipse says what became of it, as the table's outcome column does, and names its
+    # syzygy, so a script can pair real and predicted without matching times by hand
+    assert [e["outcome"] for e in doc["real"]].count("hit") == doc["hits"]
+    assert [e["outcome"] for e in doc["real"]].count("miss") == doc["misses"]
+    assert [e["outcome"] for e in doc["predicted"]].count("false alarm") == doc["false_alarms"]
+    hit = {e["syzygy_jd_ut"] for e in doc["real"] if e["outcome"] == "hit"}
+    assert hit == {e["syzygy_jd_ut"] for e in doc["predicted"] if e["outcome"] == "hit"}
 
 
 def test_cli_text_csv_and_refusals(tmp_path, capsys):

@@ -120,12 +120,14 @@ def document(c: Check, mech, sky, args) -> dict:
 
     counts = c.counts()
     real = [{"jd_ut": float(c.jd_greatest[i]), "kind": c.kind(i), "type": c.real_type[i],
-             "date": format_jd(c.jd_greatest[i]), "gamma": _num(c.gamma[i], 4)}
+             "date": format_jd(c.jd_greatest[i]), "gamma": _num(c.gamma[i], 4),
+             "syzygy_jd_ut": float(c.jd_ut[i]), "outcome": c.outcome(i)}
             for i in range(len(c.jd_ut)) if c.real_type[i]]
     predicted = [{"jd_ut": float(c.jd_shown[i]), "kind": c.kind(i),
                   "type": _predicted_type(c, i), "date": format_jd(c.jd_shown[i]),
                   ("month" if c.method == "cycle" else "node_distance_deg"):
-                      int(c.detail[i]) if c.method == "cycle" else _num(c.detail[i], 3)}
+                      int(c.detail[i]) if c.method == "cycle" else _num(c.detail[i], 3),
+                  "syzygy_jd_ut": float(c.jd_ut[i]), "outcome": c.outcome(i)}
                  for i in np.flatnonzero(c.predicted)]
     first = c.first_failure()
     fail = None
