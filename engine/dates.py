@@ -13,7 +13,8 @@ otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
 * ISO 8601: ``2025-03-20``, ``2025-03-20 09:30``, ``2025-03-20T09:30:15``, seconds may have a
   fraction; an optional trailing ``Z``, ``UT`` or ``UTC``; a leading sign for astronomical
   years, ``-0100-03-01`` (= 101 BC); years need not have four digits (``333-01-27``).
-* ISO with an era: ``44-03-15 BC``, ``44-03-15 12:00 BC``, ``1066-10-14 AD`` (also BCE/CE).
+* ISO with an era: ``44-03-15 BC``, ``44-03-15 12:00 BC``, ``1066-10-14 AD`` (also BCE/CE,
+  and with full stops: ``B.C.``, ``A.D.``).
 * Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``; or
   the month name first: ``March 15, 44 BC``, ``Oct 4 1957``, ``January 1, 2026 06:30``.
 * A raw Julian Date: ``JD 2451545.0`` (taken as UT).
@@ -75,7 +76,7 @@ _MONTHS = {
 
 _TIME = r"(?:[ T](?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?"
 _ZONE = r"(?:\s*(?:Z|UT|UTC))?"
-_ERA = r"(?:\s+(?P<era>BC|BCE|AD|CE))?"
+_ERA = r"(?:\s+(?P<era>B\.?C\.?(?:E\.?)?|A\.?D\.?|C\.?E\.?)(?=\s|$))?"
 _ISO = re.compile(
     rf"(?P<y>[+-]?\d{{1,6}})-(?P<m>\d{{1,2}})-(?P<d>\d{{1,2}}){_TIME}{_ZONE}{_ERA}{_ZONE}",
     re.IGNORECASE,
@@ -330,7 +331,7 @@ def _parse(text: str, s: str, cal: str) -> float:
             raise _fail(text, f"unknown month name {m['mname']!r}")
     year_text = m["y"]
     year = int(year_text)
-    era = (m["era"] or "").upper()
+    era = (m["era"] or "").upper().replace(".", "")
     if era:
         if year_text.startswith(("+", "-")):
             raise _fail(text, "use either a signed year or BC/AD, not both")

@@ -212,6 +212,19 @@ def test_dates_as_wheelwork_prints_them(text, same_as):
     assert parse_date(text) == parse_date(same_as)
 
 
+@pytest.mark.parametrize("text, same_as", [
+    ("28 May 585 B.C.", "28 May 585 BC"),
+    ("585-05-28 B.C.", "585-05-28 BC"),
+    ("May 28, 585 B.C.E.", "28 May 585 BC"),
+    ("14 October 1066 A.D.", "1066-10-14"),
+    ("1066-10-14 C.E.", "1066-10-14"),
+])
+def test_eras_written_with_full_stops(text, same_as):
+    # B.C. and A.D. with full stops, as many history books print them (common practice,
+    # no source)
+    assert parse_date(text) == parse_date(same_as)
+
+
 @pytest.mark.parametrize("text, words", [
     ("-0584-05-28 = 584 BC", "-0584 is 585 BC"),
     ("0044-03-15 = 44 BC", "0044 is AD 44"),
