@@ -97,6 +97,7 @@ from .kinds import (
     true_value,
 )
 from .kinematics import pin_slot_lead_turns
+from .mechanism import need_mechanism, need_sky
 from .periods import JULIAN_CENTURY_DAYS, PERIODS, SECONDS_PER_DAY
 
 if TYPE_CHECKING:
@@ -170,6 +171,8 @@ def pointer_errors(mech, sky, jd_ut, *, frame: str | None = None,
     ``"LAT,LON[,H]"``. A re-set train is a mechanism with another readout
     (``dataclasses.replace(mech, readout=...)``).
     """
+    need_mechanism(mech, "pointer_errors")
+    need_sky(sky, "pointer_errors")
     readout = mech.readout
     frame = frame or mech.train.dial
     jd = np.asarray(as_jd(jd_ut, "pointer_errors"), dtype=float)
@@ -673,7 +676,8 @@ def _thresholds(pointers, threshold_deg) -> dict[str, float | None]:
     out = {}
     for name in pointers:
         thr = threshold_deg.get(name)
-        if thr is not None and not (math.isfinite(thr) and thr > 0):
+        if thr is not None and (isinstance(thr, bool) or not isinstance(thr, (int, float))
+                                or not (math.isfinite(thr) and thr > 0)):
             raise DriftError(f"threshold {thr!r}° for pointer '{name}': it must be a "
                              "positive number of degrees")
         out[name] = thr
@@ -903,6 +907,8 @@ def drift_series(mech, sky, run: DriftRun, control: RunControl | None = None) ->
         raise TypeError("drift_series(mech, sky, run) wants a DriftRun as run, e.g. "
                         "DriftRun('2030-01-01', '2031-01-01', '1d'); got "
                         f"{type(run).__name__}")
+    need_mechanism(mech, "drift_series")
+    need_sky(sky, "drift_series")
     control = control or RunControl()
     frame = run.frame or mech.train.dial
     site = _site(run.site)

@@ -59,6 +59,7 @@ import numpy as np
 from .dates import as_jd
 from .defaults import ECLIPSE_METHODS
 from .errors import ArgumentError, SkyError
+from .mechanism import need_mechanism, need_sky
 from .periods import PERIODS
 
 # --- constants (sources in the module docstring) -------------------------------------------
@@ -128,6 +129,7 @@ def syzygies(sky, jd_start: float | str, jd_end: float | str) -> Syzygies:
     Refined on the fast Sun/Moon path to well under a second of time (Newton steps on the
     elongation with its slope measured a minute apart, then chord steps with that slope; all
     syzygies at once)."""
+    need_sky(sky, "syzygies")
     lo, hi = _span(jd_start, jd_end, "syzygies")
     sky.check_span(lo, hi)
     half = SYNODIC_DAYS / 2
@@ -298,6 +300,7 @@ def sky_eclipses(sky, jd_start: float | str, jd_end: float | str) -> SkyEclipses
     each (see module docstring)."""
     from .sky import lunar_eclipse_search
 
+    need_sky(sky, "sky_eclipses")
     syz = syzygies(sky, jd_start, jd_end)
     n = len(syz)
     types = [""] * n
@@ -337,6 +340,7 @@ def real_eclipses(sky, jd_start: float | str, jd_end: float | str,
                   penumbral: bool = True) -> list[Eclipse]:
     """The real eclipses between two UT dates (JD numbers or date text), solar and lunar, in
     time order."""
+    need_sky(sky, "real_eclipses")
     return sky_eclipses(sky, jd_start, jd_end).eclipses(penumbral)
 
 
@@ -578,6 +582,8 @@ def check(mech, sky, jd_start: float | str, jd_end: float | str, method: str | N
     (the sky does not depend on the train).
     Raises :class:`ArgumentError` (a ``ValueError``) when the train cannot predict eclipses
     the way asked, :class:`SkyError` for dates outside the ephemeris."""
+    need_mechanism(mech, "check_eclipses")
+    need_sky(sky, "check_eclipses")
     train = mech.train
     have = methods(train)
     if method is not None and method not in ECLIPSE_METHODS:

@@ -243,6 +243,9 @@ def _regular_file_bytes(path: Path, where: str) -> bytes:
 
 def load_train(path: str | Path) -> Train:
     """Read and check a train file. Raises :class:`TrainError` naming file, item and fault."""
+    if not isinstance(path, (str, os.PathLike)):
+        raise TrainError(safe_text(repr(path))[:60], "", f"is a {type(path).__name__}, not a "
+                         "train file's path (text, or a pathlib.Path)")
     path = Path(path)
     where = safe_text(str(path))
     try:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -41,6 +42,25 @@ def train_and_kin(what, kin: Kinematics | None = None) -> tuple[Train, Kinematic
                     f"{type(what).__name__}")
 
 
+def need_sky(sky, what: str):
+    """``sky`` when it is a sky (what ``Sky(...)`` makes), else a one-line ``TypeError``
+    saying what is wanted: a name or path given for the sky is shown as the call it wants."""
+    if hasattr(sky, "at") and hasattr(sky, "check_span"):
+        return sky
+    example = (f"Sky({str(sky)!r})" if isinstance(sky, (str, os.PathLike))
+               else "Sky() or Sky('de406')")
+    raise TypeError(f"{what}: wanted a Sky for the sky, e.g. {example}; got "
+                    f"{type(sky).__name__} {str(sky)[:40]!r}")
+
+
+def need_mechanism(mech, what: str) -> Mechanism:
+    """``mech`` when it is a :class:`Mechanism`, else a one-line ``TypeError``."""
+    if isinstance(mech, Mechanism):
+        return mech
+    raise TypeError(f"{what}: wanted a Mechanism, e.g. open_train(path); got "
+                    f"{type(mech).__name__} {str(mech)[:40]!r}")
+
+
 def sky_for(train: Train, ephemeris=None):
     """The sky to set and read ``train`` against: ``ephemeris`` when given (a command's
     ``--ephemeris``), else the one its ``[epoch] ephemeris`` names, else the bundled DE421."""
@@ -71,8 +91,10 @@ def build(train: Train, sky=None) -> Mechanism:
     ``sky`` is an :class:`engine.sky.Sky`; one is made (:func:`sky_for`) when the epoch
     needs the sky.
     """
-    kin = solve(train)
     given = sky is not None
+    if given:
+        need_sky(sky, "build")
+    kin = solve(train)
     if sky is None and train.epoch.set != "angles":
         sky = sky_for(train)
     try:
@@ -86,4 +108,6 @@ def build(train: Train, sky=None) -> Mechanism:
 
 def open_train(path: str | Path | None = None, sky=None) -> Mechanism:
     """Load, solve and set a train file (the bundled tide office dial when ``path`` is None)."""
+    if sky is not None:
+        need_sky(sky, "open_train")
     return build(load_train(path or DEFAULT_TRAIN), sky)

@@ -229,6 +229,36 @@ def _bad_calls():
     ]
 
 
+def test_a_sky_or_mechanism_of_the_wrong_type_is_named_in_one_line(monkeypatch):
+    """A notebook's likely slips — the ephemeris's name for the sky, None, a path for the
+    mechanism — answered with what is wanted, not an AttributeError from deep inside."""
+    monkeypatch.chdir(ROOT)
+    tide = api.open_train("engine/trains/tide_office.toml")
+    sky = api.Sky()
+    run = api.DriftRun("2030-01-01", "2030-02-01", "1d")
+    calls = [
+        ("open_train", lambda: api.open_train("engine/trains/tide_office.toml", "de421")),
+        ("drift_series", lambda: api.drift_series(tide, None, run)),
+        ("drift_series", lambda: api.drift_series("engine/trains/tide_office.toml", sky, run)),
+        ("pointer_errors", lambda: api.pointer_errors(tide, "de421", 2461041.5)),
+        ("real_eclipses", lambda: api.real_eclipses("de421", "2024-01-01", "2025-01-01")),
+        ("check_eclipses", lambda: api.check_eclipses(tide, None, "2024-01-01", "2025-01-01")),
+        ("check_eclipses", lambda: api.check_eclipses("engine/trains/tide_office.toml", sky,
+                                                      "2024-01-01", "2025-01-01")),
+    ]
+    for label, call in calls:
+        with pytest.raises(TypeError) as info:
+            call()
+        text = str(info.value)
+        assert "\n" not in text and text.startswith(label) and (
+            "Sky(" in text or "open_train" in text), (label, text)
+    with pytest.raises(api.WheelworkError, match="threshold"):
+        api.drift_series(tide, sky, api.DriftRun("2030-01-01", "2030-02-01", "1d",
+                                                 threshold_deg="5"))
+    with pytest.raises(api.TrainError):
+        api.open_train(123)
+
+
 def test_bad_api_calls_raise_one_line_wheelwork_errors(monkeypatch):
     monkeypatch.chdir(ROOT)
     for label, call in _bad_calls():
