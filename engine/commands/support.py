@@ -188,7 +188,8 @@ def add_span(parser: argparse.ArgumentParser,
     ``args.end``, ``args.years``)."""
     span = parser.add_argument_group("span")
     span.add_argument("--from", dest="start", metavar="DATE", type=date,
-                      help="first date (default: the train's epoch)")
+                      help="first date (default: the train's epoch); Julian before "
+                           "1582-10-15, or say which: '1582-10-10 (Julian)'")
     end = span.add_mutually_exclusive_group(required=True)
     end.add_argument("--to", dest="end", metavar="DATE", type=date, help=to_help)
     end.add_argument("--years", type=positive("years", MAX_YEARS), metavar="N",
