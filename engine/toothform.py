@@ -316,7 +316,7 @@ def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
     e = np.array([0.0, r + theo * m])
     inward = np.array([-math.cos(psi), math.sin(psi)])
     d = p - e
-    rad = -float(d @ d) / (2.0 * float(inward @ d))
+    rad = -float(d @ d) / (2.0 * float(inward @ d))  # in mm, like p and e
     root = r - dedendum_m * m
     notes = []
     if root <= 0:
@@ -326,10 +326,10 @@ def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
                      "cycloidal form suits pinions of 6 to 16 leaves; for larger pinions "
                      "the involute form gives shallower teeth")
     flank = np.vstack([[[root, psi], [0.5 * (root + r), psi]],
-                       _round_top(r, half, rad * m, r + add * m)])
+                       _round_top(r, half, rad, r + add * m)])
     tip = float(flank[-1, 0])
     params = {"thickness_m": WHEEL_THICKNESS_M, "theoretical_addendum_m": theo,
-              "addendum_m": add, "addendum_radius_m": rad, "dedendum_m": dedendum_m,
+              "addendum_m": add, "addendum_radius_m": rad / m, "dedendum_m": dedendum_m,
               "mate_leaves": mate_leaves}
     return ToothForm("cycloidal", "wheel", teeth, m, r, tip, root, flank, params, tuple(notes))
 
