@@ -807,7 +807,8 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
                     "note", item, f"{z} leaves: it runs, but {PREFERRED_LEAVES} or more run "
                     "smoother (rule of thumb, common practice, no source)",
                     f"if there is room, {keep}"))
-        if MIN_LEAVES <= z < UNDERCUT_RULE_TEETH and w not in rings:
+        form = train.workshop.wheel(w).form or train.workshop.tooth_form
+        if MIN_LEAVES <= z < UNDERCUT_RULE_TEETH and w not in rings and form == "involute":
             x = undercut_shift(z)
             mod = modules.get(w)
             shift = f" ({x * mod:.3g} mm at module {mod:g})" if mod else ""

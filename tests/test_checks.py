@@ -221,6 +221,25 @@ def test_undercut_rule():
     assert not levels(report, "note", "wheel 'thirty_six'")
 
 
+@pytest.mark.parametrize("shop,noted", [
+    ("", False),  # the default form is cycloidal
+    ('[workshop]\ntooth_form = "cycloidal"\n', False),
+    ('[workshop]\ntooth_form = "involute"\n', True),
+    ('[workshop.wheels.twelve]\nform = "involute"\n'
+     '[workshop.wheels.thirty_six]\nform = "involute"\n', True),
+    ('[workshop]\ntooth_form = "involute"\n[workshop.wheels.twelve]\nform = "cycloidal"\n'
+     '[workshop.wheels.thirty_six]\nform = "cycloidal"\n', False),
+])
+def test_undercut_rule_only_for_wheels_cut_involute(shop, noted):
+    """Cycloidal clock leaves are not undercut (standard gear geometry): the note is for a
+    wheel the file has cut in the involute form, by the train's tooth_form or its own."""
+    text = (TRAINS / "undercut.toml").read_text().split("[workshop]")[0] + "\n" + shop
+    train = parse_train(text, "undercut.toml")
+    report = check(train, solve(train))
+    notes = [f for f in levels(report, "note", "wheel 'twelve'") if "undercut" in f.message]
+    assert len(notes) == noted
+
+
 def test_big_tooth_count_rules():
     report = run_check(TRAINS / "big_wheels.toml")
     (count,) = levels(report, "warning", "wheel 'w1'")
