@@ -131,3 +131,14 @@ def test_sympy_stays_off_the_import_path(code):
                          timeout=300)
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip().splitlines()[-1] == "[]", out
+
+
+def test_one_day_off_within_weeks_is_given_in_days(tmp_path, capsys):
+    """A disc figured with 20 moons a turn instead of 2 (a slip in the file) is a day out
+    after 1 / (29.530589 / 2.95 - 1) = 0.111 days: the column says so in days, not '0.0 y'."""
+    text = (TRAINS / "moon_disc_59.toml").read_text().replace("per_turn = 2 ", "per_turn = 20 ")
+    (tmp_path / "slip.toml").write_text(text)
+    assert main(["ratios", str(tmp_path / "slip.toml")]) == 0
+    row = next(line for line in capsys.readouterr().out.splitlines()
+               if line.strip().startswith("phase"))
+    assert row.rstrip().endswith("0.111 d") and "0.0 y" not in row

@@ -6,6 +6,7 @@ import argparse
 import json
 from typing import TYPE_CHECKING
 
+from ..periods import JULIAN_YEAR_DAYS
 from . import support
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -23,6 +24,8 @@ def _years(y: float | None) -> str:
         return ""
     if y == float("inf"):
         return "never"
+    if y < 0.1:  # within weeks: '0.0 y' would read as at once
+        return f"{y * JULIAN_YEAR_DAYS:.3g} d"
     return f"{y:,.1f} y"
 
 
