@@ -171,7 +171,7 @@ def _ut1_time(ut1: np.ndarray):
     step = np.diff(ut1)
     if not np.all(step > 0.0):
         return ts.ut1_jd(ut1)
-    first = ts.delta_t_function(ut1)
+    first = _delta_t_rising(ts.delta_t_function, ut1)
     shift = first * (1.0 / SECONDS_PER_DAY)
     slope = np.empty_like(first)  # ΔT's secant slope (s a day) from each date to the next
     np.subtract(first[1:], first[:-1], out=slope[:-1])
@@ -191,6 +191,25 @@ def _ut1_time(ut1: np.ndarray):
 
 
 _UT1_SECANT_DAYS = 2.0  # longest step between dates over which ΔT's secant is used
+
+
+def _delta_t_rising(delta_t, tt: np.ndarray) -> np.ndarray:
+    """skyfield's ΔT function ``delta_t`` (its ``DeltaT``: the daily table, interpolated,
+    and its long-term spline before and after the table) at rising dates, each part on its
+    own run of dates: the same values, without finding the dates outside the table one by
+    one. Any other kind of function is simply called."""
+    table = getattr(delta_t, "table_tt", None)
+    long_term = getattr(delta_t, "long_term_function", None)
+    if table is None or long_term is None or len(table) < 2:
+        return delta_t(tt)
+    lo = int(np.searchsorted(tt, table[0], side="left"))  # both of the table's ends are in it
+    hi = int(np.searchsorted(tt, table[-1], side="right"))
+    out = np.empty_like(tt)
+    out[lo:hi] = np.interp(tt[lo:hi], table, delta_t.table_delta_t)
+    for part in (slice(0, lo), slice(hi, tt.size)):
+        if part.stop > part.start:
+            out[part] = long_term((tt[part] - 1721045.0) / 365.25)
+    return out
 
 
 def _de421_path() -> str:

@@ -1053,3 +1053,17 @@ def test_batches_keep_each_rotation_one_cubic():
                 assert all(jd[b.stop - 1] - jd[b.start] <= _ROT_POLY_SPAN_DAYS for b in bounds)
     shuffled = np.random.default_rng(3).permutation(2400000.5 + 2.0 * np.arange(30000))
     assert [b.stop - b.start for b in _batches(shuffled, True)][0] == _BATCH
+
+
+def test_delta_t_on_rising_dates_is_skyfields():
+    # ΔT for rising dates taken part by part (before, in and after skyfield's daily table)
+    # gives skyfield's own function's values to the bit, including dates on the table's ends.
+    from engine.sky import _delta_t_rising, _timescale
+
+    f = _timescale().delta_t_function
+    ends = (f.table_tt[0], f.table_tt[-1])
+    for jd in (np.sort(np.random.default_rng(4).uniform(2300000.0, 2500000.0, 20000)),
+               2415020.8 + np.arange(50000.0), np.array([ends[0], ends[1]]),
+               np.sort(np.r_[np.linspace(ends[0] - 3, ends[1] + 3, 999), ends]),
+               np.array([2451545.0]), np.array([1000000.5, 1000001.5])):
+        assert np.array_equal(_delta_t_rising(f, jd), f(jd))
