@@ -1355,10 +1355,15 @@ class Sky:
         targets[0], rate[0] = sun_p, sun_v
         np.add(emb, m_rel, out=targets[1])
         np.add(v_emb, v_m_rel, out=rate[1])
-        both, lts = _light_time(targets, rate, obs, _C_KM_DAY)
-        if vectors is not None:  # kept for the lit fraction, before aberration
-            vectors[:] = both.reshape(6, n)
-        _add_aberration((both,), (lts,), v_obs, _C_KM_DAY)
+        # Before aberration, kept for the lit fraction: written straight into its rows.
+        seen = None if vectors is None else vectors.reshape(2, 3, n)
+        if seen is not None and not np.shares_memory(seen, vectors):
+            seen = None
+        seen, lts = _light_time(targets, rate, obs, _C_KM_DAY, out=seen)
+        if vectors is not None and not np.shares_memory(seen, vectors):
+            vectors[:] = seen.reshape(6, n)
+        both = np.empty_like(seen)
+        _add_aberration((seen,), (lts,), v_obs, _C_KM_DAY, outs=(both,))
         sun, moon = both
         return _Apparent(sun, moon, geocentre, obs, v_obs, targets[0], rate[0], both)
 
@@ -1465,7 +1470,7 @@ def _delta_t(t) -> np.ndarray:
     return np.asarray(t.tt_fraction, dtype=float) * SECONDS_PER_DAY * np.ones(np.shape(t.tt))
 
 
-def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY):
+def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY, out=None):
     """Target position seen from the observer when its light left, and that light time (days).
 
     Targets are (3, n) or stacked (bodies, 3, n); the observer is (3, n); lengths in any unit,
@@ -1474,7 +1479,7 @@ def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY):
     offset, v the target's velocity), a quadratic solved in closed form — the value an
     iteration would converge to. Over the Sun's 500 s and the Moon's 1.3 s the neglected
     acceleration moves them by under a centimetre."""
-    d = target_au - observer_au
+    d = np.subtract(target_au, observer_au, out=out)
     dv = np.einsum("...in,...in->...n", d, target_au_per_d)
     dd = np.einsum("...in,...in->...n", d, d)
     a = c * c - np.einsum("...in,...in->...n", target_au_per_d, target_au_per_d)
@@ -1487,23 +1492,25 @@ _TINY = np.finfo(np.float64).tiny  # keeps an observer at rest from dividing by 
 _C_KM_DAY = C * SECONDS_PER_DAY / 1000.0  # the speed of light in km a day
 
 
-def _add_aberration(positions, light_times, v_obs, c=C_AUDAY) -> None:
+def _add_aberration(positions, light_times, v_obs, c=C_AUDAY, outs=None) -> None:
     """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``, the same
     formula and operations) applied in place to each position (from the observer; (3, n)
     or stacked (bodies, 3, n)) with its light time, the observer's speed and Lorentz factor
     worked out once for all of them. Lengths in any unit, with ``c`` the speed of light in
-    that unit a day (au by default, as skyfield's)."""
+    that unit a day (au by default, as skyfield's). With ``outs``, the aberrated positions
+    are written there instead, the positions given left as they were."""
     vemag = np.sqrt(np.einsum("in,in->n", v_obs, v_obs))
     beta = vemag / c
     gammai = np.sqrt(1.0 - beta * beta)
-    for position, light_time in zip(positions, light_times, strict=True):
+    for i, (position, light_time) in enumerate(zip(positions, light_times, strict=True)):
         dot = np.einsum("...in,in->...n", position, v_obs)
         p = beta * (dot / (light_time * c * vemag + _TINY))
         q = (1.0 + p / (1.0 + gammai)) * light_time
-        position *= gammai
-        position += q[..., None, :] * v_obs
+        out = position if outs is None else outs[i]
+        np.multiply(position, gammai, out=out)
+        out += q[..., None, :] * v_obs
         p += 1.0
-        position /= p[..., None, :]
+        out /= p[..., None, :]
 
 
 def _planet_apparent(group, key, whole, frac, p_now, v_now, obs, v_obs, sun_p, sun_v):
