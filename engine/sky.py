@@ -291,16 +291,33 @@ def _second_kind(coef: np.ndarray, rate: float, scale: float) -> np.ndarray:
     return out.reshape(m, 2 * c, k)
 
 
-def _rows(rows: int, n: int) -> np.ndarray:
-    """An empty (rows, n) array whose rows lie one cache line past a multiple of 64 values
-    apart: rows a multiple of 4 KiB apart share cache sets, which slows the stacked products
-    that read and write them column by column (by up to half at 4,096 dates)."""
-    return np.empty((rows, (n // 64) * 64 + 72))[:, :n]
+_gather_scratch = threading.local()
+
+
+def _scratch(name: str, size: int) -> np.ndarray:
+    """A (size,) work array of the gather path, this thread's own, kept from call to call:
+    fresh arrays of a megabyte are fresh pages the system zeroes on every batch."""
+    buf = getattr(_gather_scratch, name, None)
+    if buf is None or buf.size < size:
+        buf = np.empty(max(size, 1))
+        setattr(_gather_scratch, name, buf)
+    return buf[:size]
+
+
+def _rows(rows: int, n: int, scratch: str | None = None) -> np.ndarray:
+    """An empty (rows, n) array (from :func:`_scratch` when named) whose rows lie one cache
+    line past a multiple of 64 values apart: rows a multiple of 4 KiB apart share cache sets,
+    which slows the stacked products that read and write them column by column (by up to
+    half at 4,096 dates)."""
+    stride = (n // 64) * 64 + 72
+    buf = np.empty(rows * stride) if scratch is None else _scratch(scratch, rows * stride)
+    return buf.reshape(rows, stride)[:, :n]
 
 
 def _second_kind_basis(s: np.ndarray, k: int) -> np.ndarray:
-    """(k, len(s)): U_0 .. U_{k-1} at ``s`` by their recurrence U_j = 2s U_{j−1} − U_{j−2}."""
-    basis = _rows(k, s.size)
+    """(k, len(s)): U_0 .. U_{k-1} at ``s`` by their recurrence U_j = 2s U_{j−1} − U_{j−2}
+    (in a work array of the gather path)."""
+    basis = _rows(k, s.size, "basis")
     basis[0] = 1.0
     if k > 1:
         np.multiply(s, 2.0, out=basis[1])
@@ -356,7 +373,8 @@ class _ChebGroup:
                 block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
                 table[block] = _second_kind(self.coef[block], rate, self.scale)
                 turned[b] = True
-        return np.take(table, index, axis=0)
+        return np.take(table, index, axis=0,
+                       out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
 
     @classmethod
     def from_records(cls, key, start_jd: float, days_per_record: float, records: np.ndarray,
@@ -403,12 +421,13 @@ class _ChebGroup:
                 # each run padded to whole chunks, the padding at s = 0 (any s in [-1, 1])
                 pad = chunks * slots - counts
                 where = np.arange(n) + np.repeat(np.cumsum(pad) - pad, counts)
-                padded = np.zeros(int(chunks.sum()) * slots)
+                padded = _scratch("padded", int(chunks.sum()) * slots)
+                padded.fill(0.0)
                 padded[where] = s
                 s, index = padded, np.repeat(index[starts], chunks)
             basis = _second_kind_basis(s, k)
             series = self._series(index)
-            out = _rows(rows, s.size)
+            out = _rows(rows, s.size, "out" if slots > 1 else None)  # returned when 1 slot
             m = s.size // slots
             with _one_blas_thread():
                 np.matmul(series, basis.reshape(k, m, slots).transpose(1, 0, 2),
