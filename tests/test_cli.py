@@ -86,6 +86,26 @@ def test_version_names_the_package(capsys):
 
 
 @pytest.mark.parametrize("argv, words", [
+    (["drift", "moon_disc_59", "--yeras", "10"], "unrecognized option --yeras; did you mean --years?"),
+    (["search", "--cycle", "synodic month", "--stage", "2", "--maxprime", "47"],
+     "unrecognized option --maxprime; did you mean --max-prime?"),
+    (["cut", "moon_disc_59", "--outt", "x"], "unrecognized option --outt; did you mean --out?"),
+    (["--verison"], "unrecognized option --verison; did you mean --version?"),
+    (["ratios", "moon_disc_59", "--zzz"], "unrecognized option --zzz"),
+])
+def test_a_mistyped_option_is_named_with_the_nearest(argv, words, capsys):
+    """Common practice, no source: a typo in an option is the option named, not another
+    error (drift's '--yeras 10' once said 'one of the arguments --to --years is required')."""
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert words in err and err.count("\n") == 1, err
+
+
+def test_an_abbreviated_option_still_works(capsys):
+    assert main(["search", "--cycle", "synodic month", "--stage", "2", "--top", "1"]) == 0
+
+
+@pytest.mark.parametrize("argv, words", [
     (["search", "--cycle", "synodic month", "--top", "0"], "--top"),
     (["search", "--cycle", "synodic month", "--stages", "9"], "outside 1-4"),
     (["search", "--cycle", "synodic month", "--max-prime", "1"], "--max-prime"),
@@ -280,3 +300,4 @@ def test_a_missing_file_in_a_folder_is_only_a_missing_file(tmp_path, capsys):
     assert main(["ratios", str(tmp_path / "tide_ofice.toml")]) == 1
     err = capsys.readouterr().err
     assert err.strip().endswith("tide_ofice.toml: no such file"), err
+

@@ -62,6 +62,27 @@ class Parser(argparse.ArgumentParser):
     def error(self, message: str):
         raise UsageError(message, self.prog)
 
+    def parse_known_args(self, args=None, namespace=None):
+        self._known_options(sys.argv[1:] if args is None else list(args))
+        return super().parse_known_args(args, namespace)
+
+    def _known_options(self, args: list[str]) -> None:
+        """A mistyped option (``--yeras``) is named, with the nearest known one, before
+        argparse can report something else in its place (a required ``--years`` missing).
+        A prefix of a known option is left to argparse (it takes unique abbreviations)."""
+        import difflib
+
+        known = [s for s in self._option_string_actions if s.startswith("--")]
+        for arg in args:
+            if arg == "--":
+                break
+            name = arg.split("=", 1)[0]
+            if not name.startswith("--") or any(k.startswith(name) for k in known):
+                continue
+            near = difflib.get_close_matches(name, known, n=1)
+            raise UsageError(f"unrecognized option {name}"
+                             + (f"; did you mean {near[0]}?" if near else ""), self.prog)
+
     def exit(self, status: int = 0, message: str | None = None):
         if message:
             sys.stderr.write(message)
