@@ -301,3 +301,12 @@ def test_a_missing_file_in_a_folder_is_only_a_missing_file(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.strip().endswith("tide_ofice.toml: no such file"), err
 
+
+def test_a_train_named_without_toml_points_at_its_file(tmp_path, monkeypatch, capsys):
+    """Demos are named without .toml; a maker's own train given the same way gets its file's
+    name back, not the list of demos."""
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "hallclock.toml").write_text("")
+    assert main(["ratios", "hallclock"]) == 1
+    err = capsys.readouterr().err
+    assert "hallclock.toml" in err and "demos:" not in err and err.count("\n") == 1, err

@@ -195,6 +195,9 @@ def train_file(text: str) -> str:
         from ..demos import demo_hint
         from ..errors import TrainError
 
+        if not text.endswith(".toml") and Path(text + ".toml").is_file():
+            raise TrainError(text, "", f"no such file, and no demo of that name; did you mean "
+                             f"{text}.toml? (only a demo's name is given without .toml)")
         raise TrainError(text, "", f"no such file, and no demo of that name; {demo_hint(text)}")
     return text
 
