@@ -542,6 +542,22 @@ async def test_tooth_search_keeps_forbidden_primes_and_refuses_bad_bounds(tmp_pa
         assert "also moves: node, perigee, phase" in text_of(screen.query_one("#teeth-chain"))
 
 
+@sync
+async def test_tooth_search_status_follows_its_answers(tmp_path):
+    """Another pointer (or the whole-chain box) clears the answers: the line above them then
+    no longer says '20 answers, best first' over an empty list."""
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_teeth(pilot, app, "perigee")
+        await run_search(pilot, app, screen, pinions="10-40", wheels="20-120")
+        status = screen.query_one("#teeth-status", Label)
+        assert screen.answers and "best first" in str(status.content)
+        screen.query_one("#teeth-pointers", OptionList).highlighted = 0
+        await pilot.pause()
+        assert not screen.answers and not screen.query_one("#teeth-answers", OptionList).option_count
+        assert str(status.content) == "Enter searches"
+
+
 def test_tooth_search_stops_on_escape(tmp_path, monkeypatch):
     import time
 

@@ -760,6 +760,8 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
     def _clear_answers(self) -> None:
         self.answers = []
         self.query_one("#teeth-answers", OptionList).clear_options()
+        self.query_one("#teeth-status", Label).update("Enter searches")
+        self.query_one("#teeth-progress", ProgressBar).update(progress=0)
 
     @on(OptionList.OptionHighlighted, "#teeth-pointers")
     def _pointer(self, event: OptionList.OptionHighlighted) -> None:
