@@ -711,3 +711,17 @@ async def test_a_change_to_the_train_says_when_it_drops_a_re_set_by_hand(tmp_pat
         assert len(dropped) == 1 and "file" in dropped[0]
         await type_value(pilot, app, "61")  # nothing re-set by hand now: no word again
         assert len([n for n in app._notifications if "dropped" in n.message]) == 1
+
+
+@sync
+async def test_parts_screen_readings_keep_one_line_a_pointer_at_80x24(tmp_path):
+    """At the smallest size, 80 × 24, the parts side's scrollbar took the two columns the
+    narrow readings need, so every pointer's °/cy wrapped onto a line of its own."""
+    app = make_app(copy_tide(tmp_path))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        assert isinstance(app.screen, PartsScreen)
+        readings = app.screen.query_one(Readings)
+        assert readings.size.height == 1 + len(app.session.mech.train.pointers)
+        assert "°/cy" in readings_text(app).splitlines()[0]

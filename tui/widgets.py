@@ -981,7 +981,7 @@ class Readings(RowStatic):
     #: number is written after at least one space, so two never run together: a value wider
     #: than its column pushes the rest of the row right, and a row too long wraps.
     NARROW = (("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 7), ("max°", 6),
-              ("°/cy", 8))
+              ("°/cy", 7))  # 41 wide: the header's train° and a drift of +0.0008 push one
     WIDE = (("pointer", -9), ("train°", 8), ("sky°", 8), ("err°", 8), ("worst°", 8),
             ("drift °/cy", 11), ("err days", 9))
 
