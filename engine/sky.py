@@ -374,7 +374,7 @@ class _ChebGroup:
                 block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
                 table[block] = _second_kind(self.coef[block], rate, self.scale)
                 turned[b] = True
-        return np.take(table, index, axis=0,
+        return np.take(table, index, axis=0, mode="clip",  # "raise" would copy through a buffer
                        out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
 
     @classmethod
@@ -416,7 +416,9 @@ class _ChebGroup:
             new[0] = True
             np.not_equal(index[1:], index[:-1], out=new[1:])
             starts = np.flatnonzero(new)
-            counts = np.diff(starts, append=n)
+            counts = np.empty_like(starts)
+            np.subtract(starts[1:], starts[:-1], out=counts[:-1])
+            counts[-1] = n - starts[-1]
             slots, chunks = self._slots(counts, rows)
             if slots > 1:
                 # each run padded to whole chunks, the padding at s = 0 (any s in [-1, 1])
@@ -461,7 +463,7 @@ class _ChebGroup:
         """(slots a chunk, chunks each run takes) for runs of ``counts`` dates: the power of
         two up to the runs' mean length, or twice it, whichever costs less (roughly: padded
         slots against stacked products), at most :data:`_MOST_SLOTS`."""
-        low = min(_MOST_SLOTS, 1 << int(np.log2(counts.sum() / counts.size)))
+        low = min(_MOST_SLOTS, 1 << ((int(counts.sum()) // counts.size).bit_length() - 1))
         best = None
         for slots in (low, 2 * low) if low < _MOST_SLOTS else (low,):
             chunks = (counts + (slots - 1)) >> (slots.bit_length() - 1)
