@@ -243,8 +243,39 @@ def solar_circumstances(sky, new_moon_jd) -> SolarCircumstances:
     g = _axis_geometry(*eclipse_vectors(sky, t))
     when[near] = t
     gamma[near], l1[near], l2[near] = g["gamma"], g["l1"], g["l2"]
-    kind[near] = classify_solar(g["r1"], g["l1"], g["l2"], g["tan_f2"])
+    found = classify_solar(g["r1"], g["l1"], g["l2"], g["tan_f2"])
+    kind[near] = _changes_along_the_path(sky, t, g, found, vel)
     return SolarCircumstances(when, gamma, l1, l2, kind)
+
+
+def _changes_along_the_path(sky, t, g, found, vel) -> np.ndarray:
+    """A central eclipse found total or annular at greatest eclipse that is the other kind
+    where its central line begins or ends is hybrid (total at one end and annular at the
+    other: the canon's asymmetric hybrids). The ends are where the axis meets the Earth's
+    limb, reached from greatest eclipse at the axis' speed across the fundamental plane
+    (``vel``, km a day); there the ground is the fundamental plane itself, so the umbra
+    reaches it if its radius ``l2`` is negative."""
+    from .sky import eclipse_vectors
+
+    out = found.copy()
+    check = (g["r1"] < 1.0) & ((found == SOLAR_TYPES.index("total"))
+                               | (found == SOLAR_TYPES.index("annular")))
+    if not check.any():
+        return out
+    lo, hi = sky.span_jd
+    speed = np.linalg.norm(vel[:, check], axis=0) / EARTH_RADIUS_KM  # Earth radii a day
+    reach = np.sqrt(1.0 - g["r1"][check] ** 2) / speed  # to the limb, where zeta -> 0
+    total_at_ends = []
+    for sign in (-1.0, 1.0):
+        e = _axis_geometry(*eclipse_vectors(sky, np.clip(t[check] + sign * reach, lo, hi)))
+        zeta = np.sqrt(np.clip(1.0 - e["r1"] ** 2, 0.0, None))
+        total_at_ends.append(e["l2"] - zeta * e["tan_f2"] < 0)
+    was_total = found[check] == SOLAR_TYPES.index("total")
+    hybrid = np.where(was_total, ~(total_at_ends[0] & total_at_ends[1]),
+                      total_at_ends[0] | total_at_ends[1])
+    idx = np.flatnonzero(check)
+    out[idx[hybrid]] = SOLAR_TYPES.index("hybrid")
+    return out
 
 
 # --- real eclipses, one row per syzygy -----------------------------------------------------

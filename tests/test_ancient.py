@@ -233,11 +233,11 @@ def test_lunar_eclipses_of_a_century_as_the_canon_counts_them(ancient, first, pe
 
 
 # F. Espenak and J. Meeus, Five Millennium Catalog of Asymmetric Hybrid Solar Eclipses (NASA
-# eclipse web site, SEcat5/SEhybrid5a): TD of greatest eclipse and gamma. The simple geometric
-# criterion here judges the umbra at greatest eclipse only, so of the canon's asymmetric
-# hybrids it finds these four hybrid; -1851 Jun 25 (T-A, gamma -0.5598) it calls total.
+# eclipse web site, SEcat5/SEhybrid5a): TD of greatest eclipse and gamma. Total at one end of
+# the central line and annular at the other (-1851 Jun 25 is total at greatest eclipse).
 HYBRIDS = [  # (date, TD of greatest eclipse, gamma)
     ("-1935-12-18", "05:41:01", -0.5070),
+    ("-1851-06-25", "00:33:02", -0.5598),
     ("-1794-11-19", "22:56:01", 0.7137),
     ("-1467-11-04", "13:16:02", 0.2581),
     ("-0241-06-15", "13:05:26", 0.1836),
@@ -254,6 +254,30 @@ def test_hybrid_solar_eclipses_of_the_canon(ancient, date, td, gamma):
     assert e.type == "hybrid"
     assert abs(tt - want_tt) * 1440 < 2.0  # minutes: the ephemerides differ, not ΔT (TD)
     assert e.gamma == pytest.approx(gamma, abs=0.001)
+
+
+# F. Espenak, Six Millennium Catalog of Solar Eclipses (EclipseWise), its index of centuries:
+# eclipses, partial, annular, total and hybrid per century by TD date, for centuries where it
+# lists no eclipse apart in brackets; and the 21st century's 224 (77, 72, 68, 7), as the list
+# of that century's solar eclipses after Espenak gives them.
+SOLAR_CENTURIES = [  # (first year, partial, annular, total, hybrid)
+    (-2999, 88, 80, 59, 19),
+    (-2399, 94, 88, 67, 0),
+    (2001, 77, 72, 68, 7),
+]
+
+
+@pytest.mark.parametrize("first, partial, annular, total, hybrid", SOLAR_CENTURIES)
+def test_solar_eclipses_of_a_century_as_the_canon_counts_them(ancient, first, partial, annular,
+                                                              total, hybrid):
+    def ut(year):  # 1 January of a year in TD, as UT
+        jd = parse_date(f"{year:05d}-01-01" if year < 0 else f"{year:04d}-01-01")
+        return jd - float(ancient.at(jd).delta_t_s) / 86400
+
+    got = [e.type for e in real_eclipses(ancient, ut(first), ut(first + 100))
+           if e.kind == "solar"]
+    assert [got.count(t) for t in ("partial", "annular", "total", "hybrid")] == [
+        partial, annular, total, hybrid]
 
 
 # Solar eclipses of antiquity as dated by historians (BC years, Julian calendar), with the
