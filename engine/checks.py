@@ -741,11 +741,13 @@ def _overlaps(train, groups, modules, pos, findings) -> None:
         a1, a2 = groups[train.wheels[m.driver].arbor], groups[train.wheels[m.driven].arbor]
         partners.add(frozenset((a1, a2)))
     tips = {}
+    forms = _tooth_forms(train) if any(train.wheels[w].arbor in pos for w in modules) else {}
     for w, mod in modules.items():
         wheel = train.wheels[w]
         if w in rings or wheel.arbor not in pos:
             continue
-        tips[w] = (pitch_diameter_mm(mod, wheel.teeth) + 2 * mod) / 2.0
+        tips[w] = (forms[w].tip_radius_mm if w in forms
+                   else (pitch_diameter_mm(mod, wheel.teeth) + 2 * mod) / 2.0)
     mount = {n: train.arbors[n].mount for n in train.arbors}
     for w, tip in tips.items():
         wa = train.wheels[w].arbor
@@ -755,7 +757,8 @@ def _overlaps(train, groups, modules, pos, findings) -> None:
             dist = math.dist(pos[wa], p)
             if dist < tip - TOLERANCE_MM:
                 mod = modules[w]
-                zmax = math.floor(2 * dist / mod - 2)
+                addendum = tip - pitch_diameter_mm(mod, train.wheels[w].teeth) / 2.0
+                zmax = math.floor(2 * (dist - addendum) / mod)
                 findings.append(Finding(
                     "warning", f"wheel '{w}'", f"its tip circle (radius {_mm(tip)}) reaches "
                     f"over the axis of '{other}', {_mm(dist)} from its own",
@@ -778,6 +781,20 @@ def _overlaps(train, groups, modules, pos, findings) -> None:
                     f"'{a2}') by {_mm(over)}: they foul if they run in the same plane",
                     f"put them in different planes, or move '{a2}' {_mm(over)} further from "
                     f"'{a1}'"))
+
+
+def _tooth_forms(train: Train) -> dict:
+    """Each wheel's tooth as it will be cut (the train's tooth_form or the wheel's own), for
+    its tip circle: a cycloidal wheel stands 1.2-1.8 modules above its pitch circle and a
+    pinion's leaves 0.67-0.86, not the involute 1. Empty when the forms cannot be worked out
+    (two forms in one mesh: a fault ``wheelwork cut`` names), and the involute tip is taken."""
+    from .drawing import tooth_forms
+    from .errors import WheelworkError
+
+    try:
+        return tooth_forms(train)
+    except WheelworkError:
+        return {}
 
 
 def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding]) -> None:

@@ -22,6 +22,7 @@ from engine.checks import (
 from engine.cli import main
 from engine.kinematics import slot_follower_turns, solve
 from engine.loader import load_train, parse_train
+from engine.toothform import cycloidal_wheel
 
 HERE = Path(__file__).resolve().parent
 TRAINS = HERE / "trains"
@@ -145,6 +146,45 @@ def test_overlaps_axis_and_wheel():
     assert "overlaps that of 'ten'" in texts and "26 mm" in texts  # 31 + 6 - 11
     # Wheels on arbors that mesh with each other are taken to be in separate planes.
     assert not any("'forty'" in f.message for f in warns)
+
+
+def test_overlap_takes_the_tip_of_the_tooth_form():
+    """A cycloidal clock wheel stands about 1.38 modules above its pitch circle against 8
+    leaves (the wheel addendum of engine.toothform, BS 978-2 from memory), more than the
+    involute 1 module the overlap check once took for every wheel: two 60-tooth wheels
+    62.5 mm apart foul when cut cycloidal (the default), not when cut involute."""
+    theta = 2 * math.asin(62.5 / 2 / 34)
+    c = [round(34 * math.cos(theta), 6), round(34 * math.sin(theta), 6)]
+    text = header("a") + f"""
+[arbors.a]
+wheels = {{ pa = 8, qa = 8 }}
+at_mm = [0.0, 0.0]
+[arbors.b]
+wheels = {{ wb = 60 }}
+at_mm = [34.0, 0.0]
+[arbors.c]
+wheels = {{ wc = 60 }}
+at_mm = {c}
+[[meshes]]
+wheels = ["pa", "wb"]
+module_mm = 1.0
+[[meshes]]
+wheels = ["qa", "wc"]
+module_mm = 1.0
+[pointers.hand]
+shows = "sun"
+arbor = "b"
+reversed = true
+set_deg = 0
+"""
+    tip = cycloidal_wheel(60, 1.0, 8).tip_radius_mm
+    assert 2 * tip - 62.5 > 0.2 and 62.5 - 2 * 31.0 > 0.2  # the forms differ by more than a hair
+    for shop, fouls in (("", True), ('[workshop]\ntooth_form = "involute"\n', False)):
+        train = parse_train(text + shop, "t.toml")
+        found = [f for f in check(train, solve(train)).findings
+                 if "overlaps that of 'wc'" in f.message]
+        assert bool(found) == fouls, shop
+        assert not any("reaches over" in f.message for f in check(train, solve(train)).findings)
 
 
 # --- speeds, torques, step-up --------------------------------------------------------------
