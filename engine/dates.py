@@ -214,6 +214,8 @@ def format_jd(jd: float, calendar: str = "auto", *, seconds: bool = False) -> st
     """
     cal = _check_calendar(calendar)
     try:
+        if isinstance(jd, bool):  # True is no date, though float(True) is 1.0
+            raise TypeError
         jd = float(jd)
     except (TypeError, ValueError):
         raise DateError(f"format_jd: wanted a Julian Date (UT) as a number, got "

@@ -205,6 +205,7 @@ def _bad_calls():
         ("Kinematics.rate", lambda: tide.kin.rate("vulcan")),
         ("Readout.read_deg of text", lambda: tide.readout.read_deg("ten")),
         ("format_jd of text", lambda: api.format_jd("tomorrow")),
+        ("format_jd of True", lambda: api.format_jd(True)),
         ("Readout.reset_to", lambda: tide.readout.reset_to(0, {"vulcan": 1.0})),
         ("involute_wheel 0 teeth", lambda: api.involute_wheel(0, 0.5)),
         ("involute_wheel module < 0", lambda: api.involute_wheel(30, -1)),
