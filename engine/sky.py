@@ -293,11 +293,16 @@ def _second_kind(coef: np.ndarray, rate: float, scale: float) -> np.ndarray:
 
 
 _gather_scratch = threading.local()
+_SCRATCH_MOST = 1 << 19  # values (4 MiB) in each work array kept
 
 
 def _scratch(name: str, size: int) -> np.ndarray:
     """A (size,) work array of the gather path, this thread's own, kept from call to call:
-    fresh arrays of a megabyte are fresh pages the system zeroes on every batch."""
+    fresh arrays of a megabyte are fresh pages the system zeroes on every batch. Only up to
+    :data:`_SCRATCH_MOST` values are kept (a pipeline's batch needs a few hundred thousand);
+    a longer call gets a fresh array."""
+    if size > _SCRATCH_MOST:
+        return np.empty(size)
     buf = getattr(_gather_scratch, name, None)
     if buf is None or buf.size < size:
         buf = np.empty(max(size, 1))

@@ -143,3 +143,31 @@ def test_records_turned_only_where_read(sky):
     assert turned.sum() == turned.size  # dates out of order: every block between them
     again = fresh.evaluate(whole, frac)[(3, 301)]
     assert np.array_equal(first[0], again[0]) and np.array_equal(first[1], again[1])
+
+
+def test_long_calls_keep_no_work_arrays(sky):
+    # A call far longer than a pipeline's batch (skyfield's searches pass what they like) gets
+    # fresh work arrays, and the results are the same as in short calls.
+    import threading
+
+    from engine import sky as sky_module
+
+    group = sky._loaded.groups[0]
+    jd = np.sort(np.random.default_rng(6).uniform(2415020.5, 2469000.5, 60_000))
+    kept = {}
+
+    def run():
+        long = _gathered(group, *_split(jd))
+        kept["sizes"] = [getattr(sky_module._gather_scratch, name).size
+                         for name in ("basis", "series", "out", "padded")
+                         if hasattr(sky_module._gather_scratch, name)]
+        short = [_gathered(group, *_split(part)) for part in np.array_split(jd, 20)]
+        kept["same"] = all(
+            np.allclose(long[key][i], np.concatenate([s[key][i] for s in short], axis=1),
+                        rtol=0.0, atol=POSITION_KM)
+            for key in group.keys for i in (0, 1))
+
+    thread = threading.Thread(target=run)  # a thread of its own: no work arrays before
+    thread.start()
+    thread.join()
+    assert kept["same"] and all(size <= sky_module._SCRATCH_MOST for size in kept["sizes"])
