@@ -344,7 +344,8 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     modules = _wheel_modules(train, findings)
     groups = _axis_groups(train, kin)
     _shared_axes(train, groups, findings)
-    _positions(train, groups, modules, findings)
+    forms = _tooth_forms(train, findings) if modules else {}
+    _positions(train, groups, modules, findings, forms)
     _teeth_rules(train, modules, findings)
     _load_rules(report, findings)
     missing = [m.index for m in train.meshes if m.module_mm is None]
@@ -664,7 +665,7 @@ def _distance_fix(train: Train, obj, want_mm: float) -> str:
                                if len(fixes) > 1 else "")
 
 
-def _positions(train: Train, groups, modules, findings: list[Finding]) -> None:
+def _positions(train: Train, groups, modules, findings: list[Finding], forms: dict) -> None:
     """Compare given ``at_mm`` positions with the centre distances, and look for fouling."""
     pos: dict[str, tuple[float, float]] = {}
     for a in train.arbors.values():
@@ -724,10 +725,10 @@ def _positions(train: Train, groups, modules, findings: list[Finding]) -> None:
                     "error", f"[pin_slots.{ps.name}]", f"the axes are placed {_mm(dist)} apart "
                     f"but offset_mm is {ps.offset_mm:g}", "make offset_mm match the positions, "
                     "or move the slot arbor"))
-    _overlaps(train, groups, modules, pos, findings)
+    _overlaps(train, groups, modules, pos, findings, forms)
 
 
-def _overlaps(train, groups, modules, pos, findings) -> None:
+def _overlaps(train, groups, modules, pos, findings, forms) -> None:
     """Tip circles over another arbor's axis, and tip circles of wheels that may share a plane.
 
     Simplification (no planes in the file): wheels on two arbors that mesh with each other are
@@ -741,7 +742,6 @@ def _overlaps(train, groups, modules, pos, findings) -> None:
         a1, a2 = groups[train.wheels[m.driver].arbor], groups[train.wheels[m.driven].arbor]
         partners.add(frozenset((a1, a2)))
     tips = {}
-    forms = _tooth_forms(train) if any(train.wheels[w].arbor in pos for w in modules) else {}
     for w, mod in modules.items():
         wheel = train.wheels[w]
         if w in rings or wheel.arbor not in pos:
@@ -783,17 +783,23 @@ def _overlaps(train, groups, modules, pos, findings) -> None:
                     f"'{a1}'"))
 
 
-def _tooth_forms(train: Train) -> dict:
+def _tooth_forms(train: Train, findings: list[Finding]) -> dict:
     """Each wheel's tooth as it will be cut (the train's tooth_form or the wheel's own), for
     its tip circle: a cycloidal wheel stands 1.2-1.8 modules above its pitch circle and a
-    pinion's leaves 0.67-0.86, not the involute 1. Empty when the forms cannot be worked out
-    (two forms in one mesh: a fault ``wheelwork cut`` names), and the involute tip is taken."""
-    from .drawing import tooth_forms
-    from .errors import WheelworkError
+    pinion's leaves 0.67-0.86, not the involute 1. A train whose teeth cannot be cut (two
+    forms in one mesh, a tooth with no root circle) is an error here as in ``wheelwork cut``;
+    the forms are then empty and overlaps take the involute tip."""
+    from .drawing import tooth_forms  # here: drawing imports plate, which imports this module
+    from .errors import TrainError
 
     try:
         return tooth_forms(train)
-    except WheelworkError:
+    except TrainError as exc:
+        fix = ("set one form for both in [workshop.wheels.NAME] (or neither, to take [workshop] "
+               "tooth_form)" if "tooth form" in exc.problem else
+               "wheelwork cut cannot draw it: change its module or tooth count")
+        if not any(f.level == "error" and f.item == exc.item for f in findings):
+            findings.append(Finding("error", exc.item, exc.problem, fix))  # not said already
         return {}
 
 

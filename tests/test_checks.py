@@ -280,6 +280,16 @@ def test_undercut_rule_only_for_wheels_cut_involute(shop, noted):
     assert len(notes) == noted
 
 
+def test_two_tooth_forms_in_one_mesh_is_an_error():
+    """wheelwork cut refuses a mesh of a cycloidal and an involute wheel (they cannot run
+    together); the check, which says whether a train can be built, says so too."""
+    text = (TRAINS / "undercut.toml").read_text().split("[workshop]")[0]
+    train = parse_train(text + '[workshop.wheels.thirty_six]\nform = "involute"\n', "t.toml")
+    (err,) = levels(check(train, solve(train)), "error")
+    assert err.item == "mesh 1 (twelve–thirty_six)" and "one tooth form" in err.message
+    assert "[workshop.wheels.NAME]" in err.fix
+
+
 def test_big_tooth_count_rules():
     report = run_check(TRAINS / "big_wheels.toml")
     (count,) = levels(report, "warning", "wheel 'w1'")
