@@ -453,13 +453,22 @@ class _ChebGroup:
         # whole days give whole seconds (exact in double precision), the fraction is added to
         # the offset within the record. A date on a record's edge may go to either record, by
         # rounding: s is then -1 or 1 (to within 1e-16).
-        base = (whole - T0) * SECONDS_PER_DAY - self.init
+        # (The same sums as (base - record * intlen + seconds) * (2 / intlen) - 1, in place.)
+        base = np.subtract(whole, T0)
+        base *= SECONDS_PER_DAY
+        base -= self.init
         seconds = frac * SECONDS_PER_DAY
-        record = np.floor((base + seconds) * (1.0 / self.intlen))
-        s = (base - record * self.intlen + seconds) * (2.0 / self.intlen) - 1.0
+        record = np.add(base, seconds)
+        record *= 1.0 / self.intlen
+        np.floor(record, out=record)
+        s = record * self.intlen
+        np.subtract(base, s, out=s)
+        s += seconds
+        s *= 2.0 / self.intlen
+        s -= 1.0
         index = record.astype(np.intp)
-        last = index >= self.nrec
-        if last.any():
+        if index.size and index.max() >= self.nrec:
+            last = index >= self.nrec
             index[last] -= 1
             s[last] += 2.0
         return index, s
