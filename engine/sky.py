@@ -228,6 +228,12 @@ def _de421_path() -> str:
 
 def _resolve(ephemeris) -> tuple[str, str]:
     """(path, display name) of an ephemeris choice."""
+    if not (ephemeris is None or isinstance(ephemeris, (str, os.PathLike))):
+        hint = (f"; for the ephemeris, give its name as text: Sky('de{ephemeris}')"
+                if isinstance(ephemeris, int) and not isinstance(ephemeris, bool) else
+                "; it is already a sky: use it as it is" if isinstance(ephemeris, Sky) else "")
+        raise SkyError(f"the ephemeris is a name (de421, de440, de406) or a JPL SPK file's "
+                       f"path, not {type(ephemeris).__name__} {ephemeris!r}{hint}")
     if ephemeris is None or str(ephemeris).lower() == "de421":
         return _de421_path(), "JPL DE421"
     if str(ephemeris).lower() == "de406":
@@ -1200,9 +1206,10 @@ class SkyState:
 
     def __repr__(self):
         jd = np.ravel(self.jd_ut)
+        if not jd.size:
+            return f"SkyState({self.frame}, no dates)"
         when = f"{format_jd(jd[0])}" + (f" … {format_jd(jd[-1])}" if jd.size > 1 else "")
-        return f"SkyState({self.frame}, {jd.size} date(s): {when})" if jd.size else \
-            f"SkyState({self.frame}, no dates)"
+        return f"SkyState({self.frame}, {jd.size} date(s): {when})"
 
     def kind(self, name: str) -> np.ndarray:
         """True value (degrees, 0-360, this state's frame) that a pointer of kind ``name``

@@ -1080,3 +1080,19 @@ def test_allocator_keeps_freed_memory_on_glibc():
         assert took is True
     else:
         assert took in (True, False)
+
+
+def test_sky_of_the_wrong_kind_and_an_empty_state_say_so(sky):
+    # a year-like number or a Sky where the ephemeris's name goes: one clear SkyError (a
+    # TypeError from deep inside before); an empty state prints as one.
+    from engine.errors import SkyError
+    from engine.sky import Sky
+
+    with pytest.raises(SkyError, match=r"Sky\('de406'\)"):
+        Sky(406)
+    with pytest.raises(SkyError, match="already a sky"):
+        Sky(sky)
+    with pytest.raises(SkyError, match="not list"):
+        Sky(["de421"])
+    assert repr(sky.at([])) == "SkyState(equinox, no dates)"
+    assert sky.at(np.array([]), planets=("venus",)).planet_lon_deg["venus"].shape == (0,)
