@@ -141,6 +141,12 @@ PERIODS: dict[str, MeanPeriod] = {
         MeanPeriod("sidereal_apsidal_period",
                    "apsidal precession against the stars (lunar perigee)",
                    MOON_PERIGEE_RATE - _P, f"{MEEUS}; less {PRECESSION_SRC}"),
+        # the lunisolar cycles of calendars and eclipse dials, as whole numbers of mean
+        # synodic months (their counts: standard history of astronomy, from memory)
+        MeanPeriod("metonic_cycle", "Metonic cycle (235 synodic months)",
+                   MOON_ELONGATION_RATE / 235, f"{MEEUS}: 235 mean synodic months"),
+        MeanPeriod("saros", "Saros (223 synodic months)", MOON_ELONGATION_RATE / 223,
+                   f"{MEEUS}: 223 mean synodic months"),
     )
 }
 
@@ -176,6 +182,14 @@ for _key, _synodic, _years in PERIOD_RELATIONS:
         exact_days=_days, approximates=f"{_key}_synodic")
 
 
+# The Metonic relation, 235 synodic months in 19 years, in the same form (Julian years).
+PERIODS["synodic_month_235_in_19"] = MeanPeriod(
+    "synodic_month_235_in_19", "235 synodic months in 19 years (the Metonic relation)",
+    float(360 * JULIAN_CENTURY_DAYS / (19 * Fraction(JULIAN_YEAR_DAYS) / 235)),
+    f"{_RELATION_SRC}; years of 365.25 days", exact_days=19 * Fraction(JULIAN_YEAR_DAYS) / 235,
+    approximates="synodic_month")
+
+
 def relation_error_ppm(key: str) -> float:
     """How far a period relation's period is from the mean period it stands for (ppm: positive
     when the relation's period is the longer)."""
@@ -201,12 +215,13 @@ def find_period(text: str) -> MeanPeriod:
     wants = {said, said[:-1] if said.endswith("s") else said}
     wants |= {w[: -len(" period")] for w in wants if w.endswith(" period")}
     for p in PERIODS.values():
-        names = {norm(p.key), norm(p.name)}
+        names = {norm(p.key), norm(p.name), norm(p.name.split(" (")[0])}
         if p.name.endswith(" period"):
             names.add(norm(p.name[: -len(" period")]))
         if wants & names:
             return p
     aliases = {"year": "tropical_year", "month": "synodic_month", "lunation": "synodic_month",
+               "metonic": "metonic_cycle", "metonic_relation": "synodic_month_235_in_19",
                "node": "nodal_period", "apsis": "apsidal_period", "apse": "apsidal_period"}
     for w in wants:
         if w.replace(" ", "_") in aliases:

@@ -20,6 +20,8 @@ QUOTED = {
     "apsidal_period": 3231.50,
     "sidereal_nodal_period": 6793.48,  # 18.5996 years
     "sidereal_apsidal_period": 3232.605,  # 8.8505 years
+    "saros": 6585.3211,  # 18 years 11 days 8 hours
+    "metonic_cycle": 6939.688,  # 19 tropical years less about 2 hours
 }
 
 
@@ -132,3 +134,21 @@ def test_find_planet_periods_by_name():
     assert find_period("Saturn 57 synodic periods in 59 years").key == "saturn_57_in_59"
     with pytest.raises(KeyError, match="Neptune synodic period"):
         find_period("pluto sidereal")
+
+
+def test_lunisolar_cycles_by_name_and_what_makes_them_cycles():
+    from engine.periods import relation_error_ppm
+
+    assert find_period("saros").key == find_period("Saros").key == "saros"
+    assert find_period("metonic").key == find_period("Metonic cycle").key == "metonic_cycle"
+    assert find_period("metonic relation").key == "synodic_month_235_in_19"
+    assert find_period("235 synodic months in 19 years").key == "synodic_month_235_in_19"
+    # facts of the trade (common practice, no source): a Saros is within a day of 242
+    # draconic and 239 anomalistic months, and 19 years hold 235 lunations within a day
+    saros = PERIODS["saros"].days
+    assert abs(242 * PERIODS["draconic_month"].days - saros) < 1.0
+    assert abs(239 * PERIODS["anomalistic_month"].days - saros) < 1.0
+    assert abs(19 * PERIODS["tropical_year"].days - PERIODS["metonic_cycle"].days) < 0.1
+    # the relation on Julian years: 19 x 365.25 / 235 days against the mean synodic month
+    assert relation_error_ppm("synodic_month_235_in_19") == pytest.approx(
+        (19 * 365.25 / 235 / PERIODS["synodic_month"].days - 1) * 1e6)
