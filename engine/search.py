@@ -304,7 +304,12 @@ def check_reachable(target: Target, constraints: Constraints) -> None:
                   f"{float(lo):.4g} to {float(hi):.4g} turns per crank turn "
                   f"({float(crank / hi):.4g} to {float(crank / lo):.4g} days per output turn "
                   f"with the crank at {fraction_text(crank)} day{'' if crank == 1 else 's'} per turn)")
-    if need is not None and need <= MAX_STAGES and need > k and constraints.direction == "any":
+    counts = len(set(drv) | set(dvn))
+    if (need is not None and need > k and constraints.no_repeat and 2 * need > counts
+            and need <= MAX_STAGES):
+        fix = (f"{need} stages with --no-repeat need {2 * need} different counts and these "
+               f"bounds allow {counts}: allow more counts, or drop --no-repeat")
+    elif need is not None and need <= MAX_STAGES and need > k and constraints.direction == "any":
         fix = f"search --stages {need}"
     else:
         mid = math.sqrt(float(lo) * float(hi))  # the middle of what the bounds reach

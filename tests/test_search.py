@@ -507,6 +507,15 @@ def test_cli_hopeless_or_unbounded_searches_refused_up_front(argv, words, capsys
     assert err.count("\n") == 1 and "usage error" in err and words in err, err
 
 
+def test_out_of_reach_with_no_repeat_gives_advice_that_can_work(capsys):
+    """Three allowed counts with --no-repeat cannot fill the 4 stages (8 different counts)
+    that would reach the synodic month: the refusal says so, where it said 'search --stages 4'."""
+    assert main(["search", "--cycle", "synodic month", "--allowed", "10,20,30", "--no-repeat",
+                 "--stages", "3"]) == 2
+    err = capsys.readouterr().err
+    assert "need 8 different counts" in err and "allow 3" in err and "--stages 4" not in err
+
+
 def test_ppm_has_one_meaning_in_ratios_and_search(capsys):
     """The 2/59 moon disc: its period error against the synodic month is the same figure under
     the same key in both commands (period 29.5 days; mean synodic month 29.530588853 days,
