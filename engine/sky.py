@@ -8,14 +8,17 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
 
 * the reference pipeline (``fast=False``) is skyfield's own, step by step:
   ``earth.at(t).observe(body).apparent().frame_latlon(ecliptic_frame)``, with IAU 2000A nutation;
-* the fast pipeline (the default) does the same physics in one batch:
+* the fast pipeline (the default) does the same physics in batches of 8,192 dates (fewer
+  where the equinox frame's rotation would span too long), the Sun and the Moon stacked
+  through each step, lengths in km:
 
   - every Chebyshev segment sharing a record layout is evaluated at once (positions and rates
     from one gather of coefficients); on a regular grid of dates whose step divides the record
     length (one a day, every 6 hours, ...) each record's series is instead evaluated once at
-    its grid points, with its derivatives, by one matrix product, and each date carried from
-    its grid point (ΔT makes a UT grid slightly irregular in TDB) by a Taylor series whose
-    remainder is bounded below a millimetre (:meth:`_ChebGroup._evaluate_grid`);
+    its grid points, with its derivatives, by one matrix product an order (the basis
+    remembered from batch to batch), and each date carried from its grid point (ΔT makes a
+    UT grid slightly irregular in TDB) by a Taylor series whose remainder is bounded below a
+    millimetre (:meth:`_ChebGroup._evaluate_grid`);
   - light time is solved with the target's position carried back along its velocity:
     over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
   - aberration is skyfield's own relativistic formula (the same operations, bit for bit, with
@@ -42,7 +45,11 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
   - planets: light time iterated on the ephemeris itself, the Sun's light deflection (see
     :func:`_add_sun_deflection`), aberration.
 
-ΔT comes from skyfield's built-in model (``load.timescale(builtin=True)``).
+ΔT comes from skyfield's built-in model (``load.timescale(builtin=True)``); for rising dates
+its daily table and its long-term spline are each taken on their own run of dates
+(:func:`_delta_t_rising`, the same values). Making a :class:`Sky` asks glibc to keep freed
+blocks for reuse (:func:`_keep_freed_memory`): the batches' arrays would otherwise be mapped
+and zeroed afresh.
 
 Frames: ``"equinox"`` — true ecliptic and equinox of date (what a tropical zodiac dial shows);
 ``"stars"`` — the fixed ecliptic of J2000 (skyfield's ``ecliptic_J2000_frame``), for dials
