@@ -521,13 +521,22 @@ class _ChebGroup:
             return None
         # Seconds from the first date, whole days and fractions apart (whole days give whole
         # seconds, exact in double precision).
-        rel = (whole - whole[0]) * SECONDS_PER_DAY + (frac - frac[0]) * SECONDS_PER_DAY
-        if not rel[-1] > 0.0:
+        def seconds(i):
+            return float((whole[i] - whole[0]) * SECONDS_PER_DAY + (frac[i] - frac[0]) *
+                         SECONDS_PER_DAY)
+
+        span = seconds(n - 1)
+        if not span > 0.0:
             return None
-        m = round(self.intlen * (n - 1) / rel[-1])  # grid points a record
+        m = round(self.intlen * (n - 1) / span)  # grid points a record
         if m < 1 or m > n:
             return None
         step = self.intlen / m
+        # Three dates first: scattered dates are turned away without a pass over them all.
+        if any(not abs(seconds(i) - step * i) <= _GRID_SLIP_S for i in (n // 4, n // 2,
+                                                                          3 * n // 4)):
+            return None
+        rel = (whole - whole[0]) * SECONDS_PER_DAY + (frac - frac[0]) * SECONDS_PER_DAY
         slip = rel - step * np.arange(n)
         largest_slip = float(np.max(np.abs(slip)))
         if not largest_slip <= _GRID_SLIP_S:

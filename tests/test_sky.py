@@ -916,7 +916,7 @@ def _tdb(sky, jd_ut):
 def _grid_agrees_with_gather(sky, jd_ut):
     """Every series of the file on a UT grid: the grid path is taken, and agrees with the
     gather path within 1 cm in position and within the grid's bound on rates (1 cm/s) plus
-    the gather path's single precision."""
+    the gather path's rounding."""
     whole, frac = _tdb(sky, jd_ut)
     for group in sky._loaded.groups:
         grid = group._evaluate_grid(whole, frac)
@@ -953,7 +953,7 @@ def test_grid_path_only_for_grids(sky):
     one_by_one = sky.at(jd[::97], "stars")
     for field in ("sun_lon_deg", "moon_lon_deg", "moon_lat_deg"):
         assert np.max(np.abs(dang(getattr(dense, field)[::97], getattr(one_by_one, field)))
-                      ) < 1e-5 * ARCSEC  # the gather path sums rates in single precision
+                      ) < 1e-5 * ARCSEC  # the two paths' rounding of the rates
 
 
 def test_grid_taylor_order_grows_with_slip(sky):

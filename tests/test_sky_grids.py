@@ -150,7 +150,7 @@ def _check_grids_agree(spies):
         for key, (pos, vel) in out.items():
             # the Taylor remainder's bound (1 mm) and the rounding of two sums (well under it)
             assert np.max(np.abs(pos - ref[key][0])) < _TAYLOR_KM, key
-            # the rate's bound (1 cm/s), and the gather path's single-precision rates
+            # the rate's bound (1 cm/s), and the rounding of the gather path's rates
             assert np.max(np.abs(vel - ref[key][1])) < (
                 _TAYLOR_KM_S * 86400.0 + 1e-6 * np.max(np.abs(ref[key][1]))), key
     for step, x, out in spies.grids:
@@ -208,9 +208,8 @@ def test_six_hour_pipeline_with_and_without_grids(sky, monkeypatch, frame):
     exact = sky.at(jd, frame)
     worst = _largest_difference(gridded, exact)
     assert max(worst.values()) < PIPELINE_BOUND_ARCSEC, worst
-    # The Moon's distance moves with the rates too: their bound (1 cm/s) and the gather
-    # path's single-precision rates (3 mm/s at 30 km/s) over its 1.3 s of light time, once in
-    # the light time and once in the aberration: 3.4 cm.
+    # The Moon's distance moves with the rates too: their bound (1 cm/s) over its 1.3 s of
+    # light time, once in the light time and once in the aberration: under 3 cm.
     assert np.max(np.abs(gridded.moon_km - exact.moon_km)) < 5e-5
     np.testing.assert_array_equal(gridded.jd_tt, exact.jd_tt)
 
