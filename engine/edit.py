@@ -20,6 +20,7 @@ Values are given as the user typed them (text) or as numbers::
 
 from __future__ import annotations
 
+import math
 import os
 import re
 from dataclasses import dataclass
@@ -57,8 +58,8 @@ def _value(text: str | int | float | Fraction, fraction_ok: bool = False):
     t = str(text).strip().replace("_", "")
     if _INT.match(t) and len(t) <= 30:
         return int(t)
-    if _FLOAT.match(t):
-        return float(t)
+    if _FLOAT.match(t) and math.isfinite(float(t)):
+        return float(t)  # (1e400, too large for a float, is refused as typed)
     if fraction_ok and "/" in t:
         return t
     return str(text)
@@ -209,6 +210,8 @@ class TrainEditor:
                              "in this train")
         arbor = train.wheels[wheel].arbor
         value = _value(teeth)
+        if isinstance(value, float) and isinstance(teeth, str):
+            value = teeth.strip()  # never a count: refused as typed ('1e3'), not as read (1000.0)
         item = f"[arbors.{arbor}] wheel '{wheel}'"
         self._check_primes(value, item)
         return self._apply(("arbors", arbor, "wheels", wheel), value, item)

@@ -48,6 +48,8 @@ def test_teeth_edit_resolves_at_once(tide, sky):
     ("sun_w1", "0", "more than zero"),
     ("sun_w1", "sixty", "whole number"),
     ("sun_w1", "12.5", "whole number"),
+    ("sun_w1", "1e3", "whole number, got '1e3'"),  # as typed, not 'got 1000.0' (reads as whole)
+    ("sun_w1", "1e400", "whole number, got '1e400'"),  # not 'got inf'
     ("sun_w1", "99999999", "10,000"),
     ("nowhere", "12", "no such wheel"),
 ])
@@ -89,6 +91,8 @@ def test_pin_slot_and_crank_edits(tide, sky):
         ed.set_days_per_turn("ten")
     with pytest.raises(TrainError, match="days_per_turn"):
         ed.set_days_per_turn("1e9")  # past the loader's bound
+    with pytest.raises(TrainError, match="got '1e400'"):  # as typed, not 'got inf'
+        ed.set_days_per_turn("1e400")
     with pytest.raises(TrainError, match="only offset_mm and pin_radius_mm"):
         ed.set_pin_slot("anomaly", "pin", "x")
     assert ed.mech.train.pin_slots["anomaly"].offset_mm == 1.1
