@@ -500,12 +500,31 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             if out:
                 out.discard()
         raise
+    from ..phasing import stage_phases
+
+    phases = stage_phases(mech, sky, frame=args.frame)  # a few ms: each stage's phase
     return (mech, sky, result, start, end, step, csv_out and csv_out.path,
-            png_out and png_out.path)
+            png_out and png_out.path, phases)
+
+
+def phase_note(mech, ph) -> str:
+    """One line for a pin-and-slot stage whose phase at the epoch puts the sky's inequality in
+    instead of taking it out: what it does, the phase that fits, and what to do."""
+    from ..dates import format_day
+
+    def swing(lo, hi):
+        return f"{lo:+.2f}° to {hi:+.2f}°"
+
+    return (f"pin-and-slot stage '{ph.stage}' is out of phase with the sky: with pin_deg = "
+            f"{ph.pin_deg:g}° the pointer '{ph.pointer}' errs {swing(ph.low_deg, ph.high_deg)} "
+            f"over the {_duration(ph.to_jd - ph.from_jd)} from the epoch, with pin_deg = "
+            f"{ph.best_pin_deg:.0f}° only {swing(ph.best_low_deg, ph.best_high_deg)}; "
+            f"set pin_deg to about {ph.best_pin_deg:.0f}° in [pin_slots.{ph.stage}] of "
+            f"{mech.train.source} for the epoch {format_day(ph.from_jd, bc=True)}")
 
 
 def _report(args, console: Console, err: Console, mech, sky, result, start, end, step,
-            csv_path, png_path) -> int:
+            csv_path, png_path, phases=()) -> int:
     from rich.text import Text
 
     from ..dates import format_jd
@@ -519,6 +538,8 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
             "to_jd": last, "asked_to_jd": float(end), "step_days": step, "dates": int(n),
             "from": format_jd(start), "to": format_jd(last),
             "pointers": result.summaries_dict(), "notes": result.notes,
+            "pin_slot_phases": [{**ph.to_dict(), "note": phase_note(mech, ph) if ph.off else None}
+                                for ph in phases],
             "caution": SUN_CAUTION,  # as sky and eclipses: the JSON invites comparison too
         }
         console.print_json(json.dumps(doc))
@@ -542,6 +563,9 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     line("error = what the train shows minus the true sky (positive: ahead)")
     for note in result.notes:
         line(f"note: {note}", "yellow")
+    for ph in phases:
+        if ph.off:
+            line(f"note: {phase_note(mech, ph)}", "yellow")
     line("")
     for s in result.summaries.values():
         support.print_table(console, _summary_table(s, start, args.threshold_days is not None))
