@@ -479,6 +479,9 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             bar = None
         if ctrl_c.cancelled():
             raise KeyboardInterrupt
+        from ..phasing import stage_phases
+
+        phases = stage_phases(mech, sky, frame=args.frame)  # a few ms: each stage's phase
         from ..dates import format_day
 
         title = (f"{mech.train.name}: pointer error against {sky.name}, "
@@ -500,9 +503,6 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             if out:
                 out.discard()
         raise
-    from ..phasing import stage_phases
-
-    phases = stage_phases(mech, sky, frame=args.frame)  # a few ms: each stage's phase
     return (mech, sky, result, start, end, step, csv_out and csv_out.path,
             png_out and png_out.path, phases)
 
