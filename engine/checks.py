@@ -793,7 +793,7 @@ def _tooth_forms(train: Train, findings: list[Finding]) -> dict:
     from .errors import TrainError
 
     try:
-        return tooth_forms(train)
+        forms = tooth_forms(train)
     except TrainError as exc:
         fix = ("set one form for both in [workshop.wheels.NAME] (or neither, to take [workshop] "
                "tooth_form)" if "tooth form" in exc.problem else
@@ -801,6 +801,16 @@ def _tooth_forms(train: Train, findings: list[Finding]) -> dict:
         if not any(f.level == "error" and f.item == exc.item for f in findings):
             findings.append(Finding("error", exc.item, exc.problem, fix))  # not said already
         return {}
+    shop = train.workshop
+    for w, tooth in forms.items():  # a bore chosen in [workshop] (the default one always fits)
+        bore = shop.wheel(w).bore_mm or shop.bore_mm
+        if bore is not None and tooth.role != "ring" and bore / 2 >= tooth.root_radius_mm:
+            findings.append(Finding(
+                "error", f"wheel '{w}'", f"a bore of {bore:g} mm is wider than the root circle "
+                f"({2 * tooth.root_radius_mm:.3f} mm): wheelwork cut cannot draw it",
+                f"give it a bore_mm under {2 * tooth.root_radius_mm:.3g} mm in "
+                f"[workshop.wheels.{w}], or cut its leaves on the arbor"))
+    return forms
 
 
 def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding]) -> None:

@@ -290,6 +290,18 @@ def test_two_tooth_forms_in_one_mesh_is_an_error():
     assert "[workshop.wheels.NAME]" in err.fix
 
 
+def test_a_bore_wider_than_the_root_circle_is_an_error():
+    """wheelwork cut refuses a bore chosen wider than a wheel's root circle; so does the check.
+    The 12-tooth involute pinion at module 1: root circle 12 - 2.5 = 9.5 mm (ISO 53)."""
+    text = (TRAINS / "undercut.toml").read_text()
+    train = parse_train(text + "[workshop.wheels.twelve]\nbore_mm = 10\n", "t.toml")
+    (err,) = levels(check(train, solve(train)), "error")
+    assert err.item == "wheel 'twelve'" and "9.500 mm" in err.message
+    assert "[workshop.wheels.twelve]" in err.fix
+    train = parse_train(text + "[workshop.wheels.twelve]\nbore_mm = 9\n", "t.toml")
+    assert not levels(check(train, solve(train)), "error")
+
+
 def test_big_tooth_count_rules():
     report = run_check(TRAINS / "big_wheels.toml")
     (count,) = levels(report, "warning", "wheel 'w1'")
