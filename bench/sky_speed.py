@@ -47,8 +47,8 @@ each, with the largest difference per planet (target: 0.01").
     python bench/sky_speed.py [--frame equinox|stars|both] [--repeat N] [--no-planets]
                               [--no-6h] [--no-scattered] [--peer-batch N]
 
-A full run (both frames, three sets of dates, 3 rounds, the planets) takes about two minutes
-(107-175 s on a shared 2-core machine, 95-101 s of CPU; it prints its own time at the end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
+A full run (both frames, three sets of dates, 3 rounds, the planets) takes one to two minutes
+(73 s, 69 s of CPU, on the shared 2-core machine; it prints its own time at the end); ``--no-6h``, ``--no-scattered``, ``--no-planets`` and ``--frame`` shorten it.
 """
 
 from __future__ import annotations
