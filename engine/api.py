@@ -61,6 +61,7 @@ from .periods import (
     mean_elements,
     relation_error_ppm,
 )
+from .phasing import StagePhase, stage_phases
 from .plate import place_plates
 from .play import PlayReport, Tolerances, play
 from .ratios import PointerRatio, Stage, SynodicRatio, ToothNote, pointer_ratios
@@ -107,7 +108,7 @@ __all__ = [
     "as_jd",
     # drift
     "pointer_errors", "drift_series", "DriftRun", "RunControl", "DriftResult",
-    "PointerSummary", "parse_step", "ErrorNow",
+    "PointerSummary", "parse_step", "ErrorNow", "stage_phases", "StagePhase",
     # search
     "search", "make_target", "make_constraints", "convergents", "emit_fragment",
     "SearchReport", "TrainResult", "WheelPair", "Convergent", "Target", "Constraints",
