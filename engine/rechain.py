@@ -72,6 +72,12 @@ class PointerChain:
         ``product`` (a magnitude)."""
         return self.a * self.sign * product + self.b
 
+    @property
+    def ratio_now(self) -> Fraction:
+        """The pointer's cycles per crank turn with the teeth the train has now: an answer
+        with other teeth may give the very same (18/92 · 18/104 and 9/46 · 9/52)."""
+        return self.pointer_ratio(abs(_product(self.stages, {})))
+
 
 @dataclass(frozen=True)
 class ChainAnswer:

@@ -88,3 +88,10 @@ def test_search_reports_progress_and_stops_when_asked():
 
     with pytest.raises(SearchCancelled):
         search(target, cons, cancel=cancel, with_convergents=False)
+
+
+
+def test_the_ratio_now_is_the_pointers_ratio_with_the_trains_own_teeth(tide):
+    for pointer in ("moon", "phase", "perigee", "node"):
+        chain = pointer_chain(tide, pointer)
+        assert chain.ratio_now == pointer_linear(tide.kin, tide.train.pointers[pointer]).crank

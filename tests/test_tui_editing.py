@@ -725,3 +725,20 @@ async def test_parts_screen_readings_keep_one_line_a_pointer_at_80x24(tmp_path):
         readings = app.screen.query_one(Readings)
         assert readings.size.height == 1 + len(app.session.mech.train.pointers)
         assert "°/cy" in readings_text(app).splitlines()[0]
+
+
+def test_an_answer_of_other_teeth_with_the_ratio_now_is_marked_so():
+    # "(as now)" for the train's own teeth, "(ratio as now)" for other teeth giving the same
+    # ratio (picking it changes the wheels, not the reading), nothing otherwise
+    from fractions import Fraction
+    from types import SimpleNamespace
+
+    from tui.editing import TeethScreen
+
+    fake = SimpleNamespace(teeth={"a": 9, "b": 46}, ratio=Fraction(9, 46),
+                           period_error_ppm=0.0, drift_deg_per_century=0.0,
+                           result=SimpleNamespace(total_teeth=55), stages_text=lambda: "9/46")
+    text = TeethScreen._answer_text
+    assert "(ratio as now)" in str(text(fake, 4, {"a": 18, "b": 92}, Fraction(18, 92)))
+    assert "(as now)" in str(text(fake, 4, {"a": 9, "b": 46}, Fraction(9, 46)))
+    assert "as now" not in str(text(fake, 4, {"a": 18, "b": 91}, Fraction(18, 91)))

@@ -847,20 +847,25 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         ol.clear_options()
         width = max((len(a.stages_text()) for a in answers), default=0)
         now = {w: t for w, _, t in self.editor.wheels()}
-        ol.add_options([Option(self._answer_text(a, width, now), id=str(i))
+        ratio_now = self.chain.ratio_now if self.chain is not None else None
+        ol.add_options([Option(self._answer_text(a, width, now, ratio_now), id=str(i))
                         for i, a in enumerate(answers)])
         if answers:
             ol.highlighted = 0
             ol.focus()
 
     @staticmethod
-    def _answer_text(a, width: int, now: dict) -> Text:
+    def _answer_text(a, width: int, now: dict, ratio_now=None) -> Text:
+        """One answer's line; "(as now)" for the train's own teeth, "(ratio as now)" for other
+        teeth giving the very same ratio (picking it changes the wheels, not the reading)."""
         same = all(now.get(w) == n for w, n in a.teeth.items())
+        mark = ("  (as now)" if same else
+                "  (ratio as now)" if ratio_now is not None and a.ratio == ratio_now else "")
         return Text.assemble((a.stages_text().ljust(width), "bold"),
                              f"  {_ppm(a.period_error_ppm):>9} ppm  "
                              f"{_drift(a.drift_deg_per_century):>9} °/cy  "
                              f"{a.result.total_teeth:>4} teeth",
-                             ("  (as now)" if same else "", "#98c379"))
+                             (mark, "#98c379"))
 
     @on(OptionList.OptionSelected, "#teeth-answers")
     def _chosen(self, event: OptionList.OptionSelected) -> None:
