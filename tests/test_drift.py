@@ -34,13 +34,6 @@ ARCSEC = 1 / 3600
 MINUTE = 1 / 1440  # day
 
 
-@pytest.fixture(scope="module")
-def sky():
-    from engine.sky import Sky
-
-    return Sky()
-
-
 # --- unit: synthetic series ----------------------------------------------------
 
 def test_summary_of_synthetic_series():

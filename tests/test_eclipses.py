@@ -12,14 +12,8 @@ import pytest
 
 from engine import eclipses as E
 from engine.dates import parse_date
-from engine.sky import Sky
 
 MINUTE = 1 / 1440
-
-
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
 
 
 @pytest.fixture(scope="module")

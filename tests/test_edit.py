@@ -13,12 +13,6 @@ from engine.edit import TrainEditor
 from engine.errors import OutputError, TrainError
 from engine.loader import load_train
 from engine.mechanism import build
-from engine.sky import Sky
-
-
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
 
 
 @pytest.fixture

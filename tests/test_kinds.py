@@ -25,13 +25,6 @@ HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 
 
-@pytest.fixture(scope="module")
-def sky():
-    from engine.sky import Sky
-
-    return Sky()
-
-
 def test_every_row_is_complete():
     for key, row in KINDS.items():
         assert row.key == key and row.about

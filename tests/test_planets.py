@@ -32,11 +32,6 @@ ARCSEC = 1 / 3600
 VENUS_STATION_DAYS = 3.0
 
 
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
-
-
 # --- kinds ---------------------------------------------------------------------------------
 
 def test_every_planet_is_a_row_seen_from_the_earth_and_from_the_sun():

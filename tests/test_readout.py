@@ -13,15 +13,9 @@ from engine.loader import load_train, parse_train
 from engine.mechanism import build
 from engine.periods import J2000_JD, JULIAN_CENTURY_DAYS, PRECESSION_DEG_PER_CY, mean_elements
 from engine.readout import Readout, epoch_values
-from engine.sky import Sky
 
 TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
 ARCSEC = 1 / 3600
-
-
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
 
 
 def tide_text(mode: str) -> str:

@@ -30,11 +30,6 @@ ARCMIN = 1 / 60
 SECOND_DAYS = 1 / 86400
 
 
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
-
-
 def dang(a, b):
     """Signed smallest difference of angles in degrees."""
     return (np.asarray(a) - b + 180.0) % 360.0 - 180.0
@@ -536,11 +531,6 @@ def test_sky_command_planets(capsys):
 
 
 # --- the long-span ephemeris (DE406, the `ancient` extra) and ΔT's uncertainty ----------------
-
-@pytest.fixture(scope="module")
-def sky406():
-    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
-    return Sky("de406")
 
 
 def test_de406_span_and_refusal(sky406):

@@ -4,28 +4,14 @@ grid path off) against jplephem's own evaluation of the same Chebyshev records."
 from __future__ import annotations
 
 import numpy as np
-import pytest
 from jplephem.spk import S_PER_DAY
 from jplephem.spk import T0 as J2000
-
-from engine.sky import Sky
 
 # Positions: a millimetre is the fast path's own bound on its series (common practice, no
 # source); measured 1e-7 km on DE421 and DE406 (the rounding of two sums of 13 terms of up to
 # 1.5e8 km). Rates: relative to the series' largest rate, measured below 1e-15.
 POSITION_KM = 1e-6
 RATE_RELATIVE = 1e-12
-
-
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
-
-
-@pytest.fixture(scope="module")
-def sky406():
-    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
-    return Sky("de406")
 
 
 def _gathered(group, whole, frac):

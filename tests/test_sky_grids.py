@@ -12,7 +12,7 @@ import pytest
 from skyfield.constants import ASEC2RAD, T0
 
 import engine.sky as sky_module
-from engine.sky import _TAYLOR_KM, _TAYLOR_KM_S, Sky
+from engine.sky import _TAYLOR_KM, _TAYLOR_KM_S
 
 ARCSEC = 1 / 3600
 SIX_HOURS = 0.25
@@ -26,17 +26,6 @@ TDB_BOUND_S = 3e-7  # _tdb_fraction: TDB - TT from its 16-day grid
 # the nutation's allowance and little more.
 PIPELINE_BOUND_ARCSEC = DPSI_BOUND_ARCSEC + DPSI_ROUNDING_ARCSEC + 2e-6
 GOAL_ARCSEC = 0.003  # issue 12: within 0.003" of the 2000A reference
-
-
-@pytest.fixture(scope="module")
-def sky():
-    return Sky()
-
-
-@pytest.fixture(scope="module")
-def sky406():
-    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
-    return Sky("de406")
 
 
 def six_hourly(start_jd: float, n: int) -> np.ndarray:
