@@ -1247,17 +1247,23 @@ _STATE_ARRAYS = tuple(f.name for f in fields(SkyState) if f.name not in (
 
 
 class _Apparent(NamedTuple):
-    """What :meth:`Sky._apparent` gives: apparent Sun and Moon (au, ICRS axes), and the
-    geometric positions and observer motion the planets' light path needs."""
+    """What :meth:`Sky._apparent` gives: the apparent Sun and Moon stacked (km, ICRS axes), and
+    the geometric positions and observer motion the planets' light path needs (km, km/day)."""
 
-    sun: np.ndarray
-    moon: np.ndarray
+    both: np.ndarray  # (2, 3, n): the Sun, then the Moon
     geocentre: np.ndarray
     obs: np.ndarray
     v_obs: np.ndarray
     sun_p: np.ndarray
     sun_v: np.ndarray
-    both: np.ndarray  # (2, 3, n): sun and moon stacked (they are views of it)
+
+    @property
+    def sun(self) -> np.ndarray:
+        return self.both[0]
+
+    @property
+    def moon(self) -> np.ndarray:
+        return self.both[1]
 
 
 class Sky:
@@ -1447,8 +1453,7 @@ class Sky:
             vectors[:] = seen.reshape(6, n)
         both = np.empty_like(seen)
         _add_aberration((seen,), (lts,), v_obs, _C_KM_DAY, outs=(both,))
-        sun, moon = both
-        return _Apparent(sun, moon, geocentre, obs, v_obs, targets[0], rate[0], both)
+        return _Apparent(both, geocentre, obs, v_obs, targets[0], rate[0])
 
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
         a = self._apparent(whole, frac, site, t, vectors)

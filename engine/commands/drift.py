@@ -422,9 +422,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
 def _compute(args, err: Console, ctrl_c: _CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
-    from ..dates import parse_step
+    from ..dates import format_day, parse_step
     from ..drift import DriftError, DriftRun, RunControl, drift_series, grid
     from ..kinds import days_rate
+    from ..phasing import stage_phases
     from ..sky import Site
 
     step = parse_step(args.step)
@@ -479,11 +480,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
             bar = None
         if ctrl_c.cancelled():
             raise KeyboardInterrupt
-        from ..phasing import stage_phases
-
         phases = stage_phases(mech, sky, frame=args.frame)  # a few ms: each stage's phase
-        from ..dates import format_day
-
         title = (f"{mech.train.name}: pointer error against {sky.name}, "
                  f"{format_day(start, bc=True)} to {format_day(result.jd[-1], bc=True)}")
         if png_out:
