@@ -676,6 +676,7 @@ def _positions(train: Train, groups, modules, findings: list[Finding], forms: di
                 train.arbors[a.axis_with].mount == a.mount:
             pos[a.name] = pos[a.axis_with]
     if not pos:
+        _fixed_overlaps(train, groups, modules, pos, findings, forms)
         return
     for a in train.arbors.values():
         b = a.axis_with
@@ -726,6 +727,61 @@ def _positions(train: Train, groups, modules, findings: list[Finding], forms: di
                     f"but offset_mm is {ps.offset_mm:g}", "make offset_mm match the positions, "
                     "or move the slot arbor"))
     _overlaps(train, groups, modules, pos, findings, forms)
+    _fixed_overlaps(train, groups, modules, pos, findings, forms)
+
+
+def _tips(train: Train, modules, forms) -> dict[str, float]:
+    """Each wheel's tip radius as it will be cut (internal wheels left out)."""
+    rings = {m.ring for m in train.meshes if m.ring}
+    return {w: (forms[w].tip_radius_mm if w in forms
+                else (pitch_diameter_mm(mod, train.wheels[w].teeth) + 2 * mod) / 2.0)
+            for w, mod in modules.items() if w not in rings}
+
+
+def _over_axis(train: Train, w: str, tip: float, other: str, dist: float, modules,
+               mesh=None) -> Finding:
+    """The warning for wheel ``w`` reaching over the axis of ``other``; ``mesh`` is the mesh
+    that holds the two axes that far apart (the distance cannot be changed by moving one)."""
+    mod = modules[w]
+    addendum = tip - pitch_diameter_mm(mod, train.wheels[w].teeth) / 2.0
+    zmax = math.floor(2 * (dist - addendum) / mod)
+    why = f" (as {mesh.label} holds them)" if mesh is not None else ""
+    part = (f"part the axes at least {_mm(tip - dist)} further ({mesh.label} at more teeth or "
+            "a larger module)" if mesh is not None else
+            f"move '{other}' at least {_mm(tip - dist)} further away")
+    return Finding(
+        "warning", f"wheel '{w}'", f"its tip circle (radius {_mm(tip)}) reaches over the axis "
+        f"of '{other}', {_mm(dist)} from its own{why}",
+        f"{part}, make '{w}' at most {zmax} teeth, or end '{other}' short of this wheel's plane")
+
+
+def _fixed_overlaps(train: Train, groups, modules, pos, findings: list[Finding],
+                    forms) -> None:
+    """A tip circle over the axis of an arbor whose distance a mesh fixes, whether or not the
+    file places the axes: a mesh holds two axes one centre distance apart, so a wheel on one
+    of them wider than that reaches over the other's arbor at any placing (a compound
+    arbor's great wheel over the next arbor's pivot, a dial wheel over an idler beside it).
+    Axes both placed with ``at_mm`` are left to :func:`_overlaps`, which measures them."""
+    tips = _tips(train, modules, forms)
+    done = set()
+    for m in train.meshes:
+        if m.module_mm is None or m.internal:
+            continue
+        w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+        if train.arbors[w1.arbor].mount != train.arbors[w2.arbor].mount:
+            continue
+        dist = centre_distance_mm(m.module_mm, w1.teeth, w2.teeth, m.internal)
+        for here, there in ((w1.arbor, w2.arbor), (w2.arbor, w1.arbor)):
+            if groups[here] == groups[there] or (here in pos and there in pos):
+                continue
+            for w, tip in tips.items():
+                wa = train.wheels[w].arbor
+                if groups[wa] != groups[here] or train.arbors[wa].mount != \
+                        train.arbors[here].mount or (w, groups[there]) in done:
+                    continue
+                if dist < tip - TOLERANCE_MM:
+                    done.add((w, groups[there]))
+                    findings.append(_over_axis(train, w, tip, there, dist, modules, m))
 
 
 def _overlaps(train, groups, modules, pos, findings, forms) -> None:
@@ -736,18 +792,12 @@ def _overlaps(train, groups, modules, pos, findings, forms) -> None:
     any other two wheels whose tip circles overlap would foul if they were in the same plane.
     Internal (ring) wheels enclose their pinions and are left out.
     """
-    rings = {m.ring for m in train.meshes if m.ring}
     partners = set()
     for m in train.meshes:
         a1, a2 = groups[train.wheels[m.driver].arbor], groups[train.wheels[m.driven].arbor]
         partners.add(frozenset((a1, a2)))
-    tips = {}
-    for w, mod in modules.items():
-        wheel = train.wheels[w]
-        if w in rings or wheel.arbor not in pos:
-            continue
-        tips[w] = (forms[w].tip_radius_mm if w in forms
-                   else (pitch_diameter_mm(mod, wheel.teeth) + 2 * mod) / 2.0)
+    tips = {w: t for w, t in _tips(train, modules, forms).items()
+            if train.wheels[w].arbor in pos}
     mount = {n: train.arbors[n].mount for n in train.arbors}
     for w, tip in tips.items():
         wa = train.wheels[w].arbor
@@ -756,14 +806,7 @@ def _overlaps(train, groups, modules, pos, findings, forms) -> None:
                 continue
             dist = math.dist(pos[wa], p)
             if dist < tip - TOLERANCE_MM:
-                mod = modules[w]
-                addendum = tip - pitch_diameter_mm(mod, train.wheels[w].teeth) / 2.0
-                zmax = math.floor(2 * (dist - addendum) / mod)
-                findings.append(Finding(
-                    "warning", f"wheel '{w}'", f"its tip circle (radius {_mm(tip)}) reaches "
-                    f"over the axis of '{other}', {_mm(dist)} from its own",
-                    f"move '{other}' at least {_mm(tip - dist)} further away, make '{w}' at most "
-                    f"{zmax} teeth, or end '{other}' short of this wheel's plane"))
+                findings.append(_over_axis(train, w, tip, other, dist, modules))
     names = sorted(tips)
     meshing = {frozenset((m.driver, m.driven)) for m in train.meshes}
     for i, w1 in enumerate(names):

@@ -187,6 +187,50 @@ set_deg = 0
         assert not any("reaches over" in f.message for f in check(train, solve(train)).findings)
 
 
+FORCED = header("a") + """
+[arbors.a]
+wheels = { pa = 10 }
+[arbors.b]
+wheels = { wb = 73, pb = 8 }
+[arbors.c]
+wheels = { wc = 50 }
+[[meshes]]
+wheels = ["pa", "wb"]
+module_mm = 0.5
+[[meshes]]
+wheels = ["pb", "wc"]
+module_mm = 0.6
+[pointers.hand]
+shows = "sun"
+arbor = "c"
+set_deg = 0
+"""
+
+
+def test_tip_over_an_axis_a_mesh_holds_is_found_without_positions():
+    """A compound arbor whose great wheel is wider than the distance to the next arbor: 73
+    teeth at module 0.5 stand over 18.25 mm from their axis, the 8/50 mesh at module 0.6
+    holds the next axis 0.6 × 58 / 2 = 17.4 mm away (a = m (z1 + z2) / 2, standard spur-gear
+    geometry), so the wheel reaches over that arbor wherever the axes are put; no at_mm is
+    needed to know it."""
+    train = parse_train(FORCED, "t.toml")
+    warns = [f for f in check(train, solve(train)).findings if "reaches over" in f.message]
+    assert len(warns) == 1
+    (w,) = warns
+    assert w.item == "wheel 'wb'" and "axis of 'c', 17.4 mm" in w.message
+    assert "mesh 2 (pb–wc)" in w.message and "end 'c' short" in w.fix
+    assert "part the axes" in w.fix  # moving one axis alone cannot help: a mesh holds it
+    # With both axes placed the measured check speaks, once.
+    placed = FORCED.replace("[arbors.b]\n", "[arbors.b]\nat_mm = [0, 0]\n").replace(
+        "[arbors.c]\n", "[arbors.c]\nat_mm = [17.4, 0]\n")
+    train = parse_train(placed, "t.toml")
+    warns = [f for f in check(train, solve(train)).findings if "reaches over" in f.message]
+    assert len(warns) == 1 and "move 'c'" in warns[0].fix
+    # A wheel within the distance says nothing.
+    train = parse_train(FORCED.replace("wb = 73", "wb = 60"), "t.toml")
+    assert not any("reaches over" in f.message for f in check(train, solve(train)).findings)
+
+
 # --- speeds, torques, step-up --------------------------------------------------------------
 
 CHAIN = header("a") + """
