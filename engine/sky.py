@@ -536,9 +536,7 @@ class _ChebGroup:
         if any(not abs(seconds(i) - step * i) <= _GRID_SLIP_S for i in (n // 4, n // 2,
                                                                           3 * n // 4)):
             return None
-        rel = (whole - whole[0]) * SECONDS_PER_DAY + (frac - frac[0]) * SECONDS_PER_DAY
-        slip = rel - step * np.arange(n)
-        largest_slip = float(np.max(np.abs(slip)))
+        slip, largest_slip = _grid_slips(whole, frac, step)
         if not largest_slip <= _GRID_SLIP_S:
             return None
         # The first date's record and offset in it, as in the gather path.
@@ -555,35 +553,33 @@ class _ChebGroup:
         # The grid points' place in their slot, to whole multiples of _GRID_PHASE_S (so that
         # batches share one basis); what that moves them is part of every date's slip.
         phase_steps = round((offset - j0 * step) / _GRID_PHASE_S)
-        slip += (offset - j0 * step) - phase_steps * _GRID_PHASE_S
-        eps = slip * (2.0 / self.intlen)  # each date's slip in the record's own unit
+        # each date's slip in the record's own unit
+        eps = slip + ((offset - j0 * step) - phase_steps * _GRID_PHASE_S)
+        eps *= 2.0 / self.intlen
         orders = self._orders(first, records, (largest_slip + _GRID_PHASE_S) * 2.0 / self.intlen)
         if orders is None:
             return None
         p_order, v_order = orders
         # P_d, the d-th derivative in s at every date's grid point, (coordinates, dates): one
         # product per order over all records (coordinates first, so the records' slots run
-        # on in date order and nothing is transposed afterwards).
-        orders = max(p_order, v_order + 1)
+        # on in date order and nothing is transposed afterwards). The basis carries the
+        # series' scale, and its derivatives the rate's unit too (km/day from units of s):
+        # p[d] for d >= 1 is rate · P_d.
+        rate = 2.0 * SECONDS_PER_DAY / self.intlen
         by_coord = self.coef[first:first + records].transpose(1, 0, 2)
         with _one_blas_thread():
             p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
-                 for b in _grid_basis(self.nterms, m, self.intlen, phase_steps, orders)]
-        # Horner in ε: value P0 + ε(P1 + ε/2 (P2 + ε/3 P3)), rate P1 + ε(P2 + ε/2 P3)
-        pos = p[p_order] * (eps / p_order)
-        for d in range(p_order - 1, 0, -1):
-            pos += p[d]
-            pos *= eps / d
-        pos += p[0]
-        vel = p[v_order + 1] * (eps / v_order) if v_order else p[1].copy()
-        for d in range(v_order, 1, -1):
-            vel += p[d]
-            vel *= eps / (d - 1)
-        if v_order:
+                 for b in _grid_basis(self.nterms, m, self.intlen, phase_steps,
+                                      max(p_order, v_order + 1), rate, self.scale)]
+        if (p_order, v_order) == (2, 1):  # the usual orders: five passes
+            # rate P1 + ε rate P2, and P0 + ε P1 + ε²/2 P2 = P0 + ε/(2 rate) (rate P1 + rate)
+            vel = p[2] * eps
             vel += p[1]
-        vel *= (2.0 * SECONDS_PER_DAY / self.intlen) * self.scale
-        if self.scale != 1.0:
-            pos *= self.scale
+            pos = p[1] + vel
+            pos *= eps * (0.5 / rate)
+            pos += p[0]
+        else:
+            pos, vel = _taylor(p, eps, p_order, 1.0 / rate), _taylor(p[1:], eps, v_order)
         return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
                 for i, key in enumerate(self.keys)}
 
@@ -618,6 +614,43 @@ _TOP_BLOCK = 1024  # records a block when bounding the Taylor remainder
 _GRID_PHASE_S = 1.0  # grid points sit on whole seconds within their slot (see _grid_basis)
 _GRID_MIN_DATES = 64  # fewer dates than this are gathered: the product would not pay
 _GRID_SLIP_S = 1800.0  # largest departure (s) of a date from its grid point in a grid batch
+
+
+_SLIPS = [None]  # the last dates' slips: ((whole, frac, step), (slip, largest)), see _grid_slips
+
+
+def _grid_slips(whole: np.ndarray, frac: np.ndarray, step: float) -> tuple[np.ndarray, float]:
+    """Each date's departure (s) from a grid of ``step`` seconds through the first date, and
+    the largest one. Every series group of a batch asks for the same dates, mostly with the
+    same step (a day, or six hours): the last answer is kept for the next group (with the
+    dates themselves, so a match by identity cannot be a new array at an old address)."""
+    last = _SLIPS[0]
+    if last is not None and last[0][0] is whole and last[0][1] is frac and last[0][2] == step:
+        return last[1]
+    slip = np.subtract(whole, whole[0])
+    slip *= SECONDS_PER_DAY
+    gap = np.subtract(frac, frac[0])
+    gap *= SECONDS_PER_DAY
+    slip += gap
+    np.multiply(np.arange(slip.size, dtype=float), step, out=gap)
+    slip -= gap
+    np.abs(slip, out=gap)
+    answer = (slip, float(gap.max()))
+    _SLIPS[0] = ((whole, frac, step), answer)
+    return answer
+
+
+def _taylor(p: list[np.ndarray], eps: np.ndarray, order: int, last: float = 1.0) -> np.ndarray:
+    """p[0] + ε p[1] + ... + ε^order/order! p[order] by Horner's rule, the outermost ε
+    times ``last``."""
+    if order == 0:
+        return p[0].copy()
+    out = p[order] * (eps / order) if order > 1 else p[1] * (eps * last)
+    for d in range(order - 1, 0, -1):
+        out += p[d]
+        out *= eps * last if d == 1 else eps / d
+    out += p[0]
+    return out
 
 
 _TAYLOR_KM = 1e-6  # the grid path's bound on a position's Taylor remainder (1 mm) ...
@@ -660,15 +693,17 @@ def _chebyshev_basis(s: np.ndarray, k: int, orders: int) -> list[np.ndarray]:
 
 
 @functools.lru_cache(maxsize=64)
-def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int
-                ) -> list[np.ndarray]:
+def _grid_basis(k: int, m: int, intlen_s: float, phase_steps: int, orders: int,
+                rate: float = 1.0, scale: float = 1.0) -> list[np.ndarray]:
     """:func:`_chebyshev_basis` at the m grid points ``phase_steps`` · :data:`_GRID_PHASE_S`
-    seconds into each of a record's m slots (a record of ``intlen_s`` seconds), remembered:
-    the batches of a regular run of dates share it."""
+    seconds into each of a record's m slots (a record of ``intlen_s`` seconds), times
+    ``scale`` (its derivatives times ``rate`` as well), remembered: the batches of a regular
+    run of dates share it."""
     step = intlen_s / m
     s = 2.0 * (phase_steps * _GRID_PHASE_S + step * np.arange(m)) / intlen_s - 1.0
     basis = _chebyshev_basis(s, k, orders)
-    for b in basis:
+    for d, b in enumerate(basis):
+        b *= scale if d == 0 else scale * rate
         b.flags.writeable = False
     return basis
 
@@ -1413,6 +1448,7 @@ class Sky:
                 self._fast(whole[sl], frac, rot, dpsi, site, None if site is None else t[sl],
                            names, out[:, sl], vectors[:, sl], {k: v[sl] for k, v in geo.items()},
                            {k: v[sl] for k, v in helio.items()})
+        _SLIPS[0] = None  # the last batch's dates go with it
         return (*out, vectors, jd_tt, _delta_t(t)), geo, helio
 
     def _apparent(self, whole, frac, site=None, t=None, vectors=None) -> _Apparent:

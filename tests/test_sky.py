@@ -925,6 +925,25 @@ def test_grid_path_matches_gather_path(sky, step):
     _grid_agrees_with_gather(sky, 2415020.8 + step * np.arange(3000))
 
 
+@pytest.mark.parametrize("orders", [(1, 0), (2, 1), (3, 2), (3, 0), (1, 2)])
+def test_grid_path_every_taylor_order(sky, monkeypatch, orders):
+    # the usual orders (2, 1) take their own five passes; the others Horner's rule: each
+    # order pair the remainder bound may choose gives the gather path's values, within what
+    # its own remainder allows on these slips (dates 2 minutes off a daily grid)
+    whole, frac = _tdb(sky, 2451545.3 + np.arange(400.0))
+    frac = frac + np.linspace(-1.0, 1.0, frac.size) * 120.0 / 86400.0
+    monkeypatch.setattr(type(sky._loaded.groups[0]), "_orders", lambda self, *a: orders)
+    for group in sky._loaded.groups:
+        grid = group._evaluate_grid(whole, frac)
+        ref = _gathered(group, whole, frac)
+        for key, (pos, vel) in grid.items():
+            p_err = np.max(np.abs(pos - ref[key][0]))  # km
+            v_err = np.max(np.abs(vel - ref[key][1]))  # km/day
+            # each order ten times what it gave when written, far below the order before
+            assert p_err < {1: 1.0, 2: 2e-4, 3: 2e-6}[orders[0]], (key, p_err)
+            assert v_err < {0: 1e3, 1: 0.2, 2: 1e-4}[orders[1]], (key, v_err)
+
+
 def test_grid_path_only_for_grids(sky):
     from engine.sky import _GRID_MIN_DATES
 
