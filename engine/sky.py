@@ -216,7 +216,35 @@ def _delta_t_rising(delta_t, tt: np.ndarray) -> np.ndarray:
     out[lo:hi] = np.interp(tt[lo:hi], table, delta_t.table_delta_t)
     for part in (slice(0, lo), slice(hi, tt.size)):
         if part.stop > part.start:
-            out[part] = long_term((tt[part] - 1721045.0) / 365.25)
+            out[part] = _spline_rising(long_term, (tt[part] - 1721045.0) / 365.25)
+    return out
+
+
+def _spline_rising(spline, x: np.ndarray) -> np.ndarray:
+    """skyfield's ``Splines`` (ΔT's long-term curve) at rising ``x``, piece by piece: the
+    same operations on each piece's own coefficients, without gathering them date by date
+    (a date within a rounding error of a knot may take the piece on the knot's other side:
+    the curve is continuous there). Anything else is simply called."""
+    lower = getattr(spline, "lower", None)
+    width = getattr(spline, "_width", None)
+    coefficients = getattr(spline, "coefficients", None)
+    if lower is None or width is None or coefficients is None or np.ndim(lower) != 1 or \
+            len(coefficients) < 2:
+        return spline(x)
+    ends = np.searchsorted(x, lower[1:], side="left")  # piece j: lower[j] <= x < lower[j + 1]
+    out = np.empty_like(x)
+    start = 0
+    for j, end in enumerate([*ends.tolist(), x.size]):
+        if end <= start:
+            continue
+        t = np.subtract(x[start:end], lower[j])
+        t /= width[j]
+        value = np.multiply(t, coefficients[0][j], out=out[start:end])
+        for c in coefficients[1:-1]:
+            value += c[j]
+            value *= t
+        value += coefficients[-1][j]
+        start = end
     return out
 
 
@@ -1474,22 +1502,29 @@ class Sky:
             obs = obs + here.xyz.km
             v_obs += here.velocity.km_per_s * SECONDS_PER_DAY
         # The Sun and the Moon stacked (body, axis, date): one pass of each step for both.
-        n = geocentre.shape[-1]
-        targets, rate = np.empty((2, 3, n)), np.empty((2, 3, n))
-        sun_p, sun_v = pv[(0, 10)]
-        targets[0], rate[0] = sun_p, sun_v
-        np.add(emb, m_rel, out=targets[1])
-        np.add(v_emb, v_m_rel, out=rate[1])
         # Before aberration, kept for the lit fraction: written straight into its rows.
+        n = geocentre.shape[-1]
         seen = None if vectors is None else vectors.reshape(2, 3, n)
-        if seen is not None and not np.shares_memory(seen, vectors):
-            seen = None
-        seen, lts = _light_time(targets, rate, obs, _C_KM_DAY, out=seen)
+        if seen is None or not np.shares_memory(seen, vectors):
+            seen = np.empty((2, 3, n))
+        sun_p, sun_v = pv[(0, 10)]
+        np.subtract(sun_p, obs, out=seen[0])
+        if self._loaded.earth_ratio is not None and site is None:
+            # the Moon from the Earth's centre is its offset from the barycentre of the two
+            # times (1 + the Earth/Moon mass ratio): no difference of two large vectors
+            np.multiply(m_rel, 1.0 + self._loaded.earth_ratio, out=seen[1])
+        else:
+            np.add(emb, m_rel, out=seen[1])
+            seen[1] -= obs
+        rate = np.empty((2, 3, n))
+        rate[0] = sun_v
+        np.add(v_emb, v_m_rel, out=rate[1])
+        lts = _retard(seen, rate, _C_KM_DAY)
         if vectors is not None and not np.shares_memory(seen, vectors):
             vectors[:] = seen.reshape(6, n)
         both = np.empty_like(seen)
         _add_aberration((seen,), (lts,), v_obs, _C_KM_DAY, outs=(both,))
-        return _Apparent(both, geocentre, obs, v_obs, targets[0], rate[0])
+        return _Apparent(both, geocentre, obs, v_obs, sun_p, sun_v)
 
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
         a = self._apparent(whole, frac, site, t, vectors)
@@ -1595,46 +1630,68 @@ def _delta_t(t) -> np.ndarray:
 
 
 def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY, out=None):
-    """Target position seen from the observer when its light left, and that light time (days).
-
-    Targets are (3, n) or stacked (bodies, 3, n); the observer is (3, n); lengths in any unit,
-    with ``c`` the speed of light in that unit a day (au by default). The target is moved
-    back along its velocity: the light time τ then solves |d − τv| = cτ (d the geometric
-    offset, v the target's velocity), a quadratic solved in closed form — the value an
-    iteration would converge to. Over the Sun's 500 s and the Moon's 1.3 s the neglected
-    acceleration moves them by under a centimetre."""
+    """Target position seen from the observer when its light left, and that light time (days):
+    :func:`_retard` on the target's offset from the observer (written into ``out`` if given).
+    Targets are (3, n) or stacked (bodies, 3, n); the observer is (3, n)."""
     d = np.subtract(target_au, observer_au, out=out)
-    dv = np.einsum("...in,...in->...n", d, target_au_per_d)
+    return d, _retard(d, target_au_per_d, c)
+
+
+def _retard(d, rate, c=C_AUDAY):
+    """Move the offsets ``d`` (target from observer, (3, n) or stacked (bodies, 3, n)) back to
+    where each target was when its light left, in place, and give that light time (days).
+    Lengths in any unit, with ``c`` the speed of light in that unit a day (au by default).
+    The target is moved back along its velocity ``rate``: the light time τ then solves
+    |d − τv| = cτ, a quadratic solved in closed form — the value an iteration would converge
+    to. Over the Sun's 500 s and the Moon's 1.3 s the neglected acceleration moves them by
+    under a centimetre."""
+    dv = np.einsum("...in,...in->...n", d, rate)
     dd = np.einsum("...in,...in->...n", d, d)
-    a = c * c - np.einsum("...in,...in->...n", target_au_per_d, target_au_per_d)
-    lt = (np.sqrt(dv * dv + a * dd) - dv) / a
-    d -= lt[..., None, :] * target_au_per_d
-    return d, lt
+    a = np.einsum("...in,...in->...n", rate, rate)
+    np.subtract(c * c, a, out=a)
+    dd *= a
+    lt = np.multiply(dv, dv)
+    lt += dd
+    np.sqrt(lt, out=lt)
+    lt -= dv
+    lt /= a
+    d -= lt[..., None, :] * rate
+    return lt
 
 
-_TINY = np.finfo(np.float64).tiny  # keeps an observer at rest from dividing by zero
 _C_KM_DAY = C * SECONDS_PER_DAY / 1000.0  # the speed of light in km a day
 
 
 def _add_aberration(positions, light_times, v_obs, c=C_AUDAY, outs=None) -> None:
-    """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``, the same
-    formula and operations) applied in place to each position (from the observer; (3, n)
-    or stacked (bodies, 3, n)) with its light time, the observer's speed and Lorentz factor
-    worked out once for all of them. Lengths in any unit, with ``c`` the speed of light in
-    that unit a day (au by default, as skyfield's). With ``outs``, the aberrated positions
-    are written there instead, the positions given left as they were."""
-    vemag = np.sqrt(np.einsum("in,in->n", v_obs, v_obs))
-    beta = vemag / c
-    gammai = np.sqrt(1.0 - beta * beta)
+    """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``) applied in
+    place to each position (from the observer; (3, n) or stacked (bodies, 3, n)) with its
+    light time, the observer's Lorentz factor worked out once for all of them. Lengths in
+    any unit, with ``c`` the speed of light in that unit a day (au by default, as skyfield's).
+    With ``outs``, the aberrated positions are written there instead, the positions given
+    left as they were.
+
+    The same formula, rearranged to take fewer passes (equal to rounding; tested): its
+    p = β cos θ is p·v/(τc²), and (γ⁻¹ P + (1 + p/(1 + γ⁻¹)) τ v)/(1 + p) is taken as
+    P · γ⁻¹/(1 + p) + v · q/(1 + p)."""
+    c2 = c * c
+    gammai = np.einsum("in,in->n", v_obs, v_obs)
+    gammai *= -1.0 / c2
+    gammai += 1.0
+    np.sqrt(gammai, out=gammai)
+    half = 1.0 / (1.0 + gammai)
     for i, (position, light_time) in enumerate(zip(positions, light_times, strict=True)):
-        dot = np.einsum("...in,in->...n", position, v_obs)
-        p = beta * (dot / (light_time * c * vemag + _TINY))
-        q = (1.0 + p / (1.0 + gammai)) * light_time
-        out = position if outs is None else outs[i]
-        np.multiply(position, gammai, out=out)
-        out += q[..., None, :] * v_obs
+        p = np.einsum("...in,in->...n", position, v_obs)
+        p /= light_time * c2
+        q = p * half
+        q *= light_time
+        q += light_time  # (1 + p/(1 + γ⁻¹)) τ
         p += 1.0
-        out /= p[..., None, :]
+        np.reciprocal(p, out=p)
+        q *= p
+        p *= gammai
+        out = position if outs is None else outs[i]
+        np.multiply(position, p[..., None, :], out=out)
+        out += q[..., None, :] * v_obs
 
 
 def _planet_apparent(group, key, whole, frac, p_now, v_now, obs, v_obs, sun_p, sun_v):
