@@ -1529,9 +1529,8 @@ class Sky:
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
         a = self._apparent(whole, frac, site, t, vectors)
         both = rot @ a.both if rot.ndim == 2 else np.einsum("ijn,bjn->bin", rot, a.both)
-        _lon_lat(both, dpsi, out[0:4:2], out[1:4:2])  # rows: Sun, Moon
-        moon = both[1]
-        np.sqrt(np.einsum("in,in->n", moon, moon), out=out[4])
+        dist = _lon_lat(both, dpsi, out[0:4:2], out[1:4:2])[2]  # rows: Sun, Moon
+        out[4] = dist[1]
         if not names:
             return
         # The planets' light path works in au.
@@ -1762,15 +1761,16 @@ def _lon(v, dpsi=None, out=None):
 
 
 def _lon_lat(v, dpsi=None, lon=None, lat=None):
-    """(longitude, latitude) in degrees of the vectors ``v`` (3, n) or (bodies, 3, n),
-    written into ``lon`` and ``lat`` when given."""
-    x, y, z = v[..., 0, :], v[..., 1, :], v[..., 2, :]
-    rho = x * x
-    rho += y * y
-    np.sqrt(rho, out=rho)
-    lat = np.arctan2(z, rho, out=lat)
+    """(longitude, latitude, distance), the angles in degrees, of the vectors ``v`` (3, n) or
+    (bodies, 3, n), the angles written into ``lon`` and ``lat`` when given. The latitude is
+    arcsin(z/r): as exact as the arctangent for the Sun's and Moon's few degrees, and the
+    distance comes with it."""
+    dist = np.einsum("...in,...in->...n", v, v)
+    np.sqrt(dist, out=dist)
+    lat = np.divide(v[..., 2, :], dist, out=lat)
+    np.arcsin(lat, out=lat)
     lat *= _DEG
-    return _lon(v, dpsi, lon), lat
+    return _lon(v, dpsi, lon), lat, dist
 
 
 # --- eclipse geometry (used by engine/eclipses.py; self-contained, keep it last) -------------
