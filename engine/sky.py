@@ -1310,10 +1310,12 @@ _STATE_ARRAYS = tuple(f.name for f in fields(SkyState) if f.name not in (
 
 
 class _Apparent(NamedTuple):
-    """What :meth:`Sky._apparent` gives: the apparent Sun and Moon stacked (km, ICRS axes), and
-    the geometric positions and observer motion the planets' light path needs (km, km/day)."""
+    """What :meth:`Sky._apparent` gives: the apparent Sun and Moon stacked (km, ICRS axes) as
+    their directions and lengths (:func:`_aberration`), and the geometric positions and
+    observer motion the planets' light path needs (km, km/day)."""
 
-    both: np.ndarray  # (2, 3, n): the Sun, then the Moon
+    toward: np.ndarray  # (2, 3, n): the Sun, then the Moon, each in its apparent direction
+    length: np.ndarray  # (2, n): what ``toward`` is multiplied by to give the apparent place
     geocentre: np.ndarray
     obs: np.ndarray
     v_obs: np.ndarray
@@ -1322,11 +1324,11 @@ class _Apparent(NamedTuple):
 
     @property
     def sun(self) -> np.ndarray:
-        return self.both[0]
+        return self.toward[0] * self.length[0]
 
     @property
     def moon(self) -> np.ndarray:
-        return self.both[1]
+        return self.toward[1] * self.length[1]
 
 
 class Sky:
@@ -1522,15 +1524,14 @@ class Sky:
         lts = _retard(seen, rate, _C_KM_DAY)
         if vectors is not None and not np.shares_memory(seen, vectors):
             vectors[:] = seen.reshape(6, n)
-        both = np.empty_like(seen)
-        _add_aberration((seen,), (lts,), v_obs, _C_KM_DAY, outs=(both,))
-        return _Apparent(both, geocentre, obs, v_obs, sun_p, sun_v)
+        return _Apparent(*_aberration(seen, lts, v_obs, _C_KM_DAY), geocentre, obs, v_obs,
+                         sun_p, sun_v)
 
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
         a = self._apparent(whole, frac, site, t, vectors)
-        both = rot @ a.both if rot.ndim == 2 else np.einsum("ijn,bjn->bin", rot, a.both)
-        dist = _lon_lat(both, dpsi, out[0:4:2], out[1:4:2])[2]  # rows: Sun, Moon
-        out[4] = dist[1]
+        toward = rot @ a.toward if rot.ndim == 2 else np.einsum("ijn,bjn->bin", rot, a.toward)
+        dist = _lon_lat(toward, dpsi, out[0:4:2], out[1:4:2])[2]  # rows: Sun, Moon
+        np.multiply(dist[1], a.length[1], out=out[4])
         if not names:
             return
         # The planets' light path works in au.
@@ -1661,36 +1662,37 @@ def _retard(d, rate, c=C_AUDAY):
 _C_KM_DAY = C * SECONDS_PER_DAY / 1000.0  # the speed of light in km a day
 
 
-def _add_aberration(positions, light_times, v_obs, c=C_AUDAY, outs=None) -> None:
-    """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``) applied in
-    place to each position (from the observer; (3, n) or stacked (bodies, 3, n)) with its
-    light time, the observer's Lorentz factor worked out once for all of them. Lengths in
-    any unit, with ``c`` the speed of light in that unit a day (au by default, as skyfield's).
-    With ``outs``, the aberrated positions are written there instead, the positions given
-    left as they were.
+def _aberration(position, light_time, v_obs, c=C_AUDAY):
+    """skyfield's relativistic aberration (``skyfield.relativity.add_aberration``) for the
+    positions ``position`` (from the observer; (3, n) or stacked (bodies, 3, n)) with their
+    light time, as (toward, length): the aberrated position is ``toward`` times ``length``
+    (an angle needs only the first). Lengths in any unit, with ``c`` the speed of light in
+    that unit a day (au by default, as skyfield's).
 
     The same formula, rearranged to take fewer passes (equal to rounding; tested): its
-    p = β cos θ is p·v/(τc²), and (γ⁻¹ P + (1 + p/(1 + γ⁻¹)) τ v)/(1 + p) is taken as
-    P · γ⁻¹/(1 + p) + v · q/(1 + p)."""
-    c2 = c * c
+    p = β cos θ is P·v/(τc²), q = (1 + p/(1 + γ⁻¹)) τ, and (γ⁻¹ P + q v)/(1 + p) is
+    (P + v q/γ⁻¹) times γ⁻¹/(1 + p)."""
     gammai = np.einsum("in,in->n", v_obs, v_obs)
-    gammai *= -1.0 / c2
+    gammai *= -1.0 / (c * c)
     gammai += 1.0
     np.sqrt(gammai, out=gammai)
-    half = 1.0 / (1.0 + gammai)
-    for i, (position, light_time) in enumerate(zip(positions, light_times, strict=True)):
-        p = np.einsum("...in,in->...n", position, v_obs)
-        p /= light_time * c2
-        q = p * half
-        q *= light_time
-        q += light_time  # (1 + p/(1 + γ⁻¹)) τ
-        p += 1.0
-        np.reciprocal(p, out=p)
-        q *= p
-        p *= gammai
-        out = position if outs is None else outs[i]
-        np.multiply(position, p[..., None, :], out=out)
-        out += q[..., None, :] * v_obs
+    p = np.einsum("...in,in->...n", position, v_obs)
+    p /= light_time * (c * c)
+    k = p * (1.0 / (1.0 + gammai))
+    k += 1.0
+    k *= light_time
+    k /= gammai  # q/γ⁻¹
+    toward = np.multiply(v_obs, k[..., None, :])
+    toward += position
+    p += 1.0
+    return toward, np.divide(gammai, p, out=p)
+
+
+def _add_aberration(positions, light_times, v_obs, c=C_AUDAY) -> None:
+    """:func:`_aberration` applied in place to each position with its light time."""
+    for position, light_time in zip(positions, light_times, strict=True):
+        toward, length = _aberration(position, light_time, v_obs, c)
+        np.multiply(toward, length[..., None, :], out=position)
 
 
 def _planet_apparent(group, key, whole, frac, p_now, v_now, obs, v_obs, sun_p, sun_v):
