@@ -1469,8 +1469,13 @@ class Sky:
         geo = {name: np.empty(n) for name in names if name != "earth"}
         helio = {name: np.empty(n) for name in names}
         with _one_blas_thread():  # once for every batch's ephemeris products
+            # TDB for all dates before the batches: its grid and its calls once, not per batch
+            tdb_fraction = np.empty(n)
+            for i in range(0, n, _TDB_CHUNK):  # (in long chunks: its temporaries stay bounded)
+                tdb_fraction[i:i + _TDB_CHUNK] = _tdb_fraction(whole[i:i + _TDB_CHUNK],
+                                                               tt_fraction[i:i + _TDB_CHUNK])
             for sl in _batches(jd_tt, stars is None):
-                frac = _tdb_fraction(whole[sl], tt_fraction[sl])  # its grid is anchored too
+                frac = tdb_fraction[sl]
                 # Rotation and nutation batch by batch (their grids are anchored, so batches
                 # agree): interpolating over all dates at once would leave the cache.
                 rot = _ecliptic_rotation(whole[sl] + frac) if stars is None else stars
@@ -1610,6 +1615,7 @@ def _moment_text(jd: float) -> str:
 
 
 _TDB_GRID_DAYS = 16.0  # grid step for TDB - TT when dates are denser than this
+_TDB_CHUNK = 1 << 16  # dates given TDB at a time (its grid is anchored, so chunks agree)
 
 
 def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray) -> np.ndarray:
