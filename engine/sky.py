@@ -782,14 +782,19 @@ def _blas_controller():
 _blas_held = threading.local()
 
 
-@contextlib.contextmanager
 def _one_blas_thread():
     """A context in which BLAS runs on one thread: its idle workers would otherwise spin on
     the second core, and the product's numbers must not depend on the thread count. Nested
-    uses cost nothing (the batched pipeline holds it once for all its batches)."""
-    if getattr(_blas_held, "on", False):
-        yield
-        return
+    uses cost next to nothing (the batched pipeline holds it once for all its batches, and
+    each batch's products ask again)."""
+    return _NESTED if getattr(_blas_held, "on", False) else _hold_one_blas_thread()
+
+
+_NESTED = contextlib.nullcontext()
+
+
+@contextlib.contextmanager
+def _hold_one_blas_thread():
     _blas_held.on = True
     try:
         with _blas_controller().limit(limits=1, user_api="blas"):
