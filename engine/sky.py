@@ -21,8 +21,9 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
     millimetre (:meth:`_ChebGroup._evaluate_grid`);
   - light time is solved with the target's position carried back along its velocity:
     over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
-  - aberration is skyfield's own relativistic formula (the same operations, bit for bit, with
-    the observer's speed worked out once for the Sun, the Moon and the planets);
+  - aberration is skyfield's own relativistic formula, rearranged into fewer passes (equal to
+    rounding; the observer's Lorentz factor worked out once for the Sun and the Moon, and the
+    angles taken from the apparent direction before its length is applied: :func:`_aberration`);
   - gravitational deflection is left out: for the Sun and Moon seen from the Earth it is below
     0.001 arcsecond (the Sun does not deflect its own light; the Moon is too near);
   - the ecliptic of date uses IAU 2006 precession as skyfield does, and nutation from the
@@ -47,7 +48,8 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
 
 ΔT comes from skyfield's built-in model (``load.timescale(builtin=True)``); for rising dates
 its daily table and its long-term spline are each taken on their own run of dates
-(:func:`_delta_t_rising`, the same values). Making a :class:`Sky` asks glibc to keep freed
+(:func:`_delta_t_rising`, the same values), and TDB − TT is worked out for all dates before
+the batches. Making a :class:`Sky` asks glibc to keep freed
 blocks for reuse (:func:`_keep_freed_memory`): the batches' arrays would otherwise be mapped
 and zeroed afresh.
 
