@@ -782,7 +782,38 @@ async def test_findings_show_level_per_line_warnings_first():
         assert title == "warnings & notes: 1 warning, 2 notes"
 
 
-@pytest.mark.parametrize("size", [(120, 42), (160, 50), (250, 70)])
+@pytest.mark.parametrize("demo", ["tide_office", "table_orrery", "planet_dial"])
+@sync
+async def test_the_side_column_fits_and_the_warnings_show(demo):
+    """No panel of the right-hand column runs off its bottom, and the warnings panel keeps at
+    least its border and one line, at every size from 100 x 30 up: the train drawing and the
+    phase discs (or the orrery plan) give way first. At 160 x 50 the tide office's panel was
+    pushed below the column whole, under the 16 rows of the train drawing; the orrery's
+    eclipses panel was cut to one line."""
+    from engine.demos import demo_path
+
+    app = make_app(demo_path(demo))
+    async with app.run_test(size=(100, 30)) as pilot:
+        for size in ((100, 30), (120, 42), (160, 50), (200, 60), (120, 40)):
+            await pilot.resize_terminal(*size)
+            await pilot.pause()
+            await pilot.pause()
+            screen = app.screen
+            side = screen.query_one("#side").region
+            for pane in screen.query("#side > *"):
+                if pane.display:
+                    assert pane.region.bottom <= side.bottom, (size, pane.id, pane.region)
+            findings = screen.query_one("#findings-pane")
+            assert findings.display and findings.region.height >= 3, (size, findings.region)
+            train = screen.query_one("#train")
+            footer = screen.query_one("Footer").region.y
+            if train.display:
+                assert train.region.height >= 14 and train.region.bottom <= footer, size
+            if size in ((160, 50), (200, 60)):  # room for the drawing and every panel
+                assert train.display and train.region.height >= 14, size
+
+
+@pytest.mark.parametrize("size", [(160, 50), (200, 60), (250, 70)])
 @pytest.mark.parametrize("key", ["up", "right_square_bracket"])
 @sync
 async def test_train_counts_have_a_key_and_leave_wheels_and_labels_alone(size, key):
@@ -1386,12 +1417,13 @@ async def test_phase_discs_take_a_new_theme_background():
     from tui.widgets import PhaseDiscs
 
     app = make_app()
-    async with app.run_test(size=(100, 30)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:  # at 100x30 the warnings take the rows
         await pilot.pause()
         app.theme = "textual-light"
         await pilot.pause()
         await pilot.pause()
         discs = app.screen.query_one(PhaseDiscs)
+        assert discs.display and discs.size.height >= 4
         want = discs.rich_style.bgcolor
         for strip in discs._strips[-3:]:  # the caption rows
             for seg in strip:

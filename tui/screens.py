@@ -232,8 +232,59 @@ class BenchScreen(SizeGuard, Screen):
                                  else FOOTER_FROM_WIDTH)
         return self._footer_from
 
+    #: rows of the train drawing (the stylesheet's #train height, and the fewest it is drawn
+    #: in), the fewest the phase discs or the orrery plan are drawn in (borders included),
+    #: and the fewest the warnings panel keeps when there is anything in it: its border and
+    #: one line
+    TRAIN_ROWS, TRAIN_MIN_ROWS, FLEX_MIN_ROWS, FINDINGS_MIN_ROWS = 16, 14, 8, 3
+
+    def fit_side(self) -> None:
+        """Make the right-hand column fit the rows it has, so no panel runs off the bottom:
+        the readings and the eclipses first, then the warnings (one line at least, scrolling
+        for the rest), then the phase discs or the orrery plan (hidden when they would get
+        fewer than FLEX_MIN_ROWS), and the train drawing only when all of that leaves it
+        TRAIN_MIN_ROWS (it takes up to TRAIN_ROWS). Heights are measured from the panels' own content, which depends on the width
+        only, so fitting again never changes what it measured."""
+        if not self.is_attached or not self.query("#side") or self.is_too_small:
+            return
+        info, eclipse = self.query_one("#info"), self.query_one("#eclipse")
+        pane, findings = self.query_one("#findings-pane"), self.query_one(Findings)
+        train = self.query_one("#train")
+        flex = next(iter(self.query("#phase, #plan-pane")), None)
+        rows = self.size.height - self.query_one("#title").outer_size.height - 1  # footer
+        base = info.outer_size.height + eclipse.outer_size.height
+        cap = {"-short": 5, "-mid": 10}.get(
+            next((c for c in ("-short", "-mid") if self.has_class(c)), ""), 8)
+        want = min(cap, findings.outer_size.height + 2)  # its lines and its border
+        least = min(want, self.FINDINGS_MIN_ROWS)
+        flex_rows = self.FLEX_MIN_ROWS if flex is not None and not self.has_class("-short") \
+            else 0
+        train_rows = min(self.TRAIN_ROWS, rows - (base + least + flex_rows))
+        show_train = (self.has_class("-tall") and self.has_class("-wide")
+                      and train_rows >= self.TRAIN_MIN_ROWS)
+        side = rows - (train_rows if show_train else 0)
+        show_flex = flex_rows > 0 and side >= base + least + flex_rows
+        # the warnings: all their lines up to the cap, within what the other panels leave
+        shown = max(least, min(want, side - base - (flex_rows if show_flex else 0)))
+        train.styles.display = "block" if show_train else "none"
+        if show_train:
+            train.styles.height = train_rows
+        if flex is not None:
+            flex.styles.display = "block" if show_flex else "none"
+            if show_flex:  # the rest of the column, never less than its fewest rows
+                flex.styles.min_height = min(self._flex_css_min(flex), side - base - shown)
+        pane.styles.max_height = shown
+
+    def _flex_css_min(self, flex) -> int:
+        """The phase discs' or orrery plan's own least height on a tall screen (the
+        stylesheet's), which fitting never asks more than."""
+        if self.has_class("-tall"):
+            return 13 if flex.id == "plan-pane" else 12
+        return self.FLEX_MIN_ROWS
+
     def on_resize(self) -> None:
         width = self.size.width
+        self.call_after_refresh(self.fit_side)
         if self.query("#title"):
             self.query_one("#title", Static).update(self._title_text(width))
         tier = sum(width >= w for w in {100, FOOTER_PALETTE_FROM_WIDTH,
@@ -323,6 +374,7 @@ class BenchScreen(SizeGuard, Screen):
         self.query_one(Findings).show_findings(self.session.findings)
         self.app.theme_changed_signal.subscribe(self, self._theme_changed)
         self.refresh_view()
+        self.call_after_refresh(self.fit_side)
 
     def _theme_changed(self, _theme) -> None:
         """Text styles come from the theme: draw the text panels again in the new one."""
