@@ -653,7 +653,9 @@ def _grid_slips(whole: np.ndarray, frac: np.ndarray, step: float) -> tuple[np.nd
     """Each date's departure (s) from a grid of ``step`` seconds through the first date, and
     the largest one. Every series group of a batch asks for the same dates, mostly with the
     same step (a day, or six hours): the last answer is kept for the next group (with the
-    dates themselves, so a match by identity cannot be a new array at an old address)."""
+    dates themselves, so a match by identity cannot be a new array at an old address), and
+    :meth:`Sky._apparent` drops it once its groups are done, so no array changed in place
+    later can meet an old answer."""
     last = _SLIPS[0]
     if last is not None and last[0][0] is whole and last[0][1] is frac and last[0][2] == step:
         return last[1]
@@ -1490,7 +1492,6 @@ class Sky:
                 self._fast(whole[sl], frac, rot, dpsi, site, None if site is None else t[sl],
                            names, out[:, sl], vectors[:, sl], {k: v[sl] for k, v in geo.items()},
                            {k: v[sl] for k, v in helio.items()})
-        _SLIPS[0] = None  # the last batch's dates go with it
         return (*out, vectors, jd_tt, _delta_t(t)), geo, helio
 
     def _apparent(self, whole, frac, site=None, t=None, vectors=None) -> _Apparent:
@@ -1499,6 +1500,7 @@ class Sky:
         pv = {}
         for group in self._loaded.groups:
             pv.update(group.evaluate(whole, frac))
+        _SLIPS[0] = None  # kept only while the groups take the same dates
         emb, v_emb = pv[(0, 3)]
         m_rel, v_m_rel = pv[(3, 301)]
         if self._loaded.earth_ratio is not None:

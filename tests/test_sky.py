@@ -947,6 +947,20 @@ def test_grid_path_every_taylor_order(sky, monkeypatch, orders):
             assert v_err < {0: 1e3, 1: 0.2, 2: 1e-4}[orders[1]], (key, v_err)
 
 
+def test_grid_slips_kept_only_within_a_batch(sky):
+    # both series groups of a batch share the dates' slips; nothing is kept after the batch,
+    # and another step or other dates get their own
+    import engine.sky as sky_module
+
+    whole, frac = _tdb(sky, 2451545.3 + np.arange(300.0))
+    slip, largest = sky_module._grid_slips(whole, frac, 86400.0)
+    assert sky_module._grid_slips(whole, frac, 86400.0)[0] is slip
+    assert sky_module._grid_slips(whole, frac, 21600.0)[0] is not slip
+    assert sky_module._grid_slips(whole, frac.copy(), 86400.0)[0] is not slip
+    sky.at(2451545.3 + np.arange(300.0), "stars")
+    assert sky_module._SLIPS[0] is None
+
+
 def test_grid_path_only_for_grids(sky):
     from engine.sky import _GRID_MIN_DATES
 
