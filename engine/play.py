@@ -256,6 +256,23 @@ def _forms(train: Train, form: str | None) -> dict[str, str]:
     return {w: train.workshop.wheel(w).form or default for w in train.wheels}
 
 
+def backlash_fault(train: Train, backlash_mm: float | None) -> str | None:
+    """What is wrong with a backlash of ``backlash_mm`` in every mesh, or None: backlash is
+    the space between teeth less the mating tooth, so it is always less than the pitch
+    (π m; common practice, no source); the first mesh with a module it does not fit."""
+    if backlash_mm is None:
+        return None
+    for m in train.meshes:
+        if m.module_mm is not None and backlash_mm >= math.pi * m.module_mm:
+            return (f"{backlash_mm:g} mm is a whole pitch or more of {m.label} (module "
+                    f"{m.module_mm:g} mm, pitch {math.pi * m.module_mm:.3f} mm): teeth with "
+                    f"that much play are out of mesh; backlash is a small part of the pitch "
+                    f"(cycloidal clock teeth leave about "
+                    f"{(math.pi - WHEEL_THICKNESS_M - leaf_form(8).thickness_m) * m.module_mm:.3g}"
+                    f" mm at this module against 8 leaves)")
+    return None
+
+
 def mesh_backlash_pitch(train: Train, mesh, forms: dict[str, str],
                         backlash_mm: float | None) -> float:
     """A mesh's backlash in pitches: the given millimetres, or what its tooth form leaves."""
@@ -311,6 +328,9 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
         if isinstance(n, bool) or not isinstance(n, int) or n < 1:
             raise ArgumentError(f"{what}: must be a whole number of at least 1, got {n!r}")
     tol = tol or Tolerances.of(train)
+    fault = backlash_fault(train, tol.backlash_mm)
+    if fault:
+        raise ArgumentError(f"backlash_mm: {fault}")
     report = PlayReport(train.name, train.source, tol, years, builds, samples, seed)
     forms = _forms(train, tol.form)
     psens = pointer_sensitivity(train, kin)
@@ -475,6 +495,10 @@ def dead_play_findings(train: Train, kin: Kinematics, form: str | None = None) -
 
     forms = _forms(train, form)
     tol = Tolerances.of(train)
+    fault = backlash_fault(train, tol.backlash_mm)
+    if fault:  # no dead play to speak of from teeth that cannot mesh
+        return [Finding("error", "[workshop] backlash_mm", fault,
+                        "give the backlash measured or allowed, a small part of the pitch")]
     psens = pointer_sensitivity(train, kin)
     backlash = [mesh_backlash_pitch(train, m, forms, tol.backlash_mm) for m in train.meshes]
     out = []

@@ -170,6 +170,31 @@ def test_play_bad_options_are_usage_errors(capsys):
         assert "usage error" in err and "\n" not in err.strip()
 
 
+def test_backlash_of_a_whole_pitch_is_refused(capsys, tmp_path):
+    """Backlash is the tooth space less the mating tooth on the pitch circle, so it is always
+    less than the pitch π m (common practice, no source): 50 mm in a mesh at module 0.5
+    (pitch 1.571 mm) once gave dead play of 126° on a Sun hand with no word."""
+    from engine.errors import ArgumentError
+    from engine.play import backlash_fault, dead_play_findings
+
+    train = load_train(SMALL)  # modules 0.5 and 0.6: the smaller pitch is 1.571 mm
+    assert backlash_fault(train, 0.5 * math.pi - 0.001) is None
+    assert "mesh 1" in backlash_fault(train, 0.5 * math.pi)
+    with pytest.raises(ArgumentError, match="whole pitch"):
+        play(train, solve(train), Tolerances.of(train, backlash_mm=50), builds=10, samples=4)
+    assert main(["play", str(SMALL), "--backlash-mm", "50"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "--backlash-mm" in err and "pitch 1.571 mm" in err and "\n" not in err
+    loose = tmp_path / "loose.toml"
+    loose.write_text(SMALL.read_text().replace("backlash_mm = 0.05", "backlash_mm = 2"))
+    assert main(["play", str(loose)]) == 1
+    err = capsys.readouterr().err.strip()
+    assert "loose.toml: [workshop] backlash_mm: 2 mm is a whole pitch" in err
+    assert "\n" not in err
+    (finding,) = dead_play_findings(load_train(loose), solve(load_train(loose)))
+    assert finding.level == "error" and finding.item == "[workshop] backlash_mm"
+
+
 def test_largest_contributor_per_pointer_reaches_the_warnings_panel():
     from engine.mechanism import open_train
     from engine.play import dead_play_findings

@@ -14,7 +14,7 @@ from ..defaults import (
     DEFAULT_TILT_DEG,
     LEVER_MM,
 )
-from ..errors import UsageError
+from ..errors import TrainError, UsageError
 from ..periods import JULIAN_YEAR_DAYS
 from ..train import TOOTH_FORMS
 from . import support
@@ -98,7 +98,7 @@ def _tilt(text: str) -> float:
 def run(args: argparse.Namespace, console: Console) -> int:
     from ..kinematics import solve
     from ..loader import load_train
-    from ..play import Tolerances, play
+    from ..play import Tolerances, backlash_fault, play
 
     if args.builds * args.samples > MAX_CELLS:
         raise UsageError(f"--builds × --samples is {args.builds * args.samples:,}; "
@@ -108,6 +108,11 @@ def run(args: argparse.Namespace, console: Console) -> int:
     tol = Tolerances.of(train, backlash_mm=args.backlash_mm, division=args.division,
                         eccentricity_mm=args.eccentricity_mm, end_shake_mm=args.end_shake_mm,
                         tilt_deg=args.tilt_deg, lever_mm=args.lever_mm, form=args.form)
+    fault = backlash_fault(train, tol.backlash_mm)
+    if fault and args.backlash_mm is not None:
+        raise UsageError(f"argument --backlash-mm: {fault}", "wheelwork play")
+    if fault:
+        raise TrainError(train.source or str(args.train), "[workshop] backlash_mm", fault)
     report = play(train, kin, tol, years=args.years, builds=args.builds, samples=args.samples,
                   seed=args.seed)
     if args.json:
