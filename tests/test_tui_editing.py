@@ -516,6 +516,29 @@ async def test_tooth_search_for_one_pointer_puts_an_answer_in_as_one_edit(tmp_pa
 
 
 @sync
+async def test_tooth_search_says_when_no_answer_beats_the_train():
+    """The table orrery's Mars return is 49/50 · 51/94 (+0.746 ppm): with the screen's
+    default pinions 8-30 every member of the pair is out of bounds and all twenty answers are
+    worse (the best +67 ppm), which the status '20 answers, best first' did not say."""
+    from engine.demos import demo_path
+
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(160, 50)) as pilot:
+        screen = await open_teeth(pilot, app, "mars")
+        await run_search(pilot, app, screen)  # the screen's own bounds
+        assert screen.answers
+        note = text_of(screen.query_one("#teeth-note"))
+        assert screen.query_one("#teeth-note").display
+        assert "none beats the train as it is (+0.746 ppm)" in note
+        assert "pinion 49 outside 8-30" in note and "pinion 51 outside 8-30" in note
+        # bounds that hold its counts find them: the note goes
+        await run_search(pilot, app, screen, pinions="8-60", wheels="20-100")
+        assert any(a.teeth == {"drive_mars": 49, "lay_mars_in": 50, "lay_mars_out": 51,
+                               "mars_w": 94} for a in screen.answers)
+        assert not screen.query_one("#teeth-note").display
+
+
+@sync
 async def test_tooth_search_keeps_forbidden_primes_and_refuses_bad_bounds(tmp_path):
     app = make_app(copy_tide(tmp_path))
     async with app.run_test(size=SIZE) as pilot:

@@ -668,6 +668,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         self.answers: list = []
         self.searching = False
         self._run = 0
+        self._bounds = ("", "")  # the pinion and wheel ranges of the last search
 
     def compose(self) -> ComposeResult:
         yield Static(id="teeth-title")
@@ -692,6 +693,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
             yield ProgressBar(total=100, show_eta=False, id="teeth-progress")
             yield Label("Enter searches", id="teeth-status")
         yield Label("", id="teeth-error")
+        yield Label("", id="teeth-note")
         yield OptionList(id="teeth-answers")
         yield Footer(compact=True)
 
@@ -757,7 +759,44 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
             t.append(f"\nalso moves: {', '.join(chain.also_moves)}", style=ui(self)["accent"])
         box.update(t)
 
+    def _note(self, message: str) -> None:
+        label = self.query_one("#teeth-note", Label)
+        label.update(Text(message))
+        label.set_class(bool(message), "-shown")
+
+    def _worse_note(self, answers: list, pinions: str, wheels: str) -> str:
+        """A line when no answer beats the train as it is: its error now, and which of the
+        chain's own counts the bounds leave out (the reason, usually: the table orrery's
+        Mars return is 49/50 · 51/94, every member outside the default pinions 8-30)."""
+        from engine.search import make_constraints
+
+        row = next((r for r in self.editor.compare(self.session.frame)
+                    if r.pointer == self.pointer), None)
+        if not answers or row is None or self.chain is None:
+            return ""
+        now = abs(row.after.period_error_ppm)
+        best = min(abs(a.period_error_ppm) for a in answers)
+        if not math.isfinite(now) or best <= now * (1 + 1e-9) + 1e-9:  # the same, or better
+            return ""
+        text = (f"none beats the train as it is ({_ppm(row.after.period_error_ppm)} ppm)")
+        try:
+            cons = make_constraints(stages=len(self.chain.stages), wheels=wheels,
+                                    pinions=pinions)
+        except WheelworkError:
+            return text
+        out = []
+        for st in self.chain.stages:
+            small, large = sorted((st.driver_teeth, st.driven_teeth))
+            if not cons.pinions[0] <= small <= cons.pinions[1]:
+                out.append(f"pinion {small} outside {cons.pinions[0]}-{cons.pinions[1]}")
+            if not cons.wheels[0] <= large <= cons.wheels[1]:
+                out.append(f"wheel {large} outside {cons.wheels[0]}-{cons.wheels[1]}")
+        if out:
+            text += f": its own counts are out of these bounds ({', '.join(out)})"
+        return text
+
     def _clear_answers(self) -> None:
+        self._note("")
         self.answers = []
         self.query_one("#teeth-answers", OptionList).clear_options()
         self.query_one("#teeth-status", Label).update("Enter searches")
@@ -798,8 +837,9 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         self.searching = True
         self.query_one("#teeth-progress", ProgressBar).update(progress=0)
         self.query_one("#teeth-status", Label).update("searching… (Escape stops)")
-        self.search(self.chain, self.query_one("#teeth-pinions", Input).value,
-                    self.query_one("#teeth-wheels", Input).value, primes, max_ppm, self._run)
+        self._bounds = (self.query_one("#teeth-pinions", Input).value,
+                        self.query_one("#teeth-wheels", Input).value)
+        self.search(self.chain, *self._bounds, primes, max_ppm, self._run)
 
     @work(thread=True, exclusive=True, group="teeth", exit_on_error=False)
     def search(self, chain, pinions: str, wheels: str, primes, max_ppm, run: int) -> None:
@@ -850,6 +890,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         ratio_now = self.chain.ratio_now if self.chain is not None else None
         ol.add_options([Option(self._answer_text(a, width, now, ratio_now), id=str(i))
                         for i, a in enumerate(answers)])
+        self._note(self._worse_note(answers, *self._bounds))
         if answers:
             ol.highlighted = 0
             ol.focus()
