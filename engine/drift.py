@@ -75,6 +75,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from .angles import unwrap_deg, wrap_deg
 from .dates import as_jd, parse_step
 from .errors import DriftCancelled, DriftError, WheelworkError
 from .exact import turns_mod1
@@ -84,8 +85,6 @@ from .fitting import (
     fit_line_and_sinusoids,
     periodic_part,
     sum_sq,
-    unwrap_deg,
-    wrap_deg,
 )
 from .kinds import (
     KINDS,

@@ -5,7 +5,6 @@
 * :func:`periodic_part` — the strongest sinusoid left in a series (a Hann-windowed transform,
   then a local least-squares search for its frequency);
 * :func:`best_offset` — the constant that minimises the RMS of angles wrapped to ±180°;
-* :func:`wrap_deg`, :func:`unwrap_deg` — angles to ±180°, and made continuous.
 
 Long series are averaged in bins of ``m`` grid steps (``FFT_MAX_POINTS`` bins at most) before
 the fits: a bin's mean of a line or of a sinusoid is the line, or the sinusoid times a
@@ -31,6 +30,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .angles import wrap_deg
+
 
 def sum_sq(x: np.ndarray) -> float:
     """Sum of squares, accumulated in float64 without BLAS."""
@@ -45,21 +46,6 @@ def _line(y: np.ndarray) -> tuple[float, float]:
     u = np.arange(n, dtype=np.float64) - (n - 1) / 2.0
     b = float(np.einsum("i,i->", u, y)) / sum_sq(u)
     return float(y.mean()) - b * (n - 1) / 2.0, b
-
-
-def wrap_deg(x):
-    """Angles wrapped to [-180, 180] degrees (any shape; float32 stays float32).
-
-    ``x - 360 rint(x / 360)``: ten times faster than ``np.mod``; exactly ±180 may come out as
-    either sign (rint rounds halves to even)."""
-    x = np.asarray(x)
-    turns = np.rint(x * (1 / 360))
-    return x - turns * 360
-
-
-def unwrap_deg(x: np.ndarray) -> np.ndarray:
-    """Degrees made continuous along the last axis (each step taken the shortest way round)."""
-    return np.unwrap(np.asarray(x, dtype=float), period=360.0)
 
 
 FFT_MAX_POINTS = 32_768  # longer residuals are averaged in bins of m dates before fit and FFT

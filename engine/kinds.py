@@ -36,6 +36,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .angles import mod
 from .errors import TrainError, UnknownName
 from .periods import (
     J2000_JD,
@@ -80,7 +81,7 @@ def to_frame(value_deg, jd_tt, frame: str, precesses: bool = True):
     v = np.asarray(value_deg, dtype=float)
     if not precesses or frame == "equinox":
         return v
-    return np.mod(v - precession_deg(jd_tt, frame), 360.0)
+    return mod(v - precession_deg(jd_tt, frame), 360.0)
 
 
 # --- the sky's known swings ----------------------------------------------------------------
@@ -140,7 +141,7 @@ def _both(key: str) -> dict[str, str]:
 
 
 def _diff(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    return np.mod(a - b, 360.0)
+    return mod(a - b, 360.0)
 
 
 KINDS: dict[str, PointerKind] = {k.key: k for k in (

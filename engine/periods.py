@@ -233,9 +233,10 @@ def find_period(text: str) -> MeanPeriod:
 def _poly(t: np.ndarray, coeffs: tuple[float, ...]) -> np.ndarray:
     import numpy as np
 
-    out = np.zeros_like(t)
-    for c in reversed(coeffs):
-        out = out * t + c
+    out = np.full(np.shape(t), float(coeffs[-1]))  # Horner's rule in place: 0·t + c_n, ...
+    for c in reversed(coeffs[:-1]):
+        out *= t
+        out += c
     return out
 
 
@@ -261,6 +262,8 @@ def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]
     """
     import numpy as np
 
+    from .angles import mod  # (numpy: not on the start-up path of commands without it)
+
     t = (np.asarray(jd_tt, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
     series = {"sun": _SUN_L0, "moon": _MOON_L, "phase": _MOON_D, "anomaly": _MOON_M,
               "sun_anomaly": _SUN_M, "draconic": _MOON_F, "node": _MOON_NODE}
@@ -284,4 +287,4 @@ def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]
                 out[key] = out["sun"] if pl.inner else helio
     if "earth_from_sun" in wanted:
         out["earth_from_sun"] = out["sun"] + 180.0
-    return {k: np.mod(v, 360.0) for k, v in out.items()}
+    return {k: mod(v, 360.0) for k, v in out.items()}

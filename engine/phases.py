@@ -52,7 +52,9 @@ def phase_names(elongation_deg) -> list[str]:
     flattened, a scalar gives a one-item list)."""
     import numpy as np
 
-    e = np.mod(np.ravel(np.asarray(elongation_deg, dtype=float)) + HALF_WIDTH_DEG, 360.0)
+    from .angles import mod
+
+    e = mod(np.ravel(np.asarray(elongation_deg, dtype=float)) + HALF_WIDTH_DEG, 360.0)
     # shifted so "new" starts at 0: the shifted starts are increasing
     starts = np.mod(np.array(_STARTS) + HALF_WIDTH_DEG, 360.0)
     band = np.searchsorted(starts, e, side="right") - 1

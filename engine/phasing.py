@@ -20,9 +20,9 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from .angles import wrap_deg
 from .errors import SkyError
 from .exact import Turns
-from .fitting import wrap_deg
 from .kinds import sky_at, true_value
 from .kinematics import Kinematics
 from .readout import pointer_linear

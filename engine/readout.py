@@ -13,6 +13,7 @@ from fractions import Fraction
 
 import numpy as np
 
+from .angles import mod
 from .dates import as_jd
 from .errors import UnknownName
 from .exact import Turns
@@ -145,7 +146,7 @@ class Readout:
         out = {}
         for name, m in self.motions.items():
             v = self.kin.evaluate(m.lin, turns, lags) + m.offset_turns
-            out[name] = np.mod(v, 1.0) * 360.0
+            out[name] = mod(v, 1.0) * 360.0
         return out
 
     def period_days(self, name: str) -> float:

@@ -94,6 +94,7 @@ from skyfield.precessionlib import compute_precession
 from skyfield.timelib import Timescale, tdb_minus_tt
 from skyfield.toposlib import wgs84
 
+from .angles import mod
 from .dates import as_jd, format_day, format_jd
 from .errors import SkyError
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
@@ -1266,7 +1267,7 @@ class SkyState:
 
     @functools.cached_property
     def elongation_deg(self) -> np.ndarray:
-        return self._shaped(np.mod(np.ravel(self.moon_lon_deg) - np.ravel(self.sun_lon_deg),
+        return self._shaped(mod(np.ravel(self.moon_lon_deg) - np.ravel(self.sun_lon_deg),
                                    360.0))
 
     @functools.cached_property

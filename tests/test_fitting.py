@@ -6,21 +6,12 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from engine.angles import wrap_deg
 from engine.fitting import (
     best_offset,
     fit_line_and_sinusoids,
     periodic_part,
-    unwrap_deg,
-    wrap_deg,
 )
-
-
-def test_wrap_and_unwrap():
-    x = np.array([0.0, 179.0, 181.0, -181.0, 540.0 + 10, -720.0 - 5])
-    assert np.allclose(wrap_deg(x), [0, 179, -179, 179, -170, -5])
-    assert wrap_deg(np.float32(359.5)).dtype == np.float32
-    ramp = np.linspace(0, 3000, 4000)
-    assert np.allclose(unwrap_deg(wrap_deg(ramp)), ramp)
 
 
 def test_periodic_part_pure_sine_short_and_long():
