@@ -4,7 +4,7 @@ realises against the mean astronomical period it stands for, and the error that 
 from __future__ import annotations
 
 from collections import deque
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 from fractions import Fraction
 
 from .kinds import KINDS, days_rate
@@ -73,6 +73,11 @@ class SynodicRatio:
     target_source: str
     period_error_ppm: float  # (its period / mean synodic period - 1) * 1e6
     drift_deg_per_century: float
+    #: an orrery arm judged against the Earth's arm (the pointer named here) rather than an
+    #: epicycle against its carrier: ``epicycle`` and ``deferent`` are then the two arms'
+    #: arbors, ``ratio`` the turns the arm gains on the Earth's per crank turn (negative:
+    #: it falls behind, an outer planet), and ``pin_slot`` is empty
+    earth_arm: str = ""
 
 
 @dataclass(frozen=True)
@@ -255,7 +260,28 @@ def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,
             teeth=tuple(wheels_seen.values()), route=route, relative_route=rel_route,
             synodic=synodic_ratio(train, kin, p),
         ))
+    earth = next((r for r in rows if r.shows == "earth_from_sun" and r.ratio), None)
+    if earth is not None:  # an orrery: each planet's arm laps the Earth's once a synodic period
+        rows = [replace(r, synodic=arm_synodic(r, earth, dpt)) if r.synodic is None else r
+                for r in rows]
     return rows
+
+
+def arm_synodic(row: PointerRatio, earth: PointerRatio, days_per_turn) -> SynodicRatio | None:
+    """An orrery's planet arm against its Earth arm: how often it laps it (its conjunctions
+    and oppositions on the orrery), against the planet's mean synodic period; ``None`` for a
+    pointer that is no planet's arm. Both ratios are signed as the dials read, so their
+    difference is the arm's gain on the Earth's whatever the gearing's senses."""
+    planet = row.shows.removesuffix("_from_sun")
+    target = PERIODS.get(f"{planet}_synodic")
+    ratio = row.ratio - earth.ratio
+    if row is earth or planet == row.shows or target is None or not ratio:
+        return None
+    period = float(days_per_turn / abs(ratio))
+    return SynodicRatio(
+        "", row.arbor, earth.arbor, ratio, period, target.key, target.name, target.days,
+        target.source, (period - target.days) / target.days * 1e6,
+        (360.0 / period - 360.0 / target.days) * JULIAN_CENTURY_DAYS, earth_arm=earth.pointer)
 
 
 def synodic_ratio(train: Train, kin: Kinematics, p) -> SynodicRatio | None:

@@ -149,6 +149,34 @@ def test_orrery_check_finds_coaxial_returns_consistent():
     assert [f for f in report.findings if f.level == "error"]
 
 
+def test_orrery_arms_are_judged_against_the_synodic_period(capsys):
+    """Each planet arm laps the Earth arm once a synodic period, 1/S = |1/P - 1/E|. The
+    table orrery's arms against the synodic periods of NASA's Planetary Fact Sheet (days,
+    from memory): Mercury 115.88, Venus 583.92, Mars 779.94, Jupiter 398.88, Saturn 378.09."""
+    from engine.cli import main
+
+    mech = open_train(ORRERY)
+    rows = {r.pointer: r for r in pointer_ratios(mech.train, mech.kin)}
+    earth = rows["earth"]
+    assert earth.synodic is None and rows["moon"].synodic is None
+    published = {"mercury": 115.88, "venus": 583.92, "mars": 779.94, "jupiter": 398.88,
+                 "saturn": 378.09}
+    for name, days in published.items():
+        sy = rows[name].synodic
+        assert sy is not None and sy.earth_arm == "earth" and sy.pin_slot == ""
+        assert sy.ratio == rows[name].ratio - earth.ratio  # exact
+        assert 1 / sy.period_days == pytest.approx(
+            abs(1 / rows[name].period_days - 1 / earth.period_days), rel=1e-12)
+        assert sy.target_key == f"{name}_synodic"
+        assert sy.period_days == pytest.approx(days, abs=0.01), name
+        assert sy.period_error_ppm == pytest.approx(
+            (sy.period_days / PERIODS[f"{name}_synodic"].days - 1) * 1e6)
+    assert (rows["venus"].synodic.ratio > 0) and (rows["mars"].synodic.ratio < 0)
+    assert main(["ratios", str(ORRERY)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "laps the Earth arm 'earth' every 779.9356383 d (2201/4700 turns lost" in out
+
+
 # --- the planet dial: two circles and a slot -------------------------------------------------
 
 def test_planet_dial_ratio_report_gives_the_synodic_relation():

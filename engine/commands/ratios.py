@@ -92,7 +92,15 @@ def run(args: argparse.Namespace, console: Console) -> int:
         factors = ", ".join(f"{t.teeth}={t.factors}" for t in r.teeth)
         if factors:
             support.print_indented(console, f"teeth  {factors}", 3)
-        if r.synodic:
+        if r.synodic and r.synodic.earth_arm:
+            sy = r.synodic
+            support.print_indented(
+                console, f"laps the Earth arm '{escape(sy.earth_arm)}' every "
+                f"{sy.period_days:.10g} d ({abs(sy.ratio.numerator)}/{sy.ratio.denominator} turns "
+                f"{'gained' if sy.ratio > 0 else 'lost'} per crank turn) against the "
+                f"{sy.target_name} of {sy.target_days:.10g} d: {sy.period_error_ppm:+.3f} ppm, "
+                f"{sy.drift_deg_per_century:+.4f}°/century", 3, markup=True)
+        elif r.synodic:
             sy = r.synodic
             support.print_indented(
                 console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
