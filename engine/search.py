@@ -33,7 +33,7 @@ import numpy as np
 from .defaults import SEARCH_MAX_TEETH, SEARCH_MAX_TOP
 from .errors import SearchCancelled, SearchError
 from .exact import fraction_text, parse_fraction
-from .kinds import KINDS
+from .kinds import FRAMES, KINDS
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, MeanPeriod, find_period
 
 MAX_STAGES = 4
@@ -857,23 +857,38 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
         lines.append("")
         lines.append(f"[[meshes]]  # stage {i}: {st.driver} drives {st.driven}")
         lines.append(f'wheels = ["{drv}", "{dvn}"]')
-    kind = _pointer_kind(target)
-    if kind:
+    found = _pointer_kind(target)
+    if found:
+        kind, frame = found
+        shows, orrery_arm = kind.removesuffix("_from_sun"), kind.endswith("_from_sun")
+        if frame != "equinox":
+            lines += ["", f"# target: {target.cycle.name}, measured against the fixed stars: "
+                      "a star dial (uncomment and merge with your [train]):",
+                      "# [train]", f'# dial = "{frame}"']
         lines += ["", "# a pointer for it (uncomment and merge with your [pointers]):",
-                  f"# [pointers.{prefix}_{kind}]", f'# shows = "{kind}"',
-                  f'# arbor = "{arbors[-1]}"']
+                  f"# [pointers.{prefix}_{shows}]", f'# shows = "{shows}"']
+        if orrery_arm and shows != "earth":
+            lines.append('# seen_from = "sun"  # an orrery arm')
+        lines.append(f'# arbor = "{arbors[-1]}"')
         if result.reverses:
             lines.append("# reversed = true  # odd stages: the output turns against the crank")
     return "\n".join(lines) + "\n"
 
 
-def _pointer_kind(target: Target | None) -> str | None:
-    """The pointer kind that shows the target's cycle, if the target is a named cycle."""
+def _pointer_kind(target: Target | None) -> tuple[str, str] | None:
+    """The pointer kind that shows the target's cycle and the dial frame in which that cycle
+    is its mean period, if the target is a named cycle: the default (equinox) dial when the
+    cycle serves there, and of a planet's own period the orrery arm (seen from the Sun) rather
+    than the hand seen from the Earth, which shares it."""
     if target is None or target.cycle is None:
         return None
-    for kind in KINDS.values():
-        if target.cycle.key in kind.period.values():
-            return kind.key
+    for frame in FRAMES:
+        for kind in KINDS.values():
+            if kind.period.get(frame) == target.cycle.key:
+                arm = KINDS.get(f"{kind.key}_from_sun")
+                if arm is not None and arm.period.get(frame) == target.cycle.key:
+                    return arm.key, frame
+                return kind.key, frame
     return None
 
 

@@ -287,6 +287,33 @@ def test_fragment_suggests_a_pointer_for_a_cycle():
     assert pointer["reversed"] is True  # one stage turns the output against the crank
 
 
+@pytest.mark.parametrize(("cycle", "crank_days"), [
+    ("synodic month", 1), ("tropical year", 1), ("sidereal month", 1),
+    ("venus tropical", YEAR_DAYS), ("mars sidereal", YEAR_DAYS), ("jupiter tropical", YEAR_DAYS),
+])
+def test_suggested_pointer_is_judged_against_the_period_searched(cycle, crank_days):
+    """The pointer the fragment suggests, uncommented as it says, is one a train file may hold
+    (shows a planet with seen_from, never a table's row key) and the ratio report judges it
+    against the very period that was searched (a sidereal period on a star dial)."""
+    from engine.loader import parse_train
+    from engine.ratios import pointer_ratios
+
+    target = make_target(cycle=cycle, crank_days=crank_days)
+    best = search(target, make_constraints(stages=2), top=1).results[0]
+    text = emit_fragment(best, target)
+    uncommented = "\n".join(line[2:] if line.startswith("# ") and "=" in line or
+                            line.startswith("# [") else line for line in text.splitlines())
+    doc = tomllib.loads(uncommented)
+    (name, pointer), = doc["pointers"].items()
+    assert "_from_sun" not in pointer["shows"], pointer
+    head = (f'[crank]\narbor = "search_crank"\ndays_per_turn = "{Fraction(crank_days)}"\n'
+            '[epoch]\ndate = "2026-01-01"\n')
+    train = parse_train(head + uncommented, "fragment.toml")
+    row, = pointer_ratios(train)
+    assert row.pointer == name and row.target_key == target.cycle.key, (row.target_key, text)
+    assert abs(row.period_error_ppm - best.period_error_ppm) < 1e-6
+
+
 def test_fragment_rejects_bad_prefix():
     best = search(make_target(ratio="1/2"), make_constraints(stages=1), top=1).results[0]
     with pytest.raises(SearchError, match="prefix"):
