@@ -43,6 +43,7 @@ from .defaults import (  # with their sources
     LEVER_MM,
 )
 from .errors import ArgumentError
+from .figures import figure
 from .kinematics import Kinematics
 from .periods import JULIAN_YEAR_DAYS
 from .readout import pointer_linear
@@ -389,19 +390,19 @@ def _verdict(p95: float, dead: float, effect: float | None, drift: float, years:
     if effect:
         ratio = effect / err if err else math.inf
         if ratio >= 10:
-            return (f"the ±{effect:.3g}° inequality stands {ratio:.3g} times above the "
+            return (f"the ±{figure(effect)}° inequality stands {figure(ratio)} times above the "
                     "workshop's errors: it survives")
         if ratio >= 2:
-            return (f"the ±{effect:.3g}° inequality is {ratio:.3g} times the workshop's errors: "
+            return (f"the ±{figure(effect)}° inequality is {figure(ratio)} times the workshop's errors: "
                     "visible, but blurred")
-        return (f"the ±{effect:.3g}° inequality is lost in the workshop's errors "
-                f"(±{err:.3g}°): cut the largest contributors more carefully")
+        return (f"the ±{figure(effect)}° inequality is lost in the workshop's errors "
+                f"(±{figure(err)}°): cut the largest contributors more carefully")
     span_drift = abs(drift) * years / 100.0
     if span_drift > err:
-        return (f"the ratio's drift ({span_drift:.3g}° over {years:g} years) outgrows the "
-                f"workshop's errors (±{err:.3g}°)")
-    return (f"the workshop's errors (±{err:.3g}°) exceed the ratio's drift over {years:g} "
-            f"years ({span_drift:.3g}°): the cutting, not the tooth counts, limits this pointer")
+        return (f"the ratio's drift ({figure(span_drift)}° over {years:g} years) outgrows the "
+                f"workshop's errors (±{figure(err)}°)")
+    return (f"the workshop's errors (±{figure(err)}°) exceed the ratio's drift over {years:g} "
+            f"years ({figure(span_drift)}°): the cutting, not the tooth counts, limits this pointer")
 
 
 def _monte_carlo(train: Train, terms, psens, years: float, builds: int, samples: int,

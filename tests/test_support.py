@@ -427,3 +427,34 @@ def test_an_indented_line_wraps_under_itself(capsys, monkeypatch):
     out = capsys.readouterr().out
     assert re.search(r"(?m)^    diameter d use 2 × 0\.985 mm \+ d$", out)
     assert not re.search(r"(?m)^diameter d", out)
+
+
+def test_figure_is_plain_figures_never_e_notation():
+    from engine.figures import figure
+
+    assert figure(-29787.3, 4, sign=True) == "-29,787"
+    assert figure(10638.0, 4, sign=True) == "+10,638"
+    assert figure(531.94, 4, sign=True) == "+531.9"
+    assert figure(1.638e-4, 4, sign=True) == "+0.0001638"
+    assert figure(3.44e-5) == "0.0000344" and figure(0.0157) == "0.0157"
+    assert figure(12.5, 4) == "12.5" and figure(9.996) == "10" and figure(0.0) == "0"
+    assert figure(0.0, sign=True) == "+0" and figure(-0.0735, 3) == "-0.0735"
+    for x in (1e-12, 3.3e-7, 1e21, -4.4e-9):
+        assert "e" not in figure(x), x
+
+
+def test_command_tables_carry_no_e_notation(capsys):
+    """A crude convergent of a search (-29,787 ppm), a slow mesh's pitch-line speed (a node
+    stage at 3.44e-05 m/s) once printed in e-notation beside plain figures."""
+    import re
+
+    from engine.cli import main
+
+    e_notation = re.compile(r"\de[+-]\d")
+    hall = Path(__file__).resolve().parent / "trains" / "workshop_small.toml"
+    for argv in (["search", "--ratio", "19/235", "--stages", "2", "--top", "3"],
+                 ["check", "tide_office"], ["check", "table_orrery"], ["play", str(hall)],
+                 ["search", "--cycle", "tropical year", "--stages", "3", "--top", "5"]):
+        assert main(argv) == 0, argv
+        out = capsys.readouterr().out
+        assert not e_notation.search(out), (argv, e_notation.search(out))

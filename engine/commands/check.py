@@ -80,14 +80,17 @@ def report_to_dict(report: CheckReport) -> dict:
     return out
 
 
-def _opt(x: float | None, spec: str = ".3g") -> str:
-    return "—" if x is None else format(x, spec)
+def _opt(x: float | None, spec: str | int = 3) -> str:
+    """A figure or a dash: ``spec`` significant figures in plain figures, or a format."""
+    if x is None:
+        return "—"
+    return support.figure(x, spec) if isinstance(spec, int) else format(x, spec)
 
 
 def _num(x: float | None) -> str:
     if x is None:
         return "—"
-    return f"{x:.4g}" if abs(x) < 10000 else f"{x:,.0f}"
+    return support.figure(x, 4)
 
 
 
@@ -118,7 +121,7 @@ def _print(report: CheckReport, console: Console) -> None:
         d = "—" if m.driver_pitch_mm is None else f"{m.driver_pitch_mm:g}\n{m.driven_pitch_mm:g}"
         row = [str(m.index), f"{m.driver}\n{m.driven}{kind}",
                f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
-               _opt(m.centre_mm, ".4g"), m.reference,
+               _opt(m.centre_mm, 4), m.reference,
                ratio_text(m.ratio) + (" up" if m.step_up else ""),
                _opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
         meshes.add_row(*row)
@@ -136,7 +139,7 @@ def _print(report: CheckReport, console: Console) -> None:
         arbors.add_column(col, justify=just, no_wrap=col != "sense", overflow="fold")
     for a in report.arbors:
         sense = {"with the crank": "+", "against the crank": "−"}.get(a.direction, "0")
-        row = [a.name, ratio_text(a.turns_per_crank), f"{a.turns_per_year:.6g}",
+        row = [a.name, ratio_text(a.turns_per_crank), support.figure(a.turns_per_year, 6),
                sense + (" ↑" if a.step_up else ""), _num(a.rpm_max), _num(a.torque_ideal),
                _num(a.torque)]
         arbors.add_row(*row)

@@ -130,7 +130,7 @@ def to_json(report: PlayReport) -> dict:
 def _deg(x: float | None) -> str:
     if x is None:
         return "—"
-    return f"{x:.3g}" if abs(x) < 1000 else f"{x:,.0f}"
+    return support.figure(x, 3)
 
 
 def _days(d: float | None) -> str:
@@ -164,7 +164,7 @@ def _print(report: PlayReport, console: Console) -> None:
         table.add_column(col, justify="left" if col == "pointer" else "right")
     for p in report.pointers:
         table.add_row(escape(p.pointer), _deg(p.dead_play_deg),
-                      f"{_deg(p.mc_std_deg)}±{p.mc_std_sigma_deg:.1g}", _deg(p.mc_p95_deg),
+                      f"{_deg(p.mc_std_deg)}±{support.figure(p.mc_std_sigma_deg, 1)}", _deg(p.mc_p95_deg),
                       _deg(p.mc_max_deg), _deg(p.rss_deg),
                       "—" if p.inequality_deg is None else f"±{_deg(p.inequality_deg)}",
                       _deg(p.drift_deg_per_century))

@@ -223,7 +223,7 @@ def _print(report: SearchReport, console: Console) -> None:
     if t.cycle is not None and t.cycle.approximates:
         mean = PERIODS[t.cycle.approximates]
         console.print(f"a period relation: against the mean {escape(mean.name)} of "
-                      f"{mean.days:.7g} days it is {relation_error_ppm(t.cycle.key):+.4g} ppm")
+                      f"{mean.days:.7g} days it is {support.figure(relation_error_ppm(t.cycle.key), 4, True)} ppm")
     if not report.results:
         console.print("no train within these bounds")
     elif abs(report.results[0].period_error_ppm) > FAR_PPM:
@@ -243,7 +243,8 @@ def _print(report: SearchReport, console: Console) -> None:
             table.add_column(col, justify=just, no_wrap=True)
         for i, r in enumerate(report.results, start=1):
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), f"{r.period_days:.9g}",
-                          f"{r.period_error_ppm:+.3g}", f"{r.drift_deg_per_century:+.3g}",
+                          support.figure(r.period_error_ppm, 3, True),
+                          support.figure(r.drift_deg_per_century, 3, True),
                           _years(r.one_day_off_years), str(r.total_teeth))
         support.print_table(console, table, keys=2)  # a train is named by # and its stages
     if report.convergents:
@@ -253,7 +254,8 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
         for v in report.convergents:
-            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), f"{v.period_error_ppm:+.4g}",
+            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days),
+                          support.figure(v.period_error_ppm, 4, True),
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
         support.print_table(console, table)

@@ -34,6 +34,7 @@ import sys
 from pathlib import Path
 
 from ..errors import OutputError, ParserExit, UsageError, WheelworkError
+from ..figures import figure  # noqa: F401 - the commands' one way to write a number
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
 

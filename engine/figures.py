@@ -1,0 +1,26 @@
+"""Numbers as text in plain figures: what every report, table and message writes a measured
+value with, never in e-notation (a reader of a maker's report meets 3.44e-05 m/s or
+-2.979e+04 ppm as a puzzle, not a figure). Standard library only, so a command's ``--help``
+can import it."""
+
+from __future__ import annotations
+
+import math
+
+
+def figure(x: float, digits: int = 3, sign: bool = False) -> str:
+    """A number in plain figures, never e-notation: ``digits`` significant figures (trailing
+    zeros dropped, as ``g`` does), a number of ``10 ** digits`` or more whole, with thousands
+    separated (``-29,790``, ``0.0001638``); ``sign``: a ``+`` before a positive number."""
+    if not math.isfinite(x):
+        return str(x)
+    if x == 0:
+        return "+0" if sign else "0"
+    mag = math.floor(math.log10(abs(x)))
+    if mag >= digits - 1:
+        text = f"{x:,.0f}"
+    else:
+        text = f"{x:.{digits - 1 - mag}f}"
+        if "." in text:
+            text = text.rstrip("0").rstrip(".")
+    return ("+" + text) if sign and x > 0 else text
