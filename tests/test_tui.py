@@ -438,6 +438,24 @@ async def test_drift_chart_plus_at_the_ephemeris_end_says_why():
 
 
 @sync
+async def test_drift_chart_plus_at_the_end_offers_only_a_longer_ephemeris():
+    # the lunation board reads DE406 (3000 BC - AD 3000): near its end the chart's + must not
+    # offer DE440, which ends in 2650, and names what the commands name for a longer span
+    pytest.importorskip("de406", reason="the 'ancient' extra (de406) is not installed")
+    from engine.demos import demo_path
+
+    app = make_app(demo_path("lunation_board"))
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await _drift_from(pilot, app, "2980-01-01")
+        await pilot.press("plus")
+        await pilot.pause()
+        notes = [n.message for n in app._notifications if "capped" in n.message]
+        assert notes and all("de440" not in m for m in notes), notes
+        assert any(app.session.sky.longer_hint in m for m in notes), notes
+        assert screen.capped()
+
+
+@sync
 async def test_drift_chart_past_the_threshold_at_the_start():
     # on 2026-03-20 the demo's Sun is about 1.9° out (the 80x24 snapshot shows it): past the
     # default ±1° threshold from the first date

@@ -1288,10 +1288,10 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         if step > 0 and self.capped() or self.decades + step > self.max_decades():
             end = self.session.sky.span_jd[1]
             sky = self.session.sky
-            how = ("" if "440" in sky.name else
-                   "; for a longer one, start wheelwork with --ephemeris de440 (1550–2650)")
+            # the same ways out the commands and the bench's crank give (engine.sky)
             self.notify(f"the span is capped by the end of the ephemeris {sky.name} on "
-                        f"{format_day(end)}{how}", title="no more decades", timeout=6)
+                        f"{format_day(end)}; {sky.longer_hint} (give it when opening the "
+                        "bench)", title="no more decades", timeout=8)
             return
         if self.decades + step < 1:
             self.notify("one decade is the shortest span", timeout=3)
