@@ -87,11 +87,38 @@ def test_every_exception_class_lives_in_errors():
 EXAMPLES = re.findall(r"```python\n(.*?)```", (ROOT / "docs" / "api.md").read_text(), re.S)
 
 
+# What the page shows an example printing (in its comments), each checked against what the
+# example prints when run, so the figures on the page cannot drift from the engine's unseen.
+SHOWN = (
+    "Mechanism('Tide office dial', 14 arbors, pointers: ",
+    "SkyState(equinox, 1 date(s): 2040-06-21 ",
+    "DriftResult(366 dates every 1 d, equinox frame, ",
+    "8.0 6.875 0.7854", "1.38", "1.453", "1.785",
+    "drive 56.1922 26.6435", "middle 61.6 10.0", "hand 40.0 10.0",
+    "0.1731 mesh 2 (middle_pinion–hand_wheel)", "0.092 0.096",
+    "2024-03-25 07:13 UT (Gregorian) lunar penumbral 1.0603",
+    "2024-04-08 18:17 UT (Gregorian) solar total 0.3431",
+    "2024-09-18 02:44 UT (Gregorian) lunar partial -0.9786",
+    "2024-10-02 18:45 UT (Gregorian) solar annular -0.3509",
+    "{'hits': 356, 'misses': 8, 'false_alarms': 11}",
+    "583.92",
+)
+
+
+def test_every_shown_output_is_on_the_page():
+    for text in SHOWN:
+        assert sum(text in code for code in EXAMPLES) == 1, text
+
+
 @pytest.mark.parametrize("code", EXAMPLES, ids=[f"example{i}" for i in range(len(EXAMPLES))])
 def test_docs_examples_run(code, monkeypatch, capsys):
     monkeypatch.chdir(ROOT)
     exec(compile(code, "docs/api.md", "exec"), {"__name__": "docs_example"})
-    assert capsys.readouterr().out or "assert" in code
+    out = capsys.readouterr().out
+    assert out or "assert" in code
+    for text in SHOWN:
+        if text in code:
+            assert text in out, f"docs/api.md shows {text!r}; the example printed:\n{out}"
 
 
 def test_format_doc_example_is_a_working_train():
