@@ -318,9 +318,10 @@ _PLAIN_WORDS = re.compile(r"[^\W\d][\w .'-]*$")  # a word or words, as text writ
 
 
 def _toml_hint(text: str, message: str) -> str:
-    """What to write instead, for the two faults the TOML reader's words leave unclear to a
-    maker: a name with letters TOML allows only in quotes (``[arbors.année]``), and text
-    written without quotes (``name = Nineteen drum``); empty otherwise."""
+    """What to write instead, for the faults the TOML reader's words leave unclear to a maker:
+    a name with letters TOML allows only in quotes (``[arbors.année]``), text written without
+    quotes (``name = Nineteen drum``), a key given twice ("Cannot overwrite a value") and a
+    table written twice ("Cannot declare ('arbors', 'sun') twice"); empty otherwise."""
     at = re.search(r"at line (\d+)", message)
     lines = text.splitlines()
     if not at or not 1 <= int(at[1]) <= len(lines):
@@ -333,6 +334,12 @@ def _toml_hint(text: str, message: str) -> str:
     value = value.strip()
     if value and _PLAIN_WORDS.match(value) and value not in ("true", "false", "inf", "nan"):
         return f'; text goes in quotes: {safe_text(key.strip())} = "{safe_text(value[:60])}"'
+    if message.startswith("Cannot overwrite a value") and value:
+        return f"; '{safe_text(key.strip()[:60])}' is given twice in one table: keep one"
+    declared = re.match(r"Cannot declare \(([^)]*)\) twice", message)
+    if declared:
+        name = ".".join(p.strip().strip("'\"") for p in declared[1].split(","))
+        return f"; [{safe_text(name[:120])}] is written twice: put its keys in one table"
     return ""
 
 

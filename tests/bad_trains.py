@@ -63,6 +63,7 @@ def _texts() -> list[tuple[str, str | bytes]]:
     add("toml: unclosed table", _sub("[[meshes]]", "[[meshes]"))
     add("toml: bare words", GOOD + "this is not toml\n")
     add("toml: duplicate key", _sub('arbor = "a"\n', 'arbor = "a"\narbor = "b"\n'))
+    add("toml: table twice", _sub("[arbors.b]\n", "[arbors.b]\nnote = 'x'\n[arbors.b]\n"))
     add("toml: unterminated string", _sub('name = "bad-file bench"', 'name = "bad'))
     add("toml: truncated", GOOD[: len(GOOD) // 2])
     add("latin-1 bytes", GOOD.replace("bench", "b\u00e9nch").encode("latin-1"))

@@ -79,6 +79,12 @@ def test_good_file_loads_with_exact_fraction():
     ("a1 = 20", "ä1 = 20", ["not valid TOML", "line", "in quotes"]),
     ('name = "test"', "name = test train", ["not valid TOML", "line",
                                              'text goes in quotes: name = "test train"']),
+    # a key or a table written twice (a second seen_from pasted under the first): the TOML
+    # reader says only "Cannot overwrite a value" / "Cannot declare ('arbors', 'b') twice"
+    ('shows = "moon"', 'shows = "moon"\nshows = "sun"',
+     ["not valid TOML", "line", "'shows' is given twice in one table: keep one"]),
+    ("[arbors.b]", "[arbors.b]\nnote = 'x'\n[arbors.b]",
+     ["not valid TOML", "line", "[arbors.b] is written twice: put its keys in one table"]),
 ])
 def test_each_bad_item_is_named(old, new, words):
     assert old in GOOD
