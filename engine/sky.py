@@ -1467,9 +1467,9 @@ class Sky:
 
     # The batched pipeline; see the module docstring for each approximation and its size.
     def _fast_all(self, t, frame, site, names):
-        """Time scales once for all dates, then in cache-sized batches written into
-        preallocated outputs: the frame's rotation and nutation in longitude (from their
-        grids), the ephemeris and the light's path."""
+        """Time scales, TDB and nutation in longitude (from their grids) once for all dates,
+        then in cache-sized batches written into preallocated outputs: the frame's rotation,
+        the ephemeris and the light's path."""
         n = t.tt.size
         whole, tt_fraction = np.reshape(t.whole, -1), np.reshape(t.tt_fraction, -1)
         jd_tt = np.reshape(t.tt, -1)
@@ -1479,17 +1479,20 @@ class Sky:
         geo = {name: np.empty(n) for name in names if name != "earth"}
         helio = {name: np.empty(n) for name in names}
         with _one_blas_thread():  # once for every batch's ephemeris products
-            # TDB for all dates before the batches: its grid and its calls once, not per batch
+            # TDB (and nutation in longitude) for all dates before the batches: their grids
+            # and calls once, not per batch (in long chunks: their temporaries stay bounded)
             tdb_fraction = np.empty(n)
-            for i in range(0, n, _TDB_CHUNK):  # (in long chunks: its temporaries stay bounded)
-                tdb_fraction[i:i + _TDB_CHUNK] = _tdb_fraction(whole[i:i + _TDB_CHUNK],
-                                                               tt_fraction[i:i + _TDB_CHUNK])
+            dpsi_all = np.empty(n) if stars is None else None
+            for i in range(0, n, _TDB_CHUNK):
+                part = slice(i, i + _TDB_CHUNK)
+                tdb_fraction[part] = _tdb_fraction(whole[part], tt_fraction[part])
+                if dpsi_all is not None:
+                    dpsi_all[part] = _dpsi_2000b(jd_tt[part])
             for sl in _batches(jd_tt, stars is None):
                 frac = tdb_fraction[sl]
-                # Rotation and nutation batch by batch (their grids are anchored, so batches
-                # agree): interpolating over all dates at once would leave the cache.
+                # the rotation batch by batch: one cubic in time over each batch's span
                 rot = _ecliptic_rotation(whole[sl] + frac) if stars is None else stars
-                dpsi = _dpsi_2000b(jd_tt[sl]) if stars is None else None
+                dpsi = None if dpsi_all is None else dpsi_all[sl]
                 self._fast(whole[sl], frac, rot, dpsi, site, None if site is None else t[sl],
                            names, out[:, sl], vectors[:, sl], {k: v[sl] for k, v in geo.items()},
                            {k: v[sl] for k, v in helio.items()})

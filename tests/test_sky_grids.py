@@ -119,12 +119,14 @@ def _check_grids_taken(spies, sky, n, frame):
         assert not dpsi and not spies.exact["dpsi"] and not spies.exact["dpsi grid"]
         assert not spies.rotations and not spies.exact["rotation"]
         return
-    # Nutation in longitude: on its half-day grid in every batch, worked out at grid points
-    # only (about one for every two dates), never date by date.
-    assert len(dpsi) == batches and all(out is not None for _, out in dpsi)
+    # Nutation in longitude: on its half-day grid once for all dates (in chunks of
+    # _TDB_CHUNK, as TDB - TT), worked out at grid points only (about one for every two
+    # dates), never date by date.
+    chunks = -(-n // sky_module._TDB_CHUNK)
+    assert len(dpsi) == chunks and all(out is not None for _, out in dpsi)
     assert not spies.exact["dpsi"]
     assert all(_on_grid(x, sky_module._NUT_GRID_DAYS) for x in spies.exact["dpsi grid"])
-    assert sum(x.size for x in spies.exact["dpsi grid"]) < 0.51 * n + 4 * batches
+    assert sum(x.size for x in spies.exact["dpsi grid"]) < 0.51 * n + 4 * chunks
     # Precession: one cubic a batch, the exact rotation at its four points only.
     assert len(spies.rotations) == batches
     assert [x.size for x in spies.exact["rotation"]] == [4] * batches
@@ -255,7 +257,7 @@ def test_drift_command_at_six_hours_takes_the_grids(monkeypatch, capsys):
     missed = [c for c in dense if not c[2]]
     assert not missed, missed
     n = round(12 * 365.25 * 4)
-    chunks = -(-n // sky_module._TDB_CHUNK)  # TDB - TT: once for all dates, in long chunks
+    chunks = -(-n // sky_module._TDB_CHUNK)  # TDB - TT and Δψ: once for all dates, in chunks
     for kind, least in (("ephemeris", _batches(n)), (sky_module._TDB_GRID_DAYS, chunks),
-                        (sky_module._NUT_GRID_DAYS, _batches(n))):
+                        (sky_module._NUT_GRID_DAYS, chunks)):
         assert sum(1 for c in dense if c[0] == kind) >= least, kind
