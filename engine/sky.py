@@ -1645,7 +1645,8 @@ def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray) -> np.ndarray:
 def _delta_t(t) -> np.ndarray:
     """ΔT (s) of a Time made by ``ut1_jd``: the value its TT was made with (TT = UT + ΔT to
     the last bit), not ΔT evaluated once more at that TT (which differs by below 1e-7 s)."""
-    return np.asarray(t.tt_fraction, dtype=float) * SECONDS_PER_DAY * np.ones(np.shape(t.tt))
+    return np.multiply(np.broadcast_to(np.asarray(t.tt_fraction, dtype=float), np.shape(t.tt)),
+                       SECONDS_PER_DAY)
 
 
 def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY, out=None):
