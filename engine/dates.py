@@ -11,7 +11,9 @@ Years are astronomical (year 0 = 1 BC, year -100 = 101 BC) unless a ``BC``/``AD`
 otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
 
 * ISO 8601: ``2025-03-20``, ``2025-03-20 09:30``, ``2025-03-20T09:30:15``, seconds may have a
-  fraction; an optional trailing ``Z``, ``UT`` or ``UTC``; a leading sign for astronomical
+  fraction; an optional trailing ``Z``, ``UT``, ``UTC`` or ``GMT``, or after a time an offset
+  from UT (``2026-03-20T09:30+01:00``, ``09:30-0500``: converted to UT, as TOML's own
+  date-times are); a leading sign for astronomical
   years, ``-0100-03-01`` (= 101 BC); years need not have four digits (``333-01-27``).
 * ISO with an era: ``44-03-15 BC``, ``44-03-15 12:00 BC``, ``1066-10-14 AD`` (also BCE/CE,
   and with full stops: ``B.C.``, ``A.D.``).
@@ -75,10 +77,12 @@ _MONTHS = {
 }
 
 _TIME = r"(?:[ T](?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?"
-_ZONE = r"(?:\s*(?:Z|UT|UTC))?"
+_ZONE = r"(?:\s*(?:Z|UT|UTC|GMT))?"
+# an ISO offset from UT after a time of day (+01:00, -0500), as clocks and TOML write it
+_OFFSET = r"(?(h)(?:(?P<off>[+-])(?P<oh>\d{2}):?(?P<om>\d{2}))?)"
 _ERA = r"(?:\s+(?P<era>B\.?C\.?(?:E\.?)?|A\.?D\.?|C\.?E\.?)(?=\s|$))?"
 _ISO = re.compile(
-    rf"(?P<y>[+-]?\d{{1,6}})-(?P<m>\d{{1,2}})-(?P<d>\d{{1,2}}){_TIME}{_ZONE}{_ERA}{_ZONE}",
+    rf"(?P<y>[+-]?\d{{1,6}})-(?P<m>\d{{1,2}})-(?P<d>\d{{1,2}}){_TIME}{_OFFSET}{_ZONE}{_ERA}{_ZONE}",
     re.IGNORECASE,
 )
 _NAMED = re.compile(
@@ -359,6 +363,13 @@ def _parse(text: str, s: str, cal: str) -> float:
     if not 1 <= day <= dim:
         raise _fail(text, f"day {day} is not in 1-{dim} for that month ({which.capitalize()})")
     frac = (hour * 3600 + minute * 60 + second) / SECONDS_PER_DAY
+    off = m.groupdict().get("off")
+    if off:  # local time at an offset from UT: UT = local time - offset
+        oh, om = int(m["oh"]), int(m["om"])
+        if oh > 14 or om > 59:
+            raise _fail(text, f"offset {off}{oh:02d}:{om:02d} from UT is not one clocks use "
+                        "(-14:00 to +14:00)")
+        frac -= (1 if off == "+" else -1) * (oh * 60 + om) / 1440
     jd = jd_from_calendar(year, month, day + frac, which)
     if not JD_MIN <= jd < JD_MAX:
         raise _fail(text, f"it is outside the dates wheelwork handles ({RANGE_TEXT})")

@@ -336,3 +336,21 @@ def test_month_name_first_is_checked_like_the_rest():
         parse_date("Feb 31 2026")
     with pytest.raises(DateError, match="unknown month name 'Febtember'"):
         parse_date("Febtember 3, 2026")
+
+
+def test_an_iso_offset_from_ut_is_converted_as_toml_date_times_are():
+    """ISO 8601 local time with an offset (what clocks and computers print): UT is the local
+    time less the offset, as a train file's unquoted TOML date-time already read; written in
+    quotes or on the command line it was 'not a date form I know'."""
+    from engine.dates import format_jd, parse_date
+
+    ut = parse_date("2026-03-20 08:30")
+    assert parse_date("2026-03-20T09:30+01:00") == pytest.approx(ut, abs=1e-9)
+    assert parse_date("2026-03-20 03:30:00-0500") == pytest.approx(ut, abs=1e-9)
+    assert parse_date("2026-03-20 08:30 GMT") == pytest.approx(ut, abs=1e-9)
+    # across a day, a month and the calendar change
+    assert format_jd(parse_date("2026-03-01T00:30+01:00")).startswith("2026-02-28 23:30")
+    assert format_jd(parse_date("1582-10-15T00:30+01:00")).startswith("1582-10-04 23:30")
+    for bad in ("2026-03-20+01:00", "2026-03-20T09:30+15:00", "2026-03-20T09:30+01:61"):
+        with pytest.raises(DateError):
+            parse_date(bad)
