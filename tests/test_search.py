@@ -418,8 +418,16 @@ def test_cli_emit_refuses_overwrite(tmp_path, capsys):
     assert path.read_text() == first
     assert main([*args, "--pick", "2", "--force"]) == 0
     assert path.read_text() != first
-    assert main([*args, "--pick", "99", "--force"]) == 1
+    # more than --top asks for is an option out of range, refused before the search (exit 2)
+    assert main([*args, "--pick", "99", "--force"]) == 2
+    err = capsys.readouterr().err
+    assert "--pick" in err and "--top" in err and "usage error" in err
+    # within --top but past the trains the bounds admit: found while working (exit 1)
+    few = ["search", "--ratio", "1/2", "--stages", "1", "--exact-only", "--wheels", "8-20",
+           "--pinions", "8-20", "--emit", str(path)]  # 8/16, 9/18 and 10/20 only
+    assert main([*few, "--pick", "5", "--force"]) == 1
     assert "--pick" in capsys.readouterr().err
+    assert path.read_text() != first
 
 
 def test_emitted_fragment_says_day_or_days_per_crank_turn(tmp_path):

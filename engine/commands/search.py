@@ -135,6 +135,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
         check_reachable(target, cons)
         if args.pick != 1 and not args.emit:
             raise SearchError("--pick chooses which result --emit writes; give --emit FILE too")
+        if args.pick > args.top:
+            raise SearchError(f"--pick {args.pick} is past the {args.top} trains --top asks "
+                              f"for; give --top {args.pick} or more, or a smaller --pick")
     out = support.OutputFile(args.emit, option="--emit", force=args.force) if args.emit else None
     report = search(target, cons, top=args.top)
     written = _emit(report, args, out) if out else None
