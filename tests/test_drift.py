@@ -393,6 +393,17 @@ def test_cli_usage_errors_exit_2_one_line(argv, words, capsys, tmp_path, monkeyp
     assert not list(tmp_path.iterdir())
 
 
+def test_cli_threshold_days_on_a_train_read_in_no_days(capsys, tmp_path, monkeypatch):
+    """--threshold-days on a train with no phase pointer or eclipse-cycle dial would change no
+    figure: a usage error saying to give --threshold, before any work or file."""
+    monkeypatch.chdir(tmp_path)
+    assert main(["drift", "table_orrery", "--years", "1", "--threshold-days", "1",
+                 "--csv", "out.csv"]) == 2
+    err = capsys.readouterr().err
+    assert "usage error" in err and "--threshold-days" in err and "--threshold DEG" in err
+    assert err.count("\n") == 1 and not list(tmp_path.iterdir())
+
+
 def test_cli_span_outside_the_ephemeris_is_an_error(capsys):
     assert main(["drift", DISC, "--years", "500"]) == 1
     err = capsys.readouterr().err

@@ -445,6 +445,10 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         n = grid(start, end, step, include_end=True)  # dates, the end covered
     except DriftError as exc:  # step longer than the span, too many dates
         _usage_error(args, str(exc))
+    if args.threshold_days is not None and not any(
+            days_rate(p.shows) for p in mech.train.pointers.values()):
+        _usage_error(args, "--threshold-days: this train has no phase pointer or eclipse-cycle "
+                           "dial, the pointers read in days; give --threshold DEG")
     thresholds = {}
     for name, p in mech.train.pointers.items():
         if days_rate(p.shows) and args.threshold_days is not None:
