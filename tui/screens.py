@@ -237,14 +237,19 @@ class BenchScreen(SizeGuard, Screen):
     #: and the fewest the warnings panel keeps when there is anything in it: its border and
     #: one line
     TRAIN_ROWS, TRAIN_MIN_ROWS, FLEX_MIN_ROWS, FINDINGS_MIN_ROWS = 16, 14, 8, 3
+    _eclipse_rows = 0  # the eclipses panel's height when last shown
 
     def fit_side(self) -> None:
         """Make the right-hand column fit the rows it has, so no panel runs off the bottom:
         the readings and the eclipses first, then the warnings (one line at least, scrolling
         for the rest), then the phase discs or the orrery plan (hidden when they would get
         fewer than FLEX_MIN_ROWS), and the train drawing only when all of that leaves it
-        TRAIN_MIN_ROWS (it takes up to TRAIN_ROWS). Heights are measured from the panels' own content, which depends on the width
-        only, so fitting again never changes what it measured."""
+        TRAIN_MIN_ROWS (it takes up to TRAIN_ROWS). A train that predicts no eclipses gives
+        its eclipses panel up when the readings would leave the warnings no line (the table
+        orrery's seven arms at 80 x 24). Heights are measured from the panels' own content,
+        which depends on the width only, so fitting again never changes what it measured."""
+        from engine.eclipses import methods
+
         if not self.is_attached or not self.query("#side") or self.is_too_small:
             return
         info, eclipse = self.query_one("#info"), self.query_one("#eclipse")
@@ -252,11 +257,16 @@ class BenchScreen(SizeGuard, Screen):
         train = self.query_one("#train")
         flex = next(iter(self.query("#phase, #plan-pane")), None)
         rows = self.size.height - self.query_one("#title").outer_size.height - 1  # footer
-        base = info.outer_size.height + eclipse.outer_size.height
+        if eclipse.display:  # its height as shown (a hidden panel measures nothing)
+            self._eclipse_rows = eclipse.outer_size.height
         cap = {"-short": 5, "-mid": 10}.get(
             next((c for c in ("-short", "-mid") if self.has_class(c)), ""), 8)
         want = min(cap, findings.outer_size.height + 2)  # its lines and its border
         least = min(want, self.FINDINGS_MIN_ROWS)
+        show_eclipse = (bool(methods(self.session.mech.train)) or info.outer_size.height
+                        + self._eclipse_rows + least <= rows)
+        eclipse.styles.display = "block" if show_eclipse else "none"
+        base = info.outer_size.height + (self._eclipse_rows if show_eclipse else 0)
         flex_rows = self.FLEX_MIN_ROWS if flex is not None and not self.has_class("-short") \
             else 0
         train_rows = min(self.TRAIN_ROWS, rows - (base + least + flex_rows))
