@@ -458,3 +458,27 @@ def test_command_tables_carry_no_e_notation(capsys):
         assert main(argv) == 0, argv
         out = capsys.readouterr().out
         assert not e_notation.search(out), (argv, e_notation.search(out))
+
+
+def test_json_to_a_file_is_written_straight_and_is_riches_text():
+    # --json to a file or pipe skips rich's pretty-printer (seconds on a long run's document)
+    # and must write the very text it wrote: two-space indent, characters as they are
+    import io
+    import json
+
+    from rich.console import Console
+
+    from engine.commands.support import print_json
+
+    doc = {"date": "-0584-05-28 14:25 UT (Julian)", "lon_deg": 123.456789012345, "n": 3,
+           "caution": "never look at the Sun without a proper solar filter ±0.5°",
+           "items": [{"kind": "total", "gamma": -0.2, "ok": True, "none": None}], "empty": []}
+    plain = Console(file=io.StringIO(), width=40)
+    print_json(plain, doc)
+    reference = Console(file=io.StringIO(), width=40)
+    reference.print_json(json.dumps(doc))
+    assert plain.file.getvalue() == reference.file.getvalue()
+    assert json.loads(plain.file.getvalue()) == doc and "±0.5°" in plain.file.getvalue()
+    terminal = Console(file=io.StringIO(), width=40, force_terminal=True, color_system="standard")
+    print_json(terminal, doc)  # on a terminal: highlighted by rich
+    assert "\x1b[" in terminal.file.getvalue()

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
-import json
 from fractions import Fraction
 from typing import TYPE_CHECKING
 
@@ -53,8 +52,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     train = load_train(args.train)
     report = check(train, solve(train), crank_rpm=args.crank_rpm, efficiency=args.efficiency)
     if args.json:
-        console.print(json.dumps(report_to_dict(report), indent=2, ensure_ascii=False),
-                      markup=False, highlight=False, soft_wrap=True)
+        support.print_json(console, report_to_dict(report))
     else:
         _print(report, console)
     return 1 if args.strict and report.has_errors else 0

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 import os
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -66,8 +65,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
             fh.write(text)
         written.append(str(out.path))
     if args.json:
-        console.print(json.dumps(to_json(cut, written), indent=2, ensure_ascii=False),
-                      markup=False, highlight=False, soft_wrap=True)
+        support.print_json(console, to_json(cut, written))
     else:
         _print(cut, written, folder, console)
     return 0

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import argparse
 import csv
-import json
 import math
 import signal
 import threading
@@ -543,7 +542,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
                                 for ph in phases],
             "caution": SUN_CAUTION,  # as sky and eclipses: the JSON invites comparison too
         }
-        console.print_json(json.dumps(doc))
+        support.print_json(console, doc)
         return 0
 
     def line(text, style=None):  # wrapped at the console's width whatever its soft_wrap

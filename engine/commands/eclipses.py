@@ -11,7 +11,6 @@ train file or span the ephemeris does not cover is an error (exit 1); Ctrl-C sto
 from __future__ import annotations
 
 import argparse
-import json
 import math
 from typing import TYPE_CHECKING
 
@@ -249,7 +248,7 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
     from ..dates import format_jd
 
     if args.json:
-        console.print_json(json.dumps(document(c, mech, sky, args)))
+        support.print_json(console, document(c, mech, sky, args))
         return 0
 
     def line(text, style=None):

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
-import json
 from typing import TYPE_CHECKING
 
 from ..defaults import (
@@ -116,8 +115,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     report = play(train, kin, tol, years=args.years, builds=args.builds, samples=args.samples,
                   seed=args.seed)
     if args.json:
-        console.print(json.dumps(to_json(report), indent=2, ensure_ascii=False), markup=False,
-                      highlight=False, soft_wrap=True)
+        support.print_json(console, to_json(report))
     else:
         _print(report, console)
     return 0

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 from typing import TYPE_CHECKING
 
 from ..periods import JULIAN_YEAR_DAYS
@@ -44,12 +43,12 @@ def run(args: argparse.Namespace, console: Console) -> int:
     rows = pointer_ratios(train, kin)
     warnings = backward_warnings(train, kin)
     if args.json:
-        console.print_json(json.dumps({
+        support.print_json(console, {
             "train": train.name, "file": train.source, "dial": train.dial,
             "crank": {"arbor": train.crank.arbor,
                       "days_per_turn": str(train.crank.days_per_turn)},
             "pointers": [r.as_json() for r in rows], "warnings": warnings,
-        }))
+        })
         return 0
     dpt = train.crank.days_per_turn
     console.print(f"[bold]{escape(train.name)}[/]  ({escape(train.source)}; crank on "

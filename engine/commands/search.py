@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 import math
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -142,8 +141,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     report = search(target, cons, top=args.top)
     written = _emit(report, args, out) if out else None
     if args.json:
-        console.print(json.dumps(_to_json(report, written), indent=2), markup=False,
-                      highlight=False, soft_wrap=True)
+        support.print_json(console, _to_json(report, written))
         return 0
     _print(report, console)
     if written:

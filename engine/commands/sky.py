@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 from typing import TYPE_CHECKING
 
 from ..errors import DateError, UsageError
@@ -70,13 +69,13 @@ def run(args: argparse.Namespace, console: Console) -> int:
         v[f"{name}_helio_lon_deg"] = float(st.planet_helio_lon_deg[name])
     phase = st.phase_names()[0]
     if args.json:
-        console.print_json(json.dumps({
+        support.print_json(console, {
             "date": format_jd(jd, args.calendar, seconds=True), "jd_ut": jd, "calendar": cal,
             "frame": frame, "site": None if site is None else
             {"lat_deg": site.lat_deg, "lon_deg": site.lon_deg, "height_m": site.height_m},
             "ephemeris": sky.name, "span": sky.span_text, "phase": phase, **v,
             "caution": SUN_CAUTION,
-        }))
+        })
         return 0
     where = ("the Earth's centre" if site is None else
              f"{site.lat_deg:+.4f}°, {site.lon_deg:+.4f}° E, {site.height_m:g} m")

@@ -616,6 +616,21 @@ def _body_lines(probe, table, text: str) -> int:
     return len(text.splitlines()) - len(cap.get().splitlines())
 
 
+def print_json(console, doc) -> None:
+    """A ``--json`` document, indented by two, its characters as they are (not escaped). When
+    the output is no terminal (a file or a pipe: a program reads it) it is written straight
+    out — rich's pretty-printing took seconds on a long run's document (a 1,000-year eclipse
+    list: 5.5 s of the command's 8.5); on a terminal rich highlights it. The same text either
+    way."""
+    import json
+
+    text = json.dumps(doc, indent=2, ensure_ascii=False)
+    if console.is_terminal:
+        console.print_json(text)
+    else:
+        console.file.write(text + "\n")
+
+
 def print_table(console, table, keys: int = 1) -> None:
     """Print ``table`` with every cell whole: as a table when every word of every cell fits
     whole at the console's width (cells may wrap between words, if the rows then take no more
