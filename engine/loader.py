@@ -338,7 +338,8 @@ def _toml_hint(text: str, message: str) -> str:
         return f"; '{safe_text(key.strip()[:60])}' is given twice in one table: keep one"
     declared = re.match(r"Cannot declare \(([^)]*)\) twice", message)
     if declared:
-        name = ".".join(p.strip().strip("'\"") for p in declared[1].split(","))
+        name = ".".join(part for part in (p.strip().strip("'\"") for p in declared[1].split(","))
+                        if part)  # a one-part name comes as "('train',)"
         return f"; [{safe_text(name[:120])}] is written twice: put its keys in one table"
     return ""
 

@@ -85,6 +85,8 @@ def test_good_file_loads_with_exact_fraction():
      ["not valid TOML", "line", "'shows' is given twice in one table: keep one"]),
     ("[arbors.b]", "[arbors.b]\nnote = 'x'\n[arbors.b]",
      ["not valid TOML", "line", "[arbors.b] is written twice: put its keys in one table"]),
+    ("[crank]", "[train]\n[crank]",  # a one-part name: the reader says "('train',)"
+     ["not valid TOML", "line", "[train] is written twice: put its keys in one table"]),
 ])
 def test_each_bad_item_is_named(old, new, words):
     assert old in GOOD
