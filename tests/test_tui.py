@@ -830,7 +830,9 @@ async def test_the_side_column_fits_and_the_warnings_show(demo):
             footer = screen.query_one("Footer").region.y
             if train.display:
                 assert train.region.height >= 14 and train.region.bottom <= footer, size
-            if size in ((160, 50), (200, 60)):  # room for the drawing and every panel
+            # room for the drawing and every panel (the orrery's plan takes 10 rows at least,
+            # its readings seven: its drawing from 51 rows)
+            if size == (200, 60) or (size == (160, 50) and demo != "table_orrery"):
                 assert train.display and train.region.height >= 14, size
             assert screen.query_one("#eclipse").display == (size != (80, 24)), size
 

@@ -237,13 +237,16 @@ class BenchScreen(SizeGuard, Screen):
     #: and the fewest the warnings panel keeps when there is anything in it: its border and
     #: one line
     TRAIN_ROWS, TRAIN_MIN_ROWS, FLEX_MIN_ROWS, FINDINGS_MIN_ROWS = 16, 14, 8, 3
+    #: the orrery plan needs a little more to keep seven orbits apart (at 8 rows the planets'
+    #: marks ran together)
+    PLAN_MIN_ROWS = 10
     _eclipse_rows = 0  # the eclipses panel's height when last shown
 
     def fit_side(self) -> None:
         """Make the right-hand column fit the rows it has, so no panel runs off the bottom:
         the readings and the eclipses first, then the warnings (one line at least, scrolling
         for the rest), then the phase discs or the orrery plan (hidden when they would get
-        fewer than FLEX_MIN_ROWS), and the train drawing only when all of that leaves it
+        fewer than FLEX_MIN_ROWS or PLAN_MIN_ROWS), and the train drawing only when all of that leaves it
         TRAIN_MIN_ROWS (it takes up to TRAIN_ROWS). A train that predicts no eclipses gives
         its eclipses panel up when the readings would leave the warnings no line (the table
         orrery's seven arms at 80 x 24). Heights are measured from the panels' own content,
@@ -267,8 +270,8 @@ class BenchScreen(SizeGuard, Screen):
                         + self._eclipse_rows + least <= rows)
         eclipse.styles.display = "block" if show_eclipse else "none"
         base = info.outer_size.height + (self._eclipse_rows if show_eclipse else 0)
-        flex_rows = self.FLEX_MIN_ROWS if flex is not None and not self.has_class("-short") \
-            else 0
+        flex_rows = 0 if flex is None or self.has_class("-short") else (
+            self.PLAN_MIN_ROWS if flex.id == "plan-pane" else self.FLEX_MIN_ROWS)
         train_rows = min(self.TRAIN_ROWS, rows - (base + least + flex_rows))
         show_train = (self.has_class("-tall") and self.has_class("-wide")
                       and train_rows >= self.TRAIN_MIN_ROWS)
@@ -290,7 +293,7 @@ class BenchScreen(SizeGuard, Screen):
         stylesheet's), which fitting never asks more than."""
         if self.has_class("-tall"):
             return 13 if flex.id == "plan-pane" else 12
-        return self.FLEX_MIN_ROWS
+        return self.PLAN_MIN_ROWS if flex.id == "plan-pane" else self.FLEX_MIN_ROWS
 
     def on_resize(self) -> None:
         width = self.size.width
