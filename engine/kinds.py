@@ -233,6 +233,17 @@ KINDS["earth_from_sun"] = PointerKind(
 POINTER_KINDS = tuple(KINDS)
 
 
+def shows_text(key: str) -> str:
+    """A pointer kind as a train file writes it, for reports: an orrery arm's row
+    ``mars_from_sun`` is ``mars, seen from the Sun`` (``shows = "mars"``, ``seen_from =
+    "sun"``), the Earth's arm ``earth``; every other kind its own key."""
+    if key == "earth_from_sun":
+        return "earth"
+    if key.endswith("_from_sun"):
+        return f"{key.removesuffix('_from_sun')}, seen from the Sun"
+    return key
+
+
 def kind_key(shows: str, seen_from: str | None = None) -> str:
     """The :data:`KINDS` key of a pointer that ``shows`` something ``seen_from`` the Earth or
     the Sun (``None``: where it is usually seen from — the Earth, or the Sun for the Earth

@@ -142,3 +142,15 @@ def test_one_day_off_within_weeks_is_given_in_days(tmp_path, capsys):
     row = next(line for line in capsys.readouterr().out.splitlines()
                if line.strip().startswith("phase"))
     assert row.rstrip().endswith("0.111 d") and "0.0 y" not in row
+
+
+def test_reports_name_an_orrery_arm_as_its_file_does(capsys):
+    """An arm written shows = "mercury", seen_from = "sun" is named so in the text reports, not
+    by the kind table's key (mercury_from_sun); the Earth's arm is 'earth' (common practice,
+    no source: a report speaks the file's words)."""
+    for argv in (["ratios", "table_orrery"], ["drift", "table_orrery", "--years", "1"],
+                 ["play", "table_orrery", "--builds", "20", "--samples", "16"]):
+        assert main(argv) == 0
+        out = capsys.readouterr().out
+        assert "_from_sun" not in out, argv
+        assert "mercury, seen from the Sun" in out, argv

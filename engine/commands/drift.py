@@ -341,9 +341,10 @@ def _uncertain_why(s) -> str:
 def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     from rich import box
 
-    from ..kinds import days_rate
+    from ..kinds import days_rate, shows_text
 
-    t = support.plain_table(title=f"{s.pointer} — shows {s.shows}", title_justify="left",
+    t = support.plain_table(title=f"{s.pointer} — shows {shows_text(s.shows)}",
+                            title_justify="left",
                             box=box.SIMPLE, show_header=False, pad_edge=False)
     t.add_column("figure", style="bold")
     t.add_column("value")

@@ -143,6 +143,8 @@ def _print(report: PlayReport, console: Console) -> None:
     from rich.markup import escape
     from rich.table import Table
 
+    from ..kinds import shows_text
+
     tol = report.tolerances
     back = (f"{tol.backlash_mm:g} mm" if tol.backlash_mm is not None
             else "what the tooth form leaves")
@@ -168,7 +170,8 @@ def _print(report: PlayReport, console: Console) -> None:
                       _deg(p.drift_deg_per_century))
     support.print_table(console, table)
     for p in report.pointers:
-        console.print(f"[bold]{escape(p.pointer)}[/] ({escape(p.shows)}): {escape(p.verdict)}")
+        console.print(f"[bold]{escape(p.pointer)}[/] ({escape(shows_text(p.shows))}): "
+                      f"{escape(p.verdict)}")
         top = ", ".join(f"{c.mesh} {_deg(c.deg)}°" for c in p.contributions[:3])
         if top:
             support.print_indented(console, f"dead play from: {top}", 2)

@@ -71,10 +71,13 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       f"{r.period_error_ppm:+.3f}", f"{r.drift_deg_per_century:+.4f}",
                       _years(r.years_to_one_day))
     support.print_table(console, table)
+    from ..kinds import shows_text
+
     for r in rows:
         sense = ", dial reversed" if train.pointers[r.pointer].reversed else ""
         what = f"'{r.arbor}'" + (f" against '{r.relative_to}'" if r.relative_to else "")
-        console.print(f"[bold]{escape(r.pointer)}[/] shows {r.shows} from arbor "
+        seen = shows_text(r.shows) + ("," if r.shows != shows_text(r.shows) != "earth" else "")
+        console.print(f"[bold]{escape(r.pointer)}[/] shows {seen} from arbor "
                       f"{escape(what)}{sense}; "
                       f"stands for the {r.target_name}")
         support.print_indented(console, f"ratio {r.ratio.numerator}/{r.ratio.denominator} "
