@@ -251,12 +251,28 @@ class TrainEditor:
         if key not in PIN_SLOT_KEYS:
             raise TrainError(self.where, f"[pin_slots.{name}] {safe_text(key)}",
                              f"only {' and '.join(PIN_SLOT_KEYS)} can be changed here")
-        return self._apply(("pin_slots", name, key), _value(value), f"[pin_slots.{name}] {key}")
+        read = _value(value)
+        return self._as_typed(value, read, lambda: self._apply(
+            ("pin_slots", name, key), read, f"[pin_slots.{name}] {key}"))
 
     def set_days_per_turn(self, value) -> Mechanism:
         """Change how many days one crank turn stands for (a number or ``p/q``)."""
-        return self._apply(("crank", "days_per_turn"), _value(value, fraction_ok=True),
-                           "[crank] days_per_turn")
+        read = _value(value, fraction_ok=True)
+        return self._as_typed(value, read, lambda: self._apply(
+            ("crank", "days_per_turn"), read, "[crank] days_per_turn"))
+
+    @staticmethod
+    def _as_typed(typed, read, edit) -> Mechanism:
+        """Run ``edit``; a refusal quotes a decimal as the user typed it ('1e9'), not as it
+        was read (1000000000.0)."""
+        try:
+            return edit()
+        except TrainError as exc:
+            said = f"got {read!r}"
+            if isinstance(read, float) and isinstance(typed, str) and said in exc.problem:
+                raise TrainError(exc.where, exc.item, exc.problem.replace(
+                    said, f"got {safe_text(typed.strip())!r}")) from None
+            raise
 
     def set_teeth_many(self, teeth: dict[str, int], item: str) -> Mechanism:
         """Give several wheels new tooth counts in one edit (one undo step), e.g. a search's

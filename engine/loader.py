@@ -24,6 +24,7 @@ from pathlib import Path
 
 from .errors import DateError, TrainError
 from .exact import parse_fraction
+from .figures import figure
 from .kinds import DIAL_FRAMES, KINDS, kind_key
 from .periods import SECONDS_PER_DAY
 from .train import (
@@ -164,7 +165,8 @@ class _Reader:
         if isinstance(value, bool) or not isinstance(value, int | float):
             raise self.fail(item, f"should be a number, got {_show(value)}")
         if isinstance(value, int) and abs(value) > limit:
-            raise self.fail(item, f"must be between {-limit:g} and {limit:g}, got {_show(value)}")
+            raise self.fail(item, f"must be between {figure(-limit, 7)} and {figure(limit, 7)}, "
+                            f"got {_show(value)}")
         if not math.isfinite(value):
             raise self.fail(item, f"should be a finite number, got {_show(value)}")
         if positive and value <= 0:
@@ -172,7 +174,8 @@ class _Reader:
         if nonneg and value < 0:
             raise self.fail(item, f"must not be negative, got {value}")
         if abs(value) > limit:
-            raise self.fail(item, f"must be between {-limit:g} and {limit:g}, got {value:g}")
+            raise self.fail(item, f"must be between {figure(-limit, 7)} and {figure(limit, 7)}, "
+                            f"got {_show(value)}")
         return float(value)
 
     def flag(self, value: object, item: str) -> bool:

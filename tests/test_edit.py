@@ -83,8 +83,10 @@ def test_pin_slot_and_crank_edits(tide, sky):
         ed.set_days_per_turn("0")
     with pytest.raises(TrainError, match="days_per_turn"):
         ed.set_days_per_turn("ten")
-    with pytest.raises(TrainError, match="days_per_turn"):
-        ed.set_days_per_turn("1e9")  # past the loader's bound
+    with pytest.raises(TrainError, match="got '1e9'"):  # past the bound, quoted as typed
+        ed.set_days_per_turn("1e9")  # (it said 'got 1000000000.0')
+    with pytest.raises(TrainError, match="got '2e7'"):
+        ed.set_pin_slot("anomaly", "pin_radius_mm", "2e7")  # past ±1,000,000 mm
     with pytest.raises(TrainError, match="got '1e400'"):  # as typed, not 'got inf'
         ed.set_days_per_turn("1e400")
     with pytest.raises(TrainError, match="only offset_mm and pin_radius_mm"):
