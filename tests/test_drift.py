@@ -578,6 +578,25 @@ def test_cli_chart_formats_and_no_overwrite(tmp_path, capsys):
     assert svg.read_bytes() == before
 
 
+@pytest.mark.parametrize("train", [DISC, "table_orrery"])
+def test_chart_title_clears_the_first_plot_title(train, tmp_path, capsys):
+    """The chart's title and the first plot's own title never overlap (on the seven-arm
+    orrery the first plot's title stood over the chart's): in the SVG, whose text stays text,
+    the first plot title's top (baseline less its font size) lies below the chart title's
+    descenders (a quarter of its size under the baseline; font metrics, common practice, no
+    source), and the arm is named as its file writes it."""
+    pytest.importorskip("matplotlib")
+    svg = tmp_path / "chart.svg"
+    assert main(["drift", train, "--years", "1", "--png", str(svg)]) == 0
+    capsys.readouterr()
+    texts = re.findall(r'font-size: ([0-9.]+)px[^>]*? y="([0-9.]+)"[^>]*>([^<]+)</text>',
+                       svg.read_text())
+    title = next((float(s), float(y)) for s, y, w in texts if "pointer error against" in w)
+    first = min((float(y), float(s)) for s, y, w in texts if re.match(r"\w+ \(", w))
+    assert first[0] - first[1] > title[1] + title[0] / 4, (title, first)
+    assert "_from_sun" not in svg.read_text()
+
+
 def test_cli_span_covers_the_end_date(capsys):
     """The grid runs on to the first step at or after the end asked, and says how far."""
     assert main(["drift", DISC, "--from", "2030-01-01", "--to", "2040-01-01", "--step", "7d",

@@ -37,6 +37,7 @@ from textual_plot import PlotWidget
 
 from engine.dates import AD_1_JD, format_day, format_jd, parse_crank_step, parse_date
 from engine.errors import WheelworkError
+from engine.kinds import shows_text
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
 
@@ -794,7 +795,8 @@ class ResetDialog(Dialog):
             width = max(len(n) for n in s.mech.train.pointers)
             options = [Option(Text("all pointers", style="bold"), id=self.ALL)]
             for name, p in s.mech.train.pointers.items():
-                options.append(Option(Text.assemble(name.ljust(width + 2), (p.shows, "dim")),
+                options.append(Option(Text.assemble(name.ljust(width + 2),
+                                                    (shows_text(p.shows), "dim")),
                                       id=name))
             yield OptionList(*options, id="reset-list")
             yield Label("s sky · m mean · Enter re-sets the one picked · u on the bench undoes",

@@ -239,7 +239,7 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
     from ..dates import format_day
-    from ..kinds import days_rate
+    from ..kinds import days_rate, shows_text
 
     plt = _load_pyplot()
     names = list(result.summaries)
@@ -262,7 +262,7 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
                             xytext=(4, 4), textcoords="offset points", fontsize=8,
                             color="tab:red")
         ax.set_ylabel(f"{name} error (°)")
-        ax.set_title(f"{name} ({s.shows})", fontsize=9, loc="left")
+        ax.set_title(f"{name} ({shows_text(s.shows)})", fontsize=9, loc="left")
         g = days_rate(s.shows)
         if g:
             sec = ax.secondary_yaxis("right", functions=(lambda d, g=g: d / g,
@@ -274,7 +274,8 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
     # the chart sets the train against the true Sun: the caution goes with it, under the plots
     fig.text(0.5, 0.06 / height_in, SUN_CAUTION, ha="center", va="bottom", fontsize=8,
              color="0.25")
-    fig.tight_layout(rect=(0, 0.22 / height_in, 1, 1))
+    # the suptitle gets its own band at the top (tight_layout left it over the first title)
+    fig.tight_layout(rect=(0, 0.22 / height_in, 1, 1 - 0.3 / height_in))
     try:
         fh = out.open("wb")
         with plt.rc_context({"svg.fonttype": "none"}):  # SVG text stays text: searchable
