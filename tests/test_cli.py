@@ -137,6 +137,21 @@ def test_crank_takes_a_southern_site_then_wants_a_terminal(capsys):
     assert err.count("\n") == 1 and "needs a terminal" in err and "wheelwork ratios" in err
 
 
+def test_crank_without_a_terminal_suggests_commands_on_the_train_asked_for(capsys, tmp_path):
+    """`wheelwork crank hall clock.toml` from a script: the commands it suggests are for that
+    train (quoted for the shell), not for the demo; a demo's name stays a name."""
+    from engine.demos import demo_path
+
+    mine = tmp_path / "hall clock.toml"
+    mine.write_text(demo_path("moon_disc_59").read_text())
+    for train, want in ((str(mine), f"'wheelwork ratios '{mine}''"),
+                        ("table_orrery", "'wheelwork ratios table_orrery'"),
+                        (None, "'wheelwork ratios tide_office'")):
+        assert main(["crank", *([train] if train else [])]) == 2
+        err = capsys.readouterr().err
+        assert err.count("\n") == 1 and want in err, err
+
+
 def test_bare_wheelwork_without_a_terminal_says_what_to_run_instead():
     done = subprocess.run([sys.executable, "-m", "engine"], capture_output=True, text=True,
                           stdin=subprocess.DEVNULL, timeout=60)

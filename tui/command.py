@@ -17,8 +17,26 @@ HELP = "open the interactive bench: turn a train's crank and watch it against th
 INTERACTIVE = True  # the interface handles its own signals
 
 NO_TERMINAL = ("the interface needs a terminal; without one, run a command such as "
-               "'wheelwork ratios tide_office' or 'wheelwork drift tide_office --years 10' "
+               "'wheelwork ratios {train}' or 'wheelwork drift {train} --years 10' "
                "(see wheelwork --help)")
+
+
+def no_terminal(train: str | None) -> str:
+    """The refusal without a terminal, suggesting commands on the train that was asked for
+    (a demo by its name, a file as given, quoted for the shell when it needs it)."""
+    import shlex
+    from pathlib import Path
+
+    from engine.demos import DEFAULT_DEMO, demo_path
+
+    if not train:
+        name = DEFAULT_DEMO
+    elif demo_path(Path(train).stem) is not None and \
+            Path(train).resolve() == Path(str(demo_path(Path(train).stem))).resolve():
+        name = Path(train).stem
+    else:
+        name = shlex.quote(train)
+    return NO_TERMINAL.format(train=name)
 
 
 def add_arguments(parser) -> None:
@@ -35,7 +53,7 @@ def has_terminal() -> bool:
 
 def run(args, console) -> int:
     if not has_terminal():
-        raise UsageError(NO_TERMINAL, args._prog)
+        raise UsageError(no_terminal(args.train), args._prog)
     from .app import make_app  # Textual loads only now
 
     app = make_app(args.train, site=args.site, ephemeris=args.ephemeris)
