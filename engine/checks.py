@@ -675,8 +675,9 @@ def _positions(train: Train, groups, modules, findings: list[Finding], forms: di
         if a.name not in pos and a.axis_with in pos and \
                 train.arbors[a.axis_with].mount == a.mount:
             pos[a.name] = pos[a.axis_with]
+    tips = _tips(train, modules, forms)
     if not pos:
-        _fixed_overlaps(train, groups, modules, pos, findings, forms)
+        _fixed_overlaps(train, groups, modules, pos, findings, tips)
         return
     for a in train.arbors.values():
         b = a.axis_with
@@ -726,8 +727,8 @@ def _positions(train: Train, groups, modules, findings: list[Finding], forms: di
                     "error", f"[pin_slots.{ps.name}]", f"the axes are placed {_mm(dist)} apart "
                     f"but offset_mm is {ps.offset_mm:g}", "make offset_mm match the positions, "
                     "or move the slot arbor"))
-    _overlaps(train, groups, modules, pos, findings, forms)
-    _fixed_overlaps(train, groups, modules, pos, findings, forms)
+    _overlaps(train, groups, modules, pos, findings, tips)
+    _fixed_overlaps(train, groups, modules, pos, findings, tips)
 
 
 def _tips(train: Train, modules, forms) -> dict[str, float]:
@@ -756,13 +757,12 @@ def _over_axis(train: Train, w: str, tip: float, other: str, dist: float, module
 
 
 def _fixed_overlaps(train: Train, groups, modules, pos, findings: list[Finding],
-                    forms) -> None:
+                    tips: dict[str, float]) -> None:
     """A tip circle over the axis of an arbor whose distance a mesh fixes, whether or not the
     file places the axes: a mesh holds two axes one centre distance apart, so a wheel on one
     of them wider than that reaches over the other's arbor at any placing (a compound
     arbor's great wheel over the next arbor's pivot, a dial wheel over an idler beside it).
     Axes both placed with ``at_mm`` are left to :func:`_overlaps`, which measures them."""
-    tips = _tips(train, modules, forms)
     done = set()
     for m in train.meshes:
         if m.module_mm is None or m.internal:
@@ -784,7 +784,7 @@ def _fixed_overlaps(train: Train, groups, modules, pos, findings: list[Finding],
                     findings.append(_over_axis(train, w, tip, there, dist, modules, m))
 
 
-def _overlaps(train, groups, modules, pos, findings, forms) -> None:
+def _overlaps(train, groups, modules, pos, findings, tips: dict[str, float]) -> None:
     """Tip circles over another arbor's axis, and tip circles of wheels that may share a plane.
 
     Simplification (no planes in the file): wheels on two arbors that mesh with each other are
@@ -796,8 +796,7 @@ def _overlaps(train, groups, modules, pos, findings, forms) -> None:
     for m in train.meshes:
         a1, a2 = groups[train.wheels[m.driver].arbor], groups[train.wheels[m.driven].arbor]
         partners.add(frozenset((a1, a2)))
-    tips = {w: t for w, t in _tips(train, modules, forms).items()
-            if train.wheels[w].arbor in pos}
+    tips = {w: t for w, t in tips.items() if train.wheels[w].arbor in pos}
     mount = {n: train.arbors[n].mount for n in train.arbors}
     for w, tip in tips.items():
         wa = train.wheels[w].arbor
@@ -883,7 +882,7 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
                     "note", item, f"{z} leaves: it runs, but {PREFERRED_LEAVES} or more run "
                     "smoother (rule of thumb, common practice, no source)",
                     f"if there is room, {keep}"))
-        form = train.workshop.wheel(w).form or train.workshop.tooth_form
+        form = train.workshop.form_of(w)
         if MIN_LEAVES <= z < UNDERCUT_RULE_TEETH and w not in rings and form == "involute":
             x = undercut_shift(z)
             mod = modules.get(w)

@@ -132,10 +132,8 @@ def wheel_modules(train: Train) -> dict[str, tuple[float, int]]:
 def tooth_forms(train: Train, form: str | None = None) -> dict[str, ToothForm]:
     """The tooth form of every wheel with a module. ``form`` overrides the train's default
     (a wheel's own ``form`` in ``[workshop.wheels.NAME]`` still wins)."""
-    shop = train.workshop
-    default = form or shop.tooth_form
     modules = wheel_modules(train)
-    chosen = {w: shop.wheel(w).form or default for w in modules}
+    chosen = {w: train.workshop.form_of(w, form) for w in modules}
     rings = {m.ring for m in train.meshes if m.ring}
     for m in train.meshes:
         if m.module_mm is None or m.internal:

@@ -253,8 +253,7 @@ def pointer_sensitivity(train: Train, kin: Kinematics) -> dict[str, np.ndarray]:
 
 
 def _forms(train: Train, form: str | None) -> dict[str, str]:
-    default = form or train.workshop.tooth_form
-    return {w: train.workshop.wheel(w).form or default for w in train.wheels}
+    return {w: train.workshop.form_of(w, form) for w in train.wheels}
 
 
 def backlash_fault(train: Train, backlash_mm: float | None) -> str | None:

@@ -181,6 +181,11 @@ class Workshop:
     def wheel(self, name: str) -> WheelShop:
         return self.wheels.get(name, WheelShop())
 
+    def form_of(self, name: str, default: str | None = None) -> str:
+        """Wheel ``name``'s tooth form as it will be cut: its own ``form``, else ``default``
+        (a form asked for on the command line), else the train's ``tooth_form``."""
+        return self.wheel(name).form or default or self.tooth_form
+
 
 @dataclass(frozen=True)
 class Train:
