@@ -40,6 +40,12 @@ def levels(report, level, item=None):
     return [f for f in report.findings if f.level == level and (item is None or f.item == item)]
 
 
+def said(text: str, words: str) -> list:
+    """The check's findings on train ``text`` whose message holds ``words``."""
+    train = parse_train(text, "t.toml")
+    return [f for f in check(train, solve(train)).findings if words in f.message]
+
+
 def header(crank: str) -> str:
     return (f'[crank]\narbor = "{crank}"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
             'set = "angles"\n')
@@ -180,11 +186,8 @@ set_deg = 0
     tip = cycloidal_wheel(60, 1.0, 8).tip_radius_mm
     assert 2 * tip - 62.5 > 0.2 and 62.5 - 2 * 31.0 > 0.2  # the forms differ by more than a hair
     for shop, fouls in (("", True), ('[workshop]\ntooth_form = "involute"\n', False)):
-        train = parse_train(text + shop, "t.toml")
-        found = [f for f in check(train, solve(train)).findings
-                 if "overlaps that of 'wc'" in f.message]
-        assert bool(found) == fouls, shop
-        assert not any("reaches over" in f.message for f in check(train, solve(train)).findings)
+        assert bool(said(text + shop, "overlaps that of 'wc'")) == fouls, shop
+        assert not said(text + shop, "reaches over")
 
 
 FORCED = header("a") + """
@@ -213,8 +216,7 @@ def test_tip_over_an_axis_a_mesh_holds_is_found_without_positions():
     holds the next axis 0.6 × 58 / 2 = 17.4 mm away (a = m (z1 + z2) / 2, standard spur-gear
     geometry), so the wheel reaches over that arbor wherever the axes are put; no at_mm is
     needed to know it."""
-    train = parse_train(FORCED, "t.toml")
-    warns = [f for f in check(train, solve(train)).findings if "reaches over" in f.message]
+    warns = said(FORCED, "reaches over")
     assert len(warns) == 1
     (w,) = warns
     assert w.item == "wheel 'wb'" and "axis of 'c', 17.4 mm" in w.message
@@ -223,12 +225,10 @@ def test_tip_over_an_axis_a_mesh_holds_is_found_without_positions():
     # With both axes placed the measured check speaks, once.
     placed = FORCED.replace("[arbors.b]\n", "[arbors.b]\nat_mm = [0, 0]\n").replace(
         "[arbors.c]\n", "[arbors.c]\nat_mm = [17.4, 0]\n")
-    train = parse_train(placed, "t.toml")
-    warns = [f for f in check(train, solve(train)).findings if "reaches over" in f.message]
+    warns = said(placed, "reaches over")
     assert len(warns) == 1 and "move 'c'" in warns[0].fix
     # A wheel within the distance says nothing.
-    train = parse_train(FORCED.replace("wb = 73", "wb = 60"), "t.toml")
-    assert not any("reaches over" in f.message for f in check(train, solve(train)).findings)
+    assert not said(FORCED.replace("wb = 73", "wb = 60"), "reaches over")
 
 
 # --- speeds, torques, step-up --------------------------------------------------------------
