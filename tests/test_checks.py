@@ -214,7 +214,7 @@ def test_tip_over_an_axis_a_mesh_holds_is_found_without_positions():
     """A compound arbor whose great wheel is wider than the distance to the next arbor: 73
     teeth at module 0.5 stand over 18.25 mm from their axis, the 8/50 mesh at module 0.6
     holds the next axis 0.6 × 58 / 2 = 17.4 mm away (a = m (z1 + z2) / 2, standard spur-gear
-    geometry), so the wheel reaches over that arbor wherever the axes are put; no at_mm is
+    geometry: common practice, no source), so the wheel reaches over that arbor wherever the axes are put; no at_mm is
     needed to know it."""
     warns = said(FORCED, "reaches over")
     assert len(warns) == 1

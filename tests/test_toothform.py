@@ -124,9 +124,10 @@ def test_cycloidal_wheel_addendum_against_the_standard_from_memory(z, leaves, ad
 @pytest.mark.parametrize("module_mm", [0.3, 0.5, 0.6, 2.0])
 def test_cycloidal_wheel_scales_with_its_module(module_mm):
     """A tooth's shape is in modules: the same wheel at another module is the module-1 wheel
-    scaled (geometric similarity, no source needed). The addendum arc was once sized in mm and
-    then scaled by the module again, so clock wheels below module 1 were cut with short tips
-    (addendum 0.89 m instead of 1.39 m at module 0.5 for 75 teeth against 8 leaves)."""
+    scaled (geometric similarity: common practice, no source). The addendum arc was once
+    sized in mm and then scaled by the module again, so clock wheels below module 1 were cut
+    with short tips (addendum 0.89 m instead of 1.39 m at module 0.5 for 75 teeth against 8
+    leaves)."""
     one, w = cycloidal_wheel(75, 1.0, 8), cycloidal_wheel(75, module_mm, 8)
     assert w.tip_radius_mm - w.pitch_radius_mm == pytest.approx(
         w.params["addendum_m"] * module_mm, abs=1e-9)
