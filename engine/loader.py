@@ -178,6 +178,14 @@ class _Reader:
                             f"got {_show(value)}")
         return float(value)
 
+    def choice(self, value: object, item: str, choices: tuple[str, ...]) -> str:
+        """One word of a fixed list, in any case and with spaces round it ("Involute" is
+        involute); returned as the list spells it."""
+        word = value.strip().lower() if isinstance(value, str) else None
+        if word not in choices:
+            raise self.fail(item, f"should be one of {', '.join(choices)}, got {_show(value)}")
+        return word
+
     def flag(self, value: object, item: str) -> bool:
         if not isinstance(value, bool):
             raise self.fail(item, f"should be true or false, got {_show(value)}")
@@ -377,9 +385,7 @@ def parse_train(text: str, where: str = "<train>") -> Train:
     head = r.table(doc.get("train", {}), "[train]", "train")
     name = r.text(head.get("name", Path(where).stem or "train"), "[train] name")
     about = r.prose(head.get("about", ""), "[train] about")
-    dial = head.get("dial", "equinox")
-    if dial not in DIAL_FRAMES:
-        raise r.fail("[train] dial", f"should be one of {', '.join(DIAL_FRAMES)}, got {_show(dial)}")
+    dial = r.choice(head.get("dial", "equinox"), "[train] dial", DIAL_FRAMES)
 
     arbors, wheels = _read_arbors(r, doc)
     _check_mounts(r, arbors)
@@ -664,10 +670,7 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
         text, jd = _epoch_date(value, calendar, parse_date)
     except DateError as exc:
         raise r.fail("[epoch] date", str(exc)) from None
-    mode = tbl.get("set", "sky")
-    if mode not in SET_MODES:
-        raise r.fail("[epoch] set", f"should be one of {', '.join(SET_MODES)}, got "
-                     f"{_show(mode)}")
+    mode = r.choice(tbl.get("set", "sky"), "[epoch] set", SET_MODES)
     ephemeris = tbl.get("ephemeris")
     if ephemeris is not None and (not isinstance(ephemeris, str)
                                   or ephemeris.strip().lower() not in EPHEMERIS_NAMES):
@@ -687,6 +690,8 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
         r.name(name, item)
         tbl = r.table(tbl, item, "pointer")
         shows = r.need(tbl, "shows", item)
+        if isinstance(shows, str):
+            shows = shows.strip().lower()  # "Sun" is sun, as every enumerated value
         if not isinstance(shows, str) or shows not in KINDS and not any(
                 f"{shows}_from_sun" == k for k in KINDS):
             raise r.fail(f"{item} shows", f"unknown pointer kind {_show(shows)} (known: "
@@ -694,7 +699,7 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                          + ", earth; planets seen from the Sun with seen_from = \"sun\")")
         seen_from = tbl.get("seen_from")
         if seen_from is not None:
-            seen_from = r.text(seen_from, f"{item} seen_from")
+            seen_from = r.text(seen_from, f"{item} seen_from").lower()
         try:
             shows = kind_key(shows, seen_from)
         except KeyError as exc:
@@ -773,9 +778,7 @@ def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:
     tbl = r.table(doc["workshop"], "[workshop]", "workshop")
 
     def form(value, item):
-        if value not in TOOTH_FORMS:
-            raise r.fail(item, f"should be one of {', '.join(TOOTH_FORMS)}, got {_show(value)}")
-        return value
+        return r.choice(value, item, TOOTH_FORMS)
 
     def count(value, item):
         if isinstance(value, bool) or not isinstance(value, int) or value < 0:

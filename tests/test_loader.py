@@ -467,3 +467,31 @@ def test_an_ephemeris_the_file_names_but_cannot_be_had_names_the_file_and_key(
     err = capsys.readouterr().err
     assert err.count("\n") == 1
     assert "wants_de440.toml: [epoch] ephemeris: the DE440 ephemeris is not installed" in err
+
+
+@pytest.mark.parametrize("old,new,read", [
+    ('name = "test"', 'name = "test"\ndial = "Stars"', lambda t: t.dial == "stars"),
+    ('set = "angles"', 'set = " ANGLES "', lambda t: t.epoch.set == "angles"),
+    ('shows = "moon"', 'shows = "Moon"', lambda t: t.pointers["p"].shows == "moon"),
+    ('shows = "moon"', 'shows = "Mars"\nseen_from = "Sun"',
+     lambda t: t.pointers["p"].shows == "mars_from_sun"),
+    ('set_deg = 0', 'set_deg = 0\n[workshop]\ntooth_form = "Involute"\n'
+     '[workshop.wheels.a1]\nform = "CYCLOIDAL"',
+     lambda t: t.workshop.tooth_form == "involute"
+     and t.workshop.form_of("a1") == "cycloidal" and t.workshop.form_of("b1") == "involute"),
+])
+def test_enumerated_values_are_read_in_any_case(old, new, read):
+    """A word from a fixed list (a tooth form, the dial's frame, how the epoch sets the
+    pointers, what a pointer shows) is the same word in capitals: 'Involute' is involute."""
+    train = parse_train(GOOD.replace(old, new, 1), "ok.toml")
+    assert read(train)
+
+
+@pytest.mark.parametrize("old,new,item", [
+    ('set_deg = 0', 'set_deg = 0\n[workshop]\ntooth_form = "Involut"', "[workshop] tooth_form"),
+    ('set = "angles"', 'set = "skies"', "[epoch] set"),
+    ('name = "test"', 'name = "test"\ndial = 3', "[train] dial"),
+])
+def test_an_enumerated_value_not_in_its_list_names_the_list(old, new, item):
+    msg = error_of(GOOD.replace(old, new, 1))
+    assert item in msg and "should be one of" in msg, msg

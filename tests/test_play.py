@@ -208,3 +208,14 @@ def test_largest_contributor_per_pointer_reaches_the_warnings_panel():
     items = engine_findings(mech)
     dead = [i for i in items if "dead play" in i[2]]
     assert {i[1] for i in dead} == {f"[pointers.{p}]" for p in mech.train.pointers}
+
+
+def test_form_option_is_read_in_any_case(capsys):
+    """--form Involute is involute, as a train file's tooth_form is; a word not in the list
+    is still a usage error naming the list."""
+    assert main(["play", str(SMALL), "--json", "--builds", "50", "--samples", "32",
+                 "--form", " Involute"]) == 0
+    assert json.loads(capsys.readouterr().out)["tolerances"]["form"] == "involute"
+    assert main(["play", str(SMALL), "--form", "Involut"]) == 2
+    err = capsys.readouterr().err
+    assert "usage error" in err and "'cycloidal', 'involute'" in err

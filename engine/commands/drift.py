@@ -73,7 +73,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                            "this many days off "
                            f"(others use --threshold; at most {MAX_THRESHOLD_DAYS:g}, half a "
                            "month)")
-    cmp_.add_argument("--frame", choices=("equinox", "stars"),
+    cmp_.add_argument("--frame", type=support.word, choices=("equinox", "stars"),
                       help="measure longitudes from the equinox of date or from the stars "
                            "(default: the train's dial)")
     support.add_site(cmp_, "compare with the sky seen from this place: degrees (north +, "

@@ -56,7 +56,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--lever-mm", type=support.positive("lever", 10_000), default=None,
                         metavar="MM", help="distance from a pivot to the wheels it tilts "
                         f"(default {LEVER_MM:g})")
-    parser.add_argument("--form", choices=TOOTH_FORMS, default=None,
+    parser.add_argument("--form", type=support.word, choices=TOOTH_FORMS, default=None,
                         help="tooth form for wheels that do not choose their own (sets the "
                         "default backlash)")
     parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")

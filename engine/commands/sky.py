@@ -17,7 +17,8 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("date", help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
                         "'44-03-15 BC', '15 March 44 BC' or 'JD 2451545.0'")
-    parser.add_argument("--calendar", default="auto", choices=("auto", "julian", "gregorian"),
+    parser.add_argument("--calendar", default="auto", type=support.word,
+                        choices=("auto", "julian", "gregorian"),
                         help="calendar of DATE (auto: Julian before 1582-10-15, then Gregorian)")
     parser.add_argument("--stars", action="store_true",
                         help="longitudes on the fixed J2000 ecliptic instead of the equinox of date")

@@ -156,6 +156,12 @@ def whole(what: str, least: int, most: int):
     return check
 
 
+def word(text: str) -> str:
+    """An argparse type for an option of fixed words (``choices``): any case, spaces round it
+    ignored (``--form Involute`` is ``involute``), as in a train file."""
+    return text.strip().lower()
+
+
 def site(text: str) -> str:
     """``LAT,LON[,HEIGHT_M]``, checked; the text is passed on."""
     from ..sky import Site
