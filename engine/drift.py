@@ -131,9 +131,9 @@ def _expected_deg_per_day(readout, name: str, frame: str) -> float:
 def _site(site):
     if site is None or not isinstance(site, str):
         return site
-    from .sky import Site
+    from .sites import parse_site
 
-    return Site.parse(site)
+    return parse_site(site)
 
 
 # --- errors at dates -----------------------------------------------------------------------

@@ -113,6 +113,10 @@ CASES: list[tuple[list[str], str]] = [
     (["sky", "JD -1e308"], ""),
     (["sky", "2026-01-01", "--calendar", "roman"], "invalid choice"),
     (["sky", "2026-01-01", "--site", "95,0"], "impossible"),
+    (["sky", "2026-01-01", "--site", "95N 0E"], "impossible"),
+    (["sky", "2026-01-01", "--site", "-33.87S 151.21E"], "both a sign and a compass letter"),
+    (["sky", "2026-01-01", "--site", "51.48N 0.01N"], "two latitudes"),
+    (["sky", "2026-01-01", "--site", "51,48N 0,01W"], "no compass letter before the comma"),
     (["sky", "2026-01-01", "--ephemeris", "/tmp"], "is a folder"),
     # crank (refused before the interface would need a terminal)
     (["crank", "--site", "95,0"], "impossible"),

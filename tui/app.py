@@ -19,6 +19,7 @@ from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.loader import load_train
 from engine.mechanism import DEFAULT_TRAIN, sky_for
+from engine.sites import parse_site
 from engine.sky import Site
 
 from .screens import BenchScreen, ClosesOnce, key_name, long_help
@@ -210,7 +211,7 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
     if site is None:
         where, name = DEFAULT_SITE, DEFAULT_SITE_NAME
     else:
-        where = site if isinstance(site, Site) else Site.parse(site)
+        where = site if isinstance(site, Site) else parse_site(site)
         name = "site"
     session = Session(mech, sky, site=where, site_name=name, findings_of=engine_findings,
                       editor=editor, ephemeris_given=ephemeris)

@@ -42,8 +42,8 @@ def no_terminal(train: str | None) -> str:
 def add_arguments(parser) -> None:
     support.add_train(parser, optional=True)
     support.add_site(parser, "observer for topocentric positions: degrees (north +, east +) "
-                     "and metres, e.g. --site -33.87,151.21; default: a built-in site, shown "
-                     "on screen")
+                     "and metres, e.g. --site -33.87,151.21 or '33.87S 151.21E'; default: a "
+                     "built-in site, shown on screen")
     support.add_ephemeris(parser)
 
 

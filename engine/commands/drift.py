@@ -427,7 +427,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
     from ..drift import DriftError, DriftRun, RunControl, drift_series, grid
     from ..kinds import days_rate
     from ..phasing import stage_phases
-    from ..sky import Site
+    from ..sites import parse_site
 
     step = parse_step(args.step)
     inputs = [args.train] + ([args.ephemeris] if args.ephemeris else [])
@@ -440,7 +440,7 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
         _usage_error(args, f"--csv and --png both name {args.csv}")
     if png_out:
         _load_pyplot()  # say how to install it before any work is done
-    site = Site.parse(args.site) if args.site else None  # checked by the option's type
+    site = parse_site(args.site) if args.site else None  # checked by the option's type
     mech, sky, start, end = support.open_span(args)
     try:
         n = grid(start, end, step, include_end=True)  # dates, the end covered

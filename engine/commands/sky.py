@@ -49,13 +49,14 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from rich.markup import escape
 
     from ..dates import calendar_date, format_jd, parse_date
-    from ..sky import PLANETS, Site, Sky
+    from ..sites import parse_site
+    from ..sky import PLANETS, Sky
 
     try:
         jd = parse_date(args.date, calendar=args.calendar)
     except DateError as exc:  # read after --calendar is known, so not an argparse type
         raise UsageError(f"argument date: {exc}") from None
-    site = Site.parse(args.site) if args.site else None  # checked by the option's type
+    site = parse_site(args.site) if args.site else None  # checked by the option's type
     sky = Sky(args.ephemeris)
     frame = "stars" if args.stars else "equinox"
     st = sky.at(jd, frame=frame, site=site, planets=PLANETS + ("earth",))

@@ -163,11 +163,12 @@ def word(text: str) -> str:
 
 
 def site(text: str) -> str:
-    """``LAT,LON[,HEIGHT_M]``, checked; the text is passed on."""
-    from ..sky import Site
+    """``LAT,LON[,HEIGHT_M]`` or with compass letters (``51.48N 0.01W``), checked; the text is
+    passed on (``engine.sites.parse_site`` reads it)."""
+    from ..sites import parse_site
 
     try:
-        Site.parse(text)
+        parse_site(text)
     except WheelworkError as exc:
         raise _type_error(exc) from None
     return text.strip()
@@ -265,7 +266,7 @@ def add_site(parser, help_text: str | None = None) -> None:
     parser.add_argument(
         "--site", metavar="LAT,LON[,H]", type=site, default=None,
         help=help_text or "observe from this place: degrees (north +, east +) and metres, "
-        "e.g. --site -33.87,151.21; default: the Earth's centre")
+        "e.g. --site -33.87,151.21 or '33.87S 151.21E'; default: the Earth's centre")
 
 
 def add_ephemeris(parser) -> None:
