@@ -16,7 +16,8 @@ otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
   date-times are); a leading sign for astronomical
   years, ``-0100-03-01`` (= 101 BC); years need not have four digits (``333-01-27``).
 * ISO with an era: ``44-03-15 BC``, ``44-03-15 12:00 BC``, ``1066-10-14 AD`` (also BCE/CE,
-  and with full stops: ``B.C.``, ``A.D.``).
+  and with full stops: ``B.C.``, ``A.D.``); AD may also stand before the year, as style
+  guides write it: ``AD 1066-10-14``, ``14 October AD 1066``, ``June 21, AD 250``.
 * Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``; or
   the month name first: ``March 15, 44 BC``, ``Oct 4 1957``, ``January 1, 2026 06:30``.
 * A raw Julian Date: ``JD 2451545.0`` (taken as UT).
@@ -316,8 +317,24 @@ def _check_bc_words(text: str, s: str, jd: float, cal: str, bc: int) -> None:
         raise _fail(text, f"the year {shown}, not {bc} BC")
 
 
+# AD written before the year, as style guides place it ("14 October AD 1066", "AD 1066-10-14"):
+# at the start of the text, or before a year that ends the date or precedes its time
+_AD_LEADING = re.compile(r"(?P<era>A\.?D\.?)\s+(?P<rest>\d.*)", re.IGNORECASE)
+_AD_BEFORE_YEAR = re.compile(r"(?<![\w.])(?P<era>A\.?D\.?)\s+(?P<y>\d{1,6})(?=\s|$)",
+                             re.IGNORECASE)
+
+
+def _era_after_year(s: str) -> str:
+    """``s`` with an AD written before the year moved after it, where the forms expect it."""
+    m = _AD_LEADING.fullmatch(s)
+    if m:
+        return f"{m['rest']} {m['era']}"
+    return _AD_BEFORE_YEAR.sub(lambda m: f"{m['y']} {m['era']}", s)
+
+
 def _parse(text: str, s: str, cal: str) -> float:
     """:func:`parse_date` of ``s`` (``text`` tidied, without a printed calendar or BC year)."""
+    s = _era_after_year(s)
     m = _JD.fullmatch(s)
     if m:
         jd = float(m["jd"])

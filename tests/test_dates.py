@@ -225,6 +225,29 @@ def test_eras_written_with_full_stops(text, same_as):
     assert parse_date(text) == parse_date(same_as)
 
 
+@pytest.mark.parametrize("text, same_as", [
+    ("14 October AD 1066", "1066-10-14"),
+    ("14 October AD 1066 12:00 UT", "1066-10-14 12:00"),
+    ("June 21, AD 250", "0250-06-21"),
+    ("AD 1066-10-14", "1066-10-14"),
+    ("A.D. 250-06-21 06:00", "0250-06-21 06:00"),
+])
+def test_ad_written_before_the_year(text, same_as):
+    # style guides put AD before the year and BC after it (common practice, no source)
+    assert parse_date(text) == parse_date(same_as)
+
+
+@pytest.mark.parametrize("text, words", [
+    ("AD 0-01-01", "no year 0 AD"),
+    ("21 June AD 250 BC", "not a date form"),
+    ("AD -5-01-01", "not a date form"),
+])
+def test_ad_before_the_year_keeps_its_checks(text, words):
+    with pytest.raises(DateError) as info:
+        parse_date(text)
+    assert words in str(info.value)
+
+
 @pytest.mark.parametrize("text, words", [
     ("-0584-05-28 = 584 BC", "-0584 is 585 BC"),
     ("0044-03-15 = 44 BC", "0044 is AD 44"),
