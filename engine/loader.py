@@ -343,6 +343,11 @@ def _toml_hint(text: str, message: str) -> str:
         return ("; a name with letters other than A-Z, a-z, 0-9, _ and - goes in quotes, "
                 'e.g. [arbors."année"] or "jahresräd" = 127')
     value = value.strip()
+    if key.strip() == "date" and value and value[0] not in "\"'":
+        # TOML's own dates have years 0001-9999 and no era: a year before AD 1, BC, a month
+        # name or a JD is text to TOML, so it goes in quotes
+        return (f'; a date TOML cannot hold as it is (a year before AD 1, an era, a month '
+                f'name) goes in quotes: date = "{safe_text(value[:60])}"')
     if value and _PLAIN_WORDS.match(value) and value not in ("true", "false", "inf", "nan"):
         return f'; text goes in quotes: {safe_text(key.strip())} = "{safe_text(value[:60])}"'
     if message.startswith("Cannot overwrite a value") and value:
@@ -768,7 +773,10 @@ def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:
     if isinstance(value, _dt.time):
         raise DateError(f"{value.isoformat()} is a time of day without a date; write the date "
                         "too, like 2026-01-01T06:30:00Z")
-    raise DateError(f"should be a date like \"2026-01-01 06:30\" (UT), got {_show(value)}")
+    jd_hint = (f', or a Julian Date in quotes, "JD {value}"'
+               if isinstance(value, (int, float)) and not isinstance(value, bool) else "")
+    raise DateError(f"should be a date like \"2026-01-01 06:30\" (UT){jd_hint}, got "
+                    f"{_show(value)}")
 
 
 def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:

@@ -87,6 +87,18 @@ def test_good_file_loads_with_exact_fraction():
      ["not valid TOML", "line", "[arbors.b] is written twice: put its keys in one table"]),
     ("[crank]", "[train]\n[crank]",  # a one-part name: the reader says "('train',)"
      ["not valid TOML", "line", "[train] is written twice: put its keys in one table"]),
+    # an epoch in antiquity written bare, as TOML's own dates may be: TOML has no year
+    # before 0001, no era and no month names, so the reader's words say nothing of quotes
+    ('date = "2026-01-01 00:00"', "date = -0249-06-21",
+     ["not valid TOML", "line", 'goes in quotes: date = "-0249-06-21"']),
+    ('date = "2026-01-01 00:00"', "date = 0250-06-21 BC   # the feast",
+     ["not valid TOML", "line", 'goes in quotes: date = "0250-06-21 BC"']),
+    ('date = "2026-01-01 00:00"', "date = 0000-06-21",
+     ["not valid TOML", "line", 'goes in quotes: date = "0000-06-21"']),
+    ('date = "2026-01-01 00:00"', "date = 21 June 250 BC",
+     ["not valid TOML", "line", 'goes in quotes: date = "21 June 250 BC"']),
+    ('date = "2026-01-01 00:00"', "date = 1630282.0",
+     ["[epoch] date", 'a Julian Date in quotes, "JD 1630282.0"']),
 ])
 def test_each_bad_item_is_named(old, new, words):
     assert old in GOOD
