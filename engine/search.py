@@ -268,7 +268,8 @@ def make_constraints(stages: int | Iterable[int] | str = DEFAULT_STAGES,
         if size > MAX_MULTISETS:
             fewer = max((j for j in range(1, k) if _n_multisets(len(cs), j, bool(no_repeat))
                          <= MAX_MULTISETS), default=None)
-            hint = f"search at most {fewer} stages, or " if fewer else ""
+            hint = (f"search at most {fewer} stage{'s' if fewer > 1 else ''}, or "
+                    if fewer else "")
             raise SearchError(
                 f"{what}: {len(cs):,} tooth counts give {size:,} sets of {k}, more than the "
                 f"{MAX_MULTISETS:,} searched; {hint}narrow the range (8-150 gives "

@@ -533,6 +533,9 @@ def test_product_tables_equal_a_plain_enumeration(values, k, distinct):
     (["--cycle", "synodic month", "--wheels", "8-20000"], "10,000"),
     (["--cycle", "synodic month", "--allowed", "1-100000000"], "10,000"),
     (["--cycle", "synodic month", "--wheels", "8-1000"], "at most 2 stages"),
+    (["--cycle", "synodic month", "--stages", "4", "--wheels", "8-1000"], "sets of 4"),
+    (["--cycle", "synodic month", "--stages", "2", "--wheels", "8-10000"], "at most 1 stage,"),
+    (["--cycle", "synodic month", "--stages", "3", "--pinions", "8-1000"], "sets of 3"),
 ])
 def test_cli_hopeless_or_unbounded_searches_refused_up_front(argv, words, capsys):
     """Every search option is bounded, and a target the bounds cannot come near is refused
@@ -540,6 +543,19 @@ def test_cli_hopeless_or_unbounded_searches_refused_up_front(argv, words, capsys
     assert main(["search", *argv]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "usage error" in err and words in err, err
+
+
+def test_wide_tooth_ranges_are_judged_at_the_stages_asked(capsys):
+    """993 counts give 993 sets of 1 and 493,521 of 2: well within what is searched, so
+    --stages 1 and 2 with --wheels 8-1000 search (the range was judged at the default three
+    stages, 163,684,465 sets, and refused); a 1-stage 1/365 year wheel of 730 teeth on a
+    2-leaf pinion is found."""
+    assert main(["search", "--ratio", "1/365", "--stages", "1", "--wheels", "8-1000",
+                 "--pinions", "2-8", "--top", "1", "--json"]) == 0
+    best = json.loads(capsys.readouterr().out)["results"][0]
+    assert best["stages"] == [[2, 730]] and best["period_error_ppm"] == 0
+    assert main(["search", "--cycle", "synodic month", "--stages", "2", "--pinions", "8-1000",
+                 "--top", "1"]) == 0
 
 
 def test_out_of_reach_with_no_repeat_gives_advice_that_can_work(capsys):

@@ -60,6 +60,10 @@ def _stage_counts(text: str) -> str:
 
 
 def _constraints(**bounds):
+    """One bound read alone, at one stage: the range itself (its form, its limits); how many
+    sets of counts the stages asked give is judged in :func:`run`, with every bound known —
+    parsed here at the default stages, ``--stages 1 --wheels 8-1000`` was refused for the
+    sets of 3 it never asked for."""
     from ..search import make_constraints
 
     return make_constraints(**bounds)
@@ -88,10 +92,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     bounds.add_argument("--stages", default="1-3", metavar="N|MIN-MAX", type=_stage_counts,
                         help="number of stages, 1-4 (default 1-3)")
     bounds.add_argument("--wheels", default="8-150", metavar="MIN-MAX",
-                        type=_engine_value(lambda t: _constraints(wheels=t), "wheels"),
+                        type=_engine_value(lambda t: _constraints(wheels=t, stages=1), "wheels"),
                         help="teeth of the wheels, the larger member of a stage (default 8-150)")
     bounds.add_argument("--pinions", default="8-150", metavar="MIN-MAX",
-                        type=_engine_value(lambda t: _constraints(pinions=t), "pinions"),
+                        type=_engine_value(lambda t: _constraints(pinions=t, stages=1), "pinions"),
                         help="teeth of the pinions, the smaller, faster member (default 8-150)")
     bounds.add_argument("--allowed", metavar="LIST", type=_engine_value(_counts, "allowed"),
                         help="only these counts, e.g. 12,15,20-30 (your cutters or plate)")
