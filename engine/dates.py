@@ -409,13 +409,29 @@ _STEP = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*([a-z]*)\s*$", re.IGNORECASE)
 MIN_STEP_DAYS = 1 / SECONDS_PER_DAY
 
 
+#: units a reader takes for months, which have no fixed length: refused with a hint (``M``
+#: upper-case is a month in ISO 8601 durations and in much everyday writing; ``m`` is minutes)
+_MONTH_UNITS = ("M", "mo", "mon", "month", "months", "mth", "mths")
+
+
+def _no_month(text, unit: str) -> None:
+    if unit == "M" or unit.lower() in _MONTH_UNITS[1:]:
+        what = ("'M' could be minutes or months" if unit == "M"
+                else "a month has no fixed length")
+        raise DriftError(f"cannot read step {str(text).strip()!r}: {what}; write minutes as m "
+                         "or min (30m), a month in days or weeks (30d, 4w)")
+
+
 def parse_step(text: str | float) -> float:
     """Days in a step written ``6h``, ``30m`` (minutes), ``1d``, ``2.5d``, ``2w``, ``1y``
-    (365.25 days) or ``90s``; a bare number is days. Raises :class:`DriftError`."""
+    (365.25 days) or ``90s``; a bare number is days. ``1M``, ``1mo`` or ``1 month`` is
+    refused (minutes or months?). Raises :class:`DriftError`."""
     if isinstance(text, (int, float)) and not isinstance(text, bool):
         days = float(text)
     else:
         m = _STEP.match(str(text))
+        if m:
+            _no_month(text, m.group(2))
         unit = m.group(2).lower() if m else ""
         if not m or (unit and unit not in _STEP_UNITS):
             raise DriftError(f"cannot read step {text!r}: write a number and a unit, "
@@ -424,6 +440,18 @@ def parse_step(text: str | float) -> float:
     if not math.isfinite(days) or days < MIN_STEP_DAYS:
         raise DriftError(f"step {text!r} is too small: it must be at least one second")
     return days
+
+
+def step_text(days: float) -> str:
+    """A step as a reader takes it, in the unit that suits it: ``6 days``, ``1 day``,
+    ``6 hours``, ``1 minute``, ``90 seconds``, ``365.25 days`` (never e-notation)."""
+    from .figures import figure
+
+    units = ((1.0, "day"), (1 / 24, "hour"), (1 / 1440, "minute"))
+    size, unit = next(((s, u) for s, u in units if days >= s * (1 - 1e-9)),
+                      (1 / SECONDS_PER_DAY, "second"))
+    n = figure(days / size, 6)
+    return f"{n} {unit}" + ("" if n == "1" else "s")
 
 
 # --- the crank's step: turns, or a length of time ------------------------------------------
@@ -449,6 +477,8 @@ def parse_crank_step(text: str, days_per_turn) -> tuple[Fraction, Fraction | Non
         raise DriftError(f"cannot read step {raw!r}: a step is a length, without a sign; "
                          "the crank keys + and − turn on and back by it")
     m = _STEP.match(raw)
+    if m:
+        _no_month(raw, m.group(2))
     unit = m.group(2).lower() if m else ""
     if m and unit and unit not in _TURN_UNITS:  # a time: 12h, 3d, 1y
         if unit not in _STEP_UNITS:

@@ -148,6 +148,36 @@ def test_parse_step_rejects(bad):
         parse_step(bad)
 
 
+@pytest.mark.parametrize("bad, words", [
+    ("1M", "'M' could be minutes or months"), ("1mo", "a month has no fixed length"),
+    ("2 months", "a month has no fixed length"), ("1 Month", "a month has no fixed length"),
+])
+def test_a_month_step_is_refused_not_read_as_minutes(bad, words):
+    """'1M' was read as one minute (the unit lower-cased), so `drift --step 1M` ran 525,961
+    dates a year and the bench's + turned on a minute while its readings said 'step 1M'; a
+    month has no fixed length, so it is refused with what to write, on both paths."""
+    from engine.dates import parse_crank_step
+
+    for parse in (parse_step, lambda t: parse_crank_step(t, 1)):
+        with pytest.raises(DriftError) as err:
+            parse(bad)
+        assert words in str(err.value) and "30m" in str(err.value) and "30d" in str(err.value)
+    assert parse_step("1m") == parse_step("1min") == 1 / 1440  # minutes, lower case
+
+
+@pytest.mark.parametrize("days, text", [
+    (6.0, "6 days"), (1.0, "1 day"), (2.5, "2.5 days"), (365.25, "365.25 days"), (0.25, "6 hours"),
+    (1 / 24, "1 hour"), (1 / 1440, "1 minute"), (90 / 86400, "1.5 minutes"),
+    (30 / 86400, "30 seconds"), (36525000.0, "36,525,000 days"),
+])
+def test_step_text_names_the_unit(days, text):
+    """What drift's report says of its step: the unit always named (it printed the option as
+    typed, 'every 6' for --step 6, which is six days)."""
+    from engine.dates import step_text
+
+    assert step_text(days) == text
+
+
 @pytest.mark.parametrize("text", ["JD 1e308", "JD -1e308", "JD 4e8", "JD -4e8", "JD 1e20"])
 def test_dates_beyond_the_range_are_refused_in_one_line(text):
     with pytest.raises(DateError) as info:

@@ -613,6 +613,17 @@ def test_cli_span_covers_the_end_date(capsys):
         capsys.readouterr().out
 
 
+def test_cli_report_names_the_step_unit(capsys):
+    """A bare --step is days and the report says so ('every 6', with no unit, before); a
+    month step is refused, where '1M' ran a minute grid."""
+    assert main(["drift", DISC, "--years", "1", "--step", "6"]) == 0
+    assert "62 dates, every 6 days (1.00 years)" in capsys.readouterr().out
+    assert main(["drift", DISC, "--years", "1", "--step", "6h"]) == 0
+    assert "every 6 hours" in capsys.readouterr().out
+    assert main(["drift", DISC, "--years", "1", "--step", "1M"]) == 2
+    assert "could be minutes or months" in capsys.readouterr().err
+
+
 def test_cli_report_wording(capsys):
     assert main(["drift", DISC, "--years", "5", "--threshold-days", "1"]) == 0
     out = capsys.readouterr().out

@@ -62,7 +62,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
     span = support.add_span(parser, "last date: the run goes on to the first step at or after it")
     span.add_argument("--step", default="1d", metavar="STEP", type=_step,
-                      help="time between dates: 30m, 6h, 1d, 2.5d, 1y... (default 1d)")
+                      help="time between dates: 30m (minutes), 6h, 1d, 2.5d, 2w, 1y; a bare "
+                      "number is days (default 1d)")
     cmp_ = parser.add_argument_group("comparison")
     cmp_.add_argument("--threshold", type=support.positive("degrees", 180), metavar="DEG",
                       help="report the first date each pointer is this many degrees off "
@@ -529,7 +530,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
             csv_path, png_path, phases=()) -> int:
     from rich.text import Text
 
-    from ..dates import format_jd
+    from ..dates import format_jd, step_text
 
     last = float(result.jd[-1])
     n = len(result.jd)
@@ -561,7 +562,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     elif end - last > 0.5 / 1440:
         to += f", {_duration(end - last)} short of the end asked (the ephemeris ends)"
     line(to)
-    line(f"{n:,} dates, every {args.step} ({(last - start) / JULIAN_YEAR_DAYS:.2f} years)")
+    line(f"{n:,} dates, every {step_text(step)} ({(last - start) / JULIAN_YEAR_DAYS:.2f} years)")
     line("error = what the train shows minus the true sky (positive: ahead)")
     for note in result.notes:
         line(f"note: {note}", "yellow")
