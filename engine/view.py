@@ -119,6 +119,25 @@ def _fit_label(name: str, teeth: int, room: int) -> str:
     return count.strip() if count and len(count) - 1 <= room else name[:room]
 
 
+def short_names(names, width: int) -> dict[str, str]:
+    """Each name in at most ``width`` cells, and two names never shown alike: a name too long
+    keeps its start and an ellipsis, and where two would then read the same, its start and its
+    end either side of the ellipsis (``eclipse_ring``, ``eclipse_hand`` in 9: ``ecli…ring``,
+    ``ecli…hand``, not ``eclipse_…`` twice)."""
+    names = list(names)
+    if width < 2:
+        return {n: n[:max(width, 0)] for n in names}
+    cut = {n: n if len(n) <= width else n[: width - 1] + "…" for n in names}
+    seen: dict[str, int] = {}
+    for text in cut.values():
+        seen[text] = seen.get(text, 0) + 1
+    tail = (width - 1) // 2
+    for n in names:
+        if seen[cut[n]] > 1 and len(n) > width and tail:
+            cut[n] = n[: width - 1 - tail] + "…" + n[-tail:]
+    return cut
+
+
 def place_train(layout: TrainLayout, width: int, height: int) -> dict[str, WheelPlace]:
     """Where each arbor of ``layout`` goes on a ``width`` × ``height`` cell canvas: columns
     share the width, rows the height; a wheel's radius grows with its largest tooth count."""

@@ -1235,6 +1235,30 @@ async def test_readings_keep_numbers_apart_in_fixed_notation(size):
 TRAINS = Path(__file__).parents[1] / "engine" / "trains"
 
 
+@pytest.mark.parametrize("size", [(80, 24), (120, 40)])
+@sync
+async def test_readings_tell_apart_pointers_whose_names_begin_alike(size, tmp_path):
+    """Two pointers named eclipse_ring and eclipse_hand once both read 'eclipse_…'; the name
+    column takes the panel's spare width, and a cut keeps the names apart."""
+    text = (TRAINS / "eclipse_board.toml").read_text()
+    text = text.replace("[pointers.sun]", "[pointers.eclipse_ring_sun]")
+    text = text.replace("[pointers.node]", "[pointers.eclipse_ring_node]")
+    path = tmp_path / "alike.toml"
+    path.write_text(text)
+    app = make_app(path)
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        rows = text_of(app.screen.query_one(Readings)).splitlines()[1:]
+        names = [row.split()[0] for row in rows if row.strip()]
+        assert len(names) == len(app.session.now().pointers)
+        assert len(set(names)) == len(names), names
+        for shown in names:
+            head, _, tail = shown.partition("…")
+            assert any(n.startswith(head) and n.endswith(tail)
+                       for n in app.session.now().pointers), shown
+
+
+
 @sync
 async def test_palette_lines_name_keys_as_people_read_them():
     app = make_app()

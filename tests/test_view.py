@@ -197,3 +197,18 @@ def test_chart_scale_leaves_the_band_out_when_no_curve_stays_near_it():
     # two rows of curves cannot hold a band two rows apart at any scale
     tiny = chart_scale({"a": np.linspace(-0.5, 0.5, 10)}, 1.0, 2)
     assert not tiny.band and not tiny.fitted
+
+
+def test_short_names_never_show_two_names_alike():
+    from engine.view import short_names
+
+    names = ["sun", "eclipse_ring", "eclipse_hand", "calendar"]
+    got = short_names(names, 9)
+    assert got["sun"] == "sun" and got["calendar"] == "calendar"
+    # a plain cut would show both as 'eclipse_…'
+    assert got["eclipse_ring"] == "ecli…ring" and got["eclipse_hand"] == "ecli…hand"
+    assert all(len(v) <= 9 for v in got.values())
+    assert len(set(got.values())) == len(names)
+    # a name cut alone keeps its start
+    assert short_names(["perigee_hand", "sun"], 9)["perigee_hand"] == "perigee_…"
+    assert short_names(["eclipse_ring"], 12) == {"eclipse_ring": "eclipse_ring"}

@@ -30,6 +30,7 @@ from engine.view import (
     picked_wheel,
     place_train,
     plan_radii,
+    short_names,
     too_fast,
     turns_label,
 )
@@ -1005,14 +1006,19 @@ class Readings(RowStatic):
         def cell(text: str, width: int, style: str = "") -> None:
             t.append(" " + text.rjust(width - 1), style=style)
 
-        t.append(f"{cols[0][0]:<{-w[0]}}", style=head)
+        # the name column takes what the panel has beyond the columns (61 wide, 41 narrow),
+        # up to the longest name; names still too long are cut so that no two read alike
+        spare = max(0, self.size.width - (41 if narrow else 61))
+        shown = [p.name for p in now.pointers.values()]
+        name_w = max(-w[0], min(-w[0] + spare, max(map(len, shown), default=0)))
+        names = short_names(shown, name_w)
+        t.append(f"{cols[0][0]:<{name_w}}", style=head)
         for title, width in cols[1:]:
             cell(title, width, head)
         deg = "{:.1f}" if narrow else "{:.2f}"
         for p in now.pointers.values():
             t.append("\n")
-            name = p.name if len(p.name) <= -w[0] else p.name[: -w[0] - 1] + "…"
-            t.append(f"{name:<{-w[0]}}")
+            t.append(f"{names[p.name]:<{name_w}}")
             cell(deg.format(p.train_deg), w[1])
             cell(deg.format(p.sky_deg), w[2])
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
