@@ -294,6 +294,23 @@ async def test_drift_chart_gives_days_before_the_common_era_whole():
 
 
 @sync
+async def test_drift_chart_names_its_own_first_year_before_the_common_era(tmp_path):
+    """The table's note gave '-0149 is 150 BC' on every chart, whatever years it covered; it
+    takes the chart's own first year (a board set in 585 BC: '-0584 is 585 BC')."""
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    from engine.demos import demo_path
+
+    path = tmp_path / "thales.toml"
+    path.write_text(demo_path("lunation_board").read_text().replace(
+        'date = "-0149-04-10 06:00"', 'date = "-0584-05-20 06:00"'))
+    app = make_app(path)
+    async with app.run_test(size=SIZE) as pilot:
+        await open_chart(pilot, app)
+        summary = " ".join(text_of(app.screen.query_one("#drift-summary")).split())
+        assert "-0584 is 585 BC" in summary and "-0149" not in summary
+
+
+@sync
 async def test_drift_chart_keeps_rows_for_its_curves_at_80_by_24():
     """At 80 × 24 the summary table (one row a pointer) and the plot's blank lines and
     "year" caption left the curves four rows (two for the seven-arm orrery); the plot now

@@ -35,7 +35,14 @@ from textual.worker import get_current_worker
 from textual_hires_canvas import HiResMode
 from textual_plot import PlotWidget
 
-from engine.dates import AD_1_JD, format_day, format_jd, parse_crank_step, parse_date
+from engine.dates import (
+    AD_1_JD,
+    calendar_date,
+    format_day,
+    format_jd,
+    parse_crank_step,
+    parse_date,
+)
 from engine.errors import WheelworkError
 from engine.kinds import shows_text
 from engine.periods import JULIAN_YEAR_DAYS
@@ -1273,7 +1280,9 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             t.add_column(col, justify="right" if "°" in col else "left")
         if first_jd < AD_1_JD:  # the table's days keep their signed years, said once here,
             # above the rows (the axis's label, which says it too, is dropped when short)
-            t.title = "years before AD 1 as astronomers number them: -0149 is 150 BC"
+            year = calendar_date(first_jd)[0]  # the chart's own first year as the example
+            shown = f"-{-year:04d}" if year < 0 else f"{year:04d}"
+            t.title = f"years before AD 1 as astronomers number them: {shown} is {1 - year} BC"
         for name, sm in result.summaries.items():
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       f"{sm.max_abs_deg:.2f}", format_day(sm.max_at_jd),
