@@ -192,11 +192,23 @@ PERIODS["synodic_month_235_in_19"] = MeanPeriod(
 
 def relation_error_ppm(key: str) -> float:
     """How far a period relation's period is from the mean period it stands for (ppm: positive
-    when the relation's period is the longer)."""
-    rel = PERIODS.get(key)
+    when the relation's period is the longer). ``key`` is a relation's key or, as
+    :func:`find_period` reads it, its name (``"venus 5 in 8"``; ``"metonic"``, said of a
+    relation, is the Metonic relation, 235 synodic months in 19 years)."""
+    rel = PERIODS.get(key) if isinstance(key, str) else None
+    if rel is None and isinstance(key, str):
+        for said in (f"{key} relation", key):  # "metonic" alone names the 235-month cycle
+            try:
+                rel = find_period(said)
+            except UnknownName:
+                continue
+            if rel.approximates is not None:
+                break
     if rel is None or rel.approximates is None:
-        relations = ", ".join(k for k, p in PERIODS.items() if p.approximates is not None)
-        what = "is a mean period, not a period relation" if rel else "is no period relation"
+        relations = ", ".join(f"{k} ({p.name})" for k, p in PERIODS.items()
+                              if p.approximates is not None)
+        what = (f"is a mean period ({rel.name}), not a period relation" if rel
+                else "is no period relation")
         raise UnknownName(f"period {key!r} {what}; the relations are {relations}")
     mean = PERIODS[rel.approximates].days
     return (float(rel.exact_days) / mean - 1.0) * 1e6

@@ -152,3 +152,18 @@ def test_lunisolar_cycles_by_name_and_what_makes_them_cycles():
     # the relation on Julian years: 19 x 365.25 / 235 days against the mean synodic month
     assert relation_error_ppm("synodic_month_235_in_19") == pytest.approx(
         (19 * 365.25 / 235 / PERIODS["synodic_month"].days - 1) * 1e6)
+
+
+def test_relations_by_name_as_find_period_reads_them():
+    # relation_error_ppm took only a key: 'metonic' (which search --cycle and find_period
+    # read) and 'venus 5 in 8' were 'no period relation'
+    from engine.errors import UnknownName
+    from engine.periods import relation_error_ppm
+
+    metonic = relation_error_ppm("synodic_month_235_in_19")
+    assert relation_error_ppm("metonic") == relation_error_ppm("Metonic relation") == metonic
+    assert relation_error_ppm("venus 5 in 8") == relation_error_ppm("venus_5_in_8")
+    with pytest.raises(UnknownName) as info:
+        relation_error_ppm("saros")  # a cycle of 223 months, not so many in so many years
+    assert "is a mean period (Saros (223 synodic months))" in str(info.value)
+    assert "synodic_month_235_in_19 (235 synodic months in 19 years" in str(info.value)
