@@ -503,3 +503,12 @@ def test_pin_diameter_is_called_assumed_only_when_the_file_has_none(tmp_path, ca
     assert main(["check", str(without)]) in (0, 1)
     out = " ".join(capsys.readouterr().out.split())
     assert "pin Ø 1 mm assumed)" in out
+
+
+def test_the_tide_office_demo_has_no_warning():
+    """The bundled lunisolar demo is laid out clean: its idlers stand clear of the sun arbor's
+    great wheel (no tip circle over another arbor's axis) and nothing else is warned of; its
+    notes (the slot's length, the pin-and-slot's lead) stay."""
+    report = run_check(DEMO / "tide_office.toml")
+    assert not levels(report, "warning"), [f.message for f in levels(report, "warning")]
+    assert not levels(report, "error")
