@@ -1202,16 +1202,12 @@ class Site:
 
     @classmethod
     def parse(cls, text: str) -> Site:
-        """``"LAT,LON"`` or ``"LAT,LON,HEIGHT_M"`` (degrees, east-positive longitude)."""
-        parts = [p.strip() for p in str(text).split(",")]
-        try:
-            if len(parts) not in (2, 3):
-                raise ValueError
-            nums = [float(p) for p in parts]
-        except ValueError:
-            raise SkyError(f"site {text!r}: write LAT,LON or LAT,LON,HEIGHT_M in degrees and "
-                           f"metres, e.g. 51.48,-0.01,45") from None
-        return cls(*nums)
+        """``"LAT,LON"``, ``"LAT,LON,HEIGHT_M"`` (degrees, east-positive longitude) or with
+        compass letters (``"51.48N 0.01W 45m"``): :func:`engine.sites.parse_site`, the one
+        reader of a written place."""
+        from .sites import parse_site
+
+        return parse_site(text)
 
 
 @dataclass(frozen=True)

@@ -284,8 +284,11 @@ def test_impossible_site(args, fragment):
 
 
 def test_site_parse():
+    """Site.parse is the one reader of a written place (engine.sites): signed degrees and
+    compass letters alike, in the api as on the command line."""
     assert Site.parse("51.48, -0.01, 45") == Site(51.48, -0.01, 45.0)
-    with pytest.raises(SkyError, match="LAT,LON"):
+    assert Site.parse("51.48N 0.01W 45m") == Site(51.48, -0.01, 45.0)
+    with pytest.raises(SkyError, match="cannot read 'pole'"):
         Site.parse("north pole")
 
 
