@@ -10,7 +10,7 @@ from fractions import Fraction
 from .kinds import KINDS, days_rate
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
-from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
+from .periods import J2000_JD, JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
 from .readout import pointer_linear
 from .train import FRAME, Train
 
@@ -197,6 +197,32 @@ def route_text(train: Train, kin: Kinematics, arbor: str, stages: list[Stage],
     if not found:
         return "(no chain of meshes from the crank: solved from the whole train)"
     return "(turns with the crank arbor)"
+
+
+#: an epoch further than this many years from AD 2000 gets :func:`era_note` (our own choice:
+#: by then the perigee's mean motion differs by some 0.1°/century, the Moon's, through ΔT's
+#: rate, by a few hundredths)
+ERA_NOTE_YEARS = 500
+
+
+def era_note(train: Train | Mechanism) -> str:
+    """For a train set more than :data:`ERA_NOTE_YEARS` from AD 2000, one line saying that the
+    report's mean periods are AD 2000's and that the sky of the train's own era moved otherwise
+    (the mean elements' slow terms; tidal braking and ΔT's rate, since a crank counts UT days);
+    "" otherwise. ``wheelwork drift`` measures the train against that era's sky."""
+    from .dates import format_day
+
+    train = train.train if isinstance(train, Mechanism) else train
+    years = (train.epoch.jd_ut - J2000_JD) / JULIAN_YEAR_DAYS
+    if abs(years) <= ERA_NOTE_YEARS:
+        return ""
+    when = "before" if years < 0 else "after"
+    return (f"the mean periods, ppm and °/century are those of AD 2000; this train is set on "
+            f"{format_day(train.epoch.jd_ut, bc=True)}, {abs(years):,.0f} years {when}, when "
+            "the sky's mean motions differed (the Moon's through tidal braking and ΔT, the "
+            "perigee's and the node's through the slow terms of their motion), so its drift "
+            "in its own era differs from these: wheelwork drift measures it against the sky "
+            "of that era")
 
 
 def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,

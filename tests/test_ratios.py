@@ -154,3 +154,32 @@ def test_reports_name_an_orrery_arm_as_its_file_does(capsys):
         out = capsys.readouterr().out
         assert "_from_sun" not in out, argv
         assert "mercury, seen from the Sun" in out, argv
+
+
+def test_a_train_of_another_era_is_told_its_mean_periods_are_ad_2000s(capsys):
+    """The report judges every pointer against the mean periods of AD 2000; a train set in
+    150 BC is told so, and that its own era's sky moved otherwise, which drift measures."""
+    assert main(["ratios", "lunation_board"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "note: the mean periods, ppm and °/century are those of AD 2000" in out
+    assert "-0149-04-10 (150 BC), 2,149 years before" in out
+    assert main(["ratios", "tide_office", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["era_note"] is None
+    assert main(["ratios", "tide_office"]) == 0
+    assert "note:" not in capsys.readouterr().out
+
+
+def test_the_era_note_holds_the_moon_drifts_otherwise_in_150_bc():
+    # what the note says, measured: against the sky of 150 BC (DE406) the lunation board's
+    # Moon hand drifts about 0.1°/century less than its AD 2000 figure (tidal braking, ΔT)
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    from engine.drift import DriftRun, drift_series
+    from engine.mechanism import open_train
+    from engine.sky import Sky
+
+    sky = Sky("de406")
+    mech = open_train(TRAINS / "lunation_board.toml", sky)
+    start = mech.train.epoch.jd_ut
+    run = drift_series(mech, sky, DriftRun(start, start + 76 * 365.25, "1d"))
+    mean_rate = report("lunation_board.toml")["moon"].drift_deg_per_century
+    assert abs(run.summaries["moon"].drift_deg_per_century - mean_rate) > 0.05

@@ -35,7 +35,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..exact import fraction_text
     from ..kinematics import solve
     from ..loader import load_train
-    from ..ratios import pointer_ratios
+    from ..ratios import era_note, pointer_ratios
     from ..readout import backward_pointers, backward_warnings
 
     train = load_train(args.train)
@@ -48,6 +48,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
             "crank": {"arbor": train.crank.arbor,
                       "days_per_turn": str(train.crank.days_per_turn)},
             "pointers": [r.as_json() for r in rows], "warnings": warnings,
+            "era_note": era_note(train) or None,
         })
         return 0
     dpt = train.crank.days_per_turn
@@ -71,6 +72,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       f"{r.period_error_ppm:+.3f}", f"{r.drift_deg_per_century:+.4f}",
                       _years(r.years_to_one_day))
     support.print_table(console, table)
+    note = era_note(train)
+    if note:
+        support.print_indented(console, f"note: {note}", 0)
     from ..kinds import shows_text
 
     for r in rows:
