@@ -181,7 +181,13 @@ def test_a_chart_before_ad_1_names_its_years_bc(tmp_path, capsys):
     chart = tmp_path / "bc.svg"
     assert main(["drift", "lunation_board", "--years", "2", "--png", str(chart)]) == 0
     text = chart.read_text(encoding="utf-8")
-    assert "-0149-04-10 (150 BC)" in text and "0 = 1 BC" in text
+    assert "-0149-04-10 (150 BC)" in text and "0 = 1 BC, −149 = 150 BC" in text
+    # the axis's example is the chart's own first year, not always the lunation board's
+    thales = tmp_path / "thales.svg"
+    assert main(["drift", "lunation_board", "--from", "1 May 585 BC", "--years", "2",
+                 "--png", str(thales)]) == 0
+    text = thales.read_text(encoding="utf-8")
+    assert "0 = 1 BC, −584 = 585 BC" in text and "−149" not in text
     modern = tmp_path / "now.svg"
     assert main(["drift", "moon_disc_59", "--years", "1", "--png", str(modern)]) == 0
     assert " BC" not in modern.read_text(encoding="utf-8")

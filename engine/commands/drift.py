@@ -236,6 +236,15 @@ def _year(jd):
     return decimal_year(jd)
 
 
+def _bc_example(jd: float) -> str:
+    """How to read the axis's signed years, with the chart's own first year as the example:
+    '0 = 1 BC, −584 = 585 BC' (the minus sign as matplotlib ticks it)."""
+    from ..dates import calendar_date
+
+    year = calendar_date(float(jd))[0]
+    return "0 = 1 BC" + (f", −{-year} = {1 - year} BC" if year < 0 else "")
+
+
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
@@ -270,7 +279,7 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
                                                          lambda d, g=g: d * g))
             sec.set_ylabel("days")
     axes[-1, 0].set_xlabel("year" if float(x[0]) >= 1 else
-                           "year (astronomical numbering: 0 = 1 BC, −149 = 150 BC)")
+                           f"year (astronomical numbering: {_bc_example(result.jd[0])})")
     fig.suptitle(title, fontsize=10)
     # the chart sets the train against the true Sun: the caution goes with it, under the plots
     fig.text(0.5, 0.06 / height_in, SUN_CAUTION, ha="center", va="bottom", fontsize=8,
