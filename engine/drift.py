@@ -398,6 +398,9 @@ class DriftResult:
     step_days: float = 0.0
     sky_name: str = ""
     timings: dict[str, float] = field(default_factory=dict)
+    #: the largest one-standard-error uncertainty of ΔT met on the grid, in seconds (how far
+    #: the UT dates may stand from the sky's TT; ``delta_t_effect_deg`` is what it moves)
+    delta_t_sigma_s: float = 0.0
 
     @property
     def notes(self) -> list[str]:
@@ -855,7 +858,8 @@ class _Chunks:
         return DriftResult(jd=self.jd0 + np.arange(self.n) * self.step,
                            train_deg=self.train_keep, sky_deg=self.sky_keep, error_deg=error,
                            error_days=days, summaries=summaries, frame=self.frame,
-                           step_days=self.step, sky_name=sky_name, timings=timings)
+                           step_days=self.step, sky_name=sky_name, timings=timings,
+                           delta_t_sigma_s=self.delta_t_sigma_s)
 
 
 @dataclass(frozen=True)

@@ -172,6 +172,24 @@ def test_eclipse_times_in_antiquity_say_how_far_delta_t_leaves_them_uncertain(ca
     assert "ΔT" not in capsys.readouterr().out
 
 
+def test_drift_in_antiquity_says_how_uncertain_delta_t_is(capsys):
+    """As the eclipse report: a drift run in 150 BC names σ(ΔT) in seconds (0.8 t² s,
+    t = (year − 1820)/100: about 310 s, Morrison & Stephenson 2004) beside the degrees it
+    moves each pointer, in the text and in --json; a modern run says nothing of it."""
+    import json
+
+    from engine.cli import main
+
+    assert main(["drift", "lunation_board", "--years", "2"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "ΔT (UT to the sky's TT) is uncertain by up to ± 310 s (5.2 min" in out
+    assert main(["drift", "lunation_board", "--years", "2", "--json"]) == 0
+    sigma = json.loads(capsys.readouterr().out)["delta_t_sigma_s"]
+    assert sigma == pytest.approx(0.8 * ((-149 - 1820) / 100) ** 2, rel=0.01)
+    assert main(["drift", "moon_disc_59", "--years", "1"]) == 0
+    assert "ΔT (UT" not in capsys.readouterr().out
+
+
 def test_a_chart_before_ad_1_names_its_years_bc(tmp_path, capsys):
     """The chart's axis counts years astronomically (0 = 1 BC, -149 = 150 BC); a chart of an
     ancient span says so, and its title gives the BC year beside each signed date."""

@@ -549,6 +549,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
             "frame": result.frame, "site": args.site, "from_jd": float(start),
             "to_jd": last, "asked_to_jd": float(end), "step_days": step, "dates": int(n),
             "from": format_jd(start), "to": format_jd(last),
+            "delta_t_sigma_s": round(result.delta_t_sigma_s, 3),
             "pointers": result.summaries_dict(), "notes": result.notes,
             "pin_slot_phases": [{**ph.to_dict(), "note": phase_note(mech, ph) if ph.off else None}
                                 for ph in phases],
@@ -573,6 +574,11 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     line(to)
     line(f"{n:,} dates, every {step_text(step)} ({(last - start) / JULIAN_YEAR_DAYS:.2f} years)")
     line("error = what the train shows minus the true sky (positive: ahead)")
+    sigma = result.delta_t_sigma_s
+    if sigma >= 60:  # as the eclipses report: said where ΔT's uncertainty reaches a minute
+        line(f"ΔT (UT to the sky's TT) is uncertain by up to ± {sigma:,.0f} s "
+             f"({sigma / 60:.1f} min, one standard error) in this span: each pointer's "
+             "'ΔT uncertainty' says how far that moves its true value")
     for note in result.notes:
         line(f"note: {note}", "yellow")
     for ph in phases:
