@@ -133,6 +133,8 @@ CASES: list[tuple[list[str], str]] = [
     (["play", T, "--years", "-1"], "years"),
     (["play", T, "--seed", "x"], "seed"),
     (["play", T, "--division", "nan"], "division"),
+    (["play", T, "--lever-mm", "0"], "positive number of mm"),
+    (["play", T, "--lever-mm", "1e6"], "at most 10000 mm"),
 ]
 
 

@@ -53,7 +53,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         f"{DEFAULT_END_SHAKE_MM:g})")
     parser.add_argument("--tilt-deg", type=_tilt, default=None, metavar="DEG",
                         help=f"tilt of an arbor in its pivots (default {DEFAULT_TILT_DEG:g})")
-    parser.add_argument("--lever-mm", type=support.positive("lever", 10_000), default=None,
+    parser.add_argument("--lever-mm", type=support.positive("mm", 10_000), default=None,
                         metavar="MM", help="distance from a pivot to the wheels it tilts "
                         f"(default {LEVER_MM:g})")
     parser.add_argument("--form", type=support.word, choices=TOOTH_FORMS, default=None,
