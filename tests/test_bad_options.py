@@ -135,6 +135,14 @@ CASES: list[tuple[list[str], str]] = [
     (["play", T, "--division", "nan"], "division"),
     (["play", T, "--lever-mm", "0"], "positive number of mm"),
     (["play", T, "--lever-mm", "1e6"], "at most 10000 mm"),
+    # an empty name to write to (an unset shell variable: --out "$DIR") names the current
+    # folder: refused, never written there or passed over in silence
+    (["cut", T, "--out", ""], "an empty name"),
+    (["cut", T, "--out", " "], "an empty name"),
+    (["search", "--ratio", "1/12", "--stages", "1", "--emit", ""], "an empty name"),
+    (["drift", DISC, "--years", "1", "--csv", ""], "an empty name"),
+    (["drift", DISC, "--years", "1", "--png", ""], "an empty name"),
+    (["eclipses", T, "--years", "1", "--csv", ""], "an empty name"),
 ]
 
 

@@ -22,6 +22,7 @@ FORMATS = ("svg", "dxf")
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
     parser.add_argument("--out", required=True, metavar="FOLDER",
+                        type=support.out_name("folder to write into"),
                         help="folder to write into (made if missing)")
     parser.add_argument("--form", type=support.word, choices=TOOTH_FORMS, default=None,
                         help="tooth form for wheels that do not choose their own (default: "

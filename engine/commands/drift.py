@@ -52,6 +52,7 @@ def _step(text: str) -> str:
 
 
 def _chart_name(text: str) -> str:
+    support.out_name("chart file to write")(text)
     if Path(text).suffix.lower() not in CHART_FORMATS:
         raise argparse.ArgumentTypeError(
             f"{text}: a chart file's name must end in .png, .svg or .pdf")
@@ -82,7 +83,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                      "centre")
     support.add_ephemeris(cmp_)
     out = parser.add_argument_group("output")
-    out.add_argument("--csv", metavar="FILE",
+    out.add_argument("--csv", metavar="FILE", type=support.out_name("file to write"),
                      help="write every date: date, jd, and each pointer's train/sky/error")
     out.add_argument("--png", metavar="FILE", type=_chart_name,
                      help="draw each pointer's error against date; the name must end in "

@@ -44,7 +44,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out.add_argument("--all", action="store_true",
                      help="list every new and full moon, not only those with an eclipse "
                           "predicted or real")
-    out.add_argument("--csv", metavar="FILE", help="write every new and full moon of the span")
+    out.add_argument("--csv", metavar="FILE", type=support.out_name("file to write"),
+                     help="write every new and full moon of the span")
     out.add_argument("--json", action="store_true", help="print JSON only")
     support.add_force(out)
 

@@ -114,7 +114,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out.add_argument("--top", type=support.whole("the number of trains", 1, MAX_TOP), default=10,
                      metavar="N", help=f"how many trains to list, 1-{MAX_TOP} (default 10)")
     out.add_argument("--json", action="store_true", help="print machine-readable JSON only")
-    out.add_argument("--emit", metavar="FILE", help="write the chosen train as a TOML fragment")
+    out.add_argument("--emit", metavar="FILE", type=support.out_name("file to write"),
+                     help="write the chosen train as a TOML fragment")
     out.add_argument("--pick", type=support.whole("the result to write", 1, MAX_TOP), default=1,
                      metavar="K",
                      help="which result --emit writes (default 1, the best)")

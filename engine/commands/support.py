@@ -162,6 +162,17 @@ def word(text: str) -> str:
     return text.strip().lower()
 
 
+def out_name(what: str):
+    """An argparse type for a name to write to (a file or folder): any text but an empty
+    one, which would name the current folder (an unset shell variable, ``--out "$DIR"``)."""
+    def check(text: str) -> str:
+        if not text.strip():
+            raise argparse.ArgumentTypeError(f"an empty name; give the {what}")
+        return text
+    check.__name__ = what
+    return check
+
+
 def site(text: str) -> str:
     """``LAT,LON[,HEIGHT_M]`` or with compass letters (``51.48N 0.01W``), checked; the text is
     passed on (``engine.sites.parse_site`` reads it)."""
