@@ -449,8 +449,11 @@ def to_dxf(part: Part) -> str:
     doc = ezdxf.new("R2010", setup=False)
     doc.units = units.MM
     doc.header["$MEASUREMENT"] = 1
+    # the pitch circles dashed as in the SVG: 1 mm dashes, 0.6 mm gaps (pattern length first)
+    doc.linetypes.add("DASHED", pattern=[1.6, 1.0, -0.6], description="dashed __ __ __")
     for layer, (_, aci, what) in LAYERS.items():
-        lay = doc.layers.add(layer, color=aci)
+        lay = doc.layers.add(layer, color=aci, linetype="DASHED" if layer == "PITCH" else
+                             "Continuous")
         lay.description = what
     msp = doc.modelspace()
     for layer, p in part.polylines:

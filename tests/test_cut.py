@@ -77,6 +77,25 @@ def test_dxf_read_back_teeth_tip_root_pitch(tmp_path, form):
         assert np.allclose(widths, expect, atol=2 * UM)
 
 
+def test_dxf_layers_as_the_docs_table_gives_them(tmp_path):
+    # docs/workshop.md: CUT red, PITCH blue and dashed (as the SVG draws it), MARK green;
+    # every entity takes its layer's colour and line type
+    out = _cut(tmp_path, SMALL)
+    for path in [*out.glob("wheel-*.dxf"), out / "plate-frame.dxf", out / "sheet.dxf"]:
+        doc = ezdxf.readfile(path)
+        layers = {la.dxf.name: la for la in doc.layers}
+        assert {n: layers[n].dxf.color for n in ("CUT", "PITCH", "MARK")} == {
+            "CUT": 1, "PITCH": 5, "MARK": 3}  # AutoCAD colour index: red, blue, green
+        assert layers["CUT"].dxf.linetype == "Continuous"
+        dashed = doc.linetypes.get(layers["PITCH"].dxf.linetype)
+        assert dashed.pattern_tags.compile() == pytest.approx((1.0, 0.6))  # dash, gap in mm
+        assert (out / path.name.replace(".dxf", ".svg")).read_text().count(
+            'id="PITCH" fill="none" stroke="#1f5fbf" stroke-width="0.08" '
+            'stroke-dasharray="1 0.6"') == 1
+        for e in doc.modelspace():
+            assert e.dxf.get("linetype", "BYLAYER") == "BYLAYER"
+
+
 def test_dxf_involute_flank_points_within_a_micrometre(tmp_path):
     out = _cut(tmp_path, SMALL, "--form", "involute")
     train = load_train(SMALL)
