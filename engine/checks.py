@@ -20,6 +20,7 @@ from fractions import Fraction
 import numpy as np
 
 from .defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY  # with their sources
+from .figures import figure
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
 from .periods import PERIODS
@@ -227,7 +228,7 @@ def slot_speed_factors(pin_radius_mm: float, offset_mm: float) -> tuple[float, f
 
 
 def _fmt(x: float) -> str:
-    return f"{x:.3g}" if abs(x) < 1000 else f"{x:,.0f}"
+    return figure(x, 3)
 
 
 def _mm(x: float) -> str:
@@ -427,7 +428,8 @@ def _pin_slots(train: Train, pin_d: float, findings: list[Finding],
             f"{other_d}"))
         findings.append(Finding(
             "note", item, f"'{ps.slot_arbor}' leads or lags '{ps.followed_arbor}' by up to "
-            f"{c.max_lead_deg:.3g}° and turns between {lo:.4g} and {hi:.4g} times its speed "
+            f"{figure(c.max_lead_deg, 3)}° and turns between {figure(lo, 4)} and "
+            f"{figure(hi, 4)} times its speed "
             "(relative to their mount); every arbor it drives varies the same way", tune))
         if c.slot_inner_mm <= 0:
             findings.append(Finding(
@@ -543,10 +545,10 @@ def _wheel_modules(train: Train, findings: list[Finding]) -> dict[str, float]:
             if w in modules and abs(modules[w][0] - m.module_mm) > 1e-9:
                 first, at = modules[w]
                 findings.append(Finding(
-                    "error", m.label, f"wheel '{w}' is cut at module {first:g} mm for mesh "
-                    f"{at} but meshes here at module {m.module_mm:g} mm: one wheel has one "
-                    "module", f"make this mesh's module_mm {first:g}, or give the two meshes "
-                    "separate wheels"))
+                    "error", m.label, f"wheel '{w}' is cut at module {figure(first, 6)} mm "
+                    f"for mesh {at} but meshes here at module {figure(m.module_mm, 6)} mm: one "
+                    "wheel has one module", f"make this mesh's module_mm {figure(first, 6)}, or "
+                    "give the two meshes separate wheels"))
             else:
                 modules.setdefault(w, (m.module_mm, m.index))
     return {w: v[0] for w, v in modules.items()}
@@ -642,7 +644,7 @@ def _triangles(train: Train, groups, first: dict, findings: list[Finding]) -> No
 def _distance_fix(train: Train, obj, want_mm: float) -> str:
     """What to change in a mesh (or pin offset) to make its centre distance ``want_mm``."""
     if not hasattr(obj, "module_mm"):
-        return f"set offset_mm to {want_mm:g}, or change the meshes to suit this offset"
+        return f"set offset_mm to {figure(want_mm, 6)}, or change the meshes to suit this offset"
     m = obj
     w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
     need = 2.0 * want_mm / m.module_mm
@@ -660,7 +662,7 @@ def _distance_fix(train: Train, obj, want_mm: float) -> str:
                 fixes.append(f"make '{w2.name}' {z} teeth (tooth sum {s})")
     span = abs(w1.teeth - w2.teeth) if m.internal else w1.teeth + w2.teeth
     fixes.append(f"{'or ' if fixes else ''}cut this mesh at module "
-                 f"{2.0 * want_mm / span:.4g} mm, which keeps the ratio")
+                 f"{figure(2.0 * want_mm / span, 4)} mm, which keeps the ratio")
     return ", ".join(fixes) + (" (a tooth change alters the ratio: check it with ratios)"
                                if len(fixes) > 1 else "")
 
@@ -725,8 +727,8 @@ def _positions(train: Train, groups, modules, findings: list[Finding], forms: di
             if abs(dist - ps.offset_mm) > TOLERANCE_MM:
                 findings.append(Finding(
                     "error", f"[pin_slots.{ps.name}]", f"the axes are placed {_mm(dist)} apart "
-                    f"but offset_mm is {ps.offset_mm:g}", "make offset_mm match the positions, "
-                    "or move the slot arbor"))
+                    f"but offset_mm is {figure(ps.offset_mm, 6)}", "make offset_mm match the "
+                    "positions, or move the slot arbor"))
     _overlaps(train, groups, modules, pos, findings, tips)
     _fixed_overlaps(train, groups, modules, pos, findings, tips)
 
@@ -848,9 +850,9 @@ def _tooth_forms(train: Train, findings: list[Finding]) -> dict:
         bore = shop.wheel(w).bore_mm or shop.bore_mm
         if bore is not None and tooth.role != "ring" and bore / 2 >= tooth.root_radius_mm:
             findings.append(Finding(
-                "error", f"wheel '{w}'", f"a bore of {bore:g} mm is wider than the root circle "
-                f"({2 * tooth.root_radius_mm:.3f} mm): wheelwork cut cannot draw it",
-                f"give it a bore_mm under {2 * tooth.root_radius_mm:.3g} mm in "
+                "error", f"wheel '{w}'", f"a bore of {figure(bore, 6)} mm is wider than the "
+                f"root circle ({2 * tooth.root_radius_mm:.3f} mm): wheelwork cut cannot draw it",
+                f"give it a bore_mm under {figure(2 * tooth.root_radius_mm, 3)} mm in "
                 f"[workshop.wheels.{w}], or cut its leaves on the arbor"))
     return forms
 
@@ -886,7 +888,7 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
         if MIN_LEAVES <= z < UNDERCUT_RULE_TEETH and w not in rings and form == "involute":
             x = undercut_shift(z)
             mod = modules.get(w)
-            shift = f" ({x * mod:.3g} mm at module {mod:g})" if mod else ""
+            shift = f" ({figure(x * mod, 3)} mm at module {figure(mod, 6)})" if mod else ""
             findings.append(Finding(
                 "note", item, f"{z} teeth: involute teeth at {PRESSURE_ANGLE_DEG:g}° are "
                 f"undercut below {UNDERCUT_RULE_TEETH} (z_min = 2/sin²α ≈ "
@@ -904,11 +906,11 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
             if d > FINE_WHEEL_MAX_PITCH_MM:
                 zmax = math.floor(FINE_WHEEL_MAX_PITCH_MM / mod)
                 findings.append(Finding(
-                    "warning", item, f"{_mm(d)} across at module {mod:g}: a fine-toothed wheel "
-                    f"over {FINE_WHEEL_MAX_PITCH_MM:g} mm must be very flat and true to keep "
-                    "its shallow teeth in mesh (our rule)", f"use module "
+                    "warning", item, f"{_mm(d)} across at module {figure(mod, 6)}: a "
+                    f"fine-toothed wheel over {FINE_WHEEL_MAX_PITCH_MM:g} mm must be very flat "
+                    "and true to keep its shallow teeth in mesh (our rule)", f"use module "
                     f"{FINE_MODULE_MM * 1.2:g} mm or more, or keep it to {zmax} teeth at "
-                    f"module {mod:g}"))
+                    f"module {figure(mod, 6)}"))
 
 
 def _split_hint(z: int) -> str:
@@ -932,6 +934,7 @@ def _load_rules(report: CheckReport, findings: list[Finding]) -> None:
     findings.append(Finding(
         "note", worst.label, f"the heaviest-loaded teeth in the train: about "
         f"{_fmt(worst.tooth_force_n)} N on the teeth of '{up}' ({teeth}) per N·m at the crank, "
-        f"at module {worst.module_mm:g} mm — {_fmt(worst.load_index / least.load_index)} times "
-        f"the lightest stage (estimate)", "give this stage the largest module or the widest "
-        "faces, and size it by gear rating if it bears load"))
+        f"at module {figure(worst.module_mm, 6)} mm; its load index (force / module², faces "
+        f"taken as proportional to the module) is {_fmt(worst.load_index / least.load_index)} "
+        f"times the lightest stage's (estimate)", "give this stage the largest module or the "
+        "widest faces, and size it by gear rating if it bears load"))

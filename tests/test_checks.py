@@ -285,6 +285,29 @@ def test_step_up_flags():
     assert "36 times" in fast.message
 
 
+def test_heaviest_stage_figure_is_the_load_index_and_says_so():
+    # A motor stepping down in two stages: 10 -> 60 at module 0.5, then 10 -> 60 at 0.4.
+    # By hand (F = 2 T / d; an arbor's torque is the crank's times the speed ratio's inverse
+    # and the efficiency of each stage, common practice, no source): mesh 1, 1 N·m on
+    # d = 5 mm: 400 N; mesh 2, 6 · 0.98 N·m on d = 4 mm: 2,940 N. Load index F / m²: 1,600
+    # and 18,375, so the index is 11.5 times the first stage's while the force is 7.35 times:
+    # the figure must say which it is.
+    text = header("motor") + (
+        '[arbors.motor]\nwheels = { mp = 10 }\n[arbors.mid]\nwheels = { mw = 60, np = 10 }\n'
+        '[arbors.slow]\nwheels = { sw = 60 }\n'
+        '[[meshes]]\nwheels = ["mp", "mw"]\nmodule_mm = 0.5\n'
+        '[[meshes]]\nwheels = ["np", "sw"]\nmodule_mm = 0.4\n'
+        '[pointers.year]\nshows = "sun"\narbor = "slow"\nset_deg = 0\n')
+    train = parse_train(text, "t.toml")
+    report = check(train, solve(train))
+    f1, f2 = (m.tooth_force_n for m in report.meshes)
+    assert f1 == pytest.approx(400, rel=REL) and f2 == pytest.approx(2940, rel=REL)
+    (note,) = [f for f in report.findings if "heaviest-loaded" in f.message]
+    assert "2,940 N" in note.message and "module 0.4 mm" in note.message
+    assert "load index (force / module²" in note.message
+    assert "is 11.5 times the lightest stage's" in note.message  # 18,375 / 1,600
+
+
 # --- rules of thumb ------------------------------------------------------------------------
 
 def test_small_pinion_rule():

@@ -460,6 +460,24 @@ def test_command_tables_carry_no_e_notation(capsys):
         assert not e_notation.search(out), (argv, e_notation.search(out))
 
 
+def test_check_heading_and_mesh_columns_carry_no_e_notation(capsys, tmp_path):
+    """A slow clock motor (--crank-rpm 0.000001) and a module typed far too small once gave
+    '1e-06 rpm' in the heading and '1e-05', '0.00012' ... '1.2e-04' in the m and d columns."""
+    import re
+
+    from engine.cli import main
+
+    hall = Path(__file__).resolve().parent / "trains" / "workshop_small.toml"
+    tiny = tmp_path / "tiny.toml"
+    tiny.write_text(hall.read_text().replace("module_mm = 0.5", "module_mm = 0.00001"))
+    assert main(["check", str(tiny), "--crank-rpm", "0.000001", "--efficiency", "0.975"]) == 0
+    out = capsys.readouterr().out
+    assert not re.search(r"\de[+-]\d", out), re.search(r"\de[+-]\d", out)
+    words = " ".join(out.split())  # the heading wraps at the console's width
+    assert "at up to 0.000001 rpm" in words and "0.975 per stage" in words
+    assert " 0.00001 " in out  # the module as given
+
+
 def test_json_to_a_file_is_written_straight_and_is_riches_text():
     # --json to a file or pipe skips rich's pretty-printer (seconds on a long run's document)
     # and must write the very text it wrote: two-space indent, characters as they are

@@ -100,8 +100,9 @@ def _print(report: CheckReport, console: Console) -> None:
     from ..exact import ratio_text
 
     console.print(Text.assemble((report.train, "bold"), f" — mechanical check at up to "
-                                f"{report.crank_rpm:g} rpm on '{report.crank_arbor}', "
-                                f"{report.efficiency:g} per stage"))
+                                f"{support.figure(report.crank_rpm, 6)} rpm on "
+                                f"'{report.crank_arbor}', "
+                                f"{support.figure(report.efficiency, 6)} per stage"))
     # Every column, always: when the table is wider than the console it is split in narrower
     # tables (or, failing that, becomes a list).
     meshes = support.plain_table(
@@ -116,9 +117,10 @@ def _print(report: CheckReport, console: Console) -> None:
         meshes.add_column(col, justify=just, no_wrap=col != "held by", overflow="fold")
     for m in report.meshes:
         kind = " int" if m.internal else ""
-        d = "—" if m.driver_pitch_mm is None else f"{m.driver_pitch_mm:g}\n{m.driven_pitch_mm:g}"
+        d = "—" if m.driver_pitch_mm is None else \
+            f"{_opt(m.driver_pitch_mm, 6)}\n{_opt(m.driven_pitch_mm, 6)}"
         row = [str(m.index), f"{m.driver}\n{m.driven}{kind}",
-               f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, "g"), d,
+               f"{m.driver_teeth}\n{m.driven_teeth}", _opt(m.module_mm, 6), d,
                _opt(m.centre_mm, 4), m.reference,
                ratio_text(m.ratio) + (" up" if m.step_up else ""),
                _opt(m.pitch_speed_m_s), _num(m.tooth_force_n)]
