@@ -59,6 +59,9 @@ MIN_WALL_MODULES = 1.0
 TEXT_MM = 2.5
 GAP_MM = 4.0
 PLATE_MARGIN_MM = 6.0
+"""Plate beyond its outermost pivot holes."""
+PLATE_CLEAR_MM = 2.0
+"""Plate beyond the tips of the wheels it carries (so the plate covers the wheelwork)."""
 
 CAVEAT = ("These drawings are design estimates from ideal geometry: check the first parts "
           "against the drawing and the mating wheel before cutting a set, and follow proper "
@@ -278,16 +281,29 @@ def _label(part: Part, text: str, below: float) -> None:
 
 # --- plates -----------------------------------------------------------------------------------
 
-def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str) -> Part:
-    """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles."""
+def _on_plate(train: Train, plate: Plate, hole) -> list[str]:
+    """The wheels turning over this plate at a hole: on arbors it mounts, or on the carrier."""
+    return [w for a in hole.arbors for w in train.arbors[a].wheels
+            if train.arbors[a].mount == plate.mount or a == plate.mount]
+
+
+def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
+               reach: dict[str, float] | None = None) -> Part:
+    """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles. Its
+    outline is a rounded rectangle covering every hole by ``PLATE_MARGIN_MM`` and the wheels
+    over it (their ``reach``, the tip radius, else the pitch radius) by ``PLATE_CLEAR_MM``."""
     pivot = train.workshop.pivot_mm
     what = "the frame" if plate.mount == FRAME else f"carrier '{plate.mount}'"
     title = f"plate of {what}: {len(plate.holes)} holes, pivots {pivot:g} mm"
     part = Part(stem, title, "plate")
-    xs = [h.x_mm for h in plate.holes.values()]
-    ys = [h.y_mm for h in plate.holes.values()]
-    x0, x1 = min(xs) - PLATE_MARGIN_MM, max(xs) + PLATE_MARGIN_MM
-    y0, y1 = min(ys) - PLATE_MARGIN_MM, max(ys) + PLATE_MARGIN_MM
+    boxes = [(h.x_mm, h.y_mm, PLATE_MARGIN_MM) for h in plate.holes.values()]
+    for h in plate.holes.values():
+        for w in _on_plate(train, plate, h):
+            r = (reach or {}).get(w, pitch.get(w))
+            if r is not None:
+                boxes.append((h.x_mm, h.y_mm, r + PLATE_CLEAR_MM))
+    x0, x1 = min(x - r for x, _, r in boxes), max(x + r for x, _, r in boxes)
+    y0, y1 = min(y - r for _, y, r in boxes), max(y + r for _, y, r in boxes)
     part.polylines.append(("CUT", _rounded_rect(x0, y0, x1, y1, 3.0)))
     for h in plate.holes.values():
         part.circles.append(("CUT", h.x_mm, h.y_mm, pivot / 2))
@@ -295,10 +311,9 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str) -
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
         part.texts.append((h.x_mm + pivot, h.y_mm + pivot, TEXT_MM * 0.8, h.axis))
-        for a in h.arbors:
-            for w in train.arbors[a].wheels:
-                if w in pitch and (train.arbors[a].mount == plate.mount or a == plate.mount):
-                    part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
+        for w in _on_plate(train, plate, h):
+            if w in pitch:
+                part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
     for t in plate.ties:
         a, b = plate.holes[t.axis1], plate.holes[t.axis2]
         part.lines.append(("MARK", np.array([[a.x_mm, a.y_mm], [b.x_mm, b.y_mm]])))
@@ -354,7 +369,7 @@ def cut_parts(train: Train, kin: Kinematics, form: str | None = None) -> CutSet:
     plates = place_plates(train, kin, reach)
     pitch = {w: t.pitch_radius_mm for w, t in forms.items()}
     for p in plates:
-        parts.append(plate_part(train, p, pitch, _unique(f"plate-{slug(p.name)}", used)))
+        parts.append(plate_part(train, p, pitch, _unique(f"plate-{slug(p.name)}", used), reach))
     return CutSet(train.name, train.source, parts, plates)
 
 

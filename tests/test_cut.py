@@ -354,6 +354,33 @@ def test_every_demo_train_gets_a_plate():
     assert any("drilled at" in n for n in frame.notes)
 
 
+def test_a_plate_covers_the_wheels_it_carries():
+    """A plate's outline holds every wheel over it to its tips, with room to spare: it was the
+    holes' box plus 6 mm, so a hall clock's 97- and 101-tooth wheels hung 25 mm past its
+    edges, and the tide office's (every demo, and a carrier's own plate, checked)."""
+    seen = 0
+    for path in sorted((HERE.parent / "engine" / "trains").glob("*.toml")):
+        train = load_train(path)
+        forms = tooth_forms(train)
+        for part in (p for p in cut_parts(train, solve(train)).parts if p.kind == "plate"):
+            (outline,) = [xy for layer, xy in part.polylines if layer == "CUT"]
+            (x0, y0), (x1, y1) = outline.min(axis=0), outline.max(axis=0)
+            for hole in part.info["holes"]:
+                x, y = hole["x_mm"], hole["y_mm"]
+                assert x0 + 6 <= x + 1e-9 <= x1 - 6 + 2e-9 and y0 + 6 <= y + 1e-9 <= y1 - 6 + 2e-9
+                for a in hole["arbors"]:
+                    arbor = train.arbors[a]
+                    if arbor.mount != part.info["mount"] and a != part.info["mount"]:
+                        continue  # turning on another plate
+                    for w in arbor.wheels:
+                        if w in forms and forms[w].role != "ring":
+                            tip = forms[w].tip_radius_mm
+                            assert x0 + 2 - 1e-6 <= x - tip and x + tip <= x1 - 2 + 1e-6, w
+                            assert y0 + 2 - 1e-6 <= y - tip and y + tip <= y1 - 2 + 1e-6, w
+                            seen += 1
+    assert seen > 50  # every demo's wheels with a module
+
+
 def test_a_plate_whose_axes_no_module_ties_says_they_were_placed_apart():
     # the planet dial's frame meshes give no module: its frame axes are spaced by rule, not
     # by any centre distance, and the plate must say so rather than look measured
