@@ -310,7 +310,8 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         c = max(pivot, 2.0)
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
-        part.texts.append((h.x_mm + pivot, h.y_mm + pivot, TEXT_MM * 0.8, h.axis))
+        part.texts.append((*_hole_label_at(h.x_mm, h.y_mm, pivot, h.axis, part.texts),
+                           TEXT_MM * 0.8, h.axis))
         for w in _on_plate(train, plate, h):
             if w in pitch:
                 part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
@@ -328,6 +329,25 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     part.notes.extend(plate.notes)
     _label_at(part, title, (x0 + x1) / 2, y0)
     return part
+
+
+def _hole_label_at(x: float, y: float, pivot: float, text: str,
+                   placed: list) -> tuple[float, float]:
+    """Where a hole's name goes: above right of the hole, else below right, above left or
+    below left, else stepped down below it — the first place clear of the names already
+    placed (two holes a millimetre apart, a pin-and-slot's, wrote their names over each
+    other)."""
+    h = TEXT_MM * 0.8
+    w = _text_width(text, h)
+
+    def clear(tx, ty):
+        return all(tx + w <= px or px + _text_width(pt, ph) <= tx or ty + h <= py
+                   or py + ph <= ty for px, py, ph, pt in placed)
+
+    spots = [(x + pivot, y + pivot), (x + pivot, y - pivot - h), (x - pivot - w, y + pivot),
+             (x - pivot - w, y - pivot - h)]
+    spots += [(x + pivot, y - pivot - h * (1.2 * k + 1)) for k in range(1, 40)]
+    return next((s for s in spots if clear(*s)), spots[0])
 
 
 def _label_at(part: Part, text: str, x: float, y: float) -> None:

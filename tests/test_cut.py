@@ -381,6 +381,25 @@ def test_a_plate_covers_the_wheels_it_carries():
     assert seen > 50  # every demo's wheels with a module
 
 
+def test_hole_names_on_a_plate_never_overlap():
+    """The tide office's carrier plate has its pin and slot arbors 0.985 mm apart: their names
+    were written over each other ('slot_arbor' on 'pin_arbor'); every demo's plates checked,
+    each name's box (0.62 of the height a character) clear of every other."""
+    from engine.drawing import _text_width
+
+    for path in sorted((HERE.parent / "engine" / "trains").glob("*.toml")):
+        train = load_train(path)
+        for part in (p for p in cut_parts(train, solve(train)).parts if p.kind == "plate"):
+            names = {h["axis"] for h in part.info["holes"]}
+            boxes = [(x, y, x + _text_width(t, h), y + h) for x, y, h, t in part.texts
+                     if t in names]
+            assert len(boxes) == len(names)
+            for i, a in enumerate(boxes):
+                for b in boxes[i + 1:]:
+                    assert a[2] <= b[0] or b[2] <= a[0] or a[3] <= b[1] or b[3] <= a[1], \
+                        (path.name, part.name)
+
+
 def test_a_plate_whose_axes_no_module_ties_says_they_were_placed_apart():
     # the planet dial's frame meshes give no module: its frame axes are spaced by rule, not
     # by any centre distance, and the plate must say so rather than look measured
