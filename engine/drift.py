@@ -635,14 +635,19 @@ def step_note(name: str, step: float, motions) -> str | None:
     what, period = min(motions, key=lambda m: m[1], default=("", math.inf))
     if not step > period / 2:
         return None
-    return (f"pointer '{name}': a step of {_days_text(step)} cannot follow the sky's {what}, "
+    what = what if what.startswith("the ") else f"the sky's {what}"  # not "the sky's the …"
+    return (f"pointer '{name}': a step of {_days_text(step)} cannot follow {what}, "
             f"every {_days_text(period)}; the errors between the dates are not seen and no swing is "
             f"sought: use a step under {_days_text(period / 2)}")
 
 
 def _days_text(days: float) -> str:
+    """``365.2 days``, ``1 day``, ``12.4 hours``, ``59 seconds``: the unit that suits it."""
     if days < 1:
-        return f"{days * 24:.3g} hours"
+        size, unit = ((1 / 24, "hour") if days >= 1 / 24 else
+                      (1 / 1440, "minute") if days >= 1 / 1440 else (1 / 86400, "second"))
+        text = f"{days / size:.3g}"
+        return f"{text} {unit}" + ("" if text == "1" else "s")
     text = f"{days:.4g}"
     return f"{text} day" if text == "1" else f"{text} days"
 

@@ -775,6 +775,25 @@ def test_yearly_steps_on_a_sun_hand_come_with_a_warning(sky, capsys):
     assert "note: pointer 'sun': a step of" in out and "cannot follow" in out
 
 
+def test_step_note_reads_for_a_fast_crank():
+    """A hall clock's work cranked once a second (days_per_turn = "1/86400") drifted at 10-day
+    steps: the note read 'cannot follow the sky's the pointer's own turning, every 0.0164
+    hours … use a step under 0.0082 hours'; it names the motion once, in a unit that suits."""
+    from engine.drift import step_note
+
+    note = step_note("moon_disc", 10.0, [("equation of centre", 27.55),
+                                         ("the pointer's own turning", 59 / 86400)])
+    assert "cannot follow the pointer's own turning, every 59 seconds" in note
+    assert note.endswith("use a step under 29.5 seconds") and "sky's the" not in note
+    note = step_note("sun", 400.0, [("equation of centre", 365.26)])
+    assert "cannot follow the sky's equation of centre, every 365.3 days" in note
+    note = step_note("sun", 400.0, [("equation of centre", 365.26),
+                                    ("the sun's mean motion", 365.2422)])
+    assert "cannot follow the sun's mean motion, every 365.2 days" in note
+    assert step_note("p", 1.0, [("the pointer's own turning", 0.5 / 24)]).endswith(
+        "use a step under 15 minutes")
+
+
 def test_daily_steps_seen_from_a_site_say_they_miss_the_moons_daily_parallax(sky):
     """Seen from a place, the Moon's parallax (about a degree) swings its longitude once a
     lunar day; at one-day steps every date falls at nearly the same hour, so the swing is
