@@ -7,7 +7,7 @@ from collections import deque
 from dataclasses import asdict, dataclass, field, replace
 from fractions import Fraction
 
-from .kinds import KINDS, days_rate
+from .kinds import KINDS
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
 from .periods import J2000_JD, JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
@@ -97,7 +97,9 @@ class PointerRatio:
     target_source: str
     period_error_ppm: float  # (realised period / mean period - 1) * 1e6: + too long, falls behind
     drift_deg_per_century: float  # pointer minus sky, mean rate
-    years_to_one_day: float | None  # phase pointers: when the display is a day out
+    # years until the pointer stands a day of its own mean motion off the mean sky (a phase
+    # disc shows the day before's phase, a year hand the day before's date); None: no ratio
+    years_to_one_day: float | None
     direction_ok: bool
     teeth: tuple[ToothNote, ...] = field(default=())
     route: str = ""  # when there are no stages: why (the crank arbor itself, no mesh path...)
@@ -264,7 +266,7 @@ def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,
         train_deg_per_day = float(ratio / dpt) * 360.0
         err_ppm = (period - target_days) / target_days * 1e6 if ratio else float("inf")
         years = None
-        if days_rate(p.shows) and ratio:
+        if ratio:  # a day of its own mean motion, as wheelwork search gives it for any target
             gain = abs(target_days / period - 1.0)
             years = (1.0 / gain / JULIAN_YEAR_DAYS) if gain else float("inf")
         wheels_seen: dict[str, ToothNote] = {}

@@ -8,7 +8,7 @@ import pytest
 
 from engine.cli import main
 from engine.kinematics import solve
-from engine.loader import load_train
+from engine.loader import load_train, parse_train
 from engine.ratios import factor_text, pointer_ratios
 
 TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
@@ -131,6 +131,55 @@ def test_sympy_stays_off_the_import_path(code):
                          timeout=300)
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip().splitlines()[-1] == "[]", out
+
+
+def test_a_year_hand_is_told_when_its_calendar_is_a_day_out(capsys):
+    """A calendar hand turning once a tropical year shows the wrong date when it stands a day
+    of its own motion off: ratios left that cell empty for every pointer but phase and cycle
+    dials, while wheelwork search gives the same figure for the same target (the hall clock's
+    year train 8/88 x 10/89 x 13/97 on a 12-hour crank: 8,468 y in search); the tide office's
+    Sun hand, -0.021 ppm, is a day out in 1 / 0.021e-6 days, about 130,000 years."""
+    r = report("tide_office.toml")["sun"]
+    gain = abs(r.target_days / r.period_days - 1)
+    assert r.years_to_one_day == pytest.approx(1 / gain / 365.25, rel=1e-12)
+    assert 120_000 < r.years_to_one_day < 140_000
+    assert main(["search", "--cycle", "tropical year", "--crank-days", "1/2", "--stages", "3",
+                 "--pinions", "8-24", "--wheels", "30-144", "--top", "1", "--json"]) == 0
+    best = json.loads(capsys.readouterr().out)["results"][0]
+    assert best["stages"] == [[8, 88], [10, 89], [13, 97]]
+    train = parse_train(HALL_YEAR)
+    (row,) = pointer_ratios(train, solve(train))
+    assert row.years_to_one_day == pytest.approx(best["one_day_off_years"], rel=1e-9)
+    assert main(["ratios", "moon_disc_59"]) == 0
+    assert "1 day off: years until it stands a day of its own motion off" in \
+        " ".join(capsys.readouterr().out.split())
+
+
+HALL_YEAR = """
+[crank]
+arbor = "hour"
+days_per_turn = "1/2"
+[epoch]
+date = "2026-01-01"
+[arbors.hour]
+wheels = { p1 = 8 }
+[arbors.a1]
+wheels = { w1 = 88, p2 = 10 }
+[arbors.a2]
+wheels = { w2 = 89, p3 = 13 }
+[arbors.year]
+wheels = { w3 = 97 }
+[[meshes]]
+wheels = ["p1", "w1"]
+[[meshes]]
+wheels = ["p2", "w2"]
+[[meshes]]
+wheels = ["p3", "w3"]
+[pointers.year_hand]
+shows = "sun"
+arbor = "year"
+reversed = true
+"""
 
 
 def test_one_day_off_within_weeks_is_given_in_days(tmp_path, capsys):

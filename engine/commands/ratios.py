@@ -59,7 +59,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
         header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False,
         caption="period ppm: (realised period / mean period - 1) × 10⁶, + too long (the "
         "pointer falls behind), − too short; °/century: the pointer's drift against the mean "
-        "motion")
+        "motion; 1 day off: years until it stands a day of its own motion off (a phase disc "
+        "shows the day before's phase, a year hand the day before's date)")
     for col, just in (("pointer", "left"), ("period (d)", "right"), ("mean (d)", "right"),
                       ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
