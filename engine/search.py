@@ -33,6 +33,7 @@ import numpy as np
 from .defaults import SEARCH_MAX_TEETH, SEARCH_MAX_TOP
 from .errors import SearchCancelled, SearchError
 from .exact import fraction_text, parse_fraction
+from .figures import figure
 from .kinds import FRAMES, KINDS
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, MeanPeriod, find_period
 
@@ -302,9 +303,10 @@ def check_reachable(target: Target, constraints: Constraints) -> None:
     k = max(constraints.stages)
     crank = target.crank_days
     reach_text = (f"{k} stage{'s' if k != 1 else ''} of these counts reach "
-                  f"{float(lo):.4g} to {float(hi):.4g} turns per crank turn "
-                  f"({float(crank / hi):.4g} to {float(crank / lo):.4g} days per output turn "
-                  f"with the crank at {fraction_text(crank)} day{'' if crank == 1 else 's'} per turn)")
+                  f"{figure(float(lo), 4)} to {figure(float(hi), 4)} turns per crank turn "
+                  f"({figure(float(crank / hi), 4)} to {figure(float(crank / lo), 4)} days per "
+                  f"output turn with the crank at {fraction_text(crank)} "
+                  f"day{'' if crank == 1 else 's'} per turn)")
     counts = len(set(drv) | set(dvn))
     if (need is not None and need > k and constraints.no_repeat and 2 * need > counts
             and need <= MAX_STAGES):
@@ -315,8 +317,8 @@ def check_reachable(target: Target, constraints: Constraints) -> None:
     else:
         mid = math.sqrt(float(lo) * float(hi))  # the middle of what the bounds reach
         fix = (f"turn the crank nearer the output's speed, e.g. --crank-days "
-               f"{float(target.crank_days / target.ratio) * mid:.4g}")
-    raise SearchError(f"the target, {float(r):.4g} turns per crank turn, is out of reach: "
+               f"{figure(float(target.crank_days / target.ratio) * mid, 4).replace(',', '')}")
+    raise SearchError(f"the target, {figure(float(r), 4)} turns per crank turn, is out of reach: "
                       f"{reach_text}; {fix}")
 
 

@@ -458,6 +458,19 @@ def test_command_tables_carry_no_e_notation(capsys):
         assert main(argv) == 0, argv
         out = capsys.readouterr().out
         assert not e_notation.search(out), (argv, e_notation.search(out))
+    # a clock cranked from its minute arbor (1/1440 day a turn): the search's target line
+    # ('2.35161055447e-05 turns per crank turn') and, at three stages, its refusal ('the
+    # target, 2.352e-05 turns …, 1.053e-07 to 4.578 days per output turn')
+    minute = ["search", "--cycle", "synodic month", "--crank-days", "1/1440"]
+    assert main([*minute, "--stages", "4", "--top", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "0.0000235161055447 turns per crank turn" in out and not e_notation.search(out)
+    assert main(minute) == 2
+    err = capsys.readouterr().err
+    assert "the target, 0.00002352 turns" in err and not e_notation.search(err), err
+    assert main(["search", "--period", "1e11", "--crank-days", "1e-9"]) == 2
+    err = capsys.readouterr().err
+    assert "--crank-days 100000000000" in err and not e_notation.search(err), err
 
 
 def test_check_heading_and_mesh_columns_carry_no_e_notation(capsys, tmp_path):

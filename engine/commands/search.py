@@ -223,8 +223,10 @@ def _print(report: SearchReport, console: Console) -> None:
 
     t = report.target
     days = fraction_text(t.crank_days)
-    console.print(f"[bold]target[/]: {escape(t.label)} — {float(t.ratio):.12g} turns per crank "
-                  f"turn, {t.period_days:.10g} days per turn (crank: {days} "
+    turns = support.figure(float(t.ratio), 12)
+    console.print(f"[bold]target[/]: {escape(t.label)} — {turns} turn{'' if turns == '1' else 's'} "
+                  f"per crank turn, {support.figure(float(t.period_days), 10)} days per turn "
+                  f"(crank: {days} "
                   f"day{'' if t.crank_days == 1 else 's'} per turn)")
     if t.cycle is not None and t.cycle.approximates:
         mean = PERIODS[t.cycle.approximates]
