@@ -443,7 +443,7 @@ def test_figure_is_plain_figures_never_e_notation():
         assert "e" not in figure(x), x
 
 
-def test_command_tables_carry_no_e_notation(capsys):
+def test_command_tables_carry_no_e_notation(capsys, tmp_path):
     """A crude convergent of a search (-29,787 ppm), a slow mesh's pitch-line speed (a node
     stage at 3.44e-05 m/s) once printed in e-notation beside plain figures."""
     import re
@@ -471,6 +471,17 @@ def test_command_tables_carry_no_e_notation(capsys):
     assert main(["search", "--period", "1e11", "--crank-days", "1e-9"]) == 2
     err = capsys.readouterr().err
     assert "--crank-days 100000000000" in err and not e_notation.search(err), err
+    # a train cranked once a second by slip: ratios' '1 day off' ('2.31e-05 d') and play's
+    # once-per-turn periods ('every 5.456e-05 days'); play's tolerances as given ('1e-07 mm')
+    fast = tmp_path / "fast.toml"
+    fast.write_text(hall.read_text().replace("days_per_turn = 1", 'days_per_turn = "1/86400"'))
+    for argv in (["ratios", str(fast)], ["play", str(fast), "--builds", "10", "--samples", "10"],
+                 ["play", str(hall), "--eccentricity-mm", "0.0000001", "--division",
+                  "0.0000001", "--builds", "10", "--samples", "10"]):
+        assert main(argv) == 0, argv
+        out = capsys.readouterr().out
+        assert not e_notation.search(out), (argv, e_notation.search(out))
+    assert main(["ratios", str(fast)]) == 0 and " d " in capsys.readouterr().out
 
 
 def test_check_heading_and_mesh_columns_carry_no_e_notation(capsys, tmp_path):

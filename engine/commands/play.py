@@ -135,8 +135,8 @@ def _days(d: float | None) -> str:
     if d is None:
         return "never (still in its mesh)"
     if d >= 3 * JULIAN_YEAR_DAYS:
-        return f"{d / JULIAN_YEAR_DAYS:.4g} years"
-    return f"{d:.4g} days"
+        return f"{support.figure(d / JULIAN_YEAR_DAYS, 4)} years"
+    return f"{support.figure(d, 4)} days"
 
 
 def _print(report: PlayReport, console: Console) -> None:
@@ -146,14 +146,18 @@ def _print(report: PlayReport, console: Console) -> None:
     from ..kinds import shows_text
 
     tol = report.tolerances
-    back = (f"{tol.backlash_mm:g} mm" if tol.backlash_mm is not None
+
+    def g(x: float) -> str:  # a tolerance as given, in plain figures (never 1e-07)
+        return support.figure(x, 6)
+
+    back = (f"{g(tol.backlash_mm)} mm" if tol.backlash_mm is not None
             else "what the tooth form leaves")
     console.print(f"[bold]{escape(report.train)}[/] — play and errors of hand-made wheels, read "
-                  f"over {report.years:g} years in {report.builds} builds × {report.samples} "
+                  f"over {g(report.years)} years in {report.builds} builds × {report.samples} "
                   f"times (seed {report.seed})")
-    console.print(f"tolerances: backlash {back}; division σ {tol.division:g} pitch; "
-                  f"eccentricity up to {tol.eccentricity_mm:g} mm; end-shake "
-                  f"{tol.end_shake_mm:g} mm; tilt {tol.tilt_deg:g}° at {tol.lever_mm:g} mm",
+    console.print(f"tolerances: backlash {back}; division σ {g(tol.division)} pitch; "
+                  f"eccentricity up to {g(tol.eccentricity_mm)} mm; end-shake "
+                  f"{g(tol.end_shake_mm)} mm; tilt {g(tol.tilt_deg)}° at {g(tol.lever_mm)} mm",
                   markup=False)
     table = Table(box=None, pad_edge=False, collapse_padding=True,
                   caption="degrees on the dial; dead play: all backlash taken up on reversing; "

@@ -24,7 +24,7 @@ def _years(y: float | None) -> str:
     if y == float("inf"):
         return "never"
     if y < 0.1:  # within weeks: '0.0 y' would read as at once
-        return f"{y * JULIAN_YEAR_DAYS:.3g} d"
+        return f"{support.figure(y * JULIAN_YEAR_DAYS, 3)} d"
     return f"{y:,.1f} y"
 
 
