@@ -818,6 +818,15 @@ def convergents(target: Target, constraints: Constraints | None = None) -> list[
 # Train-file fragment
 
 
+def check_prefix(prefix: str) -> str:
+    """The fragment's names start with ``prefix`` and are written bare in TOML: A-Z, a-z, 0-9,
+    ``_`` and ``-`` only (a train file takes other letters in quotes; rename after pasting)."""
+    if not _BARE_KEY_RE.match(prefix):
+        raise SearchError(f"prefix: {prefix!r} must be A-Z, a-z, 0-9, '_' or '-' (the "
+                          "fragment's names are written bare; rename after pasting)")
+    return prefix
+
+
 def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str = "search",
                   crank_arbor: str | None = None) -> str:
     """The train as TOML to paste into a train file: arbors and meshes, with comments.
@@ -826,11 +835,10 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
     arbor ``<prefix>_a<i>`` carries the driven wheel of stage i and the driver of stage i+1;
     the last, ``<prefix>_out``, carries the output wheel.
     """
-    if not _BARE_KEY_RE.match(prefix):
-        raise SearchError(f"prefix: {prefix!r} must be letters, digits, '_' or '-'")
+    check_prefix(prefix)
     crank = crank_arbor or f"{prefix}_crank"
     if not _BARE_KEY_RE.match(crank):
-        raise SearchError(f"crank arbor: {crank!r} must be letters, digits, '_' or '-'")
+        raise SearchError(f"crank arbor: {crank!r} must be A-Z, a-z, 0-9, '_' or '-'")
     n = len(result.stages)
     r = result.ratio
     lines = [f"# {n}-stage train from wheelwork search: ratio {r.numerator}/{r.denominator} "

@@ -67,6 +67,11 @@ CASES: list[tuple[list[str], str]] = [
     (["search", "--cycle", "synodic month", "--top", "5000"], "from 1 to 200"),
     (["search", "--cycle", "synodic month", "--top", "x"], "--top"),
     (["search", "--cycle", "synodic month", "--stages", "9"], "outside 1-4"),
+    # refused before the search (it ran first, then exit 1): the names are written bare
+    (["search", "--cycle", "synodic month", "--emit", "x.toml", "--prefix", "moon disc"],
+     "A-Z, a-z, 0-9"),
+    (["search", "--cycle", "synodic month", "--emit", "x.toml", "--prefix", "lune_année"],
+     "--prefix"),
     (["search", "--cycle", "synodic month", "--stages", "0"], "outside 1-4"),
     (["search", "--cycle", "synodic month", "--stages", "3-1"], "empty"),
     (["search", "--cycle", "synodic month", "--stages", "x"], "cannot read"),

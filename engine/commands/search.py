@@ -69,6 +69,12 @@ def _constraints(**bounds):
     return make_constraints(**bounds)
 
 
+def _prefix(text: str) -> str:
+    from ..search import check_prefix
+
+    return check_prefix(text)
+
+
 def _counts(text: str):
     from ..search import parse_counts
 
@@ -120,6 +126,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                      metavar="K",
                      help="which result --emit writes (default 1, the best)")
     out.add_argument("--prefix", default="search", metavar="NAME",
+                     type=_engine_value(_prefix, "prefix"),
                      help="prefix of arbor and wheel names in the fragment (default 'search')")
     support.add_force(out, "--emit file")
 
