@@ -127,6 +127,9 @@ class TrainEditor:
         self.sky = sky
         self.path = None if path is None else Path(path)
         self.where = safe_text(str(where))
+        #: the file's text as read (or last written), byte-order mark and all: what
+        #: :meth:`changed_on_disk` compares the file with
+        self._disk_text = text if path is not None else None
         #: the file began with a byte-order mark, as some editors write: edited without it
         #: (tomlkit reads none), written back with it
         self.bom = text.startswith("\ufeff")
@@ -163,6 +166,7 @@ class TrainEditor:
         until saved, so it differs from its file from the start."""
         ed = cls.open(path, sky)
         ed.path = None
+        ed._disk_text = None
         ed.saved_text = ""
         return ed
 
@@ -375,6 +379,18 @@ class TrainEditor:
         except OSError:
             return os.path.abspath(path) == os.path.abspath(self.path)
 
+    def changed_on_disk(self) -> bool:
+        """Whether the train's own file no longer holds what was read from it (or last written
+        to it): another program — the maker's text editor — wrote to it, or removed it, while
+        the train was on the bench. Saving over it then loses that writing."""
+        if self.path is None or self._disk_text is None:
+            return False
+        try:
+            now = self.path.read_bytes().decode("utf-8", errors="replace")
+        except OSError:
+            return True
+        return now != self._disk_text
+
     def save(self, path: str | Path, *, replace: bool = False) -> Path:
         """Write the train as it is now to ``path``, whole or not at all (a hidden part file
         renamed into place). An existing file, the opened one included, is replaced only when
@@ -384,10 +400,14 @@ class TrainEditor:
         path = Path(path).expanduser()
         if not replace and os.path.lexists(path):
             what = "is the train's own file" if self.is_opened_file(path) else "exists"
+            if self.is_opened_file(path) and self.changed_on_disk():
+                what += ", changed by another program since it was read"
             raise OutputError(f"{path}: {what}; confirm to replace it")
         out = OutputFile(path, option="saving the train", force=True)
+        written = ("\ufeff" if self.bom else "") + self.text
         with out.open("w", encoding="utf-8", newline="") as fh:
-            fh.write(("\ufeff" if self.bom else "") + self.text)
+            fh.write(written)
+        self._disk_text = written
         self.path = path
         self.where = safe_text(str(path))
         self.saved_text = self.text

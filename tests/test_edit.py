@@ -175,6 +175,26 @@ def test_save_never_replaces_without_asking(tide, sky, tmp_path):
     assert not list(tmp_path.glob(".*.part"))
 
 
+def test_a_file_changed_by_another_program_is_said_before_it_is_replaced(tide, sky):
+    """A maker edits the train in a text editor while it is on the bench: saving over it from
+    the bench would lose that writing, so the refusal says the file has changed; once saved,
+    the file is what was written (no change seen), and a removed file counts as changed."""
+    ed = TrainEditor.open(tide, sky)
+    assert not ed.changed_on_disk()
+    ed.set_teeth("sun_w1", 60)
+    assert not ed.changed_on_disk()  # an edit on the bench is not a change on disk
+    with tide.open("a", encoding="utf-8") as fh:
+        fh.write("# a note written in the editor meanwhile\n")
+    assert ed.changed_on_disk()
+    with pytest.raises(OutputError, match="changed by another program since it was read"):
+        ed.save(tide)
+    ed.save(tide, replace=True)  # confirmed: replaced
+    assert not ed.changed_on_disk() and "meanwhile" not in tide.read_text()
+    tide.unlink()
+    assert ed.changed_on_disk()
+    assert not TrainEditor.new_from(demo_path("tide_office"), sky).changed_on_disk()
+
+
 def test_save_into_a_missing_folder_writes_nothing(tide, sky, tmp_path):
     ed = TrainEditor.open(tide, sky)
     ed.set_teeth("sun_w1", 60)

@@ -165,6 +165,31 @@ async def test_save_new_name_then_replace_only_after_asking(tmp_path, monkeypatc
 
 
 @sync
+async def test_replacing_a_file_changed_meanwhile_says_so(tmp_path, monkeypatch):
+    """The train's file was written by another program (the maker's text editor) after the
+    bench opened it: the second-Enter question says replacing it loses those changes (it
+    said only 'is the file this train was opened from', and a note written there was lost)."""
+    monkeypatch.chdir(tmp_path)
+    path = copy_tide(tmp_path)
+    app = make_app(path)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pick(pilot, app, "sun_w1")
+        await type_value(pilot, app, "60")
+        with path.open("a", encoding="utf-8") as fh:
+            fh.write("# a note written in the editor meanwhile\n")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        app.screen.query_one("#save-input", Input).value = str(path)
+        await pilot.press("enter")
+        await pilot.pause()
+        said = text_of(app.screen.query_one("#save-error"))
+        assert "another program has changed it since" in said and "press Enter again" in said
+        assert "meanwhile" in path.read_text()  # nothing written yet
+
+
+@sync
 async def test_after_saving_the_file_column_is_the_file_just_written(tmp_path, monkeypatch):
     """The panel compares the file with the train now: once saved they are the same, so
     the file side of each row shows the saved ratio, not the one opened before."""

@@ -454,6 +454,9 @@ class SaveDialog(Dialog):
             self._confirmed = path
             what = ("is the file this train was opened from"
                     if self.editor.is_opened_file(path) else "exists")
+            if self.editor.is_opened_file(path) and self.editor.changed_on_disk():
+                what += (", and another program has changed it since (a text editor?): "
+                         "replacing it loses those changes")
             self.reject(f"{path} {what}: press Enter again to replace it, or change the name")
             return
         try:
