@@ -43,7 +43,7 @@ from .periods import (
     JULIAN_CENTURY_DAYS,
     PERIODS,
     PLANETS,
-    PRECESSION_DEG_PER_CY,
+    PRECESSION_POLY_DEG,
     MeanPeriod,
 )
 
@@ -66,12 +66,16 @@ def next_frame(frame: str) -> str:
 
 def precession_deg(jd_tt, frame: str):
     """Degrees a star dial reads lower than an equinox dial for a longitude of date at ``jd_tt``
-    (the accumulated general precession since J2000, the first-order correction that ignores
-    the slow tilt of the ecliptic itself); 0 on an equinox dial. Shaped like ``jd_tt``."""
+    (the accumulated general precession in longitude since J2000, ``PRECESSION_POLY_DEG`` —
+    its square term is 0.2° by 585 BC, 0.77° by 3000 BC — the correction that ignores the
+    slow tilt of the ecliptic itself: within 0.04° of skyfield's J2000 ecliptic from 3000 BC
+    to AD 3000); 0 on an equinox dial. Shaped like ``jd_tt``."""
     jd = np.asarray(jd_tt, dtype=float)
     if frame == "equinox":
         return np.zeros_like(jd)
-    return PRECESSION_DEG_PER_CY * (jd - J2000_JD) / JULIAN_CENTURY_DAYS
+    t = (jd - J2000_JD) / JULIAN_CENTURY_DAYS
+    c0, c1, c2, c3 = PRECESSION_POLY_DEG
+    return c0 + t * (c1 + t * (c2 + t * c3))
 
 
 def to_frame(value_deg, jd_tt, frame: str, precesses: bool = True):

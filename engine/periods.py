@@ -43,6 +43,10 @@ PRECESSION_SRC = "IAU 1976 general precession, 5029.0966\"/century (Meeus ch. 21
 
 # degrees per Julian century
 PRECESSION_DEG_PER_CY = 5029.0966 / 3600.0
+# the accumulated general precession in longitude from J2000, p_A = 5029.0966" T +
+# 1.11113" T^2 - 0.000006" T^3 (T in Julian centuries of TT; IAU 1976, as Meeus ch. 21
+# gives it, from memory): its rate at J2000 is PRECESSION_DEG_PER_CY
+PRECESSION_POLY_DEG = (0.0, PRECESSION_DEG_PER_CY, 1.11113 / 3600.0, -0.000006 / 3600.0)
 SUN_MEAN_LON_RATE = 36000.76983
 SUN_MEAN_ANOMALY_RATE = 35999.0502909
 MOON_MEAN_LON_RATE = 481267.88123421

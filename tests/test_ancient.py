@@ -324,3 +324,26 @@ def test_eclipses_written_with_bc_years_are_found_on_their_day(ancient, day, kin
     assert [e.type for e in found] == [kind]
     assert found[0].gamma == pytest.approx(gamma, abs=0.001)
     assert format_jd(found[0].jd_ut).endswith(f"= {day.split()[2]} BC")
+
+
+def test_a_star_dial_in_antiquity_takes_the_precession_whole(ancient):
+    """skyfield gives the Sun on the true ecliptic of date and on the J2000 ecliptic: their
+    difference is the precession (and the nutation, under 0.005°). A star dial's node and
+    perigee are moved by wheelwork's own precession; with the linear 5029.0966" T alone they
+    were 0.2° off by 585 BC and 0.74° by 3000 BC, so the Sun's distance from the node (the
+    eclipse-year dial, what predictions by the pointers read) differed between the frames
+    by as much. A difference of two longitudes reads the same on both (a fact of the trade,
+    common practice, no source): within 0.04° (the ecliptic's own slow tilt is left out; the
+    Moon, 5° off the ecliptic, feels it most: 0.08° at 3000 BC)."""
+    from engine.kinds import precession_deg
+
+    def off(a, b):
+        return abs((float(a) - float(b) + 180.0) % 360.0 - 180.0)
+
+    for text in ("1 Mar 2999 BC", "1 Jan 2000 BC", "28 May 585 BC", "1 Jan 1000", "2999-01-01"):
+        eq, st = ancient.at(text), ancient.at(text, frame="stars")
+        p = float(precession_deg(eq.jd_tt, "stars"))
+        assert off(eq.sun_lon_deg - p, st.sun_lon_deg) < 0.04, text
+        assert off(eq.kind("eclipse_year"), st.kind("eclipse_year")) < 0.04, text
+        for kind in ("draconic", "anomaly"):
+            assert off(eq.kind(kind), st.kind(kind)) < 0.08, (text, kind)

@@ -36,13 +36,19 @@ def test_every_row_is_complete():
 
 
 def test_star_dial_reads_longitudes_lower_by_the_precession():
-    """IAU 1976 general precession, 5029.0966"/century (Meeus ch. 21): a century after J2000
-    a star dial reads a longitude 1.397° lower; a difference of two longitudes not at all."""
+    """IAU 1976 general precession in longitude, p = 5029.0966" T + 1.11113" T^2 -
+    0.000006" T^3 (Meeus ch. 21, from memory): a century after J2000 a star dial reads a
+    longitude 1.3973° lower; a difference of two longitudes not at all."""
     jd = J2000_JD + 36525.0
-    assert float(precession_deg(jd, "stars")) == pytest.approx(5029.0966 / 3600, abs=1e-12)
+    p1 = (5029.0966 + 1.11113 - 0.000006) / 3600
+    assert float(precession_deg(jd, "stars")) == pytest.approx(p1, abs=1e-12)
     assert float(precession_deg(jd, "equinox")) == 0.0
-    assert float(to_frame(10.0, jd, "stars")) == pytest.approx(10.0 - 5029.0966 / 3600)
-    assert float(to_frame(1.0, jd, "stars")) == pytest.approx(361.0 - 5029.0966 / 3600)
+    assert float(to_frame(10.0, jd, "stars")) == pytest.approx(10.0 - p1)
+    assert float(to_frame(1.0, jd, "stars")) == pytest.approx(361.0 - p1)
+    # the square term: 25.84 centuries before J2000 (585 BC) it is 0.206°
+    t = -25.84
+    assert float(precession_deg(J2000_JD + t * 36525.0, "stars")) == pytest.approx(
+        (5029.0966 * t + 1.11113 * t * t - 0.000006 * t**3) / 3600, abs=1e-12)
     assert float(to_frame(10.0, jd, "stars", precesses=False)) == 10.0
     per_day = PRECESSION_DEG_PER_CY / 36525.0
     for key, row in KINDS.items():
