@@ -296,7 +296,7 @@ def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]
     # is its heliocentric one, an inner planet's the Sun's (it swings about the Sun)
     for key, pl in PLANETS.items():
         if key in wanted or f"{key}_from_sun" in wanted:
-            helio = pl.lon_j2000_deg + (pl.rate_deg_per_cy + PRECESSION_DEG_PER_CY) * t
+            helio = pl.lon_j2000_deg + pl.rate_deg_per_cy * t + _poly(t, PRECESSION_POLY_DEG)
             if f"{key}_from_sun" in wanted:
                 out[f"{key}_from_sun"] = helio
             if key in wanted:

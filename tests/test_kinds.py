@@ -206,3 +206,19 @@ def test_evection_period_from_the_mean_motions():
     """Evection's argument is 2D - M (standard lunar theory, from memory): its period from
     the mean synodic and anomalistic months is 31.81 days (from memory)."""
     assert EVECTION_DAYS == pytest.approx(31.812, abs=0.001)
+
+
+def test_a_planet_mean_on_a_star_dial_is_its_j2000_mean_motion_in_antiquity_too():
+    # mean_elements moves a planet's J2000 mean longitude to the equinox of date by the same
+    # precession a star dial takes off again, so on a star dial it is the JPL table's
+    # longitude plus its rate (in 585 BC too, where the precession's square term is 0.2°)
+    from engine.periods import PLANETS
+
+    t = -25.84
+    jd = J2000_JD + t * 36525.0
+    mean = mean_elements(jd)
+    for key in ("mars", "saturn"):
+        pl = PLANETS[key]
+        want = (pl.lon_j2000_deg + pl.rate_deg_per_cy * t) % 360.0
+        assert float(to_frame(mean[f"{key}_from_sun"], jd, "stars")) == pytest.approx(
+            want, abs=1e-9), key
