@@ -164,9 +164,13 @@ class _Reader:
                limit: float = MAX_MM) -> float:
         if isinstance(value, bool) or not isinstance(value, int | float):
             raise self.fail(item, f"should be a number, got {_show(value)}")
+        # the bounds as this value has them: a length that must be positive is never offered
+        # a negative bound
+        bounds = (f"above 0 and at most {figure(limit, 7)}" if positive else
+                  f"between 0 and {figure(limit, 7)}" if nonneg else
+                  f"between {figure(-limit, 7)} and {figure(limit, 7)}")
         if isinstance(value, int) and abs(value) > limit:
-            raise self.fail(item, f"must be between {figure(-limit, 7)} and {figure(limit, 7)}, "
-                            f"got {_show(value)}")
+            raise self.fail(item, f"must be {bounds}, got {_show(value)}")
         if not math.isfinite(value):
             raise self.fail(item, f"should be a finite number, got {_show(value)}")
         if positive and value <= 0:
@@ -174,8 +178,7 @@ class _Reader:
         if nonneg and value < 0:
             raise self.fail(item, f"must not be negative, got {value}")
         if abs(value) > limit:
-            raise self.fail(item, f"must be between {figure(-limit, 7)} and {figure(limit, 7)}, "
-                            f"got {_show(value)}")
+            raise self.fail(item, f"must be {bounds}, got {_show(value)}")
         return float(value)
 
     def choice(self, value: object, item: str, choices: tuple[str, ...]) -> str:

@@ -295,6 +295,20 @@ def test_days_per_turn_bounds(value, words):
         assert w in msg, msg
 
 
+@pytest.mark.parametrize("old,new,words", [
+    # a length that must be positive is never offered a negative bound
+    ('wheels = ["a1", "b1"]', 'wheels = ["a1", "b1"]\nmodule_mm = 1001',
+     "mesh 1 (a1–b1) module_mm: must be above 0 and at most 1000, got 1001"),
+    ('wheels = ["a1", "b1"]', 'wheels = ["a1", "b1"]\nmodule_mm = 1e4',
+     "module_mm: must be above 0 and at most 1000, got 10000.0"),
+    ('set_deg = 0', 'set_deg = 0\n[workshop]\nbacklash_mm = 2e7',
+     "[workshop] backlash_mm: must be between 0 and 1,000,000, got 20000000.0"),
+])
+def test_positive_and_non_negative_bounds_say_so(old, new, words):
+    msg = error_of(GOOD.replace(old, new))
+    assert words in msg, msg
+
+
 @pytest.mark.parametrize("depth", [400, 100_000])
 def test_deep_nesting_is_refused_before_parsing(depth):
     msg = error_of(GOOD + "x = " + "[" * depth + "]" * depth + "\n")
