@@ -478,6 +478,20 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
                               f"({limit:.3f} mm): out of depth (rule of thumb)",
                               "bush the pivot holes closer, keep the wheels near the plates, "
                               "or use a larger module here"))
+        # an eccentric wheel swings the centre distance by its eccentricity once a turn
+        # (both wheels of the mesh at worst together): the same rule
+        ecc = {w: (train.workshop.wheel(w).eccentricity_mm
+                   if train.workshop.wheel(w).eccentricity_mm is not None
+                   else tol.eccentricity_mm) for w in (m.driver, m.driven)}
+        swing = sum(ecc.values())
+        if swing > limit:
+            each = " and ".join(f"'{w}' {figure(e, 4)} mm" for w, e in ecc.items())
+            flags.append(Flag(m.label, f"eccentricities of up to {each} swing the centre "
+                              f"distance by up to {figure(swing, 4)} mm once a turn, more than "
+                              f"a quarter module ({limit:.3f} mm): out of depth on part of the "
+                              "turn (rule of thumb)",
+                              "true the wheels on their arbors (turn the blank's teeth on its "
+                              "own arbor), or use a larger module here"))
         face = FACE_M * m.module_mm
         if tol.end_shake_mm > END_SHAKE_RULE * face:
             flags.append(Flag(m.label, f"end-shake of {tol.end_shake_mm:g} mm is more than "

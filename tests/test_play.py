@@ -147,6 +147,31 @@ def test_depth_flags_are_rules_of_thumb():
     assert len(flags) == 2 and all("end-shake" in f.message for f in flags)
 
 
+def test_eccentric_wheels_that_swing_a_mesh_out_of_depth_are_flagged():
+    # An eccentric wheel moves its mesh's centre distance by up to its eccentricity once a
+    # turn (plane geometry), both wheels together at worst: past a quarter module the same
+    # rule as the tilt's (common practice, no source). 0.07 + 0.07 = 0.14 mm: over a quarter
+    # of module 0.5 (0.125), under a quarter of 0.6 (0.15).
+    train = load_train(SMALL)
+    forms = {w: "cycloidal" for w in train.wheels}
+    calm = dict(tilt_deg=0.0, end_shake_mm=0.0)
+    assert not depth_flags(train, Tolerances(eccentricity_mm=0.06, **calm), forms)
+    (flag,) = depth_flags(train, Tolerances(eccentricity_mm=0.07, **calm), forms)
+    assert flag.item == "mesh 1 (drive_pinion–middle_wheel)"
+    assert "by up to 0.14 mm once a turn" in flag.message and "(0.125 mm)" in flag.message
+    assert "rule of thumb" in flag.message
+    # a wheel measured off true in the file: its own figure beside the train's
+    shop = SMALL.read_text().replace("[workshop.wheels.middle_pinion]",
+                                     "[workshop.wheels.hand_wheel]\neccentricity_mm = 0.2\n\n"
+                                     "[workshop.wheels.middle_pinion]")
+    train = parse_train(shop, "shop.toml")
+    tol = Tolerances.of(train, **calm)
+    (flag,) = depth_flags(train, tol, forms)
+    assert flag.item == "mesh 2 (middle_pinion–hand_wheel)"
+    assert "'middle_pinion' 0.02 mm and 'hand_wheel' 0.2 mm" in flag.message
+    assert "0.22 mm" in flag.message
+
+
 def test_play_command_text_and_json(capsys):
     assert main(["play", str(SMALL), "--years", "2", "--builds", "50", "--samples", "32"]) == 0
     out = capsys.readouterr().out
