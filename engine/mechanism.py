@@ -85,6 +85,27 @@ def _named_elsewhere(train: Train, sky) -> str:
             f"Sky('{eph}'))")
 
 
+# the long-span ephemerides a train file may name in [epoch], with the years they cover (as
+# engine.sky.LONG_SPANS gives them in words)
+_FILE_EPHEMERIDES = (("de440", 1550, 2650, "1550-2650"), ("de406", -2999, 2999,
+                                                          "3000 BC-AD 3000"))
+
+
+def _name_it(train: Train) -> str:
+    """When a file naming no ephemeris is set at a date the bundled one cannot reach: how to
+    name, in the file, one that can (so every command and the bench read it so)."""
+    from .dates import calendar_date
+
+    if train.epoch.ephemeris:
+        return ""
+    year = calendar_date(train.epoch.jd_ut)[0]
+    fits = [f'ephemeris = "{name}" ({span})' for name, lo, hi, span in _FILE_EPHEMERIDES
+            if lo <= year <= hi]
+    if not fits:
+        return ""
+    return f"; or name it under [epoch] in the file: {' or '.join(fits)}"
+
+
 def build(train: Train, sky=None) -> Mechanism:
     """Solve ``train`` and set its pointers as its ``[epoch] set`` says.
 
@@ -102,7 +123,8 @@ def build(train: Train, sky=None) -> Mechanism:
     except SkyError as exc:  # the epoch itself cannot be looked up: say which file says so
         raise TrainError(train.source, "[epoch] date", f"the pointers were set at a date the "
                          f"sky cannot be computed for: {exc}"
-                         + (_named_elsewhere(train, sky) if given else "")) from None
+                         + (_named_elsewhere(train, sky) if given else "")
+                         + _name_it(train)) from None
     return Mechanism(train, kin, Readout(kin, values), tuple(backward_warnings(train, kin)))
 
 

@@ -111,6 +111,26 @@ def test_a_sky_given_in_place_of_the_files_ephemeris_is_named_when_the_epoch_is_
     assert 'names ephemeris = "de406"' in capsys.readouterr().err
 
 
+def test_a_file_set_in_antiquity_naming_no_ephemeris_is_told_how_to_name_one(tmp_path, capsys):
+    """A train set in 150 BC whose [epoch] names no ephemeris is read against DE421, which
+    cannot reach it; the error says which ephemeris the file may name to cover its epoch
+    (DE406 alone before 1550; DE440 or DE406 after), so every command and the bench read it."""
+    from engine.cli import main
+
+    bare = tmp_path / "bare.toml"
+    bare.write_text(DEMO.read_text().replace('ephemeris = "de406"', ""))
+    assert main(["ratios", str(bare)]) == 0  # ratios reads no sky
+    assert main(["drift", str(bare), "--years", "1"]) == 1
+    err = " ".join(capsys.readouterr().err.split())
+    assert 'or name it under [epoch] in the file: ephemeris = "de406" (3000 BC-AD 3000)' in err
+    assert 'ephemeris = "de440"' not in err
+    later = tmp_path / "later.toml"
+    later.write_text(bare.read_text().replace('"-0149-04-10 06:00"', '"1700-04-10 06:00"'))
+    assert main(["drift", str(later), "--years", "1"]) == 1
+    assert ('ephemeris = "de440" (1550-2650) or ephemeris = "de406"'
+            in " ".join(capsys.readouterr().err.split()))
+
+
 def test_lunation_board_drifts_as_its_nineteen_year_relation_says(ancient):
     """Set in 150 BC, read over one 19-year cycle on DE406. The 19-year relation makes the
     year 235/19 mean synodic months = 365.2468 d against the tropical year's 365.2422 d, so the
