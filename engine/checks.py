@@ -752,10 +752,12 @@ def _over_axis(train: Train, w: str, tip: float, other: str, dist: float, module
     part = (f"part the axes at least {_mm(tip - dist)} further ({mesh.label} at more teeth or "
             "a larger module)" if mesh is not None else
             f"move '{other}' at least {_mm(tip - dist)} further away")
+    # fewer teeth only while some are left ('at most -1 teeth' for a module 100 times too big)
+    fewer = f", make '{w}' at most {zmax} teeth" if zmax >= 1 else ""
     return Finding(
         "warning", f"wheel '{w}'", f"its tip circle (radius {_mm(tip)}) reaches over the axis "
         f"of '{other}', {_mm(dist)} from its own{why}",
-        f"{part}, make '{w}' at most {zmax} teeth, or end '{other}' short of this wheel's plane")
+        f"{part}{fewer}, or end '{other}' short of this wheel's plane")
 
 
 def _fixed_overlaps(train: Train, groups, modules, pos, findings: list[Finding],

@@ -154,6 +154,43 @@ def test_overlaps_axis_and_wheel():
     assert not any("'forty'" in f.message for f in warns)
 
 
+def test_overlap_advice_never_asks_for_fewer_than_one_tooth(tmp_path):
+    """A module written 60 for 0.6 (a unit slip) makes a 14-leaf pinion's tip 468 mm out, over
+    the axis of an arbor 24 mm away: the advice said "make 'moon_s1_driver' at most -1 teeth";
+    a count under one is no advice, so only the other remedies are given."""
+    hall = tmp_path / "hall.toml"
+    hall.write_text(HALL_M60)
+    warns = [f for f in run_check(hall).findings
+             if f.level == "warning" and "reaches over the axis" in f.message]
+    assert warns and all("at most -" not in f.fix and "at most 0 " not in f.fix for f in warns)
+    assert all("end '" in f.fix and "part the axes" in f.fix for f in warns)
+
+
+HALL_M60 = """
+[crank]
+arbor = "hour"
+days_per_turn = "1/2"
+[epoch]
+date = "2026-01-01"
+[arbors.hour]
+wheels = { moon_p = 14, year_p = 8 }
+[arbors.moon_a1]
+wheels = { moon_w = 66 }
+[arbors.year_a1]
+wheels = { year_w = 88 }
+[[meshes]]
+wheels = ["moon_p", "moon_w"]
+module_mm = 60
+[[meshes]]
+wheels = ["year_p", "year_w"]
+module_mm = 0.5
+[pointers.moon]
+shows = "phase"
+arbor = "moon_a1"
+per_turn = 2
+"""
+
+
 def test_overlap_takes_the_tip_of_the_tooth_form():
     """A cycloidal clock wheel stands about 1.38 modules above its pitch circle against 8
     leaves (the wheel addendum of engine.toothform, BS 978-2 from memory), more than the
