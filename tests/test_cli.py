@@ -317,6 +317,23 @@ def test_a_missing_file_in_a_folder_is_only_a_missing_file(tmp_path, capsys):
     assert err.strip().endswith("tide_ofice.toml: no such file"), err
 
 
+def test_a_train_file_name_one_slip_off_points_at_the_file(tmp_path, monkeypatch, capsys):
+    """'hal.toml' for the hall.toml beside it (a dropped letter, a cut suffix) was answered
+    with the list of demos only; the file one slip away is named, in this folder or the
+    folder given, and a name near no file keeps the plain answer."""
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "hall.toml").write_text("")
+    for typed in ("hal.toml", "hall.tom", "hal"):
+        assert main(["ratios", typed]) == 1
+        err = capsys.readouterr().err
+        assert "did you mean hall.toml (in this folder)?" in err and err.count("\n") == 1, err
+    assert main(["drift", str(tmp_path / "hall_.toml"), "--years", "1"]) == 1
+    err = capsys.readouterr().err
+    assert err.strip().endswith(f"no such file; did you mean {tmp_path / 'hall.toml'}?"), err
+    assert main(["ratios", "zzzz.toml"]) == 1
+    assert "did you mean" not in capsys.readouterr().err
+
+
 def test_a_train_named_without_toml_points_at_its_file(tmp_path, monkeypatch, capsys):
     """Demos are named without .toml; a maker's own train given the same way gets its file's
     name back, not the list of demos."""

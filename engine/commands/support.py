@@ -210,15 +210,40 @@ def train_file(text: str) -> str:
     found = demo_path(text)
     if found is not None:
         return str(found)
+    from ..errors import TrainError
+
+    near = _near_train_file(Path(text))
     if "/" not in text and os.sep not in text:  # a bare name: a demo's, mistyped?
         from ..demos import demo_hint
-        from ..errors import TrainError
 
         if not text.endswith(".toml") and Path(text + ".toml").is_file():
             raise TrainError(text, "", f"no such file, and no demo of that name; did you mean "
                              f"{text}.toml? (only a demo's name is given without .toml)")
+        if near is not None:
+            raise TrainError(text, "", f"no such file, and no demo of that name; did you mean "
+                             f"{near} (in this folder)? {demo_hint(text)}")
         raise TrainError(text, "", f"no such file, and no demo of that name; {demo_hint(text)}")
+    if near is not None:
+        raise TrainError(text, "", f"no such file; did you mean {near}?")
     return text
+
+
+def _near_train_file(path: Path) -> str | None:
+    """A train file in the same folder whose name is one slip from ``path``'s (``hal.toml``
+    for ``hall.toml``), as the path would be written; None when none is that near."""
+    import difflib
+
+    folder = path.parent
+    try:
+        names = [p.name for p in folder.iterdir() if p.suffix == ".toml" and p.is_file()]
+    except OSError:
+        return None
+    tries = {path.name, path.name if path.name.endswith(".toml") else path.name + ".toml"}
+    scored = [(difflib.SequenceMatcher(None, t, n).ratio(), n) for t in tries for n in names]
+    close = [n for r, n in sorted(scored, reverse=True) if r >= 0.85][:1]
+    if not close:
+        return None
+    return close[0] if str(folder) == "." else str(folder / close[0])
 
 
 MAX_YEARS = 100_000  # beyond any ephemeris; the span check says what the ephemeris covers
