@@ -824,15 +824,18 @@ async def test_the_side_column_fits_and_the_warnings_show(demo):
     least its border and one line, at every size from 100 x 30 up: the train drawing and the
     phase discs (or the orrery plan) give way first. At 160 x 50 the tide office's panel was
     pushed below the column whole, under the 16 rows of the train drawing; the orrery's
-    eclipses panel was cut to one line."""
+    eclipses panel was cut to one line. At 80 x 24 the orrery (no eclipse predictions) gives
+    its eclipses panel up for the warnings; the tide office (it predicts them) keeps it
+    without its bottom border, where the warnings' bottom border was under the footer; and
+    back at 100 x 30 the column fits again."""
     from engine.demos import demo_path
+    from engine.eclipses import methods
 
     app = make_app(demo_path(demo))
-    # at 80 x 24 the orrery (no eclipse predictions) gives its eclipses panel up for the
-    # warnings; the tide office's eclipses (it predicts them) keep theirs, a row short
-    small = ((80, 24),) if demo == "table_orrery" else ()
+    predicts = bool(methods(app.session.mech.train))
     async with app.run_test(size=(100, 30)) as pilot:
-        for size in ((100, 30), *small, (120, 42), (160, 50), (200, 60), (120, 40)):
+        for size in ((100, 30), (80, 24), (100, 30), (120, 42), (160, 50), (200, 60),
+                     (120, 40)):
             await pilot.resize_terminal(*size)
             await pilot.pause()
             await pilot.pause()
@@ -851,7 +854,10 @@ async def test_the_side_column_fits_and_the_warnings_show(demo):
             # its readings seven: its drawing from 51 rows)
             if size == (200, 60) or (size == (160, 50) and demo != "table_orrery"):
                 assert train.display and train.region.height >= 14, size
-            assert screen.query_one("#eclipse").display == (size != (80, 24)), size
+            eclipse = screen.query_one("#eclipse")
+            if predicts or demo == "table_orrery":
+                assert eclipse.display == (size != (80, 24) or predicts), size
+            assert eclipse.has_class("-joined") == (size == (80, 24) and demo == "tide_office")
 
 
 @pytest.mark.parametrize("size", [(160, 50), (200, 60), (250, 70)])

@@ -257,8 +257,11 @@ class BenchScreen(SizeGuard, Screen):
         fewer than FLEX_MIN_ROWS or PLAN_MIN_ROWS), and the train drawing only when all of that leaves it
         TRAIN_MIN_ROWS (it takes up to TRAIN_ROWS). A train that predicts no eclipses gives
         its eclipses panel up when the readings would leave the warnings no line (the table
-        orrery's seven arms at 80 x 24). Heights are measured from the panels' own content,
-        which depends on the width only, so fitting again never changes what it measured."""
+        orrery's seven arms at 80 x 24); one that does keeps it, and when that leaves the
+        warnings short it gives up its bottom border (the class ``-joined``: the warnings'
+        top border closes it; the tide office at 80 x 24). Heights are measured from the
+        panels' own content, which depends on the width only, so fitting again never changes
+        what it measured."""
         from engine.eclipses import methods
 
         if not self.is_attached or not self.query("#side") or self.is_too_small:
@@ -268,8 +271,10 @@ class BenchScreen(SizeGuard, Screen):
         train = self.query_one("#train")
         flex = next(iter(self.query("#phase, #plan-pane")), None)
         rows = self.size.height - self.query_one("#title").outer_size.height - 1  # footer
-        if eclipse.display:  # its height as shown (a hidden panel measures nothing)
-            self._eclipse_rows = eclipse.outer_size.height
+        if eclipse.display:  # its lines and both borders (a hidden panel measures nothing):
+            # not its laid-out height, which lags a -joined class just set or taken off
+            self._eclipse_rows = (eclipse.lines + 2 if eclipse.lines else
+                                  eclipse.outer_size.height + eclipse.has_class("-joined"))
         cap = {"-short": 5, "-mid": 10}.get(
             next((c for c in ("-short", "-mid") if self.has_class(c)), ""), 8)
         want = min(cap, findings.outer_size.height + 2)  # its lines and its border
@@ -277,7 +282,9 @@ class BenchScreen(SizeGuard, Screen):
         show_eclipse = (bool(methods(self.session.mech.train)) or info.outer_size.height
                         + self._eclipse_rows + least <= rows)
         eclipse.styles.display = "block" if show_eclipse else "none"
-        base = info.outer_size.height + (self._eclipse_rows if show_eclipse else 0)
+        joined = show_eclipse and info.outer_size.height + self._eclipse_rows + least > rows
+        eclipse.set_class(joined, "-joined")
+        base = info.outer_size.height + (self._eclipse_rows - joined if show_eclipse else 0)
         flex_rows = 0 if flex is None or self.has_class("-short") else (
             self.PLAN_MIN_ROWS if flex.id == "plan-pane" else self.FLEX_MIN_ROWS)
         train_rows = min(self.TRAIN_ROWS, rows - (base + least + flex_rows))

@@ -1220,6 +1220,12 @@ class EclipseInfo(Static):
         if self._now is not None:
             self._put(self.text(self._now, max(self.size.width, 20)))
 
+    @property
+    def lines(self) -> int:
+        """The lines shown (none wraps), 0 before anything is: the panel's height less its
+        borders, known at once, where the laid-out height lags a change of class."""
+        return 0 if self._shown is None else self._shown.plain.rstrip("\n").count("\n") + 1
+
     def _put(self, text: Text) -> None:
         """Show ``text`` unless it is what is shown (while cranking, the panel often stays
         as it was); lay the screen out again only when the number of lines changes (lines
