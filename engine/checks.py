@@ -348,6 +348,10 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
     _teeth_rules(train, modules, findings)
+    from .play import backlash_finding  # here: play imports this module's Finding
+
+    if (loose := backlash_finding(train)) is not None:
+        findings.append(loose)
     _load_rules(report, findings)
     missing = [m.index for m in train.meshes if m.module_mm is None]
     if missing:

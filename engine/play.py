@@ -60,6 +60,13 @@ INVOLUTE_BACKLASH_M = 0.1
 distance (common practice, no source). Cycloidal meshes take the backlash their tooth
 proportions leave (π − wheel tooth − pinion leaf, on the pitch circle)."""
 
+MAX_BACKLASH_PITCH = 0.4
+"""The most backlash taken as a workshop tolerance, as a fraction of the pitch π m: standard
+cycloidal clock proportions leave 0.22 of the pitch (a 1.41 m wheel tooth against a 1.05 m
+leaf), involute gearing a few hundredths; at 0.4 the mating tooth or leaf would be about half
+its standard thickness, too thin to carry or wear (common practice, no source). Half a pitch
+(1.5 mm at module 0.5 was once taken) is refused; a whole pitch is out of mesh."""
+
 DEPTH_RULE_M = 0.25
 """Rule of thumb: a mesh whose centre distance can open by more than a quarter of the module
 runs out of depth (the tips ride on the tips; common practice, no source)."""
@@ -259,18 +266,44 @@ def _forms(train: Train, form: str | None) -> dict[str, str]:
 def backlash_fault(train: Train, backlash_mm: float | None) -> str | None:
     """What is wrong with a backlash of ``backlash_mm`` in every mesh, or None: backlash is
     the space between teeth less the mating tooth, so it is always less than the pitch
-    (π m; common practice, no source); the first mesh with a module it does not fit."""
+    (π m; common practice, no source), and more than :data:`MAX_BACKLASH_PITCH` of it leaves
+    teeth too thin; the mesh with a module it fits worst (the finest; the first of equals)."""
     if backlash_mm is None:
         return None
-    for m in train.meshes:
-        if m.module_mm is not None and backlash_mm >= math.pi * m.module_mm:
-            return (f"{backlash_mm:g} mm is a whole pitch or more of {m.label} (module "
-                    f"{m.module_mm:g} mm, pitch {math.pi * m.module_mm:.3f} mm): teeth with "
-                    f"that much play are out of mesh; backlash is a small part of the pitch "
-                    f"(cycloidal clock teeth leave about "
-                    f"{(math.pi - WHEEL_THICKNESS_M - leaf_form(8).thickness_m) * m.module_mm:.3g}"
-                    f" mm at this module against 8 leaves)")
-    return None
+    meshes = [m for m in train.meshes if m.module_mm is not None]
+    if not meshes:
+        return None
+    m = min(meshes, key=lambda m: m.module_mm)
+    pitch = math.pi * m.module_mm
+    if backlash_mm < MAX_BACKLASH_PITCH * pitch:
+        return None
+    leaves = (math.pi - WHEEL_THICKNESS_M - leaf_form(8).thickness_m) * m.module_mm
+    where = f"(module {figure(m.module_mm, 4)} mm, pitch {figure(pitch, 4)} mm)"
+    usual = (f"(cycloidal clock teeth leave about {figure(leaves)} mm at this module against 8 "
+             "leaves)")
+    given = figure(backlash_mm, 4)
+    if backlash_mm >= pitch:
+        return (f"{given} mm is a whole pitch or more of {m.label} {where}: teeth with "
+                f"that much play are out of mesh; backlash is a small part of the pitch {usual}")
+    part = math.floor(backlash_mm / pitch * 100 + 1e-9) / 100  # 0.999 of a pitch: not "1.00"
+    return (f"{given} mm is {part:.2f} of the pitch of {m.label} "
+            f"{where}, more than {MAX_BACKLASH_PITCH:g} of a pitch: teeth that thin are too "
+            f"weak to carry {usual}")
+
+
+def backlash_finding(train: Train):
+    """The check's error for the file's ``[workshop] backlash_mm`` past what teeth can have
+    (:func:`backlash_fault`), or None."""
+    from .checks import Finding
+
+    fault = backlash_fault(train, train.workshop.backlash_mm)
+    if fault is None:
+        return None
+    finest = min(m.module_mm for m in train.meshes if m.module_mm is not None)
+    most = MAX_BACKLASH_PITCH * math.pi * finest
+    return Finding("error", "[workshop] backlash_mm", fault,
+                   f"give the backlash measured or allowed, under {figure(most)} mm "
+                   f"({MAX_BACKLASH_PITCH:g} of the pitch at module {figure(finest, 4)})")
 
 
 def mesh_backlash_pitch(train: Train, mesh, forms: dict[str, str],
@@ -509,10 +542,8 @@ def dead_play_findings(train: Train, kin: Kinematics, form: str | None = None) -
 
     forms = _forms(train, form)
     tol = Tolerances.of(train)
-    fault = backlash_fault(train, tol.backlash_mm)
-    if fault:  # no dead play to speak of from teeth that cannot mesh
-        return [Finding("error", "[workshop] backlash_mm", fault,
-                        "give the backlash measured or allowed, a small part of the pitch")]
+    if backlash_fault(train, tol.backlash_mm):  # the check's error says it (backlash_finding)
+        return []
     psens = pointer_sensitivity(train, kin)
     backlash = [mesh_backlash_pitch(train, m, forms, tol.backlash_mm) for m in train.meshes]
     out = []

@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from engine.checks import check
 from engine.cli import main
 from engine.kinematics import solve
 from engine.loader import load_train, parse_train
@@ -203,8 +204,9 @@ def test_backlash_of_a_whole_pitch_is_refused(capsys, tmp_path):
     from engine.play import backlash_fault, dead_play_findings
 
     train = load_train(SMALL)  # modules 0.5 and 0.6: the smaller pitch is 1.571 mm
-    assert backlash_fault(train, 0.5 * math.pi - 0.001) is None
-    assert "mesh 1" in backlash_fault(train, 0.5 * math.pi)
+    assert "0.99 of the pitch of mesh 1" in backlash_fault(train, 0.5 * math.pi - 0.001)
+    assert "whole pitch or more of mesh 1" in backlash_fault(train, 0.5 * math.pi)
+    assert backlash_fault(train, 0.4 * 0.5 * math.pi - 0.001) is None
     with pytest.raises(ArgumentError, match="whole pitch"):
         play(train, solve(train), Tolerances.of(train, backlash_mm=50), builds=10, samples=4)
     assert main(["play", str(SMALL), "--backlash-mm", "50"]) == 2
@@ -216,8 +218,50 @@ def test_backlash_of_a_whole_pitch_is_refused(capsys, tmp_path):
     err = capsys.readouterr().err.strip()
     assert "loose.toml: [workshop] backlash_mm: 2 mm is a whole pitch" in err
     assert "\n" not in err
-    (finding,) = dead_play_findings(load_train(loose), solve(load_train(loose)))
-    assert finding.level == "error" and finding.item == "[workshop] backlash_mm"
+    # the check says it (the bench's warnings panel shows the check), once: no dead play
+    # is worked out from teeth that cannot mesh
+    assert dead_play_findings(load_train(loose), solve(load_train(loose))) == []
+    (finding,) = [f for f in check(load_train(loose), solve(load_train(loose))).findings
+                  if f.item == "[workshop] backlash_mm"]
+    assert finding.level == "error" and "whole pitch" in finding.message
+
+
+@pytest.mark.parametrize("backlash_mm, refused", [
+    (0.341, False),   # what cycloidal clock teeth leave at module 0.5 against 8 leaves
+    (0.6, False),     # 0.38 of the pitch: generous, not absurd
+    (0.63, True),     # 0.40 of the pitch (pitch 1.571 mm at module 0.5)
+    (0.785, True),    # half a pitch
+    (1.5, True),      # 0.95 of a pitch: once taken with no word
+])
+def test_backlash_past_two_fifths_of_a_pitch_is_refused(capsys, tmp_path, backlash_mm, refused):
+    """Standard cycloidal clock proportions leave 0.22 of the pitch as backlash (π − 1.41 −
+    1.05 modules against 6-10 leaves, BS 978-2 as engine/toothform.py has them); past 0.4 of
+    a pitch the mating teeth would be about half their standard thickness (common practice,
+    no source). Refused by play (an option: usage error; the file: its name and item) and an
+    error in check, naming the mesh and the value."""
+    from engine.checks import check
+    from engine.play import MAX_BACKLASH_PITCH
+
+    assert MAX_BACKLASH_PITCH == 0.4
+    code = main(["play", str(SMALL), "--backlash-mm", str(backlash_mm), "--builds", "50",
+                 "--samples", "32"])
+    err = capsys.readouterr().err.strip()
+    assert code == (2 if refused else 0), err
+    if refused:
+        assert "--backlash-mm" in err and f"{backlash_mm:g} mm" in err and "mesh 1" in err
+        assert "\n" not in err
+    loose = tmp_path / "loose.toml"
+    loose.write_text(SMALL.read_text().replace("backlash_mm = 0.05",
+                                               f"backlash_mm = {backlash_mm}"))
+    assert main(["play", str(loose), "--builds", "50", "--samples", "32"]) == (
+        1 if refused else 0)
+    err = capsys.readouterr().err.strip()
+    if refused:
+        assert err.startswith("wheelwork: error: ") and "loose.toml: [workshop] backlash_mm: " \
+            f"{backlash_mm:g} mm is" in err and "mesh 1 (drive_pinion–middle_wheel)" in err
+    train = load_train(loose)
+    said = [f for f in check(train, solve(train)).findings if f.item == "[workshop] backlash_mm"]
+    assert [f.level for f in said] == (["error"] if refused else [])
 
 
 def test_largest_contributor_per_pointer_reaches_the_warnings_panel():
