@@ -18,6 +18,7 @@ from __future__ import annotations
 import io
 import math
 import re
+from collections.abc import Collection
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -374,16 +375,21 @@ class CutSet:
     caveat: str = CAVEAT
 
 
-def cut_parts(train: Train, kin: Kinematics, form: str | None = None) -> CutSet:
-    """Every wheel with a module and every plate, ready to write."""
+def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
+              wheels: Collection[str] | None = None) -> CutSet:
+    """Every wheel with a module and every plate, ready to write; with ``wheels`` (names of
+    wheels with a module), those wheels alone, named as in the whole set, and no plates."""
     forms = tooth_forms(train, form)
     used: set[str] = {"sheet"}
     parts = []
     for w in train.wheels:
         if w not in forms:
             continue
-        stem = _unique(f"wheel-{slug(w)}", used)
-        parts.append(wheel_part(train, w, forms[w], stem))
+        stem = _unique(f"wheel-{slug(w)}", used)  # every wheel's, so a name never changes
+        if wheels is None or w in wheels:
+            parts.append(wheel_part(train, w, forms[w], stem))
+    if wheels is not None:
+        return CutSet(train.name, train.source, parts, [])
     reach = {w: (t.tip_radius_mm if t.role != "ring" else t.root_radius_mm)
              for w, t in forms.items()}
     plates = place_plates(train, kin, reach)

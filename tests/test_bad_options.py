@@ -133,6 +133,7 @@ CASES: list[tuple[list[str], str]] = [
     (["eclipses", T, "--years", "1", "--ephemeris", "/tmp"], "is a folder"),
     (["cut", T, "--out", "x", "--formats", "pdf"], "formats"),
     (["cut", T, "--out", "x", "--form", "square"], "invalid choice"),
+    (["cut", T, "--out", "x", "--wheel", "sun_w33"], "did you mean 'sun_w3'"),
     (["cut", T], "--out"),
     (["play", T, "--builds", "0"], "builds"),
     (["play", T, "--years", "-1"], "years"),

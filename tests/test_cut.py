@@ -432,3 +432,46 @@ def test_cut_into_a_new_folder_in_the_demo_folder_makes_nothing(capsys):
         for leftover in (inside, inside.parent):
             if leftover.is_dir():
                 leftover.rmdir()
+
+
+def test_one_wheel_is_cut_alone_as_in_the_whole_set(tmp_path, capsys):
+    """--wheel NAME writes that wheel's files only (no plates, no sheet), the same drawing as
+    the whole set's (the SVG byte for byte; a DXF carries its time of writing, so its outline);
+    given twice, two wheels."""
+    whole = _cut(tmp_path, SMALL)
+    capsys.readouterr()
+    one = tmp_path / "one"
+    assert main(["cut", str(SMALL), "--out", str(one), "--wheel", "middle_wheel"]) == 0
+    out = capsys.readouterr().out
+    assert sorted(p.name for p in one.iterdir()) == ["wheel-middle_wheel.dxf",
+                                                      "wheel-middle_wheel.svg"]
+    svg = "wheel-middle_wheel.svg"
+    assert (one / svg).read_bytes() == (whole / svg).read_bytes()
+    assert np.array_equal(_outline(ezdxf.readfile(one / "wheel-middle_wheel.dxf")),
+                          _outline(ezdxf.readfile(whole / "wheel-middle_wheel.dxf")))
+    assert "wrote 2 files (one per part)" in out and "plate" not in out
+    doc = ezdxf.readfile(one / "wheel-middle_wheel.dxf")  # 60 teeth at module 0.5: d = m z
+    (pitch,) = [c for c in doc.modelspace().query("CIRCLE") if c.dxf.layer == "PITCH"]
+    assert pitch.dxf.radius == pytest.approx(0.5 * 60 / 2, abs=1e-12)
+    two = tmp_path / "two"
+    assert main(["cut", str(SMALL), "--out", str(two), "--wheel", "hand_wheel", "--wheel",
+                 "drive_pinion", "--formats", "svg", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert [p["wheel"] for p in data["parts"]] == ["drive_pinion", "hand_wheel"]
+    assert sorted(p.name for p in two.iterdir()) == ["wheel-drive_pinion.svg",
+                                                      "wheel-hand_wheel.svg"]
+
+
+def test_an_unknown_wheel_to_cut_is_a_usage_error_listing_the_wheels(tmp_path, capsys):
+    out = tmp_path / "none"
+    assert main(["cut", str(SMALL), "--out", str(out), "--wheel", "midle_wheel"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "usage error: argument --wheel: no wheel 'midle_wheel'" in err
+    assert "did you mean 'middle_wheel'?" in err
+    assert "its wheels: drive_pinion, middle_wheel, middle_pinion, hand_wheel" in err
+    assert not out.exists()  # refused before the folder is made
+    bare = tmp_path / "bare.toml"  # a wheel in no mesh with a module cannot be drawn
+    bare.write_text(SMALL.read_text().replace("module_mm = 0.6", "# no module"))
+    assert main(["cut", str(bare), "--out", str(out), "--wheel", "hand_wheel"]) == 1
+    err = capsys.readouterr().err.strip()
+    assert "bare.toml: wheel 'hand_wheel' is in no mesh with a module_mm" in err, err

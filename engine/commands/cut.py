@@ -7,7 +7,7 @@ import os
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from ..errors import OutputError, WheelworkError
+from ..errors import OutputError, UsageError, WheelworkError
 from ..train import TOOTH_FORMS
 from . import support
 
@@ -17,6 +17,7 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
     from ..drawing import CutSet
 
 FORMATS = ("svg", "dxf")
+LIST_WHEELS = 60  # an unknown --wheel lists at most this many of the train's wheels
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -29,6 +30,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         "the file's [workshop] tooth_form, else cycloidal)")
     parser.add_argument("--formats", default="svg,dxf", type=_formats, metavar="LIST",
                         help="which files to write: svg, dxf or svg,dxf (default)")
+    parser.add_argument("--wheel", action="append", default=None, metavar="NAME",
+                        help="cut this wheel only (its files alone: no plates or sheet); "
+                        "give it again for more wheels")
     support.add_force(parser, "drawings")
     parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")
 
@@ -48,17 +52,18 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
     train = load_train(args.train)
     kin = solve(train)
-    cut = cut_parts(train, kin, args.form)
+    only = _wheels_asked(train, args.wheel) if args.wheel else None
+    cut = cut_parts(train, kin, args.form, only)
     if not any(p.kind == "wheel" for p in cut.parts):  # a plate alone has nothing to hold
         raise WheelworkError(f"{train.source}: no mesh has a module_mm, so there is nothing to "
                              "draw; add module_mm to the [[meshes]] tables")
-    sheet = layout_sheet(cut.parts)
+    sheets = [] if only else [layout_sheet(cut.parts)]
     folder = Path(args.out)
     _make_folder(folder)
     # every file is checked (exists, link, device, the train itself...) before any is written
     outs = [(part, fmt, support.OutputFile(folder / f"{part.name}.{fmt}", option="--out",
                                            force=args.force, inputs=[args.train]))
-            for part in [*cut.parts, sheet] for fmt in args.formats]
+            for part in [*cut.parts, *sheets] for fmt in args.formats]
     written = []
     for part, fmt, out in outs:
         text = to_svg(part) if fmt == "svg" else to_dxf(part)
@@ -68,8 +73,37 @@ def run(args: argparse.Namespace, console: Console) -> int:
     if args.json:
         support.print_json(console, to_json(cut, written))
     else:
-        _print(cut, written, folder, console)
+        _print(cut, written, folder, console, sheet=not only)
     return 0
+
+
+def _wheels_asked(train, names: list[str]) -> list[str]:
+    """The wheels ``--wheel`` names, each checked: an unknown name is a usage error listing
+    the wheels there are (the nearest first); a wheel in no mesh with a module, a fault."""
+    import difflib
+
+    from ..drawing import wheel_modules
+
+    cut = wheel_modules(train)
+    out = []
+    for name in names:
+        name = name.strip()
+        if name not in train.wheels:
+            near = difflib.get_close_matches(name, list(train.wheels), n=1)
+            hint = f"did you mean '{near[0]}'? " if near else ""
+            names = list(train.wheels)
+            listed = ", ".join(names[:LIST_WHEELS]) + (
+                f" … ({len(names)} in all)" if len(names) > LIST_WHEELS else "")
+            raise UsageError(f"argument --wheel: no wheel {name!r} in {train.source}; {hint}"
+                             f"its wheels: {listed}", "wheelwork cut")
+        if name not in cut:
+            raise WheelworkError(f"{train.source}: wheel '{name}' is in no mesh with a "
+                                 "module_mm, so it cannot be drawn; add module_mm to its "
+                                 "[[meshes]] table (wheels with one: "
+                                 f"{', '.join(cut) or 'none'})")
+        if name not in out:
+            out.append(name)
+    return out
 
 
 def to_json(cut: CutSet, written: list[str]) -> dict:
@@ -79,7 +113,8 @@ def to_json(cut: CutSet, written: list[str]) -> dict:
             "files": written, "caveat": cut.caveat}
 
 
-def _print(cut: CutSet, written: list[str], folder: Path, console: Console) -> None:
+def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
+           sheet: bool = True) -> None:
     from rich.markup import escape
     from rich.table import Table
 
@@ -107,7 +142,7 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console) -> N
     notes = [(p.name, n) for p in cut.parts for n in p.notes]
     for name, n in notes:
         console.print(f"[cyan]note[/] {escape(name)}: {escape(n)}")
-    console.print(f"wrote {len(written)} files (one per part, plus sheet.*)")
+    console.print(f"wrote {len(written)} files (one per part{', plus sheet.*' if sheet else ''})")
     console.print(f"[dim]{escape(cut.caveat)}[/]")
 
 
