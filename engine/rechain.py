@@ -14,7 +14,15 @@ The answers keep the chain's shape: the same meshes, in the same places, with ne
 unchanged. A different number of stages would mean new arbors and meshes in the file, which
 the designer adds by hand (``wheelwork search --emit`` writes them).
 
-The search itself is :func:`engine.search.search`: exhaustive within the bounds. The target is
+Coaxial returns: where a searched mesh spans the same two axes as another mesh (the table
+orrery's planets go out to a layshaft and come back to a tube on the centre, every pair 65 mm
+apart), new teeth must keep the centre distance at the meshes' modules, or the check refuses
+the train. A mesh whose axes another mesh (kept as it is) or the file's positions hold apart
+must keep that distance: its tooth sum is fixed (``2 a / m``); two searched meshes that alone
+span two axes must agree with each other. Such a chain is searched by its own enumeration,
+mesh by mesh within those sums (:func:`_search_returns`), and says so (``PointerChain.returns``).
+
+The search itself is otherwise :func:`engine.search.search`: exhaustive within the bounds. The target is
 worked out exactly: the pointer's cycles per crank turn are an affine function ``a·P + b`` of
 the product ``P`` of the searched meshes' ratios (``b`` is what the rest of the train adds, for
 a pointer read against another arbor), found from the solver at two tooth sets and checked at a
@@ -28,8 +36,12 @@ import math
 from dataclasses import dataclass, replace
 from fractions import Fraction
 
+import numpy as np
+
+from .checks import TOLERANCE_MM, _axis_groups, centre_distance_mm
 from .edit import forbidden_factors
-from .errors import SearchError, TrainError
+from .errors import SearchCancelled, SearchError, TrainError
+from .figures import figure
 from .kinds import KINDS
 from .kinematics import solve
 from .mechanism import Mechanism
@@ -41,11 +53,35 @@ from .search import (
     MAX_TOP,
     Target,
     TrainResult,
+    WheelPair,
+    _make_result,
     make_constraints,
     reach,
     search,
 )
 from .train import FRAME, Train
+
+
+@dataclass(frozen=True)
+class Return:
+    """Searched meshes that must keep one centre distance (a coaxial return): ``stages``
+    index the chain's searched meshes, each at its module; ``distance_mm`` is what other
+    meshes or the file's positions hold the two axes at, None when the searched meshes alone
+    span them (then they need only agree); ``band_mm`` the distances within the check's
+    tolerance of every one of those."""
+
+    stages: tuple[int, ...]
+    labels: tuple[str, ...]  # the meshes as the file numbers them: "mesh 5 (drive_mars–…)"
+    modules: tuple[float, ...]
+    distance_mm: float | None
+    axes: str  # the two axes, "drive and lay_mercury"
+    band_mm: tuple[float, float] | None = None
+
+    def text(self) -> str:
+        meshes = " and ".join(label.split(" (")[0] for label in self.labels)
+        if self.distance_mm is None:
+            return f"{meshes} keep equal centre distances ({self.axes})"
+        return f"{meshes} keep {figure(self.distance_mm, 5)} mm between {self.axes}"
 
 
 @dataclass(frozen=True)
@@ -66,6 +102,7 @@ class PointerChain:
     b: Fraction
     sign: int  # the sign of P (each external mesh reverses)
     target_name: str
+    returns: tuple[Return, ...] = ()  # coaxial returns the answers keep
 
     def pointer_ratio(self, product: Fraction) -> Fraction:
         """The pointer's cycles per crank turn when the searched meshes multiply to
@@ -191,7 +228,47 @@ def pointer_chain(mech: Mechanism, pointer: str, frame: str | None = None,
     target = Target(abs(want), dpt, f"pointer {pointer}: {period.name}")
     return PointerChain(pointer, p.shows, frame, tuple(chosen),
                         tuple(s for s in meshes if s not in chosen), bool(whole), len(own),
-                        tuple(also), target, ideal, a, b, sign, period.name)
+                        tuple(also), target, ideal, a, b, sign, period.name,
+                        coaxial_returns(mech, chosen))
+
+
+def coaxial_returns(mech: Mechanism, chosen) -> tuple[Return, ...]:
+    """The centre distances the searched meshes ``chosen`` must keep (see the module's
+    docstring): meshes with a module, grouped by the two axes they span (arbors on one axis,
+    as the check reckons them)."""
+    train, kin = mech.train, mech.kin
+    groups = _axis_groups(train, kin)
+    by_wheels = {frozenset((m.driver, m.driven)): m for m in train.meshes}
+    searched = {frozenset((s.driver, s.driven)): i for i, s in enumerate(chosen)}
+
+    def axes_of(m) -> frozenset:
+        return frozenset((groups[train.wheels[m.driver].arbor],
+                          groups[train.wheels[m.driven].arbor]))
+
+    spans: dict[frozenset, list[int]] = {}
+    for key, i in searched.items():
+        m = by_wheels[key]
+        if m.module_mm is not None and not m.internal and len(axes_of(m)) == 2:
+            spans.setdefault(axes_of(m), []).append(i)
+    placed = {g: a.at_mm for a in train.arbors.values() for g in [groups[a.name]]
+              if a.at_mm is not None and a.mount == FRAME}
+    out = []
+    for pair, idx in spans.items():
+        kept = [m for m in train.meshes if m.module_mm is not None and not m.internal
+                and frozenset((m.driver, m.driven)) not in searched and axes_of(m) == pair]
+        g1, g2 = sorted(pair)
+        held = [centre_distance_mm(k.module_mm, train.wheels[k.driver].teeth,
+                                   train.wheels[k.driven].teeth) for k in kept]
+        if g1 in placed and g2 in placed:
+            held.append(math.dist(placed[g1], placed[g2]))
+        if not held and len(idx) == 1:
+            continue  # one mesh alone between two free axes: any distance will do
+        meshes = [by_wheels[frozenset((chosen[i].driver, chosen[i].driven))] for i in idx]
+        out.append(Return(
+            tuple(idx), tuple(m.label for m in meshes), tuple(m.module_mm for m in meshes),
+            (max(held) + min(held)) / 2 if held else None, f"{g1} and {g2}",
+            (max(held) - TOLERANCE_MM, min(held) + TOLERANCE_MM) if held else None))
+    return tuple(out)
 
 
 def chain_search(chain: PointerChain, wheels="8-150", pinions="8-150",
@@ -224,11 +301,17 @@ def chain_search(chain: PointerChain, wheels="8-150", pinions="8-150",
             f"{float(lo):.4g} to {float(hi):.4g} turns per crank turn, the pointer needs "
             f"{float(t):.4g}; widen the tooth ranges"
             + ("" if chain.whole else ", or search the whole chain"))
-    report = search(chain.target, cons, top=MAX_TOP if max_error_ppm else top,
-                    with_convergents=False, progress=progress, cancel=cancel)
+    if chain.returns:
+        results = _search_returns(chain, cons, top if max_error_ppm is None else MAX_TOP,
+                                  cancel)
+        if progress is not None:
+            progress(1.0)
+    else:
+        results = search(chain.target, cons, top=MAX_TOP if max_error_ppm else top,
+                         with_convergents=False, progress=progress, cancel=cancel).results
     dpt = chain.target.crank_days
     out = []
-    for res in report.results:
+    for res in results:
         teeth = {}
         for st, pair in zip(chain.stages, res.stages, strict=True):
             teeth[st.driver] = pair.driver
@@ -244,6 +327,99 @@ def chain_search(chain: PointerChain, wheels="8-150", pinions="8-150",
         if len(out) >= top:
             break
     return out
+
+
+MAX_RETURN_COMBINATIONS = 4_000_000
+"""The most tooth sets a chain with a coaxial return is enumerated over (32 MB of floats)."""
+
+
+def _sums(r: Return, lo: int, hi: int) -> list[tuple[int, ...]]:
+    """The tooth sums (one per mesh of the return, each from ``lo`` to ``hi``) that keep its
+    centre distance within the check's tolerance at the meshes' modules."""
+    def fitting(m: float, dist: float, band=None) -> list[int]:
+        a, b = band or (dist - TOLERANCE_MM, dist + TOLERANCE_MM)
+        return [s for s in range(max(lo, math.floor(2 * a / m)), min(hi, math.ceil(2 * b / m))
+                                 + 1) if a <= m * s / 2.0 <= b]
+
+    if r.band_mm is not None:
+        each = [fitting(m, 0.0, r.band_mm) for m in r.modules]
+        return [tuple(c) for c in _product_lists(each)]
+    out = []
+    for s in range(lo, hi + 1):  # the first mesh's sum sets the distance the others keep
+        dist = r.modules[0] * s / 2.0
+        each = [[s]] + [fitting(m, dist) for m in r.modules[1:]]
+        out.extend(tuple(c) for c in _product_lists(each))
+    return out
+
+
+def _product_lists(lists):
+    out = [()]
+    for options in lists:
+        out = [c + (x,) for c in out for x in options]
+    return out
+
+
+def _search_returns(chain: PointerChain, cons, top: int, cancel=None) -> list[TrainResult]:
+    """The best ``top`` tooth sets for a chain with coaxial returns: every searched mesh a
+    driver and a driven count of the bounds (pinions driving a reducing train, as the general
+    search), the meshes of a return only at tooth sums keeping its centre distance; best
+    first, each ratio once (its fewest teeth)."""
+    drivers, driven = (np.array(c, dtype=np.int64) for c in cons.sides(chain.target))
+    k = len(chain.stages)
+    lo, hi = int(drivers.min() + driven.min()), int(drivers.max() + driven.max())
+    free = np.stack(np.meshgrid(drivers, driven, indexing="ij"), -1).reshape(-1, 2)
+
+    def pairs_with_sum(s: int) -> np.ndarray:
+        return free[free.sum(axis=1) == s]
+
+    # each part: (stage indices, array (n, len(stages), 2) of driver/driven counts)
+    parts = []
+    in_return = set()
+    for r in chain.returns:
+        options = []
+        for sums in _sums(r, lo, hi):
+            lists = [pairs_with_sum(s) for s in sums]
+            if any(len(x) == 0 for x in lists):
+                continue
+            grids = np.meshgrid(*[np.arange(len(x)) for x in lists], indexing="ij")
+            options.append(np.stack([x[g.ravel()] for x, g in zip(lists, grids, strict=True)],
+                                    axis=1))
+        if not options:
+            raise SearchError(f"no tooth counts of these bounds let {r.text()} at their "
+                              "modules; widen the tooth ranges, or change the modules in the "
+                              "train file")
+        parts.append((r.stages, np.concatenate(options)))
+        in_return.update(r.stages)
+    parts += [((i,), free[:, None, :]) for i in range(k) if i not in in_return]
+    size = math.prod(len(p[1]) for p in parts)
+    if size > MAX_RETURN_COMBINATIONS:
+        raise SearchError(f"keeping {'; '.join(r.text() for r in chain.returns)} leaves "
+                          f"{size:,} tooth sets to try, more than {MAX_RETURN_COMBINATIONS:,}; "
+                          "narrow the tooth ranges")
+    if cancel is not None and cancel():
+        raise SearchCancelled()
+    # log of each combination's ratio, part by part (the trailing axis the newest part)
+    logs = np.zeros(1)
+    for _, teeth in parts:
+        part_log = np.log(teeth[..., 0]).sum(axis=1) - np.log(teeth[..., 1]).sum(axis=1)
+        logs = (logs[:, None] + part_log[None, :]).ravel()
+    miss = np.abs(logs - math.log(chain.target.ratio))
+    keep = min(len(miss), 20 * top + 200)
+    best = np.argpartition(miss, keep - 1)[:keep] if keep < len(miss) else np.arange(len(miss))
+    sizes = [len(p[1]) for p in parts]
+    found: dict[Fraction, TrainResult] = {}
+    for flat in best[np.argsort(miss[best], kind="stable")]:
+        stages: list[WheelPair | None] = [None] * k
+        for (idx, teeth), j in zip(parts, np.unravel_index(int(flat), sizes), strict=True):
+            for i, (a, b) in zip(idx, teeth[j], strict=True):
+                stages[i] = WheelPair(int(a), int(b))
+        res = _make_result(tuple(stages), chain.target)
+        old = found.get(res.ratio)
+        if old is None or res.total_teeth < old.total_teeth:
+            found[res.ratio] = res
+    ranked = sorted(found.values(), key=lambda r: (abs(r.ratio / chain.target.ratio - 1),
+                                                    r.total_teeth))
+    return ranked[:top]
 
 
 def chain_edit_name(chain: PointerChain) -> str:

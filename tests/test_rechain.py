@@ -95,3 +95,102 @@ def test_the_ratio_now_is_the_pointers_ratio_with_the_trains_own_teeth(tide):
     for pointer in ("moon", "phase", "perigee", "node"):
         chain = pointer_chain(tide, pointer)
         assert chain.ratio_now == pointer_linear(tide.kin, tide.train.pointers[pointer]).crank
+
+
+# --- coaxial returns ---------------------------------------------------------------------
+
+def _distances(train, pairs):
+    from engine.checks import centre_distance_mm
+
+    out = []
+    for m in train.meshes:
+        if (m.driver, m.driven) in pairs:
+            out.append(centre_distance_mm(m.module_mm, train.wheels[m.driver].teeth,
+                                          train.wheels[m.driven].teeth))
+    return out
+
+
+@pytest.fixture(scope="module")
+def orrery():
+    return build(load_train(demo_path("table_orrery")), None)
+
+
+def test_a_coaxial_return_is_kept_by_every_answer(orrery):
+    """The orrery's Mars goes out to the layshaft 65 mm away and back to its tube on the
+    centre: both meshes, at their modules, must keep the 65 mm the other planets' meshes hold
+    (a = m (z1 + z2) / 2, common practice, no source). Every answer keeps it and passes the
+    check once put in (the search without the return gave 194 answers of 200 that broke it);
+    the demo's own 49/50 · 51/94 is the first answer at the bounds its file names."""
+    from engine.checks import TOLERANCE_MM, check
+
+    chain = pointer_chain(orrery, "mars")
+    (ret,) = chain.returns
+    assert ret.stages == (0, 1) and ret.distance_mm == pytest.approx(65, abs=0.01)
+    assert ret.text() == "mesh 5 and mesh 6 keep 65 mm between drive and lay_mercury"
+    answers = chain_search(chain, pinions="10-60", wheels="20-160", top=20)
+    assert answers[0].stages_text() == "49/50 · 51/94" and len(answers) == 20
+    pairs = {(s.driver, s.driven) for s in chain.stages}
+    for a in answers:
+        train = _with_teeth(orrery.train, a.teeth)
+        for d in _distances(train, pairs):
+            assert d == pytest.approx(65, abs=TOLERANCE_MM), a.stages_text()
+        errors = [f for f in check(train, solve(train)).findings if f.level == "error"]
+        assert not errors, (a.stages_text(), errors[0].message)
+        assert pointer_linear(solve(train), train.pointers["mars"]).crank == a.ratio
+
+
+def test_a_return_out_of_the_bounds_says_so_in_one_line(orrery):
+    """Mercury's return at its modules needs tooth sums of 156 and 208 (0.8333 and 0.625 mm
+    over 65 mm): pinions of 8-30 with wheels up to 150 cannot make them."""
+    chain = pointer_chain(orrery, "mercury")
+    with pytest.raises(SearchError) as info:
+        chain_search(chain, pinions="8-30", wheels="20-150")
+    msg = str(info.value)
+    assert "mesh 1 and mesh 2 keep 65 mm" in msg and "\n" not in msg
+
+
+def test_two_searched_meshes_alone_between_two_axes_agree(tmp_path):
+    """Out to a layshaft and back with nothing else between the two axes: the answers may
+    move the layshaft, but both meshes span the same distance at their modules."""
+    from engine.checks import TOLERANCE_MM
+
+    text = """
+[crank]
+arbor = "centre"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+[arbors.centre]
+wheels = { out = 20 }
+[arbors.lay]
+wheels = { lay_in = 60, lay_out = 15 }
+[arbors.hand]
+wheels = { back = 45 }
+axis_with = "centre"
+[[meshes]]
+wheels = ["out", "lay_in"]
+module_mm = 0.5
+[[meshes]]
+wheels = ["lay_out", "back"]
+module_mm = 0.8
+[pointers.moon]
+shows = "moon"
+arbor = "hand"
+"""
+    path = tmp_path / "ret.toml"
+    path.write_text(text)
+    mech = build(load_train(path), None)
+    chain = pointer_chain(mech, "moon")
+    (ret,) = chain.returns
+    assert ret.distance_mm is None and ret.text().endswith("keep equal centre distances "
+                                                           "(centre and lay)")
+    answers = chain_search(chain, pinions="8-40", wheels="20-150", top=10)
+    assert answers
+    for a in answers:
+        d1, d2 = _distances(_with_teeth(mech.train, a.teeth), {("out", "lay_in"),
+                                                               ("lay_out", "back")})
+        assert d1 == pytest.approx(d2, abs=TOLERANCE_MM), a.stages_text()
+
+
+def test_a_chain_with_no_return_is_searched_as_before(tide):
+    assert all(pointer_chain(tide, p).returns == () for p in tide.train.pointers)

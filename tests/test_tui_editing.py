@@ -564,6 +564,36 @@ async def test_tooth_search_says_when_no_answer_beats_the_train():
 
 
 @sync
+async def test_an_answer_put_in_keeps_the_orrerys_coaxial_return():
+    """The orrery's Mars goes out to the layshaft and back, both meshes 65 mm long: the
+    screen names the return, and an answer put in leaves the check without an error (before,
+    the warnings panel showed the two meshes' distances disagreeing)."""
+    from engine.checks import TOLERANCE_MM, centre_distance_mm
+    from tui.app import engine_findings
+
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(160, 50)) as pilot:
+        screen = await open_teeth(pilot, app, "mars")
+        assert ("coaxial return: mesh 5 and mesh 6 keep 65 mm between drive and lay_mercury"
+                in text_of(screen.query_one("#teeth-chain")))
+        await run_search(pilot, app, screen, pinions="10-60", wheels="20-160")
+        ol = screen.query_one("#teeth-answers", OptionList)
+        assert "(as now)" in str(ol.get_option_at_index(0).prompt)
+        second = screen.answers[1]
+        ol.focus()
+        ol.highlighted = 1
+        await pilot.press("enter")
+        await pilot.pause()
+        train = app.session.mech.train
+        assert {w: train.wheels[w].teeth for w in second.teeth} == second.teeth
+        for m in train.meshes[4:6]:  # a = m (z1 + z2) / 2 (common practice, no source)
+            a = centre_distance_mm(m.module_mm, train.wheels[m.driver].teeth,
+                                   train.wheels[m.driven].teeth)
+            assert a == pytest.approx(65, abs=TOLERANCE_MM), m.label
+        assert not [f for f in engine_findings(app.session.mech) if f[0] == "error"]
+
+
+@sync
 async def test_tooth_search_keeps_forbidden_primes_and_refuses_bad_bounds(tmp_path):
     app = make_app(copy_tide(tmp_path))
     async with app.run_test(size=SIZE) as pilot:

@@ -754,6 +754,9 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         if chain.kept:
             t.append("\nkept as they are: ", style=ui(self)["muted"])
             t.append(" · ".join(f"{s.driver_teeth}/{s.driven_teeth}" for s in chain.kept))
+        for r in chain.returns:  # every answer keeps it (engine.rechain)
+            t.append("\ncoaxial return: ", style=ui(self)["muted"])
+            t.append(r.text())
         if row is not None:
             t.append("\nnow: ", style=ui(self)["muted"])
             t.append(f"{_ppm(row.after.period_error_ppm)} ppm, "
