@@ -817,7 +817,7 @@ async def test_findings_show_level_per_line_warnings_first():
         assert title == "warnings & notes: 1 warning, 2 notes"
 
 
-@pytest.mark.parametrize("demo", ["tide_office", "table_orrery", "planet_dial"])
+@pytest.mark.parametrize("demo", ["tide_office", "table_orrery", "planet_dial", "eclipse_board"])
 @sync
 async def test_the_side_column_fits_and_the_warnings_show(demo):
     """No panel of the right-hand column runs off its bottom, and the warnings panel keeps at
@@ -857,7 +857,8 @@ async def test_the_side_column_fits_and_the_warnings_show(demo):
             eclipse = screen.query_one("#eclipse")
             if predicts or demo == "table_orrery":
                 assert eclipse.display == (size != (80, 24) or predicts), size
-            assert eclipse.has_class("-joined") == (size == (80, 24) and demo == "tide_office")
+            assert eclipse.has_class("-joined") == (
+                size == (80, 24) and demo in ("tide_office", "eclipse_board")), size
 
 
 @pytest.mark.parametrize("size", [(160, 50), (200, 60), (250, 70)])
