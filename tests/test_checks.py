@@ -572,3 +572,12 @@ def test_the_tide_office_demo_has_no_warning():
     report = run_check(DEMO / "tide_office.toml")
     assert not levels(report, "warning"), [f.message for f in levels(report, "warning")]
     assert not levels(report, "error")
+
+
+def test_no_demo_train_has_a_wheel_over_another_arbors_axis():
+    """The bundled demos are laid out so that no tip circle reaches over another arbor's
+    axis (the lunation board's moon_mid_driver, 33 mm to its tips, once stood 12.6 mm from
+    the month arbor)."""
+    for path in sorted(DEMO.glob("*.toml")):
+        over = [f.message for f in run_check(path).findings if "reaches over" in f.message]
+        assert not over, (path.name, over)
