@@ -48,6 +48,12 @@ MAX_TEETH = 300
 """Largest practical tooth count on one blank (our rule): beyond it indexing needs compound
 division and spacing errors pile up (common practice, no source)."""
 
+MODULE_RANGE_MM = (0.05, 10.0)
+"""Modules outside these are more likely a unit slip than a design (our rule): the finest
+watch wheels are cut at about 0.05 mm (from memory), and past 10 mm a tooth is 22 mm deep,
+heavy machinery rather than a display. A module written in inches (0.02 in is 0.508 mm) or a
+diametral pitch (48 teeth per inch of diameter is 25.4 / 48 = 0.529 mm) lands outside them."""
+
 FINE_MODULE_MM = 0.5
 FINE_WHEEL_MAX_PITCH_MM = 120.0
 """A fine-toothed wheel (module 0.5 mm or less) larger than 120 mm across must be kept so flat
@@ -348,6 +354,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
     _teeth_rules(train, modules, findings)
+    _module_rules(train, findings)
     from .play import backlash_finding  # here: play imports this module's Finding
 
     if (loose := backlash_finding(train)) is not None:
@@ -917,6 +924,26 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
                     "and true to keep its shallow teeth in mesh (our rule)", f"use module "
                     f"{FINE_MODULE_MM * 1.2:g} mm or more, or keep it to {zmax} teeth at "
                     f"module {figure(mod, 6)}"))
+
+
+def _module_rules(train: Train, findings: list[Finding]) -> None:
+    """A module far outside clock and watch work: likely inches or a diametral pitch."""
+    lo, hi = MODULE_RANGE_MM
+    for m in train.meshes:
+        mod = m.module_mm
+        if mod is None or lo <= mod <= hi:
+            continue
+        if mod < lo:
+            why = (f"finer than the finest watch teeth (about {lo:g} mm); module_mm is in "
+                   f"millimetres: {figure(mod, 6)} in would be {figure(mod * 25.4, 4)} mm")
+        else:
+            why = (f"coarser than {hi:g} mm, teeth {figure(2.25 * mod, 4)} mm deep; a "
+                   f"diametral pitch of {figure(mod, 6)} teeth per inch would be module "
+                   f"{figure(25.4 / mod, 4)} mm")
+        findings.append(Finding(
+            "warning", m.label, f"module {figure(mod, 6)} mm: {why} (our rule)",
+            "give module_mm in millimetres (module = pitch diameter in mm / teeth; "
+            "25.4 / diametral pitch)"))
 
 
 def _split_hint(z: int) -> str:

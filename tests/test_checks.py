@@ -347,6 +347,29 @@ def test_heaviest_stage_figure_is_the_load_index_and_says_so():
 
 # --- rules of thumb ------------------------------------------------------------------------
 
+@pytest.mark.parametrize("module, words", [
+    # 1 in = 25.4 mm exactly; a diametral pitch P is module 25.4 / P mm (standard gear
+    # geometry, any machinery handbook)
+    (0.02, "module 0.02 mm: finer than the finest watch teeth (about 0.05 mm); module_mm is "
+           "in millimetres: 0.02 in would be 0.508 mm (our rule)"),
+    (48, "module 48 mm: coarser than 10 mm, teeth 108 mm deep; a diametral pitch of 48 teeth "
+         "per inch would be module 0.5292 mm (our rule)"),
+    (0.05, None), (10, None), (0.8, None),
+])
+def test_a_module_in_inches_or_a_diametral_pitch_is_pointed_out(module, words):
+    text = header("a") + (
+        '[arbors.a]\nwheels = { a1 = 12 }\n[arbors.b]\nwheels = { b1 = 48 }\n'
+        f'[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = {module}\n'
+        '[pointers.p]\nshows = "moon"\narbor = "b"\nset_deg = 0\n')
+    found = said(text, "(our rule)")
+    found = [f for f in found if f.message.startswith("module ")]
+    if words is None:
+        assert not found
+    else:
+        (f,) = found
+        assert f.level == "warning" and f.item == "mesh 1 (a1–b1)" and f.message == words
+
+
 def test_small_pinion_rule():
     report = run_check(TRAINS / "small_pinion.toml")
     (warn,) = levels(report, "warning", "wheel 'five'")
