@@ -102,6 +102,9 @@ SHOWN = (
     "2024-10-02 18:45 UT (Gregorian) solar annular -0.3509",
     "{'hits': 356, 'misses': 8, 'false_alarms': 11}",
     "583.92",
+    "-0584-05-13 15:05 UT (Julian) = 585 BC lunar penumbral 1.0776",
+    "-0584-05-28 14:25 UT (Julian) = 585 BC solar total 0.3203",
+    "ΔT 18213 s ± 462 s", "-0584-05-28 00:00 UT (Julian) = 585 BC",
 )
 
 
