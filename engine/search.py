@@ -288,6 +288,16 @@ def reach(target: Target, constraints: Constraints) -> tuple[Fraction, Fraction]
     return lo, hi
 
 
+def _with_sense(stages: int, direction: str) -> int:
+    """The fewest stages, from ``stages`` up, that turn the output the way asked: an even
+    count keeps the crank's direction (``"same"``), an odd one reverses it."""
+    if direction == "same" and stages % 2:
+        return stages + 1
+    if direction == "reverse" and not stages % 2:
+        return stages + 1
+    return stages
+
+
 def check_reachable(target: Target, constraints: Constraints) -> None:
     """Refuse, before any work, a target the bounds cannot come near (more than 1% beyond the
     smallest or largest ratio they give), saying what would work. The command calls it;
@@ -312,8 +322,8 @@ def check_reachable(target: Target, constraints: Constraints) -> None:
             and need <= MAX_STAGES):
         fix = (f"{need} stages with --no-repeat need {2 * need} different counts and these "
                f"bounds allow {counts}: allow more counts, or drop --no-repeat")
-    elif need is not None and need <= MAX_STAGES and need > k and constraints.direction == "any":
-        fix = f"search --stages {need}"
+    elif need is not None and need > k and _with_sense(need, constraints.direction) <= MAX_STAGES:
+        fix = f"search --stages {_with_sense(need, constraints.direction)}"
     else:
         mid = math.sqrt(float(lo) * float(hi))  # the middle of what the bounds reach
         fix = (f"turn the crank nearer the output's speed, e.g. --crank-days "

@@ -528,6 +528,11 @@ def test_product_tables_equal_a_plain_enumeration(values, k, distinct):
     (["--ratio", "1e12"], "out of reach"),
     (["--period", "1e7"], "--crank-days"),
     (["--period", "3000", "--stages", "1"], "search --stages 3"),
+    # a year hand from a clock's 12-hour wheel, turning with it: four stages, not a faster
+    # crank (the advice was '--crank-days 365.2', which a clock's hour wheel cannot take)
+    (["--cycle", "tropical year", "--crank-days", "0.5", "--keep-direction"], "search --stages 4"),
+    (["--cycle", "tropical year", "--crank-days", "0.5", "--reverse-direction", "--stages",
+      "1"], "search --stages 3"),
     (["--ratio", "1/2", "--allowed", "10,12", "--stages", "2"], "out of reach"),
     (["--cycle", "synodic month", "--top", "5000"], "from 1 to 200"),
     (["--cycle", "synodic month", "--wheels", "8-20000"], "10,000"),
