@@ -46,6 +46,32 @@ def error_of(text: str) -> str:
     return msg
 
 
+NAMED = (GOOD.replace("[arbors.a]", "[arbors.hour_wheel]")
+         .replace('arbor = "a"', 'arbor = "hour_wheel"')
+         .replace("[arbors.b]", "[arbors.moon_out]").replace('arbor = "b"', 'arbor = "moon_out"')
+         .replace("b1", "moon_s3_driven"))
+
+
+@pytest.mark.parametrize("old, new, words", [
+    ('wheels = ["a1", "moon_s3_driven"]', 'wheels = ["a1", "moon_s3_drivn"]',
+     "mesh 1 (a1–moon_s3_drivn): unknown wheel 'moon_s3_drivn'; did you mean 'moon_s3_driven'? "
+     "(wheels are named in"),
+    ('arbor = "moon_out"', 'arbor = "moon_outt"',
+     "[pointers.p] arbor: unknown arbor 'moon_outt'; did you mean 'moon_out'?"),
+    ('arbor = "hour_wheel"', 'arbor = "hour_whel"',
+     "[crank] arbor: unknown arbor 'hour_whel'; did you mean 'hour_wheel'?"),
+    ('arbor = "moon_out"', 'arbor = "sun_hand"', "[pointers.p] arbor: unknown arbor 'sun_hand'"),
+])
+def test_a_name_one_slip_off_is_answered_with_the_files_own(old, new, words):
+    """A maker's names are long ('moon_s3_driven', 'year_out'): a slip in one was answered
+    only 'unknown wheel …'; the file's nearest name is offered, and none when none is near."""
+    assert solve(parse_train(NAMED, "good.toml"))
+    assert old in NAMED
+    msg = error_of(NAMED.replace(old, new, 1))
+    assert words in msg, msg
+    assert "?" in words or "did you mean" not in msg, msg
+
+
 def test_good_file_loads_with_exact_fraction():
     train = parse_train(GOOD, "good.toml")
     assert train.crank.days_per_turn.numerator == 1388  # 6940/235 reduced to 1388/47
@@ -53,7 +79,7 @@ def test_good_file_loads_with_exact_fraction():
 
 
 @pytest.mark.parametrize("old,new,words", [
-    ('wheels = ["a1", "b1"]', 'wheels = ["a1", "zz"]', ["mesh 1", "unknown wheel 'zz'"]),
+    ('wheels = ["a1", "b1"]', 'wheels = ["a1", "zz"]', ["mesh 1", "unknown wheel 'zz' (wheels"]),
     ('arbor = "b"\nreversed', 'arbor = "nowhere"\nreversed', ["[pointers.p] arbor",
                                                              "unknown arbor 'nowhere'"]),
     ("a1 = 20", "a1 = 0", ["wheel 'a1'", "more than zero"]),
