@@ -482,6 +482,13 @@ def test_command_tables_carry_no_e_notation(capsys, tmp_path):
         out = capsys.readouterr().out
         assert not e_notation.search(out), (argv, e_notation.search(out))
     assert main(["ratios", str(fast)]) == 0 and " d " in capsys.readouterr().out
+    # a year hand on a clock's seconds arbor: a ratio of 0.000002 ('= 2.083333333e-06')
+    slow = tmp_path / "slow.toml"
+    slow.write_text(hall.read_text().replace("middle_wheel = 60", "middle_wheel = 6000")
+                    .replace("hand_wheel = 64", "hand_wheel = 6400"))
+    assert main(["ratios", str(slow)]) == 0
+    out = capsys.readouterr().out
+    assert "cycles per crank turn = 0.000002083333333" in out and not e_notation.search(out)
 
 
 def test_check_heading_and_mesh_columns_carry_no_e_notation(capsys, tmp_path):

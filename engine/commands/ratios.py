@@ -69,7 +69,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
         # a pointer running the wrong way has its period right and its sense wrong: say so in
         # its own row, not only in the warning at the end
         name = r.pointer + (" (runs backwards)" if r.pointer in backwards else "")
-        table.add_row(name, f"{r.period_days:.10g}", f"{r.target_days:.10g}",
+        table.add_row(name, f"{support.figure(r.period_days, 10)}", f"{support.figure(r.target_days, 10)}",
                       f"{r.period_error_ppm:+.3f}", f"{r.drift_deg_per_century:+.4f}",
                       _years(r.years_to_one_day))
     support.print_table(console, table)
@@ -86,7 +86,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       f"{escape(what)}{sense}; "
                       f"stands for the {r.target_name}")
         support.print_indented(console, f"ratio {r.ratio.numerator}/{r.ratio.denominator} "
-                               f"cycles per crank turn = {float(r.ratio):.10g}", 3)
+                               f"cycles per crank turn = {support.figure(float(r.ratio), 10)}", 3)
         stages = " × ".join(s.text() for s in r.stages) or r.route
         support.print_indented(console, f"stages {stages}", 3)
         if r.relative_to:
@@ -103,17 +103,17 @@ def run(args: argparse.Namespace, console: Console) -> int:
             sy = r.synodic
             support.print_indented(
                 console, f"laps the Earth arm '{escape(sy.earth_arm)}' every "
-                f"{sy.period_days:.10g} d ({abs(sy.ratio.numerator)}/{sy.ratio.denominator} turns "
+                f"{support.figure(sy.period_days, 10)} d ({abs(sy.ratio.numerator)}/{sy.ratio.denominator} turns "
                 f"{'gained' if sy.ratio > 0 else 'lost'} per crank turn) against the "
-                f"{sy.target_name} of {sy.target_days:.10g} d: {sy.period_error_ppm:+.3f} ppm, "
+                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {sy.period_error_ppm:+.3f} ppm, "
                 f"{sy.drift_deg_per_century:+.4f}°/century", 3, markup=True)
         elif r.synodic:
             sy = r.synodic
             support.print_indented(
                 console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
                 f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
-                f"per crank turn, {sy.period_days:.10g} d against the {sy.target_name} of "
-                f"{sy.target_days:.10g} d: {sy.period_error_ppm:+.3f} ppm, "
+                f"per crank turn, {support.figure(sy.period_days, 10)} d against the {sy.target_name} of "
+                f"{support.figure(sy.target_days, 10)} d: {sy.period_error_ppm:+.3f} ppm, "
                 f"{sy.drift_deg_per_century:+.4f}°/century", 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:
