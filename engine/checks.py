@@ -19,7 +19,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from .defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY  # with their sources
+from .defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, FACE_M  # with their sources
 from .figures import figure
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
@@ -103,8 +103,9 @@ class MeshCheck:
     ``upstream`` is the wheel the power comes from (as the solver reaches the train from the
     crank); ``ratio`` is downstream turns per upstream turn relative to ``reference`` (the frame
     or the carrier holding both axes), signed. ``tooth_force_n`` is the tangential tooth force
-    per N·m of torque at the crank, and ``load_index`` that force per mm² of module squared
-    (faces taken proportional to the module) — for ranking the stages only.
+    per N·m of torque at the crank, and ``load_index`` that force over module × face width
+    (N/mm²; the mesh's ``face_mm``, else :data:`~engine.defaults.FACE_M` modules; ``face_mm``
+    is the width used) — for ranking the stages only.
     """
 
     index: int
@@ -126,6 +127,7 @@ class MeshCheck:
     pitch_speed_m_s: float | None
     tooth_force_n: float | None
     load_index: float | None
+    face_mm: float | None = None
 
 
 @dataclass(frozen=True)
@@ -359,7 +361,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
 
     if (loose := backlash_finding(train)) is not None:
         findings.append(loose)
-    _load_rules(report, findings)
+    _load_rules(train, report, findings)
     missing = [m.index for m in train.meshes if m.module_mm is None]
     if missing:
         nums = ", ".join(str(i) for i in missing)
@@ -515,8 +517,9 @@ def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
         ratio = Fraction(up.teeth, down.teeth) * f.sign
         step_up = up.teeth > down.teeth
         mod = m.module_mm
-        d1 = d2 = a = v = force = load = None
+        d1 = d2 = a = v = force = load = face = None
         if mod is not None:
+            face = FACE_M * mod if m.face_mm is None else m.face_mm
             d1 = pitch_diameter_mm(mod, train.wheels[m.driver].teeth)
             d2 = pitch_diameter_mm(mod, train.wheels[m.driven].teeth)
             a = centre_distance_mm(mod, train.wheels[m.driver].teeth,
@@ -527,10 +530,10 @@ def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
             t_up = by_name[up.arbor].torque
             if t_up is not None:
                 force = 2.0 * t_up / (d_up / 1000.0)
-                load = force / mod ** 2
+                load = force / (mod * face)
         out.append(MeshCheck(m.index, m.label, m.driver, m.driven, train.wheels[m.driver].teeth,
                              train.wheels[m.driven].teeth, m.internal, f.reference, up.name,
-                             down.name, ratio, step_up, mod, d1, d2, a, v, force, load))
+                             down.name, ratio, step_up, mod, d1, d2, a, v, force, load, face))
         if step_up:
             findings.append(Finding(
                 "note", m.label, f"step-up stage: '{up.name}' ({up.teeth}) drives "
@@ -953,7 +956,7 @@ def _split_hint(z: int) -> str:
     return f"{z} is prime: choose a nearby ratio that factors, or a larger module and blank"
 
 
-def _load_rules(report: CheckReport, findings: list[Finding]) -> None:
+def _load_rules(train: Train, report: CheckReport, findings: list[Finding]) -> None:
     """Point at the stage where the highest torque meets the smallest teeth."""
     loaded = [m for m in report.meshes if m.load_index is not None]
     if len(loaded) < 2:
@@ -964,10 +967,13 @@ def _load_rules(report: CheckReport, findings: list[Finding]) -> None:
         return  # the stages are loaded alike: nothing stands out
     up = worst.upstream if worst.upstream == worst.driver else worst.driven
     teeth = worst.driver_teeth if up == worst.driver else worst.driven_teeth
+    given = train.meshes[worst.index - 1].face_mm is not None
+    assumed = "" if given else f" ({FACE_M:g} modules, assumed: no face_mm)"
     findings.append(Finding(
         "note", worst.label, f"the heaviest-loaded teeth in the train: about "
         f"{_fmt(worst.tooth_force_n)} N on the teeth of '{up}' ({teeth}) per N·m at the crank, "
-        f"at module {figure(worst.module_mm, 6)} mm; its load index (force / module², faces "
-        f"taken as proportional to the module) is {_fmt(worst.load_index / least.load_index)} "
-        f"times the lightest stage's (estimate)", "give this stage the largest module or the "
-        "widest faces, and size it by gear rating if it bears load"))
+        f"at module {figure(worst.module_mm, 6)} mm and face {figure(worst.face_mm, 4)} mm"
+        f"{assumed}; its load index (force / (module × face)) is "
+        f"{_fmt(worst.load_index / least.load_index)} times the lightest stage's (estimate)",
+        "give this stage the largest module or the widest faces, and size it by gear rating "
+        "if it bears load"))

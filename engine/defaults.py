@@ -30,6 +30,11 @@ DEFAULT_TILT_DEG = 0.25
 LEVER_MM = 10.0
 """How far a wheel sits from the pivot about which its arbor tilts (our assumption)."""
 
+FACE_M = 3.0
+"""Face width of a wheel, in modules, where a mesh gives no ``face_mm`` (clock wheels run a
+few modules wide; common practice, no source): the check's load index and play's end-shake
+rule."""
+
 # --- search (engine/search.py) ---------------------------------------------------------------
 
 SEARCH_MAX_TOP = 200  # trains listed at most: more is a table nobody reads, and costs minutes

@@ -81,7 +81,7 @@ _KEYS = {
     "crank": {"arbor", "days_per_turn"},
     "epoch": {"date", "set", "calendar", "ephemeris"},
     "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "note"},
-    "mesh": {"wheels", "ring", "module_mm", "note"},
+    "mesh": {"wheels", "ring", "module_mm", "face_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
                  "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
     "pointer": {"shows", "seen_from", "arbor", "relative_to", "per_turn", "reversed",
@@ -587,11 +587,14 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
         module = tbl.get("module_mm")
         if module is not None:
             module = r.number(module, f"{item} module_mm", positive=True, limit=1000.0)
+        face = tbl.get("face_mm")
+        if face is not None:
+            face = r.number(face, f"{item} face_mm", positive=True, limit=1000.0)
         earlier = seen.get(frozenset(pair))
         if earlier is not None:
             raise r.fail(item, f"repeats {earlier.label}: the same two wheels are "
                          "listed in mesh twice; remove one")
-        mesh = Mesh(i, a, b, ring, module)
+        mesh = Mesh(i, a, b, ring, module, face)
         seen[frozenset(pair)] = mesh
         meshes.append(mesh)
     return tuple(meshes)

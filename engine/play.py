@@ -40,6 +40,7 @@ from .defaults import (  # with their sources
     DEFAULT_ECCENTRICITY_MM,
     DEFAULT_END_SHAKE_MM,
     DEFAULT_TILT_DEG,
+    FACE_M,
     LEVER_MM,
 )
 from .errors import ArgumentError
@@ -70,10 +71,6 @@ its standard thickness, too thin to carry or wear (common practice, no source). 
 DEPTH_RULE_M = 0.25
 """Rule of thumb: a mesh whose centre distance can open by more than a quarter of the module
 runs out of depth (the tips ride on the tips; common practice, no source)."""
-
-FACE_M = 3.0
-"""Face width assumed for a wheel, in modules (the file has no key for it; common practice,
-no source)."""
 
 END_SHAKE_RULE = 0.5
 """Rule of thumb: end-shake more than half the face width lets a wheel ride off its pinion's
@@ -525,11 +522,13 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
                               "turn (rule of thumb)",
                               "true the wheels on their arbors (turn the blank's teeth on its "
                               "own arbor), or use a larger module here"))
-        face = FACE_M * m.module_mm
+        face = FACE_M * m.module_mm if m.face_mm is None else m.face_mm
+        given = (f"assumed ({figure(face, 3)} mm = {FACE_M:g} modules)" if m.face_mm is None
+                 else f"({figure(face, 4)} mm, face_mm)")
         if tol.end_shake_mm > END_SHAKE_RULE * face:
             flags.append(Flag(m.label, f"end-shake of {tol.end_shake_mm:g} mm is more than "
-                              f"half the face width assumed ({face:.3g} mm = {FACE_M:g} "
-                              "modules): the wheel can ride off its pinion (rule of thumb)",
+                              f"half the face width {given}: the wheel can ride off its "
+                              "pinion (rule of thumb)",
                               "reduce the end-shake, or make the pinion's leaves longer than "
                               "the wheel's face by twice the end-shake"))
     return flags

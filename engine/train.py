@@ -48,6 +48,7 @@ class Mesh:
     driven: str
     ring: str | None = None
     module_mm: float | None = None
+    face_mm: float | None = None  # face width of the narrower wheel, where the file gives it
 
     @property
     def internal(self) -> bool:

@@ -327,8 +327,8 @@ def test_heaviest_stage_figure_is_the_load_index_and_says_so():
     # By hand (F = 2 T / d; an arbor's torque is the crank's times the speed ratio's inverse
     # and the efficiency of each stage, common practice, no source): mesh 1, 1 N·m on
     # d = 5 mm: 400 N; mesh 2, 6 · 0.98 N·m on d = 4 mm: 2,940 N. Load index F / m²: 1,600
-    # and 18,375, so the index is 11.5 times the first stage's while the force is 7.35 times:
-    # the figure must say which it is.
+    # and 18,375 with faces of 3 modules (F / (m b): 533.3 and 6,125), so the index is 11.5
+    # times the first stage's while the force is 7.35 times: the figure must say which it is.
     text = header("motor") + (
         '[arbors.motor]\nwheels = { mp = 10 }\n[arbors.mid]\nwheels = { mw = 60, np = 10 }\n'
         '[arbors.slow]\nwheels = { sw = 60 }\n'
@@ -341,11 +341,35 @@ def test_heaviest_stage_figure_is_the_load_index_and_says_so():
     assert f1 == pytest.approx(400, rel=REL) and f2 == pytest.approx(2940, rel=REL)
     (note,) = [f for f in report.findings if "heaviest-loaded" in f.message]
     assert "2,940 N" in note.message and "module 0.4 mm" in note.message
-    assert "load index (force / module²" in note.message
+    assert "load index (force / (module × face))" in note.message
+    assert "face 1.2 mm (3 modules, assumed: no face_mm)" in note.message
     assert "is 11.5 times the lightest stage's" in note.message  # 18,375 / 1,600
 
 
 # --- rules of thumb ------------------------------------------------------------------------
+
+def test_face_width_of_a_mesh_enters_its_load_index():
+    # The same two stages with face widths given (face_mm): the index is F / (m b), a
+    # bending-stress figure up to the form factor (Lewis: σ = F / (b m Y), standard gear
+    # geometry). Mesh 1: 400 / (0.5 · 4) = 200; mesh 2: 2,940 / (0.4 · 2) = 3,675: 18.4 times.
+    text = header("motor") + (
+        '[arbors.motor]\nwheels = { mp = 10 }\n[arbors.mid]\nwheels = { mw = 60, np = 10 }\n'
+        '[arbors.slow]\nwheels = { sw = 60 }\n'
+        '[[meshes]]\nwheels = ["mp", "mw"]\nmodule_mm = 0.5\nface_mm = 4\n'
+        '[[meshes]]\nwheels = ["np", "sw"]\nmodule_mm = 0.4\nface_mm = 2\n'
+        '[pointers.year]\nshows = "sun"\narbor = "slow"\nset_deg = 0\n')
+    train = parse_train(text, "t.toml")
+    report = check(train, solve(train))
+    assert [m.face_mm for m in report.meshes] == [4.0, 2.0]
+    assert [m.load_index for m in report.meshes] == pytest.approx([200, 3675], rel=REL)
+    (note,) = [f for f in report.findings if "heaviest-loaded" in f.message]
+    assert "at module 0.4 mm and face 2 mm;" in note.message and "18.4 times" in note.message
+    # wider faces on the slow stage bring it level: 2,940 / (0.4 · 36.75) = 200, no note
+    wide = parse_train(text.replace("face_mm = 2", "face_mm = 36.75"), "t.toml")
+    report = check(wide, solve(wide))
+    assert report.meshes[1].load_index == pytest.approx(200, rel=REL)
+    assert not [f for f in report.findings if "heaviest-loaded" in f.message]
+
 
 @pytest.mark.parametrize("module, words", [
     # 1 in = 25.4 mm exactly; a diametral pitch P is module 25.4 / P mm (standard gear

@@ -173,6 +173,22 @@ def test_eccentric_wheels_that_swing_a_mesh_out_of_depth_are_flagged():
     assert "0.22 mm" in flag.message
 
 
+def test_end_shake_rule_takes_the_face_width_the_file_gives():
+    # half the face: 3 modules (1.5 mm at module 0.5) assumed, else the mesh's face_mm
+    train = load_train(SMALL)
+    forms = {w: "cycloidal" for w in train.wheels}
+    tol = Tolerances(tilt_deg=0.0, eccentricity_mm=0.0, end_shake_mm=0.95)
+    assert len(depth_flags(train, tol, forms)) == 2  # over half of 1.5 mm and of 1.8 mm
+    text = SMALL.read_text().replace("module_mm = 0.5", "module_mm = 0.5\nface_mm = 2")
+    wide = parse_train(text, "wide.toml")
+    flags = depth_flags(wide, tol, forms)
+    assert [f.item for f in flags] == ["mesh 2 (middle_pinion–hand_wheel)"]
+    assert "face width assumed (1.8 mm = 3 modules)" in flags[0].message
+    narrow = parse_train(text.replace("face_mm = 2", "face_mm = 1.2"), "narrow.toml")
+    (flag, _) = depth_flags(narrow, tol, forms)
+    assert "face width (1.2 mm, face_mm)" in flag.message
+
+
 def test_play_command_text_and_json(capsys):
     assert main(["play", str(SMALL), "--years", "2", "--builds", "50", "--samples", "32"]) == 0
     out = capsys.readouterr().out
