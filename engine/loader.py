@@ -709,12 +709,12 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
         item = f"[pointers.{name}]"
         r.name(name, item)
         tbl = r.table(tbl, item, "pointer")
-        shows = r.need(tbl, "shows", item)
-        if isinstance(shows, str):
-            shows = shows.strip().lower()  # "Sun" is sun, as every enumerated value
+        written = r.need(tbl, "shows", item)
+        # "Sun" is sun, as every enumerated value; a refusal quotes what was written
+        shows = written.strip().lower() if isinstance(written, str) else written
         if not isinstance(shows, str) or shows not in KINDS and not any(
                 f"{shows}_from_sun" == k for k in KINDS):
-            raise r.fail(f"{item} shows", f"unknown pointer kind {_show(shows)} (known: "
+            raise r.fail(f"{item} shows", f"unknown pointer kind {_show(written)} (known: "
                          + ", ".join(k for k in KINDS if not k.endswith("_from_sun"))
                          + ", earth; planets seen from the Sun with seen_from = \"sun\")")
         seen_from = tbl.get("seen_from")
