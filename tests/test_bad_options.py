@@ -72,6 +72,7 @@ CASES: list[tuple[list[str], str]] = [
      "A-Z, a-z, 0-9"),
     (["search", "--cycle", "synodic month", "--emit", "x.toml", "--prefix", "lune_année"],
      "--prefix"),
+    (["search", "--cycle", "synodic month", "--prefix", "moon"], "give --emit FILE too"),
     (["search", "--cycle", "synodic month", "--stages", "0"], "outside 1-4"),
     (["search", "--cycle", "synodic month", "--stages", "3-1"], "empty"),
     (["search", "--cycle", "synodic month", "--stages", "x"], "cannot read"),

@@ -146,6 +146,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
         check_reachable(target, cons)
         if args.pick != 1 and not args.emit:
             raise SearchError("--pick chooses which result --emit writes; give --emit FILE too")
+        if args.prefix != "search" and not args.emit:  # it would name nothing, unsaid
+            raise SearchError("--prefix names the arbors and wheels of the fragment --emit "
+                              "writes; give --emit FILE too")
         if args.pick > args.top:
             raise SearchError(f"--pick {args.pick} is past the {args.top} trains --top asks "
                               f"for; give --top {args.pick} or more, or a smaller --pick")
