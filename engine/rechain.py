@@ -345,9 +345,11 @@ def _sums(r: Return, lo: int, hi: int) -> list[tuple[int, ...]]:
         each = [fitting(m, 0.0, r.band_mm) for m in r.modules]
         return [tuple(c) for c in _product_lists(each)]
     out = []
+    # three or more meshes: each within half the tolerance of the first, so any two agree
+    tol = TOLERANCE_MM if len(r.modules) == 2 else TOLERANCE_MM / 2
     for s in range(lo, hi + 1):  # the first mesh's sum sets the distance the others keep
         dist = r.modules[0] * s / 2.0
-        each = [[s]] + [fitting(m, dist) for m in r.modules[1:]]
+        each = [[s]] + [fitting(m, dist, (dist - tol, dist + tol)) for m in r.modules[1:]]
         out.extend(tuple(c) for c in _product_lists(each))
     return out
 

@@ -194,3 +194,66 @@ arbor = "hand"
 
 def test_a_chain_with_no_return_is_searched_as_before(tide):
     assert all(pointer_chain(tide, p).returns == () for p in tide.train.pointers)
+
+
+def test_three_searched_meshes_alone_between_two_axes_all_agree(tmp_path):
+    """Out, back and out again between two axes: any two of the three distances agree
+    within the check's tolerance (each within half of it of the first)."""
+    from engine.checks import TOLERANCE_MM
+
+    text = """
+[crank]
+arbor = "centre"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+[arbors.centre]
+wheels = { out = 20 }
+[arbors.lay]
+wheels = { lay_in = 60, lay_out = 15 }
+[arbors.tube]
+wheels = { back = 45, tube_out = 18 }
+axis_with = "centre"
+[arbors.lay2]
+wheels = { last = 54 }
+axis_with = "lay"
+[[meshes]]
+wheels = ["out", "lay_in"]
+module_mm = 0.5
+[[meshes]]
+wheels = ["lay_out", "back"]
+module_mm = 0.8
+[[meshes]]
+wheels = ["tube_out", "last"]
+module_mm = 0.7
+[pointers.hand]
+shows = "sun"
+arbor = "lay2"
+reversed = true
+"""
+    path = tmp_path / "three.toml"
+    path.write_text(text)
+    mech = build(load_train(path), None)
+    chain = pointer_chain(mech, "hand")
+    (ret,) = chain.returns
+    assert ret.stages == (0, 1, 2) and ret.distance_mm is None
+    answers = chain_search(chain, pinions="8-40", wheels="20-150", top=10)
+    assert answers
+    pairs = {("out", "lay_in"), ("lay_out", "back"), ("tube_out", "last")}
+    for a in answers:
+        d = _distances(_with_teeth(mech.train, a.teeth), pairs)
+        assert max(d) - min(d) <= TOLERANCE_MM + 1e-12, (a.stages_text(), d)
+
+
+def test_tooth_sums_of_three_meshes_keep_every_pair_within_the_tolerance():
+    """Modules 1, 1.0003 and 0.9997 at 100 teeth each span 50, 50.015 and 49.985 mm: each
+    within the check's 0.02 mm of the first, but 0.03 mm apart from each other, which the
+    check (measuring each against the first the file names, in whatever order) may refuse."""
+    from engine.checks import TOLERANCE_MM
+    from engine.rechain import Return, _sums
+
+    ret = Return((0, 1, 2), ("mesh 1", "mesh 2", "mesh 3"), (1.0, 1.0003, 0.9997), None,
+                 "a and b")
+    for sums in _sums(ret, 90, 110):
+        d = [m * s / 2 for m, s in zip(ret.modules, sums, strict=True)]
+        assert max(d) - min(d) <= TOLERANCE_MM + 1e-12, (sums, d)
