@@ -23,7 +23,7 @@ from .defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, FACE_M  # with thei
 from .figures import figure
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
-from .periods import PERIODS
+from .periods import PERIODS, SECONDS_PER_DAY
 from .train import FRAME, Train
 
 # --- defaults and rules of thumb (each with where it comes from) -----------------------------
@@ -74,6 +74,8 @@ LOAD_SPREAD = 2.0
 TOLERANCE_MM = 0.02
 """Centre distances and positions that agree within 0.02 mm are taken as equal (about the
 backlash of fine clock wheels; common practice, no source)."""
+
+MINUTES_PER_DAY = SECONDS_PER_DAY // 60
 
 CAVEAT = ("Speeds, torques and tooth loads are design estimates from ideal geometry and rules "
           "of thumb; for anything that bears load or is shown to the public, size and check "
@@ -198,6 +200,8 @@ class CheckReport:
     pin_slots: list[PinSlotCheck] = field(default_factory=list)
     findings: list[Finding] = field(default_factory=list)
     caveat: str = CAVEAT
+    real_time: bool = False  # True when crank_rpm is the train's own running speed
+    days_per_turn: Fraction | None = None  # the file's [crank] days_per_turn
 
     def count(self, level: str) -> int:
         return sum(f.level == level for f in self.findings)
@@ -325,16 +329,29 @@ def _power_flow(train: Train, kin: Kinematics):
 
 # --- the check -----------------------------------------------------------------------------
 
+def running_rpm(train: Train | Mechanism) -> float:
+    """The crank's own running speed in turns per minute: one turn every ``[crank]
+    days_per_turn`` days of the time shown, so ``1 / (days_per_turn × 1440)`` (a day has 1440
+    minutes), worked exactly and rounded once."""
+    train = getattr(train, "train", train)
+    return float(1 / (Fraction(train.crank.days_per_turn) * MINUTES_PER_DAY))
+
+
 def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm: float | None = None,
           efficiency: float | None = None,
-          pin_diameter_mm: float = DEFAULT_PIN_DIAMETER_MM) -> CheckReport:
+          pin_diameter_mm: float = DEFAULT_PIN_DIAMETER_MM, real_time: bool = False) -> CheckReport:
     """Check a solved train's geometry, speeds and loads; see the module docstring.
 
-    ``crank_rpm`` is the highest crank speed to evaluate (default :data:`DEFAULT_CRANK_RPM`),
-    ``efficiency`` the efficiency of each mesh and pin-and-slot stage (default
-    :data:`DEFAULT_EFFICIENCY`).
+    ``crank_rpm`` is the highest crank speed to evaluate (default :data:`DEFAULT_CRANK_RPM`);
+    ``real_time=True`` evaluates at the train's own running speed instead (:func:`running_rpm`,
+    from ``[crank] days_per_turn``) and cannot be given with ``crank_rpm``. ``efficiency`` is
+    the efficiency of each mesh and pin-and-slot stage (default :data:`DEFAULT_EFFICIENCY`).
     """
     train, kin = train_and_kin(train, kin)
+    if real_time:
+        if crank_rpm is not None:
+            raise ValueError("give crank_rpm or real_time, not both")
+        crank_rpm = running_rpm(train)
     crank_rpm = DEFAULT_CRANK_RPM if crank_rpm is None else float(crank_rpm)
     efficiency = DEFAULT_EFFICIENCY if efficiency is None else float(efficiency)
     if not (math.isfinite(crank_rpm) and crank_rpm > 0):
@@ -342,7 +359,8 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     if not (math.isfinite(efficiency) and 0 < efficiency <= 1):
         raise ValueError(f"efficiency must be above 0 and at most 1, got {efficiency}")
     report = CheckReport(train.name, train.source, train.crank.arbor, crank_rpm, efficiency,
-                         pin_diameter_mm)
+                         pin_diameter_mm, real_time=bool(real_time),
+                         days_per_turn=Fraction(train.crank.days_per_turn))
     findings = report.findings
     deps, upstream = _power_flow(train, kin)
     pin_checks = _pin_slots(train, pin_diameter_mm, findings, kin)

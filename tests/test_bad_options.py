@@ -107,6 +107,7 @@ CASES: list[tuple[list[str], str]] = [
     (["check", T, "--crank-rpm", "nan"], "positive"),
     (["check", T, "--crank-rpm", "1e300"], "at most"),
     (["check", T, "--crank-rpm", "x"], "not a number"),
+    (["check", T, "--real-time", "--crank-rpm", "30"], "not allowed with"),
     (["check", T, "--efficiency", "1.5"], "at most 1"),
     (["check", T, "--efficiency", "0"], "above 0"),
     (["check", T, "--efficiency", "nan"], "above 0"),

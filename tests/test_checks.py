@@ -628,3 +628,55 @@ def test_no_demo_train_has_a_wheel_over_another_arbors_axis():
     for path in sorted(DEMO.glob("*.toml")):
         over = [f.message for f in run_check(path).findings if "reaches over" in f.message]
         assert not over, (path.name, over)
+
+
+# --- the train's own running speed (--real-time) --------------------------------------------
+
+def test_real_time_speeds_worked_by_hand(capsys):
+    """The tide office's crank arbor turns once a day: 1/1440 rpm. Its first mesh's driver is
+    on that arbor, 10 teeth at module 0.5 (d = 5 mm), so its pitch line runs at
+    v = π d n = π × 0.005 m × (1/86400) turns a second (common practice, no source)."""
+    path = DEMO / "tide_office.toml"
+    report = run_check(path, real_time=True)
+    assert report.real_time and report.days_per_turn == 1
+    assert report.crank_rpm == pytest.approx(1 / 1440, rel=REL)
+    first = report.meshes[0]
+    assert (first.driver, first.driver_pitch_mm) == ("day_sun_pinion", pytest.approx(5.0))
+    assert first.pitch_speed_m_s == pytest.approx(math.pi * 0.005 / 86400, rel=1e-9)
+    # the same train at the hand default runs 86,400 times faster
+    hand = run_check(path)
+    assert not hand.real_time and hand.crank_rpm == 60
+    assert hand.meshes[0].pitch_speed_m_s == pytest.approx(first.pitch_speed_m_s * 86400, rel=1e-9)
+    for a, b in zip(report.arbors, hand.arbors, strict=True):
+        assert b.rpm_max == pytest.approx(a.rpm_max * 86400, rel=1e-9)
+    # a year-cranked orrery: one turn every 365.2422 days, 1 / (365.2422 × 1440) rpm
+    orrery = run_check(DEMO / "table_orrery.toml", real_time=True)
+    assert orrery.crank_rpm == pytest.approx(1 / (365.2422 * 1440), rel=REL)
+    assert orrery.days_per_turn == Fraction(3652422, 10000)
+    assert not [f for f in orrery.findings if "pitch-line speed" in f.message]
+
+
+def test_real_time_cli_heading_and_json(capsys):
+    path = str(DEMO / "tide_office.toml")
+    assert main(["check", path, "--real-time"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "at the train's own running speed, 0.000694444 rpm on 'day' (1 turn = 1 day)" in out
+    assert "pitch-line speed at the train's own running speed" in out
+    assert "design estimates" in out
+    assert main(["check", path, "--real-time", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["real_time"] is True and data["days_per_turn"] == "1"
+    assert data["crank_rpm"] == pytest.approx(1 / 1440, rel=REL)
+    assert "design estimates" in data["caveat"]
+    assert main(["check", path, "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["real_time"] is False and data["crank_rpm"] == 60
+
+
+def test_real_time_and_crank_rpm_exclude_each_other(capsys):
+    path = str(DEMO / "tide_office.toml")
+    assert main(["check", path, "--real-time", "--crank-rpm", "30"]) == 2
+    assert "not allowed with" in capsys.readouterr().err
+    train = load_train(path)
+    with pytest.raises(ValueError, match="not both"):
+        check(train, solve(train), crank_rpm=30, real_time=True)

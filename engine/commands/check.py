@@ -33,9 +33,13 @@ def _efficiency(text: str) -> float:
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
-    parser.add_argument("--crank-rpm", type=support.positive("turns per minute", MAX_CRANK_RPM), default=None, metavar="N",
-                        help=f"highest crank speed to evaluate, turns per minute (default "
-                        f"{DEFAULT_CRANK_RPM:g}: one turn a second by hand)")
+    speed = parser.add_mutually_exclusive_group()
+    speed.add_argument("--crank-rpm", type=support.positive("turns per minute", MAX_CRANK_RPM), default=None, metavar="N",
+                       help=f"highest crank speed to evaluate, turns per minute (default "
+                       f"{DEFAULT_CRANK_RPM:g}: one turn a second by hand)")
+    speed.add_argument("--real-time", action="store_true",
+                       help="evaluate at the train's own running speed instead: one crank turn "
+                       "every [crank] days_per_turn, as a clock or motor drives it")
     parser.add_argument("--efficiency", type=_efficiency, default=None, metavar="E",
                         help=f"efficiency of each mesh, 0-1 (default {DEFAULT_EFFICIENCY:g}, a "
                         "common rule for cut spur gears)")
@@ -50,7 +54,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..loader import load_train
 
     train = load_train(args.train)
-    report = check(train, solve(train), crank_rpm=args.crank_rpm, efficiency=args.efficiency)
+    report = check(train, solve(train), crank_rpm=args.crank_rpm, efficiency=args.efficiency,
+                   real_time=args.real_time)
     if args.json:
         support.print_json(console, report_to_dict(report))
     else:
@@ -97,19 +102,25 @@ def _print(report: CheckReport, console: Console) -> None:
     from rich.markup import escape
     from rich.text import Text
 
+    from ..dates import turn_days_text
     from ..exact import ratio_text
 
-    console.print(Text.assemble((report.train, "bold"), f" — mechanical check at up to "
-                                f"{support.figure(report.crank_rpm, 6)} rpm on "
-                                f"'{report.crank_arbor}', "
-                                f"{support.figure(report.efficiency, 6)} per stage"))
+    rpm = support.figure(report.crank_rpm, 6)
+    if report.real_time:  # the speed the clock or motor turns the crank at, from the file
+        speed = (f" — mechanical check at the train's own running speed, {rpm} rpm on "
+                 f"'{report.crank_arbor}' ({turn_days_text(report.days_per_turn)})")
+    else:
+        speed = f" — mechanical check at up to {rpm} rpm on '{report.crank_arbor}'"
+    console.print(Text.assemble((report.train, "bold"), speed,
+                                f", {support.figure(report.efficiency, 6)} per stage"))
     # Every column, always: when the table is wider than the console it is split in narrower
     # tables (or, failing that, becomes a list).
     meshes = support.plain_table(
         title="meshes", box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False,
         caption="d: pitch diameters m·z; a: centre distance; held by: the frame or carrier "
-        "holding both axes; m/s: pitch-line speed at the highest crank speed; force: tangential "
-        "tooth force per N·m at the crank")
+        "holding both axes; m/s: pitch-line speed at the "
+        + ("train's own running speed" if report.real_time else "highest crank speed")
+        + "; force: tangential tooth force per N·m at the crank")
     cols = [("#", "right"), ("wheels", "left"), ("teeth", "right"), ("m", "right"),
             ("d mm", "right"), ("a mm", "right"), ("held by", "left"), ("ratio", "right"),
             ("m/s", "right"), ("force N", "right")]
