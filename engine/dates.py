@@ -20,6 +20,11 @@ otherwise. Accepted text forms (case-insensitive, surrounding spaces ignored):
   guides write it: ``AD 1066-10-14``, ``14 October AD 1066``, ``June 21, AD 250``.
 * Day, month name, year: ``15 March 44 BC``, ``4 Oct 1957``, ``15 Mar 44 BC 12:00 UT``; or
   the month name first: ``March 15, 44 BC``, ``Oct 4 1957``, ``January 1, 2026 06:30``.
+* A year alone, read as 1 January 00:00 UT: ``250 BC``, ``AD 1066``, ``1066 AD``, ``1066``,
+  ``-0249``; a month with its year, read as its 1st: ``June 250 BC``, ``June AD 250``,
+  ``1066-10``, ``-0249-06`` (the same calendar rules as a full date). Refused as ambiguous: a
+  bare number of 5 or more digits (``JD 2451545`` if a Julian Date), and a month or month
+  number with a year of one or two digits and no era (``March 15``, ``12-10``).
 * A raw Julian Date: ``JD 2451545.0`` (taken as UT).
 * What wheelwork prints, read back: a trailing ``(Julian)`` or ``(Gregorian)`` names the
   date's calendar (``1582-10-10 (Julian)``; it overrides ``"auto"`` and must agree with a
@@ -64,7 +69,7 @@ RANGE_TEXT = (f"JD {JD_MIN:,.1f} to {JD_MAX:,.1f}, years -{YEAR_LIMIT} to {YEAR_
 AD_1_JD = _jd_of_year(1, "julian")  # 0001-01-01 00:00 (Julian): earlier years are BC
 
 FORMS_HINT = ("use e.g. 2025-03-20, 2025-03-20 09:30, -0100-03-01, 44-03-15 BC, "
-              "15 March 44 BC or JD 2451545.0")
+              "15 March 44 BC, June 250 BC, 1066 or JD 2451545.0")
 
 _MONTHS = {
     name: i + 1
@@ -332,6 +337,50 @@ def _era_after_year(s: str) -> str:
     return _AD_BEFORE_YEAR.sub(lambda m: f"{m['y']} {m['era']}", s)
 
 
+# A year alone, or a month and its year: read as the first day of it, 00:00 UT
+_YEAR_ONLY = re.compile(r"(?P<y>(?P<sign>[+-]?)(?P<digits>\d+))" + _ERA, re.IGNORECASE)
+_YEAR_MONTH = re.compile(r"(?P<y>(?P<sign>[+-]?)(?P<digits>\d{1,6}))-(?P<m>\d{1,2})" + _ERA,
+                         re.IGNORECASE)
+_MONTH_YEAR = re.compile(r"(?P<mname>[A-Za-z]+)\.?,?\s+(?P<y>(?P<sign>)(?P<digits>\d{1,6}))"
+                         + _ERA, re.IGNORECASE)
+_DECIMAL = re.compile(r"[+-]?(?:\d+\.\d*|\.\d+)")
+
+
+def _first_day(text: str, s: str) -> str:
+    """A year alone (``250 BC``, ``1066``, ``-0249``) or a month with its year (``June 250
+    BC``, ``1066-10``) written as the full date of its first day (``250-01-01 BC``, ``1
+    June 250 BC``), for :func:`_parse` to read with its own checks; a DateError for anything
+    else, and for a number that may not be a year at all."""
+    if _DECIMAL.fullmatch(s):
+        raise _fail(text, f"a bare number is not a date; for a Julian Date write 'JD {s}'")
+    m = _YEAR_ONLY.fullmatch(s) or _YEAR_MONTH.fullmatch(s)
+    if not m:
+        m = _MONTH_YEAR.fullmatch(s)
+        if not m or m["mname"].lower() not in _MONTHS:
+            raise _fail(text, "not a date form I know")
+    y, era = m["y"], f" {m['era']}" if m["era"] else ""
+    short = not era and not m["sign"] and len(m["digits"]) <= 2
+    if "m" in m.groupdict() and m["m"]:
+        if short:  # 12-10: the 12th of October, or October of AD 12?
+            raise _fail(text, f"it could be a month and day or a year and month; write the "
+                        f"year with four digits ({int(y):04d}-{m['m']}) or with its era "
+                        f"({y}-{m['m']} AD)")
+        return f"{y}-{m['m']}-01{era}"
+    if "mname" in m.groupdict():
+        if short:  # March 15: the 15th of March, or March of AD 15?
+            raise _fail(text, f"it could be a day of {m['mname']} or {m['mname']} of AD {y}; "
+                        f"write the day and the year ({m['mname']} {y}, 2026) or the era "
+                        f"({m['mname']} AD {y})")
+        return f"1 {m['mname']} {y}{era}"
+    if era and len(m["digits"]) > 6:
+        raise _fail(text, f"it is outside the dates wheelwork handles ({RANGE_TEXT})")
+    if not era and len(m["digits"]) >= 5:
+        as_year = f", for a year '{y}-01-01'" if len(m["digits"]) <= 6 else ""
+        raise _fail(text, f"a bare number of 5 or more digits is not read as a year; for a "
+                    f"Julian Date write 'JD {y}'{as_year}")
+    return f"{y}-01-01{era}"
+
+
 def _parse(text: str, s: str, cal: str) -> float:
     """:func:`parse_date` of ``s`` (``text`` tidied, without a printed calendar or BC year)."""
     s = _era_after_year(s)
@@ -348,7 +397,7 @@ def _parse(text: str, s: str, cal: str) -> float:
     else:
         m = _NAMED.fullmatch(s) or _NAMED_FIRST.fullmatch(s)
         if not m:
-            raise _fail(text, "not a date form I know")
+            return _parse(text, _first_day(text, s), cal)
         month = _MONTHS.get(m["mname"].lower())
         if month is None:
             raise _fail(text, f"unknown month name {m['mname']!r}")

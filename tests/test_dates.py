@@ -407,3 +407,97 @@ def test_an_iso_offset_from_ut_is_converted_as_toml_date_times_are():
     for bad in ("2026-03-20+01:00", "2026-03-20T09:30+15:00", "2026-03-20T09:30+01:61"):
         with pytest.raises(DateError):
             parse_date(bad)
+
+
+@pytest.mark.parametrize("text, jd", [
+    # JD 0 is noon of 1 January 4713 BC in the Julian calendar, so its midnight is JD -0.5
+    # (common practice, no source)
+    ("4713 BC", -0.5),
+    ("-4712", -0.5),
+    # J2000.0 is JD 2451545.0 at noon of 2000-01-01, so its midnight is 2451544.5 (common
+    # practice, no source)
+    ("2000", 2451544.5),
+    ("AD 2000", 2451544.5),
+    ("2000 AD", 2451544.5),
+    ("2000-01", 2451544.5),
+    ("January 2000", 2451544.5),
+    # 1582-10-15 (Gregorian, the first day of the reform) is JD 2299160.5 and 1582-10-04
+    # (Julian) the day before (common practice, no source): 1583 begins 78 days after the
+    # first, 1582 276 days before the second, October 1582 3 days before it
+    ("1583", 2299160.5 + 78),
+    ("1582", 2299159.5 - 276),
+    ("October 1582", 2299159.5 - 3),
+    ("1582-10", 2299159.5 - 3),
+])
+def test_a_year_or_month_alone_is_its_first_day(text, jd):
+    assert parse_date(text) == jd
+
+
+@pytest.mark.parametrize("text, same_as", [
+    ("250 BC", "250-01-01 BC"),
+    ("250 B.C.", "1 January 250 BC"),
+    ("-0249", "-0249-01-01 00:00"),
+    ("AD 1066", "1066-01-01"),
+    ("1066 AD", "1066-01-01"),
+    ("1066 CE", "1066-01-01"),
+    ("1066", "1066-01-01"),
+    ("333", "0333-01-01"),
+    ("0", "0000-01-01"),                 # astronomical year 0 = 1 BC
+    ("1 BC", "0000-01-01"),
+    ("June 250 BC", "1 June 250 BC"),
+    ("Jun. 250 BCE", "-0249-06-01"),
+    ("June 1066", "1066-06-01"),
+    ("June, 1066", "1066-06-01"),
+    ("June AD 250", "0250-06-01"),
+    ("June 44 BC", "-0043-06-01"),
+    ("1066-10", "1066-10-01"),
+    ("-0249-06", "-0249-06-01"),
+    ("44-03 BC", "44-03-01 BC"),
+    ("AD 1066-10", "1066-10-01"),
+    ("123456 BC", "-123455-01-01"),
+    ("-0584 = 585 BC", "-0584-01-01"),   # as wheelwork prints a year before AD 1
+])
+def test_a_year_or_month_alone_reads_as_the_full_date_of_its_first_day(text, same_as):
+    assert parse_date(text) == parse_date(same_as)
+
+
+def test_a_year_alone_keeps_the_calendar_rules():
+    # 1700 is a leap year in the Julian calendar only, so the Gregorian calendar is then 11
+    # days ahead from 1 March and 10 days before (common practice, no source)
+    assert parse_date("1700", calendar="julian") - parse_date("1700") == 10
+    assert parse_date("1700 (Julian)") == parse_date("1700-01-01", calendar="julian")
+    assert parse_date("March 1700 (Julian)") - parse_date("March 1700") == 11
+    assert parse_date("1500 (Gregorian)") == parse_date("1500-01-01", calendar="gregorian")
+    assert parse_date("1066", calendar="gregorian") == parse_date("1066-01-01",
+                                                                  calendar="gregorian")
+    with pytest.raises(DateError, match="says Julian"):
+        parse_date("1500 (Julian)", calendar="gregorian")
+    # the printed form reads back to the year as written
+    assert format_jd(parse_date("250 BC")) == "-0249-01-01 00:00 UT (Julian) = 250 BC"
+    assert format_jd(parse_date("June 250 BC")) == "-0249-06-01 00:00 UT (Julian) = 250 BC"
+
+
+@pytest.mark.parametrize("text, words", [
+    ("2451545", "write 'JD 2451545'"),
+    ("12345", "for a Julian Date write 'JD 12345', for a year '12345-01-01'"),
+    ("-12000", "write 'JD -12000'"),
+    ("2451545.0", "write 'JD 2451545.0'"),
+    ("2451545.", "write 'JD 2451545.'"),
+    ("AD 0", "no year 0 AD"),
+    ("0 BC", "no year 0 BC"),
+    ("June 0 BC", "no year 0 BC"),
+    ("-250 BC", "either a signed year or BC/AD"),
+    ("March 15", "could be a day of March or March of AD 15"),
+    ("Oct 4", "(Oct AD 4)"),
+    ("12-10", "could be a month and day or a year and month"),
+    ("1066-13", "month 13 is not 1-12"),
+    ("Smarch 1066", "not a date form"),
+    ("hello 2025", "not a date form"),
+    ("1234567 BC", "outside the dates wheelwork handles"),
+    ("1000000 AD", "outside the dates wheelwork handles"),
+])
+def test_a_year_or_month_alone_refuses_what_stays_ambiguous(text, words):
+    with pytest.raises(DateError) as info:
+        parse_date(text)
+    msg = str(info.value)
+    assert words in msg and repr(text) in msg and "\n" not in msg
