@@ -76,7 +76,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .angles import unwrap_deg, wrap_deg
-from .dates import as_jd, parse_step
+from .dates import MIN_STEP_DAYS, as_jd, parse_step
 from .errors import DriftCancelled, DriftError, WheelworkError
 from .exact import turns_mod1
 from .fitting import (
@@ -636,9 +636,12 @@ def step_note(name: str, step: float, motions) -> str | None:
     if not step > period / 2:
         return None
     what = what if what.startswith("the ") else f"the sky's {what}"  # not "the sky's the …"
+    advice = (f"use a step under {_days_text(period / 2)}" if period / 2 >= MIN_STEP_DAYS else
+              # a pointer on a motor-fast arbor: the finest step cannot follow it either
+              f"no step can follow it (the finest is {_days_text(MIN_STEP_DAYS)})")
     return (f"pointer '{name}': a step of {_days_text(step)} cannot follow {what}, "
             f"every {_days_text(period)}; the errors between the dates are not seen and no swing is "
-            f"sought: use a step under {_days_text(period / 2)}")
+            f"sought: {advice}")
 
 
 def _days_text(days: float) -> str:

@@ -58,10 +58,18 @@ MAX_WHEELS = 10_000
 MAX_MESHES = 5_000
 MAX_PIN_SLOTS = 50
 MAX_POINTERS = 200
-MIN_DAYS_PER_TURN = Fraction(1, SECONDS_PER_DAY)   # one crank turn a second of time shown
+# The fastest crank: 100 turns a second of the time shown (6000 rpm), so the shaft of a small
+# electric motor driving a display in real time can be the crank (1500 and 3000 rpm are common
+# motor speeds, common practice, no source); a faster figure is more likely a slip of units.
+MAX_CRANK_TURNS_PER_SECOND = 100
+MIN_DAYS_PER_TURN = Fraction(1, MAX_CRANK_TURNS_PER_SECOND * SECONDS_PER_DAY)
 MAX_DAYS_PER_TURN = Fraction(1_000_000)   # one crank turn in about 2,700 years
 MIN_PER_TURN = Fraction(1, 1_000_000)
 MAX_PER_TURN = Fraction(1_000_000)
+#: the bounds of [crank] days_per_turn in words, as every refusal of one says them
+DAYS_PER_TURN_BOUNDS = (f"1/{MIN_DAYS_PER_TURN.denominator} ({MAX_CRANK_TURNS_PER_SECOND} "
+                        f"turns a second, {MAX_CRANK_TURNS_PER_SECOND * 60:,} rpm) and "
+                        f"{int(MAX_DAYS_PER_TURN):,} days")
 MAX_MM = 1_000_000.0             # a kilometre: lengths and positions
 MAX_CROSSINGS = 64               # crossings (spokes) of one wheel
 MAX_DEG = 1_000_000.0            # angles (any number of whole turns, then reduced)
@@ -70,7 +78,7 @@ LIMITS = {
     "file size": f"{MAX_FILE_BYTES:,} bytes", "nesting": f"{MAX_NESTING} levels",
     "teeth": f"1 to {MAX_TEETH:,}", "arbors": f"{MAX_ARBORS:,}", "wheels": f"{MAX_WHEELS:,}",
     "meshes": f"{MAX_MESHES:,}", "pin-and-slot stages": f"{MAX_PIN_SLOTS}",
-    "pointers": f"{MAX_POINTERS}", "days_per_turn": "1/86400 (a second) to 1,000,000 days",
+    "pointers": f"{MAX_POINTERS}", "days_per_turn": DAYS_PER_TURN_BOUNDS,
     "per_turn": "1/1000000 to 1000000", "names": f"{MAX_NAME_CHARS} characters",
 }
 
@@ -670,8 +678,7 @@ def _read_crank(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> Crank:
     if arbors[arbor].fixed:
         raise r.fail("[crank] arbor", f"arbor '{arbor}' is fixed and cannot be cranked")
     days = r.fraction(r.need(tbl, "days_per_turn", "[crank]"), "[crank] days_per_turn",
-                      MIN_DAYS_PER_TURN, MAX_DAYS_PER_TURN,
-                      "1/86400 (one turn a second) and 1000000 days")
+                      MIN_DAYS_PER_TURN, MAX_DAYS_PER_TURN, DAYS_PER_TURN_BOUNDS)
     return Crank(arbor, days)
 
 

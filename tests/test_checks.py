@@ -680,3 +680,21 @@ def test_real_time_and_crank_rpm_exclude_each_other(capsys):
     train = load_train(path)
     with pytest.raises(ValueError, match="not both"):
         check(train, solve(train), crank_rpm=30, real_time=True)
+
+
+def test_real_time_on_a_motor_shaft(tmp_path, capsys):
+    """The tide office driven from a 1500 rpm motor shaft (days_per_turn = 1/(1500 × 1440)):
+    its first mesh's 5 mm pinion on the motor shaft runs at
+    v = π d n = π × 0.005 m × 1500/60 turns a second = 0.3927 m/s (common practice, no source)."""
+    text = (DEMO / "tide_office.toml").read_text(encoding="utf-8")
+    motor = tmp_path / "motor.toml"
+    motor.write_text(text.replace("days_per_turn = 1", 'days_per_turn = "1/2160000"', 1),
+                     encoding="utf-8")
+    report = run_check(motor, real_time=True)
+    assert report.crank_rpm == pytest.approx(1500, rel=REL)
+    assert report.meshes[0].pitch_speed_m_s == pytest.approx(math.pi * 0.005 * 1500 / 60,
+                                                             rel=1e-9)
+    assert report.arbors[0].rpm_max == pytest.approx(1500, rel=REL)
+    assert main(["check", str(motor), "--real-time"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "own running speed, 1500 rpm on 'day' (1 turn = 0.04 seconds)" in out, out[:300]

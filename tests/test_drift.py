@@ -792,6 +792,11 @@ def test_step_note_reads_for_a_fast_crank():
     assert "cannot follow the sun's mean motion, every 365.2 days" in note
     assert step_note("p", 1.0, [("the pointer's own turning", 0.5 / 24)]).endswith(
         "use a step under 15 minutes")
+    # a hand on a 6000 rpm motor shaft turns every 0.01 seconds: no step (1 second at the
+    # finest) follows it, and the note does not ask for one
+    note = step_note("p", 1.0, [("the pointer's own turning", 0.01 / 86400)])
+    assert "every 0.01 seconds" in note
+    assert note.endswith("no step can follow it (the finest is 1 second)"), note
 
 
 def test_daily_steps_seen_from_a_site_say_they_miss_the_moons_daily_parallax(sky):

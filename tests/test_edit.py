@@ -2,6 +2,7 @@
 undo/redo, the "differs from its file" flag, before/after ratio rows, and saving with the
 file's comments and layout kept."""
 
+import re
 import shutil
 from fractions import Fraction
 from pathlib import Path
@@ -89,6 +90,10 @@ def test_pin_slot_and_crank_edits(tide, sky):
         ed.set_pin_slot("anomaly", "pin_radius_mm", "2e7")  # past ±1,000,000 mm
     with pytest.raises(TrainError, match="got '1e400'"):  # as typed, not 'got inf'
         ed.set_days_per_turn("1e400")
+    with pytest.raises(TrainError, match=re.escape(  # the loader's bound, in its words
+            "must be between 1/8640000 (100 turns a second, 6,000 rpm) and 1,000,000 days, "
+            "got '1/9000000'")):
+        ed.set_days_per_turn("1/9000000")
     with pytest.raises(TrainError, match="only offset_mm and pin_radius_mm"):
         ed.set_pin_slot("anomaly", "pin", "x")
     assert ed.mech.train.pin_slots["anomaly"].offset_mm == 1.1

@@ -307,7 +307,8 @@ def test_epoch_outside_the_ephemeris_names_the_file(tmp_path):
 # --- limits, special files, text hygiene (every refusal one line, no hang) -------------------
 
 @pytest.mark.parametrize("value,words", [
-    ('"1e400"', ["[crank] days_per_turn", "between 1/86400", "1000000 days"]),
+    ('"1e400"', ["[crank] days_per_turn", "between 1/8640000 (100 turns a second",
+                "6,000 rpm) and 1,000,000 days"]),
     ('"1e308"', ["[crank] days_per_turn", "between"]),
     ("1e300", ["[crank] days_per_turn", "between"]),
     ("1e-300", ["[crank] days_per_turn", "between"]),
@@ -319,6 +320,19 @@ def test_days_per_turn_bounds(value, words):
     msg = error_of(GOOD.replace('"6940/235"', value))
     for w in words:
         assert w in msg, msg
+
+
+def test_a_motor_shaft_can_be_the_crank():
+    """A 1500 rpm motor shaft turns 1500 × 1440 = 2,160,000 times a day; 100 turns a second
+    (8,640,000 a day) is the fastest crank, and a hair faster is refused in the same words as
+    the parts screen's editor."""
+    for days, rpm in (("1/2160000", 1500), ("1/8640000", 6000), ("1/86400", 60)):
+        train = parse_train(GOOD.replace('"6940/235"', f'"{days}"'), "motor.toml")
+        assert train.crank.days_per_turn == Fraction(days)
+        assert 1 / (float(train.crank.days_per_turn) * 1440) == pytest.approx(rpm, rel=1e-12)
+    msg = error_of(GOOD.replace('"6940/235"', '"1/8640001"'))
+    assert "[crank] days_per_turn: must be between 1/8640000 (100 turns a second, 6,000 rpm) " \
+        "and 1,000,000 days, got '1/8640001'" in msg, msg
 
 
 @pytest.mark.parametrize("old,new,words", [

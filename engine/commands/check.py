@@ -97,18 +97,31 @@ def _num(x: float | None) -> str:
 
 
 
+def _turn_time(days_per_turn) -> str:
+    """``1 turn = 1 day``, ``1 turn = 0.04 seconds``: what a crank turn stands for, a turn
+    under a day in the unit that suits it, in plain figures."""
+    from ..dates import turn_days_text
+
+    days = float(days_per_turn)
+    if days >= 1:
+        return turn_days_text(days_per_turn)
+    size, unit = ((1 / 24, "hour") if days >= 1 / 24 else
+                  (1 / 1440, "minute") if days >= 1 / 1440 else (1 / 86400, "second"))
+    text = support.figure(days / size, 6)
+    return f"1 turn = {text} {unit}" + ("" if text == "1" else "s")
+
+
 def _print(report: CheckReport, console: Console) -> None:
     from rich import box
     from rich.markup import escape
     from rich.text import Text
 
-    from ..dates import turn_days_text
     from ..exact import ratio_text
 
     rpm = support.figure(report.crank_rpm, 6)
     if report.real_time:  # the speed the clock or motor turns the crank at, from the file
         speed = (f" — mechanical check at the train's own running speed, {rpm} rpm on "
-                 f"'{report.crank_arbor}' ({turn_days_text(report.days_per_turn)})")
+                 f"'{report.crank_arbor}' ({_turn_time(report.days_per_turn)})")
     else:
         speed = f" — mechanical check at up to {rpm} rpm on '{report.crank_arbor}'"
     console.print(Text.assemble((report.train, "bold"), speed,
