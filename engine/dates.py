@@ -558,12 +558,15 @@ def turn_days_text(days_per_turn, short: bool = False) -> str:
 
 
 def _exact_or_7(x: Fraction) -> str:
-    """A fraction as a decimal: exactly when it terminates within 7 places, else 7 digits."""
+    """A fraction as a decimal: exactly when it terminates within 7 places, else 7 significant
+    figures in plain figures (a motor-shaft crank: ``0.000000462963``, never e-notation)."""
+    from .figures import figure
+
     scaled = x * 10**7
     if scaled.denominator == 1:
         whole, rest = divmod(scaled.numerator, 10**7)
         return f"{whole}.{rest:07d}".rstrip("0").rstrip(".")
-    return f"{float(x):.7g}"
+    return figure(float(x), 7)
 
 
 _UNIX_EPOCH_JD = 2440587.5  # 1970-01-01 00:00 UTC as a Julian Date

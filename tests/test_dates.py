@@ -351,6 +351,9 @@ def test_turn_days_text():
     assert turn_days_text(Fraction("365.2422")) == "1 turn = 365.2422 days"
     assert turn_days_text(Fraction("29.530589"), short=True) == "1 turn = 29.530589 d"
     assert turn_days_text(Fraction(1, 3)) == "1 turn = 0.3333333 days"
+    # a crank once a second, and a 1500 rpm motor shaft: plain figures (it said 1.157407e-05)
+    assert turn_days_text(Fraction(1, 86400)) == "1 turn = 0.00001157407 days"
+    assert turn_days_text(Fraction(1, 2160000), short=True) == "1 turn = 0.000000462963 d"
 
 
 def test_jd_now_from_the_clock():

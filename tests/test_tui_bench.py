@@ -462,3 +462,20 @@ def test_a_step_in_time_follows_a_change_of_the_crank():
     session.set_step(Fraction(1, 24))  # a step in turns stays in turns
     session.adopt(make_app().session.mech)
     assert session.step == Fraction(1, 24) and session.step_days is None
+
+
+def test_a_year_step_on_a_motor_shaft_crank(tmp_path):
+    """A train whose crank is a 6000 rpm motor shaft (100 turns a second, the fastest a file may
+    give) still steps by a year: 365.25 × 8,640,000 = 3,155,760,000 turns, whole."""
+    text = demo_path("tide_office").read_text(encoding="utf-8")
+    motor = tmp_path / "motor.toml"
+    motor.write_text(text.replace("days_per_turn = 1", 'days_per_turn = "1/8640000"', 1),
+                     encoding="utf-8")
+    session = make_app(motor).session
+    assert session.turn_days == "1 turn = 0.0000001157407 days"  # plain figures
+    session.set_step(Fraction("365.25") * 8640000, Fraction("365.25"), "1y")
+    assert session.step == 3_155_760_000
+    assert session.step_text == "1y = 3155760000 turns"
+    start = session.jd_now()
+    session.crank(session.step)  # what + does
+    assert session.jd_now() - start == pytest.approx(365.25, abs=1e-6)

@@ -59,7 +59,9 @@ def default_speed_index(mech: Mechanism) -> int:
 FRAME_NAMES = FRAMES  # dial frame -> plain words
 #: what a re-set turns the pointers to, in plain words
 RESET_TO = {"sky": "the true sky", "mean": "mean positions"}
-MAX_STEP_TURNS = 10**9
+#: the largest step of + and −, in crank turns: a step of 31 years on the fastest crank a file
+#: may give (100 turns a second, a motor's shaft), exact in the int64 whole turns
+MAX_STEP_TURNS = 10**11
 #: while running faster than this (days of the train per frame), the eclipse readout waits
 ECLIPSE_MAX_DAYS_PER_FRAME = 40.0
 
