@@ -795,8 +795,11 @@ def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:
     if isinstance(value, _dt.time):
         raise DateError(f"{value.isoformat()} is a time of day without a date; write the date "
                         "too, like 2026-01-01T06:30:00Z")
-    jd_hint = (f', or a Julian Date in quotes, "JD {value}"'
-               if isinstance(value, (int, float)) and not isinstance(value, bool) else "")
+    number = isinstance(value, (int, float)) and not isinstance(value, bool)
+    jd_hint = (f', or a Julian Date in quotes, "JD {value}"' if number else "")
+    if isinstance(value, int) and not isinstance(value, bool) and -9999 <= value <= 9999:
+        # a year written bare: TOML reads it as a whole number; in quotes it is that year
+        jd_hint = f', or a year in quotes, "{value}" (its 1 January){jd_hint}'
     raise DateError(f"should be a date like \"2026-01-01 06:30\" (UT){jd_hint}, got "
                     f"{_show(value)}")
 

@@ -66,7 +66,8 @@ def _fraction(value: str | int | float | Fraction, what: str) -> Fraction:
         raise SearchError(str(exc)) from None
     if not MIN_VALUE <= number <= MAX_VALUE:
         raise SearchError(f"{what}: {value} is beyond what a train of wheels is searched for; "
-                          f"give a value from {float(MIN_VALUE):g} to {float(MAX_VALUE):g}")
+                          f"give a value from {figure(float(MIN_VALUE))} to "
+                          f"{figure(float(MAX_VALUE))}")
     return number
 
 

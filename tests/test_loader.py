@@ -125,6 +125,9 @@ def test_good_file_loads_with_exact_fraction():
      ["not valid TOML", "line", 'goes in quotes: date = "21 June 250 BC"']),
     ('date = "2026-01-01 00:00"', "date = 1630282.0",
      ["[epoch] date", 'a Julian Date in quotes, "JD 1630282.0"']),
+    # a year alone, unquoted: TOML's whole number, which in quotes is that year's 1 January
+    ('date = "2026-01-01 00:00"', "date = 1066",
+     ["[epoch] date", 'a year in quotes, "1066" (its 1 January)', '"JD 1066"']),
 ])
 def test_each_bad_item_is_named(old, new, words):
     assert old in GOOD
