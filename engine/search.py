@@ -35,6 +35,7 @@ from .errors import SearchCancelled, SearchError
 from .exact import fraction_text, parse_fraction
 from .figures import figure
 from .kinds import FRAMES, KINDS
+from .loader import DAYS_PER_TURN_BOUNDS, MAX_DAYS_PER_TURN, MIN_DAYS_PER_TURN
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, MeanPeriod, find_period
 
 MAX_STAGES = 4
@@ -139,6 +140,10 @@ def make_target(period=None, ratio=None, cycle: str | None = None,
     if len(given) != 1:
         raise SearchError("give exactly one target: a period in days, a ratio, or a cycle name")
     crank = _fraction(crank_days, "crank days per turn")
+    if not MIN_DAYS_PER_TURN <= crank <= MAX_DAYS_PER_TURN:  # what a train file can hold
+        raise SearchError(f"crank days per turn: {crank_days} is beyond what a train file's "
+                          f"[crank] days_per_turn takes: give one between "
+                          f"{DAYS_PER_TURN_BOUNDS}")
     if period is not None:
         days = _fraction(period, "period")
         return Target(crank / days, crank, f"period {period} days")

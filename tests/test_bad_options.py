@@ -90,6 +90,9 @@ CASES: list[tuple[list[str], str]] = [
     (["search", "--ratio", "1e-19"], "0.000000001 to 1,000,000,000,000"),
     (["search", "--period", "1", "--crank-days", "0"], "positive"),
     (["search", "--period", "1", "--crank-days", "1e300"], "0.000000001 to 1,000,000,000,000"),
+    # a crank no train file can hold: [crank] days_per_turn's own bounds, said in its words
+    (["search", "--period", "1", "--crank-days", "1e-8"], "between 1/8640000 (100 turns a"),
+    (["search", "--period", "1", "--crank-days", "2e6"], "and 1,000,000 days"),
     (["search", "--cycle", "synodic month", "--wheels", "150-8"], "empty"),
     (["search", "--cycle", "synodic month", "--wheels", "0-10"], "start at 1"),
     (["search", "--cycle", "synodic month", "--wheels", "8-20000"], "10,000"),

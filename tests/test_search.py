@@ -525,6 +525,7 @@ def test_product_tables_equal_a_plain_enumeration(values, k, distinct):
     (["--period", "1e400"], "from 0.000000001 to 1,000,000,000,000"),
     (["--ratio", "1e-19"], "from 0.000000001 to 1,000,000,000,000"),
     (["--crank-days", "1e300", "--period", "1"], "from 0.000000001 to 1,000,000,000,000"),
+    (["--crank-days", "1/9000000", "--period", "1"], "[crank] days_per_turn takes"),
     (["--ratio", "1e12"], "out of reach"),
     (["--period", "1e7"], "--crank-days"),
     (["--period", "3000", "--stages", "1"], "search --stages 3"),
