@@ -332,8 +332,15 @@ def check_reachable(target: Target, constraints: Constraints) -> None:
         fix = f"search --stages {_with_sense(need, constraints.direction)}"
     else:
         mid = math.sqrt(float(lo) * float(hi))  # the middle of what the bounds reach
-        fix = (f"turn the crank nearer the output's speed, e.g. --crank-days "
-               f"{figure(float(target.crank_days / target.ratio) * mid, 4).replace(',', '')}")
+        period = float(target.crank_days / target.ratio)  # days per output turn
+        # the crank that puts the target there, kept within what a train file takes
+        days = min(max(period * mid, float(MIN_DAYS_PER_TURN)), float(MAX_DAYS_PER_TURN))
+        if float(lo) / float(HOPELESS) <= days / period <= float(hi) * float(HOPELESS):
+            fix = (f"turn the crank nearer the output's speed, e.g. --crank-days "
+                   f"{figure(days, 4).replace(',', '')}")
+        else:
+            fix = (f"no crank a train file takes (days_per_turn between {DAYS_PER_TURN_BOUNDS}) "
+                   "brings it within their reach: widen --wheels and --pinions")
     raise SearchError(f"the target, {figure(float(r), 4)} turns per crank turn, is out of reach: "
                       f"{reach_text}; {fix}")
 
