@@ -537,7 +537,7 @@ def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
         mod = m.module_mm
         d1 = d2 = a = v = force = load = face = None
         if mod is not None:
-            face = FACE_M * mod if m.face_mm is None else m.face_mm
+            face = m.face_width_mm
             d1 = pitch_diameter_mm(mod, train.wheels[m.driver].teeth)
             d2 = pitch_diameter_mm(mod, train.wheels[m.driven].teeth)
             a = centre_distance_mm(mod, train.wheels[m.driver].teeth,

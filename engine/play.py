@@ -288,6 +288,12 @@ def backlash_fault(train: Train, backlash_mm: float | None) -> str | None:
             f"weak to carry {usual}")
 
 
+def _eccentricity_mm(train: Train, w: str, tol) -> float:
+    """Wheel ``w``'s eccentricity: its own in ``[workshop.wheels]``, else the tolerances'."""
+    own = train.workshop.wheel(w).eccentricity_mm
+    return tol.eccentricity_mm if own is None else own
+
+
 def backlash_finding(train: Train):
     """The check's error for the file's ``[workshop] backlash_mm`` past what teeth can have
     (:func:`backlash_fault`), or None."""
@@ -383,7 +389,7 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
         f = frames[m.index]
         for w in (m.driver, m.driven):
             own = train.workshop.wheel(w)
-            ecc = own.eccentricity_mm if own.eccentricity_mm is not None else tol.eccentricity_mm
+            ecc = _eccentricity_mm(train, w, tol)
             div = own.division if own.division is not None else tol.division
             amp = 0.0 if m.module_mm is None else ecc / (math.pi * m.module_mm)
             rate = _rate_in_mesh(train, kin, w, f.reference)
@@ -510,9 +516,7 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
                               "or use a larger module here"))
         # an eccentric wheel swings the centre distance by its eccentricity once a turn
         # (both wheels of the mesh at worst together): the same rule
-        ecc = {w: (train.workshop.wheel(w).eccentricity_mm
-                   if train.workshop.wheel(w).eccentricity_mm is not None
-                   else tol.eccentricity_mm) for w in (m.driver, m.driven)}
+        ecc = {w: _eccentricity_mm(train, w, tol) for w in (m.driver, m.driven)}
         swing = sum(ecc.values())
         if swing > limit:
             each = " and ".join(f"'{w}' {figure(e, 4)} mm" for w, e in ecc.items())
@@ -522,7 +526,7 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
                               "turn (rule of thumb)",
                               "true the wheels on their arbors (turn the blank's teeth on its "
                               "own arbor), or use a larger module here"))
-        face = FACE_M * m.module_mm if m.face_mm is None else m.face_mm
+        face = m.face_width_mm
         given = (f"assumed ({figure(face, 3)} mm = {FACE_M:g} modules)" if m.face_mm is None
                  else f"({figure(face, 4)} mm, face_mm)")
         if tol.end_shake_mm > END_SHAKE_RULE * face:

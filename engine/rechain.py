@@ -32,6 +32,7 @@ stands for on the chosen dial.
 
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass, replace
 from fractions import Fraction
@@ -343,21 +344,14 @@ def _sums(r: Return, lo: int, hi: int) -> list[tuple[int, ...]]:
 
     if r.band_mm is not None:
         each = [fitting(m, 0.0, r.band_mm) for m in r.modules]
-        return [tuple(c) for c in _product_lists(each)]
+        return list(itertools.product(*each))
     out = []
     # three or more meshes: each within half the tolerance of the first, so any two agree
     tol = TOLERANCE_MM if len(r.modules) == 2 else TOLERANCE_MM / 2
     for s in range(lo, hi + 1):  # the first mesh's sum sets the distance the others keep
         dist = r.modules[0] * s / 2.0
         each = [[s]] + [fitting(m, dist, (dist - tol, dist + tol)) for m in r.modules[1:]]
-        out.extend(tuple(c) for c in _product_lists(each))
-    return out
-
-
-def _product_lists(lists):
-    out = [()]
-    for options in lists:
-        out = [c + (x,) for c in out for x in options]
+        out.extend(itertools.product(*each))
     return out
 
 

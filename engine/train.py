@@ -9,6 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
+from .defaults import FACE_M
+
 FRAME = "frame"  # the name of the fixed frame, which every mount chain ends at
 
 SET_MODES = ("sky", "mean", "angles")
@@ -57,6 +59,14 @@ class Mesh:
     @property
     def label(self) -> str:
         return f"mesh {self.index} ({self.driver}–{self.driven})"
+
+    @property
+    def face_width_mm(self) -> float | None:
+        """The face width the load and end-shake rules take: ``face_mm`` where the file gives
+        it, else :data:`~engine.defaults.FACE_M` modules; None without a module."""
+        if self.face_mm is not None:
+            return self.face_mm
+        return None if self.module_mm is None else FACE_M * self.module_mm
 
 
 @dataclass(frozen=True)
