@@ -252,3 +252,7 @@ def _silence_stdout() -> None:
         os.dup2(devnull, sys.stdout.fileno())
     except (OSError, ValueError):
         pass
+
+
+if __name__ == "__main__":  # ``python -m engine.cli ...`` runs the same as ``python -m engine``
+    sys.exit(main())

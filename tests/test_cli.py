@@ -342,3 +342,11 @@ def test_a_train_named_without_toml_points_at_its_file(tmp_path, monkeypatch, ca
     assert main(["ratios", "hallclock"]) == 1
     err = capsys.readouterr().err
     assert "hallclock.toml" in err and "demos:" not in err and err.count("\n") == 1, err
+
+
+def test_python_m_engine_cli_runs_the_command():
+    # `python -m engine.cli --version` printed nothing and exited 0 (the module had no main guard)
+    done = subprocess.run([sys.executable, "-m", "engine.cli", "--version"], capture_output=True,
+                          text=True, stdin=subprocess.DEVNULL, timeout=60, cwd=ROOT)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.strip(), "nothing printed"
