@@ -105,7 +105,8 @@ class MeshCheck:
     ``upstream`` is the wheel the power comes from (as the solver reaches the train from the
     crank); ``ratio`` is downstream turns per upstream turn relative to ``reference`` (the frame
     or the carrier holding both axes), signed. ``tooth_force_n`` is the tangential tooth force
-    per N·m of torque at the crank, and ``load_index`` that force over module × face width
+    per N·m of torque at the crank when the arbor it loads most is the only load (virtual
+    work, :func:`_mesh_loads`), and ``load_index`` that force over module × face width
     (N/mm²; the mesh's ``face_mm``, else :data:`~engine.defaults.FACE_M` modules; ``face_mm``
     is the width used) — for ranking the stages only.
     """
@@ -524,9 +525,35 @@ def _ends(train: Train, mesh_index: int, src_arbor: str):
     return (w1, w2) if w1.arbor == src_arbor else (w2, w1)
 
 
+def _mesh_loads(train: Train, kin: Kinematics) -> list[float]:
+    """Each mesh's tangential tooth force, in N per N·m at the crank and per mm of module,
+    with no losses: the largest over the arbors it can load.
+
+    By virtual work, with the crank held, a slip of ``ε`` pitches (``ε π m`` mm) along mesh
+    ``i``'s pitch line turns arbor ``L`` by ``S_Li ε`` turns (:func:`engine.play.sensitivities`);
+    a load ``T_L`` there is held by a tooth force ``F`` when ``F ε π m = 2 π T_L S_Li ε``, so
+    ``F = 2 T_L |S_Li| / m``, and the crank's 1 N·m holds ``T_L = 1 / |turns of L per crank
+    turn|``. Along a plain chain every arbor after the mesh gives the same ``2 T / d``; in an
+    epicyclic train it is the load at the output that the planet's teeth carry, and a fixed
+    sun's mesh carries it too, which the planet arbor's own torque against the frame does not
+    say."""
+    from .play import sensitivities  # here: play imports this module
+
+    names, sens = sensitivities(train, kin)
+    rates = np.array([abs(float(kin.rate(n))) for n in names])
+    moving = rates > 0
+    out = []
+    for i in range(len(train.meshes)):
+        col = np.abs(sens[:, i])
+        per = np.where(moving, col / np.where(moving, rates, 1.0), 0.0)
+        out.append(2.0 * float(per.max(initial=0.0)))
+    return out
+
+
 def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
     by_name = {a.name: a for a in arbors}
     frames = {f.mesh_index: f for f in kin.mesh_frames}
+    loads = _mesh_loads(train, kin) if any(m.module_mm for m in train.meshes) else []
     out = []
     for m in train.meshes:
         f = frames[m.index]
@@ -545,9 +572,9 @@ def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
             rel = abs(float(kin.rate(up.arbor, f.reference if f.reference != FRAME else None)))
             d_up = pitch_diameter_mm(mod, up.teeth)
             v = math.pi * d_up / 1000.0 * rel * crank_rpm / 60.0
-            t_up = by_name[up.arbor].torque
-            if t_up is not None:
-                force = 2.0 * t_up / (d_up / 1000.0)
+            # the losses of the stages before this mesh (those its upstream arbor depends on)
+            if loads[m.index - 1] > 0:
+                force = loads[m.index - 1] / (mod / 1000.0) * by_name[up.arbor].efficiency
                 load = force / (mod * face)
         out.append(MeshCheck(m.index, m.label, m.driver, m.driven, train.wheels[m.driver].teeth,
                              train.wheels[m.driven].teeth, m.internal, f.reference, up.name,

@@ -346,6 +346,36 @@ def test_heaviest_stage_figure_is_the_load_index_and_says_so():
     assert "is 11.5 times the lightest stage's" in note.message  # 18,375 / 1,600
 
 
+def test_epicyclic_tooth_forces_carry_the_output_load():
+    # A carrier driven 12 -> 73 (module 0.4) round a fixed sun of 31 meshing a planet of 17,
+    # whose 16 drives an output sun of 32 (module 0.5; 31 + 17 = 16 + 32). By hand: the output
+    # turns 12/73 · (1 − 31/34) = 18/1241 per crank turn, so 1 N·m at the crank holds 1241/18 =
+    # 68.94 N·m there (virtual work), and the output sun's teeth (d = 16 mm) carry
+    # 2 · 68.94 / 0.016 = 8,618 N. The planet balances its two meshes about its own pivot,
+    # F2 · 4.25 mm = F3 · 4 mm, so the fixed sun's teeth carry 8,111 N (statics, worked by
+    # hand). The planet arbor's own torque against the frame (1241/576 N·m) gave 517 N, and
+    # the fixed sun's mesh none.
+    text = header("crank") + (
+        '[arbors.crank]\nwheels = { cp = 12 }\n[arbors.carrier]\nwheels = { cw = 73 }\n'
+        '[arbors.fixed_sun]\nwheels = { fs = 31 }\nfixed = true\naxis_with = "carrier"\n'
+        '[arbors.planet]\non = "carrier"\nwheels = { pa = 17, pb = 16 }\n'
+        '[arbors.out]\nwheels = { os = 32 }\naxis_with = "carrier"\n'
+        '[[meshes]]\nwheels = ["cp", "cw"]\nmodule_mm = 0.4\n'
+        '[[meshes]]\nwheels = ["fs", "pa"]\nmodule_mm = 0.5\n'
+        '[[meshes]]\nwheels = ["pb", "os"]\nmodule_mm = 0.5\n'
+        '[pointers.node]\nshows = "node"\narbor = "out"\nset_deg = 0\n')
+    train = parse_train(text, "t.toml")
+    report = check(train, solve(train), efficiency=1.0)
+    arb = {a.name: a for a in report.arbors}
+    assert arb["out"].turns_per_crank == Fraction(-18, 1241)
+    f1, f2, f3 = (m.tooth_force_n for m in report.meshes)
+    assert f1 == pytest.approx(2 / 0.0048, rel=1e-9)  # 2 T / d on the crank's 12 (4.8 mm)
+    assert f3 == pytest.approx(2 * 1241 / 18 / 0.016, rel=1e-9)
+    assert f2 == pytest.approx(f3 * 4.0 / 4.25, rel=1e-9)
+    (note,) = [f for f in report.findings if "heaviest-loaded" in f.message]
+    assert note.item == "mesh 3 (pb–os)"
+
+
 # --- rules of thumb ------------------------------------------------------------------------
 
 def test_face_width_of_a_mesh_enters_its_load_index():
