@@ -606,17 +606,39 @@ class _ChebGroup:
         # each date's slip in the record's own unit
         eps = slip + ((offset - j0 * step) - phase_steps * _GRID_PHASE_S)
         eps *= 2.0 / self.intlen
-        orders = self._orders(first, records, (largest_slip + _GRID_PHASE_S) * 2.0 / self.intlen)
-        if orders is None:
+        # Taylor orders for each series of the group from its own coefficients: the Sun's
+        # slow motion takes lower orders than the Earth-Moon barycentre's in the same records.
+        bound = (largest_slip + _GRID_PHASE_S) * 2.0 / self.intlen
+        orders = [self._orders(first, records, bound, i) for i in range(len(self.keys))]
+        if None in orders:
             return None
-        p_order, v_order = orders
         # P_d, the d-th derivative in s at every date's grid point, (coordinates, dates): one
         # product per order over all records (coordinates first, so the records' slots run
         # on in date order and nothing is transposed afterwards). The basis carries the
         # series' scale, and its derivatives the rate's unit too (km/day from units of s):
-        # p[d] for d >= 1 is rate · P_d.
+        # p[d] for d >= 1 is rate · P_d. Series of the group needing the same orders share
+        # their products.
         rate = 2.0 * SECONDS_PER_DAY / self.intlen
         by_coord = self.coef[first:first + records].transpose(1, 0, 2)
+        out = {}
+        for part_orders in dict.fromkeys(orders):
+            parts = [i for i, o in enumerate(orders) if o == part_orders]
+            lo, hi = 3 * parts[0], 3 * parts[-1] + 3
+            if hi - lo != 3 * len(parts):  # not one run of coordinates: each on its own
+                for i in parts:
+                    out.update(self._carry(by_coord[3 * i:3 * i + 3], [self.keys[i]],
+                                           part_orders, eps, rate, records, m, j0, n,
+                                           phase_steps))
+                continue
+            out.update(self._carry(by_coord[lo:hi], [self.keys[i] for i in parts], part_orders,
+                                   eps, rate, records, m, j0, n, phase_steps))
+        return {key: out[key] for key in self.keys}
+
+    def _carry(self, by_coord, keys, orders, eps, rate, records, m, j0, n, phase_steps):
+        """{key: (position, rate)} of the series ``by_coord`` (coordinates, records, terms)
+        for ``keys``, each date carried from its grid point through the Taylor series of
+        ``orders`` (position, rate) by its slip ``eps``."""
+        p_order, v_order = orders
         with _one_blas_thread():
             p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
                  for b in _grid_basis(self.nterms, m, self.intlen, phase_steps,
@@ -629,35 +651,42 @@ class _ChebGroup:
             pos *= eps * (0.5 / rate)
             pos += p[0]
         else:
-            pos, vel = _taylor(p, eps, p_order, 1.0 / rate), _taylor(p[1:], eps, v_order)
+            pos = _taylor(p, eps, p_order, 1.0 / rate)
+            # order 0: the rate at the grid point, a product of this call alone
+            vel = p[1] if v_order == 0 else _taylor(p[1:], eps, v_order)
         return {key: (pos[3 * i:3 * i + 3], vel[3 * i:3 * i + 3])
-                for i, key in enumerate(self.keys)}
+                for i, key in enumerate(keys)}
 
-    def _orders(self, first: int, count: int, eps: float) -> tuple[int, int] | None:
+    def _orders(self, first: int, count: int, eps: float,
+                part: int | None = None) -> tuple[int, int] | None:
         """:func:`_taylor_orders` for records ``first`` .. ``first + count - 1`` and slips of up
-        to ``eps``, remembered for each range of blocks (:meth:`_largest_terms`) and each
-        quarter octave of ``eps``, taken at the octave's top (orders that hold for a larger
-        slip hold for a smaller one)."""
+        to ``eps``, for the group's series ``part`` (an index into its keys; None: all of
+        them), remembered for each range of blocks (:meth:`_largest_terms`), each series and
+        each quarter octave of ``eps``, taken at the octave's top (orders that hold for a
+        larger slip hold for a smaller one)."""
         step = math.ceil(4.0 * math.log2(eps)) if eps > 0.0 else -4000
-        key = (first // _TOP_BLOCK, (first + count - 1) // _TOP_BLOCK, step)
+        key = (first // _TOP_BLOCK, (first + count - 1) // _TOP_BLOCK, step, part)
         memo = self.__dict__.setdefault("_orders_memo", {})
         if key not in memo:
-            memo[key] = _taylor_orders(self._largest_terms(first, count), self.nterms,
+            memo[key] = _taylor_orders(self._largest_terms(first, count, part), self.nterms,
                                        2.0 ** (step / 4.0), self.intlen, self.scale)
         return memo[key]
 
-    def _largest_terms(self, first: int, count: int) -> np.ndarray:
+    def _largest_terms(self, first: int, count: int, part: int | None = None) -> np.ndarray:
         """(terms,): the largest |c_j| over records ``first`` .. ``first + count - 1`` and
-        every coordinate — or over the blocks of :data:`_TOP_BLOCK` records holding them
-        (never smaller, so a bound from it still holds). Each block is scanned once and its
-        maxima kept with the series."""
+        the coordinates of the group's series ``part`` (None: every coordinate) — or over the
+        blocks of :data:`_TOP_BLOCK` records holding them (never smaller, so a bound from it
+        still holds). Each block is scanned once and its maxima, series by series, kept with
+        the series."""
         tops = self.__dict__.setdefault("_block_tops", {})
         blocks = range(first // _TOP_BLOCK, (first + count - 1) // _TOP_BLOCK + 1)
         for b in blocks:
             if b not in tops:
                 block = self.coef[b * _TOP_BLOCK:(b + 1) * _TOP_BLOCK]
-                tops[b] = np.maximum(block.max(axis=(0, 1)), -block.min(axis=(0, 1)))
-        return np.max([tops[b] for b in blocks], axis=0)
+                block = block.reshape(block.shape[0], -1, 3, block.shape[2])
+                tops[b] = np.maximum(block.max(axis=(0, 2)), -block.min(axis=(0, 2)))
+        top = np.max([tops[b] for b in blocks], axis=0)  # (series, terms)
+        return top.max(axis=0) if part is None else top[part]
 
 
 _TOP_BLOCK = 1024  # records a block when bounding the Taylor remainder

@@ -1036,6 +1036,20 @@ def test_grid_taylor_order_grows_with_slip(sky):
     assert orders(20 * 86400.0) is None
 
 
+def test_grid_taylor_orders_series_by_series(sky):
+    # Each series of a record layout takes the orders its own coefficients need (the bound
+    # of _taylor_orders; common practice, no source): on a 30 s slip the Sun's slow motion
+    # needs lower orders than the Earth-Moon barycentre's in the same 16-day records, and the
+    # group's orders over every coordinate are the larger ones. test_grid_path_matches_gather_path
+    # checks the values each carries.
+    group = next(g for g in sky._loaded.groups if (0, 10) in g.keys)
+    eps = 2.0 * 30.0 / group.intlen
+    emb = group._orders(1000, 100, eps, group.keys.index((0, 3)))
+    sun = group._orders(1000, 100, eps, group.keys.index((0, 10)))
+    assert sun[0] < emb[0] and sun[1] < emb[1], (sun, emb)
+    assert group._orders(1000, 100, eps) == emb
+
+
 def test_grid_path_ancient(sky406):
     # Half a minute a year of ΔT drift at 2000 BC, on DE406's arrays (scaled records).
     for step in (1.0, 0.25):
