@@ -906,6 +906,7 @@ def _tooth_forms(train: Train, findings: list[Finding]) -> dict:
         if not any(f.level == "error" and f.item == exc.item for f in findings):
             findings.append(Finding("error", exc.item, exc.problem, fix))  # not said already
         return {}
+    _deep_teeth(train, forms, findings)
     shop = train.workshop
     for w, tooth in forms.items():  # a bore chosen in [workshop] (the default one always fits)
         bore = shop.wheel(w).bore_mm or shop.bore_mm
@@ -916,6 +917,31 @@ def _tooth_forms(train: Train, findings: list[Finding]) -> dict:
                 f"give it a bore_mm under {figure(2 * tooth.root_radius_mm, 3)} mm in "
                 f"[workshop.wheels.{w}], or cut its leaves on the arbor"))
     return forms
+
+
+def _deep_teeth(train: Train, forms: dict, findings: list[Finding]) -> None:
+    """One note for every cycloidal wheel whose addendum is deep (a large pinion's generating
+    circle), as ``wheelwork cut`` gives it, naming the meshes: cut them involute."""
+    from .toothform import DEEP_ADVICE, deep_teeth, deep_teeth_text
+
+    deep = deep_teeth(forms)
+    if not deep:
+        return
+    where = {}
+    for w, _add, leaves in deep:  # the mesh with the pinion that sets the addendum
+        where[w] = next(m for m in train.meshes
+                        if w in (m.driver, m.driven) and m.module_mm is not None
+                        and not m.internal and train.wheels[
+                            m.driven if w == m.driver else m.driver].teeth == leaves)
+    deep.sort(key=lambda d: where[d[0]].index)
+    meshes = sorted({where[w].index for w, *_ in deep})
+    item = (where[deep[0][0]].label if len(meshes) == 1 else
+            "meshes " + ", ".join(str(i) for i in meshes))
+    findings.append(Finding(
+        "note", item, f"deep cycloidal teeth, as wheelwork cut draws them, on {len(deep)} "
+        f"wheel{'s' if len(deep) > 1 else ''}: {deep_teeth_text(deep)}: {DEEP_ADVICE}",
+        'cut these meshes involute ([workshop] tooth_form = "involute", or form = "involute" '
+        "for both wheels in [workshop.wheels.NAME]), or use pinions of 16 leaves or fewer"))
 
 
 def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding]) -> None:

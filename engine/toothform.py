@@ -54,6 +54,28 @@ DEEP_ADDENDUM_M = 1.75
 """A wheel addendum above this (large pinions: the generating circle grows with the pinion)
 is pointed out (our rule)."""
 
+DEEP_NOTE_START = "deep teeth ("
+DEEP_ADVICE = ("the cycloidal form suits pinions of 6 to 16 leaves; for larger pinions the "
+               "involute form gives shallower teeth")
+
+
+def deep_teeth(forms: dict) -> list[tuple[str, float, int]]:
+    """The cycloidal wheels of ``forms`` (name → :class:`ToothForm`) whose addendum is above
+    :data:`DEEP_ADDENDUM_M`: (name, addendum in modules, leaves of the pinion it meets), in
+    the order given."""
+    return [(w, t.params["addendum_m"], t.params["mate_leaves"]) for w, t in forms.items()
+            if t.form == "cycloidal" and t.role == "wheel"
+            and t.params["addendum_m"] > DEEP_ADDENDUM_M]
+
+
+def deep_teeth_text(deep: list[tuple[str, float, int]]) -> str:
+    """One line for every deep-toothed wheel at once: 'sun_w3 (addendum 2.05 m against 25
+    leaves), perigee_w1 (1.80 m against 19)'."""
+    parts = [f"{w} ({'addendum ' if i == 0 else ''}{add:.2f} m against {leaves}"
+             f"{' leaves' if i == 0 else ''})" for i, (w, add, leaves) in enumerate(deep)]
+    return ", ".join(parts)
+
+
 PINION_CLEARANCE_M = 0.4
 """Pinion dedendum = the wheel's addendum + this clearance, in modules (BS 978-2, from
 memory)."""
@@ -322,9 +344,8 @@ def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
     if root <= 0:
         raise ArgumentError(f"{teeth} teeth at dedendum {dedendum_m:.3g} m leave no root circle")
     if add > DEEP_ADDENDUM_M:
-        notes.append(f"deep teeth (addendum {add:.2f} m against {mate_leaves} leaves): the "
-                     "cycloidal form suits pinions of 6 to 16 leaves; for larger pinions "
-                     "the involute form gives shallower teeth")
+        notes.append(f"{DEEP_NOTE_START}addendum {add:.2f} m against {mate_leaves} leaves): "
+                     f"{DEEP_ADVICE}")
     flank = np.vstack([[[root, psi], [0.5 * (root + r), psi]],
                        _round_top(r, half, rad, r + add * m)])
     tip = float(flank[-1, 0])

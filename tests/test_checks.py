@@ -728,3 +728,22 @@ def test_real_time_on_a_motor_shaft(tmp_path, capsys):
     assert main(["check", str(motor), "--real-time"]) == 0
     out = " ".join(capsys.readouterr().out.split())
     assert "own running speed, 1500 rpm on 'day' (1 turn = 0.04 seconds)" in out, out[:300]
+
+
+def test_deep_cycloidal_teeth_one_note_naming_every_mesh():
+    # The tide office's cycloidal wheels against pinions of 19 to 48 leaves: cut draws their
+    # addenda at 1.80-2.28 modules, above the 1.75 m the cycloidal form suits (our rule; the
+    # addenda from the BS 978-2 construction, values from memory). The check says so once,
+    # naming the eight meshes, where it said nothing; cut, once for the eight wheels.
+    report = run_check(DEMO / "tide_office.toml")
+    deep = [f for f in report.findings if "deep cycloidal teeth" in f.message]
+    assert len(deep) == 1
+    (note,) = deep
+    assert note.level == "note" and note.item == "meshes 3, 4, 5, 6, 7, 10, 11, 12"
+    assert "on 8 wheels: sun_w3 (addendum 2.05 m against 25 leaves), perigee_w1 (1.80 m " \
+           "against 19)" in note.message
+    assert 'tooth_form = "involute"' in note.fix
+    # cut involute, nothing is deep
+    text = (DEMO / "tide_office.toml").read_text() + '\n[workshop]\ntooth_form = "involute"\n'
+    train = parse_train(text, "t.toml")
+    assert not [f for f in check(train, solve(train)).findings if "deep" in f.message]

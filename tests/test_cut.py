@@ -475,3 +475,12 @@ def test_an_unknown_wheel_to_cut_is_a_usage_error_listing_the_wheels(tmp_path, c
     assert main(["cut", str(bare), "--out", str(out), "--wheel", "hand_wheel"]) == 1
     err = capsys.readouterr().err.strip()
     assert "bare.toml: wheel 'hand_wheel' is in no mesh with a module_mm" in err, err
+
+
+def test_deep_teeth_are_one_note_for_all_wheels(tmp_path, capsys):
+    # eight deep-toothed cycloidal wheels in the tide office were eight two-line notes
+    assert main(["cut", "tide_office", "--out", str(tmp_path / "t")]) == 0
+    out = capsys.readouterr().out
+    assert out.count("deep teeth") == 1
+    assert "deep teeth on 8 wheels: sun_w3 (addendum 2.05 m against 25 leaves)" in " ".join(
+        out.split())

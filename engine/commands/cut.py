@@ -139,7 +139,18 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
         for h in p.info["holes"]:
             fixed = " (fixed by the file)" if h["fixed"] else ""
             console.print(f"  {escape(h['axis'])}: {h['x_mm']:.4f}, {h['y_mm']:.4f}{fixed}")
-    notes = [(p.name, n) for p in cut.parts for n in p.notes]
+    from ..toothform import DEEP_ADVICE, DEEP_NOTE_START, deep_teeth_text
+
+    # deep cycloidal teeth: one note for all the wheels that have them, not one each
+    deep = [(p.info["wheel"], p.info["proportions_m"]["addendum_m"],
+             p.info["proportions_m"]["mate_leaves"]) for p in cut.parts
+            if any(n.startswith(DEEP_NOTE_START) for n in p.notes)]
+    if deep:
+        console.print(f"[cyan]note[/] deep teeth on {len(deep)} "
+                      f"wheel{'s' if len(deep) > 1 else ''}: {escape(deep_teeth_text(deep))}: "
+                      f"{DEEP_ADVICE}")
+    notes = [(p.name, n) for p in cut.parts for n in p.notes
+             if not n.startswith(DEEP_NOTE_START)]
     for name, n in notes:
         console.print(f"[cyan]note[/] {escape(name)}: {escape(n)}")
     console.print(f"wrote {len(written)} files (one per part{', plus sheet.*' if sheet else ''})")
