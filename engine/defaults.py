@@ -27,6 +27,11 @@ DEFAULT_END_SHAKE_MM = 0.08
 DEFAULT_TILT_DEG = 0.25
 """Tilt of an arbor in its pivot holes (side shake), degrees (common practice, no source)."""
 
+DEFAULT_HOLE_MM = 0.02
+"""Largest error of a pivot hole's place in its plate, in any direction: holes marked out and
+drilled with care, or bored on a mill's handwheels (common practice, no source). Two holes
+each that far off open or close a mesh's centre distance by up to twice it."""
+
 LEVER_MM = 10.0
 """How far a wheel sits from the pivot about which its arbor tilts (our assumption)."""
 

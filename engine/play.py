@@ -39,6 +39,7 @@ from .defaults import (  # with their sources
     DEFAULT_DIVISION,
     DEFAULT_ECCENTRICITY_MM,
     DEFAULT_END_SHAKE_MM,
+    DEFAULT_HOLE_MM,
     DEFAULT_TILT_DEG,
     FACE_M,
     LEVER_MM,
@@ -72,6 +73,13 @@ DEPTH_RULE_M = 0.25
 """Rule of thumb: a mesh whose centre distance can open by more than a quarter of the module
 runs out of depth (the tips ride on the tips; common practice, no source)."""
 
+HOLE_PRESSURE_ANGLE_DEG = 20.0
+"""A mesh's centre distance opened by ``Δa`` widens its backlash on the pitch circle by
+``2 Δa tan α`` (standard gear geometry, for the involute at its pressure angle α = 20°). The
+cycloidal form's pressure angle runs from 0 at the pitch point to about this near the end of
+contact, so the same rule at 20° is taken for it too: a rough estimate (common practice, no
+source)."""
+
 END_SHAKE_RULE = 0.5
 """Rule of thumb: end-shake more than half the face width lets a wheel ride off its pinion's
 leaves (common practice, no source)."""
@@ -98,6 +106,7 @@ class Tolerances:
     tilt_deg: float = DEFAULT_TILT_DEG
     lever_mm: float = LEVER_MM
     form: str | None = None  # override of the train's default tooth form
+    hole_mm: float = DEFAULT_HOLE_MM  # largest error of a pivot hole's place in its plate
 
     @classmethod
     def of(cls, train: Train, **given) -> Tolerances:
@@ -125,7 +134,7 @@ class Tolerances:
 #: what each tolerance may be (as ``wheelwork play`` takes them; lever: above zero)
 _TOLERANCE_RANGES = {"backlash_mm": (0, 100), "division": (0, 0.4999),
                      "eccentricity_mm": (0, 100), "end_shake_mm": (0, 100),
-                     "tilt_deg": (0, 45), "lever_mm": (1e-9, 10_000)}
+                     "tilt_deg": (0, 45), "lever_mm": (1e-9, 10_000), "hole_mm": (0, 100)}
 
 
 @dataclass(frozen=True)
@@ -139,6 +148,8 @@ class MeshPlay:
     backlash_pitch: float
     backlash_mm: float | None
     sensitivity: dict[str, float]  # pointer -> pointer degrees per pitch of slip in this mesh
+    hole_open_mm: float = 0.0  # how far two pivot holes off their places can part its centres
+    hole_backlash_pitch: float = 0.0  # the backlash that opening adds, in pitches
 
 
 @dataclass(frozen=True)
@@ -173,6 +184,8 @@ class PointerPlay:
     inequality_deg: float | None  # amplitude of the pin-and-slot effect at this pointer
     drift_deg_per_century: float
     verdict: str
+    dead_play_holes_deg: float = 0.0  # more dead play with every mesh's centres parted by
+    # its pivot holes at their tolerance (hole_open_mm), the widest the holes make it
 
 
 @dataclass(frozen=True)
@@ -376,12 +389,16 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
     if no_module:
         report.notes.append("no module_mm, so no eccentricity figures and backlash from the "
                             "tooth form: " + ", ".join(no_module))
+    opened = 2.0 * tol.hole_mm  # two holes, each off by up to hole_mm along the centres
+    widen = 2.0 * opened * math.tan(math.radians(HOLE_PRESSURE_ANGLE_DEG))
     for m in train.meshes:
         b = mesh_backlash_pitch(train, m, forms, tol.backlash_mm)
         report.meshes.append(MeshPlay(
             m.index, m.label, m.module_mm, forms[m.driver] if not m.internal else "involute",
             b, None if m.module_mm is None else b * math.pi * m.module_mm,
-            {p: float(psens[p][m.index - 1]) for p in pointers}))
+            {p: float(psens[p][m.index - 1]) for p in pointers},
+            0.0 if m.module_mm is None else opened,
+            0.0 if m.module_mm is None else widen / (math.pi * m.module_mm)))
     # per (wheel, mesh): eccentricity amplitude and division sigma in pitches, period
     terms = []
     periodic_of: dict[str, list[Periodic]] = {}
@@ -408,6 +425,7 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
         contrib = sorted((Contribution(mp.label, float(s[i] * mp.backlash_pitch))
                           for i, mp in enumerate(report.meshes)), key=lambda c: -c.deg)
         dead = float(sum(c.deg for c in contrib))
+        holes = float(sum(s[i] * mp.hole_backlash_pitch for i, mp in enumerate(report.meshes)))
         var = sum((psens[p][m.index - 1]) ** 2 * (div ** 2 + amp ** 2 / 6.0)
                   for m, _w, amp, div, _r in terms)
         std, sig, p95, mx, mean = mc[p]
@@ -415,7 +433,7 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
         report.pointers.append(PointerPlay(
             p, train.pointers[p].shows, dead, tuple(c for c in contrib if c.deg > 0),
             periodic, math.sqrt(var), std, sig, p95, mx, mean, effects.get(p), drift[p],
-            _verdict(p95, dead, effects.get(p), drift[p], years)))
+            _verdict(p95, dead, effects.get(p), drift[p], years), holes))
     report.flags = depth_flags(train, tol, forms)
     return report
 
@@ -514,6 +532,14 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
                               f"({limit:.3f} mm): out of depth (rule of thumb)",
                               "bush the pivot holes closer, keep the wheels near the plates, "
                               "or use a larger module here"))
+        # two pivot holes off their places part (or close) the centres by up to twice it
+        if 2.0 * tol.hole_mm > limit:
+            flags.append(Flag(m.label, f"pivot holes up to {figure(tol.hole_mm, 4)} mm off "
+                              "their places can part the centres by up to "
+                              f"{figure(2.0 * tol.hole_mm, 4)} mm, more than a quarter module "
+                              f"({limit:.3f} mm): out of depth (rule of thumb)",
+                              "mark out and drill the plate more closely (a depthing tool, or "
+                              "the mill's handwheels), or use a larger module here"))
         # an eccentric wheel swings the centre distance by its eccentricity once a turn
         # (both wheels of the mesh at worst together): the same rule
         ecc = {w: _eccentricity_mm(train, w, tol) for w in (m.driver, m.driven)}

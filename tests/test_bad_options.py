@@ -146,6 +146,8 @@ CASES: list[tuple[list[str], str]] = [
     (["play", T, "--division", "nan"], "division"),
     (["play", T, "--lever-mm", "0"], "positive number of mm"),
     (["play", T, "--lever-mm", "1e6"], "at most 10000 mm"),
+    (["play", T, "--hole-mm", "nan"], "hole"),
+    (["play", T, "--hole-mm", "x"], "hole: not a number"),
     # an empty name to write to (an unset shell variable: --out "$DIR") names the current
     # folder: refused, never written there or passed over in silence
     (["cut", T, "--out", ""], "an empty name"),

@@ -304,3 +304,66 @@ def test_form_option_is_read_in_any_case(capsys):
     assert main(["play", str(SMALL), "--form", "Involut"]) == 2
     err = capsys.readouterr().err
     assert "usage error" in err and "'cycloidal', 'involute'" in err
+
+
+def test_pivot_holes_off_their_places_widen_the_dead_play_by_hand():
+    # Each pivot hole up to 0.03 mm off its place: a mesh's centres part by up to 0.06 mm,
+    # and its backlash on the pitch circle widens by 2 Δa tan 20° = 0.12 tan 20° = 0.04368 mm
+    # (standard gear geometry, j = 2 Δa tan α). By hand, as the dead play test above: the hand
+    # wheel (pitch radius 19.2 mm) turns freely that much more in mesh 2, the middle arbor
+    # (15 mm) in mesh 1, reaching the hand reduced by 8 / 64.
+    widen = 2 * 0.06 * math.tan(math.radians(20))
+    more = math.degrees(widen / 19.2) + math.degrees(widen / 15.0) * 8 / 64
+    train, report = _small(hole_mm=0.03)
+    (hand,) = report.pointers
+    assert hand.dead_play_holes_deg == pytest.approx(more, rel=1e-12)
+    assert [m.hole_open_mm for m in report.meshes] == pytest.approx([0.06, 0.06], rel=1e-12)
+    # the nominal dead play is the backlash alone, as before
+    assert hand.dead_play_deg == pytest.approx(math.degrees(0.05 / 19.2)
+                                               + math.degrees(0.05 / 15.0) * 8 / 64, rel=1e-12)
+    _, none = _small(hole_mm=0.0)
+    assert none.pointers[0].dead_play_holes_deg == 0.0
+
+
+def test_pivot_holes_that_part_a_mesh_out_of_depth_are_flagged():
+    # two holes 0.07 mm off: 0.14 mm, over a quarter of module 0.5 (0.125 mm), under a
+    # quarter of 0.6 (0.15 mm); the same rule of thumb as the tilt's (common practice, no
+    # source)
+    train = load_train(SMALL)
+    forms = {w: "cycloidal" for w in train.wheels}
+    calm = dict(tilt_deg=0.0, end_shake_mm=0.0, eccentricity_mm=0.0)
+    assert not depth_flags(train, Tolerances(hole_mm=0.06, **calm), forms)
+    (flag,) = depth_flags(train, Tolerances(hole_mm=0.07, **calm), forms)
+    assert flag.item == "mesh 1 (drive_pinion–middle_wheel)"
+    assert "part the centres by up to 0.14 mm" in flag.message
+    assert "(0.125 mm)" in flag.message and "rule of thumb" in flag.message
+
+
+def test_play_hole_option(capsys):
+    argv = ["play", str(SMALL), "--years", "2", "--builds", "20", "--samples", "16"]
+    assert main([*argv, "--hole-mm", "0.03"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "pivot holes within 0.03 mm of their places" in out
+    assert "pivot holes 0.03 mm off their places: up to" in out
+    assert main([*argv, "--hole-mm", "0.03", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["tolerances"]["hole_mm"] == 0.03
+    assert data["pointers"][0]["dead_play_holes_deg"] > 0
+    assert main([*argv, "--hole-mm", "-1"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "--hole-mm" in err
+
+
+def test_a_wheel_turning_once_a_day_is_every_1_day(tmp_path, capsys):
+    # the crank's own 96 stepping up to a fly: its once-per-turn error led the list, 'every 1
+    # days'
+    train = tmp_path / "fly.toml"
+    train.write_text(
+        '[crank]\narbor = "crank"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+        'set = "angles"\n[arbors.crank]\nwheels = { cw = 96 }\n[arbors.fly]\n'
+        'wheels = { fp = 8 }\n[[meshes]]\nwheels = ["cw", "fp"]\nmodule_mm = 0.35\n'
+        '[pointers.p]\nshows = "sun"\narbor = "fly"\nset_deg = 0\n')
+    assert main(["play", str(train), "--builds", "10", "--samples", "8", "--years", "1"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "once per turn of 'cw' (mesh 1 (cw–fp)): ±" in out
+    assert "every 1 day" in out and "every 1 days" not in out

@@ -10,6 +10,7 @@ from ..defaults import (
     DEFAULT_DIVISION,
     DEFAULT_ECCENTRICITY_MM,
     DEFAULT_END_SHAKE_MM,
+    DEFAULT_HOLE_MM,
     DEFAULT_TILT_DEG,
     LEVER_MM,
 )
@@ -56,6 +57,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--lever-mm", type=support.positive("mm", 10_000), default=None,
                         metavar="MM", help="distance from a pivot to the wheels it tilts "
                         f"(default {LEVER_MM:g})")
+    parser.add_argument("--hole-mm", type=_nonneg("hole"), default=None, metavar="MM",
+                        help="largest error of a pivot hole's place in its plate; two holes "
+                        "part a mesh's centres by up to twice it, widening its backlash "
+                        f"(default {DEFAULT_HOLE_MM:g})")
     parser.add_argument("--form", type=support.word, choices=TOOTH_FORMS, default=None,
                         help="tooth form for wheels that do not choose their own (sets the "
                         "default backlash)")
@@ -106,7 +111,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     kin = solve(train)
     tol = Tolerances.of(train, backlash_mm=args.backlash_mm, division=args.division,
                         eccentricity_mm=args.eccentricity_mm, end_shake_mm=args.end_shake_mm,
-                        tilt_deg=args.tilt_deg, lever_mm=args.lever_mm, form=args.form)
+                        tilt_deg=args.tilt_deg, lever_mm=args.lever_mm, form=args.form,
+                        hole_mm=args.hole_mm)
     fault = backlash_fault(train, tol.backlash_mm)
     if fault and args.backlash_mm is not None:
         raise UsageError(f"argument --backlash-mm: {fault}", "wheelwork play")
@@ -136,7 +142,8 @@ def _days(d: float | None) -> str:
         return "never (still in its mesh)"
     if d >= 3 * JULIAN_YEAR_DAYS:
         return f"{support.figure(d / JULIAN_YEAR_DAYS, 4)} years"
-    return f"{support.figure(d, 4)} days"
+    text = support.figure(d, 4)
+    return f"{text} {'day' if text == '1' else 'days'}"  # every 1 day, not every 1 days
 
 
 def _print(report: PlayReport, console: Console) -> None:
@@ -157,7 +164,8 @@ def _print(report: PlayReport, console: Console) -> None:
                   f"times (seed {report.seed})")
     console.print(f"tolerances: backlash {back}; division σ {g(tol.division)} pitch; "
                   f"eccentricity up to {g(tol.eccentricity_mm)} mm; end-shake "
-                  f"{g(tol.end_shake_mm)} mm; tilt {g(tol.tilt_deg)}° at {g(tol.lever_mm)} mm",
+                  f"{g(tol.end_shake_mm)} mm; tilt {g(tol.tilt_deg)}° at {g(tol.lever_mm)} mm; "
+                  f"pivot holes within {g(tol.hole_mm)} mm of their places",
                   markup=False)
     table = Table(box=None, pad_edge=False, collapse_padding=True,
                   caption="degrees on the dial; dead play: all backlash taken up on reversing; "
@@ -179,6 +187,11 @@ def _print(report: PlayReport, console: Console) -> None:
         top = ", ".join(f"{c.mesh} {_deg(c.deg)}°" for c in p.contributions[:3])
         if top:
             support.print_indented(console, f"dead play from: {top}", 2)
+        if p.dead_play_holes_deg > 0:
+            support.print_indented(
+                console, f"pivot holes {g(tol.hole_mm)} mm off their places: up to "
+                f"{_deg(p.dead_play_holes_deg)}° more dead play (each mesh's centres parted "
+                f"{g(2 * tol.hole_mm)} mm)", 2)
         for x in p.periodic[:3]:
             support.print_indented(console, f"once per turn of '{x.wheel}' ({x.mesh}): "
                                    f"±{_deg(x.amplitude_deg)}° every {_days(x.period_days)}", 2)
