@@ -374,7 +374,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     _shared_axes(train, groups, findings)
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
-    _teeth_rules(train, modules, findings)
+    _teeth_rules(train, modules, findings, forms)
     _module_rules(train, findings)
     from .play import backlash_finding  # here: play imports this module's Finding
 
@@ -944,8 +944,10 @@ def _deep_teeth(train: Train, forms: dict, findings: list[Finding]) -> None:
         "for both wheels in [workshop.wheels.NAME]), or use pinions of 16 leaves or fewer"))
 
 
-def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding]) -> None:
+def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding],
+                 forms: dict | None = None) -> None:
     rings = {m.ring for m in train.meshes if m.ring}
+    in_rings = {m.driver if m.ring == m.driven else m.driven for m in train.meshes if m.ring}
     mates: dict[str, str] = {}
     for m in train.meshes:
         mates.setdefault(m.driver, m.driven)
@@ -971,7 +973,8 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
                     "note", item, f"{z} leaves: it runs, but {PREFERRED_LEAVES} or more run "
                     "smoother (rule of thumb, common practice, no source)",
                     f"if there is room, {keep}"))
-        form = train.workshop.form_of(w)
+        # as cut draws it: a wheel meshing inside an internal wheel is involute like it
+        form = forms[w].form if forms and w in forms else train.workshop.form_of(w)
         if MIN_LEAVES <= z < UNDERCUT_RULE_TEETH and w not in rings and form == "involute":
             x = undercut_shift(z)
             mod = modules.get(w)
@@ -980,8 +983,9 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
                 "note", item, f"{z} teeth: involute teeth at {PRESSURE_ANGLE_DEG:g}° are "
                 f"undercut below {UNDERCUT_RULE_TEETH} (z_min = 2/sin²α ≈ "
                 f"{UNDERCUT_TEETH:.1f}, standard gear geometry); cycloidal clock teeth are not",
-                f"cut it with a profile shift of at least x = {x:.2f}{shift}, use a cycloidal "
-                f"clock profile, or give it {UNDERCUT_RULE_TEETH} teeth"))
+                f"cut it with a profile shift of at least x = {x:.2f}{shift}, "
+                f"{'' if w in in_rings else 'use a cycloidal clock profile, '}or give it "
+                f"{UNDERCUT_RULE_TEETH} teeth"))
         if z > MAX_TEETH:
             findings.append(Finding(
                 "warning", item, f"{z} teeth: more than {MAX_TEETH}, the most that is practical "

@@ -139,11 +139,27 @@ def tooth_forms(train: Train, form: str | None = None) -> dict[str, ToothForm]:
     modules = wheel_modules(train)
     chosen = {w: train.workshop.form_of(w, form) for w in modules}
     rings = {m.ring for m in train.meshes if m.ring}
+    # an internal wheel is drawn involute only, so the wheel meshing inside it is too
+    forced: dict[str, str] = {}  # wheel -> the internal wheel that makes it involute
+    for m in train.meshes:
+        if m.module_mm is not None and m.internal:
+            inner = m.driven if m.ring == m.driver else m.driver
+            if chosen[inner] == "cycloidal":
+                chosen[inner] = "involute"
+                forced[inner] = m.ring
     for m in train.meshes:
         if m.module_mm is None or m.internal:
             continue
         a, b = m.driver, m.driven
         if chosen[a] != chosen[b]:
+            inv = a if chosen[a] == "involute" else b
+            if inv in forced:
+                other = b if inv == a else a
+                raise TrainError(train.source, m.label, f"'{inv}' meshes the internal wheel "
+                                 f"'{forced[inv]}', which is drawn involute only, and "
+                                 f"'{other}' here, cut cycloidal: two wheels in mesh need one "
+                                 f"tooth form (set form = \"involute\" in "
+                                 f"[workshop.wheels.{other}])")
             raise TrainError(train.source, m.label, f"'{a}' is to be cut {chosen[a]} but "
                              f"'{b}' {chosen[b]}: two wheels in mesh need one tooth form "
                              "(set form in [workshop.wheels.NAME] for both)")
@@ -171,6 +187,9 @@ def tooth_forms(train: Train, form: str | None = None) -> dict[str, ToothForm]:
                                         "form (the cycloidal form is for external wheels)")
             elif chosen[w] == "involute":
                 out[w] = involute_wheel(z, mod)
+                if w in forced:
+                    out[w] = _with_note(out[w], f"meshes the internal wheel '{forced[w]}': "
+                                        "drawn in the involute form, as that wheel is")
             else:
                 room = [out[b].params["addendum_m"] + PINION_CLEARANCE_M
                         for b in larger.get(w, ()) if b in out]

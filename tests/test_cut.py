@@ -11,7 +11,7 @@ import ezdxf
 import numpy as np
 import pytest
 
-from engine.checks import centre_distance_mm
+from engine.checks import centre_distance_mm, check
 from engine.cli import main
 from engine.drawing import cut_parts, layout_sheet, tooth_forms
 from engine.errors import PlacementError, TrainError
@@ -484,3 +484,37 @@ def test_deep_teeth_are_one_note_for_all_wheels(tmp_path, capsys):
     assert out.count("deep teeth") == 1
     assert "deep teeth on 8 wheels: sun_w3 (addendum 2.05 m against 25 leaves)" in " ".join(
         out.split())
+
+
+RING_DRIVE = ('[crank]\narbor = "crank"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+        'set = "angles"\n[arbors.crank]\nwheels = { cp = 14 }\n[arbors.drum]\n'
+        'wheels = { ring_w = 90 }\n[[meshes]]\nwheels = ["cp", "ring_w"]\nring = "ring_w"\n'
+        'module_mm = 0.8\n[pointers.p]\nshows = "moon"\narbor = "drum"\nset_deg = 0\n')
+
+
+def test_a_pinion_inside_an_internal_wheel_is_drawn_involute(tmp_path, capsys):
+    # The internal wheel is drawn involute only, so its pinion is too, whatever the train's
+    # form: with the default cycloidal form the pinion was refused as 'cannot be drawn: max()
+    # arg is an empty sequence', by cut and by check. Involute geometry (ISO 53 rack):
+    # tip d + 2 m = 11.2 + 1.6 = 12.8 mm, root d − 2.5 m = 9.2 mm.
+    train = tmp_path / "ring.toml"
+    train.write_text(RING_DRIVE)
+    assert main(["cut", str(train), "--out", str(tmp_path / "o"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    cp = parts["wheel-cp"]
+    assert cp["form"] == "involute"
+    assert cp["tip_diameter_mm"] == pytest.approx(12.8, abs=1e-6)
+    assert cp["root_diameter_mm"] == pytest.approx(9.2, abs=1e-6)
+    assert any("meshes the internal wheel 'ring_w'" in n for n in cp["notes"])
+    loaded = load_train(train)
+    report = check(loaded, solve(loaded))
+    assert not report.has_errors
+    # the same pinion also meshing a cycloidal wheel cannot be cut: one line saying which
+    both = RING_DRIVE.replace('wheels = { cp = 14 }\n', 'wheels = { cp = 14 }\n[arbors.side]\n'
+                        'wheels = { sd = 40 }\n') + \
+        '[[meshes]]\nwheels = ["cp", "sd"]\nmodule_mm = 0.8\n'
+    train.write_text(both)
+    assert main(["cut", str(train), "--out", str(tmp_path / "p")]) == 1
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "mesh 2 (cp–sd)" in err
+    assert "[workshop.wheels.sd]" in err and "max()" not in err
