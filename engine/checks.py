@@ -606,7 +606,7 @@ def _wheel_modules(train: Train, findings: list[Finding]) -> dict[str, float]:
                 findings.append(Finding(
                     "error", m.label, f"wheel '{w}' is cut at module {figure(first, 6)} mm "
                     f"for mesh {at} but meshes here at module {figure(m.module_mm, 6)} mm: one "
-                    "wheel has one module", f"make this mesh's module_mm {figure(first, 6)}, or "
+                    "wheel has one module", f"make this mesh's module_mm {figure(first, 6, group=False)}, or "
                     "give the two meshes separate wheels"))
             else:
                 modules.setdefault(w, (m.module_mm, m.index))
@@ -703,7 +703,7 @@ def _triangles(train: Train, groups, first: dict, findings: list[Finding]) -> No
 def _distance_fix(train: Train, obj, want_mm: float) -> str:
     """What to change in a mesh (or pin offset) to make its centre distance ``want_mm``."""
     if not hasattr(obj, "module_mm"):
-        return f"set offset_mm to {figure(want_mm, 6)}, or change the meshes to suit this offset"
+        return f"set offset_mm to {figure(want_mm, 6, group=False)}, or change the meshes to suit this offset"
     m = obj
     w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
     need = 2.0 * want_mm / m.module_mm

@@ -8,19 +8,31 @@ from __future__ import annotations
 import math
 
 
-def figure(x: float, digits: int = 3, sign: bool = False) -> str:
+def figure(x: float, digits: int = 3, sign: bool = False, group: bool = True) -> str:
     """A number in plain figures, never e-notation: ``digits`` significant figures (trailing
     zeros dropped, as ``g`` does), a number of ``10 ** digits`` or more whole, with thousands
-    separated (``-29,790``, ``0.0001638``); ``sign``: a ``+`` before a positive number."""
+    separated (``-29,790``, ``10,743.60653``, ``0.0001638``); ``sign``: a ``+`` before a
+    positive number; ``group=False``: no separators, for a value the reader is told to type
+    into a train file or an option."""
     if not math.isfinite(x):
         return str(x)
     if x == 0:
         return "+0" if sign else "0"
+    comma = "," if group else ""
     mag = math.floor(math.log10(abs(x)))
     if mag >= digits - 1:
-        text = f"{x:,.0f}"
+        text = f"{x:{comma}.0f}"
     else:
-        text = f"{x:.{digits - 1 - mag}f}"
+        text = f"{x:{comma}.{digits - 1 - mag}f}"
         if "." in text:
             text = text.rstrip("0").rstrip(".")
     return ("+" + text) if sign and x > 0 else text
+
+
+def fixed(x: float, places: int, sign: bool = False) -> str:
+    """A number to ``places`` decimals with its thousands separated, as :func:`figure` writes
+    a large one (``-94,033.333``, ``+0.028``), for a column whose figures line up on the
+    point; ``sign``: a ``+`` before a positive number."""
+    if not math.isfinite(x):
+        return str(x)
+    return f"{x:{'+' if sign else ''},.{places}f}"

@@ -337,7 +337,7 @@ def check_reachable(target: Target, constraints: Constraints) -> None:
         days = min(max(period * mid, float(MIN_DAYS_PER_TURN)), float(MAX_DAYS_PER_TURN))
         if float(lo) / float(HOPELESS) <= days / period <= float(hi) * float(HOPELESS):
             fix = (f"turn the crank nearer the output's speed, e.g. --crank-days "
-                   f"{figure(days, 4).replace(',', '')}")
+                   f"{figure(days, 4, group=False)}")
         else:
             fix = (f"no crank a train file takes (days_per_turn between {DAYS_PER_TURN_BOUNDS}) "
                    "brings it within their reach: widen --wheels and --pinions")

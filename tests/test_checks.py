@@ -727,7 +727,7 @@ def test_real_time_on_a_motor_shaft(tmp_path, capsys):
     assert report.arbors[0].rpm_max == pytest.approx(1500, rel=REL)
     assert main(["check", str(motor), "--real-time"]) == 0
     out = " ".join(capsys.readouterr().out.split())
-    assert "own running speed, 1500 rpm on 'day' (1 turn = 0.04 seconds)" in out, out[:300]
+    assert "own running speed, 1,500 rpm on 'day' (1 turn = 0.04 seconds)" in out, out[:300]
 
 
 def test_deep_cycloidal_teeth_one_note_naming_every_mesh():

@@ -222,7 +222,7 @@ def test_search_numbers_whole(width, capsys, monkeypatch):
         assert r["ratio"] in flat
         for a, b in r["stages"]:
             assert f"{a}→{b}" in flat
-        assert f"{r['period_days']:.9g}" in flat
+        assert f"{r['period_days']:,.9g}" in flat  # as written: thousands separated
     assert "period ppm" in flat and "1 day off" in flat  # the legend's columns are there
 
 
@@ -233,7 +233,7 @@ def test_ratios_numbers_whole_with_long_pointer_names(width, tmp_path, capsys, m
     flat = _whole(_run_at(width, ["ratios", train], capsys, monkeypatch), width)
     for p in doc["pointers"]:
         assert p["pointer"] in flat.replace(" ", "") or p["pointer"] in flat
-        assert f"{p['period_days']:.10g}" in flat
+        assert f"{p['period_days']:,.10g}" in flat
 
 
 @pytest.mark.parametrize("width", [60, 80])

@@ -341,9 +341,9 @@ def test_a_motor_shaft_can_be_the_crank():
 @pytest.mark.parametrize("old,new,words", [
     # a length that must be positive is never offered a negative bound
     ('wheels = ["a1", "b1"]', 'wheels = ["a1", "b1"]\nmodule_mm = 1001',
-     "mesh 1 (a1–b1) module_mm: must be above 0 and at most 1000, got 1001"),
+     "mesh 1 (a1–b1) module_mm: must be above 0 and at most 1,000, got 1001"),
     ('wheels = ["a1", "b1"]', 'wheels = ["a1", "b1"]\nmodule_mm = 1e4',
-     "module_mm: must be above 0 and at most 1000, got 10000.0"),
+     "module_mm: must be above 0 and at most 1,000, got 10000.0"),
     ('set_deg = 0', 'set_deg = 0\n[workshop]\nbacklash_mm = 2e7',
      "[workshop] backlash_mm: must be between 0 and 1,000,000, got 20000000.0"),
 ])

@@ -188,9 +188,11 @@ def test_one_day_off_within_weeks_is_given_in_days(tmp_path, capsys):
     text = (TRAINS / "moon_disc_59.toml").read_text().replace("per_turn = 2 ", "per_turn = 20 ")
     (tmp_path / "slip.toml").write_text(text)
     assert main(["ratios", str(tmp_path / "slip.toml")]) == 0
-    row = next(line for line in capsys.readouterr().out.splitlines()
-               if line.strip().startswith("phase"))
-    assert row.rstrip().endswith("0.111 d") and "0.0 y" not in row
+    # the row may be split over two narrower tables where it does not fit the width
+    rows = [line for line in capsys.readouterr().out.splitlines()
+            if line.strip().startswith("phase")]
+    assert any(row.rstrip().endswith("0.111 d") for row in rows), rows
+    assert not any("0.0 y" in row for row in rows)
 
 
 def test_reports_name_an_orrery_arm_as_its_file_does(capsys):

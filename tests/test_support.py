@@ -441,6 +441,17 @@ def test_figure_is_plain_figures_never_e_notation():
     assert figure(0.0, sign=True) == "+0" and figure(-0.0735, 3) == "-0.0735"
     for x in (1e-12, 3.3e-7, 1e21, -4.4e-9):
         assert "e" not in figure(x), x
+    # thousands separated whether or not the number has decimals (common practice, no source)
+    assert figure(10743.60653, 10) == "10,743.60653" and figure(-94033.33, 6) == "-94,033.3"
+    assert figure(10743.60653, 10, group=False) == "10743.60653"
+
+
+def test_fixed_places_separate_thousands():
+    from engine.figures import fixed
+
+    assert fixed(-94033.3333, 3, sign=True) == "-94,033.333"
+    assert fixed(0.0278, 3, sign=True) == "+0.028" and fixed(-0.0001, 4) == "-0.0001"
+    assert fixed(31804.625, 2, sign=True) == "+31,804.62" and fixed(5.0, 0) == "5"
 
 
 def test_command_tables_carry_no_e_notation(capsys, tmp_path):

@@ -313,22 +313,22 @@ def _duration(days: float) -> str:
         return _count(days * 24, "hour")
     if days < JULIAN_YEAR_DAYS:
         return _count(days, "day")
-    return f"{days / JULIAN_YEAR_DAYS:.2f} years"
+    return f"{support.fixed(days / JULIAN_YEAR_DAYS, 2)} years"
 
 
 def _angle(x: float) -> str:
-    return f"{x:.2f}°" if abs(x) >= 1 else f"{x:.2g}°"
+    return f"{support.fixed(x, 2)}°" if abs(x) >= 1 else f"{support.figure(x, 2)}°"
 
 
 def _with_sigma(x: float, sigma: float, unit: str = "°") -> str:
     """``-0.224° ± 0.079°``: the standard error to two figures, the value to match."""
     if not (math.isfinite(sigma) and sigma > 0):
-        return f"{x:+.4f}{unit}"
+        return f"{support.fixed(x, 4, sign=True)}{unit}"
     dec = min(4, max(0, 1 - math.floor(math.log10(sigma))))
     pm = f"{sigma:.{dec}f}"
     if float(pm) == 0:
-        return f"{x:+.{dec}f}{unit} ± under 0.0001{unit}"
-    return f"{x:+.{dec}f}{unit} ± {pm}{unit}"
+        return f"{support.fixed(x, dec, sign=True)}{unit} ± under 0.0001{unit}"
+    return f"{support.fixed(x, dec, sign=True)}{unit} ± {support.fixed(sigma, dec)}{unit}"
 
 
 def _when(jd: float | None) -> str:
@@ -347,7 +347,7 @@ def _uncertain_why(s) -> str:
         return "this span and step cannot tell it from: " + "; ".join(left)
     if s.periodic_period_days is None:
         return "the span is too short to show the swing"
-    return f"the span holds under two of its {s.periodic_period_days:.1f}-day swings"
+    return f"the span holds under two of its {support.fixed(s.periodic_period_days, 1)}-day swings"
 
 
 def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
@@ -364,7 +364,7 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     days = g is not None
 
     def both(deg, d):
-        return f"{deg:.4f}°" + (f"  ({d:.3f} days)" if days and d is not None else "")
+        return f"{deg:.4f}°" + (f"  ({support.fixed(d, 3)} days)" if days and d is not None else "")
 
     t.add_row("largest error", both(s.max_abs_deg, s.max_abs_days) + f"  on {_when(s.max_at_jd)}")
     t.add_row("root-mean-square error", both(s.rms_deg, s.rms_days))
@@ -389,7 +389,7 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
         t.add_row("swing about the drift", "none (under 0.0001°)")
     else:
         t.add_row("swing about the drift", f"±{s.periodic_amplitude_deg:.4f}° every "
-                  f"{s.periodic_period_days:.2f} days")
+                  f"{support.fixed(s.periodic_period_days, 2)} days")
     if s.threshold_deg is not None:
         if days and threshold_days_given:
             lim = f"{_count(s.threshold_days, 'day')} ({s.threshold_deg:.2f}°)"

@@ -70,7 +70,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
         # its own row, not only in the warning at the end
         name = r.pointer + (" (runs backwards)" if r.pointer in backwards else "")
         table.add_row(name, f"{support.figure(r.period_days, 10)}", f"{support.figure(r.target_days, 10)}",
-                      f"{r.period_error_ppm:+.3f}", f"{r.drift_deg_per_century:+.4f}",
+                      support.fixed(r.period_error_ppm, 3, sign=True),
+                      support.fixed(r.drift_deg_per_century, 4, sign=True),
                       _years(r.years_to_one_day))
     support.print_table(console, table)
     note = era_note(train)
@@ -105,16 +106,16 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 console, f"laps the Earth arm '{escape(sy.earth_arm)}' every "
                 f"{support.figure(sy.period_days, 10)} d ({abs(sy.ratio.numerator)}/{sy.ratio.denominator} turns "
                 f"{'gained' if sy.ratio > 0 else 'lost'} per crank turn) against the "
-                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {sy.period_error_ppm:+.3f} ppm, "
-                f"{sy.drift_deg_per_century:+.4f}°/century", 3, markup=True)
+                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {support.fixed(sy.period_error_ppm, 3, sign=True)} ppm, "
+                f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century", 3, markup=True)
         elif r.synodic:
             sy = r.synodic
             support.print_indented(
                 console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
                 f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
                 f"per crank turn, {support.figure(sy.period_days, 10)} d against the {sy.target_name} of "
-                f"{support.figure(sy.target_days, 10)} d: {sy.period_error_ppm:+.3f} ppm, "
-                f"{sy.drift_deg_per_century:+.4f}°/century", 3, markup=True)
+                f"{support.figure(sy.target_days, 10)} d: {support.fixed(sy.period_error_ppm, 3, sign=True)} ppm, "
+                f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century", 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:
             support.print_indented(console, "prime counts, each needing its own cutter or "

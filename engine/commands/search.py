@@ -241,7 +241,7 @@ def _print(report: SearchReport, console: Console) -> None:
     if t.cycle is not None and t.cycle.approximates:
         mean = PERIODS[t.cycle.approximates]
         console.print(f"a period relation: against the mean {escape(mean.name)} of "
-                      f"{mean.days:.7g} days it is {support.figure(relation_error_ppm(t.cycle.key), 4, True)} ppm")
+                      f"{support.figure(mean.days, 7)} days it is {support.figure(relation_error_ppm(t.cycle.key), 4, True)} ppm")
     if not report.results:
         console.print("no train within these bounds")
     elif abs(report.results[0].period_error_ppm) > FAR_PPM:
@@ -260,7 +260,7 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
         for i, r in enumerate(report.results, start=1):
-            table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), f"{r.period_days:.9g}",
+            table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), support.figure(r.period_days, 9),
                           support.figure(r.period_error_ppm, 3, True),
                           support.figure(r.drift_deg_per_century, 3, True),
                           _years(r.one_day_off_years), str(r.total_teeth))

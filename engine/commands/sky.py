@@ -41,7 +41,7 @@ def _sigma(seconds: float) -> str:
     """One standard error of ΔT, to a sensible number of figures."""
     if seconds >= 600:
         return f"{seconds / 60:.0f} min"
-    return f"{seconds:.0f} s" if seconds >= 10 else f"{seconds:.2g} s"
+    return f"{seconds:.0f} s" if seconds >= 10 else f"{support.figure(seconds, 2)} s"
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
@@ -115,7 +115,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     if v["delta_t_sigma_s"] >= 60:
         console.print(f"ΔT is uncertain by ± {_sigma(v['delta_t_sigma_s'])} (one standard error) "
                       f"at this date: the Moon moves about "
-                      f"{v['delta_t_sigma_s'] / 3600 * 0.55:.2g}° in that time, the Sun "
-                      f"{v['delta_t_sigma_s'] / 3600 * 0.041 * 60:.2g}′.")
+                      f"{support.figure(v['delta_t_sigma_s'] / 3600 * 0.55, 2)}° in that time, the Sun "
+                      f"{support.figure(v['delta_t_sigma_s'] / 3600 * 0.041 * 60, 2)}′.")
     console.print(f"[yellow]{SUN_CAUTION}[/]")
     return 0

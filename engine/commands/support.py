@@ -34,7 +34,7 @@ import sys
 from pathlib import Path
 
 from ..errors import OutputError, ParserExit, UsageError, WheelworkError
-from ..figures import figure  # noqa: F401 - the commands' one way to write a number
+from ..figures import figure, fixed  # noqa: F401 - the commands' ways to write a number
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
 
