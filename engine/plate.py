@@ -113,7 +113,31 @@ def place_plates(train: Train, kin: Kinematics, reach_mm: dict[str, float]) -> l
             arbors = tuple(n for n in train.arbors if groups[n] == ax)
             plate.holes[ax] = Hole(label[ax], arbors, pos[ax][0], pos[ax][1], ax in fixed,
                                    reach[ax])
+        _over_pivots(train, plate, reach_mm)
     return [p for p in plates.values() if p.holes]
+
+
+def _over_pivots(train: Train, plate: Plate, reach_mm: dict[str, float]) -> None:
+    """A note for each wheel of the plate whose tip circle, as placed, reaches over the pivot
+    of an axis it has no tie to (a mesh or pin-and-slot between the two axes is the check's
+    business): the other arbor must end short of its plane. Placement avoids this where it
+    can; a pin-and-slot's fixed offset, or the file's positions, can leave no choice."""
+    tied = {frozenset((t.axis1, t.axis2)) for t in plate.ties}
+    for ax, hole in plate.holes.items():
+        wheels = [w for n in hole.arbors if train.arbors[n].mount == plate.mount
+                  for w in train.arbors[n].wheels if w in reach_mm]
+        for w in wheels:
+            over = [(other.axis, d) for key, other in plate.holes.items()
+                    if key != ax and frozenset((ax, key)) not in tied
+                    and (d := math.hypot(hole.x_mm - other.x_mm, hole.y_mm - other.y_mm))
+                    < reach_mm[w]]
+            if over:
+                where = ", ".join(f"{a} ({d:.2f} mm away)" for a, d in over)
+                plate.notes.append(
+                    f"as placed, wheel '{w}' (tip radius {reach_mm[w]:.2f} mm) reaches over "
+                    f"the pivot{'s' if len(over) > 1 else ''} of {where}: end "
+                    f"{'those arbors' if len(over) > 1 else 'that arbor'} short of its plane "
+                    "(a cock or bridge), or place the axes yourself with at_mm")
 
 
 def _ties(train: Train, kin: Kinematics, groups, mount: str) -> list[Tie]:

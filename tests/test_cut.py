@@ -518,3 +518,57 @@ def test_a_pinion_inside_an_internal_wheel_is_drawn_involute(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "mesh 2 (cp–sd)" in err
     assert "[workshop.wheels.sd]" in err and "max()" not in err
+
+
+def test_a_wheel_placed_over_another_pivot_is_said(tmp_path, capsys):
+    # The slot arbor's place is fixed by its pin-and-slot (3.5 mm from the pin arbor, which
+    # mesh 2 puts 9.525 mm from a1): its 22-tooth wheel at module 2.54 (tip radius 32.04 mm,
+    # cycloidal) covers a1's pivot 13.03 mm away and the crank's 16.84 mm away, and cut said
+    # nothing (plane geometry, by hand: 9.525 + 3.5 = 13.025; + 3.81 = 16.835)
+    train = tmp_path / "ps.toml"
+    train.write_text(PIN_COVERS)
+    assert main(["cut", str(train), "--out", str(tmp_path / "o")]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "as placed, wheel 'sw' (tip radius 32.04 mm) reaches over the pivots of crank " \
+           "(16.84 mm away), a1 (13.03 mm away)" in out
+    # the pin and slot wheels reach over each other's axes by design: not said
+    assert "wheel 'pw'" not in out
+
+
+PIN_COVERS = """[crank]
+arbor = "crank"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+set = "angles"
+[arbors.crank]
+wheels = { c1 = 7 }
+[arbors.a1]
+wheels = { a1w = 53, a1p = 13 }
+[arbors.pin]
+wheels = { pw = 47 }
+[arbors.slot]
+wheels = { sw = 22 }
+[arbors.hand]
+wheels = { hw = 22 }
+[[meshes]]
+wheels = ["c1", "a1w"]
+module_mm = 0.127
+[[meshes]]
+wheels = ["a1p", "pw"]
+module_mm = 0.3175
+[[meshes]]
+wheels = ["sw", "hw"]
+module_mm = 2.54
+[pin_slots.anom]
+pin = "pin"
+slot = "slot"
+pin_radius_mm = 4.0
+offset_mm = 3.5
+offset_deg = 0
+pin_deg = 0
+[pointers.moon]
+shows = "moon"
+arbor = "hand"
+set_deg = 0
+"""
