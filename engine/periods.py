@@ -243,7 +243,13 @@ def find_period(text: str) -> MeanPeriod:
         if w.replace(" ", "_") in aliases:
             return PERIODS[aliases[w.replace(" ", "_")]]
     known = ", ".join(p.name for p in PERIODS.values())
-    raise UnknownName(f"unknown period {text!r}; known periods: {known}")
+    import difflib  # only on the way to an error
+
+    spoken = {n for p in PERIODS.values()  # every way of naming a period that is read
+              for n in (norm(p.key), norm(p.name.split(" (")[0]))} | {norm(n) for n in aliases}
+    near = difflib.get_close_matches(said, sorted(spoken), n=1, cutoff=0.75)
+    hint = f" (did you mean {near[0]!r}?)" if near else ""
+    raise UnknownName(f"unknown period {text!r}{hint}; known periods: {known}")
 
 
 def _poly(t: np.ndarray, coeffs: tuple[float, ...]) -> np.ndarray:

@@ -382,6 +382,17 @@ def test_cli_error_one_line(capsys):
     assert main(["search", "--cycle", "blue moon"]) == 2  # an option value: usage error
     err = capsys.readouterr().err.strip()
     assert err.startswith("wheelwork search: usage error: unknown period") and "\n" not in err
+    assert "did you mean" not in err  # nothing near 'blue moon'
+
+
+@pytest.mark.parametrize("typed,meant", [("sarros", "saros"), ("synodic mnth", "synodic month"),
+                                         ("mars sidreal", "mars sidereal")])
+def test_a_mistyped_cycle_is_answered_with_the_nearest(typed, meant, capsys):
+    # as a mistyped demo, wheel or command name is: the nearest name the search reads
+    assert main(["search", "--cycle", typed]) == 2
+    err = capsys.readouterr().err
+    assert f"unknown period '{typed}' (did you mean '{meant}'?); known periods:" in err
+    assert err.count("\n") == 1
 
 
 def test_cli_table(capsys):
