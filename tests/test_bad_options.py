@@ -128,6 +128,7 @@ CASES: list[tuple[list[str], str]] = [
     (["sky", "2026-01-01", "--site", "51.48N 0.01N"], "two latitudes"),
     (["sky", "2026-01-01", "--site", "51,48N 0,01W"], "no compass letter before the comma"),
     (["sky", "2026-01-01", "--ephemeris", "/tmp"], "is a folder"),
+    (["sky", "2026-01-01", "--ephemeris", ""], "an empty name"),  # not the current folder
     # crank (refused before the interface would need a terminal)
     (["crank", "--site", "95,0"], "impossible"),
     (["crank", "--ephemeris", "/tmp"], "is a folder"),
@@ -136,6 +137,7 @@ CASES: list[tuple[list[str], str]] = [
     (["eclipses", T, "--years", "0"], "positive"),
     (["eclipses", T, "--years", "1", "--by", "x"], "invalid choice"),
     (["eclipses", T, "--years", "1", "--ephemeris", "/tmp"], "is a folder"),
+    (["eclipses", T, "--years", "1", "--ephemeris", " "], "an empty name"),
     (["cut", T, "--out", "x", "--formats", "pdf"], "formats"),
     (["cut", T, "--out", "x", "--form", "square"], "invalid choice"),
     (["cut", T, "--out", "x", "--wheel", "sun_w33"], "did you mean 'sun_w3'"),

@@ -189,6 +189,9 @@ def ephemeris(text: str) -> str:
     """``de421``, ``de440``, ``de406`` or an existing SPK file (not a folder)."""
     if text.strip().lower() in ("de421", "de440", "de406"):
         return text.strip()
+    if not text.strip():  # Path("") is the current folder: say what is wrong instead
+        raise argparse.ArgumentTypeError(
+            f"{text!r}: an empty name; give de421, de440, de406 or a JPL SPK file (.bsp)")
     p = Path(text)
     if p.is_dir():
         raise argparse.ArgumentTypeError(
