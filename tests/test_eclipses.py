@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import weakref
 from collections import Counter
 from dataclasses import astuple, replace
@@ -424,3 +425,32 @@ def test_check_takes_the_marks_it_is_given(sky):
     months = c.detail.astype(int)
     assert np.array_equal(c.predicted, (~c.full & np.isin(months, marks["solar"]))
                           | (c.full & np.isin(months, marks["lunar"])))
+
+
+def test_cli_first_failure_and_counts_read_as_english(tmp_path, capsys, monkeypatch):
+    """A missed annular eclipse is "an annular" one; counts of a thousand or more carry the
+    thousands separator, as the heading's count of new and full moons does (common practice,
+    no source). 1950-03-18: an annular solar eclipse (the NASA canon, from memory)."""
+    from engine.cli import main
+
+    ring = tmp_path / "ring.toml"
+    ring.write_text('[train]\nname = "Fast ring"\n[crank]\narbor = "ring"\n'
+                    'days_per_turn = "6574.5"\n[epoch]\ndate = "1990-01-01"\nset = "sky"\n'
+                    '[arbors.ring]\nwheels = { ring_wheel = 60 }\n[pointers.months]\n'
+                    'shows = "cycle"\narbor = "ring"\nlunations = 223\n')
+    assert main(["eclipses", str(ring), "--from", "1950-01-01", "--years", "1"]) == 0
+    text = " ".join(capsys.readouterr().out.split())
+    assert "1950-03-18 15:20 UT (Gregorian), turn -2 of the cycle dial: an annular solar " \
+           "eclipse missed" in text
+    # a millennium's counts (the counts scaled up: the table's formatting is what is tested)
+    import engine.eclipses as engine_eclipses
+
+    counts = engine_eclipses.Check.counts
+    monkeypatch.setattr(engine_eclipses.Check, "counts", lambda self: {
+        k: {n: v * 1000 + 234 for n, v in row.items()} for k, row in counts(self).items()})
+    assert main(["eclipses", str(ring), "--from", "1950-01-01", "--years", "1"]) == 0
+    text = capsys.readouterr().out
+    summary = text[text.index("summary"):text.index("first failure")]
+    numbers = re.findall(r"\d[\d,]*", summary)
+    assert numbers and all(re.fullmatch(r"\d{1,3}(,\d{3})*", n) for n in numbers)
+    assert "4,234" in summary

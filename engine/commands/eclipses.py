@@ -313,14 +313,15 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         summary.add_column(col, justify="right" if col else "left")
     for kind in ("solar", "lunar", "all"):
         k = counts[kind]
-        summary.add_row(kind, str(k["hits"]), str(k["misses"]), str(k["false_alarms"]))
+        summary.add_row(kind, f"{k['hits']:,}", f"{k['misses']:,}", f"{k['false_alarms']:,}")
     support.print_table(console, summary)
     first = c.first_failure()
     if first is None:
         line("first failure: none in the span — every prediction held")
     else:
         where = f", turn {c.cycle_of(first)} of the cycle dial" if c.lunations else ""
-        what = (f"a {c.real_type[first]} {c.kind(first)} eclipse missed"
+        real = f"{c.real_type[first]} {c.kind(first)}"
+        what = (f"{'an' if real[0] in 'aeiou' else 'a'} {real} eclipse missed"
                 if c.outcome(first) == "miss" else f"a {c.kind(first)} eclipse predicted, none "
                 "came")
         line(f"first failure: {format_jd(c.jd_ut[first])}{where}: {what}")
@@ -330,8 +331,8 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         for col in ("turn", "hits", "misses", "false alarms"):
             t.add_column(col, justify="right")
         for row in cycles:
-            t.add_row(str(row["cycle"]), str(row["hits"]), str(row["misses"]),
-                      str(row["false_alarms"]))
+            t.add_row(f"{row['cycle']:,}", f"{row['hits']:,}", f"{row['misses']:,}",
+                      f"{row['false_alarms']:,}")
         support.print_table(console, t)
     if csv_path:
         line(f"wrote {csv_path}")
