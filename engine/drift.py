@@ -345,6 +345,10 @@ class PointerSummary:
     the span (:func:`delta_t_effect_deg`; large only far from the present);
     ``within_delta_t``: the largest error is no larger than that, so the comparison cannot
     tell the pointer from the sky.
+    ``months_off_end``, ``months_off_least``, ``months_off_most``: for an eclipse-cycle dial
+    only (else ``None``), the whole lunations its month stands from the real count at the
+    span's last date, and the least and most over the span (positive: ahead); the errors above
+    are taken within the month, as a phase disc's are (:func:`whole_months_off`).
     """
 
     pointer: str
@@ -369,6 +373,9 @@ class PointerSummary:
     step_note: str | None = None
     delta_t_effect_deg: float = 0.0
     within_delta_t: bool = False
+    months_off_end: int | None = None
+    months_off_least: int | None = None
+    months_off_most: int | None = None
 
     def to_dict(self) -> dict:
         return {k: (None if isinstance(v, float) and not math.isfinite(v) else
@@ -563,6 +570,28 @@ class _Running:
             rms_after_reset_deg=rms_after, drift_sigma_deg_per_century=sigma,
             drift_uncertain=uncertain, drift_terms=fit.used, drift_terms_left_out=fit.left_out,
             step_note=step_note, **extra)
+
+
+def whole_months_off(readout, name: str, frame: str, jd: np.ndarray,
+                     error_deg: np.ndarray) -> np.ndarray:
+    """Whole lunations an eclipse-cycle dial's month stands from the real count at each date
+    (positive: ahead), given its error within the month (``error_deg``, wrapped to ±180° of
+    phase, as :func:`pointer_errors` gives it).
+
+    A cycle dial counts months from its epoch, so a dial that gains a lunation shows the next
+    month although its error within the month is back near zero. The whole part is read off
+    the line expected from the mean rates, anchored at the epoch on the pointer's reading less
+    its kind's mean value there: the error stands within the sky's swings (some ten degrees,
+    with ΔT's and the mean motions' slow change over millennia) of that line, far inside the
+    half turn that rounding to whole lunations allows."""
+    from .readout import mean_values
+
+    epoch = readout.train.epoch.jd_ut
+    at_epoch = float(readout.read_deg(readout.turns_at(epoch))[name])
+    mean = mean_values(readout.train, epoch, frame=frame, names=[name])[name]
+    line = (float(wrap_deg(at_epoch - mean))
+            + _expected_deg_per_day(readout, name, frame) * (np.asarray(jd, float) - epoch))
+    return np.rint((line - np.asarray(error_deg, float)) / 360.0).astype(np.int64)
 
 
 def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | None = None,
@@ -845,6 +874,13 @@ class _Chunks:
             effect = float(delta_t_effect_deg(p.shows, self.delta_t_sigma_s, self.frame))
             out[name] = replace(s, delta_t_effect_deg=effect,
                                 within_delta_t=bool(s.max_abs_deg <= effect))
+            if p.shows == "cycle":
+                whole = whole_months_off(self.reader.readout, name, self.frame,
+                                         self.jd0 + np.arange(self.n) * self.step,
+                                         self.runs[name].error)
+                out[name] = replace(out[name], months_off_end=int(whole[-1]),
+                                    months_off_least=int(whole.min()),
+                                    months_off_most=int(whole.max()))
         return out
 
     def motions(self, name: str, shows: str, terms) -> list[tuple[str, float]]:

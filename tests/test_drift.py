@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 
 from engine.cli import main
+from engine.dates import parse_date
 from engine.drift import (
     PHASE_DEG_PER_DAY,
     DriftCancelled,
@@ -844,3 +845,85 @@ def test_timings_name_the_parts_of_the_engines_time(sky):
     assert {"sky_s", "engine_s", "summaries_s", "fit_s", "swing_s", "total_s"} <= set(t)
     assert 0 < t["fit_s"] and 0 < t["swing_s"]
     assert t["fit_s"] + t["swing_s"] <= t["summaries_s"] <= t["engine_s"] <= t["total_s"]
+
+
+FAST_RING = """
+[train]
+name = "Fast ring"
+[crank]
+arbor = "ring"
+days_per_turn = "6574.5"   # 223 months in 18 Julian years: 10.8 days too quick a turn
+[epoch]
+date = "1950-01-01"
+set = "sky"
+[arbors.ring]
+wheels = { ring_wheel = 60 }
+[pointers.months]
+shows = "cycle"
+arbor = "ring"
+lunations = 223
+"""
+
+
+def _real_lunations(jd_from: float, jd_to: float) -> float:
+    """Lunations the sky runs between two UT dates, from skyfield's own new moons and the
+    Moon's phase angle (skyfield.almanac, an outside count)."""
+    from skyfield import almanac
+    from skyfield.api import load, load_file
+
+    from engine.sky import _de421_path
+
+    eph = load_file(_de421_path())
+    ts = load.timescale(builtin=True)
+    t0, t1 = ts.ut1_jd(jd_from), ts.ut1_jd(jd_to)
+    times, phases = almanac.find_discrete(t0, t1, almanac.moon_phases(eph))
+    news = int(np.sum(phases == 0))
+    frac0 = almanac.moon_phase(eph, t0).degrees / 360.0
+    frac1 = almanac.moon_phase(eph, t1).degrees / 360.0
+    eph.close()
+    return news + frac1 - frac0
+
+
+def test_cycle_dial_whole_months_off_the_real_count(sky):
+    """A cycle dial's error within the month wraps like a phase disc's, so the whole months
+    it stands from the real count are given apart: a ring turning once in 18 Julian years for
+    223 months gains about 10.8 days a turn (57 days by 2045, 27 days lost by 1905), so it
+    shows a month two lunations ahead in 2045 and one behind in 1905 — against skyfield's own new moons (outside
+    count), the dial's lunations from its exact rate."""
+    mech = build(parse_train(FAST_RING), sky)
+    epoch = mech.train.epoch.jd_ut
+    start, end = parse_date("1905-01-01"), parse_date("2045-01-01")
+    r = drift_series(mech, sky, DriftRun(start, end, "2d"), RunControl(keep_series=False))
+    s = r.summaries["months"]
+    last = float(r.jd[-1])
+
+    def expected(jd):
+        dial = 223 * (jd - epoch) / 6574.5
+        return dial - _real_lunations(epoch, jd) if jd > epoch else \
+            dial + _real_lunations(jd, epoch)
+
+    at_end, at_start = expected(last), expected(start)
+    assert abs(at_end - round(at_end)) < 0.4 and abs(at_start - round(at_start)) < 0.4
+    assert s.months_off_end == round(at_end) == 2
+    assert s.months_off_least == round(at_start) == -1
+    assert s.months_off_most == 2
+    assert abs(s.max_abs_deg) <= 180  # the error itself stays within the month
+    # other kinds carry none
+    tide = open_train(TRAINS / "tide_office.toml", sky)
+    r2 = drift_series(tide, sky, DriftRun("2030-01-01", "2031-01-01", "1d"),
+                      RunControl(keep_series=False))
+    assert all(x.months_off_end is None for x in r2.summaries.values())
+
+
+def test_drift_report_says_a_cycle_dials_whole_months(tmp_path, capsys):
+    path = tmp_path / "ring.toml"
+    path.write_text(FAST_RING)
+    assert main(["drift", str(path), "--from", "1950-01-01", "--to", "2045-01-01",
+                 "--step", "5d"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "whole months off 2 months ahead at the end; over the span from none to 2 months " \
+           "ahead (the errors here are within the month the dial shows)" in out
+    assert main(["drift", str(path), "--years", "100", "--step", "5d", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["pointers"]["months"]["months_off_end"] == 2
+

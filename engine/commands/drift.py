@@ -350,6 +350,23 @@ def _uncertain_why(s) -> str:
     return f"the span holds under two of its {support.fixed(s.periodic_period_days, 1)}-day swings"
 
 
+def _months(k: int) -> str:
+    """``3 months behind``, ``1 month ahead``, ``none``."""
+    if k == 0:
+        return "none"
+    return f"{abs(k):,} month{'' if abs(k) == 1 else 's'} {'ahead' if k > 0 else 'behind'}"
+
+
+def _months_off(s) -> str:
+    """An eclipse-cycle dial's whole lunations off the real count (its errors are in-month)."""
+    within = "the errors here are within the month the dial shows"
+    if s.months_off_least == s.months_off_most == 0:
+        return f"none: the dial shows the right month throughout ({within})"
+    span = ("" if s.months_off_least == s.months_off_most else
+            f"; over the span from {_months(s.months_off_least)} to {_months(s.months_off_most)}")
+    return f"{_months(s.months_off_end)} at the end{span} ({within})"
+
+
 def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
     from rich import box
 
@@ -368,6 +385,8 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
 
     t.add_row("largest error", both(s.max_abs_deg, s.max_abs_days) + f"  on {_when(s.max_at_jd)}")
     t.add_row("root-mean-square error", both(s.rms_deg, s.rms_days))
+    if s.months_off_end is not None:  # an eclipse-cycle dial: the errors above are in-month
+        t.add_row("whole months off", _months_off(s))
     if s.delta_t_effect_deg >= 0.0005:  # only where ΔT's uncertainty shows in the figures
         t.add_row("ΔT uncertainty", f"moves the sky's value by up to {s.delta_t_effect_deg:.4f}° "
                   "(one standard error)" + ("; the largest error is within it: the comparison "
