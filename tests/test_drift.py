@@ -927,3 +927,12 @@ def test_drift_report_says_a_cycle_dials_whole_months(tmp_path, capsys):
     doc = json.loads(capsys.readouterr().out)
     assert doc["pointers"]["months"]["months_off_end"] == 2
 
+
+def test_cli_short_span_is_not_zero_years(capsys):
+    """A span under a year is given in days or hours, not as 0.01 or 0.00 years (common
+    practice, no source): 0.01 years of 365.25 days is 3.65 days, on to the next hour."""
+    assert main(["drift", DISC, "--years", "0.01", "--step", "1h"]) == 0
+    out = capsys.readouterr().out
+    assert "89 dates, every 1 hour (3.7 days)" in out and " years)" not in out
+    assert main(["eclipses", "eclipse_board", "--years", "0.1"]) == 0
+    assert "(37 days, " in capsys.readouterr().out

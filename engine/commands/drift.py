@@ -592,7 +592,7 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     elif end - last > 0.5 / 1440:
         to += f", {_duration(end - last)} short of the end asked (the ephemeris ends)"
     line(to)
-    line(f"{n:,} dates, every {step_text(step)} ({(last - start) / JULIAN_YEAR_DAYS:.2f} years)")
+    line(f"{n:,} dates, every {step_text(step)} ({_duration(last - start)})")  # 0.00 years no more
     line("error = what the train shows minus the true sky (positive: ahead)")
     sigma = result.delta_t_sigma_s
     if sigma >= 60:  # as the eclipses report: said where ΔT's uncertainty reaches a minute

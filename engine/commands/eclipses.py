@@ -18,7 +18,7 @@ from ..defaults import ECLIPSE_METHODS as METHODS
 from ..errors import TrainError, UsageError
 from ..periods import JULIAN_YEAR_DAYS
 from . import support
-from .drift import _CtrlC, date_heading
+from .drift import _CtrlC, _duration, date_heading
 from .support import SUN_CAUTION
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -259,8 +259,9 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         err.print(f"wheelwork: note: {w}", markup=False, soft_wrap=False)
     line(f"{mech.train.name}: eclipses predicted against {sky.name}")
     line(f"from {format_jd(args._start)}")
-    line(f"  to {format_jd(args._end)}  ({(args._end - args._start) / JULIAN_YEAR_DAYS:.1f} years, "
-         f"{len(c.jd_ut):,} new and full moons)")
+    days = args._end - args._start
+    span = f"{days / JULIAN_YEAR_DAYS:.1f} years" if days >= JULIAN_YEAR_DAYS else _duration(days)
+    line(f"  to {format_jd(args._end)}  ({span}, {len(c.jd_ut):,} new and full moons)")
     line(f"predicted by {c.how}")
     if c.method == "pointers":
         line(f"ecliptic limits: solar {c.limits['solar']:.2f}°, lunar {c.limits['lunar']:.2f}° "
