@@ -1509,7 +1509,9 @@ class Sky:
         outside = max(0.0, min(end, lo) - start) + max(0.0, end - max(start, hi))
         first_text = (f"first date outside: {_moment_text(start)}" if start < lo else
                       f"outside from just after {_moment_text(hi)}")
-        raise SkyError(f"{outside / JULIAN_YEAR_DAYS:.1f} years of the span "
+        amount = (f"{outside / JULIAN_YEAR_DAYS:.1f} years" if outside >= JULIAN_YEAR_DAYS else
+                  f"{outside:.1f} days" if outside >= 1 else f"{outside * 24:.1f} hours")
+        raise SkyError(f"{amount} of the span "
                        f"{format_day(start, bc=True)} to "
                        f"{format_day(end, bc=True)} lie outside {self.name}, which covers "
                        f"{self.exact_span_text} ({first_text}); "

@@ -237,6 +237,12 @@ def test_span_check_says_how_much_is_outside(sky):
     msg = str(err.value)
     assert "22.2 years of the span 2026-01-01 to 2076-01-01" in msg
     assert "outside from just after 2053-10-08 00:00 UT" in msg and "de440 (1550-2650" in msg
+    # a little outside is said in days or hours, not "0.0 years" (common practice, no source)
+    end = parse_date("2053-10-08")
+    for past, words in ((3.0, "3.0 days of the span"), (0.25, "6.0 hours of the span")):
+        with pytest.raises(SkyError) as err:
+            sky.check_span(start, end + past)
+        assert str(err.value).startswith(words)
 
 
 def test_span_hint_says_which_long_ephemerides_are_installed(monkeypatch):
