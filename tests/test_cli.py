@@ -92,6 +92,9 @@ def test_version_names_the_package(capsys):
     (["cut", "moon_disc_59", "--outt", "x"], "unrecognized option --outt; did you mean --out?"),
     (["--verison"], "unrecognized option --verison; did you mean --version?"),
     (["ratios", "moon_disc_59", "--zzz"], "unrecognized option --zzz"),
+    # eclipses has no --site: no unrelated option is offered in its place (--to was)
+    (["eclipses", "eclipse_board", "--years", "1", "--site", "0,0"],
+     "unrecognized option --site\n"),
 ])
 def test_a_mistyped_option_is_named_with_the_nearest(argv, words, capsys):
     """Common practice, no source: a typo in an option is the option named, not another

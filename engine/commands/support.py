@@ -80,7 +80,8 @@ class Parser(argparse.ArgumentParser):
             name = arg.split("=", 1)[0]
             if not name.startswith("--") or any(k.startswith(name) for k in known):
                 continue
-            near = difflib.get_close_matches(name, known, n=1)
+            # a near miss only: at difflib's 0.6 an unrelated --to was offered for --site
+            near = difflib.get_close_matches(name, known, n=1, cutoff=0.7)
             raise UsageError(f"unrecognized option {name}"
                              + (f"; did you mean {near[0]}?" if near else ""), self.prog)
 
