@@ -353,3 +353,16 @@ def test_python_m_engine_cli_runs_the_command():
                           text=True, stdin=subprocess.DEVNULL, timeout=60, cwd=ROOT)
     assert done.returncode == 0, done.stderr
     assert done.stdout.strip(), "nothing printed"
+
+
+def test_ephemeris_help_names_the_trains_own_default(capsys):
+    """A train's [epoch] ephemeris is the default of the commands that read a train
+    (docs/train-format.md); their help said the bundled DE421 alone, which a train set in
+    antiquity does not use. sky reads no train: DE421 (common practice, no source)."""
+    for cmd in ("drift", "eclipses"):
+        assert main([cmd, "--help"]) == 0
+        text = " ".join(capsys.readouterr().out.split())
+        assert "(default: the train's [epoch] ephemeris, else the bundled DE421" in text
+    assert main(["sky", "--help"]) == 0
+    text = " ".join(capsys.readouterr().out.split())
+    assert "(default: the bundled DE421, 1900-2050)" in text and "[epoch]" not in text

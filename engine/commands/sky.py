@@ -23,7 +23,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--stars", action="store_true",
                         help="longitudes on the fixed J2000 ecliptic instead of the equinox of date")
     support.add_site(parser)
-    support.add_ephemeris(parser)
+    support.add_ephemeris(parser, train=False)
     parser.add_argument("--json", action="store_true", help="print JSON only")
     parser.epilog = ("phase names, by the Moon's elongation from the Sun (new, the quarters "
                      "and full within about a day of the exact phase): " + phase_help())

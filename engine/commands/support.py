@@ -309,11 +309,15 @@ def add_site(parser, help_text: str | None = None) -> None:
         "e.g. --site -33.87,151.21 or '33.87S 151.21E'; default: the Earth's centre")
 
 
-def add_ephemeris(parser) -> None:
+def add_ephemeris(parser, train: bool = True) -> None:
+    """``--ephemeris``; ``train``: the command reads a train, whose ``[epoch] ephemeris`` is
+    the default before DE421."""
+    default = ("the train's [epoch] ephemeris, else the bundled DE421, 1900-2050" if train
+               else "the bundled DE421, 1900-2050")
     parser.add_argument(
         "--ephemeris", metavar="FILE|de440|de406", type=ephemeris, default=None,
         help="JPL ephemeris: de440 (optional package, 1550-2650), de406 (the 'ancient' extra, "
-        "3000 BC-AD 3000) or an SPK .bsp file (default: the bundled DE421, 1900-2050)")
+        f"3000 BC-AD 3000) or an SPK .bsp file (default: {default})")
 
 
 def add_force(parser, what: str = "output files") -> None:
