@@ -747,3 +747,18 @@ def test_deep_cycloidal_teeth_one_note_naming_every_mesh():
     text = (DEMO / "tide_office.toml").read_text() + '\n[workshop]\ntooth_form = "involute"\n'
     train = parse_train(text, "t.toml")
     assert not [f for f in check(train, solve(train)).findings if "deep" in f.message]
+
+
+def test_the_meshes_table_gives_centre_distances_to_the_micrometre(tmp_path, capsys):
+    # a = m (z1 + z2) / 2 = 0.35 × 605 / 2 = 105.875 mm (standard spur-gear geometry); four
+    # significant figures printed 105.9, 0.025 mm from where the hole goes, more than the
+    # 0.02 mm a mesh takes up
+    text = header("crank") + (
+        '[arbors.crank]\nwheels = { cp = 5 }\n[arbors.out]\nwheels = { ow = 600 }\n'
+        '[[meshes]]\nwheels = ["cp", "ow"]\nmodule_mm = 0.35\n'
+        '[pointers.p]\nshows = "sun"\narbor = "out"\nset_deg = 0\n')
+    train = tmp_path / "wide.toml"
+    train.write_text(text)
+    assert main(["check", str(train)]) == 0
+    out = capsys.readouterr().out
+    assert " 105.875 " in out and "105.9 " not in out
