@@ -329,30 +329,58 @@ def _segment_arrays(seg) -> tuple[float, float, np.ndarray]:
     return (start_jd - T0) * SECONDS_PER_DAY, days * SECONDS_PER_DAY, np.transpose(coef, (2, 0, 1))[::-1]
 
 
-# The gather path's chunks (see _ChebGroup.evaluate): at most this many slots a chunk, and the
-# rough costs (ns) its choice of slots weighs, measured on numpy 2.4 with one BLAS thread (they
-# decide speed only, never a result): a slot's basis column (per term) and its share of the
-# gathers (per row of results); a chunk's stacked product (fixed, and per result).
+# The gather path's chunks (see _ChebGroup.evaluate): a run of dates in one record is one
+# chunk of at most _MOST_SLOTS dates (a longer run is cut into chunks of that many), padded to
+# the next of CHUNK_SIZES; chunks of one size share a stacked product. The sizes step by about
+# a quarter above 8, so padding stays under a quarter while a batch takes a dozen products at
+# most (measured on numpy 2.4 with one BLAS thread; they decide speed only, never a result).
 _MOST_SLOTS = 32
+_CHUNK_SIZES = np.array((1, 2, 3, 4, 5, 6, 7, 8, 10, 12, 14, 16, 20, 24, 28, 32))
+_SIZE_OF = np.searchsorted(_CHUNK_SIZES, np.arange(_MOST_SLOTS + 1)).astype(np.uint8)
 _TURN_BLOCK = 1024  # records turned at a time for the gather path (_ChebGroup._series)
-_SLOT_NS_PER_TERM, _SLOT_NS_PER_ROW, _CHUNK_NS, _CHUNK_NS_PER_RESULT = 0.9, 0.3, 50.0, 0.4
 
 
-def _second_kind(coef: np.ndarray, rate: float, scale: float) -> np.ndarray:
+def _chunks(starts: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(first date, dates) of each chunk of the runs of dates ``starts``, ``counts`` (dates in
+    order, a run in one record): a run of at most :data:`_MOST_SLOTS` dates is one chunk, a
+    longer one is cut into chunks of that many and what is left."""
+    pieces = (counts + (_MOST_SLOTS - 1)) // _MOST_SLOTS
+    if pieces.size == 0 or pieces.max() == 1:
+        return starts, counts
+    run = np.repeat(np.arange(counts.size), pieces)
+    within = np.arange(run.size) - np.repeat(np.cumsum(pieces) - pieces, pieces)
+    within *= _MOST_SLOTS
+    return starts[run] + within, np.minimum(counts[run] - within, _MOST_SLOTS)
+
+
+def _power_form(coef: np.ndarray, rate: float, scale: float) -> np.ndarray:
     """(records, 2 × coordinates, terms): Chebyshev series (records, coordinates, terms)
-    re-expressed in polynomials of the second kind, U_0 .. U_{k-1}: positions first
-    (T_0 = U_0, T_1 = U_1/2, T_j = (U_j − U_{j−2})/2), then rates (T_j' = j U_{j−1}) times
-    ``rate``; all times ``scale``. One basis then gives both, with no second series."""
+    re-expressed in powers of s, 1, s, .. s^{k-1}: positions first (the sum of c_j times
+    T_j's own power coefficients, from numpy's ``cheb2poly``), then rates (the positions'
+    derivative, j a_j s^{j-1}) times ``rate``; all times ``scale``. One basis of powers then
+    gives both, with no second series, at one product a power where the Chebyshev
+    recurrence takes two. The ephemerides' coefficients fall off far faster than T_j's
+    power coefficients grow (about 2.4^j), so the powers' sums keep the series' precision
+    (agreeing with jplephem's evaluation as the Chebyshev form does, checked in
+    ``tests/test_sky_gather.py``)."""
     m, c, k = coef.shape
     out = np.zeros((m, 2, c, k))
     pos, vel = out[:, 0], out[:, 1]
-    pos[..., 0] = coef[..., 0]
-    np.multiply(coef[..., 1:], 0.5, out=pos[..., 1:])
-    pos[..., :k - 2] -= 0.5 * coef[..., 2:]
-    np.multiply(coef[..., 1:], np.arange(1.0, k) * rate, out=vel[..., :k - 1])
+    np.matmul(coef, _cheb_to_powers(k), out=pos)
+    np.multiply(pos[..., 1:], np.arange(1.0, k) * rate, out=vel[..., :k - 1])
     if scale != 1.0:
         out *= scale
     return out.reshape(m, 2 * c, k)
+
+
+@functools.cache
+def _cheb_to_powers(k: int) -> np.ndarray:
+    """(k, k): T_j(s) = sum_i A[j, i] s^i for j, i < k (numpy's ``cheb2poly``)."""
+    out = np.zeros((k, k))
+    for j in range(k):
+        out[j, :j + 1] = np.polynomial.chebyshev.cheb2poly(np.eye(j + 1)[j])
+    out.flags.writeable = False
+    return out
 
 
 _gather_scratch = threading.local()
@@ -383,16 +411,14 @@ def _rows(rows: int, n: int, scratch: str | None = None) -> np.ndarray:
     return buf.reshape(rows, stride)[:, :n]
 
 
-def _second_kind_basis(s: np.ndarray, k: int) -> np.ndarray:
-    """(k, len(s)): U_0 .. U_{k-1} at ``s`` by their recurrence U_j = 2s U_{j−1} − U_{j−2}
-    (in a work array of the gather path)."""
+def _power_basis(s: np.ndarray, k: int) -> np.ndarray:
+    """(k, len(s)): 1, s, .. s^{k-1} (in a work array of the gather path)."""
     basis = _rows(k, s.size, "basis")
     basis[0] = 1.0
     if k > 1:
-        np.multiply(s, 2.0, out=basis[1])
+        basis[1] = s
     for j in range(2, k):
-        np.multiply(basis[1], basis[j - 1], out=basis[j])
-        basis[j] -= basis[j - 2]
+        np.multiply(basis[j - 1], s, out=basis[j])
     return basis
 
 
@@ -426,13 +452,13 @@ class _ChebGroup:
         return coef
 
     def _series(self, index: np.ndarray) -> np.ndarray:
-        """(len(index), 2 × coordinates, terms): records ``index`` as :func:`_second_kind`
+        """(len(index), 2 × coordinates, terms): records ``index`` as :func:`_power_form`
         gives them, rates in km/day. Kept with the series, turned :data:`_TURN_BLOCK` records
         at a time when first read (a block never read takes no memory); a series
         :meth:`from_records` maps (not copied: DE406's arrays) is turned as it is read."""
         rate = 2.0 * SECONDS_PER_DAY / self.intlen
         if self.mapped:
-            return _second_kind(np.take(self.coef, index, axis=0), rate, self.scale)
+            return _power_form(np.take(self.coef, index, axis=0), rate, self.scale)
         k, rows = self.nterms, 6 * len(self.keys)
         table, turned = self.__dict__.get("_turned") or self.__dict__.setdefault(
             "_turned", (np.empty((self.nrec, rows, k)),
@@ -440,7 +466,7 @@ class _ChebGroup:
         for b in range(int(index.min()) // _TURN_BLOCK, int(index.max()) // _TURN_BLOCK + 1):
             if not turned[b]:
                 block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
-                table[block] = _second_kind(self.coef[block], rate, self.scale)
+                table[block] = _power_form(self.coef[block], rate, self.scale)
                 turned[b] = True
         return np.take(table, index, axis=0, mode="clip",  # "raise" would copy through a buffer
                        out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
@@ -467,10 +493,12 @@ class _ChebGroup:
         Dates near a regular grid whose step divides the record length are evaluated by
         :meth:`_evaluate_grid` (each record's series once for all its dates); any others by
         gathering records. Each run of dates in the same record (dates in order make long
-        runs) is cut into chunks of a few slots, each chunk's record gathered once, and one
-        stacked product of the records' series (:func:`_second_kind`: positions and rates
-        together) with the slots' basis gives every date. A chunk's unused slots cost a basis
-        column each; how many slots a chunk has is chosen from the runs (:meth:`_slots`)."""
+        runs) is one chunk (a run longer than :data:`_MOST_SLOTS` dates, several), its record
+        gathered once; each chunk is padded to the next of :data:`_CHUNK_SIZES` slots, and for
+        the chunks of each size one stacked product of the records' series
+        (:func:`_power_form`: positions and rates together) with the slots' basis gives their
+        dates. A chunk's unused slots cost a basis column each (under a quarter of its dates
+        above eight); each size present costs a product."""
         on_grid = self._evaluate_grid(whole, frac)
         if on_grid is not None:
             return on_grid
@@ -487,23 +515,37 @@ class _ChebGroup:
             counts = np.empty_like(starts)
             np.subtract(starts[1:], starts[:-1], out=counts[:-1])
             counts[-1] = n - starts[-1]
-            slots, chunks = self._slots(counts, rows)
-            if slots > 1:
-                # each run padded to whole chunks, the padding at s = 0 (any s in [-1, 1])
-                pad = chunks * slots - counts
-                where = np.arange(n) + np.repeat(np.cumsum(pad) - pad, counts)
-                padded = _scratch("padded", int(chunks.sum()) * slots)
+            firsts, counts = _chunks(starts, counts)
+            # the chunks by size (in date order within a size), each padded to its size
+            size_of = _SIZE_OF[counts]
+            order = np.argsort(size_of, kind="stable")
+            per_size = np.bincount(size_of, minlength=_CHUNK_SIZES.size)
+            sizes = _CHUNK_SIZES[size_of[order]]
+            place = np.empty(sizes.size, dtype=np.intp)  # each chunk's first slot
+            place[order[0]] = 0
+            place[order[1:]] = np.cumsum(sizes[:-1])
+            total = int(sizes.sum())
+            in_order = total == n and np.count_nonzero(per_size) == 1  # one size, unpadded
+            if not in_order:
+                # each date's slot; the padding at s = 0 (any s in [-1, 1])
+                where = np.arange(n) + np.repeat(place - firsts, counts)
+                padded = _scratch("padded", total)
                 padded.fill(0.0)
                 padded[where] = s
-                s, index = padded, np.repeat(index[starts], chunks)
-            basis = _second_kind_basis(s, k)
-            series = self._series(index)
-            out = _rows(rows, s.size, "out" if slots > 1 else None)  # returned when 1 slot
-            m = s.size // slots
+                s = padded
+            basis = _power_basis(s, k)
+            series = self._series(index[firsts[order]])
+            out = _rows(rows, total, None if in_order else "out")  # returned when in order
+            done = first = 0
             with _one_blas_thread():
-                np.matmul(series, basis.reshape(k, m, slots).transpose(1, 0, 2),
-                          out=out.reshape(rows, m, slots).transpose(1, 0, 2))
-            if slots > 1:
+                for size in np.flatnonzero(per_size):
+                    z, count = int(_CHUNK_SIZES[size]), int(per_size[size])
+                    cols = slice(first, first + count * z)
+                    np.matmul(series[done:done + count],
+                              basis[:, cols].reshape(k, count, z).transpose(1, 0, 2),
+                              out=out[:, cols].reshape(rows, count, z).transpose(1, 0, 2))
+                    done, first = done + count, cols.stop
+            if not in_order:
                 out = np.take(out, where, axis=1)
         half = rows // 2
         return {key: (out[3 * i:3 * i + 3], out[half + 3 * i:half + 3 * i + 3])
@@ -535,21 +577,6 @@ class _ChebGroup:
             index[last] -= 1
             s[last] += 2.0
         return index, s
-
-    def _slots(self, counts: np.ndarray, rows: int) -> tuple[int, np.ndarray]:
-        """(slots a chunk, chunks each run takes) for runs of ``counts`` dates: the power of
-        two up to the runs' mean length, or twice it, whichever costs less (roughly: padded
-        slots against stacked products), at most :data:`_MOST_SLOTS`."""
-        low = min(_MOST_SLOTS, 1 << ((int(counts.sum()) // counts.size).bit_length() - 1))
-        best = None
-        for slots in (low, 2 * low) if low < _MOST_SLOTS else (low,):
-            chunks = (counts + (slots - 1)) >> (slots.bit_length() - 1)
-            total = int(chunks.sum())
-            cost = (total * slots * (_SLOT_NS_PER_TERM * self.nterms + _SLOT_NS_PER_ROW * rows)
-                    + total * (_CHUNK_NS + _CHUNK_NS_PER_RESULT * rows * slots))
-            if best is None or cost < best[0]:
-                best = (cost, slots, chunks)
-        return best[1], best[2]
 
     def _evaluate_grid(self, whole: np.ndarray, frac: np.ndarray) -> dict | None:
         """:meth:`evaluate` for dates close to a regular grid whose step is the record length

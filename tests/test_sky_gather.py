@@ -41,9 +41,11 @@ def _layouts(group, span):
     lo, hi = span
     dense = np.sort(rng.uniform(lo, lo + 36525.0, 5000))  # about a day apart: long runs
     sparse = np.sort(rng.uniform(lo, hi, 300))  # months apart: one date a record
+    packed = np.sort(rng.uniform(lo + 100.0, lo + 200.0, 3000))  # runs of 100-500 dates
     return {
         "dense": _split(dense),
         "sparse": _split(sparse),
+        "packed": _split(packed),
         "shuffled": _split(rng.permutation(dense[:2000])),
         "one": _split(dense[7:8]),
         "none": _split(dense[:0]),
@@ -98,18 +100,27 @@ def test_gather_path_against_jplephem_arrays(sky406):
             _check(group, key, layout, whole, frac, *want)
 
 
-def test_chunks_follow_the_runs(sky):
-    # Dates in order a day apart fill several slots a chunk (a 16-day record holds about 16 of
-    # them, a 4-day record about 4); dates months apart take one slot each, unpadded.
-    for group in sky._loaded.groups:
-        rows = 6 * len(group.keys)
-        days = group.intlen / S_PER_DAY
-        dense = np.random.default_rng(2).poisson(days, 1000) + 1
-        slots, chunks = group._slots(dense, rows)
-        assert slots > 1 and np.all(chunks * slots >= dense) \
-            and np.all((chunks - 1) * slots < dense)
-        slots, chunks = group._slots(np.ones(300, dtype=np.intp), rows)
-        assert slots == 1 and np.all(chunks == 1)
+def test_chunks_follow_the_runs():
+    # A run of dates in one record is one chunk, a run longer than _MOST_SLOTS dates several of
+    # at most that many; the chunks tile the dates in order, every run starting one. Each is
+    # padded to the next chunk size: at most a quarter of its slots above eight. Dates months
+    # apart take one slot each, unpadded.
+    from engine.sky import _CHUNK_SIZES, _MOST_SLOTS, _SIZE_OF, _chunks
+
+    rng = np.random.default_rng(2)
+    for counts in (rng.poisson(16.0, 1000) + 1, rng.poisson(4.0, 1000) + 1,
+                   np.array([100, 1, 33, 64, 32, 5, 200])):
+        starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
+        firsts, sizes = _chunks(starts, counts)
+        assert sizes.min() >= 1 and sizes.max() <= _MOST_SLOTS
+        assert firsts[0] == 0 and np.array_equal(firsts[1:], firsts[:-1] + sizes[:-1])
+        assert firsts[-1] + sizes[-1] == counts.sum() and np.isin(starts, firsts).all()
+        assert sizes.size == np.sum(-(-counts // _MOST_SLOTS))
+        slots = _CHUNK_SIZES[_SIZE_OF[sizes]]
+        assert np.all(slots >= sizes) and np.all((slots <= 8) | (4 * (slots - sizes) < slots))
+    ones = np.ones(300, dtype=np.intp)
+    firsts, sizes = _chunks(np.arange(300), ones)
+    assert np.array_equal(firsts, np.arange(300)) and np.all(_CHUNK_SIZES[_SIZE_OF[sizes]] == 1)
 
 
 def test_records_turned_only_where_read(sky):
