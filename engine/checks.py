@@ -367,7 +367,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     pin_checks = _pin_slots(train, pin_diameter_mm, findings, kin)
     report.pin_slots = pin_checks
     report.arbors = _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, efficiency,
-                            findings)
+                            findings, real_time=bool(real_time))
     report.meshes = _meshes(train, kin, upstream, report.arbors, crank_rpm, findings)
     modules = _wheel_modules(train, findings)
     groups = _axis_groups(train, kin)
@@ -472,7 +472,8 @@ def _pin_slots(train: Train, pin_d: float, findings: list[Finding],
     return out
 
 
-def _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, eff, findings):
+def _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, eff, findings, *,
+            real_time: bool = False):
     year_turns = PERIODS["tropical_year"].days / float(train.crank.days_per_turn)
     pins = {p.name: p for p in pin_checks}
     stepped = set()
@@ -514,7 +515,9 @@ def _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, eff, findings):
                 "warning", f"[arbors.{name}]", f"turns {_fmt(abs(float(rate)))} times as fast "
                 f"as the crank ({_fmt(max(abs(lo), abs(hi)) * crank_rpm)} rpm at "
                 f"{_fmt(crank_rpm)} rpm): a step-up of more than {FAST_ARBOR_X_CRANK:g}:1 "
-                "is heavy to crank by hand and wears its pinions (rule of thumb)",
+                + ("multiplies the friction the clock or motor driving the crank must "
+                   "overcome" if real_time else "is heavy to crank by hand")
+                + " and wears its pinions (rule of thumb)",
                 "move the crank to a faster arbor, or drive this arbor from a slower one"))
     return out
 

@@ -762,3 +762,13 @@ def test_the_meshes_table_gives_centre_distances_to_the_micrometre(tmp_path, cap
     assert main(["check", str(train)]) == 0
     out = capsys.readouterr().out
     assert " 105.875 " in out and "105.9 " not in out
+
+
+def test_a_fast_arbor_at_running_speed_is_not_said_to_be_cranked_by_hand():
+    # at the train's own running speed (a clock or motor turns the crank) the 10:1 rule is
+    # about the friction the drive must overcome, not a hand on the crank
+    report = run_check(TRAINS / "step_up.toml", real_time=True)
+    (fast,) = levels(report, "warning", "[arbors.fast]")
+    assert "by hand" not in fast.message and "clock or motor" in fast.message
+    (hand,) = levels(run_check(TRAINS / "step_up.toml"), "warning", "[arbors.fast]")
+    assert "heavy to crank by hand" in hand.message
