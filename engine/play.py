@@ -23,7 +23,8 @@ times over a span. For independent errors the spread is the root-sum-square
 ``σ² = Σ (360 S)² (σ_div² + e² / (6 (π m)²))`` degrees², which the report gives beside it.
 
 Simplifications (said in the report): a pin-and-slot stage passes small errors on 1:1 (its
-speed ratio varies between ``r/(r+e)`` and ``r/(r−e)``, a few per cent); a wheel in two meshes
+speed ratio varies between ``r/(r+e)`` and ``r/(r−e)``, a few per cent in a lunar anomaly
+stage; a stage swinging further is named in a note, :func:`slot_notes`); a wheel in two meshes
 counts as two independent contributions; tilt and end-shake are judged by rules of thumb. The
 figures are design estimates.
 """
@@ -435,7 +436,32 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
             periodic, math.sqrt(var), std, sig, p95, mx, mean, effects.get(p), drift[p],
             _verdict(p95, dead, effects.get(p), drift[p], years), holes))
     report.flags = depth_flags(train, tol, forms)
+    report.notes.extend(slot_notes(train, kin))
     return report
+
+
+SLOT_SPEED_NOTE = 1.25
+"""A pin-and-slot stage whose slot arbor runs up to more than this many times its follower's
+speed (or backwards) is said to carry errors on larger than the model's 1:1."""
+
+
+def slot_notes(train: Train, kin: Kinematics) -> list[str]:
+    """The model passes small errors through a pin-and-slot 1:1; a stage whose speed ratio
+    swings far from 1 (up to ``r / (r − e)``) carries them on that much larger at its fastest:
+    one note per such stage, with its range (the check's figures)."""
+    from .checks import _pin_slots
+
+    out = []
+    for c in _pin_slots(train, 1.0, [], kin):
+        lo, hi = c.speed_factor_min, c.speed_factor_max
+        most = max(abs(lo), abs(hi))
+        if most > SLOT_SPEED_NOTE or lo < 0:
+            back = "; it runs backwards for part of the turn" if lo < 0 else ""
+            out.append(f"[pin_slots.{c.name}]: turns its slot arbor at {figure(lo, 4)} to "
+                       f"{figure(hi, 4)} times its follower's speed{back}: errors of the wheels "
+                       f"before it reach the pointers after it up to {figure(most, 3)} times "
+                       "as large at its fastest, where these figures pass them on 1:1")
+    return out
 
 
 def _verdict(p95: float, dead: float, effect: float | None, drift: float, years: float) -> str:

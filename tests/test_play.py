@@ -367,3 +367,20 @@ def test_a_wheel_turning_once_a_day_is_every_1_day(tmp_path, capsys):
     out = " ".join(capsys.readouterr().out.split())
     assert "once per turn of 'cw' (mesh 1 (cw–fp)): ±" in out
     assert "every 1 day" in out and "every 1 days" not in out
+
+
+def test_a_pin_and_slot_far_from_one_to_one_is_said(tmp_path):
+    # pin radius 4 mm, offset 3.5 mm: the slot arbor turns r/(r+e) = 0.5333 to r/(r−e) = 8
+    # times the pin's speed (plane geometry, docs/checks.md), so errors before it arrive up to
+    # 8 times larger at its fastest, where the model passes them 1:1, and the report said
+    # nothing; the tide office's stage (0.9014 to 1.123) stays unremarked
+    text = DEMO.read_text().replace("pin_radius_mm = 9.0", "pin_radius_mm = 4.0") \
+        .replace("offset_mm = 0.985", "offset_mm = 3.5")
+    train = parse_train(text, "wide.toml")
+    report = play(train, solve(train), years=1.0, builds=10, samples=8)
+    (note,) = [n for n in report.notes if "pin_slots" in n]
+    assert note.startswith("[pin_slots.anomaly]: turns its slot arbor at 0.5333 to 8 times")
+    assert "up to 8 times as large" in note and "1:1" in note
+    demo = load_train(DEMO)
+    assert not [n for n in play(demo, solve(demo), years=1.0, builds=10, samples=8).notes
+                if "pin_slots" in n]
