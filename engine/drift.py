@@ -576,7 +576,8 @@ def whole_months_off(readout, name: str, frame: str, jd: np.ndarray,
                      error_deg: np.ndarray) -> np.ndarray:
     """Whole lunations an eclipse-cycle dial's month stands from the real count at each date
     (positive: ahead), given its error within the month (``error_deg``, wrapped to ±180° of
-    phase, as :func:`pointer_errors` gives it).
+    phase, as :func:`pointer_errors` gives it). Taken round the dial's N months, as the dial
+    shows them: -(N-1)//2 to N//2 (a 12-month dial 13 months ahead shows the next month).
 
     A cycle dial counts months from its epoch, so a dial that gains a lunation shows the next
     month although its error within the month is back near zero. The whole part is read off
@@ -591,7 +592,9 @@ def whole_months_off(readout, name: str, frame: str, jd: np.ndarray,
     mean = mean_values(readout.train, epoch, frame=frame, names=[name])[name]
     line = (float(wrap_deg(at_epoch - mean))
             + _expected_deg_per_day(readout, name, frame) * (np.asarray(jd, float) - epoch))
-    return np.rint((line - np.asarray(error_deg, float)) / 360.0).astype(np.int64)
+    whole = np.rint((line - np.asarray(error_deg, float)) / 360.0).astype(np.int64)
+    n = int(readout.train.pointers[name].per_turn)  # the dial's months: N off is no month off
+    return (whole + (n - 1) // 2) % n - (n - 1) // 2  # -(N-1)//2 .. N//2
 
 
 def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | None = None,

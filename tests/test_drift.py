@@ -936,3 +936,20 @@ def test_cli_short_span_is_not_zero_years(capsys):
     assert "89 dates, every 1 hour (3.7 days)" in out and " years)" not in out
     assert main(["eclipses", "eclipse_board", "--years", "0.1"]) == 0
     assert "(37 days, " in capsys.readouterr().out
+
+
+def test_cycle_dial_whole_months_are_taken_round_its_dial(sky):
+    """A 12-month dial turning once in 350.4 days (12 lunations are 354.37) gains about 14
+    lunations in 100 years: it shows the month two after the real one, 14 less a whole turn
+    of 12 (the real count from skyfield's new moons, an outside count)."""
+    mech = build(parse_train(FAST_RING.replace('"6574.5"', '"350.4"')
+                             .replace("lunations = 223", "lunations = 12")), sky)
+    epoch = mech.train.epoch.jd_ut
+    r = drift_series(mech, sky, DriftRun(epoch, epoch + 100 * JULIAN_YEAR_DAYS, "3d"),
+                     RunControl(keep_series=False))
+    last = float(r.jd[-1])
+    gained = 12 * (last - epoch) / 350.4 - _real_lunations(epoch, last)
+    assert abs(gained - round(gained)) < 0.4 and round(gained) == 14
+    s = r.summaries["months"]
+    assert s.months_off_end == 2
+    assert (s.months_off_least, s.months_off_most) == (-5, 6)  # every month of the dial
