@@ -347,6 +347,13 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                        "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
                       for t in plate.ties]}
     part.notes.extend(plate.notes)
+    shared = [h.axis for h in plate.holes.values() if len(h.arbors) > 1]
+    if shared:
+        part.notes.append(f"{'holes' if len(shared) > 1 else 'the hole'} for arbors sharing an "
+                          f"axis ({'; '.join(shared)}) drawn at the pivot's {pivot:g} mm: open "
+                          f"{'each' if len(shared) > 1 else 'it'} to the outermost tube's "
+                          "diameter where a tube passes through this plate (the file gives no "
+                          "tube sizes)")
     _label_at(part, title, (x0 + x1) / 2, y0)
     return part
 

@@ -572,3 +572,14 @@ shows = "moon"
 arbor = "hand"
 set_deg = 0
 """
+
+
+def test_a_shared_axis_hole_is_said_to_be_drawn_at_the_pivot_size(tmp_path, capsys):
+    # the tide office's perigee carrier, mean Moon and Moon hand turn on one axis, tubes on
+    # one another: their hole in the frame was drawn at the 1 mm pivot without a word
+    assert main(["cut", "tide_office", "--out", str(tmp_path / "t"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    (note,) = [n for n in parts["plate-frame"]["notes"] if "sharing an axis" in n]
+    assert "(perigee_carrier/mean_moon/moon) drawn at the pivot's 1 mm" in note
+    assert "outermost tube" in note
+    assert not any("sharing" in n for n in parts["wheel-sun_w1"]["notes"])
