@@ -772,3 +772,12 @@ def test_a_fast_arbor_at_running_speed_is_not_said_to_be_cranked_by_hand():
     assert "by hand" not in fast.message and "clock or motor" in fast.message
     (hand,) = levels(run_check(TRAINS / "step_up.toml"), "warning", "[arbors.fast]")
     assert "heavy to crank by hand" in hand.message
+
+
+def test_efficiency_help_says_what_is_taken(capsys):
+    # the help said 0-1, and 0 is refused; the figure also counts each pin-and-slot stage
+    assert main(["check", "--help"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "each mesh and pin-and-slot stage, above 0 and at most 1" in out
+    assert main(["check", "tide_office", "--efficiency", "0"]) == 2
+    assert capsys.readouterr().err.count("\n") == 1

@@ -42,8 +42,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help="evaluate at the train's own running speed instead: one crank turn "
                        "every [crank] days_per_turn, as a clock or motor drives it")
     parser.add_argument("--efficiency", type=_efficiency, default=None, metavar="E",
-                        help=f"efficiency of each mesh, 0-1 (default {DEFAULT_EFFICIENCY:g}, a "
-                        "common rule for cut spur gears)")
+                        help="efficiency of each mesh and pin-and-slot stage, above 0 and at "
+                        f"most 1 (default {DEFAULT_EFFICIENCY:g}, a common rule for cut spur "
+                        "gears)")
     parser.add_argument("--strict", action="store_true",
                         help="exit 1 when any error is found (default: exit 0 and list them)")
     parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")
