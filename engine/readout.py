@@ -19,7 +19,7 @@ from .errors import UnknownName
 from .exact import Turns
 from .kinds import KINDS, mean_value, sky_at, true_value
 from .kinematics import Kinematics, LinearAngle
-from .periods import SECONDS_PER_DAY, mean_elements
+from .periods import PLANETS, SECONDS_PER_DAY, mean_elements
 from .train import Pointer, Train
 
 
@@ -55,8 +55,10 @@ def backward_pointers(train: Train, kin: Kinematics) -> set[str]:
 
 
 def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
-    """Pointers whose arbor turns against the sense of what they show, with the fix."""
-    out = []
+    """Pointers whose arbor turns against the sense of what they show, and planet hands whose
+    epicycle turns against its carrier the wrong way (see :func:`backward_epicycles`), with
+    the fix."""
+    out = backward_epicycles(train, kin)
     for p in train.pointers.values():
         rate = pointer_linear(kin, p).crank
         want = KINDS[p.shows].mean_period(train.dial).sense
@@ -69,6 +71,32 @@ def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
                        f"{what}, but this pointer runs the other way; set reversed = "
                        f"{'false' if p.reversed else 'true'} (engrave the dial the other way) "
                        "or add an idler to reverse its arbor")
+    return out
+
+
+def backward_epicycles(train: Train, kin: Kinematics) -> list[str]:
+    """Planet hands seen from the Earth driven by a pin on an epicycle whose epicycle turns
+    against its carrier the other way from the carrier's own turning. Two circles put the pin
+    where the planet is only when the pin goes round at the sum of the two motions (the
+    planet's own for an inner planet, the Sun's for an outer one); turned the other way it
+    goes round at their difference, and the hand's stations and loops come at the wrong
+    times while the epicycle's period still matches the synodic period."""
+    out = []
+    for p in train.pointers.values():
+        if p.shows not in PLANETS:  # a planet seen from the Earth
+            continue
+        for ps in train.pin_slots.values():
+            if ps.slot_arbor != p.arbor or ps.carrier is None:
+                continue
+            epicycle, carrier = kin.rate(ps.pin_arbor, ps.carrier), kin.rate(ps.carrier)
+            if epicycle and carrier and (epicycle > 0) != (carrier > 0):
+                out.append(
+                    f"{train.source}: [pin_slots.{ps.name}]: the epicycle '{ps.pin_arbor}' "
+                    f"turns against its carrier '{ps.carrier}' the other way from the "
+                    f"carrier's own turning, so the pin goes round at the difference of the two "
+                    f"motions, not their sum, and pointer '{p.name}' shows its stations and "
+                    "loops at the wrong times; reverse the epicycle (an idler more or fewer "
+                    "between the fixed wheel and the epicycle's wheel)")
     return out
 
 

@@ -294,3 +294,37 @@ def test_drift_grid_reads_the_carried_pin_as_the_readout_does(sky):
     for name in ("venus", "mars"):
         diff = (res.train_deg[name] - want[name] + 180) % 360 - 180
         assert abs(diff).max() < 1e-3, name
+
+
+def test_an_epicycle_turning_the_wrong_way_is_warned():
+    """An idler between Venus's fixed wheel and its epicycle turns the epicycle against its
+    carrier the other way: its period still matches the synodic period, but the pin goes round
+    at the difference of the two motions. The real Venus (astronomy-engine, an outside
+    ephemeris: VSOP87) stands still 10 times in the 8 years from the epoch; the right-way dial
+    does too, the wrong-way one does not, and only the wrong-way one is warned."""
+    astronomy = pytest.importorskip("astronomy")
+    text = DIAL.read_text().replace(
+        '[arbors.venus_epicycle]',
+        '[arbors.venus_idler]\nwheels = { venus_idle = 40 }\non = "venus_deferent"\n'
+        '[arbors.venus_epicycle]').replace(
+        'wheels = ["venus_fixed", "venus_epi"]',
+        'wheels = ["venus_fixed", "venus_idle"]\nmodule_mm = 0.3\n[[meshes]]\n'
+        'wheels = ["venus_idle", "venus_epi"]')
+    wrong = build(parse_train(text, "wrong_way.toml"), Sky())
+    right = open_train(DIAL)
+    rows = {r.pointer: r for r in pointer_ratios(wrong)}
+    assert not rows["venus"].synodic.direction_ok and rows["mars"].synodic.direction_ok
+    assert abs(rows["venus"].synodic.period_error_ppm) < 2  # the period alone looks right
+    assert [w for w in wrong.warnings if "[pin_slots.venus]" in w and "wrong times" in w]
+    assert not [w for w in wrong.warnings if "[pin_slots.mars]" in w]
+    assert all(r.synodic.direction_ok for r in pointer_ratios(right) if r.synodic)
+    assert not right.warnings
+    jd = right.train.epoch.jd_ut + np.arange(0, 8 * 365.25, 1.0)
+    real = [astronomy.Ecliptic(astronomy.GeoVector(astronomy.Body.Venus,
+                                                   astronomy.Time(j - 2451545.0), True)).elon
+            for j in jd]
+    assert len(stations(jd, np.array(real))) == 10
+    for mech, count in ((right, 10), (wrong, None)):
+        ro = mech.readout
+        found = len(stations(jd, ro.read_deg(ro.turns_at(jd))["venus"]))
+        assert found == count if count else found != 10

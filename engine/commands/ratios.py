@@ -115,7 +115,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
                 f"per crank turn, {support.figure(sy.period_days, 10)} d against the {sy.target_name} of "
                 f"{support.figure(sy.target_days, 10)} d: {support.fixed(sy.period_error_ppm, 3, sign=True)} ppm, "
-                f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century", 3, markup=True)
+                f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century"
+                + ("" if sy.direction_ok else "; [yellow]but it turns the wrong way against "
+                   "its carrier[/] (see the warning below)"), 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:
             support.print_indented(console, "prime counts, each needing its own cutter or "
