@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import re
 
 import ephem
 import numpy as np
@@ -732,6 +733,9 @@ def test_sky_command_ancient(capsys):
     assert main(["sky", "15 March 44 BC", "--ephemeris", "de406"]) == 0
     text = capsys.readouterr().out
     assert "44 BC" in text and "Julian" in text and "ΔT" in text and "±" in text
+    # grouped as every other figure (eclipses' "± 1,858 s"): ΔT about 3 h then (the
+    # Morrison-Stephenson splines, from memory)
+    assert re.search(r"ΔT 10,9\d\d\.\d s ± 2\d\d s", text), text
     assert "uncertain" in text and "solar filter" in text
     assert main(["sky", "1 January 3500 BC", "--ephemeris", "de406"]) == 1
     assert "outside JPL DE406" in capsys.readouterr().err

@@ -83,7 +83,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
              f"{site.lat_deg:+.4f}°, {site.lon_deg:+.4f}° E, {site.height_m:g} m")
     frame_text = "fixed J2000 ecliptic (stars)" if args.stars else "true ecliptic and equinox of date"
     console.print(f"[bold]{format_jd(jd, args.calendar, seconds=True)}[/]  JD {jd:.6f} UT")
-    console.print(f"ΔT {v['delta_t_s']:.1f} s ± {_sigma(v['delta_t_sigma_s'])} · "
+    console.print(f"ΔT {v['delta_t_s']:,.1f} s ± {_sigma(v['delta_t_sigma_s'])} · "
                   f"{escape(sky.name)} ({sky.span_text}) · {frame_text} · seen from {where}")
     table = support.plain_table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
     for col, just in (("", "left"), ("degrees", "right"), ("", "right")):
