@@ -384,3 +384,13 @@ def test_a_pin_and_slot_far_from_one_to_one_is_said(tmp_path):
     demo = load_train(DEMO)
     assert not [n for n in play(demo, solve(demo), years=1.0, builds=10, samples=8).notes
                 if "pin_slots" in n]
+
+
+def test_builds_bounded_by_the_tooth_errors_they_draw(capsys):
+    # every build draws a division error for each tooth of each wheel in each mesh at once:
+    # the table orrery's meshes hold 1,672 teeth (counted from its file), so 100,000 builds
+    # drew 167 million (1.7 GB); refused in one line with the most that fits 40 million
+    assert main(["play", "table_orrery", "--builds", "100000", "--samples", "40"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "--builds" in err
+    assert "1,672 teeth in its meshes" in err and "at most 23,923" in err

@@ -27,6 +27,8 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
 MAX_BUILDS = 100_000
 MAX_SAMPLES = 100_000
 MAX_CELLS = 4_000_000  # builds × samples: 32 MB of readings per pointer at most
+MAX_TOOTH_DRAWS = 40_000_000  # builds × the teeth of every wheel in every mesh: each build's
+# tooth-division errors are drawn at once (320 MB); table_orrery at --builds 100000 drew 1.7 GB
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -108,6 +110,13 @@ def run(args: argparse.Namespace, console: Console) -> int:
         raise UsageError(f"--builds × --samples is {args.builds * args.samples:,}; "
                                  f"keep it at most {MAX_CELLS:,}", "wheelwork play")
     train = load_train(args.train)
+    teeth = sum(train.wheels[m.driver].teeth + train.wheels[m.driven].teeth
+                for m in train.meshes)
+    if args.builds * teeth > MAX_TOOTH_DRAWS:
+        most = max(1, MAX_TOOTH_DRAWS // teeth)
+        raise UsageError(f"argument --builds: {args.builds:,} builds of this train draw "
+                         f"{args.builds * teeth:,} tooth errors ({teeth:,} teeth in its "
+                         f"meshes); keep --builds at most {most:,} for it", "wheelwork play")
     kin = solve(train)
     tol = Tolerances.of(train, backlash_mm=args.backlash_mm, division=args.division,
                         eccentricity_mm=args.eccentricity_mm, end_shake_mm=args.end_shake_mm,
