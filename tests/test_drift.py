@@ -953,3 +953,21 @@ def test_cycle_dial_whole_months_are_taken_round_its_dial(sky):
     s = r.summaries["months"]
     assert s.months_off_end == 2
     assert (s.months_off_least, s.months_off_most) == (-5, 6)  # every month of the dial
+
+
+def test_csv_gives_a_cycle_dials_whole_months(tmp_path, capsys):
+    """The CSV carries a cycle dial's whole months off beside its in-month error, date by
+    date, ending where the report's figure ends (the fast ring above: 2 months ahead in
+    2045 by skyfield's new moons; none at its epoch)."""
+    path, out = tmp_path / "ring.toml", tmp_path / "ring.csv"
+    path.write_text(FAST_RING)
+    assert main(["drift", str(path), "--from", "1950-01-01", "--to", "2045-01-01",
+                 "--step", "5d", "--csv", str(out), "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    rows = out.read_text().splitlines()
+    head = rows[0].split(",")
+    col = head.index("months_months_off")
+    assert head[col - 1] == "months_error_days"
+    assert rows[1].split(",")[col] == "0"
+    assert rows[-1].split(",")[col] == str(doc["pointers"]["months"]["months_off_end"]) == "2"
+    assert {r.split(",")[col] for r in rows[1:]} == {"0", "1", "2"}

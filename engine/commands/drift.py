@@ -135,6 +135,8 @@ def csv_header(mech, first_jd: float, last_jd: float) -> list[str]:
         head += [f"{n}_train_deg", f"{n}_sky_deg", f"{n}_error_deg"]
         if days_rate(p.shows):
             head.append(f"{n}_error_days")
+        if p.shows == "cycle":  # the error is within the month: the whole months apart
+            head.append(f"{n}_months_off")
     return head
 
 
@@ -151,15 +153,19 @@ class _CsvSink:
     Rows are formatted in Python (``%`` on lists), not by numpy's string functions, which can
     swallow a Ctrl-C arriving while they run."""
 
-    def __init__(self, out: support.OutputFile, mech, first_jd: float, last_jd: float):
+    def __init__(self, out: support.OutputFile, mech, first_jd: float, last_jd: float,
+                 frame: str | None = None):
         from ..kinds import days_rate
 
         self.out = out
         self.fh = out.open("w", newline="", encoding="utf-8")
         self.names = list(mech.train.pointers)
         self.phase = {n for n, p in mech.train.pointers.items() if days_rate(p.shows)}
+        self.cycle = {n for n, p in mech.train.pointers.items() if p.shows == "cycle"}
+        self.readout, self.frame = mech.readout, frame or mech.train.dial
         head = csv_header(mech, first_jd, last_jd)
-        self.row = "%s," + ",".join(["%.6f"] * (len(head) - 1)) + "\r\n"
+        self.row = "%s," + ",".join("%d" if h.endswith("_months_off") else "%.6f"
+                                    for h in head[1:]) + "\r\n"
         self._write(lambda: csv.writer(self.fh).writerow(head))
 
     def _write(self, do):
@@ -178,6 +184,11 @@ class _CsvSink:
             cols += [e.train_deg.tolist(), e.sky_deg.tolist(), e.error_deg.tolist()]
             if n in self.phase:
                 cols.append(e.error_days.tolist())
+            if n in self.cycle:
+                from ..drift import whole_months_off
+
+                cols.append(whole_months_off(self.readout, n, self.frame, jd,
+                                             e.error_deg).tolist())
         fmt = self.row
         text = "".join([fmt % (format_jd(row[0]).split(" UT")[0], *row)
                         for row in zip(*cols, strict=True)])
@@ -489,7 +500,8 @@ def _compute(args, err: Console, ctrl_c: _CtrlC):
 
     if csv_out:
         csv_out.note_size(csv_bytes(mech, n), err)
-    sink = _CsvSink(csv_out, mech, start, start + (n - 1) * step) if csv_out else None
+    sink = (_CsvSink(csv_out, mech, start, start + (n - 1) * step, args.frame) if csv_out
+            else None)
     bar = None
     try:
         progress = None
