@@ -41,7 +41,7 @@ LAYERS = {  # name: (SVG colour, DXF colour index, what it is)
     "CUT": ("#b3001b", 1, "cut through"),
     "PITCH": ("#1f5fbf", 5, "pitch circles, for reference"),
     "MARK": ("#2e7d32", 3, "centre marks and lines of centres"),
-    "NOTE": ("#444444", 7, "labels"),
+    "NOTE": ("#444444", 8, "labels"),  # ACI 8: grey, as the docs say (7 is black or white)
 }
 
 BORE_MAX_MM = 2.0

@@ -78,14 +78,15 @@ def test_dxf_read_back_teeth_tip_root_pitch(tmp_path, form):
 
 
 def test_dxf_layers_as_the_docs_table_gives_them(tmp_path):
-    # docs/workshop.md: CUT red, PITCH blue and dashed (as the SVG draws it), MARK green;
+    # docs/workshop.md: CUT red, PITCH blue and dashed (as the SVG draws it), MARK green, NOTE grey;
     # every entity takes its layer's colour and line type
     out = _cut(tmp_path, SMALL)
     for path in [*out.glob("wheel-*.dxf"), out / "plate-frame.dxf", out / "sheet.dxf"]:
         doc = ezdxf.readfile(path)
         layers = {la.dxf.name: la for la in doc.layers}
-        assert {n: layers[n].dxf.color for n in ("CUT", "PITCH", "MARK")} == {
-            "CUT": 1, "PITCH": 5, "MARK": 3}  # AutoCAD colour index: red, blue, green
+        assert {n: layers[n].dxf.color for n in ("CUT", "PITCH", "MARK", "NOTE")} == {
+            "CUT": 1, "PITCH": 5, "MARK": 3, "NOTE": 8}  # AutoCAD colour index: red, blue,
+        # green, grey (NOTE was 7, black or white by the background, where the docs say grey)
         assert layers["CUT"].dxf.linetype == "Continuous"
         dashed = doc.linetypes.get(layers["PITCH"].dxf.linetype)
         assert dashed.pattern_tags.compile() == pytest.approx((1.0, 0.6))  # dash, gap in mm
