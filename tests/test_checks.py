@@ -781,3 +781,11 @@ def test_efficiency_help_says_what_is_taken(capsys):
     assert "each mesh and pin-and-slot stage, above 0 and at most 1" in out
     assert main(["check", "tide_office", "--efficiency", "0"]) == 2
     assert capsys.readouterr().err.count("\n") == 1
+
+
+def test_the_slot_line_gives_the_slot_ends_as_the_note_does(capsys):
+    # r − e − d/2 = 9 − 0.985 − 0.6 = 7.415 mm and r + e + d/2 = 10.585 mm (docs/checks.md):
+    # the summary line said 7.42–10.6 beside a note saying 7.415 to 10.585
+    assert main(["check", "tide_office"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "slot 3.17 mm long (7.415–10.585 mm from the slot axis, pin Ø 1.2 mm)" in out

@@ -93,10 +93,11 @@ def _opt(x: float | None, spec: str | int = 3) -> str:
 
 
 def _centre(a: float | None) -> str:
-    """A centre distance to the micrometre (where the holes go; 4 figures cut 105.875 mm to
-    105.9, a 0.025 mm error past what a mesh takes up)."""
+    """A length to the micrometre: a centre distance (where the holes go; 4 figures cut
+    105.875 mm to 105.9, a 0.025 mm error past what a mesh takes up), a slot's ends."""
     if a is None:
         return "—"
+    a = round(a, 3)
     return support.figure(a, max(1, math.floor(math.log10(abs(a))) + 1) + 3) if a else "0"
 
 
@@ -179,12 +180,15 @@ def _print(report: CheckReport, console: Console) -> None:
         arbors.add_row(*row)
     support.print_table(console, arbors)
     for p in report.pin_slots:
-        console.print(f"pin-and-slot [bold]{escape(p.name)}[/]: slot {p.slot_length_mm:.3g} mm long "
-                      f"({p.slot_inner_mm:.3g}–{p.slot_outer_mm:.3g} mm from the slot axis, pin "
-                      f"Ø {p.pin_diameter_mm:g} mm{' assumed' if p.pin_diameter_assumed else ''}"
-                      f"); lead up to ±{p.max_lead_deg:.3g}°; "
-                      f"speed ×{p.speed_factor_min:.4g} to ×{p.speed_factor_max:.4g}",
-                      markup=True)
+        # lengths to the micrometre, as the findings give them (7.415 mm, not 7.42; and
+        # never e-notation, which .3g wrote for a slot of 1,000 mm or more)
+        console.print(f"pin-and-slot [bold]{escape(p.name)}[/]: slot {_centre(p.slot_length_mm)} "
+                      f"mm long ({_centre(p.slot_inner_mm)}–{_centre(p.slot_outer_mm)} mm from "
+                      f"the slot axis, pin Ø {_centre(p.pin_diameter_mm)} mm"
+                      f"{' assumed' if p.pin_diameter_assumed else ''}); lead up to "
+                      f"±{support.figure(p.max_lead_deg, 3)}°; speed "
+                      f"×{support.figure(p.speed_factor_min, 4)} to "
+                      f"×{support.figure(p.speed_factor_max, 4)}", markup=True)
     counts = ", ".join(f"{report.count(lv)} {lv}{'s' if report.count(lv) != 1 else ''}"
                        for lv in ("error", "warning", "note"))
     console.print(f"[bold]findings[/]: {counts}")
