@@ -13,12 +13,14 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
   through each step, lengths in km:
 
   - every Chebyshev segment sharing a record layout is evaluated at once (positions and rates
-    from one gather of coefficients); on a regular grid of dates whose step divides the record
+    from one gather of each record for the run of dates in it, the records in powers of the
+    record's time, the runs of each padded length in one stacked product); on a regular grid of dates whose step divides the record
     length (one a day, every 6 hours, ...) each record's series is instead evaluated once at
     its grid points, with its derivatives, by one matrix product an order (the basis
     remembered from batch to batch), and each date carried from its grid point (ΔT makes a
     UT grid slightly irregular in TDB) by a Taylor series whose remainder is bounded below a
-    millimetre (:meth:`_ChebGroup._evaluate_grid`);
+    millimetre, each series of the layout to the orders its own coefficients need
+    (:meth:`_ChebGroup._evaluate_grid`);
   - light time is solved with the target's position carried back along its velocity:
     over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
   - aberration is skyfield's own relativistic formula, rearranged into fewer passes (equal to
@@ -49,7 +51,8 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
 ΔT comes from skyfield's built-in model (``load.timescale(builtin=True)``); for rising dates
 its daily table and its long-term spline are each taken on their own run of dates
 (:func:`_delta_t_rising`, the same values), and TDB − TT is worked out for all dates before
-the batches. Making a :class:`Sky` asks glibc to keep freed
+the batches (for dense dates from a 16-day grid, whose values come from the series at every
+64th point carried to the rest by angle addition: :func:`_tdb_minus_tt_regular`). Making a :class:`Sky` asks glibc to keep freed
 blocks for reuse (:func:`_keep_freed_memory`): the batches' arrays would otherwise be mapped
 and zeroed afresh.
 
@@ -1715,10 +1718,54 @@ def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray) -> np.ndarray:
     seven-term series, which for dates denser than one in 16 days comes from a 16-day grid by
     cubic interpolation. The error bound (3/128)·A·(2πh/P)⁴ summed over its terms (1.66 ms
     with a period of a year the largest) is below 3e-7 s; ``tests/test_sky.py`` checks it."""
-    on_grid = _grid(whole + fraction, _TDB_GRID_DAYS,
-                    lambda first, step, m: tdb_minus_tt(first + step * np.arange(m)))
+    on_grid = _grid(whole + fraction, _TDB_GRID_DAYS, _tdb_minus_tt_regular)
     ahead = tdb_minus_tt(whole, fraction) if on_grid is None else on_grid
     return fraction + ahead / SECONDS_PER_DAY
+
+
+# skyfield's tdb_minus_tt (USNO Circular 179, eq. 2.6): seconds, rad a Julian century, rad;
+# the last term's amplitude is multiplied by t (centuries from J2000) as well.
+_TDB_AMP = np.array([0.001657, 0.000022, 0.000014, 0.000005, 0.000005, 0.000002, 0.000010])
+_TDB_RATE = np.array([628.3076, 575.3385, 1256.6152, 606.9777, 52.9691, 21.3299, 628.3076])
+_TDB_PHASE = np.array([6.2401, 4.2970, 6.1969, 4.0212, 0.4444, 5.5431, 4.2490])
+_TDB_BLOCK = 64  # grid points carried by angle addition from each evaluation of the series
+
+
+def _tdb_minus_tt_regular(first: float, step: float, m: int) -> np.ndarray:
+    """skyfield's ``tdb_minus_tt`` (s) at the m dates ``first + step·j``: the series at every
+    :data:`_TDB_BLOCK`-th date, carried to the dates between by angle addition (each term's
+    argument is linear in time: A sin(a + jδ) = A sin a cos jδ + A cos a sin jδ, the t-term's
+    amplitude growing by j·step of its own), so a block's dates are one matrix product and
+    seven sines a block replace seven a date. ``tests/test_sky.py`` checks it against the
+    series."""
+    blocks = -(-m // _TDB_BLOCK)
+    h = step / JULIAN_CENTURY_DAYS
+    t = (first + step * _TDB_BLOCK * np.arange(blocks) - T0) / JULIAN_CENTURY_DAYS
+    arg = np.multiply.outer(t, _TDB_RATE)
+    arg += _TDB_PHASE
+    s, c = np.sin(arg), np.cos(arg)  # (blocks, terms)
+    s *= _TDB_AMP
+    c *= _TDB_AMP
+    # the terms at each block's first date, the t-term's amplitude at its t; then the t-term
+    # again for its growth over the block
+    left = np.concatenate((s, c, s[:, -1:], c[:, -1:]), axis=1)
+    left[:, _TDB_AMP.size - 1] *= t
+    left[:, 2 * _TDB_AMP.size - 1] *= t
+    with _one_blas_thread():
+        return (left @ _tdb_turns(h)).reshape(-1)[:m]
+
+
+@functools.lru_cache(maxsize=8)
+def _tdb_turns(h: float) -> np.ndarray:
+    """(2·terms + 2, block): cos jδ and sin jδ of every term for j = 0 .. block - 1 (δ the
+    term's turn in a step of ``h`` centuries), then the t-term's times j·h — the right-hand
+    factor of :func:`_tdb_minus_tt_regular`'s product."""
+    j = np.arange(_TDB_BLOCK) * h
+    turn = np.multiply.outer(_TDB_RATE, j)
+    c, s = np.cos(turn), np.sin(turn)
+    out = np.concatenate((c, s, c[-1:] * j, s[-1:] * j))
+    out.flags.writeable = False
+    return out
 
 
 def _delta_t(t) -> np.ndarray:
