@@ -478,9 +478,11 @@ def _verdict(p95: float, dead: float, effect: float | None, drift: float, years:
                 f"(±{figure(err)}°): cut the largest contributors more carefully")
     span_drift = abs(drift) * years / 100.0
     if span_drift > err:
-        return (f"the ratio's drift ({figure(span_drift)}° over {years:g} years) outgrows the "
+        return (f"the ratio's drift ({figure(span_drift)}° over {figure(years, 6)} years) "
+                "outgrows the "
                 f"workshop's errors (±{figure(err)}°)")
-    return (f"the workshop's errors (±{figure(err)}°) exceed the ratio's drift over {years:g} "
+    return (f"the workshop's errors (±{figure(err)}°) exceed the ratio's drift over "
+            f"{figure(years, 6)} "
             f"years ({figure(span_drift)}°): the cutting, not the tooth counts, limits this pointer")
 
 
@@ -552,8 +554,8 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
             continue
         limit = DEPTH_RULE_M * m.module_mm
         if open_mm > limit:
-            flags.append(Flag(m.label, f"a tilt of {tol.tilt_deg:g}° on both arbors, "
-                              f"{tol.lever_mm:g} mm from the pivots, can open the centre "
+            flags.append(Flag(m.label, f"a tilt of {figure(tol.tilt_deg, 6)}° on both arbors, "
+                              f"{figure(tol.lever_mm, 6)} mm from the pivots, can open the centre "
                               f"distance by {open_mm:.3f} mm, more than a quarter module "
                               f"({limit:.3f} mm): out of depth (rule of thumb)",
                               "bush the pivot holes closer, keep the wheels near the plates, "
@@ -582,7 +584,8 @@ def depth_flags(train: Train, tol: Tolerances, forms: dict[str, str]) -> list[Fl
         given = (f"assumed ({figure(face, 3)} mm = {FACE_M:g} modules)" if m.face_mm is None
                  else f"({figure(face, 4)} mm, face_mm)")
         if tol.end_shake_mm > END_SHAKE_RULE * face:
-            flags.append(Flag(m.label, f"end-shake of {tol.end_shake_mm:g} mm is more than "
+            flags.append(Flag(m.label, f"end-shake of {figure(tol.end_shake_mm, 6)} mm is more "
+                              "than "
                               f"half the face width {given}: the wheel can ride off its "
                               "pinion (rule of thumb)",
                               "reduce the end-shake, or make the pinion's leaves longer than "
@@ -609,7 +612,7 @@ def dead_play_findings(train: Train, kin: Kinematics, form: str | None = None) -
         i = int(np.argmax(parts))
         total = float(parts.sum())
         out.append(Finding(
-            "note", f"[pointers.{p}]", f"dead play about {total:.3g}° (design estimate), "
+            "note", f"[pointers.{p}]", f"dead play about {figure(total, 3)}° (design estimate), "
             f"{100 * parts[i] / total:.0f} % of it from {train.meshes[i].label}",
             "cut and depth that mesh most carefully; wheelwork play gives the whole picture"))
     return out

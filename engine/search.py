@@ -864,15 +864,15 @@ def emit_fragment(result: TrainResult, target: Target | None = None, prefix: str
         raise SearchError(f"crank arbor: {crank!r} must be A-Z, a-z, 0-9, '_' or '-'")
     n = len(result.stages)
     r = result.ratio
-    lines = [f"# {n}-stage train from wheelwork search: ratio {r.numerator}/{r.denominator} "
+    lines = [f"# {n}-stage train from wheelwork search: ratio {r} "
              "output turns per crank turn"]
-    if target is not None:
+    if target is not None:  # plain figures: '+1.818e-06 ppm' was no figure to read
         day_word = "day" if target.crank_days == 1 else "days"
         lines.append(f"# target: {target.label} (crank {fraction_text(target.crank_days)} "
                      f"{day_word} per turn); "
-                     f"period error {result.period_error_ppm:+.4g} ppm, "
-                     f"{result.drift_deg_per_century:+.4g} deg per century")
-    lines.append(f"# period {result.period_days:.9g} days per output turn; output turns "
+                     f"period error {figure(result.period_error_ppm, 4, sign=True)} ppm, "
+                     f"{figure(result.drift_deg_per_century, 4, sign=True)} deg per century")
+    lines.append(f"# period {figure(result.period_days, 9)} days per output turn; output turns "
                  + ("against" if result.reverses else "with") + " the crank")
     arbors = [crank] + [f"{prefix}_a{i}" for i in range(1, n)] + [f"{prefix}_out"]
     carried: list[dict[str, int]] = [{} for _ in arbors]

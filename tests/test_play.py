@@ -394,3 +394,13 @@ def test_builds_bounded_by_the_tooth_errors_they_draw(capsys):
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "--builds" in err
     assert "1,672 teeth in its meshes" in err and "at most 23,923" in err
+
+
+def test_small_tolerances_and_spans_are_plain_figures(capsys):
+    # '{:g}' wrote a span of 0.00001 years as 'over 1e-05 years' in each verdict, and a tilt
+    # of 0.00001° at 0.00001 mm likewise in the flags
+    assert main(["play", "tide_office", "--years", "0.00001", "--builds", "10",
+                 "--samples", "8", "--tilt-deg", "1", "--lever-mm", "0.00002"]) == 0
+    out = capsys.readouterr().out
+    assert "e-0" not in out and "e+0" not in out
+    assert "over 0.00001 years" in " ".join(out.split())

@@ -611,3 +611,17 @@ def test_cli_years_to_a_day_off_read_as_years(capsys, monkeypatch):
     assert main(["search", "--cycle", "draconic month", "--stages", "2", "--top", "3"]) == 0
     out = capsys.readouterr().out
     assert f"{best.one_day_off_years:,.0f} y" in out and "e+0" not in out
+
+
+def test_emitted_fragment_comments_are_plain_figures(tmp_path, capsys):
+    # the best 4-stage synodic month train is 0.0000018 ppm off: the fragment's comment wrote
+    # '+1.818e-06 ppm, -8.097e-07 deg per century'; a whole ratio was '144/1'
+    out = tmp_path / "f.toml"
+    assert main(["search", "--cycle", "synodic month", "--stages", "4", "--top", "1",
+                 "--emit", str(out)]) == 0
+    text = out.read_text()
+    assert "e-0" not in text and "period error +0.000001818 ppm" in text
+    assert main(["search", "--ratio", "144", "--stages", "2", "--top", "1",
+                 "--emit", str(tmp_path / "g.toml")]) == 0
+    assert "ratio 144 output turns" in (tmp_path / "g.toml").read_text()
+    capsys.readouterr()
