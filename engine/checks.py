@@ -767,12 +767,18 @@ def _positions(train: Train, groups, modules, findings: list[Finding], forms: di
         gap = dist - a
         if abs(gap) <= TOLERANCE_MM:
             continue
+        # move the driven wheel's arbor, unless its place is only its partner's (axis_with):
+        # then the driver's, whose at_mm is its own
+        anchor, mover = w1.arbor, w2.arbor
+        if train.arbors[mover].at_mm is None and train.arbors[anchor].at_mm is not None:
+            anchor, mover = mover, anchor
+        p1, p2 = pos[anchor], pos[mover]
         if dist > 0:
             k = a / dist
             at = [round(p1[0] + (p2[0] - p1[0]) * k, 3), round(p1[1] + (p2[1] - p1[1]) * k, 3)]
-            fix = f"move '{w2.arbor}' to at_mm = {at}"
+            fix = f"move '{mover}' to at_mm = {at}"
         else:
-            fix = f"move '{w2.arbor}' {_mm(a)} away from '{w1.arbor}'"
+            fix = f"move '{mover}' {_mm(a)} away from '{anchor}'"
         dz = 2.0 * gap / m.module_mm
         if abs(dz - round(dz)) < 0.05 and round(dz) != 0:
             z = w2.teeth + round(dz) * (-1 if m.internal and m.ring == w2.name else 1)

@@ -789,3 +789,20 @@ def test_the_slot_line_gives_the_slot_ends_as_the_note_does(capsys):
     assert main(["check", "tide_office"]) == 0
     out = " ".join(capsys.readouterr().out.split())
     assert "slot 3.17 mm long (7.415–10.585 mm from the slot axis, pin Ø 1.2 mm)" in out
+
+
+def test_a_misplaced_axis_is_moved_where_the_file_places_it():
+    # 'c' has no position of its own: it is on the axis of 'a' (axis_with). Both meshes want
+    # 'b' 20 mm from that axis (0.5 × (60 + 20) / 2 = 0.5 × (30 + 50) / 2, standard
+    # spur-gear geometry), and the file puts 'b' at 19.9 mm: the fix for mesh 2 said to move
+    # 'c' to [-0.1, 0], off the axis it shares with 'a'; both meshes say to move 'b'
+    text = header("a") + (
+        '[arbors.a]\nwheels = { a1 = 60 }\nat_mm = [0, 0]\n'
+        '[arbors.b]\nwheels = { b1 = 20, b2 = 30 }\nat_mm = [19.9, 0]\n'
+        '[arbors.c]\nwheels = { c1 = 50 }\naxis_with = "a"\n'
+        '[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = 0.5\n'
+        '[[meshes]]\nwheels = ["b2", "c1"]\nmodule_mm = 0.5\n'
+        '[pointers.p]\nshows = "moon"\narbor = "c"\nset_deg = 0\n')
+    fixes = [f.fix for f in said(text, "the axes are placed 19.9 mm apart")]
+    assert len(fixes) == 2
+    assert all(f.startswith("move 'b' to at_mm = [20.0, 0.0]") for f in fixes)
