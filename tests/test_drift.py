@@ -971,3 +971,16 @@ def test_csv_gives_a_cycle_dials_whole_months(tmp_path, capsys):
     assert rows[1].split(",")[col] == "0"
     assert rows[-1].split(",")[col] == str(doc["pointers"]["months"]["months_off_end"]) == "2"
     assert {r.split(",")[col] for r in rows[1:]} == {"0", "1", "2"}
+
+
+def test_json_site_is_the_place_read_as_sky_gives_it(capsys):
+    """drift --json gives the observing place as numbers, as sky --json does (it gave the
+    text as typed, which a script then had to read again); none: null (common practice, no
+    source; 37.97N 23.72E is latitude +37.97, east longitude +23.72)."""
+    assert main(["drift", DISC, "--years", "1", "--site", "37.97N 23.72E 50m", "--json"]) == 0
+    drift_site = json.loads(capsys.readouterr().out)["site"]
+    assert drift_site == {"lat_deg": 37.97, "lon_deg": 23.72, "height_m": 50.0}
+    assert main(["sky", "2026-01-01", "--site", "37.97N 23.72E 50m", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["site"] == drift_site
+    assert main(["drift", DISC, "--years", "1", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["site"] is None

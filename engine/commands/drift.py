@@ -576,9 +576,14 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     last = float(result.jd[-1])
     n = len(result.jd)
     if args.json:
+        from ..sites import parse_site
+
+        place = parse_site(args.site) if args.site else None  # as sky --json gives it
         doc = {
             "train": mech.train.name, "file": str(args.train), "ephemeris": sky.name,
-            "frame": result.frame, "site": args.site, "from_jd": float(start),
+            "frame": result.frame, "site": None if place is None else
+            {"lat_deg": place.lat_deg, "lon_deg": place.lon_deg, "height_m": place.height_m},
+            "from_jd": float(start),
             "to_jd": last, "asked_to_jd": float(end), "step_days": step, "dates": int(n),
             "from": format_jd(start), "to": format_jd(last),
             "delta_t_sigma_s": round(result.delta_t_sigma_s, 3),
