@@ -404,3 +404,12 @@ def test_small_tolerances_and_spans_are_plain_figures(capsys):
     out = capsys.readouterr().out
     assert "e-0" not in out and "e+0" not in out
     assert "over 0.00001 years" in " ".join(out.split())
+
+
+def test_play_heading_reads_as_a_sentence(capsys):
+    # 'backlash what the tooth form leaves' read as a slip; builds were '20000', unseparated
+    assert main(["play", "tide_office", "--builds", "20000", "--samples", "16",
+                 "--years", "1"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "in 20,000 builds × 16 times" in out
+    assert "backlash as each mesh's tooth form leaves it;" in out

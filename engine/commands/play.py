@@ -167,9 +167,9 @@ def _print(report: PlayReport, console: Console) -> None:
         return support.figure(x, 6)
 
     back = (f"{g(tol.backlash_mm)} mm" if tol.backlash_mm is not None
-            else "what the tooth form leaves")
+            else "as each mesh's tooth form leaves it")
     console.print(f"[bold]{escape(report.train)}[/] — play and errors of hand-made wheels, read "
-                  f"over {g(report.years)} years in {report.builds} builds × {report.samples} "
+                  f"over {g(report.years)} years in {report.builds:,} builds × {report.samples:,} "
                   f"times (seed {report.seed})")
     console.print(f"tolerances: backlash {back}; division σ {g(tol.division)} pitch; "
                   f"eccentricity up to {g(tol.eccentricity_mm)} mm; end-shake "
