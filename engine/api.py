@@ -12,7 +12,8 @@ from __future__ import annotations
 
 from .checks import ArborCheck, CheckReport, Finding, MeshCheck, PinSlotCheck, check
 from .dates import as_jd, calendar_date, format_jd, parse_date, parse_step
-from .demos import demo_names, demo_path
+from .demos import demo_hint, demo_names
+from .demos import demo_path as _demo_path
 from .drawing import cut_parts, layout_sheet, to_dxf, to_svg, tooth_forms
 from .drift import (
     DriftResult,
@@ -89,6 +90,20 @@ from .toothform import (
     involute_wheel,
 )
 from .train import Arbor, Crank, Epoch, Mesh, PinSlot, Pointer, Train, Wheel
+
+
+def demo_path(name: str):
+    """The file of the demo called ``name`` (``"tide_office"`` or ``"tide_office.toml"``), a
+    ``Path``. A name that is no demo is an :class:`UnknownName` naming the nearest demo and every
+    demo (not ``None``, which :func:`open_train` would take for the default train)."""
+    if not isinstance(name, str):
+        raise TypeError(f"demo_path: wanted a demo's name as text, such as 'tide_office'; got "
+                        f"{type(name).__name__} {name!r}")
+    found = _demo_path(name)
+    if found is None:
+        raise UnknownName(f"no demo train {name!r}; {demo_hint(name)}")
+    return found
+
 
 __all__ = [
     # trains: load, solve, set

@@ -137,10 +137,16 @@ class Turns:
         if arr.dtype.kind in "iu":
             return Turns(arr.astype(np.int64), np.zeros(arr.shape))
         try:
+            if arr.dtype.kind in "USV":  # text is no count of turns, even text of a number
+                raise TypeError
             arr = arr.astype(float)
         except (TypeError, ValueError):
             raise ArgumentError(f"crank turns: wanted a number or an array of numbers, got "
-                                f"{type(value).__name__} {value!r}") from None
+                                f"{type(value).__name__} {value!r:.60}") from None
+        if not np.all(np.abs(arr) < 2.0 ** 62):  # NaN, infinite, or past whole int64 turns
+            bad = arr.flat[np.flatnonzero(~(np.abs(arr) < 2.0 ** 62))[0]]
+            raise ArgumentError(f"crank turns: wanted finite numbers of turns (below 2^62), "
+                                f"got {bad}")
         whole = np.floor(arr)
         return Turns(whole.astype(np.int64), arr - whole)
 

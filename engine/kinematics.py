@@ -28,7 +28,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from .errors import TrainError, UnknownName
+from .errors import ArgumentError, TrainError, UnknownName
 from .exact import Turns, fraction_text, turns_mod1
 from .train import FRAME, Train
 
@@ -65,6 +65,13 @@ def pin_slot_lead_turns(pin_turns, pin_radius: float, offset: float, arm_turns=0
     below ``asin((others) / followed)``. With ``arm = 0`` it is the classic eccentric
     pin-and-slot, ``atan2(e sin t, r - e cos t)``.
     """
+    if follows not in ("pin", "carrier"):
+        raise ArgumentError(f"pin_slot_lead_turns: follows should be 'pin' or 'carrier', "
+                            f"got {follows!r}")
+    for what, length in (("pin_radius", pin_radius), ("offset", offset), ("arm", arm)):
+        if not (np.all(np.isfinite(length)) and np.all(np.asarray(length) >= 0)):
+            raise ArgumentError(f"pin_slot_lead_turns: {what} should be a length of 0 or more "
+                                f"(the same unit for all three), got {length!r}")
     two_pi = 2 * np.pi
     q = np.asarray(pin_turns, dtype=float)
     if follows == "pin" and not arm:

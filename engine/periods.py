@@ -27,7 +27,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import TYPE_CHECKING
 
-from .errors import UnknownName
+from .errors import ArgumentError, UnknownName
 
 if TYPE_CHECKING:  # numpy is imported by the two functions using it: commands' --help
     import numpy as np  # reads this module's constants without loading it
@@ -286,11 +286,22 @@ def mean_elements(jd_tt: np.ndarray | float, keys=None) -> dict[str, np.ndarray]
 
     from .angles import mod  # (numpy: not on the start-up path of commands without it)
 
-    t = (np.asarray(jd_tt, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
+    try:
+        t = (np.asarray(jd_tt, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
+    except (TypeError, ValueError):
+        raise ArgumentError(f"mean_elements: wanted Julian Dates (TT) as a number or array, "
+                            f"got {type(jd_tt).__name__} {jd_tt!r:.60}; for date text take "
+                            "Sky().at(text).jd_tt") from None
     series = {"sun": _SUN_L0, "moon": _MOON_L, "phase": _MOON_D, "anomaly": _MOON_M,
               "sun_anomaly": _SUN_M, "draconic": _MOON_F, "node": _MOON_NODE}
     planet_keys = {*PLANETS, *(f"{k}_from_sun" for k in PLANETS), "earth_from_sun"}
-    wanted = series.keys() | {"apsis"} | planet_keys if keys is None else set(keys)
+    known = series.keys() | {"apsis"} | planet_keys
+    if isinstance(keys, str):
+        keys = (keys,)
+    wanted = known if keys is None else set(keys)
+    if wanted - known:
+        raise UnknownName(f"mean_elements: no mean element {sorted(wanted - known)[0]!r}; "
+                          f"known: {', '.join([*series, 'apsis', *sorted(planet_keys)])}")
     if wanted & ({*PLANETS, "earth_from_sun"} - {k for k, p in PLANETS.items() if not p.inner}):
         wanted.add("sun")  # an inner planet's geocentric mean and the Earth's arm need it
     out = {k: _poly(t, c) for k, c in series.items() if k in wanted}

@@ -15,7 +15,7 @@ import numpy as np
 
 from .angles import mod
 from .dates import as_jd
-from .errors import UnknownName
+from .errors import ArgumentError, UnknownName
 from .exact import Turns
 from .kinds import KINDS, mean_value, sky_at, true_value
 from .kinematics import Kinematics, LinearAngle
@@ -35,6 +35,13 @@ class PointerMotion:
     def cycles_per_turn(self) -> Fraction:
         """Mean cycles of what it shows per crank turn (signed: negative runs backwards)."""
         return self.lin.crank
+
+
+def _as_float(value) -> float:
+    try:
+        return float(value)
+    except (TypeError, ValueError):
+        return float("nan")
 
 
 def pointer_linear(kin: Kinematics, p: Pointer) -> LinearAngle:
@@ -192,6 +199,10 @@ class Readout:
         if unknown:
             raise UnknownName(f"no pointer {unknown[0]!r} on this train (its pointers: "
                               f"{', '.join(self.motions)})")
+        for name, value in values_deg.items():
+            if isinstance(value, (str, bytes)) or not np.isfinite(_as_float(value)):
+                raise ArgumentError(f"reset_to: pointer {name!r} should be set to a finite "
+                                    f"angle in degrees, got {value!r:.40}")
         now = self.read_deg(turns)
         motions = dict(self.motions)
         for name, value in values_deg.items():

@@ -100,7 +100,7 @@ from skyfield.toposlib import wgs84
 
 from .angles import mod
 from .dates import as_jd, format_day, format_jd
-from .errors import SkyError
+from .errors import SkyError, UnknownName
 from .kinds import DIAL_FRAMES, POINTER_KINDS, to_frame, true_value
 from .periods import JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, SECONDS_PER_DAY, mean_elements
 from .phases import PHASE_NAMES as PHASE_NAMES  # the phase names and bands live there
@@ -1329,6 +1329,10 @@ class SkyState:
     # before aberration: what the lit fraction is worked out from, on demand.
     _light_vectors: np.ndarray | None = field(default=None, repr=False, compare=False)
 
+    def __post_init__(self):
+        for name in ("planet_lon_deg", "planet_helio_lon_deg"):
+            object.__setattr__(self, name, _Asked(getattr(self, name)))
+
     # The derived fields: each a function of the fields above, computed on its first read and
     # kept in the instance (functools.cached_property writes the instance's __dict__, which a
     # frozen dataclass allows). Worked out on the flat dates and given the dates' shape, so a
@@ -1379,6 +1383,8 @@ class SkyState:
         should show: the ``true`` of its row in :data:`engine.kinds.KINDS`."""
         try:
             return true_value(name, self)
+        except UnknownName as exc:  # a planet this state was not asked for
+            raise SkyError(str(exc)) from None
         except KeyError:
             raise SkyError(f"unknown pointer kind {name!r}; known kinds: "
                            f"{', '.join(KINDS)}") from None
@@ -1387,6 +1393,16 @@ class SkyState:
         """Phase name at each date (flattened; a scalar state gives a one-item list), from the
         table of elongation bands in :mod:`engine.phases`."""
         return phase_names(self.elongation_deg)
+
+
+class _Asked(dict):
+    """A state's planets by name: a planet not asked for is a one-line error saying how to ask
+    for it (also a ``KeyError``)."""
+
+    def __missing__(self, name):
+        have = ", ".join(self) or "none"
+        raise UnknownName(f"this sky state holds no {name!r} (planets asked for: {have}); ask "
+                          f"for it: Sky.at(..., planets=({name!r},))")
 
 
 _STATE_ARRAYS = tuple(f.name for f in fields(SkyState) if f.name not in (

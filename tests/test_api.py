@@ -254,6 +254,21 @@ def _bad_calls():
         ("check_eclipses of a list", lambda: api.check_eclipses(
             tide, api.Sky(), [2451545.0, 2451546.0], 2451600.0)),
         ("Readout.turns_at of a word", lambda: tide.readout.turns_at("soon")),
+        ("Readout.read_deg of NaN", lambda: tide.readout.read_deg(float("nan"))),
+        ("Readout.read_deg of infinity", lambda: tide.readout.read_deg([0.0, float("inf")])),
+        ("Readout.read_deg of text of a number", lambda: tide.readout.read_deg("10")),
+        ("Readout.reset_to NaN", lambda: tide.readout.reset_to(0, {"moon": float("nan")})),
+        ("Readout.reset_to text", lambda: tide.readout.reset_to(0, {"moon": "12"})),
+        ("demo_path of no demo", lambda: api.demo_path("planet_dail")),
+        ("mean_elements of no element", lambda: api.mean_elements(2451545.0, keys=["vulcan"])),
+        ("mean_elements of date text", lambda: api.mean_elements("2030-01-01")),
+        ("pin_slot_lead_turns follows", lambda: api.pin_slot_lead_turns(
+            0.5, 7.23, 0.0, arm_turns=0.0, arm=10.0, follows="carier")),
+        ("pin_slot_lead_turns arm < 0", lambda: api.pin_slot_lead_turns(
+            0.5, 7.23, 0.0, arm_turns=0.0, arm=-10.0, follows="carrier")),
+        ("SkyState.kind of a planet not asked", lambda: api.Sky().at(2461041.5).kind("mars")),
+        ("planet_lon_deg of a planet not asked",
+         lambda: api.Sky().at(2461041.5, planets=("venus",)).planet_lon_deg["mars"]),
         ("drift threshold of no pointer", lambda: api.drift_series(
             tide, api.Sky(), api.DriftRun("2030-01-01", "2030-02-01", "1d",
                                           threshold_deg={"vulcan": 1.0}))),
@@ -321,3 +336,29 @@ def test_unknown_names_are_still_key_errors():
         api.kind_key("vulcan")
     assert str(pytest.raises(KeyError, api.kind_key, "vulcan").value) == \
         "unknown pointer kind 'vulcan'"
+
+
+def test_a_mistyped_demo_is_named_not_taken_for_the_default(monkeypatch):
+    """open_train(None) opens the default train, so demo_path answering None for a mistyped
+    name opened the tide office in place of the planet dial (common practice, no source)."""
+    with pytest.raises(api.UnknownName, match="did you mean planet_dial"):
+        api.demo_path("planet_dail")
+    with pytest.raises(TypeError, match="demo_path"):
+        api.demo_path(None)
+    assert api.demo_path("planet_dial.toml") == api.demo_path("planet_dial")
+
+
+def test_a_planet_not_asked_for_says_how_to_ask():
+    """A state made without planets= holds none; asking one of it says so and how to ask
+    (it said 'unknown pointer kind' for a known kind), and is still a KeyError."""
+    sky = api.Sky()
+    bare = sky.at(2461041.5)
+    with pytest.raises(api.SkyError, match=r"planets=\('mars',\)") as info:
+        bare.kind("mars")
+    assert "unknown pointer kind" not in str(info.value)
+    with pytest.raises(KeyError, match="planets asked for: venus"):
+        sky.at(2461041.5, planets=("venus",)).planet_helio_lon_deg["earth"]
+    with pytest.raises(api.SkyError, match="unknown pointer kind 'vulcan'"):
+        bare.kind("vulcan")
+    asked = sky.at([2461041.5, 2461042.5], planets=("mars",))
+    assert asked.kind("mars").shape == (2,) and list(asked.planet_lon_deg) == ["mars"]
