@@ -119,7 +119,8 @@ class Tolerances:
                    else shop.eccentricity_mm,
                    end_shake_mm=DEFAULT_END_SHAKE_MM if shop.end_shake_mm is None
                    else shop.end_shake_mm,
-                   tilt_deg=DEFAULT_TILT_DEG if shop.tilt_deg is None else shop.tilt_deg)
+                   tilt_deg=DEFAULT_TILT_DEG if shop.tilt_deg is None else shop.tilt_deg,
+                   hole_mm=DEFAULT_HOLE_MM if shop.hole_mm is None else shop.hole_mm)
         given = {k: v for k, v in given.items() if v is not None}
         for key, value in given.items():
             lo, hi = _TOLERANCE_RANGES.get(key, (None, None))

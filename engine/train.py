@@ -187,6 +187,7 @@ class Workshop:
     eccentricity_mm: float | None = None
     end_shake_mm: float | None = None
     tilt_deg: float | None = None
+    hole_mm: float | None = None  # largest error of a pivot hole's place (play)
     wheels: dict[str, WheelShop] = field(default_factory=dict)
 
     def wheel(self, name: str) -> WheelShop:

@@ -153,6 +153,9 @@ def _texts() -> list[tuple[str, str | bytes]]:
     for label, value in [("zero", "0"), ("negative", "-3"), ("with its unit", '"3mm"'),
                          ("huge", "2000"), ("nan", "nan")]:
         add(f"face_mm {label}", _sub("module_mm = 0.5", f"module_mm = 0.5\nface_mm = {value}"))
+    for label, value in [("negative", "-0.02"), ("with its unit", '"0.02mm"'), ("huge", "500"),
+                         ("nan", "nan")]:
+        add(f"workshop hole_mm {label}", GOOD + f"[workshop]\nhole_mm = {value}\n")
     add("mesh across carriers", GOOD + '[arbors.c1]\nwheels = {}\n[arbors.c2]\nwheels = {}\n'
         '[arbors.p]\non = "c1"\nwheels = { p1 = 10 }\n[arbors.q]\non = "c2"\nwheels = { q1 = 10 }\n'
         '[[meshes]]\nwheels = ["p1", "q1"]\n')

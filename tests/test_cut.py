@@ -324,6 +324,8 @@ def test_mixed_forms_in_one_mesh_are_refused():
     ("[workshop]\ncrossings = 2\n", "[workshop] crossings"),
     ("[workshop]\nbore_mm = -1\n", "[workshop] bore_mm"),
     ("[workshop]\ndivision = 0.7\n", "[workshop] division"),
+    ("[workshop]\nhole_mm = -0.01\n", "[workshop] hole_mm"),
+    ("[workshop]\nhole_mm = \"0.02mm\"\n", "[workshop] hole_mm"),
     ("[workshop]\nspokes = 4\n", "[workshop]"),
     ("[workshop.wheels.nowhere]\nform = \"involute\"\n", "[workshop.wheels.nowhere]"),
     ("[workshop.wheels.hand_wheel]\nform = \"square\"\n", "[workshop.wheels.hand_wheel] form"),

@@ -413,3 +413,13 @@ def test_play_heading_reads_as_a_sentence(capsys):
     out = " ".join(capsys.readouterr().out.split())
     assert "in 20,000 builds × 16 times" in out
     assert "backlash as each mesh's tooth form leaves it;" in out
+
+
+def test_the_file_can_give_the_pivot_holes_tolerance(capsys):
+    # [workshop] hole_mm, as the other tolerances; the option still wins
+    text = SMALL.read_text().replace("[workshop]", "[workshop]\nhole_mm = 0.05", 1)
+    train = parse_train(text, "holes.toml")
+    assert train.workshop.hole_mm == 0.05
+    assert Tolerances.of(train).hole_mm == 0.05
+    assert Tolerances.of(train, hole_mm=0.01).hole_mm == 0.01
+    assert Tolerances.of(load_train(SMALL)).hole_mm == 0.02  # the default
