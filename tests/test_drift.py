@@ -984,3 +984,18 @@ def test_json_site_is_the_place_read_as_sky_gives_it(capsys):
     assert json.loads(capsys.readouterr().out)["site"] == drift_site
     assert main(["drift", DISC, "--years", "1", "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["site"] is None
+
+
+def test_cli_resetting_says_the_angle_to_turn_the_pointer_itself(capsys):
+    """A pointer's degrees are those of what it shows: the two-moon disc shows two lunations
+    a turn (its file's per_turn = 2), so re-setting it by some degrees of phase turns the
+    disc itself by half as many, and a phase is also said in days (360° a mean synodic month,
+    engine.periods) — common practice, no source."""
+    assert main(["drift", DISC, "--years", "5", "--json"]) == 0
+    off = json.loads(capsys.readouterr().out)["pointers"]["phase"]["best_offset_deg"]
+    assert main(["drift", DISC, "--years", "5"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    days = abs(off) / (360 / PERIODS["synodic_month"].days)
+    words = (f"turn {'back' if off > 0 else 'forward'} by {abs(off):.2f}° ({days:.1f} days), "
+             f"the phase pointer itself {abs(off) / 2:.2f}° (it shows 2 cycles a turn)")
+    assert words in out, out

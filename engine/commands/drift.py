@@ -378,7 +378,10 @@ def _months_off(s) -> str:
     return f"{_months(s.months_off_end)} at the end{span} ({within})"
 
 
-def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
+def _summary_table(s, start_jd: float, threshold_days_given: bool, per_turn=1) -> Table:
+    """One pointer's figures. ``per_turn``: cycles the pointer shows a turn of its own (a
+    two-moon disc 2, a 223-month ring 223): its degrees are those of what it shows, so the
+    re-setting also says the angle to turn the pointer itself."""
     from rich import box
 
     from ..kinds import days_rate, shows_text
@@ -440,6 +443,12 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool) -> Table:
         move = "none needed"
     else:
         move = f"turn {'back' if off > 0 else 'forward'} by {_angle(abs(off))}"
+        if days:
+            move += f" ({_count(abs(off) / g, 'day')})" if abs(off) / g >= 0.1 else \
+                f" ({_count(abs(off) / g * 24, 'hour')})"
+        if per_turn != 1:  # its degrees are of what it shows: the hand itself turns less
+            move += (f", the {s.pointer} pointer itself {_angle(abs(off) / float(per_turn))} "
+                     f"(it shows {support.figure(float(per_turn), 7)} cycles a turn)")
     t.add_row("best re-setting", f"{move}; error then {s.rms_after_reset_deg:.4f}° RMS")
     return t
 
@@ -623,7 +632,9 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
             line(f"note: {phase_note(mech, ph)}", "yellow")
     line("")
     for s in result.summaries.values():
-        support.print_table(console, _summary_table(s, start, args.threshold_days is not None))
+        support.print_table(console, _summary_table(
+            s, start, args.threshold_days is not None,
+            mech.train.pointers[s.pointer].per_turn))
     if csv_path:
         line(f"wrote {csv_path}")
     if png_path:
