@@ -17,7 +17,7 @@ from .angles import mod
 from .dates import as_jd
 from .errors import ArgumentError, UnknownName
 from .exact import Turns
-from .kinds import KINDS, mean_value, sky_at, true_value
+from .kinds import KINDS, mean_value, sky_at, to_frame, true_value
 from .kinematics import Kinematics, LinearAngle
 from .periods import PLANETS, SECONDS_PER_DAY, mean_elements
 from .train import Pointer, Train
@@ -139,7 +139,34 @@ def mean_values(train: Train, jd_ut: float, sky=None, frame: str | None = None,
     if sky is not None:
         jd_tt = jd_ut + float(sky.at(np.array([jd_ut]), frame=frame).delta_t_s[0]) / SECONDS_PER_DAY
     mean = mean_elements(jd_tt)  # of date; a star dial reads from the J2000 equinox
-    return {n: float(mean_value(train.pointers[n].shows, mean, jd_tt, frame)) for n in names}
+    out = {}
+    for n in names:
+        circles = _two_circle_mean(train, train.pointers[n], mean)
+        out[n] = float(mean_value(train.pointers[n].shows, mean, jd_tt, frame) if circles is None
+                       else to_frame(circles, jd_tt, frame))
+    return out
+
+
+def _two_circle_mean(train: Train, p: Pointer, mean: dict) -> float | None:
+    """The mean position of a planet hand seen from the Earth that points at a pin on an
+    epicycle (the hand on the carrier's axis): where the two circles put the planet with both
+    at their mean longitudes, the longer of the carrier's arm and the pin's radius along the
+    planet's geocentric mean longitude (the Sun's for an inner planet, its own for an outer one)
+    and the shorter along the other (the planet's heliocentric mean longitude for an inner
+    planet, the Sun's for an outer). Not the planet's mean longitude, from which the hand
+    stands off by the epicycle's angle (up to 47° for Venus); None for any other pointer."""
+    if p.shows not in PLANETS:
+        return None
+    for ps in train.pin_slots.values():
+        if ps.slot_arbor != p.arbor or ps.carrier is None or ps.offset_mm:
+            continue
+        slow = np.radians(mean[p.shows])
+        other = np.radians(mean[f"{p.shows}_from_sun"] if PLANETS[p.shows].inner else mean["sun"])
+        long_r, short_r = sorted((ps.arm_mm, ps.pin_radius_mm), reverse=True)
+        x = long_r * np.cos(slow) + short_r * np.cos(other)
+        y = long_r * np.sin(slow) + short_r * np.sin(other)
+        return float(np.degrees(np.arctan2(y, x)) % 360.0)
+    return None
 
 
 class Readout:
