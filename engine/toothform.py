@@ -37,6 +37,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .errors import ArgumentError
+from .figures import figure
 
 # --- the cycloidal standard (BS 978 Part 2), values from memory ------------------------------
 
@@ -364,13 +365,15 @@ def cycloidal_pinion(leaves: int, module_mm: float, wheel_addendum_m: float) -> 
     dedendum = wheel_addendum_m + PINION_CLEARANCE_M
     root = r - dedendum * m
     if root <= 0:
-        raise ArgumentError(f"{leaves} leaves at module {m:g}: the wheel's addendum "
-                         f"({wheel_addendum_m:.2f} m) leaves no root circle")
+        raise ArgumentError(f"{leaves} {'leaf' if leaves == 1 else 'leaves'} at module "
+                            f"{figure(m, 6)}: the wheel's addendum "
+                            f"({wheel_addendum_m:.2f} m) leaves no root circle")
     half = row.thickness_m * m / 2.0
     psi = half / r
     notes = []
     if leaves < 6:
-        notes.append(f"{leaves} leaves: drawn with the 6–7 leaf form")
+        notes.append(f"{leaves} {'leaf' if leaves == 1 else 'leaves'}: drawn with the 6–7 leaf "
+                     "form")
     space_at_root = root * (2 * math.pi / leaves - 2 * psi)
     if space_at_root <= 0.2 * m:
         notes.append("the spaces between leaves close up at the root: too few leaves for "

@@ -212,3 +212,9 @@ def test_thin_keeps_corners_and_drops_points_on_a_line():
     pts = np.array([[0, 0], [1, 0], [2, 0], [3, 0], [3, 1], [3, 2], [2.5, 2.0004]], float)
     assert thin(pts, 0.001).tolist() == [True, False, False, True, False, True, True]
     assert thin(pts, 0.0).sum() == 7 - 3  # points exactly on a chord go even at no tolerance
+
+
+def test_a_one_leaf_pinion_that_cannot_be_drawn_says_leaf():
+    # '1 leaves at module 0.35' read as a slip
+    with pytest.raises(ValueError, match="^1 leaf at module 0.35: "):
+        cycloidal_pinion(1, 0.35, 0.47)
