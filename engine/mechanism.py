@@ -74,6 +74,27 @@ def sky_for(train: Train, ephemeris=None):
         raise TrainError(train.source, "[epoch] ephemeris", str(exc)) from None
 
 
+def wider_sky(sky, jd_first: float, jd_last: float, what: str = "the span runs past"):
+    """When ``sky`` (the bundled one, nothing named) does not cover ``jd_first`` ..
+    ``jd_last`` (UT): ``(Sky, note)`` for the narrowest installed long-span ephemeris of
+    :data:`engine.sky.LONG_SPANS` that does, and the note saying so; ``None`` when ``sky``
+    covers them or none installed does (the span check then says how to reach them)."""
+    import importlib.util
+
+    from .sky import LONG_SPANS, Sky
+
+    first, last = min(jd_first, jd_last), max(jd_first, jd_last)
+    lo, hi = sky.span_jd
+    if lo <= first and last <= hi:
+        return None
+    for name, _, package, span, _, a, b in sorted(LONG_SPANS, key=lambda row: row[4]):
+        if a <= first and last <= b and importlib.util.find_spec(package) is not None:
+            wide = Sky(name)
+            return wide, (f"{what} {sky.name} ({sky.span_text}): compared with "
+                          f"{wide.name} ({span}, installed) instead; --ephemeris chooses")
+    return None
+
+
 def _named_elsewhere(train: Train, sky) -> str:
     """When a sky given in place of the one the file's ``[epoch] ephemeris`` names cannot
     reach the epoch: the words saying so, and how to use the file's own."""

@@ -17,7 +17,7 @@ ROOT = Path(__file__).resolve().parent.parent
 def test_negative_year_dates_are_values_not_options(capsys):
     """-0100-03-01 is 101 BC in astronomical numbering; argparse must not take it for an
     option. DE421 does not reach it, so the answer is the out-of-span error (exit 1)."""
-    assert main(["sky", "-0100-03-01"]) == 1
+    assert main(["sky", "-0100-03-01", "--ephemeris", "de421"]) == 1
     err = capsys.readouterr().err
     assert "101 BC" in err and "outside JPL DE421" in err and "usage" not in err
 
@@ -53,10 +53,25 @@ def test_item_names_in_brackets_survive_the_console(tmp_path, capsys):
 
 def test_drift_past_the_ephemeris_says_how_much(capsys):
     train = str(ROOT / "engine" / "trains" / "tide_office.toml")
-    assert main(["drift", train, "--years", "50", "--step", "6h"]) == 1
+    assert main(["drift", train, "--years", "50", "--step", "6h", "--ephemeris", "de421"]) == 1
     err = capsys.readouterr().err
     assert "22.2 years of the span 2026-01-01 to 2076-01-01 lie outside JPL DE421" in err
     assert err.count("\n") == 1
+
+
+def test_drift_past_the_bundled_ephemeris_takes_an_installed_longer_one(capsys):
+    """Fifty years from a 2026 epoch run past DE421 (to 2053): with no --ephemeris the
+    installed DE406 (the test extra) takes the span, and a note says so; past every installed
+    one, the span error says what to do."""
+    assert main(["drift", "tide_office", "--years", "50", "--step", "10d"]) == 0
+    out, err = capsys.readouterr()
+    assert out.startswith("Tide office dial against JPL DE406")
+    assert " ".join(err.split()).startswith(
+        "wheelwork: note: the span runs past JPL DE421 (1899-07-30 to 2053-10-08): compared "
+        "with JPL DE406 (3000 BC-AD 3000, installed) instead")
+    assert main(["drift", "tide_office", "--years", "5000"]) == 1
+    err = " ".join(capsys.readouterr().err.split())
+    assert "lie outside JPL DE421" in err and "no ephemeris wheelwork installs reaches" in err
 
 
 def test_impossible_site_is_a_usage_error_before_the_interface_opens(capsys):

@@ -274,7 +274,7 @@ def test_cli_text_csv_and_refusals(tmp_path, capsys):
     assert "exists" in capsys.readouterr().err
     # outside DE421: refused with the span it covers
     assert main(["eclipses", f"{TRAINS}/cycle_dial.toml", "--from", "1850-01-01",
-                 "--years", "5"]) == 1
+                 "--years", "5", "--ephemeris", "de421"]) == 1
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "DE421" in err
     # a train that cannot predict eclipses

@@ -58,6 +58,16 @@ def run(args: argparse.Namespace, console: Console) -> int:
         raise UsageError(f"argument date: {exc}") from None
     site = parse_site(args.site) if args.site else None  # checked by the option's type
     sky = Sky(args.ephemeris)
+    if args.ephemeris is None:  # the bundled sky falls short: an installed longer one, said so
+        from rich.console import Console
+
+        from ..mechanism import wider_sky
+
+        wide = wider_sky(sky, jd, jd, what="the date lies outside")
+        if wide is not None:
+            sky, note = wide
+            Console(stderr=True, highlight=False).print(f"wheelwork: note: {note}",
+                                                         markup=False)
     frame = "stars" if args.stars else "equinox"
     st = sky.at(jd, frame=frame, site=site, planets=PLANETS + ("earth",))
     cal = calendar_date(jd, args.calendar)[-1]

@@ -274,14 +274,15 @@ def open_span(args: argparse.Namespace):
     loaded and set against ``--ephemeris`` (else the one its file names), the span from
     ``--from`` (default: the epoch) to ``--to`` or ``--years`` later. A span that ends before
     it starts is a usage error."""
-    from ..dates import format_jd
+    import dataclasses
+
+    from ..dates import format_jd, parse_step
     from ..loader import load_train
-    from ..mechanism import build, sky_for
+    from ..mechanism import build, sky_for, wider_sky
     from ..periods import JULIAN_YEAR_DAYS
 
     train = load_train(args.train)
     sky = sky_for(train, args.ephemeris)
-    mech = build(train, sky)
     start = args.start if args.start is not None else train.epoch.jd_ut
     end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
     if end <= start:
@@ -289,6 +290,17 @@ def open_span(args: argparse.Namespace):
                          + (f"--from {format_jd(start)}" if args.start is not None else
                             f"the train's epoch, {format_jd(start)}; give --from"),
                          getattr(args, "_prog", None))
+    wide = None
+    if args.ephemeris is None and train.epoch.ephemeris is None:
+        # nothing named and the bundled sky falls short: an installed longer one, said so
+        # (a drift's last date may pass the end by up to a step)
+        step = parse_step(args.step) if getattr(args, "step", None) else 0.0
+        wide = wider_sky(sky, min(start, train.epoch.jd_ut), end + step)
+    if wide is not None:
+        sky, note = wide
+    mech = build(train, sky)
+    if wide is not None:
+        mech = dataclasses.replace(mech, warnings=(note, *mech.warnings))
     return mech, sky, start, end
 
 
@@ -309,11 +321,14 @@ def add_site(parser, help_text: str | None = None) -> None:
         "e.g. --site -33.87,151.21 or '33.87S 151.21E'; default: the Earth's centre")
 
 
-def add_ephemeris(parser, train: bool = True) -> None:
-    """``--ephemeris``; ``train``: the command reads a train, whose ``[epoch] ephemeris`` is
-    the default before DE421."""
-    default = ("the train's [epoch] ephemeris, else the bundled DE421, 1900-2050" if train
-               else "the bundled DE421, 1900-2050")
+def add_ephemeris(parser, *, train: bool = True, wider: bool = True) -> None:
+    """``--ephemeris``; ``train``: the command reads a train (whose ``[epoch] ephemeris`` is
+    the default); ``wider``: the command takes an installed longer ephemeris for a span the
+    default cannot reach (:func:`engine.mechanism.wider_sky`)."""
+    default = (("the train's [epoch] ephemeris, else " if train else "")
+               + "the bundled DE421, 1900-2050"
+               + ("; a span or date past it takes an installed longer one, with a note"
+                  if wider else ""))
     parser.add_argument(
         "--ephemeris", metavar="FILE|de440|de406", type=ephemeris, default=None,
         help="JPL ephemeris: de440 (optional package, 1550-2650), de406 (the 'ancient' extra, "
