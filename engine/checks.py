@@ -368,7 +368,8 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     report.pin_slots = pin_checks
     report.arbors = _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, efficiency,
                             findings, real_time=bool(real_time))
-    report.meshes = _meshes(train, kin, upstream, report.arbors, crank_rpm, findings)
+    report.meshes = _meshes(train, kin, upstream, report.arbors, crank_rpm, findings,
+                            real_time=bool(real_time))
     modules = _wheel_modules(train, findings)
     groups = _axis_groups(train, kin)
     _shared_axes(train, groups, findings)
@@ -553,7 +554,7 @@ def _mesh_loads(train: Train, kin: Kinematics) -> list[float]:
     return out
 
 
-def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
+def _meshes(train, kin, upstream, arbors, crank_rpm, findings, *, real_time: bool = False):
     by_name = {a.name: a for a in arbors}
     frames = {f.mesh_index: f for f in kin.mesh_frames}
     loads = _mesh_loads(train, kin) if any(m.module_mm for m in train.meshes) else []
@@ -586,7 +587,9 @@ def _meshes(train, kin, upstream, arbors, crank_rpm, findings):
             findings.append(Finding(
                 "note", m.label, f"step-up stage: '{up.name}' ({up.teeth}) drives "
                 f"'{down.name}' ({down.teeth}) {_fmt(up.teeth / down.teeth)} times faster; "
-                "step-up stages multiply the friction felt at the crank",
+                "step-up stages multiply the friction "
+                + ("the clock or motor driving the crank must overcome" if real_time
+                   else "felt at the crank"),
                 "fine if intended; otherwise drive the train from the faster side"))
         if v is not None and v > PITCH_SPEED_LIMIT_M_S:
             findings.append(Finding(

@@ -770,6 +770,8 @@ def test_a_fast_arbor_at_running_speed_is_not_said_to_be_cranked_by_hand():
     report = run_check(TRAINS / "step_up.toml", real_time=True)
     (fast,) = levels(report, "warning", "[arbors.fast]")
     assert "by hand" not in fast.message and "clock or motor" in fast.message
+    steps = [f for f in report.findings if "step-up stage" in f.message]
+    assert steps and all("felt at the crank" not in f.message for f in steps)
     (hand,) = levels(run_check(TRAINS / "step_up.toml"), "warning", "[arbors.fast]")
     assert "heavy to crank by hand" in hand.message
 
