@@ -973,6 +973,9 @@ def _teeth_rules(train: Train, modules: dict[str, float], findings: list[Finding
         if z < PREFERRED_LEAVES and w not in rings:
             k = -(-PREFERRED_LEAVES // z)
             keep = f"'{w}' {k * z} and '{mate.name}' {k * mate.teeth} keep the ratio"
+            if k * mate.teeth > MAX_TEETH:  # the cure must not break the largest-count rule
+                keep += (f", but {k * mate.teeth} teeth is more than {MAX_TEETH} on one blank: "
+                         "split the stage in two")
             if z < MIN_LEAVES:
                 pin = (" (if it is a pin or finger that advances the wheel a tooth at a time, "
                        "this rule does not apply)" if z <= 2 else "")

@@ -808,3 +808,15 @@ def test_a_misplaced_axis_is_moved_where_the_file_places_it():
     fixes = [f.fix for f in said(text, "the axes are placed 19.9 mm apart")]
     assert len(fixes) == 2
     assert all(f.startswith("move 'b' to at_mm = [20.0, 0.0]") for f in fixes)
+
+
+def test_the_pinion_fix_does_not_break_the_largest_count_rule():
+    # 5 leaves into 600 teeth: doubling both keeps the ratio but makes a 1,200-tooth wheel,
+    # four times the 300 the check itself allows on a blank (our rule); the fix said so not
+    text = header("a") + (
+        '[arbors.a]\nwheels = { cp = 5 }\n[arbors.b]\nwheels = { mw = 600 }\n'
+        '[[meshes]]\nwheels = ["cp", "mw"]\nmodule_mm = 0.35\n'
+        '[pointers.p]\nshows = "sun"\narbor = "b"\nset_deg = 0\n')
+    (few,) = said(text, "5 leaves: fewer than 6")
+    assert "'cp' 10 and 'mw' 1200 keep the ratio, but 1200 teeth is more than 300" in few.fix
+    assert "split the stage in two" in few.fix
