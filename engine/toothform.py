@@ -458,7 +458,13 @@ def involute_wheel(teeth: int, module_mm: float) -> ToothForm:
         form_radius = float(np.hypot(*pnt))
         e = float(involute_half_angle(form_radius, teeth, m))  # onto the involute itself
         pnt = form_radius * np.array([math.sin(e), math.cos(e)])
-        cart = np.vstack([cart[: i + 1], pnt, cart[j + 1:]])
+        # after the crossing, the flank goes on from where the involute rises past it: the
+        # generated curve can first run back to its cusp on the base circle and out again
+        # below the crossing (10-12 teeth), a sliver that crossed the trochoid once more
+        tail = cart[j + 1:]
+        above = np.nonzero(np.hypot(tail[:, 0], tail[:, 1]) > form_radius)[0]
+        tail = tail[above[0]:] if len(above) else tail[:0]
+        cart = np.vstack([cart[: i + 1], pnt, tail])
         notes.append(f"{teeth} teeth: the rack undercuts the flanks (fewer than about 17 "
                      "teeth at 20°); drawn as cut, weakened at the root")
     rho = np.hypot(cart[:, 0], cart[:, 1])

@@ -218,3 +218,22 @@ def test_a_one_leaf_pinion_that_cannot_be_drawn_says_leaf():
     # '1 leaves at module 0.35' read as a slip
     with pytest.raises(ValueError, match="^1 leaf at module 0.35: "):
         cycloidal_pinion(1, 0.35, 0.47)
+
+
+@pytest.mark.parametrize("teeth", range(5, 20))
+def test_involute_flank_never_crosses_itself(teeth):
+    # An outline for a cutter must be a simple curve (common practice, no source). At 10-12
+    # teeth the undercut trim left the generated curve's run back to its cusp on the base
+    # circle, and the flank crossed the root fillet once more (a loop 0.08 module long).
+    t = involute_wheel(teeth, 1.0)
+    rho, eta = t.flank[:, 0], t.flank[:, 1]
+    pts = np.column_stack([rho * np.sin(eta), rho * np.cos(eta)])
+
+    def side(a, b, c):
+        return np.sign((b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0]))
+
+    for i in range(len(pts) - 1):
+        for j in range(i + 2, len(pts) - 1):
+            a, b, c, d = pts[i], pts[i + 1], pts[j], pts[j + 1]
+            crossed = side(a, b, c) * side(a, b, d) < 0 and side(c, d, a) * side(c, d, b) < 0
+            assert not crossed, (teeth, i, j)
