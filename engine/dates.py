@@ -86,14 +86,14 @@ _TIME = r"(?:[ T](?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?"
 _ZONE = r"(?:\s*(?:Z|UT|UTC|GMT))?"
 # an ISO offset from UT after a time of day (+01:00, -0500), as clocks and TOML write it
 _OFFSET = r"(?(h)(?:(?P<off>[+-])(?P<oh>\d{2}):?(?P<om>\d{2}))?)"
-_ERA = r"(?:\s+(?P<era>B\.?C\.?(?:E\.?)?|A\.?D\.?|C\.?E\.?)(?=\s|$))?"
+_ERA = r"(?:\s+(?P<era>B\.?C\.?(?:E\.?)?|A\.?D\.?|C\.?E\.?)(?=[\s,]|$))?"
 _ISO = re.compile(
     rf"(?P<y>[+-]?\d{{1,6}})-(?P<m>\d{{1,2}})-(?P<d>\d{{1,2}}){_TIME}{_OFFSET}{_ZONE}{_ERA}{_ZONE}",
     re.IGNORECASE,
 )
 _NAMED = re.compile(
     r"(?P<d>\d{1,2})\s+(?P<mname>[A-Za-z]+)\.?\s+(?P<y>\d{1,6})" + _ERA
-    + r"(?:\s+(?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?" + _ZONE,
+    + r"(?:,?\s+(?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?" + _ZONE,
     re.IGNORECASE,
 )
 _NAMED_FIRST = re.compile(  # month name first, as written in the US: Jan 1 2026, March 15, 44 BC

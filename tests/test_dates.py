@@ -267,6 +267,23 @@ def test_ad_written_before_the_year(text, same_as):
     assert parse_date(text) == parse_date(same_as)
 
 
+@pytest.mark.parametrize("text, same_as", [
+    ("28 May 585 BC, 14:25", "-0584-05-28 14:25"),
+    ("May 28, 585 BC, 14:25", "-0584-05-28 14:25"),
+    ("28 May 2026, 14:25 UT", "2026-05-28 14:25"),
+])
+def test_a_comma_before_the_time_of_day(text, same_as):
+    # a date written out, then a comma and the time, as prose writes it (common practice,
+    # no source); "May 28, 585 BC 14:25" was read and "28 May 585 BC, 14:25" refused
+    assert parse_date(text) == parse_date(same_as)
+
+
+@pytest.mark.parametrize("text", ["28 May 585 BC,", "250 BC,", "28 May 585, BC"])
+def test_a_stray_comma_is_still_refused(text):
+    with pytest.raises(DateError):
+        parse_date(text)
+
+
 @pytest.mark.parametrize("text, words", [
     ("AD 0-01-01", "no year 0 AD"),
     ("21 June AD 250 BC", "not a date form"),
