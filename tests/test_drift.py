@@ -999,3 +999,28 @@ def test_cli_resetting_says_the_angle_to_turn_the_pointer_itself(capsys):
     words = (f"turn {'back' if off > 0 else 'forward'} by {abs(off):.2f}° ({days:.1f} days), "
              f"the phase pointer itself {abs(off) / 2:.2f}° (it shows 2 cycles a turn)")
     assert words in out, out
+
+
+def test_chart_breaks_the_line_where_the_error_wraps():
+    """A wrapped error's jump from +180° to -180° is no motion of the pointer: the chart's
+    line is broken there (a gap), not drawn across the plot (common practice, no source)."""
+    from engine.commands.drift import break_at_wraps
+
+    x = np.arange(6.0)
+    y = np.array([170.0, 178.0, -174.0, -166.0, -10.0, 10.0])
+    bx, by = break_at_wraps(x, y)
+    assert len(bx) == len(by) == 7 and math.isnan(bx[2]) and math.isnan(by[2])
+    assert list(by[[0, 1, 3, 4, 5, 6]]) == list(y)  # a 156° step is drawn: no wrap
+
+
+def test_chart_names_a_cycle_dials_whole_months(tmp_path, capsys):
+    """The chart's cycle-dial panel says the whole months off, which its in-month error line
+    cannot show (the fast ring above: 2 months ahead by 2045)."""
+    pytest.importorskip("matplotlib")
+    path, svg = tmp_path / "ring.toml", tmp_path / "ring.svg"
+    path.write_text(FAST_RING)
+    assert main(["drift", str(path), "--from", "1950-01-01", "--to", "2045-01-01",
+                 "--step", "10d", "--png", str(svg)]) == 0
+    capsys.readouterr()
+    assert ("months (cycle); whole months off: 2 months ahead at the end, none to 2 months "
+            "ahead over the span") in svg.read_text()

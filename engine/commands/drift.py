@@ -257,6 +257,18 @@ def _bc_example(jd: float) -> str:
     return "0 = 1 BC" + (f", −{-year} = {1 - year} BC" if year < 0 else "")
 
 
+def break_at_wraps(x, error_deg):
+    """The series with a gap (NaN) wherever the wrapped error jumps by more than a half turn
+    from one date to the next: a line drawn across the jump from +180° to -180° filled the
+    chart with a solid band at every wrap."""
+    import numpy as np
+
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(error_deg, dtype=float)
+    cut = np.flatnonzero(np.abs(np.diff(y)) > 180.0) + 1
+    return np.insert(x, cut, np.nan), np.insert(y, cut, np.nan)
+
+
 def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> None:
     """Draw the chart into the output's part file (format from the name's extension); the
     caller commits it. A fault on writing is one line naming the file."""
@@ -271,7 +283,7 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
     x = _year(result.jd)
     for ax, name in zip(axes[:, 0], names, strict=True):
         s = result.summaries[name]
-        ax.plot(x, result.error_deg[name], lw=0.6, color="tab:blue")
+        ax.plot(*break_at_wraps(x, result.error_deg[name]), lw=0.6, color="tab:blue")
         ax.axhline(0.0, color="0.6", lw=0.5)
         if s.threshold_deg is not None:
             for sign in (1, -1):
@@ -284,7 +296,11 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
                             xytext=(4, 4), textcoords="offset points", fontsize=8,
                             color="tab:red")
         ax.set_ylabel(f"{name} error (°)")
-        ax.set_title(f"{name} ({shows_text(s.shows)})", fontsize=9, loc="left")
+        months = ("" if s.months_off_end is None else  # a cycle dial: its error is in-month
+                  "; whole months off: none" if s.months_off_least == s.months_off_most == 0
+                  else f"; whole months off: {_months(s.months_off_end)} at the end, "
+                  f"{_months(s.months_off_least)} to {_months(s.months_off_most)} over the span")
+        ax.set_title(f"{name} ({shows_text(s.shows)}){months}", fontsize=9, loc="left")
         g = days_rate(s.shows)
         if g:
             sec = ax.secondary_yaxis("right", functions=(lambda d, g=g: d / g,
