@@ -346,7 +346,13 @@ def test_jupiter_and_saturn_mean_periods_hold_for_their_two_centuries_only(sky40
     the table orrery's Saturn arm drifts about +0.5°/century and its Jupiter arm about
     -0.2°/century, where the report against the 1800-2050 means gives under 0.001°. The long
     span's Saturn sidereal period is about 10,759 days (JPL's 3000 BC-AD 3000 table, from
-    memory), so the arm, cut to 10,755.9 days, gains about 0.36°/century on it."""
+    memory; astronomy-engine's PlanetOrbitalPeriod gives 10,759.22, and Jupiter's 4,332.589),
+    so the arm, cut to 10,755.9 days, gains about 0.36°/century on it."""
+    astronomy = pytest.importorskip("astronomy")
+    for name, ppm in (("Saturn", -310), ("Jupiter", 53)):
+        published = astronomy.PlanetOrbitalPeriod(getattr(astronomy.Body, name))
+        assert (PERIODS[f"{name.lower()}_sidereal"].days / published - 1) * 1e6 == \
+            pytest.approx(ppm, abs=5)
     mech = open_train(ORRERY, sky406)
     rows = {r.pointer: r for r in pointer_ratios(mech)}
     run = drift_series(mech, sky406, DriftRun("1000-01-01", "2000-01-01", "10d"),
