@@ -132,6 +132,9 @@ class PointerKind:
 
     def mean_period(self, frame: str) -> MeanPeriod:
         """The mean period a pointer of this kind should realise on a dial of ``frame``."""
+        if frame not in self.period:
+            raise UnknownName(f"unknown dial frame {frame!r}; the frames are "
+                              f"{', '.join(self.period)}")
         return PERIODS[self.period[frame]]
 
     def swings_in(self, frame: str) -> tuple[tuple[str, float], ...]:
@@ -255,8 +258,10 @@ def kind_key(shows: str, seen_from: str | None = None) -> str:
     shows = str(shows).strip().lower()
     if seen_from is None:
         seen_from = "sun" if shows == "earth" else "earth"
+    seen_from = str(seen_from).strip().lower()  # read in any case, as the train file's word
     if seen_from not in SEEN_FROM:
-        raise UnknownName(f"seen_from should be one of {', '.join(SEEN_FROM)}")
+        raise UnknownName(f"seen_from should be one of {', '.join(SEEN_FROM)}, got "
+                          f"{seen_from!r}")
     key = shows if seen_from == "earth" else f"{shows}_from_sun"
     if key not in KINDS or (shows.endswith("_from_sun") and seen_from == "sun"):
         if shows == "earth":

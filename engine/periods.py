@@ -227,6 +227,9 @@ def find_period(text: str) -> MeanPeriod:
     def norm(s: str) -> str:
         return " ".join(s.strip().lower().replace("-", " ").replace("_", " ").split())
 
+    if not isinstance(text, str):
+        raise UnknownName(f"find_period: wanted a period's name or key as text, such as "
+                          f"'venus synodic', got {type(text).__name__} {text!r:.40}")
     said = norm(text)
     wants = {said, said[:-1] if said.endswith("s") else said}
     wants |= {w[: -len(" period")] for w in wants if w.endswith(" period")}

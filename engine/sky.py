@@ -1331,7 +1331,7 @@ class SkyState:
 
     def __post_init__(self):
         for name in ("planet_lon_deg", "planet_helio_lon_deg"):
-            object.__setattr__(self, name, _Asked(getattr(self, name)))
+            object.__setattr__(self, name, _Asked(getattr(self, name), name))
 
     # The derived fields: each a function of the fields above, computed on its first read and
     # kept in the instance (functools.cached_property writes the instance's __dict__, which a
@@ -1399,7 +1399,14 @@ class _Asked(dict):
     """A state's planets by name: a planet not asked for is a one-line error saying how to ask
     for it (also a ``KeyError``)."""
 
+    def __init__(self, values, field: str):
+        super().__init__(values)
+        self.field = field
+
     def __missing__(self, name):
+        if name == "earth" and self.field == "planet_lon_deg":
+            raise UnknownName("the Earth has no longitude seen from the Earth: its heliocentric "
+                              "one is planet_helio_lon_deg['earth']")
         have = ", ".join(self) or "none"
         raise UnknownName(f"this sky state holds no {name!r} (planets asked for: {have}); ask "
                           f"for it: Sky.at(..., planets=({name!r},))")
@@ -1502,6 +1509,8 @@ class Sky:
     def _planet_names(self, planets) -> tuple[str, ...]:
         if isinstance(planets, str):
             planets = (planets,)
+        elif planets is None:  # none asked, as the default
+            planets = ()
         names = []
         for p in planets:
             key = str(p).strip().lower()

@@ -269,6 +269,11 @@ def _bad_calls():
         ("SkyState.kind of a planet not asked", lambda: api.Sky().at(2461041.5).kind("mars")),
         ("planet_lon_deg of a planet not asked",
          lambda: api.Sky().at(2461041.5, planets=("venus",)).planet_lon_deg["mars"]),
+        ("find_period of None", lambda: api.find_period(None)),
+        ("a kind's period on no frame", lambda: api.KINDS["venus"].mean_period("star")),
+        ("kind_key seen from the Moon", lambda: api.kind_key("venus", "moon")),
+        ("the Earth seen from the Earth",
+         lambda: api.Sky().at(2461041.5, planets=("earth",)).planet_lon_deg["earth"]),
         ("drift threshold of no pointer", lambda: api.drift_series(
             tide, api.Sky(), api.DriftRun("2030-01-01", "2030-02-01", "1d",
                                           threshold_deg={"vulcan": 1.0}))),
@@ -362,3 +367,11 @@ def test_a_planet_not_asked_for_says_how_to_ask():
         bare.kind("vulcan")
     asked = sky.at([2461041.5, 2461042.5], planets=("mars",))
     assert asked.kind("mars").shape == (2,) and list(asked.planet_lon_deg) == ["mars"]
+
+
+def test_planet_words_read_in_any_case_and_none_asked_is_none():
+    """seen_from is read in any case, as a train file's words are (docs/train-format.md); a
+    state asked for planets=None holds none, as the default (common practice, no source)."""
+    assert api.kind_key("Venus", "Sun") == "venus_from_sun"
+    state = api.Sky().at(2461041.5, planets=None)
+    assert dict(state.planet_lon_deg) == {} and dict(state.planet_helio_lon_deg) == {}
