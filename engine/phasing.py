@@ -94,11 +94,17 @@ class StagePhase:
 
 def _pin_period_days(kin: Kinematics, name: str) -> float:
     """Days for the stage's pin (and, for a carried pin, its carrier) to turn once against the
-    slot arbor's mount: the longer of the two, the period of the stage's lead."""
+    slot arbor's mount: the longer of the two, the period of the stage's lead. A slot arbor on
+    the carrier's own axis (``offset_mm`` 0: a two-circle planet hand) leads by the angle between
+    the carrier's arm and the pin alone, so its lead's period is the pin's turning against its
+    carrier (the synodic period), however slowly the carrier goes round."""
     train = kin.train
     ps = train.pin_slots[name]
     mount = train.arbors[ps.slot_arbor].mount
     dpt = float(train.crank.days_per_turn)
+    if ps.carrier and not ps.offset_mm:
+        rate = kin.rate(ps.pin_arbor, ps.carrier)
+        return dpt / abs(float(rate)) if rate else 0.0
     days = 0.0
     for arbor in (ps.pin_arbor,) + ((ps.carrier,) if ps.carrier else ()):
         rate = kin.rate(arbor, mount)

@@ -429,3 +429,58 @@ def test_a_two_circle_hand_set_to_its_mean_is_where_the_circles_put_the_planet()
         offsets[setting] = np.degrees(np.angle(np.exp(1j * np.radians(err)).mean()))
         assert np.sqrt(np.mean(err ** 2)) < 8, setting
     assert abs(offsets["mean"]) < 2 and abs(offsets["sky"]) < 5
+
+
+def test_a_slow_deferents_stage_is_measured_over_its_synodic_turns(sky):
+    """A two-circle Jupiter hand (test's own counts: the deferent turned by a 7/83 pair from a
+    yearly crank, a 152 fixed wheel driving a 14 on the epicycle) leads its carrier by the angle
+    between arm and pin, which comes round once a synodic period (399 days), not once a
+    Jupiter year (4,331 days, six of which pass DE421's end): the pin's phase is measured over
+    six synodic turns, and the file's pin_deg (the mean Sun's longitude, Meeus ch. 25) fits
+    within a few degrees (common practice, no source, for the lead's period)."""
+    from engine.periods import mean_elements
+    from engine.phasing import stage_phases
+
+    m = mean_elements(parse_date("2026-06-01") + 69 / 86400, keys=("sun", "jupiter_from_sun"))
+    text = f"""
+[crank]
+arbor = "year"
+days_per_turn = 365.2422
+[epoch]
+date = "2026-06-01"
+[arbors.year]
+wheels = {{ y = 7 }}
+[arbors.deferent]
+wheels = {{ d = 83 }}
+[arbors.post]
+wheels = {{ fixed = 152 }}
+fixed = true
+axis_with = "deferent"
+[arbors.epicycle]
+wheels = {{ epi = 14 }}
+on = "deferent"
+[arbors.hand]
+wheels = {{}}
+axis_with = "deferent"
+[[meshes]]
+wheels = ["y", "d"]
+[[meshes]]
+wheels = ["fixed", "epi"]
+module_mm = 0.6
+[pin_slots.jupiter]
+pin = "epicycle"
+slot = "hand"
+arm_mm = 49.8
+arm_deg = {-float(m["jupiter_from_sun"]):.4f}
+pin_radius_mm = {49.8 / 5.202887:.4f}
+pin_deg = {-float(m["sun"]):.4f}
+offset_mm = 0
+[pointers.jupiter]
+shows = "jupiter"
+arbor = "hand"
+reversed = true
+"""
+    mech = build(parse_train(text, "jupiter.toml"), sky)
+    (stage,) = stage_phases(mech, sky)
+    assert stage.stage == "jupiter" and not stage.off
+    assert abs((stage.best_pin_deg - stage.pin_deg + 180) % 360 - 180) < 5
