@@ -11,7 +11,7 @@ from .kinds import KINDS
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
 from .periods import J2000_JD, JULIAN_CENTURY_DAYS, JULIAN_YEAR_DAYS, PERIODS
-from .readout import pointer_linear
+from .readout import epicycle_sense_ok, pointer_linear
 from .train import FRAME, Train
 
 
@@ -78,9 +78,9 @@ class SynodicRatio:
     #: arbors, ``ratio`` the turns the arm gains on the Earth's per crank turn (negative:
     #: it falls behind, an outer planet), and ``pin_slot`` is empty
     earth_arm: str = ""
-    #: the epicycle turns against its carrier in the carrier's own sense, as two circles need
-    #: (the pin then goes round at the sum of the two motions: the planet's for an inner
-    #: planet, the Sun's for an outer one); False: the other way, and the loops come wrong
+    #: the epicycle turns against its carrier the way two circles need (the shorter circle
+    #: goes round faster than the longer, the same way: :func:`engine.readout.epicycle_sense_ok`);
+    #: False: the other way, and the loops come at the wrong times
     direction_ok: bool = True
 
 
@@ -329,10 +329,9 @@ def synodic_ratio(train: Train, kin: Kinematics, p) -> SynodicRatio | None:
                 return None
             dpt = train.crank.days_per_turn
             period = float(dpt / abs(ratio))
-            carrier = kin.rate(ps.carrier)
             return SynodicRatio(
                 ps.name, ps.pin_arbor, ps.carrier, ratio, period, target.key, target.name,
                 target.days, target.source, (period - target.days) / target.days * 1e6,
                 (360.0 / period - 360.0 / target.days) * JULIAN_CENTURY_DAYS,
-                direction_ok=not carrier or (ratio > 0) == (carrier > 0))
+                direction_ok=epicycle_sense_ok(kin, ps))
     return None

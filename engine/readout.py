@@ -81,29 +81,40 @@ def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
     return out
 
 
+def epicycle_sense_ok(kin: Kinematics, ps) -> bool:
+    """Whether a pin carried on an epicycle turns as two circles of a planet do: of the
+    carrier's arm and the pin's radius, the shorter (the planet's orbit for an inner planet, the
+    Earth's for an outer one) goes round faster than the longer and the same way, against the
+    slot arbor's mount. With the epicycle turned against its carrier the other way, the shorter
+    goes round at the difference of the two motions instead, and the hand's stations and loops
+    come at the wrong times though the epicycle's period still matches the synodic period.
+    (Either circle may be the carrier: on the arm or on the pin, the Sun's and the planet's
+    motions give the same sum.)"""
+    mount = kin.train.arbors[ps.slot_arbor].mount
+    carrier, pin = kin.rate(ps.carrier, mount), kin.rate(ps.pin_arbor, mount)
+    long_rate, short_rate = (carrier, pin) if ps.arm_mm >= ps.pin_radius_mm else (pin, carrier)
+    if not long_rate:
+        return True
+    return (short_rate > 0) == (long_rate > 0) and abs(short_rate) > abs(long_rate)
+
+
 def backward_epicycles(train: Train, kin: Kinematics) -> list[str]:
-    """Planet hands seen from the Earth driven by a pin on an epicycle whose epicycle turns
-    against its carrier the other way from the carrier's own turning. Two circles put the pin
-    where the planet is only when the pin goes round at the sum of the two motions (the
-    planet's own for an inner planet, the Sun's for an outer one); turned the other way it
-    goes round at their difference, and the hand's stations and loops come at the wrong
-    times while the epicycle's period still matches the synodic period."""
+    """Planet hands seen from the Earth driven by a pin on an epicycle that turns against its
+    carrier the wrong way (:func:`epicycle_sense_ok`), each as a line with the fix."""
     out = []
     for p in train.pointers.values():
         if p.shows not in PLANETS:  # a planet seen from the Earth
             continue
         for ps in train.pin_slots.values():
-            if ps.slot_arbor != p.arbor or ps.carrier is None:
+            if ps.slot_arbor != p.arbor or ps.carrier is None or epicycle_sense_ok(kin, ps):
                 continue
-            epicycle, carrier = kin.rate(ps.pin_arbor, ps.carrier), kin.rate(ps.carrier)
-            if epicycle and carrier and (epicycle > 0) != (carrier > 0):
-                out.append(
-                    f"{train.source}: [pin_slots.{ps.name}]: the epicycle '{ps.pin_arbor}' "
-                    f"turns against its carrier '{ps.carrier}' the other way from the "
-                    f"carrier's own turning, so the pin goes round at the difference of the two "
-                    f"motions, not their sum, and pointer '{p.name}' shows its stations and "
-                    "loops at the wrong times; reverse the epicycle (an idler more or fewer "
-                    "between the fixed wheel and the epicycle's wheel)")
+            out.append(
+                f"{train.source}: [pin_slots.{ps.name}]: the epicycle '{ps.pin_arbor}' turns "
+                f"against its carrier '{ps.carrier}' the wrong way: the shorter of the arm and "
+                "the pin radius goes round at the difference of the two motions, not their "
+                f"sum, so pointer '{p.name}' shows its stations and loops at the wrong times; "
+                "reverse the epicycle (an idler more or fewer between the fixed wheel and the "
+                "epicycle's wheel)")
     return out
 
 

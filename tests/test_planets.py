@@ -484,3 +484,64 @@ reversed = true
     (stage,) = stage_phases(mech, sky)
     assert stage.stage == "jupiter" and not stage.off
     assert abs((stage.best_pin_deg - stage.pin_deg + 180) % 360 - 180) < 5
+
+
+def test_two_circles_either_way_round_are_no_wrong_way_epicycle():
+    """The carrier may carry either circle: Venus's own (arm 0.723 of the pin radius, turning
+    once a Venus year) with the Earth-Sun line on the epicycle, turned back against it by an
+    idler once a synodic period, puts the pin where the other arrangement does (a sum of two
+    vectors in either order) and is no wrong way round, though its epicycle turns against its
+    carrier. Checked against astronomy-engine's Venus (VSOP87, an outside ephemeris) over
+    4 years: within a few degrees, as the demo's."""
+    from engine.periods import mean_elements
+
+    astronomy = pytest.importorskip("astronomy")
+    m = mean_elements(parse_date("2026-06-01") + 69 / 86400, keys=("sun", "venus_from_sun"))
+    text = f"""
+[crank]
+arbor = "deferent"
+days_per_turn = 224.6954
+[epoch]
+date = "2026-06-01"
+set = "mean"
+[arbors.deferent]
+wheels = {{}}
+[arbors.post]
+wheels = {{ fixed = 50 }}
+fixed = true
+axis_with = "deferent"
+[arbors.idler]
+wheels = {{ idle = 40 }}
+on = "deferent"
+[arbors.epicycle]
+wheels = {{ epi = 130 }}
+on = "deferent"
+[arbors.hand]
+wheels = {{}}
+axis_with = "deferent"
+[[meshes]]
+wheels = ["fixed", "idle"]
+[[meshes]]
+wheels = ["idle", "epi"]
+[pin_slots.venus]
+pin = "epicycle"
+slot = "hand"
+arm_mm = 36.1668
+arm_deg = {float(m["venus_from_sun"]):.4f}
+pin_radius_mm = 50
+pin_deg = {float(m["sun"]):.4f}
+offset_mm = 0
+[pointers.venus]
+shows = "venus"
+arbor = "hand"
+"""
+    mech = build(parse_train(text, "venus_on_the_carrier.toml"), Sky())
+    (row,) = pointer_ratios(mech)
+    assert row.synodic.ratio < 0 and row.synodic.direction_ok and not mech.warnings
+    assert row.target_key == "tropical_year" and abs(row.period_error_ppm) < 500  # 5/13
+    jd = mech.train.epoch.jd_ut + np.arange(0, 4 * 365.25, 2.0)
+    real = np.array([astronomy.Ecliptic(astronomy.GeoVector(
+        astronomy.Body.Venus, astronomy.Time(j - 2451545.0), True)).elon for j in jd])
+    ro = mech.readout
+    err = (ro.read_deg(ro.turns_at(jd))["venus"] - real + 180) % 360 - 180
+    assert np.sqrt(np.mean(err ** 2)) < 3
