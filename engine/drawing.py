@@ -24,6 +24,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .errors import TrainError
+from .figures import figure
 from .kinematics import Kinematics
 from .plate import Plate, place_plates
 from .toothform import (
@@ -126,8 +127,8 @@ def wheel_modules(train: Train) -> dict[str, tuple[float, int]]:
         for w in (m.driver, m.driven):
             if w in out and abs(out[w][0] - m.module_mm) > 1e-12:
                 raise TrainError(train.source, m.label, f"wheel '{w}' is cut at module "
-                                 f"{out[w][0]:g} mm for mesh {out[w][1]} but at "
-                                 f"{m.module_mm:g} mm here: one wheel cannot be cut at two "
+                                 f"{figure(out[w][0], 6)} mm for mesh {out[w][1]} but at "
+                                 f"{figure(m.module_mm, 6)} mm here: one wheel cannot be cut at two "
                                  "modules")
             out.setdefault(w, (m.module_mm, m.index))
     return out
@@ -222,7 +223,7 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
     own = shop.wheel(wheel)
     z, m = tooth.teeth, tooth.module_mm
     role = {"wheel": "wheel", "pinion": "pinion", "ring": "internal wheel"}[tooth.role]
-    title = f"{wheel}: {z} {'leaves' if tooth.role == 'pinion' else 'teeth'}, module {m:g}, " \
+    title = f"{wheel}: {z} {'leaves' if tooth.role == 'pinion' else 'teeth'}, module {figure(m, 6)}, " \
             f"{tooth.form} {role}"
     part = Part(stem, title, "wheel")
     part.notes.extend(tooth.notes)
@@ -248,10 +249,10 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
     info["bore_mm"] = bore
     wall = tooth.root_radius_mm - bore / 2
     if wall <= 0:
-        raise TrainError(train.source, f"wheel '{wheel}'", f"a bore of {bore:g} mm is wider "
+        raise TrainError(train.source, f"wheel '{wheel}'", f"a bore of {figure(bore, 6)} mm is wider "
                          f"than the root circle ({root_d:.3f} mm)")
     if wall < MIN_WALL_MODULES * m:
-        part.notes.append(f"the bore ({bore:g} mm) leaves {wall:.2f} mm of metal below the "
+        part.notes.append(f"the bore ({figure(bore, 6)} mm) leaves {wall:.2f} mm of metal below the "
                           "teeth, less than one module: cut the leaves on the arbor, or bore "
                           "smaller")
     part.circles.append(("CUT", 0.0, 0.0, bore / 2))
@@ -260,7 +261,7 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
         rim = own.rim_mm or shop.rim_mm or RIM_MODULES * m
         windows = crossing_windows(tooth.root_radius_mm - rim, bore / 2 + rim, crossings, rim)
         if windows is None:
-            part.notes.append(f"too small for {crossings} crossings with a {rim:.3g} mm rim: "
+            part.notes.append(f"too small for {crossings} crossings with a {figure(rim, 3)} mm rim: "
                               "left solid")
         else:
             part.polylines.extend(("CUT", w) for w in windows)
@@ -314,7 +315,7 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     over it (their ``reach``, the tip radius, else the pitch radius) by ``PLATE_CLEAR_MM``."""
     pivot = train.workshop.pivot_mm
     what = "the frame" if plate.mount == FRAME else f"carrier '{plate.mount}'"
-    title = f"plate of {what}: {len(plate.holes)} holes, pivots {pivot:g} mm"
+    title = f"plate of {what}: {len(plate.holes)} holes, pivots {figure(pivot, 6)} mm"
     part = Part(stem, title, "plate")
     boxes = [(h.x_mm, h.y_mm, PLATE_MARGIN_MM) for h in plate.holes.values()]
     for h in plate.holes.values():
@@ -350,7 +351,7 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     shared = [h.axis for h in plate.holes.values() if len(h.arbors) > 1]
     if shared:
         part.notes.append(f"{'holes' if len(shared) > 1 else 'the hole'} for arbors sharing an "
-                          f"axis ({'; '.join(shared)}) drawn at the pivot's {pivot:g} mm: open "
+                          f"axis ({'; '.join(shared)}) drawn at the pivot's {figure(pivot, 6)} mm: open "
                           f"{'each' if len(shared) > 1 else 'it'} to the outermost tube's "
                           "diameter where a tube passes through this plate (the file gives no "
                           "tube sizes)")

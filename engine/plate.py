@@ -21,6 +21,7 @@ import numpy as np
 
 from .checks import TOLERANCE_MM, _axis_groups, centre_distance_mm
 from .errors import PlacementError
+from .figures import figure
 from .kinematics import Kinematics
 from .train import FRAME, Train
 
@@ -192,7 +193,7 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
     groups_of: dict[frozenset, list[Tie]] = {}
     for t in ties:
         if t.axis1 == t.axis2:
-            raise PlacementError(where, t.label, f"needs its two axes {t.distance_mm:g} mm "
+            raise PlacementError(where, t.label, f"needs its two axes {figure(t.distance_mm, 6)} mm "
                                  "apart, but they are one axis")
         groups_of.setdefault(frozenset((t.axis1, t.axis2)), []).append(t)
     by_pair: dict[frozenset, Tie] = {}

@@ -343,7 +343,7 @@ def cycloidal_wheel(teeth: int, module_mm: float, mate_leaves: int,
     root = r - dedendum_m * m
     notes = []
     if root <= 0:
-        raise ArgumentError(f"{teeth} teeth at dedendum {dedendum_m:.3g} m leave no root circle")
+        raise ArgumentError(f"{teeth} teeth at dedendum {figure(dedendum_m, 3)} m leave no root circle")
     if add > DEEP_ADDENDUM_M:
         notes.append(f"{DEEP_NOTE_START}addendum {add:.2f} m against {mate_leaves} leaves): "
                      f"{DEEP_ADVICE}")

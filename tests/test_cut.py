@@ -586,3 +586,20 @@ def test_a_shared_axis_hole_is_said_to_be_drawn_at_the_pivot_size(tmp_path, caps
     assert "(perigee_carrier/mean_moon/moon) drawn at the pivot's 1 mm" in note
     assert "outermost tube" in note
     assert not any("sharing" in n for n in parts["wheel-sun_w1"]["notes"])
+
+
+def test_a_watch_fine_module_is_written_in_plain_figures(tmp_path, capsys):
+    # module 0.00005 mm (a slip for 0.05, which check warns of): the parts table and the
+    # drawings' labels wrote 5e-05 ('{:g}')
+    train = tmp_path / "tiny.toml"
+    train.write_text(
+        '[crank]\narbor = "a"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\nset = "angles"\n'
+        '[arbors.a]\nwheels = { a1 = 40 }\n[arbors.b]\nwheels = { b1 = 200 }\n'
+        '[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = 0.00005\n'
+        '[pointers.p]\nshows = "moon"\narbor = "b"\nset_deg = 0\n'
+        '[workshop.wheels.a1]\nbore_mm = 0.0001\n[workshop.wheels.b1]\nbore_mm = 0.0001\n')
+    out = tmp_path / "o"
+    assert main(["cut", str(train), "--out", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "e-0" not in text and "0.00005" in text
+    assert "module 0.00005," in (out / "wheel-b1.svg").read_text()

@@ -127,10 +127,10 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
         if p.kind != "wheel":
             continue
         i = p.info
-        table.add_row(escape(i["wheel"]), str(i["teeth"]), f"{i['module_mm']:g}",
+        table.add_row(escape(i["wheel"]), str(i["teeth"]), support.figure(i['module_mm'], 6),
                       f"{i['form']} {i['role']}", f"{i['tip_diameter_mm']:.3f}",
                       f"{i['root_diameter_mm']:.3f}",
-                      f"{i['bore_mm']:g}" if "bore_mm" in i else "—")
+                      support.figure(i['bore_mm'], 6) if "bore_mm" in i else "—")
     support.print_table(console, table)
     for p in cut.parts:
         if p.kind != "plate":
