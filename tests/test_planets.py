@@ -545,3 +545,15 @@ arbor = "hand"
     ro = mech.readout
     err = (ro.read_deg(ro.turns_at(jd))["venus"] - real + 180) % 360 - 180
     assert np.sqrt(np.mean(err ** 2)) < 3
+
+
+def test_the_report_gives_a_two_circle_hands_deferent_chain(capsys):
+    """A two-circle hand has no chain of meshes of its own; the report names the deferent's,
+    the wheels a maker cuts for its mean motion (the demo file's comment: (10/76)(11/112)(25/118)
+    and (8/53)(8/79)(8/84); common practice, no source)."""
+    from engine.cli import main
+
+    assert main(["ratios", str(DIAL)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "deferent 'venus_deferent' by stages 10/76 × 11/112 × 25/118" in out
+    assert "deferent 'mars_deferent' by stages 8/53 × 8/79 × 8/84" in out

@@ -35,7 +35,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..exact import fraction_text
     from ..kinematics import solve
     from ..loader import load_train
-    from ..ratios import era_note, pointer_ratios
+    from ..ratios import era_note, pointer_ratios, stage_path
     from ..readout import backward_pointers, backward_warnings
 
     train = load_train(args.train)
@@ -110,6 +110,11 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century", 3, markup=True)
         elif r.synodic:
             sy = r.synodic
+            found = stage_path(train, kin, sy.deferent)
+            if found and found[0]:  # the chain a maker cuts for the hand's mean motion
+                support.print_indented(
+                    console, f"deferent '{escape(sy.deferent)}' by stages "
+                    f"{' × '.join(s.text() for s in found[0])}", 3, markup=True)
             support.print_indented(
                 console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
                 f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
