@@ -305,3 +305,120 @@ async def test_the_parts_screen_ratio_rows_take_the_theme_colours():
         styles = {str(span.style) for span in shown.spans}
         assert f"bold {colours['accent']}" in styles and colours["muted"] in styles
         assert not any("#e5c07b" in s or "#9aa5b1" in s for s in styles)
+
+
+# --- found by a maker's session at 80 × 24 and 160 × 50 (common practice, no source) -------
+@sync
+async def test_typing_a_new_count_replaces_the_picked_part_s_value(tmp_path):
+    """Picking sun_w1 (59) and typing 60 makes it 60 teeth, not 5960: the value shown for a
+    picked part is selected, so typing replaces it, as in the step and date dialogs."""
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.press("down", "down", "down")  # crank, two day pinions, then sun_w1
+        await pilot.pause()
+        value = app.screen.query_one("#parts-value", Input)
+        assert value.value == "59"
+        await pilot.press("6", "0")
+        assert value.value == "60"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 60
+        await pilot.press("6", "1", "enter")  # the value after an edit is selected too
+        await pilot.pause()
+        assert app.session.mech.train.wheels["sun_w1"].teeth == 61
+        await pilot.press("backspace")  # a backspace clears it
+        assert value.value == ""
+
+
+@sync
+async def test_a_terminal_made_too_small_after_a_change_of_train_still_says_so(tmp_path):
+    """The bench is composed again for a changed train; the "terminal too small" message
+    must survive it (the screen was blank but for its footer)."""
+    from tui.small import TooSmall
+
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await _change_sun_w1(pilot, app)
+        for key in ("", "ctrl+z"):  # after the change, and after it is undone
+            if key:
+                await pilot.press(key)
+                await pilot.pause()
+            await pilot.resize_terminal(70, 20)
+            await pilot.pause()
+            message = app.screen.query_one(TooSmall)
+            assert message.display and message.region.height > 1
+            assert "70×20" in str(message.render())
+            await pilot.resize_terminal(80, 24)
+            await pilot.pause()
+            assert not message.display
+
+
+@sync
+async def test_a_resize_while_the_chart_covers_the_bench_is_laid_out_on_return(tmp_path):
+    """Resized from 160 × 50 to 80 × 24 with the drift chart up: back on the bench, its
+    title is one row (the long hint left out) and the footer shows the keys for 80 columns."""
+    path = tmp_path / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    app = make_app(path)
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.pause()
+        await _change_sun_w1(pilot, app)  # the title's "changed, not saved" makes it longer
+        await pilot.press("d")
+        await pilot.pause()
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause()
+        await pilot.press("escape")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        title = app.screen.query_one("#title")
+        assert title.outer_size.height == 1
+        assert "ctrl+p every key" not in _title(app)
+        assert not app.screen.query_one(Footer).show_command_palette
+
+
+def test_readings_write_large_drifts_whole_with_separators_and_360_as_0():
+    from tui.widgets import Readings
+
+    assert Readings.drift_text(67987.93) == "+67,988"
+    assert Readings.drift_text(-35644.39) == "-35,644"
+    assert Readings.drift_text(999.99) == "+999.99"
+    assert Readings.drift_text(-999.996) == "-1,000"
+    assert Readings.drift_text(0.0008) == "+0.0008"
+    assert Readings.angle_text(359.96, 1) == "0.0"
+    assert Readings.angle_text(359.996, 2) == "0.00"
+    assert Readings.angle_text(359.94, 1) == "359.9"
+
+
+@sync
+async def test_a_far_off_drift_stays_in_its_row_at_80_columns(tmp_path):
+    """A sun hand drifting some 23,000°/cy: its drift stays on its row (was wrapped onto a
+    line of its own, at the left edge) and every row of the readings is one line."""
+    from tui.widgets import Readings
+
+    train = (demo_path("moon_disc_59").read_text()
+             .replace('[pointers.phase]', '[arbors.sun]\nwheels = { sun_wheel = 97 }\n\n'
+                      '[arbors.sun_idle]\nwheels = { idle_w = 73, idle_p = 7 }\n\n'
+                      '[[meshes]]\nwheels = ["pusher_pin", "idle_w"]\n\n'
+                      '[[meshes]]\nwheels = ["idle_p", "sun_wheel"]\n\n'
+                      '[pointers.sun_hand]\nshows = "sun"\narbor = "sun"\n\n'
+                      '[pointers.phase]'))
+    path = tmp_path / "far_off.toml"
+    path.write_text(train)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        readings = app.screen.query_one(Readings)
+        lines = [readings.render_line(y).text.rstrip() for y in range(readings.size.height)]
+        row = next(line for line in lines if line.startswith("sun_hand"))
+        drift = row.split()[-1]  # 1/73 · 7/97 a day, against the year: -23,002°/cy
+        assert drift == "-23,002", row
+        assert len(lines) == 1 + len(app.session.mech.train.pointers)

@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+from numpy import format_float_positional
 from rich.table import Table
 from rich.text import Text
 from textual import on, work
@@ -159,8 +160,8 @@ def parts(editor: TrainEditor) -> list[tuple[tuple, str]]:
         mark = f"  ✗ prime {', '.join(map(str, bad[name]))}" if name in bad else ""
         out.append((("teeth", name), f"{name}: {teeth} teeth (on {arbor}){mark}"))
     for name, offset, radius in editor.pin_slots():
-        out.append((("pin", name, "offset_mm"), f"{name}: axis offset {offset:g} mm"))
-        out.append((("pin", name, "pin_radius_mm"), f"{name}: pin radius {radius:g} mm"))
+        out.append((("pin", name, "offset_mm"), f"{name}: axis offset {mm_text(offset)} mm"))
+        out.append((("pin", name, "pin_radius_mm"), f"{name}: pin radius {mm_text(radius)} mm"))
     return out
 
 
@@ -170,7 +171,14 @@ def current_value(editor: TrainEditor, key: tuple) -> str:
         return fraction_text(train.crank.days_per_turn)
     if key[0] == "teeth":
         return str(train.wheels[key[1]].teeth)
-    return f"{getattr(train.pin_slots[key[1]], key[2]):g}"
+    return mm_text(getattr(train.pin_slots[key[1]], key[2]))
+
+
+def mm_text(mm: float) -> str:
+    """A length as the file holds it, in plain figures and every digit (10.58512, not the
+    10.5851 a ``g`` format kept, which Enter on the unchanged box then wrote into the file;
+    1000000, not 1e+06)."""
+    return format_float_positional(mm, trim="-")
 
 
 def prompt(key: tuple) -> str:
@@ -308,11 +316,13 @@ class PartsScreen(ClosesOnce, SizeGuard, Screen):
         self.query_one("#parts-value", Input).focus()
 
     def _value(self, text: str) -> None:
-        """Show the picked part's value with the cursor at its end, ready to be typed over
-        (a cursor left where it stood in the previous value cut a backspace in the middle)."""
+        """Show the picked part's value selected, cursor at its end, ready to be typed over:
+        typing replaces it (59, typed 60, was 5960 teeth), ← → keep it to change a digit,
+        and a backspace clears it."""
         box = self.query_one("#parts-value", Input)
         box.value = text
         box.cursor_position = len(text)
+        box.select_all()
 
     def _error(self, message: str) -> None:
         label = self.query_one("#parts-error", Label)

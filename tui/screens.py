@@ -44,6 +44,7 @@ from engine.dates import (
     parse_date,
 )
 from engine.errors import WheelworkError
+from engine.figures import figure
 from engine.kinds import shows_text
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
@@ -1234,7 +1235,7 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
     def _scale_note(self, scale, thr: float, other) -> None:
         """Say how the y scale was chosen when the band or a curve is not all there."""
         note = self.query_one("#drift-scale", Static)
-        per_row = f"{scale.deg_per_row:.2g}° a row"
+        per_row = f"{figure(scale.deg_per_row, 2)}° a row"
         if scale.fitted:
             text = (f"y fitted to the ±{thr:g}° band ({per_row}); off the chart: "
                     f"{', '.join(scale.off_chart)} · y: every curve")

@@ -22,6 +22,7 @@ from engine.eclipses import EclipseNow, EclipseWatch, cycle_pointer, cycle_posit
 from engine.eclipses import limits as eclipse_limits
 from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
+from engine.figures import figure
 from engine.kinds import FRAMES, next_frame, sky_at
 from engine.mechanism import Mechanism, sky_for
 from engine.ratios import pointer_ratios
@@ -335,7 +336,7 @@ class Session:
         if self.step_days is None:
             return str(self.step)
         turns = self.step
-        shown = str(turns) if turns.denominator == 1 else f"{float(turns):.6g}"
+        shown = str(turns) if turns.denominator == 1 else figure(float(turns), 6)
         return f"{self.step_label or self.days_text(self.step_days)} = {shown} turns"
 
     @property

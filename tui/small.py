@@ -62,7 +62,29 @@ class SizeGuard:
         self.mount(TooSmall(id="too-small"))
         self.guard_size()
 
+    #: the terminal's size when another screen came over this one
+    _guard_covered_at: Size | None = None
+
+    def _on_screen_suspend(self) -> None:
+        self._guard_covered_at = self.app.size
+
     def _on_screen_resume(self) -> None:
+        self.guard_size()
+        covered_at, self._guard_covered_at = self._guard_covered_at, None
+        if covered_at is not None and covered_at != self.app.size:
+            # the terminal was resized while another screen covered this one, and Textual
+            # tells only the screen on top (and a dialog's background): lay it out now, as a
+            # resize would (the bench's title, side column and footer keys, the chart's scale)
+            size = self.app.size
+            self.post_message(events.Resize(size, size))
+
+    async def recompose(self) -> None:
+        """Compose the screen again (the bench, for a changed train), the message kept: a
+        recompose removes every child, and without it a terminal made too small afterwards
+        showed a blank screen."""
+        await super().recompose()
+        if not self.query(TooSmall):
+            await self.mount(TooSmall(id="too-small"))
         self.guard_size()
 
     def _on_descendant_focus(self, event: events.DescendantFocus) -> None:

@@ -19,6 +19,7 @@ from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
 
 from engine.dates import format_jd, turn_days_text
+from engine.figures import figure
 from engine.view import (
     TrainLayout,
     arbor_at,
@@ -989,10 +990,21 @@ class Readings(RowStatic):
     @staticmethod
     def drift_text(d: float | None) -> str:
         """Mean drift in fixed notation: two decimals, or four when smaller than 0.01°/cy
-        (a drift under 0.00005°/cy shows as ±0.0000)."""
+        (a drift under 0.00005°/cy shows as ±0.0000); from 1,000°/cy whole degrees with
+        thousands separated (+67,988, as the parts screen's ratio panel writes them: a train
+        that far off needs no hundredths, and +67987.93 wrapped onto a line of its own)."""
         if d is None:
             return ""
+        if abs(d) >= 999.995:
+            return f"{d:+,.0f}"
         return f"{d:+.2f}" if abs(d) >= 0.01 else f"{d:+.4f}"
+
+    @staticmethod
+    def angle_text(deg: float, decimals: int) -> str:
+        """A reading on the 0–360° dial to ``decimals``: one that rounds up to 360 reads 0
+        (359.96° is 0.0, not 360.0)."""
+        text = f"{deg:.{decimals}f}"
+        return f"{0.0:.{decimals}f}" if float(text) >= 360 else text
 
     def show(self, now: Now) -> None:
         self._now = now
@@ -1015,12 +1027,12 @@ class Readings(RowStatic):
         t.append(f"{cols[0][0]:<{name_w}}", style=head)
         for title, width in cols[1:]:
             cell(title, width, head)
-        deg = "{:.1f}" if narrow else "{:.2f}"
+        decimals = 1 if narrow else 2
         for p in now.pointers.values():
             t.append("\n")
             t.append(f"{names[p.name]:<{name_w}}")
-            cell(deg.format(p.train_deg), w[1])
-            cell(deg.format(p.sky_deg), w[2])
+            cell(self.angle_text(p.train_deg, decimals), w[1])
+            cell(self.angle_text(p.sky_deg, decimals), w[2])
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
             cell(f"{err:+.2f}", w[3], _err_style(err, colours))
             cell(f"{p.worst_deg:.2f}", w[4], _err_style(p.worst_deg, colours))
@@ -1107,7 +1119,7 @@ class Status(RowStatic):
         t.append(f"{per_turn}\n", style=colours["accent"])
         t.append("ΔT       ", style="dim")
         sigma = now.delta_t_sigma_s
-        pm = f"{sigma:.0f}" if sigma >= 10 else f"{sigma:.1f}" if sigma >= 1 else f"{sigma:.1g}"
+        pm = f"{sigma:.0f}" if sigma >= 10 else f"{sigma:.1f}" if sigma >= 1 else figure(sigma, 1)
         t.append(f"{now.delta_t_s:.1f} s ± {pm} s\n")
         t.append("sky      ", style="dim")
         # the dates of the span when the line holds them (with a cell to spare each side),
