@@ -131,6 +131,19 @@ class ChainAnswer:
         return " · ".join(f"{s.driver}/{s.driven}" for s in self.result.stages)
 
 
+def _own_result(chain: PointerChain, cons) -> TrainResult | None:
+    """The chain's own tooth counts as an answer, when the bounds ``cons`` admit them: the
+    search keeps each ratio once, by its fewest teeth, and would offer 10/76 · 11/112 · 25/118
+    for the tide office's Sun in place of its own 10/59 · 11/128 · 25/133 (the same ratio)."""
+    drivers, driven = (set(c) for c in cons.sides(chain.target))
+    if not all(s.driver_teeth in drivers and s.driven_teeth in driven for s in chain.stages):
+        return None
+    if any(s.internal for s in chain.stages):
+        return None
+    return _make_result(tuple(WheelPair(s.driver_teeth, s.driven_teeth) for s in chain.stages),
+                        chain.target)
+
+
 def _with_teeth(train: Train, teeth: dict[str, int]) -> Train:
     wheels = dict(train.wheels)
     for w, n in teeth.items():
@@ -299,8 +312,8 @@ def chain_search(chain: PointerChain, wheels="8-150", pinions="8-150",
     if not lo / 2 <= t <= hi * 2:
         raise SearchError(
             f"out of reach: {k} mesh{'es' if k > 1 else ''} of these counts give "
-            f"{float(lo):.4g} to {float(hi):.4g} turns per crank turn, the pointer needs "
-            f"{float(t):.4g}; widen the tooth ranges"
+            f"{figure(float(lo), 4)} to {figure(float(hi), 4)} turns per crank turn, the "
+            f"pointer needs {figure(float(t), 4)}; widen the tooth ranges"
             + ("" if chain.whole else ", or search the whole chain"))
     if chain.returns:
         results = _search_returns(chain, cons, top if max_error_ppm is None else MAX_TOP,
@@ -311,8 +324,11 @@ def chain_search(chain: PointerChain, wheels="8-150", pinions="8-150",
         results = search(chain.target, cons, top=MAX_TOP if max_error_ppm else top,
                          with_convergents=False, progress=progress, cancel=cancel).results
     dpt = chain.target.crank_days
+    own = _own_result(chain, cons)
     out = []
     for res in results:
+        if own is not None and res.ratio == own.ratio:
+            res, own = own, None  # the train's own counts for its own ratio, when in bounds
         teeth = {}
         for st, pair in zip(chain.stages, res.stages, strict=True):
             teeth[st.driver] = pair.driver

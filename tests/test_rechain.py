@@ -257,3 +257,31 @@ def test_tooth_sums_of_three_meshes_keep_every_pair_within_the_tolerance():
     for sums in _sums(ret, 90, 110):
         d = [m * s / 2 for m, s in zip(ret.modules, sums, strict=True)]
         assert max(d) - min(d) <= TOLERANCE_MM + 1e-12, (sums, d)
+
+
+def test_out_of_reach_is_said_in_plain_figures(tide):
+    """A pointer needing some 0.0000007 turns a crank turn is told so, not 7e-07 (common
+    practice, no source: the project writes figures without e-notation)."""
+    from dataclasses import replace
+    from fractions import Fraction
+
+    train = tide.train
+    minute = replace(train, crank=replace(train.crank, days_per_turn=Fraction(1, 1440)))
+    with pytest.raises(SearchError, match="out of reach") as caught:
+        chain_search(pointer_chain(build(minute, None), "node"), pinions="8-10",
+                     wheels="11-12")
+    assert "e-0" not in str(caught.value) and "0.0000" in str(caught.value), caught.value
+
+
+def test_the_train_s_own_counts_stand_for_its_own_ratio(tide):
+    """The search keeps each ratio once; for the train's own ratio it offers the train's own
+    counts when the bounds admit them (the tide office's Sun, 10/59 · 11/128 · 25/133, was
+    offered as 10/76 · 11/112 · 25/118), so the list shows the train as it is (common
+    practice, no source)."""
+    chain = pointer_chain(tide, "sun")
+    answers = chain_search(chain, pinions="8-30", wheels="20-150")
+    same = [a for a in answers if a.ratio == chain.ratio_now]
+    assert [a.stages_text() for a in same] == ["10/59 · 11/128 · 25/133"]
+    # bounds that leave a count of its own out: the fewest teeth for that ratio again
+    narrow = chain_search(chain, pinions="8-30", wheels="20-130")
+    assert all("133" not in a.stages_text() for a in narrow)

@@ -422,3 +422,14 @@ async def test_a_far_off_drift_stays_in_its_row_at_80_columns(tmp_path):
         drift = row.split()[-1]  # 1/73 · 7/97 a day, against the year: -23,002°/cy
         assert drift == "-23,002", row
         assert len(lines) == 1 + len(app.session.mech.train.pointers)
+
+
+def test_a_pin_and_slot_length_is_offered_in_every_digit():
+    """The value box offers the length the file holds, so Enter on it unchanged changes
+    nothing (a g format offered 10.5851 for 10.58512), and never in e-notation."""
+    from tui.editing import mm_text
+
+    for mm in (10.58512, 0.985, 9.0, 0.00001, 1_000_000.0, 123.456789012):
+        text = mm_text(mm)
+        assert float(text) == mm and "e" not in text, (mm, text)
+    assert mm_text(9.0) == "9" and mm_text(0.00001) == "0.00001"
