@@ -278,9 +278,13 @@ def coaxial_returns(mech: Mechanism, chosen) -> tuple[Return, ...]:
         if not held and len(idx) == 1:
             continue  # one mesh alone between two free axes: any distance will do
         meshes = [by_wheels[frozenset((chosen[i].driver, chosen[i].driven))] for i in idx]
+        # each axis named by an arbor of these meshes on it (Mars's return runs to lay_mars,
+        # on the axis every layshaft shares, which its first arbor, lay_mercury, named)
+        arbors = [train.wheels[w].arbor for m in meshes for w in (m.driver, m.driven)]
+        a1, a2 = (next((a for a in arbors if groups[a] == g), g) for g in (g1, g2))
         out.append(Return(
             tuple(idx), tuple(m.label for m in meshes), tuple(m.module_mm for m in meshes),
-            (max(held) + min(held)) / 2 if held else None, f"{g1} and {g2}",
+            (max(held) + min(held)) / 2 if held else None, f"{a1} and {a2}",
             (max(held) - TOLERANCE_MM, min(held) + TOLERANCE_MM) if held else None))
     return tuple(out)
 

@@ -126,7 +126,7 @@ def test_a_coaxial_return_is_kept_by_every_answer(orrery):
     chain = pointer_chain(orrery, "mars")
     (ret,) = chain.returns
     assert ret.stages == (0, 1) and ret.distance_mm == pytest.approx(65, abs=0.01)
-    assert ret.text() == "mesh 5 and mesh 6 keep 65 mm between drive and lay_mercury"
+    assert ret.text() == "mesh 5 and mesh 6 keep 65 mm between drive and lay_mars"
     answers = chain_search(chain, pinions="10-60", wheels="20-160", top=20)
     assert answers[0].stages_text() == "49/50 · 51/94" and len(answers) == 20
     pairs = {(s.driver, s.driven) for s in chain.stages}

@@ -574,7 +574,7 @@ async def test_an_answer_put_in_keeps_the_orrerys_coaxial_return():
     app = make_app(demo_path("table_orrery"))
     async with app.run_test(size=(160, 50)) as pilot:
         screen = await open_teeth(pilot, app, "mars")
-        assert ("coaxial return: mesh 5 and mesh 6 keep 65 mm between drive and lay_mercury"
+        assert ("coaxial return: mesh 5 and mesh 6 keep 65 mm between drive and lay_mars"
                 in text_of(screen.query_one("#teeth-chain")))
         await run_search(pilot, app, screen, pinions="10-60", wheels="20-160")
         ol = screen.query_one("#teeth-answers", OptionList)
