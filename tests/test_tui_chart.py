@@ -104,3 +104,21 @@ async def test_no_band_when_no_curve_stays_near_it():
         assert threshold_rows(screen) == []
         said = text_of(screen.query_one("#drift-scale"))
         assert "band not drawn" in said and "no pointer stays near it" in said
+
+
+@sync
+async def test_the_chart_s_trend_is_written_as_the_readings_write_a_drift():
+    """The tide office's Sun trends some 0.0008°/cy over the span: "+0.00" said nothing, and
+    a train far off gave +67987.93 beside the readings' +67,988 (common practice, no
+    source: one way of writing a figure on every screen)."""
+    from tui.widgets import Readings
+
+    app = make_app(demo_path("tide_office"))
+    async with app.run_test(size=(160, 50)) as pilot:
+        screen = await open_chart(pilot, app)
+        table = text_of(screen.query_one("#drift-summary"))
+        for name, sm in screen.result.summaries.items():
+            row = next(line for line in table.splitlines() if f"━━ {name} " in line)
+            assert f" {Readings.drift_text(sm.drift_deg_per_century)} " in row, row
+        sun = screen.result.summaries["sun"].drift_deg_per_century
+        assert abs(sun) < 0.01 and len(Readings.drift_text(sun)) == 7  # +0.0008: 4 decimals

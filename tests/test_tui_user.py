@@ -2,6 +2,7 @@
 
 import shutil
 
+import pytest
 from textual.widgets import Footer, Input
 
 from engine.demos import demo_path
@@ -195,7 +196,8 @@ def test_the_ephemeris_span_in_years_keeps_every_digit_and_the_bc_year():
 
     assert span_years("1899-07-30 to 2053-10-08") == "1899–2053"
     # DE406's span, as engine.sky writes it (it was shown as "-300–3000" at 80 columns)
-    assert span_years("-3000-02-24 (3001 BC) to 3000-03-02") == "3001 BC–3000"
+    assert span_years("-3000-02-24 (3001 BC) to 3000-03-02") == "3001 BC–AD 3000"
+    assert span_years("-0500-01-01 (501 BC) to -0100-01-01 (101 BC)") == "501 BC–101 BC"
     assert span_years("1549-12-21 to 2650-01-25") == "1549–2650"
 
 
@@ -433,3 +435,38 @@ def test_a_pin_and_slot_length_is_offered_in_every_digit():
         text = mm_text(mm)
         assert float(text) == mm and "e" not in text, (mm, text)
     assert mm_text(9.0) == "9" and mm_text(0.00001) == "0.00001"
+
+
+def test_the_parts_and_search_screens_write_far_off_errors_whole():
+    """Errors of a train far from the sky in whole ppm and whole degrees a century, as the
+    readings write drifts from 1,000°/cy (common practice, no source); close ones keep their
+    decimals for comparing trains."""
+    from tui.editing import _drift, _ppm
+
+    assert _ppm(100_016_947.0) == "+100,016,947" and _ppm(-653_801.143) == "-653,801"
+    assert _ppm(-0.021) == "-0.021" and _ppm(1035.836) == "+1,036"
+    assert _drift(-35_644.39) == "-35,644" and _drift(461.7022) == "+461.70"
+    assert _drift(-0.0248) == "-0.0248"
+
+
+@pytest.mark.parametrize("size, days", [((80, 24), False), ((100, 30), True), ((160, 50), True)])
+@sync
+async def test_the_readings_keep_err_days_where_the_panel_has_room(size, days):
+    """The phase's error in days was left out of every narrow panel, 9 columns to spare at
+    100 × 30 included; at 80 × 24 the other columns take all 42. The columns line up with
+    their headers (common practice, no source)."""
+    from tui.widgets import Readings
+
+    app = make_app(demo_path("tide_office"))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        readings = app.screen.query_one(Readings)
+        lines = [readings.render_line(y).text.rstrip() for y in range(readings.size.height)]
+        head, phase = lines[0], next(line for line in lines if line.startswith("phase"))
+        assert (head.endswith("days") and phase.endswith("+0.00")) == days, lines
+        sun = next(line for line in lines if line.startswith("sun"))
+        assert len(head.split()) == len(phase.split()) + 2 * ("err days" in head)  # two words
+        # the drift's right edge under its header's, at every size
+        drift_head = "°/cy"
+        end = head.index(drift_head) + len(drift_head)
+        assert sun[:end].rstrip() == sun[:end] and sun[end:end + 1] in ("", " "), (head, sun)

@@ -98,12 +98,20 @@ def _ratio(r) -> str:
 
 
 def _ppm(x: float) -> str:
-    return "—" if not math.isfinite(x) else f"{x:+,.3f}"
+    """A period error: thousandths of a ppm to compare trains close to the sky, whole ppm
+    from 1,000 (+100,016,947, not +100,016,947.000)."""
+    if not math.isfinite(x):
+        return "—"
+    return f"{x:+,.0f}" if abs(x) >= 999.9995 else f"{x:+,.3f}"
 
 
 def _drift(x: float) -> str:
+    """A drift per century: four decimals under 1°/cy, two to 1,000, whole degrees from there
+    (as the readings write it)."""
     if not math.isfinite(x):
         return "—"
+    if abs(x) >= 999.995:
+        return f"{x:+,.0f}"
     return f"{x:+,.4f}" if abs(x) < 1 else f"{x:+,.2f}"
 
 
@@ -919,7 +927,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         mark = ("  (as now)" if same else
                 "  (ratio as now)" if ratio_now is not None and a.ratio == ratio_now else "")
         return Text.assemble((a.stages_text().ljust(width), "bold"),
-                             f"  {_ppm(a.period_error_ppm):>9} ppm  "
+                             f"  {_ppm(a.period_error_ppm):>10} ppm  "
                              f"{_drift(a.drift_deg_per_century):>9} °/cy  "
                              f"{a.result.total_teeth:>4} teeth",
                              (mark, "#98c379"))

@@ -126,7 +126,9 @@ def long_help(b: Binding) -> str:
 
 
 #: the key to the red numbers in the train drawing
-TRAIN_KEY = "[bold #e06c75]+98.5[/] = turns since epoch, for arbors too fast to draw"
+#: the drawing's key: an arbor too fast to follow by eye shows its turns as a red count (an
+#: example figure here, +98.5, read as a real count at turn 0 beside wheels standing still)
+TRAIN_KEY = "[bold #e06c75]+N[/] in red = turns since epoch, for arbors too fast to draw"
 
 #: Bench keys the footer drops on narrower screens, by the width they need (every key stays
 #: in help and the command palette). At 80 columns the footer keeps crank ±1, run, date,
@@ -1294,7 +1296,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         for name, sm in result.summaries.items():
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       f"{sm.max_abs_deg:.2f}", format_day(sm.max_at_jd),
-                      f"{sm.rms_deg:.2f}", f"{sm.drift_deg_per_century:+.2f}", crossing(sm))
+                      f"{sm.rms_deg:.2f}", Readings.drift_text(sm.drift_deg_per_century),
+                      crossing(sm))  # a trend as the readings write a drift: +0.0008, +67,988
         self._summary(t)
 
     def action_back(self) -> None:

@@ -763,14 +763,18 @@ def _disc_caption(elongation_deg: float, lit: float, width: int) -> str:
 
 def span_years(span: str) -> str:
     """An ephemeris span in years only: ``1899-07-30 to 2053-10-08`` → ``1899–2053``; a
-    start before year 1 keeps its BC year (``-3000-02-24 (3001 BC) to …`` → ``3001 BC–…``)."""
+    start before year 1 keeps its BC year, and then the end its AD (``-3000-02-24 (3001 BC)
+    to 3000-03-02`` → ``3001 BC–AD 3000``: "3001 BC–3000" read as a span of BC years)."""
     def year(day: str) -> str:
         if "(" in day:
             return day[day.index("(") + 1:day.index(")")]
         return day.split(" ")[0].rsplit("-", 2)[0]
 
     start, _, end = span.partition(" to ")
-    return f"{year(start)}–{year(end)}"
+    first, last = year(start), year(end)
+    if first.endswith(" BC") and not last.endswith(" BC"):
+        last = f"AD {last.lstrip('0') or '0'}"
+    return f"{first}–{last}"
 
 
 def _under_discs(left: str, right: str, width: int) -> str:
@@ -970,6 +974,10 @@ class Readings(RowStatic):
         self._laid_out = False
         if self._now is not None:
             self.show(self._now)
+            # the rows of the old width (51 at 100 x 30, err days included) were measured at
+            # the new one while the terminal shrank: lay out again once that pass is done,
+            # or the panel kept their wrapped height and pushed the warnings off the column
+            self.call_after_refresh(self.refresh, layout=True)
 
     def worst_key(self, narrow: bool, width: int) -> str:
         col = "max°" if narrow else "worst°"
@@ -982,8 +990,13 @@ class Readings(RowStatic):
     #: (header, width) per column, narrow and wide; a negative width is left-aligned. Every
     #: number is written after at least one space, so two never run together: a value wider
     #: than its column pushes the rest of the row right, and a row too long wraps.
-    NARROW = (("pointer", -8), ("train°", 6), ("sky°", 6), ("err°", 7), ("max°", 6),
-              ("°/cy", 7))  # 41 wide: the header's train° and a drift of +0.0008 push one
+    NARROW = (("pointer", -7), ("train°", 7), ("sky°", 6), ("err°", 7), ("max°", 6),
+              ("°/cy", 8))  # 41 wide, the parts screen's readings at 80 x 24 (the bench's
+    # are 42, a name column of 8): the header's train° and a drift of +0.0008 or +67,988 in
+    # their columns (one wider pushed its row right, so the headers stood a column off the
+    # figures and the drifts' right edges ragged)
+    NARROW_WIDTH = 41
+    DAYS = ("days", 8)  # the narrow panel's err days, when it has the room
     WIDE = (("pointer", -9), ("train°", 8), ("sky°", 8), ("err°", 8), ("worst°", 8),
             ("drift °/cy", 11), ("err days", 9))
 
@@ -1010,6 +1023,13 @@ class Readings(RowStatic):
         self._now = now
         narrow = bool(self.size.width) and self.size.width < 61  # the wide columns need 61
         cols = self.NARROW if narrow else self.WIDE
+        # err days in a narrow panel too when it has the room (51 columns at 100 x 30; at
+        # 80 x 24 the six columns take all 42) and a pointer has it (phase, eclipse ring)
+        days_col = not narrow or (
+            self.size.width >= self.NARROW_WIDTH + self.DAYS[1]
+            and any(p.error_days is not None for p in now.pointers.values()))
+        if narrow and days_col:
+            cols = cols + (self.DAYS,)
         w = [c[1] for c in cols]
         colours = ui(self)
         head = f"bold {colours['muted']}"
@@ -1020,9 +1040,10 @@ class Readings(RowStatic):
 
         # the name column takes what the panel has beyond the columns (61 wide, 41 narrow),
         # up to the longest name; names still too long are cut so that no two read alike
-        spare = max(0, self.size.width - (41 if narrow else 61))
+        spare = max(0, self.size.width - sum(abs(c[1]) for c in cols))
         shown = [p.name for p in now.pointers.values()]
-        name_w = max(-w[0], min(-w[0] + spare, max(map(len, shown), default=0)))
+        gap = 1 if narrow else 0  # a narrow panel's name column is one short of a gap
+        name_w = max(-w[0], min(-w[0] + spare, max(map(len, shown), default=0) + gap))
         names = short_names(shown, name_w)
         t.append(f"{cols[0][0]:<{name_w}}", style=head)
         for title, width in cols[1:]:
@@ -1037,7 +1058,7 @@ class Readings(RowStatic):
             cell(f"{err:+.2f}", w[3], _err_style(err, colours))
             cell(f"{p.worst_deg:.2f}", w[4], _err_style(p.worst_deg, colours))
             cell(self.drift_text(p.drift_deg_per_century), w[5])
-            if not narrow:
+            if days_col:
                 days = p.error_days
                 if days is not None and abs(days) < 0.005:
                     days = 0.0
