@@ -348,6 +348,15 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                        "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
                       for t in plate.ties]}
     part.notes.extend(plate.notes)
+    holes = list(plate.holes.values())
+    for i, a in enumerate(holes):  # two pivot holes closer than a pivot run into one another
+        for b in holes[i + 1:]:
+            d = math.hypot(a.x_mm - b.x_mm, a.y_mm - b.y_mm)
+            if d < pivot:
+                part.notes.append(
+                    f"the holes of {a.axis} and {b.axis} are {figure(d, 4)} mm apart, centre to "
+                    f"centre, at {figure(pivot, 6)} mm pivots: they run into one another and "
+                    "hold neither arbor; pivot one of them in a cock or bridge of its own")
     shared = [h.axis for h in plate.holes.values() if len(h.arbors) > 1]
     if shared:
         part.notes.append(f"{'holes' if len(shared) > 1 else 'the hole'} for arbors sharing an "

@@ -603,3 +603,14 @@ def test_a_watch_fine_module_is_written_in_plain_figures(tmp_path, capsys):
     text = capsys.readouterr().out
     assert "e-0" not in text and "0.00005" in text
     assert "module 0.00005," in (out / "wheel-b1.svg").read_text()
+
+
+def test_pivot_holes_that_run_into_one_another_are_said(tmp_path, capsys):
+    # The tide office's pin-and-slot axes are its offset, 0.985 mm, apart on the carrier's
+    # plate, and each pivot hole is 1 mm across: cut, the two holes are one figure-of-eight
+    # hole holding neither arbor (plane geometry: 0.985 < 0.5 + 0.5); drawn without a word
+    assert main(["cut", "tide_office", "--out", str(tmp_path / "t"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    (note,) = [n for n in parts["plate-perigee_carrier"]["notes"] if "run into" in n]
+    assert note.startswith("the holes of pin_arbor and slot_arbor are 0.985 mm apart")
+    assert not any("run into" in n for n in parts["plate-frame"]["notes"])
