@@ -470,3 +470,18 @@ async def test_the_readings_keep_err_days_where_the_panel_has_room(size, days):
         drift_head = "°/cy"
         end = head.index(drift_head) + len(drift_head)
         assert sun[:end].rstrip() == sun[:end] and sun[end:end + 1] in ("", " "), (head, sun)
+
+
+@sync
+async def test_a_short_pointer_name_leaves_the_header_its_gap():
+    """The moon disc's one pointer, 'phase': the narrow header read "pointer train°", its
+    first two words one space apart where every other gap is two (common practice, no
+    source)."""
+    from tui.widgets import Readings
+
+    app = make_app(demo_path("moon_disc_59"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        readings = app.screen.query_one(Readings)
+        head = readings.render_line(0).text
+        assert head.startswith("pointer  train°"), head

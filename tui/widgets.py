@@ -1043,7 +1043,8 @@ class Readings(RowStatic):
         spare = max(0, self.size.width - sum(abs(c[1]) for c in cols))
         shown = [p.name for p in now.pointers.values()]
         gap = 1 if narrow else 0  # a narrow panel's name column is one short of a gap
-        name_w = max(-w[0], min(-w[0] + spare, max(map(len, shown), default=0) + gap))
+        longest = max([len(cols[0][0]), *map(len, shown)])  # the header's "pointer" too
+        name_w = max(-w[0], min(-w[0] + spare, longest + gap))
         names = short_names(shown, name_w)
         t.append(f"{cols[0][0]:<{name_w}}", style=head)
         for title, width in cols[1:]:
