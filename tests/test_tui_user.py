@@ -485,3 +485,23 @@ async def test_a_short_pointer_name_leaves_the_header_its_gap():
         readings = app.screen.query_one(Readings)
         head = readings.render_line(0).text
         assert head.startswith("pointer  train°"), head
+
+
+@sync
+async def test_the_tooth_search_lists_a_long_pointer_name_on_one_line(tmp_path):
+    """A pointer named phase_of_the_moon_disc (22 letters) was listed as 'phase_of_the_moo' /
+    'n_disc' in the search's pointer list, 20 cells wide (common practice, no source)."""
+    train = (demo_path("moon_disc_59").read_text()
+             .replace("[pointers.phase]", "[pointers.phase_of_the_moon_disc]"))
+    path = tmp_path / "long_name.toml"
+    path.write_text(train)
+    app = make_app(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.press("ctrl+f")
+        await pilot.pause()
+        await pilot.pause()
+        pointers = app.screen.query_one("#teeth-pointers")
+        lines = [pointers.render_line(y).text for y in range(pointers.size.height)]
+        assert any("phase_of_the_moon_disc" in line for line in lines), lines

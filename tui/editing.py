@@ -724,6 +724,9 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         ol = self.query_one("#teeth-pointers", OptionList)
         names = list(self.editor.mech.train.pointers)
         ol.add_options([Option(Text(n), id=n) for n in names])
+        # wide enough for the longest name (its border and margin, 4 cells), up to 32: a
+        # name of 22 letters was broken over two lines in the stylesheet's 20
+        ol.styles.width = min(max(20, max(map(len, names), default=0) + 4), 32)
         if self.pointer is not None:
             ol.highlighted = names.index(self.pointer)
         self._title()
