@@ -188,6 +188,15 @@ def pointer_chain(mech: Mechanism, pointer: str, frame: str | None = None,
     cuttable = [s for s in meshes if s.reference == FRAME and not s.internal
                 and count[s.driver] == 1 and count[s.driven] == 1]
     if not cuttable:
+        two = [ps for ps in train.pin_slots.values()
+               if ps.slot_arbor == p.arbor and ps.carrier is not None]
+        if two:  # a two-circle hand: its motion is set by the circles that carry the pin
+            ps = two[0]
+            raise SearchError(
+                f"pointer '{pointer}': a two-circle hand, driven by the pin-and-slot "
+                f"'{ps.name}', whose pin rides the epicycle '{ps.pin_arbor}' on the deferent "
+                f"'{ps.carrier}': its motion is set by the wheels that turn those two, not by a "
+                "chain of its own; change those wheels in the parts list")
         raise SearchError(f"pointer '{pointer}': no plain mesh on the frame leads from the crank "
                           "to its arbor, so there is no chain to search; change its wheels in "
                           "the parts list")
