@@ -24,6 +24,7 @@ from pathlib import Path
 
 import numpy as np
 
+from engine.figures import figure
 from engine.search import make_constraints, make_target, search
 
 CYCLE = "synodic month"
@@ -103,9 +104,9 @@ def main() -> None:
         agree = abs(o_err - b_err) <= 1e-9 * max(b_err, 1e-300) and best.total_teeth == b_teeth
         pairs = len(list(itertools.combinations_with_replacement(counts, k))) ** 2
         print(f"  {k} stages of {lo}-{hi} teeth ({pairs:,} pairs of products)")
-        print(f"    numpy brute force {t_brute:8.3f} s   best {b_err * 1e6:.6g} ppm, "
+        print(f"    numpy brute force {t_brute:8.3f} s   best {figure(b_err * 1e6, 6)} ppm, "
               f"{b_teeth} teeth")
-        print(f"    search            {t_ours:8.3f} s   best {o_err * 1e6:.6g} ppm, "
+        print(f"    search            {t_ours:8.3f} s   best {figure(o_err * 1e6, 6)} ppm, "
               f"{best.total_teeth} teeth")
         print(f"    speed ratio       {t_brute / t_ours:8.1f} x   agree: "
               f"{'yes' if agree else 'NO'}")
@@ -117,7 +118,7 @@ def main() -> None:
                 f"{'met' if r['seconds'] <= GOAL_S and r['peak_mb'] <= GOAL_MB else 'NOT met'})"
                 if k == 4 else "")
         print(f"  {k} stages  {r['seconds']:8.3f} s   peak {r['peak_mb']:7.1f} MB   "
-              f"best {r['best']} ({r['ppm']:+.3g} ppm){goal}")
+              f"best {r['best']} ({figure(r['ppm'], 3, sign=True)} ppm){goal}")
 
 
 if __name__ == "__main__":
