@@ -622,7 +622,8 @@ def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | No
     """The drift line fitted jointly with the sky's known swings ``terms`` (see
     :func:`engine.fitting.fit_line_and_sinusoids`): a term is fitted once the span holds
     ``TERM_MIN_CYCLES`` of its periods, and a left-out one of ``MINOR_TERMS`` widens the
-    slope's standard error by its largest possible tilt."""
+    slope's standard error by its largest possible tilt; any other left out for being longer
+    than the span widens it by the largest tilt a swing of the size fitted to it can give."""
     return fit_line_and_sinusoids(resid, step_days, terms, cache=cache, all_terms=all_terms,
                                   min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS)
 

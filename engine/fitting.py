@@ -315,7 +315,11 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
     freedom counted from its sign changes (one independent value per change, plus one):
     the residual of a real series is smooth, not independent from date to date, and this
     counts a leftover swing of period P as one value per half period. A left-out term of
-    ``minor`` (``{name: amplitude}``) adds its largest possible tilt of the line. It is a guide
+    ``minor`` (``{name: amplitude}``) adds its largest possible tilt of the line. Any other
+    term left out for being longer than the span adds the largest tilt a swing of its period
+    can give the line at the amplitude fitted to it with the line (the line takes up part of
+    such a swing, so the residual alone understates the error); infinite when the span shows
+    too little of its curve to fit one. It is a guide
     to the size of the uncertainty, not a bound: other variations slower than the span are
     indistinguishable from the line's slope and not in it.
     """
@@ -367,12 +371,46 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
     minor = minor or {}
     for name, period in terms:
         if name in left and name in minor:
-            sigma = math.hypot(sigma, minor[name] * _worst_tilt(len(resid), step_days, period))
+            sigma = math.hypot(sigma, minor[name] * worst_tilt(len(resid), step_days, period))
+        elif name in left and span < min_cycles * period and period >= 2 * step_days:
+            # a swing longer than the span: the line takes up part of it, and the residual
+            # about the line says nothing of how much. Its amplitude, fitted with the line,
+            # and the most a swing of that size can tilt a line over the span
+            amp = _unresolved_amplitude(b, res, tuple(ws), 2 * np.pi * step_days / period)
+            sigma = math.hypot(sigma, amp * worst_tilt(len(resid), step_days, period))
     a = float(coef[0]) - slope * mid
     return LineFit((a, slope), slope, sigma, tuple(used), tuple(left), b)
 
 
-def _worst_tilt(n: int, step_days: float, period_days: float) -> float:
+def _unresolved_amplitude(b: _Binned, res: np.ndarray, ws: tuple[float, ...],
+                         w: float) -> float:
+    """Amplitude of the sinusoid of frequency ``w`` (radians per grid step, less than a
+    cycle over the span) fitted jointly with the line and the sinusoids ``ws`` to the bins,
+    made from ``res``, the bins' residual about the fit of the line and ``ws`` alone (the
+    added columns' coefficients are the same, with far less rounding to magnify): the design
+    written out (a few columns) and its small normal matrix solved, the columns
+    taken about the span's middle so that a part cycle stays well conditioned; infinite when
+    the span holds too little of the cycle to tell the sinusoid from the line at all."""
+    mid, half = (b.c[0] + b.c[-1]) / 2.0, max((b.c[-1] - b.c[0]) / 2.0, 1.0)
+    t = b.c - mid
+    cols = [np.ones_like(t), t / half]
+    for v in ws:
+        z = _phasor(b.c, v)
+        cols += [z.real, z.imag]
+    cols += [np.cos(w * t), np.sin(w * t)]
+    x = np.array(cols)
+    if len(b.y) < len(x) + 2:
+        return math.inf
+    g = np.einsum("ik,jk->ij", x, x)  # small: terms × terms
+    scale = np.sqrt(np.diag(g))
+    gs = g / np.outer(scale, scale)  # small: terms × terms
+    if np.linalg.cond(gs) > 1e12:
+        return math.inf
+    coef = np.linalg.solve(gs, np.einsum("ik,k->i", x, res) / scale) / scale  # small
+    return float(math.hypot(coef[-2], coef[-1]))
+
+
+def worst_tilt(n: int, step_days: float, period_days: float) -> float:
     """Largest slope (per grid step) that a unit sinusoid of ``period_days``, at its worst
     phase, gives a least-squares line over ``n`` grid dates."""
     t = np.linspace(-0.5, 0.5, 257) * (n - 1)  # grid steps about the middle
