@@ -351,6 +351,18 @@ def test_cli_report_has_units_and_safety_line(capsys):
     assert "solar filter" in out
 
 
+def test_csv_writes_no_negative_zero(tmp_path):
+    """An error that rounds to nothing is written 0.000000, never -0.000000 (the planet dial's
+    Sun at its epoch came out -0.000000 beside 0.000000 for Venus). Common practice, no
+    source."""
+    path = tmp_path / "pd.csv"
+    assert main(["drift", "planet_dial", "--years", "1", "--step", "1d", "--csv", str(path)]) == 0
+    text = path.read_text()
+    row = dict(zip(text.splitlines()[0].split(","), text.splitlines()[1].split(","), strict=True))
+    assert row["sun_error_deg"] == row["venus_error_deg"] == "0.000000"
+    assert not re.search(r"(^|,)-0\.0+(,|$)", text, re.M)
+
+
 def test_cli_csv_and_no_overwrite(tmp_path, capsys):
     path = tmp_path / "disc.csv"
     assert main(["drift", DISC, "--years", "1", "--step", "1d", "--csv", str(path)]) == 0

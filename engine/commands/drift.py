@@ -192,6 +192,10 @@ class _CsvSink:
         fmt = self.row
         text = "".join([fmt % (format_jd(row[0]).split(" UT")[0], *row)
                         for row in zip(*cols, strict=True)])
+        # a value that rounds to nothing from below is written 0.000000, not -0.000000: the
+        # fields are fixed at six places and only a field starts with a minus, so the text
+        # "-0.000000" is only ever such a field
+        text = text.replace("-0.000000", "0.000000")
         self._write(lambda: self.fh.write(text))
 
     def finish(self):
