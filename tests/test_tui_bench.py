@@ -479,3 +479,29 @@ def test_a_year_step_on_a_motor_shaft_crank(tmp_path):
     start = session.jd_now()
     session.crank(session.step)  # what + does
     assert session.jd_now() - start == pytest.approx(365.25, abs=1e-6)
+
+
+# --- the run line's speed --------------------------------------------------------------------------
+
+@pytest.mark.parametrize("size", [SMALL, LARGE])
+@sync
+async def test_run_line_speed_in_plain_figures_and_singular_for_one(size):
+    """"1 turn/s", not "1 turns/s"; a quarter turn and a thousand in plain figures, never
+    e-notation (common practice, no source)."""
+    from tui.session import SPEEDS
+
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        seen = {}
+        for speed in (1.0, 0.25, 1000.0):
+            app.session.speed_index = SPEEDS.index(speed) + 1
+            await pilot.press("comma")
+            await pilot.pause()
+            seen[speed] = next(line for line in status_lines(app) if line.startswith("run"))
+        if size == LARGE:
+            assert "  1 turn/s" in seen[1.0]
+            assert "0.25 turns/s" in seen[0.25] and "1,000 turns/s" in seen[1000.0]
+        else:
+            assert "  1/s" in seen[1.0] or "  1 turn/s" in seen[1.0]
+            assert "1,000" in seen[1000.0]
+        assert not any("turns/s" in seen[1.0] or "e+" in line for line in seen.values())

@@ -1129,7 +1129,9 @@ class Status(RowStatic):
         back = s.direction < 0
         state = ("◀ running back" if back else "▶ running") if running else "■ paused"
         brief = ("◀ back" if back else "▶ run") if running else "■ paused"
-        speed, per_s = f"  {s.speed_turns_per_s:g} turns/s", f"  {s.speed_turns_per_s:g}/s"
+        rate = figure(s.speed_turns_per_s)
+        noun = "turn" if s.speed_turns_per_s == 1 else "turns"
+        speed, per_s = f"  {rate} {noun}/s", f"  {rate}/s"
         days = s.mech.train.crank.days_per_turn
         long_turn, short_turn = f"  {s.turn_days}", f"  {turn_days_text(days, short=True)}"
         # "1 turn = N days" always in view: shorter words first, then a line of its own
