@@ -122,3 +122,38 @@ async def test_the_chart_s_trend_is_written_as_the_readings_write_a_drift():
             assert f" {Readings.drift_text(sm.drift_deg_per_century)} " in row, row
         sun = screen.result.summaries["sun"].drift_deg_per_century
         assert abs(sun) < 0.01 and len(Readings.drift_text(sun)) == 7  # +0.0008: 4 decimals
+
+
+# --- the x axis's tick labels ------------------------------------------------------------------
+
+def x_tick_labels(screen) -> list[str]:
+    """The words on the x axis's tick row (the plot's bottom margin), as drawn."""
+    margin = screen.query_one(PlotWidget).query_one("#margin-bottom", Canvas)
+    return "".join(canvas_rows(margin)[0][0]).split()
+
+
+@sync
+async def test_x_tick_labels_are_never_cut_at_the_chart_edges():
+    """At every width from 80 to 160 columns each label on the x axis is a whole tick label
+    (a year the axis ticks), never one cut at the chart's edge ("-20" for "-200"): a label
+    that would run off is left out (a layout choice, common practice, no source)."""
+    from textual_plot import NumericAxisFormatter
+
+    from engine.dates import parse_date
+    from engine.view import decimal_year
+
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        # a span ending a month past a round year: that year's tick stands at the right edge
+        app.session.go_to(parse_date("1950-02-01"))
+        screen = await open_chart(pilot, app)
+        years = decimal_year(screen.result.jd)
+        _, whole = NumericAxisFormatter().get_ticks_and_labels(float(years[0]),
+                                                               float(years[-1]))
+        for width in range(80, 161):
+            await pilot.resize_terminal(width, 24)
+            await pilot.pause()
+            await pilot.pause()
+            drawn = x_tick_labels(screen)
+            assert drawn, width
+            assert set(drawn) <= set(whole), (width, drawn, whole)

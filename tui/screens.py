@@ -61,6 +61,7 @@ from .widgets import (
     SkyDial,
     Status,
     TrainView,
+    WholeTickLabels,
     ui,
 )
 
@@ -1009,6 +1010,7 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         yield Static("", id="drift-title")
         plot = PlotWidget(id="drift-plot", allow_pan_and_zoom=False)
         plot.can_focus = False  # the screen's keys, not the plot's pan and zoom
+        plot.set_x_formatter(WholeTickLabels(plot))  # no tick label cut at the edges
         yield plot
         with Horizontal(id="drift-progress-row"):
             yield ProgressBar(total=100, show_eta=False, id="drift-progress")

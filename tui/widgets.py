@@ -17,6 +17,7 @@ from textual.visual import Visual
 from textual.widget import Widget
 from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
+from textual_plot import NumericAxisFormatter
 
 from engine.dates import format_jd, turn_days_text
 from engine.figures import figure
@@ -1322,3 +1323,45 @@ class EclipseInfo(Static):
             t.append(glyph, style=f"reverse bold {hue}" if k == 0 else hue)
         t.append(label, style="bold")
         return t
+
+
+class WholeTickLabels(NumericAxisFormatter):
+    """The drift chart's x axis ticks (years), leaving out a tick whose label the plot's edge
+    would cut ("-20" for "-200"): a tick just inside the end of the span has its label
+    centred on it, and half of it would run past the last column.
+
+    Where a label lands mirrors textual-plot's drawing (the scale runs from the plot canvas's
+    second cell to its last but one, right of ``margin_left``; a label is centred on its tick,
+    one cell right when it has an even length, and right-aligned on a tick at the very end),
+    read at each drawing from the widget's public size and margin, so a resize is followed.
+    tests/test_tui_chart.py fails when a release draws them elsewhere."""
+
+    def __init__(self, plot: Widget) -> None:
+        self._plot = plot
+        self._step: float | None = None
+
+    def get_ticks(self, min_: float, max_: float, max_ticks: int = 8) -> list[float]:
+        ticks = super().get_ticks(min_, max_, max_ticks)
+        self._step = ticks[1] - ticks[0] if len(ticks) >= 2 else None
+        width, left = self._plot.size.width, int(self._plot.margin_left)
+        cells = width - left - 2  # the scale's cells
+        if cells <= 0 or max_ <= min_:
+            return ticks
+        kept = []
+        for tick, label in zip(ticks, self.get_labels_for_ticks(ticks), strict=True):
+            x = left + math.floor(1 + (tick - min_) / (max_ - min_) * cells)
+            n = len(label)
+            if tick == max_:
+                start = x - (n - 1)
+            else:
+                start = x - (1 if tick == min_ else 0) - n // 2 + (1 - n % 2)
+            if 0 <= start and start + n <= width:
+                kept.append(tick)
+        return kept
+
+    def get_labels_for_ticks(self, ticks) -> list[str]:
+        """The labels at the decimals of the full set's spacing, even with an end left out."""
+        if self._step is None or len(ticks) >= 2:
+            return super().get_labels_for_ticks(ticks)
+        decimals = -min(0, math.floor(math.log10(self._step)))
+        return [f"{t:.{decimals}f}" for t in ticks]
