@@ -96,3 +96,51 @@ def test_eclipse_text_fits_narrow_and_wide(width):
     app.session.go_to(parse_date("2026-03-02 12:00"))
     text = EclipseInfo.text(app.session.now(), width)
     assert "full moon" in text.plain and "total lunar" in text.plain
+
+
+# --- a cycle dial's whole months off the real count ----------------------------------------------
+
+FAST_RING = """
+[train]
+name = "Fast ring"
+[crank]
+arbor = "ring"
+days_per_turn = "6574.5"   # 223 months in 18 Julian years: 10.8 days too quick a turn
+[epoch]
+date = "1950-01-01"
+set = "sky"
+[arbors.ring]
+wheels = { ring_wheel = 60 }
+[pointers.months]
+shows = "cycle"
+arbor = "ring"
+lunations = 223
+"""
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 50)])
+@sync
+async def test_readings_say_the_whole_months_a_cycle_dial_is_off(tmp_path, size):
+    """The readings' err° of a cycle dial is within the month; the whole months it stands
+    from the real count are said under the table, as the engine gives them
+    (engine.drift.whole_months_off): the ring of tests/test_drift.py, 223 months in 18 Julian
+    years, is two lunations ahead in 2045 and one behind in 1905 (skyfield's own new moons
+    there), none at its epoch."""
+    from tui.widgets import Readings
+
+    path = tmp_path / "fast_ring.toml"
+    path.write_text(FAST_RING, encoding="utf-8")
+    app = make_app(path)
+    async with app.run_test(size=size) as pilot:
+        said = {}
+        for date in ("1950-01-02", "2045-01-01", "1905-01-01"):
+            await pilot.press("g")
+            await pilot.pause()
+            app.screen.query_one("#date-input").value = date
+            await pilot.press("enter")
+            await pilot.pause()
+            await pilot.pause()
+            said[date] = " ".join(text_of(app.screen.query_one(Readings)).split())
+        assert "real count" not in said["1950-01-02"]
+        assert "months: 2 months ahead of the real count" in said["2045-01-01"]
+        assert "months: 1 month behind the real count" in said["1905-01-01"]

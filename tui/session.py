@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from engine.dates import format_jd, jd_now, turn_days_text
-from engine.drift import pointer_errors
+from engine.drift import pointer_errors, whole_months_off
 from engine.eclipses import EclipseNow, EclipseWatch, cycle_pointer, cycle_position, limit_arcs
 from engine.eclipses import limits as eclipse_limits
 from engine.errors import SkyError, WheelworkError
@@ -90,6 +90,9 @@ class PointerNow:
     error_days: float | None
     worst_deg: float
     drift_deg_per_century: float | None
+    #: a cycle dial's whole months from the real lunation count (positive: ahead), which
+    #: ``error_deg`` (within the month) does not show; None for other pointers
+    months_off: int | None = None
 
 
 @dataclass(frozen=True)
@@ -464,12 +467,16 @@ class Session:
             worst = max(self.worst_deg.get(name, 0.0), abs(err))
             self.worst_deg[name] = worst
             days = e.error_days
+            shows = self.mech.train.pointers[name].shows
+            months = (int(whole_months_off(self.readout, name, self.frame, np.array([jd]),
+                                           np.asarray(e.error_deg, float))[0])
+                      if shows == "cycle" else None)
             pointers[name] = PointerNow(
                 name=name, shows=self.mech.train.pointers[name].shows,
                 train_deg=_one(e.train_deg), sky_deg=_one(e.sky_deg),
                 error_deg=err,
                 error_days=None if days is None else _one(days),
-                worst_deg=worst, drift_deg_per_century=drift.get(name))
+                worst_deg=worst, drift_deg_per_century=drift.get(name), months_off=months)
         angles = {n: float(np.asarray(v).reshape(-1)[0])
                   for n, v in self.mech.kin.angles_turns(self.turns).items()}
         moved, self._moved = self._moved, 0.0

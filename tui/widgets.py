@@ -1065,6 +1065,15 @@ class Readings(RowStatic):
                 if days is not None and abs(days) < 0.005:
                     days = 0.0
                 cell("" if days is None else f"{days:+.2f}", w[6])
+        # a cycle dial's err° is taken within the month: the whole months it stands from
+        # the real count (the engine's figure) said under the table, when there are any
+        for p in now.pointers.values():
+            if p.months_off:
+                k = p.months_off
+                t.append("\n")
+                t.append(f"{names[p.name]}: {abs(k)} month{'s' if abs(k) != 1 else ''} "
+                         f"{'ahead of' if k > 0 else 'behind'} the real count",
+                         style=colours["warn"])
         # same rows every frame: lay out again only after a resize, or when a row starts or
         # stops wrapping (a value grew wider than its column)
         if not self._laid_out and self.parent is not None and self.size.width:
