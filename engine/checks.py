@@ -21,7 +21,7 @@ import numpy as np
 
 from .defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY, FACE_M  # with their sources
 from .figures import figure
-from .kinematics import Kinematics
+from .kinematics import Kinematics, axis_groups
 from .mechanism import Mechanism, train_and_kin
 from .periods import PERIODS, SECONDS_PER_DAY
 from .train import FRAME, Train
@@ -371,7 +371,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     report.meshes = _meshes(train, kin, upstream, report.arbors, crank_rpm, findings,
                             real_time=bool(real_time))
     modules = _wheel_modules(train, findings)
-    groups = _axis_groups(train, kin)
+    groups = axis_groups(train, kin)
     _shared_axes(train, groups, findings)
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
@@ -617,23 +617,6 @@ def _wheel_modules(train: Train, findings: list[Finding]) -> dict[str, float]:
             else:
                 modules.setdefault(w, (m.module_mm, m.index))
     return {w: v[0] for w, v in modules.items()}
-
-
-def _axis_groups(train: Train, kin: Kinematics) -> dict[str, str]:
-    """Arbors sharing one axis: ``axis_with``, and an arbor meshing with a wheel on a carrier
-    while sitting on the carrier's own mount (a sun wheel on the carrier's axis)."""
-    parent = {n: n for n in train.arbors}
-    find = _finder(parent)
-    for a in train.arbors.values():
-        if a.axis_with:
-            parent[find(a.name)] = find(a.axis_with)
-    for f in kin.mesh_frames:
-        if f.reference == FRAME:
-            continue
-        for x in (f.arbor1, f.arbor2):
-            if x != f.reference and train.arbors[x].mount == train.arbors[f.reference].mount:
-                parent[find(x)] = find(f.reference)
-    return {n: find(n) for n in train.arbors}
 
 
 def _axis_names(train: Train, groups: dict[str, str], root: str) -> str:

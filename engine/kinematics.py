@@ -206,6 +206,32 @@ class Kinematics:
         return {name: self.evaluate(lin, turns, lags) for name, lin in self.linear.items()}
 
 
+def axis_groups(train: Train, kin: Kinematics) -> dict[str, str]:
+    """Which arbors share one axis: every arbor's name mapped to one name standing for its
+    axis (the same for all arbors on that axis). Arbors share an axis by ``axis_with``, and
+    an arbor meshing with a wheel on a carrier while sitting on the carrier's own mount
+    shares the carrier's axis (a sun wheel on the carrier's axis: the solver reckons that
+    mesh relative to the carrier). Read by the check, the plate and the re-chaining search."""
+    parent = {n: n for n in train.arbors}
+
+    def find(n: str) -> str:
+        while parent[n] != n:
+            parent[n] = parent[parent[n]]
+            n = parent[n]
+        return n
+
+    for a in train.arbors.values():
+        if a.axis_with:
+            parent[find(a.name)] = find(a.axis_with)
+    for f in kin.mesh_frames:
+        if f.reference == FRAME:
+            continue
+        for x in (f.arbor1, f.arbor2):
+            if x != f.reference and train.arbors[x].mount == train.arbors[f.reference].mount:
+                parent[find(x)] = find(f.reference)
+    return {n: find(n) for n in train.arbors}
+
+
 def mesh_reference(train: Train, a1: str, a2: str) -> str | None:
     """The arbor (or frame) that holds both axes of a mesh between arbors ``a1`` and ``a2``.
 

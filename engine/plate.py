@@ -19,10 +19,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .checks import TOLERANCE_MM, _axis_groups, centre_distance_mm
+from .checks import TOLERANCE_MM, centre_distance_mm
 from .errors import PlacementError
 from .figures import figure
-from .kinematics import Kinematics
+from .kinematics import Kinematics, axis_groups
 from .train import FRAME, Train
 
 EXACT_MM = 1e-6
@@ -82,7 +82,7 @@ def _axis_label(train: Train, groups: dict[str, str], root: str) -> str:
 def place_plates(train: Train, kin: Kinematics, reach_mm: dict[str, float]) -> list[Plate]:
     """Place every plate's holes. ``reach_mm`` is each wheel's tip radius (wheels without a
     module are left out). Raises :class:`PlacementError` when no placement exists."""
-    groups = _axis_groups(train, kin)
+    groups = axis_groups(train, kin)
     label = {g: _axis_label(train, groups, g) for g in set(groups.values())}
     # which plate each axis belongs to: the mount of its arbors (a sun arbor on the frame that
     # is coaxial with a carrier is the carrier plate's centre, and also a hole in the frame)

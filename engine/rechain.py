@@ -39,12 +39,12 @@ from fractions import Fraction
 
 import numpy as np
 
-from .checks import TOLERANCE_MM, _axis_groups, centre_distance_mm
+from .checks import TOLERANCE_MM, centre_distance_mm
 from .edit import forbidden_factors
 from .errors import SearchCancelled, SearchError, TrainError
 from .figures import figure
 from .kinds import KINDS
-from .kinematics import solve
+from .kinematics import axis_groups, solve
 from .mechanism import Mechanism
 from .periods import JULIAN_CENTURY_DAYS
 from .ratios import Stage, stage_path
@@ -260,7 +260,7 @@ def coaxial_returns(mech: Mechanism, chosen) -> tuple[Return, ...]:
     docstring): meshes with a module, grouped by the two axes they span (arbors on one axis,
     as the check reckons them)."""
     train, kin = mech.train, mech.kin
-    groups = _axis_groups(train, kin)
+    groups = axis_groups(train, kin)
     by_wheels = {frozenset((m.driver, m.driven)): m for m in train.meshes}
     searched = {frozenset((s.driver, s.driven)): i for i, s in enumerate(chosen)}
 

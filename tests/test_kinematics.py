@@ -14,7 +14,7 @@ from hypothesis import strategies as st
 
 from engine.errors import TrainError
 from engine.exact import Turns
-from engine.kinematics import slot_follower_turns, solve
+from engine.kinematics import axis_groups, slot_follower_turns, solve
 from engine.loader import load_train, parse_train
 
 TRAINS = Path(__file__).resolve().parent.parent / "engine" / "trains"
@@ -445,3 +445,18 @@ wheels = { pl = 10 }
 [[meshes]]
 wheels = ["s1", "pl"]
 """)
+
+
+def test_axis_groups_by_axis_with_and_by_a_sun_wheel_on_a_carrier_axis():
+    # the demo files say which arbors are tubes on one axis (axis_with), and the tide office's
+    # mean Moon and Moon hand turn on the perigee carrier's axis, as its comments say
+    tide = load_train(TRAINS / "tide_office.toml")
+    groups = axis_groups(tide, solve(tide))
+    assert groups["mean_moon"] == groups["moon"] == groups["perigee_carrier"]
+    assert groups["pin_arbor"] != groups["slot_arbor"]  # a pin-and-slot's axes stand apart
+    assert len({groups[a] for a in ("sun", "node", "day", "pin_arbor", "mean_moon")}) == 5
+    orrery = load_train(TRAINS / "table_orrery.toml")
+    groups = axis_groups(orrery, solve(orrery))
+    tubes = [n for n, a in orrery.arbors.items() if a.axis_with == "drive"]
+    assert tubes and {groups[t] for t in tubes} == {groups["drive"]}
+    assert groups["lay_mercury"] != groups["drive"]
