@@ -373,6 +373,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     modules = _wheel_modules(train, findings)
     groups = axis_groups(train, kin)
     _shared_axes(train, groups, findings)
+    _pin_slot_holes(train, groups, findings)
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
     _teeth_rules(train, modules, findings, forms)
@@ -665,6 +666,33 @@ def _shared_axes(train: Train, groups: dict[str, str], findings: list[Finding]) 
                 "error", label, f"the axes of {axes} are {_mm(a0)} apart for {first_label} but "
                 f"{_mm(a)} apart here: {_mm(abs(gap))} {'too far' if gap > 0 else 'too close'}",
                 _distance_fix(train, obj, a0)))
+
+
+def _file_name(train: Train) -> str:
+    """The train file's name, without its folders (a finding is read beside the file)."""
+    return str(train.source).replace("\\", "/").rsplit("/", 1)[-1]
+
+
+def _pin_slot_holes(train: Train, groups: dict[str, str], findings: list[Finding]) -> None:
+    """A pin-and-slot's axes stand its offset apart (and a carried pin's arbor its arm from the
+    carrier's axis): two pivot holes of ``[workshop] pivot_mm`` closer than that, centre to
+    centre, run into one another and hold neither arbor (``wheelwork cut`` says it on the
+    plate it draws; the check says it before anything is drawn)."""
+    pivot = train.workshop.pivot_mm
+    for ps in train.pin_slots.values():
+        pairs = [(ps.carrier or ps.pin_arbor, ps.slot_arbor, ps.offset_mm, "offset_mm")]
+        if ps.carrier is not None:
+            pairs.append((ps.carrier, ps.pin_arbor, ps.arm_mm, "arm_mm"))
+        for a, b, dist, key in pairs:
+            if groups[a] == groups[b] or dist <= TOLERANCE_MM or dist >= pivot:
+                continue  # one axis (its own check), or holes clear of one another
+            findings.append(Finding(
+                "warning", f"[pin_slots.{ps.name}]", f"{_file_name(train)}: the pivot holes of "
+                f"'{a}' and '{b}' are {_mm(dist)} apart centre to centre ({key}) but "
+                f"{_mm(pivot)} across (pivot_mm): they run into one another and hold neither "
+                "arbor", "pivot one of the two arbors in a cock or bridge of its own, or give "
+                f"them pivots under {_mm(dist)} ([workshop] pivot_mm); a longer {key} changes "
+                "the stage's swing"))
 
 
 def _triangles(train: Train, groups, first: dict, findings: list[Finding]) -> None:

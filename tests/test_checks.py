@@ -642,12 +642,15 @@ def test_pin_diameter_is_called_assumed_only_when_the_file_has_none(tmp_path, ca
     assert "pin Ø 1 mm assumed)" in out
 
 
-def test_the_tide_office_demo_has_no_warning():
+def test_the_tide_office_demo_has_no_warning_but_its_pin_and_slot_holes():
     """The bundled lunisolar demo is laid out clean: its idlers stand clear of the sun arbor's
-    great wheel (no tip circle over another arbor's axis) and nothing else is warned of; its
-    notes (the slot's length, the pin-and-slot's lead) stay."""
+    great wheel (no tip circle over another arbor's axis) and nothing else is warned of but
+    the pivot holes of its pin-and-slot, 0.985 mm apart at 1 mm pivots, which no plate can
+    hold both of (one arbor goes in a cock); its notes (the slot's length, the pin-and-slot's
+    lead) stay."""
     report = run_check(DEMO / "tide_office.toml")
-    assert not levels(report, "warning"), [f.message for f in levels(report, "warning")]
+    warned = [(f.item, f.message) for f in levels(report, "warning")]
+    assert len(warned) == 1 and "the pivot holes of 'pin_arbor'" in warned[0][1], warned
     assert not levels(report, "error")
 
 
@@ -820,3 +823,21 @@ def test_the_pinion_fix_does_not_break_the_largest_count_rule():
     (few,) = said(text, "5 leaves: fewer than 6")
     assert "'cp' 10 and 'mw' 1200 keep the ratio, but 1200 teeth is more than 300" in few.fix
     assert "split the stage in two" in few.fix
+
+
+def test_pin_slot_pivot_holes_that_run_into_one_another_are_a_warning():
+    # the tide office's pin and slot axes stand 0.985 mm apart (its offset_mm) and its plate's
+    # pivot holes are the default 1 mm: two holes overlap when their centres are closer than
+    # a hole is wide (plain geometry); wheelwork cut's plate note says the same
+    path = DEMO / "tide_office.toml"
+    (w,) = levels(run_check(path), "warning", "[pin_slots.anomaly]")
+    assert w.message.startswith("tide_office.toml: ")
+    assert "'pin_arbor' and 'slot_arbor' are 0.985 mm apart" in w.message
+    assert "1 mm across" in w.message and "cock or bridge" in w.fix
+    text = path.read_text() + "\n[workshop]\npivot_mm = 0.9\n"
+    train = parse_train(text, "tide_small_pivots.toml")
+    assert not levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
+    text = path.read_text() + "\n[workshop]\npivot_mm = 0.99\n"
+    train = parse_train(text, "tide_big_pivots.toml")
+    (w,) = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
+    assert w.message.startswith("tide_big_pivots.toml: ")
