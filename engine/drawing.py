@@ -213,9 +213,19 @@ def _with_note(t: ToothForm, note: str) -> ToothForm:
 # --- wheel blanks ------------------------------------------------------------------------------
 
 def default_bore_mm(tooth: ToothForm) -> float:
+    """The bore drawn when the file chooses none: :data:`BORE_MAX_MM`, or
+    :data:`BORE_ROOT_FRACTION` of the root diameter when that is smaller, rounded down to
+    0.05 mm — or, below 0.05 mm (a watch-size pinion), to a step of its own size (0.002 mm for
+    a cap of 0.0024 mm) — and, where the root circle has room for it, small enough to leave
+    :data:`MIN_WALL_MODULES` of metal under the teeth. It always fits inside the root circle,
+    so no message ever names a bore the file did not choose as too wide."""
     inner = tooth.root_radius_mm if tooth.role != "ring" else tooth.tip_radius_mm
-    cap = math.floor(BORE_ROOT_FRACTION * 2 * inner / 0.05) * 0.05
-    return round(max(min(BORE_MAX_MM, cap), 0.05), 2)
+    cap = min(BORE_MAX_MM, BORE_ROOT_FRACTION * 2 * inner)
+    walled = 2 * (inner - MIN_WALL_MODULES * tooth.module_mm)
+    if walled >= 0.5 * cap:  # a module of metal under the teeth, where the blank allows it
+        cap = min(cap, walled)
+    step = 0.05 if cap >= 0.05 else 10.0 ** math.floor(math.log10(cap))
+    return round(math.floor(cap / step * (1 + 1e-12)) * step, 12)
 
 
 def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
@@ -245,16 +255,25 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
         part.info = info
         _label(part, title, -outer)
         return part
-    bore = own.bore_mm or shop.bore_mm or default_bore_mm(tooth)
+    chosen = own.bore_mm or shop.bore_mm
+    bore = chosen or default_bore_mm(tooth)
     info["bore_mm"] = bore
+    info["bore_chosen"] = chosen is not None
     wall = tooth.root_radius_mm - bore / 2
-    if wall <= 0:
-        raise TrainError(train.source, f"wheel '{wheel}'", f"a bore of {figure(bore, 6)} mm is wider "
-                         f"than the root circle ({root_d:.3f} mm)")
+    where = (f"[workshop.wheels.{wheel}] bore_mm" if own.bore_mm else "[workshop] bore_mm")
+    if wall <= 0:  # only a chosen bore: the default always fits
+        raise TrainError(train.source, f"wheel '{wheel}'", f"the bore of {figure(bore, 6)} mm "
+                         f"({where}) is wider than the root circle ({figure(root_d, 6)} mm)")
     if wall < MIN_WALL_MODULES * m:
-        part.notes.append(f"the bore ({figure(bore, 6)} mm) leaves {wall:.2f} mm of metal below the "
-                          "teeth, less than one module: cut the leaves on the arbor, or bore "
-                          "smaller")
+        if chosen is not None:
+            part.notes.append(f"the bore ({figure(bore, 6)} mm, {where}) leaves "
+                              f"{figure(wall, 3)} mm of metal below the teeth, less than one "
+                              "module: cut the leaves on the arbor, or bore smaller")
+        else:
+            part.notes.append(f"too small to bore and leave a module of metal below the "
+                              f"teeth (root circle {figure(root_d, 6)} mm): cut the leaves on "
+                              f"the arbor; the {figure(bore, 6)} mm hole drawn (the file "
+                              "chooses no bore_mm) marks the centre")
     part.circles.append(("CUT", 0.0, 0.0, bore / 2))
     crossings = own.crossings if own.crossings is not None else shop.crossings
     if crossings:

@@ -614,3 +614,36 @@ def test_pivot_holes_that_run_into_one_another_are_said(tmp_path, capsys):
     (note,) = [n for n in parts["plate-perigee_carrier"]["notes"] if "run into" in n]
     assert note.startswith("the holes of pin_arbor and slot_arbor are 0.985 mm apart")
     assert not any("run into" in n for n in parts["plate-frame"]["notes"])
+
+
+@pytest.mark.parametrize("module", [0.001, 0.01, 0.05, 0.5, 5.0])
+def test_the_default_bore_fits_every_blank_and_is_never_named_as_chosen(tmp_path, capsys,
+                                                                        module):
+    # Without a bore_mm in the file the drawn bore is the tool's own: at module 0.01 it was
+    # 0.05 mm, wider than an 8-leaf pinion's 0.044 mm root circle, and cut stopped with "a
+    # bore of 0.05 mm is wider than the root circle" about a bore nobody chose (plane
+    # geometry: a hole fits inside a circle when its diameter is the smaller)
+    text = SMALL.read_text().replace("bore_mm = 1.5\n", "").replace(
+        "module_mm = 0.5", f"module_mm = {module}").replace("module_mm = 0.6",
+                                                           f"module_mm = {module}")
+    path = tmp_path / "fine.toml"
+    path.write_text(text)
+    assert main(["cut", str(path), "--out", str(tmp_path / "o"), "--json"]) == 0
+    parts = [p for p in json.loads(capsys.readouterr().out)["parts"] if p["kind"] == "wheel"]
+    for p in parts:
+        assert 0 < p["bore_mm"] <= 0.4 * p["root_diameter_mm"] + 1e-12, p["wheel"]
+        assert p["bore_mm"] <= 2.0 and p["bore_chosen"] is False
+        wall = (p["root_diameter_mm"] - p["bore_mm"]) / 2
+        if wall < module:  # only where the blank has no room for a module of metal
+            (note,) = [n for n in p["notes"] if "cut the leaves on the arbor" in n]
+            assert "the file chooses no bore_mm" in note
+        assert not any("bore (" in n for n in p["notes"])
+
+
+def test_a_chosen_bore_too_wide_names_where_it_was_chosen(tmp_path, capsys):
+    path = tmp_path / "wide.toml"
+    path.write_text(SMALL.read_text().replace("bore_mm = 1.5", "bore_mm = 4"))
+    assert main(["cut", str(path), "--out", str(tmp_path / "o")]) == 1
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "wide.toml: wheel 'drive_pinion'" in err
+    assert "the bore of 4 mm ([workshop] bore_mm) is wider than the root circle" in err
