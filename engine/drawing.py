@@ -36,7 +36,7 @@ from .toothform import (
     involute_ring,
     involute_wheel,
 )
-from .train import FRAME, Train
+from .train import CROSSINGS_AUTO, FRAME, Train
 
 LAYERS = {  # name: (SVG colour, DXF colour index, what it is)
     "CUT": ("#b3001b", 1, "cut through"),
@@ -52,8 +52,48 @@ smaller on small pinions (:data:`BORE_ROOT_FRACTION`)."""
 BORE_ROOT_FRACTION = 0.4
 """A default bore never exceeds this fraction of the root diameter, rounded down to 0.05 mm."""
 
-RIM_MODULES = 3.0
-"""Default rim width below the root circle when a wheel is crossed out: 3 modules (our rule)."""
+# --- crossing out: proportions that follow the wheel's size --------------------------------
+# A crossed-out clock wheel is a rim under the teeth, a hub (the boss riveted to the arbor's
+# collet) and crossings (spokes) between them. Its rim, hub and crossings grow with the wheel,
+# not with the tooth: a 300-tooth wheel held by crossings three modules wide is spindly.
+
+RIM_FRACTION = 0.1
+"""Default rim depth below the root circle: a tenth of the root radius (common practice, no
+source; the figure from memory of English clock wheels, whose rims are about a tenth of
+their radius deep) ..."""
+
+RIM_MIN_MODULES = 2.0
+"""... and never under 2 modules, so a small wheel's rim still stands stiff under the tooth
+spaces (common practice, no source)."""
+
+HUB_FRACTION = 0.2
+"""The hub's radius: a fifth of the root radius, and at least the rim's depth round the bore
+(common practice, no source; from memory)."""
+
+CROSSING_SHARE = 1 / 12
+"""The crossings together take this share of the rim's inner circle, so a wheel with fewer
+crossings has stouter ones (common practice, no source; from memory: about 3.5 mm for each of
+four crossings of a 60 mm clock wheel)."""
+
+CROSSING_TAPER = 1.5
+"""A crossing is this many times wider at the hub than at the rim. Clockmakers taper their
+crossings toward the rim (a crossing-out jig's pegs are turned to set the width at the hub
+and at the rim: clickspringprojects.com, "Wheel Crossing Jig"; clockmakers remark on straight
+ones: raynerd.co.uk/1781); the ratio itself is from memory, no source."""
+
+HUB_SHARE = 0.6
+"""At the hub the crossings take at most this share of its circle, leaving room for the
+windows' inner ends (our rule, no source)."""
+
+CROSSING_COUNTS = ((50.0, 4), (100.0, 5), (160.0, 6), (math.inf, 8))
+"""``crossings = "auto"``: (pitch diameter below, in mm; count). 4, 5, 6 and 8 are the
+traditional counts of crossed-out clock wheels (the crossing-out jig above is indexed for
+them: clickspringprojects.com, "Wheel Crossing Jig"); which count for which size is common
+practice, no source."""
+
+MIN_WINDOW_CROSSINGS = 2.0
+"""A window shallower, from hub to rim, than this many crossing widths is not worth cutting:
+the wheel is left solid (our rule, no source)."""
 
 MIN_WALL_MODULES = 1.0
 """A bore leaving less than one module of metal below the root circle is pointed out."""
@@ -248,7 +288,7 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
             "proportions_m": {k: v for k, v in tooth.params.items()
                               if isinstance(v, int | float) and not k.endswith("_mm")}}
     if tooth.role == "ring":
-        rim = own.rim_mm or shop.rim_mm or RIM_MODULES * m
+        rim = own.rim_mm or shop.rim_mm or rim_depth_mm(tooth)
         outer = tooth.root_radius_mm + rim
         part.circles.append(("CUT", 0.0, 0.0, outer))
         info["outside_diameter_mm"] = 2 * outer
@@ -275,30 +315,100 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
                               f"the arbor; the {figure(bore, 6)} mm hole drawn (the file "
                               "chooses no bore_mm) marks the centre")
     part.circles.append(("CUT", 0.0, 0.0, bore / 2))
-    crossings = own.crossings if own.crossings is not None else shop.crossings
-    if crossings:
-        rim = own.rim_mm or shop.rim_mm or RIM_MODULES * m
-        windows = crossing_windows(tooth.root_radius_mm - rim, bore / 2 + rim, crossings, rim)
-        if windows is None:
-            part.notes.append(f"too small for {crossings} crossings with a {figure(rim, 3)} mm rim: "
-                              "left solid")
+    asked = own.crossings if own.crossings is not None else shop.crossings
+    if asked:
+        auto = asked == CROSSINGS_AUTO
+        count = crossing_count(tooth) if auto else asked
+        blank = crossed_blank(tooth, bore, count, own.rim_mm or shop.rim_mm) if count else None
+        if blank is None:
+            if not auto:
+                rim = own.rim_mm or shop.rim_mm or rim_depth_mm(tooth)
+                part.notes.append(f"too small for {asked} crossings with a {figure(rim, 3)} mm "
+                                  "rim: left solid")
         else:
-            part.polylines.extend(("CUT", w) for w in windows)
-            info["crossings"] = crossings
-            info["rim_mm"] = rim
+            part.polylines.extend(("CUT", w) for w in blank.windows)
+            info.update(blank.info())
     part.info = info
     _label(part, title, -tooth.tip_radius_mm)
     return part
 
 
+def rim_depth_mm(tooth: ToothForm) -> float:
+    """The default rim below the root circle (outside it, for an internal wheel): a tenth of
+    the root radius, at least :data:`RIM_MIN_MODULES` (3 modules round an internal wheel,
+    whose rim is all that holds it)."""
+    least = (3.0 if tooth.role == "ring" else RIM_MIN_MODULES) * tooth.module_mm
+    return max(least, RIM_FRACTION * tooth.root_radius_mm)
+
+
+AUTO_SOLID_TEETH = 20
+"""``crossings = "auto"`` leaves a wheel of fewer teeth solid: a pinion is cut from the solid
+(common practice, no source). A larger wheel cut to the pinion form (47 teeth driven by 127)
+is crossed out like any wheel of its size."""
+
+
+def crossing_count(tooth: ToothForm) -> int:
+    """How many crossings ``crossings = "auto"`` gives a wheel, by its pitch diameter
+    (:data:`CROSSING_COUNTS`); 0 (solid) under :data:`AUTO_SOLID_TEETH` teeth."""
+    if tooth.teeth < AUTO_SOLID_TEETH:
+        return 0
+    d = 2 * tooth.pitch_radius_mm
+    return next(n for below, n in CROSSING_COUNTS if d < below)
+
+
+@dataclass(frozen=True)
+class CrossedBlank:
+    """A crossed-out blank: ``count`` crossings from a hub of radius ``hub_mm`` to a rim
+    ``rim_mm`` deep under the teeth, each ``width_rim_mm`` wide at the rim and
+    ``width_hub_mm`` at the hub; ``windows`` the cut-outs between them."""
+
+    count: int
+    rim_mm: float
+    hub_mm: float
+    width_rim_mm: float
+    width_hub_mm: float
+    windows: list
+
+    def info(self) -> dict:
+        return {"crossings": self.count, "rim_mm": self.rim_mm,
+                "hub_diameter_mm": 2 * self.hub_mm,
+                "crossing_width_mm": {"at_rim": self.width_rim_mm, "at_hub": self.width_hub_mm}}
+
+
+def crossed_blank(tooth: ToothForm, bore_mm: float, count: int,
+                  rim_mm: float | None = None) -> CrossedBlank | None:
+    """The crossings of a wheel, proportioned to its size: a rim of ``rim_mm`` (else
+    :func:`rim_depth_mm`), a hub of :data:`HUB_FRACTION` of the root radius (at least the rim's
+    depth round the bore), crossings together :data:`CROSSING_SHARE` of the rim's inner circle,
+    :data:`CROSSING_TAPER` times wider at the hub (within :data:`HUB_SHARE` of its circle);
+    ``None`` when the windows between them would be too small to cut."""
+    root = tooth.root_radius_mm
+    rim = rim_mm or rim_depth_mm(tooth)
+    rim_inner = root - rim
+    hub = max(bore_mm / 2 + rim, HUB_FRACTION * root)
+    if rim_inner <= hub:
+        return None
+    w_rim = CROSSING_SHARE * 2 * math.pi * rim_inner / count
+    w_hub = min(CROSSING_TAPER * w_rim, HUB_SHARE * 2 * math.pi * hub / count)
+    w_rim = min(w_rim, w_hub)  # never wider at the rim than at the hub
+    if rim_inner - hub < MIN_WINDOW_CROSSINGS * w_rim:
+        return None
+    windows = crossing_windows(rim_inner, hub, count, w_rim, width_hub=w_hub)
+    if windows is None:
+        return None
+    return CrossedBlank(count, rim, hub, w_rim, w_hub, windows)
+
+
 def crossing_windows(rim_inner: float, hub_outer: float, n: int, width: float,
-                     arc_step: float = math.radians(2.0)):
-    """The ``n`` windows between straight crossings of ``width`` from a hub to a rim, as
-    closed polylines; ``None`` when they do not fit."""
-    if rim_inner - hub_outer < width or width / 2 >= hub_outer:
+                     arc_step: float = math.radians(2.0), width_hub: float | None = None):
+    """The ``n`` windows between straight crossings from a hub to a rim, ``width`` wide at the
+    rim and ``width_hub`` (default the same) at the hub, as closed polylines; ``None`` when
+    they do not fit."""
+    width_hub = width if width_hub is None else width_hub
+    if rim_inner - hub_outer < width or width_hub / 2 >= hub_outer or width / 2 >= rim_inner:
         return None
     d_out = math.asin(width / 2 / rim_inner)
-    d_in = math.asin(width / 2 / hub_outer)
+    d_in = math.asin(width_hub / 2 / hub_outer)
     step = 2 * math.pi / n
     if step - 2 * d_in < math.radians(5):
         return None

@@ -28,6 +28,7 @@ from .figures import figure
 from .kinds import DIAL_FRAMES, KINDS, kind_key
 from .periods import SECONDS_PER_DAY
 from .train import (
+    CROSSINGS_AUTO,
     EPHEMERIS_NAMES,
     FRAME,
     SET_MODES,
@@ -815,9 +816,12 @@ def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:
         return r.choice(value, item, TOOTH_FORMS)
 
     def count(value, item):
+        if isinstance(value, str) and value.strip().lower() == CROSSINGS_AUTO:
+            return CROSSINGS_AUTO  # as many as the wheel's size asks (engine.drawing)
         if isinstance(value, bool) or not isinstance(value, int) or value < 0:
             raise r.fail(item, f"should be a whole number of crossings (0 for a solid "
-                         f"wheel), got {_show(value)}")
+                         f"wheel) or \"{CROSSINGS_AUTO}\" (as many as the wheel's size "
+                         f"asks), got {_show(value)}")
         if value in (1, 2):
             raise r.fail(item, f"{value} crossing{'s' if value > 1 else ''} cannot hold a rim "
                          "true: give 0 (solid) or 3 or more")

@@ -158,6 +158,10 @@ EPHEMERIS_NAMES = ("de421", "de440", "de406")
 
 TOOTH_FORMS = ("cycloidal", "involute")
 
+CROSSINGS_AUTO = "auto"
+"""``crossings = "auto"``: each wheel crossed out with as many crossings as its size asks,
+pinions left solid (:func:`engine.drawing.crossing_count`)."""
+
 
 @dataclass(frozen=True)
 class WheelShop:
@@ -165,7 +169,7 @@ class WheelShop:
 
     form: str | None = None
     bore_mm: float | None = None
-    crossings: int | None = None
+    crossings: int | str | None = None  # a count, or CROSSINGS_AUTO
     rim_mm: float | None = None
     eccentricity_mm: float | None = None
     division: float | None = None
@@ -179,7 +183,7 @@ class Workshop:
 
     tooth_form: str = "cycloidal"
     bore_mm: float | None = None
-    crossings: int = 0
+    crossings: int | str = 0  # a count, or CROSSINGS_AUTO
     rim_mm: float | None = None
     pivot_mm: float = 1.0
     backlash_mm: float | None = None

@@ -647,3 +647,114 @@ def test_a_chosen_bore_too_wide_names_where_it_was_chosen(tmp_path, capsys):
     err = capsys.readouterr().err.strip()
     assert "\n" not in err and "wide.toml: wheel 'drive_pinion'" in err
     assert "the bore of 4 mm ([workshop] bore_mm) is wider than the root circle" in err
+
+
+BIG_AND_SMALL = """
+[train]
+name = "Big and small"
+[crank]
+arbor = "a"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+set = "angles"
+[arbors.a]
+wheels = { a1 = 12 }
+[arbors.b]
+wheels = { b1 = 300, b2 = 10 }
+[arbors.c]
+wheels = { c1 = 40 }
+[[meshes]]
+wheels = ["a1", "b1"]
+module_mm = 0.5
+[[meshes]]
+wheels = ["b2", "c1"]
+module_mm = 0.5
+[pointers.p]
+shows = "sun"
+arbor = "c"
+set_deg = 0
+[workshop]
+crossings = CROSSINGS
+"""
+
+
+def _blanks(tmp_path, capsys, crossings):
+    path = tmp_path / "big_small.toml"
+    path.write_text(BIG_AND_SMALL.replace("CROSSINGS", crossings))
+    out = tmp_path / "o"
+    assert main(["cut", str(path), "--out", str(out), "--json", "--force"]) == 0
+    parts = json.loads(capsys.readouterr().out)["parts"]
+    return {p["wheel"]: p for p in parts if p["kind"] == "wheel"}, out
+
+
+def _windows(dxf_path):
+    """The crossing windows read back from a wheel's DXF: every closed CUT outline but the
+    teeth (the one reaching farthest out), as arrays of points."""
+    msp = ezdxf.readfile(dxf_path).modelspace()
+    polys = [np.array([(p[0], p[1]) for p in e.get_points("xy")])
+             for e in msp.query("LWPOLYLINE") if e.dxf.layer == "CUT" and e.closed]
+    teeth = max(polys, key=lambda p: np.hypot(*p.T).max())
+    return [p for p in polys if p is not teeth]
+
+
+def test_a_crossed_out_wheel_is_proportioned_to_its_size(tmp_path, capsys):
+    # The rim, hub and crossings grow with the wheel: at one module, the 300-tooth wheel's rim
+    # is a tenth of its root radius (7.4 mm, not the 1.5 mm of a fixed 3 modules), and its
+    # crossings 5.8 mm at the rim where a fixed width of 3 modules left 1.5 mm spokes across a
+    # 150 mm wheel (proportions: common practice, no source; engine.drawing's constants)
+    wheels, out = _blanks(tmp_path, capsys, "6")
+    big, small = wheels["b1"], wheels["c1"]
+    for w in (big, small):
+        root_r, m = w["root_diameter_mm"] / 2, w["module_mm"]
+        assert w["rim_mm"] == pytest.approx(max(0.1 * root_r, 2 * m))
+        windows = _windows(out / f"wheel-{w['wheel']}.dxf")
+        assert len(windows) == w["crossings"] == 6
+        radii = np.concatenate([np.hypot(*p.T) for p in windows])
+        assert radii.max() == pytest.approx(root_r - w["rim_mm"], abs=UM)  # the rim's inside
+        assert radii.min() == pytest.approx(w["hub_diameter_mm"] / 2, abs=UM)
+    assert big["rim_mm"] > 12 * big["module_mm"]  # 3 modules was spindly on 300 teeth
+    assert big["crossing_width_mm"]["at_rim"] > 10 * big["module_mm"]
+    ratio = big["root_diameter_mm"] / small["root_diameter_mm"]
+    width = big["crossing_width_mm"]["at_rim"] / small["crossing_width_mm"]["at_rim"]
+    assert width == pytest.approx(ratio, rel=0.15)  # widths follow the wheel, not the tooth
+    assert big["hub_diameter_mm"] == pytest.approx(0.2 * big["root_diameter_mm"])
+
+
+def test_crossings_taper_to_the_rim_and_leave_that_width_between_windows(tmp_path, capsys):
+    # a crossing is wider at the hub than at the rim (clockmakers taper their crossings:
+    # clickspringprojects.com, "Wheel Crossing Jig"); measured on the DXF, the metal left
+    # between two windows at the rim's inside is the crossing's width there (chord geometry)
+    wheels, out = _blanks(tmp_path, capsys, "6")
+    big = wheels["b1"]
+    w = big["crossing_width_mm"]
+    assert w["at_hub"] > 1.2 * w["at_rim"]
+    windows = _windows(out / "wheel-b1.dxf")
+    rim_inner = big["root_diameter_mm"] / 2 - big["rim_mm"]
+    ends = []
+    for p in windows:  # each window's two corners on the rim's inner circle
+        on_rim = p[np.abs(np.hypot(*p.T) - rim_inner) < UM]
+        ang = np.unwrap(np.arctan2(on_rim[:, 1], on_rim[:, 0]))
+        ends.append((on_rim[np.argmin(ang)], on_rim[np.argmax(ang)]))
+    gaps = [min(np.hypot(*(a[1] - b[0])) for b in ends if b is not a) for a in ends]
+    assert gaps == pytest.approx([w["at_rim"]] * 6, abs=1e-6)
+
+
+def test_auto_crossings_follow_the_wheels_size_and_leave_pinions_solid(tmp_path, capsys):
+    # 4, 5, 6 and 8: the traditional counts (clickspringprojects.com, "Wheel Crossing Jig");
+    # which for which size: engine.drawing.CROSSING_COUNTS (common practice, no source)
+    wheels, _ = _blanks(tmp_path, capsys, '"Auto"')
+    assert wheels["b1"]["crossings"] == 6  # 150 mm across
+    assert wheels["c1"]["crossings"] == 4  # 20 mm across
+    assert "crossings" not in wheels["a1"] and "crossings" not in wheels["b2"]  # pinions
+    assert not any("left solid" in n for w in wheels.values() for n in w["notes"])
+    text = BIG_AND_SMALL.replace("CROSSINGS", '"many"')
+    with pytest.raises(TrainError) as exc:
+        parse_train(text, "w.toml")
+    assert exc.value.item == "[workshop] crossings" and '"auto"' in exc.value.problem
+
+
+def test_a_count_asked_of_a_wheel_too_small_is_said(tmp_path, capsys):
+    wheels, _ = _blanks(tmp_path, capsys, "8")
+    assert "crossings" not in wheels["a1"]
+    assert any("too small for 8 crossings" in n for n in wheels["a1"]["notes"])

@@ -121,16 +121,18 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
     console.print(f"[bold]{escape(cut.train)}[/] — cutting files in {escape(str(folder))}")
     table = Table(box=None, pad_edge=False, collapse_padding=True)
     for col, just in (("part", "left"), ("z", "right"), ("m", "right"), ("form", "left"),
-                      ("tip Ø", "right"), ("root Ø", "right"), ("bore", "right")):
+                      ("tip Ø", "right"), ("root Ø", "right"), ("bore", "right"),
+                      ("crossings", "right")):
         table.add_column(col, justify=just, overflow="fold")
     for p in cut.parts:
         if p.kind != "wheel":
             continue
         i = p.info
         table.add_row(escape(i["wheel"]), str(i["teeth"]), support.figure(i['module_mm'], 6),
-                      f"{i['form']} {i['role']}", f"{i['tip_diameter_mm']:.3f}",
-                      f"{i['root_diameter_mm']:.3f}",
-                      support.figure(i['bore_mm'], 6) if "bore_mm" in i else "—")
+                      f"{i['form']} {i['role']}", support.fixed(i['tip_diameter_mm'], 3),
+                      support.fixed(i['root_diameter_mm'], 3),
+                      support.figure(i['bore_mm'], 6) if "bore_mm" in i else "—",
+                      _crossings_text(i))
     support.print_table(console, table)
     for p in cut.parts:
         if p.kind != "plate":
@@ -155,6 +157,16 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
         console.print(f"[cyan]note[/] {escape(name)}: {escape(n)}")
     console.print(f"wrote {len(written)} files (one per part{', plus sheet.*' if sheet else ''})")
     console.print(f"[dim]{escape(cut.caveat)}[/]")
+
+
+def _crossings_text(info: dict) -> str:
+    """A wheel's crossings as the table gives them: their count, rim and width at the rim
+    (``5 · rim 3.2 · 2.9 mm``), else ``solid``."""
+    if "crossings" not in info:
+        return "solid" if info["role"] != "ring" else "—"
+    return (f"{info['crossings']} · rim {support.figure(info['rim_mm'], 3)} · "
+            f"{support.figure(info['crossing_width_mm']['at_rim'], 3)}–"
+            f"{support.figure(info['crossing_width_mm']['at_hub'], 3)} mm")
 
 
 def _make_folder(folder: Path) -> None:
