@@ -156,6 +156,9 @@ def _texts() -> list[tuple[str, str | bytes]]:
     for label, value in [("negative", "-0.02"), ("with its unit", '"0.02mm"'), ("huge", "500"),
                          ("nan", "nan")]:
         add(f"workshop hole_mm {label}", GOOD + f"[workshop]\nhole_mm = {value}\n")
+    for label, value in [("a word", '"many"'), ("two", "2"), ("a fraction", "4.5"),
+                         ("auto unquoted", "auto")]:
+        add(f"workshop crossings {label}", GOOD + f"[workshop]\ncrossings = {value}\n")
     add("mesh across carriers", GOOD + '[arbors.c1]\nwheels = {}\n[arbors.c2]\nwheels = {}\n'
         '[arbors.p]\non = "c1"\nwheels = { p1 = 10 }\n[arbors.q]\non = "c2"\nwheels = { q1 = 10 }\n'
         '[[meshes]]\nwheels = ["p1", "q1"]\n')
