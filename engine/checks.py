@@ -244,6 +244,12 @@ def _fmt(x: float) -> str:
     return figure(x, 3)
 
 
+def _about(x: float, digits: int = 3) -> str:
+    """An estimate to ``digits`` significant figures, a large one rounded too (``190,000``,
+    not ``190,019``, which claims a precision no estimate has)."""
+    return figure(float(f"{x:.{digits}g}"), digits)
+
+
 def _mm(x: float) -> str:
     return f"{x:.3f}".rstrip("0").rstrip(".") + " mm"
 
@@ -1072,7 +1078,7 @@ def _load_rules(train: Train, report: CheckReport, findings: list[Finding]) -> N
     assumed = "" if given else f" ({FACE_M:g} modules, assumed: no face_mm)"
     findings.append(Finding(
         "note", worst.label, f"the heaviest-loaded teeth in the train: about "
-        f"{_fmt(worst.tooth_force_n)} N on the teeth of '{up}' ({teeth}) per N·m at the crank, "
+        f"{_about(worst.tooth_force_n)} N on the teeth of '{up}' ({teeth}) per N·m at the crank, "
         f"at module {figure(worst.module_mm, 6)} mm and face {figure(worst.face_mm, 4)} mm"
         f"{assumed}; its load index (force / (module × face)) is "
         f"{_fmt(worst.load_index / least.load_index)} times the lightest stage's (estimate)",

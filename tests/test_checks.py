@@ -841,3 +841,12 @@ def test_pin_slot_pivot_holes_that_run_into_one_another_are_a_warning():
     train = parse_train(text, "tide_big_pivots.toml")
     (w,) = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
     assert w.message.startswith("tide_big_pivots.toml: ")
+
+
+def test_the_heaviest_load_is_written_as_the_estimate_it_is():
+    # the tide office's node stage: 190,019 N per N·m at the crank by the formula; "about" a
+    # figure of six digits claims a precision no estimate has (three significant figures)
+    report = run_check(DEMO / "tide_office.toml")
+    (note,) = [f for f in report.findings if "heaviest-loaded" in f.message]
+    assert "about 190,000 N on the teeth of 'node_p2'" in note.message
+    assert "(estimate)" in note.message
