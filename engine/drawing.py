@@ -319,9 +319,12 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
     if asked:
         auto = asked == CROSSINGS_AUTO
         count = crossing_count(tooth) if auto else asked
+        # a count for the whole train is for its wheels: a pinion stays solid without a word
+        quiet = auto or (own.crossings is None and z < AUTO_SOLID_TEETH)
+        count = 0 if own.crossings is None and z < AUTO_SOLID_TEETH else count
         blank = crossed_blank(tooth, bore, count, own.rim_mm or shop.rim_mm) if count else None
         if blank is None:
-            if not auto:
+            if not quiet:
                 rim = own.rim_mm or shop.rim_mm or rim_depth_mm(tooth)
                 part.notes.append(f"too small for {asked} crossings with a {figure(rim, 3)} mm "
                                   "rim: left solid")

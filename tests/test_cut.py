@@ -754,7 +754,18 @@ def test_auto_crossings_follow_the_wheels_size_and_leave_pinions_solid(tmp_path,
     assert exc.value.item == "[workshop] crossings" and '"auto"' in exc.value.problem
 
 
-def test_a_count_asked_of_a_wheel_too_small_is_said(tmp_path, capsys):
-    wheels, _ = _blanks(tmp_path, capsys, "8")
-    assert "crossings" not in wheels["a1"]
-    assert any("too small for 8 crossings" in n for n in wheels["a1"]["notes"])
+def test_a_count_asked_of_a_wheel_too_small_is_said_and_pinions_stay_solid(tmp_path, capsys):
+    # a count for the whole train is for its wheels: its pinions (under 20 leaves) are cut
+    # from the solid without a note each; a wheel too small for the count is said
+    wheels, _ = _blanks(tmp_path, capsys, "16")
+    assert wheels["b1"]["crossings"] == 16
+    assert "crossings" not in wheels["c1"]
+    assert any("too small for 16 crossings" in n for n in wheels["c1"]["notes"])
+    for pinion in ("a1", "b2"):
+        assert "crossings" not in wheels[pinion] and not wheels[pinion]["notes"], pinion
+    path = tmp_path / "own.toml"  # a pinion's own count is its maker's choice: said
+    path.write_text(BIG_AND_SMALL.replace("CROSSINGS", "0") + "[workshop.wheels.a1]\n"
+                    "crossings = 5\n")
+    assert main(["cut", str(path), "--out", str(tmp_path / "own"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    assert any("too small for 5 crossings" in n for n in parts["wheel-a1"]["notes"])
