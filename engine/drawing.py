@@ -273,7 +273,10 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
     own = shop.wheel(wheel)
     z, m = tooth.teeth, tooth.module_mm
     role = {"wheel": "wheel", "pinion": "pinion", "ring": "internal wheel"}[tooth.role]
-    title = f"{wheel}: {z} {'leaves' if tooth.role == 'pinion' else 'teeth'}, module {figure(m, 6)}, " \
+    leaves = tooth.role == "pinion" and z < AUTO_SOLID_TEETH
+    if tooth.role == "pinion" and not leaves:  # a wheel in body, the smaller of its mesh
+        role = "wheel, pinion form (the smaller of its mesh)"
+    title = f"{wheel}: {z} {'leaves' if leaves else 'teeth'}, module {figure(m, 6)}, " \
             f"{tooth.form} {role}"
     part = Part(stem, title, "wheel")
     part.notes.extend(tooth.notes)

@@ -769,3 +769,15 @@ def test_a_count_asked_of_a_wheel_too_small_is_said_and_pinions_stay_solid(tmp_p
     assert main(["cut", str(path), "--out", str(tmp_path / "own"), "--json"]) == 0
     parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
     assert any("too small for 5 crossings" in n for n in parts["wheel-a1"]["notes"])
+
+
+def test_a_large_wheel_cut_to_the_pinion_form_is_not_called_leaves(capsys, tmp_path):
+    # the planet dial's 96-tooth mars_fixed is the smaller of its mesh with 109 and so takes
+    # the cycloidal pinion form; its title said "96 leaves ... cycloidal pinion", the word for
+    # the few leaves of a pinion cut on its arbor (common practice, no source)
+    assert main(["cut", "planet_dial", "--out", str(tmp_path / "p"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    title = parts["wheel-mars_fixed"]["title"]
+    assert title == ("mars_fixed: 96 teeth, module 0.5, cycloidal wheel, pinion form (the "
+                     "smaller of its mesh)")
+    assert parts["wheel-mars_fixed"]["role"] == "pinion"  # the form, as before
