@@ -466,7 +466,8 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         c = max(pivot, 2.0)
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
-        part.texts.append((*_hole_label_at(h.x_mm, h.y_mm, pivot, h.axis, part.texts),
+        marks = [(o.x_mm, o.y_mm) for o in plate.holes.values() if o is not h]
+        part.texts.append((*_hole_label_at(h.x_mm, h.y_mm, pivot, h.axis, part.texts, marks),
                            TEXT_MM * 0.8, h.axis))
         for w in _on_plate(train, plate, h):
             if w in pitch:
@@ -503,18 +504,22 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     return part
 
 
-def _hole_label_at(x: float, y: float, pivot: float, text: str,
-                   placed: list) -> tuple[float, float]:
+def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
+                   marks: list[tuple[float, float]] = ()) -> tuple[float, float]:
     """Where a hole's name goes: above right of the hole, else below right, above left or
     below left, else stepped down below it — the first place clear of the names already
     placed (two holes a millimetre apart, a pin-and-slot's, wrote their names over each
-    other)."""
+    other) and of the other holes' centre marks at ``marks`` (the table orrery's long
+    name of seven tubes ran over the next hole's mark)."""
     h = TEXT_MM * 0.8
     w = _text_width(text, h)
+    c = max(pivot, 2.0)  # a centre mark's half length, as plate_part draws it
 
     def clear(tx, ty):
         return all(tx + w <= px or px + _text_width(pt, ph) <= tx or ty + h <= py
-                   or py + ph <= ty for px, py, ph, pt in placed)
+                   or py + ph <= ty for px, py, ph, pt in placed) and \
+            all(tx + w <= mx - c or mx + c <= tx or ty + h <= my - c or my + c <= ty
+                for mx, my in marks)
 
     spots = [(x + pivot, y + pivot), (x + pivot, y - pivot - h), (x - pivot - w, y + pivot),
              (x - pivot - w, y - pivot - h)]

@@ -401,6 +401,19 @@ def test_hole_names_on_a_plate_never_overlap():
                 for b in boxes[i + 1:]:
                     assert a[2] <= b[0] or b[2] <= a[0] or a[3] <= b[1] or b[3] <= a[1], \
                         (path.name, part.name)
+            # nor over another hole's centre mark (2 mm each way at 1 mm pivots): the table
+            # orrery's name of its seven coaxial tubes ran across the lay arbor's hole
+            c = max(train.workshop.pivot_mm, 2.0)
+            for x, y, h, t in part.texts:
+                if t not in names:
+                    continue
+                box = (x, y, x + _text_width(t, h), y + h)
+                for hole in part.info["holes"]:
+                    if hole["axis"] == t:
+                        continue
+                    mx, my = hole["x_mm"], hole["y_mm"]
+                    assert box[2] <= mx - c or mx + c <= box[0] or box[3] <= my - c or \
+                        my + c <= box[1], (path.name, part.name, t, hole["axis"])
 
 
 def test_a_plate_whose_axes_no_module_ties_says_they_were_placed_apart():
