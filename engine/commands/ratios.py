@@ -125,8 +125,11 @@ def run(args: argparse.Namespace, console: Console) -> int:
                    "its carrier[/] (see the warning below)"), 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]
         if primes:
-            support.print_indented(console, "prime counts, each needing its own cutter or "
-                                   f"dividing-plate row: {', '.join(primes)}", 3)
+            # the cutter goes with the module; a prime count goes with the dividing plate,
+            # which must have a row of that count or a multiple of it
+            support.print_indented(console, "prime counts, each needing a dividing-plate row "
+                                   "of that count or a multiple of it (no other row divides "
+                                   f"it): {', '.join(primes)}", 3)
     sources: dict[str, list[str]] = {}
     for r in rows:
         for name, src in ((r.target_name, r.target_source),
