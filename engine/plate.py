@@ -22,6 +22,7 @@ import numpy as np
 from .checks import TOLERANCE_MM, centre_distance_mm
 from .errors import PlacementError
 from .figures import figure
+from .figures import fixed as places  # 'fixed' names the positions the file fixes
 from .kinematics import Kinematics, axis_groups
 from .train import FRAME, Train
 
@@ -133,9 +134,9 @@ def _over_pivots(train: Train, plate: Plate, reach_mm: dict[str, float]) -> None
                     and (d := math.hypot(hole.x_mm - other.x_mm, hole.y_mm - other.y_mm))
                     < reach_mm[w]]
             if over:
-                where = ", ".join(f"{a} ({d:.2f} mm away)" for a, d in over)
+                where = ", ".join(f"{a} ({places(d, 2)} mm away)" for a, d in over)
                 plate.notes.append(
-                    f"as placed, wheel '{w}' (tip radius {reach_mm[w]:.2f} mm) reaches over "
+                    f"as placed, wheel '{w}' (tip radius {places(reach_mm[w], 2)} mm) reaches over "
                     f"the pivot{'s' if len(over) > 1 else ''} of {where}: end "
                     f"{'those arbors' if len(over) > 1 else 'that arbor'} short of its plane "
                     "(a cock or bridge), or place the axes yourself with at_mm")
@@ -181,7 +182,7 @@ def _fixed(train: Train, groups, mount: str, axes) -> dict[str, tuple[float, flo
             if math.dist((x, y), a.at_mm) > FIXED_TOLERANCE_MM:
                 raise PlacementError(train.source, f"[arbors.{a.name}] at_mm",
                                      f"is on one axis with {who} but placed "
-                                     f"{math.dist((x, y), a.at_mm):.3f} mm from it: no "
+                                     f"{places(math.dist((x, y), a.at_mm), 3)} mm from it: no "
                                      "placement of the plate can keep both")
             continue
         fixed[g] = (a.at_mm[0], a.at_mm[1], f"'{a.name}' at {list(a.at_mm)}")
@@ -203,8 +204,8 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
         first = group[0]
         if hi.distance_mm - lo.distance_mm > FIXED_TOLERANCE_MM:
             raise PlacementError(where, hi.label, f"needs the axes of {label[hi.axis1]} and "
-                                 f"{label[hi.axis2]} {hi.distance_mm:.4f} mm apart, but "
-                                 f"{lo.label} needs {lo.distance_mm:.4f} mm: no placement "
+                                 f"{label[hi.axis2]} {places(hi.distance_mm, 4)} mm apart, but "
+                                 f"{lo.label} needs {places(lo.distance_mm, 4)} mm: no placement "
                                  "keeps both")
         if hi.distance_mm - lo.distance_mm <= EXACT_MM:
             by_pair[key] = first
@@ -212,9 +213,9 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
         mid = (lo.distance_mm + hi.distance_mm) / 2
         by_pair[key] = Tie(first.label, first.axis1, first.axis2, mid, first.direction_deg)
         plate.notes.append(f"{len(group)} meshes between the axes of {label[first.axis1]} and "
-                           f"{label[first.axis2]} need {lo.distance_mm:.4f} to "
-                           f"{hi.distance_mm:.4f} mm: drilled at {mid:.4f} mm, each at most "
-                           f"{mid - lo.distance_mm:.4f} mm off (within the "
+                           f"{label[first.axis2]} need {places(lo.distance_mm, 4)} to "
+                           f"{places(hi.distance_mm, 4)} mm: drilled at {places(mid, 4)} mm, each at most "
+                           f"{places(mid - lo.distance_mm, 4)} mm off (within the "
                            f"{FIXED_TOLERANCE_MM:g} mm a mesh takes up)")
     nbrs: dict[str, list[Tie]] = {ax: [] for ax in axes}
     for t in by_pair.values():
@@ -226,12 +227,12 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
             d = math.dist(fixed[t.axis1], fixed[t.axis2])
             if abs(d - t.distance_mm) > FIXED_TOLERANCE_MM:
                 raise PlacementError(where, t.label, f"the file places {label[t.axis1]} and "
-                                     f"{label[t.axis2]} {d:.4f} mm apart, but this needs "
-                                     f"{t.distance_mm:.4f} mm: move one (at_mm) or change "
+                                     f"{label[t.axis2]} {places(d, 4)} mm apart, but this needs "
+                                     f"{places(t.distance_mm, 4)} mm: move one (at_mm) or change "
                                      "the teeth or module")
             if abs(d - t.distance_mm) > EXACT_MM:
                 plate.notes.append(f"{t.label}: the file's positions are {d - t.distance_mm:+.4f}"
-                                   f" mm off the centre distance {t.distance_mm:.4f} mm; kept "
+                                   f" mm off the centre distance {places(t.distance_mm, 4)} mm; kept "
                                    "as written")
     _triangles(where, by_pair, label)
     ties_u = [t for t in by_pair.values() if not (t.axis1 in fixed and t.axis2 in fixed)]
@@ -250,7 +251,7 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
     if miss > EXACT_MM:
         raise PlacementError(where, tie.label, f"no placement keeps every centre distance: "
                              f"the closest found leaves the axes of {label[tie.axis1]} and "
-                             f"{label[tie.axis2]} {miss:.4f} mm off the {tie.distance_mm:.4f} mm "
+                             f"{label[tie.axis2]} {places(miss, 4)} mm off the {places(tie.distance_mm, 4)} mm "
                              "this needs (a loop of meshes that cannot close, or positions "
                              "fixed by at_mm); change teeth or modules in the loop")
     if loose:
@@ -283,9 +284,9 @@ def _triangles(where, by_pair, label) -> None:
                 if sides[2].distance_mm > short + EXACT_MM:
                     (via,) = {a, b, c} - {sides[2].axis1, sides[2].axis2}
                     raise PlacementError(
-                        where, sides[2].label, f"needs {sides[2].distance_mm:.4f} mm between "
+                        where, sides[2].label, f"needs {places(sides[2].distance_mm, 4)} mm between "
                         f"its axes, but {sides[0].label} and {sides[1].label} put them at most "
-                        f"{short:.4f} mm apart through {label[via]}: no position keeps both; "
+                        f"{places(short, 4)} mm apart through {label[via]}: no position keeps both; "
                         "change the teeth or module of one of the three meshes")
 
 

@@ -140,7 +140,8 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
         console.print(f"[bold]{escape(p.title)}[/] — hole centres x, y in mm")
         for h in p.info["holes"]:
             fixed = " (fixed by the file)" if h["fixed"] else ""
-            console.print(f"  {escape(h['axis'])}: {h['x_mm']:.4f}, {h['y_mm']:.4f}{fixed}")
+            console.print(f"  {escape(h['axis'])}: {support.fixed(h['x_mm'], 4)}, "
+                          f"{support.fixed(h['y_mm'], 4)}{fixed}")
     from ..toothform import DEEP_ADVICE, DEEP_NOTE_START, deep_teeth_text
 
     # deep cycloidal teeth: one note for all the wheels that have them, not one each
