@@ -91,6 +91,10 @@ traditional counts of crossed-out clock wheels (the crossing-out jig above is in
 them: clickspringprojects.com, "Wheel Crossing Jig"); which count for which size is common
 practice, no source."""
 
+MIN_CROSSING_MODULES = 1.0
+"""A crossing narrower at the rim than a module is too frail to cut or to hold the rim true:
+more crossings than leave that are refused and the wheel left solid (our rule, no source)."""
+
 MIN_WINDOW_CROSSINGS = 2.0
 """A window shallower, from hub to rim, than this many crossing widths is not worth cutting:
 the wheel is left solid (our rule, no source)."""
@@ -397,6 +401,8 @@ def crossed_blank(tooth: ToothForm, bore_mm: float, count: int,
     w_rim = CROSSING_SHARE * 2 * math.pi * rim_inner / count
     w_hub = min(CROSSING_TAPER * w_rim, HUB_SHARE * 2 * math.pi * hub / count)
     w_rim = min(w_rim, w_hub)  # never wider at the rim than at the hub
+    if w_rim < MIN_CROSSING_MODULES * tooth.module_mm:
+        return None
     if rim_inner - hub < MIN_WINDOW_CROSSINGS * w_rim:
         return None
     windows = crossing_windows(rim_inner, hub, count, w_rim, width_hub=w_hub)
