@@ -192,6 +192,18 @@ def test_demo_names_work_as_train_files(capsys):
         assert name in out
 
 
+def test_a_demo_name_that_is_also_a_folder_here_names_the_demo(tmp_path, monkeypatch, capsys):
+    # "wheelwork cut tide_office --out tide_office" makes a folder of that name; the next
+    # "wheelwork ratios tide_office" said "tide_office: is a folder, not a train file"
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "tide_office").mkdir()
+    assert main(["ratios", "tide_office", "--json"]) == 0
+    assert '"Tide office dial"' in capsys.readouterr().out
+    (tmp_path / "mine").mkdir()  # a folder that is no demo's name is still refused
+    assert main(["ratios", "mine"]) == 1
+    assert "is a folder, not a train file" in capsys.readouterr().err
+
+
 def test_help_imports_no_command_module():
     code = ("import sys; from engine.cli import main; assert main(['--help']) == 0; "
             "bad = [m for m in sys.modules if m.startswith(('engine.commands.', 'numpy', "

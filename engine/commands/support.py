@@ -209,6 +209,11 @@ def train_file(text: str) -> str:
     and the list of demos (:class:`TrainError`, exit 1 like any missing train file)."""
     from ..demos import demo_path
 
+    if Path(text).is_dir() and "/" not in text and os.sep not in text \
+            and demo_path(text) is not None:
+        # a folder is never a train file: a demo's name that is also a folder here (the
+        # cutting files of "wheelwork cut tide_office --out tide_office") names the demo
+        return str(demo_path(text))
     if Path(text).exists() or not text:
         return text
     found = demo_path(text)
