@@ -478,6 +478,10 @@ def _verdict(p95: float, dead: float, effect: float | None, drift: float, years:
         return (f"the ±{figure(effect)}° inequality is lost in the workshop's errors "
                 f"(±{figure(err)}°): cut the largest contributors more carefully")
     span_drift = abs(drift) * years / 100.0
+    if err == 0:  # a pointer on the crank's own arbor, or behind no mesh that can err
+        return ("no mesh between the crank and this pointer can err: the workshop adds "
+                f"nothing, and the ratio drifts {figure(span_drift)}° over "
+                f"{figure(years, 6)} years")
     if span_drift > err:
         return (f"the ratio's drift ({figure(span_drift)}° over {figure(years, 6)} years) "
                 "outgrows the "
