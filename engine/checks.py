@@ -370,7 +370,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
                          days_per_turn=Fraction(train.crank.days_per_turn))
     findings = report.findings
     deps, upstream = _power_flow(train, kin)
-    pin_checks = _pin_slots(train, pin_diameter_mm, findings, kin)
+    pin_checks = pin_slot_checks(train, pin_diameter_mm, findings, kin)
     report.pin_slots = pin_checks
     report.arbors = _arbors(train, kin, deps, upstream, pin_checks, crank_rpm, efficiency,
                             findings, real_time=bool(real_time))
@@ -431,8 +431,11 @@ def carried_slot_extremes(ps, carrier_rate: float, pin_rate: float,
     return (followed - others, arm + r + e, math.degrees(math.asin(others / followed)), lo, hi)
 
 
-def _pin_slots(train: Train, pin_d: float, findings: list[Finding],
-               kin=None) -> list[PinSlotCheck]:
+def pin_slot_checks(train: Train, pin_d: float, findings: list[Finding],
+                    kin=None) -> list[PinSlotCheck]:
+    """Each pin-and-slot stage's slot, lead and speed range (``pin_d``: the pin's diameter
+    where the file gives none), its notes and warnings appended to ``findings``; read by the
+    check and by ``wheelwork play`` (which passes the stage's speed range on)."""
     out = []
     default_d = pin_d
     for ps in train.pin_slots.values():

@@ -450,10 +450,10 @@ def slot_notes(train: Train, kin: Kinematics) -> list[str]:
     """The model passes small errors through a pin-and-slot 1:1; a stage whose speed ratio
     swings far from 1 (up to ``r / (r − e)``) carries them on that much larger at its fastest:
     one note per such stage, with its range (the check's figures)."""
-    from .checks import _pin_slots
+    from .checks import pin_slot_checks
 
     out = []
-    for c in _pin_slots(train, 1.0, [], kin):
+    for c in pin_slot_checks(train, 1.0, [], kin):
         lo, hi = c.speed_factor_min, c.speed_factor_max
         most = max(abs(lo), abs(hi))
         if most > SLOT_SPEED_NOTE or lo < 0:
