@@ -794,3 +794,16 @@ def test_a_large_wheel_cut_to_the_pinion_form_is_not_called_leaves(capsys, tmp_p
     assert title == ("mars_fixed: 96 teeth, module 0.5, cycloidal wheel, pinion form (the "
                      "smaller of its mesh)")
     assert parts["wheel-mars_fixed"]["role"] == "pinion"  # the form, as before
+
+
+def test_the_table_marks_a_bore_the_file_did_not_choose(tmp_path, capsys):
+    # the workshop test train chooses 1.5 mm for all; the lunation board chooses none, and its
+    # 2 mm bores were listed as if they were the maker's
+    assert main(["cut", str(SMALL), "--out", str(tmp_path / "s")]) == 0
+    out = capsys.readouterr().out
+    assert "1.5*" not in out and "* bore:" not in out
+    assert main(["cut", "lunation_board", "--out", str(tmp_path / "l")]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert " 2* " in out and " 1.7* " in out
+    assert "* bore: the tool's own (2 mm, less on a small pinion), the file choosing none: " \
+        "set bore_mm in [workshop] to your arbors" in out

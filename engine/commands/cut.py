@@ -131,9 +131,11 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
         table.add_row(escape(i["wheel"]), str(i["teeth"]), support.figure(i['module_mm'], 6),
                       f"{i['form']} {i['role']}", support.fixed(i['tip_diameter_mm'], 3),
                       support.fixed(i['root_diameter_mm'], 3),
-                      support.figure(i['bore_mm'], 6) if "bore_mm" in i else "—",
-                      _crossings_text(i))
+                      _bore_text(i), _crossings_text(i))
     support.print_table(console, table)
+    if any(p.kind == "wheel" and p.info.get("bore_chosen") is False for p in cut.parts):
+        console.print("* bore: the tool's own (2 mm, less on a small pinion), the file "
+                      "choosing none: set bore_mm in [workshop] to your arbors", markup=False)
     for p in cut.parts:
         if p.kind != "plate":
             continue
@@ -158,6 +160,13 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
         console.print(f"[cyan]note[/] {escape(name)}: {escape(n)}")
     console.print(f"wrote {len(written)} files (one per part{', plus sheet.*' if sheet else ''})")
     console.print(f"[dim]{escape(cut.caveat)}[/]")
+
+
+def _bore_text(info: dict) -> str:
+    """A wheel's bore as the table gives it: ``1.5``, or ``2*`` when the file chose none."""
+    if "bore_mm" not in info:
+        return "—"
+    return support.figure(info["bore_mm"], 6) + ("" if info.get("bore_chosen") else "*")
 
 
 def _crossings_text(info: dict) -> str:
