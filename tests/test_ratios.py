@@ -77,7 +77,7 @@ def test_text_output_names_stages_and_primes(capsys):
     assert "127/38 × 132/33" in out and "year_wheel (127)" in out
     # a prime count asks for a dividing-plate row of its own (or a multiple); the cutter goes
     # with the module, not the count (common practice, no source): it said "its own cutter"
-    assert "needing a dividing-plate row of that count or a multiple of it" in out
+    assert "needing a dividing-plate row of that count (or a multiple): year_wheel (127)" in out
     assert "cutter" not in out
 
 

@@ -414,9 +414,9 @@ def test_an_indented_line_wraps_under_itself(capsys, monkeypatch):
     monkeypatch.setenv("COLUMNS", "60")
     assert main(["ratios", "tide_office"]) == 0
     out = capsys.readouterr().out
-    assert re.search(r"(?m)^   dividing-plate row: sun_w1 \(59\), sun_p2 \(11\)$", out)
+    assert re.search(r"(?m)^   count \(or a multiple\): sun_w1 \(59\), sun_p2 \(11\)$", out)
     assert re.search(r"(?m)^   pin-and-slot pin_arbor→slot_arbor", out)
-    assert not re.search(r"(?m)^(dividing-plate|pin-and-slot|48=|whole train)", out)
+    assert not re.search(r"(?m)^(count|dividing-plate|pin-and-slot|48=|whole train)", out)
     assert max(len(line) for line in out.splitlines()) <= 60
     assert main(["play", "tide_office", "--builds", "20", "--samples", "8"]) == 0
     out = capsys.readouterr().out

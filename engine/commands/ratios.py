@@ -128,8 +128,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
             # the cutter goes with the module; a prime count goes with the dividing plate,
             # which must have a row of that count or a multiple of it
             support.print_indented(console, "prime counts, each needing a dividing-plate row "
-                                   "of that count or a multiple of it (no other row divides "
-                                   f"it): {', '.join(primes)}", 3)
+                                   f"of that count (or a multiple): {', '.join(primes)}", 3)
     sources: dict[str, list[str]] = {}
     for r in rows:
         for name, src in ((r.target_name, r.target_source),
