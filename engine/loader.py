@@ -126,6 +126,9 @@ class _Reader:
         return TrainError(self.where, safe_text(item), safe_text(problem))
 
     def table(self, value: object, item: str, kind: str) -> dict:
+        if isinstance(value, list) and value and all(isinstance(v, dict) for v in value):
+            raise self.fail(item, f"is written with double brackets, [{item}], which makes a "
+                            f"list of tables; write it once with single brackets, {item}")
         if not isinstance(value, dict):
             raise self.fail(item, f"should be a table of keys, got {_show(value)}")
         unknown = sorted(set(value) - _KEYS[kind])
@@ -337,6 +340,7 @@ def _table_depth(doc: dict) -> int:
     return deepest
 
 
+_NAMED_SECTIONS = ("arbors", "pointers", "pin_slots", "workshop")
 _QUOTED = re.compile(r'"(?:[^"\\]|\\.)*"|\'[^\']*\'')
 _PLAIN_WORDS = re.compile(r"[^\W\d][\w .'-]*$")  # a word or words, as text written bare
 
@@ -356,6 +360,16 @@ def _toml_hint(text: str, message: str) -> str:
         return ("; a name with letters other than A-Z, a-z, 0-9, _ and - goes in quotes, "
                 'e.g. [arbors."année"] or "jahresräd" = 127')
     value = value.strip()
+    header = re.fullmatch(r"(\[\[?)\s*([A-Za-z0-9_.-]+)\s*\]\]?", line)
+    if header and not value:  # a table header clashing with another written otherwise
+        double, name = header[1] == "[[", header[2]
+        if name.split(".")[0] == "meshes":
+            return ("; every mesh is its own [[meshes]] table, with double brackets ([meshes] "
+                    "with single brackets is one table, which can be written once)")
+        if double and name.split(".")[0] in _NAMED_SECTIONS:
+            return (f"; [[{safe_text(name[:120])}]] with double brackets makes a list: write "
+                    f"each as a named table in single brackets, as above "
+                    f"([{safe_text(name[:120])}.NAME])")
     if key.strip() == "date" and value and value[0] not in "\"'":
         # TOML's own dates have years 0001-9999 and no era: a year before AD 1, BC, a month
         # name or a JD is text to TOML, so it goes in quotes
@@ -473,11 +487,20 @@ def _read_cycle(r: _Reader, tbl: dict, item: str, shows: str):
     return Fraction(n), marks
 
 
+def _named_tables(r: _Reader, section, key: str, example: str) -> None:
+    """A section of named tables (``[arbors.NAME]``) written as a list, ``[[arbors]]``, as
+    ``[[meshes]]`` is: say how it is written instead."""
+    if isinstance(section, list) and section and all(isinstance(v, dict) for v in section):
+        raise r.fail(f"[[{key}]]", f"is written with double brackets, which makes a list; "
+                     f"each is a table with its name, in single brackets: [{key}.{example}]")
+
+
 def _count(r: _Reader, section, item: str, most: int, what: str) -> None:
     if len(section) > most:
         raise r.fail(item, f"{len(section):,} {what}; a train may have at most {most:,}")
 def _read_arbors(r: _Reader, doc: dict):
     section = doc.get("arbors")
+    _named_tables(r, section, "arbors", "day")
     if not isinstance(section, dict) or not section:
         raise r.fail("[arbors]", "the train needs at least one arbor ([arbors.NAME] tables)")
     _count(r, section, "[arbors]", MAX_ARBORS, "arbors")
@@ -558,6 +581,16 @@ def _check_mounts(r: _Reader, arbors: dict[str, Arbor]) -> None:
 
 def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh, ...]:
     section = doc.get("meshes", [])
+    if isinstance(section, dict) and all(isinstance(v, dict) for v in section.values()) \
+            and section:
+        raise r.fail("[meshes]", "is written as named tables, [meshes.NAME]; a mesh has no "
+                     "name: each is a table of its "
+                     "own written with double brackets, [[meshes]], then its wheels = "
+                     "[\"driver\", \"driven\"]")
+    if isinstance(section, dict):
+        raise r.fail("[meshes]", "is written with single brackets; each mesh is a table of its "
+                     "own written with double brackets, [[meshes]], then its wheels = "
+                     "[\"driver\", \"driven\"]")
     if not isinstance(section, list):
         raise r.fail("[[meshes]]", "should be a list of [[meshes]] tables")
     _count(r, section, "[[meshes]]", MAX_MESHES, "meshes")
@@ -612,6 +645,7 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
 
 def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str, PinSlot]:
     section = doc.get("pin_slots", {})
+    _named_tables(r, section, "pin_slots", "anomaly")
     if not isinstance(section, dict):
         raise r.fail("[pin_slots]", "should be [pin_slots.NAME] tables")
     _count(r, section, "[pin_slots]", MAX_PIN_SLOTS, "pin-and-slot stages")
@@ -710,6 +744,7 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
 
 def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
     section = doc.get("pointers")
+    _named_tables(r, section, "pointers", "moon")
     if not isinstance(section, dict) or not section:
         raise r.fail("[pointers]", "the train needs at least one pointer ([pointers.NAME])")
     _count(r, section, "[pointers]", MAX_POINTERS, "pointers")
@@ -842,6 +877,7 @@ def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:
     item = "[workshop]"
     per_wheel = {}
     section = tbl.get("wheels", {})
+    _named_tables(r, section, "workshop.wheels", "sun_w1")
     if not isinstance(section, dict):
         raise r.fail(f"{item} wheels", "should be [workshop.wheels.NAME] tables")
     for wname, wt in section.items():

@@ -113,6 +113,22 @@ def test_good_file_loads_with_exact_fraction():
      ["not valid TOML", "line", "[arbors.b] is written twice: put its keys in one table"]),
     ("[crank]", "[train]\n[crank]",  # a one-part name: the reader says "('train',)"
      ["not valid TOML", "line", "[train] is written twice: put its keys in one table"]),
+    # single and double brackets mixed up, as a newcomer to TOML writes them: the reader
+    # says only "Cannot overwrite a value" or "Cannot declare ('meshes',) twice", and for a
+    # second mesh written [meshes] the hint for a table written twice was wrong advice
+    ("[[meshes]]", "[meshes]\nwheels = [\"a1\", \"b1\"]\n[[meshes]]",
+     ["not valid TOML", "line", "every mesh is its own [[meshes]] table, with double brackets"]),
+    ("[[meshes]]", "[[meshes]]\nwheels = [\"a1\", \"b1\"]\n[meshes]",
+     ["not valid TOML", "line", "every mesh is its own [[meshes]] table, with double brackets"]),
+    ("[[meshes]]", "[meshes]", ["[meshes]: is written with single brackets", "[[meshes]]"]),
+    ("[[meshes]]", "[meshes.first]", ["[meshes]: is written as named tables", "[[meshes]]"]),
+    ("[arbors.b]", "[[arbors]]", ["not valid TOML", "line", "[[arbors]] with double brackets "
+                                  "makes a list", "([arbors.NAME])"]),
+    ("[pointers.p]", "[[pointers]]", ["[[pointers]]: is written with double brackets",
+                                      "[pointers.moon]"]),
+    ("[pointers.p]", "[[pointers.p]]", ["[pointers.p]: is written with double brackets, "
+                                        "[[pointers.p]]", "single brackets, [pointers.p]"]),
+    ("[crank]", "[[crank]]", ["[crank]: is written with double brackets", "[crank]"]),
     # an epoch in antiquity written bare, as TOML's own dates may be: TOML has no year
     # before 0001, no era and no month names, so the reader's words say nothing of quotes
     ('date = "2026-01-01 00:00"', "date = -0249-06-21",
