@@ -82,6 +82,9 @@ _MONTHS = {
     for name in names
 }
 
+_MONTH_NAMES = ("January", "February", "March", "April", "May", "June", "July", "August",
+                "September", "October", "November", "December")
+
 _TIME = r"(?:[ T](?P<h>\d{1,2}):(?P<mi>\d{2})(?::(?P<s>\d{2}(?:\.\d+)?))?)?"
 _ZONE = r"(?:\s*(?:Z|UT|UTC|GMT))?"
 # an ISO offset from UT after a time of day (+01:00, -0500), as clocks and TOML write it
@@ -346,6 +349,52 @@ _MONTH_YEAR = re.compile(r"(?P<mname>[A-Za-z]+)\.?,?\s+(?P<y>(?P<sign>)(?P<digit
 _DECIMAL = re.compile(r"[+-]?(?:\d+\.\d*|\.\d+)")
 
 
+def compact_date(digits: str) -> str | None:
+    """``'2026-12-03'`` for eight digits that read as a year, month and day run together
+    (``20261203``, as some programs write dates); ``None`` for any other text."""
+    m = re.fullmatch(r"(\d{4})(\d\d)(\d\d)", digits)
+    if not m or not (1 <= int(m[2]) <= 12 and 1 <= int(m[3]) <= 31):
+        return None
+    return f"{m[1]}-{m[2]}-{m[3]}"
+
+
+# Day, month and year in figures with slashes or dots (03/12/2026, 3.12.2026, 2026/12/03)
+_SLASHED = re.compile(r"(?P<a>\d{1,4})(?P<sep>[/.])(?P<b>\d{1,2})(?P=sep)(?P<c>\d{1,4})"
+                      r"(?P<rest>(?:[ T,].*)?)")
+
+
+def _slashed_hint(s: str) -> str | None:
+    """How to write a date given in figures with slashes or dots, year first with hyphens:
+    ``2026/12/03`` is plain; ``13/12/2026`` can only be a day first; ``03/12/2026`` may be
+    3 December or 12 March, so both are named. ``None`` when the text is no such date."""
+    m = _SLASHED.fullmatch(s)
+    if not m:
+        return None
+    a, b, c = m["a"], m["b"], m["c"]
+    rest = m["rest"].lstrip(" T,")
+    tail = f" {rest}" if rest else ""
+    if len(a) == 4 and len(c) <= 2:
+        if not 1 <= int(b) <= 12:
+            return None
+        return f"write it year first with hyphens: {a}-{int(b):02d}-{int(c):02d}{tail}"
+    if len(c) != 4:
+        return ("write the year in full, year first with hyphens (1957-10-04 for 4 October "
+                "1957)")
+    options = []
+    for day, month in ((a, b), (b, a)):
+        if 1 <= int(month) <= 12 and 1 <= int(day) <= 31:
+            name = _MONTH_NAMES[int(month) - 1]
+            option = f"{c}-{int(month):02d}-{int(day):02d}{tail} ({int(day)} {name} {c})"
+            if option not in options:
+                options.append(option)
+    if not options:
+        return None
+    if len(options) == 1:
+        return f"write it year first with hyphens: {options[0]}"
+    return (f"day and month could be either way round; write it year first with hyphens: "
+            f"{options[0]} or {options[1]}")
+
+
 def _first_day(text: str, s: str) -> str:
     """A year alone (``250 BC``, ``1066``, ``-0249``) or a month with its year (``June 250
     BC``, ``1066-10``) written as the full date of its first day (``250-01-01 BC``, ``1
@@ -357,7 +406,7 @@ def _first_day(text: str, s: str) -> str:
     if not m:
         m = _MONTH_YEAR.fullmatch(s)
         if not m or m["mname"].lower() not in _MONTHS:
-            raise _fail(text, "not a date form I know")
+            raise _fail(text, _slashed_hint(s) or "not a date form I know")
     y, era = m["y"], f" {m['era']}" if m["era"] else ""
     short = not era and not m["sign"] and len(m["digits"]) <= 2
     if "m" in m.groupdict() and m["m"]:
@@ -376,6 +425,11 @@ def _first_day(text: str, s: str) -> str:
         raise _fail(text, f"it is outside the dates wheelwork handles ({RANGE_TEXT})")
     if not era and len(m["digits"]) >= 5:
         as_year = f", for a year '{y}-01-01'" if len(m["digits"]) <= 6 else ""
+        compact = compact_date(y)
+        if compact:  # 20261203: a date run together, far likelier than year 20261203's JD
+            raise _fail(text, f"a bare number is not read as a date; for that day write "
+                        f"'{compact}' (year, month, day with hyphens), for a Julian Date "
+                        f"'JD {y}'")
         raise _fail(text, f"a bare number of 5 or more digits is not read as a year; for a "
                     f"Julian Date write 'JD {y}'{as_year}")
     return f"{y}-01-01{era}"

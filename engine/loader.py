@@ -837,6 +837,13 @@ def _epoch_date(value: object, calendar: str, parse_date) -> tuple[str, float]:
     if isinstance(value, int) and not isinstance(value, bool) and -9999 <= value <= 9999:
         # a year written bare: TOML reads it as a whole number; in quotes it is that year
         jd_hint = f', or a year in quotes, "{value}" (its 1 January){jd_hint}'
+    from .dates import compact_date
+
+    compact = compact_date(str(value)) if isinstance(value, int) else None
+    if compact:  # 20261203: year, month and day run together
+        raise DateError(f'a number is not read as a date: for that day write "{compact}" '
+                        f'(in quotes, with hyphens), for a Julian Date "JD {value}"; got '
+                        f'{_show(value)}')
     raise DateError(f"should be a date like \"2026-01-01 06:30\" (UT){jd_hint}, got "
                     f"{_show(value)}")
 

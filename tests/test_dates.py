@@ -521,3 +521,33 @@ def test_a_year_or_month_alone_refuses_what_stays_ambiguous(text, words):
         parse_date(text)
     msg = str(info.value)
     assert words in msg and repr(text) in msg and "\n" not in msg
+
+
+@pytest.mark.parametrize("text, words", [
+    # figures with slashes or dots, as many countries write dates: the way round is named
+    ("03/12/2026", ["either way round", "2026-12-03 (3 December 2026)",
+                    "2026-03-12 (12 March 2026)"]),
+    ("3.12.2026", ["either way round", "2026-12-03 (3 December 2026)"]),
+    ("13/12/2026", ["year first with hyphens: 2026-12-13 (13 December 2026)"]),
+    ("12/13/2026 06:30", ["year first with hyphens: 2026-12-13 06:30 (13 December 2026)"]),
+    ("2026/05/01", ["year first with hyphens: 2026-05-01"]),
+    ("03/12/26", ["write the year in full"]),
+    # eight figures run together, as programs write dates: the day first, the JD after
+    ("20261203", ["for that day write '2026-12-03'", "'JD 20261203'"]),
+])
+def test_a_date_in_another_order_is_answered_with_the_iso_form(text, words):
+    """A new user writes the date the way their country does; the message said only 'not a
+    date form I know' (and for 20261203 offered 'JD 20261203', a day 50,000 years ahead)."""
+    with pytest.raises(DateError) as err:
+        parse_date(text)
+    msg = str(err.value)
+    for w in words:
+        assert w in msg, msg
+    assert "\n" not in msg
+    assert "either way round" not in msg or text.startswith(("03", "3."))
+
+
+def test_eight_figures_that_are_no_date_keep_the_julian_date_hint():
+    with pytest.raises(DateError, match="5 or more digits") as err:
+        parse_date("20261303")  # month 13
+    assert "JD 20261303" in str(err.value)

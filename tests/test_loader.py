@@ -139,6 +139,10 @@ def test_good_file_loads_with_exact_fraction():
      ["not valid TOML", "line", 'goes in quotes: date = "0000-06-21"']),
     ('date = "2026-01-01 00:00"', "date = 21 June 250 BC",
      ["not valid TOML", "line", 'goes in quotes: date = "21 June 250 BC"']),
+    ('date = "2026-01-01 00:00"', "date = 20261203",  # year, month, day run together
+     ["[epoch] date", 'for that day write "2026-12-03" (in quotes', '"JD 20261203"']),
+    ('date = "2026-01-01 00:00"', 'date = "03/12/2026"',
+     ["[epoch] date", "2026-12-03 (3 December 2026) or 2026-03-12 (12 March 2026)"]),
     ('date = "2026-01-01 00:00"', "date = 1630282.0",
      ["[epoch] date", 'a Julian Date in quotes, "JD 1630282.0"']),
     # a year alone, unquoted: TOML's whole number, which in quotes is that year's 1 January
