@@ -74,11 +74,14 @@ def sky_for(train: Train, ephemeris=None):
         raise TrainError(train.source, "[epoch] ephemeris", str(exc)) from None
 
 
-def wider_sky(sky, jd_first: float, jd_last: float, what: str = "the span runs past"):
+def wider_sky(sky, jd_first: float, jd_last: float, what: str = "the span runs past",
+              use: str = "compared with"):
     """When ``sky`` (the bundled one, nothing named) does not cover ``jd_first`` ..
     ``jd_last`` (UT): ``(Sky, note)`` for the narrowest installed long-span ephemeris of
     :data:`engine.sky.LONG_SPANS` that does, and the note saying so; ``None`` when ``sky``
-    covers them or none installed does (the span check then says how to reach them)."""
+    covers them or none installed does (the span check then says how to reach them).
+    ``use`` says what is done with it: "compared with" (a train against the sky), "read
+    from" (the sky alone, ``wheelwork sky``)."""
     import importlib.util
 
     from .sky import LONG_SPANS, Sky
@@ -90,7 +93,7 @@ def wider_sky(sky, jd_first: float, jd_last: float, what: str = "the span runs p
     for name, _, package, span, _, a, b in sorted(LONG_SPANS, key=lambda row: row[4]):
         if a <= first and last <= b and importlib.util.find_spec(package) is not None:
             wide = Sky(name)
-            return wide, (f"{what} {sky.name} ({sky.span_text}): compared with "
+            return wide, (f"{what} {sky.name} ({sky.span_text}): {use} "
                           f"{wide.name} ({span}, installed) instead; --ephemeris chooses")
     return None
 

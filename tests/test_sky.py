@@ -365,6 +365,8 @@ def test_sky_command(capsys):
     out, err = capsys.readouterr()
     assert json.loads(out)["ephemeris"] == f"JPL {name}"
     assert err.startswith("wheelwork: note: the date lies outside JPL DE421") and name in err
+    # the sky command compares nothing: the note says the sky is read from it
+    assert f"read from JPL {name}" in " ".join(err.split()) and "compared" not in err
     assert main(["sky", "2025-02-30"]) == 2  # a date that cannot be read: usage, exit 2
     assert "day 30 is not in 1-28" in capsys.readouterr().err
     assert main(["sky", "2025-03-20", "--site", "95,0"]) == 2

@@ -63,7 +63,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
         from ..mechanism import wider_sky
 
-        wide = wider_sky(sky, jd, jd, what="the date lies outside")
+        wide = wider_sky(sky, jd, jd, what="the date lies outside", use="read from")
         if wide is not None:
             sky, note = wide
             Console(stderr=True, highlight=False).print(f"wheelwork: note: {note}",
