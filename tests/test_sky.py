@@ -367,6 +367,10 @@ def test_sky_command(capsys):
     assert err.startswith("wheelwork: note: the date lies outside JPL DE421") and name in err
     # the sky command compares nothing: the note says the sky is read from it
     assert f"read from JPL {name}" in " ".join(err.split()) and "compared" not in err
+    # a site south and west is written with its compass letters, as the interface writes it
+    # ('-33.8700°, -70.0000° E' left the reader to work out the hemisphere)
+    assert main(["sky", "2026-03-20", "--site", "-33.87,-70.5,20"]) == 0
+    assert "seen from 33.8700°S, 70.5000°W, 20 m" in " ".join(capsys.readouterr().out.split())
     assert main(["sky", "2025-02-30"]) == 2  # a date that cannot be read: usage, exit 2
     assert "day 30 is not in 1-28" in capsys.readouterr().err
     assert main(["sky", "2025-03-20", "--site", "95,0"]) == 2

@@ -90,7 +90,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
         })
         return 0
     where = ("the Earth's centre" if site is None else
-             f"{site.lat_deg:+.4f}°, {site.lon_deg:+.4f}° E, {site.height_m:g} m")
+             f"{abs(site.lat_deg):.4f}°{'N' if site.lat_deg >= 0 else 'S'}, "
+             f"{abs(site.lon_deg):.4f}°{'E' if site.lon_deg >= 0 else 'W'}, {site.height_m:g} m")
     frame_text = "fixed J2000 ecliptic (stars)" if args.stars else "true ecliptic and equinox of date"
     console.print(f"[bold]{format_jd(jd, args.calendar, seconds=True)}[/]  JD {jd:.6f} UT")
     console.print(f"ΔT {v['delta_t_s']:,.1f} s ± {_sigma(v['delta_t_sigma_s'])} · "
