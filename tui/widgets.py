@@ -20,7 +20,7 @@ from textual_hires_canvas import Canvas, HiResMode
 from textual_plot import NumericAxisFormatter
 
 from engine.dates import format_jd, turn_days_text
-from engine.figures import figure
+from engine.figures import figure, fixed
 from engine.view import (
     TrainLayout,
     arbor_at,
@@ -1100,6 +1100,14 @@ def _fit(width: int, indent: int, *choices: tuple[str, ...]) -> tuple[str, ...]:
 class Status(RowStatic):
     """Date, crank turns, ΔT, ephemeris and span, frame and observer, step and speed."""
 
+    @staticmethod
+    def delta_t_text(delta_t_s: float, sigma_s: float) -> str:
+        """ΔT and its standard error in plain figures, thousands separated as the commands
+        write them (``10,343.2 s ± 310 s`` in 150 BC, where ``10343.2`` was written)."""
+        pm = (fixed(sigma_s, 0) if sigma_s >= 10 else f"{sigma_s:.1f}" if sigma_s >= 1
+              else figure(sigma_s, 1))
+        return f"{fixed(delta_t_s, 1)} s ± {pm} s"
+
     def __init__(self, session: Session, **kwargs):
         super().__init__(**kwargs)
         self.session = session
@@ -1152,9 +1160,7 @@ class Status(RowStatic):
         t.append(speed)
         t.append(f"{per_turn}\n", style=colours["accent"])
         t.append("ΔT       ", style="dim")
-        sigma = now.delta_t_sigma_s
-        pm = f"{sigma:.0f}" if sigma >= 10 else f"{sigma:.1f}" if sigma >= 1 else figure(sigma, 1)
-        t.append(f"{now.delta_t_s:.1f} s ± {pm} s\n")
+        t.append(self.delta_t_text(now.delta_t_s, now.delta_t_sigma_s) + "\n")
         t.append("sky      ", style="dim")
         # the dates of the span when the line holds them (with a cell to spare each side),
         # else years only: DE406's span is longer than DE421's and was cut with "…"
