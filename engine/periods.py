@@ -240,6 +240,7 @@ def find_period(text: str) -> MeanPeriod:
         if wants & names:
             return p
     aliases = {"year": "tropical_year", "month": "synodic_month", "lunation": "synodic_month",
+               "lunar_month": "synodic_month",  # the lunation, as calendars use the words
                "metonic": "metonic_cycle", "metonic_relation": "synodic_month_235_in_19",
                "node": "nodal_period", "apsis": "apsidal_period", "apse": "apsidal_period"}
     for w in wants:
@@ -252,6 +253,13 @@ def find_period(text: str) -> MeanPeriod:
               for n in (norm(p.key), norm(p.name.split(" (")[0]))} | {norm(n) for n in aliases}
     near = difflib.get_close_matches(said, sorted(spoken), n=1, cutoff=0.75)
     hint = f" (did you mean {near[0]!r}?)" if near else ""
+    words = said.split()
+    holding = [norm(p.name.split(" (")[0]) for p in PERIODS.values()
+               if words and all(w in norm(p.name.split(" (")[0]).split() for w in words)]
+    if holding:  # a word of the name alone ('synodic', 'sidereal'): the names holding it
+        more = f" and {len(holding) - 8} more" if len(holding) > 8 else ""
+        hint = (f" (the periods named with {'that word' if len(words) == 1 else 'those words'}"
+                f": {', '.join(repr(h) for h in holding[:8])}{more})")
     raise UnknownName(f"unknown period {text!r}{hint}; known periods: {known}")
 
 

@@ -395,6 +395,29 @@ def test_a_mistyped_cycle_is_answered_with_the_nearest(typed, meant, capsys):
     assert err.count("\n") == 1
 
 
+@pytest.mark.parametrize("typed, names", [
+    ("synodic", ["'synodic month'", "'venus synodic period'"]),
+    ("sidereal", ["'sidereal year'", "'sidereal month'", "'mars sidereal period'"]),
+    ("mars", ["'mars sidereal period'", "'mars synodic period'"]),
+])
+def test_one_word_of_a_name_is_answered_with_the_names_holding_it(typed, names, capsys):
+    """A new user types the word they know ('synodic'): that was answered 'unknown period'
+    and forty names, or with one near name ('sidereal year') where the month was as likely."""
+    assert main(["search", "--cycle", typed]) == 2
+    err = capsys.readouterr().err
+    assert f"unknown period '{typed}' (the periods named with that word: " in err
+    assert "did you mean" not in err and err.count("\n") == 1
+    for name in names:
+        assert name in err.split("; known periods")[0], err
+
+
+def test_a_lunar_month_is_the_synodic_month():
+    # as calendars use the words: the month of the phases (common practice, no source)
+    from engine.periods import find_period
+
+    assert find_period("lunar month") is find_period("synodic month")
+
+
 def test_cli_table(capsys):
     assert main(["search", "--cycle", "synodic month", "--stages", "1", "--pinions", "1-4",
                  "--wheels", "59"]) == 0
