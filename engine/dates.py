@@ -633,3 +633,15 @@ def jd_now(clock=None) -> float:
     import time
 
     return (clock or time.time)() / SECONDS_PER_DAY + _UNIX_EPOCH_JD
+
+
+def parse_when(text: str, *, calendar: str = "auto", clock=None) -> float:
+    """:func:`parse_date`, and also ``now`` (this moment by the computer's clock, as
+    :func:`jd_now`) and ``today`` (its date at 00:00 UT), as a command's date may be given;
+    :func:`parse_date` itself stays free of the clock. ``clock`` as for :func:`jd_now`."""
+    word = text.strip().lower() if isinstance(text, str) else None
+    if word == "now":
+        return jd_now(clock)
+    if word == "today":
+        return math.floor(jd_now(clock) - 0.5) + 0.5
+    return parse_date(text, calendar=calendar)

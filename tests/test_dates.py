@@ -551,3 +551,21 @@ def test_eight_figures_that_are_no_date_keep_the_julian_date_hint():
     with pytest.raises(DateError, match="5 or more digits") as err:
         parse_date("20261303")  # month 13
     assert "JD 20261303" in str(err.value)
+
+
+def test_now_and_today_are_read_by_the_commands_from_the_clock():
+    """`wheelwork sky now` and `drift --from today` as a new user types them: 'not a date
+    form I know'. The clock reading is the computer's UTC: 2026-12-03 06:30 UTC is
+    1,796,279,400 s after 1970-01-01 (20,790 days and 6.5 hours: 20790 × 86400 + 23400,
+    worked by hand), JD 2461377.770833 (2440587.5 + 20790.270833)."""
+    from engine.dates import parse_when
+
+    def clock():
+        return 1_796_279_400.0
+
+    assert parse_when("now", clock=clock) == pytest.approx(2461377.770833, abs=1e-6)
+    assert parse_when(" Today ", clock=clock) == 2461377.5
+    assert format_jd(parse_when("today", clock=clock)) == "2026-12-03 00:00 UT (Gregorian)"
+    assert parse_when("2026-12-03") == parse_date("2026-12-03")
+    with pytest.raises(DateError):
+        parse_date("now")  # parse_date reads no clock: the same text gives the same day

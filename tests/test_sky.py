@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import math
 import re
 
@@ -342,6 +343,23 @@ def test_bad_ephemeris(tmp_path):
         Sky(junk)
     with pytest.raises(SkyError, match="unknown frame"):
         Sky().at(2451545.0, frame="galactic")
+
+
+def test_sky_without_a_date_is_now(capsys, monkeypatch):
+    """`wheelwork sky` alone, or `sky now`, shows this moment's sky (the computer's clock),
+    as the interface's `n` does; it was a usage error, 'the following arguments are
+    required: date'. 1,796,279,400 s after 1970 is 2026-12-03 06:30 UTC (worked by hand)."""
+    import time
+
+    from engine.cli import main
+
+    monkeypatch.setattr(time, "time", lambda: 1_796_279_400.0)
+    for args in (["sky", "--json"], ["sky", "now", "--json"]):
+        assert main(args) == 0
+        out = json.loads(capsys.readouterr().out)
+        assert out["date"] == "2026-12-03 06:30:00 UT (Gregorian)"
+    assert main(["sky", "today", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["date"].startswith("2026-12-03 00:00:00")
 
 
 def test_sky_command(capsys):

@@ -15,8 +15,10 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("date", help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
-                        "'44-03-15 BC', '15 March 44 BC' or 'JD 2451545.0'")
+    parser.add_argument("date", nargs="?", default="now",
+                        help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
+                        "'44-03-15 BC', '15 March 44 BC', 'JD 2451545.0', today (00:00 UT) "
+                        "or now (the default: the computer's clock)")
     parser.add_argument("--calendar", default="auto", type=support.word,
                         choices=("auto", "julian", "gregorian"),
                         help="calendar of DATE (auto: Julian before 1582-10-15, then Gregorian)")
@@ -48,12 +50,12 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from rich import box
     from rich.markup import escape
 
-    from ..dates import calendar_date, format_jd, parse_date
+    from ..dates import calendar_date, format_jd, parse_when
     from ..sites import parse_site
     from ..sky import PLANETS, Sky
 
     try:
-        jd = parse_date(args.date, calendar=args.calendar)
+        jd = parse_when(args.date, calendar=args.calendar)
     except DateError as exc:  # read after --calendar is known, so not an argparse type
         raise UsageError(f"argument date: {exc}") from None
     site = parse_site(args.site) if args.site else None  # checked by the option's type

@@ -109,11 +109,11 @@ def _type_error(exc: Exception) -> argparse.ArgumentTypeError:
 
 
 def date(text: str) -> float:
-    """A date as the docs show it (UT) → JD."""
-    from ..dates import parse_date
+    """A date as the docs show it (UT), or ``now`` or ``today`` → JD."""
+    from ..dates import parse_when
 
     try:
-        return parse_date(text)
+        return parse_when(text)
     except WheelworkError as exc:
         raise _type_error(exc) from None
 
