@@ -68,4 +68,4 @@ def test_the_sky_from_a_place_with_compass_letters_is_the_sky_from_its_numbers(c
     letters = capsys.readouterr().out
     assert main(["sky", "2026-01-01", "--site", "-33.87,151.21,60"]) == 0
     assert capsys.readouterr().out == letters
-    assert "-33.8700°" in letters
+    assert "33.8700°S, 151.2100°E" in letters  # written back with its compass letters
