@@ -91,6 +91,11 @@ traditional counts of crossed-out clock wheels (the crossing-out jig above is in
 them: clickspringprojects.com, "Wheel Crossing Jig"); which count for which size is common
 practice, no source."""
 
+CORNER_FRACTION = 0.25
+"""The windows' corners are rounded to a quarter of the crossing's width at the rim: a sharp
+inside corner is where a crossing cracks, and no saw or cutter leaves one (common practice,
+no source; the fraction from memory)."""
+
 MIN_CROSSING_MODULES = 1.0
 """A crossing narrower at the rim than a module is too frail to cut or to hold the rim true:
 more crossings than leave that are refused and the wheel left solid (our rule, no source)."""
@@ -378,11 +383,13 @@ class CrossedBlank:
     width_rim_mm: float
     width_hub_mm: float
     windows: list
+    corner_mm: float = 0.0  # the rounds in the windows' corners (at most; halved to fit)
 
     def info(self) -> dict:
         return {"crossings": self.count, "rim_mm": self.rim_mm,
                 "hub_diameter_mm": 2 * self.hub_mm,
-                "crossing_width_mm": {"at_rim": self.width_rim_mm, "at_hub": self.width_hub_mm}}
+                "crossing_width_mm": {"at_rim": self.width_rim_mm, "at_hub": self.width_hub_mm},
+                "corner_radius_mm": self.corner_mm}
 
 
 def crossed_blank(tooth: ToothForm, bore_mm: float, count: int,
@@ -405,16 +412,19 @@ def crossed_blank(tooth: ToothForm, bore_mm: float, count: int,
         return None
     if rim_inner - hub < MIN_WINDOW_CROSSINGS * w_rim:
         return None
-    windows = crossing_windows(rim_inner, hub, count, w_rim, width_hub=w_hub)
+    corner = CORNER_FRACTION * w_rim
+    windows = crossing_windows(rim_inner, hub, count, w_rim, width_hub=w_hub, corner=corner)
     if windows is None:
         return None
-    return CrossedBlank(count, rim, hub, w_rim, w_hub, windows)
+    return CrossedBlank(count, rim, hub, w_rim, w_hub, windows, corner)
 
 
 def crossing_windows(rim_inner: float, hub_outer: float, n: int, width: float,
-                     arc_step: float = math.radians(2.0), width_hub: float | None = None):
+                     arc_step: float = math.radians(2.0), width_hub: float | None = None,
+                     corner: float = 0.0):
     """The ``n`` windows between straight crossings from a hub to a rim, ``width`` wide at the
-    rim and ``width_hub`` (default the same) at the hub, as closed polylines; ``None`` when
+    rim and ``width_hub`` (default the same) at the hub, as closed polylines, their corners
+    rounded to ``corner`` (halved until the rounds fit; sharp when none does); ``None`` when
     they do not fit."""
     width_hub = width if width_hub is None else width_hub
     if rim_inner - hub_outer < width or width_hub / 2 >= hub_outer or width / 2 >= rim_inner:
@@ -427,12 +437,94 @@ def crossing_windows(rim_inner: float, hub_outer: float, n: int, width: float,
     out = []
     for i in range(n):
         t0, t1 = i * step, (i + 1) * step
-        a_out = np.linspace(t0 + d_out, t1 - d_out, max(int((step - 2 * d_out) / arc_step), 2))
-        a_in = np.linspace(t1 - d_in, t0 + d_in, max(int((step - 2 * d_in) / arc_step), 2))
-        pts = np.vstack([np.column_stack([rim_inner * np.cos(a_out), rim_inner * np.sin(a_out)]),
-                         np.column_stack([hub_outer * np.cos(a_in), hub_outer * np.sin(a_in)])])
+        pts = None
+        rho = corner
+        for _ in range(4):  # a corner radius too large for the window is halved
+            if rho <= 0:
+                break
+            pts = _rounded_window(rim_inner, hub_outer, t0, t1, d_out, d_in, rho, arc_step)
+            if pts is not None:
+                break
+            rho /= 2
+        if pts is None:  # sharp corners
+            a_out = np.linspace(t0 + d_out, t1 - d_out,
+                                max(int((step - 2 * d_out) / arc_step), 2))
+            a_in = np.linspace(t1 - d_in, t0 + d_in, max(int((step - 2 * d_in) / arc_step), 2))
+            pts = np.vstack([_arc(0.0, 0.0, rim_inner, a_out), _arc(0.0, 0.0, hub_outer, a_in)])
         out.append(pts)
     return out
+
+
+def _arc(cx: float, cy: float, r: float, angles: np.ndarray) -> np.ndarray:
+    return np.column_stack([cx + r * np.cos(angles), cy + r * np.sin(angles)])
+
+
+def _fillet(rc: float, inside: bool, p: np.ndarray, q: np.ndarray, into: np.ndarray,
+            rho: float):
+    """The round of radius ``rho`` in the corner between the circle of radius ``rc`` about the
+    wheel's centre and the straight crossing edge from ``p`` (hub end) to ``q`` (rim end),
+    on the window's side (``into``, a point inside the window): its centre, its tangent point
+    on the circle and on the edge, and how far along the edge from ``p`` that is; ``None``
+    when no such round exists."""
+    u = (q - p) / np.hypot(*(q - p))
+    nrm = np.array([-u[1], u[0]])
+    if np.dot(into - p, nrm) < 0:
+        nrm = -nrm
+    r_c = rc - rho if inside else rc + rho
+    start = p + rho * nrm
+    b, c = float(np.dot(start, u)), float(np.dot(start, start)) - r_c * r_c
+    disc = b * b - c
+    if r_c <= 0 or disc < 0:
+        return None
+    s = -b + math.sqrt(disc)  # the centre outward of the hub end
+    centre = start + s * u
+    on_circle = centre * (rc / np.hypot(*centre))
+    on_edge = centre - rho * nrm
+    return centre, on_circle, on_edge, float(np.dot(on_edge - p, u))
+
+
+def _fillet_arc(centre, a, b, step: float) -> np.ndarray:
+    """Points of the round about ``centre`` from ``a`` to ``b``, the short way."""
+    r = float(np.hypot(*(a - centre)))
+    t0 = math.atan2(a[1] - centre[1], a[0] - centre[0])
+    t1 = math.atan2(b[1] - centre[1], b[0] - centre[0])
+    dt = (t1 - t0 + math.pi) % (2 * math.pi) - math.pi
+    k = max(int(math.ceil(abs(dt) / step)), 2)
+    return _arc(centre[0], centre[1], r, t0 + dt * np.linspace(0.0, 1.0, k + 1))
+
+
+def _rounded_window(rim: float, hub: float, t0: float, t1: float, d_out: float, d_in: float,
+                    rho: float, arc_step: float):
+    """One window between the crossings at ``t0`` and ``t1`` with its four corners rounded to
+    ``rho``; ``None`` when the rounds do not fit the window."""
+    def pt(r, t):
+        return np.array([r * math.cos(t), r * math.sin(t)])
+
+    mid = pt((rim + hub) / 2, (t0 + t1) / 2)
+    h0, r0 = pt(hub, t0 + d_in), pt(rim, t0 + d_out)  # the crossing at t0, its window side
+    h1, r1 = pt(hub, t1 - d_in), pt(rim, t1 - d_out)  # the crossing at t1
+    corners = [_fillet(rim, True, h0, r0, mid, rho), _fillet(rim, True, h1, r1, mid, rho),
+               _fillet(hub, False, h1, r1, mid, rho), _fillet(hub, False, h0, r0, mid, rho)]
+    if any(c is None for c in corners):
+        return None
+    a, b, c, d = corners
+    ang = [math.atan2(x[1][1], x[1][0]) for x in corners]
+    ang = [t0 + (t - t0) % (2 * math.pi) for t in ang]  # within this window's turn
+    if not (ang[0] < ang[1] and ang[3] < ang[2]):  # rounds meeting on the rim or the hub
+        return None
+    for p_, q_, lo, hi in ((h0, r0, d, a), (h1, r1, c, b)):
+        if lo[3] >= hi[3] or lo[3] < 0 or hi[3] > float(np.hypot(*(q_ - p_))):
+            return None  # rounds meeting along a crossing, or past its ends
+    fine = math.radians(10.0)
+    return np.vstack([
+        _arc(0.0, 0.0, rim, np.linspace(ang[0], ang[1],
+                                        max(int((ang[1] - ang[0]) / arc_step), 2))),
+        _fillet_arc(b[0], b[1], b[2], fine),
+        _fillet_arc(c[0], c[2], c[1], fine),
+        _arc(0.0, 0.0, hub, np.linspace(ang[2], ang[3],
+                                        max(int((ang[2] - ang[3]) / arc_step), 2))),
+        _fillet_arc(d[0], d[1], d[2], fine),
+        _fillet_arc(a[0], a[2], a[1], fine)])
 
 
 def _label(part: Part, text: str, below: float) -> None:

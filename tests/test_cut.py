@@ -734,23 +734,34 @@ def test_a_crossed_out_wheel_is_proportioned_to_its_size(tmp_path, capsys):
     assert big["hub_diameter_mm"] == pytest.approx(0.2 * big["root_diameter_mm"])
 
 
-def test_crossings_taper_to_the_rim_and_leave_that_width_between_windows(tmp_path, capsys):
+def test_crossings_taper_to_the_rim_and_the_windows_corners_are_rounded(tmp_path, capsys):
     # a crossing is wider at the hub than at the rim (clockmakers taper their crossings:
-    # clickspringprojects.com, "Wheel Crossing Jig"); measured on the DXF, the metal left
-    # between two windows at the rim's inside is the crossing's width there (chord geometry)
+    # clickspringprojects.com, "Wheel Crossing Jig"); measured on the DXF, no window comes
+    # nearer a crossing's centre line than half its width at the rim, and the windows' corners
+    # are rounded (a quarter of that width, common practice, no source): the sharp corner
+    # where a crossing's edge meets the rim is not cut
     wheels, out = _blanks(tmp_path, capsys, "6")
     big = wheels["b1"]
-    w = big["crossing_width_mm"]
+    w, rho = big["crossing_width_mm"], big["corner_radius_mm"]
     assert w["at_hub"] > 1.2 * w["at_rim"]
+    assert rho == pytest.approx(0.25 * w["at_rim"])
     windows = _windows(out / "wheel-b1.dxf")
     rim_inner = big["root_diameter_mm"] / 2 - big["rim_mm"]
-    ends = []
-    for p in windows:  # each window's two corners on the rim's inner circle
-        on_rim = p[np.abs(np.hypot(*p.T) - rim_inner) < UM]
-        ang = np.unwrap(np.arctan2(on_rim[:, 1], on_rim[:, 0]))
-        ends.append((on_rim[np.argmin(ang)], on_rim[np.argmax(ang)]))
-    gaps = [min(np.hypot(*(a[1] - b[0])) for b in ends if b is not a) for a in ends]
-    assert gaps == pytest.approx([w["at_rim"]] * 6, abs=1e-6)
+    hub = big["hub_diameter_mm"] / 2
+    step = 2 * math.pi / 6
+    pts = np.vstack(windows)
+    r = np.hypot(*pts.T)
+    assert r.max() <= rim_inner + UM and r.min() >= hub - UM  # within the rim and the hub
+    ang = np.arctan2(pts[:, 1], pts[:, 0])
+    centre = np.round(ang / step) * step  # the nearest crossing's centre line
+    off = np.abs(pts[:, 0] * np.sin(centre) - pts[:, 1] * np.cos(centre))
+    assert off.min() >= w["at_rim"] / 2 - UM  # no window eats into a crossing
+    assert off.min() <= w["at_rim"] / 2 + rho  # and the crossing is no wider there
+    d_out = math.asin(w["at_rim"] / 2 / rim_inner)
+    for k in range(6):  # where the sharp corners were, the rounds stand clear
+        for t in (k * step + d_out, (k + 1) * step - d_out):
+            corner = np.array([rim_inner * math.cos(t), rim_inner * math.sin(t)])
+            assert np.hypot(*(pts - corner).T).min() > 0.2 * rho
 
 
 def test_auto_crossings_follow_the_wheels_size_and_leave_pinions_solid(tmp_path, capsys):
