@@ -89,15 +89,15 @@ from .fitting import (
 from .kinds import (
     KINDS,
     MOON_SWINGS,
-    NUTATION,
-    NUTATION_AMPLITUDE_DEG,
     days_rate,
+    great_inequality,
+    nutation_lon_deg,
     sky_at,
     true_value,
 )
 from .kinematics import pin_slot_lead_turns
 from .mechanism import need_mechanism, need_sky
-from .periods import JULIAN_CENTURY_DAYS, PERIODS, SECONDS_PER_DAY
+from .periods import GREAT_INEQUALITY_DEG, JULIAN_CENTURY_DAYS, PERIODS, SECONDS_PER_DAY
 
 if TYPE_CHECKING:
     from .sky import Site
@@ -107,10 +107,13 @@ MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, 
 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
 # together with the drift line so that a short span's partial swing is not mistaken for drift.
-# MINOR_TERMS, with their amplitudes, are too small to make a drift "uncertain" when the span
-# is too short to fit them: their largest possible tilt of the line is added to the slope's
-# standard error instead (the nutation: at most 17" x 2 pi / 18.6 years, 0.16° a century).
-MINOR_TERMS: dict[str, float] = {NUTATION[0]: NUTATION_AMPLITUDE_DEG}
+# MINOR_TERMS are those whose amplitude is known: when the span is too short to fit them they
+# do not make a drift "uncertain", their largest possible tilt of the line is added to the
+# slope's standard error instead (the great inequality of Jupiter and Saturn, some 900 years:
+# Jupiter's 0.33° tilts a line by up to 0.23° a century, Saturn's 0.83° by up to 0.59°).
+# The nutation (an equinox dial's longitudes) is not fitted but taken off by its formula.
+MINOR_TERMS: dict[str, float] = {
+    great_inequality(key)[0]: amp for key, amp in GREAT_INEQUALITY_DEG.items()}
 TERM_MIN_CYCLES = 1.0  # a term is fitted once the span holds this many of its periods
 
 
@@ -528,17 +531,26 @@ class _Running:
         return best_offset(self.error)
 
     def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
-                step_note: str | None = None, clock: dict[str, float] | None = None
-                ) -> PointerSummary:
+                step_note: str | None = None, clock: dict[str, float] | None = None,
+                frame: str = "equinox") -> PointerSummary:
         """The pointer's figures. ``step_note``: the step cannot follow what the pointer shows
         (:func:`step_note`), so no swing is sought (it would be an alias) and the drift is
         uncertain. ``clock``: seconds spent fitting the line (``fit_s``) and seeking the
-        swing (``swing_s``) are added to it."""
+        swing (``swing_s``) are added to it. ``frame``: the dial's, for the nutation an
+        equinox dial's longitude carries (taken off before the fit, see
+        :func:`engine.kinds.nutation_lon_deg`)."""
         n = self.n
         terms = sky_terms(shows) if terms is None else tuple(terms)
+        known = None
+        if shows in KINDS and KINDS[shows].nutates_in(frame):
+            jd0, step = self.jd0, self.step  # the error holds the sky's -nutation
+
+            def known(k):
+                return -nutation_lon_deg(jd0 + k * step)
         t0 = time.perf_counter()
         fit = fit_drift(self.resid, self.step, terms, cache=cache,
-                        all_terms=() if cache is None else cache.get("terms", ()))
+                        all_terms=() if cache is None else cache.get("terms", ()),
+                        known=known)
         t1 = time.perf_counter()
         drift = (self.expected_per_step + fit.slope_per_step) / self.step * JULIAN_CENTURY_DAYS
         sigma = fit.sigma_per_step / self.step * JULIAN_CENTURY_DAYS
@@ -618,14 +630,16 @@ def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | N
 
 
 def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | None = None,
-              all_terms=()) -> LineFit:
+              all_terms=(), known=None) -> LineFit:
     """The drift line fitted jointly with the sky's known swings ``terms`` (see
     :func:`engine.fitting.fit_line_and_sinusoids`): a term is fitted once the span holds
     ``TERM_MIN_CYCLES`` of its periods, and a left-out one of ``MINOR_TERMS`` widens the
     slope's standard error by its largest possible tilt; any other left out for being longer
-    than the span widens it by the largest tilt a swing of the size fitted to it can give."""
+    than the span widens it by the largest tilt a swing of the size fitted to it can give.
+    ``known``: a part of the series known in advance (a function of the grid index; the
+    nutation), taken off before the fit."""
     return fit_line_and_sinusoids(resid, step_days, terms, cache=cache, all_terms=all_terms,
-                                  min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS)
+                                  min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS, known=known)
 
 
 # --- the run -------------------------------------------------------------------------------
@@ -874,7 +888,7 @@ class _Chunks:
             s = self.runs[name].summary(
                 name, p.shows, terms[name], cache,
                 step_note(name, self.step, self.motions(name, p.shows, terms[name])),
-                self.clock)
+                self.clock, self.frame)
             effect = float(delta_t_effect_deg(p.shows, self.delta_t_sigma_s, self.frame))
             out[name] = replace(s, delta_t_effect_deg=effect,
                                 within_delta_t=bool(s.max_abs_deg <= effect))

@@ -301,7 +301,8 @@ def _design(b: _Binned, ws: tuple[float, ...], all_ws: tuple[float, ...], cache:
 
 def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
                            cache: dict | None = None, all_terms=(), min_cycles: float = 1.0,
-                           minor: dict[str, float] | None = None) -> LineFit:
+                           minor: dict[str, float] | None = None,
+                           known=None) -> LineFit:
     """Straight line plus sinusoids at known periods, fitted jointly by least squares to a
     series on a uniform grid (``terms``: ``(name, period_days)`` pairs).
 
@@ -322,8 +323,16 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
     too little of its curve to fit one. It is a guide
     to the size of the uncertainty, not a bound: other variations slower than the span are
     indistinguishable from the line's slope and not in it.
+
+    ``known``: a part of the series known in advance, as a function of the grid index (an
+    array of floats) — taken off the bins before anything is fitted, instead of fitted: a
+    slow term fitted freely over a cycle or two takes up whatever else the series holds near
+    its period, where its known shape cannot. It must vary slowly over a bin (the bins'
+    centres stand for their means); the returned ``binned`` is without it.
     """
     b = _binned(resid)
+    if known is not None:
+        b = _Binned(b.y - np.asarray(known(b.c), dtype=np.float64), b.c, b.m)
     nd = len(b.y)
     span = (len(resid) - 1) * step_days
 

@@ -38,7 +38,10 @@ import numpy as np
 
 from .angles import mod
 from .errors import TrainError, UnknownName
+from .figures import figure
 from .periods import (
+    GREAT_INEQUALITY_DAYS,
+    GREAT_INEQUALITY_DEG,
     J2000_JD,
     JULIAN_CENTURY_DAYS,
     PERIODS,
@@ -108,9 +111,25 @@ MOON_SWINGS = (("equation of centre (anomalistic month)", _ANOM_MONTH),
                ("annual equation (anomalistic year)", _ANOM_YEAR))
 # On an equinox dial the true longitudes carry the nutation (about ±17.2", with the node's
 # 18.6 years; from memory). The elongation does not (a difference of two longitudes), nor do
-# the mean node and perigee, nor anything on a star dial.
+# the mean node and perigee, nor anything on a star dial. It is not fitted with a drift line
+# but taken off by its formula (nutation_lon_deg): fitted as a free sinusoid over one or two
+# of its cycles, its column took up whatever else the error held near 18.6 years (an orrery's
+# Jupiter arm over 20 years read +1.21° ± 0.14° a century, its ratio drifting by nothing).
 NUTATION = ("nutation (the node's 18.6 years)", PERIODS["nodal_period"].days)
 NUTATION_AMPLITUDE_DEG = 17.2 / 3600
+_NODE_J2000_DEG = 125.04452  # the Moon's mean ascending node at J2000 (Meeus ch. 22)
+
+
+def nutation_lon_deg(jd):
+    """The nutation in longitude (degrees) at Julian dates (TT, or UT: ΔT is nothing to an
+    18.6-year term): its two terms in the Moon's node, -17.20" sin Ω + 0.21" sin 2Ω (Meeus,
+    Astronomical Algorithms 2nd ed., ch. 22, from memory). The terms left out (-1.32" sin 2L
+    of the Sun, -0.23" sin 2L of the Moon and smaller) are under 2" together and run in
+    half a year or less, so they tilt no drift line; tests/test_kinds.py checks the two
+    against the IAU 2000A series skyfield computes. Shaped like ``jd``."""
+    t = (np.asarray(jd, dtype=float) - J2000_JD) / JULIAN_CENTURY_DAYS
+    node = np.radians(_NODE_J2000_DEG + PERIODS["nodal_period"].deg_per_century * t)
+    return (-17.20 * np.sin(node) + 0.21 * np.sin(2 * node)) / 3600.0
 
 
 # --- pointer kinds -------------------------------------------------------------------------
@@ -138,9 +157,15 @@ class PointerKind:
         return PERIODS[self.period[frame]]
 
     def swings_in(self, frame: str) -> tuple[tuple[str, float], ...]:
-        """The sky's swings in its true value on a dial of ``frame`` (with the nutation on an
-        equinox dial when it nutates)."""
-        return (*self.swings, NUTATION) if frame == "equinox" and self.nutates else self.swings
+        """The sky's swings in its true value on a dial of ``frame``, fitted with a drift line
+        (the same on both: the nutation an equinox dial adds is known, see
+        :meth:`nutates_in`)."""
+        return self.swings
+
+    def nutates_in(self, frame: str) -> bool:
+        """Whether its true value on a dial of ``frame`` carries the nutation in longitude
+        (:func:`nutation_lon_deg`): an equinox dial's longitude."""
+        return frame == "equinox" and self.nutates
 
 
 def _both(key: str) -> dict[str, str]:
@@ -205,10 +230,22 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
 SEEN_FROM = ("earth", "sun")  # where a planet pointer is seen from; the first is the default
 
 
+def great_inequality(key: str) -> tuple[str, float] | None:
+    """The great inequality's swing ``(name, period_days)`` in the longitude of ``key``
+    (Jupiter and Saturn; ``None`` for another planet): see ``engine.periods``."""
+    if key not in GREAT_INEQUALITY_DEG:
+        return None
+    other = "Saturn" if key == "jupiter" else "Jupiter"
+    return (f"the great inequality with {other} ({figure(GREAT_INEQUALITY_DAYS / 365.25, 3)}"
+            " years)", GREAT_INEQUALITY_DAYS)
+
+
 def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
     sid, syn = PERIODS[f"{key}_sidereal"].days, PERIODS[f"{key}_synodic"].days
     own = ((f"{name}'s equation of centre (its year)", sid),
            (f"{name}'s equation of centre, second harmonic", sid / 2))
+    if great_inequality(key) is not None:  # Jupiter's and Saturn's, some 900 years
+        own = (*own, great_inequality(key))
     geo_period = ({"equinox": "tropical_year", "stars": "sidereal_year"} if inner else
                   {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"})
     return (

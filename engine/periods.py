@@ -93,6 +93,23 @@ PLANETS: dict[str, Planet] = {
 }
 
 
+# The great inequality of Jupiter and Saturn: a term in each planet's longitude with the
+# argument 2 L_J - 5 L_S (the two mean motions are near 5 : 2), Jupiter's about 0.33° and
+# Saturn's about 0.83°, opposite in sign (the classical values, from memory; measured from
+# DE406 by tests/test_planets.py). Its period comes from the mean motions over millennia:
+# JPL's "Keplerian elements for approximate positions of the major planets", table 2a
+# (3000 BC - AD 3000), mean longitude rates 3034.90371757 and 1222.11494724 deg/century
+# (from memory; DE406's own, fitted over the same six millennia, agree within 0.01 in
+# tests/test_planets.py) give 883 years. Table 1's rates above (1800-2050) give 838 years:
+# over two centuries the inequality itself is in them.
+JPL_TABLE_2A_RATES = {"jupiter": 3034.90371757, "saturn": 1222.11494724}
+GREAT_INEQUALITY_DAYS = 360.0 * JULIAN_CENTURY_DAYS / abs(
+    2 * JPL_TABLE_2A_RATES["jupiter"] - 5 * JPL_TABLE_2A_RATES["saturn"])
+GREAT_INEQUALITY_DEG = {"jupiter": 0.33, "saturn": 0.83}
+GREAT_INEQUALITY_SRC = ("JPL, Keplerian elements for approximate positions of the major "
+                        "planets, table 2a (3000 BC-AD 3000): 2 L_J - 5 L_S")
+
+
 @dataclass(frozen=True)
 class MeanPeriod:
     """A mean astronomical period: its name, its rate and where the rate comes from."""

@@ -381,6 +381,17 @@ def _uncertain_why(s) -> str:
     return f"the span holds under two of its {support.fixed(s.periodic_period_days, 1)}-day swings"
 
 
+def _within_sigma(s) -> str:
+    """The known swings longer than the span whose largest tilt of the line the drift's ±
+    takes in (the great inequality of Jupiter and Saturn), in words; empty when none."""
+    from ..drift import MINOR_TERMS
+
+    left = [t for t in s.drift_terms_left_out if t in MINOR_TERMS]
+    if not left or not math.isfinite(s.drift_sigma_deg_per_century):
+        return ""
+    return "; ".join(left) + ": longer than the span, the most it can tilt the line"
+
+
 def _months(k: int) -> str:
     """``3 months behind``, ``1 month ahead``, ``none``."""
     if k == 0:
@@ -433,6 +444,9 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool, per_turn=1) -
                   .replace(" days ±", " ±") + " per century")
     if s.drift_uncertain:
         t.add_row("drift uncertain", _uncertain_why(s))
+    longer = _within_sigma(s)
+    if longer:
+        t.add_row("± takes in", longer)
     if s.step_note:
         t.add_row("swing about the drift", "not sought: the step is too coarse")
     elif s.periodic_period_days is None:
