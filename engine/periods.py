@@ -28,6 +28,7 @@ from fractions import Fraction
 from typing import TYPE_CHECKING
 
 from .errors import ArgumentError, UnknownName
+from .figures import figure
 
 if TYPE_CHECKING:  # numpy is imported by the two functions using it: commands' --help
     import numpy as np  # reads this module's constants without loading it
@@ -209,6 +210,44 @@ PERIODS["synodic_month_235_in_19"] = MeanPeriod(
     float(360 * JULIAN_CENTURY_DAYS / (19 * Fraction(JULIAN_YEAR_DAYS) / 235)),
     f"{_RELATION_SRC}; years of 365.25 days", exact_days=19 * Fraction(JULIAN_YEAR_DAYS) / 235,
     approximates="synodic_month")
+
+
+def era_spread_ppm(key: str) -> float | None:
+    """How far a Jupiter or Saturn period of :data:`PERIODS` (sidereal, tropical, synodic, or
+    a period relation standing for one), made from JPL's 1800-2050 mean motion as every
+    period here is, stands from the same period made from the 3000 BC - AD 3000 mean motion
+    (:data:`JPL_TABLE_2A_RATES`), in ppm (positive: the 1800-2050 period is the longer).
+    Two centuries hold a part of the great inequality (883 years): Jupiter's sidereal period
+    +52 ppm, Saturn's -310. ``None`` for any other period (the Earth's rate, in a synodic
+    period, moved under 0.001°/century between the two tables, from memory: it is taken
+    as table 1's in both)."""
+    mp = PERIODS[key]
+    if mp.approximates is not None:
+        key = mp.approximates
+    planet, _, kind = key.partition("_")
+    if planet not in JPL_TABLE_2A_RATES or kind not in ("sidereal", "tropical", "synodic"):
+        return None
+    now, long = PLANETS[planet].rate_deg_per_cy, JPL_TABLE_2A_RATES[planet]
+    if kind == "tropical":
+        now, long = now + _P, long + _P
+    elif kind == "synodic":
+        now, long = EARTH.rate_deg_per_cy - now, EARTH.rate_deg_per_cy - long
+    return (long / now - 1.0) * 1e6  # periods go as 1 / rate
+
+
+def era_spread_note(key: str) -> str:
+    """For a Jupiter or Saturn period: one line saying that it is the mean of 1800-2050 and
+    how far the mean motion of six millennia moves it (:func:`era_spread_ppm`); "" for any
+    other period."""
+    spread = era_spread_ppm(key)
+    if spread is None:
+        return ""
+    mp = PERIODS[PERIODS[key].approximates or key]
+    return (f"the {mp.name} is JPL's mean for 1800-2050; the mean motion of 3000 BC-AD 3000 "
+            f"makes it {figure(abs(spread), 2)} ppm {'longer' if spread < 0 else 'shorter'}"
+            " (the great inequality of Jupiter and Saturn, 883 years), so a train closer than "
+            "that is that close for the centuries round 2000 only: wheelwork drift measures it "
+            "against the sky of any span")
 
 
 def relation_error_ppm(key: str) -> float:

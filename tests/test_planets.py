@@ -660,3 +660,36 @@ def test_the_report_says_what_its_plus_minus_takes_in(capsys):
     block = out[out.index("jupiter —"):out.index("saturn —")]
     assert "± takes in" in block and "great inequality with Saturn" in block
     assert "drift uncertain" not in block
+
+
+def test_jupiter_and_saturn_periods_say_how_far_other_eras_move_them(capsys):
+    """A Jupiter or Saturn period is JPL's 1800-2050 mean; the mean of 3000 BC-AD 3000 moves
+    it by the ppm astronomy-engine's periods (PlanetOrbitalPeriod) give: Jupiter's sidereal
+    +52, Saturn's -310. The ratio report and the search say so beside an arm cut closer than
+    that (the table orrery's, +0.277 and -0.078 ppm, said nothing), and not for Mars."""
+    import json
+
+    from engine.cli import main
+    from engine.periods import era_spread_ppm
+
+    astronomy = pytest.importorskip("astronomy")
+    for key in ("jupiter", "saturn"):
+        published = astronomy.PlanetOrbitalPeriod(getattr(astronomy.Body, key.capitalize()))
+        assert era_spread_ppm(f"{key}_sidereal") == pytest.approx(
+            (PERIODS[f"{key}_sidereal"].days / published - 1) * 1e6, abs=1.0)
+    assert era_spread_ppm("mars_sidereal") is None
+    assert era_spread_ppm("jupiter_76_in_83") == era_spread_ppm("jupiter_synodic")
+    assert main(["ratios", str(ORRERY)]) == 0
+    out = capsys.readouterr().out
+    assert "note: jupiter is +0.277 ppm off" in out and "52 ppm shorter" in out
+    assert "note: saturn is -0.078 ppm off" in out and "309 ppm longer" in out
+    assert "note: mars" not in out
+    assert main(["ratios", str(ORRERY), "--json"]) == 0
+    notes = json.loads(capsys.readouterr().out)["era_spread_notes"]
+    assert [n["pointer"] for n in notes] == ["jupiter", "saturn"]
+    assert main(["search", "--cycle", "saturn tropical", "--crank-days", "365.2422",
+                 "--top", "1"]) == 0
+    assert "309 ppm longer" in capsys.readouterr().out
+    assert main(["search", "--cycle", "mars tropical", "--crank-days", "365.2422",
+                 "--top", "1"]) == 0
+    assert "great inequality" not in capsys.readouterr().out

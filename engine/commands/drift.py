@@ -444,7 +444,7 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool, per_turn=1) -
                   .replace(" days ±", " ±") + " per century")
     if s.drift_uncertain:
         t.add_row("drift uncertain", _uncertain_why(s))
-    longer = _within_sigma(s)
+    longer = "" if s.drift_uncertain else _within_sigma(s)  # else the reason above is more
     if longer:
         t.add_row("± takes in", longer)
     if s.step_note:

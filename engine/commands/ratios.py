@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import TYPE_CHECKING
 
-from ..periods import JULIAN_YEAR_DAYS
+from ..periods import JULIAN_YEAR_DAYS, era_spread_note, era_spread_ppm
 from . import support
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -26,6 +26,17 @@ def _years(y: float | None) -> str:
     if y < 0.1:  # within weeks: '0.0 y' would read as at once
         return f"{support.figure(y * JULIAN_YEAR_DAYS, 3)} d"
     return f"{y:,.1f} y"
+
+
+def _nearer_than_the_era(rows) -> list:
+    """``(row, spread)`` of each pointer whose period error is smaller than the spread of its
+    mean period between eras (:func:`engine.periods.era_spread_ppm`: Jupiter's and Saturn's)."""
+    out = []
+    for r in rows:
+        spread = era_spread_ppm(r.target_key)
+        if spread is not None and abs(r.period_error_ppm) < abs(spread):
+            out.append((r, spread))
+    return out
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
@@ -49,6 +60,12 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       "days_per_turn": str(train.crank.days_per_turn)},
             "pointers": [r.as_json() for r in rows], "warnings": warnings,
             "era_note": era_note(train) or None,
+            # Jupiter and Saturn pointers nearer their 1800-2050 periods than the periods of
+            # other eras are to those (the great inequality)
+            "era_spread_notes": [{"pointer": r.pointer, "period_error_ppm": r.period_error_ppm,
+                                  "era_spread_ppm": spread,
+                                  "note": era_spread_note(r.target_key)}
+                                 for r, spread in _nearer_than_the_era(rows)],
         })
         return 0
     dpt = train.crank.days_per_turn
@@ -77,6 +94,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
     note = era_note(train)
     if note:
         support.print_indented(console, f"note: {note}", 0)
+    for r, _spread in _nearer_than_the_era(rows):
+        support.print_indented(console, f"note: {r.pointer} is "
+                               f"{support.fixed(r.period_error_ppm, 3, sign=True)} ppm off: "
+                               f"{era_spread_note(r.target_key)}", 0, markup=False)
     from ..kinds import shows_text
 
     for r in rows:

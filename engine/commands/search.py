@@ -10,7 +10,7 @@ from typing import TYPE_CHECKING
 from ..defaults import SEARCH_MAX_TEETH as MAX_TEETH
 from ..defaults import SEARCH_MAX_TOP as MAX_TOP
 from ..errors import SearchError
-from ..periods import PERIODS, relation_error_ppm
+from ..periods import PERIODS, era_spread_note, era_spread_ppm, relation_error_ppm
 from . import support
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -199,10 +199,14 @@ def _to_json(report: SearchReport, written: Path | None) -> dict:
 
 
 def _relation_json(t) -> dict:
+    out = {}
+    if t.cycle is not None and era_spread_ppm(t.cycle.key) is not None:
+        out["era_spread_ppm"] = era_spread_ppm(t.cycle.key)
     if t.cycle is None or not t.cycle.approximates:
-        return {}
+        return out
     return {"approximates": t.cycle.approximates,
-            "relation_period_error_ppm": relation_error_ppm(t.cycle.key)}
+            "relation_period_error_ppm": relation_error_ppm(t.cycle.key), **out}
+
 
 
 def _conv_dict(v: Convergent) -> dict:
@@ -242,6 +246,9 @@ def _print(report: SearchReport, console: Console) -> None:
         mean = PERIODS[t.cycle.approximates]
         console.print(f"a period relation: against the mean {escape(mean.name)} of "
                       f"{support.figure(mean.days, 7)} days it is {support.figure(relation_error_ppm(t.cycle.key), 4, True)} ppm")
+    note = era_spread_note(t.cycle.key) if t.cycle is not None else ""
+    if note:
+        support.print_indented(console, f"note: {note}", 0)
     if not report.results:
         console.print("no train within these bounds")
     elif abs(report.results[0].period_error_ppm) > FAR_PPM:
