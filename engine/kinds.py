@@ -293,6 +293,12 @@ def kind_key(shows: str, seen_from: str | None = None) -> str:
     the Sun (``None``: where it is usually seen from — the Earth, or the Sun for the Earth
     itself). ``KeyError`` with a plain message when there is no such kind."""
     shows = str(shows).strip().lower()
+    if shows.endswith("_from_sun") and shows in KINDS and seen_from is not None:
+        # the row's own key already says where it is seen from: a seen_from beside it
+        # either repeats it or contradicts it ("mars_from_sun" seen from the Earth)
+        raise UnknownName(f"'{shows}' already says it is seen from the Sun: write shows = "
+                          f"\"{shows.removesuffix('_from_sun')}\" with seen_from = "
+                          f"\"{str(seen_from).strip().lower()}\"")
     if seen_from is None:
         seen_from = "sun" if shows == "earth" else "earth"
     seen_from = str(seen_from).strip().lower()  # read in any case, as the train file's word

@@ -208,6 +208,8 @@ def _texts() -> list[tuple[str, str | bytes]]:
         ("shows a number", 'shows = "moon"', "shows = 1"),
         ("shows a list", 'shows = "moon"', 'shows = ["moon"]'),
         ("shows missing", 'shows = "moon"\n', ""),
+        ("shows an arm's key seen from the earth", 'shows = "moon"',
+         'shows = "mars_from_sun"\nseen_from = "earth"'),
         ("arbor unknown", 'arbor = "b"\nreversed', 'arbor = "zz"\nreversed'),
         ("arbor missing", 'arbor = "b"\n', ""),
         ("relative_to itself", 'arbor = "b"\nreversed', 'arbor = "b"\nrelative_to = "b"\nreversed'),

@@ -73,6 +73,13 @@ arbor = "a"
     ('shows = "earth"\nseen_from = "earth"', "seen_from"),
     ('shows = "moon"\nseen_from = "sun"', "only as seen from the Earth"),
     ('shows = "venus"\nseen_from = "mars"', "seen_from should be one of earth, sun"),
+    # the row's key with a seen_from: it contradicted it silently (an arm read as seen from
+    # the Earth was the Sun's view) or was said to be "shown only as seen from the Earth"
+    ('shows = "mars_from_sun"\nseen_from = "earth"',
+     "'mars_from_sun' already says it is seen from the Sun: write shows = \"mars\" with "
+     "seen_from = \"earth\""),
+    ('shows = "mars_from_sun"\nseen_from = "sun"', 'write shows = "mars" with seen_from = '
+     '"sun"'),
 ])
 def test_bad_seen_from_is_a_one_line_error(lines, msg):
     with pytest.raises(TrainError, match=msg) as info:
@@ -86,6 +93,9 @@ def test_seen_from_picks_the_row():
     assert t.pointers["p"].shows == "jupiter_from_sun"
     t = parse_train(pointer_file('shows = "jupiter"'), "t.toml")
     assert t.pointers["p"].shows == "jupiter"
+    # the row's key alone, as --json writes it, is read as that row
+    t = parse_train(pointer_file('shows = "jupiter_from_sun"'), "t.toml")
+    assert t.pointers["p"].shows == "jupiter_from_sun"
 
 
 def test_earth_arm_is_the_sun_plus_180(sky):
