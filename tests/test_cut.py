@@ -522,6 +522,10 @@ def test_a_pinion_inside_an_internal_wheel_is_drawn_involute(tmp_path, capsys):
     assert cp["tip_diameter_mm"] == pytest.approx(12.8, abs=1e-6)
     assert cp["root_diameter_mm"] == pytest.approx(9.2, abs=1e-6)
     assert any("meshes the internal wheel 'ring_w'" in n for n in cp["notes"])
+    # the ring's rim outside its root circle (d + 2.5 m = 72 + 2 = 74 mm, ISO 53) follows its
+    # size as a crossed-out wheel's does: a tenth of the root radius, 3.7 mm, where a fixed
+    # 3 modules gave 2.4 mm whatever the ring's size (common practice, no source)
+    assert parts["wheel-ring_w"]["outside_diameter_mm"] == pytest.approx(74 + 2 * 3.7)
     loaded = load_train(train)
     report = check(loaded, solve(loaded))
     assert not report.has_errors
