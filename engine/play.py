@@ -188,6 +188,8 @@ class PointerPlay:
     verdict: str
     dead_play_holes_deg: float = 0.0  # more dead play with every mesh's centres parted by
     # its pivot holes at their tolerance (hole_open_mm), the widest the holes make it
+    per_turn: float = 1.0  # what it shows per turn of its arbor: the figures above are in
+    # degrees of what it shows; its arbor (a 223-month ring's) moves per_turn times less
 
 
 @dataclass(frozen=True)
@@ -435,7 +437,8 @@ def play(train: Train, kin: Kinematics, tol: Tolerances | None = None, *, years:
         report.pointers.append(PointerPlay(
             p, train.pointers[p].shows, dead, tuple(c for c in contrib if c.deg > 0),
             periodic, math.sqrt(var), std, sig, p95, mx, mean, effects.get(p), drift[p],
-            _verdict(p95, dead, effects.get(p), drift[p], years), holes))
+            _verdict(p95, dead, effects.get(p), drift[p], years), holes,
+            float(train.pointers[p].per_turn)))
     report.flags = depth_flags(train, tol, forms)
     report.notes.extend(slot_notes(train, kin))
     return report

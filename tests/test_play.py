@@ -427,3 +427,23 @@ def test_the_file_can_give_the_pivot_holes_tolerance(capsys):
     assert Tolerances.of(train).hole_mm == 0.05
     assert Tolerances.of(train, hole_mm=0.01).hole_mm == 0.01
     assert Tolerances.of(load_train(SMALL)).hole_mm == 0.02  # the default
+
+
+def test_a_dial_of_many_cycles_a_turn_says_what_its_dead_play_is_on_its_arbor(capsys):
+    # the eclipse board's 223-month ring reads the Moon's phase 223 times a turn: its figures
+    # are in degrees of the phase (360° a month), and "143° of dead play" under a caption of
+    # "degrees on the dial" read as the ring swinging 143°; on the ring it is 143 / 223 of a
+    # degree, and 143 / 360 of a month (plain arithmetic)
+    assert main(["play", "eclipse_board", "--builds", "20", "--samples", "16"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "degrees on the dial" not in out
+    assert "degrees of what each pointer shows" in out
+    import re
+
+    m = re.search(r"its arbor turns once for 223 of what it shows: ([\d.]+)° of dead play is "
+                  r"([\d.]+)° of the arbor's turn, ([\d.]+) of a month", out)
+    assert m, out[-2000:]
+    shown, arbor, month = (float(x) for x in m.groups())
+    assert arbor == pytest.approx(shown / 223, rel=0.01)
+    assert month == pytest.approx(shown / 360, rel=0.01)
+    assert out.count("its arbor turns once for") == 1  # the other pointers read one a turn

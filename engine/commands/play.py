@@ -177,7 +177,8 @@ def _print(report: PlayReport, console: Console) -> None:
                   f"pivot holes within {g(tol.hole_mm)} mm of their places",
                   markup=False)
     table = Table(box=None, pad_edge=False, collapse_padding=True,
-                  caption="degrees on the dial; dead play: all backlash taken up on reversing; "
+                  caption="degrees of what each pointer shows (on a dial of one cycle a turn, "
+                  "the dial's own); dead play: all backlash taken up on reversing; "
                   "running error: σ, 95 % and largest of the Monte Carlo, and the "
                   "root-sum-square σ; inequality: the pin-and-slot swing ±; drift: °/century")
     for col in ("pointer", "dead play", "σ", "95 %", "max", "RSS σ", "inequality",
@@ -193,6 +194,15 @@ def _print(report: PlayReport, console: Console) -> None:
     for p in report.pointers:
         console.print(f"[bold]{escape(p.pointer)}[/] ({escape(shows_text(p.shows))}): "
                       f"{escape(p.verdict)}")
+        if p.per_turn != 1 and p.dead_play_deg > 0:
+            # 143° of a 223-month ring's month is 0.64° of the ring's turn: said, so that a
+            # dead play larger than a dial's degrees allow is read as what it is
+            support.print_indented(
+                console, f"its arbor turns once for {support.figure(p.per_turn, 6)} of "
+                f"what it shows: {_deg(p.dead_play_deg)}° of dead play is "
+                f"{_deg(p.dead_play_deg / p.per_turn)}° of the arbor's turn, "
+                f"{support.figure(p.dead_play_deg / 360, 3)} of "
+                f"{'a month' if p.shows in ('cycle', 'phase') else 'a cycle'}", 2)
         top = ", ".join(f"{c.mesh} {_deg(c.deg)}°" for c in p.contributions[:3])
         if top:
             support.print_indented(console, f"dead play from: {top}", 2)
