@@ -727,6 +727,8 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
     if not isinstance(calendar, str):
         raise r.fail("[epoch] calendar", f"should be \"auto\", \"julian\" or \"gregorian\", "
                      f"got {_show(calendar)}")
+    # the word is the calendar's fault, not the date's: named as its own item
+    calendar = r.choice(calendar, "[epoch] calendar", ("auto", "julian", "gregorian"))
     from .dates import parse_date  # local import keeps the loader light to import
 
     try:

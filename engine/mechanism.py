@@ -10,7 +10,7 @@ from .demos import default_train
 from .errors import SkyError, TrainError
 from .kinematics import Kinematics, solve
 from .loader import load_train
-from .readout import Readout, backward_warnings, epoch_values
+from .readout import Readout, backward_warnings, epoch_values, unread_angles
 from .train import Train
 
 DEFAULT_TRAIN = default_train()  # the bundled tide office dial
@@ -144,7 +144,8 @@ def build(train: Train, sky=None) -> Mechanism:
                          f"sky cannot be computed for: {exc}"
                          + (_named_elsewhere(train, sky) if given else "")
                          + _name_it(train)) from None
-    return Mechanism(train, kin, Readout(kin, values), tuple(backward_warnings(train, kin)))
+    return Mechanism(train, kin, Readout(kin, values),
+                     tuple(backward_warnings(train, kin) + unread_angles(train)))
 
 
 def open_train(path: str | Path | None = None, sky=None) -> Mechanism:

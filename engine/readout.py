@@ -81,6 +81,19 @@ def backward_warnings(train: Train, kin: Kinematics) -> list[str]:
     return out
 
 
+def unread_angles(train: Train) -> list[str]:
+    """Pointers' ``set_deg`` where ``[epoch] set`` is not ``"angles"``: the angles are not
+    read, so they do nothing (an unknown key is refused for the same reason); one line."""
+    named = [p.name for p in train.pointers.values() if p.set_deg is not None]
+    if train.epoch.set == "angles" or not named:
+        return []
+    more = f" (and {len(named) - 1} more)" if len(named) > 1 else ""
+    how = "from the sky" if train.epoch.set == "sky" else "to their mean positions"
+    return [f"{train.source}: [pointers.{named[0]}] set_deg{more}: read only with [epoch] "
+            f"set = \"angles\"; this file's set = \"{train.epoch.set}\" sets the pointers "
+            f"{how}, so set_deg does nothing — remove it, or set = \"angles\" to use it"]
+
+
 def epicycle_sense_ok(kin: Kinematics, ps) -> bool:
     """Whether a pin carried on an epicycle turns as two circles of a planet do: of the
     carrier's arm and the pin's radius, the shorter (the planet's orbit for an inner planet, the

@@ -97,6 +97,9 @@ def test_good_file_loads_with_exact_fraction():
     ("[arbors.b]", "[arbors.b]\nwheel = 3", ["[arbors.b]", "unknown key 'wheel'"]),
     ("[arbors.b]", "[arbors.b]\non = \"b2\"", ["[arbors.b] on", "unknown arbor 'b2'"]),
     ('set = "angles"', 'set = "guess"', ["[epoch] set", "sky, mean, angles"]),
+    # a misspelt calendar is the calendar's fault: it was named '[epoch] date'
+    ('set = "angles"', 'set = "angles"\ncalendar = "julain"',
+     ["[epoch] calendar: should be one of auto, julian, gregorian, got 'julain'"]),
     ("set_deg = 0", "", ["[pointers.p]", "needs set_deg"]),
     ("[[meshes]]", "[[meshes]", ["not valid TOML", "line"]),
     # names outside the letters TOML allows bare, and text without quotes, as makers write

@@ -54,6 +54,24 @@ def test_mean_setting_on_a_star_dial_takes_off_the_precession(sky):
     assert values["phase"] == pytest.approx(float(mean["phase"]), abs=ARCSEC)
 
 
+@pytest.mark.parametrize("mode, how", [("sky", "from the sky"),
+                                       ("mean", "to their mean positions")])
+def test_set_deg_the_epoch_does_not_read_is_said_to_do_nothing(mode, how, sky):
+    """set_deg with set = "sky" (an angle a new user writes to turn the disc) was read and
+    dropped without a word, where an unknown key is refused so that nothing does nothing."""
+    text = (TRAINS / "moon_disc_59.toml").read_text().replace(
+        'set = "sky"', f'set = "{mode}"').replace("reversed = true", "reversed = true\nset_deg = 10")
+    mech = build(parse_train(text, "disc.toml"), sky)
+    said = [w for w in mech.warnings if "set_deg" in w]
+    assert said == [f'disc.toml: [pointers.phase] set_deg: read only with [epoch] set = '
+                    f'"angles"; this file\'s set = "{mode}" sets the pointers {how}, so set_deg '
+                    f'does nothing — remove it, or set = "angles" to use it'], mech.warnings
+    angles = build(parse_train(text.replace(f'set = "{mode}"', 'set = "angles"'), "disc.toml"))
+    assert not [w for w in angles.warnings if "set_deg" in w]
+    plain = build(load_train(TRAINS / "moon_disc_59.toml"), sky)
+    assert not [w for w in plain.warnings if "set_deg" in w]
+
+
 def test_set_by_angles_and_read_forward():
     text = (TRAINS / "moon_disc_59.toml").read_text().replace(
         'set = "sky"', 'set = "angles"').replace("reversed = true", "reversed = true\nset_deg = 10")
