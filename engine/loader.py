@@ -760,7 +760,8 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
         shows = written.strip().lower() if isinstance(written, str) else written
         if not isinstance(shows, str) or shows not in KINDS and not any(
                 f"{shows}_from_sun" == k for k in KINDS):
-            raise r.fail(f"{item} shows", f"unknown pointer kind {_show(written)} (known: "
+            raise r.fail(f"{item} shows", f"unknown pointer kind {_show(written)}"
+                         f"{_kind_hint(shows)} (known: "
                          + ", ".join(k for k in KINDS if not k.endswith("_from_sun"))
                          + ", earth; planets seen from the Sun with seen_from = \"sun\")")
         seen_from = tbl.get("seen_from")
@@ -798,6 +799,36 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                             r.flag(tbl.get("reversed", False), f"{item} reversed"), set_deg,
                             marks)
     return out
+
+
+# What a maker may call a pointer whose kind has another name here (our own list)
+_KIND_WORDS = {
+    "perigee": ("apsis", "the Moon's perigee"), "apogee": ("apsis", "the Moon's apsis line"),
+    "apse": ("apsis", "the Moon's apsis line"), "moon phase": ("phase", "the Moon's phase"),
+    "moonphase": ("phase", "the Moon's phase"), "lunar phase": ("phase", "the Moon's phase"),
+    "lunation": ("phase", "the Moon's phase"), "age": ("phase", "the Moon's age"),
+    "year": ("sun", "a year hand"), "zodiac": ("sun", "the Sun in the zodiac"),
+    "saros": ("cycle", "an eclipse-cycle dial (with lunations = 223)"),
+    "exeligmos": ("cycle", "an eclipse-cycle dial"),
+    "eclipse": ("cycle", "an eclipse-cycle dial"),
+    "lunar node": ("node", "the Moon's ascending node"),
+}
+
+
+def _kind_hint(shows: object) -> str:
+    """``; did you mean 'phase'?`` for a slip ('phases'), or the kind a maker's own word
+    stands for ('perigee': apsis); empty when neither."""
+    if not isinstance(shows, str):
+        return ""
+    word = " ".join(shows.replace("_", " ").replace("-", " ").split())
+    if word in _KIND_WORDS:
+        kind, what = _KIND_WORDS[word]
+        return f"; {what} is shows = \"{kind}\""
+    import difflib  # only on the way to an error
+
+    names = [k for k in KINDS if not k.endswith("_from_sun")] + ["earth"]
+    near = difflib.get_close_matches(word.replace(" ", "_"), names, n=1, cutoff=0.75)
+    return f"; did you mean '{near[0]}'?" if near else ""
 
 
 def _still(arbors: dict[str, Arbor], arbor: str) -> bool:

@@ -87,6 +87,14 @@ def test_good_file_loads_with_exact_fraction():
     ("a1 = 20", "a1 = 20.5", ["wheel 'a1'", "whole number"]),
     ('shows = "moon"', 'shows = "comet"', ["[pointers.p] shows", "unknown pointer kind",
                                            "phase"]),
+    # a slip, and a maker's own word for a kind named otherwise here (the tide office's
+    # perigee hand shows "apsis"): the list alone left the reader to find it
+    ('shows = "moon"', 'shows = "phases"', ["unknown pointer kind 'phases'; did you mean "
+                                            "'phase'? (known: "]),
+    ('shows = "moon"', 'shows = "perigee"', ["unknown pointer kind 'perigee'; the Moon's "
+                                             'perigee is shows = "apsis" (known: ']),
+    ('shows = "moon"', 'shows = "Moon Phase"', ["unknown pointer kind 'Moon Phase'; the "
+                                                'Moon\'s phase is shows = "phase"']),
     ('date = "2026-01-01 00:00"', 'date = "2026-13-45"', ["[epoch] date", "2026-13-45"]),
     ('date = "2026-01-01 00:00"', 'date = "next tuesday"', ["[epoch] date"]),
     ('"6940/235"', '"6940/0"', ["[crank] days_per_turn", "divides by zero"]),
