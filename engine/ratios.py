@@ -3,10 +3,12 @@ realises against the mean astronomical period it stands for, and the error that 
 
 from __future__ import annotations
 
+import math
 from collections import deque
 from dataclasses import asdict, dataclass, field, replace
 from fractions import Fraction
 
+from .figures import figure
 from .kinds import KINDS
 from .kinematics import Kinematics
 from .mechanism import Mechanism, train_and_kin
@@ -229,6 +231,34 @@ def era_note(train: Train | Mechanism) -> str:
             "perigee's and the node's through the slow terms of their motion), so its drift "
             "in its own era differs from these: wheelwork drift measures it against the sky "
             "of that era")
+
+
+#: a pointer whose period is further than this factor from the one it stands for gets a
+#: :func:`far_notes` line (our own choice: the slips it catches — per_turn left out, a wheel
+#: of twice the count, a pointer on the wrong arbor — are factors of 2 and more, while a
+#: tropical against a synodic month is 8% and shows plainly in the table)
+FAR_FACTOR = 1.25
+
+
+def far_notes(train: Train, rows) -> list[str]:
+    """One line for each pointer of ``rows`` (:func:`pointer_ratios`) that goes round more
+    than :data:`FAR_FACTOR` times faster or slower than what it shows: most likely a slip in
+    the file, said with what to check."""
+    out = []
+    for r in rows:
+        factor = abs(r.period_days / r.target_days) if r.target_days else math.nan
+        if not math.isfinite(factor) or factor == 0 or 1 / FAR_FACTOR <= factor <= FAR_FACTOR:
+            continue
+        how = (f"{figure(1 / factor, 3)} times as fast" if factor < 1 else
+               f"{figure(factor, 3)} times as slow")
+        p = train.pointers[r.pointer]
+        key = "lunations" if p.shows == "cycle" else "per_turn"
+        cycles = f"{key} = {p.per_turn}, " if p.per_turn != 1 else ""
+        out.append(f"{train.source}: [pointers.{r.pointer}]: shows its cycle in "
+                   f"{figure(r.period_days, 6)} days where the {r.target_name} it stands for "
+                   f"is {figure(r.target_days, 6)} days ({how}), most likely a slip: "
+                   f"check its tooth counts, its arbor and {cycles or 'per_turn'}".rstrip(", "))
+    return out
 
 
 def pointer_ratios(train: Train | Mechanism, kin: Kinematics | None = None,

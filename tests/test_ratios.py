@@ -238,3 +238,43 @@ def test_the_era_note_holds_the_moon_drifts_otherwise_in_150_bc():
     run = drift_series(mech, sky, DriftRun(start, start + 76 * 365.25, "1d"))
     mean_rate = report("lunation_board.toml")["moon"].drift_deg_per_century
     assert abs(run.summaries["moon"].drift_deg_per_century - mean_rate) > 0.05
+
+
+def test_a_pointer_far_from_what_it_shows_is_said_to_be_a_slip(capsys, tmp_path):
+    """A two-moon disc on a 56-tooth wheel where 226 was meant shows a lunation in 7.32 days:
+    the table said -752,211.737 ppm and nothing more. (15·25)/(98·56) turn a day, two
+    lunations a turn: 7.3173 days against the mean synodic month of 29.5306 (4.04 times as
+    fast); the demos, each close to its target, get no such line."""
+    text = """[crank]
+arbor = "day"
+days_per_turn = 1
+[epoch]
+date = "2026-01-01"
+[arbors.day]
+wheels = { day_pinion = 15 }
+[arbors.inter]
+wheels = { inter_wheel = 98, inter_pinion = 25 }
+[arbors.disc]
+wheels = { disc_wheel = 56 }
+[[meshes]]
+wheels = ["day_pinion", "inter_wheel"]
+[[meshes]]
+wheels = ["inter_pinion", "disc_wheel"]
+[pointers.moon_disc]
+shows = "phase"
+arbor = "disc"
+per_turn = 2
+"""
+    path = tmp_path / "disc.toml"
+    path.write_text(text)
+    assert main(["ratios", str(path), "--json"]) == 0
+    (line,) = [w for w in json.loads(capsys.readouterr().out)["warnings"] if "slip" in w]
+    assert line == (f"{path}: [pointers.moon_disc]: shows its cycle in 7.31733 days where the "
+                    "synodic month it stands for is 29.5306 days (4.04 times as fast), most "
+                    "likely a slip: check its tooth counts, its arbor and per_turn = 2")
+    path.write_text(text.replace("= 56", "= 226"))  # the count meant: +2.6 ppm, no line
+    assert main(["ratios", str(path), "--json"]) == 0
+    assert not json.loads(capsys.readouterr().out)["warnings"]
+    for demo in sorted(TRAINS.glob("*.toml")):
+        assert main(["ratios", str(demo), "--json"]) == 0
+        assert not [w for w in json.loads(capsys.readouterr().out)["warnings"] if "slip" in w]

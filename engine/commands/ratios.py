@@ -46,13 +46,13 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..exact import fraction_text
     from ..kinematics import solve
     from ..loader import load_train
-    from ..ratios import era_note, pointer_ratios, stage_path
+    from ..ratios import era_note, far_notes, pointer_ratios, stage_path
     from ..readout import backward_pointers, backward_warnings
 
     train = load_train(args.train)
     kin = solve(train)
     rows = pointer_ratios(train, kin)
-    warnings = backward_warnings(train, kin)
+    warnings = backward_warnings(train, kin) + far_notes(train, rows)
     if args.json:
         support.print_json(console, {
             "train": train.name, "file": train.source, "dial": train.dial,
