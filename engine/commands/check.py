@@ -102,9 +102,11 @@ def _centre(a: float | None) -> str:
 
 
 def _num(x: float | None) -> str:
+    """An estimate (speed, torque, tooth force) to 4 significant figures, a large one rounded
+    too: 190,000, not 190,019, which claims more than an estimate knows."""
     if x is None:
         return "—"
-    return support.figure(x, 4)
+    return support.figure(float(f"{x:.4g}"), 4)
 
 
 
@@ -144,7 +146,7 @@ def _print(report: CheckReport, console: Console) -> None:
         caption="d: pitch diameters m·z; a: centre distance; held by: the frame or carrier "
         "holding both axes; m/s: pitch-line speed at the "
         + ("train's own running speed" if report.real_time else "highest crank speed")
-        + "; force: tangential tooth force per N·m at the crank")
+        + "; force: tangential tooth force per N·m at the crank (a design estimate)")
     cols = [("#", "right"), ("wheels", "left"), ("teeth", "right"), ("m", "right"),
             ("d mm", "right"), ("a mm", "right"), ("held by", "left"), ("ratio", "right"),
             ("m/s", "right"), ("force N", "right")]
