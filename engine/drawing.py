@@ -361,13 +361,18 @@ AUTO_SOLID_TEETH = 20
 (common practice, no source). A larger wheel cut to the pinion form (47 teeth driven by 127)
 is crossed out like any wheel of its size."""
 
+AUTO_SOLID_MM = 20.0
+"""... and a wheel under this pitch diameter: its windows would be slots a few millimetres
+long between crossings a module wide (common practice, no source)."""
+
 
 def crossing_count(tooth: ToothForm) -> int:
     """How many crossings ``crossings = "auto"`` gives a wheel, by its pitch diameter
-    (:data:`CROSSING_COUNTS`); 0 (solid) under :data:`AUTO_SOLID_TEETH` teeth."""
-    if tooth.teeth < AUTO_SOLID_TEETH:
-        return 0
+    (:data:`CROSSING_COUNTS`); 0 (solid) under :data:`AUTO_SOLID_TEETH` teeth or
+    :data:`AUTO_SOLID_MM` across."""
     d = 2 * tooth.pitch_radius_mm
+    if tooth.teeth < AUTO_SOLID_TEETH or d < AUTO_SOLID_MM:
+        return 0
     return next(n for below, n in CROSSING_COUNTS if d < below)
 
 

@@ -822,3 +822,18 @@ def test_the_table_marks_a_bore_the_file_did_not_choose(tmp_path, capsys):
     assert " 2* " in out and " 1.7* " in out
     assert "* bore: the tool's own (2 mm, less on a small pinion), the file choosing none: " \
         "set bore_mm in [workshop] to your arbors" in out
+
+
+def test_auto_crossing_counts_by_diameter():
+    # engine.drawing.CROSSING_COUNTS (4, 5, 6, 8: the traditional counts, clickspringprojects
+    # .com "Wheel Crossing Jig"; the sizes common practice, no source): a wheel under 20 mm or
+    # of fewer than 20 teeth is left solid
+    from engine.drawing import crossing_count
+    from engine.toothform import involute_wheel
+
+    assert crossing_count(involute_wheel(26, 0.6)) == 0  # 15.6 mm: windows a few mm long
+    assert crossing_count(involute_wheel(19, 2.0)) == 0  # a pinion, 38 mm across
+    assert crossing_count(involute_wheel(40, 0.5)) == 4  # 20 mm
+    assert crossing_count(involute_wheel(127, 0.5)) == 5  # 63.5 mm
+    assert crossing_count(involute_wheel(300, 0.5)) == 6  # 150 mm
+    assert crossing_count(involute_wheel(170, 1.0)) == 8  # 170 mm

@@ -170,13 +170,12 @@ def _bore_text(info: dict) -> str:
 
 
 def _crossings_text(info: dict) -> str:
-    """A wheel's crossings as the table gives them: their count, rim and width at the rim
-    (``5 · rim 3.2 · 2.9 mm``), else ``solid``."""
+    """A wheel's crossings as the table gives them: their count and the rim's depth
+    (``5, rim 3.12``; the crossings' widths are in the drawing and ``--json``), else
+    ``solid``."""
     if "crossings" not in info:
         return "solid" if info["role"] != "ring" else "—"
-    return (f"{info['crossings']} · rim {support.figure(info['rim_mm'], 3)} · "
-            f"{support.figure(info['crossing_width_mm']['at_rim'], 3)}–"
-            f"{support.figure(info['crossing_width_mm']['at_hub'], 3)} mm")
+    return f"{info['crossings']}, rim {support.figure(info['rim_mm'], 3)}"
 
 
 def _make_folder(folder: Path) -> None:
