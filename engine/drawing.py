@@ -321,11 +321,16 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
             part.notes.append(f"the bore ({figure(bore, 6)} mm, {where}) leaves "
                               f"{figure(wall, 3)} mm of metal below the teeth, less than one "
                               "module: cut the leaves on the arbor, or bore smaller")
-        else:
+        else:  # a pinion this small is cut on its arbor: nothing to bore, nothing cut
             part.notes.append(f"too small to bore and leave a module of metal below the "
                               f"teeth (root circle {figure(root_d, 6)} mm): cut the leaves on "
-                              f"the arbor; the {figure(bore, 6)} mm hole drawn (the file "
-                              "chooses no bore_mm) marks the centre")
+                              "the arbor; the file choosing no bore_mm, none is cut (the "
+                              f"{figure(bore, 6)} mm circle on the MARK layer marks the centre)")
+            del info["bore_mm"]
+            part.circles.append(("MARK", 0.0, 0.0, bore / 2))
+            part.info = info
+            _label(part, title, -tooth.tip_radius_mm)
+            return part
     part.circles.append(("CUT", 0.0, 0.0, bore / 2))
     asked = own.crossings if own.crossings is not None else shop.crossings
     if asked:

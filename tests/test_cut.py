@@ -648,12 +648,16 @@ def test_the_default_bore_fits_every_blank_and_is_never_named_as_chosen(tmp_path
     assert main(["cut", str(path), "--out", str(tmp_path / "o"), "--json"]) == 0
     parts = [p for p in json.loads(capsys.readouterr().out)["parts"] if p["kind"] == "wheel"]
     for p in parts:
-        assert 0 < p["bore_mm"] <= 0.4 * p["root_diameter_mm"] + 1e-12, p["wheel"]
-        assert p["bore_mm"] <= 2.0 and p["bore_chosen"] is False
-        wall = (p["root_diameter_mm"] - p["bore_mm"]) / 2
-        if wall < module:  # only where the blank has no room for a module of metal
+        assert p["bore_chosen"] is False
+        if "bore_mm" not in p:  # a pinion too small to bore: cut on its arbor, nothing cut
             (note,) = [n for n in p["notes"] if "cut the leaves on the arbor" in n]
-            assert "the file chooses no bore_mm" in note
+            assert "the file choosing no bore_mm, none is cut" in note
+            assert p["root_diameter_mm"] / 2 < 1.25 * module  # no room for 0.4 of it
+            continue
+        assert 0 < p["bore_mm"] <= 0.4 * p["root_diameter_mm"] + 1e-12, p["wheel"]
+        assert p["bore_mm"] <= 2.0
+        wall = (p["root_diameter_mm"] - p["bore_mm"]) / 2
+        assert wall >= module * (1 - 1e-9)  # a module of metal under the teeth
         assert not any("bore (" in n for n in p["notes"])
 
 
@@ -837,3 +841,22 @@ def test_auto_crossing_counts_by_diameter():
     assert crossing_count(involute_wheel(127, 0.5)) == 5  # 63.5 mm
     assert crossing_count(involute_wheel(300, 0.5)) == 6  # 150 mm
     assert crossing_count(involute_wheel(170, 1.0)) == 8  # 170 mm
+
+
+def test_a_pinion_too_small_to_bore_is_cut_on_its_arbor_and_not_bored(tmp_path, capsys):
+    # a 5-leaf cycloidal pinion's root circle is 0.83 of a module in radius (2.5 m less the
+    # 1.67 m dedendum the 6-7 leaf row gives it, docs/workshop.md): no bore leaves a module of
+    # metal under its leaves, so (the file choosing none) it is cut on its arbor and no bore
+    # is drawn on the CUT layer
+    path = tmp_path / "five.toml"
+    path.write_text(BIG_AND_SMALL.replace("CROSSINGS", "0").replace("a1 = 12", "a1 = 5"))
+    out = tmp_path / "o"
+    assert main(["cut", str(path), "--out", str(out), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    six = parts["wheel-a1"]
+    assert "bore_mm" not in six and six["bore_chosen"] is False
+    assert any("cut the leaves on the arbor" in n for n in six["notes"])
+    circles = ezdxf.readfile(out / "wheel-a1.dxf").modelspace().query("CIRCLE")
+    assert not [c for c in circles if c.dxf.layer == "CUT"]
+    assert [c for c in circles if c.dxf.layer == "MARK"]
+    assert "bore_mm" in parts["wheel-b1"]  # the wheel it drives is bored as before
