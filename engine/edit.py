@@ -31,7 +31,7 @@ import tomlkit
 from tomlkit.exceptions import TOMLKitError
 
 from .errors import OutputError, TrainError, WheelworkError
-from .loader import MAX_FILE_BYTES, MAX_TEETH, _regular_file_bytes, parse_train, safe_text
+from .loader import MAX_FILE_BYTES, MAX_TEETH, parse_train, regular_file_bytes, safe_text
 from .mechanism import Mechanism, build
 from .ratios import PointerRatio, factor_text, pointer_ratios, tooth_factors
 
@@ -152,7 +152,7 @@ class TrainEditor:
         """Read a train file (the loader's checks and errors) ready to edit."""
         path = Path(path)
         where = safe_text(str(path))
-        raw = _regular_file_bytes(path, where)
+        raw = regular_file_bytes(path, where)
         try:
             text = raw.decode("utf-8")
         except UnicodeDecodeError as exc:

@@ -232,7 +232,7 @@ def _short_repr(value: dict | list) -> str:
     return f"a list of {len(value)} item{'s' if len(value) != 1 else ''}"
 
 
-def _regular_file_bytes(path: Path, where: str) -> bytes:
+def regular_file_bytes(path: Path, where: str) -> bytes:
     """The bytes of a regular file, read only after ``stat`` says it is one (a FIFO, a device
     or a socket is refused before it is opened, so reading never blocks or runs forever)."""
     try:
@@ -276,7 +276,7 @@ def load_train(path: str | Path) -> Train:
     path = Path(path)
     where = safe_text(str(path))
     try:
-        raw = _regular_file_bytes(path, where)
+        raw = regular_file_bytes(path, where)
     except TrainError as exc:
         from .demos import demo_path  # the commands take a demo's name; Python wants a file
 

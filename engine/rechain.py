@@ -55,10 +55,10 @@ from .search import (
     Target,
     TrainResult,
     WheelPair,
-    _make_result,
     make_constraints,
     reach,
     search,
+    train_result,
 )
 from .train import FRAME, Train
 
@@ -140,7 +140,7 @@ def _own_result(chain: PointerChain, cons) -> TrainResult | None:
         return None
     if any(s.internal for s in chain.stages):
         return None
-    return _make_result(tuple(WheelPair(s.driver_teeth, s.driven_teeth) for s in chain.stages),
+    return train_result(tuple(WheelPair(s.driver_teeth, s.driven_teeth) for s in chain.stages),
                         chain.target)
 
 
@@ -438,7 +438,7 @@ def _search_returns(chain: PointerChain, cons, top: int, cancel=None) -> list[Tr
         for (idx, teeth), j in zip(parts, np.unravel_index(int(flat), sizes), strict=True):
             for i, (a, b) in zip(idx, teeth[j], strict=True):
                 stages[i] = WheelPair(int(a), int(b))
-        res = _make_result(tuple(stages), chain.target)
+        res = train_result(tuple(stages), chain.target)
         old = found.get(res.ratio)
         if old is None or res.total_teeth < old.total_teeth:
             found[res.ratio] = res

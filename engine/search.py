@@ -414,7 +414,9 @@ def _period_error_ppm(ratio: Fraction, target: Target) -> float:
     return float(target.ratio / ratio - 1) * 1e6
 
 
-def _make_result(stages: tuple[WheelPair, ...], target: Target) -> TrainResult:
+def train_result(stages: tuple[WheelPair, ...], target: Target) -> TrainResult:
+    """The search's answer for a chain of stages against ``target``: its exact ratio, period
+    error and drift (read by the search and by the re-chaining of one pointer's chain)."""
     ratio = Fraction(1)
     for s in stages:
         ratio *= s.ratio
@@ -730,7 +732,7 @@ def search(target: Target, constraints: Constraints | None = None, top: int = 10
                 best[ratio] = entry
     step(steps)
     ranked = sorted(best.values(), key=lambda x: x[:3])[:top]
-    results = tuple(_make_result(stages, target) for *_, stages in ranked)
+    results = tuple(train_result(stages, target) for *_, stages in ranked)
     convs = tuple(convergents(target, cons)) if with_convergents else ()
     return SearchReport(target, cons, results, convs)
 
@@ -786,7 +788,7 @@ def exact_trains(ratio: Fraction, target: Target, constraints: Constraints, top:
                         continue
                     found.setdefault((a, b), (sum(a) + sum(b), k))
     ranked = sorted(found.items(), key=lambda item: (item[1], item[0]))[:top]
-    return [_make_result(_pair_stages(a, b), target) for (a, b), _ in ranked]
+    return [train_result(_pair_stages(a, b), target) for (a, b), _ in ranked]
 
 
 def split_ratio(ratio: Fraction, target: Target, constraints: Constraints
