@@ -39,7 +39,7 @@ from engine.errors import WheelworkError
 from engine.exact import fraction_text
 from engine.loader import load_train
 
-from .screens import _GEDIT, ClosesOnce, Dialog, HelpScreen
+from .screens import EDIT_KEYS, ClosesOnce, Dialog, HelpScreen
 from .session import recent_files, remember  # files opened or saved, kept across runs
 from .small import SizeGuard
 from .widgets import CAUTION, Readings, ui
@@ -233,8 +233,8 @@ class PartsScreen(ClosesOnce, SizeGuard, Screen):
 
     BINDINGS = [
         Binding("escape", "back", "bench"),
-        Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT),
-        Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT),
+        Binding("ctrl+z", "undo_edit", "undo change", group=EDIT_KEYS),
+        Binding("ctrl+y", "redo_edit", "redo change", group=EDIT_KEYS),
         Binding("ctrl+s", "save", "save…"),
         Binding("ctrl+f", "find_teeth", "find teeth…"),
         Binding("f1", "help", "help"),

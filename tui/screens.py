@@ -71,7 +71,7 @@ _G100 = Binding.Group("±100")
 _G1000 = Binding.Group("±1000", compact=True)
 _GSTEP = Binding.Group("±step", compact=True)
 _GSPEED = Binding.Group("speed", compact=True)
-_GEDIT = Binding.Group("↶↷", compact=True)
+EDIT_KEYS = Binding.Group("↶↷", compact=True)
 _GDECADE = Binding.Group("decades", compact=True)
 _GTHRESHOLD = Binding.Group("threshold", compact=True)
 _GECLIPSE = Binding.Group("eclipse", compact=True)
@@ -196,8 +196,8 @@ class BenchScreen(SizeGuard, Screen):
         Binding("z", "eclipse(-1)", "◂eclipse", group=_GECLIPSE),
         Binding("p", "predicted", "predicted▸"),
         Binding("w", "change_train", "edit…"),
-        Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT),
-        Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT),
+        Binding("ctrl+z", "undo_edit", "undo change", group=EDIT_KEYS),
+        Binding("ctrl+y", "redo_edit", "redo change", group=EDIT_KEYS),
         Binding("ctrl+s", "save_train", "save…"),
         Binding("ctrl+o", "open_train", "open…"),
         Binding("question_mark,f1", "help", "help"),
@@ -980,8 +980,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         Binding("pagedown", "table_page(1)", "table page↓", show=False),
         Binding("y", "scale", "y scale", show=False),
         Binding("w", "change_train", "edit…", show=False),
-        Binding("ctrl+z", "undo_edit", "undo change", group=_GEDIT, show=False),
-        Binding("ctrl+y", "redo_edit", "redo change", group=_GEDIT, show=False),
+        Binding("ctrl+z", "undo_edit", "undo change", group=EDIT_KEYS, show=False),
+        Binding("ctrl+y", "redo_edit", "redo change", group=EDIT_KEYS, show=False),
         Binding("question_mark,f1", "help", "help"),
         Binding("q", "app.quit", "quit"),
     ]

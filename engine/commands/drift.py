@@ -12,13 +12,10 @@ from __future__ import annotations
 import argparse
 import csv
 import math
-import signal
-import threading
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from ..errors import UsageError, WheelworkError
-from ..periods import JULIAN_YEAR_DAYS
 from . import support
 from .support import SUN_CAUTION
 
@@ -205,44 +202,6 @@ class _CsvSink:
         self.out.discard()
 
 
-class _CtrlC:
-    """Ctrl-C during a run: raises ``KeyboardInterrupt`` at once, and also keeps a flag that
-    the run asks between chunks (``cancelled``), so a stop is honoured even when some library
-    call swallows the interrupt. ``quiet()`` keeps only the flag while files are cleaned up.
-
-    Installed only in the main thread, and not when Ctrl-C was ignored when we started (a
-    background job, ``nohup``)."""
-
-    def __init__(self):
-        self.asked = False
-        self.old = None
-
-    def __enter__(self):
-        if (threading.current_thread() is threading.main_thread()
-                and signal.getsignal(signal.SIGINT) not in (signal.SIG_IGN, None)):
-            self.old = signal.signal(signal.SIGINT, self._raise)
-        return self
-
-    def _raise(self, signum, frame):
-        self.asked = True
-        raise KeyboardInterrupt
-
-    def _flag(self, signum, frame):
-        self.asked = True
-
-    def cancelled(self) -> bool:
-        return self.asked
-
-    def quiet(self):
-        if self.old is not None:
-            signal.signal(signal.SIGINT, self._flag)
-
-    def __exit__(self, *exc):
-        if self.old is not None:
-            signal.signal(signal.SIGINT, self.old)
-        return False
-
-
 # --- chart ---------------------------------------------------------------------------------
 
 def _year(jd):
@@ -330,22 +289,6 @@ def write_chart(result: DriftResult, out: support.OutputFile, title: str) -> Non
 
 
 # --- the report ----------------------------------------------------------------------------
-
-def _count(x: float, unit: str) -> str:
-    """``2.5 days``, ``1 day``, ``12 days``: one decimal under ten, none above."""
-    text = f"{x:.1f}" if x < 9.95 else f"{x:.0f}"
-    text = text.removesuffix(".0")
-    return f"{text} {unit}" + ("" if text == "1" else "s")
-
-
-def _duration(days: float) -> str:
-    """Hours under a day, days under a year, years beyond."""
-    if days < 1:
-        return _count(days * 24, "hour")
-    if days < JULIAN_YEAR_DAYS:
-        return _count(days, "day")
-    return f"{support.fixed(days / JULIAN_YEAR_DAYS, 2)} years"
-
 
 def _angle(x: float) -> str:
     return f"{support.fixed(x, 2)}°" if abs(x) >= 1 else f"{support.figure(x, 2)}°"
@@ -459,9 +402,9 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool, per_turn=1) -
                   f"{support.fixed(s.periodic_period_days, 2)} days")
     if s.threshold_deg is not None:
         if days and threshold_days_given:
-            lim = f"{_count(s.threshold_days, 'day')} ({s.threshold_deg:.2f}°)"
+            lim = f"{support.count_text(s.threshold_days, 'day')} ({s.threshold_deg:.2f}°)"
         elif days:
-            lim = f"{s.threshold_deg:g}° ({_duration(s.threshold_days)})"
+            lim = f"{s.threshold_deg:g}° ({support.duration_text(s.threshold_days)})"
         else:
             lim = f"{s.threshold_deg:g}°"
         if s.first_crossing_jd is None:
@@ -470,7 +413,7 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool, per_turn=1) -
             when = f"{_when(s.first_crossing_jd)}  (at the start)"
         else:
             when = (f"{_when(s.first_crossing_jd)}  "
-                    f"(after {_duration(s.first_crossing_jd - start_jd)})")
+                    f"(after {support.duration_text(s.first_crossing_jd - start_jd)})")
         t.add_row(f"first {lim} off", when)
     off = s.best_offset_deg
     if abs(off) < 5e-5:
@@ -478,8 +421,8 @@ def _summary_table(s, start_jd: float, threshold_days_given: bool, per_turn=1) -
     else:
         move = f"turn {'back' if off > 0 else 'forward'} by {_angle(abs(off))}"
         if days:
-            move += f" ({_count(abs(off) / g, 'day')})" if abs(off) / g >= 0.1 else \
-                f" ({_count(abs(off) / g * 24, 'hour')})"
+            move += f" ({support.count_text(abs(off) / g, 'day')})" if abs(off) / g >= 0.1 else \
+                f" ({support.count_text(abs(off) / g * 24, 'hour')})"
         if per_turn != 1:  # its degrees are of what it shows: the hand itself turns less
             move += (f", the {s.pointer} pointer itself {_angle(abs(off) / float(per_turn))} "
                      f"(it shows {support.figure(float(per_turn), 7)} cycles a turn)")
@@ -495,7 +438,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..drift import DriftCancelled
 
     err = Console(stderr=True, highlight=False, soft_wrap=True)
-    with _CtrlC() as ctrl_c:
+    with support.CtrlC() as ctrl_c:
         try:
             done = _compute(args, err, ctrl_c)
         except (KeyboardInterrupt, DriftCancelled):
@@ -505,7 +448,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     return _report(args, console, err, *done)
 
 
-def _compute(args, err: Console, ctrl_c: _CtrlC):
+def _compute(args, err: Console, ctrl_c: support.CtrlC):
     """Everything that can take long or write files, under the Ctrl-C guard."""
     from ..dates import format_day, parse_step
     from ..drift import DriftError, DriftRun, RunControl, drift_series, grid
@@ -604,7 +547,7 @@ def phase_note(mech, ph) -> str:
 
     return (f"pin-and-slot stage '{ph.stage}' is out of phase with the sky: with pin_deg = "
             f"{ph.pin_deg:g}° the pointer '{ph.pointer}' errs {swing(ph.low_deg, ph.high_deg)} "
-            f"over the {_duration(ph.to_jd - ph.from_jd)} from the epoch, with pin_deg = "
+            f"over the {support.duration_text(ph.to_jd - ph.from_jd)} from the epoch, with pin_deg = "
             f"{ph.best_pin_deg:.0f}° only {swing(ph.best_low_deg, ph.best_high_deg)}; "
             f"set pin_deg to about {ph.best_pin_deg:.0f}° in [pin_slots.{ph.stage}] of "
             f"{mech.train.source} for the epoch {format_day(ph.from_jd, bc=True)}")
@@ -648,11 +591,11 @@ def _report(args, console: Console, err: Console, mech, sky, result, start, end,
     line(f"from {format_jd(start)}")
     to = f"  to {format_jd(last)}"
     if last - end > 0.5 / 1440:  # the grid runs on to the first step at or after the end
-        to += f", {_duration(last - end)} past the end asked"
+        to += f", {support.duration_text(last - end)} past the end asked"
     elif end - last > 0.5 / 1440:
-        to += f", {_duration(end - last)} short of the end asked (the ephemeris ends)"
+        to += f", {support.duration_text(end - last)} short of the end asked (the ephemeris ends)"
     line(to)
-    line(f"{n:,} dates, every {step_text(step)} ({_duration(last - start)})")  # 0.00 years no more
+    line(f"{n:,} dates, every {step_text(step)} ({support.duration_text(last - start)})")  # 0.00 years no more
     line("error = what the train shows minus the true sky (positive: ahead)")
     sigma = result.delta_t_sigma_s
     if sigma >= 60:  # as the eclipses report: said where ΔT's uncertainty reaches a minute

@@ -18,7 +18,7 @@ from ..defaults import ECLIPSE_METHODS as METHODS
 from ..errors import TrainError, UsageError
 from ..periods import JULIAN_YEAR_DAYS
 from . import support
-from .drift import _CtrlC, _duration, date_heading
+from .drift import date_heading
 from .support import SUN_CAUTION
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -182,7 +182,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from rich.console import Console
 
     err = Console(stderr=True, highlight=False, soft_wrap=True)
-    with _CtrlC() as ctrl_c:
+    with support.CtrlC() as ctrl_c:
         try:
             done = _compute(args, err, ctrl_c)
         except KeyboardInterrupt:
@@ -192,7 +192,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     return _report(args, console, err, *done)
 
 
-def _compute(args, err: Console, ctrl_c: _CtrlC):
+def _compute(args, err: Console, ctrl_c: support.CtrlC):
 
     from ..eclipses import check
 
@@ -260,7 +260,7 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
     line(f"{mech.train.name}: eclipses predicted against {sky.name}")
     line(f"from {format_jd(args._start)}")
     days = args._end - args._start
-    span = f"{days / JULIAN_YEAR_DAYS:.1f} years" if days >= JULIAN_YEAR_DAYS else _duration(days)
+    span = f"{days / JULIAN_YEAR_DAYS:.1f} years" if days >= JULIAN_YEAR_DAYS else support.duration_text(days)
     line(f"  to {format_jd(args._end)}  ({span}, {len(c.jd_ut):,} new and full moons)")
     line(f"predicted by {c.how}")
     if c.method == "pointers":

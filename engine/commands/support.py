@@ -29,8 +29,10 @@ import io
 import math
 import os
 import re
+import signal
 import stat
 import sys
+import threading
 from pathlib import Path
 
 from ..errors import OutputError, ParserExit, UsageError, WheelworkError
@@ -746,3 +748,60 @@ def print_table(console, table, keys: int = 1) -> None:
                           overflow="fold")
     if table.caption:
         console.print(Text(_cell_text(table.caption), style="dim"), overflow="fold")
+
+
+# --- runs and their lengths ---------------------------------------------------------------
+
+class CtrlC:
+    """Ctrl-C during a run: raises ``KeyboardInterrupt`` at once, and also keeps a flag that
+    the run asks between chunks (``cancelled``), so a stop is honoured even when some library
+    call swallows the interrupt. ``quiet()`` keeps only the flag while files are cleaned up.
+
+    Installed only in the main thread, and not when Ctrl-C was ignored when we started (a
+    background job, ``nohup``)."""
+
+    def __init__(self):
+        self.asked = False
+        self.old = None
+
+    def __enter__(self):
+        if (threading.current_thread() is threading.main_thread()
+                and signal.getsignal(signal.SIGINT) not in (signal.SIG_IGN, None)):
+            self.old = signal.signal(signal.SIGINT, self._raise)
+        return self
+
+    def _raise(self, signum, frame):
+        self.asked = True
+        raise KeyboardInterrupt
+
+    def _flag(self, signum, frame):
+        self.asked = True
+
+    def cancelled(self) -> bool:
+        return self.asked
+
+    def quiet(self):
+        if self.old is not None:
+            signal.signal(signal.SIGINT, self._flag)
+
+    def __exit__(self, *exc):
+        if self.old is not None:
+            signal.signal(signal.SIGINT, self.old)
+        return False
+
+
+def count_text(x: float, unit: str) -> str:
+    """``2.5 days``, ``1 day``, ``12 days``: one decimal under ten, none above."""
+    text = f"{x:.1f}" if x < 9.95 else f"{x:.0f}"
+    text = text.removesuffix(".0")
+    return f"{text} {unit}" + ("" if text == "1" else "s")
+
+
+def duration_text(days: float) -> str:
+    """Hours under a day, days under a year, years beyond."""
+    from ..periods import JULIAN_YEAR_DAYS
+    if days < 1:
+        return count_text(days * 24, "hour")
+    if days < JULIAN_YEAR_DAYS:
+        return count_text(days, "day")
+    return f"{fixed(days / JULIAN_YEAR_DAYS, 2)} years"
