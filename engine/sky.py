@@ -160,7 +160,7 @@ _SEGMENTS = {  # (center, target) -> what it is, for messages
     (0, 10): "Sun (0->10)",
 }
 _RATIO_SAMPLE = 256  # records checked for the Earth/Moon ratio (see _mass_ratio)
-_BATCH = 8192  # dates per batch in the fast pipeline (fewer when they span too long: _batches)
+_BATCH = 12288  # dates per batch in the fast pipeline (fewer when they span too long: _batches)
 _NUT_BATCH = 4096  # dates per batch of the nutation series (its 77-row temporaries in cache)
 _EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, light time)
 
@@ -187,12 +187,12 @@ def _ut1_time(ut1: np.ndarray):
     skyfield finds TT = UT + ΔT(t) by evaluating ΔT twice: at UT, then at UT + the first ΔT.
     When the dates rise and each lies within :data:`_UT1_SECANT_DAYS` of the next, the second
     value comes from the first ones along the secant from the date to the next (the last
-    date: from the one before). skyfield's ΔT is linear between daily table points and a
+    date, and a date further than that from the next: from the one before). skyfield's ΔT is linear between daily table points and a
     smooth spline outside them, so that differs from the second evaluation by at most the
     shift (ΔT itself: under a minute in modern times, under a day in antiquity) times the
     change of ΔT's slope over the secant's days: below 1e-6 s (``tests/test_sky.py`` checks
-    it on regular and scattered dates). Dates further apart than that get the second
-    evaluation. The Time is built as ``ut1_jd`` builds it."""
+    it on regular and scattered dates). A date further than that from both its neighbours
+    gets the second evaluation. The Time is built as ``ut1_jd`` builds it."""
     ts = _timescale()
     if ut1.size < 3:
         return ts.ut1_jd(ut1)
@@ -210,9 +210,17 @@ def _ut1_time(ut1: np.ndarray):
     far = np.flatnonzero(step > _UT1_SECANT_DAYS)
     if far.size > ut1.size // 2:
         return ts.ut1_jd(ut1)
-    if far.size:  # these dates' secants span too long to trust: evaluate (and the last's)
+    if far.size:  # these dates' secants span too long to trust (and the last's, if so)
         far = np.append(far, ut1.size - 1) if far[-1] == ut1.size - 2 else far
-        second[far] = ts.delta_t_function(ut1[far] + shift[far])
+        # the secant from the date before where that step is short enough (the last date's
+        # slope is that one already); a date far from both its neighbours is evaluated
+        back = far > 0
+        back[back] = step[far[back] - 1] <= _UT1_SECANT_DAYS
+        near, alone = far[back], far[~back]
+        second[near] = slope[near - 1] * shift[near]
+        second[near] += first[near]
+        if alone.size:
+            second[alone] = ts.delta_t_function(ut1[alone] + shift[alone])
     t = ts.tt_jd(ut1, second * (1.0 / SECONDS_PER_DAY))
     t.ut1_fraction = 0.0 * ut1  # as ut1_jd sets it: the UT is the date given
     return t
@@ -342,6 +350,18 @@ _MOST_SLOTS = 32
 _CHUNK_SIZES = np.array((1, 2, 3, 4, 5, 6, 7, 8, 10, 12, 14, 16, 20, 24, 28, 32))
 _SIZE_OF = np.searchsorted(_CHUNK_SIZES, np.arange(_MOST_SLOTS + 1)).astype(np.uint8)
 _TURN_BLOCK = 1024  # records turned at a time for the gather path (_ChebGroup._series)
+# The gather path's error budget for each series (km; _ChebGroup.gather_terms): the terms
+# that add up to less are left out. The Moon from the Earth-Moon barycentre 0.15 m: at least
+# 350,000 km from any place on the Earth (perigee less the Earth's radius), its direction
+# moves by at most 1.0123 × 0.15 m / 350,000 km = 4.4e-10 rad = 0.00009″ (the Moon from the
+# Earth is (1 + 1/EMRAT) times that offset) and its distance by 0.15 m. The Sun and the
+# Earth-Moon barycentre 5 m each: the Sun seen from the Earth (the Sun less the barycentre
+# plus the Moon's offset / EMRAT) moves by at most 10 m at 1.47e8 km, 0.000014″, and a
+# planet's geocentric direction by 5 m at its least distance (Venus, 0.26 au: 0.00003″).
+# Rates 1 mm/s (_CUT_KM_S): 3e-12 rad of aberration, 0.5 m over the Sun's light time. On
+# DE421 the Sun and the barycentre keep 7 of their 13 terms, the Moon 10 of 13.
+_CUT_KM = {(3, 301): 1.5e-4, (0, 3): 5e-3, (0, 10): 5e-3}
+_CUT_KM_S = 1e-6
 
 
 def _chunks(starts: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -410,9 +430,14 @@ def _rows(rows: int, n: int, scratch: str | None = None) -> np.ndarray:
     line past a multiple of 64 values apart: rows a multiple of 4 KiB apart share cache sets,
     which slows the stacked products that read and write them column by column (by up to
     half at 4,096 dates)."""
+    return _padded_rows(rows, n, scratch)[:, :n]
+
+
+def _padded_rows(rows: int, n: int, scratch: str | None = None) -> np.ndarray:
+    """The contiguous (rows, stride) array whose first n columns :func:`_rows` gives."""
     stride = (n // 64) * 64 + 72
     buf = np.empty(rows * stride) if scratch is None else _scratch(scratch, rows * stride)
-    return buf.reshape(rows, stride)[:, :n]
+    return buf.reshape(rows, stride)
 
 
 def _power_basis(s: np.ndarray, k: int) -> np.ndarray:
@@ -455,22 +480,68 @@ class _ChebGroup:
             coef[:, 3 * i:3 * i + 3, :c.shape[0]] = np.transpose(c, (2, 1, 0))
         return coef
 
+    cut = True  # the gather path cuts each series to its error budget (see gather_terms)
+
+    @functools.cached_property
+    def gather_terms(self) -> int:
+        """The terms of each record the gather path evaluates: the fewest after which, in
+        every record, the rest of each series of the group adds up to no more than its budget
+        in :data:`_CUT_KM` (and its rate's to no more than :data:`_CUT_KM_S`); every term for
+        a series without a budget, for a series :meth:`from_records` maps (read as it is,
+        never scanned whole) and when :attr:`cut` is off.
+
+        The bound: the terms from K on add at most Σ_{j≥K} |c_j| to a position anywhere in
+        the record (|T_j| ≤ 1 on it; |c_j| the length of the j-th coefficient's 3-vector) and
+        Σ_{j≥K} j² |c_j| to its rate in units of the record (|T_j'| ≤ j², Markov's
+        inequality). The series from K on are cut before they are re-expressed in powers, so
+        the power form holds exactly the first K Chebyshev terms (``tests/test_sky_gather.py``
+        checks the bound against jplephem and that one term fewer would break it)."""
+        budgets = [_CUT_KM.get(key) for key in self.keys]
+        if self.mapped or not self.cut or None in budgets:
+            return self.nterms
+        coef = self.coef
+        k = coef.shape[2]
+        # |c_j| of each record's series: (records, series, terms); then the largest tail from
+        # each K over the records (tails[..., K] = Σ_{j≥K}, tails[..., k] = 0)
+        size = np.sqrt(np.einsum("rsck,rsck->rsk", *2 * (coef.reshape(self.nrec, -1, 3, k),)))
+        size *= abs(self.scale)
+        j = np.arange(k)
+        rate = 2.0 / self.intlen  # per second, from units of s
+        terms = 1
+        for tail, limit in ((size, np.array(budgets)),
+                            (size * (j * j * rate), np.full(len(budgets), _CUT_KM_S))):
+            tails = np.zeros(tail.shape[:2] + (k + 1,))
+            tails[..., :k] = np.cumsum(tail[..., ::-1], axis=2)[..., ::-1]
+            worst = tails.max(axis=0)  # (series, k + 1)
+            for i, most in enumerate(limit):
+                terms = max(terms, int(np.argmax(worst[i] <= most)))
+        return terms
+
+    def uncut(self) -> _ChebGroup:
+        """A copy of this group whose gather path keeps every term (for checks)."""
+        other = type(self).__new__(type(self))
+        other.__dict__.update({k: v for k, v in vars(self).items()
+                               if k not in ("_turned", "gather_terms")})
+        other.cut = False
+        return other
+
     def _series(self, index: np.ndarray) -> np.ndarray:
-        """(len(index), 2 × coordinates, terms): records ``index`` as :func:`_power_form`
-        gives them, rates in km/day. Kept with the series, turned :data:`_TURN_BLOCK` records
-        at a time when first read (a block never read takes no memory); a series
-        :meth:`from_records` maps (not copied: DE406's arrays) is turned as it is read."""
+        """(len(index), 2 × coordinates, :attr:`gather_terms`): records ``index`` as
+        :func:`_power_form` gives them, rates in km/day. Kept with the series, turned
+        :data:`_TURN_BLOCK` records at a time when first read (a block never read takes no
+        memory); a series :meth:`from_records` maps (not copied: DE406's arrays) is turned as
+        it is read."""
         rate = 2.0 * SECONDS_PER_DAY / self.intlen
         if self.mapped:
             return _power_form(np.take(self.coef, index, axis=0), rate, self.scale)
-        k, rows = self.nterms, 6 * len(self.keys)
+        k, rows = self.gather_terms, 6 * len(self.keys)
         table, turned = self.__dict__.get("_turned") or self.__dict__.setdefault(
             "_turned", (np.empty((self.nrec, rows, k)),
                         np.zeros(-(-self.nrec // _TURN_BLOCK), dtype=bool)))
         for b in range(int(index.min()) // _TURN_BLOCK, int(index.max()) // _TURN_BLOCK + 1):
             if not turned[b]:
                 block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
-                table[block] = _power_form(self.coef[block], rate, self.scale)
+                table[block] = _power_form(self.coef[block, :, :k], rate, self.scale)
                 turned[b] = True
         return np.take(table, index, axis=0, mode="clip",  # "raise" would copy through a buffer
                        out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
@@ -507,7 +578,7 @@ class _ChebGroup:
         if on_grid is not None:
             return on_grid
         index, s = self._records(whole, frac)
-        n, k = s.size, self.nterms
+        n, k = s.size, self.gather_terms
         rows = 6 * len(self.keys)  # positions, then rates
         if n == 0:
             out = np.empty((rows, 0))
@@ -539,7 +610,8 @@ class _ChebGroup:
                 s = padded
             basis = _power_basis(s, k)
             series = self._series(index[firsts[order]])
-            out = _rows(rows, total, None if in_order else "out")  # returned when in order
+            whole_rows = _padded_rows(rows, total, None if in_order else "out")
+            out = whole_rows[:, :total]  # returned when in order
             done = first = 0
             with _one_blas_thread():
                 for size in np.flatnonzero(per_size):
@@ -550,7 +622,9 @@ class _ChebGroup:
                               out=out[:, cols].reshape(rows, count, z).transpose(1, 0, 2))
                     done, first = done + count, cols.stop
             if not in_order:
-                out = np.take(out, where, axis=1)
+                # from the whole rows, the gap after each included: numpy takes from a
+                # contiguous array far quicker than from one with gaps between its rows
+                out = np.take(whole_rows, where, axis=1)
         half = rows // 2
         return {key: (out[3 * i:3 * i + 3], out[half + 3 * i:half + 3 * i + 3])
                 for i, key in enumerate(self.keys)}
@@ -1722,7 +1796,10 @@ def _batches(jd_tt: np.ndarray, rotating: bool) -> list[slice]:
     n = jd_tt.size
     if not rotating or n <= 1 or not jd_tt[-1] - jd_tt[0] > _ROT_POLY_SPAN_DAYS - 1.0 or \
             np.any(jd_tt[1:] < jd_tt[:-1]):
-        return [slice(i, min(i + _BATCH, n)) for i in range(0, n, _BATCH)]
+        # as few batches as _BATCH allows, of equal length: a short last batch would cost
+        # a whole batch's calls for a few dates
+        size = -(-n // max(1, -(-n // _BATCH)))
+        return [slice(i, min(i + size, n)) for i in range(0, n, size)]
     out, i = [], 0
     while i < n:
         end = int(np.searchsorted(jd_tt, jd_tt[i] + (_ROT_POLY_SPAN_DAYS - 1.0), "right"))
@@ -1818,19 +1895,17 @@ def _retard(d, rate, c=C_AUDAY):
     where each target was when its light left, in place, and give that light time (days).
     Lengths in any unit, with ``c`` the speed of light in that unit a day (au by default).
     The target is moved back along its velocity ``rate``: the light time τ then solves
-    |d − τv| = cτ, a quadratic solved in closed form — the value an iteration would converge
-    to. Over the Sun's 500 s and the Moon's 1.3 s the neglected acceleration moves them by
-    under a centimetre."""
+    |d − τv| = cτ, whose root is τ = |d|/c − d·v/c² to first order in v/c; the next order
+    adds at most τ(v/c)²: 1e-8 s for the Moon's 1.3 s at its 30 km/s about the Sun (0.3 mm
+    along its path), nothing measurable for the Sun, whose own speed is 13 m/s (a planet's
+    light time is then iterated on the ephemeris itself). Over the Sun's 500 s and the Moon's
+    1.3 s the neglected acceleration moves them by under a centimetre."""
     dv = np.einsum("...in,...in->...n", d, rate)
-    dd = np.einsum("...in,...in->...n", d, d)
-    a = np.einsum("...in,...in->...n", rate, rate)
-    np.subtract(c * c, a, out=a)
-    dd *= a
-    lt = np.multiply(dv, dv)
-    lt += dd
+    lt = np.einsum("...in,...in->...n", d, d)
     np.sqrt(lt, out=lt)
+    lt *= 1.0 / c
+    dv *= 1.0 / (c * c)
     lt -= dv
-    lt /= a
     d -= lt[..., None, :] * rate
     return lt
 
@@ -1933,8 +2008,8 @@ def _lon(v, dpsi=None, out=None):
     if dpsi is not None:
         lon += dpsi
     lon *= _DEG  # in (-180.01, 180.01): one turn added below 0 (and -0.0 made 0.0)
-    np.add(lon, 360.0, out=lon, where=lon < 0.0)
-    lon += 0.0
+    # (a turn times the test added to every value: far quicker than numpy's masked add)
+    lon += np.less(lon, 0.0) * 360.0
     return lon
 
 

@@ -976,9 +976,9 @@ def test_derived_field_shapes(sky, shape, fast):
 # --- the ephemeris on regular date grids ------------------------------------------------------
 
 def _gathered(group, whole, frac):
-    """The same series through the per-date gather path, the grid path switched off."""
-    other = type(group).__new__(type(group))
-    other.__dict__.update(group.__dict__)
+    """The same series through the per-date gather path, the grid path switched off and every
+    term kept (the gather path's cut to its error budget is checked in test_sky_gather.py)."""
+    other = group.uncut()
     other._evaluate_grid = lambda w, f: None
     return other.evaluate(whole, frac)
 
@@ -1189,8 +1189,14 @@ def test_batches_keep_each_rotation_one_cubic():
             assert all(0 < b.stop - b.start <= _BATCH for b in bounds)
             if rotating:
                 assert all(jd[b.stop - 1] - jd[b.start] <= _ROT_POLY_SPAN_DAYS for b in bounds)
+    # dates out of order (or a fixed frame): as few batches as _BATCH allows, of equal
+    # length (within a date), so no short last batch costs a whole batch's calls
     shuffled = np.random.default_rng(3).permutation(2400000.5 + 2.0 * np.arange(30000))
-    assert [b.stop - b.start for b in _batches(shuffled, True)][0] == _BATCH
+    for jd, rotating in ((shuffled, True), (2400000.5 + np.arange(_BATCH + 1.0), False),
+                         (2400000.5 + np.arange(_BATCH), False)):
+        sizes = [b.stop - b.start for b in _batches(jd, rotating)]
+        assert len(sizes) == -(-jd.size // _BATCH) and max(sizes) - min(sizes) <= 1, sizes
+        assert sum(sizes) == jd.size and max(sizes) <= _BATCH
 
 
 def test_delta_t_on_rising_dates_is_skyfields():

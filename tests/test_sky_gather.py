@@ -14,10 +14,13 @@ POSITION_KM = 1e-6
 RATE_RELATIVE = 1e-12
 
 
-def _gathered(group, whole, frac):
-    """The series through the gather path, the grid path switched off."""
+def _gathered(group, whole, frac, cut=False):
+    """The series through the gather path, the grid path switched off; every term of each
+    record unless ``cut`` (the path as the pipeline takes it, each series cut to its budget)."""
     other = type(group).__new__(type(group))
     other.__dict__.update(group.__dict__)
+    if not cut:
+        other = other.uncut()
     other._evaluate_grid = lambda w, f: None
     return other.evaluate(whole, frac)
 
@@ -77,6 +80,41 @@ def test_gather_path_against_jplephem_spk(sky):
                 _check(group, key, layout, whole, frac, *want)
 
 
+def test_gather_path_cut_to_its_budget(sky):
+    # The pipeline's gather path keeps, in every record, only the terms whose rest adds up to
+    # more than each series' budget (engine.sky._CUT_KM: 0.15 m for the Moon, 5 m for the Sun
+    # and the Earth-Moon barycentre; rates 1 mm/s). Against jplephem's evaluation of every
+    # term (the outside source), on dates all over DE421 and on record edges: within the
+    # budget; and the budget decides it: one term fewer would break it somewhere (the tails
+    # worked out here from the file's coefficients, not by engine.sky's code).
+    from engine.sky import _CUT_KM, _CUT_KM_S
+
+    segments = {(s.center, s.target): s for s in sky._loaded.kernel.spk.segments}
+    rng = np.random.default_rng(11)
+    dates = np.sort(rng.uniform(2415020.5, 2469807.5, 40_000))
+    for group in sky._loaded.groups:
+        k = group.gather_terms
+        assert k < group.nterms, group.keys  # the cut is taken: DE421 keeps 7 and 10 of 13
+        for whole, frac in (_split(dates), _edges(group, 200)):
+            for key in group.keys:
+                pos, vel = _gathered(group, whole, frac, cut=True)[key]
+                want_pos, want_vel = segments[key].compute_and_differentiate(whole, frac)
+                error = np.sqrt(np.sum((pos - want_pos) ** 2, axis=0))
+                assert np.max(error) < _CUT_KM[key] + POSITION_KM, (key, np.max(error))
+                rate_error = np.sqrt(np.sum((vel - want_vel) ** 2, axis=0)) / S_PER_DAY
+                assert np.max(rate_error) < _CUT_KM_S + 1e-9, (key, np.max(rate_error))
+        # one term fewer: the largest tail from k - 1 on (coefficient vectors' lengths, over
+        # every record) is over some series' budget, in position or in rate
+        coef = np.asarray(group.coef).reshape(group.nrec, len(group.keys), 3, group.nterms)
+        size = np.sqrt(np.sum(coef ** 2, axis=2))  # (records, series, terms)
+        j = np.arange(group.nterms)
+        over = [np.max(np.sum(size[:, i, k - 1:], axis=1)) > _CUT_KM[key] or
+                np.max(np.sum(size[:, i, k - 1:] * j[k - 1:] ** 2, axis=1)) * 2.0 /
+                group.intlen > _CUT_KM_S
+                for i, key in enumerate(group.keys)]
+        assert any(over), group.keys
+
+
 def test_gather_path_against_jplephem_arrays(sky406):
     # DE406's mapped arrays (turned record by record as they are gathered, not copied) through
     # jplephem's evaluator for that format; the fast path's Moon is the file's geocentric Moon
@@ -88,6 +126,7 @@ def test_gather_path_against_jplephem_arrays(sky406):
     names = {(0, 3): "earthmoon", (0, 10): "sun", (3, 301): "moon"}
     for group in sky406._loaded.groups:
         assert group.mapped and "_turned" not in vars(group)  # mapped, never copied
+        assert group.gather_terms == group.nterms  # read as they are: never scanned, not cut
         span = (1538000.5, 1538000.5 + 400000)
         for layout, (whole, frac) in _layouts(group, span).items():
             key = group.keys[0]
