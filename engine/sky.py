@@ -1245,21 +1245,23 @@ def _grid(x: np.ndarray, step: float, values_at, points_per_date: float = 1.0
     v = np.asarray(values_at(lo, step, m), dtype=float).reshape(m)
     # The cubic through the four points at -1, 0, 1, 2 about each point, in powers of f (the
     # date's place from that point): c0 + f (c1 + f (c2 + f c3)), its coefficients once a
-    # point; then each date gathers four of them.
+    # point; then each date gathers the four of its point at once (one row of them).
     v0, v1, v2, v3 = v[:m - 3], v[1:m - 2], v[2:m - 1], v[3:]
-    c1 = v2 - v0 * (1.0 / 3.0) - v1 * 0.5 - v3 * (1.0 / 6.0)
-    c2 = (v0 + v2) * 0.5 - v1
-    c3 = (v3 - v0) * (1.0 / 6.0) + (v1 - v2) * 0.5
+    coef = np.empty((m - 3, 4))
+    coef[:, 0] = (v3 - v0) * (1.0 / 6.0) + (v1 - v2) * 0.5
+    coef[:, 1] = (v0 + v2) * 0.5 - v1
+    coef[:, 2] = v2 - v0 * (1.0 / 3.0) - v1 * 0.5 - v3 * (1.0 / 6.0)
+    coef[:, 3] = v1
     u = (x - lo) * (1.0 / step) - 1.0  # >= 0: from the first of each date's four points
     k = np.minimum(u.astype(np.intp), m - 4)  # truncation is the floor
     f = u - k  # in [0, 1): between the second and third of the four points k .. k+3
-    out = c3[k]
+    c = np.take(coef, k, axis=0)  # (dates, 4): c3, c2, c1, c0
+    out = c[:, 0] * f
+    out += c[:, 1]
     out *= f
-    out += c2[k]
+    out += c[:, 2]
     out *= f
-    out += c1[k]
-    out *= f
-    out += v1[k]
+    out += c[:, 3]
     return out
 
 
