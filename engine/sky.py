@@ -8,21 +8,25 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
 
 * the reference pipeline (``fast=False``) is skyfield's own, step by step:
   ``earth.at(t).observe(body).apparent().frame_latlon(ecliptic_frame)``, with IAU 2000A nutation;
-* the fast pipeline (the default) does the same physics in batches of 8,192 dates (fewer
-  where the equinox frame's rotation would span too long), the Sun and the Moon stacked
-  through each step, lengths in km:
+* the fast pipeline (the default) does the same physics in batches of equal length, up to
+  12,288 dates (fewer where the equinox frame's rotation would span too long), the Sun and
+  the Moon stacked through each step, lengths in km:
 
   - every Chebyshev segment sharing a record layout is evaluated at once (positions and rates
     from one gather of each record for the run of dates in it, the records in powers of the
-    record's time, the runs of each padded length in one stacked product); on a regular grid of dates whose step divides the record
+    record's time, the runs of each padded length in one stacked product), each series cut
+    where the rest of it adds up to less than its error budget (:data:`_CUT_KM`: the Moon's
+    direction moves by at most 0.00009″, the Sun's by 0.000014″); on a regular grid of
+    dates whose step divides the record
     length (one a day, every 6 hours, ...) each record's series is instead evaluated once at
     its grid points, with its derivatives, by one matrix product an order (the basis
     remembered from batch to batch), and each date carried from its grid point (ΔT makes a
     UT grid slightly irregular in TDB) by a Taylor series whose remainder is bounded below a
     millimetre, each series of the layout to the orders its own coefficients need
     (:meth:`_ChebGroup._evaluate_grid`);
-  - light time is solved with the target's position carried back along its velocity:
-    over 1.3 s (Moon) or 500 s (Sun) the neglected acceleration term is below a centimetre;
+  - light time is solved with the target's position carried back along its velocity, to
+    first order in v/c (:func:`_retard`): over 1.3 s (Moon) or 500 s (Sun) the neglected
+    acceleration term is below a centimetre, the neglected second order below a millimetre;
   - aberration is skyfield's own relativistic formula, rearranged into fewer passes (equal to
     rounding; the observer's Lorentz factor worked out once for the Sun and the Moon, and the
     angles taken from the apparent direction before its length is applied: :func:`_aberration`);
@@ -160,7 +164,9 @@ _SEGMENTS = {  # (center, target) -> what it is, for messages
     (0, 10): "Sun (0->10)",
 }
 _RATIO_SAMPLE = 256  # records checked for the Earth/Moon ratio (see _mass_ratio)
-_BATCH = 12288  # dates per batch in the fast pipeline (fewer when they span too long: _batches)
+# most dates a batch of the fast pipeline; the batches of a call are of equal length (fewer
+# dates when they span too long: _batches). 8,192 and 18,432 were a few per cent slower.
+_BATCH = 12288
 _NUT_BATCH = 4096  # dates per batch of the nutation series (its 77-row temporaries in cache)
 _EDGE_DAYS = 1.0  # keep clear of the file's first and last day (TDB vs UT, light time)
 
@@ -912,8 +918,8 @@ def _keep_freed_memory() -> bool:
     """Ask the C library's allocator (glibc's ``mallopt``) to keep freed blocks of up to 32 MB
     for reuse rather than hand them back to the system; True if it took the request.
 
-    The fast path works in batches of 8,192 dates, whose arrays (0.2 to 0.4 MB each) lie above
-    glibc's first threshold for mapping a block on its own (128 KB). Each such array is then
+    The fast path works in batches of up to 12,288 dates, whose arrays (0.1 to 0.6 MB each)
+    lie above glibc's first threshold for mapping a block on its own (128 KB). Each such array is then
     mapped afresh and every page zeroed on first touch, and freed memory at the top of the
     heap is handed back at once: in a process that had not yet freed a larger block, a fifth
     (daily dates) to a third (scattered dates) of the fast path's time went on page faults. glibc raises
@@ -1792,8 +1798,9 @@ class Sky:
 
 
 def _batches(jd_tt: np.ndarray, rotating: bool) -> list[slice]:
-    """The fast pipeline's batches: :data:`_BATCH` dates, and where the frame turns (the
-    equinox of date) and the dates rise, fewer when they would span more than
+    """The fast pipeline's batches: as few as :data:`_BATCH` dates a batch allows, of equal
+    length, and where the frame turns (the equinox of date) and the dates rise, fewer dates
+    when they would span more than
     :data:`_ROT_POLY_SPAN_DAYS` (so each batch's rotation stays one cubic in time)."""
     n = jd_tt.size
     if not rotating or n <= 1 or not jd_tt[-1] - jd_tt[0] > _ROT_POLY_SPAN_DAYS - 1.0 or \
