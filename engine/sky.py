@@ -14,10 +14,10 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
 
   - every Chebyshev segment sharing a record layout is evaluated at once (positions and rates
     from one gather of each record for the run of dates in it, the records in powers of the
-    record's time, the runs of each padded length in one stacked product), each series cut
-    where the rest of it adds up to less than its error budget (:data:`_CUT_KM`: the Moon's
-    direction moves by at most 0.00009″, the Sun's by 0.000014″); on a regular grid of
-    dates whose step divides the record
+    record's time, the runs of each padded length in one stacked product); on both paths each
+    series is cut where the rest of it adds up to less than its error budget (:data:`_CUT_KM`:
+    the Moon's direction moves by at most 0.00009″, the Sun's by 0.000014″); on a regular
+    grid of dates whose step divides the record
     length (one a day, every 6 hours, ...) each record's series is instead evaluated once at
     its grid points, with its derivatives, by one matrix product an order (the basis
     remembered from batch to batch), and each date carried from its grid point (ΔT makes a
@@ -490,7 +490,8 @@ class _ChebGroup:
 
     @functools.cached_property
     def gather_terms(self) -> int:
-        """The terms of each record the gather path evaluates: the fewest after which, in
+        """The terms of each record the fast path evaluates, on the gather path and the grid
+        path alike (so a date gets the same value on either): the fewest after which, in
         every record, the rest of each series of the group adds up to no more than its budget
         in :data:`_CUT_KM` (and its rate's to no more than :data:`_CUT_KM_S`); every term for
         a series without a budget, for a series :meth:`from_records` maps (read as it is,
@@ -527,7 +528,7 @@ class _ChebGroup:
         """A copy of this group whose gather path keeps every term (for checks)."""
         other = type(self).__new__(type(self))
         other.__dict__.update({k: v for k, v in vars(self).items()
-                               if k not in ("_turned", "gather_terms")})
+                               if k not in ("_turned", "gather_terms", "_orders_memo")})
         other.cut = False
         return other
 
@@ -730,7 +731,9 @@ class _ChebGroup:
         # p[d] for d >= 1 is rate · P_d. Series of the group needing the same orders share
         # their products.
         rate = 2.0 * SECONDS_PER_DAY / self.intlen
-        by_coord = self.coef[first:first + records].transpose(1, 0, 2)
+        # the series as the gather path takes them (cut to their error budget), so that a date
+        # gets the same value on either path
+        by_coord = self.coef[first:first + records, :, :self.gather_terms].transpose(1, 0, 2)
         out = {}
         for part_orders in dict.fromkeys(orders):
             parts = [i for i, o in enumerate(orders) if o == part_orders]
@@ -752,7 +755,7 @@ class _ChebGroup:
         p_order, v_order = orders
         with _one_blas_thread():
             p = [np.matmul(by_coord, b).reshape(-1, records * m)[:, j0:j0 + n]
-                 for b in _grid_basis(self.nterms, m, self.intlen, phase_steps,
+                 for b in _grid_basis(self.gather_terms, m, self.intlen, phase_steps,
                                       max(p_order, v_order + 1), rate, self.scale)]
         if (p_order, v_order) == (2, 1):  # the usual orders: five passes
             # rate P1 + ε rate P2, and P0 + ε P1 + ε²/2 P2 = P0 + ε/(2 rate) (rate P1 + rate)
@@ -779,7 +782,8 @@ class _ChebGroup:
         key = (first // _TOP_BLOCK, (first + count - 1) // _TOP_BLOCK, step, part)
         memo = self.__dict__.setdefault("_orders_memo", {})
         if key not in memo:
-            memo[key] = _taylor_orders(self._largest_terms(first, count, part), self.nterms,
+            k = self.gather_terms
+            memo[key] = _taylor_orders(self._largest_terms(first, count, part)[:k], k,
                                        2.0 ** (step / 4.0), self.intlen, self.scale)
         return memo[key]
 
