@@ -149,6 +149,25 @@ async def test_run_pause_and_speed():
 
 
 @sync
+async def test_date_dialog_takes_today_as_the_commands_do():
+    """'today' (and 'now'), as `wheelwork sky` and `drift --from` take them, was 'not a date
+    form I know' in the bench's date dialog: 00:00 UT of the clock's date."""
+    from engine.dates import format_jd, jd_now
+
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g")
+        await pilot.pause()
+        app.screen.query_one("#date-input").value = "today"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, BenchScreen)
+        jd = app.session.jd_now()
+        assert format_jd(jd).endswith("00:00 UT (Gregorian)")
+        assert 0 <= jd_now() - jd < 1 + 1 / 1440  # a minute to spare across midnight
+
+
+@sync
 async def test_date_dialog_reports_errors_inside_and_jumps():
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:

@@ -41,7 +41,7 @@ from engine.dates import (
     format_day,
     format_jd,
     parse_crank_step,
-    parse_date,
+    parse_when,
 )
 from engine.errors import WheelworkError
 from engine.figures import figure
@@ -744,7 +744,7 @@ class DateDialog(Dialog):
     def read(self) -> None:
         text = self.query_one("#date-input", Input).value
         try:
-            jd = parse_date(text)
+            jd = parse_when(text)  # also now and today, as the commands take them
             self.session._check_jd(jd)
         except WheelworkError as exc:
             self.reject(str(exc), text)
