@@ -491,6 +491,16 @@ def months_at(position, full, n: int) -> np.ndarray:
     return (np.mod(month, n) + 1).astype(int)
 
 
+def syzygy_months(mech, name: str, jd, full) -> np.ndarray:
+    """The month (1..N) of cycle dial ``name`` each syzygy at ``jd`` (UT) falls in, by
+    :func:`months_at` from where the pointer stands then: the month whose mark the train reads
+    for it. What a check predicts from and what an interface shows as the pointer's month at
+    a syzygy, so the two never name different months (a new moon a little before the
+    boundary the dial shows belongs to the month starting there, not the one ending)."""
+    n = int(mech.train.pointers[name].per_turn)
+    return months_at(cycle_position(mech, name, jd), full, n)
+
+
 def marks_span(train, name: str) -> tuple[float, float]:
     """The span (UT) a cycle dial's marks are read off the sky over: its first turn from the
     epoch."""
@@ -502,7 +512,6 @@ def derive_marks(mech, sky, name: str, penumbral: bool = False,
                  table: SkyEclipses | None = None) -> dict[str, tuple[int, ...]]:
     """The months of a cycle dial that bore eclipses in its first turn from the epoch, as read
     off the sky: what a maker filling such a dial from observation would have engraved."""
-    n = int(mech.train.pointers[name].per_turn)
     start, end = marks_span(mech.train, name)
     try:
         sky.check_span(start, end)
@@ -515,7 +524,7 @@ def derive_marks(mech, sky, name: str, penumbral: bool = False,
     syz = table.syz
     first = (syz.jd_ut >= start) & (syz.jd_ut < end)
     has = table.has_eclipse(penumbral) & first
-    months = months_at(cycle_position(mech, name, syz.jd_ut), syz.full, n)
+    months = syzygy_months(mech, name, syz.jd_ut, syz.full)
     return {"solar": tuple(sorted({int(m) for m in months[has & ~syz.full]})),
             "lunar": tuple(sorted({int(m) for m in months[has & syz.full]}))}
 
@@ -680,7 +689,7 @@ def check(mech, sky, jd_start: float | str, jd_end: float | str, method: str | N
         if marks is None:
             marks = p.marks if p.marks is not None else derive_marks(mech, sky, name, penumbral)
         shown = syz.jd_ut.copy()
-        month = months_at(cycle_position(mech, name, shown), syz.full, lunations)
+        month = syzygy_months(mech, name, shown, syz.full)
         solar = np.isin(month, marks["solar"]) & ~syz.full
         lunar = np.isin(month, marks["lunar"]) & syz.full
         predicted = solar | lunar

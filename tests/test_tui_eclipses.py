@@ -73,13 +73,39 @@ async def test_cycle_ribbon_and_limit_arcs():
         now = app.session.now()
         text = text_of(app.screen.query_one(EclipseInfo))
         assert now.cycle is not None and now.cycle.lunations == 223
-        here = int(now.cycle.position) + 1
-        assert f"month {here}/223" in text
+        # the ribbon's month is the 2024-04-08 new moon's, the one the panel names: the
+        # pointer stands at 26.95 months, just short of the boundary it shows for that moon
+        assert now.cycle.month == 28 and int(now.cycle.position) + 1 == 27
+        assert "month 28/223" in text
         assert "▲" in text  # solar marks on the ribbon
         # the 2024-04-08 new moon is marked (its saros predecessor fell in the first turn)
         assert "eclipse (month 28 of the ring)" in text and "total solar" in text
         kinds = {k for k, _, _ in now.limit_arcs}
         assert kinds == {"solar", "lunar"} and len(now.limit_arcs) == 4
+
+
+def test_ribbon_and_panel_name_the_same_month_at_every_syzygy():
+    """At each new and full moon of 2024 the ribbon's month is the panel's "month k of the
+    ring": a new moon a little before the boundary the dial shows (the 2024-04-08 total solar
+    eclipse, NASA canon, from memory, at 26.99 months) once read "month 28 of the ring" above a
+    ribbon saying "month 27/223", the floor of the pointer's position, for the same moment
+    (common practice, no source: one month for one moment)."""
+    import re
+
+    app = make_app("engine/trains/eclipse_board.toml")
+    session = app.session
+    check = session.eclipse_watch._ensure(parse_date("2024-01-01"), parse_date("2024-12-31"))
+    at_boundary = 0
+    for jd in check.jd_ut:
+        session.go_to(float(jd))
+        now = session.now()
+        text = EclipseInfo.text(now, 160).plain
+        panel = re.search(r"month (\d+) of the ring", text)
+        ribbon = re.search(r"month (\d+)/223", text)
+        assert panel and ribbon, text
+        assert panel.group(1) == ribbon.group(1), text
+        at_boundary += int(now.cycle.position) + 1 != int(ribbon.group(1))
+    assert at_boundary > 0  # the year has new moons just short of a boundary (the old split)
 
 
 def test_keys_are_in_help_and_footer():

@@ -18,7 +18,14 @@ import numpy as np
 
 from engine.dates import format_jd, jd_now, turn_days_text
 from engine.drift import pointer_errors, whole_months_off
-from engine.eclipses import EclipseNow, EclipseWatch, cycle_pointer, cycle_position, limit_arcs
+from engine.eclipses import (
+    EclipseNow,
+    EclipseWatch,
+    cycle_pointer,
+    cycle_position,
+    limit_arcs,
+    syzygy_months,
+)
 from engine.eclipses import limits as eclipse_limits
 from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
@@ -70,12 +77,15 @@ ECLIPSE_MAX_DAYS_PER_FRAME = 40.0
 @dataclass(frozen=True)
 class CycleNow:
     """An eclipse-cycle dial at the current date: its pointer ``name``, ``lunations`` N, where
-    its pointer stands in months (0..N) and the marked months (``{"solar": ..., "lunar": ...}``)."""
+    its pointer stands in months (0..N), the marked months (``{"solar": ..., "lunar": ...}``)
+    and ``month`` (1..N): the month the nearest syzygy falls in, the engine's
+    (``engine.eclipses.syzygy_months``, as its prediction reads it), None with no syzygy."""
 
     name: str
     lunations: int
     position: float
     marks: dict
+    month: int | None = None
 
 
 @dataclass(frozen=True)
@@ -443,8 +453,13 @@ class Session:
         name = cycle_pointer(self.mech.train)
         if name is not None:
             n = int(self.mech.train.pointers[name].per_turn)
+            # the ribbon's month is the one the panel's syzygy is read in (a new moon just
+            # before the boundary the dial shows is the next month's: the panel said month 28
+            # of the 2024-04-08 eclipse while the ribbon, floor of the position, said 27)
+            month = None if ecl is None else int(syzygy_months(
+                self.mech, name, np.array([ecl.jd_syzygy]), np.array([ecl.kind == "lunar"]))[0])
             cycle = CycleNow(name, n, _one(cycle_position(self.mech, name, np.array([jd]))),
-                             watch.marks)
+                             watch.marks, month)
         return ecl, arcs, cycle
 
     # --- reading ---------------------------------------------------------------------------

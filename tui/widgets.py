@@ -1318,16 +1318,17 @@ class EclipseInfo(Static):
         if e.outcome:
             out.append(e.outcome, style=cls.OUTCOME_STYLE[e.outcome])
         c = now.cycle
-        if c is not None and c.marks is not None:
+        if c is not None and c.marks is not None and c.month is not None:
             out.append("\n")
             out.append_text(cls.ribbon(c, max(width - 2, 10)))
         return out
 
     @staticmethod
     def ribbon(c, width: int) -> Text:
-        """The cycle dial as a strip of months centred on the pointer's month: ▲ solar mark,
-        ▼ lunar, ◆ both, · none; the pointer's month reversed."""
-        here = int(math.floor(c.position)) % c.lunations + 1
+        """The cycle dial as a strip of months centred on the month the nearest syzygy falls
+        in (``c.month``, the engine's, the one the panel's prediction reads): ▲ solar mark,
+        ▼ lunar, ◆ both, · none; that month reversed."""
+        here = c.month
         label = f" month {here}/{c.lunations}"
         cells = max(width - len(label), 5)
         half = cells // 2
