@@ -1262,7 +1262,10 @@ async def test_readings_keep_numbers_apart_in_fixed_notation(size):
             assert len(fields) == ncols - (p.error_days is None and not narrow), row
             assert not any("e-" in f or "e+" in f for f in fields), row
             d = p.drift_deg_per_century
-            assert Readings.drift_text(d) in fields
+            places = Readings.drift_places((q.drift_deg_per_century
+                                            for q in now.pointers.values()),
+                                           (Readings.NARROW if narrow else Readings.WIDE)[5][1] - 1)
+            assert Readings.drift_text(d, places) in fields
         # a made-up wide error: still separated, still whole, wrapped if it must be
         p = next(iter(now.pointers.values()))
         from dataclasses import replace
@@ -1275,6 +1278,42 @@ async def test_readings_keep_numbers_apart_in_fixed_notation(size):
             assert f" {number}" in text, text
         assert Readings.drift_text(0.00049) == "+0.0005"
         assert Readings.drift_text(-0.0000004) == "-0.0000"
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 50)])
+@sync
+async def test_the_drift_column_has_one_number_of_decimals_and_lines_up(size):
+    """The tide office's drifts run from +0.0008 (its Sun) to -0.0255 °/cy (its phase): the
+    column mixed four decimals and two (+0.0008 over -0.02), so its figures' points and
+    right edges wandered (common practice, no source: a column of figures is written to one
+    number of decimals, aligned on the point)."""
+    import re
+
+    app = make_app()
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        readings = app.screen.query_one(Readings)
+        narrow = readings.size.width < 61
+        rows = [r for r in text_of(readings).splitlines()[1:] if r.strip()][:5]
+        decimals, ends = set(), set()
+        for row in rows:
+            spans = [m.span() for m in re.finditer(r"\S+", row)]
+            a, b = spans[5]  # pointer, train, sky, err, worst, drift
+            drift = row[a:b]
+            assert re.fullmatch(r"[+-][\d,]+\.\d+", drift), row
+            decimals.add(len(drift.split(".")[1]))
+            ends.add(b)
+        assert decimals == {4}, rows  # one under 0.01 °/cy: four for all
+        assert len(ends) == 1, rows  # right edges in line
+        assert len(rows) == 5 and narrow == (size == (80, 24))
+    assert Readings.drift_places([0.0008, -0.0255, 1.3977]) == 4
+    assert Readings.drift_places([-0.45, 0.95]) == 2
+    assert Readings.drift_places([67987.93, -35644.39]) == 0
+    assert Readings.drift_text(67987.93, 4) == "+67,987.9300"  # wider, pushed, never cut
+    # a narrow column (7 cells): fewer decimals for all when none then reads as zero
+    assert Readings.drift_places([461.7022, -23002.39], 7) == 0
+    assert Readings.drift_places([461.7022, -23002.39], 10) == 2
+    assert Readings.drift_places([0.0008, -23002.39], 7) == 4  # +0.00 would lose the Sun
 
 
 TRAINS = Path(__file__).parents[1] / "engine" / "trains"

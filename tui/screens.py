@@ -44,7 +44,7 @@ from engine.dates import (
     parse_when,
 )
 from engine.errors import WheelworkError
-from engine.figures import figure
+from engine.figures import figure, fixed
 from engine.kinds import shows_text
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
@@ -1295,11 +1295,14 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             year = calendar_date(first_jd)[0]  # the chart's own first year as the example
             shown = f"-{-year:04d}" if year < 0 else f"{year:04d}"
             t.title = f"years before AD 1 as astronomers number them: {shown} is {1 - year} BC"
+        # the trends as the readings write a column of drifts: one number of decimals
+        places = Readings.drift_places(sm.drift_deg_per_century
+                                       for sm in result.summaries.values())
         for name, sm in result.summaries.items():
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
-                      f"{sm.max_abs_deg:.2f}", format_day(sm.max_at_jd),
-                      f"{sm.rms_deg:.2f}", Readings.drift_text(sm.drift_deg_per_century),
-                      crossing(sm))  # a trend as the readings write a drift: +0.0008, +67,988
+                      fixed(sm.max_abs_deg, 2), format_day(sm.max_at_jd),
+                      fixed(sm.rms_deg, 2), Readings.drift_text(sm.drift_deg_per_century, places),
+                      crossing(sm))
         self._summary(t)
 
     def action_back(self) -> None:

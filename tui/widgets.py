@@ -1002,16 +1002,32 @@ class Readings(RowStatic):
             ("drift °/cy", 11), ("err days", 9))
 
     @staticmethod
-    def drift_text(d: float | None) -> str:
-        """Mean drift in fixed notation: two decimals, or four when smaller than 0.01°/cy
-        (a drift under 0.00005°/cy shows as ±0.0000); from 1,000°/cy whole degrees with
-        thousands separated (+67,988, as the parts screen's ratio panel writes them: a train
-        that far off needs no hundredths, and +67987.93 wrapped onto a line of its own)."""
+    def drift_places(drifts, width: int | None = None) -> int:
+        """The decimals of a column of mean drifts (°/cy), one number for every row so the
+        column lines up on the point: four when one is under 0.01°/cy (+0.0008 said nothing as
+        +0.00), else two, and none when every one is 1,000°/cy or more (+67,988: a train that
+        far off needs no hundredths). Given the column's ``width``, fewer when a figure would
+        not fit it and none then reads as zero (+462 beside -23,002, which at two decimals
+        ran past an 80-column panel); failing that a figure too wide pushes its row right, and
+        a row too long wraps: none is cut."""
+        ds = [d for d in drifts if d is not None and math.isfinite(d)]
+        places = max((0 if abs(d) >= 999.995 else 2 if abs(d) >= 0.00995 or d == 0 else 4
+                      for d in ds), default=2)
+        while width and places > 0 and any(len(fixed(d, places, sign=True)) > width
+                                           for d in ds):
+            fewer = places - 2
+            if any(d != 0 and abs(d) < 0.5 * 10.0 ** -fewer for d in ds):
+                break  # one would read +0.00 (or +0): wrap rather than lose it
+            places = fewer
+        return places
+
+    @staticmethod
+    def drift_text(d: float | None, places: int | None = None) -> str:
+        """A mean drift to ``places`` decimals (the column's, :meth:`drift_places`; alone, its
+        own), thousands separated, through ``engine.figures.fixed``."""
         if d is None:
             return ""
-        if abs(d) >= 999.995:
-            return f"{d:+,.0f}"
-        return f"{d:+.2f}" if abs(d) >= 0.01 else f"{d:+.4f}"
+        return fixed(d, Readings.drift_places([d]) if places is None else places, sign=True)
 
     @staticmethod
     def angle_text(deg: float, decimals: int) -> str:
@@ -1051,20 +1067,22 @@ class Readings(RowStatic):
         for title, width in cols[1:]:
             cell(title, width, head)
         decimals = 1 if narrow else 2
+        places = self.drift_places((p.drift_deg_per_century for p in now.pointers.values()),
+                                   w[5] - 1)  # a space before it
         for p in now.pointers.values():
             t.append("\n")
             t.append(f"{names[p.name]:<{name_w}}")
             cell(self.angle_text(p.train_deg, decimals), w[1])
             cell(self.angle_text(p.sky_deg, decimals), w[2])
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
-            cell(f"{err:+.2f}", w[3], _err_style(err, colours))
-            cell(f"{p.worst_deg:.2f}", w[4], _err_style(p.worst_deg, colours))
-            cell(self.drift_text(p.drift_deg_per_century), w[5])
+            cell(fixed(err, 2, sign=True), w[3], _err_style(err, colours))
+            cell(fixed(p.worst_deg, 2), w[4], _err_style(p.worst_deg, colours))
+            cell(self.drift_text(p.drift_deg_per_century, places), w[5])
             if days_col:
                 days = p.error_days
                 if days is not None and abs(days) < 0.005:
                     days = 0.0
-                cell("" if days is None else f"{days:+.2f}", w[6])
+                cell("" if days is None else fixed(days, 2, sign=True), w[6])
         # a cycle dial's err° is taken within the month: the whole months it stands from
         # the real count (the engine's figure) said under the table, when there are any
         for p in now.pointers.values():
