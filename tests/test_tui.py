@@ -808,7 +808,7 @@ async def test_status_crank_line_does_not_wrap_at_80x24():
         status = app.screen.query_one(Status)
         lines = text_of(status).splitlines()
         crank = next(line for line in lines if line.startswith("crank"))
-        assert "+1,000.042 turns" in crank and crank.rstrip().endswith("step 1/24")
+        assert "+1,000.042 turns" in crank and crank.rstrip().endswith("step 1/24 turn")
         assert status.size.height == len(lines)  # one line each: nothing wrapped
         assert len(crank.rstrip()) <= status.size.width
 

@@ -459,9 +459,21 @@ def test_a_step_in_time_follows_a_change_of_the_crank():
     session.adopt(month)
     assert session.step == Fraction(3) / Fraction("29.530589")
     assert session.step_text == "3d = 0.10159 turns"
-    session.set_step(Fraction(1, 24))  # a step in turns stays in turns
+    session.set_step(Fraction(1, 24))  # a step in turns stays in turns, and says so
+    assert session.step_text == "1/24 turn"
     session.adopt(make_app().session.mech)
     assert session.step == Fraction(1, 24) and session.step_days is None
+
+
+def test_a_step_in_turns_names_its_unit():
+    """The readings said "step 1" (one what? a turn, a day, a month on this train?) beside
+    "1 turn = 1 d" (common practice, no source: a figure with its unit)."""
+    session = make_app().session
+    assert session.step_text == "1 turn"
+    session.set_step(Fraction(3))
+    assert session.step_text == "3 turns"
+    session.set_step(Fraction(12000))
+    assert session.step_text == "12,000 turns"
 
 
 def test_a_year_step_on_a_motor_shaft_crank(tmp_path):
@@ -475,7 +487,7 @@ def test_a_year_step_on_a_motor_shaft_crank(tmp_path):
     assert session.turn_days == "1 turn = 0.0000001157407 days"  # plain figures
     session.set_step(Fraction("365.25") * 8640000, Fraction("365.25"), "1y")
     assert session.step == 3_155_760_000
-    assert session.step_text == "1y = 3155760000 turns"
+    assert session.step_text == "1y = 3,155,760,000 turns"  # figures grouped, as everywhere
     start = session.jd_now()
     session.crank(session.step)  # what + does
     assert session.jd_now() - start == pytest.approx(365.25, abs=1e-6)

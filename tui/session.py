@@ -345,11 +345,14 @@ class Session:
 
     @property
     def step_text(self) -> str:
-        """The step as the user gave it: ``"3"`` (turns) or ``"1y = 12.37 turns"``."""
-        if self.step_days is None:
-            return str(self.step)
+        """The step as the user gave it, with its unit: ``"3 turns"``, ``"1 turn"``,
+        ``"1/24 turn"`` or ``"1y = 12.37 turns"`` (whole turns thousands separated:
+        ``"1y = 3,155,760,000 turns"`` on a motor shaft)."""
         turns = self.step
-        shown = str(turns) if turns.denominator == 1 else figure(float(turns), 6)
+        if self.step_days is None:
+            shown = f"{turns.numerator:,}" if turns.denominator == 1 else str(turns)
+            return f"{shown} turn{'' if abs(turns) <= 1 else 's'}"
+        shown = f"{turns.numerator:,}" if turns.denominator == 1 else figure(float(turns), 6)
         return f"{self.step_label or self.days_text(self.step_days)} = {shown} turns"
 
     @property
