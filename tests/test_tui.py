@@ -1442,6 +1442,39 @@ async def test_a_phase_only_train_shows_its_phase_discs_where_the_dial_would_be(
         assert caption.count("%") == 2 and caption.count("°") == 2, caption
 
 
+@pytest.mark.parametrize("train, size", [("tide_office", (160, 50)),
+                                         ("nineteen_year_drum", (160, 50)),
+                                         ("moon_disc_59", (80, 24)), ("moon_disc_59", (160, 50))])
+@sync
+async def test_each_phase_disc_stands_over_its_caption(train, size):
+    """Each disc centred over its caption ("train: phase", "true Moon"): on a wide panel the
+    sky's disc stood flush left in its half, 16 cells left of "true Moon" at 160 x 50 (common
+    practice, no source: a caption is centred under what it names)."""
+    from tui.widgets import PhaseDiscs
+
+    app = make_app(TRAINS / f"{train}.toml")
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        await pilot.pause()
+        discs = app.screen.query(PhaseDiscs).first()
+        lines = [s.text for s in discs._strips]
+        caption = next(line for line in lines if "true Moon" in line)
+        disc_rows = [line for line in lines if line.strip() and not any(
+            c.isalpha() or c.isdigit() for c in line)]
+        assert disc_rows, lines
+        half = (len(caption) - 3) // 2  # two halves, a gap of 3 between
+        for lo, hi, word in ((0, half, caption[:half].strip()),
+                             (half + 3, len(caption), "true Moon")):
+            cells = [i for row in disc_rows for i, c in enumerate(row) if lo <= i < hi
+                     and c != " "]
+            if not cells:  # a disc wholly dark in a theme's colours still has its cells
+                continue
+            mid_disc = (min(cells) + max(cells)) / 2
+            start = caption.index(word, lo)
+            mid_caption = start + (len(word) - 1) / 2
+            assert abs(mid_disc - mid_caption) <= 1.5, (word, mid_disc, mid_caption, lines)
+
+
 def _contrast(a, b) -> float:
     """WCAG contrast ratio of two textual Colors (common practice, no source)."""
     def lum(c):

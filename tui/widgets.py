@@ -862,7 +862,9 @@ class PhaseDiscs(Widget):
         strips = []
         for a, b in zip(left, right, strict=True):
             segs = [Segment(" " * pad, plain)]
-            for half, tail in ((a, width - rows * 2 - pad + 3), (b, 0)):
+            # the right disc starts its half's pad after the gap of 3, as the left does
+            # (it stood flush left in its half: 16 cells off its caption at 160 x 50)
+            for half, tail in ((a, width - rows * 2 + 3), (b, 0)):
                 segs += [Segment(ch, self._style(fg, bg)) for ch, fg, bg in half]
                 if tail:
                     segs.append(Segment(" " * tail, plain))
