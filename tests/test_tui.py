@@ -1253,6 +1253,7 @@ async def test_readings_keep_numbers_apart_in_fixed_notation(size):
         readings = app.screen.query_one(Readings)
         narrow = readings.size.width < 61
         ncols = len(Readings.NARROW if narrow else Readings.WIDE)
+        has_days = any(p.error_days is not None for p in app.session.now().pointers.values())
         table = text_of(readings)
         rows = [line for line in table.splitlines()[1:] if line.strip()]
         now = app.session.now()
@@ -1260,6 +1261,7 @@ async def test_readings_keep_numbers_apart_in_fixed_notation(size):
             row = next(r for r in rows if r.startswith(name[:7]))
             fields = row.split()
             assert len(fields) == ncols - (p.error_days is None and not narrow), row
+            assert has_days
             assert not any("e-" in f or "e+" in f for f in fields), row
             d = p.drift_deg_per_century
             places = Readings.drift_places((q.drift_deg_per_century
@@ -1314,6 +1316,22 @@ async def test_the_drift_column_has_one_number_of_decimals_and_lines_up(size):
     assert Readings.drift_places([461.7022, -23002.39], 7) == 0
     assert Readings.drift_places([461.7022, -23002.39], 10) == 2
     assert Readings.drift_places([0.0008, -23002.39], 7) == 4  # +0.00 would lose the Sun
+
+
+@sync
+async def test_the_wide_readings_head_no_empty_err_days_column():
+    """The table orrery has no phase pointer nor cycle dial: its wide readings headed an "err
+    days" column with nothing under it (common practice, no source: no column without
+    figures); the tide office's phase keeps it."""
+    for train, want in (("table_orrery", False), ("tide_office", True)):
+        app = make_app(TRAINS / f"{train}.toml")
+        async with app.run_test(size=(160, 50)) as pilot:
+            await pilot.pause()
+            readings = app.screen.query_one(Readings)
+            assert readings.size.width >= 61  # the wide columns
+            head = text_of(readings).splitlines()[0]
+            assert ("err days" in head) == want, head
+            assert head.rstrip().endswith("err days" if want else "drift °/cy"), head
 
 
 TRAINS = Path(__file__).parents[1] / "engine" / "trains"

@@ -1044,11 +1044,14 @@ class Readings(RowStatic):
         cols = self.NARROW if narrow else self.WIDE
         # err days in a narrow panel too when it has the room (51 columns at 100 x 30; at
         # 80 x 24 the six columns take all 42) and a pointer has it (phase, eclipse ring)
-        days_col = not narrow or (
-            self.size.width >= self.NARROW_WIDTH + self.DAYS[1]
-            and any(p.error_days is not None for p in now.pointers.values()))
+        # and only when a pointer has it: the table orrery's wide panel headed an empty column
+        has_days = any(p.error_days is not None for p in now.pointers.values())
+        days_col = has_days and (not narrow
+                                 or self.size.width >= self.NARROW_WIDTH + self.DAYS[1])
         if narrow and days_col:
             cols = cols + (self.DAYS,)
+        elif not narrow and not days_col:
+            cols = cols[:-1]
         w = [c[1] for c in cols]
         colours = ui(self)
         head = f"bold {colours['muted']}"
