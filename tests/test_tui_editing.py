@@ -820,3 +820,56 @@ def test_an_answer_of_other_teeth_with_the_ratio_now_is_marked_so():
     assert "(ratio as now)" in str(text(fake, 4, {"a": 18, "b": 92}, Fraction(18, 92)))
     assert "(as now)" in str(text(fake, 4, {"a": 9, "b": 46}, Fraction(9, 46)))
     assert "as now" not in str(text(fake, 4, {"a": 18, "b": 91}, Fraction(18, 91)))
+
+
+@sync
+async def test_the_search_answers_columns_have_one_number_of_decimals():
+    """The lunation board's Sun answers run from -0.0277 to +1.86 °/cy: the list wrote -0.0277
+    over -1.05, the points out of line (common practice, no source: a column of figures to
+    one number of decimals); the ppm column likewise."""
+    import re
+
+    from tui.editing import TeethScreen
+
+    app = make_app(demo_path("lunation_board"))
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.press("w")
+        await pilot.pause()
+        await pilot.press("ctrl+f")
+        await pilot.pause()
+        screen = app.screen
+        assert isinstance(screen, TeethScreen)
+        await pilot.press("enter")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        ol = screen.query_one("#teeth-answers")
+        lines = [str(ol.get_option_at_index(i).prompt) for i in range(ol.option_count)]
+        assert len(lines) > 5
+        drifts = [re.search(r"(\S+) °/cy", line).group(1) for line in lines]
+        ppms = [re.search(r"(\S+) ppm", line).group(1) for line in lines]
+        assert max(abs(float(d)) for d in drifts) >= 1 > min(abs(float(d)) for d in drifts)
+        assert {len(d.split(".")[1]) for d in drifts} == {4}, drifts
+        assert {len(p.split(".")[1]) for p in ppms} == {3}, ppms
+        ends = {line.index(" °/cy") for line in lines}
+        assert len(ends) == 1, lines  # right edges in line
+
+
+def test_the_ratio_panel_writes_each_column_to_one_number_of_decimals():
+    """File → now for a Sun made far off by an edit: its +16,949 ppm beside the others'
+    thousandths keeps the column's three decimals, and its -600.01 °/cy the four of the rest
+    (common practice, no source)."""
+    from types import SimpleNamespace
+
+    from tui.editing import compare_table
+
+    def row(name, ppm_b, ppm_a, d_b, d_a):
+        return SimpleNamespace(pointer=name, before=SimpleNamespace(
+            ratio=Fraction(1, 3), period_error_ppm=ppm_b, drift_deg_per_century=d_b),
+            after=SimpleNamespace(
+            ratio=Fraction(2, 3), period_error_ppm=ppm_a, drift_deg_per_century=d_a))
+
+    text = compare_table([row("sun", -0.021, 16949.1, 0.0008, -600.0123),
+                          row("moon", 0.051, 0.051, -0.0248, -0.0248)], width=60)
+    plain = text.plain
+    assert "-0.021 → +16,949.100" in plain and "+0.0008 → -600.0123" in plain, plain
+    assert "+0.051 → +0.051" in plain and "-0.0248 → -0.0248" in plain, plain

@@ -37,6 +37,7 @@ from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.exact import fraction_text
+from engine.figures import fixed
 from engine.loader import load_train
 
 from .screens import EDIT_KEYS, ClosesOnce, Dialog, HelpScreen
@@ -97,22 +98,34 @@ def _ratio(r) -> str:
     return f"{r.ratio.numerator}/{r.ratio.denominator}"
 
 
-def _ppm(x: float) -> str:
-    """A period error: thousandths of a ppm to compare trains close to the sky, whole ppm
-    from 1,000 (+100,016,947, not +100,016,947.000)."""
-    if not math.isfinite(x):
-        return "—"
-    return f"{x:+,.0f}" if abs(x) >= 999.9995 else f"{x:+,.3f}"
+def _ppm_places(xs) -> int:
+    """The decimals of a column of period errors: thousandths of a ppm to compare trains close
+    to the sky, none when every one is 1,000 ppm or more (+100,016,947, not
+    +100,016,947.000); one number for the column, so its figures line up on the point."""
+    ds = [x for x in xs if x is not None and math.isfinite(x)]
+    return max((0 if abs(x) >= 999.9995 else 3 for x in ds), default=3)
 
 
-def _drift(x: float) -> str:
-    """A drift per century: four decimals under 1°/cy, two to 1,000, whole degrees from there
-    (as the readings write it)."""
+def _ppm(x: float, places: int | None = None) -> str:
+    """A period error to ``places`` decimals (the column's; alone, its own)."""
     if not math.isfinite(x):
         return "—"
-    if abs(x) >= 999.995:
-        return f"{x:+,.0f}"
-    return f"{x:+,.4f}" if abs(x) < 1 else f"{x:+,.2f}"
+    return fixed(x, _ppm_places([x]) if places is None else places, sign=True)
+
+
+def _drift_places(xs) -> int:
+    """The decimals of a column of drifts per century: four when one is under 1°/cy, else
+    two, none when every one is 1,000°/cy or more; one number for the column (the tooth
+    search listed -0.0277 over -1.05)."""
+    ds = [x for x in xs if x is not None and math.isfinite(x)]
+    return max((0 if abs(x) >= 999.995 else 4 if abs(x) < 1 else 2 for x in ds), default=2)
+
+
+def _drift(x: float, places: int | None = None) -> str:
+    """A drift per century to ``places`` decimals (the column's; alone, its own)."""
+    if not math.isfinite(x):
+        return "—"
+    return fixed(x, _drift_places([x]) if places is None else places, sign=True)
 
 
 def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
@@ -122,6 +135,10 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
     (:func:`tui.widgets.ui`): changed rows in its accent, labels in its muted colour."""
     accent = (colours or {}).get("accent", "#e5c07b")
     muted = (colours or {}).get("muted", "#9aa5b1")
+    rows = list(rows)
+    both = [x for c in rows for x in (c.before, c.after) if x is not None]
+    pp = _ppm_places(x.period_error_ppm for x in both)  # one number of decimals a column
+    dp = _drift_places(x.drift_deg_per_century for x in both)
     if width < 90:
         out = Text()
         for c in rows:
@@ -132,11 +149,11 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
             out.append(f"{c.pointer}  ", style="bold")
             out.append(f"{_ratio(b) if b else 'new'} → {_ratio(a)}\n", style=style)
             out.append("  ppm ", style=muted)
-            out.append(f"{_ppm(b.period_error_ppm) if b else ''} → {_ppm(a.period_error_ppm)}",
-                       style=style)
+            out.append(f"{_ppm(b.period_error_ppm, pp) if b else ''} → "
+                       f"{_ppm(a.period_error_ppm, pp)}", style=style)
             out.append("\n  °/cy ", style=muted)
-            out.append(f"{_drift(b.drift_deg_per_century) if b else ''} → "
-                       f"{_drift(a.drift_deg_per_century)}", style=style)
+            out.append(f"{_drift(b.drift_deg_per_century, dp) if b else ''} → "
+                       f"{_drift(a.drift_deg_per_century, dp)}", style=style)
         return out
     t = Table(box=None, padding=(0, 1), show_edge=False, expand=False)
     t.add_column("pointer", style="bold", overflow="fold")
@@ -149,10 +166,10 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
         style = f"bold {accent}" if changed else ""
         t.add_row(c.pointer,
                   Text(f"{_ratio(b) if b else 'new'} → {_ratio(a)}", style=style),
-                  Text(f"{_ppm(b.period_error_ppm) if b else ''} → {_ppm(a.period_error_ppm)}",
-                       style=style),
-                  Text(f"{_drift(b.drift_deg_per_century) if b else ''} → "
-                       f"{_drift(a.drift_deg_per_century)}", style=style))
+                  Text(f"{_ppm(b.period_error_ppm, pp) if b else ''} → "
+                       f"{_ppm(a.period_error_ppm, pp)}", style=style),
+                  Text(f"{_drift(b.drift_deg_per_century, dp) if b else ''} → "
+                       f"{_drift(a.drift_deg_per_century, dp)}", style=style))
     return t
 
 
@@ -915,7 +932,9 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         width = max((len(a.stages_text()) for a in answers), default=0)
         now = {w: t for w, _, t in self.editor.wheels()}
         ratio_now = self.chain.ratio_now if self.chain is not None else None
-        ol.add_options([Option(self._answer_text(a, width, now, ratio_now), id=str(i))
+        places = (_ppm_places(a.period_error_ppm for a in answers),
+                  _drift_places(a.drift_deg_per_century for a in answers))
+        ol.add_options([Option(self._answer_text(a, width, now, ratio_now, places), id=str(i))
                         for i, a in enumerate(answers)])
         self._note(self._worse_note(answers, *self._bounds))
         if answers:
@@ -923,15 +942,17 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
             ol.focus()
 
     @staticmethod
-    def _answer_text(a, width: int, now: dict, ratio_now=None) -> Text:
+    def _answer_text(a, width: int, now: dict, ratio_now=None,
+                     places: tuple[int | None, int | None] = (None, None)) -> Text:
         """One answer's line; "(as now)" for the train's own teeth, "(ratio as now)" for other
-        teeth giving the very same ratio (picking it changes the wheels, not the reading)."""
+        teeth giving the very same ratio (picking it changes the wheels, not the reading);
+        ``places``: the list's decimals for its ppm and °/cy columns."""
         same = all(now.get(w) == n for w, n in a.teeth.items())
         mark = ("  (as now)" if same else
                 "  (ratio as now)" if ratio_now is not None and a.ratio == ratio_now else "")
         return Text.assemble((a.stages_text().ljust(width), "bold"),
-                             f"  {_ppm(a.period_error_ppm):>10} ppm  "
-                             f"{_drift(a.drift_deg_per_century):>9} °/cy  "
+                             f"  {_ppm(a.period_error_ppm, places[0]):>10} ppm  "
+                             f"{_drift(a.drift_deg_per_century, places[1]):>9} °/cy  "
                              f"{a.result.total_teeth:>4} teeth",
                              (mark, "#98c379"))
 
