@@ -159,6 +159,13 @@ FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
 FOOTER_PALETTE_FROM_WIDTH = 120
 
 
+def eclipse_notice(e) -> str:
+    """One line for a real eclipse the crank was turned to (an ``EclipseNow``), with the
+    caution for a solar one: its type and greatest eclipse in UT."""
+    text = f"{e.sky_type} {e.kind} eclipse, greatest {format_jd(e.jd_greatest)}"
+    return f"{text}\n{CAUTION}" if e.kind == "solar" else text
+
+
 class BenchScreen(SizeGuard, Screen):
     """The main screen: sky dial, readings, phase, the train, warnings."""
 
@@ -565,6 +572,13 @@ class BenchScreen(SizeGuard, Screen):
     def action_eclipse(self, direction: int) -> None:
         if self._guard(self.session.jump_to_eclipse, int(direction)):
             self.refresh_view()
+            # a train that predicts no eclipses gives its panel up on a short screen (the
+            # lunation board at 80 x 24): say which eclipse the crank went to, or the jump
+            # only changed the date
+            if not self.query_one("#eclipse").display:
+                e = self.session.eclipse_watch.at(self.session.jd_now())
+                if e is not None and e.sky_type:
+                    self.notify(eclipse_notice(e), title="eclipse")
 
     def action_predicted(self) -> None:
         if self._guard(self.session.jump_to_predicted):
