@@ -517,3 +517,30 @@ async def test_run_line_speed_in_plain_figures_and_singular_for_one(size):
             assert "  1/s" in seen[1.0] or "  1 turn/s" in seen[1.0]
             assert "1,000" in seen[1000.0]
         assert not any("turns/s" in seen[1.0] or "e+" in line for line in seen.values())
+
+
+@pytest.mark.parametrize("running", [False, True])
+@sync
+async def test_the_status_panel_takes_its_new_height_when_the_window_grows(running):
+    """The table orrery at 80 x 24 folds "1 turn = 365.2422 d" onto a line of its own; grown
+    to 160 x 50 it is back on the run line, but the panel kept the folded height and a blank
+    line stood between "observer" and the pointers' header (common practice, no source: a
+    panel as tall as its lines)."""
+    from tests.tui_support import text_of
+    from tui.widgets import Status
+
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        if running:
+            await pilot.press("space")
+        status = app.screen.query_one(Status)
+        assert status.size.height == 8  # the turn's days on a line of their own
+        await pilot.resize_terminal(160, 50)
+        for _ in range(4):
+            await pilot.pause()
+        lines = text_of(status).rstrip("\n").splitlines()
+        assert len(lines) == 7, lines
+        assert status.size.height == len(lines), (status.size.height, lines)
+        if running:
+            await pilot.press("space")

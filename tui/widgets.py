@@ -1142,6 +1142,9 @@ class Status(RowStatic):
         self._laid_out = False
         if self._last is not None:
             self.show(*self._last)
+            # the height asked during the resize's own layout pass was not taken: grown from
+            # 80 x 24, the table orrery's panel kept the line its folded turn took, blank
+            self.call_after_refresh(self.refresh, layout=True)
 
     def show(self, now: Now, running: bool) -> None:
         self._last = (now, running)
