@@ -880,6 +880,12 @@ async def test_the_side_column_fits_and_the_warnings_show(demo):
                 assert eclipse.display == (size != (80, 24) or predicts), size
             assert eclipse.has_class("-joined") == (
                 size == (80, 24) and demo in ("tide_office", "eclipse_board")), size
+            if demo == "planet_dial":  # predicts none, yet keeps the panel where it fits
+                assert eclipse.display, size
+            # nothing left blank under the warnings when the eclipses panel could have the
+            # rows (the planet dial at 80 x 24 left four)
+            if size == (80, 24) and eclipse.display:
+                assert findings.region.bottom == side.bottom, (size, findings.region, side)
 
 
 @pytest.mark.parametrize("size", [(160, 50), (200, 60), (250, 70)])

@@ -519,6 +519,31 @@ async def test_run_line_speed_in_plain_figures_and_singular_for_one(size):
         assert not any("turns/s" in seen[1.0] or "e+" in line for line in seen.values())
 
 
+@sync
+async def test_the_status_panel_keeps_every_line_when_the_window_shrinks():
+    """Shrunk from 100 x 30 to 80 x 24 the table orrery's turn ("1 turn = 365.2422 d") folds
+    onto a line of its own; the panel kept its seven rows and the observer's line was cut
+    off the bottom, and once it took its eight the warnings below ran a row past the
+    column (common practice, no source: nothing cut, nothing past the edge)."""
+    from tests.tui_support import text_of
+    from tui.widgets import Status
+
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        await pilot.resize_terminal(80, 24)
+        for _ in range(4):
+            await pilot.pause()
+        status = app.screen.query_one(Status)
+        lines = text_of(status).rstrip("\n").splitlines()
+        assert len(lines) == 8 and lines[-1].startswith("observer"), lines
+        assert status.size.height == 8
+        side = app.screen.query_one("#side").region
+        for pane in app.screen.query("#side > *"):
+            if pane.display:
+                assert pane.region.bottom <= side.bottom, (pane.id, pane.region, side)
+
+
 @pytest.mark.parametrize("running", [False, True])
 @sync
 async def test_the_status_panel_takes_its_new_height_when_the_window_grows(running):

@@ -159,6 +159,18 @@ FOOTER_SHORT = {"toggle_observer": "site", "go_to_date": "date"}
 FOOTER_PALETTE_FROM_WIDTH = 120
 
 
+class InfoPanel(Vertical):
+    """The readings panel (status and readings): when its height changes after the screen
+    was fitted (a resize's pass lays the status out again: shrunk to 80 x 24, the table
+    orrery's turn folds onto a line of its own), the side column is fitted again, or the
+    warnings below ran a row past the column's bottom."""
+
+    def on_resize(self) -> None:
+        fit = getattr(self.screen, "fit_side", None)
+        if fit is not None:
+            self.call_after_refresh(fit)
+
+
 def eclipse_notice(e) -> str:
     """One line for a real eclipse the crank was turned to (an ``EclipseNow``), with the
     caution for a solar one: its type and greatest eclipse in UT."""
@@ -267,10 +279,11 @@ class BenchScreen(SizeGuard, Screen):
         for the rest), then the phase discs or the orrery plan (hidden when they would get
         fewer than FLEX_MIN_ROWS or PLAN_MIN_ROWS), and the train drawing only when all of that leaves it
         TRAIN_MIN_ROWS (it takes up to TRAIN_ROWS). A train that predicts no eclipses gives
-        its eclipses panel up when the readings would leave the warnings no line (the table
-        orrery's seven arms at 80 x 24); one that does keeps it, and when that leaves the
-        warnings short it gives up its bottom border (the class ``-joined``: the warnings'
-        top border closes it; the tide office at 80 x 24). Heights are measured from the
+        its eclipses panel up when the readings would leave the warnings no line even with the
+        panel joined (the table orrery's seven arms at 80 x 24); one that does keeps it, and
+        when that leaves the warnings short it gives up its bottom border (the class
+        ``-joined``: the warnings' top border closes it; the tide office, and the planet dial
+        that predicts none, at 80 x 24). Heights are measured from the
         panels' own content, which depends on the width only, so fitting again never changes
         what it measured."""
         from engine.eclipses import methods
@@ -290,8 +303,11 @@ class BenchScreen(SizeGuard, Screen):
             next((c for c in ("-short", "-mid") if self.has_class(c)), ""), 8)
         want = min(cap, findings.outer_size.height + 2)  # its lines and its border
         least = min(want, self.FINDINGS_MIN_ROWS)
+        # a train that predicts none keeps the panel (its nearest syzygy, the sky's eclipse)
+        # while it fits, joined if it must be: given up whole, the planet dial and the
+        # lunation board at 80 x 24 left four and two rows blank under the warnings
         show_eclipse = (bool(methods(self.session.mech.train)) or info.outer_size.height
-                        + self._eclipse_rows + least <= rows)
+                        + self._eclipse_rows - 1 + least <= rows)
         eclipse.styles.display = "block" if show_eclipse else "none"
         joined = show_eclipse and info.outer_size.height + self._eclipse_rows + least > rows
         eclipse.set_class(joined, "-joined")
@@ -367,7 +383,7 @@ class BenchScreen(SizeGuard, Screen):
                     yield Static(SkyDial.key_text(self.kinds), id="dial-key")
                 yield Static(CAUTION, id="caution")
             with Vertical(id="side"):
-                with Vertical(id="info"):
+                with InfoPanel(id="info"):
                     yield Status(s, id="status")
                     yield Readings(id="readings")
                 if any(is_arm(p.shows) for p in train.pointers.values()):
