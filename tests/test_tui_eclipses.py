@@ -202,3 +202,16 @@ async def test_a_jump_to_an_eclipse_says_which_when_its_panel_is_given_up():
             else:
                 assert not said  # the panel says it
                 assert f"{e.sky_type} {e.kind}" in text_of(panel)
+
+
+@pytest.mark.parametrize("width, bc", [(84, True), (51, True), (42, False)])
+def test_a_bc_syzygy_gives_its_bc_year_where_the_line_has_room(width, bc):
+    """The lunation board's first full moon, -0149-04-05, is 150 BC (astronomers' year -149
+    is 150 BC; common practice, no source): the readings and the drift chart say so, the
+    eclipses panel wrote only the signed date. At 80 columns the line already fills the
+    panel's 42 cells and stays as it was: nothing wraps, nothing is cut."""
+    app = make_app("engine/trains/lunation_board.toml")
+    line = EclipseInfo.text(app.session.now(), width).plain.splitlines()[0]
+    assert line.startswith("full moon -0149-04-05"), line
+    assert ("UT (150 BC) · " in line) == bc, line
+    assert len(line) <= width, line

@@ -19,7 +19,7 @@ from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode
 from textual_plot import NumericAxisFormatter
 
-from engine.dates import format_jd, turn_days_text
+from engine.dates import AD_1_JD, calendar_date, format_jd, turn_days_text
 from engine.figures import figure, fixed
 from engine.view import (
     TrainLayout,
@@ -1323,7 +1323,13 @@ class EclipseInfo(Static):
         when = format_jd(e.jd_syzygy).split(" UT")[0]
         away = (f"in {e.days_away:.1f} d" if e.days_away > 0.05 else
                 f"{-e.days_away:.1f} d ago" if e.days_away < -0.05 else "now")
-        out = Text.assemble((f"{word} ", "bold"), f"{when} UT · {away}\n")
+        when += " UT"
+        if e.jd_syzygy < AD_1_JD:  # its BC year where the line has room, as the readings
+            # and the chart give it (-0149-04-05 is 150 BC); the panel's lines never wrap
+            bc = f" ({1 - calendar_date(e.jd_syzygy)[0]} BC)"
+            if len(f"{word} {when}{bc} · {away}") <= width:
+                when += bc
+        out = Text.assemble((f"{word} ", "bold"), f"{when} · {away}\n")
         if e.predicted is None:
             out.append("train: predicts no eclipses\n", style="dim")
         else:
