@@ -275,6 +275,12 @@ per_turn = 2
     path.write_text(text.replace("= 56", "= 226"))  # the count meant: +2.6 ppm, no line
     assert main(["ratios", str(path), "--json"]) == 0
     assert not json.loads(capsys.readouterr().out)["warnings"]
+    # a set_deg the epoch does not read is said here too, the first command run on a file
+    path.write_text(text.replace("= 56", "= 226").replace("per_turn = 2", "per_turn = 2\n"
+                                                            "set_deg = 10"))
+    assert main(["ratios", str(path)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "warning: " in out and "[pointers.moon_disc] set_deg: read only with [epoch] " in out
     for demo in sorted(TRAINS.glob("*.toml")):
         assert main(["ratios", str(demo), "--json"]) == 0
         assert not [w for w in json.loads(capsys.readouterr().out)["warnings"] if "slip" in w]

@@ -47,12 +47,12 @@ def run(args: argparse.Namespace, console: Console) -> int:
     from ..kinematics import solve
     from ..loader import load_train
     from ..ratios import era_note, far_notes, pointer_ratios, stage_path
-    from ..readout import backward_pointers, backward_warnings
+    from ..readout import backward_pointers, backward_warnings, unread_angles
 
     train = load_train(args.train)
     kin = solve(train)
     rows = pointer_ratios(train, kin)
-    warnings = backward_warnings(train, kin) + far_notes(train, rows)
+    warnings = backward_warnings(train, kin) + unread_angles(train) + far_notes(train, rows)
     if args.json:
         support.print_json(console, {
             "train": train.name, "file": train.source, "dial": train.dial,
