@@ -686,22 +686,26 @@ def _pin_slot_holes(train: Train, groups: dict[str, str], findings: list[Finding
     """A pin-and-slot's axes stand its offset apart (and a carried pin's arbor its arm from the
     carrier's axis): two pivot holes of ``[workshop] pivot_mm`` closer than that, centre to
     centre, run into one another and hold neither arbor (``wheelwork cut`` says it on the
-    plate it draws; the check says it before anything is drawn)."""
-    pivot = train.workshop.pivot_mm
+    plate it draws; the check says it before anything is drawn). Each hole is its arbor's own
+    ``pivot_mm``, else ``[workshop]``'s; two holes overlap when their centres are closer than
+    the sum of their radii."""
     for ps in train.pin_slots.values():
         pairs = [(ps.carrier or ps.pin_arbor, ps.slot_arbor, ps.offset_mm, "offset_mm")]
         if ps.carrier is not None:
             pairs.append((ps.carrier, ps.pin_arbor, ps.arm_mm, "arm_mm"))
         for a, b, dist, key in pairs:
-            if groups[a] == groups[b] or dist <= TOLERANCE_MM or dist >= pivot:
+            pa, pb = train.pivot_of(a), train.pivot_of(b)
+            if groups[a] == groups[b] or dist <= TOLERANCE_MM or dist >= (pa + pb) / 2:
                 continue  # one axis (its own check), or holes clear of one another
+            across = (f"{_mm(pa)} across" if pa == pb else
+                      f"{_mm(pa)} and {_mm(pb)} across")
             findings.append(Finding(
                 "warning", f"[pin_slots.{ps.name}]", f"{_file_name(train)}: the pivot holes of "
                 f"'{a}' and '{b}' are {_mm(dist)} apart centre to centre ({key}) but "
-                f"{_mm(pivot)} across (pivot_mm): they run into one another and hold neither "
+                f"{across} (pivot_mm): they run into one another and hold neither "
                 "arbor", "pivot one of the two arbors in a cock or bridge of its own, or give "
-                f"them pivots under {_mm(dist)} ([workshop] pivot_mm); a longer {key} changes "
-                "the stage's swing"))
+                f"them pivots under {_mm(dist)} together ([arbors.{a}] and [arbors.{b}] "
+                f"pivot_mm, or [workshop] pivot_mm); a longer {key} changes the stage's swing"))
 
 
 def _triangles(train: Train, groups, first: dict, findings: list[Finding]) -> None:

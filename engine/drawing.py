@@ -557,8 +557,13 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     outline is a rounded rectangle covering every hole by ``PLATE_MARGIN_MM`` and the wheels
     over it (their ``reach``, the tip radius, else the pitch radius) by ``PLATE_CLEAR_MM``."""
     pivot = train.workshop.pivot_mm
+    # a hole is as wide as the widest pivot of the arbors it holds (an arbor's own pivot_mm,
+    # else [workshop]'s)
+    size = {h.axis: max(train.pivot_of(a) for a in h.arbors) for h in plate.holes.values()}
     what = "the frame" if plate.mount == FRAME else f"carrier '{plate.mount}'"
-    title = f"plate of {what}: {len(plate.holes)} holes, pivots {figure(pivot, 6)} mm"
+    sizes = sorted(set(size.values()))
+    title = (f"plate of {what}: {len(plate.holes)} holes, pivots "
+             f"{' / '.join(figure(s, 6) for s in sizes) or figure(pivot, 6)} mm")
     part = Part(stem, title, "plate")
     boxes = [(h.x_mm, h.y_mm, PLATE_MARGIN_MM) for h in plate.holes.values()]
     for h in plate.holes.values():
@@ -570,12 +575,13 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     y0, y1 = min(y - r for _, y, r in boxes), max(y + r for _, y, r in boxes)
     part.polylines.append(("CUT", _rounded_rect(x0, y0, x1, y1, 3.0)))
     for h in plate.holes.values():
-        part.circles.append(("CUT", h.x_mm, h.y_mm, pivot / 2))
-        c = max(pivot, 2.0)
+        part.circles.append(("CUT", h.x_mm, h.y_mm, size[h.axis] / 2))
+        c = max(size[h.axis], 2.0)
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
         marks = [(o.x_mm, o.y_mm) for o in plate.holes.values() if o is not h]
-        part.texts.append((*_hole_label_at(h.x_mm, h.y_mm, pivot, h.axis, part.texts, marks),
+        part.texts.append((*_hole_label_at(h.x_mm, h.y_mm, size[h.axis], h.axis, part.texts,
+                                           marks),
                            TEXT_MM * 0.8, h.axis))
         for w in _on_plate(train, plate, h):
             if w in pitch:
@@ -586,7 +592,7 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     part.info = {
         "mount": plate.mount, "pivot_mm": pivot,
         "holes": [{"axis": h.axis, "arbors": list(h.arbors), "x_mm": h.x_mm, "y_mm": h.y_mm,
-                   "fixed": h.fixed} for h in plate.holes.values()],
+                   "fixed": h.fixed, "pivot_mm": size[h.axis]} for h in plate.holes.values()],
         "distances": [{"item": t.label, "axes": [plate.holes[t.axis1].axis,
                                                  plate.holes[t.axis2].axis],
                        "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
@@ -596,11 +602,14 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     for i, a in enumerate(holes):  # two pivot holes closer than a pivot run into one another
         for b in holes[i + 1:]:
             d = math.hypot(a.x_mm - b.x_mm, a.y_mm - b.y_mm)
-            if d < pivot:
+            across = (size[a.axis] + size[b.axis]) / 2  # the two radii
+            if d < across:
+                at = " / ".join(figure(s, 6) for s in sorted({size[a.axis], size[b.axis]}))
                 part.notes.append(
                     f"the holes of {a.axis} and {b.axis} are {figure(d, 4)} mm apart, centre to "
-                    f"centre, at {figure(pivot, 6)} mm pivots: they run into one another and "
-                    "hold neither arbor; pivot one of them in a cock or bridge of its own")
+                    f"centre, at {at} mm pivots: they run into one another and hold neither "
+                    "arbor; pivot one of them in a cock or bridge of its own, or give those "
+                    "arbors smaller pivots ([arbors.NAME] pivot_mm)")
     shared = [h.axis for h in plate.holes.values() if len(h.arbors) > 1]
     if shared:
         part.notes.append(f"{'holes' if len(shared) > 1 else 'the hole'} for arbors sharing an "

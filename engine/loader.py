@@ -89,7 +89,7 @@ _KEYS = {
     "train": {"name", "about", "dial"},
     "crank": {"arbor", "days_per_turn"},
     "epoch": {"date", "set", "calendar", "ephemeris"},
-    "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "note"},
+    "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "pivot_mm", "note"},
     "mesh": {"wheels", "ring", "module_mm", "face_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
                  "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
@@ -547,7 +547,10 @@ def _read_arbors(r: _Reader, doc: dict):
             if axis_with == aname:
                 raise r.fail(f"{item} axis_with", "names the arbor itself; name the other arbor "
                              "it turns on or in (a tube on an arbor), or leave axis_with out")
-        arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with)
+        pivot = tbl.get("pivot_mm")
+        if pivot is not None:
+            pivot = r.number(pivot, f"{item} pivot_mm", positive=True)
+        arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with, pivot)
     for a in arbors.values():
         if a.mount != FRAME and a.mount not in arbors:
             raise r.fail(f"[arbors.{a.name}] on", f"{_unknown('arbor', a.mount, arbors)} "

@@ -39,6 +39,7 @@ class Arbor:
     fixed: bool = False
     at_mm: tuple[float, float] | None = None
     axis_with: str | None = None
+    pivot_mm: float | None = None  # its own pivots' diameter, where the file gives one
 
 
 @dataclass(frozen=True)
@@ -224,6 +225,11 @@ class Train:
     def __repr__(self):
         return (f"Train({self.name!r} from {self.source}, {len(self.arbors)} arbors, "
                 f"{len(self.meshes)} meshes, pointers: {', '.join(self.pointers)})")
+
+    def pivot_of(self, arbor: str) -> float:
+        """The diameter of an arbor's pivots: its own ``pivot_mm``, else ``[workshop]``'s."""
+        own = self.arbors[arbor].pivot_mm
+        return self.workshop.pivot_mm if own is None else own
 
     def mount_chain(self, arbor: str) -> list[str]:
         """The arbor, its carrier, that carrier's carrier... down to (excluding) the frame."""

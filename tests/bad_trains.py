@@ -127,6 +127,8 @@ def _texts() -> list[tuple[str, str | bytes]]:
     add("at_mm strings", _sub("[arbors.b]\n", '[arbors.b]\nat_mm = ["1", "2"]\n'))
     add("at_mm inf", _sub("[arbors.b]\n", "[arbors.b]\nat_mm = [inf, 0]\n"))
     add("at_mm 1e300", _sub("[arbors.b]\n", "[arbors.b]\nat_mm = [1e300, 0]\n"))
+    add("arbor pivot_mm zero", _sub("[arbors.b]\n", "[arbors.b]\npivot_mm = 0\n"))
+    add("arbor pivot_mm word", _sub("[arbors.b]\n", '[arbors.b]\npivot_mm = "thin"\n'))
     add("axis_with itself", _sub("[arbors.b]\n", '[arbors.b]\naxis_with = "b"\n'))
     add("axis_with unknown", _sub("[arbors.b]\n", '[arbors.b]\naxis_with = "zz"\n'))
     add("axis_with a number", _sub("[arbors.b]\n", "[arbors.b]\naxis_with = 2\n"))

@@ -642,15 +642,13 @@ def test_pin_diameter_is_called_assumed_only_when_the_file_has_none(tmp_path, ca
     assert "pin Ø 1 mm assumed)" in out
 
 
-def test_the_tide_office_demo_has_no_warning_but_its_pin_and_slot_holes():
+def test_the_tide_office_demo_has_no_warning():
     """The bundled lunisolar demo is laid out clean: its idlers stand clear of the sun arbor's
-    great wheel (no tip circle over another arbor's axis) and nothing else is warned of but
-    the pivot holes of its pin-and-slot, 0.985 mm apart at 1 mm pivots, which no plate can
-    hold both of (one arbor goes in a cock); its notes (the slot's length, the pin-and-slot's
-    lead) stay."""
+    great wheel (no tip circle over another arbor's axis), its pin-and-slot's two arbors,
+    0.985 mm apart, have pivots of their own small enough for both holes (0.45 mm), and
+    nothing else is warned of; its notes (the slot's length, the pin-and-slot's lead) stay."""
     report = run_check(DEMO / "tide_office.toml")
-    warned = [(f.item, f.message) for f in levels(report, "warning")]
-    assert len(warned) == 1 and "the pivot holes of 'pin_arbor'" in warned[0][1], warned
+    assert not levels(report, "warning"), [f.message for f in levels(report, "warning")]
     assert not levels(report, "error")
 
 
@@ -825,22 +823,48 @@ def test_the_pinion_fix_does_not_break_the_largest_count_rule():
     assert "split the stage in two" in few.fix
 
 
+def _tide_office_pivots(own: str) -> str:
+    """The tide office's text with its pin and slot arbors' own ``pivot_mm`` lines replaced by
+    ``own`` (an empty string: the frame's, [workshop] pivot_mm, default 1 mm)."""
+    text = (DEMO / "tide_office.toml").read_text()
+    assert text.count("pivot_mm = 0.45\n") == 2
+    return text.replace("pivot_mm = 0.45\n", own)
+
+
 def test_pin_slot_pivot_holes_that_run_into_one_another_are_a_warning():
-    # the tide office's pin and slot axes stand 0.985 mm apart (its offset_mm) and its plate's
-    # pivot holes are the default 1 mm: two holes overlap when their centres are closer than
-    # a hole is wide (plain geometry); wheelwork cut's plate note says the same
-    path = DEMO / "tide_office.toml"
-    (w,) = levels(run_check(path), "warning", "[pin_slots.anomaly]")
-    assert w.message.startswith("tide_office.toml: ")
+    # the tide office's pin and slot axes stand 0.985 mm apart (its offset_mm): at the default
+    # 1 mm pivots two holes overlap, their centres closer than the sum of their radii (plain
+    # geometry); wheelwork cut's plate note says the same
+    train = parse_train(_tide_office_pivots(""), "tide_default_pivots.toml")
+    (w,) = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
+    assert w.message.startswith("tide_default_pivots.toml: ")
     assert "'pin_arbor' and 'slot_arbor' are 0.985 mm apart" in w.message
     assert "1 mm across" in w.message and "cock or bridge" in w.fix
-    text = path.read_text() + "\n[workshop]\npivot_mm = 0.9\n"
+    text = _tide_office_pivots("") + "\n[workshop]\npivot_mm = 0.9\n"
     train = parse_train(text, "tide_small_pivots.toml")
     assert not levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
-    text = path.read_text() + "\n[workshop]\npivot_mm = 0.99\n"
+    text = _tide_office_pivots("") + "\n[workshop]\npivot_mm = 0.99\n"
     train = parse_train(text, "tide_big_pivots.toml")
     (w,) = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
     assert w.message.startswith("tide_big_pivots.toml: ")
+
+
+def test_an_arbors_own_pivot_sets_its_hole_against_its_neighbours():
+    # one arbor's own pivot_mm: 1.2 and 0.7 mm holes need 0.95 mm between centres (the sum of
+    # the radii), so 0.985 mm clears them and 1.2 and 0.8 (1.0 mm) does not
+    text = _tide_office_pivots("").replace(
+        "wheels = { pin_wheel = 48 }\n", "wheels = { pin_wheel = 48 }\npivot_mm = 1.2\n")
+    clear = text.replace("wheels = { slot_wheel = 40 }\n",
+                         "wheels = { slot_wheel = 40 }\npivot_mm = 0.7\n")
+    train = parse_train(clear, "tide_mixed.toml")
+    assert train.pivot_of("pin_arbor") == 1.2 and train.pivot_of("moon") == 1.0
+    assert not levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
+    tight = text.replace("wheels = { slot_wheel = 40 }\n",
+                         "wheels = { slot_wheel = 40 }\npivot_mm = 0.8\n")
+    train = parse_train(tight, "tide_mixed.toml")
+    (w,) = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
+    assert "1.2 mm and 0.8 mm across" in w.message
+    assert "[arbors.pin_arbor] and [arbors.slot_arbor] pivot_mm" in w.fix
 
 
 def test_the_heaviest_load_is_written_as_the_estimate_it_is():

@@ -403,7 +403,7 @@ def test_hole_names_on_a_plate_never_overlap():
                         (path.name, part.name)
             # nor over another hole's centre mark (2 mm each way at 1 mm pivots): the table
             # orrery's name of its seven coaxial tubes ran across the lay arbor's hole
-            c = max(train.workshop.pivot_mm, 2.0)
+            c = max(max(train.pivot_of(a) for a in train.arbors), 2.0)
             for x, y, h, t in part.texts:
                 if t not in names:
                     continue
@@ -624,13 +624,27 @@ def test_a_watch_fine_module_is_written_in_plain_figures(tmp_path, capsys):
 
 def test_pivot_holes_that_run_into_one_another_are_said(tmp_path, capsys):
     # The tide office's pin-and-slot axes are its offset, 0.985 mm, apart on the carrier's
-    # plate, and each pivot hole is 1 mm across: cut, the two holes are one figure-of-eight
-    # hole holding neither arbor (plane geometry: 0.985 < 0.5 + 0.5); drawn without a word
-    assert main(["cut", "tide_office", "--out", str(tmp_path / "t"), "--json"]) == 0
+    # plate: at the frame's 1 mm pivot holes the two are one figure-of-eight hole holding
+    # neither arbor (plane geometry: 0.985 < 0.5 + 0.5); drawn without a word. The demo gives
+    # those two arbors 0.45 mm pivots of their own, and its plate draws them so, clear.
+    text = DEMO.read_text()
+    assert text.count("pivot_mm = 0.45\n") == 2
+    train = tmp_path / "wide.toml"
+    train.write_text(text.replace("pivot_mm = 0.45\n", ""))
+    assert main(["cut", str(train), "--out", str(tmp_path / "t"), "--json"]) == 0
     parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
     (note,) = [n for n in parts["plate-perigee_carrier"]["notes"] if "run into" in n]
     assert note.startswith("the holes of pin_arbor and slot_arbor are 0.985 mm apart")
+    assert "at 1 mm pivots" in note and "[arbors.NAME] pivot_mm" in note
     assert not any("run into" in n for n in parts["plate-frame"]["notes"])
+    assert main(["cut", "tide_office", "--out", str(tmp_path / "d"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    plate = parts["plate-perigee_carrier"]
+    assert not any("run into" in n for n in plate["notes"])
+    sizes = {h["axis"]: h["pivot_mm"] for h in plate["holes"]}
+    assert sizes["pin_arbor"] == sizes["slot_arbor"] == 0.45
+    svg = (tmp_path / "d" / "plate-perigee_carrier.svg").read_text()
+    assert "pivots 0.45 / 1 mm" in svg
 
 
 @pytest.mark.parametrize("module", [0.001, 0.01, 0.05, 0.5, 5.0])
