@@ -126,6 +126,36 @@ async def test_the_chart_s_trend_is_written_as_the_readings_write_a_drift():
         assert abs(sun) < 0.01 and len(Readings.drift_text(sun)) == 7  # +0.0008: 4 decimals
 
 
+@sync
+async def test_the_chart_s_trend_comes_with_its_standard_error():
+    """The table orrery from its epoch to DE421's end (27.8 years, under one of Saturn's
+    years): the trend column alone read Saturn's arm drifting +100 °/cy and more, which
+    `wheelwork drift` gives with ± 100 or so and calls uncertain. Each row now has its ±
+    beside the trend and a ? where the drift is uncertain, which the help explains (common
+    practice, no source: a figure says how well it is known)."""
+    from engine.figures import figure
+
+    app = make_app(demo_path("table_orrery"))
+    async with app.run_test(size=(160, 50)) as pilot:
+        screen = await open_chart(pilot, app)
+        table = text_of(screen.query_one("#drift-summary"))
+        sums = screen.result.summaries
+        for name, sm in sums.items():
+            row = next(line for line in table.splitlines() if f"━━ {name} " in line)
+            assert f" {DriftScreen.trend_sigma_text(sm)} " in f"{row} ", row
+        saturn = sums["saturn"]
+        assert saturn.drift_uncertain and saturn.drift_sigma_deg_per_century > 10
+        assert DriftScreen.trend_sigma_text(saturn) == \
+            f"{figure(saturn.drift_sigma_deg_per_century, 2)} ?"
+        assert not sums["venus"].drift_uncertain
+        assert "?" not in DriftScreen.trend_sigma_text(sums["venus"])
+        await pilot.press("question_mark")
+        await pilot.pause()
+        helped = " ".join(text_of(w) for w in app.screen.query("Static"))
+        assert "± its standard error, with ? where the span is too short" in \
+            " ".join(helped.split())
+
+
 # --- the x axis's tick labels ------------------------------------------------------------------
 
 def x_tick_labels(screen) -> list[str]:

@@ -961,7 +961,9 @@ class HelpScreen(ClosesOnce, SizeGuard, ModalScreen[None]):
                 "worst° (max° when narrow) is the largest |err| seen since the start or the "
                 "last change of frame (t), observer (o) or pointer setting (r, R, m, u); drift °/cy "
                 "is the ratio report's mean drift in the current frame (the drift chart's trend "
-                "°/cy is another figure: the slope fitted to the errors over the chart's span). "
+                "°/cy is another figure: the slope fitted to the errors over the chart's span, "
+                "± its standard error, with ? where the span is too short to tell it from the "
+                "sky's own swings). "
                 "In the train drawing, "
                 "a red number is an arbor's turns since the epoch, shown when it turns too fast "
                 "to draw. Keys missing from a narrow footer still work. "
@@ -1317,9 +1319,9 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             return "at start" if jd <= first_jd else format_day(jd)
 
         t = Table(box=None, padding=(0, 1), header_style=f"bold {c['muted']}")
-        for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy",
+        for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy", "±",
                     f"first past ±{thr:g}° (vertical line)"):
-            t.add_column(col, justify="right" if "°" in col else "left")
+            t.add_column(col, justify="right" if "°" in col or col == "±" else "left")
         if first_jd < AD_1_JD:  # the table's days keep their signed years, said once here,
             # above the rows (the axis's label, which says it too, is dropped when short)
             year = calendar_date(first_jd)[0]  # the chart's own first year as the example
@@ -1332,8 +1334,20 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       fixed(sm.max_abs_deg, 2), format_day(sm.max_at_jd),
                       fixed(sm.rms_deg, 2), Readings.drift_text(sm.drift_deg_per_century, places),
+                      self.trend_sigma_text(sm),
                       crossing(sm))
         self._summary(t)
+
+    @staticmethod
+    def trend_sigma_text(sm) -> str:
+        """A trend's standard error as the chart's table writes it (``0.61``, ``82``), with
+        `` ?`` when the drift is uncertain; a dash when there is none (a span too short for
+        the fit to show anything): the trend alone claimed more than the span holds (the
+        table orrery's Saturn arm read +105.46 °/cy over 7.8 years, where the CLI says ± 114
+        and uncertain)."""
+        sigma = sm.drift_sigma_deg_per_century
+        text = figure(sigma, 2) if math.isfinite(sigma) and sigma > 0 else "–"
+        return text + (" ?" if sm.drift_uncertain else "")
 
     def action_back(self) -> None:
         self._run += 1
