@@ -862,22 +862,8 @@ def test_timings_name_the_parts_of_the_engines_time(sky):
     assert t["fit_s"] + t["swing_s"] <= t["summaries_s"] <= t["engine_s"] <= t["total_s"]
 
 
-FAST_RING = """
-[train]
-name = "Fast ring"
-[crank]
-arbor = "ring"
-days_per_turn = "6574.5"   # 223 months in 18 Julian years: 10.8 days too quick a turn
-[epoch]
-date = "1950-01-01"
-set = "sky"
-[arbors.ring]
-wheels = { ring_wheel = 60 }
-[pointers.months]
-shows = "cycle"
-arbor = "ring"
-lunations = 223
-"""
+FAST_RING = (Path(__file__).resolve().parent / "trains" / "fast_ring.toml").read_text(
+    encoding="utf-8")
 
 
 def _real_lunations(jd_from: float, jd_to: float) -> float:

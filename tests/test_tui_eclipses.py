@@ -1,6 +1,7 @@
 """The interface's eclipse parts, driven by Textual's Pilot: the readout against the engine,
 the jump keys, the limit arcs on the sky dial and the cycle dial's ribbon."""
 
+from pathlib import Path
 
 import pytest
 
@@ -126,22 +127,8 @@ def test_eclipse_text_fits_narrow_and_wide(width):
 
 # --- a cycle dial's whole months off the real count ----------------------------------------------
 
-FAST_RING = """
-[train]
-name = "Fast ring"
-[crank]
-arbor = "ring"
-days_per_turn = "6574.5"   # 223 months in 18 Julian years: 10.8 days too quick a turn
-[epoch]
-date = "1950-01-01"
-set = "sky"
-[arbors.ring]
-wheels = { ring_wheel = 60 }
-[pointers.months]
-shows = "cycle"
-arbor = "ring"
-lunations = 223
-"""
+FAST_RING = (Path(__file__).resolve().parent / "trains" / "fast_ring.toml").read_text(
+    encoding="utf-8")
 
 
 @pytest.mark.parametrize("size", [(80, 24), (160, 50)])
