@@ -379,7 +379,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     modules = _wheel_modules(train, findings)
     groups = axis_groups(train, kin)
     _shared_axes(train, groups, findings)
-    _pin_slot_holes(train, groups, findings)
+    _pivot_holes(train, kin, groups, findings)
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
     _teeth_rules(train, modules, findings, forms)
@@ -682,30 +682,95 @@ def _file_name(train: Train) -> str:
     return str(train.source).replace("\\", "/").rsplit("/", 1)[-1]
 
 
-def _pin_slot_holes(train: Train, groups: dict[str, str], findings: list[Finding]) -> None:
-    """A pin-and-slot's axes stand its offset apart (and a carried pin's arbor its arm from the
-    carrier's axis): two pivot holes of ``[workshop] pivot_mm`` closer than that, centre to
-    centre, run into one another and hold neither arbor (``wheelwork cut`` says it on the
-    plate it draws; the check says it before anything is drawn). Each hole is its arbor's own
-    ``pivot_mm``, else ``[workshop]``'s; two holes overlap when their centres are closer than
-    the sum of their radii."""
+def hole_mm(train: Train, arbors) -> tuple[float, str]:
+    """The pivot hole of an axis holding ``arbors``: as wide as the widest of their pivots
+    (an arbor's own ``pivot_mm``, else ``[workshop]``'s), and the arbor whose pivot that is."""
+    return max(((train.pivot_of(a), a) for a in arbors), key=lambda x: x[0])
+
+
+def holes_overlap(dist_mm: float, d1_mm: float, d2_mm: float) -> bool:
+    """Two round holes run into one another when their centres stand closer than the sum of
+    their radii (plane geometry): the one rule for pivot holes, read by the check and by the
+    plate ``wheelwork cut`` draws."""
+    return dist_mm < (d1_mm + d2_mm) / 2
+
+
+def hole_overlap_text(axes: tuple[str, str], dist_mm: float, holes: tuple[tuple[float, str],
+                      tuple[float, str]], how: str, tail: str = "") -> tuple[str, str]:
+    """What to say of two pivot holes that run into one another: ``axes`` their names (the
+    arbors on each axis joined by '/'), ``holes`` each one's (diameter, arbor setting it) from
+    :func:`hole_mm`, ``how`` what holds them ``dist_mm`` apart (``offset_mm``, a mesh, the
+    file's ``at_mm``, ``as drawn``); ``tail`` how the axes could be parted further, if they can. The message and the fix, one line
+    each, the same in ``wheelwork check`` and on the plate's notes."""
+    (d1, a1), (d2, a2) = holes
+    across = f"{_mm(d1)} across" if d1 == d2 else f"{_mm(d1)} and {_mm(d2)} across"
+    message = (f"the pivot holes of '{axes[0]}' and '{axes[1]}' are {_mm(dist_mm)} apart centre "
+               f"to centre ({how}) but {across} (pivot_mm): they run into one another and hold "
+               "neither arbor")
+    fix = (f"pivot one of the two in a cock or bridge of its own, give them smaller pivots "
+           f"(the two diameters averaging under {_mm(dist_mm)}: [arbors.{a1}] and "
+           f"[arbors.{a2}] pivot_mm, or [workshop] pivot_mm)"
+           + (f", or part the axes further ({tail})" if tail else ""))
+    return message, fix
+
+
+def _pivot_holes(train: Train, kin: Kinematics, groups: dict[str, str],
+                 findings: list[Finding]) -> None:
+    """Every two pivot holes on one plate whose distance the file settles, and which run into
+    one another (:func:`holes_overlap`): a pin-and-slot's axes stand its offset apart (a carried
+    pin's arbor its arm from the carrier's axis), a mesh's its centre distance, and arbors the
+    file places with ``at_mm`` (a carrier's own axis at the centre of its plate) where it puts
+    them. ``wheelwork cut`` says the same on the plate it draws; the check says it before
+    anything is drawn. One warning for each pair of holes, naming the first item that sets
+    their distance."""
+    known: dict[tuple[str, frozenset], tuple] = {}
+
+    def add(mount, g1, g2, dist, item, how, tail):
+        if g1 != g2:
+            known.setdefault((mount, frozenset((g1, g2))), (item, g1, g2, dist, how, tail))
+
     for ps in train.pin_slots.values():
-        pairs = [(ps.carrier or ps.pin_arbor, ps.slot_arbor, ps.offset_mm, "offset_mm")]
+        item = f"[pin_slots.{ps.name}]"
+        slot_mount = train.arbors[ps.slot_arbor].mount
         if ps.carrier is not None:
-            pairs.append((ps.carrier, ps.pin_arbor, ps.arm_mm, "arm_mm"))
-        for a, b, dist, key in pairs:
-            pa, pb = train.pivot_of(a), train.pivot_of(b)
-            if groups[a] == groups[b] or dist <= TOLERANCE_MM or dist >= (pa + pb) / 2:
-                continue  # one axis (its own check), or holes clear of one another
-            across = (f"{_mm(pa)} across" if pa == pb else
-                      f"{_mm(pa)} and {_mm(pb)} across")
-            findings.append(Finding(
-                "warning", f"[pin_slots.{ps.name}]", f"{_file_name(train)}: the pivot holes of "
-                f"'{a}' and '{b}' are {_mm(dist)} apart centre to centre ({key}) but "
-                f"{across} (pivot_mm): they run into one another and hold neither "
-                "arbor", "pivot one of the two arbors in a cock or bridge of its own, or give "
-                f"them pivots under {_mm(dist)} together ([arbors.{a}] and [arbors.{b}] "
-                f"pivot_mm, or [workshop] pivot_mm); a longer {key} changes the stage's swing"))
+            add(slot_mount, groups[ps.carrier], groups[ps.slot_arbor], ps.offset_mm, item,
+                "offset_mm", "a longer offset_mm, which changes the stage's swing")
+            add(ps.carrier, groups[ps.carrier], groups[ps.pin_arbor], ps.arm_mm, item, "arm_mm",
+                "a longer arm_mm, which changes the stage's swing")
+        else:
+            add(slot_mount, groups[ps.pin_arbor], groups[ps.slot_arbor], ps.offset_mm, item,
+                "offset_mm", "a longer offset_mm, which changes the stage's swing")
+    for f in kin.mesh_frames:
+        m = train.meshes[f.mesh_index - 1]
+        if m.module_mm is None:
+            continue
+        w1, w2 = train.wheels[m.driver], train.wheels[m.driven]
+        add(f.reference, groups[w1.arbor], groups[w2.arbor],
+            centre_distance_mm(m.module_mm, w1.teeth, w2.teeth, m.internal), m.label,
+            "its centre distance", "more teeth or a larger module")
+    placed: dict[str, dict[str, tuple[tuple[float, float], str]]] = {}
+    for c in {a.mount for a in train.arbors.values()} - {FRAME}:
+        placed.setdefault(c, {})[groups[c]] = ((0.0, 0.0), f"the centre of carrier '{c}'")
+    for a in train.arbors.values():
+        if a.at_mm is not None:
+            placed.setdefault(a.mount, {}).setdefault(groups[a.name],
+                                                      (tuple(a.at_mm), f"[arbors.{a.name}]"))
+    for mount, spots in placed.items():
+        items = list(spots.items())
+        for i, (g1, (p1, _)) in enumerate(items):
+            for g2, (p2, who) in items[i + 1:]:
+                item = who if who.startswith("[") else items[i][1][1]
+                add(mount, g1, g2, math.dist(p1, p2), f"{item} at_mm", "at_mm",
+                    "at_mm")
+    for item, g1, g2, dist, how, tail in known.values():
+        h1 = hole_mm(train, [n for n in train.arbors if groups[n] == g1])
+        h2 = hole_mm(train, [n for n in train.arbors if groups[n] == g2])
+        if not holes_overlap(dist, h1[0], h2[0]):
+            continue
+        message, fix = hole_overlap_text((_axis_names(train, groups, g1),
+                                          _axis_names(train, groups, g2)), dist, (h1, h2), how,
+                                         tail)
+        findings.append(Finding("warning", item, f"{_file_name(train)}: {message}", fix))
 
 
 def _triangles(train: Train, groups, first: dict, findings: list[Finding]) -> None:

@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .checks import hole_mm, hole_overlap_text, holes_overlap
 from .errors import TrainError
 from .figures import figure
 from .kinematics import Kinematics
@@ -559,7 +560,7 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     pivot = train.workshop.pivot_mm
     # a hole is as wide as the widest pivot of the arbors it holds (an arbor's own pivot_mm,
     # else [workshop]'s)
-    size = {h.axis: max(train.pivot_of(a) for a in h.arbors) for h in plate.holes.values()}
+    size = {h.axis: hole_mm(train, h.arbors)[0] for h in plate.holes.values()}
     what = "the frame" if plate.mount == FRAME else f"carrier '{plate.mount}'"
     sizes = sorted(set(size.values()))
     title = (f"plate of {what}: {len(plate.holes)} holes, pivots "
@@ -599,17 +600,13 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                       for t in plate.ties]}
     part.notes.extend(plate.notes)
     holes = list(plate.holes.values())
-    for i, a in enumerate(holes):  # two pivot holes closer than a pivot run into one another
+    for i, a in enumerate(holes):  # the check's one rule for two holes that run into each other
         for b in holes[i + 1:]:
             d = math.hypot(a.x_mm - b.x_mm, a.y_mm - b.y_mm)
-            across = (size[a.axis] + size[b.axis]) / 2  # the two radii
-            if d < across:
-                at = " / ".join(figure(s, 6) for s in sorted({size[a.axis], size[b.axis]}))
-                part.notes.append(
-                    f"the holes of {a.axis} and {b.axis} are {figure(d, 4)} mm apart, centre to "
-                    f"centre, at {at} mm pivots: they run into one another and hold neither "
-                    "arbor; pivot one of them in a cock or bridge of its own, or give those "
-                    "arbors smaller pivots ([arbors.NAME] pivot_mm)")
+            ha, hb = hole_mm(train, a.arbors), hole_mm(train, b.arbors)
+            if holes_overlap(d, ha[0], hb[0]):
+                message, fix = hole_overlap_text((a.axis, b.axis), d, (ha, hb), "as drawn")
+                part.notes.append(f"{message}: {fix}")
     shared = [h.axis for h in plate.holes.values() if len(h.arbors) > 1]
     if shared:
         part.notes.append(f"{'holes' if len(shared) > 1 else 'the hole'} for arbors sharing an "

@@ -874,3 +874,46 @@ def test_the_heaviest_load_is_written_as_the_estimate_it_is():
     (note,) = [f for f in report.findings if "heaviest-loaded" in f.message]
     assert "about 190,000 N on the teeth of 'node_p2'" in note.message
     assert "(estimate)" in note.message
+
+
+def _close_arbors(c_at: str) -> str:
+    """Three frame arbors: 'a' and 'b' 15 mm apart (module 0.5, 20 + 40 teeth), 'c' placed by
+    the file at ``c_at``; [workshop] pivot_mm left at its 1 mm."""
+    return (header("a") + '[arbors.a]\nwheels = { a1 = 20 }\nat_mm = [0, 0]\n'
+            '[arbors.b]\nwheels = { b1 = 40, b2 = 10 }\nat_mm = [15, 0]\n'
+            f'[arbors.c]\nwheels = {{ c1 = 30 }}\nat_mm = {c_at}\n'
+            '[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = 0.5\n'
+            '[[meshes]]\nwheels = ["b2", "c1"]\n'
+            '[pointers.p]\nshows = "sun"\narbor = "c"\nset_deg = 0\n')
+
+
+def test_any_two_pivot_holes_that_run_into_one_another_are_a_warning(tmp_path, capsys):
+    # two arbors the file places 0.8 mm apart (at_mm), at 1 mm pivots: their holes overlap
+    # (0.8 < 0.5 + 0.5, plane geometry); once only a pin-and-slot's two holes were warned of,
+    # and these were said by wheelwork cut's plate note alone. The check and the plate say it
+    # in the same words (engine.checks.hole_overlap_text)
+    (w,) = said(_close_arbors("[15.8, 0]"), "run into one another")
+    assert w.level == "warning" and w.item == "[arbors.c] at_mm"
+    assert w.message.startswith("t.toml: the pivot holes of 'b' and 'c' are 0.8 mm apart "
+                                "centre to centre (at_mm) but 1 mm across")
+    assert "cock or bridge" in w.fix and "[arbors.b] and [arbors.c] pivot_mm" in w.fix
+    assert not said(_close_arbors("[16.1, 0]"), "run into one another")  # 1.1 mm: clear
+    path = tmp_path / "close.toml"
+    path.write_text(_close_arbors("[15.8, 0]"))
+    assert main(["cut", str(path), "--out", str(tmp_path / "out"), "--json"]) == 0
+    (plate,) = [p for p in json.loads(capsys.readouterr().out)["parts"] if p["kind"] == "plate"]
+    (note,) = [n for n in plate["notes"] if "run into one another" in n]
+    assert note.startswith(w.message.removeprefix("t.toml: ").replace("(at_mm)", "(as drawn)"))
+
+
+def test_a_mesh_too_small_for_its_pivots_is_a_warning():
+    # module 0.05 with 6 + 6 leaves: the axes stand m (z1 + z2) / 2 = 0.3 mm apart, so two
+    # 1 mm holes overlap wherever the file puts them; 0.25 mm pivots clear them
+    text = (header("a") + '[arbors.a]\nwheels = { a1 = 6 }\n[arbors.b]\nwheels = { b1 = 6 }\n'
+            '[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = 0.05\n'
+            '[pointers.p]\nshows = "sun"\narbor = "b"\nset_deg = 0\n')
+    (w,) = said(text, "run into one another")
+    assert w.item == "mesh 1 (a1–b1)" and "0.3 mm apart centre to centre (its centre " \
+        "distance)" in w.message
+    assert "more teeth or a larger module" in w.fix
+    assert not said(text + "[workshop]\npivot_mm = 0.25\n", "run into one another")

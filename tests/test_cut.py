@@ -634,8 +634,10 @@ def test_pivot_holes_that_run_into_one_another_are_said(tmp_path, capsys):
     assert main(["cut", str(train), "--out", str(tmp_path / "t"), "--json"]) == 0
     parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
     (note,) = [n for n in parts["plate-perigee_carrier"]["notes"] if "run into" in n]
-    assert note.startswith("the holes of pin_arbor and slot_arbor are 0.985 mm apart")
-    assert "at 1 mm pivots" in note and "[arbors.NAME] pivot_mm" in note
+    # the check's own words (engine.checks.hole_overlap_text), the distance as drawn
+    assert note.startswith("the pivot holes of 'pin_arbor' and 'slot_arbor' are 0.985 mm apart")
+    assert "(as drawn) but 1 mm across" in note
+    assert "[arbors.pin_arbor] and [arbors.slot_arbor] pivot_mm" in note
     assert not any("run into" in n for n in parts["plate-frame"]["notes"])
     assert main(["cut", "tide_office", "--out", str(tmp_path / "d"), "--json"]) == 0
     parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
