@@ -27,7 +27,7 @@ from .checks import hole_mm, hole_overlap_text, holes_overlap
 from .errors import TrainError
 from .figures import figure
 from .kinematics import Kinematics
-from .plate import Plate, place_plates
+from .plate import Plate, place_plates, withheld_note
 from .toothform import (
     PINION_CLEARANCE_M,
     WHEEL_DEDENDUM_M,
@@ -597,7 +597,8 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         "distances": [{"item": t.label, "axes": [plate.holes[t.axis1].axis,
                                                  plate.holes[t.axis2].axis],
                        "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
-                      for t in plate.ties]}
+                      for t in plate.ties],
+        "not_drawn": [{"axis": ax, "meshes": list(ms)} for ax, ms in plate.withheld.items()]}
     part.notes.extend(plate.notes)
     holes = list(plate.holes.values())
     for i, a in enumerate(holes):  # the check's one rule for two holes that run into each other
@@ -663,6 +664,7 @@ class CutSet:
     parts: list[Part]
     plates: list[Plate]
     caveat: str = CAVEAT
+    notes: list[str] = field(default_factory=list)  # of the set: a plate left undrawn
 
 
 def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
@@ -684,9 +686,15 @@ def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
              for w, t in forms.items()}
     plates = place_plates(train, kin, reach)
     pitch = {w: t.pitch_radius_mm for w, t in forms.items()}
+    notes = []
     for p in plates:
-        parts.append(plate_part(train, p, pitch, _unique(f"plate-{slug(p.name)}", used), reach))
-    return CutSet(train.name, train.source, parts, plates)
+        stem = _unique(f"plate-{slug(p.name)}", used)
+        if p.holes:
+            parts.append(plate_part(train, p, pitch, stem, reach))
+        else:  # every hole withheld: nothing measured to drill
+            what = "the frame" if p.mount == FRAME else f"carrier '{p.mount}'"
+            notes.append(withheld_note(p.withheld, what))
+    return CutSet(train.name, train.source, parts, plates, notes=notes)
 
 
 def _unique(stem: str, used: set[str]) -> str:

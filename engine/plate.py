@@ -66,6 +66,9 @@ class Plate:
     holes: dict[str, Hole] = field(default_factory=dict)
     ties: list[Tie] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    # axes not drawn: their place on this plate hangs on meshes without a module (label: the
+    # labels of those meshes); a hole drawn there would be a guess, drilled as if measured
+    withheld: dict[str, tuple[str, ...]] = field(default_factory=dict)
 
     @property
     def name(self) -> str:
@@ -108,15 +111,89 @@ def place_plates(train: Train, kin: Kinematics, reach_mm: dict[str, float]) -> l
             r = [reach_mm[w] for n in arbors for w in train.arbors[n].wheels if w in reach_mm]
             reach[ax] = max(r, default=0.0)
         fixed = _fixed(train, groups, mount, axes)
-        pos = _solve(train, plates[mount], axes, ties, fixed, reach, label)
         plate = plates[mount]
+        withheld = _unmeasured(train, kin, groups, mount, axes, ties, fixed)
+        if withheld:
+            plate.withheld = {label[ax]: tuple(m) for ax, m in withheld.items()}
+            plate.notes.append(withheld_note(plate.withheld))
+            axes = {ax: v for ax, v in axes.items() if ax not in withheld}
+            ties = [t for t in ties if t.axis1 in axes and t.axis2 in axes]
+        pos = _solve(train, plate, axes, ties, fixed, reach, label) if axes else {}
         plate.ties = ties
         for ax in axes:
             arbors = tuple(n for n in train.arbors if groups[n] == ax)
             plate.holes[ax] = Hole(label[ax], arbors, pos[ax][0], pos[ax][1], ax in fixed,
                                    reach[ax])
         _over_pivots(train, plate, reach_mm)
-    return [p for p in plates.values() if p.holes]
+    return [p for p in plates.values() if p.holes or p.withheld]
+
+
+def withheld_note(withheld: dict[str, tuple[str, ...]], whole_plate: str = "") -> str:
+    """One line for holes not drawn (``withheld``: each axis's label and the meshes without a
+    module its place hangs on); with ``whole_plate`` (``the frame``), for a plate with no
+    other hole, so not drawn at all."""
+    order = {}
+    for ms in withheld.values():
+        for m in ms:
+            order.setdefault(m, int(m.split()[1]) if m.split()[1].isdigit() else 0)
+    meshes = sorted(order, key=order.get)
+    axes = ", ".join(withheld)
+    many = len(meshes) > 1
+    head = (f"no plate of {whole_plate} drawn: the places of its holes ({axes})"
+            if whole_plate else f"hole{'s' if len(withheld) > 1 else ''} not drawn, {axes}: "
+            f"{'their places' if len(withheld) > 1 else 'its place'}")
+    return (f"{head} hang{'s' if not whole_plate and len(withheld) == 1 else ''} on "
+            f"{', '.join(meshes)}, which {'have' if many else 'has'} no module_mm and so no "
+            f"centre distance; give {'those meshes' if many else 'it'} a module_mm, or place "
+            f"the axes {'they join' if many else 'it joins'} with at_mm, to have them drawn")
+
+
+def _unmeasured(train: Train, kin: Kinematics, groups, mount: str, axes, ties, fixed
+                ) -> dict[str, list[str]]:
+    """The axes of this plate whose place no measure sets: a mesh without a module joins them
+    to the rest, so their distance from it is unknown. Axes tied by meshes with a module (or a
+    pin-and-slot) form groups whose holes keep their distances among themselves; a group is
+    anchored when it holds a position the file fixes (a carrier's own axis is one), else the
+    largest group of two or more axes stands for the plate. A group that is not anchored and
+    that a mesh without a module joins to another is withheld, each axis with the labels of
+    those meshes. An axis no mesh ties at all is left to the placement (placed apart, with a
+    note)."""
+    blind = []
+    for f in kin.mesh_frames:
+        m = train.meshes[f.mesh_index - 1]
+        if f.reference != mount or m.module_mm is not None:
+            continue
+        g1, g2 = groups[train.wheels[m.driver].arbor], groups[train.wheels[m.driven].arbor]
+        if g1 != g2 and g1 in axes and g2 in axes:
+            blind.append((m.label, g1, g2))
+    if not blind:
+        return {}
+    parent = {ax: ax for ax in axes}
+
+    def find(a: str) -> str:
+        while parent[a] != a:
+            a = parent[a]
+        return a
+
+    for t in ties:
+        parent[find(t.axis1)] = find(t.axis2)
+    comps: dict[str, list[str]] = {}
+    for ax in axes:
+        comps.setdefault(find(ax), []).append(ax)
+    anchored = {r for r, members in comps.items() if any(a in fixed for a in members)}
+    if not anchored and (tied := [r for r, members in comps.items() if len(members) > 1]):
+        anchored = {max(tied, key=lambda r: len(comps[r]))}
+    out: dict[str, list[str]] = {}
+    for mesh, g1, g2 in blind:
+        r1, r2 = find(g1), find(g2)
+        if r1 == r2:
+            continue
+        for r in (r1, r2):
+            if r not in anchored:
+                for ax in comps[r]:
+                    if mesh not in out.setdefault(ax, []):
+                        out[ax].append(mesh)
+    return {ax: out[ax] for ax in axes if ax in out}
 
 
 def _over_pivots(train: Train, plate: Plate, reach_mm: dict[str, float]) -> None:

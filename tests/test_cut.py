@@ -416,14 +416,65 @@ def test_hole_names_on_a_plate_never_overlap():
                         my + c <= box[1], (path.name, part.name, t, hole["axis"])
 
 
-def test_a_plate_whose_axes_no_module_ties_says_they_were_placed_apart():
-    # the planet dial's frame meshes give no module: its frame axes are spaced by rule, not
-    # by any centre distance, and the plate must say so rather than look measured
+def test_a_plate_whose_axes_no_module_ties_is_not_drawn(tmp_path, capsys):
+    # the planet dial's frame meshes give no module: its frame axes were drawn 5 mm apart in a
+    # row (with a note), holes a maker would drill and that hold none of those wheels; no
+    # distance between them is known, so no frame plate is drawn, and one line says why,
+    # naming the meshes that need a module
     train = load_train(HERE.parent / "engine" / "trains" / "planet_dial.toml")
     (frame,) = [p for p in place_plates(train, solve(train), {}) if p.mount == "frame"]
-    assert not frame.ties
-    (note,) = [n for n in frame.notes if "placed apart" in n]
-    assert "day" in note and "mars_second" in note
+    assert not frame.holes and not frame.ties
+    assert set(frame.withheld) >= {"day", "venus_first", "mars_second"}
+    assert main(["cut", "planet_dial", "--out", str(tmp_path / "p"), "--json"]) == 0
+    got = json.loads(capsys.readouterr().out)
+    assert not any(p["name"] == "plate-frame" for p in got["parts"])
+    assert not (tmp_path / "p" / "plate-frame.dxf").exists()
+    (note,) = got["notes"]
+    assert note.startswith("no plate of the frame drawn: the places of its holes (day, ")
+    assert "mesh 1 (day_sun_pinion–venus_w1), mesh 2 (venus_p2–venus_w2)" in note
+    assert "no module_mm" in note and len(note.splitlines()) == 1
+    # the carriers' plates, measured from their meshes with a module, are drawn
+    assert {p["name"] for p in got["parts"] if p["kind"] == "plate"} == {
+        "plate-venus_deferent", "plate-mars_deferent"}
+
+
+def _half_measured(b_at: str = "", c_at: str = "") -> str:
+    """Frame arbors 'a' and 'b' tied by a mesh with a module (15 mm apart), 'c' meshing 'b'
+    with none; ``b_at``, ``c_at`` at_mm lines for 'b' and 'c'."""
+    return ('[crank]\narbor = "a"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+            'set = "angles"\n[arbors.a]\nwheels = { a1 = 20 }\n'
+            '[arbors.b]\nwheels = { b1 = 40, b2 = 10 }\n'
+            f'{b_at}[arbors.c]\nwheels = {{ c1 = 30 }}\n{c_at}'
+            '[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = 0.5\n'
+            '[[meshes]]\nwheels = ["b2", "c1"]\n'
+            '[pointers.p]\nshows = "sun"\narbor = "c"\nset_deg = 0\n')
+
+
+def test_a_hole_no_module_places_is_left_off_the_plate(tmp_path, capsys):
+    # 'a' and 'b' are a centre distance apart (0.5 (20 + 40) / 2 = 15 mm); 'c' hangs on
+    # mesh 2, which has no module: its hole is not drawn, nor listed to drill, and the
+    # plate's note says so; the two axes of mesh 2 placed by the file (at_mm), all are drawn
+    # (placing 'c' alone would leave 'a' and 'b' hanging on mesh 2 instead)
+    path = tmp_path / "half.toml"
+    path.write_text(_half_measured())
+    assert main(["cut", str(path), "--out", str(tmp_path / "h"), "--json"]) == 0
+    (plate,) = [p for p in json.loads(capsys.readouterr().out)["parts"] if p["kind"] == "plate"]
+    assert [h["axis"] for h in plate["holes"]] == ["a", "b"]
+    assert plate["not_drawn"] == [{"axis": "c", "meshes": ["mesh 2 (b2–c1)"]}]
+    (note,) = [n for n in plate["notes"] if "not drawn" in n]
+    assert note.startswith("hole not drawn, c: its place hangs on mesh 2 (b2–c1), which has "
+                           "no module_mm")
+    doc = ezdxf.readfile(tmp_path / "h" / "plate-frame.dxf")
+    assert len([c for c in doc.modelspace().query("CIRCLE") if c.dxf.layer == "CUT"]) == 2
+    assert main(["cut", str(path), "--out", str(tmp_path / "h2")]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "  c:" not in out and "hole not drawn, c:" in out
+    path.write_text(_half_measured("at_mm = [15, 0]\n", "at_mm = [40, 0]\n"))
+    assert main(["cut", str(path), "--out", str(tmp_path / "f"), "--json"]) == 0
+    (plate,) = [p for p in json.loads(capsys.readouterr().out)["parts"] if p["kind"] == "plate"]
+    at = {h["axis"]: (h["x_mm"], h["y_mm"]) for h in plate["holes"]}
+    assert at["c"] == (40.0, 0.0) and math.dist(at["a"], at["b"]) == pytest.approx(15, abs=UM)
+    assert plate["not_drawn"] == [] and not any("not drawn" in n for n in plate["notes"])
 
 
 def test_a_train_without_modules_has_nothing_to_cut(tmp_path, capsys):

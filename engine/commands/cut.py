@@ -110,7 +110,7 @@ def to_json(cut: CutSet, written: list[str]) -> dict:
     return {"train": cut.train, "source": cut.source,
             "parts": [{"name": p.name, "kind": p.kind, "title": p.title, **p.info,
                        "notes": p.notes} for p in cut.parts],
-            "files": written, "caveat": cut.caveat}
+            "notes": cut.notes, "files": written, "caveat": cut.caveat}
 
 
 def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
@@ -158,6 +158,8 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
              if not n.startswith(DEEP_NOTE_START)]
     for name, n in notes:
         console.print(f"[cyan]note[/] {escape(name)}: {escape(n)}")
+    for n in cut.notes:
+        console.print(f"[cyan]note[/] {escape(n)}")
     console.print(f"wrote {len(written)} files (one per part{', plus sheet.*' if sheet else ''})")
     console.print(f"[dim]{escape(cut.caveat)}[/]")
 
