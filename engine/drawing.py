@@ -575,15 +575,23 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     x0, x1 = min(x - r for x, _, r in boxes), max(x + r for x, _, r in boxes)
     y0, y1 = min(y - r for _, y, r in boxes), max(y + r for _, y, r in boxes)
     part.polylines.append(("CUT", _rounded_rect(x0, y0, x1, y1, 3.0)))
+    keyed: list[tuple[str, str]] = []  # (key, hole name) for names too long for the plate
     for h in plate.holes.values():
         part.circles.append(("CUT", h.x_mm, h.y_mm, size[h.axis] / 2))
         c = max(size[h.axis], 2.0)
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
         marks = [(o.x_mm, o.y_mm) for o in plate.holes.values() if o is not h]
-        part.texts.append((*_hole_label_at(h.x_mm, h.y_mm, size[h.axis], h.axis, part.texts,
-                                           marks),
-                           TEXT_MM * 0.8, h.axis))
+        at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], h.axis, part.texts, marks,
+                            (x0, y0, x1, y1))
+        if at is None:  # no room for the whole name on the plate: a key, named under it
+            key = _key_name(len(keyed))
+            keyed.append((key, h.axis))
+            at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], key, part.texts, marks,
+                                (x0, y0, x1, y1)) or (h.x_mm + size[h.axis], h.y_mm)
+            part.texts.append((*at, TEXT_MM * 0.8, key))
+        else:
+            part.texts.append((*at, TEXT_MM * 0.8, h.axis))
         for w in _on_plate(train, plate, h):
             if w in pitch:
                 part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
@@ -616,21 +624,79 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                           "diameter where a tube passes through this plate (the file gives no "
                           "tube sizes)")
     _label_at(part, title, (x0 + x1) / 2, y0)
+    _key_table(part, keyed, x0, y0 - 2 * TEXT_MM, max(x1 - x0, KEY_MIN_WIDTH_MM))
+    part.info["keys"] = dict(keyed)
     return part
 
 
+KEY_MIN_WIDTH_MM = 60.0
+"""The key under a small plate wraps its names to this width at least."""
+
+
+def _key_name(i: int) -> str:
+    """The ``i``-th key on a plate: A, B, ... Z, AA, AB, ..."""
+    name = ""
+    i += 1
+    while i:
+        i, r = divmod(i - 1, 26)
+        name = chr(65 + r) + name
+    return name
+
+
+def _key_table(part: Part, keyed: list[tuple[str, str]], x0: float, top: float,
+               width: float) -> None:
+    """Under the plate's title, ``KEY = full name`` for each hole named by a key, the name
+    wrapped after a '/' (or, for one part longer than a line, anywhere) to ``width`` mm: no
+    name is ever cut."""
+    h = TEXT_MM * 0.8
+    y = top - 0.6 * h
+    for key, name in keyed:
+        head = f"{key} = "
+        lines = _wrap_name(name, max(8, int(width / _text_width("x", h)) - len(head)))
+        for i, line in enumerate(lines):  # lines after the first stand under the name's start
+            y -= 1.5 * h
+            part.texts.append((x0 + (_text_width(head, h) if i else 0.0), y, h,
+                               (head if i == 0 else "") + line))
+
+
+def _wrap_name(name: str, chars: int) -> list[str]:
+    """``name`` in lines of at most ``chars`` characters, broken after a '/' where it can be
+    (the arbors of one axis), else anywhere; joined again they give the name whole."""
+    lines, line = [], ""
+    for piece in re.split(r"(?<=/)", name):
+        while len(piece) > chars:  # one arbor's name longer than a line
+            if line:
+                lines.append(line)
+                line = ""
+            lines.append(piece[:chars])
+            piece = piece[chars:]
+        if line and len(line) + len(piece) > chars:
+            lines.append(line)
+            line = ""
+        line += piece
+    return [*lines, line] if line else lines
+
+
 def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
-                   marks: list[tuple[float, float]] = ()) -> tuple[float, float]:
+                   marks: list[tuple[float, float]] = (),
+                   outline: tuple[float, float, float, float] | None = None
+                   ) -> tuple[float, float] | None:
     """Where a hole's name goes: above right of the hole, else below right, above left or
-    below left, else stepped down below it — the first place clear of the names already
-    placed (two holes a millimetre apart, a pin-and-slot's, wrote their names over each
-    other) and of the other holes' centre marks at ``marks`` (the table orrery's long
-    name of seven tubes ran over the next hole's mark)."""
+    below left, centred over or under its mark, else stepped down or up beside it — the first
+    place inside the plate's ``outline`` (x0, y0, x1, y1; by ``LABEL_INSET_MM``) and clear of
+    the names already placed (two holes a millimetre apart, a pin-and-slot's, wrote their
+    names over each other) and of the other holes' centre marks at ``marks`` (the table
+    orrery's long name of seven tubes ran over the next hole's mark). None when there is no
+    such place (the caller names the hole by a key)."""
     h = TEXT_MM * 0.8
     w = _text_width(text, h)
     c = max(pivot, 2.0)  # a centre mark's half length, as plate_part draws it
 
     def clear(tx, ty):
+        if outline is not None and not (
+                outline[0] + LABEL_INSET_MM <= tx and tx + w <= outline[2] - LABEL_INSET_MM
+                and outline[1] + LABEL_INSET_MM <= ty and ty + h <= outline[3] - LABEL_INSET_MM):
+            return False
         return all(tx + w <= px or px + _text_width(pt, ph) <= tx or ty + h <= py
                    or py + ph <= ty for px, py, ph, pt in placed) and \
             all(tx + w <= mx - c or mx + c <= tx or ty + h <= my - c or my + c <= ty
@@ -639,7 +705,16 @@ def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
     spots = [(x + pivot, y + pivot), (x + pivot, y - pivot - h), (x - pivot - w, y + pivot),
              (x - pivot - w, y - pivot - h)]
     spots += [(x + pivot, y - pivot - h * (1.2 * k + 1)) for k in range(1, 40)]
-    return next((s for s in spots if clear(*s)), spots[0])
+    spots += [(x - w / 2, y + c + 0.2), (x - w / 2, y - c - 0.2 - h)]
+    for k in range(1, 40):
+        step = h * 1.2 * k
+        spots += [(x - pivot - w, y - pivot - h - step), (x + pivot, y + pivot + step),
+                  (x - pivot - w, y + pivot + step)]
+    return next((s for s in spots if clear(*s)), None)
+
+
+LABEL_INSET_MM = 1.0
+"""A hole's name stands this far inside the plate's outline at least."""
 
 
 def _label_at(part: Part, text: str, x: float, y: float) -> None:

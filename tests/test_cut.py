@@ -393,7 +393,8 @@ def test_hole_names_on_a_plate_never_overlap():
     for path in sorted((HERE.parent / "engine" / "trains").glob("*.toml")):
         train = load_train(path)
         for part in (p for p in cut_parts(train, solve(train)).parts if p.kind == "plate"):
-            names = {h["axis"] for h in part.info["holes"]}
+            keys = {name: key for key, name in part.info["keys"].items()}
+            names = {keys.get(h["axis"], h["axis"]) for h in part.info["holes"]}
             boxes = [(x, y, x + _text_width(t, h), y + h) for x, y, h, t in part.texts
                      if t in names]
             assert len(boxes) == len(names)
@@ -409,11 +410,60 @@ def test_hole_names_on_a_plate_never_overlap():
                     continue
                 box = (x, y, x + _text_width(t, h), y + h)
                 for hole in part.info["holes"]:
-                    if hole["axis"] == t:
+                    if keys.get(hole["axis"], hole["axis"]) == t:
                         continue
                     mx, my = hole["x_mm"], hole["y_mm"]
                     assert box[2] <= mx - c or mx + c <= box[0] or box[3] <= my - c or \
                         my + c <= box[1], (path.name, part.name, t, hole["axis"])
+
+
+def test_hole_names_stay_inside_their_plate():
+    """A hole's name is on the plate (NOTE layer), never past its outline: the table orrery's
+    seven coaxial tubes joined by '/' ran 40 mm out of the drive carrier's plate. A name with
+    no room is written as a key (A, B, ...) and given whole in a key under the title, wrapped
+    after a '/' (every demo's plates, each name's box at 0.62 of its height a character)."""
+    from engine.drawing import LABEL_INSET_MM, _text_width
+
+    keyed = 0
+    for path in sorted((HERE.parent / "engine" / "trains").glob("*.toml")):
+        train = load_train(path)
+        for part in (p for p in cut_parts(train, solve(train)).parts if p.kind == "plate"):
+            (outline,) = [p for layer, p in part.polylines if layer == "CUT"]
+            x0, y0 = outline.min(axis=0)
+            x1, y1 = outline.max(axis=0)
+            keys = part.info["keys"]
+            shown = set(keys) | {h["axis"] for h in part.info["holes"]
+                                 if h["axis"] not in keys.values()}
+            for x, y, h, t in part.texts:
+                if t in shown:
+                    assert x0 + LABEL_INSET_MM - UM <= x and \
+                        x + _text_width(t, h) <= x1 - LABEL_INSET_MM + UM, (part.name, t)
+                    assert y0 <= y and y + h <= y1, (part.name, t)
+            texts = part.texts
+            for key, name in keys.items():  # the key's lines, joined, give the name whole
+                head = f"{key} = "
+                i = next(i for i, t in enumerate(texts) if t[3].startswith(head))
+                joined = texts[i][3].removeprefix(head)
+                for x, _, _, t in texts[i + 1:]:  # its next lines stand further right
+                    if x <= texts[i][0]:
+                        break
+                    joined += t
+                assert joined == name, (part.name, key, joined)
+                keyed += 1
+    assert keyed  # the table orrery's drive plate at least
+
+
+def test_a_long_hole_name_is_wrapped_in_the_key_never_cut():
+    from engine.drawing import _wrap_name
+
+    name = "/".join(f"tube_{i}" for i in range(30)) + "/" + "x" * 50
+    lines = _wrap_name(name, 20)
+    assert "".join(lines) == name and max(map(len, lines)) <= 20
+    assert all(line.endswith("/") for line in lines[:-4])  # broken after a '/', the long one not
+    train = load_train(HERE.parent / "engine" / "trains" / "table_orrery.toml")
+    (drive,) = [p for p in cut_parts(train, solve(train)).parts if p.name == "plate-drive"]
+    assert drive.info["keys"] == {
+        "A": "drive/sun_post/mercury_tube/venus_tube/mars_tube/jupiter_tube/saturn_tube"}
 
 
 def test_a_plate_whose_axes_no_module_ties_is_not_drawn(tmp_path, capsys):
