@@ -98,6 +98,25 @@ def wider_sky(sky, jd_first: float, jd_last: float, what: str = "the span runs p
     return None
 
 
+def sky_reaching(train: Train | None, ephemeris, jd_first: float, jd_last: float,
+                 what: str = "the span runs past", use: str = "compared with"):
+    """``(sky, note)``: the one rule every command and the interface choose their sky by.
+    The sky is ``ephemeris`` when given, else the one ``train``'s ``[epoch] ephemeris`` names
+    (:func:`sky_for`; ``train`` None: the sky alone), else the bundled DE421 — and when nothing
+    was named and DE421 does not cover ``jd_first`` .. ``jd_last`` (UT), the narrowest
+    installed long-span one that does (:func:`wider_sky`), with ``note`` saying so. ``note``
+    is None when no other sky was taken; when none installed reaches the dates, the bundled
+    sky comes back and reading it there raises the error that says how to reach them."""
+    from .sky import Sky
+
+    sky = Sky(ephemeris) if train is None else sky_for(train, ephemeris)
+    if ephemeris is None and (train is None or train.epoch.ephemeris is None):
+        wide = wider_sky(sky, jd_first, jd_last, what, use)
+        if wide is not None:
+            return wide
+    return sky, None
+
+
 def _named_elsewhere(train: Train, sky) -> str:
     """When a sky given in place of the one the file's ``[epoch] ephemeris`` names cannot
     reach the epoch: the words saying so, and how to use the file's own."""

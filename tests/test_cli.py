@@ -399,7 +399,8 @@ def test_ephemeris_help_names_the_trains_own_default(capsys):
     text = " ".join(capsys.readouterr().out.split())
     assert "(default: the bundled DE421, 1900-2050; a span or date past it takes an installed " \
            "longer one, with a note)" in text and "[epoch]" not in text
-    # the interface keeps to the train's own (it takes no longer one by itself)
+    # the interface follows the same rule: an epoch past DE421 takes an installed longer one
     assert main(["crank", "--help"]) == 0
     text = " ".join(capsys.readouterr().out.split())
-    assert "else the bundled DE421, 1900-2050)" in text
+    assert "(default: the train's [epoch] ephemeris, else the bundled DE421, 1900-2050; a " \
+           "span or date past it takes an installed longer one, with a note)" in text

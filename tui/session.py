@@ -31,7 +31,7 @@ from engine.errors import SkyError, WheelworkError
 from engine.exact import Turns
 from engine.figures import figure
 from engine.kinds import FRAMES, next_frame, sky_at
-from engine.mechanism import Mechanism, sky_for
+from engine.mechanism import Mechanism, sky_reaching
 from engine.ratios import pointer_ratios
 from engine.readout import Readout, mean_values
 from engine.sky import Site, Sky, SkyState
@@ -208,8 +208,14 @@ class Session:
     #: the ``--ephemeris`` the bench was started with (it then reads every train); None: each
     #: train is read against the ephemeris its ``[epoch] ephemeris`` names
     ephemeris_given: str | None = None
-    #: skies already opened, by the name a train file gives (None: the bundled DE421)
+    #: skies already opened, by the name a train file gives (None: none) and the file the
+    #: sky reads: a file naming none takes DE421, or a longer one for an epoch before it
     skies: dict = field(default_factory=dict)
+    #: the note saying the first train's sky was taken in place of the bundled one (its epoch
+    #: lies outside it: :func:`engine.mechanism.sky_reaching`), None when it was not
+    sky_note: str | None = None
+    #: such notes by the key of :attr:`skies`, shown with the findings of a train read so
+    _sky_notes: dict = field(default_factory=dict)
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
@@ -217,17 +223,23 @@ class Session:
             self.speed_index = default_speed_index(self.mech)
         self._last_sky = _LastSky(self.sky)
         if self.ephemeris_given is None:  # the first train's sky, under the name it gave
-            self.skies.setdefault(self.mech.train.epoch.ephemeris, self.sky)
+            key = (self.mech.train.epoch.ephemeris, getattr(self.sky, "path", None))
+            self.skies.setdefault(key, self.sky)
+            if self.sky_note:
+                self._sky_notes[key] = self.sky_note
 
     def sky_for_train(self, train) -> Sky:
         """The sky ``train`` is read against on this bench: the ``--ephemeris`` given, else
-        the one its file names (as every command reads it), opened once per name."""
+        the one its file names, else the bundled one or — for an epoch outside it — an
+        installed longer one (the rule every command follows), opened once per file."""
         if self.ephemeris_given is not None:
             return self.sky
-        key = train.epoch.ephemeris
-        if key not in self.skies:
-            self.skies[key] = sky_for(train)
-        return self.skies[key]
+        jd = train.epoch.jd_ut
+        sky, note = sky_reaching(train, None, jd, jd, what="the epoch lies outside")
+        key = (train.epoch.ephemeris, sky.path)
+        if note:
+            self._sky_notes[key] = note
+        return self.skies.setdefault(key, sky)
 
     def use_sky(self, sky: Sky) -> None:
         """Read the train on the bench against ``sky`` from now on (another train's own)."""
@@ -240,7 +252,10 @@ class Session:
     def findings(self) -> list:
         """The engine's findings for the train on the bench (worked out once per train)."""
         if self._findings is None:
-            self._findings = [] if self.findings_of is None else self.findings_of(self.mech)
+            found = [] if self.findings_of is None else self.findings_of(self.mech)
+            key = (self.mech.train.epoch.ephemeris, getattr(self.sky, "path", None))
+            note = None if self.ephemeris_given is not None else self._sky_notes.get(key)
+            self._findings = ([("note", "ephemeris", note, "")] if note else []) + found
         return self._findings
 
     @findings.setter

@@ -52,24 +52,22 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
     from ..dates import calendar_date, format_jd, parse_when
     from ..sites import parse_site
-    from ..sky import PLANETS, Sky
+    from ..sky import PLANETS
 
     try:
         jd = parse_when(args.date, calendar=args.calendar)
     except DateError as exc:  # read after --calendar is known, so not an argparse type
         raise UsageError(f"argument date: {exc}") from None
     site = parse_site(args.site) if args.site else None  # checked by the option's type
-    sky = Sky(args.ephemeris)
-    if args.ephemeris is None:  # the bundled sky falls short: an installed longer one, said so
+    from ..mechanism import sky_reaching
+
+    # none named and the bundled sky falls short: an installed longer one, said so
+    sky, note = sky_reaching(None, args.ephemeris, jd, jd, what="the date lies outside",
+                             use="read from")
+    if note is not None:
         from rich.console import Console
 
-        from ..mechanism import wider_sky
-
-        wide = wider_sky(sky, jd, jd, what="the date lies outside", use="read from")
-        if wide is not None:
-            sky, note = wide
-            Console(stderr=True, highlight=False).print(f"wheelwork: note: {note}",
-                                                         markup=False)
+        Console(stderr=True, highlight=False).print(f"wheelwork: note: {note}", markup=False)
     frame = "stars" if args.stars else "equinox"
     st = sky.at(jd, frame=frame, site=site, planets=PLANETS + ("earth",))
     cal = calendar_date(jd, args.calendar)[-1]

@@ -285,11 +285,10 @@ def open_span(args: argparse.Namespace):
 
     from ..dates import format_jd, parse_step
     from ..loader import load_train
-    from ..mechanism import build, sky_for, wider_sky
+    from ..mechanism import build, sky_reaching
     from ..periods import JULIAN_YEAR_DAYS
 
     train = load_train(args.train)
-    sky = sky_for(train, args.ephemeris)
     start = args.start if args.start is not None else train.epoch.jd_ut
     end = args.end if args.end is not None else start + args.years * JULIAN_YEAR_DAYS
     if end <= start:
@@ -297,16 +296,12 @@ def open_span(args: argparse.Namespace):
                          + (f"--from {format_jd(start)}" if args.start is not None else
                             f"the train's epoch, {format_jd(start)}; give --from"),
                          getattr(args, "_prog", None))
-    wide = None
-    if args.ephemeris is None and train.epoch.ephemeris is None:
-        # nothing named and the bundled sky falls short: an installed longer one, said so
-        # (a drift's last date may pass the end by up to a step)
-        step = parse_step(args.step) if getattr(args, "step", None) else 0.0
-        wide = wider_sky(sky, min(start, train.epoch.jd_ut), end + step)
-    if wide is not None:
-        sky, note = wide
+    # nothing named and the bundled sky falls short: an installed longer one, said so
+    # (a drift's last date may pass the end by up to a step)
+    step = parse_step(args.step) if getattr(args, "step", None) else 0.0
+    sky, note = sky_reaching(train, args.ephemeris, min(start, train.epoch.jd_ut), end + step)
     mech = build(train, sky)
-    if wide is not None:
+    if note is not None:
         mech = dataclasses.replace(mech, warnings=(note, *mech.warnings))
     return mech, sky, start, end
 
