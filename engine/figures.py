@@ -29,10 +29,30 @@ def figure(x: float, digits: int = 3, sign: bool = False, group: bool = True) ->
     return ("+" + text) if sign and x > 0 else text
 
 
-def fixed(x: float, places: int, sign: bool = False) -> str:
+def fixed(x: float, places: int, sign: bool = False, digits: int | None = None) -> str:
     """A number to ``places`` decimals with its thousands separated, as :func:`figure` writes
     a large one (``-94,033.333``, ``+0.028``), for a column whose figures line up on the
-    point; ``sign``: a ``+`` before a positive number."""
+    point; ``sign``: a ``+`` before a positive number. ``digits``: no more significant
+    figures than that where ``places`` would give more — a large value drops decimals, down
+    to none, and its whole part is never rounded (``fixed(-752211.737, 3, digits=4)`` is
+    ``-752,212``, ``fixed(-11.5414, 3, digits=4)`` ``-11.54``), while a small one keeps its
+    ``places`` (``fixed(0.0008, 4, digits=4)`` is ``0.0008``)."""
     if not math.isfinite(x):
         return str(x)
+    if digits is not None and x != 0:
+        mag = math.floor(math.log10(abs(x)))
+        if digits - 1 - mag < places:  # more figures than digits: drop decimals
+            places = max(0, digits - 1 - mag)
+            # 99.996 to 4 figures rounds up to 100.0, not 100.00
+            if math.floor(math.log10(round(abs(x), places))) > mag:
+                places = max(0, places - 1)
     return f"{x:{'+' if sign else ''},.{places}f}"
+
+
+def line_up(cells: list[str]) -> list[str]:
+    """Figures padded on the right with spaces so that, set flush right in a column, their
+    decimal points line up (a whole number's last figure stands where the point would):
+    ``["+0.250", "-11.54", "-752,212"]`` → ``["+0.250", "-11.54 ", "-752,212    "]``."""
+    after = [len(c) - c.index(".") - 1 if "." in c else -1 for c in cells]
+    most = max(after, default=-1)
+    return [c + " " * (most - a) for c, a in zip(cells, after, strict=True)]

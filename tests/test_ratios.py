@@ -284,3 +284,24 @@ per_turn = 2
     for demo in sorted(TRAINS.glob("*.toml")):
         assert main(["ratios", str(demo), "--json"]) == 0
         assert not [w for w in json.loads(capsys.readouterr().out)["warnings"] if "slip" in w]
+
+
+def test_a_slipped_count_is_written_to_sensible_figures(tmp_path, capsys):
+    """The moon disc cut with 95 teeth for 59 (a slip): its phase runs +608,502 ppm long;
+    the table wrote +608,502.xxx ppm and -168,446.xxxx °/cy, digits that say nothing. The
+    figures are the realised 47.5 d against the mean 29.530589 d (Meeus's synodic month, as
+    engine/periods.py gives it): 47.5 / 29.53058886 - 1 = 0.608502. A near pointer keeps its
+    decimals (the demo's -0.021 ppm Sun)."""
+    from engine.demos import demo_path
+
+    text = demo_path("moon_disc_59").read_text(encoding="utf-8")
+    slip = tmp_path / "slip.toml"
+    slip.write_text(text.replace("disc_teeth = 59", "disc_teeth = 95"), encoding="utf-8")
+    assert main(["ratios", str(slip)]) == 0
+    row = next(line for line in capsys.readouterr().out.splitlines()
+               if line.strip().startswith("phase "))
+    assert row.split()[3:5] == ["+608,502", "-168,446"], row
+    assert main(["ratios", "tide_office"]) == 0
+    row = next(line for line in capsys.readouterr().out.splitlines()
+               if line.strip().startswith("sun "))
+    assert row.split()[3:5] == ["-0.021", "+0.0008"], row

@@ -455,6 +455,48 @@ def test_fixed_places_separate_thousands():
     assert fixed(31804.625, 2, sign=True) == "+31,804.62" and fixed(5.0, 0) == "5"
 
 
+def test_fixed_to_significant_figures_keeps_small_values_decimals():
+    """``digits``: a slipped wheel count's error (-752,211.737 ppm, +1,351,698.9965 °/cy) is
+    written without the decimals that say nothing; a near one keeps them (common practice, no
+    source: a figure carries the digits it can vouch for)."""
+    from engine.figures import fixed, line_up
+
+    assert fixed(-752211.737, 3, sign=True, digits=4) == "-752,212"
+    assert fixed(1351698.9965, 4, sign=True, digits=4) == "+1,351,699"
+    assert fixed(-11.5414, 3, sign=True, digits=4) == "-11.54"
+    assert fixed(461.7022, 4, sign=True, digits=4) == "+461.7"
+    assert fixed(0.0008, 4, sign=True, digits=4) == "+0.0008"  # small: its four places
+    assert fixed(-0.02548, 4, digits=4) == "-0.0255" and fixed(0.0, 3, digits=4) == "0.000"
+    assert fixed(99.996, 3, digits=4) == "100.0"  # rounded up: still four figures
+    assert fixed(-0.0001, 4) == "-0.0001"  # no digits: places as before
+    # the points of a column in one line, set flush right
+    cells = line_up(["+0.250", "-11.54", "-752,212", "+0.0008"])
+    assert cells == ["+0.250 ", "-11.54  ", "-752,212     ", "+0.0008"]
+    assert len({len(c) - c.rstrip(" ").find(".") for c in cells if "." in c}) == 1
+    assert line_up(["1", "22"]) == ["1", "22"] and line_up([]) == []
+
+
+def test_a_word_cut_from_one_row_is_not_vouched_for_by_another():
+    """A table whose last column is cut at its width lost the "y" of "10,966.3 y" in one row
+    while "y" stood whole in others, and was printed as one table: every word must be seen
+    as often as the cells hold it."""
+    import io
+
+    from rich.console import Console
+
+    from engine.commands import support
+    table = support.plain_table()
+    for name in ("key", "a", "b"):
+        table.add_column(name, no_wrap=True)
+    table.add_row("k1", "x" * 30, "10,966.3 y")
+    table.add_row("k2", "z" * 30, "9.1 y")
+    for width in range(44, 60):  # where rich cuts the one row's "y" (50 columns, rich 13)
+        console = Console(width=width, file=io.StringIO(), color_system=None)
+        support.print_table(console, table)
+        text = console.file.getvalue()
+        assert text.split().count("y") == 2, (width, text)
+
+
 def test_command_tables_carry_no_e_notation(capsys, tmp_path):
     """A crude convergent of a search (-29,787 ppm), a slow mesh's pitch-line speed (a node
     stage at 3.44e-05 m/s) once printed in e-notation beside plain figures."""

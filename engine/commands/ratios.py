@@ -18,6 +18,21 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--json", action="store_true", help="print JSON only")
 
 
+#: the most significant figures a period error or drift is written with: a slipped count's
+#: error of hundreds of thousands of ppm needs no decimals, a near one keeps them (our choice)
+ERROR_DIGITS = 4
+
+
+def _ppm(x: float) -> str:
+    """A period error in ppm: three decimals, at most :data:`ERROR_DIGITS` figures."""
+    return support.fixed(x, 3, sign=True, digits=ERROR_DIGITS)
+
+
+def _drift(x: float) -> str:
+    """A drift in °/century: four decimals, at most :data:`ERROR_DIGITS` figures."""
+    return support.fixed(x, 4, sign=True, digits=ERROR_DIGITS)
+
+
 def _years(y: float | None) -> str:
     if y is None:
         return ""
@@ -82,21 +97,22 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
     backwards = backward_pointers(train, kin)
-    for r in rows:
+    # each figure to its own significant figures, the points of a column in one line
+    ppms = support.line_up([_ppm(r.period_error_ppm) for r in rows])
+    drifts = support.line_up([_drift(r.drift_deg_per_century) for r in rows])
+    for r, ppm, drift in zip(rows, ppms, drifts, strict=True):
         # a pointer running the wrong way has its period right and its sense wrong: say so in
         # its own row, not only in the warning at the end
         name = r.pointer + (" (runs backwards)" if r.pointer in backwards else "")
         table.add_row(name, f"{support.figure(r.period_days, 10)}", f"{support.figure(r.target_days, 10)}",
-                      support.fixed(r.period_error_ppm, 3, sign=True),
-                      support.fixed(r.drift_deg_per_century, 4, sign=True),
-                      _years(r.years_to_one_day))
+                      ppm, drift, _years(r.years_to_one_day))
     support.print_table(console, table)
     note = era_note(train)
     if note:
         support.print_indented(console, f"note: {note}", 0)
     for r, _spread in _nearer_than_the_era(rows):
         support.print_indented(console, f"note: {r.pointer} is "
-                               f"{support.fixed(r.period_error_ppm, 3, sign=True)} ppm off: "
+                               f"{_ppm(r.period_error_ppm)} ppm off: "
                                f"{era_spread_note(r.target_key)}", 0, markup=False)
     from ..kinds import shows_text
 
@@ -127,8 +143,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 console, f"laps the Earth arm '{escape(sy.earth_arm)}' every "
                 f"{support.figure(sy.period_days, 10)} d ({abs(sy.ratio.numerator)}/{sy.ratio.denominator} turns "
                 f"{'gained' if sy.ratio > 0 else 'lost'} per crank turn) against the "
-                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {support.fixed(sy.period_error_ppm, 3, sign=True)} ppm, "
-                f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century", 3, markup=True)
+                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {_ppm(sy.period_error_ppm)} ppm, "
+                f"{_drift(sy.drift_deg_per_century)}°/century", 3, markup=True)
         elif r.synodic:
             sy = r.synodic
             found = stage_path(train, kin, sy.deferent)
@@ -140,8 +156,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
                 f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
                 f"per crank turn, {support.figure(sy.period_days, 10)} d against the {sy.target_name} of "
-                f"{support.figure(sy.target_days, 10)} d: {support.fixed(sy.period_error_ppm, 3, sign=True)} ppm, "
-                f"{support.fixed(sy.drift_deg_per_century, 4, sign=True)}°/century"
+                f"{support.figure(sy.target_days, 10)} d: {_ppm(sy.period_error_ppm)} ppm, "
+                f"{_drift(sy.drift_deg_per_century)}°/century"
                 + ("" if sy.direction_ok else "; [yellow]but it turns the wrong way against "
                    "its carrier[/] (see the warning below)"), 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]

@@ -36,7 +36,7 @@ import threading
 from pathlib import Path
 
 from ..errors import OutputError, ParserExit, UsageError, WheelworkError
-from ..figures import figure, fixed  # noqa: F401 - the commands' ways to write a number
+from ..figures import figure, fixed, line_up  # noqa: F401 - the commands' ways to write a number
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
 
@@ -613,11 +613,15 @@ def _fits(console, table) -> bool:
     if table.row_count and _body_lines(probe, table, text) > max(
             MOST_LINES_A_ROW * table.row_count, _own_lines(table)):
         return False  # squeezed columns: words stacked line under line are hard to read
-    seen = set(text.split())
-    return all(word in seen
-               for col in table.columns
-               for cell in ([col.header] if table.show_header else []) + list(col.cells)
-               for word in _cell_text(cell).split())
+    # every word as many times as the cells hold it: a word cut from one row ("y" of
+    # "10,966.3 y") must not be vouched for by the same word in another row
+    from collections import Counter
+
+    seen = Counter(text.split())
+    wanted = Counter(word for col in table.columns
+                     for cell in ([col.header] if table.show_header else []) + list(col.cells)
+                     for word in _cell_text(cell).split())
+    return all(seen[word] >= n for word, n in wanted.items())
 
 
 def _own_lines(table) -> int:
