@@ -1,12 +1,31 @@
 """The errors wheelwork reports to a user: one line, naming the file, the item and the fault.
 
-Every exception class of the engine lives here. The last section holds the control-flow
+Every exception class of the engine lives here, with the words that answer a mistyped name
+(:func:`unknown_name`). The last section holds the control-flow
 signals: exceptions that unwind a run on purpose (a cancelled drift run, argparse finishing
 with ``--help``, a stop signal). They are not faults and are not ``WheelworkError``s, so no
 ``except WheelworkError`` meant for faults ever swallows one.
 """
 
 from __future__ import annotations
+
+
+def did_you_mean(name: str | None, known) -> str:
+    """``; did you mean 'year_out'?`` when one of ``known`` is a slip from ``name`` (long
+    names such as 'moon_s3_driven' are easily mistyped), else empty: the one way a mistyped
+    name or word is answered, in train files and options alike."""
+    if not name:
+        return ""
+    import difflib  # only on the way to an error
+
+    near = difflib.get_close_matches(name, [str(k) for k in known], n=1, cutoff=0.75)
+    return f"; did you mean '{near[0]}'?" if near else ""
+
+
+def unknown_name(what: str, name: str, known) -> str:
+    """``unknown arbor 'year_output'; did you mean 'year_out'?``: the nearest of ``known``,
+    when one is a slip away (:func:`did_you_mean`)."""
+    return f"unknown {what} '{name}'" + did_you_mean(name, known)
 
 
 class WheelworkError(Exception):

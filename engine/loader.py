@@ -22,7 +22,7 @@ import unicodedata
 from fractions import Fraction
 from pathlib import Path
 
-from .errors import DateError, TrainError
+from .errors import DateError, TrainError, did_you_mean, unknown_name
 from .exact import parse_fraction
 from .figures import figure
 from .kinds import DIAL_FRAMES, KINDS, kind_key
@@ -199,7 +199,8 @@ class _Reader:
         involute); returned as the list spells it."""
         word = value.strip().lower() if isinstance(value, str) else None
         if word not in choices:
-            raise self.fail(item, f"should be one of {', '.join(choices)}, got {_show(value)}")
+            raise self.fail(item, f"should be one of {', '.join(choices)}, got {_show(value)}"
+                            + did_you_mean(word, choices))
         return word
 
     def flag(self, value: object, item: str) -> bool:
@@ -553,20 +554,11 @@ def _read_arbors(r: _Reader, doc: dict):
         arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with, pivot)
     for a in arbors.values():
         if a.mount != FRAME and a.mount not in arbors:
-            raise r.fail(f"[arbors.{a.name}] on", f"{_unknown('arbor', a.mount, arbors)} "
+            raise r.fail(f"[arbors.{a.name}] on", f"{unknown_name('arbor', a.mount, arbors)} "
                          f"(use \"{FRAME}\" or the name of a carrier arbor)")
         if a.axis_with is not None and a.axis_with not in arbors:
-            raise r.fail(f"[arbors.{a.name}] axis_with", _unknown("arbor", a.axis_with, arbors))
+            raise r.fail(f"[arbors.{a.name}] axis_with", unknown_name("arbor", a.axis_with, arbors))
     return arbors, wheels
-
-
-def _unknown(what: str, name: str, known) -> str:
-    """``unknown arbor 'year_output'; did you mean 'year_out'?``: the file's nearest name,
-    when one is a slip away (long names such as 'moon_s3_driven' are easily mistyped)."""
-    import difflib
-
-    near = difflib.get_close_matches(name, [str(k) for k in known], n=1, cutoff=0.75)
-    return f"unknown {what} '{name}'" + (f"; did you mean '{near[0]}'?" if near else "")
 
 
 def _check_mounts(r: _Reader, arbors: dict[str, Arbor]) -> None:
@@ -611,7 +603,7 @@ def _read_meshes(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> tuple[Mesh,
         for w in pair:
             r.name(w, f"{item} wheels")
             if w not in wheels:
-                raise r.fail(item, f"{_unknown('wheel', w, wheels)} (wheels are named in "
+                raise r.fail(item, f"{unknown_name('wheel', w, wheels)} (wheels are named in "
                              "[arbors.NAME] wheels tables)")
         if a == b:
             raise r.fail(item, "a wheel cannot mesh with itself")
@@ -661,7 +653,7 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
         slot = r.text(r.need(tbl, "slot", item), f"{item} slot")
         for key, a in (("pin", pin), ("slot", slot)):
             if a not in arbors:
-                raise r.fail(f"{item} {key}", _unknown("arbor", a, arbors))
+                raise r.fail(f"{item} {key}", unknown_name("arbor", a, arbors))
         if pin == slot:
             raise r.fail(item, "pin and slot must be on two different arbors")
         pin_mount, slot_mount = arbors[pin].mount, arbors[slot].mount
@@ -713,7 +705,7 @@ def _read_crank(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> Crank:
         raise r.fail("[crank]", "missing: say which arbor the crank turns and days_per_turn")
     arbor = r.text(r.need(tbl, "arbor", "[crank]"), "[crank] arbor")
     if arbor not in arbors:
-        raise r.fail("[crank] arbor", _unknown("arbor", arbor, arbors))
+        raise r.fail("[crank] arbor", unknown_name("arbor", arbor, arbors))
     if arbors[arbor].fixed:
         raise r.fail("[crank] arbor", f"arbor '{arbor}' is fixed and cannot be cranked")
     days = r.fraction(r.need(tbl, "days_per_turn", "[crank]"), "[crank] days_per_turn",
@@ -777,12 +769,12 @@ def _read_pointers(r, doc, arbors, epoch: Epoch) -> dict[str, Pointer]:
                          str(exc.args[0])) from None
         arbor = r.text(r.need(tbl, "arbor", item), f"{item} arbor")
         if arbor not in arbors:
-            raise r.fail(f"{item} arbor", _unknown("arbor", arbor, arbors))
+            raise r.fail(f"{item} arbor", unknown_name("arbor", arbor, arbors))
         rel = tbl.get("relative_to")
         if rel is not None:
             rel = r.text(rel, f"{item} relative_to")
             if rel not in arbors:
-                raise r.fail(f"{item} relative_to", _unknown("arbor", rel, arbors))
+                raise r.fail(f"{item} relative_to", unknown_name("arbor", rel, arbors))
             if rel == arbor:
                 raise r.fail(f"{item} relative_to", "cannot be the pointer's own arbor")
         if _still(arbors, arbor) and (rel is None or _still(arbors, rel)):
@@ -926,7 +918,7 @@ def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:
     for wname, wt in section.items():
         witem = f"[workshop.wheels.{wname}]"
         if wname not in wheels:
-            raise r.fail(witem, f"{_unknown('wheel', wname, wheels)} (wheels are named in "
+            raise r.fail(witem, f"{unknown_name('wheel', wname, wheels)} (wheels are named in "
                          "[arbors.NAME] wheels tables)")
         wt = r.table(wt, witem, "workshop_wheel")
         per_wheel[wname] = WheelShop(

@@ -52,7 +52,7 @@ CASES: list[tuple[list[str], str]] = [
     (["drift", DISC, "--years", "1", "--threshold", "nan"], "positive"),
     (["drift", DISC, "--years", "1", "--threshold-days", "20"], "at most"),
     (["drift", DISC, "--years", "1", "--threshold-days", "-1"], "positive"),
-    (["drift", DISC, "--years", "1", "--frame", "sideways"], "invalid choice"),
+    (["drift", DISC, "--years", "1", "--frame", "sideways"], "unknown frame 'sideways' (choices: equinox, stars)"),
     (["drift", DISC, "--years", "1", "--site", "95,0"], "impossible"),
     (["drift", DISC, "--years", "1", "--site", "a,b"], "LAT,LON"),
     (["drift", DISC, "--years", "1", "--site", "1,2,3,4"], "LAT,LON"),
@@ -121,7 +121,7 @@ CASES: list[tuple[list[str], str]] = [
     (["sky", "yesterday"], "date"),
     (["sky", "JD 1e308"], ""),
     (["sky", "JD -1e308"], ""),
-    (["sky", "2026-01-01", "--calendar", "roman"], "invalid choice"),
+    (["sky", "2026-01-01", "--calendar", "roman"], "unknown calendar 'roman'"),
     (["sky", "2026-01-01", "--site", "95,0"], "impossible"),
     (["sky", "2026-01-01", "--site", "95N 0E"], "impossible"),
     (["sky", "2026-01-01", "--site", "-33.87S 151.21E"], "both a sign and a compass letter"),
@@ -135,11 +135,11 @@ CASES: list[tuple[list[str], str]] = [
     (["crank", T, "--bogus"], "unrecognized"),
     # eclipses, cut, play
     (["eclipses", T, "--years", "0"], "positive"),
-    (["eclipses", T, "--years", "1", "--by", "x"], "invalid choice"),
+    (["eclipses", T, "--years", "1", "--by", "x"], "unknown method 'x'"),
     (["eclipses", T, "--years", "1", "--ephemeris", "/tmp"], "is a folder"),
     (["eclipses", T, "--years", "1", "--ephemeris", " "], "an empty name"),
     (["cut", T, "--out", "x", "--formats", "pdf"], "formats"),
-    (["cut", T, "--out", "x", "--form", "square"], "invalid choice"),
+    (["cut", T, "--out", "x", "--form", "square"], "unknown tooth form 'square'"),
     (["cut", T, "--out", "x", "--wheel", "sun_w33"], "did you mean 'sun_w3'"),
     (["cut", T], "--out"),
     (["play", T, "--builds", "0"], "builds"),
@@ -179,6 +179,42 @@ def test_bad_option_value_is_refused_cleanly(argv, words, tmp_path, monkeypatch)
     code, out, err = run_case(argv)
     assert clean(code, out, err, words), (code, out, err)
     assert code == 2 or argv[0] == "sky", (code, err)  # option values: usage errors
+
+
+def test_every_choice_option_answers_with_the_nearest_word():
+    """Every option of fixed words (argparse ``choices``), in every command, answers a slip as
+    a train file does: one line naming the nearest word and the choices (argparse's own
+    "invalid choice: ... (choose from ...)" named none). A new option of words that does not
+    go through support.one_of fails here."""
+    from engine.cli import COMMANDS, command_parser
+
+    tried = 0
+    for name in [*COMMANDS, "crank"]:
+        _, parser = command_parser(name)
+        for action in parser._actions:  # argparse has no public list of a parser's options
+            if not action.choices or not action.option_strings:
+                continue
+            first = sorted(action.choices)[0]
+            slip = first[:-1]  # 'involut', 'equino', 'aut': one letter short
+            args = [name] + ([T] if name not in ("sky", "search") else []) + (
+                ["--years", "1"] if name in ("drift", "eclipses") else []) + (
+                ["--out", "x"] if name == "cut" else []) + [action.option_strings[0], slip]
+            code, out, err = run_case(args)
+            assert code == 2 and out == "" and err.count("\n") == 1, (args, err)
+            assert f"did you mean '{first}'?" in err and "invalid choice" not in err, err
+            assert ", ".join(action.choices) in err, err  # the choices, as the help names them
+            tried += 1
+    assert tried >= 5  # cut and play --form, drift --frame, eclipses --by, sky --calendar
+
+
+def test_option_words_agree_with_the_engine_s_tables():
+    """The words the commands offer (written out so --help loads no numpy) are the engine's."""
+    from engine.commands.drift import FRAME_WORDS
+    from engine.commands.sky import CALENDARS
+    from engine.dates import CALENDARS as ENGINE_CALENDARS
+    from engine.kinds import DIAL_FRAMES
+
+    assert CALENDARS == ENGINE_CALENDARS and FRAME_WORDS == DIAL_FRAMES
 
 
 def test_enough_cases_for_every_command():

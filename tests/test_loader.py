@@ -107,7 +107,11 @@ def test_good_file_loads_with_exact_fraction():
     ('set = "angles"', 'set = "guess"', ["[epoch] set", "sky, mean, angles"]),
     # a misspelt calendar is the calendar's fault: it was named '[epoch] date'
     ('set = "angles"', 'set = "angles"\ncalendar = "julain"',
-     ["[epoch] calendar: should be one of auto, julian, gregorian, got 'julain'"]),
+     ["[epoch] calendar: should be one of auto, julian, gregorian, got 'julain'; did you "
+      "mean 'julian'?"]),
+    # a word of a fixed list one slip off is answered with the nearest, as a name is
+    ('set = "angles"', 'set = "angels"', ["[epoch] set", "got 'angels'; did you mean "
+                                          "'angles'?"]),
     ("set_deg = 0", "", ["[pointers.p]", "needs set_deg"]),
     ("[[meshes]]", "[[meshes]", ["not valid TOML", "line"]),
     # names outside the letters TOML allows bare, and text without quotes, as makers write

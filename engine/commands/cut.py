@@ -25,7 +25,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--out", required=True, metavar="FOLDER",
                         type=support.out_name("folder to write into"),
                         help="folder to write into (made if missing)")
-    parser.add_argument("--form", type=support.word, choices=TOOTH_FORMS, default=None,
+    parser.add_argument("--form", type=support.one_of("tooth form", TOOTH_FORMS),
+                        choices=TOOTH_FORMS, default=None,
                         help="tooth form for wheels that do not choose their own (default: "
                         "the file's [workshop] tooth_form, else cycloidal)")
     parser.add_argument("--formats", default="svg,dxf", type=_formats, metavar="LIST",

@@ -56,6 +56,11 @@ def _chart_name(text: str) -> str:
     return text
 
 
+#: the frames longitudes are measured in: engine.kinds.DIAL_FRAMES, written out so that
+#: --help loads no numpy (tests/test_bad_options.py checks they agree)
+FRAME_WORDS = ("equinox", "stars")
+
+
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
     span = support.add_span(parser, "last date: the run goes on to the first step at or after it")
@@ -72,7 +77,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                            "this many days off "
                            f"(others use --threshold; at most {MAX_THRESHOLD_DAYS:g}, half a "
                            "month)")
-    cmp_.add_argument("--frame", type=support.word, choices=("equinox", "stars"),
+    cmp_.add_argument("--frame", type=support.one_of("frame", FRAME_WORDS), choices=FRAME_WORDS,
                       help="measure longitudes from the equinox of date or from the stars "
                            "(default: the train's dial)")
     support.add_site(cmp_, "compare with the sky seen from this place: degrees (north +, "

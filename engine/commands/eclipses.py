@@ -35,7 +35,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     support.add_train(parser)
     support.add_span(parser)
     how = parser.add_argument_group("prediction")
-    how.add_argument("--by", type=support.word, choices=METHODS,
+    how.add_argument("--by", type=support.one_of("method", METHODS), choices=METHODS,
                      help="predict by the pointers (node hand, draconic or eclipse-year dial) "
                           "or by the eclipse-cycle dial's marks (default: the cycle dial when "
                           "the train has one)")

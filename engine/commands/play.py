@@ -63,7 +63,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="largest error of a pivot hole's place in its plate; two holes "
                         "part a mesh's centres by up to twice it, widening its backlash "
                         f"(default {DEFAULT_HOLE_MM:g})")
-    parser.add_argument("--form", type=support.word, choices=TOOTH_FORMS, default=None,
+    parser.add_argument("--form", type=support.one_of("tooth form", TOOTH_FORMS),
+                        choices=TOOTH_FORMS, default=None,
                         help="tooth form for wheels that do not choose their own (sets the "
                         "default backlash)")
     parser.add_argument("--json", action="store_true", help="print machine-readable JSON only")

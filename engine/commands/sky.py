@@ -14,13 +14,18 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
     from rich.console import Console
 
 
+#: the calendars a date is read in: engine.dates.CALENDARS, written out so that --help loads
+#: no numpy (tests/test_bad_options.py checks they agree)
+CALENDARS = ("auto", "julian", "gregorian")
+
+
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("date", nargs="?", default="now",
                         help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
                         "'44-03-15 BC', '15 March 44 BC', 'JD 2451545.0', today (00:00 UT) "
                         "or now (the default: the computer's clock)")
-    parser.add_argument("--calendar", default="auto", type=support.word,
-                        choices=("auto", "julian", "gregorian"),
+    parser.add_argument("--calendar", default="auto", type=support.one_of("calendar", CALENDARS),
+                        choices=CALENDARS,
                         help="calendar of DATE (auto: Julian before 1582-10-15, then Gregorian)")
     parser.add_argument("--stars", action="store_true",
                         help="longitudes on the fixed J2000 ecliptic instead of the equinox of date")

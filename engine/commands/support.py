@@ -160,9 +160,25 @@ def whole(what: str, least: int, most: int):
 
 
 def word(text: str) -> str:
-    """An argparse type for an option of fixed words (``choices``): any case, spaces round it
-    ignored (``--form Involute`` is ``involute``), as in a train file."""
+    """A word of an option of fixed words: any case, spaces round it ignored (``--form
+    Involute`` is ``involute``), as in a train file."""
     return text.strip().lower()
+
+
+def one_of(what: str, choices: tuple[str, ...]):
+    """An argparse type for an option of fixed words (give ``choices`` too, for the help): a
+    :func:`word`, and one not in ``choices`` answered as a train file answers it, with the
+    nearest (``unknown tooth form 'involut'; did you mean 'involute'?``) and the choices."""
+    from ..errors import unknown_name
+
+    def check(text: str) -> str:
+        said = word(text)
+        if said not in choices:
+            raise argparse.ArgumentTypeError(
+                f"{unknown_name(what, said, choices)} (choices: {', '.join(choices)})")
+        return said
+    check.__name__ = what
+    return check
 
 
 def out_name(what: str):
