@@ -301,13 +301,14 @@ def test_largest_contributor_per_pointer_reaches_the_warnings_panel():
 
 def test_form_option_is_read_in_any_case(capsys):
     """--form Involute is involute, as a train file's tooth_form is; a word not in the list
-    is still a usage error naming the list."""
+    is still a usage error naming the list, and the nearest word."""
     assert main(["play", str(SMALL), "--json", "--builds", "50", "--samples", "32",
                  "--form", " Involute"]) == 0
     assert json.loads(capsys.readouterr().out)["tolerances"]["form"] == "involute"
     assert main(["play", str(SMALL), "--form", "Involut"]) == 2
     err = capsys.readouterr().err
-    assert "usage error" in err and "'cycloidal', 'involute'" in err
+    assert "usage error" in err and "(choices: cycloidal, involute)" in err
+    assert "did you mean 'involute'?" in err
 
 
 def test_pivot_holes_off_their_places_widen_the_dead_play_by_hand():
