@@ -134,7 +134,8 @@ class _Reader:
         unknown = sorted(set(value) - _KEYS[kind])
         if unknown:
             known = ", ".join(sorted(_KEYS[kind]))
-            raise self.fail(item, f"unknown key {_show(unknown[0])} (known keys: {known})")
+            raise self.fail(item, f"unknown key {_show(unknown[0])}"
+                            f"{did_you_mean(unknown[0], _KEYS[kind])} (known keys: {known})")
         if "note" in value:
             self.prose(value["note"], f"{item} note")
         return value
@@ -410,10 +411,16 @@ def parse_train(text: str, where: str = "<train>") -> Train:
         raise TrainError(where, "", f"tables are nested more than {MAX_DEPTH} deep; a train "
                          "needs 4 ([arbors.NAME] wheels = { ... })")
     r = _Reader(where)
+    if not doc:  # an empty file, or one of comments only: say so, not "no arbors"
+        raise TrainError(where, "", "is empty (no tables or keys, only blank lines or comments); "
+                         "a train has [crank], [epoch], [arbors.NAME], [[meshes]] and "
+                         "[pointers.NAME] tables: see docs/train-format.md, or start from a "
+                         "demo (engine/trains/)")
     unknown = sorted(set(doc) - _TOP_KEYS)
     if unknown:
-        raise r.fail(f"[{_show(unknown[0])[1:-1]}]", "unknown section (known: " + ", ".join(
-            sorted(_TOP_KEYS)) + ")")
+        raise r.fail(f"[{_show(unknown[0])[1:-1]}]", "unknown section"
+                     + did_you_mean(unknown[0], _TOP_KEYS) + " (known: "
+                     + ", ".join(sorted(_TOP_KEYS)) + ")")
 
     head = r.table(doc.get("train", {}), "[train]", "train")
     name = r.text(head.get("name", Path(where).stem or "train"), "[train] name")

@@ -105,6 +105,10 @@ def test_good_file_loads_with_exact_fraction():
     ("[arbors.b]", "[arbors.b]\nwheel = 3", ["[arbors.b]", "unknown key 'wheel'"]),
     ("[arbors.b]", "[arbors.b]\non = \"b2\"", ["[arbors.b] on", "unknown arbor 'b2'"]),
     ('set = "angles"', 'set = "guess"', ["[epoch] set", "sky, mean, angles"]),
+    # a key or section one slip off, as a newcomer types them: the nearest, then the list
+    ('days_per_turn = "6940/235"', 'days_per_trun = "6940/235"',
+     ["[crank]: unknown key 'days_per_trun'; did you mean 'days_per_turn'? (known keys: "]),
+    ("[crank]", "[cranck]", ["[cranck]: unknown section; did you mean 'crank'? (known: "]),
     # a misspelt calendar is the calendar's fault: it was named '[epoch] date'
     ('set = "angles"', 'set = "angles"\ncalendar = "julain"',
      ["[epoch] calendar: should be one of auto, julian, gregorian, got 'julain'; did you "
@@ -600,3 +604,12 @@ def test_enumerated_values_are_read_in_any_case(old, new, read):
 def test_an_enumerated_value_not_in_its_list_names_the_list(old, new, item):
     msg = error_of(GOOD.replace(old, new, 1))
     assert item in msg and ("should be one of" in msg or "(known: " in msg), msg
+
+
+@pytest.mark.parametrize("text", ["", "\n\n   \n", "# a train, one day\n", "\ufeff\r\n"])
+def test_an_empty_file_is_said_to_be_empty(text):
+    """An empty file (or blank lines and comments only) was answered "[arbors]: the train
+    needs at least one arbor", as if the file had the rest: it says the file is empty and
+    where the format is described."""
+    msg = error_of(text)
+    assert msg.startswith("bad.toml: is empty") and "docs/train-format.md" in msg, msg
