@@ -347,6 +347,42 @@ _QUOTED = re.compile(r'"(?:[^"\\]|\\.)*"|\'[^\']*\'')
 _PLAIN_WORDS = re.compile(r"[^\W\d][\w .'-]*$")  # a word or words, as text written bare
 
 
+def _number_hint(line: str) -> str:
+    """For a line with a value TOML cannot read that a maker meant as a number — a decimal
+    comma (``days_per_turn = 1,5``), a unit or a slip after the figures (``disc_teeth = 5x9``,
+    ``59 teeth``, also inside ``{ ... }``), or no value at all (``days_per_turn =``) — what
+    to write instead; empty otherwise."""
+    if line.startswith("["):
+        return ""
+    key, _, value = line.partition("=")
+    value = value.strip()
+    if not value:
+        return f"; the value after '{safe_text(key.strip()[:60])} =' is missing"
+    inner = re.fullmatch(r"\{(.*)\}?", value)
+    pairs = ([p.partition("=") for p in inner[1].rstrip("}").split(",")] if inner else
+             [(key, "=", value)])
+    for k, eq, v in pairs:
+        k, v = k.strip(), v.strip()
+        if not eq or not k:
+            continue
+        if not v:
+            return f"; the value after '{safe_text(k[:60])} =' is missing"
+        if not re.match(r"[+-]?\.?\d", v):
+            continue
+        try:
+            tomllib.loads(f"x = {v}")
+            continue
+        except tomllib.TOMLDecodeError:
+            pass
+        shown = f"{safe_text(k[:60])} = {safe_text(v[:40])}"
+        if not inner and re.fullmatch(r"[+-]?\d+,\d+", v):
+            return (f"; {shown}: a decimal is written with a point: "
+                    f"{safe_text(k[:60])} = {v.replace(',', '.')}")
+        return (f"; {shown}: a number is written in figures alone, without units (59, 29.5, "
+                f"1.5e-3), an exact fraction in quotes (\"6940/235\")")
+    return ""
+
+
 def _toml_hint(text: str, message: str) -> str:
     """What to write instead, for the faults the TOML reader's words leave unclear to a maker:
     a name with letters TOML allows only in quotes (``[arbors.année]``), text written without
@@ -377,6 +413,9 @@ def _toml_hint(text: str, message: str) -> str:
         # name or a JD is text to TOML, so it goes in quotes
         return (f'; a date TOML cannot hold as it is (a year before AD 1, an era, a month '
                 f'name) goes in quotes: date = "{safe_text(value[:60])}"')
+    number = _number_hint(line)
+    if number:
+        return number
     if value and _PLAIN_WORDS.match(value) and value not in ("true", "false", "inf", "nan"):
         return f'; text goes in quotes: {safe_text(key.strip())} = "{safe_text(value[:60])}"'
     if message.startswith("Cannot overwrite a value") and value:

@@ -109,6 +109,16 @@ def test_good_file_loads_with_exact_fraction():
     ('days_per_turn = "6940/235"', 'days_per_trun = "6940/235"',
      ["[crank]: unknown key 'days_per_trun'; did you mean 'days_per_turn'? (known keys: "]),
     ("[crank]", "[cranck]", ["[cranck]: unknown section; did you mean 'crank'? (known: "]),
+    # a number TOML cannot read, as a newcomer writes one: the reader said only "Unclosed
+    # inline table" or "Expected newline or end of document after a statement"
+    ('days_per_turn = "6940/235"', "days_per_turn = 1,5",
+     ["not valid TOML", "line 6", "a decimal is written with a point: days_per_turn = 1.5"]),
+    ("a1 = 20", "a1 = 2x0", ["not valid TOML", "line 11", "a1 = 2x0: a number is written in "
+                             "figures alone, without units"]),
+    ("a1 = 20", "a1 = 20 teeth", ["not valid TOML", "a1 = 20 teeth: a number is written"]),
+    ('days_per_turn = "6940/235"', "days_per_turn = 1.5.2", ["days_per_turn = 1.5.2: a number"]),
+    ('days_per_turn = "6940/235"', "days_per_turn =",
+     ["not valid TOML", "the value after 'days_per_turn =' is missing"]),
     # a misspelt calendar is the calendar's fault: it was named '[epoch] date'
     ('set = "angles"', 'set = "angles"\ncalendar = "julain"',
      ["[epoch] calendar: should be one of auto, julian, gregorian, got 'julain'; did you "
