@@ -31,7 +31,14 @@ import tomlkit
 from tomlkit.exceptions import TOMLKitError
 
 from .errors import OutputError, TrainError, WheelworkError
-from .loader import MAX_FILE_BYTES, MAX_TEETH, parse_train, regular_file_bytes, safe_text
+from .loader import (
+    MAX_FILE_BYTES,
+    MAX_TEETH,
+    parse_train,
+    regular_file_bytes,
+    safe_text,
+    train_text,
+)
 from .mechanism import Mechanism, build
 from .ratios import PointerRatio, factor_text, pointer_ratios, tooth_factors
 
@@ -152,12 +159,7 @@ class TrainEditor:
         """Read a train file (the loader's checks and errors) ready to edit."""
         path = Path(path)
         where = safe_text(str(path))
-        raw = regular_file_bytes(path, where)
-        try:
-            text = raw.decode("utf-8")
-        except UnicodeDecodeError as exc:
-            raise TrainError(where, "", f"is not a UTF-8 text file (byte {exc.start} cannot "
-                             "be read as UTF-8)") from None
+        text = train_text(regular_file_bytes(path, where), where)
         return cls(text, where, sky, path=path)
 
     @classmethod

@@ -287,12 +287,29 @@ def load_train(path: str | Path) -> Train:
             raise TrainError(where, "", f"no such file; {name} is a demo's name: its file is "
                              f"demo_path({name!r}) (engine.api)") from None
         raise
+    return parse_train(train_text(raw, where), where)
+
+
+def train_text(raw: bytes, where: str) -> str:
+    """A train file's bytes as text (UTF-8, a byte-order mark kept for the parser to drop),
+    or a one-line :class:`TrainError` saying what the file is instead and what to do: UTF-16
+    (as some editors save "Unicode"), a binary file, or a letter in another encoding (the line
+    it is on)."""
     try:
-        text = raw.decode("utf-8")
+        return raw.decode("utf-8")
     except UnicodeDecodeError as exc:
-        raise TrainError(where, "", f"is not a UTF-8 text file (byte {exc.start} cannot be "
-                         "read as UTF-8)") from None
-    return parse_train(text, where)
+        if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+            problem = ("is UTF-16 text (what some editors save as \"Unicode\"); save it as "
+                       "UTF-8")
+        elif b"\x00" in raw[:4096]:
+            problem = "is not a text file (it holds binary data); give a train file (TOML text)"
+        else:
+            line = raw.count(b"\n", 0, exc.start) + 1
+            column = exc.start - raw.rfind(b"\n", 0, exc.start)
+            problem = (f"line {line}, column {column}: a byte that is not UTF-8 (a letter saved "
+                       f"in another encoding, such as Windows-1252 or Latin-1); save the file "
+                       f"as UTF-8")
+        raise TrainError(where, "", problem) from None
 
 
 _TOKENS = re.compile(r'"""(?:[^\\]|\\.)*?"""|\'\'\'.*?\'\'\'|"(?:[^"\\\n]|\\.)*"'

@@ -623,3 +623,26 @@ def test_an_empty_file_is_said_to_be_empty(text):
     where the format is described."""
     msg = error_of(text)
     assert msg.startswith("bad.toml: is empty") and "docs/train-format.md" in msg, msg
+
+
+@pytest.mark.parametrize("raw, words", [
+    # Windows Notepad's "Unicode" is UTF-16 with a byte-order mark
+    (GOOD.encode("utf-16"), "is UTF-16 text (what some editors save as \"Unicode\"); save it "
+                            "as UTF-8"),
+    # a name with an accent saved as Latin-1: line 3 of GOOD holds the name
+    (GOOD.replace('"test"', '"t\u00e9st"').encode("latin-1"),
+     "line 3, column 10: a byte that is not UTF-8 (a letter saved in another encoding"),
+    (b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", "is not a text file (it holds binary data)"),
+])
+def test_a_file_not_in_utf8_says_what_it_is_and_what_to_do(tmp_path, raw, words):
+    """Such a file was answered "is not a UTF-8 text file (byte 0 cannot be read as UTF-8)":
+    true, but no help to a maker whose editor saved it so. The loader and the interface's
+    editor (which opens the file itself) say the same."""
+    from engine.edit import TrainEditor
+
+    path = tmp_path / "t.toml"
+    path.write_bytes(raw)
+    for read in (load_train, TrainEditor.open):
+        with pytest.raises(TrainError) as caught:
+            read(path)
+        assert str(caught.value).startswith(f"{path}: {words}"), str(caught.value)
