@@ -22,6 +22,16 @@ def did_you_mean(name: str | None, known) -> str:
     return f"; did you mean '{near[0]}'?" if near else ""
 
 
+def decimal_comma(text: object) -> str:
+    """``; a decimal is written with a point: 1.5`` for a number written with a decimal comma
+    (``1,5``, as many countries write it), else empty."""
+    import re
+
+    if isinstance(text, str) and re.fullmatch(r"\s*[+-]?\d+,\d+\s*", text):
+        return f"; a decimal is written with a point: {text.strip().replace(',', '.')}"
+    return ""
+
+
 def unknown_name(what: str, name: str, known) -> str:
     """``unknown arbor 'year_output'; did you mean 'year_out'?``: the nearest of ``known``,
     when one is a slip away (:func:`did_you_mean`)."""

@@ -13,7 +13,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from .errors import ArgumentError
+from .errors import ArgumentError, decimal_comma
 
 _NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"  # a plain decimal, exponent allowed
 _FRACTION = re.compile(rf"^\s*([+-]?{_NUM})\s*/\s*({_NUM})\s*$")
@@ -76,7 +76,7 @@ def _read_fraction(value: object, prefix: str) -> Fraction:
             return num / den
         if _DECIMAL.match(value):
             return Fraction(value.strip())
-    raise ValueError(f"{prefix}expected {_HINT}, got {_shown(value)}")
+    raise ValueError(f"{prefix}expected {_HINT}, got {_shown(value)}{decimal_comma(value)}")
 
 
 def ratio_text(value: Fraction) -> str:

@@ -22,7 +22,7 @@ import unicodedata
 from fractions import Fraction
 from pathlib import Path
 
-from .errors import DateError, TrainError, did_you_mean, unknown_name
+from .errors import DateError, TrainError, decimal_comma, did_you_mean, unknown_name
 from .exact import parse_fraction
 from .figures import figure
 from .kinds import DIAL_FRAMES, KINDS, kind_key
@@ -392,9 +392,8 @@ def _number_hint(line: str) -> str:
         except tomllib.TOMLDecodeError:
             pass
         shown = f"{safe_text(k[:60])} = {safe_text(v[:40])}"
-        if not inner and re.fullmatch(r"[+-]?\d+,\d+", v):
-            return (f"; {shown}: a decimal is written with a point: "
-                    f"{safe_text(k[:60])} = {v.replace(',', '.')}")
+        if not inner and decimal_comma(v):
+            return f"; {shown}{decimal_comma(v).replace(': ', f': {safe_text(k[:60])} = ')}"
         return (f"; {shown}: a number is written in figures alone, without units (59, 29.5, "
                 f"1.5e-3), an exact fraction in quotes (\"6940/235\")")
     return ""

@@ -150,6 +150,14 @@ CASES: list[tuple[list[str], str]] = [
     (["play", T, "--lever-mm", "1e6"], "at most 10000 mm"),
     (["play", T, "--hole-mm", "nan"], "hole"),
     (["play", T, "--hole-mm", "x"], "hole: not a number"),
+    # a decimal comma, as many countries write a decimal: what to write instead
+    (["drift", DISC, "--years", "1,5"], "'1,5' is not a number of years; a decimal is "
+                                        "written with a point: 1.5"),
+    (["search", "--period", "29,53", "--stages", "2"], "a decimal is written with a point: "
+                                                       "29.53"),
+    (["check", T, "--efficiency", "0,9"], "a decimal is written with a point: 0.9"),
+    (["play", T, "--division", "0,01"], "a decimal is written with a point: 0.01"),
+    (["play", T, "--backlash-mm", "0,02"], "a decimal is written with a point: 0.02"),
     # an empty name to write to (an unset shell variable: --out "$DIR") names the current
     # folder: refused, never written there or passed over in silence
     (["cut", T, "--out", ""], "an empty name"),

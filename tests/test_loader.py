@@ -117,6 +117,8 @@ def test_good_file_loads_with_exact_fraction():
                              "figures alone, without units"]),
     ("a1 = 20", "a1 = 20 teeth", ["not valid TOML", "a1 = 20 teeth: a number is written"]),
     ('days_per_turn = "6940/235"', "days_per_turn = 1.5.2", ["days_per_turn = 1.5.2: a number"]),
+    ('days_per_turn = "6940/235"', 'days_per_turn = "1,5"',
+     ["[crank] days_per_turn", "got '1,5'; a decimal is written with a point: 1.5"]),
     ('days_per_turn = "6940/235"', "days_per_turn =",
      ["not valid TOML", "the value after 'days_per_turn =' is missing"]),
     # a misspelt calendar is the calendar's fault: it was named '[epoch] date'

@@ -9,6 +9,7 @@ from fractions import Fraction
 from typing import TYPE_CHECKING
 
 from ..defaults import DEFAULT_CRANK_RPM, DEFAULT_EFFICIENCY
+from ..errors import decimal_comma
 from . import support
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -26,7 +27,7 @@ def _efficiency(text: str) -> float:
     try:
         value = float(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}{decimal_comma(text)}") from None
     if not 0 < value <= 1:
         raise argparse.ArgumentTypeError(f"must be above 0 and at most 1, got {text}")
     return value

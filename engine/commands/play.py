@@ -14,7 +14,7 @@ from ..defaults import (
     DEFAULT_TILT_DEG,
     LEVER_MM,
 )
-from ..errors import TrainError, UsageError
+from ..errors import TrainError, UsageError, decimal_comma
 from ..periods import JULIAN_YEAR_DAYS
 from ..train import TOOTH_FORMS
 from . import support
@@ -75,7 +75,8 @@ def _nonneg(what: str):
         try:
             value = float(text)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"{what}: not a number: {text!r}") from None
+            raise argparse.ArgumentTypeError(f"{what}: not a number: {text!r}"
+                                             f"{decimal_comma(text)}") from None
         if not 0 <= value <= 100 or value != value:
             raise argparse.ArgumentTypeError(f"{what}: must be 0 to 100 mm, got {text}")
         return value
@@ -86,7 +87,7 @@ def _fraction(text: str) -> float:
     try:
         value = float(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}{decimal_comma(text)}") from None
     if not 0 <= value < 0.5:
         raise argparse.ArgumentTypeError(f"a fraction of the pitch, 0 to below 0.5, got {text}")
     return value
@@ -96,7 +97,7 @@ def _tilt(text: str) -> float:
     try:
         value = float(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}{decimal_comma(text)}") from None
     if not 0 <= value <= 45:
         raise argparse.ArgumentTypeError(f"degrees from 0 to 45, got {text}")
     return value
