@@ -232,7 +232,7 @@ def _ut1_time(ut1: np.ndarray):
     return t
 
 
-_UT1_SECANT_DAYS = 2.0  # longest step between dates over which ΔT's secant is used
+_UT1_SECANT_DAYS = 4.0  # longest step between dates over which ΔT's secant is used
 
 
 def _delta_t_rising(delta_t, tt: np.ndarray) -> np.ndarray:
@@ -360,14 +360,18 @@ _TURN_BLOCK = 1024  # records turned at a time for the gather path (_ChebGroup._
 # that add up to less are left out. The Moon from the Earth-Moon barycentre 0.15 m: at least
 # 350,000 km from any place on the Earth (perigee less the Earth's radius), its direction
 # moves by at most 1.0123 × 0.15 m / 350,000 km = 4.4e-10 rad = 0.00009″ (the Moon from the
-# Earth is (1 + 1/EMRAT) times that offset) and its distance by 0.15 m. The Sun and the
-# Earth-Moon barycentre 5 m each: the Sun seen from the Earth (the Sun less the barycentre
-# plus the Moon's offset / EMRAT) moves by at most 10 m at 1.47e8 km, 0.000014″, and a
-# planet's geocentric direction by 5 m at its least distance (Venus, 0.26 au: 0.00003″).
-# Rates 1 mm/s (_CUT_KM_S): 3e-12 rad of aberration, 0.5 m over the Sun's light time. On
-# DE421 the Sun and the barycentre keep 7 of their 13 terms, the Moon 10 of 13.
-_CUT_KM = {(3, 301): 1.5e-4, (0, 3): 5e-3, (0, 10): 5e-3}
-_CUT_KM_S = 1e-6
+# Earth is (1 + 1/EMRAT) times that offset) and its distance by 0.15 m; the equinox frame's
+# 0.0028″ from the 2000A reference (the nutation model) leaves no room for the Moon's next
+# term (0.8 m on DE421: 0.0005″). The Sun and the Earth-Moon barycentre 80 m each: the Sun
+# seen from the Earth (the Sun less the barycentre plus the Moon's offset / EMRAT) moves by
+# at most 160 m at 1.47e8 km, 0.00022″, and a planet's geocentric direction by 80 m at its
+# least distance (Venus, 0.26 au: 0.0004″). Rates 1 cm/s (_CUT_KM_S): 3e-11 rad of
+# aberration, 5 m over the Sun's light time (0.00001″), 1.3 cm over the Moon's. On DE421 the
+# Sun and the barycentre keep 6 of their 13 terms (what they leave out: at most 0.7 m and
+# 74 m, so the Sun's direction within 0.00011″, beside the equinox frame's 0.0028″), the
+# Moon 10 of 13.
+_CUT_KM = {(3, 301): 1.5e-4, (0, 3): 0.08, (0, 10): 0.08}
+_CUT_KM_S = 1e-5
 
 
 def _chunks(starts: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -446,14 +450,22 @@ def _padded_rows(rows: int, n: int, scratch: str | None = None) -> np.ndarray:
     return buf.reshape(rows, stride)
 
 
-def _power_basis(s: np.ndarray, k: int) -> np.ndarray:
-    """(k, len(s)): 1, s, .. s^{k-1} (in a work array of the gather path)."""
-    basis = _rows(k, s.size, "basis")
+def _power_basis(s: np.ndarray, k: int, where: np.ndarray | None = None,
+                 slots: int = 0) -> np.ndarray:
+    """(k, len(s)): 1, s, .. s^{k-1} (in a work array of the gather path); with ``where``,
+    (k, slots) whose column ``where[i]`` is that of ``s[i]``, the other columns those of
+    s = 0 (the gather path's padding: any s in [-1, 1] would do). The dates are placed
+    straight into the row of s, not into an array of their own first."""
+    basis = _rows(k, s.size if where is None else slots, "basis")
     basis[0] = 1.0
     if k > 1:
-        basis[1] = s
+        if where is None:
+            basis[1] = s
+        else:
+            basis[1] = 0.0
+            basis[1][where] = s
     for j in range(2, k):
-        np.multiply(basis[j - 1], s, out=basis[j])
+        np.multiply(basis[j - 1], basis[1], out=basis[j])
     return basis
 
 
@@ -608,21 +620,18 @@ class _ChebGroup:
             place[order[1:]] = np.cumsum(sizes[:-1])
             total = int(sizes.sum())
             in_order = total == n and np.count_nonzero(per_size) == 1  # one size, unpadded
-            if not in_order:
-                # each date's slot; the padding at s = 0 (any s in [-1, 1])
+            where = None
+            if not in_order:  # each date's slot
                 where = np.arange(n) + np.repeat(place - firsts, counts)
-                padded = _scratch("padded", total)
-                padded.fill(0.0)
-                padded[where] = s
-                s = padded
-            basis = _power_basis(s, k)
+            basis = _power_basis(s, k, where, total)
             series = self._series(index[firsts[order]])
             whole_rows = _padded_rows(rows, total, None if in_order else "out")
             out = whole_rows[:, :total]  # returned when in order
             done = first = 0
             with _one_blas_thread():
-                for size in np.flatnonzero(per_size):
-                    z, count = int(_CHUNK_SIZES[size]), int(per_size[size])
+                present = np.flatnonzero(per_size)
+                for z, count in zip(_CHUNK_SIZES[present].tolist(), per_size[present].tolist(),
+                                    strict=True):
                     cols = slice(first, first + count * z)
                     np.matmul(series[done:done + count],
                               basis[:, cols].reshape(k, count, z).transpose(1, 0, 2),
@@ -1249,7 +1258,9 @@ def _grid(x: np.ndarray, step: float, values_at, points_per_date: float = 1.0
     which dates are asked for together, so a date gets the same value in any batch or
     chunk."""
     lo = T0 + step * (np.floor((float(x.min()) - T0) / step) - 1.0)
-    m = int((float(x.max()) - lo) / step) + 3
+    # one point more than the last date's four need: a date's four points found from its
+    # place scaled in one product (below) may then round up by one and still lie in the grid
+    m = int((float(x.max()) - lo) / step) + 4
     if m > points_per_date * x.size:
         return None
     v = np.asarray(values_at(lo, step, m), dtype=float).reshape(m)
@@ -1262,8 +1273,11 @@ def _grid(x: np.ndarray, step: float, values_at, points_per_date: float = 1.0
     coef[:, 1] = (v0 + v2) * 0.5 - v1
     coef[:, 2] = v2 - v0 * (1.0 / 3.0) - v1 * 0.5 - v3 * (1.0 / 6.0)
     coef[:, 3] = v1
-    u = (x - lo) * (1.0 / step) - 1.0  # >= 0: from the first of each date's four points
-    k = np.minimum(u.astype(np.intp), m - 4)  # truncation is the floor
+    # each date's place from the first of its four points (>= 0 but for rounding, ~1e-10
+    # of a step, whose truncation is then 0 as the floor's would be -1: f a hair below 0)
+    u = x * (1.0 / step)
+    u -= lo / step + 1.0
+    k = u.astype(np.intp)  # truncation is the floor
     f = u - k  # in [0, 1): between the second and third of the four points k .. k+3
     c = np.take(coef, k, axis=0)  # (dates, 4): c3, c2, c1, c0
     out = c[:, 0] * f
@@ -2017,11 +2031,18 @@ _DEG = 180.0 / math.pi
 def _lon(v, dpsi=None, out=None):
     """Ecliptic longitude in degrees, 0-360, of the vectors ``v`` (3, n), or stacked
     (bodies, 3, n), turned by ``dpsi`` (radians; None for no turn; under a minute of arc)."""
-    lon = np.arctan2(v[..., 1, :], v[..., 0, :], out=out)
+    # arctan(y/x), half a turn added where x < 0: numpy's arctan has vector code and its
+    # arctan2 none (about 1.4 against 6.5 ns a value here); the quotient's rounding moves the
+    # angle by at most its own relative error (d arctan t = dt / (1 + t²)), 1e-16 rad
+    x = v[..., 0, :]
+    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):  # x = 0: ±90°
+        lon = np.divide(v[..., 1, :], x, out=out)
+    np.arctan(lon, out=lon)
     if dpsi is not None:
         lon += dpsi
-    lon *= _DEG  # in (-180.01, 180.01): one turn added below 0 (and -0.0 made 0.0)
-    # (a turn times the test added to every value: far quicker than numpy's masked add)
+    lon *= _DEG
+    lon += np.less(x, 0.0) * 180.0  # in (-90.01, 270.01): one turn added below 0 (and -0.0
+    # made 0.0; a turn times the test added to every value: far quicker than numpy's masked add)
     lon += np.less(lon, 0.0) * 360.0
     return lon
 

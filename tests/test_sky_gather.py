@@ -82,8 +82,8 @@ def test_gather_path_against_jplephem_spk(sky):
 
 def test_gather_path_cut_to_its_budget(sky):
     # The pipeline's gather path keeps, in every record, only the terms whose rest adds up to
-    # more than each series' budget (engine.sky._CUT_KM: 0.15 m for the Moon, 5 m for the Sun
-    # and the Earth-Moon barycentre; rates 1 mm/s). Against jplephem's evaluation of every
+    # more than each series' budget (engine.sky._CUT_KM: 0.15 m for the Moon, 80 m for the Sun
+    # and the Earth-Moon barycentre; rates 1 cm/s). Against jplephem's evaluation of every
     # term (the outside source), on dates all over DE421 and on record edges: within the
     # budget; and the budget decides it: one term fewer would break it somewhere (the tails
     # worked out here from the file's coefficients, not by engine.sky's code).
@@ -94,7 +94,7 @@ def test_gather_path_cut_to_its_budget(sky):
     dates = np.sort(rng.uniform(2415020.5, 2469807.5, 40_000))
     for group in sky._loaded.groups:
         k = group.gather_terms
-        assert k < group.nterms, group.keys  # the cut is taken: DE421 keeps 7 and 10 of 13
+        assert k < group.nterms, group.keys  # the cut is taken: DE421 keeps 6 and 10 of 13
         for whole, frac in (_split(dates), _edges(group, 200)):
             for key in group.keys:
                 pos, vel = _gathered(group, whole, frac, cut=True)[key]
@@ -195,7 +195,7 @@ def test_long_calls_keep_no_work_arrays(sky):
     def run():
         long = _gathered(group, *_split(jd))
         kept["sizes"] = [getattr(sky_module._gather_scratch, name).size
-                         for name in ("basis", "series", "out", "padded")
+                         for name in ("basis", "series", "out")
                          if hasattr(sky_module._gather_scratch, name)]
         short = [_gathered(group, *_split(part)) for part in np.array_split(jd, 20)]
         kept["same"] = all(
