@@ -16,7 +16,7 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
     from one gather of each record for the run of dates in it, the records in powers of the
     record's time, the runs of each padded length in one stacked product); on both paths each
     series is cut where the rest of it adds up to less than its error budget (:data:`_CUT_KM`:
-    the Moon's direction moves by at most 0.00009″, the Sun's by 0.000014″); on a regular
+    the Moon's direction moves by at most 0.00009″, the Sun's by 0.00011″ on DE421); on a regular
     grid of dates whose step divides the record
     length (one a day, every 6 hours, ...) each record's series is instead evaluated once at
     its grid points, with its derivatives, by one matrix product an order (the basis
