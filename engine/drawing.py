@@ -57,11 +57,17 @@ BORE_ROOT_FRACTION = 0.4
 # A crossed-out clock wheel is a rim under the teeth, a hub (the boss riveted to the arbor's
 # collet) and crossings (spokes) between them. Its rim, hub and crossings grow with the wheel,
 # not with the tooth: a 300-tooth wheel held by crossings three modules wide is spindly.
+# Sources looked for (published crossing-out guidance, 2026-12): the counts and the taper
+# have pages that say so, cited beside them; no page giving the rim's depth, the hub's size
+# or the crossings' width as figures was found, so those stay "common practice, no source",
+# the fractions from memory. The crossing-out jig page below names a horological text as its
+# own source (M. Wild, "Wheel and Pinion Cutting in Horology"): the figures to check these
+# against when it is at hand.
 
 RIM_FRACTION = 0.1
 """Default rim depth below the root circle: a tenth of the root radius (common practice, no
-source; the figure from memory of English clock wheels, whose rims are about a tenth of
-their radius deep) ..."""
+source found; the figure from memory of English clock wheels, whose rims are about a tenth
+of their radius deep) ..."""
 
 RIM_MIN_MODULES = 2.0
 """... and never under 2 modules, so a small wheel's rim still stands stiff under the tooth
@@ -69,18 +75,19 @@ spaces (common practice, no source)."""
 
 HUB_FRACTION = 0.2
 """The hub's radius: a fifth of the root radius, and at least the rim's depth round the bore
-(common practice, no source; from memory)."""
+(common practice, no source found; from memory)."""
 
 CROSSING_SHARE = 1 / 12
 """The crossings together take this share of the rim's inner circle, so a wheel with fewer
-crossings has stouter ones (common practice, no source; from memory: about 3.5 mm for each of
-four crossings of a 60 mm clock wheel)."""
+crossings has stouter ones (common practice, no source found; from memory: about 3.5 mm for
+each of four crossings of a 60 mm clock wheel)."""
 
 CROSSING_TAPER = 1.5
 """A crossing is this many times wider at the hub than at the rim. Clockmakers taper their
-crossings toward the rim (a crossing-out jig's pegs are turned to set the width at the hub
-and at the rim: clickspringprojects.com, "Wheel Crossing Jig"; clockmakers remark on straight
-ones: raynerd.co.uk/1781); the ratio itself is from memory, no source."""
+crossings toward the rim (a crossing-out jig's pegs are turned to the sizes that give the
+crossing its width at the hub and at the rim, and so its taper:
+clickspringprojects.com, "Wheel Crossing Jig"; two clockmakers remarked on the lack of taper
+in milled ones: raynerd.co.uk/1781); the ratio 1.5 itself is from memory, no source found."""
 
 HUB_SHARE = 0.6
 """At the hub the crossings take at most this share of its circle, leaving room for the
@@ -88,14 +95,18 @@ windows' inner ends (our rule, no source)."""
 
 CROSSING_COUNTS = ((50.0, 4), (100.0, 5), (160.0, 6), (math.inf, 8))
 """``crossings = "auto"``: (pitch diameter below, in mm; count). 4, 5, 6 and 8 are the
-traditional counts of crossed-out clock wheels (the crossing-out jig above is indexed for
-them: clickspringprojects.com, "Wheel Crossing Jig"); which count for which size is common
-practice, no source."""
+traditional counts of a clock wheel's crossings (the crossing-out jig above is indexed for them:
+clickspringprojects.com, "Wheel Crossing Jig"); which count for which size is common
+practice, no source found."""
 
 CORNER_FRACTION = 0.25
-"""The windows' corners are rounded to a quarter of the crossing's width at the rim: a sharp
-inside corner is where a crossing cracks, and no saw or cutter leaves one (common practice,
-no source; the fraction from memory)."""
+"""The windows' corners are rounded to a quarter of the crossing's width at the rim: a rotary
+cutter, a laser's kerf or a saw's blade leaves a round there anyway, and a sharp inside
+corner is where a crossing would crack (common practice, no source; the fraction from
+memory). Crossings filed out by hand are often finished with square corners at the rim (a
+clockmaker filing a wheel's crossings aims for them: Clickspring, "How To Make A Clock In The
+Home Machine Shop - Part 6 - Crossing Out The Wheels", read as reposted at ataksports.com):
+file them square on the drawn line where that is wanted."""
 
 MIN_CROSSING_MODULES = 1.0
 """A crossing narrower at the rim than a module is too frail to cut or to hold the rim true:
