@@ -382,6 +382,7 @@ def check(train: Train | Mechanism, kin: Kinematics | None = None, *, crank_rpm:
     _pivot_holes(train, kin, groups, findings)
     forms = _tooth_forms(train, findings) if modules else {}
     _positions(train, groups, modules, findings, forms)
+    _carrier_balance(train, kin, forms, findings)
     _teeth_rules(train, modules, findings, forms)
     _module_rules(train, findings)
     from .play import backlash_finding  # here: play imports this module's Finding
@@ -987,6 +988,35 @@ def _overlaps(train, groups, modules, pos, findings, tips: dict[str, float]) -> 
                     f"'{a2}') by {_mm(over)}: they foul if they run in the same plane",
                     f"put them in different planes, or move '{a2}' {_mm(over)} further from "
                     f"'{a1}'"))
+
+
+def _carrier_balance(train: Train, kin: Kinematics, forms: dict,
+                     findings: list[Finding]) -> None:
+    """A carrier's plate, as ``wheelwork cut`` draws it (a rectangle round its holes and
+    wheels), and the wheels it carries round, out of balance about its axis: a note with the
+    estimate (:func:`engine.plate.carrier_balance`, the words :func:`engine.plate.balance_text`
+    shared with the plate's note). Placed as the cut places it; a train the plate cannot be
+    placed for (said by the other checks) gets no note."""
+    if not forms or all(a.mount == FRAME for a in train.arbors.values()):
+        return
+    from .errors import WheelworkError
+    from .plate import balance_text, carrier_balance, place_plates  # plate imports this module
+
+    reach = {w: (t.tip_radius_mm if t.role != "ring" else t.root_radius_mm)
+             for w, t in forms.items()}
+    pitch = {w: t.pitch_radius_mm for w, t in forms.items()}
+    try:
+        plates = place_plates(train, kin, reach)
+    except WheelworkError:
+        return
+    for plate in plates:
+        if not plate.holes:
+            continue
+        b = carrier_balance(train, plate, {**pitch, **reach}, pitch)
+        if b is not None and b.worth_saying:
+            message, fix = balance_text(b)
+            findings.append(Finding("note", f"[arbors.{b.carrier}]",
+                                    f"{_file_name(train)}: {message}", fix))
 
 
 def _tooth_forms(train: Train, findings: list[Finding]) -> dict:

@@ -27,7 +27,15 @@ from .checks import hole_mm, hole_overlap_text, holes_overlap
 from .errors import TrainError
 from .figures import figure
 from .kinematics import Kinematics
-from .plate import Plate, place_plates, withheld_note
+from .plate import (
+    Plate,
+    balance_text,
+    carrier_balance,
+    on_plate,
+    outline,
+    place_plates,
+    withheld_note,
+)
 from .toothform import (
     PINION_CLEARANCE_M,
     WHEEL_DEDENDUM_M,
@@ -121,10 +129,6 @@ MIN_WALL_MODULES = 1.0
 
 TEXT_MM = 2.5
 GAP_MM = 4.0
-PLATE_MARGIN_MM = 6.0
-"""Plate beyond its outermost pivot holes."""
-PLATE_CLEAR_MM = 2.0
-"""Plate beyond the tips of the wheels it carries (so the plate covers the wheelwork)."""
 
 CAVEAT = ("These drawings are design estimates from ideal geometry: check the first parts "
           "against the drawing and the mating wheel before cutting a set, and follow proper "
@@ -557,17 +561,18 @@ def _label(part: Part, text: str, below: float) -> None:
 
 # --- plates -----------------------------------------------------------------------------------
 
-def _on_plate(train: Train, plate: Plate, hole) -> list[str]:
-    """The wheels turning over this plate at a hole: on arbors it mounts, or on the carrier."""
-    return [w for a in hole.arbors for w in train.arbors[a].wheels
-            if train.arbors[a].mount == plate.mount or a == plate.mount]
+CARRIER_OUTLINES = ("box", "disc")
+"""How a carrier's plate is drawn: a rectangle round its holes and wheels, or a disc centred
+on its own axis (balanced in itself as it turns). The frame's plate is always a rectangle."""
 
 
 def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
-               reach: dict[str, float] | None = None) -> Part:
+               reach: dict[str, float] | None = None, carrier_outline: str = "box") -> Part:
     """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles. Its
-    outline is a rounded rectangle covering every hole by ``PLATE_MARGIN_MM`` and the wheels
-    over it (their ``reach``, the tip radius, else the pitch radius) by ``PLATE_CLEAR_MM``."""
+    outline (:func:`engine.plate.outline`) is a rounded rectangle covering every hole by
+    ``PLATE_MARGIN_MM`` and the wheels over it (their ``reach``, the tip radius, else the pitch
+    radius) by ``PLATE_CLEAR_MM``; a carrier's, with ``carrier_outline="disc"``, a disc round
+    its axis covering the same. A carrier out of balance as it turns is said in a note."""
     pivot = train.workshop.pivot_mm
     # a hole is as wide as the widest pivot of the arbors it holds (an arbor's own pivot_mm,
     # else [workshop]'s)
@@ -577,15 +582,24 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     title = (f"plate of {what}: {len(plate.holes)} holes, pivots "
              f"{' / '.join(figure(s, 6) for s in sizes) or figure(pivot, 6)} mm")
     part = Part(stem, title, "plate")
-    boxes = [(h.x_mm, h.y_mm, PLATE_MARGIN_MM) for h in plate.holes.values()]
-    for h in plate.holes.values():
-        for w in _on_plate(train, plate, h):
-            r = (reach or {}).get(w, pitch.get(w))
-            if r is not None:
-                boxes.append((h.x_mm, h.y_mm, r + PLATE_CLEAR_MM))
-    x0, x1 = min(x - r for x, _, r in boxes), max(x + r for x, _, r in boxes)
-    y0, y1 = min(y - r for _, y, r in boxes), max(y + r for _, y, r in boxes)
-    part.polylines.append(("CUT", _rounded_rect(x0, y0, x1, y1, 3.0)))
+    over = {**pitch, **(reach or {})}
+    shape, dims = outline(train, plate, over, carrier_outline)
+    if shape == "disc":
+        rad = dims[2]
+        x0, y0, x1, y1 = -rad, -rad, rad, rad
+        part.polylines.append(("CUT", _arc(0.0, 0.0, rad, np.linspace(
+            0, 2 * np.pi, max(72, int(2 * np.pi * rad / 2)), endpoint=False))))
+
+        def fits(tx, ty, w, h):  # every corner of the name's box inside the disc
+            return all(math.hypot(cx, cy) <= rad - LABEL_INSET_MM
+                       for cx in (tx, tx + w) for cy in (ty, ty + h))
+    else:
+        x0, y0, x1, y1 = dims
+        part.polylines.append(("CUT", _rounded_rect(x0, y0, x1, y1, 3.0)))
+
+        def fits(tx, ty, w, h):
+            return (x0 + LABEL_INSET_MM <= tx and tx + w <= x1 - LABEL_INSET_MM
+                    and y0 + LABEL_INSET_MM <= ty and ty + h <= y1 - LABEL_INSET_MM)
     keyed: list[tuple[str, str]] = []  # (key, hole name) for names too long for the plate
     for h in plate.holes.values():
         part.circles.append(("CUT", h.x_mm, h.y_mm, size[h.axis] / 2))
@@ -593,17 +607,16 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
         marks = [(o.x_mm, o.y_mm) for o in plate.holes.values() if o is not h]
-        at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], h.axis, part.texts, marks,
-                            (x0, y0, x1, y1))
+        at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], h.axis, part.texts, marks, fits)
         if at is None:  # no room for the whole name on the plate: a key, named under it
             key = _key_name(len(keyed))
             keyed.append((key, h.axis))
             at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], key, part.texts, marks,
-                                (x0, y0, x1, y1)) or (h.x_mm + size[h.axis], h.y_mm)
+                                fits) or (h.x_mm + size[h.axis], h.y_mm)
             part.texts.append((*at, TEXT_MM * 0.8, key))
         else:
             part.texts.append((*at, TEXT_MM * 0.8, h.axis))
-        for w in _on_plate(train, plate, h):
+        for w in on_plate(train, plate, h):
             if w in pitch:
                 part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
     for t in plate.ties:
@@ -619,6 +632,11 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                       for t in plate.ties],
         "not_drawn": [{"axis": ax, "meshes": list(ms)} for ax, ms in plate.withheld.items()]}
     part.notes.extend(plate.notes)
+    balance = carrier_balance(train, plate, over, pitch, carrier_outline)
+    if balance is not None and balance.worth_saying:
+        message, fix = balance_text(balance)
+        part.notes.append(f"{message}: {fix}")
+    part.info["outline"] = shape
     holes = list(plate.holes.values())
     for i, a in enumerate(holes):  # the check's one rule for two holes that run into each other
         for b in holes[i + 1:]:
@@ -690,11 +708,11 @@ def _wrap_name(name: str, chars: int) -> list[str]:
 
 def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
                    marks: list[tuple[float, float]] = (),
-                   outline: tuple[float, float, float, float] | None = None
-                   ) -> tuple[float, float] | None:
+                   fits=None) -> tuple[float, float] | None:
     """Where a hole's name goes: above right of the hole, else below right, above left or
     below left, centred over or under its mark, else stepped down or up beside it — the first
-    place inside the plate's ``outline`` (x0, y0, x1, y1; by ``LABEL_INSET_MM``) and clear of
+    place on the plate (``fits(x, y, width, height)``: the name's box inside its outline, by
+    ``LABEL_INSET_MM``) and clear of
     the names already placed (two holes a millimetre apart, a pin-and-slot's, wrote their
     names over each other) and of the other holes' centre marks at ``marks`` (the table
     orrery's long name of seven tubes ran over the next hole's mark). None when there is no
@@ -704,9 +722,7 @@ def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
     c = max(pivot, 2.0)  # a centre mark's half length, as plate_part draws it
 
     def clear(tx, ty):
-        if outline is not None and not (
-                outline[0] + LABEL_INSET_MM <= tx and tx + w <= outline[2] - LABEL_INSET_MM
-                and outline[1] + LABEL_INSET_MM <= ty and ty + h <= outline[3] - LABEL_INSET_MM):
+        if fits is not None and not fits(tx, ty, w, h):
             return False
         return all(tx + w <= px or px + _text_width(pt, ph) <= tx or ty + h <= py
                    or py + ph <= ty for px, py, ph, pt in placed) and \
@@ -754,9 +770,10 @@ class CutSet:
 
 
 def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
-              wheels: Collection[str] | None = None) -> CutSet:
+              wheels: Collection[str] | None = None, carrier_outline: str = "box") -> CutSet:
     """Every wheel with a module and every plate, ready to write; with ``wheels`` (names of
-    wheels with a module), those wheels alone, named as in the whole set, and no plates."""
+    wheels with a module), those wheels alone, named as in the whole set, and no plates.
+    ``carrier_outline`` (:data:`CARRIER_OUTLINES`) shapes the carriers' plates."""
     forms = tooth_forms(train, form)
     used: set[str] = {"sheet"}
     parts = []
@@ -776,7 +793,7 @@ def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
     for p in plates:
         stem = _unique(f"plate-{slug(p.name)}", used)
         if p.holes:
-            parts.append(plate_part(train, p, pitch, stem, reach))
+            parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline))
         else:  # every hole withheld: nothing measured to drill
             what = "the frame" if p.mount == FRAME else f"carrier '{p.mount}'"
             notes.append(withheld_note(p.withheld, what))

@@ -38,6 +38,21 @@ CLEARANCE_MM = 0.5
 
 ANGLE_STEPS = 120
 
+PLATE_MARGIN_MM = 6.0
+"""Plate beyond its outermost pivot holes."""
+PLATE_CLEAR_MM = 2.0
+"""Plate beyond the tips of the wheels it carries (so the plate covers the wheelwork)."""
+
+BRASS_G_PER_MM3 = 8.47e-3
+"""Density of free-cutting brass (CZ121), 8.47 g/cm³ (azom.com, "Brass Alloys - Brass CZ121",
+article 2822; shree-extrusion.com, CZ121Pb3: specific gravity 8.47): what plates and wheels
+are commonly cut from. Read by the carrier balance estimate only."""
+
+BALANCE_NOTE_GMM = 1.0
+"""A carrier whose plate (per mm of its thickness) or wheels are out of balance by at least
+this many gram-millimetres is pointed out (our rule, no source: a gram a millimetre off the
+axis is about what a hand-finished part carries anyway)."""
+
 
 @dataclass(frozen=True)
 class Tie:
@@ -146,6 +161,116 @@ def withheld_note(withheld: dict[str, tuple[str, ...]], whole_plate: str = "") -
             f"{', '.join(meshes)}, which {'have' if many else 'has'} no module_mm and so no "
             f"centre distance; give {'those meshes' if many else 'it'} a module_mm, or place "
             f"the axes {'they join' if many else 'it joins'} with at_mm, to have them drawn")
+
+
+def on_plate(train: Train, plate: Plate, hole: Hole) -> list[str]:
+    """The wheels turning over this plate at a hole: on arbors it mounts, or on the carrier."""
+    return [w for a in hole.arbors for w in train.arbors[a].wheels
+            if train.arbors[a].mount == plate.mount or a == plate.mount]
+
+
+def outline(train: Train, plate: Plate, reach: dict[str, float], shape: str = "box"
+            ) -> tuple[str, tuple[float, ...]]:
+    """The plate's outline: ``("box", (x0, y0, x1, y1))``, a rectangle covering every hole by
+    :data:`PLATE_MARGIN_MM` and every wheel over it (``reach``, its tip radius) by
+    :data:`PLATE_CLEAR_MM`; or, with ``shape="disc"`` on a carrier, ``("disc", (0, 0, r))``, a
+    disc round the carrier's own axis covering the same (balanced in itself as it turns)."""
+    boxes = [(h.x_mm, h.y_mm, PLATE_MARGIN_MM) for h in plate.holes.values()]
+    for h in plate.holes.values():
+        for w in on_plate(train, plate, h):
+            if w in reach:
+                boxes.append((h.x_mm, h.y_mm, reach[w] + PLATE_CLEAR_MM))
+    if shape == "disc" and plate.mount != FRAME:
+        return "disc", (0.0, 0.0, max(math.hypot(x, y) + r for x, y, r in boxes))
+    return "box", (min(x - r for x, _, r in boxes), min(y - r for _, y, r in boxes),
+                   max(x + r for x, _, r in boxes), max(y + r for _, y, r in boxes))
+
+
+@dataclass(frozen=True)
+class Balance:
+    """How far a carrier's plate and the wheels it carries are out of balance about its axis,
+    as a design estimate from ideal shapes in brass (:data:`BRASS_G_PER_MM3`): the plate's
+    ``plate_gmm_per_mm`` (its outline's area times its centre's distance from the axis, per
+    mm of thickness) and the wheels' ``wheels_gmm`` (each a solid disc of its pitch circle, as
+    thick as the widest face of its meshes, at its arbor's place; crossings make them
+    lighter); ``uncounted`` the wheels without a module, whose size is unknown."""
+
+    carrier: str
+    shape: str
+    size_mm: tuple[float, float]  # the outline's width and height
+    plate_offset_mm: float
+    plate_gmm_per_mm: float
+    wheels_gmm: float
+    heavy_at_mm: float  # distance of the farthest carried wheel's axis (0: none)
+    uncounted: tuple[str, ...] = ()
+
+    @property
+    def worth_saying(self) -> bool:
+        return max(self.plate_gmm_per_mm, self.wheels_gmm) >= BALANCE_NOTE_GMM
+
+
+def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
+                    pitch: dict[str, float], shape: str = "box") -> Balance | None:
+    """The out-of-balance of a carrier's plate (as :func:`outline` draws it) and of the wheels
+    its arbors carry round; None for the frame."""
+    if plate.mount == FRAME:
+        return None
+    kind, dims = outline(train, plate, reach, shape)
+    if kind == "disc":
+        size, centre, area = (2 * dims[2], 2 * dims[2]), (0.0, 0.0), math.pi * dims[2] ** 2
+    else:
+        x0, y0, x1, y1 = dims
+        size, centre = (x1 - x0, y1 - y0), ((x0 + x1) / 2, (y0 + y1) / 2)
+        area = size[0] * size[1]
+    offset = math.hypot(*centre)
+    face: dict[str, float] = {}
+    for m in train.meshes:
+        if m.face_width_mm is not None:
+            for w in (m.driver, m.driven):
+                face[w] = max(face.get(w, 0.0), m.face_width_mm)
+    ux = uy = far = 0.0
+    uncounted = []
+    for h in plate.holes.values():
+        d = math.hypot(h.x_mm, h.y_mm)
+        if d <= EXACT_MM:
+            continue  # on the carrier's own axis: in balance
+        for a in h.arbors:
+            if train.arbors[a].mount != plate.mount:
+                continue
+            for w in train.arbors[a].wheels:
+                if w not in pitch or w not in face:
+                    uncounted.append(w)
+                    continue
+                grams = BRASS_G_PER_MM3 * math.pi * pitch[w] ** 2 * face[w]
+                ux, uy, far = ux + grams * h.x_mm, uy + grams * h.y_mm, max(far, d)
+    return Balance(plate.mount, kind, size, offset, BRASS_G_PER_MM3 * area * offset,
+                   math.hypot(ux, uy), far, tuple(uncounted))
+
+
+def balance_text(b: Balance) -> tuple[str, str]:
+    """What to say of a carrier out of balance: the message and the fix, one line each, the
+    same in ``wheelwork check`` and on the plate ``wheelwork cut`` draws."""
+    shape = (f"a {places(b.size_mm[0], 0)} mm disc" if b.shape == "disc" else
+             f"{places(b.size_mm[0], 0)} × {places(b.size_mm[1], 0)} mm")
+    parts = [f"its plate as wheelwork cut draws it ({shape}) has its centre "
+             f"{figure(b.plate_offset_mm, 3)} mm from the axis: about "
+             f"{figure(b.plate_gmm_per_mm, 3)} g·mm for each mm of brass plate"
+             if b.plate_gmm_per_mm >= BALANCE_NOTE_GMM else
+             f"its plate as wheelwork cut draws it ({shape}) is in balance about its axis"]
+    if b.wheels_gmm >= BALANCE_NOTE_GMM / 100:
+        parts.append(f"the wheels it carries round, taken as solid brass discs their face "
+                     f"wide, about {figure(b.wheels_gmm, 3)} g·mm")
+    if b.uncounted:
+        parts.append(f"{', '.join(b.uncounted)} not counted (no module)")
+    message = (f"carrier '{b.carrier}' turns out of balance (design estimate, brass "
+               f"{figure(BRASS_G_PER_MM3 * 1000, 3)} g/cm³): " + "; ".join(parts))
+    fix = ("balance it before it runs: a counterweight opposite the heavy side, of as many "
+           "grams as the g·mm above over its distance from the axis in mm"
+           + (", a round plate centred on its axis (wheelwork cut --carrier-outline disc)"
+              if b.shape != "disc" else "")
+           + ", or lighter, crossed-out wheels; weigh the parts and balance the arm on its "
+           "arbor as made")
+    return message, fix
 
 
 def _unmeasured(train: Train, kin: Kinematics, groups, mount: str, axes, ties, fixed

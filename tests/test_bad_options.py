@@ -140,6 +140,7 @@ CASES: list[tuple[list[str], str]] = [
     (["eclipses", T, "--years", "1", "--ephemeris", " "], "an empty name"),
     (["cut", T, "--out", "x", "--formats", "pdf"], "formats"),
     (["cut", T, "--out", "x", "--form", "square"], "unknown tooth form 'square'"),
+    (["cut", T, "--out", "x", "--carrier-outline", "oval"], "unknown carrier outline 'oval'"),
     (["cut", T, "--out", "x", "--wheel", "sun_w33"], "did you mean 'sun_w3'"),
     (["cut", T], "--out"),
     (["play", T, "--builds", "0"], "builds"),

@@ -917,3 +917,40 @@ def test_a_mesh_too_small_for_its_pivots_is_a_warning():
         "distance)" in w.message
     assert "more teeth or a larger module" in w.fix
     assert not said(text + "[workshop]\npivot_mm = 0.25\n", "run into one another")
+
+
+ARM = ('[crank]\narbor = "arm"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+       'set = "angles"\n[arbors.arm]\nwheels = {}\n'
+       '[arbors.sun]\nwheels = { sun = 40 }\nfixed = true\naxis_with = "arm"\n'
+       '[arbors.planet]\nwheels = { pw = 20 }\non = "arm"\nat_mm = [30, 0]\n'
+       '[[meshes]]\nwheels = ["sun", "pw"]\nmodule_mm = 1\n'
+       '[pointers.p]\nshows = "sun"\narbor = "planet"\nset_deg = 0\n')
+
+
+def test_a_carrier_out_of_balance_is_noted_as_an_estimate():
+    """An arm carrying one planet 30 mm out turns out of balance, plate and wheel on one side:
+    a note with the estimate. By hand (plane geometry, brass 8.47 g/cm³ as engine.plate takes
+    it): the 20-leaf planet, a solid disc of its 10 mm pitch radius and 3 mm face (3 modules),
+    weighs 8.47e-3 · π · 10² · 3 = 7.98 g at 30 mm: 239.5 g·mm. The plate, a rectangle from
+    6 mm behind the axis to 2 mm past the planet's tips (10.805 mm: a cycloidal pinion of 11
+    or more leaves stands 0.805 modules above its pitch circle, BS 978-2 as engine.toothform
+    draws it), 48.8 by 25.6 mm, has its centre 18.4 mm out: 8.47e-3 · A · 18.4 g·mm per mm."""
+    train = parse_train(ARM, "arm.toml")
+    (note,) = [f for f in check(train, solve(train)).findings
+               if "out of balance" in f.message]
+    assert note.level == "note" and note.item == "[arbors.arm]"
+    assert note.message.startswith("arm.toml: carrier 'arm' turns out of balance (design "
+                                   "estimate, brass 8.47 g/cm³)")
+    assert "about 239 g·mm" in note.message
+    x1 = 30 + 10.805 + 2
+    area, centre = (x1 + 6) * 2 * 12.805, (x1 - 6) / 2
+    assert f"centre {centre:.1f} mm from the axis" in note.message
+    assert f"about {round(8.47e-3 * area * centre)} g·mm for each mm" in note.message
+    assert "counterweight" in note.fix and "--carrier-outline disc" in note.fix
+    # the same arm with a second planet opposite carries its wheels in balance; its plate,
+    # then as long one side as the other, too: no note
+    twin = ARM.replace('[[meshes]]', '[arbors.twin]\nwheels = { tw = 20 }\non = "arm"\n'
+                       'at_mm = [-30, 0]\n[[meshes]]\nwheels = ["sun", "tw"]\nmodule_mm = 1\n'
+                       '[[meshes]]', 1)
+    train = parse_train(twin, "twin.toml")
+    assert not [f for f in check(train, solve(train)).findings if "out of balance" in f.message]

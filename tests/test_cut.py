@@ -977,3 +977,30 @@ def test_a_pinion_too_small_to_bore_is_cut_on_its_arbor_and_not_bored(tmp_path, 
     assert not [c for c in circles if c.dxf.layer == "CUT"]
     assert [c for c in circles if c.dxf.layer == "MARK"]
     assert "bore_mm" in parts["wheel-b1"]  # the wheel it drives is bored as before
+
+
+def test_a_carrier_plate_can_be_a_disc_round_its_axis(tmp_path, capsys):
+    # --carrier-outline disc: the planet dial's Venus carrier as a disc centred on its own
+    # axis (the rectangle ran 6 mm one side of it and 102 mm the other), covering the
+    # epicycle wheel's tips by 2 mm, its names inside; the frame stays a rectangle, and the
+    # balance note says the plate is in balance while its wheel is not
+    assert main(["cut", "planet_dial", "--out", str(tmp_path / "d"), "--carrier-outline",
+                 "disc", "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    venus = parts["plate-venus_deferent"]
+    assert venus["outline"] == "disc"
+    doc = ezdxf.readfile(tmp_path / "d" / "plate-venus_deferent.dxf")
+    (edge,) = [e for e in doc.modelspace().query("LWPOLYLINE") if e.dxf.layer == "CUT"]
+    radii = [math.hypot(x, y) for x, y, *_ in edge.get_points()]
+    train = load_train(HERE.parent / "engine" / "trains" / "planet_dial.toml")
+    tip = tooth_forms(train)["venus_epi"].tip_radius_mm
+    assert min(radii) == pytest.approx(max(radii), abs=UM)  # a circle round the axis
+    assert max(radii) == pytest.approx(61.2 + tip + 2, abs=UM)
+    (note,) = [n for n in venus["notes"] if "out of balance" in n]
+    assert "is in balance about its axis" in note and "venus_epi" not in note
+    assert "--carrier-outline" not in note
+    assert main(["cut", "planet_dial", "--out", str(tmp_path / "b"), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    assert parts["plate-venus_deferent"]["outline"] == "box"
+    (note,) = [n for n in parts["plate-venus_deferent"]["notes"] if "out of balance" in n]
+    assert "for each mm of brass plate" in note and "--carrier-outline disc" in note

@@ -17,6 +17,7 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
     from ..drawing import CutSet
 
 FORMATS = ("svg", "dxf")
+CARRIER_OUTLINES = ("box", "disc")  # engine.drawing.CARRIER_OUTLINES, without loading numpy
 LIST_WHEELS = 60  # an unknown --wheel lists at most this many of the train's wheels
 
 
@@ -29,6 +30,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         choices=TOOTH_FORMS, default=None,
                         help="tooth form for wheels that do not choose their own (default: "
                         "the file's [workshop] tooth_form, else cycloidal)")
+    parser.add_argument("--carrier-outline", type=support.one_of("carrier outline",
+                                                                   CARRIER_OUTLINES),
+                        choices=CARRIER_OUTLINES,
+                        default="box", help="a carrier's plate as a rectangle round its holes "
+                        "and wheels (box, the default) or a disc centred on its axis, balanced "
+                        "in itself as it turns (disc)")
     parser.add_argument("--formats", default="svg,dxf", type=_formats, metavar="LIST",
                         help="which files to write: svg, dxf or svg,dxf (default)")
     parser.add_argument("--wheel", action="append", default=None, metavar="NAME",
@@ -54,7 +61,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     train = load_train(args.train)
     kin = solve(train)
     only = _wheels_asked(train, args.wheel) if args.wheel else None
-    cut = cut_parts(train, kin, args.form, only)
+    cut = cut_parts(train, kin, args.form, only, args.carrier_outline)
     if not any(p.kind == "wheel" for p in cut.parts):  # a plate alone has nothing to hold
         raise WheelworkError(f"{train.source}: no mesh has a module_mm, so there is nothing to "
                              "draw; add module_mm to the [[meshes]] tables")
