@@ -612,10 +612,12 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
             key = _key_name(len(keyed))
             keyed.append((key, h.axis))
             at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], key, part.texts, marks,
-                                fits) or (h.x_mm + size[h.axis], h.y_mm)
-            part.texts.append((*at, TEXT_MM * 0.8, key))
+                                fits) or (h.x_mm + size[h.axis], h.y_mm, False)
+            part.texts.append((*at[:2], TEXT_MM * 0.8, key))
         else:
-            part.texts.append((*at, TEXT_MM * 0.8, h.axis))
+            part.texts.append((*at[:2], TEXT_MM * 0.8, h.axis))
+        if at[2]:  # stepped away from its hole: a line to say whose name it is
+            _leader(part, h.x_mm, h.y_mm, part.texts[-1])
         for w in on_plate(train, plate, h):
             if w in pitch:
                 part.circles.append(("PITCH", h.x_mm, h.y_mm, pitch[w]))
@@ -708,14 +710,15 @@ def _wrap_name(name: str, chars: int) -> list[str]:
 
 def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
                    marks: list[tuple[float, float]] = (),
-                   fits=None) -> tuple[float, float] | None:
+                   fits=None) -> tuple[float, float, bool] | None:
     """Where a hole's name goes: above right of the hole, else below right, above left or
     below left, centred over or under its mark, else stepped down or up beside it — the first
     place on the plate (``fits(x, y, width, height)``: the name's box inside its outline, by
     ``LABEL_INSET_MM``) and clear of
     the names already placed (two holes a millimetre apart, a pin-and-slot's, wrote their
     names over each other) and of the other holes' centre marks at ``marks`` (the table
-    orrery's long name of seven tubes ran over the next hole's mark). None when there is no
+    orrery's long name of seven tubes ran over the next hole's mark). The place, and whether it
+    stands away from the hole (stepped: the caller draws a leader); None when there is no
     such place (the caller names the hole by a key)."""
     h = TEXT_MM * 0.8
     w = _text_width(text, h)
@@ -729,15 +732,27 @@ def _hole_label_at(x: float, y: float, pivot: float, text: str, placed: list,
             all(tx + w <= mx - c or mx + c <= tx or ty + h <= my - c or my + c <= ty
                 for mx, my in marks)
 
-    spots = [(x + pivot, y + pivot), (x + pivot, y - pivot - h), (x - pivot - w, y + pivot),
-             (x - pivot - w, y - pivot - h)]
-    spots += [(x + pivot, y - pivot - h * (1.2 * k + 1)) for k in range(1, 40)]
-    spots += [(x - w / 2, y + c + 0.2), (x - w / 2, y - c - 0.2 - h)]
+    beside = [(x + pivot, y + pivot), (x + pivot, y - pivot - h), (x - pivot - w, y + pivot),
+              (x - pivot - w, y - pivot - h), (x - w / 2, y + c + 0.2),
+              (x - w / 2, y - c - 0.2 - h)]
+    spots = [*beside[:4], *[(x + pivot, y - pivot - h * (1.2 * k + 1)) for k in range(1, 40)],
+             *beside[4:]]
     for k in range(1, 40):
         step = h * 1.2 * k
         spots += [(x - pivot - w, y - pivot - h - step), (x + pivot, y + pivot + step),
                   (x - pivot - w, y + pivot + step)]
-    return next((s for s in spots if clear(*s)), None)
+    at = next((s for s in spots if clear(*s)), None)
+    return None if at is None else (*at, at not in beside)
+
+
+def _leader(part: Part, x: float, y: float, text) -> None:
+    """A thin line (NOTE layer) from the hole at (x, y) to the nearest point of its name, set
+    away from it (stepped past its neighbours': the tide office's pin and slot arbors, 0.985 mm
+    apart, had two names below them and nothing to say which was which)."""
+    tx, ty, h, t = text
+    w = _text_width(t, h)
+    part.lines.append(("NOTE", np.array([[x, y], [min(max(x, tx), tx + w),
+                                                  min(max(y, ty), ty + h)]])))
 
 
 LABEL_INSET_MM = 1.0
@@ -883,6 +898,14 @@ def _esc(text: str) -> str:
             .replace('"', "&quot;"))
 
 
+DXF_CAP_SHARE = 0.7
+"""A DXF text's height is that of its capitals, an SVG font size its whole em: the capitals of
+a plain sans-serif face stand about 0.7 of the em (from memory). The layout reserves each
+text's room by its em (:func:`_text_width`), so the DXF writes 0.7 of it: written at the whole
+em, the sheet's wheel names came out about 1.4 times as wide as their room and ran into their
+neighbours'."""
+
+
 def to_dxf(part: Part) -> str:
     """A DXF document (R2010, millimetres) of ``part``, written with ezdxf."""
     import ezdxf  # only the cut command needs it
@@ -905,8 +928,9 @@ def to_dxf(part: Part) -> str:
         msp.add_lwpolyline([(float(x), float(y)) for x, y in p], dxfattribs={"layer": layer})
     for layer, x, y, r in part.circles:
         msp.add_circle((float(x), float(y)), float(r), dxfattribs={"layer": layer})
-    for x, y, h, t in part.texts:
-        msp.add_text(t, height=h, dxfattribs={"layer": "NOTE", "insert": (x, y)})
+    for x, y, h, t in part.texts:  # h is the em the layout measured: DXF takes the capitals
+        msp.add_text(t, height=DXF_CAP_SHARE * h, dxfattribs={"layer": "NOTE",
+                                                              "insert": (x, y)})
     buf = io.StringIO()
     doc.write(buf)
     return buf.getvalue()

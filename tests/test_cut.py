@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import io
 import json
 import math
 import os
@@ -1004,3 +1005,43 @@ def test_a_carrier_plate_can_be_a_disc_round_its_axis(tmp_path, capsys):
     assert parts["plate-venus_deferent"]["outline"] == "box"
     (note,) = [n for n in parts["plate-venus_deferent"]["notes"] if "out of balance" in n]
     assert "for each mm of brass plate" in note and "--carrier-outline disc" in note
+
+
+def test_dxf_text_takes_the_room_the_layout_gave_it(tmp_path):
+    # a DXF text's height is its capitals', an SVG font size its em: the layout measures an
+    # em (0.62 of it a character), so the DXF writes 0.7 of it, the capitals of a plain
+    # sans-serif face (from memory); written at the whole em, the tide office sheet's wheel
+    # names ran into their neighbours' when drawn
+    from engine.drawing import DXF_CAP_SHARE, to_dxf
+
+    train = load_train(DEMO)
+    part = next(p for p in cut_parts(train, solve(train)).parts if p.kind == "wheel")
+    doc = ezdxf.read(io.StringIO(to_dxf(part)))
+    heights = {t.dxf.text: t.dxf.height for t in doc.modelspace().query("TEXT")}
+    assert DXF_CAP_SHARE == 0.7
+    for *_, h, t in part.texts:
+        assert heights[t] == pytest.approx(0.7 * h, rel=1e-12)
+
+
+def test_a_hole_name_set_away_from_its_hole_has_a_leader():
+    # the tide office's pin and slot arbors stand 0.985 mm apart on the carrier: their names
+    # are stepped down past each other, and each gets a line (NOTE layer) from its own hole
+    # to its name, so the two can be told apart; a name beside its hole gets none
+    from engine.drawing import _text_width
+
+    train = load_train(DEMO)
+    plate = next(p for p in cut_parts(train, solve(train)).parts
+                 if p.name == "plate-perigee_carrier")
+    holes = {h["axis"]: (h["x_mm"], h["y_mm"]) for h in plate.info["holes"]}
+    leaders = [p for layer, p in plate.lines if layer == "NOTE"]
+    led = set()
+    for x, y, h, t in plate.texts:
+        if t not in holes:
+            continue
+        hx, hy = holes[t]
+        box = (x, y, x + _text_width(t, h), y + h)
+        ends = [p for p in leaders if tuple(p[0]) == (hx, hy)
+                and box[0] - UM <= p[1][0] <= box[2] + UM and box[1] - UM <= p[1][1] <= box[3] + UM]
+        if ends:
+            led.add(t)
+    assert led == {"pin_arbor", "slot_arbor"}
