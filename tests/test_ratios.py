@@ -305,3 +305,9 @@ def test_a_slipped_count_is_written_to_sensible_figures(tmp_path, capsys):
     row = next(line for line in capsys.readouterr().out.splitlines()
                if line.strip().startswith("sun "))
     assert row.split()[3:5] == ["-0.021", "+0.0008"], row
+    # years to a day off to four figures too: 128,500 y, not 128,499.5 (common practice, no
+    # source); a short one keeps its tenth
+    assert row.split()[5:] == ["128,500", "y"], row
+    from engine.commands.ratios import _years
+
+    assert _years(2.63) == "2.6 y" and _years(237.24) == "237.2 y" and _years(9870.7) == "9,871 y"

@@ -40,7 +40,7 @@ def _years(y: float | None) -> str:
         return "never"
     if y < 0.1:  # within weeks: '0.0 y' would read as at once
         return f"{support.figure(y * JULIAN_YEAR_DAYS, 3)} d"
-    return f"{y:,.1f} y"
+    return f"{support.fixed(y, 1, digits=ERROR_DIGITS)} y"  # 128,500 y, not 128,499.5 y
 
 
 def _nearer_than_the_era(rows) -> list:
