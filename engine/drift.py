@@ -90,14 +90,14 @@ from .kinds import (
     KINDS,
     MOON_SWINGS,
     days_rate,
-    great_inequality,
     nutation_lon_deg,
     sky_at,
+    slow_swing_name,
     true_value,
 )
 from .kinematics import pin_slot_lead_turns
 from .mechanism import need_mechanism, need_sky
-from .periods import GREAT_INEQUALITY_DEG, JULIAN_CENTURY_DAYS, PERIODS, SECONDS_PER_DAY
+from .periods import JULIAN_CENTURY_DAYS, PERIODS, SECONDS_PER_DAY, SLOW_SWINGS
 
 if TYPE_CHECKING:
     from .sky import Site
@@ -107,14 +107,26 @@ MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, 
 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
 # together with the drift line so that a short span's partial swing is not mistaken for drift.
-# MINOR_TERMS are those whose amplitude is known: when the span is too short to fit them they
-# do not make a drift "uncertain", their largest possible tilt of the line is added to the
-# slope's standard error instead (the great inequality of Jupiter and Saturn, some 900 years:
-# Jupiter's 0.33° tilts a line by up to 0.23° a century, Saturn's 0.83° by up to 0.59°).
+# MINOR_TERMS are those whose amplitude is known (the slow mutual swings of planets,
+# engine.periods.SLOW_SWINGS: Jupiter's and Saturn's great inequality, 883 years). When the span is too short to fit one it does not
+# make a drift "uncertain": its largest possible tilt of the line is added to the slope's
+# standard error instead (Jupiter's 0.33° tilts a line by up to 0.23° a century, Saturn's
+# 0.83° by up to 0.59°).
+# Over fewer than TERM_SURE_CYCLES of its periods such a term is fitted on trial: a fitted
+# amplitude more than TERM_AMPLITUDE_SLACK times its known one, or less than its inverse,
+# means its column took up something else near its period (or the term was lost in it), and
+# the term is left out as over a shorter span; a plausible one stays, and the ± takes in the
+# largest tilt a swing the size of its amplitude's spread (MINOR_SPREAD) can give the line.
 # The nutation (an equinox dial's longitudes) is not fitted but taken off by its formula.
 MINOR_TERMS: dict[str, float] = {
-    great_inequality(key)[0]: amp for key, amp in GREAT_INEQUALITY_DEG.items()}
+    slow_swing_name(row, key): amp for row in SLOW_SWINGS
+    for key, amp in row.amplitude_deg.items()}
+MINOR_SPREAD: dict[str, float] = {
+    slow_swing_name(row, key): spread for row in SLOW_SWINGS
+    for key, spread in row.spread_deg.items()}
 TERM_MIN_CYCLES = 1.0  # a term is fitted once the span holds this many of its periods
+TERM_SURE_CYCLES = 3.0  # below this many, a term of known amplitude is fitted on trial
+TERM_AMPLITUDE_SLACK = 2.0  # a trial fit this many times its known amplitude (or 1/this) fails
 
 
 def sky_terms(shows: str, frame: str = "equinox") -> tuple[tuple[str, float], ...]:
@@ -337,7 +349,11 @@ class PointerSummary:
     ``drift_uncertain``: the span is too short for the drift to mean much — shorter than two
     periods of the strongest swing, or a known sky inequality (``drift_terms_left_out``) has a
     period longer than the span, so it could not be separated from the drift. ``drift_terms``
-    names the sky inequalities fitted together with the line.
+    names the sky inequalities fitted together with the line. ``drift_terms_set_aside``:
+    those of known amplitude whose fit over too few of their periods was refused (its size
+    implausible), left out with their largest tilt in the ±; ``drift_terms_on_trial``: those
+    of known amplitude fitted over too few of their periods to be sure, the uncertainty of
+    their size in the ± (see :func:`fit_drift`).
     ``first_crossing_jd``: first date |error| reaches ``threshold_deg`` (``None``: never, or no
     threshold). ``best_offset_deg``: the constant error that re-setting should take out (turn
     the pointer back by it); ``rms_after_reset_deg`` is what remains. ``max_abs_days``,
@@ -373,6 +389,8 @@ class PointerSummary:
     drift_uncertain: bool = False
     drift_terms: tuple[str, ...] = ()
     drift_terms_left_out: tuple[str, ...] = ()
+    drift_terms_set_aside: tuple[str, ...] = ()
+    drift_terms_on_trial: tuple[str, ...] = ()
     step_note: str | None = None
     delta_t_effect_deg: float = 0.0
     within_delta_t: bool = False
@@ -581,6 +599,7 @@ class _Running:
             first_crossing_jd=self.crossing, threshold_deg=thr, best_offset_deg=offset,
             rms_after_reset_deg=rms_after, drift_sigma_deg_per_century=sigma,
             drift_uncertain=uncertain, drift_terms=fit.used, drift_terms_left_out=fit.left_out,
+            drift_terms_set_aside=fit.set_aside, drift_terms_on_trial=fit.on_trial,
             step_note=step_note, **extra)
 
 
@@ -611,13 +630,15 @@ def whole_months_off(readout, name: str, frame: str, jd: np.ndarray,
 
 def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | None = None,
               name: str = "series", shows: str = "series",
-              terms: tuple[tuple[str, float], ...] | None = None) -> PointerSummary:
+              terms: tuple[tuple[str, float], ...] | None = None,
+              frame: str = "equinox") -> PointerSummary:
     """The summary figures of any error series on a uniform grid (degrees; ``np.unwrap``).
 
     The same arithmetic as :func:`drift_series` applies to each pointer, for series made
     elsewhere (and for tests on synthetic series). ``terms``: ``(name, period_days)`` pairs
     fitted with the drift line; default :func:`sky_terms` of ``shows`` on an equinox dial
-    (none for a plain series)."""
+    (none for a plain series); ``frame``: the dial's (on an equinox dial the nutation is
+    taken off a longitude before the fit, as a run does)."""
     jd = np.asarray(jd, dtype=float)
     err = wrap_deg(np.asarray(error_deg, dtype=float))
     if jd.ndim != 1 or jd.shape != err.shape or len(jd) < 2:
@@ -626,7 +647,7 @@ def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | N
     step = float(jd[1] - jd[0])
     run = _Running(len(jd), float(jd[0]), step, 0.0, threshold_deg)
     run.add(0, np.arange(len(jd), dtype=float), err, unwrap_deg(err))
-    return run.summary(name, shows, terms)
+    return run.summary(name, shows, terms, frame=frame)
 
 
 def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | None = None,
@@ -636,10 +657,15 @@ def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | No
     ``TERM_MIN_CYCLES`` of its periods, and a left-out one of ``MINOR_TERMS`` widens the
     slope's standard error by its largest possible tilt; any other left out for being longer
     than the span widens it by the largest tilt a swing of the size fitted to it can give.
+    A term of ``MINOR_TERMS`` over fewer than ``TERM_SURE_CYCLES`` of its periods is fitted
+    on trial (see the comment on ``MINOR_TERMS``): refused when its fitted amplitude is
+    implausible, else kept with its amplitude's spread (``MINOR_SPREAD``) in the ±.
     ``known``: a part of the series known in advance (a function of the grid index; the
     nutation), taken off before the fit."""
     return fit_line_and_sinusoids(resid, step_days, terms, cache=cache, all_terms=all_terms,
-                                  min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS, known=known)
+                                  min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS, known=known,
+                                  sure_cycles=TERM_SURE_CYCLES, slack=TERM_AMPLITUDE_SLACK,
+                                  spread=MINOR_SPREAD)
 
 
 # --- the run -------------------------------------------------------------------------------

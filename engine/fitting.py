@@ -113,7 +113,9 @@ class LineFit:
     """The joint least-squares fit of :func:`fit_line_and_sinusoids`. ``line = (a, b)``: the fitted line
     ``a + b k`` in the grid index k; ``slope_per_step`` is ``b``, ``sigma_per_step`` its
     standard error; ``used`` / ``left_out`` name the periodic terms fitted and those whose
-    period is longer than the span allows."""
+    period is longer than the span allows, or whose trial fit failed: those are also in
+    ``set_aside``; ``on_trial`` names the terms of known amplitude fitted over too few of
+    their periods to be sure, whose amplitude's spread the standard error takes in."""
 
     line: tuple[float, float]
     slope_per_step: float
@@ -121,6 +123,8 @@ class LineFit:
     used: tuple[str, ...]
     left_out: tuple[str, ...]
     binned: _Binned
+    set_aside: tuple[str, ...] = ()
+    on_trial: tuple[str, ...] = ()
 
 
 def _phasor(c: np.ndarray, w: float, block: int = 1024) -> np.ndarray:
@@ -302,7 +306,9 @@ def _design(b: _Binned, ws: tuple[float, ...], all_ws: tuple[float, ...], cache:
 def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
                            cache: dict | None = None, all_terms=(), min_cycles: float = 1.0,
                            minor: dict[str, float] | None = None,
-                           known=None) -> LineFit:
+                           known=None, sure_cycles: float = 1.0, slack: float = 2.0,
+                           spread: dict[str, float] | None = None,
+                           _set_aside: tuple[tuple[str, float], ...] = ()) -> LineFit:
     """Straight line plus sinusoids at known periods, fitted jointly by least squares to a
     series on a uniform grid (``terms``: ``(name, period_days)`` pairs).
 
@@ -329,6 +335,16 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
     slow term fitted freely over a cycle or two takes up whatever else the series holds near
     its period, where its known shape cannot. It must vary slowly over a bin (the bins'
     centres stand for their means); the returned ``binned`` is without it.
+
+    A term of ``minor`` fitted over fewer than ``sure_cycles`` of its periods is on trial: a
+    line and a sinusoid over a cycle or two share much of their shape, so the sinusoid's
+    column takes up whatever else the series holds near its period and can tilt the line
+    far more than the term itself could. When its fitted amplitude is more than ``slack``
+    times the known one, or less than the known one over ``slack``, the fit is refused and
+    made again without the term, which then counts as a left-out minor term (its largest
+    tilt added; named in ``set_aside``); else it stays, and the largest tilt a swing the size
+    of its amplitude's uncertainty (``spread``, by name; none when not given) can give the
+    line is added to the standard error (named in ``on_trial``).
     """
     b = _binned(resid)
     if known is not None:
@@ -371,13 +387,30 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
         coef[idx] = g_inv @ np.einsum("ik,k->i", x, b.y)[idx]  # small: terms × terms
         res = b.y - np.einsum("ik,i->k", x, coef)
         coef = coef[idx]
+    minor = minor or {}
+    trial = [(j, name, period) for j, (name, period) in
+             enumerate((n, p) for n, p in terms if n in used)
+             if name in minor and span < sure_cycles * period]
+    refused = []
+    for j, name, period in trial:
+        w = 2 * np.pi * step_days / period
+        gain = 1.0 if b.m == 1 else abs(math.sin(b.m * w / 2) / (b.m * math.sin(w / 2)))
+        amp = math.hypot(coef[2 + 2 * j], coef[3 + 2 * j]) / gain
+        if not minor[name] / slack <= amp <= minor[name] * slack:
+            refused.append((name, period))
+    if refused:  # made again without them: they count as left-out minor terms
+        return fit_line_and_sinusoids(
+            resid, step_days, tuple((n, p) for n, p in terms
+                                    if n not in {name for name, _ in refused}),
+            cache=cache, all_terms=all_terms, min_cycles=min_cycles, minor=minor, known=known,
+            sure_cycles=sure_cycles, slack=slack, spread=spread,
+            _set_aside=(*_set_aside, *refused))
     rss = sum_sq(res)
     changes = int(np.count_nonzero(np.signbit(res[1:]) != np.signbit(res[:-1])))
     dof = max(min(changes + 1, nd) - ncol, 1)
     var_u = float(g_inv[1, 1])
     slope = float(coef[1]) / half
     sigma = math.sqrt(rss * var_u / dof) / half
-    minor = minor or {}
     for name, period in terms:
         if name in left and name in minor:
             sigma = math.hypot(sigma, minor[name] * worst_tilt(len(resid), step_days, period))
@@ -387,8 +420,16 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
             # and the most a swing of that size can tilt a line over the span
             amp = _unresolved_amplitude(b, res, tuple(ws), 2 * np.pi * step_days / period)
             sigma = math.hypot(sigma, amp * worst_tilt(len(resid), step_days, period))
+    spread = spread or {}
+    for j, name, _ in trial:  # fitted on trial and kept: its size's uncertainty
+        if spread.get(name):
+            sigma = math.hypot(sigma, spread[name] * _trial_tilt(b, tuple(ws), j) / half)
+    for name, period in _set_aside:  # refused on trial: as a left-out minor term
+        sigma = math.hypot(sigma, minor[name] * worst_tilt(len(resid), step_days, period))
+    aside = tuple(name for name, _ in _set_aside)
     a = float(coef[0]) - slope * mid
-    return LineFit((a, slope), slope, sigma, tuple(used), tuple(left), b)
+    return LineFit((a, slope), slope, sigma, tuple(used), (*left, *aside), b, aside,
+                   tuple(name for _, name, _ in trial))
 
 
 def _unresolved_amplitude(b: _Binned, res: np.ndarray, ws: tuple[float, ...],
@@ -417,6 +458,26 @@ def _unresolved_amplitude(b: _Binned, res: np.ndarray, ws: tuple[float, ...],
         return math.inf
     coef = np.linalg.solve(gs, np.einsum("ik,k->i", x, res) / scale) / scale  # small
     return float(math.hypot(coef[-2], coef[-1]))
+
+
+def _trial_tilt(b: _Binned, ws: tuple[float, ...], j: int) -> float:
+    """Largest slope (per unit of the centred, scaled index u) the joint fit of the line and
+    the sinusoids ``ws`` gives a swing at the frequency ``ws[j]`` whose amplitude changes
+    by one unit from the span's middle to either end (``u cos``, ``u sin``, the worse phase):
+    what a term fitted over a cycle or two passes on to the line when its size is not the
+    same all through the span. The design written out (a few columns, on the bins)."""
+    mid, half = (b.c[0] + b.c[-1]) / 2.0, max((b.c[-1] - b.c[0]) / 2.0, 1.0)
+    u = (b.c - mid) / half
+    cols = [np.ones_like(u), u]
+    for v in ws:
+        z = _phasor(b.c, v)
+        cols += [z.real, z.imag]
+    x = np.array(cols)
+    g = np.einsum("ik,jk->ij", x, x)  # small: terms × terms
+    z = _phasor(b.c, ws[j])
+    tilt = [np.linalg.solve(g, np.einsum("ik,k->i", x, u * part))[1]  # small
+            for part in (z.real, z.imag)]
+    return float(math.hypot(*tilt))
 
 
 def worst_tilt(n: int, step_days: float, period_days: float) -> float:

@@ -40,14 +40,14 @@ from .angles import mod
 from .errors import TrainError, UnknownName
 from .figures import figure
 from .periods import (
-    GREAT_INEQUALITY_DAYS,
-    GREAT_INEQUALITY_DEG,
     J2000_JD,
     JULIAN_CENTURY_DAYS,
     PERIODS,
     PLANETS,
     PRECESSION_POLY_DEG,
+    SLOW_SWINGS,
     MeanPeriod,
+    SlowSwing,
 )
 
 # --- dial frames ---------------------------------------------------------------------------
@@ -230,22 +230,33 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
 SEEN_FROM = ("earth", "sun")  # where a planet pointer is seen from; the first is the default
 
 
+def slow_swing_name(row: SlowSwing, key: str) -> str:
+    """The words naming ``row`` in the longitude of the planet ``key`` (one of its two):
+    ``the great inequality with Saturn (883 years)``."""
+    other = PLANETS[row.planets[1] if key == row.planets[0] else row.planets[0]].name
+    return f"{row.name} with {other} ({figure(row.period_days / 365.25, 3)} years)"
+
+
+def slow_swings(key: str) -> tuple[tuple[str, float], ...]:
+    """The slow mutual swings (:data:`engine.periods.SLOW_SWINGS`) in the longitude of the
+    planet ``key``, as ``(name, period_days)``: Jupiter's and Saturn's great inequality;
+    none for another planet."""
+    return tuple((slow_swing_name(row, key), row.period_days)
+                 for row in SLOW_SWINGS if key in row.planets)
+
+
 def great_inequality(key: str) -> tuple[str, float] | None:
     """The great inequality's swing ``(name, period_days)`` in the longitude of ``key``
     (Jupiter and Saturn; ``None`` for another planet): see ``engine.periods``."""
-    if key not in GREAT_INEQUALITY_DEG:
-        return None
-    other = "Saturn" if key == "jupiter" else "Jupiter"
-    return (f"the great inequality with {other} ({figure(GREAT_INEQUALITY_DAYS / 365.25, 3)}"
-            " years)", GREAT_INEQUALITY_DAYS)
+    row = SLOW_SWINGS[0]
+    return (slow_swing_name(row, key), row.period_days) if key in row.planets else None
 
 
 def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
     sid, syn = PERIODS[f"{key}_sidereal"].days, PERIODS[f"{key}_synodic"].days
     own = ((f"{name}'s equation of centre (its year)", sid),
            (f"{name}'s equation of centre, second harmonic", sid / 2))
-    if great_inequality(key) is not None:  # Jupiter's and Saturn's, some 900 years
-        own = (*own, great_inequality(key))
+    own = (*own, *slow_swings(key))  # Jupiter's and Saturn's 883 years
     geo_period = ({"equinox": "tropical_year", "stars": "sidereal_year"} if inner else
                   {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"})
     return (

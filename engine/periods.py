@@ -112,6 +112,31 @@ GREAT_INEQUALITY_SRC = ("JPL, Keplerian elements for approximate positions of th
 
 
 @dataclass(frozen=True)
+class SlowSwing:
+    """A slow swing two planets put into each other's longitude (mean motions near a ratio of
+    small whole numbers): its name, its period, its amplitude in each planet's heliocentric
+    longitude (degrees) and how far that amplitude is known (``spread_deg``: half the range
+    of amplitudes fitted over different stretches of the long ephemeris)."""
+
+    name: str
+    planets: tuple[str, str]
+    period_days: float
+    amplitude_deg: dict[str, float]
+    spread_deg: dict[str, float]
+    source: str
+
+
+#: the slow mutual swings of planets, one row each (read by engine.kinds and engine.drift)
+SLOW_SWINGS: tuple[SlowSwing, ...] = (
+    # the great inequality's amplitude over different millennia of DE406: Jupiter 0.28-0.35°,
+    # Saturn 0.69-0.86° (measured, tests/test_planets.py)
+    SlowSwing("the great inequality", ("jupiter", "saturn"), GREAT_INEQUALITY_DAYS,
+              GREAT_INEQUALITY_DEG, {"jupiter": 0.035, "saturn": 0.085},
+              GREAT_INEQUALITY_SRC),
+)
+
+
+@dataclass(frozen=True)
 class MeanPeriod:
     """A mean astronomical period: its name, its rate and where the rate comes from."""
 

@@ -234,3 +234,50 @@ def test_a_known_part_is_taken_off_not_fitted():
     # left in, the 17" tilts a line over 20 years by a good part of what it can
     plain = fit_line_and_sinusoids(y, step, (("year", 4_332.6),))
     assert abs(plain.slope_per_step - 1e-5) > 100 * abs(fit.slope_per_step - 1e-5)
+
+
+def test_a_known_term_near_the_span_is_fitted_on_trial():
+    """A term of known amplitude (0.005°, period 6,800 days) fitted over 1.07 of its periods
+    beside an unfitted neighbour ten times its size (0.05°, 7,270 days), no drift: fitted
+    freely its column takes up the neighbour (an amplitude some ten times its own) and tilts
+    the line well outside its standard error; on trial that fit is refused, the term is left
+    out with its largest tilt in the error, and the line reads no drift within two standard
+    errors (common practice, no source; the case of an orrery's Jupiter arm over 20 years
+    beside the nutation, tests/test_planets.py)."""
+    step = 1.0
+    k = np.arange(7_306, dtype=float)
+    minor = {"known": 0.005}
+    worst = 0.0
+    for phase in np.linspace(0.0, 2 * np.pi, 8, endpoint=False):
+        y = (0.005 * np.sin(2 * np.pi * k / 6_800 + 0.4)
+             + 0.05 * np.sin(2 * np.pi * k / 7_270 + phase))
+        free = fit_line_and_sinusoids(y, step, (("known", 6_800.0),), minor=minor)
+        worst = max(worst, abs(free.slope_per_step) / free.sigma_per_step)
+        fit = fit_line_and_sinusoids(y, step, (("known", 6_800.0),), minor=minor,
+                                     sure_cycles=3.0, slack=2.0)
+        assert fit.set_aside == ("known",) and fit.left_out == ("known",)
+        assert fit.used == () and fit.on_trial == ()
+        assert abs(fit.slope_per_step) <= 2 * fit.sigma_per_step
+    assert worst > 3  # the free fit claimed a drift that is not there
+
+
+def test_a_plausible_trial_fit_stays_with_its_spread_in_the_error():
+    """The same term alone, its amplitude growing by 0.001° from the span's middle to its end
+    (a term whose size is not the same all through the span), fitted over 1.5 of its
+    periods: on trial its amplitude is plausible, so it stays fitted, and the error takes in
+    what a swing of the given spread (0.001°) can pass on to the line, so the no-drift line
+    lies within it (common practice, no source)."""
+    step = 1.0
+    k = np.arange(10_200, dtype=float)
+    u = (k - k.mean()) / (k[-1] - k.mean())
+    worst = 0.0
+    for phase in np.linspace(0.0, 2 * np.pi, 8, endpoint=False):
+        y = (0.005 + 0.001 * u) * np.sin(2 * np.pi * k / 6_800 + phase)
+        fit = fit_line_and_sinusoids(y, step, (("known", 6_800.0),), minor={"known": 0.005},
+                                     sure_cycles=3.0, slack=2.0, spread={"known": 0.001})
+        assert fit.used == ("known",) and fit.on_trial == ("known",) and fit.set_aside == ()
+        assert abs(fit.slope_per_step) <= fit.sigma_per_step
+        bare = fit_line_and_sinusoids(y, step, (("known", 6_800.0),))
+        assert bare.slope_per_step == fit.slope_per_step  # the same line, a wider error
+        worst = max(worst, abs(bare.slope_per_step) / bare.sigma_per_step)
+    assert worst > 2  # the residual alone said less than the slope read

@@ -330,14 +330,24 @@ def _uncertain_why(s) -> str:
 
 
 def _within_sigma(s) -> str:
-    """The known swings longer than the span whose largest tilt of the line the drift's ±
-    takes in (the great inequality of Jupiter and Saturn), in words; empty when none."""
-    from ..drift import MINOR_TERMS
+    """The known swings whose part in the drift's ± is more than its residual's, in words:
+    those longer than the span (the most each can tilt the line), those whose fit over too
+    few of their periods was refused, and those fitted on trial (their size's uncertainty);
+    empty when none."""
+    from ..drift import MINOR_TERMS, TERM_SURE_CYCLES
 
-    left = [t for t in s.drift_terms_left_out if t in MINOR_TERMS]
-    if not left or not math.isfinite(s.drift_sigma_deg_per_century):
+    if not math.isfinite(s.drift_sigma_deg_per_century):
         return ""
-    return "; ".join(left) + ": longer than the span, the most it can tilt the line"
+    aside = set(s.drift_terms_set_aside)
+    sure = support.figure(TERM_SURE_CYCLES)
+    parts = [f"{t}: longer than the span, the most it can tilt the line"
+             for t in s.drift_terms_left_out if t in MINOR_TERMS and t not in aside]
+    parts += [f"{t}: fitted over under {sure} of its periods it came out far from its known "
+              "size, so it is left out and the ± holds the most it can tilt the line"
+              for t in s.drift_terms_set_aside]
+    parts += [f"{t}: fitted over under {sure} of its periods, the ± holds what the "
+              "uncertainty of its size can tilt the line" for t in s.drift_terms_on_trial]
+    return "; ".join(parts)
 
 
 def _months(k: int) -> str:
