@@ -108,10 +108,11 @@ MAX_DATES = 50_000_000  # beyond this the kept series alone pass ~2 GB: refuse, 
 # The sky's own periodic inequalities (each kind's ``swings`` in engine.kinds) are fitted
 # together with the drift line so that a short span's partial swing is not mistaken for drift.
 # MINOR_TERMS are those whose amplitude is known (the slow mutual swings of planets,
-# engine.periods.SLOW_SWINGS: Jupiter's and Saturn's great inequality, 883 years). When the span is too short to fit one it does not
+# engine.periods.SLOW_SWINGS: Jupiter's and Saturn's great inequality, 883 years; Uranus's and
+# Neptune's near 2 : 1 swing, 4,233 years). When the span is too short to fit one it does not
 # make a drift "uncertain": its largest possible tilt of the line is added to the slope's
 # standard error instead (Jupiter's 0.33° tilts a line by up to 0.23° a century, Saturn's
-# 0.83° by up to 0.59°).
+# 0.83° by up to 0.59°, Uranus's 0.87° by up to 0.13°, Neptune's 0.59° by up to 0.09°).
 # Over fewer than TERM_SURE_CYCLES of its periods such a term is fitted on trial: a fitted
 # amplitude more than TERM_AMPLITUDE_SLACK times its known one, or less than its inverse,
 # means its column took up something else near its period (or the term was lost in it), and

@@ -239,8 +239,8 @@ def slow_swing_name(row: SlowSwing, key: str) -> str:
 
 def slow_swings(key: str) -> tuple[tuple[str, float], ...]:
     """The slow mutual swings (:data:`engine.periods.SLOW_SWINGS`) in the longitude of the
-    planet ``key``, as ``(name, period_days)``: Jupiter's and Saturn's great inequality;
-    none for another planet."""
+    planet ``key``, as ``(name, period_days)``: Jupiter's and Saturn's great inequality,
+    Uranus's and Neptune's near 2 : 1 swing; none for another planet."""
     return tuple((slow_swing_name(row, key), row.period_days)
                  for row in SLOW_SWINGS if key in row.planets)
 
@@ -256,7 +256,7 @@ def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
     sid, syn = PERIODS[f"{key}_sidereal"].days, PERIODS[f"{key}_synodic"].days
     own = ((f"{name}'s equation of centre (its year)", sid),
            (f"{name}'s equation of centre, second harmonic", sid / 2))
-    own = (*own, *slow_swings(key))  # Jupiter's and Saturn's 883 years
+    own = (*own, *slow_swings(key))  # Jupiter's and Saturn's 883 years, Uranus's and Neptune's
     geo_period = ({"equinox": "tropical_year", "stars": "sidereal_year"} if inner else
                   {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"})
     return (

@@ -109,6 +109,19 @@ GREAT_INEQUALITY_DAYS = 360.0 * JULIAN_CENTURY_DAYS / abs(
 GREAT_INEQUALITY_DEG = {"jupiter": 0.33, "saturn": 0.83}
 GREAT_INEQUALITY_SRC = ("JPL, Keplerian elements for approximate positions of the major "
                         "planets, table 2a (3000 BC-AD 3000): 2 L_J - 5 L_S")
+# Uranus and Neptune: mean motions near 2 : 1, a term with the argument L_U - 2 L_N. Measured
+# from JPL DE406 (tests/test_planets.py repeats it): each planet's heliocentric longitude on
+# the J2000 ecliptic, 2990 BC-AD 2990 at 10-day steps, fitted by least squares with a line,
+# its equation of centre (three harmonics, amplitudes changing linearly) and a sinusoid whose
+# period comes from the two fitted rates (iterated until they agree): 428.4669 and
+# 218.4857 deg/century, so 4,233 years; Uranus 0.871°, Neptune 0.594°, opposite in sign. The
+# same fit over 2990 BC-AD 1500 and 1500 BC-AD 2990 (a little over one period each) gives
+# 0.859 and 0.834°, 0.584 and 0.563°: the spread below. DE406 holds only 1.4 of its periods.
+DE406_UN_RATES = {"uranus": 428.4669, "neptune": 218.4857}
+URANUS_NEPTUNE_DAYS = 360.0 * JULIAN_CENTURY_DAYS / abs(
+    DE406_UN_RATES["uranus"] - 2 * DE406_UN_RATES["neptune"])
+URANUS_NEPTUNE_SRC = ("measured from JPL DE406, 2990 BC-AD 2990: a sinusoid in L_U - 2 L_N "
+                      "fitted with each longitude's line and equation of centre")
 
 
 @dataclass(frozen=True)
@@ -133,6 +146,9 @@ SLOW_SWINGS: tuple[SlowSwing, ...] = (
     SlowSwing("the great inequality", ("jupiter", "saturn"), GREAT_INEQUALITY_DAYS,
               GREAT_INEQUALITY_DEG, {"jupiter": 0.035, "saturn": 0.085},
               GREAT_INEQUALITY_SRC),
+    SlowSwing("the near 2 : 1 swing", ("uranus", "neptune"), URANUS_NEPTUNE_DAYS,
+              {"uranus": 0.87, "neptune": 0.59}, {"uranus": 0.02, "neptune": 0.015},
+              URANUS_NEPTUNE_SRC),
 )
 
 
