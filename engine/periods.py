@@ -276,6 +276,16 @@ def era_spread_ppm(key: str) -> float | None:
     return (long / now - 1.0) * 1e6  # periods go as 1 / rate
 
 
+def era_error_ppm(key: str, period_error_ppm: float) -> float | None:
+    """A realised period ``period_error_ppm`` off the Jupiter or Saturn period ``key`` (JPL's
+    1800-2050 mean), read against the same period made from the 3000 BC - AD 3000 mean
+    motion instead (:func:`era_spread_ppm`), in ppm; ``None`` for any other period."""
+    spread = era_spread_ppm(key)
+    if spread is None:
+        return None
+    return ((1.0 + period_error_ppm * 1e-6) * (1.0 + spread * 1e-6) - 1.0) * 1e6
+
+
 def era_spread_note(key: str) -> str:
     """For a Jupiter or Saturn period: one line saying that it is the mean of 1800-2050 and
     how far the mean motion of six millennia moves it (:func:`era_spread_ppm`); "" for any

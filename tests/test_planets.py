@@ -694,6 +694,21 @@ def test_jupiter_and_saturn_periods_say_how_far_other_eras_move_them(capsys):
     assert "note: jupiter is +0.277 ppm off" in out and "52 ppm shorter" in out
     assert "note: saturn is -0.078 ppm off" in out and "309 ppm longer" in out
     assert "note: mars" not in out
+    # where the figures are read: Jupiter's and Saturn's ppm, °/century and "1 day off"
+    # marked, the mark said under the table, and the same pointer against the long mean
+    # (+0.277 ppm on a period 52.x ppm too long: a day of its motion off in 1 / (52.x ppm of
+    # a year), about 52 years; Saturn's -0.078 and -309.4 ppm: about 8.8 years)
+    rows: dict[str, str] = {}  # the table's row: the first line naming the pointer
+    for line in out.splitlines():
+        if line.split():
+            rows.setdefault(line.split()[0], line)
+    assert rows["jupiter"].split()[-4:] == ["+0.277*", "-0.0008*", "9,870.7", "y*"]
+    assert rows["saturn"].split()[-1] == "y*" and "*" not in rows["mars"]
+    said = " ".join(out.split())
+    assert "*: against JPL's mean period of 1800-2050" in said
+    assert "52 ppm (jupiter), 309 ppm (saturn)" in said
+    assert "it is +52.18 ppm off, a day off in 52.5 y" in said
+    assert "it is -309.5 ppm off, a day off in 8.8 y" in said
     assert main(["ratios", str(ORRERY), "--json"]) == 0
     notes = json.loads(capsys.readouterr().out)["era_spread_notes"]
     assert [n["pointer"] for n in notes] == ["jupiter", "saturn"]

@@ -74,7 +74,8 @@ def check_readout(app) -> None:
         shown = f"{err if abs(err) >= 0.005 else 0.0:+.2f}"  # the table shows no "-0.00"
         # the row whose first word is the name: a pointer named "p" must not take the header
         # ("pointer train° sky° ..."), as it did when a key storm opened such a train
-        row = next(line for line in table.splitlines() if line.split()[:1] == [name])
+        row = next(line for line in table.splitlines()
+                   if [w.rstrip("*") for w in line.split()[:1]] == [name])
         assert shown in row.split()[3], name
 
 
@@ -1893,3 +1894,36 @@ def test_status_writes_delta_t_in_grouped_figures_as_the_commands_do():
     assert Status.delta_t_text(172_000.0, 1860.2) == "172,000.0 s ± 1,860 s"
     assert Status.delta_t_text(69.13, 0.00101) == "69.1 s ± 0.001 s"  # as the demo shows
     assert Status.delta_t_text(69.13, 2.04) == "69.1 s ± 2.0 s"
+
+
+@sync
+async def test_jupiter_and_saturn_drifts_say_which_mean_they_are_against():
+    """The table orrery's Jupiter and Saturn read -0.0008 and +0.0001 °/cy in the readings:
+    against JPL's 1800-2050 mean periods, which the great inequality moves by 52 and 309 ppm
+    (engine.periods.era_spread_ppm; astronomy-engine's periods, tests/test_planets.py). Their
+    names are marked and a line under the table says so, whole at 80 x 24 and 160 x 50 (in
+    its fullest form that takes one line: at 80 x 24 the panel has no room for a second);
+    the tide office, with neither, has no mark."""
+    for size in ((80, 24), (160, 50), (250, 70)):
+        app = make_app(TRAINS / "table_orrery.toml")
+        async with app.run_test(size=size) as pilot:
+            await pilot.pause()
+            readings = app.screen.query_one(Readings)
+            text = text_of(readings)
+            firsts = [line.split()[0] for line in text.splitlines() if line.split()]
+            assert "jupiter*" in firsts and "saturn*" in firsts and "mars" in firsts, text
+            note = " ".join(text[text.index("\n* ") + 1:].split())
+            assert "1800-2050 mean" in note, note
+            assert "52/309 ppm" in note or "jupiter 52 ppm, saturn 309 ppm" in note, note
+            # wrapped, never cut: the panel is as tall as the wrapped lines, and on screen
+            wide = readings.size.width
+            rows = sum(-(-max(len(line.rstrip()), 1) // wide) for line in text.splitlines())
+            await wait_for(pilot, lambda w=readings, r=rows: w.size.height == r,
+                           "the readings laid out to their wrapped lines")
+            assert readings.region.bottom <= app.screen.region.bottom
+            if size == (250, 70):
+                assert "jupiter 52 ppm, saturn 309 ppm" in note, note
+    app = make_app(TRAINS / "tide_office.toml")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        assert "*" not in text_of(app.screen.query_one(Readings))

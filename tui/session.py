@@ -32,6 +32,7 @@ from engine.exact import Turns
 from engine.figures import figure
 from engine.kinds import FRAMES, next_frame, sky_at
 from engine.mechanism import Mechanism, sky_reaching
+from engine.periods import era_spread_ppm
 from engine.ratios import pointer_ratios
 from engine.readout import Readout, mean_values
 from engine.sky import Site, Sky, SkyState
@@ -103,6 +104,10 @@ class PointerNow:
     #: a cycle dial's whole months from the real lunation count (positive: ahead), which
     #: ``error_deg`` (within the month) does not show; None for other pointers
     months_off: int | None = None
+    #: for a Jupiter or Saturn pointer, how far the mean of 3000 BC-AD 3000 moves the
+    #: 1800-2050 mean period its drift is judged against (ppm, engine.periods.era_spread_ppm:
+    #: the great inequality); None for others
+    era_spread_ppm: float | None = None
 
 
 @dataclass(frozen=True)
@@ -195,6 +200,8 @@ class Session:
     _findings: list | None = None
     #: the ratio report's mean drift (°/cy) per pointer, by frame; filled on first use
     drift_by_frame: dict[str, dict[str, float]] = field(default_factory=dict)
+    #: per pointer whose mean period other eras move (Jupiter's, Saturn's), by how much (ppm)
+    era_by_frame: dict[str, dict[str, float]] = field(default_factory=dict)
     #: largest |error| per pointer since the start or the last change of frame, observer or
     #: pointer setting (re-set or undo): what it is measured against has changed then
     worst_deg: dict[str, float] = field(default_factory=dict)
@@ -269,7 +276,15 @@ class Session:
         if frame not in self.drift_by_frame:
             rows = pointer_ratios(self.mech.train, self.mech.kin, frame=frame)
             self.drift_by_frame[frame] = {r.pointer: r.drift_deg_per_century for r in rows}
+            self.era_by_frame[frame] = {r.pointer: era_spread_ppm(r.target_key) for r in rows
+                                        if era_spread_ppm(r.target_key) is not None}
         return self.drift_by_frame[frame]
+
+    def era_spread(self, frame: str | None = None) -> dict[str, float]:
+        """Per pointer whose mean period is JPL's 1800-2050 mean of Jupiter or Saturn, how far
+        the 3000 BC-AD 3000 mean moves it (ppm, :func:`engine.periods.era_spread_ppm`)."""
+        self.drift_per_century(frame)
+        return self.era_by_frame[frame or self.frame]
 
     def adopt(self, mech: Mechanism) -> None:
         """Put a changed (or another) train on the bench, at the date shown now when it can
@@ -280,6 +295,7 @@ class Session:
         self.frame = self.frame or mech.train.dial
         self._findings = None  # found again when next shown
         self.drift_by_frame = {}
+        self.era_by_frame = {}
         self.worst_deg = {}
         self._undo.clear()
         if self.step_days is not None:
@@ -494,6 +510,7 @@ class Session:
         shows = [p.shows for p in self.mech.train.pointers.values()]  # as pointer_errors asks
         state = sky_at(self._last_sky, np.array([jd]), shows, frame=self.frame, site=self.observer)
         drift = self.drift_per_century()
+        era = self.era_spread()
         pointers = {}
         for name, e in errors.items():
             err = _one(e.error_deg)
@@ -509,7 +526,8 @@ class Session:
                 train_deg=_one(e.train_deg), sky_deg=_one(e.sky_deg),
                 error_deg=err,
                 error_days=None if days is None else _one(days),
-                worst_deg=worst, drift_deg_per_century=drift.get(name), months_off=months)
+                worst_deg=worst, drift_deg_per_century=drift.get(name), months_off=months,
+                era_spread_ppm=era.get(name))
         angles = {n: float(np.asarray(v).reshape(-1)[0])
                   for n, v in self.mech.kin.angles_turns(self.turns).items()}
         moved, self._moved = self._moved, 0.0

@@ -1068,6 +1068,12 @@ class Readings(RowStatic):
         longest = max([len(cols[0][0]), *map(len, shown)])  # the header's "pointer" too
         name_w = max(-w[0], min(-w[0] + spare, longest + gap))
         names = short_names(shown, name_w)
+        # a Jupiter or Saturn pointer's drift is against JPL's 1800-2050 mean period, which
+        # the great inequality moves: its name is marked, and a line under the table says so
+        era = {p.name: p.era_spread_ppm for p in now.pointers.values()
+               if p.era_spread_ppm is not None}
+        for n in era:
+            names[n] = names[n][:name_w - 1] + "*"
         t.append(f"{cols[0][0]:<{name_w}}", style=head)
         for title, width in cols[1:]:
             cell(title, width, head)
@@ -1097,6 +1103,16 @@ class Readings(RowStatic):
                 t.append(f"{names[p.name]}: {abs(k)} month{'s' if abs(k) != 1 else ''} "
                          f"{'ahead of' if k > 0 else 'behind'} the real count",
                          style=colours["warn"])
+        if era:  # the fullest form that takes one line of the panel (else the last, wrapped)
+            ppm = [figure(abs(v), 2) for v in era.values()]
+            forms = ("* °/cy against JPL's 1800-2050 mean period, which the great inequality "
+                     "moves: " + ", ".join(f"{n} {v} ppm" for n, v in zip(era, ppm, strict=True)),
+                     "* °/cy against 1800-2050 means; the great inequality moves "
+                     f"{'them' if len(ppm) > 1 else 'it'} {'/'.join(ppm)} ppm",
+                     f"* 1800-2050 mean; eras move it {'/'.join(ppm)} ppm")
+            t.append("\n")
+            t.append(next((f for f in forms if len(f) <= self.size.width), forms[-1]),
+                     style=colours["muted"])
         # same rows every frame: lay out again only after a resize, or when a row starts or
         # stops wrapping (a value grew wider than its column)
         if not self._laid_out and self.parent is not None and self.size.width:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import TYPE_CHECKING
 
-from ..periods import JULIAN_YEAR_DAYS, era_spread_note, era_spread_ppm
+from ..periods import JULIAN_YEAR_DAYS, era_error_ppm, era_spread_note, era_spread_ppm
 from . import support
 
 if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no numpy
@@ -100,20 +100,41 @@ def run(args: argparse.Namespace, console: Console) -> int:
     # each figure to its own significant figures, the points of a column in one line
     ppms = support.line_up([_ppm(r.period_error_ppm) for r in rows])
     drifts = support.line_up([_drift(r.drift_deg_per_century) for r in rows])
+    # a Jupiter or Saturn pointer's ppm, °/century and "1 day off" are against JPL's
+    # 1800-2050 mean, which the great inequality moves: marked, and said under the table
+    marked = {r.pointer for r in rows if era_spread_ppm(r.target_key) is not None}
+
+    def mark(text: str, r) -> str:
+        return text + ("*" if r.pointer in marked else " ") if marked else text
+
     for r, ppm, drift in zip(rows, ppms, drifts, strict=True):
         # a pointer running the wrong way has its period right and its sense wrong: say so in
         # its own row, not only in the warning at the end
         name = r.pointer + (" (runs backwards)" if r.pointer in backwards else "")
         table.add_row(name, f"{support.figure(r.period_days, 10)}", f"{support.figure(r.target_days, 10)}",
-                      ppm, drift, _years(r.years_to_one_day))
+                      mark(ppm, r), mark(drift, r), mark(_years(r.years_to_one_day), r))
     support.print_table(console, table)
+    if marked:
+        spreads = {r.pointer: era_spread_ppm(r.target_key) for r in rows if r.pointer in marked}
+        support.print_indented(
+            console, "*: against JPL's mean period of 1800-2050, which the mean motion of "
+            "3000 BC-AD 3000 moves by " + ", ".join(
+                f"{support.figure(abs(v), 2)} ppm ({n})" for n, v in spreads.items())
+            + " (the great inequality of Jupiter and Saturn): figures for the centuries round "
+            "2000; wheelwork drift measures a pointer against the sky of any span", 0,
+            markup=False)
     note = era_note(train)
     if note:
         support.print_indented(console, f"note: {note}", 0)
     for r, _spread in _nearer_than_the_era(rows):
+        other = era_error_ppm(r.target_key, r.period_error_ppm)
+        gain = abs(1.0 / (1.0 + other * 1e-6) - 1.0)
         support.print_indented(console, f"note: {r.pointer} is "
                                f"{_ppm(r.period_error_ppm)} ppm off: "
-                               f"{era_spread_note(r.target_key)}", 0, markup=False)
+                               f"{era_spread_note(r.target_key)}; against the mean of 3000 "
+                               f"BC-AD 3000 it is {_ppm(other)} ppm "
+                               f"off, a day off in {_years(1.0 / gain / JULIAN_YEAR_DAYS)}",
+                               0, markup=False)
     from ..kinds import shows_text
 
     for r in rows:
