@@ -14,7 +14,7 @@ import pytest
 
 from engine.dates import format_jd, parse_date
 from engine.drift import pointer_errors
-from tests.tui_support import sync, text_of
+from tests.tui_support import sync, text_of, wait_for
 from tui.app import make_app
 from tui.screens import (
     FOOTER_FROM_WIDTH,
@@ -37,18 +37,6 @@ ARCSEC = 1 / 3600
 
 def whole_turns(app) -> float:
     return float(app.session.turns.to_float())
-
-
-async def wait_for(pilot, done, what: str = "", wait_s: float = 60.0) -> None:
-    """Wait until ``done()`` holds, letting the app work between looks; fail saying ``what``
-    did not happen. Waiting on a state, not for a fixed time, keeps a test right on a
-    loaded machine (a long wait only when the machine is slow)."""
-    import time
-
-    end = time.monotonic() + wait_s
-    while not done():
-        assert time.monotonic() < end, f"still waiting after {wait_s:g} s: {what}"
-        await pilot.pause(0.02)
 
 
 def bench(app) -> BenchScreen:

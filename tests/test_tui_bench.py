@@ -14,7 +14,7 @@ import pytest
 
 from engine.dates import parse_date
 from engine.demos import demo_path
-from tests.tui_support import sync, text_of
+from tests.tui_support import sync, text_of, wait_for
 from tui.app import make_app
 from tui.screens import BenchScreen, StepDialog
 from tui.widgets import Status
@@ -560,12 +560,15 @@ async def test_the_status_panel_takes_its_new_height_when_the_window_grows(runni
         if running:
             await pilot.press("space")
         status = app.screen.query_one(Status)
-        assert status.size.height == 8  # the turn's days on a line of their own
+        # the turn's days on a line of their own (waited for: on a loaded machine the first
+        # layout can come before the readings' lines)
+        await wait_for(pilot, lambda: status.size.height == 8, "the folded 8-row status", 20)
         await pilot.resize_terminal(160, 50)
-        for _ in range(4):
-            await pilot.pause()
-        lines = text_of(status).rstrip("\n").splitlines()
-        assert len(lines) == 7, lines
-        assert status.size.height == len(lines), (status.size.height, lines)
+
+        def lines():
+            return text_of(status).rstrip("\n").splitlines()
+
+        await wait_for(pilot, lambda: len(lines()) == 7, "7 lines at 160 x 50", 20)
+        await wait_for(pilot, lambda: status.size.height == 7, "a 7-row panel", 20)
         if running:
             await pilot.press("space")

@@ -5,6 +5,7 @@ from __future__ import annotations
 import asyncio
 import functools
 import io
+import time
 
 from rich.console import Console
 
@@ -22,3 +23,13 @@ def text_of(widget) -> str:
     console = Console(width=300, file=io.StringIO(), record=True)
     console.print(widget.content)
     return console.export_text()
+
+
+async def wait_for(pilot, done, what: str = "", wait_s: float = 60.0) -> None:
+    """Wait until ``done()`` holds, letting the app work between looks; fail saying ``what``
+    did not happen. Waiting on a state, not for a fixed time, keeps a test right on a
+    loaded machine (a long wait only when the machine is slow)."""
+    end = time.monotonic() + wait_s
+    while not done():
+        assert time.monotonic() < end, f"still waiting after {wait_s:g} s: {what}"
+        await pilot.pause(0.02)
