@@ -56,3 +56,43 @@ def line_up(cells: list[str]) -> list[str]:
     after = [len(c) - c.index(".") - 1 if "." in c else -1 for c in cells]
     most = max(after, default=-1)
     return [c + " " * (most - a) for c, a in zip(cells, after, strict=True)]
+
+
+#: a drift column's decimals: at least hundredths of a degree a century, at most ten-thousandths
+#: (0.0001 °/cy is 0.36″ a century, past what any dial shows), none when every drift is
+#: 1,000 °/cy or more (a train that far off needs no hundredths); common practice, no source
+DRIFT_PLACES = (2, 4)
+DRIFT_WHOLE = 999.995  # rounds to 1,000.00
+
+
+def drift_places(drifts, width: int | None = None) -> int:
+    """The decimals of a column of drifts (degrees per century), one number for every row so
+    the column lines up on the point: enough for its smallest drift to show two significant
+    figures (+0.0008 beside +1.3977 said nothing as +0.00; -0.0255 reads -0.026, the same in
+    every column it is in), between :data:`DRIFT_PLACES`, none when every drift is 1,000 °/cy
+    or more (+67,988). Given the column's ``width`` (characters, sign included), fewer when a
+    figure would not fit and none then reads as zero (+462 beside -23,002); failing that a
+    figure too wide is written whole all the same: a number is never cut."""
+    ds = [d for d in drifts if d is not None and math.isfinite(d)]
+    if ds and all(abs(d) >= DRIFT_WHOLE for d in ds):
+        places = 0
+    else:
+        lo, hi = DRIFT_PLACES
+        small = min((abs(d) for d in ds if d != 0), default=None)
+        need = lo if small is None else 1 - math.floor(math.log10(small))
+        places = min(hi, max(lo, need))
+    while width and places > 0 and any(len(fixed(d, places, sign=True)) > width for d in ds):
+        fewer = places - 1
+        if any(d != 0 and abs(d) < 0.5 * 10.0 ** -fewer for d in ds):
+            break  # one would read +0.00 (or +0): wider rather than lose it
+        places = fewer
+    return places
+
+
+def drift(x: float, places: int | None = None) -> str:
+    """A drift in degrees per century with its sign, to ``places`` decimals (its column's,
+    :func:`drift_places`; alone, its own), thousands separated; a dash for one that is not a
+    number."""
+    if not math.isfinite(x):
+        return "—"
+    return fixed(x, drift_places([x]) if places is None else places, sign=True)

@@ -497,6 +497,32 @@ def test_a_word_cut_from_one_row_is_not_vouched_for_by_another():
         assert text.split().count("y") == 2, (width, text)
 
 
+def test_one_rule_writes_a_column_of_drifts():
+    """A column of drifts (°/cy) has one number of decimals, enough for its smallest drift to
+    show two significant figures, from two to four, none when every one is 1,000 or more
+    (common practice, no source: a column of figures is written to one number of decimals,
+    aligned on the point, and a small figure is not written as 0.00). The tide office's
+    phase drifts -0.0255 °/cy against the stars: the parts panel wrote -0.0255 and the
+    readings -0.03."""
+    from engine.figures import drift, drift_places
+
+    assert drift_places([0.0008, -0.0255, 1.3977]) == 4  # the Sun's 0.00077 needs them
+    assert drift_places([-0.02553, 1.3977]) == 3 and drift(-0.02553) == "-0.026"
+    assert drift_places([-0.45, 0.95]) == 2 and drift_places([5.55, 0.0]) == 2
+    assert drift_places([0.0]) == 2 and drift_places([]) == 2
+    assert drift_places([67987.93, -35644.39]) == 0 and drift_places([461.7, 1000.0]) == 2
+    assert drift(67987.93) == "+67,988" and drift(-999.996) == "-1,000"
+    assert drift(999.99) == "+999.99" and drift(0.0008) == "+0.0008"
+    assert drift(0.00049) == "+0.0005" and drift(-0.0000004) == "-0.0000"
+    assert drift(67987.93, 4) == "+67,987.9300"  # wider, never cut
+    assert drift(float("nan")) == "—"
+    # a column 7 characters wide: fewer decimals for all while none then reads as zero
+    assert drift_places([461.7022, -23002.39], 7) == 0
+    assert drift_places([461.7022, -23002.39], 10) == 2
+    assert drift_places([0.0008, -23002.39], 7) == 3  # +0.001; +0.00 would lose the Sun
+    assert drift_places([0.0001, -23002.39], 7) == 4  # +0.000 would lose it: wider instead
+
+
 def test_command_tables_carry_no_e_notation(capsys, tmp_path):
     """A crude convergent of a search (-29,787 ppm), a slow mesh's pitch-line speed (a node
     stage at 3.44e-05 m/s) once printed in e-notation beside plain figures."""

@@ -111,19 +111,18 @@ async def test_the_chart_s_trend_is_written_as_the_readings_write_a_drift():
     """The tide office's Sun trends some 0.0008°/cy over the span: "+0.00" said nothing, and
     a train far off gave +67987.93 beside the readings' +67,988 (common practice, no
     source: one way of writing a figure on every screen)."""
-    from tui.widgets import Readings
+    from engine.figures import drift, drift_places
 
     app = make_app(demo_path("tide_office"))
     async with app.run_test(size=(160, 50)) as pilot:
         screen = await open_chart(pilot, app)
         table = text_of(screen.query_one("#drift-summary"))
-        places = Readings.drift_places(sm.drift_deg_per_century
-                                       for sm in screen.result.summaries.values())
+        places = drift_places(sm.drift_deg_per_century for sm in screen.result.summaries.values())
         for name, sm in screen.result.summaries.items():
             row = next(line for line in table.splitlines() if f"━━ {name} " in line)
-            assert f" {Readings.drift_text(sm.drift_deg_per_century, places)} " in row, row
+            assert f" {drift(sm.drift_deg_per_century, places)} " in row, row
         sun = screen.result.summaries["sun"].drift_deg_per_century
-        assert abs(sun) < 0.01 and len(Readings.drift_text(sun)) == 7  # +0.0008: 4 decimals
+        assert abs(sun) < 0.01 and len(drift(sun)) == 7  # +0.0008: 4 decimals
 
 
 @sync

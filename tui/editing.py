@@ -37,7 +37,7 @@ from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.exact import fraction_text
-from engine.figures import fixed
+from engine.figures import drift, drift_places, fixed
 from engine.loader import load_train
 
 from .screens import EDIT_KEYS, ClosesOnce, Dialog, HelpScreen
@@ -113,21 +113,6 @@ def _ppm(x: float, places: int | None = None) -> str:
     return fixed(x, _ppm_places([x]) if places is None else places, sign=True)
 
 
-def _drift_places(xs) -> int:
-    """The decimals of a column of drifts per century: four when one is under 1°/cy, else
-    two, none when every one is 1,000°/cy or more; one number for the column (the tooth
-    search listed -0.0277 over -1.05)."""
-    ds = [x for x in xs if x is not None and math.isfinite(x)]
-    return max((0 if abs(x) >= 999.995 else 4 if abs(x) < 1 else 2 for x in ds), default=2)
-
-
-def _drift(x: float, places: int | None = None) -> str:
-    """A drift per century to ``places`` decimals (the column's; alone, its own)."""
-    if not math.isfinite(x):
-        return "—"
-    return fixed(x, _drift_places([x]) if places is None else places, sign=True)
-
-
 def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
                   ) -> Table | Text:
     """Per pointer: ratio, period error and drift per century, as in the file and now (a
@@ -138,7 +123,7 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
     rows = list(rows)
     both = [x for c in rows for x in (c.before, c.after) if x is not None]
     pp = _ppm_places(x.period_error_ppm for x in both)  # one number of decimals a column
-    dp = _drift_places(x.drift_deg_per_century for x in both)
+    dp = drift_places(x.drift_deg_per_century for x in both)
     if width < 90:
         out = Text()
         for c in rows:
@@ -152,8 +137,8 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
             out.append(f"{_ppm(b.period_error_ppm, pp) if b else ''} → "
                        f"{_ppm(a.period_error_ppm, pp)}", style=style)
             out.append("\n  °/cy ", style=muted)
-            out.append(f"{_drift(b.drift_deg_per_century, dp) if b else ''} → "
-                       f"{_drift(a.drift_deg_per_century, dp)}", style=style)
+            out.append(f"{drift(b.drift_deg_per_century, dp) if b else ''} → "
+                       f"{drift(a.drift_deg_per_century, dp)}", style=style)
         return out
     t = Table(box=None, padding=(0, 1), show_edge=False, expand=False)
     t.add_column("pointer", style="bold", overflow="fold")
@@ -168,8 +153,8 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
                   Text(f"{_ratio(b) if b else 'new'} → {_ratio(a)}", style=style),
                   Text(f"{_ppm(b.period_error_ppm, pp) if b else ''} → "
                        f"{_ppm(a.period_error_ppm, pp)}", style=style),
-                  Text(f"{_drift(b.drift_deg_per_century, dp) if b else ''} → "
-                       f"{_drift(a.drift_deg_per_century, dp)}", style=style))
+                  Text(f"{drift(b.drift_deg_per_century, dp) if b else ''} → "
+                       f"{drift(a.drift_deg_per_century, dp)}", style=style))
     return t
 
 
@@ -798,7 +783,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         if row is not None:
             t.append("\nnow: ", style=ui(self)["muted"])
             t.append(f"{_ppm(row.after.period_error_ppm)} ppm, "
-                     f"{_drift(row.after.drift_deg_per_century)} °/cy")
+                     f"{drift(row.after.drift_deg_per_century)} °/cy")
         if chain.also_moves:
             t.append(f"\nalso moves: {', '.join(chain.also_moves)}", style=ui(self)["accent"])
         box.update(t)
@@ -933,7 +918,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         now = {w: t for w, _, t in self.editor.wheels()}
         ratio_now = self.chain.ratio_now if self.chain is not None else None
         places = (_ppm_places(a.period_error_ppm for a in answers),
-                  _drift_places(a.drift_deg_per_century for a in answers))
+                  drift_places(a.drift_deg_per_century for a in answers))
         ol.add_options([Option(self._answer_text(a, width, now, ratio_now, places), id=str(i))
                         for i, a in enumerate(answers)])
         self._note(self._worse_note(answers, *self._bounds))
@@ -952,7 +937,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
                 "  (ratio as now)" if ratio_now is not None and a.ratio == ratio_now else "")
         return Text.assemble((a.stages_text().ljust(width), "bold"),
                              f"  {_ppm(a.period_error_ppm, places[0]):>10} ppm  "
-                             f"{_drift(a.drift_deg_per_century, places[1]):>9} °/cy  "
+                             f"{drift(a.drift_deg_per_century, places[1]):>9} °/cy  "
                              f"{a.result.total_teeth:>4} teeth",
                              (mark, "#98c379"))
 

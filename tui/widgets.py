@@ -20,7 +20,7 @@ from textual_hires_canvas import Canvas, HiResMode
 from textual_plot import NumericAxisFormatter
 
 from engine.dates import AD_1_JD, calendar_date, format_jd, turn_days_text
-from engine.figures import figure, fixed
+from engine.figures import drift, drift_places, figure, fixed
 from engine.view import (
     TrainLayout,
     arbor_at,
@@ -1004,34 +1004,6 @@ class Readings(RowStatic):
             ("drift °/cy", 11), ("err days", 9))
 
     @staticmethod
-    def drift_places(drifts, width: int | None = None) -> int:
-        """The decimals of a column of mean drifts (°/cy), one number for every row so the
-        column lines up on the point: four when one is under 0.01°/cy (+0.0008 said nothing as
-        +0.00), else two, and none when every one is 1,000°/cy or more (+67,988: a train that
-        far off needs no hundredths). Given the column's ``width``, fewer when a figure would
-        not fit it and none then reads as zero (+462 beside -23,002, which at two decimals
-        ran past an 80-column panel); failing that a figure too wide pushes its row right, and
-        a row too long wraps: none is cut."""
-        ds = [d for d in drifts if d is not None and math.isfinite(d)]
-        places = max((0 if abs(d) >= 999.995 else 2 if abs(d) >= 0.00995 or d == 0 else 4
-                      for d in ds), default=2)
-        while width and places > 0 and any(len(fixed(d, places, sign=True)) > width
-                                           for d in ds):
-            fewer = places - 2
-            if any(d != 0 and abs(d) < 0.5 * 10.0 ** -fewer for d in ds):
-                break  # one would read +0.00 (or +0): wrap rather than lose it
-            places = fewer
-        return places
-
-    @staticmethod
-    def drift_text(d: float | None, places: int | None = None) -> str:
-        """A mean drift to ``places`` decimals (the column's, :meth:`drift_places`; alone, its
-        own), thousands separated, through ``engine.figures.fixed``."""
-        if d is None:
-            return ""
-        return fixed(d, Readings.drift_places([d]) if places is None else places, sign=True)
-
-    @staticmethod
     def angle_text(deg: float, decimals: int) -> str:
         """A reading on the 0–360° dial to ``decimals``: one that rounds up to 360 reads 0
         (359.96° is 0.0, not 360.0)."""
@@ -1078,8 +1050,8 @@ class Readings(RowStatic):
         for title, width in cols[1:]:
             cell(title, width, head)
         decimals = 1 if narrow else 2
-        places = self.drift_places((p.drift_deg_per_century for p in now.pointers.values()),
-                                   w[5] - 1)  # a space before it
+        places = drift_places((p.drift_deg_per_century for p in now.pointers.values()),
+                              w[5] - 1)  # a space before it
         for p in now.pointers.values():
             t.append("\n")
             t.append(f"{names[p.name]:<{name_w}}")
@@ -1088,7 +1060,8 @@ class Readings(RowStatic):
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
             cell(fixed(err, 2, sign=True), w[3], _err_style(err, colours))
             cell(fixed(p.worst_deg, 2), w[4], _err_style(p.worst_deg, colours))
-            cell(self.drift_text(p.drift_deg_per_century, places), w[5])
+            cell("" if p.drift_deg_per_century is None
+                 else drift(p.drift_deg_per_century, places), w[5])
             if days_col:
                 days = p.error_days
                 if days is not None and abs(days) < 0.005:
