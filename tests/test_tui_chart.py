@@ -188,3 +188,29 @@ async def test_x_tick_labels_are_never_cut_at_the_chart_edges():
             drawn = x_tick_labels(screen)
             assert drawn, width
             assert set(drawn) <= set(whole), (width, drawn, whole)
+
+
+@sync
+async def test_the_lunation_board_s_table_rows_are_in_view_at_80x24():
+    """At 80 × 24 the lunation board's chart showed none of its table's rows without
+    scrolling: the scale note took two rows, the BC line one and the last header, folded, three
+    of the table's five (common practice, no source: a table shows its first rows before
+    its notes). Now the note is one row, the header one, every pointer's row is in view and
+    the BC line comes under them (the title gives each end's BC year)."""
+    import pytest
+
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    app = make_app(demo_path("lunation_board"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await open_chart(pilot, app)
+        table = screen.query_one("#drift-table")
+        note = screen.query_one("#drift-scale")
+        assert note.display and note.region.height == 1, text_of(note)
+        assert "off the chart: moon, phase" in text_of(note)
+        summary = screen.query_one("#drift-summary")
+        lines = [summary.render_line(y).text for y in range(summary.size.height)]
+        assert "first past ±1°" in lines[0]  # the header on one line
+        for name in screen.result.summaries:
+            row = next(k for k, line in enumerate(lines) if f"━━ {name} " in line)
+            assert summary.region.y + row < table.region.bottom, (name, lines)
+        assert "-0149 is 150 BC" in " ".join(lines[-1].split())

@@ -1272,14 +1272,26 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         """Say how the y scale was chosen when the band or a curve is not all there."""
         note = self.query_one("#drift-scale", Static)
         per_row = f"{figure(scale.deg_per_row, 2)}° a row"
+        # in fewer words when the full ones would take a second row from the table's
+        # (80 columns: the lunation board's note took two of its five)
+        room = (self.size.width or self.app.size.width) - 4  # padding, the table's scrollbar
+        off = ", ".join(scale.off_chart)
         if scale.fitted:
-            text = (f"y fitted to the ±{thr:g}° band ({per_row}); off the chart: "
-                    f"{', '.join(scale.off_chart)} · y: every curve")
+            text = (f"y fitted to the ±{thr:g}° band ({per_row}); off the chart: {off}"
+                    " · y: every curve")
+            if len(text) > room:
+                text = (f"y fitted to the ±{thr:g}° band ({figure(scale.deg_per_row, 2)}°/row);"
+                        f" off the chart: {off} · y: all")
         elif not scale.band:
             text = (f"±{thr:g}° band not drawn: at this scale ({per_row}) its two lines "
                     "would share a row"
                     + ("; y fits the chart to it" if other.band else
                        "; no pointer stays near it (] [ change the threshold)"))
+            if len(text) > room:
+                text = (f"±{thr:g}° band not drawn: its lines would share a row "
+                        f"({figure(scale.deg_per_row, 2)}°/row)"
+                        + ("; y fits it" if other.band else
+                           "; no pointer stays near it (] [ threshold)"))
         else:
             text = ""
         note.update(Text(text))
@@ -1318,15 +1330,22 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
                 return "not in span"
             return "at start" if jd <= first_jd else format_day(jd)
 
-        t = Table(box=None, padding=(0, 1), header_style=f"bold {c['muted']}")
-        for col in ("pointer", "max |err|°", "at", "rms°", "trend °/cy", "±",
-                    f"first past ±{thr:g}° (vertical line)"):
+        t = Table(box=None, padding=(0, 1), pad_edge=False, header_style=f"bold {c['muted']}",
+                  caption_justify="left", caption_style=c["muted"])
+        # the header on one line under 100 columns, as the narrow readings head theirs
+        # (max°): at 80 the last one folded onto three rows, and with the notes above it
+        # left no row of the table in view
+        wide = self.size.width >= 100
+        first = f"first past ±{thr:g}°" + (" (vertical line)" if wide else "")
+        for col in ("pointer", "max |err|°" if wide else "max°", "at", "rms°", "trend °/cy",
+                    "±", first):
             t.add_column(col, justify="right" if "°" in col or col == "±" else "left")
         if first_jd < AD_1_JD:  # the table's days keep their signed years, said once here,
-            # above the rows (the axis's label, which says it too, is dropped when short)
+            # under the rows, which come first on a short screen (the title gives each end's
+            # BC year, and the axis's label says it too where it has room)
             year = calendar_date(first_jd)[0]  # the chart's own first year as the example
             shown = f"-{-year:04d}" if year < 0 else f"{year:04d}"
-            t.title = f"years before AD 1 as astronomers number them: {shown} is {1 - year} BC"
+            t.caption = f"years before AD 1 as astronomers number them: {shown} is {1 - year} BC"
         # the trends as the readings write a column of drifts: one number of decimals
         places = drift_places(sm.drift_deg_per_century for sm in result.summaries.values())
         for name, sm in result.summaries.items():
