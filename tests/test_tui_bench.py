@@ -572,3 +572,34 @@ async def test_the_status_panel_takes_its_new_height_when_the_window_grows(runni
         await wait_for(pilot, lambda: status.size.height == 7, "a 7-row panel", 20)
         if running:
             await pilot.press("space")
+
+
+@sync
+async def test_a_recent_file_is_named_first_and_its_folder_wrapped_after_a_slash(tmp_path):
+    """At 80 × 24 the recent list broke a long path mid-name ("tide_of / fice.toml"): each
+    file is now its name, then its folder under it, broken after a "/" (common practice,
+    no source: a file list leads with the name), and nothing of either is cut."""
+    import shutil
+
+    from tui.editing import OpenScreen, folder_lines
+
+    deep = tmp_path / "harbour_master_clock" / "trains_of_the_year_2026" / "drafts"
+    deep.mkdir(parents=True)
+    path = deep / "tide_office.toml"
+    shutil.copy(demo_path("tide_office"), path)
+    make_app(path)  # opened once: remembered
+    app = make_app()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("ctrl+o")
+        await pilot.pause()
+        await pilot.pause()
+        assert isinstance(app.screen, OpenScreen)
+        recent = app.screen.query_one("#open-recent")
+        lines = [recent.render_line(y).text.strip(" │▁▇▃▅") for y in range(recent.size.height)]
+        at = lines.index("tide_office.toml")
+        folder = [line for line in lines[at + 1:] if line]  # the only recent file
+        assert "".join(folder) == str(deep) + "/", lines
+        # broken after a slash: each folder that fits a line is whole on one
+        assert "trains_of_the_year_2026/" in folder and folder[-1] == "drafts/", folder
+    assert folder_lines("/a/bb/ccc", 5) == ["/a/", "bb/", "ccc/"]
+    assert folder_lines("/" + "x" * 12, 5) == ["/", "xxxxx", "xxxxx", "xx/"]  # folded, not cut

@@ -9,6 +9,8 @@ module only shows what the engine answers.
 from __future__ import annotations
 
 import math
+import os
+import re
 from pathlib import Path
 
 from numpy import format_float_positional
@@ -501,6 +503,26 @@ class TrainFiles(DirectoryTree):
                 and (p.is_dir() or p.suffix == ".toml")]
 
 
+def folder_lines(folder: str, width: int) -> list[str]:
+    """A folder's path as lines of at most ``width`` characters, each broken after a "/"
+    where one falls in the line; a name longer than a line goes on over the next (never
+    cut)."""
+    sep = "/" if folder.endswith("/") or folder.endswith("\\") else os.sep
+    folder = folder if folder.endswith(("/", "\\")) else folder + sep
+    lines, line = [], ""
+    for part in re.split(r"(?<=[/\\])", folder):
+        if line and len(line) + len(part) > width:
+            lines.append(line)
+            line = ""
+        while len(line) + len(part) > width:
+            lines.append(part[:width])
+            part = part[width:]
+        line += part
+    if line:
+        lines.append(line)
+    return lines
+
+
 class OpenScreen(ClosesOnce, SizeGuard, Screen):
     """Open a train file (folders from the current one, and above it; a typed path; files
     opened or saved, kept across runs), or start a new train from a demo. A file the loader
@@ -537,15 +559,38 @@ class OpenScreen(ClosesOnce, SizeGuard, Screen):
         self.call_after_refresh(self._path_end)
         recent = self.query_one("#open-recent", OptionList)
         recent.border_title = "recent"
-        files = recent_files()
-        if files:
-            recent.add_options([Option(Text(str(p)), id=str(p)) for p in files])
-        else:
-            recent.add_option(Option(Text("none yet", style="dim"), disabled=True))
+        self._recent_files = recent_files()
+        self._fill_recent()
+        self.call_after_refresh(self._fill_recent)  # again once the list has its width
         demos = self.query_one("#open-demos", OptionList)
         demos.border_title = "new train from a demo"
         demos.add_options([Option(name, id=name) for name in demo_names()])
         self.query_one("#open-tree").focus()
+
+    def on_resize(self) -> None:
+        self.call_after_refresh(self._fill_recent)  # the folders wrapped for the new width
+
+    def _fill_recent(self) -> None:
+        """Each recent file by its name, its folder under it, wrapped after a "/" to the
+        list's width (at 80 x 24 a whole path broke mid-name, "tide_of / fice.toml")."""
+        if not self.is_attached:
+            return
+        recent = self.query_one("#open-recent", OptionList)
+        files = getattr(self, "_recent_files", [])
+        # the options' padding and room for a scrollbar
+        width = max(12, recent.scrollable_content_region.width - 4)
+        highlighted = recent.highlighted
+        recent.clear_options()
+        if not files:
+            recent.add_option(Option(Text("none yet", style="dim"), disabled=True))
+            return
+        muted = ui(self)["muted"]
+        recent.add_options([
+            Option(Text.assemble((p.name, "bold"), *(("\n  " + line, muted)
+                                 for line in folder_lines(str(p.parent), width - 2))),
+                   id=str(p)) for p in files])
+        if highlighted is not None:
+            recent.highlighted = min(highlighted, len(files) - 1)
 
     def _path_end(self) -> None:
         field = self.query_one("#open-path", Input)
