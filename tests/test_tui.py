@@ -767,6 +767,35 @@ async def test_footer_keeps_the_main_keys_in_view(size):
                 assert long_help(b) in titles, b.action
 
 
+@pytest.mark.parametrize("train, said, unsaid", [
+    ("table_orrery", ["the Sun (☉) and the Moon (☾);", "seen from the Sun: Mercury (☿)",
+                      "Saturn (♄)"], ["node", "perigee"]),
+    ("tide_office", ["the Sun (☉) and the Moon (☾);", "the mean node (☊) and the mean "
+                     "perigee (◆)"], ["Venus", "seen from the Sun"]),
+    ("planet_dial", ["the Sun (☉), the Moon (☾), Venus (♀) and Mars (♂)."], ["open marks"]),
+    ("moon_disc_59", ["nothing for the sky dial"], ["badges"]),
+])
+@sync
+async def test_help_names_the_marks_the_train_s_dial_shows(train, said, unsaid):
+    """Help said the ring's badges were "the true Sun and Moon" on every train, an orrery's
+    dial ringed with its arms' marks too (the dial draws them: tui.widgets.SkyDial.draw_moving);
+    it names what this train's dial shows, and from which ephemeris."""
+    from engine.demos import demo_path
+
+    app = make_app(demo_path(train))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("question_mark")
+        await pilot.pause()
+        assert isinstance(app.screen, HelpScreen)
+        texts = [" ".join(text_of(w).split()) for w in app.screen.query("Static")]
+        about = next(t for t in texts if "Errors are" in t).split("Errors are")[0]
+        for words in said:
+            assert words in about, (words, about)
+        for words in unsaid:
+            assert words not in about, (words, about)
+        assert app.session.sky.name in about
+
+
 @sync
 async def test_help_scrolls_to_the_end_at_80x24():
     app = make_app()

@@ -955,9 +955,12 @@ class HelpScreen(ClosesOnce, SizeGuard, ModalScreen[None]):
         with VerticalScroll(id="help"):
             yield Static(CAUTION, classes="caution")
             yield Static(t)
+            session = getattr(self.app, "session", None)
+            about = SkyDial.about_text(
+                (p.shows for p in session.mech.train.pointers.values()), session.sky.name
+            ) if session is not None else ""
             yield Static(Text.assemble(
-                "\nThe hands are the train; the badges on the ring are the true Sun and Moon "
-                "from the JPL ephemeris. Errors are train minus sky, wrapped to ±180°. "
+                f"\n{about} Errors are train minus sky, wrapped to ±180°. "
                 "worst° (max° when narrow) is the largest |err| seen since the start or the "
                 "last change of frame (t), observer (o) or pointer setting (r, R, m, u); drift °/cy "
                 "is the ratio report's mean drift in the current frame (the drift chart's trend "

@@ -410,6 +410,36 @@ class SkyDial(LayeredCanvas):
                                 f"bold {hue}"), (mark, f"bold {hue}"), f" {name}"))
         return key
 
+    @classmethod
+    def about_text(cls, kinds, sky_name: str) -> str:
+        """What the dial's hands and marks are, for help, for the train showing ``kinds``:
+        the Sun and Moon badges always, and only the planets, arms, node and perigee it has
+        (the help said "the true Sun and Moon" on an orrery ringed with planets' marks)."""
+        kinds = set(kinds)
+        if not any(cls.draws(k) for k in kinds):
+            return ("This train has nothing for the sky dial (no pointer shows an ecliptic "
+                    f"longitude); the readings compare each pointer with the sky from {sky_name}.")
+
+        def listed(items: list[str]) -> str:
+            return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+        def named(bodies: list[str]) -> list[str]:
+            return [f"{PLANET_STYLE[b][2]} ({PLANET_STYLE[b][1]})" for b in bodies]
+
+        seen = [b for b in PLANET_STYLE if any(body_of(k) == b and not is_arm(k) for k in kinds)]
+        arms = [b for b in PLANET_STYLE if any(body_of(k) == b and is_arm(k) for k in kinds)]
+        text = ("The hands are the train; the marks are the true sky from "
+                f"{sky_name}: the badges on the ring are "
+                + listed(["the Sun (☉)", "the Moon (☾)", *named(seen)]))
+        if arms:
+            text += ("; the open marks just inside it are the arms' true places seen from the "
+                     "Sun: " + listed(named(arms)))
+        elements = [f"the mean {ELEMENT_HANDS[k][4]} ({ELEMENT_HANDS[k][3]})"
+                    for k in ELEMENT_HANDS if k in kinds]
+        if elements:
+            text += "; the small marks inside it are " + listed(elements)
+        return text + "."
+
     def _xy(self, lon_deg: float, r: float) -> tuple[float, float]:
         cx, cy, _ = self._geom
         t = math.radians(90.0 + lon_deg)
