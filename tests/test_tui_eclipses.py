@@ -191,14 +191,35 @@ async def test_a_jump_to_an_eclipse_says_which_when_its_panel_is_given_up():
                 assert f"{e.sky_type} {e.kind}" in text_of(panel)
 
 
-@pytest.mark.parametrize("width, bc", [(84, True), (51, True), (42, False)])
-def test_a_bc_syzygy_gives_its_bc_year_where_the_line_has_room(width, bc):
+@pytest.mark.parametrize("width, in_line", [(84, True), (51, True), (42, False)])
+def test_a_bc_syzygy_gives_its_bc_year_at_every_width(width, in_line):
     """The lunation board's first full moon, -0149-04-05, is 150 BC (astronomers' year -149
     is 150 BC; common practice, no source): the readings and the drift chart say so, the
-    eclipses panel wrote only the signed date. At 80 columns the line already fills the
-    panel's 42 cells and stays as it was: nothing wraps, nothing is cut."""
+    eclipses panel wrote only the signed date, and at 80 columns (the panel's 42 cells) it
+    still did. There how far off it is goes in the panel's title, so the line keeps the BC
+    year: nothing wraps, nothing is cut."""
     app = make_app("engine/trains/lunation_board.toml")
-    line = EclipseInfo.text(app.session.now(), width).plain.splitlines()[0]
-    assert line.startswith("full moon -0149-04-05"), line
-    assert ("UT (150 BC) · " in line) == bc, line
+    now = app.session.now()
+    line = EclipseInfo.text(now, width).plain.splitlines()[0]
+    assert line.startswith("full moon -0149-04-05 15:11 UT (150 BC)"), line
+    assert (" · 4.6 d ago" in line) == in_line, line
+    title = EclipseInfo.title(now, width)
+    assert title == ("eclipses" if in_line else "eclipses · full moon 4.6 d ago"), title
     assert len(line) <= width, line
+
+
+@sync
+async def test_at_80x24_the_bc_year_is_in_the_panel_and_how_far_off_in_its_title():
+    """The bench at 80 × 24 on the lunation board: the eclipses panel shows 150 BC, and its
+    title how far off that full moon is; back to "eclipses" once the line has room."""
+    app = make_app("engine/trains/lunation_board.toml")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        panel = app.screen.query_one(EclipseInfo)
+        assert "(150 BC)" in text_of(panel).splitlines()[0]
+        assert str(panel.border_title) == "eclipses · full moon 4.6 d ago"
+        await pilot.resize_terminal(120, 30)
+        for _ in range(3):
+            await pilot.pause()
+        assert "(150 BC) · 4.6 d ago" in text_of(panel).splitlines()[0]
+        assert str(panel.border_title) == "eclipses"

@@ -1310,12 +1310,39 @@ class EclipseInfo(Static):
 
     def show(self, now: Now) -> None:
         self._now = now
-        self._put(self.text(now, max(self.size.width, 20)))
+        width = max(self.size.width, 20)
+        self._put(self.text(now, width))
+        self.border_title = self.title(now, width)
 
     def on_resize(self) -> None:
         self._shown = None
         if self._now is not None:
-            self._put(self.text(self._now, max(self.size.width, 20)))
+            self.show(self._now)
+
+    @staticmethod
+    def _syzygy(now: Now, width: int) -> tuple[str, str, str, bool]:
+        """The nearest syzygy's line: its word, its date and time (with the BC year before
+        AD 1), how far off, and whether that goes on the line (else in the panel's title: at
+        80 columns "full moon -0149-04-05 15:11 UT (150 BC) · 4.6 d ago" is 51 characters in
+        the panel's 42, and the panel's lines never wrap)."""
+        e = now.eclipse
+        word = "full moon" if e.kind == "lunar" else "new moon"
+        when = format_jd(e.jd_syzygy).split(" UT")[0] + " UT"
+        away = (f"in {e.days_away:.1f} d" if e.days_away > 0.05 else
+                f"{-e.days_away:.1f} d ago" if e.days_away < -0.05 else "now")
+        if e.jd_syzygy < AD_1_JD:  # its BC year, as the readings and the chart give it
+            when += f" ({1 - calendar_date(e.jd_syzygy)[0]} BC)"  # -0149-04-05 is 150 BC
+            return word, when, away, len(f"{word} {when} · {away}") <= width
+        return word, when, away, True
+
+    @classmethod
+    def title(cls, now: Now, width: int) -> str:
+        """The panel's title: "eclipses", and how far off the syzygy is when its line has no
+        room for it ("eclipses · full moon 4.6 d ago")."""
+        if now.eclipse is None:
+            return "eclipses"
+        word, _, away, on_line = cls._syzygy(now, width)
+        return "eclipses" if on_line else f"eclipses · {word} {away}"
 
     @property
     def lines(self) -> int:
@@ -1338,17 +1365,8 @@ class EclipseInfo(Static):
         e = now.eclipse
         if e is None:
             return Text("waiting: cranking too fast to follow eclipses", style="dim")
-        word = "full moon" if e.kind == "lunar" else "new moon"
-        when = format_jd(e.jd_syzygy).split(" UT")[0]
-        away = (f"in {e.days_away:.1f} d" if e.days_away > 0.05 else
-                f"{-e.days_away:.1f} d ago" if e.days_away < -0.05 else "now")
-        when += " UT"
-        if e.jd_syzygy < AD_1_JD:  # its BC year where the line has room, as the readings
-            # and the chart give it (-0149-04-05 is 150 BC); the panel's lines never wrap
-            bc = f" ({1 - calendar_date(e.jd_syzygy)[0]} BC)"
-            if len(f"{word} {when}{bc} · {away}") <= width:
-                when += bc
-        out = Text.assemble((f"{word} ", "bold"), f"{when} · {away}\n")
+        word, when, away, on_line = cls._syzygy(now, width)
+        out = Text.assemble((f"{word} ", "bold"), f"{when}{' · ' + away if on_line else ''}\n")
         if e.predicted is None:
             out.append("train: predicts no eclipses\n", style="dim")
         else:
