@@ -325,6 +325,11 @@ def relation_error_ppm(key: str) -> float:
     return (float(rel.exact_days) / mean - 1.0) * 1e6
 
 
+#: a body named where a period is asked for ('moon'): the word its periods' names share
+_BODY_WORDS = {"moon": ("Moon", "month"), "lunar": ("Moon", "month"),
+               "sun": ("Sun", "year"), "solar": ("Sun", "year"), "earth": ("Sun", "year")}
+
+
 def find_period(text: str) -> MeanPeriod:
     """Look a period up by key or name, forgiving case, spaces, hyphens and a plural ``s``.
 
@@ -367,6 +372,11 @@ def find_period(text: str) -> MeanPeriod:
         more = f" and {len(holding) - 8} more" if len(holding) > 8 else ""
         hint = (f" (the periods named with {'that word' if len(words) == 1 else 'those words'}"
                 f": {', '.join(repr(h) for h in holding[:8])}{more})")
+    elif said in _BODY_WORDS:  # 'moon', 'sun': a body, not a period; its periods' names
+        body, word = _BODY_WORDS[said]
+        theirs = [norm(p.name.split(" (")[0]) for p in PERIODS.values()
+                  if word in norm(p.name.split(" (")[0]).split()]
+        hint = f" (a body, not a period; the {body}'s: {', '.join(repr(h) for h in theirs)})"
     raise UnknownName(f"unknown period {text!r}{hint}; known periods: {known}")
 
 

@@ -411,6 +411,23 @@ def test_one_word_of_a_name_is_answered_with_the_names_holding_it(typed, names, 
         assert name in err.split("; known periods")[0], err
 
 
+@pytest.mark.parametrize("typed, body, names, not_names", [
+    ("moon", "Moon", ["'synodic month'", "'draconic month'"], ["year"]),
+    ("Sun", "Sun", ["'tropical year'", "'anomalistic year'"], ["month"]),
+])
+def test_a_body_for_a_period_is_answered_with_its_periods(typed, body, names, not_names,
+                                                          capsys):
+    """'--cycle moon' was answered with forty names on one line and no pointer: a body is
+    answered with its own periods' names, in the one line."""
+    assert main(["search", "--cycle", typed]) == 2
+    err = capsys.readouterr().err
+    assert f"unknown period '{typed}' (a body, not a period; the {body}'s: " in err
+    hint = err.split("; known periods")[0]
+    assert all(n in hint for n in names), err
+    assert not any(w in hint.split("the ")[-1] for w in not_names), err
+    assert err.count("\n") == 1
+
+
 def test_a_lunar_month_is_the_synodic_month():
     # as calendars use the words: the month of the phases (common practice, no source)
     from engine.periods import find_period
