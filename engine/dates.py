@@ -525,6 +525,11 @@ def _no_month(text, unit: str) -> None:
                          "or min (30m), a month in days or weeks (30d, 4w)")
 
 
+def step_unit(word: str) -> bool:
+    """True for a word that is a step's unit alone (``h``, ``days``, ``min``)."""
+    return word.lower() in _STEP_UNITS
+
+
 def parse_step(text: str | float) -> float:
     """Days in a step written ``6h``, ``30m`` (minutes), ``1d``, ``2.5d``, ``2w``, ``1y``
     (365.25 days) or ``90s``; a bare number is days. ``1M``, ``1mo`` or ``1 month`` is

@@ -29,6 +29,11 @@ CASES: list[tuple[list[str], str]] = [
     (["ratios", T, "--json=yes"], "--json"),
     # drift: span
     (["drift", DISC, "--years", "0"], "positive"),
+    # a unit parted from its number, and a span not given: what to write, not argparse alone
+    (["drift", DISC, "--years", "2", "--step", "6", "h"], "one word: write 6h"),
+    (["drift", DISC, "--years", "2", "--step", "1.5", "days"], "one word: write 1.5days"),
+    (["drift", DISC], "e.g. --years 50"),
+    (["eclipses", DISC], "e.g. --years 50"),
     (["drift", DISC, "--years", "-1"], "positive"),
     (["drift", DISC, "--years", "nan"], "positive"),
     (["drift", DISC, "--years", "inf"], "positive"),

@@ -63,10 +63,27 @@ class Parser(argparse.ArgumentParser):
         self._negative_number_matcher = _NEGATIVE_VALUE
 
     def error(self, message: str):
-        raise UsageError(message, self.prog)
+        raise UsageError(message + self._hint(message), self.prog)
+
+    def _hint(self, message: str) -> str:
+        """What to write instead, for two slips argparse names without saying so: a unit
+        parted from its number (``--step 6 h``) and a span not given (``--years`` or ``--to``
+        missing)."""
+        from engine.dates import step_unit
+
+        seen = getattr(self, "_seen", [])
+        if message.startswith("unrecognized arguments: "):
+            for option, before, word in zip(seen, seen[1:], seen[2:], strict=False):
+                if (option == "--step" and step_unit(word)
+                        and before.replace(".", "", 1).isdigit()):
+                    return f"; a number and its unit are one word: write {before}{word}"
+        if message.startswith("one of the arguments --to --years is required"):
+            return "; say how long a span, e.g. --years 50, or when it ends, e.g. --to 2100-01-01"
+        return ""
 
     def parse_known_args(self, args=None, namespace=None):
-        self._known_options(sys.argv[1:] if args is None else list(args))
+        self._seen = sys.argv[1:] if args is None else list(args)
+        self._known_options(self._seen)
         return super().parse_known_args(args, namespace)
 
     def _known_options(self, args: list[str]) -> None:
