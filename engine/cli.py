@@ -141,15 +141,15 @@ def _run(argv: list[str], console_factory) -> int:
 def _unknown_command(name: str, known: list[str]) -> str:
     """One line for a first word that is no command: the nearest command, or, for a train
     (a demo's name, mistyped or not, or a file), how to open it."""
-    import difflib
     from pathlib import Path
 
     from .demos import closest_demo, demo_names, demo_path
+    from .errors import nearest
 
     text = f"unknown command {name!r}"
-    near = difflib.get_close_matches(name, known, n=1, cutoff=0.75)
+    near = nearest(name, known)
     if near:
-        return f"{text}; did you mean {near[0]!r}? (commands: {', '.join(known)})"
+        return f"{text}; did you mean {near!r}? (commands: {', '.join(known)})"
     if demo_path(name) or Path(name).is_file():
         return f"{text}; to open this train: wheelwork crank {name}"
     train = closest_demo(name)

@@ -31,11 +31,9 @@ def demo_path(name: str) -> Path | None:
 def closest_demo(name: str) -> str | None:
     """The demo whose name is nearest to ``name`` (a mistyped ``tide_ofice``), or None when
     none is near."""
-    import difflib
+    from .errors import nearest
 
-    stem = name[:-5] if name.endswith(".toml") else name
-    close = difflib.get_close_matches(stem, demo_names(), n=1, cutoff=0.6)
-    return close[0] if close else None
+    return nearest(name[:-5] if name.endswith(".toml") else name, demo_names())
 
 
 def demo_hint(name: str) -> str:

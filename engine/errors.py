@@ -1,7 +1,7 @@
 """The errors wheelwork reports to a user: one line, naming the file, the item and the fault.
 
 Every exception class of the engine lives here, with the words that answer a mistyped name
-(:func:`unknown_name`). The last section holds the control-flow
+(:func:`unknown_name`, :func:`nearest`). The last section holds the control-flow
 signals: exceptions that unwind a run on purpose (a cancelled drift run, argparse finishing
 with ``--help``, a stop signal). They are not faults and are not ``WheelworkError``s, so no
 ``except WheelworkError`` meant for faults ever swallows one.
@@ -9,17 +9,28 @@ with ``--help``, a stop signal). They are not faults and are not ``WheelworkErro
 
 from __future__ import annotations
 
+SLIP = 0.75  # how alike (difflib's ratio, 0 to 1) a word must be to a known one to be offered
+
+
+def nearest(name: str | None, known, cutoff: float = SLIP) -> str | None:
+    """The one of ``known`` that ``name`` is a slip from (``year_out`` for ``year_output``),
+    else None: every did-you-mean answer of wheelwork asks here, so a slip is judged alike
+    everywhere. ``cutoff`` is stricter only where the names share a long common part that
+    would make unrelated ones look alike (see the callers)."""
+    if not name:
+        return None
+    import difflib  # only on the way to an error
+
+    near = difflib.get_close_matches(str(name), [str(k) for k in known], n=1, cutoff=cutoff)
+    return near[0] if near else None
+
 
 def did_you_mean(name: str | None, known) -> str:
     """``; did you mean 'year_out'?`` when one of ``known`` is a slip from ``name`` (long
     names such as 'moon_s3_driven' are easily mistyped), else empty: the one way a mistyped
-    name or word is answered, in train files and options alike."""
-    if not name:
-        return ""
-    import difflib  # only on the way to an error
-
-    near = difflib.get_close_matches(name, [str(k) for k in known], n=1, cutoff=0.75)
-    return f"; did you mean '{near[0]}'?" if near else ""
+    name or word is answered, in train files and options alike (:func:`nearest`)."""
+    near = nearest(name, known)
+    return f"; did you mean '{near}'?" if near else ""
 
 
 def decimal_comma(text: object) -> str:

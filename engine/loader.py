@@ -881,11 +881,8 @@ def _kind_hint(shows: object) -> str:
     if word in _KIND_WORDS:
         kind, what = _KIND_WORDS[word]
         return f"; {what} is shows = \"{kind}\""
-    import difflib  # only on the way to an error
-
     names = [k for k in KINDS if not k.endswith("_from_sun")] + ["earth"]
-    near = difflib.get_close_matches(word.replace(" ", "_"), names, n=1, cutoff=0.75)
-    return f"; did you mean '{near[0]}'?" if near else ""
+    return did_you_mean(word.replace(" ", "_"), names)
 
 
 def _still(arbors: dict[str, Arbor], arbor: str) -> bool:

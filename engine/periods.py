@@ -27,7 +27,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import TYPE_CHECKING
 
-from .errors import ArgumentError, UnknownName
+from .errors import ArgumentError, UnknownName, nearest
 from .figures import figure
 
 if TYPE_CHECKING:  # numpy is imported by the two functions using it: commands' --help
@@ -359,12 +359,10 @@ def find_period(text: str) -> MeanPeriod:
         if w.replace(" ", "_") in aliases:
             return PERIODS[aliases[w.replace(" ", "_")]]
     known = ", ".join(p.name for p in PERIODS.values())
-    import difflib  # only on the way to an error
-
     spoken = {n for p in PERIODS.values()  # every way of naming a period that is read
               for n in (norm(p.key), norm(p.name.split(" (")[0]))} | {norm(n) for n in aliases}
-    near = difflib.get_close_matches(said, sorted(spoken), n=1, cutoff=0.75)
-    hint = f" (did you mean {near[0]!r}?)" if near else ""
+    near = nearest(said, sorted(spoken))
+    hint = f" (did you mean {near!r}?)" if near else ""
     words = said.split()
     holding = [norm(p.name.split(" (")[0]) for p in PERIODS.values()
                if words and all(w in norm(p.name.split(" (")[0]).split() for w in words)]

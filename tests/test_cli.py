@@ -369,6 +369,25 @@ def test_a_train_file_name_one_slip_off_points_at_the_file(tmp_path, monkeypatch
     assert "did you mean" not in capsys.readouterr().err
 
 
+def test_two_short_train_names_are_not_a_slip_for_sharing_toml(tmp_path, monkeypatch, capsys):
+    """'b.toml' is not answered with the 'a.toml' beside it: the suffix alone makes them look
+    0.83 alike, so the train-file guess asks engine.errors.nearest for a stricter likeness."""
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "a.toml").write_text("")
+    assert main(["ratios", "b.toml"]) == 1
+    assert "did you mean" not in capsys.readouterr().err
+
+
+def test_every_did_you_mean_is_judged_in_one_place():
+    """Common practice, no source: one rule for a slip. Commands, demos, periods, wheels,
+    options and train files each kept their own likeness cutoff; now only engine/errors.py
+    asks difflib, and the others call errors.nearest or errors.did_you_mean."""
+    root = Path(__file__).resolve().parent.parent
+    users = sorted(str(p.relative_to(root)) for folder in ("engine", "tui")
+                   for p in (root / folder).rglob("*.py") if "difflib" in p.read_text())
+    assert users == ["engine/errors.py"], users
+
+
 def test_a_train_named_without_toml_points_at_its_file(tmp_path, monkeypatch, capsys):
     """Demos are named without .toml; a maker's own train given the same way gets its file's
     name back, not the list of demos."""

@@ -7,7 +7,7 @@ import os
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from ..errors import OutputError, UsageError, WheelworkError
+from ..errors import OutputError, UsageError, WheelworkError, nearest
 from ..train import TOOTH_FORMS
 from . import support
 
@@ -88,8 +88,6 @@ def run(args: argparse.Namespace, console: Console) -> int:
 def _wheels_asked(train, names: list[str]) -> list[str]:
     """The wheels ``--wheel`` names, each checked: an unknown name is a usage error listing
     the wheels there are (the nearest first); a wheel in no mesh with a module, a fault."""
-    import difflib
-
     from ..drawing import wheel_modules
 
     cut = wheel_modules(train)
@@ -97,8 +95,8 @@ def _wheels_asked(train, names: list[str]) -> list[str]:
     for name in names:
         name = name.strip()
         if name not in train.wheels:
-            near = difflib.get_close_matches(name, list(train.wheels), n=1)
-            hint = f"did you mean '{near[0]}'? " if near else ""
+            near = nearest(name, train.wheels)
+            hint = f"did you mean '{near}'? " if near else ""
             names = list(train.wheels)
             listed = ", ".join(names[:LIST_WHEELS]) + (
                 f" … ({len(names)} in all)" if len(names) > LIST_WHEELS else "")

@@ -35,7 +35,7 @@ import sys
 import threading
 from pathlib import Path
 
-from ..errors import OutputError, ParserExit, UsageError, WheelworkError, decimal_comma
+from ..errors import OutputError, ParserExit, UsageError, WheelworkError, decimal_comma, nearest
 from ..figures import figure, fixed, line_up  # noqa: F401 - the commands' ways to write a number
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
@@ -90,8 +90,6 @@ class Parser(argparse.ArgumentParser):
         """A mistyped option (``--yeras``) is named, with the nearest known one, before
         argparse can report something else in its place (a required ``--years`` missing).
         A prefix of a known option is left to argparse (it takes unique abbreviations)."""
-        import difflib
-
         known = [s for s in self._option_string_actions if s.startswith("--")]
         for arg in args:
             if arg == "--":
@@ -99,10 +97,10 @@ class Parser(argparse.ArgumentParser):
             name = arg.split("=", 1)[0]
             if not name.startswith("--") or any(k.startswith(name) for k in known):
                 continue
-            # a near miss only: at difflib's 0.6 an unrelated --to was offered for --site
-            near = difflib.get_close_matches(name, known, n=1, cutoff=0.7)
+            # a near miss only (errors.nearest): a looser rule offered an unrelated --to for --site
+            near = nearest(name, known)
             raise UsageError(f"unrecognized option {name}"
-                             + (f"; did you mean {near[0]}?" if near else ""), self.prog)
+                             + (f"; did you mean {near}?" if near else ""), self.prog)
 
     def exit(self, status: int = 0, message: str | None = None):
         if message:
@@ -276,19 +274,19 @@ def train_file(text: str) -> str:
 def _near_train_file(path: Path) -> str | None:
     """A train file in the same folder whose name is one slip from ``path``'s (``hal.toml``
     for ``hall.toml``), as the path would be written; None when none is that near."""
-    import difflib
-
     folder = path.parent
     try:
         names = [p.name for p in folder.iterdir() if p.suffix == ".toml" and p.is_file()]
     except OSError:
         return None
-    tries = {path.name, path.name if path.name.endswith(".toml") else path.name + ".toml"}
-    scored = [(difflib.SequenceMatcher(None, t, n).ratio(), n) for t in tries for n in names]
-    close = [n for r, n in sorted(scored, reverse=True) if r >= 0.85][:1]
-    if not close:
+    # stricter than a slip elsewhere: every name here ends in '.toml', which alone makes two
+    # unrelated short names look alike ('a.toml' and 'b.toml' are 0.83 alike)
+    close = nearest(path.name, names, cutoff=0.85)
+    if close is None and not path.name.endswith(".toml"):
+        close = nearest(path.name + ".toml", names, cutoff=0.85)
+    if close is None:
         return None
-    return close[0] if str(folder) == "." else str(folder / close[0])
+    return close if str(folder) == "." else str(folder / close)
 
 
 MAX_YEARS = 100_000  # beyond any ephemeris; the span check says what the ephemeris covers
