@@ -245,7 +245,10 @@ class Readout:
 
     # re-setting -----------------------------------------------------------------------
     def reset_to(self, turns: Turns | float, values_deg: dict[str, float]) -> Readout:
-        """A copy with pointers turned (as by hand) to show ``values_deg`` at ``turns``."""
+        """A copy with pointers turned (as by hand) to show ``values_deg`` at ``turns``, each
+        the shorter way round (at most half a cycle of what it shows). Whole cycles matter on
+        an eclipse-cycle dial, whose position counts lunations: turned the long way, a ring
+        set to the sky a little before a new moon went back a whole month."""
         unknown = [n for n in values_deg if n not in self.motions]
         if unknown:
             raise UnknownName(f"no pointer {unknown[0]!r} on this train (its pointers: "
@@ -259,6 +262,7 @@ class Readout:
         for name, value in values_deg.items():
             m = motions[name]
             delta = (value - float(np.asarray(now[name]).reshape(-1)[0])) / 360.0
+            delta -= float(np.floor(delta + 0.5))  # the shorter way: -1/2 <= delta < 1/2
             motions[name] = replace(m, offset_turns=m.offset_turns + delta)
         return Readout(self.kin, {}, motions)
 

@@ -454,3 +454,30 @@ def test_cli_first_failure_and_counts_read_as_english(tmp_path, capsys, monkeypa
     numbers = re.findall(r"\d[\d,]*", summary)
     assert numbers and all(re.fullmatch(r"\d{1,3}(,\d{3})*", n) for n in numbers)
     assert "4,234" in summary
+
+
+def test_resetting_the_ring_to_the_sky_keeps_its_month(sky):
+    """The eclipse board's ring reads a little short of its boundary at the annular eclipse of
+    1950-03-18 (canon, from memory): re-set to the sky there, it turns the few degrees of the
+    month forward to the new moon, not 356° of it back, so the eclipse stays in the month the
+    marks were read for (the re-set once moved it from month 4 to month 3)."""
+    from dataclasses import replace as copy
+
+    from engine.mechanism import open_train
+
+    mech = open_train("engine/trains/eclipse_board.toml", sky)
+    (e,) = [e for e in E.real_eclipses(sky, parse_date("1950-03-15"), parse_date("1950-03-20"))
+            if e.kind == "solar"]
+    assert e.type == "annular"
+    jd = np.array([e.jd_ut])
+    turns = mech.readout.turns_at(e.jd_ut)
+    shown = float(mech.readout.read_deg(turns)["months"])
+    assert 340 < shown < 360  # short of the boundary: the case that went wrong
+    syz = np.array([E.syzygies(sky, e.jd_ut - 2, e.jd_ut + 2).jd_ut[0]])
+    new = np.array([False])
+    before = E.syzygy_months(mech, "months", syz, new)
+    reset = copy(mech, readout=mech.readout.reset_to(
+        turns, {"months": float(sky.at(e.jd_ut).elongation_deg)}))
+    assert E.syzygy_months(reset, "months", syz, new).tolist() == before.tolist() == [4]
+    moved = E.cycle_position(reset, "months", jd) - E.cycle_position(mech, "months", jd)
+    assert abs(float(moved[0])) < 0.5  # months: the shorter way round
