@@ -642,11 +642,15 @@ def jd_now(clock=None) -> float:
 
 def parse_when(text: str, *, calendar: str = "auto", clock=None) -> float:
     """:func:`parse_date`, and also ``now`` (this moment by the computer's clock, as
-    :func:`jd_now`) and ``today`` (its date at 00:00 UT), as a command's date may be given;
-    :func:`parse_date` itself stays free of the clock. ``clock`` as for :func:`jd_now`."""
+    :func:`jd_now`), ``today`` (its date at 00:00 UT) and ``yesterday`` and ``tomorrow`` (the
+    day before and after it, 00:00 UT), as a command's date may be given; :func:`parse_date`
+    itself stays free of the clock. ``clock`` as for :func:`jd_now`."""
     word = text.strip().lower() if isinstance(text, str) else None
     if word == "now":
         return jd_now(clock)
-    if word == "today":
-        return math.floor(jd_now(clock) - 0.5) + 0.5
+    if word in _DAY_WORDS:
+        return math.floor(jd_now(clock) - 0.5) + 0.5 + _DAY_WORDS[word]
     return parse_date(text, calendar=calendar)
+
+
+_DAY_WORDS = {"yesterday": -1, "today": 0, "tomorrow": 1}  # days from today, each at 00:00 UT

@@ -566,6 +566,9 @@ def test_now_and_today_are_read_by_the_commands_from_the_clock():
     assert parse_when("now", clock=clock) == pytest.approx(2461377.770833, abs=1e-6)
     assert parse_when(" Today ", clock=clock) == 2461377.5
     assert format_jd(parse_when("today", clock=clock)) == "2026-12-03 00:00 UT (Gregorian)"
+    # `sky tomorrow` was 'not a date form I know': the day after and before, 00:00 UT
+    assert format_jd(parse_when("Tomorrow", clock=clock)) == "2026-12-04 00:00 UT (Gregorian)"
+    assert format_jd(parse_when("yesterday ", clock=clock)) == "2026-12-02 00:00 UT (Gregorian)"
     assert parse_when("2026-12-03") == parse_date("2026-12-03")
     with pytest.raises(DateError):
         parse_date("now")  # parse_date reads no clock: the same text gives the same day

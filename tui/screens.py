@@ -774,7 +774,7 @@ class DateDialog(Dialog):
     def read(self) -> None:
         text = self.query_one("#date-input", Input).value
         try:
-            jd = parse_when(text)  # also now and today, as the commands take them
+            jd = parse_when(text)  # also now, today, yesterday, tomorrow, as the commands
             self.session._check_jd(jd)
         except WheelworkError as exc:
             self.reject(str(exc), text)

@@ -22,7 +22,7 @@ CALENDARS = ("auto", "julian", "gregorian")
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("date", nargs="?", default="now",
                         help="date (UT): 2025-03-20, '2025-03-20 09:30', -0100-03-01, "
-                        "'44-03-15 BC', '15 March 44 BC', 'JD 2451545.0', today (00:00 UT) "
+                        "'44-03-15 BC', '15 March 44 BC', 'JD 2451545.0', today, yesterday or tomorrow (00:00 UT) "
                         "or now (the default: the computer's clock)")
     parser.add_argument("--calendar", default="auto", type=support.one_of("calendar", CALENDARS),
                         choices=CALENDARS,

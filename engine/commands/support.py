@@ -126,7 +126,8 @@ def _type_error(exc: Exception) -> argparse.ArgumentTypeError:
 
 
 def date(text: str) -> float:
-    """A date as the docs show it (UT), or ``now`` or ``today`` → JD."""
+    """A date as the docs show it (UT), or ``now``, ``today``, ``yesterday`` or ``tomorrow``
+    → JD."""
     from ..dates import parse_when
 
     try:
