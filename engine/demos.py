@@ -33,7 +33,10 @@ def closest_demo(name: str) -> str | None:
     none is near."""
     from .errors import nearest
 
-    return nearest(name[:-5] if name.endswith(".toml") else name, demo_names())
+    stem = name[:-5] if name.endswith(".toml") else name
+    # a demo's first word alone ('planet', 'tide'): the one demo it begins, when only one does
+    begun = [d for d in demo_names() if stem and d.lower().startswith(stem.lower())]
+    return begun[0] if len(begun) == 1 else nearest(stem, demo_names())
 
 
 def demo_hint(name: str) -> str:

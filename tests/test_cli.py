@@ -337,6 +337,9 @@ DEMOS = ("eclipse_board, lunation_board, moon_disc_59, nineteen_year_drum, plane
     (["ratios", "planet_dail.toml"], 1, ["did you mean planet_dial?"]),
     (["crank", "nineteen_yaer_drum"], 1, ["did you mean nineteen_year_drum?"]),
     (["ratios", "qqqq"], 1, ["no such file, and no demo of that name; demos: " + DEMOS]),
+    # a demo's first word alone: the one demo it begins (two begin with 't': none offered)
+    (["ratios", "planet"], 1, ["did you mean planet_dial?"]),
+    (["ratios", "t"], 1, ["no such file, and no demo of that name; demos: " + DEMOS]),
 ])
 def test_a_mistyped_demo_name_gets_the_nearest_and_the_list(argv, code, words, capsys):
     assert main(argv) == code
