@@ -650,7 +650,12 @@ def parse_when(text: str, *, calendar: str = "auto", clock=None) -> float:
         return jd_now(clock)
     if word in _DAY_WORDS:
         return math.floor(jd_now(clock) - 0.5) + 0.5 + _DAY_WORDS[word]
-    return parse_date(text, calendar=calendar)
+    try:
+        return parse_date(text, calendar=calendar)
+    except DateError as exc:  # the words read here, beside parse_date's forms
+        if "not a date form I know" not in str(exc):
+            raise
+        raise DateError(f"{exc}; or now, today, yesterday or tomorrow") from None
 
 
 _DAY_WORDS = {"yesterday": -1, "today": 0, "tomorrow": 1}  # days from today, each at 00:00 UT

@@ -123,7 +123,7 @@ CASES: list[tuple[list[str], str]] = [
     # sky
     (["sky", "2025-02-30"], "day 30"),
     (["sky", ""], "date"),
-    (["sky", "last week"], "date"),  # yesterday and tomorrow are read; a span of days is not
+    (["sky", "last week"], "; or now, today, yesterday or tomorrow"),  # yesterday and tomorrow are read; a span of days is not
     (["sky", "JD 1e308"], ""),
     (["sky", "JD -1e308"], ""),
     (["sky", "2026-01-01", "--calendar", "roman"], "unknown calendar 'roman'"),
