@@ -58,30 +58,50 @@ def line_up(cells: list[str]) -> list[str]:
     return [c + " " * (most - a) for c, a in zip(cells, after, strict=True)]
 
 
-#: a drift column's decimals: at least hundredths of a degree a century, at most ten-thousandths
-#: (0.0001 °/cy is 0.36″ a century, past what any dial shows), none when every drift is
-#: 1,000 °/cy or more (a train that far off needs no hundredths); common practice, no source
-DRIFT_PLACES = (2, 4)
-DRIFT_WHOLE = 999.995  # rounds to 1,000.00
+#: one rule writes a period error (ppm) and a drift (°/cy) wherever it is shown, a table of the
+#: command line or a panel of the interface: a column's decimals are enough for its smallest
+#: figure to show two significant figures, at least two, at most four (0.0001 °/cy is 0.36″ a
+#: century, past what any dial shows) unless that would write a small figure as zero, when
+#: its first significant figure is kept; a figure of 1,000 or more is written whole (a train
+#: that far off needs no hundredths); common practice, no source
+ERROR_PLACES = (2, 4)
+WHOLE_FROM = 1000.0
+#: below a thousand-millionth a period error is a relative 1e-15, the rounding of a double
+MOST_PLACES = 9
+DRIFT_PLACES = ERROR_PLACES  # the name the interface's tests know
 
 
-def drift_places(drifts, width: int | None = None) -> int:
-    """The decimals of a column of drifts (degrees per century), one number for every row so
-    the column lines up on the point: enough for its smallest drift to show two significant
-    figures (+0.0008 beside +1.3977 said nothing as +0.00; -0.0255 reads -0.026, the same in
-    every column it is in), between :data:`DRIFT_PLACES`, none when every drift is 1,000 °/cy
-    or more (+67,988). Given the column's ``width`` (characters, sign included), fewer when a
-    figure would not fit and none then reads as zero (+462 beside -23,002); failing that a
-    figure too wide is written whole all the same: a number is never cut."""
-    ds = [d for d in drifts if d is not None and math.isfinite(d)]
-    if ds and all(abs(d) >= DRIFT_WHOLE for d in ds):
-        places = 0
+def _whole(x: float, places: int) -> bool:
+    """Whether ``x`` is written whole: 1,000 or more once rounded (999.996 reads 1,000)."""
+    return round(abs(x), places) >= WHOLE_FROM
+
+
+def _text(x: float, places: int) -> str:
+    return fixed(x, 0 if _whole(x, places) else places, sign=True)
+
+
+def error_places(xs, width: int | None = None) -> int:
+    """The decimals of a column of period errors or drifts, one number for every row so the
+    column lines up on the point (:func:`error_column`): enough for its smallest figure under
+    1,000 to show two significant figures (+0.0008 beside +1.3977 said nothing as +0.00;
+    -0.0255 reads -0.026 and -11.5414 ppm -11.54 in every table it is in), between
+    :data:`ERROR_PLACES` but never so few that a figure reads as zero; none when every figure
+    is 1,000 or more (+67,988), which are written whole in any column. Given the column's
+    ``width`` (characters, sign and lining up included), fewer when a figure would not fit
+    and none then reads as zero (+462 beside -23,002); failing that a figure too wide is
+    written whole all the same: a number is never cut."""
+    ds = [d for d in xs if d is not None and math.isfinite(d)]
+    lo, hi = ERROR_PLACES
+    if ds and all(_whole(d, lo) for d in ds):
+        return 0
+    small = min((abs(d) for d in ds if d != 0 and not _whole(d, lo)), default=None)
+    if small is None:
+        places = lo
     else:
-        lo, hi = DRIFT_PLACES
-        small = min((abs(d) for d in ds if d != 0), default=None)
-        need = lo if small is None else 1 - math.floor(math.log10(small))
-        places = min(hi, max(lo, need))
-    while width and places > 0 and any(len(fixed(d, places, sign=True)) > width for d in ds):
+        places = min(hi, max(lo, 1 - math.floor(math.log10(small))))
+        while places < MOST_PLACES and small < 0.5 * 10.0 ** -places:
+            places += 1  # it would read +0.0000: its first significant figure
+    while width and places > 0 and max(map(len, error_column(ds, places))) > width:
         fewer = places - 1
         if any(d != 0 and abs(d) < 0.5 * 10.0 ** -fewer for d in ds):
             break  # one would read +0.00 (or +0): wider rather than lose it
@@ -89,10 +109,25 @@ def drift_places(drifts, width: int | None = None) -> int:
     return places
 
 
-def drift(x: float, places: int | None = None) -> str:
-    """A drift in degrees per century with its sign, to ``places`` decimals (its column's,
-    :func:`drift_places`; alone, its own), thousands separated; a dash for one that is not a
-    number."""
-    if not math.isfinite(x):
+def error(x: float, places: int | None = None) -> str:
+    """A period error (ppm) or a drift (°/cy) with its sign, to ``places`` decimals (its
+    column's, :func:`error_places`; alone, its own), whole from 1,000, thousands separated; a
+    dash for one that is not a number (or None)."""
+    if x is None or not math.isfinite(x):
         return "—"
-    return fixed(x, drift_places([x]) if places is None else places, sign=True)
+    return _text(x, error_places([x]) if places is None else places)
+
+
+def error_column(xs, places: int | None = None, width: int | None = None) -> list[str]:
+    """A column of period errors or drifts as :func:`error` writes them, to the column's
+    decimals, padded so that set flush right their points line up (a whole figure's last
+    digit where the point stands); a dash for one that is not a number."""
+    xs = list(xs)
+    if places is None:
+        places = error_places(xs, width)
+    return line_up([error(x, places) for x in xs])
+
+
+# a drift in °/cy and a period error in ppm are written by the one rule above
+drift_places = ppm_places = error_places
+drift = ppm = error

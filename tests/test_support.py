@@ -513,14 +513,33 @@ def test_one_rule_writes_a_column_of_drifts():
     assert drift_places([67987.93, -35644.39]) == 0 and drift_places([461.7, 1000.0]) == 2
     assert drift(67987.93) == "+67,988" and drift(-999.996) == "-1,000"
     assert drift(999.99) == "+999.99" and drift(0.0008) == "+0.0008"
-    assert drift(0.00049) == "+0.0005" and drift(-0.0000004) == "-0.0000"
-    assert drift(67987.93, 4) == "+67,987.9300"  # wider, never cut
+    # a figure too small for four decimals keeps its first significant figure, not -0.0000
+    assert drift(0.00049) == "+0.0005" and drift(-0.0000004) == "-0.0000004"
+    assert drift_places([0.00002, 1.5]) == 5
+    assert drift(67987.93, 4) == "+67,988"  # from 1,000 whole, whatever the column's decimals
     assert drift(float("nan")) == "—"
     # a column 7 characters wide: fewer decimals for all while none then reads as zero
     assert drift_places([461.7022, -23002.39], 7) == 0
     assert drift_places([461.7022, -23002.39], 10) == 2
     assert drift_places([0.0008, -23002.39], 7) == 3  # +0.001; +0.00 would lose the Sun
     assert drift_places([0.0001, -23002.39], 7) == 4  # +0.000 would lose it: wider instead
+
+
+def test_period_errors_and_drifts_read_the_same_in_ratios_and_the_interface():
+    """One rule for a period error (ppm) and a drift (°/cy) in the ratio table and every panel
+    of the interface (common practice, no source: one figure is written one way wherever it
+    is read). The table orrery's slipped Moon read -11.541 ppm on the bench and -11.54 in
+    ratios; a lone -0.02553 °/cy -0.026 on the bench and -0.0255 in ratios."""
+    from engine.figures import drift, error_column, ppm, ppm_places
+
+    assert ppm is drift and ppm_places([-11.5414]) == 2 and ppm(-11.5414) == "-11.54"
+    assert ppm_places([-11.5414, 0.028]) == 3  # the orrery's column: its Earth's +0.028
+    assert error_column([-0.02553]) == ["-0.026"]
+    # a slipped count's error is whole beside near ones, the points still in one line
+    assert error_column([0.0008, -168446.1, 1.3977]) == ["+0.0008", "-168,446     ",
+                                                         "+1.3977"]
+    assert error_column([float("nan"), 1.0]) == ["—   ", "+1.00"]
+    assert error_column([461.7022, -23002.39], width=7) == ["+462", "-23,002"]
 
 
 def test_command_tables_carry_no_e_notation(capsys, tmp_path):

@@ -39,7 +39,7 @@ from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.exact import fraction_text
-from engine.figures import drift, drift_places, fixed
+from engine.figures import drift, drift_places, error_column, ppm, ppm_places
 from engine.loader import load_train
 
 from .screens import EDIT_KEYS, ClosesOnce, Dialog, HelpScreen
@@ -100,21 +100,6 @@ def _ratio(r) -> str:
     return f"{r.ratio.numerator}/{r.ratio.denominator}"
 
 
-def _ppm_places(xs) -> int:
-    """The decimals of a column of period errors: thousandths of a ppm to compare trains close
-    to the sky, none when every one is 1,000 ppm or more (+100,016,947, not
-    +100,016,947.000); one number for the column, so its figures line up on the point."""
-    ds = [x for x in xs if x is not None and math.isfinite(x)]
-    return max((0 if abs(x) >= 999.9995 else 3 for x in ds), default=3)
-
-
-def _ppm(x: float, places: int | None = None) -> str:
-    """A period error to ``places`` decimals (the column's; alone, its own)."""
-    if not math.isfinite(x):
-        return "—"
-    return fixed(x, _ppm_places([x]) if places is None else places, sign=True)
-
-
 def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
                   ) -> Table | Text:
     """Per pointer: ratio, period error and drift per century, as in the file and now (a
@@ -124,7 +109,7 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
     muted = (colours or {}).get("muted", "#9aa5b1")
     rows = list(rows)
     both = [x for c in rows for x in (c.before, c.after) if x is not None]
-    pp = _ppm_places(x.period_error_ppm for x in both)  # one number of decimals a column
+    pp = ppm_places(x.period_error_ppm for x in both)  # one number of decimals a column
     dp = drift_places(x.drift_deg_per_century for x in both)
     if width < 90:
         out = Text()
@@ -136,8 +121,8 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
             out.append(f"{c.pointer}  ", style="bold")
             out.append(f"{_ratio(b) if b else 'new'} → {_ratio(a)}\n", style=style)
             out.append("  ppm ", style=muted)
-            out.append(f"{_ppm(b.period_error_ppm, pp) if b else ''} → "
-                       f"{_ppm(a.period_error_ppm, pp)}", style=style)
+            out.append(f"{ppm(b.period_error_ppm, pp) if b else ''} → "
+                       f"{ppm(a.period_error_ppm, pp)}", style=style)
             out.append("\n  °/cy ", style=muted)
             out.append(f"{drift(b.drift_deg_per_century, dp) if b else ''} → "
                        f"{drift(a.drift_deg_per_century, dp)}", style=style)
@@ -153,8 +138,8 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
         style = f"bold {accent}" if changed else ""
         t.add_row(c.pointer,
                   Text(f"{_ratio(b) if b else 'new'} → {_ratio(a)}", style=style),
-                  Text(f"{_ppm(b.period_error_ppm, pp) if b else ''} → "
-                       f"{_ppm(a.period_error_ppm, pp)}", style=style),
+                  Text(f"{ppm(b.period_error_ppm, pp) if b else ''} → "
+                       f"{ppm(a.period_error_ppm, pp)}", style=style),
                   Text(f"{drift(b.drift_deg_per_century, dp) if b else ''} → "
                        f"{drift(a.drift_deg_per_century, dp)}", style=style))
     return t
@@ -827,7 +812,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
             t.append(r.text())
         if row is not None:
             t.append("\nnow: ", style=ui(self)["muted"])
-            t.append(f"{_ppm(row.after.period_error_ppm)} ppm, "
+            t.append(f"{ppm(row.after.period_error_ppm)} ppm, "
                      f"{drift(row.after.drift_deg_per_century)} °/cy")
         if chain.also_moves:
             t.append(f"\nalso moves: {', '.join(chain.also_moves)}", style=ui(self)["accent"])
@@ -852,7 +837,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         best = min(abs(a.period_error_ppm) for a in answers)
         if not math.isfinite(now) or best <= now * (1 + 1e-9) + 1e-9:  # the same, or better
             return ""
-        text = (f"none beats the train as it is ({_ppm(row.after.period_error_ppm)} ppm)")
+        text = (f"none beats the train as it is ({ppm(row.after.period_error_ppm)} ppm)")
         try:
             cons = make_constraints(stages=len(self.chain.stages), wheels=wheels,
                                     pinions=pinions)
@@ -962,9 +947,10 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
         width = max((len(a.stages_text()) for a in answers), default=0)
         now = {w: t for w, _, t in self.editor.wheels()}
         ratio_now = self.chain.ratio_now if self.chain is not None else None
-        places = (_ppm_places(a.period_error_ppm for a in answers),
-                  drift_places(a.drift_deg_per_century for a in answers))
-        ol.add_options([Option(self._answer_text(a, width, now, ratio_now, places), id=str(i))
+        # each column to one number of decimals, its points lined up
+        cols = list(zip(error_column(a.period_error_ppm for a in answers),
+                        error_column(a.drift_deg_per_century for a in answers), strict=True))
+        ol.add_options([Option(self._answer_text(a, width, now, ratio_now, cols[i]), id=str(i))
                         for i, a in enumerate(answers)])
         self._note(self._worse_note(answers, *self._bounds))
         if answers:
@@ -973,16 +959,18 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
 
     @staticmethod
     def _answer_text(a, width: int, now: dict, ratio_now=None,
-                     places: tuple[int | None, int | None] = (None, None)) -> Text:
+                     cells: tuple[str, str] | None = None) -> Text:
         """One answer's line; "(as now)" for the train's own teeth, "(ratio as now)" for other
         teeth giving the very same ratio (picking it changes the wheels, not the reading);
-        ``places``: the list's decimals for its ppm and °/cy columns."""
+        ``cells``: its ppm and °/cy as the list's columns write them
+        (:func:`engine.figures.error_column`); alone, its own."""
+        if cells is None:
+            cells = (ppm(a.period_error_ppm), drift(a.drift_deg_per_century))
         same = all(now.get(w) == n for w, n in a.teeth.items())
         mark = ("  (as now)" if same else
                 "  (ratio as now)" if ratio_now is not None and a.ratio == ratio_now else "")
         return Text.assemble((a.stages_text().ljust(width), "bold"),
-                             f"  {_ppm(a.period_error_ppm, places[0]):>10} ppm  "
-                             f"{drift(a.drift_deg_per_century, places[1]):>9} °/cy  "
+                             f"  {cells[0]:>10} ppm  {cells[1]:>9} °/cy  "
                              f"{a.result.total_teeth:>4} teeth",
                              (mark, "#98c379"))
 

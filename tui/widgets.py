@@ -20,7 +20,7 @@ from textual_hires_canvas import Canvas, HiResMode
 from textual_plot import NumericAxisFormatter
 
 from engine.dates import AD_1_JD, calendar_date, format_jd, turn_days_text
-from engine.figures import drift, drift_places, figure, fixed
+from engine.figures import error_column, figure, fixed
 from engine.view import (
     TrainLayout,
     arbor_at,
@@ -1080,8 +1080,9 @@ class Readings(RowStatic):
         for title, width in cols[1:]:
             cell(title, width, head)
         decimals = 1 if narrow else 2
-        places = drift_places((p.drift_deg_per_century for p in now.pointers.values()),
-                              w[5] - 1)  # a space before it
+        # one number of decimals, the points lined up (a space before the column)
+        drifts = iter(error_column((p.drift_deg_per_century for p in now.pointers.values()
+                                    if p.drift_deg_per_century is not None), width=w[5] - 1))
         for p in now.pointers.values():
             t.append("\n")
             t.append(f"{names[p.name]:<{name_w}}")
@@ -1091,7 +1092,7 @@ class Readings(RowStatic):
             cell(fixed(err, 2, sign=True), w[3], _err_style(err, colours))
             cell(fixed(p.worst_deg, 2), w[4], _err_style(p.worst_deg, colours))
             cell("" if p.drift_deg_per_century is None
-                 else drift(p.drift_deg_per_century, places), w[5])
+                 else next(drifts), w[5])
             if days_col:
                 days = p.error_days
                 if days is not None and abs(days) < 0.005:

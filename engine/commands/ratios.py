@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import TYPE_CHECKING
 
+from ..figures import error, error_column
 from ..periods import JULIAN_YEAR_DAYS, era_error_ppm, era_spread_note, era_spread_ppm
 from . import support
 
@@ -21,16 +22,6 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 #: the most significant figures a period error or drift is written with: a slipped count's
 #: error of hundreds of thousands of ppm needs no decimals, a near one keeps them (our choice)
 ERROR_DIGITS = 4
-
-
-def _ppm(x: float) -> str:
-    """A period error in ppm: three decimals, at most :data:`ERROR_DIGITS` figures."""
-    return support.fixed(x, 3, sign=True, digits=ERROR_DIGITS)
-
-
-def _drift(x: float) -> str:
-    """A drift in °/century: four decimals, at most :data:`ERROR_DIGITS` figures."""
-    return support.fixed(x, 4, sign=True, digits=ERROR_DIGITS)
 
 
 def _years(y: float | None) -> str:
@@ -97,9 +88,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
                       ("period ppm", "right"), ("°/century", "right"), ("1 day off", "right")):
         table.add_column(col, justify=just, no_wrap=True)
     backwards = backward_pointers(train, kin)
-    # each figure to its own significant figures, the points of a column in one line
-    ppms = support.line_up([_ppm(r.period_error_ppm) for r in rows])
-    drifts = support.line_up([_drift(r.drift_deg_per_century) for r in rows])
+    # the interface's rule: one number of decimals a column, whole from 1,000, points lined up
+    ppms = error_column(r.period_error_ppm for r in rows)
+    drifts = error_column(r.drift_deg_per_century for r in rows)
     # a Jupiter or Saturn pointer's ppm, °/century and "1 day off" are against JPL's
     # 1800-2050 mean, which the great inequality moves: marked, and said under the table
     marked = {r.pointer for r in rows if era_spread_ppm(r.target_key) is not None}
@@ -126,13 +117,14 @@ def run(args: argparse.Namespace, console: Console) -> int:
     note = era_note(train)
     if note:
         support.print_indented(console, f"note: {note}", 0)
+    cell = {r.pointer: c.strip() for r, c in zip(rows, ppms, strict=True)}  # as in the table
     for r, _spread in _nearer_than_the_era(rows):
         other = era_error_ppm(r.target_key, r.period_error_ppm)
         gain = abs(1.0 / (1.0 + other * 1e-6) - 1.0)
         support.print_indented(console, f"note: {r.pointer} is "
-                               f"{_ppm(r.period_error_ppm)} ppm off: "
+                               f"{cell[r.pointer]} ppm off: "
                                f"{era_spread_note(r.target_key)}; against the mean of 3000 "
-                               f"BC-AD 3000 it is {_ppm(other)} ppm "
+                               f"BC-AD 3000 it is {error(other)} ppm "
                                f"off, a day off in {_years(1.0 / gain / JULIAN_YEAR_DAYS)}",
                                0, markup=False)
     from ..kinds import shows_text
@@ -164,8 +156,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 console, f"laps the Earth arm '{escape(sy.earth_arm)}' every "
                 f"{support.figure(sy.period_days, 10)} d ({abs(sy.ratio.numerator)}/{sy.ratio.denominator} turns "
                 f"{'gained' if sy.ratio > 0 else 'lost'} per crank turn) against the "
-                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {_ppm(sy.period_error_ppm)} ppm, "
-                f"{_drift(sy.drift_deg_per_century)}°/century", 3, markup=True)
+                f"{sy.target_name} of {support.figure(sy.target_days, 10)} d: {error(sy.period_error_ppm)} ppm, "
+                f"{error(sy.drift_deg_per_century)}°/century", 3, markup=True)
         elif r.synodic:
             sy = r.synodic
             found = stage_path(train, kin, sy.deferent)
@@ -177,8 +169,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 console, f"epicycle '{escape(sy.epicycle)}' against '{escape(sy.deferent)}' "
                 f"({escape(sy.pin_slot)}): {sy.ratio.numerator}/{sy.ratio.denominator} turns "
                 f"per crank turn, {support.figure(sy.period_days, 10)} d against the {sy.target_name} of "
-                f"{support.figure(sy.target_days, 10)} d: {_ppm(sy.period_error_ppm)} ppm, "
-                f"{_drift(sy.drift_deg_per_century)}°/century"
+                f"{support.figure(sy.target_days, 10)} d: {error(sy.period_error_ppm)} ppm, "
+                f"{error(sy.drift_deg_per_century)}°/century"
                 + ("" if sy.direction_ok else "; [yellow]but it turns the wrong way against "
                    "its carrier[/] (see the warning below)"), 3, markup=True)
         primes = [f"{t.wheel} ({t.teeth})" for t in r.teeth if t.prime and t.teeth >= 11]

@@ -10,6 +10,7 @@ from typing import TYPE_CHECKING
 from ..defaults import SEARCH_MAX_TEETH as MAX_TEETH
 from ..defaults import SEARCH_MAX_TOP as MAX_TOP
 from ..errors import SearchError
+from ..figures import error_column
 from ..periods import PERIODS, era_spread_note, era_spread_ppm, relation_error_ppm
 from . import support
 
@@ -266,10 +267,12 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("days/turn", "right"), ("period ppm", "right"), ("°/cy", "right"),
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
+        # period errors and drifts as ratios and the interface write a column of them
+        ppms = error_column(r.period_error_ppm for r in report.results)
+        drifts = error_column(r.drift_deg_per_century for r in report.results)
         for i, r in enumerate(report.results, start=1):
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), support.figure(r.period_days, 9),
-                          support.figure(r.period_error_ppm, 3, True),
-                          support.figure(r.drift_deg_per_century, 3, True),
+                          ppms[i - 1], drifts[i - 1],
                           _years(r.one_day_off_years), str(r.total_teeth))
         support.print_table(console, table, keys=2)  # a train is named by # and its stages
     if report.convergents:
@@ -278,9 +281,9 @@ def _print(report: SearchReport, console: Console) -> None:
         for col, just in (("ratio", "right"), ("days/turn", "right"), ("period ppm", "right"),
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
-        for v in report.convergents:
-            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days),
-                          support.figure(v.period_error_ppm, 4, True),
+        ppms = error_column(v.period_error_ppm for v in report.convergents)
+        for v, ppm in zip(report.convergents, ppms, strict=True):
+            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), ppm,
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
         support.print_table(console, table)
