@@ -554,7 +554,8 @@ async def test_tooth_search_says_when_no_answer_beats_the_train():
         assert screen.answers
         note = text_of(screen.query_one("#teeth-note"))
         assert screen.query_one("#teeth-note").display
-        assert "none beats the train as it is (+0.746 ppm)" in note
+        # alone, to two significant figures (in the parts table's column +0.746)
+        assert "none beats the train as it is (+0.75 ppm)" in note
         assert "pinion 49 outside 8-30" in note and "pinion 51 outside 8-30" in note
         # bounds that hold its counts find them: the note goes
         await run_search(pilot, app, screen, pinions="8-60", wheels="20-100")
@@ -849,14 +850,14 @@ async def test_the_search_answers_columns_have_one_number_of_decimals():
         ppms = [re.search(r"(\S+) ppm", line).group(1) for line in lines]
         assert max(abs(float(d)) for d in drifts) >= 1 > min(abs(float(d)) for d in drifts)
         assert {len(d.split(".")[1]) for d in drifts} == {3}, drifts  # -0.028: two figures
-        assert {len(p.split(".")[1]) for p in ppms} == {3}, ppms
+        assert {len(p.split(".")[1]) for p in ppms} == {2}, ppms  # +0.77: two figures
         ends = {line.index(" °/cy") for line in lines}
         assert len(ends) == 1, lines  # right edges in line
 
 
 def test_the_ratio_panel_writes_each_column_to_one_number_of_decimals():
     """File → now for a Sun made far off by an edit: its +16,949 ppm beside the others'
-    thousandths keeps the column's three decimals, and its -600.01 °/cy the four of the rest
+    thousandths is written whole (1,000 or more), and its -600.01 °/cy keeps the four of the rest
     (common practice, no source)."""
     from types import SimpleNamespace
 
@@ -871,7 +872,7 @@ def test_the_ratio_panel_writes_each_column_to_one_number_of_decimals():
     text = compare_table([row("sun", -0.021, 16949.1, 0.0008, -600.0123),
                           row("moon", 0.051, 0.051, -0.0248, -0.0248)], width=60)
     plain = text.plain
-    assert "-0.021 → +16,949.100" in plain and "+0.0008 → -600.0123" in plain, plain
+    assert "-0.021 → +16,949" in plain and "+16,949." not in plain and "+0.0008 → -600.0123" in plain, plain
     assert "+0.051 → +0.051" in plain and "-0.0248 → -0.0248" in plain, plain
 
 

@@ -439,7 +439,7 @@ def test_the_parts_and_search_screens_write_far_off_errors_whole():
     readings write drifts from 1,000°/cy (common practice, no source); close ones keep their
     decimals for comparing trains."""
     from engine.figures import drift as _drift
-    from tui.editing import _ppm
+    from engine.figures import ppm as _ppm
 
     assert _ppm(100_016_947.0) == "+100,016,947" and _ppm(-653_801.143) == "-653,801"
     assert _ppm(-0.021) == "-0.021" and _ppm(1035.836) == "+1,036"
