@@ -725,6 +725,23 @@ def test_jupiter_and_saturn_periods_say_how_far_other_eras_move_them(capsys):
 _LONG_FITS: dict[str, tuple[float, float, float]] = {}
 
 
+def _swing_fit(t, y, w: float):
+    """Mean motion (deg/century) and least-squares coefficients of a longitude ``y`` (degrees,
+    unwrapped) at ``t`` (centuries): a line, the equation of centre (three harmonics, their
+    amplitudes changing linearly) and a swing of angular rate ``w`` (radians a century), its
+    cosine and sine last; the mean motion refitted until the harmonics follow it."""
+    rate = np.polyfit(t, y, 1)[0]
+    for _ in range(3):
+        m = np.radians(rate * t)
+        cols = [np.ones_like(t), t]
+        for h in (1, 2, 3):
+            cols += [np.cos(h * m), np.sin(h * m), t * np.cos(h * m), t * np.sin(h * m)]
+        cols += [np.cos(w * t), np.sin(w * t)]
+        coef = np.linalg.lstsq(np.array(cols).T, y, rcond=None)[0]
+        rate = coef[1]
+    return rate, coef
+
+
 def _long_fit(sky406, key: str) -> tuple[float, float, float]:
     """DE406's own mean motion of ``key`` (deg/century, J2000 ecliptic) over 2990 BC-AD 2990,
     and the amplitude and phase (degrees) of its slow mutual swing: a line, the equation of
@@ -739,15 +756,7 @@ def _long_fit(sky406, key: str) -> tuple[float, float, float]:
     y = np.degrees(np.unwrap(np.radians(lon)))
     t = (jd - 2451545.0) / 36525
     w = 2 * np.pi * 36525 / slow_swings(key)[0][1]
-    rate = np.polyfit(t, y, 1)[0]
-    for _ in range(3):
-        m = np.radians(rate * t)
-        cols = [np.ones_like(t), t]
-        for h in (1, 2, 3):
-            cols += [np.cos(h * m), np.sin(h * m), t * np.cos(h * m), t * np.sin(h * m)]
-        cols += [np.cos(w * t), np.sin(w * t)]
-        coef = np.linalg.lstsq(np.array(cols).T, y, rcond=None)[0]
-        rate = coef[1]
+    rate, coef = _swing_fit(t, y, w)
     _LONG_FITS[key] = (float(rate), float(np.hypot(coef[-2], coef[-1])),
                        float(np.degrees(np.arctan2(coef[-1], coef[-2]))))
     return _LONG_FITS[key]
@@ -785,15 +794,7 @@ def test_uranus_and_neptune_near_two_to_one_swing_in_two_long_ephemerides(sky406
                       (astronomy.HelioVector(body, astronomy.Time(x)) for x in d)])
         lon = np.arctan2(v[:, 1] * np.cos(eps) + v[:, 2] * np.sin(eps), v[:, 0])
         y = np.degrees(np.unwrap(lon))
-        rate = np.polyfit(t, y, 1)[0]
-        for _ in range(3):
-            m = np.radians(rate * t)
-            cols = [np.ones_like(t), t]
-            for h in (1, 2, 3):
-                cols += [np.cos(h * m), np.sin(h * m), t * np.cos(h * m), t * np.sin(h * m)]
-            cols += [np.cos(w * t), np.sin(w * t)]
-            coef = np.linalg.lstsq(np.array(cols).T, y, rcond=None)[0]
-            rate = coef[1]
+        rate, coef = _swing_fit(t, y, w)
         got[key] = (rate, np.hypot(coef[-2], coef[-1]))
         assert got[key][1] == pytest.approx(row.amplitude_deg[key], rel=0.03), key
     assert 36525 * 360 / abs(got["uranus"][0] - 2 * got["neptune"][0]) == pytest.approx(
