@@ -276,8 +276,8 @@ class Session:
         if frame not in self.drift_by_frame:
             rows = pointer_ratios(self.mech.train, self.mech.kin, frame=frame)
             self.drift_by_frame[frame] = {r.pointer: r.drift_deg_per_century for r in rows}
-            self.era_by_frame[frame] = {r.pointer: era_spread_ppm(r.target_key) for r in rows
-                                        if era_spread_ppm(r.target_key) is not None}
+            self.era_by_frame[frame] = {r.pointer: ppm for r in rows
+                                        if (ppm := era_spread_ppm(r.target_key)) is not None}
         return self.drift_by_frame[frame]
 
     def era_spread(self, frame: str | None = None) -> dict[str, float]:
