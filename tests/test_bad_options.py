@@ -33,6 +33,8 @@ CASES: list[tuple[list[str], str]] = [
     (["drift", DISC, "--years", "2", "--step", "6", "h"], "one word: write 6h"),
     (["drift", DISC, "--years", "2", "--step", "1.5", "days"], "one word: write 1.5days"),
     (["drift", DISC], "e.g. --years 50"),
+    (["sky", "JD", "2451545"], "a date written with spaces goes in quotes"),
+    (["drift", DISC, "--from", "15", "March", "44", "BC", "--years", "2"], "goes in quotes"),
     (["eclipses", DISC], "e.g. --years 50"),
     (["drift", DISC, "--years", "-1"], "positive"),
     (["drift", DISC, "--years", "nan"], "positive"),

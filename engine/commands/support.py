@@ -66,9 +66,9 @@ class Parser(argparse.ArgumentParser):
         raise UsageError(message + self._hint(message), self.prog)
 
     def _hint(self, message: str) -> str:
-        """What to write instead, for two slips argparse names without saying so: a unit
-        parted from its number (``--step 6 h``) and a span not given (``--years`` or ``--to``
-        missing)."""
+        """What to write instead, for slips argparse names without saying so: a unit parted
+        from its number (``--step 6 h``), a date with spaces not in quotes (``sky JD 2451545``)
+        and a span not given (``--years`` or ``--to`` missing)."""
         from engine.dates import step_unit
 
         seen = getattr(self, "_seen", [])
@@ -77,6 +77,10 @@ class Parser(argparse.ArgumentParser):
                 if (option == "--step" and step_unit(word)
                         and before.replace(".", "", 1).isdigit()):
                     return f"; a number and its unit are one word: write {before}{word}"
+            if (any(a.dest == "date" for a in self._positionals._group_actions)
+                    or {"--from", "--to"} & set(seen)):
+                return ("; a date written with spaces goes in quotes, "
+                        "e.g. 'JD 2451545.0' or '15 March 44 BC'")
         if message.startswith("one of the arguments --to --years is required"):
             return "; say how long a span, e.g. --years 50, or when it ends, e.g. --to 2100-01-01"
         return ""
