@@ -999,8 +999,9 @@ def _carrier_balance(train: Train, kin: Kinematics, forms: dict,
     placed for (said by the other checks) gets no note."""
     if not forms or all(a.mount == FRAME for a in train.arbors.values()):
         return
+    from .drawing import wheel_areas  # drawing imports plate, which imports this module
     from .errors import WheelworkError
-    from .plate import balance_text, carrier_balance, place_plates  # plate imports this module
+    from .plate import balance_text, carrier_balance, place_plates
 
     reach = {w: (t.tip_radius_mm if t.role != "ring" else t.root_radius_mm)
              for w, t in forms.items()}
@@ -1009,10 +1010,11 @@ def _carrier_balance(train: Train, kin: Kinematics, forms: dict,
         plates = place_plates(train, kin, reach)
     except WheelworkError:
         return
+    areas = wheel_areas(train, forms, plates)
     for plate in plates:
         if not plate.holes:
             continue
-        b = carrier_balance(train, plate, {**pitch, **reach}, pitch)
+        b = carrier_balance(train, plate, {**pitch, **reach}, pitch, "box", areas)
         if b is not None and b.worth_saying:
             message, fix = balance_text(b)
             findings.append(Finding("note", f"[arbors.{b.carrier}]",

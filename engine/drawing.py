@@ -323,50 +323,115 @@ def wheel_part(train: Train, wheel: str, tooth: ToothForm, stem: str) -> Part:
         part.info = info
         _label(part, title, -outer)
         return part
+    blank = wheel_blank(train, wheel, tooth)
+    part.notes.extend(blank.notes)
+    info["bore_mm"] = blank.bore_mm
+    info["bore_chosen"] = blank.chosen
+    if not blank.bored:  # a pinion this small is cut on its arbor: nothing to bore
+        del info["bore_mm"]
+        part.circles.append(("MARK", 0.0, 0.0, blank.bore_mm / 2))
+        part.info = info
+        _label(part, title, -tooth.tip_radius_mm)
+        return part
+    part.circles.append(("CUT", 0.0, 0.0, blank.bore_mm / 2))
+    if blank.crossed is not None:
+        part.polylines.extend(("CUT", w) for w in blank.crossed.windows)
+        info.update(blank.crossed.info())
+    part.info = info
+    _label(part, title, -tooth.tip_radius_mm)
+    return part
+
+
+@dataclass(frozen=True)
+class Blank:
+    """What is cut from a wheel's blank besides its teeth: its bore (``chosen`` by the file,
+    else the tool's; ``bored`` false for a pinion too small to bore, cut on its arbor) and
+    its crossings (``crossed``, None: solid), with the notes the drawing gives them."""
+
+    bore_mm: float
+    chosen: bool
+    bored: bool
+    crossed: CrossedBlank | None
+    notes: tuple[str, ...] = ()
+
+
+def wheel_blank(train: Train, wheel: str, tooth: ToothForm) -> Blank:
+    """The bore and crossings of an external wheel's blank as :func:`wheel_part` draws them
+    (the one place they are decided: the carrier balance weighs the same blank). Raises
+    :class:`TrainError` for a bore the file chooses wider than the root circle."""
+    shop, own = train.workshop, train.workshop.wheel(wheel)
+    z, m = tooth.teeth, tooth.module_mm
     chosen = own.bore_mm or shop.bore_mm
     bore = chosen or default_bore_mm(tooth)
-    info["bore_mm"] = bore
-    info["bore_chosen"] = chosen is not None
     wall = tooth.root_radius_mm - bore / 2
     where = (f"[workshop.wheels.{wheel}] bore_mm" if own.bore_mm else "[workshop] bore_mm")
+    root_d = 2 * tooth.root_radius_mm
     if wall <= 0:  # only a chosen bore: the default always fits
         raise TrainError(train.source, f"wheel '{wheel}'", f"the bore of {figure(bore, 6)} mm "
                          f"({where}) is wider than the root circle ({figure(root_d, 6)} mm)")
+    notes = []
     if wall < MIN_WALL_MODULES * m:
         if chosen is not None:
-            part.notes.append(f"the bore ({figure(bore, 6)} mm, {where}) leaves "
-                              f"{figure(wall, 3)} mm of metal below the teeth, less than one "
-                              "module: cut the leaves on the arbor, or bore smaller")
+            notes.append(f"the bore ({figure(bore, 6)} mm, {where}) leaves "
+                         f"{figure(wall, 3)} mm of metal below the teeth, less than one "
+                         "module: cut the leaves on the arbor, or bore smaller")
         else:  # a pinion this small is cut on its arbor: nothing to bore, nothing cut
-            part.notes.append(f"too small to bore and leave a module of metal below the "
-                              f"teeth (root circle {figure(root_d, 6)} mm): cut the leaves on "
-                              "the arbor; the file choosing no bore_mm, none is cut (the "
-                              f"{figure(bore, 6)} mm circle on the MARK layer marks the centre)")
-            del info["bore_mm"]
-            part.circles.append(("MARK", 0.0, 0.0, bore / 2))
-            part.info = info
-            _label(part, title, -tooth.tip_radius_mm)
-            return part
-    part.circles.append(("CUT", 0.0, 0.0, bore / 2))
+            notes.append(f"too small to bore and leave a module of metal below the "
+                         f"teeth (root circle {figure(root_d, 6)} mm): cut the leaves on "
+                         "the arbor; the file choosing no bore_mm, none is cut (the "
+                         f"{figure(bore, 6)} mm circle on the MARK layer marks the centre)")
+            return Blank(bore, False, False, None, tuple(notes))
     asked = own.crossings if own.crossings is not None else shop.crossings
+    crossed = None
     if asked:
         auto = asked == CROSSINGS_AUTO
         count = crossing_count(tooth) if auto else asked
         # a count for the whole train is for its wheels: a pinion stays solid without a word
         quiet = auto or (own.crossings is None and z < AUTO_SOLID_TEETH)
         count = 0 if own.crossings is None and z < AUTO_SOLID_TEETH else count
-        blank = crossed_blank(tooth, bore, count, own.rim_mm or shop.rim_mm) if count else None
-        if blank is None:
-            if not quiet:
-                rim = own.rim_mm or shop.rim_mm or rim_depth_mm(tooth)
-                part.notes.append(f"too small for {asked} crossings with a {figure(rim, 3)} mm "
-                                  "rim: left solid")
-        else:
-            part.polylines.extend(("CUT", w) for w in blank.windows)
-            info.update(blank.info())
-    part.info = info
-    _label(part, title, -tooth.tip_radius_mm)
-    return part
+        crossed = crossed_blank(tooth, bore, count, own.rim_mm or shop.rim_mm) if count else None
+        if crossed is None and not quiet:
+            rim = own.rim_mm or shop.rim_mm or rim_depth_mm(tooth)
+            notes.append(f"too small for {asked} crossings with a {figure(rim, 3)} mm "
+                         "rim: left solid")
+    return Blank(bore, chosen is not None, True, crossed, tuple(notes))
+
+
+def wheel_area_mm2(train: Train, wheel: str, tooth: ToothForm) -> tuple[float, bool]:
+    """The area of a wheel's face as cut, for weighing it: the disc of its pitch circle (the
+    teeth standing beyond it about fill the spaces cut within it; the bore counted full, its
+    arbor filling it) less the windows between its crossings where :func:`wheel_blank` crosses
+    it out; an internal wheel, the ring from its pitch circle to its rim. With it, whether
+    crossings were taken out. A bore too wide to cut leaves the wheel weighed solid."""
+    r = tooth.pitch_radius_mm
+    if tooth.role == "ring":
+        shop, own = train.workshop, train.workshop.wheel(wheel)
+        outer = tooth.root_radius_mm + (own.rim_mm or shop.rim_mm or rim_depth_mm(tooth))
+        return math.pi * (outer ** 2 - r ** 2), False
+    try:
+        crossed = wheel_blank(train, wheel, tooth).crossed
+    except TrainError:  # said by wheelwork cut; weighed solid here
+        crossed = None
+    if crossed is None:
+        return math.pi * r ** 2, False
+    windows = sum(abs(_polygon_area(w)) for w in crossed.windows)
+    return math.pi * r ** 2 - windows, True
+
+
+def wheel_areas(train: Train, forms: dict[str, ToothForm], plates: list[Plate]
+                ) -> dict[str, tuple[float, bool]]:
+    """:func:`wheel_area_mm2` of every wheel a carrier's plate takes round (the frame's wheels
+    are not weighed)."""
+    carried = {w for p in plates if p.mount != FRAME for h in p.holes.values()
+               for a in h.arbors if train.arbors[a].mount == p.mount
+               for w in train.arbors[a].wheels if w in forms}
+    return {w: wheel_area_mm2(train, w, forms[w]) for w in carried}
+
+
+def _polygon_area(points: np.ndarray) -> float:
+    """The signed area of a closed polyline (the shoelace formula)."""
+    x, y = points[:, 0], points[:, 1]
+    return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))
 
 
 def rim_depth_mm(tooth: ToothForm) -> float:
@@ -567,12 +632,14 @@ on its own axis (balanced in itself as it turns). The frame's plate is always a 
 
 
 def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
-               reach: dict[str, float] | None = None, carrier_outline: str = "box") -> Part:
+               reach: dict[str, float] | None = None, carrier_outline: str = "box",
+               areas: dict[str, tuple[float, bool]] | None = None) -> Part:
     """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles. Its
     outline (:func:`engine.plate.outline`) is a rounded rectangle covering every hole by
     ``PLATE_MARGIN_MM`` and the wheels over it (their ``reach``, the tip radius, else the pitch
     radius) by ``PLATE_CLEAR_MM``; a carrier's, with ``carrier_outline="disc"``, a disc round
-    its axis covering the same. A carrier out of balance as it turns is said in a note."""
+    its axis covering the same. A carrier out of balance as it turns is said in a note (its
+    wheels weighed by ``areas``, :func:`wheel_area_mm2`, else as solid discs)."""
     pivot = train.workshop.pivot_mm
     # a hole is as wide as the widest pivot of the arbors it holds (an arbor's own pivot_mm,
     # else [workshop]'s)
@@ -634,7 +701,7 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                       for t in plate.ties],
         "not_drawn": [{"axis": ax, "meshes": list(ms)} for ax, ms in plate.withheld.items()]}
     part.notes.extend(plate.notes)
-    balance = carrier_balance(train, plate, over, pitch, carrier_outline)
+    balance = carrier_balance(train, plate, over, pitch, carrier_outline, areas)
     if balance is not None and balance.worth_saying:
         message, fix = balance_text(balance)
         part.notes.append(f"{message}: {fix}")
@@ -804,11 +871,12 @@ def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
              for w, t in forms.items()}
     plates = place_plates(train, kin, reach)
     pitch = {w: t.pitch_radius_mm for w, t in forms.items()}
+    areas = wheel_areas(train, forms, plates)
     notes = []
     for p in plates:
         stem = _unique(f"plate-{slug(p.name)}", used)
         if p.holes:
-            parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline))
+            parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline, areas))
         else:  # every hole withheld: nothing measured to drill
             what = "the frame" if p.mount == FRAME else f"carrier '{p.mount}'"
             notes.append(withheld_note(p.withheld, what))

@@ -97,8 +97,8 @@ _KEYS = {
                 "set_deg", "note", "lunations", "solar_months", "lunar_months"},
     "eclipses": {"solar_limit_deg", "lunar_limit_deg", "penumbral", "note"},
     "workshop": {"tooth_form", "bore_mm", "crossings", "rim_mm", "pivot_mm", "backlash_mm",
-                 "division", "eccentricity_mm", "end_shake_mm", "tilt_deg", "hole_mm", "wheels",
-                 "note"},
+                 "division", "eccentricity_mm", "end_shake_mm", "tilt_deg", "hole_mm",
+                 "carrier_plate_mm", "wheels", "note"},
     "workshop_wheel": {"form", "bore_mm", "crossings", "rim_mm", "eccentricity_mm", "division",
                        "note"},
 }
@@ -1000,4 +1000,6 @@ def _read_workshop(r: _Reader, doc: dict, wheels: dict[str, Wheel]) -> Workshop:
         end_shake_mm=opt(tbl, "end_shake_mm", item, nonneg=True),
         tilt_deg=opt(tbl, "tilt_deg", item, nonneg=True, limit=45.0),
         hole_mm=opt(tbl, "hole_mm", item, nonneg=True, limit=100.0),
+        carrier_plate_mm=opt(tbl, "carrier_plate_mm", item, positive=True,
+                             limit=100.0),
         wheels=per_wheel)

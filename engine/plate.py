@@ -191,9 +191,13 @@ class Balance:
     """How far a carrier's plate and the wheels it carries are out of balance about its axis,
     as a design estimate from ideal shapes in brass (:data:`BRASS_G_PER_MM3`): the plate's
     ``plate_gmm_per_mm`` (its outline's area times its centre's distance from the axis, per
-    mm of thickness) and the wheels' ``wheels_gmm`` (each a solid disc of its pitch circle, as
-    thick as the widest face of its meshes, at its arbor's place; crossings make them
-    lighter); ``uncounted`` the wheels without a module, whose size is unknown."""
+    mm of thickness; with ``thickness_mm``, ``[workshop] carrier_plate_mm``, the plate's
+    whole figure too) and the wheels' ``wheels_gmm`` (each its face area as cut — the disc of
+    its pitch circle, less the windows of its crossings where they are drawn — as thick as
+    the widest face of its meshes, at its arbor's place); ``uncounted`` the wheels without a
+    module, whose size is unknown; ``crossed`` the wheels weighed with their crossings out.
+    ``plate_vec`` and ``wheels_vec`` are the same as vectors (g·mm per mm, g·mm), pointing to
+    the heavy side."""
 
     carrier: str
     shape: str
@@ -203,16 +207,44 @@ class Balance:
     wheels_gmm: float
     heavy_at_mm: float  # distance of the farthest carried wheel's axis (0: none)
     uncounted: tuple[str, ...] = ()
+    thickness_mm: float | None = None
+    crossed: tuple[str, ...] = ()
+    plate_vec: tuple[float, float] = (0.0, 0.0)
+    wheels_vec: tuple[float, float] = (0.0, 0.0)
+
+    @property
+    def plate_gmm(self) -> float | None:
+        """The plate's out-of-balance at its thickness, when the file gives it."""
+        return None if self.thickness_mm is None else self.plate_gmm_per_mm * self.thickness_mm
+
+    @property
+    def total_gmm(self) -> float | None:
+        """Plate and wheels together (as vectors: they may pull opposite ways), when the
+        file gives the plate's thickness."""
+        if self.thickness_mm is None:
+            return None
+        return math.hypot(self.plate_vec[0] * self.thickness_mm + self.wheels_vec[0],
+                          self.plate_vec[1] * self.thickness_mm + self.wheels_vec[1])
 
     @property
     def worth_saying(self) -> bool:
+        if self.thickness_mm is not None:
+            return max(self.total_gmm, self.wheels_gmm) >= BALANCE_NOTE_GMM
         return max(self.plate_gmm_per_mm, self.wheels_gmm) >= BALANCE_NOTE_GMM
 
 
+LEFT_OUT = ("arbors, collets, pins and screws, the teeth beyond the pitch circles and the "
+            "plate's own holes are left out")
+"""What the balance estimate does not weigh, said with it."""
+
+
 def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
-                    pitch: dict[str, float], shape: str = "box") -> Balance | None:
+                    pitch: dict[str, float], shape: str = "box",
+                    area_mm2: dict[str, tuple[float, bool]] | None = None) -> Balance | None:
     """The out-of-balance of a carrier's plate (as :func:`outline` draws it) and of the wheels
-    its arbors carry round; None for the frame."""
+    its arbors carry round; None for the frame. ``area_mm2``: each wheel's face area as cut
+    and whether its crossings were taken out (:func:`engine.drawing.wheel_area_mm2`); a wheel
+    missing there is weighed as the solid disc of its pitch circle."""
     if plate.mount == FRAME:
         return None
     kind, dims = outline(train, plate, reach, shape)
@@ -229,7 +261,7 @@ def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
             for w in (m.driver, m.driven):
                 face[w] = max(face.get(w, 0.0), m.face_width_mm)
     ux = uy = far = 0.0
-    uncounted = []
+    uncounted, crossed = [], []
     for h in plate.holes.values():
         d = math.hypot(h.x_mm, h.y_mm)
         if d <= EXACT_MM:
@@ -241,10 +273,15 @@ def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
                 if w not in pitch or w not in face:
                     uncounted.append(w)
                     continue
-                grams = BRASS_G_PER_MM3 * math.pi * pitch[w] ** 2 * face[w]
+                wheel_area, out = (area_mm2 or {}).get(w, (math.pi * pitch[w] ** 2, False))
+                if out:
+                    crossed.append(w)
+                grams = BRASS_G_PER_MM3 * wheel_area * face[w]
                 ux, uy, far = ux + grams * h.x_mm, uy + grams * h.y_mm, max(far, d)
-    return Balance(plate.mount, kind, size, offset, BRASS_G_PER_MM3 * area * offset,
-                   math.hypot(ux, uy), far, tuple(uncounted))
+    per_mm = BRASS_G_PER_MM3 * area
+    return Balance(plate.mount, kind, size, offset, per_mm * offset, math.hypot(ux, uy), far,
+                   tuple(uncounted), train.workshop.carrier_plate_mm, tuple(crossed),
+                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy))
 
 
 def balance_text(b: Balance) -> tuple[str, str]:
@@ -252,20 +289,40 @@ def balance_text(b: Balance) -> tuple[str, str]:
     same in ``wheelwork check`` and on the plate ``wheelwork cut`` draws."""
     shape = (f"a {places(b.size_mm[0], 0)} mm disc" if b.shape == "disc" else
              f"{places(b.size_mm[0], 0)} × {places(b.size_mm[1], 0)} mm")
-    parts = [f"its plate as wheelwork cut draws it ({shape}) has its centre "
-             f"{figure(b.plate_offset_mm, 3)} mm from the axis: about "
-             f"{figure(b.plate_gmm_per_mm, 3)} g·mm for each mm of brass plate"
-             if b.plate_gmm_per_mm >= BALANCE_NOTE_GMM else
-             f"its plate as wheelwork cut draws it ({shape}) is in balance about its axis"]
+    thick = b.thickness_mm
+    if thick is not None:
+        shape += f", {figure(thick, 3)} mm thick"
+    if b.plate_gmm_per_mm < BALANCE_NOTE_GMM:
+        parts = [f"its plate as wheelwork cut draws it ({shape}) is in balance about its axis"]
+    elif thick is None:
+        parts = [f"its plate as wheelwork cut draws it ({shape}) has its centre "
+                 f"{figure(b.plate_offset_mm, 3)} mm from the axis: about "
+                 f"{figure(b.plate_gmm_per_mm, 3)} g·mm for each mm of brass plate (give its "
+                 "thickness as [workshop] carrier_plate_mm for the whole figure)"]
+    else:
+        parts = [f"its plate as wheelwork cut draws it ({shape}) has its centre "
+                 f"{figure(b.plate_offset_mm, 3)} mm from the axis: about "
+                 f"{figure(b.plate_gmm, 3)} g·mm"]
     if b.wheels_gmm >= BALANCE_NOTE_GMM / 100:
-        parts.append(f"the wheels it carries round, taken as solid brass discs their face "
-                     f"wide, about {figure(b.wheels_gmm, 3)} g·mm")
+        how = ("brass discs of their pitch circles, their face wide"
+               + (f", less the windows of the crossings drawn in {', '.join(b.crossed)}"
+                  if b.crossed else ""))
+        parts.append(f"the wheels it carries round, taken as {how}, about "
+                     f"{figure(b.wheels_gmm, 3)} g·mm")
+    if thick is not None and b.plate_gmm >= BALANCE_NOTE_GMM and \
+            b.wheels_gmm >= BALANCE_NOTE_GMM / 100:
+        parts.append(f"together about {figure(b.total_gmm, 3)} g·mm")
     if b.uncounted:
         parts.append(f"{', '.join(b.uncounted)} not counted (no module)")
+    parts.append(LEFT_OUT)
     message = (f"carrier '{b.carrier}' turns out of balance (design estimate, brass "
                f"{figure(BRASS_G_PER_MM3 * 1000, 3)} g/cm³): " + "; ".join(parts))
+    weight = ""
+    if b.total_gmm is not None and b.heavy_at_mm > 0:
+        weight = (f" (about {figure(b.total_gmm / b.heavy_at_mm, 3)} g at "
+                  f"{figure(b.heavy_at_mm, 3)} mm, the farthest wheel's distance)")
     fix = ("balance it before it runs: a counterweight opposite the heavy side, of as many "
-           "grams as the g·mm above over its distance from the axis in mm"
+           "grams as the g·mm above over its distance from the axis in mm" + weight
            + (", a round plate centred on its axis (wheelwork cut --carrier-outline disc)"
               if b.shape != "disc" else "")
            + ", or lighter, crossed-out wheels; weigh the parts and balance the arm on its "

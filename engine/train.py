@@ -193,6 +193,7 @@ class Workshop:
     end_shake_mm: float | None = None
     tilt_deg: float | None = None
     hole_mm: float | None = None  # largest error of a pivot hole's place (play)
+    carrier_plate_mm: float | None = None  # a carrier plate's thickness (its balance)
     wheels: dict[str, WheelShop] = field(default_factory=dict)
 
     def wheel(self, name: str) -> WheelShop:

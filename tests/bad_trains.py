@@ -158,6 +158,9 @@ def _texts() -> list[tuple[str, str | bytes]]:
     for label, value in [("negative", "-0.02"), ("with its unit", '"0.02mm"'), ("huge", "500"),
                          ("nan", "nan")]:
         add(f"workshop hole_mm {label}", GOOD + f"[workshop]\nhole_mm = {value}\n")
+    for label, value in [("zero", "0"), ("negative", "-1.5"), ("with its unit", '"2mm"'),
+                         ("huge", "500")]:
+        add(f"workshop carrier_plate_mm {label}", GOOD + f"[workshop]\ncarrier_plate_mm = {value}\n")
     for label, value in [("a word", '"many"'), ("two", "2"), ("a fraction", "4.5"),
                          ("auto unquoted", "auto")]:
         add(f"workshop crossings {label}", GOOD + f"[workshop]\ncrossings = {value}\n")

@@ -648,3 +648,16 @@ def test_a_file_not_in_utf8_says_what_it_is_and_what_to_do(tmp_path, raw, words)
         with pytest.raises(TrainError) as caught:
             read(path)
         assert str(caught.value).startswith(f"{path}: {words}"), str(caught.value)
+
+
+def test_workshop_carrier_plate_thickness_is_read_and_checked():
+    # [workshop] carrier_plate_mm: a carrier plate's thickness, for its balance (docs/workshop.md)
+    assert parse_train(GOOD, "t.toml").workshop.carrier_plate_mm is None
+    train = parse_train(GOOD + "[workshop]\ncarrier_plate_mm = 1.2\n", "t.toml")
+    assert train.workshop.carrier_plate_mm == 1.2
+    assert error_of(GOOD + "[workshop]\ncarrier_plate_mm = 0\n") == (
+        "bad.toml: [workshop] carrier_plate_mm: must be greater than zero, got 0")
+    assert "[workshop] carrier_plate_mm: must be above 0 and at most 100" in error_of(
+        GOOD + "[workshop]\ncarrier_plate_mm = 500\n")
+    assert "[workshop] carrier_plate_mm: should be a number" in error_of(
+        GOOD + '[workshop]\ncarrier_plate_mm = "1.5mm"\n')
