@@ -24,7 +24,7 @@ from .figures import figure
 from .kinematics import Kinematics, axis_groups
 from .mechanism import Mechanism, train_and_kin
 from .periods import PERIODS, SECONDS_PER_DAY
-from .train import FRAME, Train
+from .train import FRAME, PLATE_SIDES, Train
 
 # --- defaults and rules of thumb (each with where it comes from) -----------------------------
 
@@ -696,21 +696,47 @@ def holes_overlap(dist_mm: float, d1_mm: float, d2_mm: float) -> bool:
     return dist_mm < (d1_mm + d2_mm) / 2
 
 
+def in_plate(train: Train, arbors, mount: str, side: str) -> list[str]:
+    """The arbors of one axis that make a pivot hole in the ``side`` plate (``"front"`` or
+    ``"back"``) of ``mount``: those it holds whose ``pivots_in`` puts a pivot there, and any
+    arbor of the axis on another mount (a carrier's own arbor at its plate's centre) — an
+    empty list when that plate has no hole for the axis (a cock or bridge holds its pivot)."""
+    return [a for a in arbors
+            if train.arbors[a].mount != mount or train.arbors[a].pivoted_in(side)]
+
+
+def in_cocks(train: Train, arbors, mount: str, side: str) -> list[str]:
+    """The arbors of one axis that ``mount`` holds whose pivot on ``side`` sits in a cock or
+    bridge (``pivots_in``), not in that plate."""
+    return [a for a in arbors
+            if train.arbors[a].mount == mount and not train.arbors[a].pivoted_in(side)]
+
+
+def split_plates(train: Train, mount: str) -> bool:
+    """Whether ``mount``'s front and back plates differ: an arbor it holds pivots in one of
+    them alone, or in neither (``pivots_in``). Else one drawing stands for both."""
+    return any(a.mount == mount and a.pivots_in != "both" for a in train.arbors.values())
+
+
 def hole_overlap_text(axes: tuple[str, str], dist_mm: float, holes: tuple[tuple[float, str],
-                      tuple[float, str]], how: str, tail: str = "") -> tuple[str, str]:
+                      tuple[float, str]], how: str, tail: str = "", where: str = ""
+                      ) -> tuple[str, str]:
     """What to say of two pivot holes that run into one another: ``axes`` their names (the
     arbors on each axis joined by '/'), ``holes`` each one's (diameter, arbor setting it) from
     :func:`hole_mm`, ``how`` what holds them ``dist_mm`` apart (``offset_mm``, a mesh, the
-    file's ``at_mm``, ``as drawn``); ``tail`` how the axes could be parted further, if they can. The message and the fix, one line
-    each, the same in ``wheelwork check`` and on the plate's notes."""
+    file's ``at_mm``, ``as drawn``); ``tail`` how the axes could be parted further, if they
+    can; ``where`` the plate, when they meet in one only (``front``). The message and the fix,
+    one line each, the same in ``wheelwork check`` and on the plate's notes."""
     (d1, a1), (d2, a2) = holes
     across = f"{_mm(d1)} across" if d1 == d2 else f"{_mm(d1)} and {_mm(d2)} across"
-    message = (f"the pivot holes of '{axes[0]}' and '{axes[1]}' are {_mm(dist_mm)} apart centre "
-               f"to centre ({how}) but {across} (pivot_mm): they run into one another and hold "
-               "neither arbor")
-    fix = (f"pivot one of the two in a cock or bridge of its own, give them smaller pivots "
-           f"(the two diameters averaging under {_mm(dist_mm)}: [arbors.{a1}] and "
-           f"[arbors.{a2}] pivot_mm, or [workshop] pivot_mm)"
+    plate = f" in the {where} plate" if where else ""
+    message = (f"the pivot holes of '{axes[0]}' and '{axes[1]}'{plate} are {_mm(dist_mm)} "
+               f"apart centre to centre ({how}) but {across} (pivot_mm): they run into one "
+               "another and hold neither arbor")
+    fix = (f"pivot one of the two in a cock or bridge of its own (pivots_in = \"front\" or "
+           f"\"back\" in [arbors.{a1}] or [arbors.{a2}]: the plate it leaves has no hole for "
+           f"it), give them smaller pivots (the two diameters averaging under {_mm(dist_mm)}: "
+           f"[arbors.{a1}] and [arbors.{a2}] pivot_mm, or [workshop] pivot_mm)"
            + (f", or part the axes further ({tail})" if tail else ""))
     return message, fix
 
@@ -718,7 +744,8 @@ def hole_overlap_text(axes: tuple[str, str], dist_mm: float, holes: tuple[tuple[
 def _pivot_holes(train: Train, kin: Kinematics, groups: dict[str, str],
                  findings: list[Finding]) -> None:
     """Every two pivot holes on one plate whose distance the file settles, and which run into
-    one another (:func:`holes_overlap`): a pin-and-slot's axes stand its offset apart (a carried
+    one another (:func:`holes_overlap`) in the same plate (front or back: :func:`in_plate`):
+    a pin-and-slot's axes stand its offset apart (a carried
     pin's arbor its arm from the carrier's axis), a mesh's its centre distance, and arbors the
     file places with ``at_mm`` (a carrier's own axis at the centre of its plate) where it puts
     them. ``wheelwork cut`` says the same on the plate it draws; the check says it before
@@ -763,14 +790,23 @@ def _pivot_holes(train: Train, kin: Kinematics, groups: dict[str, str],
                 item = who if who.startswith("[") else items[i][1][1]
                 add(mount, g1, g2, math.dist(p1, p2), f"{item} at_mm", "at_mm",
                     "at_mm")
-    for item, g1, g2, dist, how, tail in known.values():
-        h1 = hole_mm(train, [n for n in train.arbors if groups[n] == g1])
-        h2 = hole_mm(train, [n for n in train.arbors if groups[n] == g2])
-        if not holes_overlap(dist, h1[0], h2[0]):
+    for (mount, _), (item, g1, g2, dist, how, tail) in known.items():
+        # only holes in one plate can run into one another: an arbor pivoted in a cock or
+        # bridge on one side (pivots_in) has no hole in that plate
+        met = []
+        for side in PLATE_SIDES:
+            s1 = in_plate(train, [n for n in train.arbors if groups[n] == g1], mount, side)
+            s2 = in_plate(train, [n for n in train.arbors if groups[n] == g2], mount, side)
+            if s1 and s2:
+                h1, h2 = hole_mm(train, s1), hole_mm(train, s2)
+                if holes_overlap(dist, h1[0], h2[0]):
+                    met.append((side, h1, h2))
+        if not met:
             continue
+        side, h1, h2 = met[0]
         message, fix = hole_overlap_text((_axis_names(train, groups, g1),
                                           _axis_names(train, groups, g2)), dist, (h1, h2), how,
-                                         tail)
+                                         tail, side if len(met) == 1 else "")
         findings.append(Finding("warning", item, f"{_file_name(train)}: {message}", fix))
 
 

@@ -23,7 +23,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .checks import hole_mm, hole_overlap_text, holes_overlap
+from .checks import (
+    hole_mm,
+    hole_overlap_text,
+    holes_overlap,
+    in_cocks,
+    in_plate,
+    split_plates,
+)
 from .errors import TrainError
 from .figures import figure
 from .kinematics import Kinematics
@@ -45,7 +52,7 @@ from .toothform import (
     involute_ring,
     involute_wheel,
 )
-from .train import CROSSINGS_AUTO, FRAME, Train
+from .train import CROSSINGS_AUTO, FRAME, PLATE_SIDES, Train
 
 LAYERS = {  # name: (SVG colour, DXF colour index, what it is)
     "CUT": ("#b3001b", 1, "cut through"),
@@ -633,21 +640,32 @@ on its own axis (balanced in itself as it turns). The frame's plate is always a 
 
 def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                reach: dict[str, float] | None = None, carrier_outline: str = "box",
-               areas: dict[str, tuple[float, bool]] | None = None) -> Part:
+               areas: dict[str, tuple[float, bool]] | None = None,
+               side: str | None = None) -> Part:
     """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles. Its
     outline (:func:`engine.plate.outline`) is a rounded rectangle covering every hole by
     ``PLATE_MARGIN_MM`` and the wheels over it (their ``reach``, the tip radius, else the pitch
     radius) by ``PLATE_CLEAR_MM``; a carrier's, with ``carrier_outline="disc"``, a disc round
     its axis covering the same. A carrier out of balance as it turns is said in a note (its
-    wheels weighed by ``areas``, :func:`wheel_area_mm2`, else as solid discs)."""
+    wheels weighed by ``areas``, :func:`wheel_area_mm2`, else as solid discs). With ``side``
+    (``"front"`` or ``"back"``: the mount's plates differ, :func:`engine.checks.split_plates`),
+    that plate alone: an axis whose pivot on that side sits in a cock or bridge
+    (``pivots_in``) gets no hole, only its centre marked and named as the cock's; the
+    placement's and the balance's notes go with the front plate."""
     pivot = train.workshop.pivot_mm
-    # a hole is as wide as the widest pivot of the arbors it holds (an arbor's own pivot_mm,
-    # else [workshop]'s)
-    size = {h.axis: hole_mm(train, h.arbors)[0] for h in plate.holes.values()}
+    # a hole is as wide as the widest pivot of the arbors it holds in this plate (an arbor's
+    # own pivot_mm, else [workshop]'s)
+    drilled = {h.axis: (in_plate(train, h.arbors, plate.mount, side) if side else
+                        list(h.arbors)) for h in plate.holes.values()}
+    holes = [h for h in plate.holes.values() if drilled[h.axis]]
+    cocks = [h for h in plate.holes.values() if not drilled[h.axis]]
+    size = {h.axis: hole_mm(train, drilled[h.axis] or h.arbors)[0]
+            for h in plate.holes.values()}
     what = "the frame" if plate.mount == FRAME else f"carrier '{plate.mount}'"
-    sizes = sorted(set(size.values()))
-    title = (f"plate of {what}: {len(plate.holes)} holes, pivots "
-             f"{' / '.join(figure(s, 6) for s in sizes) or figure(pivot, 6)} mm")
+    sizes = sorted({size[h.axis] for h in holes})
+    title = (f"{side + ' ' if side else ''}plate of {what}: {len(holes)} holes"
+             + (f", {len(cocks)} cock{'s' if len(cocks) > 1 else ''}" if cocks else "")
+             + f", pivots {' / '.join(figure(s, 6) for s in sizes) or figure(pivot, 6)} mm")
     part = Part(stem, title, "plate")
     over = {**pitch, **(reach or {})}
     shape, dims = outline(train, plate, over, carrier_outline)
@@ -669,20 +687,23 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                     and y0 + LABEL_INSET_MM <= ty and ty + h <= y1 - LABEL_INSET_MM)
     keyed: list[tuple[str, str]] = []  # (key, hole name) for names too long for the plate
     for h in plate.holes.values():
-        part.circles.append(("CUT", h.x_mm, h.y_mm, size[h.axis] / 2))
+        cock = not drilled[h.axis]
+        # a cock's pivot: its centre marked (MARK), no hole through this plate
+        part.circles.append(("MARK" if cock else "CUT", h.x_mm, h.y_mm, size[h.axis] / 2))
         c = max(size[h.axis], 2.0)
         part.lines.append(("MARK", np.array([[h.x_mm - c, h.y_mm], [h.x_mm + c, h.y_mm]])))
         part.lines.append(("MARK", np.array([[h.x_mm, h.y_mm - c], [h.x_mm, h.y_mm + c]])))
         marks = [(o.x_mm, o.y_mm) for o in plate.holes.values() if o is not h]
-        at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], h.axis, part.texts, marks, fits)
+        name = f"cock: {h.axis}" if cock else h.axis
+        at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], name, part.texts, marks, fits)
         if at is None:  # no room for the whole name on the plate: a key, named under it
             key = _key_name(len(keyed))
-            keyed.append((key, h.axis))
+            keyed.append((key, name))
             at = _hole_label_at(h.x_mm, h.y_mm, size[h.axis], key, part.texts, marks,
                                 fits) or (h.x_mm + size[h.axis], h.y_mm, False)
             part.texts.append((*at[:2], TEXT_MM * 0.8, key))
         else:
-            part.texts.append((*at[:2], TEXT_MM * 0.8, h.axis))
+            part.texts.append((*at[:2], TEXT_MM * 0.8, name))
         if at[2]:  # stepped away from its hole: a line to say whose name it is
             _leader(part, h.x_mm, h.y_mm, part.texts[-1])
         for w in on_plate(train, plate, h):
@@ -692,29 +713,44 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         a, b = plate.holes[t.axis1], plate.holes[t.axis2]
         part.lines.append(("MARK", np.array([[a.x_mm, a.y_mm], [b.x_mm, b.y_mm]])))
     part.info = {
-        "mount": plate.mount, "pivot_mm": pivot,
+        "mount": plate.mount, "pivot_mm": pivot, "side": side or "both",
         "holes": [{"axis": h.axis, "arbors": list(h.arbors), "x_mm": h.x_mm, "y_mm": h.y_mm,
-                   "fixed": h.fixed, "pivot_mm": size[h.axis]} for h in plate.holes.values()],
+                   "fixed": h.fixed, "pivot_mm": size[h.axis]} for h in holes],
+        "cocks": [{"axis": h.axis, "arbors": in_cocks(train, h.arbors, plate.mount, side),
+                   "x_mm": h.x_mm, "y_mm": h.y_mm, "pivot_mm": size[h.axis]} for h in cocks],
         "distances": [{"item": t.label, "axes": [plate.holes[t.axis1].axis,
                                                  plate.holes[t.axis2].axis],
                        "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
                       for t in plate.ties],
         "not_drawn": [{"axis": ax, "meshes": list(ms)} for ax, ms in plate.withheld.items()]}
-    part.notes.extend(plate.notes)
-    balance = carrier_balance(train, plate, over, pitch, carrier_outline, areas)
-    if balance is not None and balance.worth_saying:
-        message, fix = balance_text(balance)
-        part.notes.append(f"{message}: {fix}")
+    first = side in (None, "front")
+    if first:
+        part.notes.extend(plate.notes)
+        balance = carrier_balance(train, plate, over, pitch, carrier_outline, areas)
+        if balance is not None and balance.worth_saying:
+            message, fix = balance_text(balance)
+            part.notes.append(f"{message}: {fix}")
+    else:
+        part.notes.append(f"placed and outlined as the front plate of {what}; the notes on "
+                          "the holes' places are with that plate")
+    if cocks:
+        part.notes.append(
+            f"no hole for {'; '.join(h.axis for h in cocks)}: "
+            f"{'a cock or bridge holds their' if len(cocks) > 1 else 'a cock or bridge holds its'}"
+            f" {side} pivot{'s' if len(cocks) > 1 else ''} (pivots_in), at the marked "
+            f"centre{'s' if len(cocks) > 1 else ''} "
+            + ", ".join(f"({figure(h.x_mm, 6)}, {figure(h.y_mm, 6)}) mm" for h in cocks)
+            + "; the cock's shape and its screws are the maker's to draw")
     part.info["outline"] = shape
-    holes = list(plate.holes.values())
     for i, a in enumerate(holes):  # the check's one rule for two holes that run into each other
         for b in holes[i + 1:]:
             d = math.hypot(a.x_mm - b.x_mm, a.y_mm - b.y_mm)
-            ha, hb = hole_mm(train, a.arbors), hole_mm(train, b.arbors)
+            ha, hb = hole_mm(train, drilled[a.axis]), hole_mm(train, drilled[b.axis])
             if holes_overlap(d, ha[0], hb[0]):
-                message, fix = hole_overlap_text((a.axis, b.axis), d, (ha, hb), "as drawn")
+                message, fix = hole_overlap_text((a.axis, b.axis), d, (ha, hb), "as drawn",
+                                                 where=side or "")
                 part.notes.append(f"{message}: {fix}")
-    shared = [h.axis for h in plate.holes.values() if len(h.arbors) > 1]
+    shared = [h.axis for h in holes if len(h.arbors) > 1]
     if shared:
         part.notes.append(f"{'holes' if len(shared) > 1 else 'the hole'} for arbors sharing an "
                           f"axis ({'; '.join(shared)}) drawn at the pivot's {figure(pivot, 6)} mm: open "
@@ -874,6 +910,12 @@ def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
     areas = wheel_areas(train, forms, plates)
     notes = []
     for p in plates:
+        if p.holes and split_plates(train, p.mount):  # a front and a back plate that differ
+            for side in PLATE_SIDES:
+                stem = _unique(f"plate-{slug(p.name)}-{side}", used)
+                parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline, areas,
+                                        side))
+            continue
         stem = _unique(f"plate-{slug(p.name)}", used)
         if p.holes:
             parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline, areas))

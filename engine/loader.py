@@ -31,6 +31,7 @@ from .train import (
     CROSSINGS_AUTO,
     EPHEMERIS_NAMES,
     FRAME,
+    PIVOTS_IN,
     SET_MODES,
     TOOTH_FORMS,
     Arbor,
@@ -89,7 +90,7 @@ _KEYS = {
     "train": {"name", "about", "dial"},
     "crank": {"arbor", "days_per_turn"},
     "epoch": {"date", "set", "calendar", "ephemeris"},
-    "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "pivot_mm", "note"},
+    "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "pivot_mm", "pivots_in", "note"},
     "mesh": {"wheels", "ring", "module_mm", "face_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
                  "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
@@ -613,7 +614,9 @@ def _read_arbors(r: _Reader, doc: dict):
         pivot = tbl.get("pivot_mm")
         if pivot is not None:
             pivot = r.number(pivot, f"{item} pivot_mm", positive=True)
-        arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with, pivot)
+        pivots_in = r.choice(tbl.get("pivots_in", "both"), f"{item} pivots_in", PIVOTS_IN)
+        arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with, pivot,
+                              pivots_in)
     for a in arbors.values():
         if a.mount != FRAME and a.mount not in arbors:
             raise r.fail(f"[arbors.{a.name}] on", f"{unknown_name('arbor', a.mount, arbors)} "

@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .checks import TOLERANCE_MM, centre_distance_mm
+from .checks import TOLERANCE_MM, centre_distance_mm, split_plates
 from .errors import PlacementError
 from .figures import figure
 from .figures import fixed as places  # 'fixed' names the positions the file fixes
@@ -197,7 +197,8 @@ class Balance:
     the widest face of its meshes, at its arbor's place); ``uncounted`` the wheels without a
     module, whose size is unknown; ``crossed`` the wheels weighed with their crossings out.
     ``plate_vec`` and ``wheels_vec`` are the same as vectors (g·mm per mm, g·mm), pointing to
-    the heavy side."""
+    the heavy side. A carrier whose arbors' ``pivots_in`` part its plates into a front and a
+    back (``plates`` 2) has both weighed, the two alike in outline."""
 
     carrier: str
     shape: str
@@ -211,6 +212,7 @@ class Balance:
     crossed: tuple[str, ...] = ()
     plate_vec: tuple[float, float] = (0.0, 0.0)
     wheels_vec: tuple[float, float] = (0.0, 0.0)
+    plates: int = 1  # 2: a front and a back plate alike (an arbor's pivots_in parts them)
 
     @property
     def plate_gmm(self) -> float | None:
@@ -278,10 +280,11 @@ def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
                     crossed.append(w)
                 grams = BRASS_G_PER_MM3 * wheel_area * face[w]
                 ux, uy, far = ux + grams * h.x_mm, uy + grams * h.y_mm, max(far, d)
-    per_mm = BRASS_G_PER_MM3 * area
+    count = 2 if split_plates(train, plate.mount) else 1
+    per_mm = BRASS_G_PER_MM3 * area * count
     return Balance(plate.mount, kind, size, offset, per_mm * offset, math.hypot(ux, uy), far,
                    tuple(uncounted), train.workshop.carrier_plate_mm, tuple(crossed),
-                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy))
+                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy), count)
 
 
 def balance_text(b: Balance) -> tuple[str, str]:
@@ -292,15 +295,20 @@ def balance_text(b: Balance) -> tuple[str, str]:
     thick = b.thickness_mm
     if thick is not None:
         shape += f", {figure(thick, 3)} mm thick"
+    plate = ("its plate as wheelwork cut draws it" if b.plates == 1 else
+             "its front and back plates as wheelwork cut draws them")
+    if b.plates > 1:
+        shape += " each"
     if b.plate_gmm_per_mm < BALANCE_NOTE_GMM:
-        parts = [f"its plate as wheelwork cut draws it ({shape}) is in balance about its axis"]
+        parts = [f"{plate} ({shape}) {'is' if b.plates == 1 else 'are'} in balance about its "
+                 "axis"]
     elif thick is None:
-        parts = [f"its plate as wheelwork cut draws it ({shape}) has its centre "
+        parts = [f"{plate} ({shape}) {'has its' if b.plates == 1 else 'have their'} centre "
                  f"{figure(b.plate_offset_mm, 3)} mm from the axis: about "
                  f"{figure(b.plate_gmm_per_mm, 3)} g·mm for each mm of brass plate (give its "
                  "thickness as [workshop] carrier_plate_mm for the whole figure)"]
     else:
-        parts = [f"its plate as wheelwork cut draws it ({shape}) has its centre "
+        parts = [f"{plate} ({shape}) {'has its' if b.plates == 1 else 'have their'} centre "
                  f"{figure(b.plate_offset_mm, 3)} mm from the axis: about "
                  f"{figure(b.plate_gmm, 3)} g·mm"]
     if b.wheels_gmm >= BALANCE_NOTE_GMM / 100:
@@ -398,7 +406,8 @@ def _over_pivots(train: Train, plate: Plate, reach_mm: dict[str, float]) -> None
                     f"as placed, wheel '{w}' (tip radius {places(reach_mm[w], 2)} mm) reaches over "
                     f"the pivot{'s' if len(over) > 1 else ''} of {where}: end "
                     f"{'those arbors' if len(over) > 1 else 'that arbor'} short of its plane "
-                    "(a cock or bridge), or place the axes yourself with at_mm")
+                    "(a cock or bridge on that side: pivots_in in its [arbors.NAME]), or place "
+                    "the axes yourself with at_mm")
 
 
 def _ties(train: Train, kin: Kinematics, groups, mount: str) -> list[Tie]:

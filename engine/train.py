@@ -15,6 +15,13 @@ FRAME = "frame"  # the name of the fixed frame, which every mount chain ends at
 
 SET_MODES = ("sky", "mean", "angles")
 
+PIVOTS_IN = ("both", "front", "back", "cocks")
+"""``[arbors.NAME] pivots_in``: which of its mount's two plates hold an arbor's pivots: both
+(the default), the front or the back alone (its other pivot in a cock or bridge, no hole
+through that plate), or neither (both pivots in cocks or bridges)."""
+
+PLATE_SIDES = ("front", "back")
+
 
 @dataclass(frozen=True)
 class Wheel:
@@ -40,6 +47,12 @@ class Arbor:
     at_mm: tuple[float, float] | None = None
     axis_with: str | None = None
     pivot_mm: float | None = None  # its own pivots' diameter, where the file gives one
+    pivots_in: str = "both"  # PIVOTS_IN: the plates its pivots sit in
+
+    def pivoted_in(self, side: str) -> bool:
+        """Whether its pivot on ``side`` (``"front"`` or ``"back"``) sits in its mount's plate
+        there (else in a cock or bridge)."""
+        return self.pivots_in in ("both", side)
 
 
 @dataclass(frozen=True)

@@ -129,6 +129,8 @@ def _texts() -> list[tuple[str, str | bytes]]:
     add("at_mm 1e300", _sub("[arbors.b]\n", "[arbors.b]\nat_mm = [1e300, 0]\n"))
     add("arbor pivot_mm zero", _sub("[arbors.b]\n", "[arbors.b]\npivot_mm = 0\n"))
     add("arbor pivot_mm word", _sub("[arbors.b]\n", '[arbors.b]\npivot_mm = "thin"\n'))
+    add("arbor pivots_in a word", _sub("[arbors.b]\n", '[arbors.b]\npivots_in = "top"\n'))
+    add("arbor pivots_in a list", _sub("[arbors.b]\n", '[arbors.b]\npivots_in = ["front"]\n'))
     add("axis_with itself", _sub("[arbors.b]\n", '[arbors.b]\naxis_with = "b"\n'))
     add("axis_with unknown", _sub("[arbors.b]\n", '[arbors.b]\naxis_with = "zz"\n'))
     add("axis_with a number", _sub("[arbors.b]\n", "[arbors.b]\naxis_with = 2\n"))

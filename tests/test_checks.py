@@ -20,6 +20,7 @@ from engine.checks import (
     undercut_shift,
 )
 from engine.cli import main
+from engine.errors import TrainError
 from engine.kinematics import slot_follower_turns, solve
 from engine.loader import load_train, parse_train
 from engine.toothform import cycloidal_wheel
@@ -865,6 +866,54 @@ def test_an_arbors_own_pivot_sets_its_hole_against_its_neighbours():
     (w,) = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
     assert "1.2 mm and 0.8 mm across" in w.message
     assert "[arbors.pin_arbor] and [arbors.slot_arbor] pivot_mm" in w.fix
+
+
+def _tide_office_cocks(pin: str, slot: str) -> str:
+    """The tide office at the frame's 1 mm pivots, its pin and slot arbors pivoted as
+    ``pivots_in`` says (an empty string: the default, both plates)."""
+    text = _tide_office_pivots("")
+    for wheel, where in (("pin_wheel = 48", pin), ("slot_wheel = 40", slot)):
+        if where:
+            text = text.replace(f"wheels = {{ {wheel} }}\n",
+                                f"wheels = {{ {wheel} }}\npivots_in = \"{where}\"\n")
+    return text
+
+
+@pytest.mark.parametrize("pin, slot, plate", [
+    ("", "", ""),  # both in both plates: they run into one another in both
+    ("front", "", "front"),  # the slot arbor's hole meets the pin's in the front plate only
+    ("", "back", "back"),
+    ("front", "back", None),  # one hole in each plate, the other pivot in a cock: clear
+    ("cocks", "", None),
+    ("back", "front", None),
+])
+def test_arbors_pivoted_in_cocks_have_holes_only_where_they_say(pin, slot, plate):
+    # [arbors.NAME] pivots_in: the overlapping-holes rule compares only holes in one plate;
+    # the tide office's pin and slot arbors, 0.985 mm apart at 1 mm pivots (plane geometry:
+    # 0.985 < 0.5 + 0.5), pivoted one in each plate with a cock for the other, need no
+    # smaller pivots
+    train = parse_train(_tide_office_cocks(pin, slot), "tide_cocks.toml")
+    found = levels(check(train, solve(train)), "warning", "[pin_slots.anomaly]")
+    if plate is None:
+        assert not found
+        return
+    (w,) = found
+    assert "run into one another" in w.message
+    assert (f"in the {plate} plate" in w.message) == bool(plate)
+    assert "in the front plate" not in w.message or plate == "front"
+    assert 'pivots_in = "front" or "back"' in w.fix
+
+
+def test_a_bad_pivots_in_is_one_line_naming_the_arbor():
+    with pytest.raises(TrainError) as info:
+        parse_train(_tide_office_cocks("fornt", ""), "bad.toml")
+    assert str(info.value) == ("bad.toml: [arbors.pin_arbor] pivots_in: should be one of both, "
+                               "front, back, cocks, got 'fornt'; did you mean 'front'?")
+    with pytest.raises(TrainError, match=r"^bad.toml: \[arbors.pin_arbor\] pivots_in: should be "
+                       "one of both, front, back, cocks, got 1$"):
+        parse_train(_tide_office_pivots("").replace(
+            "wheels = { pin_wheel = 48 }\n", "wheels = { pin_wheel = 48 }\npivots_in = 1\n"),
+            "bad.toml")
 
 
 def test_the_heaviest_load_is_written_as_the_estimate_it_is():

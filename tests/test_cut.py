@@ -16,6 +16,7 @@ from engine.checks import centre_distance_mm, check
 from engine.cli import main
 from engine.drawing import cut_parts, layout_sheet, tooth_forms
 from engine.errors import PlacementError, TrainError
+from engine.figures import fixed
 from engine.kinematics import solve
 from engine.loader import load_train, parse_train
 from engine.plate import place_plates
@@ -749,6 +750,56 @@ def test_pivot_holes_that_run_into_one_another_are_said(tmp_path, capsys):
     assert sizes["pin_arbor"] == sizes["slot_arbor"] == 0.45
     svg = (tmp_path / "d" / "plate-perigee_carrier.svg").read_text()
     assert "pivots 0.45 / 1 mm" in svg
+
+
+def test_an_arbor_pivoted_in_a_cock_has_no_hole_in_that_plate(tmp_path, capsys):
+    # [arbors.NAME] pivots_in: the tide office's pin arbor pivoted in the carrier's front
+    # plate and a cock behind, the slot arbor in the back plate and a cock in front, at the
+    # frame's 1 mm pivots (0.985 mm apart: two holes in one plate would run into one another).
+    # The carrier gets a front and a back plate, each drilling one of the two and marking the
+    # other's cock; the frame, whose arbors all pivot in both, stays one drawing.
+    text = DEMO.read_text().replace("pivot_mm = 0.45\n", "")
+    text = text.replace("wheels = { pin_wheel = 48 }\n",
+                        'wheels = { pin_wheel = 48 }\npivots_in = "front"\n')
+    text = text.replace("wheels = { slot_wheel = 40 }\n",
+                        'wheels = { slot_wheel = 40 }\npivots_in = "back"\n')
+    train = tmp_path / "cocks.toml"
+    train.write_text(text)
+    out = tmp_path / "t"
+    assert main(["cut", str(train), "--out", str(out), "--json"]) == 0
+    parts = {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+    assert "plate-perigee_carrier" not in parts and "plate-frame" in parts
+    front, back = parts["plate-perigee_carrier-front"], parts["plate-perigee_carrier-back"]
+    for part, drilled, cocked in ((front, "pin_arbor", "slot_arbor"),
+                                  (back, "slot_arbor", "pin_arbor")):
+        holes = {h["axis"] for h in part["holes"]}
+        assert drilled in holes and cocked not in holes
+        (cock,) = part["cocks"]
+        assert cock["arbors"] == [cocked]
+        assert not any("run into" in n for n in part["notes"])
+        assert any(n.startswith(f"no hole for {cocked}: a cock or bridge holds its "
+                                f"{part['side']} pivot") for n in part["notes"])
+        doc = ezdxf.readfile(out / f"{part['name']}.dxf")
+        cut = [(c.dxf.center.x, c.dxf.center.y) for c in doc.modelspace().query("CIRCLE")
+               if c.dxf.layer == "CUT"]
+        assert not any(math.dist(c, (cock["x_mm"], cock["y_mm"])) < UM for c in cut)
+        marks = [c for c in doc.modelspace().query("CIRCLE") if c.dxf.layer == "MARK"]
+        assert any(math.dist((c.dxf.center.x, c.dxf.center.y),
+                             (cock["x_mm"], cock["y_mm"])) < UM for c in marks)
+        assert f"cock: {cocked}" in (out / f"{part['name']}.svg").read_text()
+    # the pin and slot 0.985 mm apart (the demo's offset_mm), one above the other
+    assert math.dist((front["cocks"][0]["x_mm"], front["cocks"][0]["y_mm"]),
+                     (back["cocks"][0]["x_mm"], back["cocks"][0]["y_mm"])) == pytest.approx(0.985)
+    # the balance is said once, for both plates
+    assert any("front and back plates" in n for n in front["notes"])
+    assert not any("out of balance" in n for n in back["notes"])
+    # the text output lists each cock under its plate
+    assert main(["cut", str(train), "--out", str(tmp_path / "u")]) == 0
+    said = capsys.readouterr().out
+    for part in (front, back):
+        (c,) = part["cocks"]
+        assert (f"cock for {c['arbors'][0]} ({part['side']} pivot, no hole): "
+                f"{fixed(c['x_mm'], 4)}, {fixed(c['y_mm'], 4)}") in said
 
 
 @pytest.mark.parametrize("module", [0.001, 0.01, 0.05, 0.5, 5.0])

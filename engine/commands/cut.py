@@ -150,6 +150,10 @@ def _print(cut: CutSet, written: list[str], folder: Path, console: Console, *,
             fixed = " (fixed by the file)" if h["fixed"] else ""
             console.print(f"  {escape(h['axis'])}: {support.fixed(h['x_mm'], 4)}, "
                           f"{support.fixed(h['y_mm'], 4)}{fixed}")
+        for c in p.info["cocks"]:  # a pivot in a cock or bridge: no hole in this plate
+            console.print(f"  cock for {escape('/'.join(c['arbors']))} ({p.info['side']} "
+                          f"pivot, no hole): {support.fixed(c['x_mm'], 4)}, "
+                          f"{support.fixed(c['y_mm'], 4)}")
     from ..toothform import DEEP_ADVICE, DEEP_NOTE_START, deep_teeth_text
 
     # deep cycloidal teeth: one note for all the wheels that have them, not one each
