@@ -758,9 +758,28 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                           "diameter where a tube passes through this plate (the file gives no "
                           "tube sizes)")
     _label_at(part, title, (x0 + x1) / 2, y0)
-    _key_table(part, keyed, x0, y0 - 2 * TEXT_MM, max(x1 - x0, KEY_MIN_WIDTH_MM))
+    width = max(x1 - x0, KEY_MIN_WIDTH_MM)
+    bottom = _key_table(part, keyed, x0, y0 - 2 * TEXT_MM, width)
     part.info["keys"] = dict(keyed)
+    part.info["placed_apart"] = [list(g) for g in plate.apart]
+    if plate.apart and first:  # on the drawing too: these distances are no measure
+        _text_lines(part, "placed apart, not measured from the rest of the plate (set at_mm): "
+                    + "; ".join(", ".join(g) for g in plate.apart), x0, bottom, width)
     return part
+
+
+def _text_lines(part: Part, text: str, x0: float, top: float, width: float) -> float:
+    """``text`` on the NOTE layer under ``top``, wrapped at spaces to ``width`` mm (a word
+    longer than a line broken anywhere: nothing is cut); returns the last line's foot."""
+    import textwrap
+
+    h = TEXT_MM * 0.8
+    y = top - 0.6 * h
+    chars = max(8, int(width / _text_width("x", h)))
+    for line in textwrap.wrap(text, chars, break_on_hyphens=False):
+        y -= 1.5 * h
+        part.texts.append((x0, y, h, line))
+    return y
 
 
 KEY_MIN_WIDTH_MM = 60.0
@@ -778,10 +797,10 @@ def _key_name(i: int) -> str:
 
 
 def _key_table(part: Part, keyed: list[tuple[str, str]], x0: float, top: float,
-               width: float) -> None:
+               width: float) -> float:
     """Under the plate's title, ``KEY = full name`` for each hole named by a key, the name
     wrapped after a '/' (or, for one part longer than a line, anywhere) to ``width`` mm: no
-    name is ever cut."""
+    name is ever cut. Returns the last line's foot (``top``'s own line without keys)."""
     h = TEXT_MM * 0.8
     y = top - 0.6 * h
     for key, name in keyed:
@@ -791,6 +810,7 @@ def _key_table(part: Part, keyed: list[tuple[str, str]], x0: float, top: float,
             y -= 1.5 * h
             part.texts.append((x0 + (_text_width(head, h) if i else 0.0), y, h,
                                (head if i == 0 else "") + line))
+    return y if keyed else top
 
 
 def _wrap_name(name: str, chars: int) -> list[str]:

@@ -84,6 +84,9 @@ class Plate:
     # axes not drawn: their place on this plate hangs on meshes without a module (label: the
     # labels of those meshes); a hole drawn there would be a guess, drilled as if measured
     withheld: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    # holes placed apart: groups of axes (labels) no measure ties to the rest of the plate, a
+    # lone axis as a group of one; where they stand from the rest is the placement's choice
+    apart: list[tuple[str, ...]] = field(default_factory=list)
 
     @property
     def name(self) -> str:
@@ -526,7 +529,53 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
         plate.notes.append("not tied to another axis by any mesh with a module, so placed apart "
                            "(set at_mm, or module_mm on its meshes): "
                            + ", ".join(label[a] for a in loose))
+        plate.apart.extend((label[a],) for a in loose)
+    free = _free_groups(train, axes, by_pair.values(), fixed)
+    if free:
+        names = "; ".join(", ".join(label[a] for a in g) for g in free)
+        many = len(free) > 1
+        plate.notes.append(
+            f"{'groups' if many else 'a group'} of holes tied by no mesh with a module to the "
+            f"rest of this plate (joined only through another mount, or not at all), so placed "
+            f"apart: where {'each stands' if many else 'it stands'} from the rest is the "
+            f"tool's choice, not a measure; {'their' if many else 'its'} holes keep their "
+            f"distances among themselves (set at_mm on an arbor of "
+            f"{'each group' if many else 'the group'}, or a module_mm on a mesh joining "
+            f"{'them' if many else 'it'} to the rest): {names}")
+        plate.apart.extend(tuple(label[a] for a in g) for g in free)
     return pos
+
+
+def _free_groups(train, axes, ties, fixed) -> list[list[str]]:
+    """The groups of two or more axes that ``ties`` join among themselves but to none of the
+    plate's anchored holes: an anchored group holds a position the file fixes (a carrier's
+    own axis is one), else the largest group stands for the plate (the first in the file's
+    order among equals), as :func:`_unmeasured` takes it. Each such group is placed where the
+    placement chooses, its distance from the rest no measure; the axes of each in file order."""
+    parent = {ax: ax for ax in axes}
+
+    def find(a: str) -> str:
+        while parent[a] != a:
+            a = parent[a]
+        return a
+
+    for t in ties:
+        parent[find(t.axis1)] = find(t.axis2)
+    comps: dict[str, list[str]] = {}
+    for ax in axes:
+        comps.setdefault(find(ax), []).append(ax)
+    tied = [members for members in comps.values() if len(members) > 1]
+    if not tied or (len(tied) == 1 and len(comps) == 1):
+        return []
+    order = list(train.arbors)
+
+    def first(members):
+        return min(order.index(n) for n in members if n in order)
+
+    anchored = [m for m in comps.values() if any(a in fixed for a in m)]
+    if not anchored:
+        anchored = [max(tied, key=lambda m: (len(m), -first(m)))]
+    return sorted((m for m in tied if not any(m is a for a in anchored)), key=first)
 
 
 RESTARTS = 24

@@ -6,6 +6,7 @@ import io
 import json
 import math
 import os
+import re
 from pathlib import Path
 
 import ezdxf
@@ -800,6 +801,71 @@ def test_an_arbor_pivoted_in_a_cock_has_no_hole_in_that_plate(tmp_path, capsys):
         (c,) = part["cocks"]
         assert (f"cock for {c['arbors'][0]} ({part['side']} pivot, no hole): "
                 f"{fixed(c['x_mm'], 4)}, {fixed(c['y_mm'], 4)}") in said
+
+
+STUD_ON_CARRIER = ('[crank]\narbor = "k"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+                   'set = "angles"\n[arbors.k]\nwheels = {}\n'
+                   '[arbors.st]\non = "k"\nfixed = true\nwheels = { sw = 30 }\n'
+                   '[arbors.q]\non = "k"\nwheels = { qw = 24 }\n'
+                   '[[meshes]]\nwheels = ["sw", "qw"]\nmodule_mm = 1\n'
+                   '[pointers.p]\nshows = "sun"\narbor = "k"\nset_deg = 0\n')
+
+
+def _cut_json(tmp_path, capsys, text: str, name: str) -> dict:
+    path = tmp_path / f"{name}.toml"
+    path.write_text(text)
+    assert main(["cut", str(path), "--out", str(tmp_path / name), "--json"]) == 0
+    return {p["name"]: p for p in json.loads(capsys.readouterr().out)["parts"]}
+
+
+def test_a_group_of_holes_tied_to_nothing_fixed_is_said_to_be_placed_apart(tmp_path, capsys):
+    # a stud fixed on carrier k and the arbor meshing it: their two holes keep their centre
+    # distance (27 mm, module 1, 30 + 24 teeth), but no mesh ties them to the carrier's own
+    # axis, so where the pair stands on the plate is the placement's choice, not a measure:
+    # said in the notes and on the drawing, as a lone axis is
+    parts = _cut_json(tmp_path, capsys, STUD_ON_CARRIER, "stud")
+    plate = parts["plate-k"]
+    assert plate["placed_apart"] == [["st", "q"]]
+    (note,) = [n for n in plate["notes"] if "placed apart" in n]
+    assert "tied by no mesh with a module to the rest of this plate" in note
+    assert note.endswith(": st, q")
+    (d,) = plate["distances"]
+    assert d["drawn_mm"] == pytest.approx(27.0, abs=UM)
+    # wrapped to the plate's width in lines under its title, read back whole
+    words = "placed apart, not measured from the rest of the plate (set at_mm): st, q"
+    svg = (tmp_path / "stud" / "plate-k.svg").read_text()
+    assert words in " ".join(re.findall(r"<text[^>]*>([^<]*)</text>", svg))
+    texts = [t.dxf.text for t in ezdxf.readfile(tmp_path / "stud" / "plate-k.dxf")
+             .modelspace().query("TEXT")]
+    assert words in " ".join(texts)
+    # the stud placed by the file: the group stands where it is put, no note
+    fixed_stud = STUD_ON_CARRIER.replace('fixed = true\n', 'fixed = true\nat_mm = [30, 0]\n')
+    parts = _cut_json(tmp_path, capsys, fixed_stud, "placed")
+    assert parts["plate-k"]["placed_apart"] == []
+    assert not any("placed apart" in n for n in parts["plate-k"]["notes"])
+
+
+def test_with_nothing_fixed_the_largest_group_stands_for_the_plate(tmp_path, capsys):
+    # on the frame: a stud and its arbor (first in the file), and the crank's chain of three
+    # axes; nothing placed by the file, so the larger group stands for the plate and the pair
+    # is the one placed apart; a lone arbor tied to nothing is placed apart too, on its own
+    text = ('[crank]\narbor = "a"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+            'set = "angles"\n[arbors.st]\nfixed = true\nwheels = { sw = 30 }\n'
+            '[arbors.q]\nwheels = { qw = 24 }\n[arbors.a]\nwheels = { a1 = 20 }\n'
+            '[arbors.b]\nwheels = { b1 = 40, b2 = 12 }\n[arbors.c]\nwheels = { c1 = 36 }\n'
+            '[[meshes]]\nwheels = ["sw", "qw"]\nmodule_mm = 1\n'
+            '[[meshes]]\nwheels = ["a1", "b1"]\nmodule_mm = 0.5\n'
+            '[[meshes]]\nwheels = ["b2", "c1"]\nmodule_mm = 0.5\n'
+            '[pointers.p]\nshows = "sun"\narbor = "c"\nset_deg = 0\n')
+    plate = _cut_json(tmp_path, capsys, text, "frame")["plate-frame"]
+    assert plate["placed_apart"] == [["st", "q"]]
+    plate = _cut_json(tmp_path, capsys, text + "[arbors.lone]\nfixed = true\nwheels = {}\n",
+                      "lone")["plate-frame"]
+    assert plate["placed_apart"] == [["lone"], ["st", "q"]]
+    # the demo trains' plates are every one measured: nothing placed apart
+    assert main(["cut", "tide_office", "--out", str(tmp_path / "demo"), "--json"]) == 0
+    demo = json.loads(capsys.readouterr().out)["parts"]
+    assert all(p["placed_apart"] == [] for p in demo if p["kind"] == "plate")
 
 
 @pytest.mark.parametrize("module", [0.001, 0.01, 0.05, 0.5, 5.0])
