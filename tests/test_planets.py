@@ -720,6 +720,30 @@ def test_jupiter_and_saturn_periods_say_how_far_other_eras_move_them(capsys):
     assert "great inequality" not in capsys.readouterr().out
 
 
+def test_the_search_marks_figures_against_a_jupiter_or_saturn_period(capsys):
+    """A search for a Jupiter or Saturn period reads its trains' ppm, °/cy and "1 day off"
+    (and the convergents' ppm) against JPL's 1800-2050 mean, which the great inequality
+    moves by 52 and 309 ppm (astronomy-engine's periods, checked above): each is marked `*`
+    as the ratio report marks them, and the mark is said under the tables; a Mars search
+    marks nothing."""
+    from engine.cli import main
+
+    argv = ["search", "--crank-days", "365.2422", "--top", "2"]
+    assert main([*argv, "--cycle", "saturn tropical"]) == 0
+    out = capsys.readouterr().out
+    first = next(line for line in out.splitlines() if line.split()[:1] == ["1"])
+    cells = first.split()
+    assert cells[-4].endswith("*") and cells[-3].endswith("*") and cells[-1] == "y*", first
+    ppm_rows = [line for line in out.splitlines() if line.strip().startswith("1/29 ")]
+    assert ppm_rows and ppm_rows[0].split()[2].endswith("*"), ppm_rows
+    said = " ".join(out.split())
+    assert ("*: against JPL's mean period of 1800-2050, which the great inequality of Jupiter "
+            "and Saturn moves" in said)
+    assert "moves it by 309 ppm (Saturn tropical period)" in said
+    assert main([*argv, "--cycle", "mars tropical"]) == 0
+    assert "*" not in capsys.readouterr().out
+
+
 # --- slow mutual swings, and terms fitted over too few of their periods ----------------------
 
 _LONG_FITS: dict[str, tuple[float, float, float]] = {}

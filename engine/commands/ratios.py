@@ -96,7 +96,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     marked = {r.pointer for r in rows if era_spread_ppm(r.target_key) is not None}
 
     def mark(text: str, r) -> str:
-        return text + ("*" if r.pointer in marked else " ") if marked else text
+        return support.era_marked(text, r.pointer in marked, bool(marked))
 
     for r, ppm, drift in zip(rows, ppms, drifts, strict=True):
         # a pointer running the wrong way has its period right and its sense wrong: say so in
@@ -107,13 +107,7 @@ def run(args: argparse.Namespace, console: Console) -> int:
     support.print_table(console, table)
     if marked:
         spreads = {r.pointer: era_spread_ppm(r.target_key) for r in rows if r.pointer in marked}
-        support.print_indented(
-            console, "*: against JPL's mean period of 1800-2050, which the mean motion of "
-            "3000 BC-AD 3000 moves by " + ", ".join(
-                f"{support.figure(abs(v), 2)} ppm ({n})" for n, v in spreads.items())
-            + " (the great inequality of Jupiter and Saturn): figures for the centuries round "
-            "2000; wheelwork drift measures a pointer against the sky of any span", 0,
-            markup=False)
+        support.print_indented(console, support.era_mark_said(spreads), 0, markup=False)
     note = era_note(train)
     if note:
         support.print_indented(console, f"note: {note}", 0)

@@ -250,6 +250,13 @@ def _print(report: SearchReport, console: Console) -> None:
     note = era_spread_note(t.cycle.key) if t.cycle is not None else ""
     if note:
         support.print_indented(console, f"note: {note}", 0)
+    # against a Jupiter or Saturn period of 1800-2050, which the great inequality moves: each
+    # figure read against it is marked as the ratio report marks it, and the mark said
+    spread = era_spread_ppm(t.cycle.key) if t.cycle is not None else None
+
+    def mark(text: str) -> str:
+        return support.era_marked(text, True, spread is not None)
+
     if not report.results:
         console.print("no train within these bounds")
     elif abs(report.results[0].period_error_ppm) > FAR_PPM:
@@ -272,8 +279,8 @@ def _print(report: SearchReport, console: Console) -> None:
         drifts = error_column(r.drift_deg_per_century for r in report.results)
         for i, r in enumerate(report.results, start=1):
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), support.figure(r.period_days, 9),
-                          ppms[i - 1], drifts[i - 1],
-                          _years(r.one_day_off_years), str(r.total_teeth))
+                          mark(ppms[i - 1]), mark(drifts[i - 1]),
+                          mark(_years(r.one_day_off_years)), str(r.total_teeth))
         support.print_table(console, table, keys=2)  # a train is named by # and its stages
     if report.convergents:
         table = support.plain_table(title="continued-fraction convergents of the target",
@@ -283,7 +290,9 @@ def _print(report: SearchReport, console: Console) -> None:
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
         ppms = error_column(v.period_error_ppm for v in report.convergents)
         for v, ppm in zip(report.convergents, ppms, strict=True):
-            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), ppm,
+            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), mark(ppm),
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
         support.print_table(console, table)
+    if spread is not None and (report.convergents or report.results):
+        support.print_indented(console, support.era_mark_said({t.cycle.name: spread}), 0)

@@ -598,6 +598,34 @@ def print_indented(console, text: str, indent: int, *, markup: bool = False) -> 
         console.print(Text(" " * indent) + line, crop=False, soft_wrap=True)
 
 
+#: the mark beside a figure read against a Jupiter or Saturn period of JPL's 1800-2050 mean
+#: motion, which the great inequality moves (engine.periods.era_spread_ppm)
+ERA_MARK = "*"
+
+
+def era_marked(text: str, marked: bool, column_marked: bool = True) -> str:
+    """A table cell ``text`` with :data:`ERA_MARK` when its figure is against a Jupiter or
+    Saturn mean period of 1800-2050 (``marked``), else a space in its place so the column's
+    points stay lined up; as it is when nothing in the column is marked."""
+    if not column_marked:
+        return text
+    if not marked:
+        return text + " "
+    figure_text = text.rstrip()  # beside the figure, before the spaces lining up its point
+    return figure_text + ERA_MARK + text[len(figure_text):]
+
+
+def era_mark_said(spreads: dict[str, float]) -> str:
+    """The line under a table saying what :data:`ERA_MARK` means, with how far the mean motion
+    of 3000 BC-AD 3000 moves each marked period (``{what: ppm}``)."""
+    return (f"{ERA_MARK}: against JPL's mean period of 1800-2050, which the great inequality "
+            "of Jupiter and Saturn moves: the mean motion of 3000 BC-AD 3000 moves "
+            + ("it" if len(spreads) == 1 else "them") + " by "
+            + ", ".join(f"{figure(abs(v), 2)} ppm ({n})" for n, v in spreads.items())
+            + "; figures for the centuries round 2000: wheelwork drift measures a pointer "
+            "against the sky of any span")
+
+
 def plain_table(*, title: str | None = None, caption: str | None = None, **kwargs):
     """A rich ``Table`` whose title, caption and string cells are plain text, never markup
     (names from train files may hold ``[`` and ``]``). Style whole cells with ``Text``."""
