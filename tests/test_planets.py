@@ -825,6 +825,38 @@ def test_uranus_and_neptune_near_two_to_one_swing_in_two_long_ephemerides(sky406
         URANUS_NEPTUNE_DAYS, rel=0.005)
 
 
+@pytest.mark.parametrize("key, start, end", [
+    ("jupiter", "1000-01-01", "3000-01-01"), ("saturn", "1000-01-01", "3000-01-01"),
+    ("uranus", "-2990-01-01", "2990-01-01"), ("neptune", "-2990-01-01", "2990-01-01"),
+])
+def test_a_slow_swing_is_as_large_seen_from_the_earth(sky406, key, start, end):
+    """The geocentric rows (a clock's Jupiter hand) take the slow swing's amplitude measured
+    in the heliocentric longitude. Near opposition the Earth is nearer the planet and a
+    shift of it looks larger, near conjunction smaller; the swing a drift line sees is
+    their mean over the synodic period, the heliocentric shift itself (the geocentric
+    direction turns once as the planet goes round). DE406, each longitude on the J2000
+    ecliptic fitted alike (:func:`_swing_fit`) over the window: the geocentric amplitude
+    within 1% of the heliocentric and within 10% of the table's (measured: 0.3121° against
+    0.3108°, 0.7667° against 0.7655° over AD 1000-3000; Uranus 0.8711 and 0.8710°, Neptune
+    0.5938° both, over 2990 BC-AD 2990; with the synodic period's four harmonics fitted too,
+    within 0.1% over each of four windows for all four planets)."""
+    from engine.kinds import slow_swings
+    from engine.periods import SLOW_SWINGS
+
+    jd = np.arange(parse_date(start), parse_date(end), 10.0)
+    state = sky406.at(jd, frame="stars", planets=(key,))
+    t = (jd - 2451545.0) / 36525
+    w = 2 * np.pi * 36525 / slow_swings(key)[0][1]
+    amp = {}
+    for seen, lon in (("sun", state.planet_helio_lon_deg[key]),
+                      ("earth", state.planet_lon_deg[key])):
+        coef = _swing_fit(t, np.degrees(np.unwrap(np.radians(lon))), w)[1]
+        amp[seen] = np.hypot(coef[-2], coef[-1])
+    table = next(row.amplitude_deg[key] for row in SLOW_SWINGS if key in row.planets)
+    assert amp["earth"] == pytest.approx(amp["sun"], rel=0.01)
+    assert amp["earth"] == pytest.approx(table, rel=0.1)
+
+
 @pytest.mark.parametrize("key, start, years", [
     ("uranus", "-2900-01-01", 500), ("uranus", "-1500-01-01", 500),
     ("uranus", "0001-01-01", 500), ("uranus", "1500-01-01", 500),
