@@ -551,13 +551,16 @@ class _Running:
 
     def summary(self, name: str, shows: str, terms=None, cache: dict | None = None,
                 step_note: str | None = None, clock: dict[str, float] | None = None,
-                frame: str = "equinox") -> PointerSummary:
+                frame: str = "equinox", uniform: bool = True) -> PointerSummary:
         """The pointer's figures. ``step_note``: the step cannot follow what the pointer shows
         (:func:`step_note`), so no swing is sought (it would be an alias) and the drift is
         uncertain. ``clock``: seconds spent fitting the line (``fit_s``) and seeking the
         swing (``swing_s``) are added to it. ``frame``: the dial's, for the nutation an
         equinox dial's longitude carries (taken off before the fit, see
-        :func:`engine.kinds.nutation_lon_deg`)."""
+        :func:`engine.kinds.nutation_lon_deg`). ``uniform``: the pointer turns at a constant
+        rate (no pin-and-slot stage drives it), so its error holds the sky's swings at their
+        full size and the kind's known sizes (``PointerKind.sizes``) put them on trial; a
+        pin-and-slot may take a swing out (the tide office's Moon, its equation of centre)."""
         n = self.n
         terms = sky_terms(shows) if terms is None else tuple(terms)
         known = None
@@ -569,7 +572,8 @@ class _Running:
         t0 = time.perf_counter()
         fit = fit_drift(self.resid, self.step, terms, cache=cache,
                         all_terms=() if cache is None else cache.get("terms", ()),
-                        known=known)
+                        known=known,
+                        sizes=KINDS[shows].sizes if uniform and shows in KINDS else None)
         t1 = time.perf_counter()
         drift = (self.expected_per_step + fit.slope_per_step) / self.step * JULIAN_CENTURY_DAYS
         sigma = fit.sigma_per_step / self.step * JULIAN_CENTURY_DAYS
@@ -639,7 +643,8 @@ def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | N
     elsewhere (and for tests on synthetic series). ``terms``: ``(name, period_days)`` pairs
     fitted with the drift line; default :func:`sky_terms` of ``shows`` on an equinox dial
     (none for a plain series); ``frame``: the dial's (on an equinox dial the nutation is
-    taken off a longitude before the fit, as a run does)."""
+    taken off a longitude before the fit, as a run does). The series is read as a uniformly
+    turning hand's: its kind's known sizes (``PointerKind.sizes``) put those swings on trial."""
     jd = np.asarray(jd, dtype=float)
     err = wrap_deg(np.asarray(error_deg, dtype=float))
     if jd.ndim != 1 or jd.shape != err.shape or len(jd) < 2:
@@ -652,7 +657,7 @@ def summarise(jd: np.ndarray, error_deg: np.ndarray, *, threshold_deg: float | N
 
 
 def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | None = None,
-              all_terms=(), known=None) -> LineFit:
+              all_terms=(), known=None, sizes: dict[str, float] | None = None) -> LineFit:
     """The drift line fitted jointly with the sky's known swings ``terms`` (see
     :func:`engine.fitting.fit_line_and_sinusoids`): a term is fitted once the span holds
     ``TERM_MIN_CYCLES`` of its periods, and a left-out one of ``MINOR_TERMS`` widens the
@@ -661,12 +666,14 @@ def fit_drift(resid: np.ndarray, step_days: float, terms=(), *, cache: dict | No
     A term of ``MINOR_TERMS`` over fewer than ``TERM_SURE_CYCLES`` of its periods is fitted
     on trial (see the comment on ``MINOR_TERMS``): refused when its fitted amplitude is
     implausible, else kept with its amplitude's spread (``MINOR_SPREAD``) in the ±.
-    ``known``: a part of the series known in advance (a function of the grid index; the
-    nutation), taken off before the fit."""
+    ``sizes``: the pointer kind's other terms of known amplitude (``PointerKind.sizes``: an
+    equation of centre), put on trial alike; refused, the term is left out (the drift then
+    uncertain), else kept. ``known``: a part of the series known in advance (a function of
+    the grid index; the nutation), taken off before the fit."""
     return fit_line_and_sinusoids(resid, step_days, terms, cache=cache, all_terms=all_terms,
                                   min_cycles=TERM_MIN_CYCLES, minor=MINOR_TERMS, known=known,
                                   sure_cycles=TERM_SURE_CYCLES, slack=TERM_AMPLITUDE_SLACK,
-                                  spread=MINOR_SPREAD)
+                                  spread=MINOR_SPREAD, sized=sizes)
 
 
 # --- the run -------------------------------------------------------------------------------
@@ -915,7 +922,7 @@ class _Chunks:
             s = self.runs[name].summary(
                 name, p.shows, terms[name], cache,
                 step_note(name, self.step, self.motions(name, p.shows, terms[name])),
-                self.clock, self.frame)
+                self.clock, self.frame, uniform=not self.reader.pointers[name][3])
             effect = float(delta_t_effect_deg(p.shows, self.delta_t_sigma_s, self.frame))
             out[name] = replace(s, delta_t_effect_deg=effect,
                                 within_delta_t=bool(s.max_abs_deg <= effect))

@@ -115,7 +115,8 @@ class LineFit:
     standard error; ``used`` / ``left_out`` name the periodic terms fitted and those whose
     period is longer than the span allows, or whose trial fit failed: those are also in
     ``set_aside``; ``on_trial`` names the terms of known amplitude fitted over too few of
-    their periods to be sure, whose amplitude's spread the standard error takes in."""
+    their periods to be sure, whose amplitude's spread the standard error takes in (a term
+    of ``sized`` kept on trial, whose spread is not given, is not named there)."""
 
     line: tuple[float, float]
     slope_per_step: float
@@ -308,6 +309,7 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
                            minor: dict[str, float] | None = None,
                            known=None, sure_cycles: float = 1.0, slack: float = 2.0,
                            spread: dict[str, float] | None = None,
+                           sized: dict[str, float] | None = None,
                            _set_aside: tuple[tuple[str, float], ...] = ()) -> LineFit:
     """Straight line plus sinusoids at known periods, fitted jointly by least squares to a
     series on a uniform grid (``terms``: ``(name, period_days)`` pairs).
@@ -344,7 +346,12 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
     made again without the term, which then counts as a left-out minor term (its largest
     tilt added; named in ``set_aside``); else it stays, and the largest tilt a swing the size
     of its amplitude's uncertainty (``spread``, by name; none when not given) can give the
-    line is added to the standard error (named in ``on_trial``).
+    line is added to the standard error (named in ``on_trial``). ``sized``
+    (``{name: amplitude}``) are terms put on trial the same way, whose amplitude is known
+    near their own epoch only (an equation of centre: the eccentricity changes over
+    millennia): refused, they count as left out with that amplitude's largest tilt; left out
+    for a span shorter than their period, as any other term (their amplitude fitted with the
+    line).
     """
     b = _binned(resid)
     if known is not None:
@@ -388,22 +395,23 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
         res = b.y - np.einsum("ik,i->k", x, coef)
         coef = coef[idx]
     minor = minor or {}
+    sizes = {**(sized or {}), **minor}  # every term of known amplitude, for the trial
     trial = [(j, name, period) for j, (name, period) in
              enumerate((n, p) for n, p in terms if n in used)
-             if name in minor and span < sure_cycles * period]
+             if name in sizes and span < sure_cycles * period]
     refused = []
     for j, name, period in trial:
         w = 2 * np.pi * step_days / period
         gain = 1.0 if b.m == 1 else abs(math.sin(b.m * w / 2) / (b.m * math.sin(w / 2)))
         amp = math.hypot(coef[2 + 2 * j], coef[3 + 2 * j]) / gain
-        if not minor[name] / slack <= amp <= minor[name] * slack:
+        if not sizes[name] / slack <= amp <= sizes[name] * slack:
             refused.append((name, period))
     if refused:  # made again without them: they count as left-out minor terms
         return fit_line_and_sinusoids(
             resid, step_days, tuple((n, p) for n, p in terms
                                     if n not in {name for name, _ in refused}),
             cache=cache, all_terms=all_terms, min_cycles=min_cycles, minor=minor, known=known,
-            sure_cycles=sure_cycles, slack=slack, spread=spread,
+            sure_cycles=sure_cycles, slack=slack, spread=spread, sized=sized,
             _set_aside=(*_set_aside, *refused))
     rss = sum_sq(res)
     changes = int(np.count_nonzero(np.signbit(res[1:]) != np.signbit(res[:-1])))
@@ -425,11 +433,11 @@ def fit_line_and_sinusoids(resid: np.ndarray, step_days: float, terms=(), *,
         if spread.get(name):
             sigma = math.hypot(sigma, spread[name] * _trial_tilt(b, tuple(ws), j) / half)
     for name, period in _set_aside:  # refused on trial: as a left-out minor term
-        sigma = math.hypot(sigma, minor[name] * worst_tilt(len(resid), step_days, period))
+        sigma = math.hypot(sigma, sizes[name] * worst_tilt(len(resid), step_days, period))
     aside = tuple(name for name, _ in _set_aside)
     a = float(coef[0]) - slope * mid
     return LineFit((a, slope), slope, sigma, tuple(used), (*left, *aside), b, aside,
-                   tuple(name for _, name, _ in trial))
+                   tuple(name for _, name, _ in trial if spread.get(name)))
 
 
 def _unresolved_amplitude(b: _Binned, res: np.ndarray, ws: tuple[float, ...],

@@ -16,6 +16,11 @@ the engine needs to know about what such a pointer shows:
   general precession (a longitude does; a difference of two longitudes does not);
 * ``swings``: the periodic inequalities the true sky puts into it, ``(name, period_days)``,
   fitted with the drift line so a part swing is not read as drift;
+* ``sizes``: the amplitudes (degrees) of those of its swings whose size in this kind's value
+  is known, by name: a drift line fitted over fewer than ``engine.drift.TERM_SURE_CYCLES`` of
+  such a swing's periods puts the swing on trial (an orrery arm's and the Sun's equation of
+  centre, 2e - e³/4 radians; the slow mutual swings of planets are in
+  ``engine.periods.SLOW_SWINGS``);
 * ``nutates``: whether an equinox dial's true value carries the nutation in longitude;
 * ``bodies``: sky bodies beyond the Sun and Moon its true value needs (planet names, for
   ``Sky.at(..., planets=...)``; see :func:`sky_at`);
@@ -32,7 +37,7 @@ that it is the equinox one less the precession exactly when the kind ``precesses
 from __future__ import annotations
 
 from collections.abc import Callable, Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -40,6 +45,7 @@ from .angles import mod
 from .errors import TrainError, UnknownName
 from .figures import figure
 from .periods import (
+    EARTH,
     J2000_JD,
     JULIAN_CENTURY_DAYS,
     PERIODS,
@@ -104,6 +110,10 @@ _SYNODIC = PERIODS["synodic_month"].days
 EVECTION_DAYS = 1.0 / (2.0 / _SYNODIC - 1.0 / _ANOM_MONTH)
 SUN_SWINGS = (("equation of centre (anomalistic year)", _ANOM_YEAR),
               ("equation of centre, second harmonic", _ANOM_YEAR / 2))
+#: the Sun's equation of centre in its longitude (the Earth's arm's, in the Earth's): known
+#: in size, so fitted on trial over a year or two (see ``sizes``). Seen with a planet from
+#: the Earth its size is another (it does not turn the planet's direction round), not given.
+SUN_SIZES = {SUN_SWINGS[0][0]: EARTH.centre_deg}
 MOON_SWINGS = (("equation of centre (anomalistic month)", _ANOM_MONTH),
                ("equation of centre, second harmonic", _ANOM_MONTH / 2),
                ("evection", EVECTION_DAYS),
@@ -146,6 +156,7 @@ class PointerKind:
     precesses: bool
     swings: tuple[tuple[str, float], ...] = ()
     nutates: bool = False
+    sizes: dict[str, float] = field(default_factory=dict)  # swing name -> amplitude (deg)
     bodies: tuple[str, ...] = ()
     in_days: bool = False
 
@@ -180,7 +191,7 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
     PointerKind("sun", "the Sun's ecliptic longitude",
                 {"equinox": "tropical_year", "stars": "sidereal_year"},
                 lambda s: s.sun_lon_deg, lambda m: m["sun"], precesses=True,
-                swings=SUN_SWINGS, nutates=True),
+                swings=SUN_SWINGS, nutates=True, sizes=SUN_SIZES),
     PointerKind("moon", "the Moon's ecliptic longitude",
                 {"equinox": "tropical_month", "stars": "sidereal_month"},
                 lambda s: s.moon_lon_deg, lambda m: m["moon"], precesses=True,
@@ -208,7 +219,7 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
                 "dial: eclipses come when it stands near 0° or 180°)",
                 _both("eclipse_year"), lambda s: _diff(s.sun_lon_deg, s.node_deg),
                 lambda m: _diff(m["sun"], m["node"]), precesses=False, swings=SUN_SWINGS,
-                nutates=True),
+                nutates=True, sizes=SUN_SIZES),
     PointerKind("cycle", "lunations counted round a dial of N months (an eclipse-cycle dial; "
                 "the pointer's `lunations` is N, its marks say which months bear eclipses)",
                 _both("synodic_month"), lambda s: s.elongation_deg, lambda m: m["phase"],
@@ -227,6 +238,12 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
 # geometric); its swing is the planet's equation of centre over its own year. A train file says
 # which with ``seen_from`` (see engine.loader). Which swings matter is standard planetary
 # theory, from memory; their periods come from the mean motions in engine.periods.
+# An arm's equation of centre has a known size (``sizes``: Planet.centre_deg, 2e - e³/4);
+# its second harmonic does not (5e²/4 is joined by the orbit's tilt to the ecliptic, i²/4,
+# larger for Venus and Neptune: measured from DE406, 0.05° against 0.003°, 0.014-0.022°
+# against 0.005°). Seen from the Earth the sizes are not the heliocentric ones (an inner
+# planet's direction does not turn round with its orbit, the Earth's own equation of centre
+# reaches it through the parallax): not given, those swings are fitted freely.
 SEEN_FROM = ("earth", "sun")  # where a planet pointer is seen from; the first is the default
 
 
@@ -254,7 +271,8 @@ def great_inequality(key: str) -> tuple[str, float] | None:
 
 def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
     sid, syn = PERIODS[f"{key}_sidereal"].days, PERIODS[f"{key}_synodic"].days
-    own = ((f"{name}'s equation of centre (its year)", sid),
+    centre = f"{name}'s equation of centre (its year)"
+    own = ((centre, sid),
            (f"{name}'s equation of centre, second harmonic", sid / 2))
     own = (*own, *slow_swings(key))  # Jupiter's and Saturn's 883 years, Uranus's and Neptune's
     geo_period = ({"equinox": "tropical_year", "stars": "sidereal_year"} if inner else
@@ -273,7 +291,7 @@ def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
                     {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"},
                     lambda s, k=key: s.planet_helio_lon_deg[k],
                     lambda m, k=key: m[f"{k}_from_sun"], precesses=True, swings=own,
-                    nutates=True, bodies=(key,)),
+                    nutates=True, bodies=(key,), sizes={centre: PLANETS[key].centre_deg}),
     )
 
 
@@ -284,7 +302,7 @@ KINDS["earth_from_sun"] = PointerKind(
     "Sun's plus 180° (an orrery's Earth arm)", {"equinox": "tropical_year",
                                                 "stars": "sidereal_year"},
     lambda s: s.planet_helio_lon_deg["earth"], lambda m: m["earth_from_sun"], precesses=True,
-    swings=SUN_SWINGS, nutates=True, bodies=("earth",))
+    swings=SUN_SWINGS, nutates=True, bodies=("earth",), sizes=SUN_SIZES)
 POINTER_KINDS = tuple(KINDS)
 
 

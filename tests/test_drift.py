@@ -1026,3 +1026,49 @@ def test_chart_names_a_cycle_dials_whole_months(tmp_path, capsys):
     capsys.readouterr()
     assert ("months (cycle); whole months off: 2 months ahead at the end, none to 2 months "
             "ahead over the span") in svg.read_text()
+
+
+ECCENTRIC_SUN = """
+[train]
+name = "Sun hand through an eccentric pin and slot"
+[crank]
+arbor = "year"
+days_per_turn = 365.2422
+[epoch]
+date = "2026-01-01 00:00"
+set = "sky"
+[arbors.year]
+wheels = {}
+[arbors.sun]
+wheels = {}
+[pin_slots.centre]
+pin = "year"
+slot = "sun"
+pin_radius_mm = 30.0
+offset_mm = 1.0025
+offset_deg = 0
+pin_deg = 357.3
+[pointers.sun]
+shows = "sun"
+arbor = "sun"
+"""
+
+
+def test_a_swing_a_pin_and_slot_takes_out_is_not_put_on_trial(sky):
+    """The Sun's equation of centre is put on trial over fewer than three years by its known
+    size (1.91°, 2e − e³/4 of the Earth's orbit): a uniformly turning hand's error holds it
+    whole. A Sun hand driven through an eccentric pin and slot (offset / pin radius = 2e,
+    the pin at the Sun's mean anomaly at the epoch, 357.3°: Meeus ch. 25's polynomial, from
+    memory) takes it out, leaving hundredths of a degree over two years; read as a
+    uniformly turning hand's it is refused (set aside, the drift uncertain), so the run
+    does not put it on trial for a hand a pin and slot drives."""
+    mech = build(parse_train(ECCENTRIC_SUN, "eccentric_sun.toml"), sky)
+    j0 = mech.train.epoch.jd_ut
+    res = drift_series(mech, sky, DriftRun(j0, j0 + 2 * 365.25, 1.0), RunControl())
+    s = res.summaries["sun"]
+    assert s.max_abs_deg < 0.05  # the equation of centre taken out
+    assert not s.drift_terms_set_aside and not s.drift_uncertain
+    assert abs(s.drift_deg_per_century) <= 2 * s.drift_sigma_deg_per_century
+    plain = summarise(res.jd, res.error_deg["sun"], shows="sun")  # as a uniform hand's
+    assert plain.drift_terms_set_aside == ("equation of centre (anomalistic year)",)
+    assert plain.drift_uncertain
