@@ -556,6 +556,27 @@ async def test_edge_of_the_ephemeris_is_a_notification():
 
 
 @sync
+async def test_notifications_show_brackets_as_written():
+    """A notification is plain text: the engine's '[pointers.sun]' and the pip line's
+    'wheelwork[de440]' are not style tags to drop (stepping 200 years past DE421 said
+    "pip install 'wheelwork'" on the bench)."""
+    from textual.widgets._toast import Toast
+
+    app = make_app()
+    async with app.run_test(size=SIZE, notifications=True) as pilot:
+        app.notify("[pointers.sun] in [old]/tide.toml", title="[x]")
+        app.session.go_to(app.session.sky.span_jd[1] - 3)
+        await pilot.press("up")  # past the end of DE421: the message names the extras
+        await pilot.pause()
+        await wait_for(pilot, lambda: len(app.screen.query(Toast)) >= 2, "two toasts")
+        shown = [t.render().plain for t in app.screen.query(Toast)]
+        assert any("[pointers.sun] in [old]/tide.toml" in s and s.startswith("[x]")
+                   for s in shown), shown
+        past = [n.message for n in app._notifications if "outside the ephemeris" in n.message]
+        assert past and any(past[0] in s for s in shown), shown
+
+
+@sync
 async def test_every_binding_is_in_the_command_palette():
     app = make_app()
     async with app.run_test(size=SIZE):

@@ -309,6 +309,30 @@ async def test_screenshot_to_a_chosen_path_asks_before_replacing(size, tmp_path,
         assert mine.read_text(encoding="utf-8").startswith("<svg")
 
 
+@sync
+async def test_hints_name_a_folder_with_brackets(tmp_path, monkeypatch):
+    """The screenshot hint and the open screen name the current folder as it is: '[old]
+    pictures' is not a style tag to drop."""
+    from tui.screens import ScreenshotDialog
+
+    here = tmp_path / "[old] pictures"
+    here.mkdir()
+    monkeypatch.chdir(here)
+    app = make_app()
+    async with app.run_test(size=SMALL) as pilot:
+        await pilot.press("i")
+        await pilot.pause()
+        assert isinstance(app.screen, ScreenshotDialog)
+        hint = " ".join(text_of(app.screen.query_one("#shot-hint")).split())
+        assert str(here) in hint, hint
+        await pilot.press("escape")
+        await pilot.pause()
+        await pilot.press("ctrl+o")  # the open screen's folder title, likewise
+        await pilot.pause()
+        title = app.screen.query_one("#open-files")._border_title.plain
+        assert title == f"files in {here}", title
+
+
 @pytest.mark.parametrize("typed, words", [
     ("/no/such/folder/x.svg", "folder '/no/such/folder' does not exist"),
     ("{tmp}", "is a folder"),

@@ -110,6 +110,15 @@ class WheelworkApp(App):
     def get_default_screen(self) -> Screen:
         return BenchScreen(self.session)
 
+    def notify(self, message: str, *, title: str = "", severity="information",
+               timeout: float | None = None, markup: bool = False) -> None:
+        """A notification, always as plain text: the engine's messages hold brackets that
+        are the reader's to see (``[pointers.sun]``, ``pip install 'wheelwork[de440]'``, a
+        folder named ``[old]``), which Textual would read as style tags and drop. Every
+        screen's and widget's notify comes here, and Textual's Widget.notify passes
+        ``markup=True`` of its own accord, so ``markup`` is not followed."""
+        super().notify(message, title=title, severity=severity, timeout=timeout, markup=False)
+
     def on_resize(self, event: events.Resize) -> None:
         """Every screen in the stack says so when the terminal is too small (tui/small.py),
         and comes back when it is enlarged (this runs before the app takes the new size)."""

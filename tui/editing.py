@@ -584,7 +584,7 @@ class OpenScreen(ClosesOnce, SizeGuard, Screen):
 
     def _folder_title(self) -> None:
         tree = self.query_one("#open-tree", TrainFiles)
-        self.query_one("#open-files").border_title = f"files in {tree.path}"
+        self.query_one("#open-files").border_title = Text(f"files in {tree.path}")
         self.query_one("#open-files").border_subtitle = "↑ up / alt+↑: the folder above"
 
     def _look_in(self, folder: Path) -> None:

@@ -767,7 +767,7 @@ class DateDialog(Dialog):
             "Turn the crank to the date (UT):",
             Input(placeholder="2040-06-21 12:00 · 15 March 1910 · 44-03-15 BC · JD 2451545.0",
                   id="date-input"),
-            Label(f"ephemeris {self.session.sky.name}: {self.session.sky.span_text}",
+            Label(Text(f"ephemeris {self.session.sky.name}: {self.session.sky.span_text}"),
                   id="date-hint"),
             ok="Go")
 
@@ -895,7 +895,7 @@ class ScreenshotDialog(Dialog):
         yield from self.framed(
             "Save a picture of the screen (SVG) to:",
             Input(value=str(self.default), id="shot-input"),
-            Label(f"~ is your home; a bare name goes in the current folder, {Path.cwd()}",
+            Label(Text(f"~ is your home; a bare name goes in the current folder, {Path.cwd()}"),
                   id="shot-hint"),
             ok="Save")
 
