@@ -112,6 +112,30 @@ async def test_step_dialog_sets_the_step_and_keeps_bad_input():
         await pilot.pause()
         assert app.session.turns.to_float() == pytest.approx(2 / 24)
         check_readout(app)
+        # a step no date of DE421 is one step from another is refused, not taken and refused
+        # at every +; the crank stays where it was
+        await pilot.press("s")
+        await pilot.pause()
+        app.screen.query_one("#step-input").value = "200y"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, StepDialog)
+        said = " ".join(text_of(app.screen.query_one("#step-error")).split())
+        assert "a step of 200y is longer than the whole of JPL DE421" in said, said
+        assert app.session.step == Fraction(1, 24)
+
+
+def test_a_date_beyond_every_calendar_is_named_in_words():
+    """The bench's refusal of a date past year 999,999 says so in words, not as a Julian
+    Date in e-notation ('Julian Date 3.67711e+08 is outside ...')."""
+    from engine.errors import SkyError
+
+    session = make_app().session
+    with pytest.raises(SkyError) as caught:
+        session.go_to(4e8)
+    said = str(caught.value)
+    assert "beyond the years wheelwork handles (-999,999 to 999,999)" in said, said
+    assert "e+" not in said
 
 
 @sync

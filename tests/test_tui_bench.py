@@ -126,8 +126,12 @@ async def test_step_in_days_on_a_month_crank(size):
         await pilot.press("s")
         await pilot.pause()
         assert app.screen.query_one("#step-input").value == "3d"
-        for typed, words in (("1y", None), ("12x", "unknown unit"), ("0d", "too small"),
-                             ("99999999999y", "at most 1,000,000,000 turns")):
+        # (the step that is taken comes last: each before it must be refused; 99,999,999,999
+        # Julian years of 365.25 days are 1,236,853,081,380.6 turns of 29.530589 days)
+        for typed, words in (("12x", "unknown unit"), ("0d", "too small"),
+                             ("99999999999y", "at most 100,000,000,000 turns (99999999999y "
+                                              "= 1,236,853,081,381 turns)"),
+                             ("7000y", "longer than the whole of JPL DE406"), ("1y", None)):
             app.screen.query_one("#step-input").value = typed
             await pilot.press("enter")
             await pilot.pause()

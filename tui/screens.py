@@ -811,8 +811,15 @@ class StepDialog(Dialog):
                 raise ValueError("the step must be more than 0 turns")
             if step > MAX_STEP_TURNS:
                 raise ValueError(f"the step must be at most {MAX_STEP_TURNS:,} turns"
-                                 + (f" ({text.strip()} = {float(step):,.6g} turns)"
+                                 + (f" ({text.strip()} = {figure(float(step), 6)} turns)"
                                     if days is not None else ""))
+            sky = self.session.sky
+            lo, hi = sky.span_jd
+            if float(step * Fraction(self.session.mech.train.crank.days_per_turn)) > hi - lo:
+                # no date the bench can show is one step from another: + would only refuse
+                raise ValueError(f"a step of {text.strip()} is longer than the whole of "
+                                 f"{sky.name} ({sky.span_text}), so the crank could never take "
+                                 f"it; {sky.longer_hint} (give it when opening the bench)")
         except (ValueError, WheelworkError) as exc:
             self.reject(str(exc), text)
             return

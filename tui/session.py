@@ -16,7 +16,7 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.dates import format_jd, jd_now, turn_days_text
+from engine.dates import YEAR_LIMIT, format_jd, jd_now, turn_days_text
 from engine.drift import pointer_errors, whole_months_off
 from engine.eclipses import (
     EclipseNow,
@@ -27,7 +27,7 @@ from engine.eclipses import (
     syzygy_months,
 )
 from engine.eclipses import limits as eclipse_limits
-from engine.errors import SkyError, WheelworkError
+from engine.errors import DateError, SkyError, WheelworkError
 from engine.exact import Turns
 from engine.figures import figure
 from engine.kinds import FRAMES, next_frame, sky_at
@@ -328,7 +328,12 @@ class Session:
         lo, hi = self.sky.span_jd
         if not (np.isfinite(jd) and lo <= jd <= hi):
             way = self.sky.hint_for(jd, jd) if np.isfinite(jd) else self.sky.longer_hint
-            raise SkyError(f"{format_jd(jd) if np.isfinite(jd) else jd} is outside the "
+            try:
+                when = format_jd(jd)
+            except DateError:  # beyond any calendar date: no Julian Date in e-notation
+                when = (f"a date beyond the years wheelwork handles (-{YEAR_LIMIT:,} to "
+                        f"{YEAR_LIMIT:,})")
+            raise SkyError(f"{when} is outside the "
                            f"ephemeris {self.sky.name} ({self.sky.span_text}); {way} (give it "
                            "when opening the bench)")
 
