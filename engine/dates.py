@@ -525,6 +525,27 @@ def _no_month(text, unit: str) -> None:
                          "or min (30m), a month in days or weeks (30d, 4w)")
 
 
+#: the units of :data:`_STEP_UNITS` as exact days (a year is the Julian year, 1461/4 days)
+_EXACT_UNIT_DAYS = {1 / SECONDS_PER_DAY: Fraction(1, 86400), 1 / 1440: Fraction(1, 1440),
+                    1 / 24: Fraction(1, 24), 1.0: Fraction(1), 7.0: Fraction(7),
+                    JULIAN_YEAR_DAYS: Fraction(1461, 4)}
+
+
+def time_in_days(text: str) -> Fraction | None:
+    """Exact days in a length of time written with a unit as :func:`parse_step` reads it
+    (``12h`` is 1/2, ``1y`` 1461/4); None for text that is not a number and a unit of time
+    (a bare number included). A month (``1 month``, ``1M``) raises :class:`DriftError`: it
+    has no fixed length. For a file key in days that was given a unit (``days_per_turn``)."""
+    m = _STEP.match(str(text))
+    if not m or not m.group(2):
+        return None
+    _no_month(text, m.group(2))
+    unit = m.group(2).lower()
+    if unit not in _STEP_UNITS:
+        return None
+    return Fraction(m.group(1)) * _EXACT_UNIT_DAYS[_STEP_UNITS[unit]]
+
+
 def step_unit(word: str) -> bool:
     """True for a word that is a step's unit alone (``h``, ``days``, ``min``)."""
     return word.lower() in _STEP_UNITS

@@ -223,6 +223,19 @@ class _Reader:
         return number
 
 
+def _count_hint(name: str, value: object) -> str:
+    """What to write for a tooth count TOML did not read as a whole number, where the count is
+    plain in it: in quotes (``"59"``: ``; write it without quotes: name = 59``) or with a
+    point (``59.0``: ``; write it without the point: name = 59``); else nothing."""
+    if not re.fullmatch(r"[A-Za-z0-9_-]+", name):  # as TOML takes the name: bare or quoted
+        name = f'"{name}"'
+    if isinstance(value, str) and re.fullmatch(r"\s*\d+\s*", value):
+        return f"; write it without quotes: {name} = {int(value)}"
+    if isinstance(value, float) and value.is_integer() and 0 < value <= MAX_TEETH:
+        return f"; write it without the point: {name} = {int(value)}"
+    return ""
+
+
 def _show(value: object) -> str:
     text = repr(value) if not isinstance(value, dict | list) else _short_repr(value)
     return text if len(text) < 40 else text[:37] + "..."
@@ -584,7 +597,8 @@ def _read_arbors(r: _Reader, doc: dict):
             witem = f"{item} wheel '{wname}'"
             r.name(wname, witem)
             if isinstance(teeth, bool) or not isinstance(teeth, int):
-                raise r.fail(witem, f"teeth must be a whole number, got {_show(teeth)}")
+                raise r.fail(witem, f"teeth must be a whole number, got {_show(teeth)}"
+                             + _count_hint(wname, teeth))
             if teeth <= 0:
                 raise r.fail(witem, f"teeth must be more than zero, got {_show(teeth)}")
             if teeth > MAX_TEETH:
@@ -773,9 +787,44 @@ def _read_crank(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> Crank:
         raise r.fail("[crank] arbor", unknown_name("arbor", arbor, arbors))
     if arbors[arbor].fixed:
         raise r.fail("[crank] arbor", f"arbor '{arbor}' is fixed and cannot be cranked")
-    days = r.fraction(r.need(tbl, "days_per_turn", "[crank]"), "[crank] days_per_turn",
-                      MIN_DAYS_PER_TURN, MAX_DAYS_PER_TURN, DAYS_PER_TURN_BOUNDS)
+    value = r.need(tbl, "days_per_turn", "[crank]")
+    try:
+        days = r.fraction(value, "[crank] days_per_turn", MIN_DAYS_PER_TURN, MAX_DAYS_PER_TURN,
+                          DAYS_PER_TURN_BOUNDS)
+    except TrainError:
+        if isinstance(value, str):  # "12h", "1 day", "1y": a time where days were wanted
+            _time_for_days(r, value)
+        raise
     return Crank(arbor, days)
+
+
+def _time_for_days(r: _Reader, text: str) -> None:
+    """Refuse ``days_per_turn`` written as a time with a unit, saying the days it means in the
+    form to write (``"12h"``: ``days_per_turn = 0.5``); nothing when it is not a time."""
+    from .dates import time_in_days  # local import keeps the loader light to import
+    from .errors import DriftError
+
+    item = "[crank] days_per_turn"
+    try:
+        days = time_in_days(text)
+    except DriftError:
+        raise r.fail(item, f"is in days, written as a number alone, and a month has no fixed "
+                     f"length: write its days (not {text.strip()!r})") from None
+    if days is None or days <= 0:
+        return
+    # a decimal where it ends (0.5, 365.25: 10**places a multiple of the denominator), else
+    # the exact fraction in quotes ("1/3")
+    places = next((k for k in range(12) if 10**k % days.denominator == 0), None)
+    shown = (f'"{days}"' if places is None else
+             f"{days.numerator * 10**places // days.denominator}" if places == 0 else
+             f"{days.numerator * 10**places // days.denominator:0{places + 1}d}")
+    if places:
+        shown = f"{shown[:-places]}.{shown[-places:]}"
+    year = (" (a Julian year; the tropical year of the demo orreries is 365.2422 days)"
+            if text.strip().lower().rstrip("s").endswith(("y", "yr", "year")) else "")
+    raise r.fail(item, f"is in days, written as a number alone: {text.strip()!r} is "
+                 f"{shown.strip(chr(34))} day{'' if days == 1 else 's'}{year}; write "
+                 f"days_per_turn = {shown}")
 
 
 def _read_epoch(r: _Reader, doc: dict) -> Epoch:

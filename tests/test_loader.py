@@ -85,6 +85,9 @@ def test_good_file_loads_with_exact_fraction():
     ("a1 = 20", "a1 = 0", ["wheel 'a1'", "more than zero"]),
     ("a1 = 20", "a1 = -12", ["wheel 'a1'", "more than zero"]),
     ("a1 = 20", "a1 = 20.5", ["wheel 'a1'", "whole number"]),
+    ("a1 = 20", 'a1 = "20"', ["wheel 'a1'", "got '20'; write it without quotes: a1 = 20"]),
+    ("a1 = 20", "a1 = 20.0", ["wheel 'a1'", "got 20.0; write it without the point: a1 = 20"]),
+    ("a1 = 20", 'a1 = "twenty"', ["wheel 'a1': teeth must be a whole number, got 'twenty'"]),
     ('shows = "moon"', 'shows = "comet"', ["[pointers.p] shows", "unknown pointer kind",
                                            "phase"]),
     # a slip, and a maker's own word for a kind named otherwise here (the tide office's
@@ -101,6 +104,15 @@ def test_good_file_loads_with_exact_fraction():
     ('"6940/235"', '"69 40/235"', ["[crank] days_per_turn", "fraction like"]),
     ('"6940/235"', '"-3"', ["[crank] days_per_turn", "greater than zero"]),
     ('"6940/235"', '"__import__(\'os\')"', ["[crank] days_per_turn"]),
+    # a time with its unit, as the bench's step and --step take it: the days it is, in the
+    # form to write (a decimal where one ends, else the exact fraction in quotes)
+    ('"6940/235"', '"12h"', ["[crank] days_per_turn: is in days, written as a number alone: "
+                             "'12h' is 0.5 days; write days_per_turn = 0.5"]),
+    ('"6940/235"', '"8 hours"', ["'8 hours' is 1/3 days; write days_per_turn = \"1/3\""]),
+    ('"6940/235"', '"1d"', ["'1d' is 1 day; write days_per_turn = 1"]),
+    ('"6940/235"', '"1y"', ["'1y' is 365.25 days (a Julian year;", "= 365.25"]),
+    ('"6940/235"', '"1 month"', ["[crank] days_per_turn", "a month has no fixed length"]),
+    ('"6940/235"', '"5 turns"', ["[crank] days_per_turn", "fraction like"]),
     ('arbor = "a"\ndays', 'arbor = "q"\ndays', ["[crank] arbor", "unknown arbor 'q'"]),
     ("[arbors.b]", "[arbors.b]\nwheel = 3", ["[arbors.b]", "unknown key 'wheel'"]),
     ("[arbors.b]", "[arbors.b]\non = \"b2\"", ["[arbors.b] on", "unknown arbor 'b2'"]),
