@@ -924,7 +924,15 @@ def test_drift_report_says_a_cycle_dials_whole_months(tmp_path, capsys):
                  "--step", "5d"]) == 0
     out = " ".join(capsys.readouterr().out.split())
     assert "whole months off 2 months ahead at the end; over the span from none to 2 months " \
-           "ahead (the errors here are within the month the dial shows)" in out
+           "ahead (the errors here are taken within a month: for as many days as its error " \
+           "after or before each new moon, the dial still stands over the month before or " \
+           "already over the next)" in out
+    # over its first few years the ring keeps the sky's count, which is not to say it stands
+    # over the right month every day: its in-month error is days at times
+    assert main(["drift", str(path), "--from", "1950-01-01", "--years", "2", "--step", "1d"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "whole months off none: it keeps the sky's count of months throughout" in out
+    assert "right month throughout" not in out
     assert main(["drift", str(path), "--years", "100", "--step", "5d", "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["pointers"]["months"]["months_off_end"] == 2

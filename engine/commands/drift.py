@@ -359,9 +359,13 @@ def _months(k: int) -> str:
 
 def _months_off(s) -> str:
     """An eclipse-cycle dial's whole lunations off the real count (its errors are in-month)."""
-    within = "the errors here are within the month the dial shows"
+    within = ("the errors here are taken within a month: for as many days as its error after "
+              "or before each new moon, the dial still stands over the month before or already "
+              "over the next")
     if s.months_off_least == s.months_off_most == 0:
-        return f"none: the dial shows the right month throughout ({within})"
+        # not 'the right month throughout': a ring 11 days late is over the month before for
+        # 11 days after every new moon, and keeps the sky's count all the same
+        return f"none: it keeps the sky's count of months throughout ({within})"
     span = ("" if s.months_off_least == s.months_off_most else
             f"; over the span from {_months(s.months_off_least)} to {_months(s.months_off_most)}")
     return f"{_months(s.months_off_end)} at the end{span} ({within})"
