@@ -110,15 +110,6 @@ class WheelworkApp(App):
     def get_default_screen(self) -> Screen:
         return BenchScreen(self.session)
 
-    def notify(self, message: str, *, title: str = "", severity="information",
-               timeout: float | None = None, markup: bool = False) -> None:
-        """A notification, always as plain text: the engine's messages hold brackets that
-        are the reader's to see (``[pointers.sun]``, ``pip install 'wheelwork[de440]'``, a
-        folder named ``[old]``), which Textual would read as style tags and drop. Every
-        screen's and widget's notify comes here, and Textual's Widget.notify passes
-        ``markup=True`` of its own accord, so ``markup`` is not followed."""
-        super().notify(message, title=title, severity=severity, timeout=timeout, markup=False)
-
     def on_resize(self, event: events.Resize) -> None:
         """Every screen in the stack says so when the terminal is too small (tui/small.py),
         and comes back when it is enlarged (this runs before the app takes the new size)."""
@@ -145,7 +136,8 @@ class WheelworkApp(App):
                 and (self._quit_asked is None or now - self._quit_asked > 30)):
             self._quit_asked = now
             self.notify("the train has changes not saved: ctrl+s saves them; q again quits "
-                        "without saving", title="not saved", severity="warning", timeout=10)
+                        "without saving", title="not saved", severity="warning", timeout=10,
+                        markup=False)
             return
         await super().action_quit()
 
@@ -204,9 +196,9 @@ class WheelworkApp(App):
                 f.write(svg)
         except OSError as exc:
             self.notify(f"cannot save the screenshot to {target}: {exc.strerror or exc}",
-                        title="screenshot", severity="error", timeout=8)
+                        title="screenshot", severity="error", timeout=8, markup=False)
             return None
-        self.notify(f"saved to {target.resolve()}", title="screenshot", timeout=8)
+        self.notify(f"saved to {target.resolve()}", title="screenshot", timeout=8, markup=False)
         return str(target)
 
 

@@ -67,7 +67,7 @@ def adopt(app, mech) -> None:
     app.session.adopt(mech)
     if dropped:
         app.notify("the changed train's pointers are set as its file says: the re-set made "
-                   "by hand is dropped (r re-sets them to the sky again)", timeout=6)
+                   "by hand is dropped (r re-sets them to the sky again)", timeout=6, markup=False)
 
 
 #: what a step back or forward through the changes is called on screen
@@ -80,7 +80,7 @@ def step_edit(screen, undo: bool):
     ed = screen.session.editor
     change = None if ed is None else (ed.undo() if undo else ed.redo())
     if change is None:
-        screen.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2)
+        screen.notify(f"nothing to {'undo' if undo else 'redo'}", timeout=2, markup=False)
         return None
     adopt(screen.app, ed.mech)
     return change
@@ -410,7 +410,7 @@ class PartsScreen(ClosesOnce, SizeGuard, Screen):
     def _saved(self, path: Path | None) -> None:
         if path is not None:
             remember(path)
-            self.notify(f"saved {path}", timeout=3)
+            self.notify(f"saved {path}", timeout=3, markup=False)
             self.query_one("#parts-done", Label).update(Text(f"saved as {path.name}"))
             self._show_all()  # the saved file is now the "file" side of the comparison
 
@@ -985,7 +985,7 @@ class TeethScreen(ClosesOnce, SizeGuard, Screen):
             self._error(str(exc))  # the train stays as it was
             return
         adopt(self.app, mech)
-        self.notify(f"put in: {answer.stages_text()} (ctrl+z undoes)", timeout=4)
+        self.notify(f"put in: {answer.stages_text()} (ctrl+z undoes)", timeout=4, markup=False)
         self.dismiss(self.editor.last_change)
 
     def _stop_search(self) -> bool:

@@ -458,11 +458,12 @@ class BenchScreen(SizeGuard, Screen):
             now = self.session.now()
         except WheelworkError as exc:
             self._stop()
-            self.notify(str(exc), title="cannot read the sky", severity="error")
+            self.notify(str(exc), title="cannot read the sky", severity="error", markup=False)
             return
         except Exception as exc:  # noqa: BLE001 - an engine fault must not take the screen down
             self._stop()
-            self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error")
+            self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error",
+                        markup=False)
             return
         views = self._views
         for view in views[:-1]:
@@ -486,7 +487,7 @@ class BenchScreen(SizeGuard, Screen):
             self.session.crank(self.session.direction * self.session.speed_turns_per_s / FPS)
         except WheelworkError as exc:
             self._stop()
-            self.notify(f"stopped: {exc}", severity="warning")
+            self.notify(f"stopped: {exc}", severity="warning", markup=False)
         self.refresh_view()
 
     def _stop(self) -> None:
@@ -498,10 +499,11 @@ class BenchScreen(SizeGuard, Screen):
         try:
             fn(*args)
         except (WheelworkError, ValueError, ZeroDivisionError) as exc:
-            self.notify(str(exc), severity="error")
+            self.notify(str(exc), severity="error", markup=False)
             return False
         except Exception as exc:  # noqa: BLE001 - report, keep the bench open
-            self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error")
+            self.notify(f"{type(exc).__name__}: {exc}", title="internal error", severity="error",
+                        markup=False)
             return False
         return True
 
@@ -560,7 +562,8 @@ class BenchScreen(SizeGuard, Screen):
     def action_reset_pointers(self, names=None, to: str = "sky") -> None:
         if self._guard(self.session.reset_pointers, names, to):
             which = "pointers" if names is None else ", ".join(names)
-            self.notify(f"{which} re-set to {RESET_TO[to]} at this date (u undoes)", timeout=3)
+            self.notify(f"{which} re-set to {RESET_TO[to]} at this date (u undoes)", timeout=3,
+                        markup=False)
             self.refresh_view()
 
     def action_choose_reset(self) -> None:
@@ -572,10 +575,11 @@ class BenchScreen(SizeGuard, Screen):
 
     def action_undo_reset(self) -> None:
         if self.session.undo_reset():
-            self.notify("pointer setting restored", timeout=3)
+            self.notify("pointer setting restored", timeout=3, markup=False)
             self.refresh_view()
         else:
-            self.notify("nothing to undo: the pointers are as set at the epoch", timeout=3)
+            self.notify("nothing to undo: the pointers are as set at the epoch", timeout=3,
+                        markup=False)
 
     def action_toggle_frame(self) -> None:
         self.session.toggle_frame()
@@ -594,7 +598,7 @@ class BenchScreen(SizeGuard, Screen):
             if not self.query_one("#eclipse").display:
                 e = self.session.eclipse_watch.at(self.session.jd_now())
                 if e is not None and e.sky_type:
-                    self.notify(eclipse_notice(e), title="eclipse")
+                    self.notify(eclipse_notice(e), title="eclipse", markup=False)
 
     def action_predicted(self) -> None:
         if self._guard(self.session.jump_to_predicted):
@@ -625,9 +629,10 @@ class BenchScreen(SizeGuard, Screen):
             with out.open("w", encoding="utf-8") as fh:
                 fh.write(svg)
         except (WheelworkError, OSError) as exc:
-            self.notify(str(exc), title="screenshot not saved", severity="error", timeout=8)
+            self.notify(str(exc), title="screenshot not saved", severity="error", timeout=8,
+                        markup=False)
             return
-        self.notify(f"saved to {out.path}", title="screenshot", timeout=8)
+        self.notify(f"saved to {out.path}", title="screenshot", timeout=8, markup=False)
 
     # --- changing the train (tui/editing.py) ----------------------------------------------
     def action_change_train(self) -> None:
@@ -644,7 +649,7 @@ class BenchScreen(SizeGuard, Screen):
         if self.session.editor is None:
             return
         if event.wheel is None:
-            self.notify(f"arbor {event.arbor} carries no wheel to change", timeout=3)
+            self.notify(f"arbor {event.arbor} carries no wheel to change", timeout=3, markup=False)
             return
         self._stop()
         self.app.push_screen(PartsScreen(self.session, ("teeth", event.wheel), picked=True))
@@ -655,7 +660,7 @@ class BenchScreen(SizeGuard, Screen):
         change = step_edit(self, undo)
         if change is not None:
             await self.rebuild()
-            self.notify(f"{STEP_WORDS[undo]}: {change.text()}", timeout=3)
+            self.notify(f"{STEP_WORDS[undo]}: {change.text()}", timeout=3, markup=False)
 
     async def action_undo_edit(self) -> None:
         await self._edit_step(True)
@@ -669,7 +674,7 @@ class BenchScreen(SizeGuard, Screen):
         async def done(path) -> None:
             if path is not None:
                 remember(path)
-                self.notify(f"saved {path}", timeout=3)
+                self.notify(f"saved {path}", timeout=3, markup=False)
                 await self.rebuild()
 
         if self.session.editor is not None:
@@ -1385,7 +1390,7 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
     def action_cancel(self) -> None:
         if not self.computing:
             self.notify("nothing to cancel: the chart is complete" if self.result is not None
-                        else "nothing to cancel", timeout=3)
+                        else "nothing to cancel", timeout=3, markup=False)
             return
         self._run += 1  # whatever the cancelled run still sends is ignored
         self.workers.cancel_group(self, "drift")
@@ -1403,10 +1408,10 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             # the same ways out the commands and the bench's crank give (engine.sky)
             self.notify(f"the span is capped by the end of the ephemeris {sky.name} on "
                         f"{format_day(end)}; {sky.hint_for(end + 1.0, end + 1.0)} (give it "
-                        "when opening the bench)", title="no more decades", timeout=8)
+                        "when opening the bench)", title="no more decades", timeout=8, markup=False)
             return
         if self.decades + step < 1:
-            self.notify("one decade is the shortest span", timeout=3)
+            self.notify("one decade is the shortest span", timeout=3, markup=False)
             return
         self.decades += step
         self.start()
