@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from fractions import Fraction
 from pathlib import Path
 
@@ -637,6 +638,11 @@ def test_an_empty_file_is_said_to_be_empty(text):
     where the format is described."""
     msg = error_of(text)
     assert msg.startswith("bad.toml: is empty") and "docs/train-format.md" in msg, msg
+    # the demo to copy, by the path it has where wheelwork is installed (a plain pip install
+    # has no engine/trains/ folder in sight)
+    shown = re.search(r"the simplest is (\S+);", msg)
+    assert shown and Path(shown.group(1)).is_file(), msg
+    assert Path(shown.group(1)).read_text(encoding="utf-8").count("[pointers.") >= 1
 
 
 @pytest.mark.parametrize("raw, words", [
