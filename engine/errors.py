@@ -43,6 +43,30 @@ def decimal_comma(text: object) -> str:
     return ""
 
 
+#: the ways a number's unit is written after it, by the unit an option's value is in (the
+#: option's name or help says it): '0.02mm' for --eccentricity-mm, '25y' for --years
+UNIT_WORDS = {
+    "mm": ("mm",),
+    "degrees": ("deg", "degs", "degree", "degrees", "°"),
+    "years": ("y", "yr", "yrs", "year", "years"),
+    "days": ("d", "day", "days"),
+    "turns per minute": ("rpm",),
+}
+
+
+def unit_slip(text: object, unit: str) -> str:
+    """``; the unit is already mm: write 0.02`` for an option's number written with the unit
+    it is in after it (``0.02mm``, ``0.25°``, ``25 years``), else :func:`decimal_comma`'s hint
+    or empty. Only the option's own unit: '2cm' for a value in mm is not 2."""
+    import re
+
+    if isinstance(text, str):
+        m = re.fullmatch(r"\s*([+-]?(?:\d+\.?\d*|\.\d+))\s*([^\d\s.]+)\s*", text)
+        if m and m.group(2).lower() in UNIT_WORDS.get(unit, ()):
+            return f"; the value is in {unit} already: write {m.group(1)}"
+    return decimal_comma(text)
+
+
 def unknown_name(what: str, name: str, known) -> str:
     """``unknown arbor 'year_output'; did you mean 'year_out'?``: the nearest of ``known``,
     when one is a slip away (:func:`did_you_mean`)."""

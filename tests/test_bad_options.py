@@ -166,6 +166,18 @@ CASES: list[tuple[list[str], str]] = [
     (["check", T, "--efficiency", "0,9"], "a decimal is written with a point: 0.9"),
     (["play", T, "--division", "0,01"], "a decimal is written with a point: 0.01"),
     (["play", T, "--backlash-mm", "0,02"], "a decimal is written with a point: 0.02"),
+    # the option's own unit written after the number: the number alone, since the option's
+    # name or help gives the unit; another unit is not converted ('2cm' is not 2 mm)
+    (["play", T, "--eccentricity-mm", "0.02mm"], "not a number: '0.02mm'; the value is in "
+                                                  "mm already: write 0.02"),
+    (["play", T, "--lever-mm", "10 mm"], "the value is in mm already: write 10"),
+    (["play", T, "--tilt-deg", "0.25°"], "the value is in degrees already: write 0.25"),
+    (["drift", DISC, "--years", "25y"], "'25y' is not a number of years; the value is in "
+                                        "years already: write 25"),
+    (["drift", DISC, "--years", "1", "--threshold", "1deg"], "the value is in degrees already: "
+                                                            "write 1"),
+    (["check", T, "--crank-rpm", "5rpm"], "already: write 5"),
+    (["play", T, "--eccentricity-mm", "2cm"], "eccentricity: not a number: '2cm'\n"),
     # an empty name to write to (an unset shell variable: --out "$DIR") names the current
     # folder: refused, never written there or passed over in silence
     (["cut", T, "--out", ""], "an empty name"),

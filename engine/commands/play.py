@@ -14,7 +14,7 @@ from ..defaults import (
     DEFAULT_TILT_DEG,
     LEVER_MM,
 )
-from ..errors import TrainError, UsageError, decimal_comma
+from ..errors import TrainError, UsageError, decimal_comma, unit_slip
 from ..periods import JULIAN_YEAR_DAYS
 from ..train import TOOTH_FORMS
 from . import support
@@ -76,7 +76,7 @@ def _nonneg(what: str):
             value = float(text)
         except ValueError:
             raise argparse.ArgumentTypeError(f"{what}: not a number: {text!r}"
-                                             f"{decimal_comma(text)}") from None
+                                             f"{unit_slip(text, 'mm')}") from None
         if not 0 <= value <= 100 or value != value:
             raise argparse.ArgumentTypeError(f"{what}: must be 0 to 100 mm, got {text}")
         return value
@@ -97,7 +97,8 @@ def _tilt(text: str) -> float:
     try:
         value = float(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"not a number: {text!r}{decimal_comma(text)}") from None
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}"
+                                         f"{unit_slip(text, 'degrees')}") from None
     if not 0 <= value <= 45:
         raise argparse.ArgumentTypeError(f"degrees from 0 to 45, got {text}")
     return value

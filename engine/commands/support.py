@@ -35,7 +35,7 @@ import sys
 import threading
 from pathlib import Path
 
-from ..errors import OutputError, ParserExit, UsageError, WheelworkError, decimal_comma, nearest
+from ..errors import OutputError, ParserExit, UsageError, WheelworkError, nearest, unit_slip
 from ..figures import figure, fixed, line_up  # noqa: F401 - the commands' ways to write a number
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
@@ -145,7 +145,7 @@ def _number(text: str, what: str) -> float:
         value = float(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f"{text!r} is not a number of {what}"
-                                         f"{decimal_comma(text)}") from None
+                                         f"{unit_slip(text, what)}") from None
     if not math.isfinite(value):
         raise argparse.ArgumentTypeError(f"{text}: must be a finite, positive number of {what}")
     return value
