@@ -854,7 +854,9 @@ def _read_epoch(r: _Reader, doc: dict) -> Epoch:
     if ephemeris is not None and (not isinstance(ephemeris, str)
                                   or ephemeris.strip().lower() not in EPHEMERIS_NAMES):
         raise r.fail("[epoch] ephemeris", f"should be one of {', '.join(EPHEMERIS_NAMES)}, got "
-                     f"{_show(ephemeris)}")
+                     f"{_show(ephemeris)}"
+                     + (did_you_mean(ephemeris.strip().lower(), EPHEMERIS_NAMES)
+                        if isinstance(ephemeris, str) else ""))
     return Epoch(jd, text, mode, None if ephemeris is None else ephemeris.strip().lower())
 
 

@@ -178,6 +178,11 @@ CASES: list[tuple[list[str], str]] = [
                                                             "write 1"),
     (["check", T, "--crank-rpm", "5rpm"], "already: write 5"),
     (["play", T, "--eccentricity-mm", "2cm"], "eccentricity: not a number: '2cm'\n"),
+    # an ephemeris name one slip off (a letter O for a zero) is answered with the name
+    (["sky", "--ephemeris", "de44O"], "de44O: no such file, and not de421, de440 or de406; "
+                                      "did you mean 'de440'?"),
+    (["drift", DISC, "--years", "1", "--ephemeris", "DE-406"], "did you mean 'de406'?"),
+    (["sky", "--ephemeris", "mine.bsp"], "mine.bsp: no such file; give a JPL SPK file"),
     # an empty name to write to (an unset shell variable: --out "$DIR") names the current
     # folder: refused, never written there or passed over in silence
     (["cut", T, "--out", ""], "an empty name"),

@@ -114,6 +114,9 @@ def test_good_file_loads_with_exact_fraction():
     ('"6940/235"', '"1y"', ["'1y' is 365.25 days (a Julian year;", "= 365.25"]),
     ('"6940/235"', '"1 month"', ["[crank] days_per_turn", "a month has no fixed length"]),
     ('"6940/235"', '"5 turns"', ["[crank] days_per_turn", "fraction like"]),
+    ('set = "angles"', 'set = "angles"\nephemeris = "de4O6"',
+     ["[epoch] ephemeris: should be one of de421, de440, de406, got 'de4O6'; did you mean "
+      "'de406'?"]),
     ('arbor = "a"\ndays', 'arbor = "q"\ndays', ["[crank] arbor", "unknown arbor 'q'"]),
     ("[arbors.b]", "[arbors.b]\nwheel = 3", ["[arbors.b]", "unknown key 'wheel'"]),
     ("[arbors.b]", "[arbors.b]\non = \"b2\"", ["[arbors.b] on", "unknown arbor 'b2'"]),

@@ -237,6 +237,12 @@ def ephemeris(text: str) -> str:
         raise argparse.ArgumentTypeError(
             f"{text}: is a folder; give a JPL SPK file (.bsp) inside it, or de421, de440 or de406")
     if not p.exists():
+        # a name one slip off ('de44O' with a letter O, 'de460') is answered with the name
+        near = nearest(text.strip().lower(), ("de421", "de440", "de406"))
+        if near:
+            raise argparse.ArgumentTypeError(
+                f"{text}: no such file, and not de421, de440 or de406; did you mean "
+                f"'{near}'? (or give a JPL SPK file, .bsp)")
         raise argparse.ArgumentTypeError(
             f"{text}: no such file; give a JPL SPK file (.bsp), or de421, de440 or de406")
     return text
