@@ -136,6 +136,29 @@ def test_format_doc_example_is_a_working_train():
     assert backward_warnings(train, kin) == []
 
 
+def test_format_doc_moon_disc_and_tide_hand_read_as_it_says():
+    """The moon disc and tide hand of docs/train-format.md: both show the synodic month in
+    29.5 days (the disc's 118 teeth pushed twice a day), 1,036 ppm short, a day out in
+    about 2.6 years, neither backwards (the page says so)."""
+    from engine.loader import parse_train
+    from engine.mechanism import build
+    from engine.ratios import pointer_ratios
+
+    text = (ROOT / "docs" / "train-format.md").read_text()
+    part = text[text.index("## A moon disc and a tide hand"):]
+    block = re.search(r"```toml\n(.*?)```", part, re.S).group(1)
+    head = '[train]\nname = "doc tide"\n[epoch]\ndate = "2026-12-03"\nset = "mean"\n'
+    mech = build(parse_train(head + block, "docs/train-format.md"))
+    assert not mech.warnings  # neither runs backwards
+    rows = {r.pointer: r for r in pointer_ratios(mech)}
+    assert set(rows) == {"moon_phase", "high_water"}
+    for r in rows.values():
+        # 59 days a disc turn of two moons; 4 tide turns a disc turn of half a lunation each
+        assert r.period_days == 29.5 and r.target_key == "synodic_month"
+        assert round(r.period_error_ppm) == -1036 and round(r.years_to_one_day, 1) == 2.6
+    assert "1,036 ppm short" in text and "about 2.6 years" in text
+
+
 def test_returned_types_are_importable_from_the_api():
     """What the front door's functions return (and the items in it) is named in engine.api."""
     import engine.api as api
