@@ -106,7 +106,9 @@ def sky_reaching(train: Train | None, ephemeris, jd_first: float, jd_last: float
     was named and DE421 does not cover ``jd_first`` .. ``jd_last`` (UT), the narrowest
     installed long-span one that does (:func:`wider_sky`), with ``note`` saying so. ``note``
     is None when no other sky was taken; when none installed reaches the dates, the bundled
-    sky comes back and reading it there raises the error that says how to reach them."""
+    sky comes back and reading it there raises the error that says how to reach them — or,
+    for a train whose epoch the bundled sky cannot reach, the widest installed one that can,
+    so that the error names the part of the span past it."""
     from .sky import Sky
 
     sky = Sky(ephemeris) if train is None else sky_for(train, ephemeris)
@@ -114,7 +116,33 @@ def sky_reaching(train: Train | None, ephemeris, jd_first: float, jd_last: float
         wide = wider_sky(sky, jd_first, jd_last, what, use)
         if wide is not None:
             return wide
+        if train is not None:
+            wide = _widest_at_epoch(sky, train.epoch.jd_ut, use)
+            if wide is not None:
+                return wide
     return sky, None
+
+
+def _widest_at_epoch(sky, epoch_jd: float, use: str):
+    """When no installed sky reaches all the dates asked and ``sky`` (the bundled one) does not
+    reach the train's epoch: ``(Sky, note)`` for the widest installed one that does, so that
+    what is refused next is the part of the span past it, named as such — not the epoch, with
+    a hint to take a sky that reaches the epoch (a train set in 200 BC run for 5,000 years
+    was told to use DE406, which then refused the 1,800 years past AD 3000). None otherwise."""
+    import importlib.util
+
+    from .sky import LONG_SPANS, Sky
+
+    lo, hi = sky.span_jd
+    if lo <= epoch_jd <= hi:
+        return None
+    for name, _, package, span, _, a, b in sorted(LONG_SPANS, key=lambda row: -row[4]):
+        if a <= epoch_jd <= b and importlib.util.find_spec(package) is not None:
+            wide = Sky(name)
+            return wide, (f"the epoch lies outside {sky.name} ({sky.span_text}) and no "
+                          f"installed ephemeris reaches all the dates: {use} {wide.name} "
+                          f"({span}, installed), the widest; --ephemeris chooses")
+    return None
 
 
 def _named_elsewhere(train: Train, sky) -> str:

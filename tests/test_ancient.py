@@ -135,6 +135,21 @@ def test_a_file_set_in_antiquity_naming_no_ephemeris_is_told_how_to_name_one(tmp
     assert "compared with JPL DE406" in " ".join(capsys.readouterr().err.split())
 
 
+def test_a_span_past_every_ephemeris_from_an_ancient_epoch_names_the_span(tmp_path, capsys):
+    """A train set in 150 BC, naming no ephemeris, run for 5,000 years (past AD 3000, where
+    DE406 ends): the error is the part of the span past DE406, not the epoch with a hint to
+    use DE406 (which the span then outruns all the same)."""
+    from engine.cli import main
+
+    bare = tmp_path / "bare.toml"
+    bare.write_text(DEMO.read_text().replace('ephemeris = "de406"', ""))
+    for command in ("drift", "eclipses"):
+        assert main([command, str(bare), "--years", "5000"]) == 1
+        err = " ".join(capsys.readouterr().err.split())
+        assert "of the span -0149-04-10 (150 BC) to" in err and "lie outside JPL DE406" in err
+        assert "[epoch] date" not in err and "use --ephemeris de406" not in err, err
+
+
 def test_lunation_board_drifts_as_its_nineteen_year_relation_says(ancient):
     """Set in 150 BC, read over one 19-year cycle on DE406. The 19-year relation makes the
     year 235/19 mean synodic months = 365.2468 d against the tropical year's 365.2422 d, so the
