@@ -155,7 +155,11 @@ CASES: list[tuple[list[str], str]] = [
     (["play", T, "--seed", "x"], "seed"),
     (["play", T, "--division", "nan"], "division"),
     (["play", T, "--lever-mm", "0"], "positive number of mm"),
-    (["play", T, "--lever-mm", "1e6"], "at most 10000 mm"),
+    (["play", T, "--lever-mm", "1e6"], "at most 10,000 mm"),
+    # bounds in figures as every number is written, thousands separated
+    (["drift", DISC, "--years", "1e6"], "1e6: at most 100,000 years"),
+    (["play", T, "--seed", "abc"], "give seed from 0 to 9,223,372,036,854,775,807"),
+    (["play", T, "--builds", "0"], "0: builds must be from 10 to 100,000"),
     (["play", T, "--hole-mm", "nan"], "hole"),
     (["play", T, "--hole-mm", "x"], "hole: not a number"),
     # a decimal comma, as many countries write a decimal: what to write instead

@@ -158,7 +158,7 @@ def positive(what: str, most: float | None = None):
         if value <= 0:
             raise argparse.ArgumentTypeError(f"{text}: must be a positive number of {what}")
         if most is not None and value > most:
-            raise argparse.ArgumentTypeError(f"{text}: at most {most:g} {what}")
+            raise argparse.ArgumentTypeError(f"{text}: at most {figure(most, 15)} {what}")
         return value
     check.__name__ = what  # argparse names the type in its own messages
     return check
@@ -171,10 +171,11 @@ def whole(what: str, least: int, most: int):
             value = int(text.strip())
         except ValueError:
             raise argparse.ArgumentTypeError(
-                f"{text!r} is not a whole number (give {what} from {least} to {most})") from None
+                f"{text!r} is not a whole number (give {what} from {least:,} to {most:,})"
+            ) from None
         if not least <= value <= most:
             raise argparse.ArgumentTypeError(
-                f"{value}: {what} must be from {least} to {most}")
+                f"{value}: {what} must be from {least:,} to {most:,}")
         return value
     check.__name__ = what
     return check
