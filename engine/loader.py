@@ -786,7 +786,12 @@ def _read_pin_slots(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> dict[str
 def _read_crank(r: _Reader, doc: dict, arbors: dict[str, Arbor]) -> Crank:
     tbl = r.table(doc.get("crank"), "[crank]", "crank") if "crank" in doc else None
     if tbl is None:
-        raise r.fail("[crank]", "missing: say which arbor the crank turns and days_per_turn")
+        # arbors and meshes alone: most likely a fragment, as `wheelwork search --emit` writes
+        part = ("; this file has arbors and meshes but no [crank], [epoch] or [pointers]: a "
+                "fragment (as wheelwork search --emit writes one) goes into a train file that "
+                "has them" if "meshes" in doc and not {"epoch", "pointers"} & set(doc) else "")
+        raise r.fail("[crank]", "missing: say which arbor the crank turns and days_per_turn"
+                     + part)
     arbor = r.text(r.need(tbl, "arbor", "[crank]"), "[crank] arbor")
     if arbor not in arbors:
         raise r.fail("[crank] arbor", unknown_name("arbor", arbor, arbors))

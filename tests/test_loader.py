@@ -634,6 +634,22 @@ def test_an_enumerated_value_not_in_its_list_names_the_list(old, new, item):
     assert item in msg and ("should be one of" in msg or "(known: " in msg), msg
 
 
+def test_a_search_fragment_read_as_a_train_is_said_to_be_a_fragment(tmp_path, capsys):
+    """What `wheelwork search --emit` writes (arbors and meshes, no [crank], [epoch] or
+    [pointers]) given to a command alone: the error says it is a fragment that goes into a
+    train, not only that [crank] is missing."""
+    frag = tmp_path / "frag.toml"
+    assert main(["search", "--ratio", "1/12", "--stages", "1", "--emit", str(frag)]) == 0
+    capsys.readouterr()
+    assert main(["ratios", str(frag)]) == 1
+    err = " ".join(capsys.readouterr().err.split())
+    assert "[crank]: missing" in err and "a fragment (as wheelwork search --emit writes one) " \
+        "goes into a train file that has them" in err, err
+    # a train that forgot only its [crank] is not called a fragment
+    msg = error_of(GOOD.replace('[crank]\narbor = "a"\ndays_per_turn = "6940/235"\n', ""))
+    assert "[crank]: missing" in msg and "fragment" not in msg, msg
+
+
 @pytest.mark.parametrize("text", ["", "\n\n   \n", "# a train, one day\n", "\ufeff\r\n"])
 def test_an_empty_file_is_said_to_be_empty(text):
     """An empty file (or blank lines and comments only) was answered "[arbors]: the train
