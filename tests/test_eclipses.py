@@ -259,6 +259,25 @@ def test_cli_json_has_the_promised_shape(capsys):
     assert hit == {e["syzygy_jd_ut"] for e in doc["predicted"] if e["outcome"] == "hit"}
 
 
+def test_cli_summary_leaves_out_the_rows_and_keeps_the_counts(capsys):
+    """--summary prints the same hits, misses, false alarms and first failure as the full
+    report, without the row per eclipse (which a span of centuries runs to thousands of);
+    with --all it is a usage error, one asking for every row and the other for none."""
+    from engine.cli import main
+
+    ask = ["eclipses", "tide_office", "--from", "2024-01-01", "--to", "2025-01-01"]
+    assert main(ask) == 0
+    full = capsys.readouterr().out
+    assert main([*ask, "--summary"]) == 0
+    short = capsys.readouterr().out
+    assert "2024-04-08" in full and "2024-04-08" not in short  # the total solar eclipse's row
+    # the same summary, first failure and caution
+    assert short[short.index("summary"):] == full[full.index("summary"):]
+    assert "solar filter" in short
+    assert main([*ask, "--summary", "--all"]) == 2
+    assert "not allowed with argument --summary" in capsys.readouterr().err
+
+
 def test_cli_text_csv_and_refusals(tmp_path, capsys):
     from engine.cli import main
 

@@ -41,9 +41,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                           "the train has one)")
     support.add_ephemeris(how)
     out = parser.add_argument_group("output")
-    out.add_argument("--all", action="store_true",
-                     help="list every new and full moon, not only those with an eclipse "
-                          "predicted or real")
+    rows = out.add_mutually_exclusive_group()
+    rows.add_argument("--all", action="store_true",
+                      help="list every new and full moon, not only those with an eclipse "
+                           "predicted or real")
+    rows.add_argument("--summary", action="store_true",
+                      help="leave out the list of new and full moons: the hits, misses and "
+                           "false alarms, the first failure and the counts per turn of the "
+                           "cycle dial only (a span of centuries lists thousands of rows)")
     out.add_argument("--csv", metavar="FILE", type=support.out_name("file to write"),
                      help="write every new and full moon of the span")
     out.add_argument("--json", action="store_true", help="print JSON only")
@@ -300,7 +305,9 @@ def _report(args, console: Console, err: Console, mech, sky, c: Check, csv_path)
         "how far the Sun stands from the nearer node as the train shows it")
         + "; γ: gamma, the shadow axis' least distance from the Earth's centre (solar) or the "
         "Moon's from the Earth's shadow axis (lunar), in Earth radii, + north")
-    if rows:
+    if args.summary:
+        pass  # the rows are left out as asked; the summary below says how they came out
+    elif rows:
         note = dates_note(float(c.jd_ut[rows[0]]), float(c.jd_ut[rows[-1]]))
         if note:
             line(note)
