@@ -374,6 +374,29 @@ _CUT_KM = {(3, 301): 1.5e-4, (0, 3): 0.08, (0, 10): 0.08}
 _CUT_KM_S = 1e-5
 
 
+_MIXED = "mixed"  # evaluate's key for a group's mixed rows
+
+
+def _sun_less_barycentre(keys) -> np.ndarray:
+    """(9, 12): the mixed rows of a record layout holding the Sun (0->10) and the Earth-Moon
+    barycentre (0->3) alone, from its power form's 12 rows (positions of ``keys`` in order,
+    then their rates): the Sun less the barycentre (the Sun from the Earth is that plus the
+    Moon's offset over EMRAT: the barycentre's own position is not needed for the Sun and the
+    Moon), the Sun's rate (its light time) and the barycentre's (the Earth's, for aberration).
+    Three rows fewer to gather, multiply and put back in date order, and no difference of
+    two vectors of 1.5e8 km a date; the same sums but for rounding (1e-8 km)."""
+    sun, emb = keys.index((0, 10)), keys.index((0, 3))
+    half = 3 * len(keys)
+    mix = np.zeros((9, 6 * len(keys)))
+    eye = np.eye(3)
+    mix[0:3, 3 * sun:3 * sun + 3] = eye
+    mix[0:3, 3 * emb:3 * emb + 3] = -eye
+    mix[3:6, half + 3 * sun:half + 3 * sun + 3] = eye
+    mix[6:9, half + 3 * emb:half + 3 * emb + 3] = eye
+    mix.flags.writeable = False
+    return mix
+
+
 def _chunks(starts: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(first date, dates) of each chunk of the runs of dates ``starts``, ``counts`` (dates in
     order, a run in one record): a run of at most :data:`_MOST_SLOTS` dates is one chunk, a
@@ -499,6 +522,11 @@ class _ChebGroup:
         return coef
 
     cut = True  # the gather path cuts each series to its error budget (see gather_terms)
+    # The rows the gather path gives when asked for the Sun and the Moon alone (evaluate's
+    # ``mixed``): None, or a (rows, 6 × series) matrix of each mixed row's share of the power
+    # form's rows (set by _open: see _SUN_LESS_BARYCENTRE). Its records are mixed once, when
+    # first read, so the mixed rows cost nothing a date.
+    mix = None
 
     @functools.cached_property
     def gather_terms(self) -> int:
@@ -540,27 +568,34 @@ class _ChebGroup:
         """A copy of this group whose gather path keeps every term (for checks)."""
         other = type(self).__new__(type(self))
         other.__dict__.update({k: v for k, v in vars(self).items()
-                               if k not in ("_turned", "gather_terms", "_orders_memo")})
+                               if k not in ("_turned", "_turned_mixed", "gather_terms",
+                                            "_orders_memo")})
         other.cut = False
         return other
 
-    def _series(self, index: np.ndarray) -> np.ndarray:
+    def _series(self, index: np.ndarray, mix: np.ndarray | None = None) -> np.ndarray:
         """(len(index), 2 × coordinates, :attr:`gather_terms`): records ``index`` as
-        :func:`_power_form` gives them, rates in km/day. Kept with the series, turned
-        :data:`_TURN_BLOCK` records at a time when first read (a block never read takes no
-        memory); a series :meth:`from_records` maps (not copied: DE406's arrays) is turned as
-        it is read."""
+        :func:`_power_form` gives them, rates in km/day (with ``mix``, its rows: :attr:`mix`).
+        Kept with the series, turned :data:`_TURN_BLOCK` records at a time when first read (a
+        block never read takes no memory); a series :meth:`from_records` maps (not copied:
+        DE406's arrays) is turned as it is read."""
         rate = 2.0 * SECONDS_PER_DAY / self.intlen
         if self.mapped:
             return _power_form(np.take(self.coef, index, axis=0), rate, self.scale)
-        k, rows = self.gather_terms, 6 * len(self.keys)
-        table, turned = self.__dict__.get("_turned") or self.__dict__.setdefault(
-            "_turned", (np.empty((self.nrec, rows, k)),
-                        np.zeros(-(-self.nrec // _TURN_BLOCK), dtype=bool)))
+        k = self.gather_terms
+        rows = 6 * len(self.keys) if mix is None else mix.shape[0]
+        name = "_turned" if mix is None else "_turned_mixed"
+        table, turned = self.__dict__.get(name) or self.__dict__.setdefault(
+            name, (np.empty((self.nrec, rows, k)),
+                   np.zeros(-(-self.nrec // _TURN_BLOCK), dtype=bool)))
         for b in range(int(index.min()) // _TURN_BLOCK, int(index.max()) // _TURN_BLOCK + 1):
             if not turned[b]:
                 block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
-                table[block] = _power_form(self.coef[block, :, :k], rate, self.scale)
+                turned_block = _power_form(self.coef[block, :, :k], rate, self.scale)
+                if mix is None:
+                    table[block] = turned_block
+                else:  # each mixed row a sum of the power form's rows: exact but for rounding
+                    np.matmul(mix, turned_block, out=table[block])
                 turned[b] = True
         return np.take(table, index, axis=0, mode="clip",  # "raise" would copy through a buffer
                        out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
@@ -581,8 +616,10 @@ class _ChebGroup:
         self.scale = float(scale)
         return self
 
-    def evaluate(self, whole: np.ndarray, frac: np.ndarray) -> dict:
-        """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``.
+    def evaluate(self, whole: np.ndarray, frac: np.ndarray, mixed: bool = False) -> dict:
+        """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``; with
+        ``mixed``, on the gather path of a group with a :attr:`mix`, ``{_MIXED: rows}``: its
+        mixed rows instead, (rows, dates).
 
         Dates near a regular grid whose step divides the record length are evaluated by
         :meth:`_evaluate_grid` (each record's series once for all its dates); any others by
@@ -598,7 +635,8 @@ class _ChebGroup:
             return on_grid
         index, s = self._records(whole, frac)
         n, k = s.size, self.gather_terms
-        rows = 6 * len(self.keys)  # positions, then rates
+        mix = self.mix if mixed else None
+        rows = 6 * len(self.keys) if mix is None else mix.shape[0]  # positions, then rates
         if n == 0:
             out = np.empty((rows, 0))
         else:
@@ -624,7 +662,7 @@ class _ChebGroup:
             if not in_order:  # each date's slot
                 where = np.arange(n) + np.repeat(place - firsts, counts)
             basis = _power_basis(s, k, where, total)
-            series = self._series(index[firsts[order]])
+            series = self._series(index[firsts[order]], mix)
             whole_rows = _padded_rows(rows, total, None if in_order else "out")
             out = whole_rows[:, :total]  # returned when in order
             done = first = 0
@@ -641,6 +679,8 @@ class _ChebGroup:
                 # from the whole rows, the gap after each included: numpy takes from a
                 # contiguous array far quicker than from one with gaps between its rows
                 out = np.take(whole_rows, where, axis=1)
+        if mix is not None:
+            return {_MIXED: out}
         half = rows // 2
         return {key: (out[3 * i:3 * i + 3], out[half + 3 * i:half + 3 * i + 3])
                 for i, key in enumerate(self.keys)}
@@ -1062,6 +1102,10 @@ def _open(path: str) -> _Loaded:
             layouts.setdefault((arrays[0], arrays[1], arrays[2].shape[2]), []).append(
                 (p, arrays))
         groups = tuple(_ChebGroup(v) for v in layouts.values())
+        if ratio is not None:
+            for group in groups:
+                if sorted(group.keys) == [(0, 3), (0, 10)]:
+                    group.mix = _sun_less_barycentre(group.keys)
     planets = {}
     for code in sorted(set(_PLANET_CODES.values()) - {3}):
         segs = by_pair.get((0, code), [])
@@ -1710,15 +1754,41 @@ class Sky:
                            {k: v[sl] for k, v in helio.items()})
         return (*out, vectors, jd_tt, _delta_t(t)), geo, helio
 
-    def _apparent(self, whole, frac, site=None, t=None, vectors=None) -> _Apparent:
+    def _apparent(self, whole, frac, site=None, t=None, vectors=None,
+                  bodies=True) -> _Apparent:
         """Apparent Sun and Moon (ICRS axes, km) from the Earth's centre or a site at TDB dates
-        ``whole + frac``, with the positions the planets' light path needs (km, km/day)."""
+        ``whole + frac``, with the positions the planets' light path needs (km, km/day).
+        ``bodies=False``: the Sun and the Moon from the Earth's centre alone (no site), whose
+        gathered dates then take a layout's mixed rows (:attr:`_ChebGroup.mix`: the Sun less
+        the barycentre as one series); the planets' fields may then be None."""
+        ratio = self._loaded.earth_ratio
         pv = {}
         for group in self._loaded.groups:
-            pv.update(group.evaluate(whole, frac))
+            pv.update(group.evaluate(whole, frac, not bodies and site is None))
         _SLIPS[0] = None  # kept only while the groups take the same dates
-        emb, v_emb = pv[(0, 3)]
         m_rel, v_m_rel = pv[(3, 301)]
+        n = m_rel.shape[-1]
+        # The Sun and the Moon stacked (body, axis, date): one pass of each step for both.
+        # Before aberration, kept for the lit fraction: written straight into its rows.
+        seen = None if vectors is None else vectors.reshape(2, 3, n)
+        if seen is None or not np.shares_memory(seen, vectors):
+            seen = np.empty((2, 3, n))
+        mixed = pv.get(_MIXED)
+        if mixed is not None:  # the Sun less the barycentre, the Sun's rate, the barycentre's
+            # the Earth's centre is the barycentre less the Moon's offset times the ratio
+            np.multiply(m_rel, ratio, out=seen[0])
+            seen[0] += mixed[0:3]
+            np.multiply(m_rel, 1.0 + ratio, out=seen[1])  # as below
+            v_obs = v_m_rel * -ratio
+            v_obs += mixed[6:9]
+            rate = mixed[3:9].reshape(2, 3, n)  # the Sun's rate; the barycentre's ...
+            rate[1] += v_m_rel  # ... plus the Moon's offset's: the Moon's
+            lts = _retard(seen, rate, _C_KM_DAY)
+            if vectors is not None and not np.shares_memory(seen, vectors):
+                vectors[:] = seen.reshape(6, n)
+            return _Apparent(*_aberration(seen, lts, v_obs, _C_KM_DAY), None, None, v_obs,
+                             None, None)
+        emb, v_emb = pv[(0, 3)]
         if self._loaded.earth_ratio is not None:
             geocentre = m_rel * -self._loaded.earth_ratio
             v_obs = v_m_rel * -self._loaded.earth_ratio
@@ -1733,12 +1803,6 @@ class Sky:
             here = wgs84.latlon(site.lat_deg, site.lon_deg, elevation_m=site.height_m).at(t)
             obs = obs + here.xyz.km
             v_obs += here.velocity.km_per_s * SECONDS_PER_DAY
-        # The Sun and the Moon stacked (body, axis, date): one pass of each step for both.
-        # Before aberration, kept for the lit fraction: written straight into its rows.
-        n = geocentre.shape[-1]
-        seen = None if vectors is None else vectors.reshape(2, 3, n)
-        if seen is None or not np.shares_memory(seen, vectors):
-            seen = np.empty((2, 3, n))
         sun_p, sun_v = pv[(0, 10)]
         np.subtract(sun_p, obs, out=seen[0])
         if self._loaded.earth_ratio is not None and site is None:
@@ -1758,7 +1822,7 @@ class Sky:
                          sun_p, sun_v)
 
     def _fast(self, whole, frac, rot, dpsi, site, t, names, out, vectors, geo_out, helio_out):
-        a = self._apparent(whole, frac, site, t, vectors)
+        a = self._apparent(whole, frac, site, t, vectors, bool(names))
         toward = rot @ a.toward if rot.ndim == 2 else np.einsum("ijn,bjn->bin", rot, a.toward)
         dist = _lon_lat(toward, dpsi, out[0:4:2], out[1:4:2])[2]  # rows: Sun, Moon
         np.multiply(dist[1], a.length[1], out=out[4])

@@ -80,6 +80,36 @@ def test_gather_path_against_jplephem_spk(sky):
                 _check(group, key, layout, whole, frac, *want)
 
 
+def test_mixed_rows_against_jplephem_spk(sky):
+    # The Sun and Moon alone take DE421's 16-day layout as mixed rows (engine.sky's
+    # _sun_less_barycentre): the Sun less the Earth-Moon barycentre, the Sun's rate, the
+    # barycentre's rate, from the same cut records. Against jplephem's evaluation of the two
+    # segments on every layout of dates: the rows in their places (a row swapped, a sign
+    # turned or the barycentre left in breaks this by thousands of km), each within its cut
+    # (the two series' budgets added: engine.sky._CUT_KM; rates 1 cm/s each).
+    from engine.sky import _CUT_KM, _CUT_KM_S, _MIXED
+
+    segments = {(s.center, s.target): s for s in sky._loaded.kernel.spk.segments}
+    (group,) = [g for g in sky._loaded.groups if g.mix is not None]
+    assert sorted(group.keys) == [(0, 3), (0, 10)]
+    budget = _CUT_KM[(0, 10)] + _CUT_KM[(0, 3)] + POSITION_KM
+    for layout, (whole, frac) in _layouts(group, (2415020.5, 2469807.5)).items():
+        other = type(group).__new__(type(group))
+        other.__dict__.update(group.__dict__)
+        other._evaluate_grid = lambda w, f: None
+        rows = other.evaluate(whole, frac, mixed=True)[_MIXED]
+        assert rows.shape == (9, whole.size), layout
+        if not whole.size:
+            continue
+        sun, v_sun = segments[(0, 10)].compute_and_differentiate(whole, frac)
+        emb, v_emb = segments[(0, 3)].compute_and_differentiate(whole, frac)
+        error = np.sqrt(np.sum((rows[0:3] - (sun - emb)) ** 2, axis=0))
+        assert np.max(error) < budget, (layout, np.max(error))
+        for got, want in ((rows[3:6], v_sun), (rows[6:9], v_emb)):
+            rate_error = np.sqrt(np.sum((got - want) ** 2, axis=0)) / S_PER_DAY
+            assert np.max(rate_error) < _CUT_KM_S + 1e-9, (layout, np.max(rate_error))
+
+
 def test_gather_path_cut_to_its_budget(sky):
     # The pipeline's gather path keeps, in every record, only the terms whose rest adds up to
     # more than each series' budget (engine.sky._CUT_KM: 0.15 m for the Moon, 80 m for the Sun
