@@ -1248,3 +1248,27 @@ def test_sky_of_the_wrong_kind_and_an_empty_state_say_so(sky):
         Sky(["de421"])
     assert repr(sky.at([])) == "SkyState(equinox, no dates)"
     assert sky.at(np.array([]), planets=("venus",)).planet_lon_deg["venus"].shape == (0,)
+
+
+def test_one_blas_thread_while_held_and_the_count_restored():
+    # engine.sky holds BLAS to one thread while the fast path's products run, through
+    # threadpoolctl's library controllers; threadpoolctl's own report (threadpool_info) must
+    # read one thread for every BLAS library inside the hold, even nested, and the count the
+    # process had before after it.
+    import threadpoolctl
+
+    from engine.sky import _one_blas_thread
+
+    def counts():
+        return [i["num_threads"] for i in threadpoolctl.threadpool_info()
+                if i["user_api"] == "blas"]
+
+    with threadpoolctl.threadpool_limits(limits=2, user_api="blas"):
+        before = counts()
+        assert before and all(n == 2 for n in before)
+        with _one_blas_thread():
+            assert all(n == 1 for n in counts())
+            with _one_blas_thread():
+                assert all(n == 1 for n in counts())
+            assert all(n == 1 for n in counts())
+        assert counts() == before
