@@ -203,7 +203,7 @@ def _ut1_time(ut1: np.ndarray):
     if ut1.size < 3:
         return ts.ut1_jd(ut1)
     step = np.diff(ut1)
-    if not np.all(step > 0.0):
+    if not step.min() > 0.0:  # (no pass writing a test of each step; NaN is not > 0)
         return ts.ut1_jd(ut1)
     first = _delta_t_rising(ts.delta_t_function, ut1)
     shift = first * (1.0 / SECONDS_PER_DAY)
@@ -377,24 +377,44 @@ _CUT_KM_S = 1e-5
 _MIXED = "mixed"  # evaluate's key for a group's mixed rows
 
 
-def _sun_less_barycentre(keys) -> np.ndarray:
-    """(9, 12): the mixed rows of a record layout holding the Sun (0->10) and the Earth-Moon
-    barycentre (0->3) alone, from its power form's 12 rows (positions of ``keys`` in order,
-    then their rates): the Sun less the barycentre (the Sun from the Earth is that plus the
-    Moon's offset over EMRAT: the barycentre's own position is not needed for the Sun and the
-    Moon), the Sun's rate (its light time) and the barycentre's (the Earth's, for aberration).
-    Three rows fewer to gather, multiply and put back in date order, and no difference of
-    two vectors of 1.5e8 km a date; the same sums but for rounding (1e-8 km)."""
-    sun, emb = keys.index((0, 10)), keys.index((0, 3))
-    half = 3 * len(keys)
-    mix = np.zeros((9, 6 * len(keys)))
-    eye = np.eye(3)
-    mix[0:3, 3 * sun:3 * sun + 3] = eye
-    mix[0:3, 3 * emb:3 * emb + 3] = -eye
-    mix[3:6, half + 3 * sun:half + 3 * sun + 3] = eye
-    mix[6:9, half + 3 * emb:half + 3 * emb + 3] = eye
-    mix.flags.writeable = False
-    return mix
+class _SunLessBarycentre:
+    """The mixed rows of a record layout holding the Sun (0->10) and the Earth-Moon barycentre
+    (0->3) alone (:attr:`_ChebGroup.mix`), from its power form's 12 rows (positions of
+    ``keys`` in order, then their rates), record by record: 6 rows,
+
+    * the Sun less the barycentre, already moved back along the Sun's own motion over its
+      light time: S(t) − τ_r·V(t) − B(t), with τ_r the light time from the barycentre to the
+      Sun at the record's middle. The Sun from the Earth is this plus the Moon's offset over
+      EMRAT, moved back as the pipeline moves each body back over its light time (to first
+      order; :func:`_retard`). What τ_r leaves out is (τ − τ_r)·V: the distance changes by at
+      most 0.5 km/s × 8 days in half a record (1.15 s of light time), the Earth lies 4,700 km
+      from the barycentre (0.016 s) and the Sun's barycentric speed V stays under 17 m/s
+      (16.1 m/s at most on DE421), so at most 20 m at 1.47e8 km: 0.000028″ (measured 18.5 m
+      on 200,000 dates; ``tests/test_sky_gather.py`` checks it against jplephem). So the Sun
+      needs no rate rows and no light-time pass of its own;
+    * the barycentre's rate (the Earth's, with the Moon's offset's, for aberration and the
+      Moon's light time).
+
+    Six rows in place of 12 to gather, multiply and take back to date order, and no
+    difference of two vectors of 1.5e8 km a date."""
+
+    rows = 6
+
+    def __init__(self, keys):
+        half = 3 * len(keys)
+        sun, emb = 3 * keys.index((0, 10)), 3 * keys.index((0, 3))
+        self._sun, self._emb = slice(sun, sun + 3), slice(emb, emb + 3)
+        self._v_sun, self._v_emb = slice(half + sun, half + sun + 3), slice(half + emb,
+                                                                            half + emb + 3)
+
+    def __call__(self, block: np.ndarray, out: np.ndarray) -> None:
+        """``out`` (records, 6, terms): the mixed rows of the power-form records ``block``
+        (records, 12, terms; rates in km/day)."""
+        diff = np.subtract(block[:, self._sun], block[:, self._emb], out=out[:, 0:3])
+        # the light time at the record's middle (s = 0: the powers' constant terms), days
+        tau = np.sqrt(np.einsum("ri,ri->r", diff[:, :, 0], diff[:, :, 0])) / _C_KM_DAY
+        diff -= tau[:, None, None] * block[:, self._v_sun]
+        out[:, 3:6] = block[:, self._v_emb]
 
 
 def _chunks(starts: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -523,9 +543,9 @@ class _ChebGroup:
 
     cut = True  # the gather path cuts each series to its error budget (see gather_terms)
     # The rows the gather path gives when asked for the Sun and the Moon alone (evaluate's
-    # ``mixed``): None, or a (rows, 6 × series) matrix of each mixed row's share of the power
-    # form's rows (set by _open: see _SUN_LESS_BARYCENTRE). Its records are mixed once, when
-    # first read, so the mixed rows cost nothing a date.
+    # ``mixed``): None, or what mixes a block of power-form records into them (its ``rows``
+    # rows; set by _open: see _SunLessBarycentre). Records are mixed once, when first read,
+    # so the mixing costs nothing a date.
     mix = None
 
     @functools.cached_property
@@ -583,7 +603,7 @@ class _ChebGroup:
         if self.mapped:
             return _power_form(np.take(self.coef, index, axis=0), rate, self.scale)
         k = self.gather_terms
-        rows = 6 * len(self.keys) if mix is None else mix.shape[0]
+        rows = 6 * len(self.keys) if mix is None else mix.rows
         name = "_turned" if mix is None else "_turned_mixed"
         table, turned = self.__dict__.get(name) or self.__dict__.setdefault(
             name, (np.empty((self.nrec, rows, k)),
@@ -594,8 +614,8 @@ class _ChebGroup:
                 turned_block = _power_form(self.coef[block, :, :k], rate, self.scale)
                 if mix is None:
                     table[block] = turned_block
-                else:  # each mixed row a sum of the power form's rows: exact but for rounding
-                    np.matmul(mix, turned_block, out=table[block])
+                else:
+                    mix(turned_block, table[block])
                 turned[b] = True
         return np.take(table, index, axis=0, mode="clip",  # "raise" would copy through a buffer
                        out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
@@ -636,7 +656,7 @@ class _ChebGroup:
         index, s = self._records(whole, frac)
         n, k = s.size, self.gather_terms
         mix = self.mix if mixed else None
-        rows = 6 * len(self.keys) if mix is None else mix.shape[0]  # positions, then rates
+        rows = 6 * len(self.keys) if mix is None else mix.rows  # positions, then rates
         if n == 0:
             out = np.empty((rows, 0))
         else:
@@ -1119,7 +1139,7 @@ def _open(path: str) -> _Loaded:
         if ratio is not None:
             for group in groups:
                 if sorted(group.keys) == [(0, 3), (0, 10)]:
-                    group.mix = _sun_less_barycentre(group.keys)
+                    group.mix = _SunLessBarycentre(group.keys)
     planets = {}
     for code in sorted(set(_PLANET_CODES.values()) - {3}):
         segs = by_pair.get((0, code), [])
@@ -1740,9 +1760,9 @@ class Sky:
         """Time scales, TDB and nutation in longitude (from their grids) once for all dates,
         then in cache-sized batches written into preallocated outputs: the frame's rotation,
         the ephemeris and the light's path."""
-        n = t.tt.size
         whole, tt_fraction = np.reshape(t.whole, -1), np.reshape(t.tt_fraction, -1)
-        jd_tt = np.reshape(t.tt, -1)
+        jd_tt = np.reshape(t.tt, -1)  # (a new sum each time it is read)
+        n = jd_tt.size
         stars = ecliptic_J2000_frame.rotation_at(t) if frame == "stars" else None  # constant
         out = np.empty((5, n))
         vectors = np.empty((6, n))  # Sun and Moon before aberration, for the lit fraction
@@ -1755,7 +1775,8 @@ class Sky:
             dpsi_all = np.empty(n) if stars is None else None
             for i in range(0, n, _TDB_CHUNK):
                 part = slice(i, i + _TDB_CHUNK)
-                tdb_fraction[part] = _tdb_fraction(whole[part], tt_fraction[part])
+                tdb_fraction[part] = _tdb_fraction(whole[part], tt_fraction[part],
+                                                   jd_tt[part])
                 if dpsi_all is not None:
                     dpsi_all[part] = _dpsi_2000b(jd_tt[part])
             for sl in _batches(jd_tt, stars is None):
@@ -1774,7 +1795,8 @@ class Sky:
         ``whole + frac``, with the positions the planets' light path needs (km, km/day).
         ``bodies=False``: the Sun and the Moon from the Earth's centre alone (no site), whose
         gathered dates then take a layout's mixed rows (:attr:`_ChebGroup.mix`: the Sun less
-        the barycentre as one series); the planets' fields may then be None."""
+        the barycentre as one series, already moved back over the Sun's light time); the
+        planets' fields may then be None."""
         ratio = self._loaded.earth_ratio
         pv = {}
         for group in self._loaded.groups:
@@ -1788,16 +1810,20 @@ class Sky:
         if seen is None or not np.shares_memory(seen, vectors):
             seen = np.empty((2, 3, n))
         mixed = pv.get(_MIXED)
-        if mixed is not None:  # the Sun less the barycentre, the Sun's rate, the barycentre's
+        if mixed is not None:  # the Sun less the barycentre, moved back; the barycentre's rate
             # the Earth's centre is the barycentre less the Moon's offset times the ratio
             np.multiply(m_rel, ratio, out=seen[0])
-            seen[0] += mixed[0:3]
+            seen[0] += mixed[0:3]  # the Sun from the Earth, already where its light left
             np.multiply(m_rel, 1.0 + ratio, out=seen[1])  # as below
             v_obs = v_m_rel * -ratio
-            v_obs += mixed[6:9]
-            rate = mixed[3:9].reshape(2, 3, n)  # the Sun's rate; the barycentre's ...
-            rate[1] += v_m_rel  # ... plus the Moon's offset's: the Moon's
-            lts = _retard(seen, rate, _C_KM_DAY)
+            v_obs += mixed[3:6]
+            rate = mixed[3:6]  # the barycentre's rate (our own array) ...
+            rate += v_m_rel  # ... plus the Moon's offset's: the Moon's
+            lts = np.empty((2, n))
+            np.einsum("in,in->n", seen[0], seen[0], out=lts[0])
+            np.sqrt(lts[0], out=lts[0])
+            lts[0] *= 1.0 / _C_KM_DAY
+            lts[1] = _retard(seen[1], rate, _C_KM_DAY)
             if vectors is not None and not np.shares_memory(seen, vectors):
                 vectors[:] = seen.reshape(6, n)
             return _Apparent(*_aberration(seen, lts, v_obs, _C_KM_DAY), None, None, v_obs,
@@ -1925,12 +1951,15 @@ _TDB_GRID_DAYS = 16.0  # grid step for TDB - TT when dates are denser than this
 _TDB_CHUNK = 1 << 16  # dates given TDB at a time (its grid is anchored, so chunks agree)
 
 
-def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray) -> np.ndarray:
-    """skyfield's ``t.tdb_fraction`` from ``t.whole`` and ``t.tt_fraction``: TT's fraction plus ``tdb_minus_tt``, its
+def _tdb_fraction(whole: np.ndarray, fraction: np.ndarray,
+                  tt: np.ndarray | None = None) -> np.ndarray:
+    """skyfield's ``t.tdb_fraction`` from ``t.whole`` and ``t.tt_fraction`` (and ``tt``, their
+    sum, when the caller has it): TT's fraction plus ``tdb_minus_tt``, its
     seven-term series, which for dates denser than one in 16 days comes from a 16-day grid by
     cubic interpolation. The error bound (3/128)·A·(2πh/P)⁴ summed over its terms (1.66 ms
     with a period of a year the largest) is below 3e-7 s; ``tests/test_sky.py`` checks it."""
-    on_grid = _grid(whole + fraction, _TDB_GRID_DAYS, _tdb_minus_tt_regular)
+    on_grid = _grid(whole + fraction if tt is None else tt, _TDB_GRID_DAYS,
+                    _tdb_minus_tt_regular)
     ahead = tdb_minus_tt(whole, fraction) if on_grid is None else on_grid
     return fraction + ahead / SECONDS_PER_DAY
 
@@ -1983,8 +2012,10 @@ def _tdb_turns(h: float) -> np.ndarray:
 def _delta_t(t) -> np.ndarray:
     """ΔT (s) of a Time made by ``ut1_jd``: the value its TT was made with (TT = UT + ΔT to
     the last bit), not ΔT evaluated once more at that TT (which differs by below 1e-7 s)."""
-    return np.multiply(np.broadcast_to(np.asarray(t.tt_fraction, dtype=float), np.shape(t.tt)),
-                       SECONDS_PER_DAY)
+    fraction = np.asarray(t.tt_fraction, dtype=float)
+    if fraction.shape != t.shape:  # (the Time's shape is its whole days': t.tt is a new sum)
+        fraction = np.broadcast_to(fraction, t.shape)
+    return np.multiply(fraction, SECONDS_PER_DAY)
 
 
 def _light_time(target_au, target_au_per_d, observer_au, c=C_AUDAY, out=None):

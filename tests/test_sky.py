@@ -1060,9 +1060,13 @@ def test_grid_path_only_for_grids(sky):
     jd = 2451545.3 + np.arange(800.0)
     dense = sky.at(jd, "stars")
     one_by_one = sky.at(jd[::97], "stars")
-    for field in ("sun_lon_deg", "moon_lon_deg", "moon_lat_deg"):
+    # the two paths' rounding of the rates; the Sun's, with the gather path's Sun moved back
+    # over the light time at its record's middle (engine.sky._SunLessBarycentre: 0.000028"
+    # at most, checked against jplephem in tests/test_sky_gather.py)
+    for field, most in (("sun_lon_deg", 1e-5 + 2.8e-5), ("moon_lon_deg", 1e-5),
+                        ("moon_lat_deg", 1e-5)):
         assert np.max(np.abs(dang(getattr(dense, field)[::97], getattr(one_by_one, field)))
-                      ) < 1e-5 * ARCSEC  # the two paths' rounding of the rates
+                      ) < most * ARCSEC
 
 
 def test_grid_taylor_order_grows_with_slip(sky):
