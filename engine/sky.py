@@ -27,6 +27,9 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
   - light time is solved with the target's position carried back along its velocity, to
     first order in v/c (:func:`_retard`): over 1.3 s (Moon) or 500 s (Sun) the neglected
     acceleration term is below a centimetre, the neglected second order below a millimetre;
+    on the gather path for the Sun and Moon alone the Sun comes carried back already, over
+    its light time at its record's middle (:class:`_SunLessBarycentre`: within 20 m,
+    0.000028″);
   - aberration is skyfield's own relativistic formula, rearranged into fewer passes (equal to
     rounding; the observer's Lorentz factor worked out once for the Sun and the Moon, and the
     angles taken from the apparent direction before its length is applied: :func:`_aberration`);
