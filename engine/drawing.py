@@ -633,9 +633,27 @@ def _label(part: Part, text: str, below: float) -> None:
 
 # --- plates -----------------------------------------------------------------------------------
 
-CARRIER_OUTLINES = ("box", "disc")
-"""How a carrier's plate is drawn: a rectangle round its holes and wheels, or a disc centred
-on its own axis (balanced in itself as it turns). The frame's plate is always a rectangle."""
+CARRIER_OUTLINES = ("box", "disc", "arm")
+"""How a carrier's plate is drawn: a rectangle round its holes and wheels, a disc centred on
+its own axis (balanced in itself as it turns), or arms from its axis to its holes with a
+counterweight that balances them and the wheels they carry (:func:`engine.plate.carrier_arm`).
+The frame's plate is always a rectangle."""
+
+
+def _inside(poly: np.ndarray, x: float, y: float, inset: float = 0.0) -> bool:
+    """Whether (x, y) lies inside the closed polygon (even-odd rule), at least ``inset`` from
+    its edges."""
+    a, b = poly, np.roll(poly, -1, axis=0)
+    cross = (a[:, 1] > y) != (b[:, 1] > y)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        xs = a[:, 0] + (y - a[:, 1]) * (b[:, 0] - a[:, 0]) / (b[:, 1] - a[:, 1])
+    if np.count_nonzero(cross & (xs > x)) % 2 == 0:
+        return False
+    e = b - a
+    t = np.clip(((x - a[:, 0]) * e[:, 0] + (y - a[:, 1]) * e[:, 1])
+                / np.maximum((e ** 2).sum(axis=1), 1e-30), 0.0, 1.0)
+    gap = np.hypot(a[:, 0] + t * e[:, 0] - x, a[:, 1] + t * e[:, 1] - y)
+    return bool(gap.min() >= inset)
 
 
 def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
@@ -668,8 +686,21 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
              + f", pivots {' / '.join(figure(s, 6) for s in sizes) or figure(pivot, 6)} mm")
     part = Part(stem, title, "plate")
     over = {**pitch, **(reach or {})}
-    shape, dims = outline(train, plate, over, carrier_outline)
-    if shape == "disc":
+    shape, dims = outline(train, plate, over, carrier_outline, pitch, areas)
+    if shape == "arm":  # arms from the axis to the holes, and a counterweight
+        poly = dims.polygon
+        x0, y0, x1, y1 = dims.box
+        part.polylines.append(("CUT", poly))
+        if dims.weight_at is not None:
+            cx, cy = dims.weight_at
+            c = max(dims.weight_r_mm / 4, 2.0)
+            part.lines.append(("MARK", np.array([[cx - c, cy], [cx + c, cy]])))
+            part.lines.append(("MARK", np.array([[cx, cy - c], [cx, cy + c]])))
+
+        def fits(tx, ty, w, h):  # every corner of the name's box inside the arms
+            return all(_inside(poly, cx, cy, LABEL_INSET_MM)
+                       for cx in (tx, tx + w) for cy in (ty, ty + h))
+    elif shape == "disc":
         rad = dims[2]
         x0, y0, x1, y1 = -rad, -rad, rad, rad
         part.polylines.append(("CUT", _arc(0.0, 0.0, rad, np.linspace(
@@ -742,6 +773,11 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
             + ", ".join(f"({figure(h.x_mm, 6)}, {figure(h.y_mm, 6)}) mm" for h in cocks)
             + "; the cock's shape and its screws are the maker's to draw")
     part.info["outline"] = shape
+    if shape == "arm":
+        part.info["counterweight"] = (None if dims.weight_at is None else
+                                      {"x_mm": dims.weight_at[0], "y_mm": dims.weight_at[1],
+                                       "radius_mm": dims.weight_r_mm})
+        part.info["residual_gmm"] = dims.residual_gmm
     for i, a in enumerate(holes):  # the check's one rule for two holes that run into each other
         for b in holes[i + 1:]:
             d = math.hypot(a.x_mm - b.x_mm, a.y_mm - b.y_mm)

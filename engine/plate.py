@@ -172,12 +172,18 @@ def on_plate(train: Train, plate: Plate, hole: Hole) -> list[str]:
             if train.arbors[a].mount == plate.mount or a == plate.mount]
 
 
-def outline(train: Train, plate: Plate, reach: dict[str, float], shape: str = "box"
-            ) -> tuple[str, tuple[float, ...]]:
+def outline(train: Train, plate: Plate, reach: dict[str, float], shape: str = "box",
+            pitch: dict[str, float] | None = None,
+            areas: dict[str, tuple[float, bool]] | None = None):
     """The plate's outline: ``("box", (x0, y0, x1, y1))``, a rectangle covering every hole by
     :data:`PLATE_MARGIN_MM` and every wheel over it (``reach``, its tip radius) by
     :data:`PLATE_CLEAR_MM`; or, with ``shape="disc"`` on a carrier, ``("disc", (0, 0, r))``, a
-    disc round the carrier's own axis covering the same (balanced in itself as it turns)."""
+    disc round the carrier's own axis covering the same (balanced in itself as it turns); or,
+    with ``shape="arm"`` on a carrier, ``("arm", Arm)``: arms from its axis to its holes and a
+    counterweight that balances arms and carried wheels (:func:`carrier_arm`; ``pitch`` and
+    ``areas`` weigh the wheels as :func:`carrier_balance` does)."""
+    if shape == "arm" and plate.mount != FRAME:
+        return "arm", carrier_arm(train, plate, pitch or {}, areas)
     boxes = [(h.x_mm, h.y_mm, PLATE_MARGIN_MM) for h in plate.holes.values()]
     for h in plate.holes.values():
         for w in on_plate(train, plate, h):
@@ -187,6 +193,197 @@ def outline(train: Train, plate: Plate, reach: dict[str, float], shape: str = "b
         return "disc", (0.0, 0.0, max(math.hypot(x, y) + r for x, y, r in boxes))
     return "box", (min(x - r for x, _, r in boxes), min(y - r for _, y, r in boxes),
                    max(x + r for x, _, r in boxes), max(y + r for _, y, r in boxes))
+
+
+# --- a carrier drawn as an arm with a counterweight ------------------------------------------
+
+ARM_HALF_WIDTH_MM = PLATE_MARGIN_MM
+"""An arm is twice this wide, and its hub and the pads round its holes this much in radius:
+the same metal round a pivot hole as a plate's margin."""
+
+ARM_STEPS = 2880
+"""Directions the arm's outline is traced in (every 0.125°), its corners found exactly."""
+
+
+@dataclass(frozen=True)
+class Arm:
+    """A carrier's plate cut as arms: from a hub round its axis, one arm to each hole (as wide
+    as the hub, round-ended), and, opposite the heavy side, a counterweight arm widening to a
+    round end of ``weight_r_mm`` centred at ``weight_at`` (None: nothing to balance).
+    ``polygon`` is the outline; ``residual_gmm`` the out-of-balance left (plate and wheels,
+    design estimate)."""
+
+    polygon: np.ndarray
+    weight_at: tuple[float, float] | None
+    weight_r_mm: float
+    residual_gmm: float
+
+    @property
+    def box(self) -> tuple[float, float, float, float]:
+        p = self.polygon
+        return (float(p[:, 0].min()), float(p[:, 1].min()), float(p[:, 0].max()),
+                float(p[:, 1].max()))
+
+
+def _disc_exit(u: np.ndarray, c: np.ndarray, r: float) -> np.ndarray:
+    """How far from the origin each direction ``u`` (rows) leaves the disc (``c``, ``r``)
+    (-inf where it misses): the larger root of |t u - c| = r."""
+    b = u @ c
+    disc = b * b - (float(c @ c) - r * r)
+    out = np.full(len(u), -np.inf)
+    ok = disc >= 0
+    out[ok] = b[ok] + np.sqrt(disc[ok])
+    return out
+
+
+def _poly_exit(u: np.ndarray, poly: np.ndarray) -> np.ndarray:
+    """How far from the origin each direction ``u`` leaves the convex polygon ``poly``."""
+    out = np.full(len(u), -np.inf)
+    for i in range(len(poly)):
+        a, e = poly[i], poly[(i + 1) % len(poly)] - poly[i]
+        den = -u[:, 0] * e[1] + u[:, 1] * e[0]
+        safe = np.where(np.abs(den) > 1e-15, den, 1.0)
+        t = (-a[0] * e[1] + a[1] * e[0]) / safe
+        s = (u[:, 0] * a[1] - u[:, 1] * a[0]) / safe
+        hit = (np.abs(den) > 1e-15) & (s >= -1e-12) & (s <= 1 + 1e-12) & (t >= 0)
+        out = np.where(hit, np.maximum(out, t), out)
+    return out
+
+
+def _cone_pieces(r0: float, c: tuple[float, float], r1: float) -> list:
+    """The convex hull of the disc of radius ``r0`` round the origin and the disc (``c``,
+    ``r1``), as its two discs and the quadrilateral between their outer tangent points
+    (plane geometry: the hull of two discs is those three together)."""
+    c = np.asarray(c, dtype=float)
+    length = math.hypot(*c)
+    if length + r0 <= r1:
+        return [("disc", c, r1)]
+    if length + r1 <= r0:
+        return [("disc", np.zeros(2), r0)]
+    d = c / length
+    p = np.array([-d[1], d[0]])
+    ca = (r0 - r1) / length
+    sa = math.sqrt(max(1.0 - ca * ca, 0.0))
+    n1, n2 = ca * d + sa * p, ca * d - sa * p
+    quad = np.array([r0 * n1, c + r1 * n1, c + r1 * n2, r0 * n2])
+    return [("disc", np.zeros(2), r0), ("disc", c, r1), ("poly", quad, None)]
+
+
+def _star_exit(theta: np.ndarray, pieces: list) -> tuple[np.ndarray, np.ndarray]:
+    """The outline's distance from the axis in each direction, and which arm it is on: each
+    arm is convex and holds the axis, so their union meets every ray from it in one stretch."""
+    u = np.column_stack([np.cos(theta), np.sin(theta)])
+    best = np.full(len(theta), -np.inf)
+    who = np.full(len(theta), -1)
+    for i, arm in enumerate(pieces):
+        for kind, a, r in arm:
+            t = _disc_exit(u, a, r) if kind == "disc" else _poly_exit(u, a)
+            better = t > best
+            best, who = np.where(better, t, best), np.where(better, i, who)
+    return best, who
+
+
+def _star_outline(arms: list[tuple[float, tuple[float, float], float]]) -> np.ndarray:
+    """The outline of arms (each the hull of the hub and a round end), traced round the axis,
+    with the corners where one arm's edge meets another's found by bisection."""
+    pieces = [_cone_pieces(*a) for a in arms]
+    theta = np.linspace(0.0, 2 * np.pi, ARM_STEPS, endpoint=False)
+    _, who = _star_exit(theta, pieces)
+    corners = []
+    for i in np.nonzero(who != np.roll(who, -1))[0]:
+        lo, hi = theta[i], theta[i] + 2 * np.pi / ARM_STEPS
+        for _ in range(40):
+            mid = (lo + hi) / 2
+            if _star_exit(np.array([mid]), pieces)[1][0] == who[i]:
+                lo = mid
+            else:
+                hi = mid
+        corners.append((lo + hi) / 2)
+    t = np.sort(np.concatenate([theta, np.mod(corners, 2 * np.pi)]))
+    r, _ = _star_exit(t, pieces)
+    return np.column_stack([r * np.cos(t), r * np.sin(t)])
+
+
+def polygon_moment(p: np.ndarray) -> tuple[float, np.ndarray]:
+    """A closed polygon's area and first moment about the origin (area times centroid)."""
+    x, y = p[:, 0], p[:, 1]
+    x2, y2 = np.roll(x, -1), np.roll(y, -1)
+    cross = x * y2 - x2 * y
+    area = float(cross.sum()) / 2
+    return abs(area), np.array([float(((x + x2) * cross).sum()),
+                                float(((y + y2) * cross).sum())]) / 6 * np.sign(area)
+
+
+def carrier_arm(train: Train, plate: Plate, pitch: dict[str, float],
+                areas: dict[str, tuple[float, bool]] | None = None) -> Arm:
+    """A carrier's plate cut as arms with a counterweight: the arms' own out-of-balance and the
+    wheels' (:func:`carrier_balance`'s weighing) are met by a counterweight arm opposite them,
+    as far out as the farthest hole, its round end grown until the whole balances (at
+    ``[workshop] carrier_plate_mm``, which it needs); a counterweight arm as narrow as the
+    others that already outweighs them is shortened instead. Solved by Newton's method on the
+    counterweight's direction and size; ``residual_gmm`` says what is left (design
+    estimate, brass)."""
+    from .errors import TrainError
+
+    thick = train.workshop.carrier_plate_mm
+    if thick is None:
+        raise TrainError(train.source, "[workshop] carrier_plate_mm", "is needed by "
+                         "--carrier-outline arm, which sizes the counterweight for the plate's "
+                         "thickness: give the carrier plate's thickness in mm")
+    w = ARM_HALF_WIDTH_MM
+    arms = [(w, (h.x_mm, h.y_mm), w) for h in plate.holes.values()
+            if math.hypot(h.x_mm, h.y_mm) > EXACT_MM]
+    if not arms:
+        arms = [(w, (0.0, 0.0), w)]
+    rho_t = BRASS_G_PER_MM3 * thick * (2 if split_plates(train, plate.mount) else 1)
+    wheels = np.array(_wheels_moment(train, plate, pitch, areas)[0])
+
+    def total(extra=None):
+        poly = _star_outline(arms + ([extra] if extra else []))
+        return poly, rho_t * polygon_moment(poly)[1] + wheels
+
+    poly, rest = total()
+    if math.hypot(*rest) < BALANCE_NOTE_GMM / 100:
+        return Arm(poly, None, 0.0, float(math.hypot(*rest)))
+    far = max(math.hypot(*a[1]) for a in arms) or 4 * w
+
+    def weight(phi, size):  # size > 1: the round end's radius over w; else the arm's reach
+        r, d = (size * w, far) if size >= 1 else (w, far * size)
+        return (w, (d * math.cos(phi), d * math.sin(phi)), r), r, d
+
+    def miss(phi, size):
+        return total(weight(phi, size)[0])[1]
+
+    phi = math.atan2(-rest[1], -rest[0])
+    lo, hi = 0.05, 1.0  # the size along the heavy side's opposite: bisection first
+    along = np.array([math.cos(phi), math.sin(phi)])
+    if miss(phi, hi) @ along < 0:  # a narrow arm is not enough: grow its round end
+        lo, hi = 1.0, 2.0
+        while miss(phi, hi) @ along < 0:
+            lo, hi = hi, hi * 2
+            if hi > 64:
+                raise TrainError(train.source, "[workshop] carrier_plate_mm",
+                                 f"a counterweight for carrier '{plate.mount}' would be over "
+                                 f"{figure(64 * w * 2, 3)} mm across at this thickness: "
+                                 "carry its wheels in balance, or cut the plate as a disc")
+    for _ in range(40):
+        mid = (lo + hi) / 2
+        lo, hi = (mid, hi) if miss(phi, mid) @ along < 0 else (lo, mid)
+    size = (lo + hi) / 2
+    for _ in range(8):  # Newton on direction and size: the arms' overlap at the hub
+        m = miss(phi, size)
+        if math.hypot(*m) < 1e-6:
+            break
+        h = 1e-6
+        jac = np.column_stack([(miss(phi + h, size) - m) / h, (miss(phi, size + h) - m) / h])
+        try:
+            dphi, dsize = np.linalg.solve(jac, -m)
+        except np.linalg.LinAlgError:
+            break
+        phi, size = phi + dphi, max(size + dsize, 0.05)
+    extra, r, d = weight(phi, size)
+    poly, left = total(extra)
+    return Arm(poly, (d * math.cos(phi), d * math.sin(phi)), r, float(math.hypot(*left)))
 
 
 @dataclass(frozen=True)
@@ -216,6 +413,7 @@ class Balance:
     plate_vec: tuple[float, float] = (0.0, 0.0)
     wheels_vec: tuple[float, float] = (0.0, 0.0)
     plates: int = 1  # 2: a front and a back plate alike (an arbor's pivots_in parts them)
+    arm: Arm | None = None  # the arm outline and its counterweight (shape "arm")
 
     @property
     def plate_gmm(self) -> float | None:
@@ -233,6 +431,8 @@ class Balance:
 
     @property
     def worth_saying(self) -> bool:
+        if self.arm is not None:  # its counterweight is said, sized or not needed
+            return True
         if self.thickness_mm is not None:
             return max(self.total_gmm, self.wheels_gmm) >= BALANCE_NOTE_GMM
         return max(self.plate_gmm_per_mm, self.wheels_gmm) >= BALANCE_NOTE_GMM
@@ -243,23 +443,11 @@ LEFT_OUT = ("arbors, collets, pins and screws, the teeth beyond the pitch circle
 """What the balance estimate does not weigh, said with it."""
 
 
-def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
-                    pitch: dict[str, float], shape: str = "box",
-                    area_mm2: dict[str, tuple[float, bool]] | None = None) -> Balance | None:
-    """The out-of-balance of a carrier's plate (as :func:`outline` draws it) and of the wheels
-    its arbors carry round; None for the frame. ``area_mm2``: each wheel's face area as cut
-    and whether its crossings were taken out (:func:`engine.drawing.wheel_area_mm2`); a wheel
-    missing there is weighed as the solid disc of its pitch circle."""
-    if plate.mount == FRAME:
-        return None
-    kind, dims = outline(train, plate, reach, shape)
-    if kind == "disc":
-        size, centre, area = (2 * dims[2], 2 * dims[2]), (0.0, 0.0), math.pi * dims[2] ** 2
-    else:
-        x0, y0, x1, y1 = dims
-        size, centre = (x1 - x0, y1 - y0), ((x0 + x1) / 2, (y0 + y1) / 2)
-        area = size[0] * size[1]
-    offset = math.hypot(*centre)
+def _wheels_moment(train: Train, plate: Plate, pitch: dict[str, float],
+                   areas: dict[str, tuple[float, bool]] | None):
+    """The wheels a carrier's arbors take round, weighed (:class:`Balance`): their moment about
+    its axis as a vector (g·mm), the farthest one's distance, those not counted (no module),
+    those weighed with their crossings out."""
     face: dict[str, float] = {}
     for m in train.meshes:
         if m.face_width_mm is not None:
@@ -278,21 +466,50 @@ def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
                 if w not in pitch or w not in face:
                     uncounted.append(w)
                     continue
-                wheel_area, out = (area_mm2 or {}).get(w, (math.pi * pitch[w] ** 2, False))
+                wheel_area, out = (areas or {}).get(w, (math.pi * pitch[w] ** 2, False))
                 if out:
                     crossed.append(w)
                 grams = BRASS_G_PER_MM3 * wheel_area * face[w]
                 ux, uy, far = ux + grams * h.x_mm, uy + grams * h.y_mm, max(far, d)
+    return (ux, uy), far, uncounted, crossed
+
+
+def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
+                    pitch: dict[str, float], shape: str = "box",
+                    area_mm2: dict[str, tuple[float, bool]] | None = None) -> Balance | None:
+    """The out-of-balance of a carrier's plate (as :func:`outline` draws it) and of the wheels
+    its arbors carry round; None for the frame. ``area_mm2``: each wheel's face area as cut
+    and whether its crossings were taken out (:func:`engine.drawing.wheel_area_mm2`); a wheel
+    missing there is weighed as the solid disc of its pitch circle."""
+    if plate.mount == FRAME:
+        return None
+    kind, dims = outline(train, plate, reach, shape, pitch, area_mm2)
+    arm = None
+    if kind == "arm":
+        arm = dims
+        x0, y0, x1, y1 = arm.box
+        area, moment = polygon_moment(arm.polygon)
+        size, centre = (x1 - x0, y1 - y0), (moment[0] / area, moment[1] / area)
+    elif kind == "disc":
+        size, centre, area = (2 * dims[2], 2 * dims[2]), (0.0, 0.0), math.pi * dims[2] ** 2
+    else:
+        x0, y0, x1, y1 = dims
+        size, centre = (x1 - x0, y1 - y0), ((x0 + x1) / 2, (y0 + y1) / 2)
+        area = size[0] * size[1]
+    offset = math.hypot(*centre)
+    (ux, uy), far, uncounted, crossed = _wheels_moment(train, plate, pitch, area_mm2)
     count = 2 if split_plates(train, plate.mount) else 1
     per_mm = BRASS_G_PER_MM3 * area * count
     return Balance(plate.mount, kind, size, offset, per_mm * offset, math.hypot(ux, uy), far,
                    tuple(uncounted), train.workshop.carrier_plate_mm, tuple(crossed),
-                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy), count)
+                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy), count, arm)
 
 
 def balance_text(b: Balance) -> tuple[str, str]:
     """What to say of a carrier out of balance: the message and the fix, one line each, the
     same in ``wheelwork check`` and on the plate ``wheelwork cut`` draws."""
+    if b.arm is not None:
+        return _arm_text(b)
     shape = (f"a {places(b.size_mm[0], 0)} mm disc" if b.shape == "disc" else
              f"{places(b.size_mm[0], 0)} × {places(b.size_mm[1], 0)} mm")
     thick = b.thickness_mm
@@ -334,11 +551,47 @@ def balance_text(b: Balance) -> tuple[str, str]:
                   f"{figure(b.heavy_at_mm, 3)} mm, the farthest wheel's distance)")
     fix = ("balance it before it runs: a counterweight opposite the heavy side, of as many "
            "grams as the g·mm above over its distance from the axis in mm" + weight
-           + (", a round plate centred on its axis (wheelwork cut --carrier-outline disc)"
+           + (", a round plate centred on its axis (wheelwork cut --carrier-outline disc), "
+              "arms with a counterweight sized to balance them (--carrier-outline arm)"
               if b.shape != "disc" else "")
            + ", or lighter, crossed-out wheels; weigh the parts and balance the arm on its "
            "arbor as made")
     return message, fix
+
+
+def _clean(v: float) -> float:
+    """A coordinate written to 0.01 mm: one that rounds to nothing is written 0.00, not -0.00."""
+    return v if abs(v) >= 0.005 else 0.0
+
+
+def _arm_text(b: Balance) -> tuple[str, str]:
+    """What to say of a carrier cut as arms (``--carrier-outline arm``): its counterweight."""
+    arm = b.arm
+    head = (f"carrier '{b.carrier}' cut as arms (design estimate, brass "
+            f"{figure(BRASS_G_PER_MM3 * 1000, 3)} g/cm³, plate {figure(b.thickness_mm, 3)} mm "
+            f"thick{', front and back' if b.plates > 1 else ''})")
+    wheels = ""
+    if b.wheels_gmm >= BALANCE_NOTE_GMM / 100:
+        wheels = (f"the wheels it carries round (brass discs of their pitch circles, their "
+                  f"face wide{', less their crossings' if b.crossed else ''}), about "
+                  f"{figure(b.wheels_gmm, 3)} g·mm, and ")
+    if arm.weight_at is None:
+        parts = [f"{wheels}its arms balance about its axis without a counterweight"]
+    else:
+        x, y = arm.weight_at
+        parts = [f"{wheels}its arms to their holes are met by a counterweight arm opposite, "
+                 f"widening to a round end {places(2 * arm.weight_r_mm, 2)} mm across centred "
+                 f"{places(math.hypot(x, y), 2)} mm from the axis at ({places(_clean(x), 2)}, "
+                 f"{places(_clean(y), 2)}) mm"]
+    parts.append("left out of balance " + (f"about {places(arm.residual_gmm, 2)} g·mm"
+                                           if arm.residual_gmm >= 0.005 else
+                                           "by less than 0.01 g·mm"))
+    if b.uncounted:
+        parts.append(f"{', '.join(b.uncounted)} not counted (no module)")
+    parts.append(LEFT_OUT)
+    fix = ("weigh the parts and balance the arm on its arbor as made: trim the counterweight's "
+           "round end, or add to it, until it stands still in any position")
+    return f"{head}: " + "; ".join(parts), fix
 
 
 def _unmeasured(train: Train, kin: Kinematics, groups, mount: str, axes, ties, fixed

@@ -1124,6 +1124,88 @@ def test_a_carrier_plate_can_be_a_disc_round_its_axis(tmp_path, capsys):
     assert "for each mm of brass plate" in note and "--carrier-outline disc" in note
 
 
+ARM_TRAIN = ('[crank]\narbor = "arm"\ndays_per_turn = 1\n[epoch]\ndate = "2026-01-01"\n'
+             'set = "angles"\n[arbors.arm]\nwheels = {}\n'
+             '[arbors.sun]\nwheels = { sun = 40 }\nfixed = true\naxis_with = "arm"\n'
+             '[arbors.planet]\nwheels = { pw = 20 }\non = "arm"\nat_mm = AT\n'
+             '[[meshes]]\nwheels = ["sun", "pw"]\nmodule_mm = 1\n'
+             '[pointers.p]\nshows = "sun"\narbor = "planet"\nset_deg = 0\n')
+
+
+def _cut_arm(tmp_path, capsys, text, name):
+    path = tmp_path / f"{name}.toml"
+    path.write_text(text)
+    code = main(["cut", str(path), "--out", str(tmp_path / name), "--carrier-outline", "arm",
+                 "--json"])
+    out = capsys.readouterr()
+    return code, out
+
+
+@pytest.mark.parametrize("deg", [0.0, 45.0, 113.5])
+def test_a_carrier_cut_as_an_arm_is_balanced_by_its_counterweight(tmp_path, capsys, deg):
+    # --carrier-outline arm: arms from the carrier's axis to its holes and a counterweight arm
+    # opposite, sized so that plate and planet balance. Checked against the drawn outline
+    # with matplotlib's point-in-polygon on a 0.05 mm grid (an outside library, area and
+    # first moment by counting cells) and the planet weighed by hand: a solid brass disc of
+    # its 10 mm pitch radius and 3 mm face (3 modules), 8.47e-3 · π · 10² · 3 g, at its axis
+    from matplotlib.path import Path as MplPath
+
+    at = (30 * math.cos(math.radians(deg)), 30 * math.sin(math.radians(deg)))  # the mesh's 30 mm
+    text = ARM_TRAIN.replace("AT", f"[{at[0]!r}, {at[1]!r}]")
+    code, out = _cut_arm(tmp_path, capsys, text + "[workshop]\ncarrier_plate_mm = 1.5\n",
+                         "arm")
+    assert code == 0, out.err
+    parts = {p["name"]: p for p in json.loads(out.out)["parts"]}
+    plate = parts["plate-arm"]
+    assert plate["outline"] == "arm" and parts["plate-frame"]["outline"] == "box"
+    cw = plate["counterweight"]
+    doc = ezdxf.readfile(tmp_path / "arm" / "plate-arm.dxf")
+    (edge,) = [e for e in doc.modelspace().query("LWPOLYLINE")
+               if e.dxf.layer == "CUT" and e.closed]
+    poly = np.array([(x, y) for x, y, *_ in edge.get_points()])
+    step = 0.05
+    xs = np.arange(poly[:, 0].min(), poly[:, 0].max(), step) + step / 2
+    ys = np.arange(poly[:, 1].min(), poly[:, 1].max(), step) + step / 2
+    gx, gy = np.meshgrid(xs, ys)
+    pts = np.column_stack([gx.ravel(), gy.ravel()])
+    inside = MplPath(poly).contains_points(pts)
+    cells = pts[inside]
+    plate_gmm = 8.47e-3 * 1.5 * step ** 2 * cells.sum(axis=0)
+    grams = 8.47e-3 * math.pi * 10 ** 2 * 3
+    total = plate_gmm + grams * np.array(at)
+    assert math.hypot(*total) < 0.5  # of some 240 g·mm the planet puts out
+    # the counterweight stands opposite the planet, and the planet's pivot has 6 mm of metal
+    along = -(cw["x_mm"] * at[0] + cw["y_mm"] * at[1]) / (
+        math.hypot(cw["x_mm"], cw["y_mm"]) * math.hypot(*at))
+    assert along > math.cos(0.02)
+    ring = [(at[0] + 5.9 * math.cos(a), at[1] + 5.9 * math.sin(a))
+            for a in np.linspace(0, 2 * math.pi, 36)]
+    assert MplPath(poly).contains_points(ring).all()
+    (note,) = [n for n in plate["notes"] if "cut as arms" in n]
+    assert "counterweight arm opposite" in note and "design estimate" in note
+    assert plate["residual_gmm"] < 0.01
+
+
+def test_an_arm_needs_the_plate_thickness_and_a_balanced_one_no_counterweight(tmp_path,
+                                                                             capsys):
+    code, out = _cut_arm(tmp_path, capsys, ARM_TRAIN.replace("AT", "[30, 0]"), "thin")
+    assert code == 1
+    assert out.err.strip().endswith("[workshop] carrier_plate_mm: is needed by "
+                                    "--carrier-outline arm, which sizes the counterweight for "
+                                    "the plate's thickness: give the carrier plate's thickness "
+                                    "in mm")
+    assert out.err.count("\n") == 1
+    # two planets opposite: arms and wheels balance already, no counterweight
+    twin = ARM_TRAIN.replace("AT", "[30, 0]").replace(
+        '[[meshes]]', '[arbors.twin]\nwheels = { tw = 20 }\non = "arm"\nat_mm = [-30, 0]\n'
+        '[[meshes]]\nwheels = ["sun", "tw"]\nmodule_mm = 1\n[[meshes]]', 1)
+    code, out = _cut_arm(tmp_path, capsys, twin + "[workshop]\ncarrier_plate_mm = 2\n", "twin")
+    assert code == 0
+    plate = {p["name"]: p for p in json.loads(out.out)["parts"]}["plate-arm"]
+    assert plate["counterweight"] is None
+    assert any("balance about its axis without a counterweight" in n for n in plate["notes"])
+
+
 def test_dxf_text_takes_the_room_the_layout_gave_it(tmp_path):
     # a DXF text's height is its capitals', an SVG font size its em: the layout measures an
     # em (0.62 of it a character), so the DXF writes 0.7 of it, the capitals of a plain

@@ -17,7 +17,7 @@ if TYPE_CHECKING:  # the rest is imported when the command runs: --help loads no
     from ..drawing import CutSet
 
 FORMATS = ("svg", "dxf")
-CARRIER_OUTLINES = ("box", "disc")  # engine.drawing.CARRIER_OUTLINES, without loading numpy
+CARRIER_OUTLINES = ("box", "disc", "arm")  # engine.drawing.CARRIER_OUTLINES, without numpy
 LIST_WHEELS = 60  # an unknown --wheel lists at most this many of the train's wheels
 
 
@@ -34,8 +34,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                                                                    CARRIER_OUTLINES),
                         choices=CARRIER_OUTLINES,
                         default="box", help="a carrier's plate as a rectangle round its holes "
-                        "and wheels (box, the default) or a disc centred on its axis, balanced "
-                        "in itself as it turns (disc)")
+                        "and wheels (box, the default), a disc centred on its axis, balanced "
+                        "in itself as it turns (disc), or arms to its holes with a counterweight "
+                        "balancing them and the wheels they carry (arm; needs [workshop] "
+                        "carrier_plate_mm)")
     parser.add_argument("--formats", default="svg,dxf", type=_formats, metavar="LIST",
                         help="which files to write: svg, dxf or svg,dxf (default)")
     parser.add_argument("--wheel", action="append", default=None, metavar="NAME",
