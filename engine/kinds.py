@@ -36,6 +36,7 @@ that it is the equinox one less the precession exactly when the kind ``precesses
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 
@@ -241,9 +242,10 @@ KINDS: dict[str, PointerKind] = {k.key: k for k in (
 # An arm's equation of centre has a known size (``sizes``: Planet.centre_deg, 2e - e³/4);
 # its second harmonic does not (5e²/4 is joined by the orbit's tilt to the ecliptic, i²/4,
 # larger for Venus and Neptune: measured from DE406, 0.05° against 0.003°, 0.014-0.022°
-# against 0.005°). Seen from the Earth the sizes are not the heliocentric ones (an inner
+# against 0.005°). Seen from the Earth the sizes are not all the heliocentric ones (an inner
 # planet's direction does not turn round with its orbit, the Earth's own equation of centre
-# reaches it through the parallax): not given, those swings are fitted freely.
+# reaches it through the parallax): only an outer planet's loops and its own equation of
+# centre are given, from Jupiter out (see _planet_rows); the others are fitted freely.
 SEEN_FROM = ("earth", "sun")  # where a planet pointer is seen from; the first is the default
 
 
@@ -277,11 +279,20 @@ def _planet_rows(key: str, name: str, inner: bool) -> tuple[PointerKind, ...]:
     own = (*own, *slow_swings(key))  # Jupiter's and Saturn's 883 years, Uranus's and Neptune's
     geo_period = ({"equinox": "tropical_year", "stars": "sidereal_year"} if inner else
                   {"equinox": f"{key}_tropical", "stars": f"{key}_sidereal"})
+    loops = f"{name}'s synodic period (retrograde loops)"
+    # seen from the Earth: an outer planet's loops are 1/a radians (the first term of the
+    # parallax's series in 1/a, from memory) and its own equation of centre the heliocentric
+    # one; given only where the planet's year holds more than three synodic periods (Jupiter
+    # and beyond), as the joint fit over a few periods tells the two apart there (DE406,
+    # 1.1-2.9 periods, 2900 BC-AD 2400: 0.76-1.41 and 0.81-1.29 times the size), not
+    # for Mars (0.5-1,600 times: 780 and 687 days) nor the inner planets
+    geo_sizes = ({loops: math.degrees(1.0 / PLANETS[key].distance_au),
+                  centre: PLANETS[key].centre_deg} if not inner and sid > 3 * syn else {})
     return (
         PointerKind(key, f"{name} seen from the Earth: its geocentric ecliptic longitude",
                     geo_period, lambda s, k=key: s.planet_lon_deg[k], lambda m, k=key: m[k],
-                    precesses=True,
-                    swings=((f"{name}'s synodic period (retrograde loops)", syn),
+                    precesses=True, sizes=geo_sizes,
+                    swings=((loops, syn),
                             (f"{name}'s synodic period, second harmonic", syn / 2),
                             (f"{name}'s synodic period, third harmonic", syn / 3),
                             *own, SUN_SWINGS[0]),
