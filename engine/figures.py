@@ -58,6 +58,23 @@ def line_up(cells: list[str]) -> list[str]:
     return [c + " " * (most - a) for c, a in zip(cells, after, strict=True)]
 
 
+def table_cells(cells: list[str], style: str = "") -> list:
+    """Lined-up figures (:func:`line_up`, :func:`error_column`) as cells of a rich table
+    column set flush right, each keeping the spaces after its figure: rich strips a cell's
+    trailing spaces before it justifies it right, which set ``+16,949`` flush with
+    ``+0.051``'s last decimal. Each is a ``rich.padding.Padding`` of the figure's text with
+    those spaces on its right (rich is imported here, not at the top: this module is standard
+    library only)."""
+    from rich.padding import Padding
+    from rich.text import Text
+
+    out = []
+    for c in cells:
+        body = c.rstrip(" ")
+        out.append(Padding(Text(body, style=style), (0, len(c) - len(body), 0, 0)))
+    return out
+
+
 #: one rule writes a period error (ppm) and a drift (°/cy) wherever it is shown, a table of the
 #: command line or a panel of the interface: a column's decimals are enough for its smallest
 #: figure to show two significant figures, at least two, at most four (0.0001 °/cy is 0.36″ a

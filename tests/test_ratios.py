@@ -311,3 +311,36 @@ def test_a_slipped_count_is_written_to_sensible_figures(tmp_path, capsys):
     from engine.commands.ratios import _years
 
     assert _years(2.63) == "2.6 y" and _years(237.24) == "237.2 y" and _years(9870.7) == "9,871 y"
+
+
+def _point_columns(lines: list[str], figures: list[str]) -> set[int]:
+    """Where each line's figure (one of ``figures``, in that order) has its point, or the
+    place after its last digit for a whole one: one place when the column lines up."""
+    out = set()
+    for line, fig in zip(lines, figures, strict=True):
+        at = line.index(fig)
+        out.add(at + (fig.index(".") if "." in fig else len(fig)))
+    return out
+
+
+def test_a_slipped_counts_whole_figures_line_up_with_the_others_points(tmp_path, capsys):
+    """The tide office's last Sun wheel cut with 134 teeth for 133: Sun, perigee and node run
+    about +7,520 ppm long, written whole beside the Moon's +0.051 and the phase's -602.953;
+    set flush right the whole figures' last digits stand where the others' points do (common
+    practice, no source). Rich strips a cell's trailing spaces before setting it right, which
+    set +7,519 flush with +0.051's last decimal."""
+    from engine.demos import demo_path
+
+    text = demo_path("tide_office").read_text(encoding="utf-8")
+    slip = tmp_path / "slip.toml"
+    slip.write_text(text.replace("sun_w3 = 133", "sun_w3 = 134"), encoding="utf-8")
+    assert main(["ratios", str(slip)]) == 0
+    rows = [line for line in capsys.readouterr().out.splitlines()
+            if line.split()[:1] in (["sun"], ["moon"], ["phase"], ["perigee"], ["node"])
+            and line.split()[-1] == "y"]
+    assert len(rows) == 5, rows
+    ppms = [line.split()[3] for line in rows]
+    drifts = [line.split()[4] for line in rows]
+    assert any("." not in p for p in ppms) and any("." in p for p in ppms), ppms
+    assert len(_point_columns(rows, ppms)) == 1, rows
+    assert len(_point_columns(rows, drifts)) == 1, rows

@@ -476,6 +476,42 @@ def test_fixed_to_significant_figures_keeps_small_values_decimals():
     assert line_up(["1", "22"]) == ["1", "22"] and line_up([]) == []
 
 
+def test_lined_up_figures_keep_their_padding_as_table_cells():
+    """error_column's cells set flush right in a rich table: each whole figure's last digit
+    stands where the others' points do (rich strips a plain cell's trailing spaces before it
+    sets it right); a table too wide for the console, written as a list, gives each figure
+    (common practice, no source)."""
+    import io
+
+    from rich.console import Console
+    from rich.table import Table
+
+    from engine.commands.support import print_table
+    from engine.figures import error_column, table_cells
+
+    figures = [7519.4, 0.0513, -602.953, 14.4377]
+    cells = error_column(figures)
+    assert cells == ["+7,519    ", "+0.051", "-602.953", "+14.438"]
+    table = Table("name")
+    table.add_column("ppm", justify="right")
+    for name, cell in zip("abcd", table_cells(cells), strict=True):
+        table.add_row(name, cell)
+    out = io.StringIO()
+    print_table(Console(file=out, width=60), table)
+    rows = [line for line in out.getvalue().splitlines() if line[2:3] in "abcd" and "│" in line]
+    assert len(rows) == 4, out.getvalue()
+    ends = {line.index(c.strip()) + (c.index(".") if "." in c else len(c.strip()))
+            for line, c in zip(rows, cells, strict=True)}
+    assert len(ends) == 1, out.getvalue()
+    wide = Table(*(f"column {i}" for i in range(8)))
+    wide.add_row(*table_cells(cells), *("a word" for _ in range(4)))
+    out = io.StringIO()
+    print_table(Console(file=out, width=30), wide)
+    text = out.getvalue()
+    assert "column 0: " not in text and "column 1: +0.051" in text, text  # a list
+    assert "+7,519" in text and "-602.953" in text and "Padding" not in text, text
+
+
 def test_a_word_cut_from_one_row_is_not_vouched_for_by_another():
     """A table whose last column is cut at its width lost the "y" of "10,966.3 y" in one row
     while "y" stood whole in others, and was printed as one table: every word must be seen

@@ -44,7 +44,7 @@ from engine.dates import (
     parse_when,
 )
 from engine.errors import WheelworkError
-from engine.figures import error_column, figure, fixed
+from engine.figures import error_column, figure, fixed, table_cells
 from engine.kinds import shows_text
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
@@ -1362,7 +1362,8 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             shown = f"-{-year:04d}" if year < 0 else f"{year:04d}"
             t.caption = f"years before AD 1 as astronomers number them: {shown} is {1 - year} BC"
         # the trends as the readings write a column of drifts: one number of decimals
-        drifts = error_column(sm.drift_deg_per_century for sm in result.summaries.values())
+        drifts = table_cells(error_column(sm.drift_deg_per_century
+                                          for sm in result.summaries.values()))
         for (name, sm), trend in zip(result.summaries.items(), drifts, strict=True):
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       fixed(sm.max_abs_deg, 2), format_day(sm.max_at_jd),

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import TYPE_CHECKING
 
-from ..figures import error, error_column
+from ..figures import error, error_column, table_cells
 from ..periods import JULIAN_YEAR_DAYS, era_error_ppm, era_spread_note, era_spread_ppm
 from . import support
 
@@ -98,12 +98,14 @@ def run(args: argparse.Namespace, console: Console) -> int:
     def mark(text: str, r) -> str:
         return support.era_marked(text, r.pointer in marked, bool(marked))
 
-    for r, ppm, drift in zip(rows, ppms, drifts, strict=True):
+    ppm_cells = table_cells([mark(c, r) for r, c in zip(rows, ppms, strict=True)])
+    drift_cells = table_cells([mark(c, r) for r, c in zip(rows, drifts, strict=True)])
+    for r, ppm, drift in zip(rows, ppm_cells, drift_cells, strict=True):
         # a pointer running the wrong way has its period right and its sense wrong: say so in
         # its own row, not only in the warning at the end
         name = r.pointer + (" (runs backwards)" if r.pointer in backwards else "")
         table.add_row(name, f"{support.figure(r.period_days, 10)}", f"{support.figure(r.target_days, 10)}",
-                      mark(ppm, r), mark(drift, r), mark(_years(r.years_to_one_day), r))
+                      ppm, drift, mark(_years(r.years_to_one_day), r))
     support.print_table(console, table)
     if marked:
         spreads = {r.pointer: era_spread_ppm(r.target_key) for r in rows if r.pointer in marked}

@@ -10,7 +10,7 @@ from typing import TYPE_CHECKING
 from ..defaults import SEARCH_MAX_TEETH as MAX_TEETH
 from ..defaults import SEARCH_MAX_TOP as MAX_TOP
 from ..errors import SearchError
-from ..figures import error_column
+from ..figures import error_column, table_cells
 from ..periods import PERIODS, era_spread_note, era_spread_ppm, relation_error_ppm
 from . import support
 
@@ -275,8 +275,8 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
         # period errors and drifts as ratios and the interface write a column of them
-        ppms = error_column(r.period_error_ppm for r in report.results)
-        drifts = error_column(r.drift_deg_per_century for r in report.results)
+        ppms = table_cells(error_column(r.period_error_ppm for r in report.results))
+        drifts = table_cells(error_column(r.drift_deg_per_century for r in report.results))
         for i, r in enumerate(report.results, start=1):
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), support.figure(r.period_days, 9),
                           mark(ppms[i - 1]), mark(drifts[i - 1]),
@@ -288,7 +288,7 @@ def _print(report: SearchReport, console: Console) -> None:
         for col, just in (("ratio", "right"), ("days/turn", "right"), ("period ppm", "right"),
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
-        ppms = error_column(v.period_error_ppm for v in report.convergents)
+        ppms = table_cells(error_column(v.period_error_ppm for v in report.convergents))
         for v, ppm in zip(report.convergents, ppms, strict=True):
             table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), mark(ppm),
                           "yes" if v.admitted else "no",

@@ -649,8 +649,11 @@ def plain_table(*, title: str | None = None, caption: str | None = None, **kwarg
 
 
 def _cell_text(cell) -> str:
+    from rich.padding import Padding
     from rich.text import Text
 
+    if isinstance(cell, Padding):  # a lined-up figure (figures.table_cells): its spaces kept
+        return _cell_text(cell.renderable) + " " * cell.right
     if isinstance(cell, Text):
         return cell.plain
     if isinstance(cell, str):  # a plain Table's str cell is markup (escaped by the caller)
