@@ -3,6 +3,7 @@ screen re-solves at once, refuses bad values in place, undo and redo, the change
 save dialog (a new name; replacing the opened file only after a second Enter), opening another
 train or a demo."""
 
+import re
 import shutil
 from fractions import Fraction
 from pathlib import Path
@@ -828,7 +829,6 @@ async def test_the_search_answers_columns_have_one_number_of_decimals():
     """The lunation board's Sun answers run from -0.0277 to +1.86 °/cy: the list wrote -0.0277
     over -1.05, the points out of line (common practice, no source: a column of figures to
     one number of decimals); the ppm column likewise."""
-    import re
 
     from tui.editing import TeethScreen
 
@@ -873,7 +873,51 @@ def test_the_ratio_panel_writes_each_column_to_one_number_of_decimals():
                           row("moon", 0.051, 0.051, -0.0248, -0.0248)], width=60)
     plain = text.plain
     assert "-0.021 → +16,949" in plain and "+16,949." not in plain and "+0.0008 → -600.0123" in plain, plain
-    assert "+0.051 → +0.051" in plain and "-0.0248 → -0.0248" in plain, plain
+    assert "+0.051 →      +0.051" in plain and "-0.0248 →   -0.0248" in plain, plain
+
+
+def _points(line: str) -> list[int]:
+    """Where each signed figure in ``line`` has its point, or the place after the last digit
+    of a whole one."""
+    return [m.start() + len(m.group(0)) - len(m.group(1) or "")
+            for m in re.finditer(r"[+-][\d,]+(\.\d+)?", line)]
+
+
+def test_the_ratio_panels_file_and_now_figures_line_up_on_their_points():
+    """File → now for a Sun slipped far off beside near pointers and one new since the file:
+    set flush right in the table, and in the two-lines-a-pointer form of a narrow panel, the
+    file's figures have their points in one place and the new ones in another; a whole
+    +16,949 has its last digit where the others' points stand (common practice, no source).
+    Each cell was written alone, so the arrows and points wandered by the figures' widths."""
+    import io
+    from types import SimpleNamespace
+
+    from rich.console import Console
+
+    from tui.editing import compare_table
+
+    def side(ratio, ppm, drift):
+        return SimpleNamespace(ratio=ratio, period_error_ppm=ppm, drift_deg_per_century=drift)
+
+    rows = [SimpleNamespace(pointer="sun", before=side(Fraction(1, 3), -0.021, 0.0008),
+                            after=side(Fraction(2, 3), 16949.1, -600.0123)),
+            SimpleNamespace(pointer="moon", before=side(Fraction(1, 5), 0.051, -0.0248),
+                            after=side(Fraction(1, 5), 0.051, -0.0248)),
+            SimpleNamespace(pointer="node", before=None, after=side(Fraction(2, 7), 3.5, 12.25))]
+    out = io.StringIO()
+    Console(file=out, width=120).print(compare_table(rows, width=120))
+    lines = out.getvalue().splitlines()[1:]
+    assert len(lines) == 3, lines
+    assert "+16,949 " in lines[0] and "+16,949." not in lines[0], lines
+    assert "-0.021 →" in lines[0] and "+0.0008 → -600.0123" in lines[0], lines
+    # file ppm, now ppm, file drift, now drift; the new pointer has no file figures
+    sun, moon, node = map(_points, lines)
+    assert len(sun) == 4 and sun == moon and node == [sun[1], sun[3]], lines
+    assert len({tuple(m.start() for m in re.finditer("→", line)) for line in lines}) == 1, lines
+    narrow = compare_table(rows, width=60).plain.splitlines()
+    for label in ("  ppm ", "  °/cy "):
+        sun, moon, node = (_points(line) for line in narrow if line.startswith(label))
+        assert len(sun) == 2 and sun == moon and node == sun[1:], narrow
 
 
 def _set_in_1850(tmp_path, name: str = "old.toml"):
@@ -950,7 +994,6 @@ async def test_a_drift_reads_the_same_in_the_readings_and_the_parts_panel(size):
     """Against the fixed stars the tide office's phase drifts -0.0255 °/cy: the parts panel
     wrote -0.0255 and the readings -0.03, two rules for one figure (common practice, no
     source: one figure is written one way on every screen; engine.figures.drift_places)."""
-    import re
 
     app = make_app(demo_path("tide_office"))
     async with app.run_test(size=size) as pilot:

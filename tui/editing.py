@@ -39,7 +39,7 @@ from engine.demos import demo_names, demo_path
 from engine.edit import TrainEditor
 from engine.errors import WheelworkError
 from engine.exact import fraction_text
-from engine.figures import drift, drift_places, error_column, ppm, ppm_places
+from engine.figures import drift, error_column, ppm, table_cells
 from engine.loader import load_train
 
 from .screens import EDIT_KEYS, ClosesOnce, Dialog, HelpScreen
@@ -100,6 +100,21 @@ def _ratio(r) -> str:
     return f"{r.ratio.numerator}/{r.ratio.denominator}"
 
 
+def _pairs(pairs: list[tuple[float | None, float]]) -> list[str]:
+    """``file → now`` cells of one column: the file's figures and the new ones written by the
+    one rule as one column (:func:`engine.figures.error_column`: one number of decimals, points
+    lined up), each side padded to the column's width, so that set flush right (as
+    :func:`engine.figures.table_cells`) the points of both sides line up from row to row; a
+    pointer new since the file has blanks before the arrow."""
+    cells = error_column([x for p in pairs for x in p])
+    wide = max(map(len, cells), default=0)
+    out = []
+    for i, (before, _) in enumerate(pairs):
+        b, a = cells[2 * i], cells[2 * i + 1]
+        out.append(f"{' ' * wide if before is None else b.rjust(wide)} → {a.rjust(wide)}")
+    return out
+
+
 def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
                   ) -> Table | Text:
     """Per pointer: ratio, period error and drift per century, as in the file and now (a
@@ -108,12 +123,13 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
     accent = (colours or {}).get("accent", "#e5c07b")
     muted = (colours or {}).get("muted", "#9aa5b1")
     rows = list(rows)
-    both = [x for c in rows for x in (c.before, c.after) if x is not None]
-    pp = ppm_places(x.period_error_ppm for x in both)  # one number of decimals a column
-    dp = drift_places(x.drift_deg_per_century for x in both)
+    ppm_cells = _pairs([(c.before and c.before.period_error_ppm, c.after.period_error_ppm)
+                        for c in rows])
+    drift_cells = _pairs([(c.before and c.before.drift_deg_per_century,
+                           c.after.drift_deg_per_century) for c in rows])
     if width < 90:
         out = Text()
-        for c in rows:
+        for c, ppm_cell, drift_cell in zip(rows, ppm_cells, drift_cells, strict=True):
             b, a = c.before, c.after
             style = f"bold {accent}" if b is None or b.ratio != a.ratio else ""
             if out:
@@ -121,27 +137,22 @@ def compare_table(rows, width: int = 200, colours: dict[str, str] | None = None
             out.append(f"{c.pointer}  ", style="bold")
             out.append(f"{_ratio(b) if b else 'new'} → {_ratio(a)}\n", style=style)
             out.append("  ppm ", style=muted)
-            out.append(f"{ppm(b.period_error_ppm, pp) if b else ''} → "
-                       f"{ppm(a.period_error_ppm, pp)}", style=style)
+            out.append(ppm_cell, style=style)
             out.append("\n  °/cy ", style=muted)
-            out.append(f"{drift(b.drift_deg_per_century, dp) if b else ''} → "
-                       f"{drift(a.drift_deg_per_century, dp)}", style=style)
+            out.append(drift_cell, style=style)
         return out
     t = Table(box=None, padding=(0, 1), show_edge=False, expand=False)
     t.add_column("pointer", style="bold", overflow="fold")
     t.add_column("ratio file → now", overflow="fold")
     t.add_column("period ppm file → now", justify="right", overflow="fold")
     t.add_column("drift °/cy file → now", justify="right", overflow="fold")
-    for c in rows:
+    for c, ppm_cell, drift_cell in zip(rows, ppm_cells, drift_cells, strict=True):
         b, a = c.before, c.after
         changed = b is None or b.ratio != a.ratio
         style = f"bold {accent}" if changed else ""
         t.add_row(c.pointer,
                   Text(f"{_ratio(b) if b else 'new'} → {_ratio(a)}", style=style),
-                  Text(f"{ppm(b.period_error_ppm, pp) if b else ''} → "
-                       f"{ppm(a.period_error_ppm, pp)}", style=style),
-                  Text(f"{drift(b.drift_deg_per_century, dp) if b else ''} → "
-                       f"{drift(a.drift_deg_per_century, dp)}", style=style))
+                  *table_cells([ppm_cell, drift_cell], style))
     return t
 
 
