@@ -135,6 +135,24 @@ def error(x: float, places: int | None = None) -> str:
     return _text(x, error_places([x]) if places is None else places)
 
 
+def error_with_sigma(x: float, sigma: float | None) -> tuple[str, str | None]:
+    """A drift (°/cy) or period error measured with its standard error ``sigma``, as
+    ``(value, sigma)`` texts: the σ to two significant figures and the value to the same
+    decimals (``-0.224``, ``0.079``), the decimals bounded as :func:`error_places` bounds a
+    column's — at most four unless that would write the σ as zero, when its first significant
+    figure is kept (``0.00003``) — and a value of 1,000 or more whole (``+1,235``, its σ still
+    to two figures). Without a σ (none, zero or not a number) the value alone by
+    :func:`error`, and None for the σ."""
+    if x is None or not math.isfinite(x):
+        return "—", None
+    if sigma is None or not math.isfinite(sigma) or sigma <= 0:
+        return error(x), None
+    places = min(ERROR_PLACES[1], max(0, 1 - math.floor(math.log10(sigma))))
+    while places < MOST_PLACES and sigma < 0.5 * 10.0 ** -places:
+        places += 1  # it would read 0.0000: its first significant figure
+    return _text(x, places), fixed(sigma, places)
+
+
 def error_column(xs, places: int | None = None, width: int | None = None) -> list[str]:
     """A column of period errors or drifts as :func:`error` writes them, to the column's
     decimals, padded so that set flush right their points line up (a whole figure's last

@@ -448,3 +448,30 @@ def test_a_dial_of_many_cycles_a_turn_says_what_its_dead_play_is_on_its_arbor(ca
     assert arbor == pytest.approx(shown / 223, rel=0.01)
     assert month == pytest.approx(shown / 360, rel=0.01)
     assert out.count("its arbor turns once for") == 1  # the other pointers read one a turn
+
+
+def test_play_writes_its_drifts_as_ratios_does(capsys, tmp_path):
+    """The drift column is a column of drifts by the one rule (engine.figures.error_column):
+    each pointer's drift reads as in `wheelwork ratios`' °/century column (the Sun's +0.0008
+    beside the Moon's -0.0248, where play wrote 0.0008 by three figures of its own), and a
+    slipped count's whole figures line up with the others' points (common practice, no
+    source)."""
+    from engine.demos import demo_path
+
+    slip = tmp_path / "slip.toml"
+    slip.write_text(demo_path("tide_office").read_text(encoding="utf-8")
+                    .replace("sun_w3 = 133", "sun_w3 = 134"), encoding="utf-8")
+    for train in ("tide_office", str(slip)):
+        assert main(["ratios", train]) == 0
+        ratios = {line.split()[0]: line.split()[4] for line in capsys.readouterr().out
+                  .splitlines() if len(line.split()) == 7 and line.split()[-1] == "y"}
+        assert main(["play", train, "--years", "2", "--builds", "10", "--samples", "8"]) == 0
+        out = capsys.readouterr().out.splitlines()
+        head = next(i for i, line in enumerate(out) if line.startswith("pointer "))
+        rows = out[head + 1:head + 1 + len(ratios)]
+        played = {line.split()[0]: line.split()[-1] for line in rows}
+        assert played == ratios and len(played) == 5, (played, ratios)
+        ends = {line.rindex(d) + (d.index(".") if "." in d else len(d))
+                for line, d in zip(rows, played.values(), strict=True)}
+        assert len(ends) == 1, rows
+    assert played["sun"] == "-268.662", played  # the slipped Sun: three decimals a column

@@ -476,6 +476,27 @@ def test_fixed_to_significant_figures_keeps_small_values_decimals():
     assert line_up(["1", "22"]) == ["1", "22"] and line_up([]) == []
 
 
+def test_a_drift_with_its_standard_error_is_written_to_the_sigmas_decimals():
+    """A measured drift and its σ (wheelwork drift's "steady drift"): the σ to two significant
+    figures and the drift to match, within the one rule's two to four decimals unless the σ
+    would read zero; 1,000 or more whole; no σ, the drift alone as error() writes it (common
+    practice, no source: a value carries no digits below its uncertainty's second)."""
+    from engine.commands.drift import _with_sigma
+    from engine.figures import error, error_with_sigma
+
+    assert error_with_sigma(-0.2241, 0.0791) == ("-0.224", "0.079")
+    assert error_with_sigma(-0.0125, 0.0085) == ("-0.0125", "0.0085")
+    assert error_with_sigma(46.2, 0.8) == ("+46.20", "0.80")
+    assert error_with_sigma(-25.3512, 28.37) == ("-25", "28")
+    assert error_with_sigma(1234.56, 0.02) == ("+1,235", "0.020")  # whole from 1,000
+    # it read "+0.0000° ± under 0.0001°": the σ's first figure is kept, the drift to match
+    assert error_with_sigma(0.00001, 0.00003) == ("+0.00001", "0.00003")
+    for sigma in (float("nan"), 0.0, None):  # no σ: the one rule's lone figure
+        assert error_with_sigma(-0.2241, sigma) == (error(-0.2241), None) == ("-0.22", None)
+    assert _with_sigma(-0.2241, 0.0791) == "-0.224° ± 0.079°"
+    assert _with_sigma(-0.2241, float("nan")) == "-0.22°"  # was -0.2241°, four decimals
+
+
 def test_lined_up_figures_keep_their_padding_as_table_cells():
     """error_column's cells set flush right in a rich table: each whole figure's last digit
     stands where the others' points do (rich strips a plain cell's trailing spaces before it

@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from ..errors import UsageError, WheelworkError
+from ..figures import error_with_sigma
 from . import support
 from .support import SUN_CAUTION
 
@@ -300,14 +301,10 @@ def _angle(x: float) -> str:
 
 
 def _with_sigma(x: float, sigma: float, unit: str = "°") -> str:
-    """``-0.224° ± 0.079°``: the standard error to two figures, the value to match."""
-    if not (math.isfinite(sigma) and sigma > 0):
-        return f"{support.fixed(x, 4, sign=True)}{unit}"
-    dec = min(4, max(0, 1 - math.floor(math.log10(sigma))))
-    pm = f"{sigma:.{dec}f}"
-    if float(pm) == 0:
-        return f"{support.fixed(x, dec, sign=True)}{unit} ± under 0.0001{unit}"
-    return f"{support.fixed(x, dec, sign=True)}{unit} ± {support.fixed(sigma, dec)}{unit}"
+    """``-0.224° ± 0.079°``: by the one rule's companion for a figure with its σ
+    (:func:`engine.figures.error_with_sigma`)."""
+    value, pm = error_with_sigma(x, sigma)
+    return f"{value}{unit}" + ("" if pm is None else f" ± {pm}{unit}")
 
 
 def _when(jd: float | None) -> str:

@@ -15,6 +15,7 @@ from ..defaults import (
     LEVER_MM,
 )
 from ..errors import TrainError, UsageError, decimal_comma, unit_slip
+from ..figures import error_column, table_cells
 from ..periods import JULIAN_YEAR_DAYS
 from ..train import TOOTH_FORMS
 from . import support
@@ -187,12 +188,14 @@ def _print(report: PlayReport, console: Console) -> None:
     for col in ("pointer", "dead play", "σ", "95 %", "max", "RSS σ", "inequality",
                 "drift/cy"):
         table.add_column(col, justify="left" if col == "pointer" else "right")
-    for p in report.pointers:
+    # drifts as ratios and the interface write a column of them: one number of decimals
+    drifts = table_cells(error_column(p.drift_deg_per_century for p in report.pointers))
+    for p, drift in zip(report.pointers, drifts, strict=True):
         table.add_row(escape(p.pointer), _deg(p.dead_play_deg),
                       f"{_deg(p.mc_std_deg)}±{support.figure(p.mc_std_sigma_deg, 1)}", _deg(p.mc_p95_deg),
                       _deg(p.mc_max_deg), _deg(p.rss_deg),
                       "—" if p.inequality_deg is None else f"±{_deg(p.inequality_deg)}",
-                      _deg(p.drift_deg_per_century))
+                      drift)
     support.print_table(console, table)
     for p in report.pointers:
         console.print(f"[bold]{escape(p.pointer)}[/] ({escape(shows_text(p.shows))}): "
