@@ -12,7 +12,7 @@ from textual_plot import PlotWidget
 
 from engine.demos import demo_path
 from engine.view import BAND_ROWS
-from tests.tui_support import sync, text_of
+from tests.tui_support import sync, text_of, wait_for
 from tui.app import make_app
 from tui.screens import DriftScreen
 from tui.widgets import canvas_rows, ui
@@ -92,6 +92,34 @@ async def test_a_resize_chooses_the_scale_again_without_computing_again():
         assert len(rows) == 2 and rows[1] - rows[0] >= BAND_ROWS, rows
         for err in result.error_deg.values():
             assert screen.scale.y_min < err.min() and err.max() < screen.scale.y_max
+
+
+@sync
+async def test_a_resize_of_the_width_alone_words_the_header_and_note_again():
+    """The nineteen-year drum at 80 × 24, widened to 100 × 24 (the plot's rows unchanged) and
+    narrowed again: the table's header and the scale note are chosen for the width they are
+    shown at (the short "max°" and "· y: all" under 100 columns, the full ones from 100), not
+    kept from the width the chart was first drawn at; nothing is computed again."""
+    app = make_app(demo_path("nineteen_year_drum"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await open_chart(pilot, app)
+        result, rows = screen.result, screen._curve_rows()
+        note, table = screen.query_one("#drift-scale"), screen.query_one("#drift-summary")
+        head = text_of(table).splitlines()[0]
+        assert "max°" in head and "(vertical line)" not in head, head
+        assert text_of(note).rstrip().endswith("· y: all"), text_of(note)
+        await pilot.resize_terminal(100, 24)
+        await wait_for(pilot, lambda: "max |err|°" in text_of(table), "the wide header")
+        head = text_of(table).splitlines()[0]
+        assert "first past ±1° (vertical line)" in head, head
+        await wait_for(pilot, lambda: text_of(note).rstrip().endswith("· y: every curve"),
+                       "the scale note in full words")
+        assert screen._curve_rows() == rows and screen.result is result
+        await pilot.resize_terminal(80, 24)
+        await wait_for(pilot, lambda: "max°" in text_of(table), "the narrow header")
+        await wait_for(pilot, lambda: text_of(note).rstrip().endswith("· y: all"),
+                       "the scale note in fewer words")
+        assert "(vertical line)" not in text_of(table) and screen.result is result
 
 
 @sync

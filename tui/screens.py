@@ -1007,6 +1007,9 @@ PLOT_STYLES = ("#f2b632", "#7fd4ff", "#c678dd", "#98c379", "#e06c75", "#56b6c2",
 THRESHOLDS_DEG = (0.25, 0.5, 1.0, 2.0, 5.0, 10.0)
 #: below this many rows the drift plot's margins shrink to a row above and a row below
 PLOT_COMPACT_BELOW = 32
+#: from this many columns the drift table's header is the wide one: under it "max°" and no
+#: "(vertical line)", so the header stays on one line (at 80 the last one folded onto three)
+WIDE_TABLE_FROM = 100
 
 
 class DriftScreen(ClosesOnce, SizeGuard, Screen):
@@ -1052,6 +1055,10 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         #: the y scale last drawn (engine.view.ChartScale), for the rows it was drawn for
         self.scale = None
         self._drawn_rows = 0
+        #: the width the scale note was worded for, and whether the table's header was the
+        #: wide one (WIDE_TABLE_FROM columns or more): a resize changing either draws again
+        self._drawn_width = 0
+        self._drawn_wide: bool | None = None
 
     def compose(self) -> ComposeResult:
         yield Static("", id="drift-title")
@@ -1251,7 +1258,7 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         thr = result.summaries[next(iter(result.summaries))].threshold_deg if result.summaries \
             else self.threshold_deg
         rows = self._curve_rows()
-        self._drawn_rows = rows
+        self._drawn_rows, self._drawn_width = rows, self.size.width
         self.scale = scale = chart_scale(result.error_deg, thr, rows, whole=self.whole)
         # widest swings first, so the steadier pointers stay visible on top
         order = sorted(result.error_deg, key=lambda n: -result.summaries[n].max_abs_deg)
@@ -1314,10 +1321,20 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         self.call_after_refresh(self.refresh_bindings)  # the table may fit, or not, now
 
     def _rescale(self) -> None:
-        """After a resize: the chart drawn again for its new number of rows."""
-        if (self.is_attached and self.result is not None and not self.computing
-                and self._curve_rows() != self._drawn_rows):
+        """After a resize: the chart drawn again for its new number of rows, and the scale
+        note worded again for a new width; the table too when its header changes (a width
+        alone, the rows unchanged, left the header and note chosen for the old one)."""
+        if not (self.is_attached and self.result is not None and not self.computing):
+            return
+        if self._wide() != self._drawn_wide:
+            self.show_result(self.result)
+        elif (self._curve_rows() != self._drawn_rows
+              or self.size.width != self._drawn_width):
             self._draw_plot(self.result)
+
+    def _wide(self) -> bool:
+        """Whether the table takes its wide header (``max |err|°``, ``(vertical line)``)."""
+        return self.size.width >= WIDE_TABLE_FROM
 
     def action_scale(self) -> None:
         """y: every curve whole ↔ fitted to the threshold band (when it would not fit)."""
@@ -1350,7 +1367,7 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
         # the header on one line under 100 columns, as the narrow readings head theirs
         # (max°): at 80 the last one folded onto three rows, and with the notes above it
         # left no row of the table in view
-        wide = self.size.width >= 100
+        wide = self._drawn_wide = self._wide()
         first = f"first past ±{thr:g}°" + (" (vertical line)" if wide else "")
         for col in ("pointer", "max |err|°" if wide else "max°", "at", "rms°", "trend °/cy",
                     "±", first):
