@@ -743,7 +743,9 @@ class EclipseWatch:
     ``at(jd)`` gives an :class:`EclipseNow`; ``next_real(jd, +1|-1)`` and
     ``next_predicted(jd)`` the date of the next (or previous) real eclipse, or predicted one,
     after ``jd`` (None when the ephemeris ends first). A new readout (pointers re-set) needs a
-    new watch."""
+    new watch. ``painted``: the same train with its pointers as first set, whose cycle dial
+    reads the marks off the sky when the file lists none (default ``mech``): a maker paints
+    them once, so a watch for a re-set pointer keeps them where the first setting put them."""
 
     WINDOW_DAYS = 400.0
 
@@ -753,8 +755,11 @@ class EclipseWatch:
     KEEP_WINDOWS = 8
     _tables: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
-    def __init__(self, mech, sky):
+    def __init__(self, mech, sky, painted=None):
+        if painted is not None and painted.train is not mech.train:
+            raise ArgumentError("painted: the marks are painted on this train, not another")
         self.mech, self.sky = mech, sky
+        self.painted = mech if painted is None else painted
         self.method = None
         have = methods(mech.train)
         if have:
@@ -765,7 +770,8 @@ class EclipseWatch:
 
     @property
     def marks(self):
-        """The cycle dial's marks (from the file, or read off the sky once), or None."""
+        """The cycle dial's marks (from the file, or read off the sky once, with the dial as
+        :attr:`painted` sets it), or None."""
         name = cycle_pointer(self.mech.train)
         if name is None:
             return None
@@ -776,7 +782,7 @@ class EclipseWatch:
             else:
                 start, end = marks_span(self.mech.train, name)
                 self.sky.check_span(start, end)  # derive_marks says why it cannot
-                self._marks = derive_marks(self.mech, self.sky, name,
+                self._marks = derive_marks(self.painted, self.sky, name,
                                            self.mech.train.eclipses.penumbral,
                                            table=self._table(start, end))
         return self._marks

@@ -401,6 +401,20 @@ def test_watch_reports_the_nearest_syzygy_and_jumps(sky):
     assert plain.at(jd).predicted is None and plain.next_predicted(jd) is None
 
 
+def test_a_watch_paints_the_marks_only_on_its_own_train(sky):
+    """``painted`` is the same train as first set; another train's setting is refused in
+    one line, not read as this one's marks."""
+    from engine.errors import ArgumentError
+    from engine.mechanism import open_train
+
+    board = open_train("engine/trains/eclipse_board.toml", sky)
+    other = open_train("engine/trains/eclipse_board.toml", sky)
+    assert E.EclipseWatch(board, sky, painted=board).painted is board
+    assert E.EclipseWatch(board, sky).painted is board
+    with pytest.raises(ArgumentError, match="painted: the marks are painted on this train"):
+        E.EclipseWatch(board, sky, painted=other)
+
+
 def test_limit_arcs_straddle_both_nodes():
     arcs = E.limit_arcs(10.0, {"solar": 18.5, "lunar": 12.25})
     assert ("solar", 351.5, 28.5) in arcs and ("lunar", 177.75, 202.25) in arcs

@@ -223,3 +223,55 @@ async def test_at_80x24_the_bc_year_is_in_the_panel_and_how_far_off_in_its_title
             await pilot.pause()
         assert "(150 BC) · 4.6 d ago" in text_of(panel).splitlines()[0]
         assert str(panel.border_title) == "eclipses"
+
+
+def _board_set_half_a_month_off(tmp_path) -> Path:
+    """The eclipse board set by angles at its epoch: every pointer on the sky but its 223-month
+    ring, turned half a month on, so its new moons fall near the middle of its months and
+    its marks (none in the file) come out as that setting reads them."""
+    import numpy as np
+
+    from engine.demos import demo_path
+    from engine.drift import pointer_errors
+    from engine.mechanism import open_train
+    from engine.sky import Sky
+
+    path = demo_path("eclipse_board")
+    sky = Sky()
+    mech = open_train(path, sky)
+    assert mech.train.pointers["months"].marks is None  # read off the sky, not listed
+    errors = pointer_errors(mech, sky, np.array([mech.train.epoch.jd_ut]))
+    text = path.read_text(encoding="utf-8").replace('set = "sky"', 'set = "angles"')
+    for name, e in errors.items():
+        value = float(np.ravel(e.sky_deg)[0]) + (180.0 if name == "months" else 0.0)
+        text = text.replace(f"[pointers.{name}]\n", f"[pointers.{name}]\nset_deg = {value:.4f}\n")
+    off = tmp_path / "board_off.toml"
+    off.write_text(text, encoding="utf-8")
+    return off
+
+
+@sync
+async def test_a_re_set_turns_the_ring_and_leaves_its_marks_where_they_were_painted(tmp_path):
+    """A cycle dial whose marks are read off the sky gets them once, as the first setting
+    reads them, as a maker paints them once: r, m and u turn the ring, and the marks stay.
+    They were read again with the ring as re-set: with the board's ring set half a month off,
+    r in 1960 moved solar and lunar marks by a month (common practice, no source: a painted
+    dial is not repainted when its pointer is set)."""
+    from engine.eclipses import derive_marks
+
+    app = make_app(_board_set_half_a_month_off(tmp_path))
+    session = app.session
+    first = session.eclipse_watch.marks
+    assert first == derive_marks(session.mech, session.sky, "months")
+    session.go_to(parse_date("1960-01-01"))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        for key in ("r", "m", "u", "u"):
+            readout = session.mech.readout
+            await pilot.press(key)
+            await pilot.pause()
+            assert session.mech.readout is not readout, key  # the ring was turned
+            assert session.eclipse_watch.marks == first, key
+            if key == "r":  # as re-set it reads other months than the painted ones
+                assert derive_marks(session.mech, session.sky, "months") != first
+        assert not session.can_undo

@@ -208,6 +208,10 @@ class Session:
     _undo: list[Readout] = field(default_factory=list)
     _moved: float = 0.0
     _watch: EclipseWatch | None = None
+    #: the train on the bench as first set (from its file, or as adopted): a cycle dial with
+    #: no marks in its file has them read off the sky with this setting, once, as a maker
+    #: paints them; a re-set (r, R, m) or undo turns the pointer, not the marks
+    _painted: Mechanism | None = None
     #: set by the interface while it cranks continuously (the eclipse readout may then wait)
     running: bool = False
     #: the train's edits and file (an :class:`engine.edit.TrainEditor`), when it can be changed
@@ -226,6 +230,7 @@ class Session:
 
     def __post_init__(self):
         self.frame = self.frame or self.mech.train.dial
+        self._painted = self.mech
         if self.speed_index is None:
             self.speed_index = default_speed_index(self.mech)
         self._last_sky = _LastSky(self.sky)
@@ -291,7 +296,7 @@ class Session:
         (else at its epoch); its pointers set as its file says. An empty ``frame`` takes the
         new train's dial."""
         jd = self.jd_now()
-        self.mech = mech
+        self.mech = self._painted = mech
         self.frame = self.frame or mech.train.dial
         self._findings = None  # found again when next shown
         self.drift_by_frame = {}
@@ -453,9 +458,11 @@ class Session:
     @property
     def eclipse_watch(self) -> EclipseWatch:
         """The train's eclipse predictions against the sky, kept while the pointers' setting
-        stays (a re-set or undo makes a new one)."""
+        stays (a re-set or undo makes a new one); a cycle dial's marks read off the sky stay
+        where the first setting put them (:attr:`_painted`)."""
         if self._watch is None or self._watch.mech.readout is not self.mech.readout:
-            self._watch = EclipseWatch(self.mech, self.sky)
+            painted = self._painted if self._painted.train is self.mech.train else None
+            self._watch = EclipseWatch(self.mech, self.sky, painted)
         return self._watch
 
     def jump_to_eclipse(self, direction: int = 1) -> float:
