@@ -344,3 +344,70 @@ def test_a_slipped_counts_whole_figures_line_up_with_the_others_points(tmp_path,
     assert any("." not in p for p in ppms) and any("." in p for p in ppms), ppms
     assert len(_point_columns(rows, ppms)) == 1, rows
     assert len(_point_columns(rows, drifts)) == 1, rows
+
+
+STAR_PERIGEE = """[train]
+name = "Star-dial perigee hand"
+dial = "stars"
+
+[crank]
+arbor = "day"
+days_per_turn = 1
+
+[epoch]
+date = "-0249-06-21 00:00"
+
+[arbors.day]
+wheels = { p1 = 8 }
+
+[arbors.a1]
+wheels = { w1 = 110, p2 = 9 }
+
+[arbors.a2]
+wheels = { w2 = 137, p3 = 9 }
+
+[arbors.perigee]
+wheels = { w3 = 139 }
+
+[[meshes]]
+wheels = ["p1", "w1"]
+
+[[meshes]]
+wheels = ["p2", "w2"]
+
+[[meshes]]
+wheels = ["p3", "w3"]
+
+[pointers.perigee]
+shows = "apsis"
+arbor = "perigee"
+reversed = true
+"""
+
+
+def test_the_era_figures_docs_drift_md_quotes(tmp_path):
+    """docs/drift.md, *Drift in another era*: a star-dial perigee hand set in 250 BC (the
+    search's best three stages for the perigee's advance against the stars, 8/110 · 9/137 ·
+    9/139) reads -0.0033 °/century in ratios and -0.43 over 300 years of drift against DE406;
+    the lunation board's Moon hand -0.45 and -0.36. Our own measurements, kept here so the
+    page says what the tool does (it quoted -0.011 for a train not kept)."""
+    pytest.importorskip("de406", reason="the 'ancient' extra (DE406) is not installed")
+    from engine.drift import DriftRun, drift_series
+    from engine.mechanism import open_train
+    from engine.sky import Sky
+
+    path = tmp_path / "perigee_stars.toml"
+    path.write_text(STAR_PERIGEE, encoding="utf-8")
+    sky = Sky("de406")
+    for train, pointer, in_ratios, in_drift in ((path, "perigee", -0.0033, -0.43),
+                                                (TRAINS / "lunation_board.toml", "moon",
+                                                 -0.45, -0.36)):
+        rows = pointer_ratios(load_train(train), solve(load_train(train)))
+        mean = next(r for r in rows if r.pointer == pointer).drift_deg_per_century
+        assert mean == pytest.approx(in_ratios, abs=0.00005 if abs(in_ratios) < 0.01
+                                     else 0.005), train
+        mech = open_train(train, sky)
+        start = mech.train.epoch.jd_ut
+        run = drift_series(mech, sky, DriftRun(start, start + 300 * 365.25, "1d"))
+        assert run.summaries[pointer].drift_deg_per_century == pytest.approx(
+            in_drift, abs=0.005), train
