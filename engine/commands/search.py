@@ -275,11 +275,13 @@ def _print(report: SearchReport, console: Console) -> None:
                           ("1 day off", "right"), ("teeth", "right")):
             table.add_column(col, justify=just, no_wrap=True)
         # period errors and drifts as ratios and the interface write a column of them
-        ppms = table_cells(error_column(r.period_error_ppm for r in report.results))
-        drifts = table_cells(error_column(r.drift_deg_per_century for r in report.results))
+        ppms = table_cells([mark(c) for c in
+                            error_column(r.period_error_ppm for r in report.results)])
+        drifts = table_cells([mark(c) for c in
+                              error_column(r.drift_deg_per_century for r in report.results)])
         for i, r in enumerate(report.results, start=1):
             table.add_row(str(i), _stages_text(r, "\n"), ratio_text(r.ratio), support.figure(r.period_days, 9),
-                          mark(ppms[i - 1]), mark(drifts[i - 1]),
+                          ppms[i - 1], drifts[i - 1],
                           mark(_years(r.one_day_off_years)), str(r.total_teeth))
         support.print_table(console, table, keys=2)  # a train is named by # and its stages
     if report.convergents:
@@ -288,9 +290,10 @@ def _print(report: SearchReport, console: Console) -> None:
         for col, just in (("ratio", "right"), ("days/turn", "right"), ("period ppm", "right"),
                           ("admitted", "left"), ("train or reason", "left")):
             table.add_column(col, justify=just, no_wrap=col != "train or reason")
-        ppms = table_cells(error_column(v.period_error_ppm for v in report.convergents))
+        ppms = table_cells([mark(c) for c in
+                            error_column(v.period_error_ppm for v in report.convergents)])
         for v, ppm in zip(report.convergents, ppms, strict=True):
-            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), mark(ppm),
+            table.add_row(ratio_text(v.ratio), ratio_text(v.period_days), ppm,
                           "yes" if v.admitted else "no",
                           _stages_text(v.train) if v.train else v.reason)
         support.print_table(console, table)
