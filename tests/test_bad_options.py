@@ -156,6 +156,12 @@ CASES: list[tuple[list[str], str]] = [
     (["play", T, "--division", "nan"], "division"),
     (["play", T, "--lever-mm", "0"], "positive number of mm"),
     (["play", T, "--lever-mm", "1e6"], "at most 10,000 mm"),
+    # a required argument left out: what it is, with an example
+    (["cut", T], "required: --out; give --out (the folder to write into, e.g. --out parts)"),
+    (["ratios"], "required: TRAIN; give TRAIN (a train file, or a demo's name such as "
+                 "tide_office)"),
+    (["search", "--stages", "2"], "say what to search for, e.g. --cycle 'synodic month', "
+                                  "--period 29.53 or --ratio 19/235"),
     # bounds in figures as every number is written, thousands separated
     (["drift", DISC, "--years", "1e6"], "1e6: at most 100,000 years"),
     (["play", T, "--seed", "abc"], "give seed from 0 to 9,223,372,036,854,775,807"),

@@ -54,6 +54,13 @@ LARGE_OUTPUT_BYTES = 50 * 1024 * 1024  # above this a file's estimated size is s
 _NEGATIVE_VALUE = re.compile(r"^-\.?\d")
 
 
+#: what a required argument argparse names as missing is, with an example
+_REQUIRED_HINTS = {
+    "TRAIN": "a train file, or a demo's name such as tide_office",
+    "--out": "the folder to write into, e.g. --out parts",
+}
+
+
 class Parser(argparse.ArgumentParser):
     """argparse without ``SystemExit``: errors raise :class:`UsageError`, ``--help`` raises
     :class:`ParserExit`; negative values are values."""
@@ -68,7 +75,8 @@ class Parser(argparse.ArgumentParser):
     def _hint(self, message: str) -> str:
         """What to write instead, for slips argparse names without saying so: a unit parted
         from its number (``--step 6 h``), a date with spaces not in quotes (``sky JD 2451545``)
-        and a span not given (``--years`` or ``--to`` missing)."""
+        and a span not given (``--years`` or ``--to`` missing); a search target, a train or
+        an output folder not given, with an example of each."""
         from engine.dates import step_unit
 
         seen = getattr(self, "_seen", [])
@@ -83,6 +91,14 @@ class Parser(argparse.ArgumentParser):
                         "e.g. 'JD 2451545.0' or '15 March 44 BC'")
         if message.startswith("one of the arguments --to --years is required"):
             return "; say how long a span, e.g. --years 50, or when it ends, e.g. --to 2100-01-01"
+        if message.startswith("one of the arguments --period --ratio --cycle is required"):
+            return ("; say what to search for, e.g. --cycle 'synodic month', --period 29.53 or "
+                    "--ratio 19/235")
+        if message.startswith("the following arguments are required: "):
+            needed = message.split(": ", 1)[1].split(", ")
+            said = [f"{word} ({_REQUIRED_HINTS[word]})" for word in needed
+                    if word in _REQUIRED_HINTS]
+            return f"; give {' and '.join(said)}" if said else ""
         return ""
 
     def parse_known_args(self, args=None, namespace=None):
