@@ -29,7 +29,9 @@ Two pipelines give the same numbers (to well under 0.01 arcsecond, checked in
     acceleration term is below a centimetre, the neglected second order below a millimetre;
     on the gather path for the Sun and Moon alone the Sun comes carried back already, over
     its light time at its record's middle (:class:`_SunLessBarycentre`: within 20 m,
-    0.000028″);
+    0.000028″), and where the Moon's records nest in the Sun's (DE421, DE440) one gather of
+    the Moon's layout gives both bodies carried back and the Earth's rate, the Moon's
+    first-order term fitted per record within a millimetre (:class:`_GeocentricRows`);
   - aberration is skyfield's own relativistic formula, rearranged into fewer passes (equal to
     rounding; the observer's Lorentz factor worked out once for the Sun and the Moon, and the
     angles taken from the apparent direction before its length is applied: :func:`_aberration`);
@@ -402,6 +404,7 @@ class _SunLessBarycentre:
     difference of two vectors of 1.5e8 km a date."""
 
     rows = 6
+    key = _MIXED
 
     def __init__(self, keys):
         half = 3 * len(keys)
@@ -410,14 +413,129 @@ class _SunLessBarycentre:
         self._v_sun, self._v_emb = slice(half + sun, half + sun + 3), slice(half + emb,
                                                                             half + emb + 3)
 
-    def __call__(self, block: np.ndarray, out: np.ndarray) -> None:
-        """``out`` (records, 6, terms): the mixed rows of the power-form records ``block``
-        (records, 12, terms; rates in km/day)."""
+    @staticmethod
+    def terms(group) -> int:
+        return group.gather_terms
+
+    def __call__(self, group, records: slice, out: np.ndarray) -> None:
+        """``out`` (records, 6, terms): the mixed rows of ``group``'s records ``records``,
+        from their power form (12 rows, rates in km/day)."""
+        block = _power_form(group.coef[records, :, :group.gather_terms], group.rate,
+                            group.scale)
         diff = np.subtract(block[:, self._sun], block[:, self._emb], out=out[:, 0:3])
         # the light time at the record's middle (s = 0: the powers' constant terms), days
         tau = np.sqrt(np.einsum("ri,ri->r", diff[:, :, 0], diff[:, :, 0])) / _C_KM_DAY
         diff -= tau[:, None, None] * block[:, self._v_sun]
         out[:, 3:6] = block[:, self._v_emb]
+
+
+_GEOCENTRIC = "geocentric"  # evaluate's key for the Moon layout's geocentric rows
+
+
+def _nested(inner, outer) -> bool:
+    """Whether every record of ``inner`` lies inside one record of ``outer`` (record lengths
+    and starts in whole seconds, so the test is exact)."""
+    per = outer.intlen / inner.intlen
+    offset = (inner.init - outer.init) / inner.intlen
+    return (per == int(per) and per >= 1 and offset == int(offset) and offset >= 0
+            and inner.init + inner.nrec * inner.intlen <= outer.init + outer.nrec * outer.intlen)
+
+
+@functools.cache
+def _shift_powers(k: int, per: int) -> np.ndarray:
+    """(per, k, k): for each of the ``per`` equal parts of [-1, 1], the matrix taking a power
+    series in s (coefficients c_i of s^i, i < k) to the same polynomial in the part's own
+    u in [-1, 1], s = u / per + b: Σ_i c_i (u/per + b)^i = Σ_j u^j Σ_i c_i C(i, j)
+    per^-j b^(i-j). Its entries are exact for per a power of two (b and 1/per then binary
+    fractions), so the re-expressed series differ from the first by rounding alone."""
+    out = np.zeros((per, k, k))
+    for part in range(per):
+        b = -1.0 + (2 * part + 1) / per
+        for i in range(k):
+            for j in range(i + 1):
+                out[part, i, j] = math.comb(i, j) * per ** -j * b ** (i - j)
+    out.flags.writeable = False
+    return out
+
+
+_FIT_NODES = 16  # points of each record the Moon's light-time term is fitted on
+
+
+@functools.cache
+def _fit_powers(k: int) -> tuple[np.ndarray, np.ndarray]:
+    """(powers at the nodes (k, nodes), least-squares map (nodes, k)): values at
+    :data:`_FIT_NODES` Chebyshev points of [-1, 1] to the power series of k terms that fits
+    them best (near the best approximation of its degree on the whole interval)."""
+    x = np.cos(np.pi * (np.arange(_FIT_NODES) + 0.5) / _FIT_NODES)
+    cheb = np.polynomial.chebyshev.chebvander(x, k - 1)  # (nodes, k)
+    fit = np.linalg.pinv(cheb).T @ _cheb_to_powers(k)  # values -> power coefficients
+    powers = x[None, :] ** np.arange(k)[:, None]
+    powers.flags.writeable = fit.flags.writeable = False
+    return powers, fit
+
+
+class _GeocentricRows:
+    """The rows of the Moon's record layout when the Sun and the Moon alone are asked from the
+    Earth's centre (:attr:`_ChebGroup.mix` of the Moon's group, where each of its records lies
+    inside one record of the Sun's and barycentre's layout, as on DE421 and DE440: 4 days in
+    16): 9 rows, record by record,
+
+    * the Sun less the Earth's centre, moved back over its light time as
+      :class:`_SunLessBarycentre` moves it (its rows plus the Moon's offset from the
+      barycentre times the Earth/Moon ratio: the Earth's centre is the barycentre less that);
+    * the Moon from the Earth's centre, moved back over its light time: (1 + ratio) m less
+      τ (V + m'), τ = |d|/c − d·v/c² the light time to first order (:func:`_retard`), V the
+      barycentre's rate; the last term (some 38 km) fitted per record in powers of its time to
+      the Moon's own degree, by least squares on :data:`_FIT_NODES` points
+      (``tests/test_sky_gather.py`` bounds what the fit leaves, below a millimetre);
+    * the Earth's centre's rate, V − ratio · m' (for aberration).
+
+    The outer layout's polynomials restricted to one of its parts are polynomials of the same
+    degree in the part's time (:func:`_shift_powers`): re-expressed, nothing is lost but
+    rounding (1e-7 km on the Sun's 1.5e8). The table: 9 × 10 powers a record, 10.1 MB for
+    DE421's 14,080 records, 72 MB for DE440's, turned a block at a time where read. One
+    gather of 9 rows then gives the Sun and the Moon where two layouts' gathers (6 and 6 rows)
+    and the Moon's light-time pass did; the light times for aberration are then |d|/c."""
+
+    rows = 9
+    key = _GEOCENTRIC
+
+    def __init__(self, outer, ratio: float):
+        self.outer, self.ratio = outer, ratio
+
+    def terms(self, group) -> int:
+        return max(group.gather_terms, self.outer.gather_terms)
+
+    def __call__(self, group, records: slice, out: np.ndarray) -> None:
+        outer, ratio = self.outer, self.ratio
+        k = out.shape[2]
+        r = np.arange(group.nrec)[records]
+        moon = _power_form(group.coef[records, :, :group.gather_terms], group.rate,
+                           group.scale)  # (records, 6, terms): offset, rate (km/day)
+        m_pos = np.zeros((r.size, 3, k))
+        m_vel = np.zeros((r.size, 3, k))
+        m_pos[:, :, :moon.shape[2]] = moon[:, 0:3]
+        m_vel[:, :, :moon.shape[2]] = moon[:, 3:6]
+        per = round(outer.intlen / group.intlen)
+        at = r + round((group.init - outer.init) / group.intlen)
+        kp = outer.gather_terms
+        # the outer records' mixed rows (Sun less barycentre moved back; barycentre's rate)
+        # re-expressed on each inner record
+        mixed = np.empty((r.size, 6, k))
+        mixed[:] = np.einsum("rci,rij->rcj", outer._series(at // per, outer.mix),
+                             _shift_powers(k, per)[at % per][:, :kp, :])
+        out[:, 0:3] = mixed[:, 0:3] + ratio * m_pos
+        np.multiply(m_vel, -ratio, out=out[:, 6:9])
+        out[:, 6:9] += mixed[:, 3:6]
+        geo = m_pos * (1.0 + ratio)
+        # the Moon's motion over its light time, at the nodes, fitted
+        powers, fit = _fit_powers(k)
+        d = geo @ powers  # (records, 3, nodes)
+        v = (mixed[:, 3:6] + m_vel) @ powers
+        c = _C_KM_DAY
+        tau = np.sqrt(np.einsum("rin,rin->rn", d, d)) / c
+        tau -= np.einsum("rin,rin->rn", d, v) / (c * c)
+        out[:, 3:6] = geo - (tau[:, None, :] * v) @ fit
 
 
 def _chunks(starts: np.ndarray, counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -544,11 +662,17 @@ class _ChebGroup:
             coef[:, 3 * i:3 * i + 3, :c.shape[0]] = np.transpose(c, (2, 1, 0))
         return coef
 
+    @property
+    def rate(self) -> float:
+        """Days to units of s: the power form's rates are in km/day (:func:`_power_form`)."""
+        return 2.0 * SECONDS_PER_DAY / self.intlen
+
     cut = True  # the gather path cuts each series to its error budget (see gather_terms)
     # The rows the gather path gives when asked for the Sun and the Moon alone (evaluate's
-    # ``mixed``): None, or what mixes a block of power-form records into them (its ``rows``
-    # rows; set by _open: see _SunLessBarycentre). Records are mixed once, when first read,
-    # so the mixing costs nothing a date.
+    # ``mixed``): None, or what mixes a block of the group's records into them (its ``rows``
+    # rows of ``terms(group)`` powers, returned under its ``key``; set by _open: see
+    # _SunLessBarycentre and _GeocentricRows). Records are mixed once, when first read, so
+    # the mixing costs nothing a date.
     mix = None
 
     @functools.cached_property
@@ -605,7 +729,7 @@ class _ChebGroup:
         rate = 2.0 * SECONDS_PER_DAY / self.intlen
         if self.mapped:
             return _power_form(np.take(self.coef, index, axis=0), rate, self.scale)
-        k = self.gather_terms
+        k = self.gather_terms if mix is None else mix.terms(self)
         rows = 6 * len(self.keys) if mix is None else mix.rows
         name = "_turned" if mix is None else "_turned_mixed"
         table, turned = self.__dict__.get(name) or self.__dict__.setdefault(
@@ -614,11 +738,10 @@ class _ChebGroup:
         for b in range(int(index.min()) // _TURN_BLOCK, int(index.max()) // _TURN_BLOCK + 1):
             if not turned[b]:
                 block = slice(b * _TURN_BLOCK, (b + 1) * _TURN_BLOCK)
-                turned_block = _power_form(self.coef[block, :, :k], rate, self.scale)
                 if mix is None:
-                    table[block] = turned_block
+                    table[block] = _power_form(self.coef[block, :, :k], rate, self.scale)
                 else:
-                    mix(turned_block, table[block])
+                    mix(self, block, table[block])
                 turned[b] = True
         return np.take(table, index, axis=0, mode="clip",  # "raise" would copy through a buffer
                        out=_scratch("series", index.size * rows * k).reshape(-1, rows, k))
@@ -641,7 +764,7 @@ class _ChebGroup:
 
     def evaluate(self, whole: np.ndarray, frac: np.ndarray, mixed: bool = False) -> dict:
         """{(center, target): (position km, rate km/day)} at TDB dates ``whole + frac``; with
-        ``mixed``, on the gather path of a group with a :attr:`mix`, ``{_MIXED: rows}``: its
+        ``mixed``, on the gather path of a group with a :attr:`mix`, ``{mix.key: rows}``: its
         mixed rows instead, (rows, dates).
 
         Dates near a regular grid whose step divides the record length are evaluated by
@@ -657,8 +780,8 @@ class _ChebGroup:
         if on_grid is not None:
             return on_grid
         index, s = self._records(whole, frac)
-        n, k = s.size, self.gather_terms
         mix = self.mix if mixed else None
+        n, k = s.size, self.gather_terms if mix is None else mix.terms(self)
         rows = 6 * len(self.keys) if mix is None else mix.rows  # positions, then rates
         if n == 0:
             out = np.empty((rows, 0))
@@ -703,7 +826,7 @@ class _ChebGroup:
                 # contiguous array far quicker than from one with gaps between its rows
                 out = np.take(whole_rows, where, axis=1)
         if mix is not None:
-            return {_MIXED: out}
+            return {mix.key: out}
         half = rows // 2
         return {key: (out[3 * i:3 * i + 3], out[half + 3 * i:half + 3 * i + 3])
                 for i, key in enumerate(self.keys)}
@@ -1143,6 +1266,12 @@ def _open(path: str) -> _Loaded:
             for group in groups:
                 if sorted(group.keys) == [(0, 3), (0, 10)]:
                     group.mix = _SunLessBarycentre(group.keys)
+            outer = next((g for g in groups if g.mix is not None), None)
+            inner = next((g for g in groups if g.keys == [(3, 301)]), None)
+            if outer is not None and inner is not None and _nested(inner, outer):
+                inner.mix = _GeocentricRows(outer, ratio)
+                # first: its rows alone give the Sun and the Moon (see Sky._apparent)
+                groups = (inner, *(g for g in groups if g is not inner))
     planets = {}
     for code in sorted(set(_PLANET_CODES.values()) - {3}):
         segs = by_pair.get((0, code), [])
@@ -1797,16 +1926,32 @@ class Sky:
         """Apparent Sun and Moon (ICRS axes, km) from the Earth's centre or a site at TDB dates
         ``whole + frac``, with the positions the planets' light path needs (km, km/day).
         ``bodies=False``: the Sun and the Moon from the Earth's centre alone (no site), whose
-        gathered dates then take a layout's mixed rows (:attr:`_ChebGroup.mix`: the Sun less
-        the barycentre as one series, already moved back over the Sun's light time); the
-        planets' fields may then be None."""
+        gathered dates then take a layout's mixed rows (:attr:`_ChebGroup.mix`): where the
+        Moon's records nest in the Sun's, its 9 rows alone (:class:`_GeocentricRows`: the Sun
+        and the Moon from the Earth's centre, each already moved back over its light time,
+        and the Earth's rate); else the Sun less the barycentre as one series, already moved
+        back over the Sun's light time (:class:`_SunLessBarycentre`), beside the Moon's own
+        rows. The planets' fields may then be None."""
         ratio = self._loaded.earth_ratio
         pv = {}
         for group in self._loaded.groups:
             pv.update(group.evaluate(whole, frac, not bodies and site is None))
+            if _GEOCENTRIC in pv:  # the Moon layout's rows alone (the group comes first)
+                break
         _SLIPS[0] = None  # kept only while the groups take the same dates
+        n = whole.size
+        geocentric = pv.get(_GEOCENTRIC)
+        if geocentric is not None:  # the Sun and the Moon moved back; the Earth's rate
+            seen = geocentric[0:6].reshape(2, 3, n)
+            if vectors is not None:
+                vectors[:] = geocentric[0:6]
+            lts = np.einsum("bin,bin->bn", seen, seen)
+            np.sqrt(lts, out=lts)
+            lts *= 1.0 / _C_KM_DAY  # |d|/c: the light time of a position already moved back
+            v_obs = geocentric[6:9]
+            return _Apparent(*_aberration(seen, lts, v_obs, _C_KM_DAY), None, None, v_obs,
+                             None, None)
         m_rel, v_m_rel = pv[(3, 301)]
-        n = m_rel.shape[-1]
         # The Sun and the Moon stacked (body, axis, date): one pass of each step for both.
         # Before aberration, kept for the lit fraction: written straight into its rows.
         seen = None if vectors is None else vectors.reshape(2, 3, n)

@@ -93,10 +93,10 @@ def test_mixed_rows_against_jplephem_spk(sky):
     # or the barycentre left in, this fails.
     from skyfield.constants import C
 
-    from engine.sky import _CUT_KM, _CUT_KM_S, _MIXED
+    from engine.sky import _CUT_KM, _CUT_KM_S, _MIXED, _SunLessBarycentre
 
     segments = {(s.center, s.target): s for s in sky._loaded.kernel.spk.segments}
-    (group,) = [g for g in sky._loaded.groups if g.mix is not None]
+    (group,) = [g for g in sky._loaded.groups if isinstance(g.mix, _SunLessBarycentre)]
     assert sorted(group.keys) == [(0, 3), (0, 10)]
     c_km_day = C * S_PER_DAY / 1000.0
     middle_km = 0.020
@@ -250,3 +250,85 @@ def test_long_calls_keep_no_work_arrays(sky):
     thread.start()
     thread.join()
     assert kept["same"] and all(size <= sky_module._SCRATCH_MOST for size in kept["sizes"])
+
+
+def test_geocentric_rows_against_jplephem_spk(sky):
+    # The Sun and Moon alone take DE421's 4-day layout as 9 rows (engine.sky's
+    # _GeocentricRows; each 4-day record lies in one 16-day record): the Sun less the Earth's
+    # centre moved back over its light time, the Moon from the Earth's centre moved back over
+    # its own (to first order, τ = |d|/c − d·v/c², fitted per record), the Earth's centre's
+    # rate. Against jplephem's segments (0->10, 0->3, 3->301, 3->399) with the light times
+    # worked out here, within the budgets of the series the rows are made of
+    # (engine.sky._CUT_KM: the Sun 20 m + 80 m + 80 m, as test_mixed_rows_against_jplephem_spk;
+    # the Moon 1.0123 × 0.15 m, and 1.35 s of light time times the rates' 1 cm/s). The
+    # Moon's motion over its light time is some 38 km, the Earth's centre 4,700 km from the
+    # barycentre: without the Earth/Moon ratio, with a sign turned or the light time left out
+    # or doubled, this fails.
+    from skyfield.constants import C
+
+    from engine.sky import _CUT_KM, _CUT_KM_S, _GEOCENTRIC, _GeocentricRows
+
+    segments = {(s.center, s.target): s for s in sky._loaded.kernel.spk.segments}
+    (group,) = [g for g in sky._loaded.groups if isinstance(g.mix, _GeocentricRows)]
+    assert group.keys == [(3, 301)] and sky._loaded.groups[0] is group
+    c_km_day = C * S_PER_DAY / 1000.0
+    sun_km = 0.020 + _CUT_KM[(0, 10)] + _CUT_KM[(0, 3)] + POSITION_KM
+    moon_km = 1.0123 * _CUT_KM[(3, 301)] + 1.35 * _CUT_KM_S + POSITION_KM
+    for layout, (whole, frac) in _layouts(group, (2415020.5, 2469807.5)).items():
+        other = type(group).__new__(type(group))
+        other.__dict__.update(group.__dict__)
+        other._evaluate_grid = lambda w, f: None
+        rows = other.evaluate(whole, frac, mixed=True)[_GEOCENTRIC]
+        assert rows.shape == (9, whole.size), layout
+        if not whole.size:
+            continue
+        sun, v_sun = segments[(0, 10)].compute_and_differentiate(whole, frac)
+        emb, v_emb = segments[(0, 3)].compute_and_differentiate(whole, frac)
+        moon, v_moon = segments[(3, 301)].compute_and_differentiate(whole, frac)
+        earth, v_earth = segments[(3, 399)].compute_and_differentiate(whole, frac)
+        to_sun = sun - emb - earth
+        tau = np.sqrt(np.sum(to_sun ** 2, axis=0)) / c_km_day  # days
+        error = np.sqrt(np.sum((rows[0:3] - (to_sun - tau * v_sun)) ** 2, axis=0))
+        assert np.max(error) < sun_km, (layout, np.max(error))
+        to_moon, v = moon - earth, v_emb + v_moon
+        tau = (np.sqrt(np.sum(to_moon ** 2, axis=0)) / c_km_day
+               - np.sum(to_moon * v, axis=0) / c_km_day ** 2)
+        error = np.sqrt(np.sum((rows[3:6] - (to_moon - tau * v)) ** 2, axis=0))
+        assert np.max(error) < moon_km, (layout, np.max(error))
+        rate_error = np.sqrt(np.sum((rows[6:9] - (v_emb + v_earth)) ** 2, axis=0)) / S_PER_DAY
+        assert np.max(rate_error) < _CUT_KM_S * 1.02 + 1e-9, (layout, np.max(rate_error))
+
+
+def test_geocentric_rows_fit_the_light_time(sky):
+    # The 9 rows' Moon holds its motion over its light time as a fit per record (engine.sky's
+    # _GeocentricRows); against the same sum worked out date by date from the same (cut)
+    # series — the Moon's 4-day rows and the 16-day mixed rows, each through its own gather —
+    # what the fit leaves is within a millimetre (the fast path's bound on its series: common
+    # practice, no source), on dates all over DE421 and on the records' edges; the Sun and the
+    # Earth's rate, exact sums of the same polynomials, within the rounding of sums of 1.5e8 km
+    # (POSITION_KM) and 1e-9 km/s.
+    from engine.sky import _C_KM_DAY, _GEOCENTRIC, _MIXED, _GeocentricRows
+
+    (group,) = [g for g in sky._loaded.groups if isinstance(g.mix, _GeocentricRows)]
+    outer = group.mix.outer
+    ratio = sky._loaded.earth_ratio
+    c_km_day = _C_KM_DAY
+    rng = np.random.default_rng(12)
+    for whole, frac in (_split(np.sort(rng.uniform(2415020.5, 2469807.5, 40_000))),
+                        _edges(group, 400)):
+        rows = {}
+        for g, key in ((group, _GEOCENTRIC), (outer, _MIXED)):
+            other = type(g).__new__(type(g))
+            other.__dict__.update(g.__dict__)
+            other._evaluate_grid = lambda w, f: None
+            rows[key] = other.evaluate(whole, frac, mixed=True)[key]
+        m, v_m = _gathered(group, whole, frac, cut=True)[(3, 301)]
+        mixed = rows[_MIXED]
+        sun = mixed[0:3] + ratio * m
+        geo, v = (1.0 + ratio) * m, mixed[3:6] + v_m
+        tau = (np.sqrt(np.sum(geo ** 2, axis=0)) / c_km_day
+               - np.sum(geo * v, axis=0) / c_km_day ** 2)
+        got = rows[_GEOCENTRIC]
+        assert np.max(np.abs(got[0:3] - sun)) < POSITION_KM
+        assert np.max(np.sqrt(np.sum((got[3:6] - (geo - tau * v)) ** 2, axis=0))) < 1e-6
+        assert np.max(np.abs(got[6:9] - (mixed[3:6] - ratio * v_m))) / S_PER_DAY < 1e-9
