@@ -283,10 +283,9 @@ def _star_exit(theta: np.ndarray, pieces: list) -> tuple[np.ndarray, np.ndarray]
     return best, who
 
 
-def _star_outline(arms: list[tuple[float, tuple[float, float], float]]) -> np.ndarray:
-    """The outline of arms (each the hull of the hub and a round end), traced round the axis,
-    with the corners where one arm's edge meets another's found by bisection."""
-    pieces = [_cone_pieces(*a) for a in arms]
+def _star_angles(pieces: list) -> np.ndarray:
+    """The directions an outline of arms is traced in: every :data:`ARM_STEPS`-th of a turn,
+    and the corners where one arm's edge meets another's, found by bisection."""
     theta = np.linspace(0.0, 2 * np.pi, ARM_STEPS, endpoint=False)
     _, who = _star_exit(theta, pieces)
     corners = []
@@ -299,7 +298,14 @@ def _star_outline(arms: list[tuple[float, tuple[float, float], float]]) -> np.nd
             else:
                 hi = mid
         corners.append((lo + hi) / 2)
-    t = np.sort(np.concatenate([theta, np.mod(corners, 2 * np.pi)]))
+    return np.sort(np.concatenate([theta, np.mod(corners, 2 * np.pi)]))
+
+
+def _star_outline(arms: list[tuple[float, tuple[float, float], float]]) -> np.ndarray:
+    """The outline of arms (each the hull of the hub and a round end), traced round the axis,
+    with the corners where one arm's edge meets another's found exactly."""
+    pieces = [_cone_pieces(*a) for a in arms]
+    t = _star_angles(pieces)
     r, _ = _star_exit(t, pieces)
     return np.column_stack([r * np.cos(t), r * np.sin(t)])
 
@@ -338,7 +344,7 @@ def carrier_arm(train: Train, plate: Plate, pitch: dict[str, float],
     rho_t = BRASS_G_PER_MM3 * thick * (2 if split_plates(train, plate.mount) else 1)
     wheels = np.array(_wheels_moment(train, plate, pitch, areas)[0])
 
-    def total(extra=None):
+    def total(extra=None):  # the outline as drawn, traced with every corner found
         poly = _star_outline(arms + ([extra] if extra else []))
         return poly, rho_t * polygon_moment(poly)[1] + wheels
 
@@ -346,13 +352,21 @@ def carrier_arm(train: Train, plate: Plate, pitch: dict[str, float],
     if math.hypot(*rest) < BALANCE_NOTE_GMM / 100:
         return Arm(poly, None, 0.0, float(math.hypot(*rest)))
     far = max(math.hypot(*a[1]) for a in arms) or 4 * w
+    # while solving, the arms without the counterweight are traced once; a trial counterweight
+    # only lifts the outline where it reaches further, in the same directions (its corners
+    # with the other arms fall between two of them), so each trial costs one arm's exits
+    t = _star_angles([_cone_pieces(*a) for a in arms])
+    u = np.column_stack([np.cos(t), np.sin(t)])
+    r_arms = np.hypot(poly[:, 0], poly[:, 1])
+    bias = np.zeros(2)  # what the quick outline misses of the drawn one, at the last solution
 
     def weight(phi, size):  # size > 1: the round end's radius over w; else the arm's reach
         r, d = (size * w, far) if size >= 1 else (w, far * size)
         return (w, (d * math.cos(phi), d * math.sin(phi)), r), r, d
 
     def miss(phi, size):
-        return total(weight(phi, size)[0])[1]
+        r = np.maximum(r_arms, _star_exit(t, [_cone_pieces(*weight(phi, size)[0])])[0])
+        return rho_t * polygon_moment(u * r[:, None])[1] + wheels + bias
 
     phi = math.atan2(-rest[1], -rest[0])
     lo, hi = 0.05, 1.0  # the size along the heavy side's opposite: bisection first
@@ -370,19 +384,24 @@ def carrier_arm(train: Train, plate: Plate, pitch: dict[str, float],
         mid = (lo + hi) / 2
         lo, hi = (mid, hi) if miss(phi, mid) @ along < 0 else (lo, mid)
     size = (lo + hi) / 2
-    for _ in range(8):  # Newton on direction and size: the arms' overlap at the hub
-        m = miss(phi, size)
-        if math.hypot(*m) < 1e-6:
+    for _ in range(4):  # the drawn outline checks the quick one's answer, which is corrected
+        for _ in range(8):  # Newton on direction and size: the arms' overlap at the hub
+            m = miss(phi, size)
+            if math.hypot(*m) < 1e-7:
+                break
+            h = 1e-6
+            jac = np.column_stack([(miss(phi + h, size) - m) / h,
+                                   (miss(phi, size + h) - m) / h])
+            try:
+                dphi, dsize = np.linalg.solve(jac, -m)
+            except np.linalg.LinAlgError:
+                break
+            phi, size = phi + dphi, max(size + dsize, 0.05)
+        extra, r, d = weight(phi, size)
+        poly, left = total(extra)
+        if math.hypot(*left) < 1e-6:
             break
-        h = 1e-6
-        jac = np.column_stack([(miss(phi + h, size) - m) / h, (miss(phi, size + h) - m) / h])
-        try:
-            dphi, dsize = np.linalg.solve(jac, -m)
-        except np.linalg.LinAlgError:
-            break
-        phi, size = phi + dphi, max(size + dsize, 0.05)
-    extra, r, d = weight(phi, size)
-    poly, left = total(extra)
+        bias = bias + left - miss(phi, size)
     return Arm(poly, (d * math.cos(phi), d * math.sin(phi)), r, float(math.hypot(*left)))
 
 
