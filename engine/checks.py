@@ -1037,7 +1037,7 @@ def _carrier_balance(train: Train, kin: Kinematics, forms: dict,
         return
     from .drawing import wheel_areas  # drawing imports plate, which imports this module
     from .errors import WheelworkError
-    from .plate import balance_text, carrier_balance, place_plates
+    from .plate import balance_text, carrier_arm, carrier_balance, counterweight_sweep, place_plates
 
     reach = {w: (t.tip_radius_mm if t.role != "ring" else t.root_radius_mm)
              for w, t in forms.items()}
@@ -1055,6 +1055,15 @@ def _carrier_balance(train: Train, kin: Kinematics, forms: dict,
             message, fix = balance_text(b)
             findings.append(Finding("note", f"[arbors.{b.carrier}]",
                                     f"{_file_name(train)}: {message}", fix))
+        if b is not None and train.workshop.carrier_plate_mm is not None:
+            try:  # the arms --carrier-outline arm would cut, with the thickness given
+                arm = carrier_arm(train, plate, pitch, areas)
+            except WheelworkError:
+                continue
+            if sweep := counterweight_sweep(train, plates, plate, arm, {**pitch, **reach}):
+                findings.append(Finding("warning", f"[arbors.{b.carrier}]",
+                                        f"{_file_name(train)}: with --carrier-outline arm, "
+                                        + sweep[0], sweep[1]))
 
 
 def _tooth_forms(train: Train, findings: list[Finding]) -> dict:

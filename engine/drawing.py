@@ -38,6 +38,7 @@ from .plate import (
     Plate,
     balance_text,
     carrier_balance,
+    counterweight_sweep,
     on_plate,
     outline,
     place_plates,
@@ -659,7 +660,7 @@ def _inside(poly: np.ndarray, x: float, y: float, inset: float = 0.0) -> bool:
 def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                reach: dict[str, float] | None = None, carrier_outline: str = "box",
                areas: dict[str, tuple[float, bool]] | None = None,
-               side: str | None = None) -> Part:
+               side: str | None = None, plates: list[Plate] | None = None) -> Part:
     """The plate: a pivot hole per axis, centre marks, lines of centres, pitch circles. Its
     outline (:func:`engine.plate.outline`) is a rounded rectangle covering every hole by
     ``PLATE_MARGIN_MM`` and the wheels over it (their ``reach``, the tip radius, else the pitch
@@ -669,7 +670,9 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
     (``"front"`` or ``"back"``: the mount's plates differ, :func:`engine.checks.split_plates`),
     that plate alone: an axis whose pivot on that side sits in a cock or bridge
     (``pivots_in``) gets no hole, only its centre marked and named as the cock's; the
-    placement's and the balance's notes go with the front plate."""
+    placement's and the balance's notes go with the front plate. ``plates``, all the train's,
+    let a carrier cut as arms say what its counterweight sweeps over
+    (:func:`engine.plate.counterweight_sweep`)."""
     pivot = train.workshop.pivot_mm
     # a hole is as wide as the widest pivot of the arbors it holds in this plate (an arbor's
     # own pivot_mm, else [workshop]'s)
@@ -761,6 +764,9 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         if balance is not None and balance.worth_saying:
             message, fix = balance_text(balance)
             part.notes.append(f"{message}: {fix}")
+        if shape == "arm" and (sweep := counterweight_sweep(train, plates or [plate], plate,
+                                                            dims, over)):
+            part.notes.append(f"{sweep[0]}: {sweep[1]}")
     else:
         part.notes.append(f"placed and outlined as the front plate of {what}; the notes on "
                           "the holes' places are with that plate")
@@ -970,11 +976,12 @@ def cut_parts(train: Train, kin: Kinematics, form: str | None = None,
             for side in PLATE_SIDES:
                 stem = _unique(f"plate-{slug(p.name)}-{side}", used)
                 parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline, areas,
-                                        side))
+                                        side, plates))
             continue
         stem = _unique(f"plate-{slug(p.name)}", used)
         if p.holes:
-            parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline, areas))
+            parts.append(plate_part(train, p, pitch, stem, reach, carrier_outline, areas,
+                                    plates=plates))
         else:  # every hole withheld: nothing measured to drill
             what = "the frame" if p.mount == FRAME else f"carrier '{p.mount}'"
             notes.append(withheld_note(p.withheld, what))

@@ -405,6 +405,66 @@ def carrier_arm(train: Train, plate: Plate, pitch: dict[str, float],
     return Arm(poly, (d * math.cos(phi), d * math.sin(phi)), r, float(math.hypot(*left)))
 
 
+def counterweight_sweep(train: Train, plates: list[Plate], plate: Plate, arm: Arm,
+                        reach: dict[str, float]) -> tuple[str, str] | None:
+    """What the counterweight of a carrier cut as arms newly passes over as it turns, in plan:
+    on the plate of the mount that carries the carrier, the other arbors' pivots and the tip
+    circles of their wheels that the ring its round end sweeps reaches and the arms' own
+    sweep (a disc round the axis out to the farthest arm's end) does not. What the arms pass
+    over already stands out of the plate's plane, or the arms would strike it too; wheels on
+    the carrier's own axis stand beside the plate, whose hub holds that axis. The file gives
+    no planes, so each part found could share the counterweight's; None when none is found.
+    The message and the fix, one line each (``wheelwork check`` and the plate's note)."""
+    if arm.weight_at is None:
+        return None
+    d, r = math.hypot(*arm.weight_at), arm.weight_r_mm
+    outer = d + r
+    arms = max((math.hypot(h.x_mm, h.y_mm) for h in plate.holes.values()), default=0.0) \
+        + ARM_HALF_WIDTH_MM
+    mount = train.arbors[plate.mount].mount
+    parent = next((p for p in plates if p.mount == mount), None)
+    home = None if parent is None else next(
+        (h for h in parent.holes.values() if plate.mount in h.arbors), None)
+    if home is None or outer <= arms:
+        return None
+    from .checks import hole_mm  # plate imports checks at its top; this keeps it plain
+
+    hit, room = [], math.inf
+    for h in parent.holes.values():
+        if h is home:
+            continue
+        far = math.hypot(h.x_mm - home.x_mm, h.y_mm - home.y_mm)
+        near = [(far - hole_mm(train, h.arbors)[0] / 2, f"the pivot of {h.axis}")]
+        near += [(far - reach[w], f"wheel '{w}' on {h.axis}") for w in on_plate(train, parent, h)
+                 if w in reach]
+        for edge, what in near:
+            if arms <= edge < outer + CLEARANCE_MM:
+                hit.append(f"{what} (its nearest {places(edge, 2)} mm from the axis)")
+                room = min(room, edge - CLEARANCE_MM)
+    if not hit:
+        return None
+    message = (f"carrier '{plate.mount}' cut as arms: its counterweight's round end "
+               f"({places(2 * r, 2)} mm across, centred {places(d, 2)} mm out) sweeps out to "
+               f"{places(outer, 2)} mm round the carrier's axis as it turns, past its arms' "
+               f"{places(arms, 2)} mm, over {'; '.join(hit)}: the file gives no planes, so "
+               "where one shares the counterweight's plane they strike")
+    # the same moment nearer in (area times distance kept: r² d the same) that clears them
+    best = (r * math.sqrt(d) / 2) ** (2 / 3)  # where d' + r sqrt(d / d') is least
+    lo, hi = max(best, ARM_HALF_WIDTH_MM), d
+    inward = ""
+    if lo < hi and lo + r * math.sqrt(d / lo) <= room:
+        for _ in range(60):
+            mid = (lo + hi) / 2
+            lo, hi = (mid, hi) if mid + r * math.sqrt(d / mid) <= room else (lo, mid)
+        inward = (f", bring the counterweight in (a round end about "
+                  f"{places(2 * r * math.sqrt(d / lo), 2)} mm across centred about "
+                  f"{places(lo, 2)} mm out ends within {places(room, 2)} mm; weigh it again)")
+    fix = ("keep each out of the counterweight's plane" + inward + ", or cut the carrier "
+           "thicker ([workshop] carrier_plate_mm: a smaller round end) or as a disc "
+           "(--carrier-outline disc)")
+    return message, fix
+
+
 @dataclass(frozen=True)
 class Balance:
     """How far a carrier's plate and the wheels it carries are out of balance about its axis,

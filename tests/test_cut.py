@@ -1206,6 +1206,78 @@ def test_an_arm_needs_the_plate_thickness_and_a_balanced_one_no_counterweight(tm
     assert any("balance about its axis without a counterweight" in n for n in plate["notes"])
 
 
+@pytest.mark.parametrize("post_x, fires", [(42.0, True), (50.0, False), (33.0, False)])
+def test_a_counterweight_sweeping_past_its_arms_over_a_pivot_is_said(tmp_path, capsys, post_x,
+                                                                    fires):
+    # a frame arbor beside the carrier (a fixed post): its pivot (1 mm, [workshop] pivot_mm's default) is in
+    # the counterweight's sweep when its near edge, post_x - 0.5 mm from the carrier's axis,
+    # lies within the round end's far edge (its centre's distance plus its radius, from --json)
+    # and outside the arms' own sweep (the planet's hole 30 mm out, plus its 6 mm round end):
+    # 42 mm is in that ring, 50 mm beyond it, 33 mm within the arms' sweep already
+    text = (ARM_TRAIN.replace("AT", "[30, 0]").replace(
+        "[arbors.sun]", f"[arbors.post]\nwheels = {{}}\nfixed = true\nat_mm = [{post_x}, 0]\n"
+        "[arbors.sun]")
+        .replace('[arbors.arm]\n', '[arbors.arm]\nat_mm = [0, 0]\n')
+        + "[workshop]\ncarrier_plate_mm = 1.5\n")
+    code, out = _cut_arm(tmp_path, capsys, text, "post")
+    assert code == 0, out.err
+    plate = {p["name"]: p for p in json.loads(out.out)["parts"]}["plate-arm"]
+    cw = plate["counterweight"]
+    reach = math.hypot(cw["x_mm"], cw["y_mm"]) + cw["radius_mm"]
+    assert (36.0 <= post_x - 0.5 < reach + 0.5) == fires
+    said = [n for n in plate["notes"] if "sweeps out to" in n]
+    assert bool(said) == fires
+    path = tmp_path / "post.toml"
+    assert main(["check", str(path), "--json"]) == 0
+    found = [f for f in json.loads(capsys.readouterr().out)["findings"]
+             if "sweeps out to" in f["message"]]
+    assert bool(found) == fires
+    if fires:
+        assert "the pivot of post (its nearest 41.50 mm from the axis)" in said[0]
+        assert found[0]["level"] == "warning" and found[0]["item"] == "[arbors.arm]"
+        assert "--carrier-outline arm" in found[0]["message"]
+        assert "keep each out of the counterweight's plane" in found[0]["fix"]
+
+
+@pytest.mark.parametrize("demo", ["planet_dial", "table_orrery", "tide_office"])
+def test_the_demos_counterweights_sweep_only_what_they_reach(tmp_path, capsys, demo):
+    # each demo carrier cut as arms at 1.5 mm: measured here from the cut's --json (the plates'
+    # holes and pivots, the counterweight), a pivot of the carrier's mount lying past the arms'
+    # ends and within the round end's far edge must be said, and a carrier none of whose
+    # mount's pivots or wheels is said must have none there. The planet dial's frame is not
+    # drawn (meshes without a module), so nothing is measured from it; the table orrery's
+    # counterweight reaches nothing its arms do not; the tide office's perigee counterweight
+    # (39 mm across, 24 mm out) reaches the day arbor's pivot
+    text = (HERE.parent / "engine" / "trains" / f"{demo}.toml").read_text()
+    assert "[workshop]" not in text
+    code, out = _cut_arm(tmp_path, capsys, text + "\n[workshop]\ncarrier_plate_mm = 1.5\n",
+                         demo)
+    assert code == 0, out.err
+    parts = json.loads(out.out)["parts"]
+    train = load_train(tmp_path / f"{demo}.toml")
+    swept = {}
+    for p in parts:
+        if p.get("outline") != "arm" or p["counterweight"] is None:
+            continue
+        cw, mount = p["counterweight"], train.arbors[p["mount"]].mount
+        arms = max(math.hypot(h["x_mm"], h["y_mm"]) for h in p["holes"]) + 6.0
+        far_edge = math.hypot(cw["x_mm"], cw["y_mm"]) + cw["radius_mm"] + 0.5
+        said = any("sweeps out to" in n for n in p["notes"])
+        parent = [q for q in parts if q["kind"] == "plate" and q["mount"] == mount]
+        if not parent:
+            swept[p["mount"]] = False
+            assert not said
+            continue
+        (home,) = [h for h in parent[0]["holes"] if p["mount"] in h["arbors"]]
+        edges = [math.hypot(h["x_mm"] - home["x_mm"], h["y_mm"] - home["y_mm"])
+                 - h["pivot_mm"] / 2 for h in parent[0]["holes"] if h is not home]
+        swept[p["mount"]] = any(arms <= e < far_edge for e in edges)
+        if swept[p["mount"]]:
+            assert said
+        assert said == (demo == "tide_office")
+    assert swept and any(swept.values()) == (demo == "tide_office")
+
+
 def test_dxf_text_takes_the_room_the_layout_gave_it(tmp_path):
     # a DXF text's height is its capitals', an SVG font size its em: the layout measures an
     # em (0.62 of it a character), so the DXF writes 0.7 of it, the capitals of a plain
