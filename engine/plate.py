@@ -288,17 +288,13 @@ def _star_angles(pieces: list) -> np.ndarray:
     and the corners where one arm's edge meets another's, found by bisection."""
     theta = np.linspace(0.0, 2 * np.pi, ARM_STEPS, endpoint=False)
     _, who = _star_exit(theta, pieces)
-    corners = []
-    for i in np.nonzero(who != np.roll(who, -1))[0]:
-        lo, hi = theta[i], theta[i] + 2 * np.pi / ARM_STEPS
-        for _ in range(40):
-            mid = (lo + hi) / 2
-            if _star_exit(np.array([mid]), pieces)[1][0] == who[i]:
-                lo = mid
-            else:
-                hi = mid
-        corners.append((lo + hi) / 2)
-    return np.sort(np.concatenate([theta, np.mod(corners, 2 * np.pi)]))
+    at = np.nonzero(who != np.roll(who, -1))[0]  # every corner bisected together
+    lo, hi, side = theta[at], theta[at] + 2 * np.pi / ARM_STEPS, who[at]
+    for _ in range(40):
+        mid = (lo + hi) / 2
+        same = _star_exit(mid, pieces)[1] == side
+        lo, hi = np.where(same, mid, lo), np.where(same, hi, mid)
+    return np.sort(np.concatenate([theta, np.mod((lo + hi) / 2, 2 * np.pi)]))
 
 
 def _star_outline(arms: list[tuple[float, tuple[float, float], float]]) -> np.ndarray:
