@@ -90,7 +90,8 @@ _KEYS = {
     "train": {"name", "about", "dial"},
     "crank": {"arbor", "days_per_turn"},
     "epoch": {"date", "set", "calendar", "ephemeris"},
-    "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "pivot_mm", "pivots_in", "note"},
+    "arbor": {"wheels", "on", "fixed", "at_mm", "axis_with", "pivot_mm", "pivots_in", "plates",
+              "note"},
     "mesh": {"wheels", "ring", "module_mm", "face_mm", "note"},
     "pin_slot": {"pin", "slot", "pin_radius_mm", "offset_mm", "offset_deg", "pin_deg",
                  "pin_diameter_mm", "arm_mm", "arm_deg", "note"},
@@ -634,9 +635,17 @@ def _read_arbors(r: _Reader, doc: dict):
         if pivot is not None:
             pivot = r.number(pivot, f"{item} pivot_mm", positive=True)
         pivots_in = r.choice(tbl.get("pivots_in", "both"), f"{item} pivots_in", PIVOTS_IN)
+        plates = tbl.get("plates")
+        if plates is not None and (isinstance(plates, bool) or plates not in (1, 2)):
+            raise r.fail(f"{item} plates", "should be 1 (the carrier's one plate or arm) or 2 "
+                         f"(a cage of a front and a back plate), got {_show(plates)}")
         arbors[aname] = Arbor(aname, tuple(names), mount, fixed, at, axis_with, pivot,
-                              pivots_in)
+                              pivots_in, plates)
     for a in arbors.values():
+        if a.plates is not None and not any(b.mount == a.name for b in arbors.values()):
+            raise r.fail(f"[arbors.{a.name}] plates", "is for a carrier, and no arbor is on "
+                         f"'{a.name}': give plates on the carrier arbor that others are on, "
+                         "or leave it out")
         if a.mount != FRAME and a.mount not in arbors:
             raise r.fail(f"[arbors.{a.name}] on", f"{unknown_name('arbor', a.mount, arbors)} "
                          f"(use \"{FRAME}\" or the name of a carrier arbor)")

@@ -337,7 +337,7 @@ def carrier_arm(train: Train, plate: Plate, pitch: dict[str, float],
             if math.hypot(h.x_mm, h.y_mm) > EXACT_MM]
     if not arms:
         arms = [(w, (0.0, 0.0), w)]
-    rho_t = BRASS_G_PER_MM3 * thick * (2 if split_plates(train, plate.mount) else 1)
+    rho_t = BRASS_G_PER_MM3 * thick * carrier_plates(train, plate.mount)
     wheels = np.array(_wheels_moment(train, plate, pitch, areas)[0])
 
     def total(extra=None):  # the outline as drawn, traced with every corner found
@@ -489,6 +489,7 @@ class Balance:
     wheels_vec: tuple[float, float] = (0.0, 0.0)
     plates: int = 1  # 2: a front and a back plate alike (an arbor's pivots_in parts them)
     arm: Arm | None = None  # the arm outline and its counterweight (shape "arm")
+    plates_given: bool = False  # the carrier's [arbors.NAME] plates says how many it has
 
     @property
     def plate_gmm(self) -> float | None:
@@ -516,6 +517,26 @@ class Balance:
 LEFT_OUT = ("arbors, collets, pins and screws, the teeth beyond the pitch circles and the "
             "plate's own holes are left out")
 """What the balance estimate does not weigh, said with it."""
+
+
+def carrier_plates(train: Train, mount: str) -> int:
+    """How many plates a carrier is weighed as: its ``[arbors.NAME] plates`` (1, or 2 for a
+    cage of a front and a back plate, the two alike in outline), else two where its arbors'
+    ``pivots_in`` part them into a front and a back (:func:`engine.checks.split_plates`), else
+    one."""
+    given = train.arbors[mount].plates
+    if given is not None:
+        return given
+    return 2 if split_plates(train, mount) else 1
+
+
+def cage_hint(b: Balance) -> str | None:
+    """The words for a carrier weighed as one plate because the file does not say how many it
+    has: a cage of two would weigh twice the plate's figure."""
+    if b.plates_given or b.plates > 1:
+        return None
+    return (f"weighed as one plate (a cage of a front and a back plate alike would be twice "
+            f"the plate's figure: say so with plates = 2 in [arbors.{b.carrier}])")
 
 
 def _wheels_moment(train: Train, plate: Plate, pitch: dict[str, float],
@@ -573,11 +594,12 @@ def carrier_balance(train: Train, plate: Plate, reach: dict[str, float],
         area = size[0] * size[1]
     offset = math.hypot(*centre)
     (ux, uy), far, uncounted, crossed = _wheels_moment(train, plate, pitch, area_mm2)
-    count = 2 if split_plates(train, plate.mount) else 1
+    count = carrier_plates(train, plate.mount)
     per_mm = BRASS_G_PER_MM3 * area * count
     return Balance(plate.mount, kind, size, offset, per_mm * offset, math.hypot(ux, uy), far,
                    tuple(uncounted), train.workshop.carrier_plate_mm, tuple(crossed),
-                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy), count, arm)
+                   (per_mm * centre[0], per_mm * centre[1]), (ux, uy), count, arm,
+                   train.arbors[plate.mount].plates is not None)
 
 
 def balance_text(b: Balance) -> tuple[str, str]:
@@ -615,6 +637,8 @@ def balance_text(b: Balance) -> tuple[str, str]:
     if thick is not None and b.plate_gmm >= BALANCE_NOTE_GMM and \
             b.wheels_gmm >= BALANCE_NOTE_GMM / 100:
         parts.append(f"together about {figure(b.total_gmm, 3)} g·mm")
+    if (hint := cage_hint(b)) and b.plate_gmm_per_mm >= BALANCE_NOTE_GMM:
+        parts.append(hint)
     if b.uncounted:
         parts.append(f"{', '.join(b.uncounted)} not counted (no module)")
     parts.append(LEFT_OUT)
@@ -661,6 +685,10 @@ def _arm_text(b: Balance) -> tuple[str, str]:
     parts.append("left out of balance " + (f"about {places(arm.residual_gmm, 2)} g·mm"
                                            if arm.residual_gmm >= 0.005 else
                                            "by less than 0.01 g·mm"))
+    if cage_hint(b):
+        parts.append(f"its arms weighed as one plate (a cage of a front and a back plate alike "
+                     f"asks another counterweight: say so with plates = 2 in "
+                     f"[arbors.{b.carrier}])")
     if b.uncounted:
         parts.append(f"{', '.join(b.uncounted)} not counted (no module)")
     parts.append(LEFT_OUT)

@@ -48,6 +48,7 @@ class Arbor:
     axis_with: str | None = None
     pivot_mm: float | None = None  # its own pivots' diameter, where the file gives one
     pivots_in: str = "both"  # PIVOTS_IN: the plates its pivots sit in
+    plates: int | None = None  # a carrier's own plates, 1 or 2 (a cage), where the file says
 
     def pivoted_in(self, side: str) -> bool:
         """Whether its pivot on ``side`` (``"front"`` or ``"back"``) sits in its mount's plate

@@ -131,6 +131,8 @@ def _texts() -> list[tuple[str, str | bytes]]:
     add("arbor pivot_mm word", _sub("[arbors.b]\n", '[arbors.b]\npivot_mm = "thin"\n'))
     add("arbor pivots_in a word", _sub("[arbors.b]\n", '[arbors.b]\npivots_in = "top"\n'))
     add("arbor pivots_in a list", _sub("[arbors.b]\n", '[arbors.b]\npivots_in = ["front"]\n'))
+    add("arbor plates three", _sub("[arbors.b]\n", "[arbors.b]\nplates = 3\n"))
+    add("plates on no carrier", _sub("[arbors.b]\n", "[arbors.b]\nplates = 2\n"))
     add("axis_with itself", _sub("[arbors.b]\n", '[arbors.b]\naxis_with = "b"\n'))
     add("axis_with unknown", _sub("[arbors.b]\n", '[arbors.b]\naxis_with = "zz"\n'))
     add("axis_with a number", _sub("[arbors.b]\n", "[arbors.b]\naxis_with = 2\n"))

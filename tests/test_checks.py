@@ -1036,6 +1036,27 @@ def test_a_carrier_plate_of_known_thickness_is_weighed_whole():
     assert "[workshop] carrier_plate_mm" in _balance_note(ARM).message
 
 
+def test_a_carrier_cage_of_two_plates_is_weighed_as_two():
+    """[arbors.CARRIER] plates = 2 says the carrier is a cage of a front and a back plate
+    alike: the plate's figure is twice the one plate's (the same outline, twice the metal:
+    mass is density times volume), the wheels' unchanged, and plate and wheels added as
+    vectors again. Without the key the note says it weighed one plate and names the key."""
+    x1 = 30 + 10.805 + 2
+    area, centre = (x1 + 6) * 2 * 12.805, (x1 - 6) / 2
+    plate = 8.47e-3 * area * centre * 1.5
+    wheel = 8.47e-3 * math.pi * 10 ** 2 * 3 * 30
+    thick = "[workshop]\ncarrier_plate_mm = 1.5\n"
+    one = _balance_note(ARM + thick)
+    assert "weighed as one plate" in one.message and "plates = 2 in [arbors.arm]" in one.message
+    cage = _balance_note(ARM.replace("[arbors.arm]\n", "[arbors.arm]\nplates = 2\n", 1) + thick)
+    assert "its front and back plates" in cage.message and "weighed as one" not in cage.message
+    assert f"about {round(2 * plate)} g·mm" in cage.message
+    assert f"together about {round(2 * plate + wheel)} g·mm" in cage.message
+    # said to be one plate: weighed as one, and no hint
+    said = _balance_note(ARM.replace("[arbors.arm]\n", "[arbors.arm]\nplates = 1\n", 1) + thick)
+    assert f"about {round(plate)} g·mm" in said.message and "weighed as one" not in said.message
+
+
 def test_a_crossed_out_carried_wheel_is_weighed_without_its_windows():
     """A 60-tooth planet at module 1, 50 mm out, crossed out five ways: weighed as its pitch
     disc less the windows drawn in it. By hand, the windows are about the ring between hub

@@ -1141,8 +1141,9 @@ def _cut_arm(tmp_path, capsys, text, name):
     return code, out
 
 
-@pytest.mark.parametrize("deg", [0.0, 45.0, 113.5])
-def test_a_carrier_cut_as_an_arm_is_balanced_by_its_counterweight(tmp_path, capsys, deg):
+@pytest.mark.parametrize("deg, plates", [(0.0, 1), (45.0, 1), (113.5, 1), (45.0, 2)])
+def test_a_carrier_cut_as_an_arm_is_balanced_by_its_counterweight(tmp_path, capsys, deg,
+                                                                   plates):
     # --carrier-outline arm: arms from the carrier's axis to its holes and a counterweight arm
     # opposite, sized so that plate and planet balance. Checked against the drawn outline
     # with matplotlib's point-in-polygon on a 0.05 mm grid (an outside library, area and
@@ -1152,6 +1153,8 @@ def test_a_carrier_cut_as_an_arm_is_balanced_by_its_counterweight(tmp_path, caps
 
     at = (30 * math.cos(math.radians(deg)), 30 * math.sin(math.radians(deg)))  # the mesh's 30 mm
     text = ARM_TRAIN.replace("AT", f"[{at[0]!r}, {at[1]!r}]")
+    if plates == 2:  # a cage: both plates cut alike, so the counterweight is sized for two
+        text = text.replace("[arbors.arm]\n", "[arbors.arm]\nplates = 2\n", 1)
     code, out = _cut_arm(tmp_path, capsys, text + "[workshop]\ncarrier_plate_mm = 1.5\n",
                          "arm")
     assert code == 0, out.err
@@ -1170,7 +1173,7 @@ def test_a_carrier_cut_as_an_arm_is_balanced_by_its_counterweight(tmp_path, caps
     pts = np.column_stack([gx.ravel(), gy.ravel()])
     inside = MplPath(poly).contains_points(pts)
     cells = pts[inside]
-    plate_gmm = 8.47e-3 * 1.5 * step ** 2 * cells.sum(axis=0)
+    plate_gmm = 8.47e-3 * 1.5 * plates * step ** 2 * cells.sum(axis=0)
     grams = 8.47e-3 * math.pi * 10 ** 2 * 3
     total = plate_gmm + grams * np.array(at)
     assert math.hypot(*total) < 0.5  # of some 240 g·mm the planet puts out
@@ -1183,6 +1186,8 @@ def test_a_carrier_cut_as_an_arm_is_balanced_by_its_counterweight(tmp_path, caps
     assert MplPath(poly).contains_points(ring).all()
     (note,) = [n for n in plate["notes"] if "cut as arms" in n]
     assert "counterweight arm opposite" in note and "design estimate" in note
+    assert ("thick, front and back" in note) == (plates == 2)
+    assert ("its arms weighed as one plate" in note) == (plates == 1)
     assert plate["residual_gmm"] < 0.01
 
 

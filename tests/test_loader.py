@@ -687,6 +687,21 @@ def test_a_file_not_in_utf8_says_what_it_is_and_what_to_do(tmp_path, raw, words)
         assert str(caught.value).startswith(f"{path}: {words}"), str(caught.value)
 
 
+def test_a_carriers_plates_are_read_and_checked():
+    # [arbors.NAME] plates: 1 or 2 (a cage), on a carrier only (docs/train-format.md)
+    carrier = GOOD.replace("[arbors.b]\n", "[arbors.b]\nplates = 2\n", 1) + (
+        '[arbors.c]\nwheels = {}\non = "b"\n')
+    assert parse_train(carrier, "t.toml").arbors["b"].plates == 2
+    assert parse_train(GOOD, "t.toml").arbors["b"].plates is None
+    for bad in ("3", "0", "true", '"two"', "1.5"):
+        assert error_of(carrier.replace("plates = 2", f"plates = {bad}")).startswith(
+            "bad.toml: [arbors.b] plates: should be 1 (the carrier's one plate or arm) or 2 "
+            "(a cage of a front and a back plate), got ")
+    assert error_of(GOOD.replace("[arbors.b]\n", "[arbors.b]\nplates = 2\n", 1)) == (
+        "bad.toml: [arbors.b] plates: is for a carrier, and no arbor is on 'b': give plates "
+        "on the carrier arbor that others are on, or leave it out")
+
+
 def test_workshop_carrier_plate_thickness_is_read_and_checked():
     # [workshop] carrier_plate_mm: a carrier plate's thickness, for its balance (docs/workshop.md)
     assert parse_train(GOOD, "t.toml").workshop.carrier_plate_mm is None
