@@ -657,6 +657,60 @@ def _inside(poly: np.ndarray, x: float, y: float, inset: float = 0.0) -> bool:
     return bool(gap.min() >= inset)
 
 
+COCK_REACH_MM = 12.0
+"""A cock drawn on a plate runs this far from its pivot to the centre of its foot's screw (the
+tool's own proportions, no source: shape the cock to your design)."""
+COCK_RIM_MM = 2.5
+"""Metal round a cock's pivot hole, beyond the hole's radius (the tool's own)."""
+COCK_FOOT_MM = 4.0
+"""The radius of a cock's round foot, round its one screw (the tool's own)."""
+COCK_SCREW_MM = 2.0
+"""The cock's screw, M2: its centre and its size marked on the plate, to be tapped there (the
+tool's own choice)."""
+COCK_DIRECTIONS = 24
+
+
+def _two_circle_hull(c0: np.ndarray, r0: float, c1: np.ndarray, r1: float) -> np.ndarray:
+    """The outline of the hull of two circles (plane geometry: an arc of each joined by their
+    outer tangents), anticlockwise."""
+    e = c1 - c0
+    length = float(np.hypot(*e))
+    phi = math.atan2(e[1], e[0])
+    alpha = math.acos(max(-1.0, min(1.0, (r0 - r1) / length)))
+    back = np.linspace(phi + alpha, phi + 2 * np.pi - alpha, 48)
+    front = np.linspace(phi - alpha, phi + alpha, 24)
+    return np.vstack([_arc(*c0, r0, back), _arc(*c1, r1, front)])
+
+
+def cock_outline(pivot: tuple[float, float], hole_mm: float, others: list[tuple[float, float,
+                 float]], fits) -> tuple[np.ndarray, tuple[float, float]]:
+    """A cock as a bar from its pivot (a round end :data:`COCK_RIM_MM` beyond the hole) to a
+    round foot :data:`COCK_REACH_MM` away with one screw: of :data:`COCK_DIRECTIONS` ways,
+    the one whose bar beyond the pivot's end stays farthest from the other holes (``others``:
+    x, y, radius) with its foot on the plate (``fits``, the plate's test for a box). Its
+    outline and the screw's centre."""
+    px, py = pivot
+    r0 = hole_mm / 2 + COCK_RIM_MM
+    best = None
+    for k in range(COCK_DIRECTIONS):
+        t = 2 * np.pi * k / COCK_DIRECTIONS
+        u = np.array([math.cos(t), math.sin(t)])
+        foot = np.array([px, py]) + COCK_REACH_MM * u
+        room = math.inf
+        for ox, oy, orad in others:
+            rel = np.array([ox - px, oy - py])
+            s = min(max(float(rel @ u), r0), COCK_REACH_MM)  # the bar beyond the pivot's end
+            room = min(room, float(np.hypot(*(rel - s * u))) - orad - COCK_FOOT_MM)
+        on = fits(foot[0] - COCK_FOOT_MM, foot[1] - COCK_FOOT_MM, 2 * COCK_FOOT_MM,
+                  2 * COCK_FOOT_MM)
+        score = (on, room)
+        if best is None or score > best[0]:
+            best = (score, foot)
+    foot = best[1]
+    return _two_circle_hull(np.array([px, py]), r0, foot, COCK_FOOT_MM), (float(foot[0]),
+                                                                         float(foot[1]))
+
+
 def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
                reach: dict[str, float] | None = None, carrier_outline: str = "box",
                areas: dict[str, tuple[float, bool]] | None = None,
@@ -720,6 +774,12 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
             return (x0 + LABEL_INSET_MM <= tx and tx + w <= x1 - LABEL_INSET_MM
                     and y0 + LABEL_INSET_MM <= ty and ty + h <= y1 - LABEL_INSET_MM)
     keyed: list[tuple[str, str]] = []  # (key, hole name) for names too long for the plate
+    feet = {}
+    for h in cocks:  # each cock drawn as a bar to a screwed foot (MARK: it stands on the plate)
+        others = [(o.x_mm, o.y_mm, size[o.axis] / 2) for o in plate.holes.values() if o is not h]
+        bar, feet[h.axis] = cock_outline((h.x_mm, h.y_mm), size[h.axis], others, fits)
+        part.polylines.append(("MARK", bar))
+        part.circles.append(("MARK", *feet[h.axis], COCK_SCREW_MM / 2))
     for h in plate.holes.values():
         cock = not drilled[h.axis]
         # a cock's pivot: its centre marked (MARK), no hole through this plate
@@ -751,7 +811,9 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
         "holes": [{"axis": h.axis, "arbors": list(h.arbors), "x_mm": h.x_mm, "y_mm": h.y_mm,
                    "fixed": h.fixed, "pivot_mm": size[h.axis]} for h in holes],
         "cocks": [{"axis": h.axis, "arbors": in_cocks(train, h.arbors, plate.mount, side),
-                   "x_mm": h.x_mm, "y_mm": h.y_mm, "pivot_mm": size[h.axis]} for h in cocks],
+                   "x_mm": h.x_mm, "y_mm": h.y_mm, "pivot_mm": size[h.axis],
+                   "screw": {"x_mm": feet[h.axis][0], "y_mm": feet[h.axis][1],
+                             "size_mm": COCK_SCREW_MM}} for h in cocks],
         "distances": [{"item": t.label, "axes": [plate.holes[t.axis1].axis,
                                                  plate.holes[t.axis2].axis],
                        "needed_mm": t.distance_mm, "drawn_mm": plate.distance_mm(t)}
@@ -777,7 +839,10 @@ def plate_part(train: Train, plate: Plate, pitch: dict[str, float], stem: str,
             f" {side} pivot{'s' if len(cocks) > 1 else ''} (pivots_in), at the marked "
             f"centre{'s' if len(cocks) > 1 else ''} "
             + ", ".join(f"({figure(h.x_mm, 6)}, {figure(h.y_mm, 6)}) mm" for h in cocks)
-            + "; the cock's shape and its screws are the maker's to draw")
+            + f"; each cock is drawn on the MARK layer as a bar {figure(COCK_REACH_MM, 3)} mm "
+            f"from its pivot to a round foot with one M{figure(COCK_SCREW_MM, 3)} screw, its "
+            "centre marked to tap (the tool's own proportions: shape the cock, its height "
+            "and its screws to your design)")
     part.info["outline"] = shape
     if shape == "arm":
         part.info["counterweight"] = (None if dims.weight_at is None else

@@ -788,6 +788,30 @@ def test_an_arbor_pivoted_in_a_cock_has_no_hole_in_that_plate(tmp_path, capsys):
         assert any(math.dist((c.dxf.center.x, c.dxf.center.y),
                              (cock["x_mm"], cock["y_mm"])) < UM for c in marks)
         assert f"cock: {cocked}" in (out / f"{part['name']}.svg").read_text()
+        # the cock drawn (MARK) as a bar from its pivot to a foot with an M2 screw 12 mm away
+        # (the tool's own proportions): checked with matplotlib's point-in-polygon, its outline
+        # holds 2.5 mm of metal round the pivot hole and 4 mm round the screw, the foot stands
+        # on the plate (inside its CUT outline) and clear of the drilled hole
+        from matplotlib.path import Path as MplPath
+
+        screw = (cock["screw"]["x_mm"], cock["screw"]["y_mm"])
+        assert cock["screw"]["size_mm"] == 2.0
+        assert math.dist(screw, (cock["x_mm"], cock["y_mm"])) == pytest.approx(12.0)
+        assert any(math.dist((c.dxf.center.x, c.dxf.center.y), screw) < UM
+                   and c.dxf.radius == pytest.approx(1.0) for c in marks)
+        (bar,) = [np.array([(x, y) for x, y, *_ in e.get_points()])
+                  for e in doc.modelspace().query("LWPOLYLINE")
+                  if e.dxf.layer == "MARK" and e.closed]
+        rim = cock["pivot_mm"] / 2 + 2.45
+        ring = [(cock["x_mm"] + rim * math.cos(a), cock["y_mm"] + rim * math.sin(a))
+                for a in np.linspace(0, 6.28, 40)]
+        foot = [(screw[0] + 3.95 * math.cos(a), screw[1] + 3.95 * math.sin(a))
+                for a in np.linspace(0, 6.28, 40)]
+        assert MplPath(bar).contains_points(ring).all()
+        assert MplPath(bar).contains_points(foot).all()
+        assert MplPath(_outline(doc)).contains_points(foot).all()
+        (hole,) = [h for h in part["holes"] if h["axis"] == drilled]
+        assert math.dist(screw, (hole["x_mm"], hole["y_mm"])) > 4.0 + hole["pivot_mm"] / 2
     # the pin and slot 0.985 mm apart (the demo's offset_mm), one above the other
     assert math.dist((front["cocks"][0]["x_mm"], front["cocks"][0]["y_mm"]),
                      (back["cocks"][0]["x_mm"], back["cocks"][0]["y_mm"])) == pytest.approx(0.985)
