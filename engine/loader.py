@@ -22,7 +22,14 @@ import unicodedata
 from fractions import Fraction
 from pathlib import Path
 
-from .errors import DateError, TrainError, decimal_comma, did_you_mean, unknown_name
+from .errors import (
+    DateError,
+    TrainError,
+    decimal_comma,
+    did_you_mean,
+    unit_slip,
+    unknown_name,
+)
 from .exact import parse_fraction
 from .figures import figure
 from .kinds import DIAL_FRAMES, KINDS, kind_key
@@ -73,6 +80,8 @@ DAYS_PER_TURN_BOUNDS = (f"1/{MIN_DAYS_PER_TURN.denominator} ({MAX_CRANK_TURNS_PE
                         f"turns a second, {MAX_CRANK_TURNS_PER_SECOND * 60:,} rpm) and "
                         f"{int(MAX_DAYS_PER_TURN):,} days")
 MAX_MM = 1_000_000.0             # a kilometre: lengths and positions
+# the unit a number key's name ends in (bore_mm, tilt_deg), as engine.errors.UNIT_WORDS names it
+_KEY_UNITS = {"mm": "mm", "deg": "degrees", "days": "days", "years": "years"}
 MAX_CROSSINGS = 64               # crossings (spokes) of one wheel
 MAX_DEG = 1_000_000.0            # angles (any number of whole turns, then reduced)
 
@@ -179,7 +188,11 @@ class _Reader:
     def number(self, value: object, item: str, *, positive=False, nonneg=False,
                limit: float = MAX_MM) -> float:
         if isinstance(value, bool) or not isinstance(value, int | float):
-            raise self.fail(item, f"should be a number, got {_show(value)}")
+            # a key named for its unit (bore_mm, tilt_deg) written with it: "0.02mm" says to
+            # write 0.02, as the options do (engine.errors.unit_slip)
+            unit = _KEY_UNITS.get(item.rsplit("_", 1)[-1], "") if "_" in item else ""
+            raise self.fail(item, f"should be a number, got {_show(value)}"
+                            f"{unit_slip(value, unit)}")
         # the bounds as this value has them: a length that must be positive is never offered
         # a negative bound
         bounds = (f"above 0 and at most {figure(limit, 7)}" if positive else

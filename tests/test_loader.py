@@ -713,3 +713,24 @@ def test_workshop_carrier_plate_thickness_is_read_and_checked():
         GOOD + "[workshop]\ncarrier_plate_mm = 500\n")
     assert "[workshop] carrier_plate_mm: should be a number" in error_of(
         GOOD + '[workshop]\ncarrier_plate_mm = "1.5mm"\n')
+
+
+@pytest.mark.parametrize("key, text, words", [
+    ("eccentricity_mm", '"0.02mm"', "got '0.02mm'; the value is in mm already: write 0.02"),
+    ("bore_mm", '"3 mm"', "got '3 mm'; the value is in mm already: write 3"),
+    ("tilt_deg", '"0.5°"', "got '0.5°'; the value is in degrees already: write 0.5"),
+    # another unit is not this one: '2cm' is no 2 mm, so no number is offered
+    ("backlash_mm", '"2cm"', "should be a number, got '2cm'"),
+])
+def test_a_workshop_number_written_with_its_unit_is_answered_with_the_number(key, text, words):
+    # the keys' own unit, as the matching options answer it (engine.errors.unit_slip)
+    message = error_of(GOOD + f"[workshop]\n{key} = {text}\n")
+    assert message.startswith(f"bad.toml: [workshop] {key}: should be a number"), message
+    assert message.endswith(words), message
+
+
+def test_a_per_wheel_workshop_number_with_its_unit_is_answered_too():
+    wheel = re.search(r"wheels = \{ *(\w+)", GOOD).group(1)
+    message = error_of(GOOD + f'[workshop.wheels.{wheel}]\neccentricity_mm = "0.05 mm"\n')
+    assert message == (f"bad.toml: [workshop.wheels.{wheel}] eccentricity_mm: should be a "
+                       "number, got '0.05 mm'; the value is in mm already: write 0.05"), message
