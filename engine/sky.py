@@ -140,8 +140,14 @@ def longer_hint(years_now: float, wanted: tuple[float, float] | None = None) -> 
         return (f"for {_these(wanted) if wanted else 'a longer span'} use {', '.join(ways)}, "
                 "or --ephemeris FILE with any JPL SPK file")
     if wanted is not None:
-        return (f"no ephemeris wheelwork installs reaches {_these(wanted)}: give --ephemeris "
-                "FILE with a JPL SPK file you have downloaded that covers "
+        # the installed long-span ones that were looked at too, with their spans, so the
+        # message names every ephemeris that falls short, not only the one in use
+        also = [f"JPL {name.upper()}, installed too, covers {span}" for name, _, package,
+                span, years, _, _ in LONG_SPANS if abs(years - years_now) > 0.01 * years
+                and importlib.util.find_spec(package) is not None]
+        return ("no ephemeris wheelwork installs reaches " + _these(wanted)
+                + (f" ({'; '.join(also)})" if also else "")
+                + ": give --ephemeris FILE with a JPL SPK file you have downloaded that covers "
                 + ("it" if wanted[0] == wanted[1] else "them"))
     return ("for a longer span give --ephemeris FILE with a long-span JPL SPK file you "
             "have downloaded")

