@@ -1080,3 +1080,32 @@ def test_a_swing_a_pin_and_slot_takes_out_is_not_put_on_trial(sky):
     plain = summarise(res.jd, res.error_deg["sun"], shows="sun")  # as a uniform hand's
     assert plain.drift_terms_set_aside == ("equation of centre (anomalistic year)",)
     assert plain.drift_uncertain
+
+
+def test_a_csv_written_says_the_solar_caution_on_stderr(tmp_path, capsys):
+    """A CSV has no place for the caution (a comment line breaks CSV readers): writing one
+    puts it on stderr, which reaches the terminal when stdout is a file or is --json; a
+    report shown on the terminal carries it already, and is not told it twice."""
+    import io
+
+    from rich.console import Console
+
+    from engine.commands.support import SUN_CAUTION, caution_for_file
+
+    out = tmp_path / "d.csv"
+    assert main(["drift", DISC, "--years", "0.1", "--csv", str(out), "--json"]) == 0
+    err = " ".join(capsys.readouterr().err.split())  # wrapped at the console's width
+    assert f"{out} compares with the real sky" in err and SUN_CAUTION in err
+    assert SUN_CAUTION not in out.read_text()  # the CSV itself: rows and a header alone
+    assert main(["drift", DISC, "--years", "0.1"]) == 0  # no CSV: stdout alone carries it
+    assert SUN_CAUTION not in capsys.readouterr().err
+
+    def said(terminal: bool, json: bool) -> str:
+        shown = io.StringIO()
+        caution_for_file(out, SUN_CAUTION, Console(file=io.StringIO(), force_terminal=terminal),
+                         Console(file=shown, width=400), json=json)
+        return shown.getvalue()
+
+    assert said(terminal=True, json=False) == ""
+    assert SUN_CAUTION in said(terminal=True, json=True)
+    assert SUN_CAUTION in said(terminal=False, json=False)

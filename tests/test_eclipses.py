@@ -514,3 +514,16 @@ def test_resetting_the_ring_to_the_sky_keeps_its_month(sky):
     assert E.syzygy_months(reset, "months", syz, new).tolist() == before.tolist() == [4]
     moved = E.cycle_position(reset, "months", jd) - E.cycle_position(mech, "months", jd)
     assert abs(float(moved[0])) < 0.5  # months: the shorter way round
+
+
+def test_an_eclipse_csv_says_the_caution_on_stderr(tmp_path, capsys):
+    # the CSV lists real solar eclipses but has no place for the caution: stderr carries it
+    from engine.cli import main
+    from engine.commands.eclipses import ECLIPSE_CAUTION
+
+    out = tmp_path / "e.csv"
+    assert main(["eclipses", f"{TRAINS}/cycle_dial.toml", "--years", "2", "--csv", str(out),
+                 "--json"]) == 0
+    err = capsys.readouterr().err
+    assert str(out) in err and ECLIPSE_CAUTION in " ".join(err.split())
+    assert "solar filter" not in out.read_text()

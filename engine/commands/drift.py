@@ -461,7 +461,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
             ctrl_c.quiet()
             err.print(STOPPED, markup=False)
             return 130
-    return _report(args, console, err, *done)
+    code = _report(args, console, err, *done)
+    if done[6]:  # the CSV holds the true sky beside the train: say the caution it cannot
+        support.caution_for_file(done[6], SUN_CAUTION, console, err, json=args.json)
+    return code
 
 
 def _compute(args, err: Console, ctrl_c: support.CtrlC):

@@ -194,7 +194,10 @@ def run(args: argparse.Namespace, console: Console) -> int:
             ctrl_c.quiet()
             err.print(STOPPED, markup=False)
             return 130
-    return _report(args, console, err, *done)
+    code = _report(args, console, err, *done)
+    if done[3]:  # the CSV lists real solar eclipses: say the caution it cannot hold
+        support.caution_for_file(done[3], ECLIPSE_CAUTION, console, err, json=args.json)
+    return code
 
 
 def _compute(args, err: Console, ctrl_c: support.CtrlC):

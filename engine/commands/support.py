@@ -18,7 +18,8 @@ A command module (``engine/commands/NAME.py``) provides ``add_arguments(parser)`
   console or its squeezed cells would stack their words line under line, up to three narrower
   tables of its columns, each repeating the columns that name a row, or else the same rows as
   a list; numbers are never cut.
-- :data:`SUN_CAUTION`: the one solar caution.
+- :data:`SUN_CAUTION`: the one solar caution; :func:`caution_for_file` says it on stderr
+  for a file that compares with the real sky but has no room for it (a CSV).
 """
 
 from __future__ import annotations
@@ -39,6 +40,16 @@ from ..errors import OutputError, ParserExit, UsageError, WheelworkError, neares
 from ..figures import figure, fixed, line_up  # noqa: F401 - the commands' ways to write a number
 
 SUN_CAUTION = "Never look at the Sun, even briefly, without a proper solar filter."
+
+
+def caution_for_file(path, caution: str, console, err, *, json: bool) -> None:
+    """After writing ``path``, a file that compares a train with the real sky but cannot carry
+    ``caution`` itself (a comment line would break CSV readers): the caution on stderr, where
+    the terminal shows it, unless the report on stdout already shows it there (text, not
+    --json, to a terminal)."""
+    if json or not console.is_terminal:
+        err.print(f"wheelwork: note: {path} compares with the real sky and has no room for a "
+                  f"caution: {caution}", markup=False, highlight=False, soft_wrap=False)
 
 # The one meaning of "ppm" in every command's text and JSON (key ``period_error_ppm``).
 PPM_MEANING = ("period ppm (period_error_ppm in --json): (realised period / target period - 1) "
