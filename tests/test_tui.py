@@ -1997,3 +1997,70 @@ async def test_jupiter_and_saturn_drifts_say_which_mean_they_are_against():
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
         assert "*" not in text_of(app.screen.query_one(Readings))
+
+
+TIDE_RING = """
+[train]
+name = "Tide ring"
+[epoch]
+date = "2026-01-01 00:00"
+set = "sky"
+[crank]
+arbor = "twelve_hour"
+days_per_turn = 0.5
+[arbors.twelve_hour]
+wheels = { pin = 1 }
+[arbors.moon_disc]
+wheels = { disc = 118, tide_driver = 60 }
+[arbors.tide]
+wheels = { tide_pinion = 15 }
+[[meshes]]
+wheels = ["pin", "disc"]
+[[meshes]]
+wheels = ["tide_driver", "tide_pinion"]
+[pointers.moon_phase]
+shows = "phase"
+arbor = "moon_disc"
+per_turn = 2
+reversed = true
+[pointers.high_water]
+shows = "phase"
+arbor = "moon_disc"
+per_turn = "1/2"
+"""
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 50)])
+@sync
+async def test_a_figure_too_wide_for_its_row_stays_with_its_pointer(size, tmp_path):
+    """The tide ring of docs/train-format.md with its high-water hand on the disc's arbor
+    drifts -556,699 °/cy; 3,000 turns on, its err° and max° are +176.04 and 176.04 and the
+    drift no longer fits beside them at 80 x 24: it wrapped to column 0, where it read as a
+    row of another pointer. It goes on a line led by the column's name, ending where the
+    column ends; nothing is cut, and at 160 x 50 the row keeps it."""
+    path = tmp_path / "tide_ring.toml"
+    path.write_text(TIDE_RING)
+    app = make_app(path)
+    async with app.run_test(size=size) as pilot:
+        await pilot.press(*["right_square_bracket"] * 3)
+        await pilot.pause()
+        readings = app.screen.query_one(Readings)
+        width = readings.size.width
+        drift_value = app.session.now().pointers["high_water"].drift_deg_per_century
+        assert round(drift_value) == -556_699  # the figure the user saw
+        lines = text_of(readings).splitlines()
+        assert all(len(line) <= width for line in lines), lines  # no line wraps on its own
+        row = next(i for i, line in enumerate(lines) if line.startswith("high_wa"))
+        head = lines[0]
+        assert "+176.04" in lines[row].split() and "176.04" in lines[row].split()
+        if size == (80, 24):
+            carried = lines[row + 1]
+            assert carried.startswith("  ↳ °/cy"), lines  # Readings.CARRIED and the column
+            assert carried.split()[-1] == "-556,699", lines
+            # right edge under the header's °/cy: the column the figure belongs to
+            assert len(carried) == head.index("°/cy") + len("°/cy"), lines
+            assert "-556,699" not in lines[row]
+        else:
+            assert "-556,699" in lines[row].split() and len(lines) == 3, lines
+        # no line but the header and the pointers' rows begins at column 0 with a figure
+        assert not any(line[:1] in "+-0123456789" for line in lines if line), lines

@@ -1086,18 +1086,18 @@ class Readings(RowStatic):
         for p in now.pointers.values():
             t.append("\n")
             t.append(f"{names[p.name]:<{name_w}}")
-            cell(self.angle_text(p.train_deg, decimals), w[1])
-            cell(self.angle_text(p.sky_deg, decimals), w[2])
             err = p.error_deg if abs(p.error_deg) >= 0.005 else 0.0  # no "-0.00"
-            cell(fixed(err, 2, sign=True), w[3], _err_style(err, colours))
-            cell(fixed(p.worst_deg, 2), w[4], _err_style(p.worst_deg, colours))
-            cell("" if p.drift_deg_per_century is None
-                 else next(drifts), w[5])
+            cells = [(self.angle_text(p.train_deg, decimals), ""),
+                     (self.angle_text(p.sky_deg, decimals), ""),
+                     (fixed(err, 2, sign=True), _err_style(err, colours)),
+                     (fixed(p.worst_deg, 2), _err_style(p.worst_deg, colours)),
+                     ("" if p.drift_deg_per_century is None else next(drifts), "")]
             if days_col:
                 days = p.error_days
                 if days is not None and abs(days) < 0.005:
                     days = 0.0
-                cell("" if days is None else fixed(days, 2, sign=True), w[6])
+                cells.append(("" if days is None else fixed(days, 2, sign=True), ""))
+            self._row(t, cells, cols, name_w, colours)
         # a cycle dial's err° is taken within the month: the whole months it stands from
         # the real count (the engine's figure) said under the table, when there are any
         for p in now.pointers.values():
@@ -1129,6 +1129,38 @@ class Readings(RowStatic):
         self._laid_out = bool(self.size.width)
 
     _lines = 0
+
+    #: starts a line that carries on a pointer's row: a figure that did not fit beside the
+    #: rest, under its column's name (a wide drift once wrapped to column 0, where it read
+    #: as a row of another pointer)
+    CARRIED = "  ↳ "
+
+    def _row(self, t: Text, cells, cols, name_w: int, colours: dict[str, str]) -> None:
+        """Append one pointer's figures after its name: each in its column (a wider one
+        pushes the rest right, after a space); a figure that would run past the panel's edge
+        goes on a line of its own under the row, led by :data:`CARRIED` and its column's
+        name and ending where its column ends, while the row's other figures keep their
+        places. Nothing is cut: a carried line too long for the panel wraps."""
+        panel = self.size.width
+        pos, kept, carried = name_w, 0, []
+        column_end = name_w  # where the column ends under its header
+        for (text, style), (title, width) in zip(cells, cols[1:], strict=True):
+            column_end += width
+            size = 1 + max(width - 1, len(text))
+            if panel and text and pos + size > panel:
+                carried.append((title, text, style, column_end))
+                kept += width  # its place kept, so the figures after it stay in line
+                pos += width
+                continue
+            t.append(" " * kept)
+            t.append(" " + text.rjust(width - 1), style=style)
+            kept, pos = 0, pos + size
+        for title, text, style, end in carried:
+            label = f"{self.CARRIED}{title}"
+            end = min(end, panel)
+            t.append("\n")
+            t.append(label, style=colours["muted"])
+            t.append(" " + text.rjust(max(end - len(label) - 1, len(text))), style=style)
 
 
 def _fit(width: int, indent: int, *choices: tuple[str, ...]) -> tuple[str, ...]:
