@@ -36,6 +36,8 @@ COMMANDS = {
            "drawing with each arbor's hole, and one sheet with everything",
     "play": "what workshop tolerances do to each pointer: dead play, once-per-turn errors of "
             "eccentric wheels, a Monte Carlo of hand-made trains beside the effect modelled",
+    "guide": "the guides that come with wheelwork (the train file's format, each command's "
+             "page): listed, or one printed",
 }
 ENTRY_POINTS = "wheelwork.commands"
 DEFAULT_COMMAND = "crank"  # what a bare ``wheelwork`` runs (the interface, on the demo train)
@@ -80,7 +82,8 @@ def _top_parser(plugins: dict):
         f"opens the interface on the demo train {DEFAULT_DEMO} (it needs a terminal).",
         epilog=f"demo trains (give the name instead of a file): {demos}\n"
         "e.g.  wheelwork ratios tide_office\n"
-        "'wheelwork COMMAND --help' describes each command.")
+        "'wheelwork COMMAND --help' describes each command; 'wheelwork guide' lists the\n"
+        "guides (the train file's format: wheelwork guide train-format).")
     parser.add_argument("--version", action="version", version=f"wheelwork {_version()}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", title="commands")
     for name, ep in plugins.items():

@@ -496,13 +496,14 @@ def parse_train(text: str, where: str = "<train>") -> Train:
     r = _Reader(where)
     if not doc:  # an empty file, or one of comments only: say so, not "no arbors"
         from .demos import demo_path  # local import keeps the loader light to import
+        from .guides import pointer
 
         # the demos' folder as installed (inside site-packages after a plain pip install),
         # not the checkout's engine/trains/, which a newcomer may not have
         first = demo_path("moon_disc_59")
         raise TrainError(where, "", "is empty (no tables or keys, only blank lines or comments); "
                          "a train has [crank], [epoch], [arbors.NAME], [[meshes]] and "
-                         "[pointers.NAME] tables: see docs/train-format.md, or copy a demo "
+                         f"[pointers.NAME] tables: see {pointer()}, or copy a demo "
                          f"and change it (the simplest is {first}; the others are beside it)")
     unknown = sorted(set(doc) - _TOP_KEYS)
     if unknown:
