@@ -63,9 +63,20 @@ def check_readout(app) -> None:
         shown = f"{err if abs(err) >= 0.005 else 0.0:+.2f}"  # the table shows no "-0.00"
         # the row whose first word is the name: a pointer named "p" must not take the header
         # ("pointer train° sky° ..."), as it did when a key storm opened such a train
-        row = next(line for line in table.splitlines()
-                   if [w.rstrip("*") for w in line.split()[:1]] == [name])
-        assert shown in row.split()[3], name
+        lines = table.splitlines()
+        at = next(i for i, line in enumerate(lines)
+                  if [w.rstrip("*") for w in line.split()[:1]] == [name])
+        # figures past the panel's edge are carried to lines under the row, each led by
+        # Readings.CARRIED and its column's name (a panel left 12 wide by the key storm)
+        carried = {}
+        for line in lines[at + 1:]:
+            if not line.startswith(Readings.CARRIED):
+                break
+            title, value = line[len(Readings.CARRIED):].rsplit(None, 1)
+            carried[title.strip()] = value
+        kept = lines[at].split()[1:]
+        err_text = carried.get("err°") or kept[sum(t not in carried for t in ("train°", "sky°"))]
+        assert shown in err_text, name
 
 
 async def open_chart(pilot, app) -> None:
