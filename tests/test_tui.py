@@ -663,8 +663,8 @@ async def test_resizing_never_crashes():
         assert not train.display  # the train drawing collapses first at 80x24
         assert not phase.display
         await pilot.resize_terminal(160, 50)
-        await pilot.pause()
-        assert train.display and phase.display
+        await wait_for(pilot, lambda: train.display and phase.display,
+                       "the train drawing and phase back at 160×50")
 
 
 @sync
@@ -1857,12 +1857,15 @@ async def test_footer_fits_at_every_width_and_shows_eclipse_keys_on_an_eclipse_t
     async with app.run_test(size=(80, 24)) as pilot:
         for width in widths:
             await pilot.resize_terminal(width, 24)
-            await pilot.pause()
+            want = {b.action for b in BenchScreen.BINDINGS if table.get(b.action, 0) <= width}
+            # the footer is laid out again after the resize: wait for its keys, not a pause
+            await wait_for(pilot, lambda want=want, width=width: app.screen.size.width == width
+                           and set(_footer_keys(app)) - {"palette"} == want,
+                           f"the footer's keys for {width} columns")
             keys = _footer_keys(app)
             edge = keys.pop("palette")[0] if "palette" in keys else width
             for action, (_, right) in keys.items():
                 assert right <= edge, (demo, width, action)
-            want = {b.action for b in BenchScreen.BINDINGS if table.get(b.action, 0) <= width}
             assert want == set(keys), (demo, width)
             if width == 80:
                 assert {"eclipse(1)", "eclipse(-1)", "predicted"} <= set(keys) or not eclipses

@@ -560,9 +560,17 @@ async def test_the_status_panel_keeps_every_line_when_the_window_shrinks():
     async with app.run_test(size=(100, 30)) as pilot:
         await pilot.pause()
         await pilot.resize_terminal(80, 24)
-        for _ in range(4):
-            await pilot.pause()
         status = app.screen.query_one(Status)
+
+        def in_column() -> bool:
+            side = app.screen.query_one("#side").region
+            return all(p.region.bottom <= side.bottom for p in app.screen.query("#side > *")
+                       if p.display)
+
+        # the side column is fitted after the resize's layout: wait for it, not for pauses
+        await wait_for(pilot, lambda: status.size.height == 8 and in_column()
+                       and len(text_of(status).rstrip("\n").splitlines()) == 8,
+                       "the status panel at eight rows and every pane in the column")
         lines = text_of(status).rstrip("\n").splitlines()
         assert len(lines) == 8 and lines[-1].startswith("observer"), lines
         assert status.size.height == 8

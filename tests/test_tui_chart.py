@@ -84,8 +84,7 @@ async def test_a_resize_chooses_the_scale_again_without_computing_again():
         note = screen.query_one("#drift-scale")
         assert "off the chart: moon, phase" in text_of(note)
         await pilot.resize_terminal(160, 60)
-        for _ in range(4):
-            await pilot.pause()
+        await wait_for(pilot, lambda: not note.display, "the chart drawn again at 160×60")
         assert screen.result is result  # drawn again, not computed again
         assert not note.display
         rows = threshold_rows(screen)

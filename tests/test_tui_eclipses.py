@@ -7,7 +7,7 @@ import pytest
 
 from engine.dates import parse_date
 from engine.eclipses import EclipseWatch
-from tests.tui_support import sync, text_of
+from tests.tui_support import sync, text_of, wait_for
 from tui.app import make_app
 from tui.screens import BenchScreen, long_help
 from tui.widgets import EclipseInfo
@@ -219,8 +219,8 @@ async def test_at_80x24_the_bc_year_is_in_the_panel_and_how_far_off_in_its_title
         assert "(150 BC)" in text_of(panel).splitlines()[0]
         assert str(panel.border_title) == "eclipses · full moon 4.6 d ago"
         await pilot.resize_terminal(120, 30)
-        for _ in range(3):
-            await pilot.pause()
+        await wait_for(pilot, lambda: str(panel.border_title) == "eclipses",
+                       "the panel's title back to 'eclipses' at 120×30")
         assert "(150 BC) · 4.6 d ago" in text_of(panel).splitlines()[0]
         assert str(panel.border_title) == "eclipses"
 

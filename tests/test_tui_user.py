@@ -6,7 +6,7 @@ import pytest
 from textual.widgets import Footer, Input
 
 from engine.demos import demo_path
-from tests.tui_support import sync
+from tests.tui_support import sync, wait_for
 from tui.app import make_app
 from tui.screens import BenchScreen
 
@@ -354,13 +354,13 @@ async def test_a_terminal_made_too_small_after_a_change_of_train_still_says_so(t
                 await pilot.press(key)
                 await pilot.pause()
             await pilot.resize_terminal(70, 20)
-            await pilot.pause()
             message = app.screen.query_one(TooSmall)
-            assert message.display and message.region.height > 1
+            await wait_for(pilot, lambda message=message: message.display
+                           and message.region.height > 1, "the too-small message at 70×20")
             assert "70×20" in str(message.render())
             await pilot.resize_terminal(80, 24)
-            await pilot.pause()
-            assert not message.display
+            await wait_for(pilot, lambda message=message: not message.display,
+                           "the message gone at 80×24")
 
 
 @sync
