@@ -135,22 +135,56 @@ def error(x: float, places: int | None = None) -> str:
     return _text(x, error_places([x]) if places is None else places)
 
 
-def error_with_sigma(x: float, sigma: float | None) -> tuple[str, str | None]:
-    """A drift (°/cy) or period error measured with its standard error ``sigma``, as
-    ``(value, sigma)`` texts: the σ to two significant figures and the value to the same
-    decimals (``-0.224``, ``0.079``), the decimals bounded as :func:`error_places` bounds a
-    column's — at most four unless that would write the σ as zero, when its first significant
-    figure is kept (``0.00003``) — and a value of 1,000 or more whole (``+1,235``, its σ still
-    to two figures). Without a σ (none, zero or not a number) the value alone by
-    :func:`error`, and None for the σ."""
-    if x is None or not math.isfinite(x):
-        return "—", None
+def sigma_places(sigma: float | None) -> int | None:
+    """The decimals of a figure measured with the standard error ``sigma``: the σ's to two
+    significant figures (``0.079``: three), bounded as :func:`error_places` bounds a column's
+    — at most four unless that would write the σ as zero, when its first significant figure is
+    kept (``0.00003``: five) — and none for a σ of ten or more; None without a σ (none, zero
+    or not a number). A figure written to more decimals than this shows digits its σ does
+    not know."""
     if sigma is None or not math.isfinite(sigma) or sigma <= 0:
-        return error(x), None
+        return None
     places = min(ERROR_PLACES[1], max(0, 1 - math.floor(math.log10(sigma))))
     while places < MOST_PLACES and sigma < 0.5 * 10.0 ** -places:
         places += 1  # it would read 0.0000: its first significant figure
-    return _text(x, places), fixed(sigma, places)
+    return places
+
+
+def error_with_sigma(x: float, sigma: float | None,
+                     sign: bool = True) -> tuple[str, str | None]:
+    """A drift (°/cy) or period error measured with its standard error ``sigma``, as
+    ``(value, sigma)`` texts: the σ to two significant figures and the value to the same
+    decimals (:func:`sigma_places`: ``-0.224``, ``0.079``), and a value of 1,000 or more
+    whole (``+1,235``, its σ still to two figures). Without a σ (none, zero or not a number)
+    the value alone by :func:`error`, and None for the σ. ``sign=False``: no ``+`` before a
+    positive value, for a figure that is never negative (a spread)."""
+    if x is None or not math.isfinite(x):
+        return "—", None
+    places = sigma_places(sigma)
+    if places is None:
+        text = error(x)
+        return (text if sign else text.lstrip("+")), None
+    whole = _whole(x, places)
+    return fixed(x, 0 if whole else places, sign=sign), fixed(sigma, places)
+
+
+def error_sigma_column(xs, sigmas) -> tuple[list[str], list[str | None]]:
+    """A column of drifts (or period errors) each measured with its standard error, as
+    :func:`error_with_sigma` writes each row — a value to its own σ's decimals, so none shows
+    digits its σ does not know (-0.4312 beside 0.61 said more than it knew) — padded so that
+    set flush right their points line up (:func:`line_up`), and each row's σ text (None
+    without one). A row without a σ has its value to the decimals :func:`error_places` gives
+    those rows together."""
+    xs, sigmas = list(xs), list(sigmas)
+    lone = error_places([x for x, s in zip(xs, sigmas, strict=True)
+                         if sigma_places(s) is None])
+    values, pms = [], []
+    for x, s in zip(xs, sigmas, strict=True):
+        value, pm = error_with_sigma(x, s)
+        values.append(value if pm is not None or x is None or not math.isfinite(x)
+                      else error(x, lone))
+        pms.append(pm)
+    return line_up(values), pms
 
 
 def error_column(xs, places: int | None = None, width: int | None = None) -> list[str]:

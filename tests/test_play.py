@@ -475,3 +475,30 @@ def test_play_writes_its_drifts_as_ratios_does(capsys, tmp_path):
                 for line, d in zip(rows, played.values(), strict=True)}
         assert len(ends) == 1, rows
     assert played["sun"] == "-268.662", played  # the slipped Sun: three decimals a column
+
+
+def test_play_writes_each_sigma_to_the_decimals_of_its_own_error(capsys):
+    """The σ column's running error and its Monte Carlo standard error by the one rule for
+    a figure beside its σ (engine.figures.error_with_sigma): the σ's error to two figures and
+    the σ to the same decimals; play wrote '0.3±0.004', the σ to three figures and its
+    error to one by rules of their own (common practice, no source: a value carries no
+    digits below its uncertainty's second, and drops none it knows)."""
+    import re
+
+    from engine.figures import error_with_sigma
+
+    args = ["play", "tide_office", "--years", "2", "--builds", "10", "--samples", "8"]
+    assert main([*args, "--json"]) == 0
+    pointers = json.loads(capsys.readouterr().out)["pointers"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    cells = re.findall(r" ([\d.,]+)±([\d.,]+) ", out)
+    assert len(cells) == sum(p["mc_std_sigma_deg"] > 0 for p in pointers) > 2, out
+    for value, pm in cells:
+        assert len(value.partition(".")[2]) == len(pm.partition(".")[2]), (value, pm)
+        # two significant figures, trailing zero kept (0.0030; none under 0.0001 here)
+        assert len(pm.replace(".", "").lstrip("0")) == 2, pm
+    for p in pointers:
+        if p["mc_std_sigma_deg"] > 0:
+            assert "{}±{}".format(*error_with_sigma(p["mc_std_deg"], p["mc_std_sigma_deg"],
+                                                    sign=False)) in out

@@ -495,6 +495,38 @@ def test_a_drift_with_its_standard_error_is_written_to_the_sigmas_decimals():
         assert error_with_sigma(-0.2241, sigma) == (error(-0.2241), None) == ("-0.22", None)
     assert _with_sigma(-0.2241, 0.0791) == "-0.224° ± 0.079°"
     assert _with_sigma(-0.2241, float("nan")) == "-0.22°"  # was -0.2241°, four decimals
+    # a spread (never negative) without its +
+    assert error_with_sigma(0.30037, 0.0042, sign=False) == ("0.3004", "0.0042")
+
+
+def _decimals(text: str) -> int:
+    text = text.strip()
+    return len(text) - text.index(".") - 1 if "." in text else 0
+
+
+def test_a_column_of_drifts_with_their_sigmas_shows_no_digit_below_a_rows_sigma():
+    """A column of trends each with its σ (the drift chart's table): each trend to its own
+    σ's decimals, not one number of decimals for the column — the column's rule wrote a
+    trend of σ 0.61 to four decimals beside one of σ 0.0018 — and still lined up on the
+    point; a row without a σ by the one rule for those rows (common practice, no source: a
+    value carries no digits below its uncertainty's second)."""
+    from engine.figures import error_column, error_sigma_column, error_with_sigma, sigma_places
+
+    assert [sigma_places(s) for s in (0.0791, 0.61, 8.2, 28.37, 114, 0.00003)] == \
+        [3, 2, 1, 0, 0, 5]
+    assert [sigma_places(s) for s in (None, 0.0, -1.0, float("nan"))] == [None] * 4
+    xs = [-0.00012, -0.43127, 105.46, 0.5, float("nan")]
+    sigmas = [0.0018, 0.61, 114.0, None, 0.1]
+    values, pms = error_sigma_column(xs, sigmas)
+    assert error_column(xs)[1].strip() == "-0.4313"  # the column's rule: four decimals
+    assert values == ["-0.0001", "-0.43  ", "+105     ", "+0.50  ", "—     "]
+    assert pms == ["0.0018", "0.61", "114", None, None]
+    for x, s, v, pm in zip(xs, sigmas, values, pms, strict=True):
+        if pm is not None:
+            assert (v.strip(), pm) == error_with_sigma(x, s)
+            assert _decimals(v) <= _decimals(pm), (v, pm)
+    # set flush right, the points line up: each as far from the right edge
+    assert len({len(v) - (v.index(".") if "." in v else len(v.rstrip())) for v in values}) == 1
 
 
 def test_lined_up_figures_keep_their_padding_as_table_cells():

@@ -159,7 +159,7 @@ async def test_the_chart_s_trend_comes_with_its_standard_error():
     `wheelwork drift` gives with ± 100 or so and calls uncertain. Each row now has its ±
     beside the trend and a ? where the drift is uncertain, which the help explains (common
     practice, no source: a figure says how well it is known)."""
-    from engine.figures import figure
+    from engine.figures import error_with_sigma, figure
 
     app = make_app(demo_path("table_orrery"))
     async with app.run_test(size=(160, 50)) as pilot:
@@ -169,6 +169,12 @@ async def test_the_chart_s_trend_comes_with_its_standard_error():
         for name, sm in sums.items():
             row = next(line for line in table.splitlines() if f"━━ {name} " in line)
             assert f" {DriftScreen.trend_sigma_text(sm)} " in f"{row} ", row
+            # the trend to its σ's decimals, none below (it had the column's four beside a
+            # σ of 0.61; common practice, no source: no digits below a value's uncertainty)
+            trend, pm = error_with_sigma(sm.drift_deg_per_century,
+                                         sm.drift_sigma_deg_per_century)
+            assert f" {trend} " in f"{row} " and pm is not None, row
+            assert len(trend.partition(".")[2]) == len(pm.partition(".")[2]), row
         saturn = sums["saturn"]
         assert saturn.drift_uncertain and saturn.drift_sigma_deg_per_century > 10
         assert DriftScreen.trend_sigma_text(saturn) == \

@@ -44,7 +44,13 @@ from engine.dates import (
     parse_when,
 )
 from engine.errors import WheelworkError
-from engine.figures import error_column, figure, fixed, table_cells
+from engine.figures import (
+    error_sigma_column,
+    error_with_sigma,
+    figure,
+    fixed,
+    table_cells,
+)
 from engine.kinds import shows_text
 from engine.periods import JULIAN_YEAR_DAYS
 from engine.view import chart_scale, decimal_year, is_arm, train_layout
@@ -1378,9 +1384,11 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
             year = calendar_date(first_jd)[0]  # the chart's own first year as the example
             shown = f"-{-year:04d}" if year < 0 else f"{year:04d}"
             t.caption = f"years before AD 1 as astronomers number them: {shown} is {1 - year} BC"
-        # the trends as the readings write a column of drifts: one number of decimals
-        drifts = table_cells(error_column(sm.drift_deg_per_century
-                                          for sm in result.summaries.values()))
+        # each trend to its own σ's decimals (none shows digits its σ does not know), the
+        # column lined up on the point
+        drifts = table_cells(error_sigma_column(
+            [sm.drift_deg_per_century for sm in result.summaries.values()],
+            [sm.drift_sigma_deg_per_century for sm in result.summaries.values()])[0])
         for (name, sm), trend in zip(result.summaries.items(), drifts, strict=True):
             t.add_row(Text.assemble(("━━ ", f"bold {colour[name]}"), name),
                       fixed(sm.max_abs_deg, 2), format_day(sm.max_at_jd),
@@ -1391,14 +1399,14 @@ class DriftScreen(ClosesOnce, SizeGuard, Screen):
 
     @staticmethod
     def trend_sigma_text(sm) -> str:
-        """A trend's standard error as the chart's table writes it (``0.61``, ``82``), with
+        """A trend's standard error as the chart's table writes it (``0.61``, ``82``: to two
+        figures, and the trend to its decimals, :func:`engine.figures.error_with_sigma`), with
         `` ?`` when the drift is uncertain; a dash when there is none (a span too short for
         the fit to show anything): the trend alone claimed more than the span holds (the
         table orrery's Saturn arm read +105.46 °/cy over 7.8 years, where the CLI says ± 114
         and uncertain)."""
-        sigma = sm.drift_sigma_deg_per_century
-        text = figure(sigma, 2) if math.isfinite(sigma) and sigma > 0 else "–"
-        return text + (" ?" if sm.drift_uncertain else "")
+        _, pm = error_with_sigma(sm.drift_deg_per_century, sm.drift_sigma_deg_per_century)
+        return (pm or "–") + (" ?" if sm.drift_uncertain else "")
 
     def action_back(self) -> None:
         self._run += 1

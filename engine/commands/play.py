@@ -15,7 +15,7 @@ from ..defaults import (
     LEVER_MM,
 )
 from ..errors import TrainError, UsageError, decimal_comma, unit_slip
-from ..figures import error_column, table_cells
+from ..figures import error_column, error_with_sigma, table_cells
 from ..periods import JULIAN_YEAR_DAYS
 from ..train import TOOTH_FORMS
 from . import support
@@ -150,6 +150,15 @@ def _deg(x: float | None) -> str:
     return support.figure(x, 3)
 
 
+def _spread(x: float, sigma: float | None) -> str:
+    """The Monte Carlo σ with its own standard error (``0.3004±0.0042``), by the one rule for
+    a figure beside its σ: it showed digits its σ did not know, or fewer than it did, by a
+    rule of its own (``0.3±0.004``); alone where its σ is zero (``0``, a pointer without
+    play)."""
+    value, pm = error_with_sigma(x, sigma, sign=False)
+    return _deg(x) if pm is None else f"{value}±{pm}"
+
+
 def _days(d: float | None) -> str:
     if d is None:
         return "never (still in its mesh)"
@@ -192,7 +201,7 @@ def _print(report: PlayReport, console: Console) -> None:
     drifts = table_cells(error_column(p.drift_deg_per_century for p in report.pointers))
     for p, drift in zip(report.pointers, drifts, strict=True):
         table.add_row(escape(p.pointer), _deg(p.dead_play_deg),
-                      f"{_deg(p.mc_std_deg)}±{support.figure(p.mc_std_sigma_deg, 1)}", _deg(p.mc_p95_deg),
+                      _spread(p.mc_std_deg, p.mc_std_sigma_deg), _deg(p.mc_p95_deg),
                       _deg(p.mc_max_deg), _deg(p.rss_deg),
                       "—" if p.inequality_deg is None else f"±{_deg(p.inequality_deg)}",
                       drift)
