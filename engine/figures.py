@@ -150,6 +150,16 @@ def sigma_places(sigma: float | None) -> int | None:
     return places
 
 
+def fixed_to_sigma(x: float, sigma: float | None, most: int) -> str:
+    """A measured value to the decimals its standard error knows (:func:`sigma_places`), at
+    most ``most`` of them (the decimals it is given to), thousands separated: ΔT of
+    ``12,817 s`` beside a σ of 328 s, where ``12,816.7`` showed a tenth of a second of a
+    figure known to five minutes; ``69.1 s`` beside 0.001 s (a tenth is all it is given to).
+    Without a σ, ``most`` decimals."""
+    places = sigma_places(sigma)
+    return fixed(x, most if places is None else min(most, places))
+
+
 def error_with_sigma(x: float, sigma: float | None,
                      sign: bool = True) -> tuple[str, str | None]:
     """A drift (°/cy) or period error measured with its standard error ``sigma``, as

@@ -1971,11 +1971,14 @@ async def test_findings_end_with_the_design_estimates_line_not_counted():
 
 def test_status_writes_delta_t_in_grouped_figures_as_the_commands_do():
     """In antiquity ΔT runs to five figures: the status line wrote 12816.7 s where
-    `wheelwork sky` writes 12,816.7 s (numbers through engine.figures)."""
+    `wheelwork sky` writes 12,816.7 s (numbers through engine.figures); and to the decimals
+    its σ knows, where it wrote a tenth of a second beside a σ of 328 s (common practice, no
+    source: a value carries no digits below its uncertainty's)."""
     from tui.widgets import Status
 
-    assert Status.delta_t_text(12816.71, 328.4) == "12,816.7 s ± 328 s"
-    assert Status.delta_t_text(172_000.0, 1860.2) == "172,000.0 s ± 1,860 s"
+    assert Status.delta_t_text(12816.71, 328.4) == "12,817 s ± 328 s"
+    assert Status.delta_t_text(172_000.0, 1860.2) == "172,000 s ± 1,860 s"
+    assert Status.delta_t_text(12816.71, 0.0) == "12,816.7 s ± 0 s"  # no σ: a tenth
     assert Status.delta_t_text(69.13, 0.00101) == "69.1 s ± 0.001 s"  # as the demo shows
     assert Status.delta_t_text(69.13, 2.04) == "69.1 s ± 2.0 s"
 

@@ -20,7 +20,7 @@ from textual_hires_canvas import Canvas, HiResMode
 from textual_plot import NumericAxisFormatter
 
 from engine.dates import AD_1_JD, calendar_date, format_jd, turn_days_text
-from engine.figures import error_column, figure, fixed
+from engine.figures import error_column, figure, fixed, fixed_to_sigma
 from engine.view import (
     TrainLayout,
     arbor_at,
@@ -1178,10 +1178,12 @@ class Status(RowStatic):
     @staticmethod
     def delta_t_text(delta_t_s: float, sigma_s: float) -> str:
         """ΔT and its standard error in plain figures, thousands separated as the commands
-        write them (``10,343.2 s ± 310 s`` in 150 BC, where ``10343.2`` was written)."""
+        write them (``10,343 s ± 310 s`` in 150 BC, where ``10343.2`` was written), ΔT to the
+        decimals its σ knows, a tenth at most (``10,343.2`` showed a tenth of a second of a
+        figure known to five minutes)."""
         pm = (fixed(sigma_s, 0) if sigma_s >= 10 else f"{sigma_s:.1f}" if sigma_s >= 1
               else figure(sigma_s, 1))
-        return f"{fixed(delta_t_s, 1)} s ± {pm} s"
+        return f"{fixed_to_sigma(delta_t_s, sigma_s, 1)} s ± {pm} s"
 
     def __init__(self, session: Session, **kwargs):
         super().__init__(**kwargs)

@@ -6,6 +6,7 @@ import argparse
 from typing import TYPE_CHECKING
 
 from ..errors import DateError, UsageError
+from ..figures import fixed_to_sigma
 from ..phases import phase_help
 from . import support
 from .support import SUN_CAUTION
@@ -99,7 +100,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
              f"{abs(site.lon_deg):.4f}°{'E' if site.lon_deg >= 0 else 'W'}, {site.height_m:g} m")
     frame_text = "fixed J2000 ecliptic (stars)" if args.stars else "true ecliptic and equinox of date"
     console.print(f"[bold]{format_jd(jd, args.calendar, seconds=True)}[/]  JD {jd:.6f} UT")
-    console.print(f"ΔT {v['delta_t_s']:,.1f} s ± {_sigma(v['delta_t_sigma_s'])} · "
+    # ΔT to the decimals its σ knows, a tenth of a second at most
+    console.print(f"ΔT {fixed_to_sigma(v['delta_t_s'], v['delta_t_sigma_s'], 1)} s ± "
+                  f"{_sigma(v['delta_t_sigma_s'])} · "
                   f"{escape(sky.name)} ({sky.span_text}) · {frame_text} · seen from {where}")
     table = support.plain_table(header_style="bold", box=box.SIMPLE_HEAD, pad_edge=False)
     for col, just in (("", "left"), ("degrees", "right"), ("", "right")):
