@@ -950,13 +950,17 @@ async def test_the_side_column_fits_and_the_warnings_show(demo):
         for size in ((100, 30), (80, 24), (100, 30), (120, 42), (160, 50), (200, 60),
                      (120, 40)):
             await pilot.resize_terminal(*size)
-            await pilot.pause()
-            await pilot.pause()
             screen = app.screen
+
+            def fitted(screen=screen, size=size) -> bool:
+                side = screen.query_one("#side").region
+                return tuple(screen.size) == size and all(
+                    p.region.bottom <= side.bottom for p in screen.query("#side > *")
+                    if p.display)
+
+            # the side column is fitted after the resize's layout: wait for it, not pauses
+            await wait_for(pilot, fitted, f"every side panel in the column at {size}")
             side = screen.query_one("#side").region
-            for pane in screen.query("#side > *"):
-                if pane.display:
-                    assert pane.region.bottom <= side.bottom, (size, pane.id, pane.region)
             findings = screen.query_one("#findings-pane")
             assert findings.display and findings.region.height >= 3, (size, findings.region)
             train = screen.query_one("#train")

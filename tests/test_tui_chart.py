@@ -216,8 +216,8 @@ async def test_x_tick_labels_are_never_cut_at_the_chart_edges():
                                                                float(years[-1]))
         for width in range(80, 161):
             await pilot.resize_terminal(width, 24)
-            await pilot.pause()
-            await pilot.pause()
+            await wait_for(pilot, lambda width=width: screen.size.width == width
+                           and x_tick_labels(screen), f"the axis drawn at {width} columns")
             drawn = x_tick_labels(screen)
             assert drawn, width
             assert set(drawn) <= set(whole), (width, drawn, whole)

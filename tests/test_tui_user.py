@@ -378,9 +378,10 @@ async def test_a_resize_while_the_chart_covers_the_bench_is_laid_out_on_return(t
         await pilot.resize_terminal(80, 24)
         await pilot.pause()
         await pilot.press("escape")
-        await pilot.pause()
-        await pilot.pause()
-        assert isinstance(app.screen, BenchScreen)
+        # the bench is laid out again on its return: wait for that, not for pauses
+        await wait_for(pilot, lambda: isinstance(app.screen, BenchScreen)
+                       and 0 < app.screen.query_one("#title").outer_size.width <= 80,
+                       "the bench back and laid out at 80 columns")
         title = app.screen.query_one("#title")
         assert title.outer_size.height == 1
         assert "ctrl+p every key" not in _title(app)
