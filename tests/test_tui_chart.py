@@ -137,19 +137,24 @@ async def test_no_band_when_no_curve_stays_near_it():
 async def test_the_chart_s_trend_is_written_as_the_readings_write_a_drift():
     """The tide office's Sun trends some 0.0008°/cy over the span: "+0.00" said nothing, and
     a train far off gave +67987.93 beside the readings' +67,988 (common practice, no
-    source: one way of writing a figure on every screen)."""
-    from engine.figures import drift, drift_places
+    source: one way of writing a figure on every screen). A trend measured with its σ is
+    written as `wheelwork drift` writes one (engine.figures.error_with_sigma: to its σ's
+    decimals, whole and grouped from 1,000)."""
+    from engine.figures import error_with_sigma
 
     app = make_app(demo_path("tide_office"))
     async with app.run_test(size=(160, 50)) as pilot:
         screen = await open_chart(pilot, app)
         table = text_of(screen.query_one("#drift-summary"))
-        places = drift_places(sm.drift_deg_per_century for sm in screen.result.summaries.values())
         for name, sm in screen.result.summaries.items():
             row = next(line for line in table.splitlines() if f"━━ {name} " in line)
-            assert f" {drift(sm.drift_deg_per_century, places)} " in row, row
-        sun = screen.result.summaries["sun"].drift_deg_per_century
-        assert abs(sun) < 0.01 and len(drift(sun)) == 7  # +0.0008: 4 decimals
+            trend, _ = error_with_sigma(sm.drift_deg_per_century,
+                                        sm.drift_sigma_deg_per_century)
+            assert f" {trend} " in row, row
+        sun = screen.result.summaries["sun"]
+        trend, _ = error_with_sigma(sun.drift_deg_per_century, sun.drift_sigma_deg_per_century)
+        assert abs(sun.drift_deg_per_century) < 0.01 and len(trend) == 7, trend  # 4 decimals
+    assert error_with_sigma(67987.93, 12.0)[0] == "+67,988"
 
 
 @sync
