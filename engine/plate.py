@@ -717,24 +717,13 @@ def _unmeasured(train: Train, kin: Kinematics, groups, mount: str, axes, ties, f
             blind.append((m.label, g1, g2))
     if not blind:
         return {}
-    parent = {ax: ax for ax in axes}
-
-    def find(a: str) -> str:
-        while parent[a] != a:
-            a = parent[a]
-        return a
-
-    for t in ties:
-        parent[find(t.axis1)] = find(t.axis2)
-    comps: dict[str, list[str]] = {}
-    for ax in axes:
-        comps.setdefault(find(ax), []).append(ax)
+    root, comps = _tie_groups(axes, ties)
     anchored = {r for r, members in comps.items() if any(a in fixed for a in members)}
     if not anchored and (tied := [r for r, members in comps.items() if len(members) > 1]):
         anchored = {max(tied, key=lambda r: len(comps[r]))}
     out: dict[str, list[str]] = {}
     for mesh, g1, g2 in blind:
-        r1, r2 = find(g1), find(g2)
+        r1, r2 = root[g1], root[g2]
         if r1 == r2:
             continue
         for r in (r1, r2):
@@ -902,12 +891,9 @@ def _solve(train, plate, axes, ties, fixed, reach, label):
     return pos
 
 
-def _free_groups(train, axes, ties, fixed) -> list[list[str]]:
-    """The groups of two or more axes that ``ties`` join among themselves but to none of the
-    plate's anchored holes: an anchored group holds a position the file fixes (a carrier's
-    own axis is one), else the largest group stands for the plate (the first in the file's
-    order among equals), as :func:`_unmeasured` takes it. Each such group is placed where the
-    placement chooses, its distance from the rest no measure; the axes of each in file order."""
+def _tie_groups(axes, ties) -> tuple[dict[str, str], dict[str, list[str]]]:
+    """The groups ``ties`` join ``axes`` into: each axis's group (named by one of its axes),
+    and each group's axes in the order of ``axes``."""
     parent = {ax: ax for ax in axes}
 
     def find(a: str) -> str:
@@ -917,9 +903,20 @@ def _free_groups(train, axes, ties, fixed) -> list[list[str]]:
 
     for t in ties:
         parent[find(t.axis1)] = find(t.axis2)
+    root = {ax: find(ax) for ax in axes}
     comps: dict[str, list[str]] = {}
     for ax in axes:
-        comps.setdefault(find(ax), []).append(ax)
+        comps.setdefault(root[ax], []).append(ax)
+    return root, comps
+
+
+def _free_groups(train, axes, ties, fixed) -> list[list[str]]:
+    """The groups of two or more axes that ``ties`` join among themselves but to none of the
+    plate's anchored holes: an anchored group holds a position the file fixes (a carrier's
+    own axis is one), else the largest group stands for the plate (the first in the file's
+    order among equals), as :func:`_unmeasured` takes it. Each such group is placed where the
+    placement chooses, its distance from the rest no measure; the axes of each in file order."""
+    root, comps = _tie_groups(axes, ties)
     tied = [members for members in comps.values() if len(members) > 1]
     if not tied or (len(tied) == 1 and len(comps) == 1):
         return []
