@@ -604,15 +604,7 @@ def test_great_inequality_in_the_long_ephemeris(sky406):
     w = 2 * np.pi * 36525 / GREAT_INEQUALITY_DAYS
     for key in ("jupiter", "saturn"):
         y = np.degrees(np.unwrap(np.radians(state.planet_helio_lon_deg[key])))
-        rate = np.polyfit(t, y, 1)[0]
-        for _ in range(3):  # the equation of centre's argument from the fitted mean motion
-            m = np.radians(rate * t)
-            cols = [np.ones_like(t), t]
-            for h in (1, 2, 3):
-                cols += [np.cos(h * m), np.sin(h * m), t * np.cos(h * m), t * np.sin(h * m)]
-            cols += [np.cos(w * t), np.sin(w * t)]
-            coef = np.linalg.lstsq(np.array(cols).T, y, rcond=None)[0]
-            rate = coef[1]
+        rate, coef = _swing_fit(t, y, w)
         assert np.hypot(coef[-2], coef[-1]) == pytest.approx(GREAT_INEQUALITY_DEG[key],
                                                              rel=0.1), key
         assert rate == pytest.approx(JPL_TABLE_2A_RATES[key], abs=0.02), key
