@@ -14,15 +14,16 @@ POSITION_KM = 1e-6
 RATE_RELATIVE = 1e-12
 
 
-def _gathered(group, whole, frac, cut=False):
+def _gathered(group, whole, frac, cut=False, **kw):
     """The series through the gather path, the grid path switched off; every term of each
-    record unless ``cut`` (the path as the pipeline takes it, each series cut to its budget)."""
+    record unless ``cut`` (the path as the pipeline takes it, each series cut to its budget);
+    ``kw`` goes to ``evaluate`` (``mixed=True``: the mixed rows too)."""
     other = type(group).__new__(type(group))
     other.__dict__.update(group.__dict__)
     if not cut:
         other = other.uncut()
     other._evaluate_grid = lambda w, f: None
-    return other.evaluate(whole, frac)
+    return other.evaluate(whole, frac, **kw)
 
 
 def _split(jd):
@@ -103,12 +104,7 @@ def test_mixed_rows_against_jplephem_spk(sky):
     for cut, budget in ((False, middle_km + POSITION_KM),
                         (True, middle_km + _CUT_KM[(0, 10)] + _CUT_KM[(0, 3)] + POSITION_KM)):
         for layout, (whole, frac) in _layouts(group, (2415020.5, 2469807.5)).items():
-            other = type(group).__new__(type(group))
-            other.__dict__.update(group.__dict__)
-            if not cut:
-                other = other.uncut()
-            other._evaluate_grid = lambda w, f: None
-            rows = other.evaluate(whole, frac, mixed=True)[_MIXED]
+            rows = _gathered(group, whole, frac, cut=cut, mixed=True)[_MIXED]
             assert rows.shape == (6, whole.size), layout
             if not whole.size:
                 continue
@@ -275,10 +271,7 @@ def test_geocentric_rows_against_jplephem_spk(sky):
     sun_km = 0.020 + _CUT_KM[(0, 10)] + _CUT_KM[(0, 3)] + POSITION_KM
     moon_km = 1.0123 * _CUT_KM[(3, 301)] + 1.35 * _CUT_KM_S + POSITION_KM
     for layout, (whole, frac) in _layouts(group, (2415020.5, 2469807.5)).items():
-        other = type(group).__new__(type(group))
-        other.__dict__.update(group.__dict__)
-        other._evaluate_grid = lambda w, f: None
-        rows = other.evaluate(whole, frac, mixed=True)[_GEOCENTRIC]
+        rows = _gathered(group, whole, frac, cut=True, mixed=True)[_GEOCENTRIC]
         assert rows.shape == (9, whole.size), layout
         if not whole.size:
             continue
@@ -318,10 +311,7 @@ def test_geocentric_rows_fit_the_light_time(sky):
                         _edges(group, 400)):
         rows = {}
         for g, key in ((group, _GEOCENTRIC), (outer, _MIXED)):
-            other = type(g).__new__(type(g))
-            other.__dict__.update(g.__dict__)
-            other._evaluate_grid = lambda w, f: None
-            rows[key] = other.evaluate(whole, frac, mixed=True)[key]
+            rows[key] = _gathered(g, whole, frac, cut=True, mixed=True)[key]
         m, v_m = _gathered(group, whole, frac, cut=True)[(3, 301)]
         mixed = rows[_MIXED]
         sun = mixed[0:3] + ratio * m
